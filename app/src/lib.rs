@@ -1,0 +1,1 @@
+//! The Hysteron notebook page.

@@ -1,0 +1,228 @@
+//! The active device of comparator-based topologies: an op-amp or comparator with real output
+//! levels, input offset, bias currents, built-in hysteresis and input common-mode range.
+//!
+//! Conventions follow shared/DOMAIN.md §0: the device switches when V(+) − V(−) = VOS; bias currents
+//! are positive into the pin; built-in hysteresis h acts as a state-dependent offset ±h/2.
+
+use crate::error::{finite, non_negative, DesignError};
+use serde::{Deserialize, Serialize};
+
+/// Which non-idealities are applied. `true` means the effect is modelled; `false` treats it as ideal
+/// while keeping the entered value, so a user can switch an effect off and back on.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct Effects {
+    /// Output levels: headroom from the rails (false: outputs reach the rails exactly).
+    pub output_headroom: bool,
+    /// Input offset voltage VOS.
+    pub offset: bool,
+    /// Input bias currents IB+ and IB−.
+    pub bias_current: bool,
+    /// Built-in hysteresis of the device.
+    pub builtin_hysteresis: bool,
+}
+
+impl Default for Effects {
+    fn default() -> Self {
+        Effects { output_headroom: true, offset: true, bias_current: true, builtin_hysteresis: true }
+    }
+}
+
+/// An op-amp or comparator with a push-pull output, supplied between `negative_rail_v` and `supply_v`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct Comparator {
+    /// Positive supply rail VCC, volts.
+    pub supply_v: f64,
+    /// Negative supply rail VEE, volts (0 for a single supply).
+    pub negative_rail_v: f64,
+    /// How far the output high level sits below VCC at the real load (VCC − VOH), volts; 0 = rail to rail.
+    pub output_high_drop_v: f64,
+    /// How far the output low level sits above VEE at the real load (VOL − VEE), volts.
+    pub output_low_rise_v: f64,
+    /// Input offset voltage VOS, volts: the device switches at V(+) − V(−) = VOS.
+    pub offset_v: f64,
+    /// Bias current into the non-inverting input IB+, amperes (negative for PNP inputs).
+    pub bias_plus_a: f64,
+    /// Bias current into the inverting input IB−, amperes.
+    pub bias_minus_a: f64,
+    /// Built-in hysteresis h of the device, volts (acts as offset ±h/2 depending on output state).
+    pub builtin_hysteresis_v: f64,
+    /// Lowest allowed input common-mode voltage, as volts relative to VEE (negative: below the rail).
+    pub input_low_margin_v: f64,
+    /// Highest allowed input common-mode voltage, as volts below VCC (e.g. 1.5 for a part whose input
+    /// reaches only to VCC − 1.5 V; negative for beyond-the-rail inputs).
+    pub input_high_margin_v: f64,
+    /// Resistance of the signal source that drives the circuit input, ohms.
+    pub source_resistance_ohm: f64,
+    /// Which effects are modelled.
+    pub effects: Effects,
+}
+
+impl Default for Comparator {
+    fn default() -> Self {
+        Comparator {
+            supply_v: 5.0,
+            negative_rail_v: 0.0,
+            output_high_drop_v: 0.0,
+            output_low_rise_v: 0.0,
+            offset_v: 0.0,
+            bias_plus_a: 0.0,
+            bias_minus_a: 0.0,
+            builtin_hysteresis_v: 0.0,
+            input_low_margin_v: 0.0,
+            input_high_margin_v: 0.0,
+            source_resistance_ohm: 0.0,
+            effects: Effects::default(),
+        }
+    }
+}
+
+impl Comparator {
+    /// An ideal rail-to-rail device on a single supply (no offset, no bias, inputs to both rails).
+    pub fn ideal(supply_v: f64) -> Self {
+        Comparator { supply_v, ..Comparator::default() }
+    }
+
+    /// Checks every field for finiteness and sign, and the rails and output levels for consistency.
+    pub fn validate(&self) -> Result<(), DesignError> {
+        finite("supply_v", self.supply_v)?;
+        finite("negative_rail_v", self.negative_rail_v)?;
+        non_negative("output_high_drop_v", self.output_high_drop_v)?;
+        non_negative("output_low_rise_v", self.output_low_rise_v)?;
+        finite("offset_v", self.offset_v)?;
+        finite("bias_plus_a", self.bias_plus_a)?;
+        finite("bias_minus_a", self.bias_minus_a)?;
+        non_negative("builtin_hysteresis_v", self.builtin_hysteresis_v)?;
+        finite("input_low_margin_v", self.input_low_margin_v)?;
+        finite("input_high_margin_v", self.input_high_margin_v)?;
+        non_negative("source_resistance_ohm", self.source_resistance_ohm)?;
+        if self.supply_v <= self.negative_rail_v {
+            return Err(DesignError::inconsistent(format!(
+                "supply_v ({} V) must be above negative_rail_v ({} V)",
+                self.supply_v, self.negative_rail_v
+            )));
+        }
+        if self.output_high_v() <= self.output_low_v() {
+            return Err(DesignError::inconsistent(format!(
+                "output high level VOH ({:.4} V) must be above output low level VOL ({:.4} V): reduce the output headroom",
+                self.output_high_v(),
+                self.output_low_v()
+            )));
+        }
+        Ok(())
+    }
+
+    /// The output high level VOH actually reached, volts.
+    pub fn output_high_v(&self) -> f64 {
+        if self.effects.output_headroom {
+            self.supply_v - self.output_high_drop_v
+        } else {
+            self.supply_v
+        }
+    }
+
+    /// The output low level VOL actually reached, volts.
+    pub fn output_low_v(&self) -> f64 {
+        if self.effects.output_headroom {
+            self.negative_rail_v + self.output_low_rise_v
+        } else {
+            self.negative_rail_v
+        }
+    }
+
+    /// Input offset applied, volts (0 when the offset effect is off).
+    pub fn offset_applied_v(&self) -> f64 {
+        if self.effects.offset { self.offset_v } else { 0.0 }
+    }
+
+    /// IB+ applied, amperes.
+    pub fn bias_plus_applied_a(&self) -> f64 {
+        if self.effects.bias_current { self.bias_plus_a } else { 0.0 }
+    }
+
+    /// IB− applied, amperes.
+    pub fn bias_minus_applied_a(&self) -> f64 {
+        if self.effects.bias_current { self.bias_minus_a } else { 0.0 }
+    }
+
+    /// The switching offset in a given output state: VOS ∓ h/2. With the output high the device
+    /// needs V(+) − V(−) to fall to VOS − h/2 (DOMAIN §0: built-in hysteresis as state-dependent VOS).
+    pub fn switching_offset_v(&self, output_high: bool) -> f64 {
+        let half = if self.effects.builtin_hysteresis { self.builtin_hysteresis_v / 2.0 } else { 0.0 };
+        if output_high { self.offset_applied_v() - half } else { self.offset_applied_v() + half }
+    }
+
+    /// Lowest input voltage the device accepts without leaving its common-mode range, volts.
+    pub fn input_min_v(&self) -> f64 {
+        self.negative_rail_v + self.input_low_margin_v
+    }
+
+    /// Highest input voltage the device accepts without leaving its common-mode range, volts.
+    pub fn input_max_v(&self) -> f64 {
+        self.supply_v - self.input_high_margin_v
+    }
+}
+
+/// A voltage that a resistor is returned to: one of the device's rails, or a fixed source.
+/// Rails follow the supply when the design is evaluated at the supply's minimum and maximum.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Rail {
+    /// The positive supply VCC.
+    Supply,
+    /// 0 V (circuit common).
+    Ground,
+    /// The negative rail VEE.
+    NegativeRail,
+    /// A fixed voltage source (a reference IC, a separate regulated rail), volts.
+    Fixed(f64),
+}
+
+impl Rail {
+    /// The rail's voltage for a device on the given rails.
+    pub fn volts(&self, supply_v: f64, negative_rail_v: f64) -> f64 {
+        match *self {
+            Rail::Supply => supply_v,
+            Rail::Ground => 0.0,
+            Rail::NegativeRail => negative_rail_v,
+            Rail::Fixed(v) => v,
+        }
+    }
+
+    /// Checks a fixed voltage for finiteness.
+    pub fn validate(&self, field: &str) -> Result<(), DesignError> {
+        if let Rail::Fixed(v) = self {
+            finite(field, *v)?;
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn headroom_sets_output_levels_and_can_be_switched_off() {
+        let mut c = Comparator { supply_v: 5.0, output_high_drop_v: 0.2, output_low_rise_v: 0.1, ..Comparator::default() };
+        assert!((c.output_high_v() - 4.8).abs() < 1e-12);
+        assert!((c.output_low_v() - 0.1).abs() < 1e-12);
+        c.effects.output_headroom = false;
+        assert_eq!(c.output_high_v(), 5.0);
+        assert_eq!(c.output_low_v(), 0.0);
+    }
+
+    #[test]
+    fn rejects_output_levels_that_cross() {
+        let c = Comparator { supply_v: 1.0, output_high_drop_v: 0.6, output_low_rise_v: 0.5, ..Comparator::default() };
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
+    }
+
+    #[test]
+    fn builtin_hysteresis_is_a_state_dependent_offset() {
+        let c = Comparator { builtin_hysteresis_v: 0.01, offset_v: 0.002, ..Comparator::default() };
+        assert!((c.switching_offset_v(true) - (-0.003)).abs() < 1e-15);
+        assert!((c.switching_offset_v(false) - 0.007).abs() < 1e-15);
+    }
+}

@@ -1,0 +1,169 @@
+//! The headless evaluation of design records: what the command-line entry point and the page's
+//! checks run. Each record gives one result; each study inside a result succeeds or fails on its own.
+
+use crate::analysis::{Analysis, Thresholds};
+use crate::error::DesignError;
+use crate::record::{DesignRecord, RecordError};
+use crate::topology::{analyse, sensitivities, synthesise, Circuit, Topology};
+use serde::{Deserialize, Serialize};
+
+/// ∂VT/∂p of one parameter.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Sensitivity {
+    /// Parameter identifier (record field name).
+    pub id: String,
+    /// Part designator, for resistors.
+    pub designator: Option<String>,
+    /// ∂VT+/∂p, volts per base unit.
+    pub d_vt_upper: f64,
+    /// ∂VT−/∂p, volts per base unit.
+    pub d_vt_lower: f64,
+}
+
+/// The outcome of synthesis: the circuit that reaches the targets and its analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Synthesis {
+    /// The synthesised circuit (same topology, new part values).
+    pub circuit: Topology,
+    /// The synthesised circuit's analysis.
+    pub analysis: Analysis,
+}
+
+/// A study that failed, and why.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct StudyError {
+    /// Which study: "analysis", "synthesis", "sensitivities"...
+    pub study: String,
+    /// The error.
+    pub error: DesignError,
+}
+
+/// Everything computed for one record.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Evaluation {
+    /// The record's name.
+    pub name: String,
+    /// The record's topology name.
+    pub topology: String,
+    /// Forward analysis of the circuit as entered.
+    pub analysis: Option<Analysis>,
+    /// ∂VT/∂p for every parameter of the circuit as entered.
+    pub sensitivities: Option<Vec<Sensitivity>>,
+    /// Synthesis towards the record's targets, when it has targets.
+    pub synthesis: Option<Synthesis>,
+    /// Studies that failed.
+    pub errors: Vec<StudyError>,
+}
+
+/// Thresholds of a circuit, validated first. The fast path for the page.
+pub fn thresholds(circuit: &Topology) -> Result<Thresholds, DesignError> {
+    circuit.validate()?;
+    circuit.thresholds()
+}
+
+/// Evaluates one record: analysis, sensitivities and (with targets) synthesis.
+pub fn evaluate(record: &DesignRecord) -> Evaluation {
+    let mut errors = Vec::new();
+    let mut fail = |study: &str, error: DesignError| errors.push(StudyError { study: study.into(), error });
+    let analysis = match analyse(&record.circuit, &record.checks) {
+        Ok(a) => Some(a),
+        Err(e) => {
+            fail("analysis", e);
+            None
+        }
+    };
+    let sens = if analysis.is_some() {
+        match sensitivities(&record.circuit) {
+            Ok(s) => Some(
+                s.into_iter()
+                    .map(|(p, up, lo)| Sensitivity { id: p.id, designator: p.designator, d_vt_upper: up, d_vt_lower: lo })
+                    .collect(),
+            ),
+            Err(e) => {
+                fail("sensitivities", e);
+                None
+            }
+        }
+    } else {
+        None
+    };
+    let synthesis = record.targets.as_ref().and_then(|t| {
+        match synthesise(&record.circuit, t).and_then(|c| analyse(&c, &record.checks).map(|a| (c, a))) {
+            Ok((circuit, analysis)) => Some(Synthesis { circuit, analysis }),
+            Err(e) => {
+                fail("synthesis", e);
+                None
+            }
+        }
+    });
+    Evaluation {
+        name: record.name.clone(),
+        topology: record.circuit.name().to_string(),
+        analysis,
+        sensitivities: sens,
+        synthesis,
+        errors,
+    }
+}
+
+/// The result for one input record: an evaluation, or why the record could not be read.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RecordResult {
+    /// The record was read and evaluated.
+    Ok(Box<Evaluation>),
+    /// The record could not be read.
+    Error {
+        /// Position of the record in the input (0 for a single record).
+        index: usize,
+        /// What was wrong.
+        error: RecordError,
+        /// The same, as a sentence.
+        message: String,
+    },
+}
+
+/// Evaluates JSON text holding one record or an array of records. Fails as a whole only when the
+/// text is not JSON at all; every record gets its own result or its own error.
+pub fn evaluate_json(text: &str) -> Result<Vec<RecordResult>, RecordError> {
+    let value: serde_json::Value =
+        serde_json::from_str(text).map_err(|e| RecordError::Malformed { message: e.to_string() })?;
+    let items = match value {
+        serde_json::Value::Array(items) => items,
+        other => vec![other],
+    };
+    Ok(items
+        .into_iter()
+        .enumerate()
+        .map(|(index, v)| match DesignRecord::from_value(v) {
+            Ok(r) => RecordResult::Ok(Box::new(evaluate(&r))),
+            Err(error) => RecordResult::Error { index, message: error.to_string(), error },
+        })
+        .collect())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn array_with_one_bad_record_keeps_the_good_one() {
+        let good = r#"{"schema_version":1,"name":"a","circuit":{"topology":"inverting","ra_ohm":10000,"rail_a":"supply","rb_ohm":10000,"rail_b":"ground","rf_ohm":20000,"device":{"supply_v":5}}}"#;
+        let text = format!("[{good}, {{\"schema_version\": 1}}]");
+        let out = evaluate_json(&text).unwrap();
+        assert_eq!(out.len(), 2);
+        match &out[0] {
+            RecordResult::Ok(e) => {
+                let a = e.analysis.as_ref().unwrap();
+                assert!((a.vt_upper_v - 3.0).abs() < 1e-12);
+            }
+            other => panic!("{other:?}"),
+        }
+        assert!(matches!(out[1], RecordResult::Error { index: 1, .. }));
+    }
+
+    #[test]
+    fn not_json_fails_whole() {
+        assert!(evaluate_json("nope").is_err());
+    }
+}

@@ -1,0 +1,22 @@
+//! # hysteron-core
+//!
+//! Topology math and signal simulation for two-threshold switching circuits: Schmitt triggers and
+//! comparators with hysteresis. Plain data in, plain data out; no browser, no I/O.
+//!
+//! ```
+//! use hysteron_core::device::Comparator;
+//! use hysteron_core::topology::{inverting::InvertingSchmitt, Circuit};
+//! let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0));
+//! let t = c.thresholds().unwrap();
+//! assert!((t.vt_upper_v - 3.0).abs() < 1e-12);
+//! assert!((t.vt_lower_v - 2.0).abs() < 1e-12);
+//! ```
+#![forbid(unsafe_code)]
+#![deny(missing_docs)]
+
+pub mod analysis;
+pub mod device;
+pub mod error;
+pub mod evaluate;
+pub mod record;
+pub mod topology;

@@ -1,0 +1,412 @@
+//! Every topology behind one trait ([`Circuit`]) and one enum ([`Topology`]).
+//!
+//! Adding a topology: write one module that implements [`Circuit`] and add one line to the
+//! `topologies!` list at the bottom of this file. Everything else (analysis, operating range,
+//! sensitivities, tolerance, search, the JSON entry point, the page) works through the trait.
+
+use crate::analysis::{
+    Analysis, CheckSettings, ImpedanceChoice, NodeRange, OperatingPoint, OutputState, ResistorStress,
+    Sense, SupplyCorner, Targets, Thresholds, Warning, WarningCode,
+};
+use crate::error::DesignError;
+use serde::{Deserialize, Serialize};
+
+pub mod inverting;
+
+/// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ParameterKind {
+    /// A resistor of the part list (has a designator), ohms.
+    Resistor,
+    /// The supply rail, volts.
+    Supply,
+    /// A fixed reference or rail voltage, volts.
+    Reference,
+    /// An output level or headroom of the active device, volts.
+    OutputLevel,
+    /// Input offset voltage, volts.
+    Offset,
+    /// An input bias current, amperes.
+    BiasCurrent,
+    /// A switching threshold of a logic gate or transistor (VM, VBE...), volts.
+    DeviceThreshold,
+    /// Any other device property (current gain, saturation current...).
+    Device,
+}
+
+/// One quantity of a design that tolerance analysis, sensitivity and search may vary.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Parameter {
+    /// Stable identifier, the field name in the design record (e.g. `r_feedback_ohm`).
+    pub id: String,
+    /// Part-list designator for resistors (R1, R2...), `None` for other quantities.
+    pub designator: Option<String>,
+    /// Plain label for display.
+    pub label: String,
+    /// Present value, in base units (ohms, volts, amperes).
+    pub value: f64,
+    /// Kind of quantity.
+    pub kind: ParameterKind,
+}
+
+impl Parameter {
+    /// A resistor parameter.
+    pub fn resistor(id: &str, designator: &str, label: &str, value_ohm: f64) -> Self {
+        Parameter {
+            id: id.to_string(),
+            designator: Some(designator.to_string()),
+            label: label.to_string(),
+            value: value_ohm,
+            kind: ParameterKind::Resistor,
+        }
+    }
+
+    /// A non-resistor parameter.
+    pub fn quantity(id: &str, label: &str, value: f64, kind: ParameterKind) -> Self {
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind }
+    }
+}
+
+/// The interface every topology implements. Plain data in, plain data out.
+pub trait Circuit: Clone {
+    /// Checks every field (finite, positive resistances, consistent rails) before any math.
+    fn validate(&self) -> Result<(), DesignError>;
+
+    /// VT+ and VT− referred to the circuit input, with all modelled non-idealities.
+    /// Fast path used on every keystroke and in Monte Carlo; must not allocate.
+    fn thresholds(&self) -> Result<Thresholds, DesignError>;
+
+    /// The output high and low levels at the circuit's output node, volts (high, low).
+    fn output_levels(&self) -> Result<(f64, f64), DesignError>;
+
+    /// Whether a rising input drives the output low (inverting) or high.
+    fn sense(&self) -> Sense;
+
+    /// Nodal solution of the network for an input voltage and an output state.
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError>;
+
+    /// The quantities that tolerance, sensitivity and search may vary, in a fixed order.
+    fn parameters(&self) -> Vec<Parameter>;
+
+    /// A copy with the parameter values replaced, in the order of [`Circuit::parameters`].
+    fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError>;
+
+    /// Part values that reach the targets, keeping this design's rails, device and form.
+    /// The anchor resistor is `anchor_ohm` (see [`Circuit::anchor_description`]).
+    fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError>;
+
+    /// Which resistor the designer's impedance choice sets during synthesis, in plain words.
+    fn anchor_description(&self) -> &'static str;
+
+    /// Nominal supply voltage, volts.
+    fn supply_v(&self) -> f64;
+
+    /// A copy evaluated at another supply voltage (rails tied to the supply move with it).
+    fn with_supply(&self, supply_v: f64) -> Self;
+
+    /// Topology-specific design checks (pull-up loading, bias error, region of operation...).
+    fn checks(&self, settings: &CheckSettings) -> Vec<Warning>;
+
+    /// The lowest and highest voltage the active device accepts at its inputs, volts.
+    fn device_input_range(&self) -> (f64, f64);
+
+    /// The lowest rail of the active device, volts (for the phase-reversal check).
+    fn negative_rail_v(&self) -> f64;
+}
+
+/// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
+pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Analysis, DesignError> {
+    circuit.validate()?;
+    let t = circuit.thresholds()?;
+    let (voh, vol) = circuit.output_levels()?;
+    let neg = circuit.negative_rail_v();
+    let vin_lo = settings.input_min_v.unwrap_or(neg.min(t.vt_lower_v));
+    let vin_hi = settings.input_max_v.unwrap_or(circuit.supply_v().max(t.vt_upper_v));
+    // The output state that can exist at each input: below VT− only the "input low" state, above
+    // VT+ only the "input high" state, in between both.
+    let (state_input_low, state_input_high) = match circuit.sense() {
+        Sense::Inverting => (OutputState::High, OutputState::Low),
+        Sense::NonInverting => (OutputState::Low, OutputState::High),
+    };
+    let mut points: Vec<(f64, OutputState)> = vec![
+        (vin_lo, state_input_low),
+        (t.vt_upper_v, state_input_low),
+        (t.vt_lower_v, state_input_low),
+        (t.vt_lower_v, state_input_high),
+        (t.vt_upper_v, state_input_high),
+        (vin_hi, state_input_high),
+    ];
+    points.retain(|(v, _)| v.is_finite());
+
+    let mut resistors: Vec<ResistorStress> = Vec::new();
+    let mut nodes: Vec<NodeRange> = Vec::new();
+    let mut quiescent = 0.0_f64;
+    let mut input_resistance: Option<f64> = None;
+    for &(vin, state) in &points {
+        let op = circuit.operating_point(vin, state)?;
+        quiescent = quiescent.max(op.network_current_a.abs());
+        for r in &op.resistors {
+            let p = r.power_w();
+            match resistors.iter_mut().find(|s| s.designator == r.designator) {
+                Some(s) => {
+                    s.max_power_w = s.max_power_w.max(p);
+                    s.max_volts = s.max_volts.max(r.volts.abs());
+                }
+                None => resistors.push(ResistorStress {
+                    designator: r.designator.clone(),
+                    resistance_ohm: r.resistance_ohm,
+                    max_power_w: p,
+                    max_volts: r.volts.abs(),
+                }),
+            }
+        }
+        for n in &op.device_inputs {
+            match nodes.iter_mut().find(|x| x.name == n.name) {
+                Some(x) => {
+                    x.min_v = x.min_v.min(n.volts);
+                    x.max_v = x.max_v.max(n.volts);
+                }
+                None => nodes.push(NodeRange { name: n.name.clone(), min_v: n.volts, max_v: n.volts }),
+            }
+        }
+        // Small-signal input resistance: dV/dI by a central difference in the same state.
+        let dv = 1e-3_f64.max(vin.abs() * 1e-6);
+        let a = circuit.operating_point(vin - dv, state)?;
+        let b = circuit.operating_point(vin + dv, state)?;
+        let di = b.input_current_a - a.input_current_a;
+        if di.abs() > 1e-18 {
+            let r = (2.0 * dv / di).abs();
+            input_resistance = Some(input_resistance.map_or(r, |x: f64| x.min(r)));
+        }
+    }
+
+    let mut warnings = circuit.checks(settings);
+    let (cm_lo, cm_hi) = circuit.device_input_range();
+    for n in &nodes {
+        if n.min_v < neg - 1e-9 {
+            warnings.push(Warning::new(
+                WarningCode::PhaseReversal,
+                format!(
+                    "{} goes to {:.3} V, below the negative rail ({:.3} V): many devices invert their output there; clamp the input or shift the thresholds",
+                    n.name, n.min_v, neg
+                ),
+            ));
+        } else if n.min_v < cm_lo - 1e-9 {
+            warnings.push(Warning::new(
+                WarningCode::CommonModeRange,
+                format!("{} reaches {:.3} V, below the device's input range ({:.3} V)", n.name, n.min_v, cm_lo),
+            ));
+        }
+        if n.max_v > cm_hi + 1e-9 {
+            warnings.push(Warning::new(
+                WarningCode::CommonModeRange,
+                format!("{} reaches {:.3} V, above the device's input range ({:.3} V)", n.name, n.max_v, cm_hi),
+            ));
+        }
+    }
+
+    let supply_corners = supply_corners(circuit, settings)?;
+    Ok(Analysis {
+        vt_upper_v: t.vt_upper_v,
+        vt_lower_v: t.vt_lower_v,
+        hysteresis_v: t.hysteresis_v(),
+        centre_v: t.centre_v(),
+        output_high_v: voh,
+        output_low_v: vol,
+        sense: circuit.sense(),
+        input_resistance_ohm: input_resistance,
+        quiescent_current_a: quiescent,
+        resistors,
+        device_inputs: nodes,
+        supply_corners,
+        warnings,
+    })
+}
+
+/// Thresholds at the supply's minimum, nominal and maximum (DOMAIN §6: a band set by an output tied
+/// to the rail scales with the rail).
+pub fn supply_corners<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Vec<SupplyCorner>, DesignError> {
+    let nominal = circuit.supply_v();
+    let mut supplies = vec![];
+    if let Some(v) = settings.supply_min_v {
+        supplies.push(v);
+    }
+    supplies.push(nominal);
+    if let Some(v) = settings.supply_max_v {
+        supplies.push(v);
+    }
+    supplies
+        .into_iter()
+        .map(|s| {
+            let c = circuit.with_supply(s);
+            c.validate()?;
+            let t = c.thresholds()?;
+            Ok(SupplyCorner { supply_v: s, vt_upper_v: t.vt_upper_v, vt_lower_v: t.vt_lower_v })
+        })
+        .collect()
+}
+
+/// Synthesis with either an anchor resistor or a current budget. A resistive network's currents
+/// scale inversely with its impedance level, so the budget is met by rescaling the anchor and
+/// re-solving (twice, so bias-current terms settle).
+pub fn synthesise<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
+    let t = targets.thresholds();
+    crate::error::finite("targets.vt_upper_v", t.vt_upper_v)?;
+    crate::error::finite("targets.vt_lower_v", t.vt_lower_v)?;
+    match targets.impedance {
+        ImpedanceChoice::AnchorOhm(r) => {
+            crate::error::positive("targets.impedance.anchor_ohm", r)?;
+            circuit.synthesise_with_anchor(t, r)
+        }
+        ImpedanceChoice::CurrentBudgetA(budget) => {
+            crate::error::positive("targets.impedance.current_budget_a", budget)?;
+            let mut anchor = 100e3;
+            let mut design = circuit.synthesise_with_anchor(t, anchor)?;
+            for _ in 0..4 {
+                let a = analyse(&design, &CheckSettings::default())?;
+                if a.quiescent_current_a <= 0.0 {
+                    break;
+                }
+                let scale = a.quiescent_current_a / budget;
+                if (scale - 1.0).abs() < 1e-12 {
+                    break;
+                }
+                anchor *= scale;
+                design = circuit.synthesise_with_anchor(t, anchor)?;
+            }
+            Ok(design)
+        }
+    }
+}
+
+/// ∂VT/∂p for every parameter, by central differences with a relative step of 1e-6
+/// (truncation error O(h²) ≈ 1e-12 relative for these smooth rational functions).
+/// Returns (parameter, ∂VT+/∂p, ∂VT−/∂p).
+pub fn sensitivities<C: Circuit>(circuit: &C) -> Result<Vec<(Parameter, f64, f64)>, DesignError> {
+    let params = circuit.parameters();
+    let base: Vec<f64> = params.iter().map(|p| p.value).collect();
+    let mut out = Vec::with_capacity(params.len());
+    let mut values = base.clone();
+    for (i, p) in params.into_iter().enumerate() {
+        let h = if base[i] != 0.0 { base[i].abs() * 1e-6 } else { 1e-9 };
+        values[i] = base[i] + h;
+        let up = circuit.with_parameters(&values)?.thresholds()?;
+        values[i] = base[i] - h;
+        let down = circuit.with_parameters(&values)?.thresholds()?;
+        values[i] = base[i];
+        out.push((
+            p,
+            (up.vt_upper_v - down.vt_upper_v) / (2.0 * h),
+            (up.vt_lower_v - down.vt_lower_v) / (2.0 * h),
+        ));
+    }
+    Ok(out)
+}
+
+/// One point of a transfer curve.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct CurvePoint {
+    /// Input voltage, volts.
+    pub vin_v: f64,
+    /// Output voltage, volts.
+    pub vout_v: f64,
+}
+
+/// The hysteresis loop as two branches: the rising-input branch and the falling-input branch.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TransferCurve {
+    /// Output versus input for an input swept upward (switches at VT+).
+    pub rising: Vec<CurvePoint>,
+    /// Output versus input for an input swept downward (switches at VT−).
+    pub falling: Vec<CurvePoint>,
+    /// VT+, volts.
+    pub vt_upper_v: f64,
+    /// VT−, volts.
+    pub vt_lower_v: f64,
+}
+
+/// Builds the ideal-switching transfer curve from the thresholds and output levels between
+/// `vin_min_v` and `vin_max_v` (each branch is a step; vertical segments mark the switching).
+pub fn transfer_curve<C: Circuit>(circuit: &C, vin_min_v: f64, vin_max_v: f64) -> Result<TransferCurve, DesignError> {
+    let t = circuit.thresholds()?;
+    let (voh, vol) = circuit.output_levels()?;
+    let (before, after) = match circuit.sense() {
+        Sense::Inverting => (voh, vol),
+        Sense::NonInverting => (vol, voh),
+    };
+    let lo = vin_min_v.min(t.vt_lower_v);
+    let hi = vin_max_v.max(t.vt_upper_v);
+    let p = |vin_v, vout_v| CurvePoint { vin_v, vout_v };
+    Ok(TransferCurve {
+        rising: vec![p(lo, before), p(t.vt_upper_v, before), p(t.vt_upper_v, after), p(hi, after)],
+        falling: vec![p(hi, after), p(t.vt_lower_v, after), p(t.vt_lower_v, before), p(lo, before)],
+        vt_upper_v: t.vt_upper_v,
+        vt_lower_v: t.vt_lower_v,
+    })
+}
+
+/// Generates the [`Topology`] enum and its dispatching [`Circuit`] implementation from one list.
+macro_rules! topologies {
+    ($( $(#[$doc:meta])* $variant:ident($ty:ty) = $name:literal, )+) => {
+        /// Every topology Hysteron knows, as stored in a design record (`"topology": "<name>"`).
+        #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+        #[serde(tag = "topology", rename_all = "snake_case")]
+        pub enum Topology {
+            $( $(#[$doc])* #[serde(rename = $name)] $variant($ty), )+
+        }
+
+        impl Topology {
+            /// The stable name used in design records and links.
+            pub fn name(&self) -> &'static str {
+                match self { $( Topology::$variant(_) => $name, )+ }
+            }
+
+            /// All topology names, in display order.
+            pub const NAMES: &'static [&'static str] = &[$($name),+];
+        }
+
+        impl Circuit for Topology {
+            fn validate(&self) -> Result<(), DesignError> { match self { $( Topology::$variant(c) => c.validate(), )+ } }
+            fn thresholds(&self) -> Result<Thresholds, DesignError> { match self { $( Topology::$variant(c) => c.thresholds(), )+ } }
+            fn output_levels(&self) -> Result<(f64, f64), DesignError> { match self { $( Topology::$variant(c) => c.output_levels(), )+ } }
+            fn sense(&self) -> Sense { match self { $( Topology::$variant(c) => c.sense(), )+ } }
+            fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
+                match self { $( Topology::$variant(c) => c.operating_point(vin_v, state), )+ }
+            }
+            fn parameters(&self) -> Vec<Parameter> { match self { $( Topology::$variant(c) => c.parameters(), )+ } }
+            fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+                match self { $( Topology::$variant(c) => c.with_parameters(values).map(Topology::$variant), )+ }
+            }
+            fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
+                match self { $( Topology::$variant(c) => c.synthesise_with_anchor(targets, anchor_ohm).map(Topology::$variant), )+ }
+            }
+            fn anchor_description(&self) -> &'static str { match self { $( Topology::$variant(c) => c.anchor_description(), )+ } }
+            fn supply_v(&self) -> f64 { match self { $( Topology::$variant(c) => c.supply_v(), )+ } }
+            fn with_supply(&self, supply_v: f64) -> Self { match self { $( Topology::$variant(c) => Topology::$variant(c.with_supply(supply_v)), )+ } }
+            fn checks(&self, settings: &CheckSettings) -> Vec<Warning> { match self { $( Topology::$variant(c) => c.checks(settings), )+ } }
+            fn device_input_range(&self) -> (f64, f64) { match self { $( Topology::$variant(c) => c.device_input_range(), )+ } }
+            fn negative_rail_v(&self) -> f64 { match self { $( Topology::$variant(c) => c.negative_rail_v(), )+ } }
+        }
+    };
+}
+
+topologies! {
+    /// Inverting Schmitt trigger: input on (−), divider and feedback on (+). DOMAIN §1a.
+    Inverting(inverting::InvertingSchmitt) = "inverting",
+}
+
+/// Helper for `with_parameters`: checks the length of a parameter vector.
+pub fn expect_len(values: &[f64], n: usize) -> Result<(), DesignError> {
+    if values.len() == n {
+        Ok(())
+    } else {
+        Err(DesignError::Parameter { reason: format!("expected {n} parameter values, got {}", values.len()) })
+    }
+}
+
+/// Parallel combination of resistances, ohms; `None` entries (not fitted) are skipped.
+pub fn parallel(rs: &[Option<f64>]) -> f64 {
+    let g: f64 = rs.iter().flatten().map(|r| 1.0 / r).sum();
+    if g > 0.0 { 1.0 / g } else { f64::INFINITY }
+}

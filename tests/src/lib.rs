@@ -1,0 +1,1 @@
+//! Shared fixtures for Hysteron's reference checks and browser end-to-end tests.
