@@ -19,4 +19,5 @@ pub mod device;
 pub mod error;
 pub mod evaluate;
 pub mod record;
+pub mod rng;
 pub mod topology;

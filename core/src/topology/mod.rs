@@ -48,6 +48,10 @@ pub struct Parameter {
     pub value: f64,
     /// Kind of quantity.
     pub kind: ParameterKind,
+    /// Datasheet minimum and maximum, when the record states them (gate thresholds, VBE...);
+    /// tolerance analysis uses these limits instead of a percentage.
+    #[serde(default)]
+    pub limits: Option<[f64; 2]>,
 }
 
 impl Parameter {
@@ -59,12 +63,19 @@ impl Parameter {
             label: label.to_string(),
             value: value_ohm,
             kind: ParameterKind::Resistor,
+            limits: None,
         }
     }
 
     /// A non-resistor parameter.
     pub fn quantity(id: &str, label: &str, value: f64, kind: ParameterKind) -> Self {
-        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind }
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, limits: None }
+    }
+
+    /// The same parameter with datasheet limits attached.
+    pub fn with_limits(mut self, min: f64, max: f64) -> Self {
+        self.limits = Some([min, max]);
+        self
     }
 }
 
