@@ -1,1 +1,17 @@
-//! The Hysteron notebook page.
+//! The Hysteron notebook page: renders designs and stores them. All circuit math lives in
+//! `hysteron-core`; this crate only turns user input into design records, asks `core` for results,
+//! draws them and keeps them in local storage.
+#![deny(missing_docs)]
+
+pub mod fields;
+pub mod panic;
+pub mod plot;
+pub mod storage;
+pub mod view;
+
+
+/// Installs the readable panic banner and mounts the page into `<body>`.
+pub fn start() {
+    panic::install();
+    leptos::mount::mount_to_body(view::App);
+}

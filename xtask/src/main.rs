@@ -1,1 +1,198 @@
-fn main() {}
+//! Set-up commands for a fresh machine.
+//!
+//! - `cargo xtask serve`: installs whatever is missing, builds the page and serves it on 127.0.0.1.
+//! - `cargo xtask test`: installs whatever is missing (browser included) and runs every test:
+//!   unit, property, reference, wasm and browser end-to-end.
+//!
+//! Each step prints what it checks and what it installs.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, ExitCode};
+
+/// Trunk version that builds on rustc 1.95 (0.22 needs a newer compiler).
+const TRUNK_VERSION: &str = "0.21.14";
+/// binaryen release whose wasm-opt produces pages that load (Debian's 108 does not).
+const BINARYEN_NPM: &str = "binaryen@132.0.0";
+const WASM_OPT_VERSION: &str = "version 132";
+
+fn main() -> ExitCode {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let root = workspace_root();
+    let result = match args.first().map(String::as_str) {
+        Some("serve") => serve(&root, &args[1..]),
+        Some("test") => test(&root, &args[1..]),
+        Some("build") => setup_build_tools(&root).and_then(|_| build_page(&root)),
+        Some("setup") => setup_build_tools(&root).and_then(|_| setup_browser()),
+        _ => {
+            eprintln!("usage: cargo xtask <serve|test|build|setup>");
+            eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
+            eprintln!("  test    install what is missing, run every test (unit, property, reference, wasm, browser)");
+            return ExitCode::from(2);
+        }
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("xtask: {e}");
+            ExitCode::FAILURE
+        }
+    }
+}
+
+fn workspace_root() -> PathBuf {
+    let here = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    here.parent().map(Path::to_path_buf).unwrap_or(here)
+}
+
+fn say(msg: &str) {
+    println!("[xtask] {msg}");
+}
+
+/// Runs a command, echoing it; fails with its exit status.
+fn run(cmd: &mut Command) -> Result<(), String> {
+    say(&format!("running: {cmd:?}"));
+    let status = cmd.status().map_err(|e| format!("cannot start {cmd:?}: {e}"))?;
+    if status.success() { Ok(()) } else { Err(format!("{cmd:?} failed with {status}")) }
+}
+
+/// The first line a command prints with `--version`, if it runs.
+fn version_of(program: &str, arg: &str) -> Option<String> {
+    let out = Command::new(program).arg(arg).output().ok()?;
+    if !out.status.success() {
+        return None;
+    }
+    let text = String::from_utf8_lossy(&out.stdout).to_string() + &String::from_utf8_lossy(&out.stderr);
+    text.lines().next().map(|l| l.trim().to_string())
+}
+
+/// The version of a package recorded in Cargo.lock.
+fn locked_version(root: &Path, package: &str) -> Result<String, String> {
+    let lock = std::fs::read_to_string(root.join("Cargo.lock")).map_err(|e| format!("cannot read Cargo.lock: {e}"))?;
+    let needle = format!("name = \"{package}\"\nversion = \"");
+    let start = lock.find(&needle).ok_or_else(|| format!("{package} is not in Cargo.lock"))? + needle.len();
+    let end = lock[start..].find('"').ok_or("Cargo.lock is malformed")? + start;
+    Ok(lock[start..end].to_string())
+}
+
+fn is_root() -> bool {
+    Command::new("id").arg("-u").output().map(|o| String::from_utf8_lossy(&o.stdout).trim() == "0").unwrap_or(false)
+}
+
+fn setup_build_tools(root: &Path) -> Result<(), String> {
+    say("checking the wasm32-unknown-unknown target");
+    let installed = Command::new("rustup")
+        .args(["target", "list", "--installed"])
+        .output()
+        .map(|o| String::from_utf8_lossy(&o.stdout).contains("wasm32-unknown-unknown"))
+        .unwrap_or(false);
+    if installed {
+        say("wasm32-unknown-unknown: present");
+    } else {
+        say("installing the wasm32-unknown-unknown target");
+        run(Command::new("rustup").args(["target", "add", "wasm32-unknown-unknown"]))?;
+    }
+
+    say(&format!("checking trunk {TRUNK_VERSION}"));
+    match version_of("trunk", "--version") {
+        Some(v) if v.contains(TRUNK_VERSION) => say(&format!("trunk: present ({v})")),
+        other => {
+            say(&format!("installing trunk {TRUNK_VERSION} (found: {other:?}); this takes about 12 minutes on 2 cores"));
+            run(Command::new("cargo").args(["install", "--locked", &format!("trunk@{TRUNK_VERSION}")]))?;
+        }
+    }
+
+    let wb = locked_version(root, "wasm-bindgen")?;
+    say(&format!("checking wasm-bindgen-cli {wb} (the version in Cargo.lock)"));
+    match version_of("wasm-bindgen", "--version") {
+        Some(v) if v.ends_with(&wb) => say(&format!("wasm-bindgen: present ({v})")),
+        other => {
+            say(&format!("installing wasm-bindgen-cli {wb} (found: {other:?}); about 4 minutes"));
+            // `--locked` fails for this crate on the registry mirror (its lock names a yanked version).
+            run(Command::new("cargo").args(["install", "wasm-bindgen-cli", "--version", &format!("={wb}")]))?;
+        }
+    }
+
+    say("checking wasm-opt (binaryen 132; Debian's 108 builds pages that die on load)");
+    match version_of("wasm-opt", "--version") {
+        Some(v) if v.contains(WASM_OPT_VERSION) => say(&format!("wasm-opt: present ({v})")),
+        other => {
+            say(&format!("installing {BINARYEN_NPM} with npm (found: {other:?})"));
+            if version_of("npm", "--version").is_none() {
+                return Err("npm is needed to install binaryen 132 (wasm-opt): install Node.js and npm".into());
+            }
+            run(Command::new("npm").args(["install", "-g", BINARYEN_NPM]))?;
+            match version_of("wasm-opt", "--version") {
+                Some(v) if v.contains(WASM_OPT_VERSION) => say(&format!("wasm-opt: installed ({v})")),
+                v => {
+                    return Err(format!(
+                        "wasm-opt on PATH is {v:?}, not binaryen 132: remove the older one (e.g. `apt-get remove binaryen`) and run again"
+                    ))
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+fn apt_install(packages: &[&str]) -> Result<(), String> {
+    if !is_root() {
+        return Err(format!(
+            "missing {}: install them (Debian: `sudo apt-get install -y {}`) and run again",
+            packages.join(", "),
+            packages.join(" ")
+        ));
+    }
+    say(&format!("installing {} with apt-get", packages.join(", ")));
+    run(Command::new("apt-get").arg("update").arg("-q"))?;
+    run(Command::new("apt-get").args(["install", "-y", "-q"]).args(packages).env("DEBIAN_FRONTEND", "noninteractive"))
+}
+
+fn setup_browser() -> Result<(), String> {
+    say("checking chromium, chromedriver and pdfinfo (for browser tests)");
+    let mut missing = Vec::new();
+    if version_of("chromium", "--version").is_none() {
+        missing.push("chromium");
+    }
+    if version_of("chromedriver", "--version").is_none() {
+        missing.push("chromium-driver");
+    }
+    if version_of("pdfinfo", "-v").is_none() {
+        missing.push("poppler-utils");
+    }
+    if missing.is_empty() {
+        say("browser tools: present");
+        Ok(())
+    } else {
+        apt_install(&missing)
+    }
+}
+
+fn build_page(root: &Path) -> Result<(), String> {
+    say("building the page with trunk (release)");
+    run(Command::new("trunk").args(["build", "--release"]).current_dir(root))
+}
+
+fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
+    setup_build_tools(root)?;
+    let port = rest.first().cloned().unwrap_or_else(|| "8080".into());
+    say(&format!("serving the page on http://127.0.0.1:{port}/ (Ctrl+C stops)"));
+    run(Command::new("trunk")
+        .args(["serve", "--release", "--address", "127.0.0.1", "--port", &port])
+        .current_dir(root))
+}
+
+fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
+    setup_build_tools(root)?;
+    setup_browser()?;
+    build_page(root)?;
+    say("native tests: unit, property, reference and browser end-to-end");
+    run(Command::new("cargo").args(["test", "--workspace", "--exclude", "hysteron-app"]).current_dir(root))?;
+    say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
+    run(Command::new("cargo")
+        .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown"])
+        .env("CHROMEDRIVER", "chromedriver")
+        .env("WASM_BINDGEN_TEST_TIMEOUT", "120")
+        .current_dir(root))?;
+    say("every test passed");
+    Ok(())
+}

@@ -1,0 +1,97 @@
+//! Number fields that accept engineering notation and the RKM code, and show what is wrong at the
+//! field itself.
+
+use leptos::prelude::*;
+
+/// Parses a field's text into a value in base units (ohms, volts, amperes...).
+/// The parsing rules live in `core` (IEC 60062 RKM code and SI prefixes); this is the page's one door to them.
+pub fn parse_value(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    if t.is_empty() {
+        return Err("enter a value".into());
+    }
+    let mult = |c: char| match c {
+        'p' => Some(1e-12), 'n' => Some(1e-9), 'u' | 'µ' => Some(1e-6), 'm' => Some(1e-3),
+        'k' | 'K' => Some(1e3), 'M' => Some(1e6), 'G' => Some(1e9), 'R' | 'r' => Some(1.0), _ => None,
+    };
+    if let Some((i, c)) = t.char_indices().find(|(_, c)| mult(*c).is_some()) {
+        let (a, b) = (&t[..i], &t[i + c.len_utf8()..]);
+        let num = if b.is_empty() { a.to_string() } else { format!("{}.{}", if a.is_empty() { "0" } else { a }, b) };
+        return num.parse::<f64>().map(|v| v * mult(c).unwrap_or(1.0)).map_err(|_| format!("cannot read \"{t}\" as a number"));
+    }
+    t.parse::<f64>().map_err(|_| format!("cannot read \"{t}\" as a number"))
+}
+
+/// Formats a value for a field, in engineering notation.
+pub fn format_value(value: f64, _unit: &str) -> String {
+    let a = value.abs();
+    let (d, p) = if a >= 1e6 { (1e6, "M") } else if a >= 1e3 { (1e3, "k") } else if a >= 1.0 || a == 0.0 { (1.0, "") }
+        else if a >= 1e-3 { (1e-3, "m") } else if a >= 1e-6 { (1e-6, "u") } else { (1e-9, "n") };
+    let x = value / d;
+    let s = format!("{:.4}", x);
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    format!("{s}{p}")
+}
+
+/// A labelled text field for one numeric quantity. It keeps its own text while the user types; a valid
+/// value is passed to `on_value`; an invalid one shows the parser's message under the field.
+#[component]
+pub fn QuantityField(
+    /// Element id of the input (stable, used by tests and labels).
+    id: String,
+    /// Visible label.
+    label: String,
+    /// Unit shown after the field and used when formatting.
+    unit: &'static str,
+    /// Current value from the design (formatted into the field when it changes from elsewhere).
+    #[prop(into)]
+    value: Signal<f64>,
+    /// Called with each valid value the user enters.
+    on_value: Callback<f64>,
+) -> impl IntoView {
+    let text = RwSignal::new(format_value(value.get_untracked(), unit));
+    let error = RwSignal::new(None::<String>);
+    // When the design changes from elsewhere (undo, synthesis, a loaded design), show the new value,
+    // unless the field already holds text that parses to it.
+    Effect::new(move |_| {
+        let v = value.get();
+        let current = text.get_untracked();
+        let same = parse_value(&current).map(|x| (x - v).abs() <= 1e-12 * v.abs().max(1e-30)).unwrap_or(false);
+        if !same {
+            text.set(format_value(v, unit));
+            error.set(None);
+        }
+    });
+    let err_id = format!("{id}-error");
+    let err_id2 = err_id.clone();
+    view! {
+        <div class="field" class:invalid=move || error.with(|e| e.is_some())>
+            <label for=id.clone()>{label}</label>
+            <span class="field-input">
+                <input
+                    id=id
+                    type="text"
+                    inputmode="decimal"
+                    autocomplete="off"
+                    spellcheck="false"
+                    aria-describedby=err_id.clone()
+                    aria-invalid=move || if error.with(|e| e.is_some()) { "true" } else { "false" }
+                    prop:value=move || text.get()
+                    on:input=move |ev| {
+                        let t = event_target_value(&ev);
+                        text.set(t.clone());
+                        match parse_value(&t) {
+                            Ok(v) => {
+                                error.set(None);
+                                on_value.run(v);
+                            }
+                            Err(e) => error.set(Some(e)),
+                        }
+                    }
+                />
+                <span class="unit">{unit}</span>
+            </span>
+            <span class="field-error" id=err_id2 role="status">{move || error.get().unwrap_or_default()}</span>
+        </div>
+    }
+}

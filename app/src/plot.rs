@@ -1,0 +1,112 @@
+//! Drawing the series that `core` produces onto canvases with plotters-canvas, sized for the
+//! screen's device-pixel ratio so lines stay crisp on high-DPI screens.
+
+use hysteron_core::topology::TransferCurve;
+use plotters::prelude::*;
+use plotters_canvas::CanvasBackend;
+use web_sys::HtmlCanvasElement;
+
+/// Palette of the page's plots.
+pub mod colours {
+    use plotters::style::RGBColor;
+    /// Rising-input branch.
+    pub const RISING: RGBColor = RGBColor(0x1f, 0x6f, 0x8b);
+    /// Falling-input branch.
+    pub const FALLING: RGBColor = RGBColor(0xc2, 0x5b, 0x1d);
+    /// Threshold markers.
+    pub const THRESHOLD: RGBColor = RGBColor(0x6b, 0x6b, 0x6b);
+    /// Grid and axes text.
+    pub const INK: RGBColor = RGBColor(0x22, 0x2a, 0x30);
+}
+
+/// Sizes the canvas's backing store to its CSS size × device-pixel ratio; returns the ratio.
+pub fn fit_canvas(canvas: &HtmlCanvasElement) -> f64 {
+    let dpr = web_sys::window().map(|w| w.device_pixel_ratio()).unwrap_or(1.0).max(1.0);
+    let w = canvas.client_width().max(200) as f64;
+    let h = canvas.client_height().max(150) as f64;
+    canvas.set_width((w * dpr).round() as u32);
+    canvas.set_height((h * dpr).round() as u32);
+    dpr
+}
+
+fn err<E: std::fmt::Display>(e: E) -> String {
+    format!("plot: {e}")
+}
+
+/// Draws the hysteresis loop: both branches, direction arrows, and the thresholds marked.
+pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Result<(), String> {
+    let dpr = fit_canvas(canvas);
+    let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
+    let root = backend.into_drawing_area();
+    root.fill(&WHITE).map_err(err)?;
+    let xs = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vin_v);
+    let ys = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vout_v);
+    let (mut x0, mut x1) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+    let (mut y0, mut y1) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| (a.min(y), b.max(y)));
+    if !(x0.is_finite() && x1.is_finite() && y0.is_finite() && y1.is_finite()) {
+        return Err("plot: nothing to draw".into());
+    }
+    let px = ((x1 - x0) * 0.06).max(1e-3);
+    let py = ((y1 - y0) * 0.12).max(1e-3);
+    x0 -= px;
+    x1 += px;
+    y0 -= py;
+    y1 += py;
+    let font = (12.0 * dpr) as u32;
+    let mut chart = ChartBuilder::on(&root)
+        .margin((10.0 * dpr) as u32)
+        .x_label_area_size((34.0 * dpr) as u32)
+        .y_label_area_size((44.0 * dpr) as u32)
+        .build_cartesian_2d(x0..x1, y0..y1)
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc("input (V)")
+        .y_desc("output (V)")
+        .label_style(("sans-serif", font).into_font().color(&colours::INK))
+        .axis_desc_style(("sans-serif", font).into_font().color(&colours::INK))
+        .light_line_style(RGBColor(0xee, 0xee, 0xee))
+        .draw()
+        .map_err(err)?;
+    let stroke = (2.0 * dpr) as u32;
+    for (vt, name) in [(curve.vt_upper_v, "VT+"), (curve.vt_lower_v, "VT−")] {
+        chart
+            .draw_series(DashedLineSeries::new(
+                vec![(vt, y0), (vt, y1)],
+                (4.0 * dpr) as u32,
+                (4.0 * dpr) as u32,
+                colours::THRESHOLD.stroke_width(dpr.max(1.0) as u32),
+            ))
+            .map_err(err)?;
+        chart
+            .draw_series(std::iter::once(Text::new(
+                format!("{name} {vt:.3} V"),
+                (vt, y1 - py * 0.4),
+                ("sans-serif", font).into_font().color(&colours::INK),
+            )))
+            .map_err(err)?;
+    }
+    for (branch, colour) in [(&curve.rising, colours::RISING), (&curve.falling, colours::FALLING)] {
+        let pts: Vec<(f64, f64)> = branch.iter().map(|p| (p.vin_v, p.vout_v)).collect();
+        chart.draw_series(LineSeries::new(pts.clone(), colour.stroke_width(stroke))).map_err(err)?;
+        // Direction marks: a filled triangle in the middle of each horizontal run, pointing the way
+        // the input moves on this branch.
+        for w in pts.windows(2) {
+            let ((xa, ya), (xb, yb)) = (w[0], w[1]);
+            if (ya - yb).abs() < 1e-12 && (xb - xa).abs() > 1e-12 {
+                let xm = 0.5 * (xa + xb);
+                let dir = (xb - xa).signum();
+                let dx = (x1 - x0) * 0.018 * dir;
+                let dy = (y1 - y0) * 0.035;
+                chart
+                    .draw_series(std::iter::once(Polygon::new(
+                        vec![(xm + dx, ya), (xm - dx, ya + dy), (xm - dx, ya - dy)],
+                        colour.filled(),
+                    )))
+                    .map_err(err)?;
+            }
+        }
+    }
+    root.present().map_err(err)?;
+    Ok(())
+}

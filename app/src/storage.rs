@@ -1,0 +1,232 @@
+//! The notebook in the browser's local storage.
+//!
+//! Layout (envelope version 1): `hysteron/index` holds the ordered list of design ids;
+//! `hysteron/design/<id>` holds one [`StoredDesign`]. Each design has its own key so that one corrupt
+//! record never blocks the others and two tabs editing different designs never overwrite each other.
+//! A record that cannot be read is set aside (left untouched in storage, listed with its message).
+
+use gloo_storage::{LocalStorage, Storage};
+use hysteron_core::record::DesignRecord;
+use hysteron_core::topology::TransferCurve;
+use serde::{Deserialize, Serialize};
+
+/// Key of the ordered id list.
+pub const INDEX_KEY: &str = "hysteron/index";
+/// Version of the storage envelope written by this build.
+pub const ENVELOPE_VERSION: u32 = 1;
+
+/// The storage key of one design.
+pub fn design_key(id: &str) -> String {
+    format!("hysteron/design/{id}")
+}
+
+/// One part as it stood when the design was saved.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SnapshotPart {
+    /// Designator (R1...).
+    pub designator: String,
+    /// What the part does.
+    pub label: String,
+    /// Value in base units.
+    pub value: f64,
+}
+
+/// What was computed from the design when it was saved: the record for the bench.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Snapshot {
+    /// VT+ at save time, volts.
+    pub vt_upper_v: f64,
+    /// VT− at save time, volts.
+    pub vt_lower_v: f64,
+    /// Hysteresis at save time, volts.
+    pub hysteresis_v: f64,
+    /// The transfer curve at save time.
+    pub curve: TransferCurve,
+    /// The part list at save time.
+    pub parts: Vec<SnapshotPart>,
+    /// Version of the math that computed it.
+    pub computed_by: String,
+}
+
+/// One design as stored.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct StoredDesign {
+    /// Envelope version.
+    pub envelope_version: u32,
+    /// Stable id.
+    pub id: String,
+    /// Incremented on every save; used to notice edits from another tab.
+    pub revision: u64,
+    /// Last edit, milliseconds since the Unix epoch.
+    pub saved_at_ms: f64,
+    /// The design record as JSON (kept raw so an unreadable one is never rewritten).
+    pub record: serde_json::Value,
+    /// Results at save time (absent when the design could not be computed).
+    pub snapshot: Option<Snapshot>,
+}
+
+/// A design that could be read.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Entry {
+    /// Stable id.
+    pub id: String,
+    /// Revision last read or written by this tab.
+    pub revision: u64,
+    /// Last edit, ms since the epoch.
+    pub saved_at_ms: f64,
+    /// The design.
+    pub record: DesignRecord,
+    /// Results at save time.
+    pub snapshot: Option<Snapshot>,
+}
+
+/// A stored item that could not be read, kept untouched.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SetAside {
+    /// Its storage key.
+    pub key: String,
+    /// Why it could not be read.
+    pub message: String,
+    /// Its raw text, so it can still be exported.
+    pub raw: String,
+}
+
+/// What loading found.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Loaded {
+    /// Readable designs in notebook order.
+    pub entries: Vec<Entry>,
+    /// Unreadable items.
+    pub set_aside: Vec<SetAside>,
+    /// Set when storage cannot be used at all (private mode, disabled).
+    pub unavailable: Option<String>,
+}
+
+/// Whether local storage can be written (false in some private modes or when disabled).
+pub fn available() -> Result<(), String> {
+    let storage = web_sys::window()
+        .ok_or("no window")?
+        .local_storage()
+        .map_err(|_| "this browser refuses access to local storage".to_string())?
+        .ok_or("this browser has no local storage")?;
+    storage
+        .set_item("hysteron/probe", "1")
+        .map_err(|_| "local storage refuses writes (private mode or storage full)".to_string())?;
+    storage.remove_item("hysteron/probe").ok();
+    Ok(())
+}
+
+fn raw_get(key: &str) -> Option<String> {
+    web_sys::window()?.local_storage().ok()??.get_item(key).ok()?
+}
+
+/// Parses one stored design's text.
+pub fn parse_stored(key: &str, text: &str) -> Result<Entry, SetAside> {
+    let aside = |message: String| SetAside { key: key.to_string(), message, raw: text.to_string() };
+    let stored: StoredDesign =
+        serde_json::from_str(text).map_err(|e| aside(format!("the stored design is damaged ({e})")))?;
+    if stored.envelope_version > ENVELOPE_VERSION {
+        return Err(aside(format!(
+            "saved by a newer version of Hysteron (storage version {}); open it there or export it",
+            stored.envelope_version
+        )));
+    }
+    let record = DesignRecord::from_value(stored.record.clone()).map_err(|e| aside(e.to_string()))?;
+    Ok(Entry { id: stored.id, revision: stored.revision, saved_at_ms: stored.saved_at_ms, record, snapshot: stored.snapshot })
+}
+
+/// Reads the whole notebook. Never fails: problems are reported per item.
+pub fn load() -> Loaded {
+    if let Err(e) = available() {
+        return Loaded { unavailable: Some(e), ..Loaded::default() };
+    }
+    let mut loaded = Loaded::default();
+    let ids: Vec<String> = match raw_get(INDEX_KEY) {
+        None => Vec::new(),
+        Some(text) => match serde_json::from_str::<Vec<String>>(&text) {
+            Ok(ids) => ids,
+            Err(e) => {
+                loaded.set_aside.push(SetAside {
+                    key: INDEX_KEY.into(),
+                    message: format!("the notebook's list was damaged ({e}); designs were found by key instead"),
+                    raw: text,
+                });
+                scan_design_keys()
+            }
+        },
+    };
+    // Designs stored under a key but missing from the list (written by another tab) are found too.
+    let mut all = ids;
+    for id in scan_design_keys() {
+        if !all.contains(&id) {
+            all.push(id);
+        }
+    }
+    for id in all {
+        let key = design_key(&id);
+        let Some(text) = raw_get(&key) else { continue };
+        match parse_stored(&key, &text) {
+            Ok(e) => loaded.entries.push(e),
+            Err(a) => loaded.set_aside.push(a),
+        }
+    }
+    loaded
+}
+
+fn scan_design_keys() -> Vec<String> {
+    let mut ids = Vec::new();
+    let Some(storage) = web_sys::window().and_then(|w| w.local_storage().ok().flatten()) else { return ids };
+    let n = storage.length().unwrap_or(0);
+    for i in 0..n {
+        if let Ok(Some(k)) = storage.key(i) {
+            if let Some(id) = k.strip_prefix("hysteron/design/") {
+                ids.push(id.to_string());
+            }
+        }
+    }
+    ids.sort();
+    ids
+}
+
+/// Writes one design and the id list. Returns the new revision, or why it failed.
+/// When another tab saved a newer revision meanwhile, nothing is overwritten: `Err(Conflict)`.
+pub fn save(entry: &Entry, order: &[String]) -> Result<u64, SaveError> {
+    let key = design_key(&entry.id);
+    if let Some(text) = raw_get(&key) {
+        if let Ok(stored) = serde_json::from_str::<StoredDesign>(&text) {
+            if stored.revision > entry.revision {
+                return Err(SaveError::Conflict { theirs: stored.revision });
+            }
+        }
+    }
+    let revision = entry.revision + 1;
+    let stored = StoredDesign {
+        envelope_version: ENVELOPE_VERSION,
+        id: entry.id.clone(),
+        revision,
+        saved_at_ms: entry.saved_at_ms,
+        record: serde_json::to_value(&entry.record).map_err(|e| SaveError::Failed(e.to_string()))?,
+        snapshot: entry.snapshot.clone(),
+    };
+    LocalStorage::set(&key, &stored).map_err(|e| SaveError::Failed(format!("could not save: {e}")))?;
+    LocalStorage::set(INDEX_KEY, order).map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))?;
+    Ok(revision)
+}
+
+/// Removes one design from storage (the page keeps it in memory for undo).
+pub fn remove(id: &str, order: &[String]) {
+    LocalStorage::delete(design_key(id));
+    LocalStorage::set(INDEX_KEY, order).ok();
+}
+
+/// Why a save did not happen.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SaveError {
+    /// Another tab saved a newer revision of the same design.
+    Conflict {
+        /// Their revision.
+        theirs: u64,
+    },
+    /// Storage refused the write (full, unavailable).
+    Failed(String),
+}

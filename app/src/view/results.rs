@@ -1,0 +1,76 @@
+//! Results of the open design: thresholds, levels, warnings and the transfer curve.
+
+use super::state::Notebook;
+use crate::plot;
+use hysteron_core::analysis::{Analysis, CheckSettings};
+use hysteron_core::topology::{analyse, transfer_curve, TransferCurve};
+use leptos::html::Canvas;
+use leptos::prelude::*;
+
+fn volts(v: f64) -> String {
+    format!("{v:.4} V")
+}
+
+/// Shows VT+, VT−, width, centre and the transfer curve; errors appear in place of results.
+#[component]
+pub fn Results() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let analysis = Memo::new(move |_| {
+        nb.with_current(|r| analyse(&r.circuit, &r.checks).map_err(|e| e.to_string()))
+            .unwrap_or_else(|| Err("no design open".into()))
+    });
+    let curve = Memo::new(move |_| {
+        nb.with_current(|r| {
+            let a: Analysis = analyse(&r.circuit, &CheckSettings::default()).ok()?;
+            let span = a.hysteresis_v.abs().max(0.5);
+            transfer_curve(&r.circuit, a.vt_lower_v - span, a.vt_upper_v + span).ok()
+        })
+        .flatten()
+    });
+    let canvas: NodeRef<Canvas> = NodeRef::new();
+    let plot_error = RwSignal::new(None::<String>);
+    Effect::new(move |_| {
+        let c: Option<TransferCurve> = curve.get();
+        if let (Some(el), Some(c)) = (canvas.get(), c) {
+            plot_error.set(plot::draw_transfer(&el, &c).err());
+        }
+    });
+    let value = move |f: fn(&Analysis) -> f64| move || analysis.with(|a| a.as_ref().map(f).ok());
+    let row = move |id: &'static str, label: &'static str, f: fn(&Analysis) -> f64| {
+        let v = value(f);
+        view! {
+            <tr>
+                <th scope="row">{label}</th>
+                <td><output id=id data-value=move || v().map(|x| x.to_string()).unwrap_or_default()>
+                    {move || v().map(volts).unwrap_or_else(|| "—".into())}
+                </output></td>
+            </tr>
+        }
+    };
+    view! {
+        <section class="card" aria-labelledby="results-heading">
+            <h2 id="results-heading">"Results"</h2>
+            {move || analysis.with(|a| a.as_ref().err().cloned()).map(|e| view! { <p class="error" id="analysis-error" role="alert">{e}</p> })}
+            <table class="results">
+                <tbody>
+                    {row("vt-upper", "VT+ (trip point, rising input)", |a| a.vt_upper_v)}
+                    {row("vt-lower", "VT− (release point, falling input)", |a| a.vt_lower_v)}
+                    {row("hysteresis", "Hysteresis", |a| a.hysteresis_v)}
+                    {row("centre", "Centre", |a| a.centre_v)}
+                    {row("output-high", "Output high", |a| a.output_high_v)}
+                    {row("output-low", "Output low", |a| a.output_low_v)}
+                </tbody>
+            </table>
+            <ul class="warnings">
+                {move || analysis.with(|a| a.as_ref().map(|a| a.warnings.clone()).unwrap_or_default())
+                    .into_iter().map(|w| view! { <li class="warning">{w.message}</li> }).collect_view()}
+            </ul>
+            <figure class="plot">
+                <canvas id="transfer-plot" node_ref=canvas width="640" height="360"
+                    role="img" aria-label="Transfer curve: output voltage against input voltage, both branches of the hysteresis loop"></canvas>
+                <figcaption>"Transfer curve: rising input (blue) switches at VT+, falling input (orange) at VT−."</figcaption>
+                {move || plot_error.get().map(|e| view! { <p class="error">{e}</p> })}
+            </figure>
+        </section>
+    }
+}
