@@ -12,6 +12,7 @@ use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 pub mod inverting;
+pub mod noninverting;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -405,6 +406,8 @@ macro_rules! topologies {
 topologies! {
     /// Inverting Schmitt trigger: input on (−), divider and feedback on (+). DOMAIN §1a.
     Inverting(inverting::InvertingSchmitt) = "inverting",
+    /// Non-inverting Schmitt trigger: input through R1 to (+), feedback R2, reference on (−). DOMAIN §1b.
+    NonInverting(noninverting::NonInvertingSchmitt) = "non_inverting",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
