@@ -13,6 +13,7 @@ use serde::{Deserialize, Serialize};
 
 pub mod inverting;
 pub mod noninverting;
+pub mod open_drain;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -408,6 +409,8 @@ topologies! {
     Inverting(inverting::InvertingSchmitt) = "inverting",
     /// Non-inverting Schmitt trigger: input through R1 to (+), feedback R2, reference on (−). DOMAIN §1b.
     NonInverting(noninverting::NonInvertingSchmitt) = "non_inverting",
+    /// Open-collector/open-drain comparator with pull-up, inverting or non-inverting. DOMAIN §1c.
+    OpenDrain(open_drain::OpenDrainSchmitt) = "open_drain",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
