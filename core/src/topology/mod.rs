@@ -14,6 +14,7 @@ use serde::{Deserialize, Serialize};
 pub mod inverting;
 pub mod noninverting;
 pub mod open_drain;
+pub mod plain;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -411,6 +412,8 @@ topologies! {
     NonInverting(noninverting::NonInvertingSchmitt) = "non_inverting",
     /// Open-collector/open-drain comparator with pull-up, inverting or non-inverting. DOMAIN §1c.
     OpenDrain(open_drain::OpenDrainSchmitt) = "open_drain",
+    /// Plain comparator without feedback: the no-hysteresis baseline.
+    Plain(plain::PlainComparator) = "plain_comparator",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
