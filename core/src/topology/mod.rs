@@ -15,6 +15,7 @@ pub mod inverting;
 pub mod noninverting;
 pub mod open_drain;
 pub mod plain;
+pub mod supply_monitor;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -414,6 +415,8 @@ topologies! {
     OpenDrain(open_drain::OpenDrainSchmitt) = "open_drain",
     /// Plain comparator without feedback: the no-hysteresis baseline.
     Plain(plain::PlainComparator) = "plain_comparator",
+    /// Battery/supply undervoltage or overvoltage monitor, thresholds on the monitored rail. DOMAIN §1g.
+    SupplyMonitor(supply_monitor::SupplyMonitor) = "supply_monitor",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
