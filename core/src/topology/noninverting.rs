@@ -472,7 +472,7 @@ impl Circuit for NonInvertingSchmitt {
         let h = off_l - d.switching_offset_v(true);
         let (voh, vol) = (d.output_high_v(), d.output_low_v());
         let m = (up - lo - h) / (voh - vol + h);
-        if !(m > 0.0) {
+        if m.is_nan() || m <= 0.0 {
             return Err(DesignError::infeasible(
                 format!("the device's built-in hysteresis ({:.4} V) already covers the requested width ({:.4} V)", h, up - lo),
                 "ask for a wider hysteresis or use a device without built-in hysteresis",
@@ -480,7 +480,7 @@ impl Circuit for NonInvertingSchmitt {
         }
         let r1s = m * r2_ohm;
         let r1 = r1s - d.source_resistance_ohm;
-        if !(r1 > 0.0) {
+        if r1.is_nan() || r1 <= 0.0 {
             return Err(DesignError::infeasible(
                 format!(
                     "the input resistance the targets need (m·R2 = {:.1} Ω) is not above the source resistance ({:.1} Ω)",

@@ -510,7 +510,7 @@ impl Circuit for OpenDrainSchmitt {
                 }
                 let (sh, sl) = (rf + rxh, rf + rxl);
                 let den = (vh - ph) / sh - (vl - pl) / sl;
-                if !(den > 0.0) {
+                if den.is_nan() || den <= 0.0 {
                     return Err(DesignError::infeasible(
                         format!(
                             "the requested width ({:.4} V) cannot be reached between the pulled-up high level ({vh:.4} V through {rxh:.0} Ω) and the low level ({vl:.4} V)",
@@ -583,7 +583,7 @@ impl Circuit for OpenDrainSchmitt {
                     )
                 })?;
                 let r1 = u - d.source_resistance_ohm;
-                if !(r1 > 0.0) {
+                if r1.is_nan() || r1 <= 0.0 {
                     return Err(DesignError::infeasible(
                         format!(
                             "the input resistance the targets need ({u:.1} Ω) is not above the source resistance ({:.1} Ω)",

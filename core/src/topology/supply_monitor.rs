@@ -364,14 +364,14 @@ impl Circuit for SupplyMonitor {
         } else {
             let voh_at_trip = beta + alpha * fall;
             let den = pl * voh_at_trip - ph * vol;
-            if !(voh_at_trip > vol) || !(den > 0.0) {
+            if voh_at_trip.is_nan() || voh_at_trip <= vol || den.is_nan() || den <= 0.0 {
                 return Err(DesignError::infeasible(
                     format!("the output high level at the trip point ({voh_at_trip:.4} V) is not above the low level ({vol:.4} V)"),
                     "lower the supply dropout or raise the falling-rail point",
                 ));
             }
             let r = (ph * al - pl * ah) / den;
-            if !(r > 0.0) {
+            if r.is_nan() || r <= 0.0 {
                 return Err(DesignError::infeasible(
                     format!(
                         "the device's built-in hysteresis already gives more than the requested band ({:.4} V)",
@@ -383,7 +383,7 @@ impl Circuit for SupplyMonitor {
             r
         };
         let q = (al + r * vol) / pl - 1.0 - r;
-        if !(q > 0.0) {
+        if q.is_nan() || q <= 0.0 {
             return Err(DesignError::infeasible(
                 format!(
                     "the rising-rail point ({rise:.4} V) is too low for this reference: it must exceed VREF + r(VREF − VOL) ≈ {:.4} V",
