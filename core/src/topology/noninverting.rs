@@ -15,7 +15,7 @@ use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
-use crate::error::{positive, DesignError};
+use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 /// The reference that sets a comparator's fixed input: a rail directly, or a two-resistor divider.
@@ -41,12 +41,6 @@ pub enum Reference {
     },
 }
 
-impl Default for Reference {
-    fn default() -> Self {
-        Reference::Direct { rail: Rail::Fixed(2.5) }
-    }
-}
-
 impl Reference {
     /// A divider from the supply (Ra) to ground (Rb).
     pub fn divider(ra_ohm: f64, rb_ohm: f64) -> Self {
@@ -63,8 +57,8 @@ impl Reference {
         match self {
             Reference::Direct { rail } => rail.validate("reference.rail"),
             Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-                positive("reference.ra_ohm", *ra_ohm)?;
-                positive("reference.rb_ohm", *rb_ohm)?;
+                resistance("reference.ra_ohm", *ra_ohm)?;
+                resistance("reference.rb_ohm", *rb_ohm)?;
                 rail_a.validate("reference.rail_a")?;
                 rail_b.validate("reference.rail_b")
             }
@@ -78,7 +72,7 @@ impl Reference {
             Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
                 let va = rail_a.volts(supply_v, negative_rail_v);
                 let vb = rail_b.volts(supply_v, negative_rail_v);
-                ((va * rb_ohm + vb * ra_ohm) / (ra_ohm + rb_ohm), ra_ohm * rb_ohm / (ra_ohm + rb_ohm))
+                (vb + (va - vb) * divider_fraction(ra_ohm, rb_ohm), par2(ra_ohm, rb_ohm))
             }
         }
     }
@@ -265,6 +259,56 @@ impl Reference {
     }
 }
 
+/// Smallest and largest resistance a design may hold, ohms (1 µΩ to 1 PΩ): beyond any real part,
+/// and inside the range where every network equation here stays finite in double precision.
+pub const RESISTANCE_RANGE_OHM: (f64, f64) = (1e-6, 1e15);
+
+/// Checks a resistance: finite and within [`RESISTANCE_RANGE_OHM`].
+pub(crate) fn resistance(field: &str, value_ohm: f64) -> Result<f64, DesignError> {
+    let (lo, hi) = RESISTANCE_RANGE_OHM;
+    if value_ohm.is_finite() && (lo..=hi).contains(&value_ohm) {
+        Ok(value_ohm)
+    } else {
+        Err(DesignError::invalid(field, format!("must be a resistance between 1 µΩ and 1 PΩ (got {value_ohm})")))
+    }
+}
+
+/// Two resistances in parallel, ohms, without overflow for huge values.
+pub(crate) fn par2(a_ohm: f64, b_ohm: f64) -> f64 {
+    1.0 / (1.0 / a_ohm + 1.0 / b_ohm)
+}
+
+/// The fraction Rb/(Ra+Rb) of a divider, without overflow for huge values.
+pub(crate) fn divider_fraction(ra_ohm: f64, rb_ohm: f64) -> f64 {
+    1.0 / (1.0 + ra_ohm / rb_ohm)
+}
+
+/// The last step of every synthesis: the design must pass its own validation and reproduce the
+/// targets to 1e-9 (relative to the larger target, 1 mV floor); extreme anchors or targets that
+/// leave the floating-point range or lose that accuracy give a typed error instead of a bad design.
+pub(crate) fn verified<C: Circuit>(design: C, targets: Thresholds, anchor_ohm: f64) -> Result<C, DesignError> {
+    let unusable = |why: String| {
+        DesignError::infeasible(
+            format!("with the anchor at {anchor_ohm:.4e} Ω the targets need {why}"),
+            "choose an anchor resistance in the usual range (about 1 kΩ to 10 MΩ), or targets on the scale of the rails",
+        )
+    };
+    if let Err(e) = design.validate() {
+        return Err(unusable(format!("part values outside the usable range ({e})")));
+    }
+    let t = design.thresholds()?;
+    let scale = targets.vt_upper_v.abs().max(targets.vt_lower_v.abs()).max(1e-3);
+    let ok = |got: f64, want: f64| got.is_finite() && (got - want).abs() <= 1e-9 * scale;
+    if ok(t.vt_upper_v, targets.vt_upper_v) && ok(t.vt_lower_v, targets.vt_lower_v) {
+        Ok(design)
+    } else {
+        Err(unusable(format!(
+            "part ratios beyond double-precision accuracy (reached {:.9} V / {:.9} V)",
+            t.vt_upper_v, t.vt_lower_v
+        )))
+    }
+}
+
 /// Hands out designators R1, R2... in order over the fitted resistors.
 #[derive(Debug, Default)]
 pub(crate) struct Designators(u32);
@@ -363,16 +407,15 @@ impl NonInvertingSchmitt {
     /// Node P for input `vin_v` and output `vo_v`: P = (Vin/R1s + VO/R2 − IB+)·(R1s‖R2).
     fn node_p(&self, vin_v: f64, vo_v: f64) -> f64 {
         let r1s = self.r1s();
-        let rp = r1s * self.r2_ohm / (r1s + self.r2_ohm);
-        rp * (vin_v / r1s + vo_v / self.r2_ohm - self.device.bias_plus_applied_a())
+        (vin_v / r1s + vo_v / self.r2_ohm - self.device.bias_plus_applied_a()) / (1.0 / r1s + 1.0 / self.r2_ohm)
     }
 }
 
 impl Circuit for NonInvertingSchmitt {
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
-        positive("r1_ohm", self.r1_ohm)?;
-        positive("r2_ohm", self.r2_ohm)?;
+        resistance("r1_ohm", self.r1_ohm)?;
+        resistance("r2_ohm", self.r2_ohm)?;
         self.reference.validate()
     }
 
@@ -456,7 +499,7 @@ impl Circuit for NonInvertingSchmitt {
     fn synthesise_with_anchor(&self, targets: Thresholds, r2_ohm: f64) -> Result<Self, DesignError> {
         self.device.validate()?;
         self.reference.validate()?;
-        positive("anchor_ohm", r2_ohm)?;
+        resistance("anchor_ohm", r2_ohm)?;
         let d = &self.device;
         let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(up.is_finite() && lo.is_finite()) {
@@ -500,7 +543,7 @@ impl Circuit for NonInvertingSchmitt {
         }
         let reference =
             self.reference.synthesise_for(n, d.bias_minus_applied_a(), d.supply_v, d.negative_rail_v, "inverting input (reference)")?;
-        Ok(NonInvertingSchmitt { r1_ohm: r1, r2_ohm, reference, device: self.device })
+        verified(NonInvertingSchmitt { r1_ohm: r1, r2_ohm, reference, device: self.device }, targets, r2_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {
@@ -529,7 +572,8 @@ impl Circuit for NonInvertingSchmitt {
         let mut tol_err = 2.0 * m * (vref - d.output_low_v()).abs();
         if let Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } = self.reference {
             let span = (rail_a.volts(d.supply_v, d.negative_rail_v) - rail_b.volts(d.supply_v, d.negative_rail_v)).abs();
-            tol_err += 2.0 * (1.0 + m) * span * ra_ohm * rb_ohm / (ra_ohm + rb_ohm).powi(2);
+            let x = divider_fraction(ra_ohm, rb_ohm);
+            tol_err += 2.0 * (1.0 + m) * span * x * (1.0 - x);
         }
         tol_err *= settings.resistor_tolerance;
         if bias_err > 0.0 && bias_err > settings.bias_error_fraction * tol_err {
@@ -748,6 +792,29 @@ mod tests {
         let direct = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, real_device());
         let v: Vec<f64> = direct.parameters().iter().map(|p| p.value).collect();
         assert_eq!(direct.with_parameters(&v).unwrap(), direct);
+    }
+
+    #[test]
+    fn out_of_range_parts_are_refused() {
+        let c = NonInvertingSchmitt::with_fixed_reference(1e16, 1e5, 2.5, Comparator::ideal(5.0));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        let template = NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
+        let t = Thresholds { vt_upper_v: 2.75, vt_lower_v: 2.25 };
+        assert!(matches!(template.synthesise_with_anchor(t, 1e300), Err(DesignError::InvalidValue { .. })));
+        // A valid anchor of 1 µΩ needs R1 = 0.1 µΩ, below the smallest resistance: refused by the final check.
+        let e = template.synthesise_with_anchor(t, 1e-6).unwrap_err();
+        assert!(matches!(e, DesignError::Infeasible { .. }), "{e}");
+    }
+
+    #[test]
+    fn json_shape() {
+        let c = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 2.5, Comparator::ideal(5.0));
+        let v = serde_json::to_value(&c).unwrap();
+        assert_eq!(v["reference"], serde_json::json!({"kind": "direct", "rail": {"fixed": 2.5}}));
+        let back: NonInvertingSchmitt = serde_json::from_value(v).unwrap();
+        assert_eq!(back, c);
+        let d: Reference = serde_json::from_str(r#"{"kind":"divider","ra_ohm":1e4,"rail_a":"supply","rb_ohm":2e4,"rail_b":"ground"}"#).unwrap();
+        assert_eq!(d, Reference::divider(1e4, 2e4));
     }
 
     #[test]

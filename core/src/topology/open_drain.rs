@@ -17,13 +17,16 @@
 //! (pull-up a tenth of the feedback resistor) is common practice (DOMAIN §6). Offsets, bias
 //! currents and built-in hysteresis enter as in the push-pull forms.
 
-use super::noninverting::{noninverting_switch_v, pick_root, quadratic_roots, Designators, Reference};
+use super::noninverting::{
+    divider_fraction, noninverting_switch_v, par2, pick_root, quadratic_roots, resistance, verified, Designators,
+    Reference,
+};
 use super::{expect_len, parallel, sensitivities, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
-use crate::error::{non_negative, positive, DesignError};
+use crate::error::{non_negative, DesignError};
 use serde::{Deserialize, Serialize};
 
 /// Which input the signal drives, with the resistors of that form.
@@ -120,7 +123,7 @@ impl OpenDrainSchmitt {
     /// Pull-up with the load folded in: (Vpu·RL/(Rpu+RL), Rpu‖RL) (DOMAIN §1c).
     fn pullup_source(&self) -> Source {
         match self.rl_ohm {
-            Some(rl) => (self.vpu() * rl / (self.rpu_ohm + rl), self.rpu_ohm * rl / (self.rpu_ohm + rl)),
+            Some(rl) => (self.vpu() * divider_fraction(self.rpu_ohm, rl), par2(self.rpu_ohm, rl)),
             None => (self.vpu(), self.rpu_ohm),
         }
     }
@@ -140,7 +143,7 @@ impl OpenDrainSchmitt {
         if ron <= 0.0 {
             (vs, 0.0)
         } else {
-            ((vp * ron + vs * rp) / (rp + ron), rp * ron / (rp + ron))
+            (vs + (vp - vs) * divider_fraction(rp, ron), par2(rp, ron))
         }
     }
 
@@ -206,8 +209,7 @@ impl OpenDrainSchmitt {
             OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, .. } => {
                 let r1s = r1_ohm + self.device.source_resistance_ohm;
                 let s = r2_ohm + src.1;
-                let rp = r1s * s / (r1s + s);
-                rp * (vin_v / r1s + src.0 / s - self.device.bias_plus_applied_a())
+                (vin_v / r1s + src.0 / s - self.device.bias_plus_applied_a()) / (1.0 / r1s + 1.0 / s)
             }
         }
     }
@@ -254,12 +256,12 @@ impl Circuit for OpenDrainSchmitt {
         match self.polarity {
             OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
                 if let Some(r) = ra_ohm {
-                    positive("polarity.ra_ohm", r)?;
+                    resistance("polarity.ra_ohm", r)?;
                 }
                 if let Some(r) = rb_ohm {
-                    positive("polarity.rb_ohm", r)?;
+                    resistance("polarity.rb_ohm", r)?;
                 }
-                positive("polarity.rf_ohm", rf_ohm)?;
+                resistance("polarity.rf_ohm", rf_ohm)?;
                 rail_a.validate("polarity.rail_a")?;
                 rail_b.validate("polarity.rail_b")?;
                 if ra_ohm.is_none() && rb_ohm.is_none() {
@@ -269,17 +271,19 @@ impl Circuit for OpenDrainSchmitt {
                 }
             }
             OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
-                positive("polarity.r1_ohm", r1_ohm)?;
-                positive("polarity.r2_ohm", r2_ohm)?;
+                resistance("polarity.r1_ohm", r1_ohm)?;
+                resistance("polarity.r2_ohm", r2_ohm)?;
                 reference.validate()?;
             }
         }
-        positive("rpu_ohm", self.rpu_ohm)?;
+        resistance("rpu_ohm", self.rpu_ohm)?;
         self.pullup_rail.validate("pullup_rail")?;
         if let Some(rl) = self.rl_ohm {
-            positive("rl_ohm", rl)?;
+            resistance("rl_ohm", rl)?;
         }
-        non_negative("sink_resistance_ohm", self.sink_resistance_ohm)?;
+        if non_negative("sink_resistance_ohm", self.sink_resistance_ohm)? > 0.0 {
+            resistance("sink_resistance_ohm", self.sink_resistance_ohm)?;
+        }
         let (vp, _) = self.pullup_source();
         if vp <= self.sink_level() {
             return Err(DesignError::inconsistent(format!(
@@ -484,7 +488,7 @@ impl Circuit for OpenDrainSchmitt {
         if !(up.is_finite() && lo.is_finite()) {
             return Err(DesignError::invalid("targets", "VT+ and VT− must be finite numbers"));
         }
-        positive("anchor_ohm", anchor_ohm)?;
+        resistance("anchor_ohm", anchor_ohm)?;
         // Validate the template's rails, pull-up and device with its own resistors.
         self.validate()?;
         if up <= lo {
@@ -611,7 +615,7 @@ impl Circuit for OpenDrainSchmitt {
                 out.polarity = OpenDrainPolarity::NonInverting { r1_ohm: r1, r2_ohm: r2, reference };
             }
         }
-        Ok(out)
+        verified(out, targets, anchor_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {

@@ -10,14 +10,14 @@
 //! - Signal on (+), reference node N = Vth − IB−·Rref on (−): VT± = N + VOS ± h/2 + IB+·Rs.
 //! - Signal on (−), reference node N = Vth − IB+·Rref on (+): VT± = N − VOS ± h/2 + IB−·Rs.
 
-use super::noninverting::{divider_current_check, Designators, Reference};
+use super::noninverting::{divider_current_check, resistance, verified, Designators, Reference};
 use super::open_drain::bias_error_check_with;
 use super::{expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::Comparator;
-use crate::error::{positive, DesignError};
+use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 /// A comparator with no feedback: signal on one input, a reference on the other.
@@ -145,7 +145,7 @@ impl Circuit for PlainComparator {
     /// centre, with the offset and bias terms inverted exactly. A divider is scaled to the anchor total.
     fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
         self.validate()?;
-        positive("anchor_ohm", anchor_ohm)?;
+        resistance("anchor_ohm", anchor_ohm)?;
         let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(up.is_finite() && lo.is_finite()) {
             return Err(DesignError::invalid("targets", "VT+ and VT− must be finite numbers"));
@@ -187,7 +187,7 @@ impl Circuit for PlainComparator {
             direct => direct,
         };
         let reference = scaled.synthesise_for(n, ib_ref, d.supply_v, d.negative_rail_v, "reference input")?;
-        Ok(PlainComparator { reference, ..self.clone() })
+        verified(PlainComparator { reference, ..self.clone() }, targets, anchor_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {

@@ -15,14 +15,14 @@
 //! VBAT = [P(1 + r_x + Rtop/Rbot) − β·r_x + IB+·Rtop]/(1 + α·r_x), with the output source
 //! Vx = α·VBAT + β behind Rx and r_x = Rtop/(Rh + Rx).
 
-use super::noninverting::{pick_root, quadratic_roots, Designators};
+use super::noninverting::{pick_root, quadratic_roots, resistance, verified, Designators};
 use super::open_drain::bias_error_check_with;
 use super::{expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
-use crate::error::{finite, non_negative, positive, DesignError};
+use crate::error::{finite, non_negative, DesignError};
 use serde::{Deserialize, Serialize};
 
 /// Extra-low-voltage limit for d.c. used by the safety check: 60 V d.c. (IEC 62368-1 ES1 and the
@@ -181,9 +181,9 @@ impl SupplyMonitor {
 impl Circuit for SupplyMonitor {
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
-        positive("rtop_ohm", self.rtop_ohm)?;
-        positive("rbot_ohm", self.rbot_ohm)?;
-        positive("rh_ohm", self.rh_ohm)?;
+        resistance("rtop_ohm", self.rtop_ohm)?;
+        resistance("rbot_ohm", self.rbot_ohm)?;
+        resistance("rh_ohm", self.rh_ohm)?;
         finite("vref_v", self.vref_v)?;
         if self.vref_v <= self.device.negative_rail_v {
             return Err(DesignError::invalid("vref_v", "must be above the comparator's negative rail (0 V for a single supply)"));
@@ -192,7 +192,7 @@ impl Circuit for SupplyMonitor {
             non_negative("comparator_supply.dropout_v", dropout_v)?;
         }
         if let MonitorOutput::OpenDrain { rpu_ohm, pullup_rail } = self.output {
-            positive("output.rpu_ohm", rpu_ohm)?;
+            resistance("output.rpu_ohm", rpu_ohm)?;
             pullup_rail.validate("output.pullup_rail")?;
             if self.vpu(pullup_rail) <= self.device.output_low_v() {
                 return Err(DesignError::inconsistent(format!(
@@ -324,7 +324,7 @@ impl Circuit for SupplyMonitor {
     /// then Rh = Rtop/r, q = (V_rise − IB+Rtop + r·VOL)/P− − 1 − r, Rbot = Rtop/q.
     fn synthesise_with_anchor(&self, targets: Thresholds, rtop_ohm: f64) -> Result<Self, DesignError> {
         self.validate()?;
-        positive("anchor_ohm", rtop_ohm)?;
+        resistance("anchor_ohm", rtop_ohm)?;
         let (rise, fall) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(rise.is_finite() && fall.is_finite()) {
             return Err(DesignError::invalid("targets", "V_rise and V_fall must be finite numbers"));
@@ -396,7 +396,7 @@ impl Circuit for SupplyMonitor {
         out.rtop_ohm = rtop_ohm;
         out.rh_ohm = rte / r;
         out.rbot_ohm = rte / q;
-        Ok(out)
+        verified(out, targets, rtop_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {
