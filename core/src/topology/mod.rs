@@ -12,6 +12,10 @@ use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 pub mod inverting;
+pub mod noninverting;
+pub mod open_drain;
+pub mod plain;
+pub mod supply_monitor;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -405,6 +409,14 @@ macro_rules! topologies {
 topologies! {
     /// Inverting Schmitt trigger: input on (−), divider and feedback on (+). DOMAIN §1a.
     Inverting(inverting::InvertingSchmitt) = "inverting",
+    /// Non-inverting Schmitt trigger: input through R1 to (+), feedback R2, reference on (−). DOMAIN §1b.
+    NonInverting(noninverting::NonInvertingSchmitt) = "non_inverting",
+    /// Open-collector/open-drain comparator with pull-up, inverting or non-inverting. DOMAIN §1c.
+    OpenDrain(open_drain::OpenDrainSchmitt) = "open_drain",
+    /// Plain comparator without feedback: the no-hysteresis baseline.
+    Plain(plain::PlainComparator) = "plain_comparator",
+    /// Battery/supply undervoltage or overvoltage monitor, thresholds on the monitored rail. DOMAIN §1g.
+    SupplyMonitor(supply_monitor::SupplyMonitor) = "supply_monitor",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.

@@ -1,0 +1,830 @@
+//! Non-inverting Schmitt trigger around a comparator or op-amp (shared/DOMAIN.md §1b), and the
+//! reference network ([`Reference`]) that the non-inverting and plain-comparator forms share.
+//!
+//! The signal drives R1 into the non-inverting input (+), node P; R2 feeds the output back to P.
+//! The inverting input (−) sits on a reference: a rail or fixed source directly, or a divider
+//! Ra (from `rail_a`) / Rb (to `rail_b`).
+//!
+//! Equations (Sedra & Smith, *Microelectronic Circuits*, bistable-multivibrator section, from memory;
+//! non-idealities from DOMAIN §1b): with R1s = R1 + Rs, m = R1s/R2 and the (−) node at
+//! N = Vth,ref − IB−·Rref, the device switches when P − N = VOS ± h/2, which gives
+//! VT+ = (N + VOS + h/2)(1+m) − m·VOL + IB+·R1s and VT− = (N + VOS − h/2)(1+m) − m·VOH + IB+·R1s.
+
+use super::{expect_len, Circuit, Parameter, ParameterKind};
+use crate::analysis::{
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
+};
+use crate::device::{Comparator, Rail};
+use crate::error::DesignError;
+use serde::{Deserialize, Serialize};
+
+/// The reference that sets a comparator's fixed input: a rail directly, or a two-resistor divider.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum Reference {
+    /// The input is tied straight to a rail or a fixed reference source (zero source resistance).
+    Direct {
+        /// The rail or fixed source.
+        rail: Rail,
+    },
+    /// A divider: Ra from `rail_a` to the input node, Rb from the node to `rail_b`.
+    /// Thevenin equivalent Vth = (VA·Rb + VB·Ra)/(Ra+Rb), Rth = Ra‖Rb (DOMAIN §0).
+    Divider {
+        /// Resistor Ra from `rail_a` to the node, ohms.
+        ra_ohm: f64,
+        /// Rail that Ra returns to (usually the supply).
+        rail_a: Rail,
+        /// Resistor Rb from the node to `rail_b`, ohms.
+        rb_ohm: f64,
+        /// Rail that Rb returns to (usually ground).
+        rail_b: Rail,
+    },
+}
+
+impl Reference {
+    /// A divider from the supply (Ra) to ground (Rb).
+    pub fn divider(ra_ohm: f64, rb_ohm: f64) -> Self {
+        Reference::Divider { ra_ohm, rail_a: Rail::Supply, rb_ohm, rail_b: Rail::Ground }
+    }
+
+    /// A fixed reference source of `volts`, tied straight to the input.
+    pub fn fixed(volts: f64) -> Self {
+        Reference::Direct { rail: Rail::Fixed(volts) }
+    }
+
+    /// Checks resistances (finite, above zero) and fixed rail voltages (finite).
+    pub fn validate(&self) -> Result<(), DesignError> {
+        match self {
+            Reference::Direct { rail } => rail.validate("reference.rail"),
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+                resistance("reference.ra_ohm", *ra_ohm)?;
+                resistance("reference.rb_ohm", *rb_ohm)?;
+                rail_a.validate("reference.rail_a")?;
+                rail_b.validate("reference.rail_b")
+            }
+        }
+    }
+
+    /// Thevenin equivalent (volts, ohms) for a device on the given rails.
+    pub fn thevenin(&self, supply_v: f64, negative_rail_v: f64) -> (f64, f64) {
+        match *self {
+            Reference::Direct { rail } => (rail.volts(supply_v, negative_rail_v), 0.0),
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+                let va = rail_a.volts(supply_v, negative_rail_v);
+                let vb = rail_b.volts(supply_v, negative_rail_v);
+                (vb + (va - vb) * divider_fraction(ra_ohm, rb_ohm), par2(ra_ohm, rb_ohm))
+            }
+        }
+    }
+
+    /// The node voltage when the device input draws `bias_a` (positive into the pin):
+    /// Vth − IB·Rth (DOMAIN §6: bias error = bias current × the node's Thevenin resistance).
+    pub fn node_v(&self, supply_v: f64, negative_rail_v: f64, bias_a: f64) -> f64 {
+        let (v, r) = self.thevenin(supply_v, negative_rail_v);
+        v - bias_a * r
+    }
+
+    /// Whether the reference is a divider (has resistors of the part list).
+    pub fn is_divider(&self) -> bool {
+        matches!(self, Reference::Divider { .. })
+    }
+
+    /// Number of parameter values this reference contributes (resistors and fixed rails).
+    pub(crate) fn parameter_count(&self) -> usize {
+        match self {
+            Reference::Direct { rail } => matches!(rail, Rail::Fixed(_)) as usize,
+            Reference::Divider { rail_a, rail_b, .. } => {
+                2 + matches!(rail_a, Rail::Fixed(_)) as usize + matches!(rail_b, Rail::Fixed(_)) as usize
+            }
+        }
+    }
+
+    /// Appends the divider resistors (designators from `seq`).
+    pub(crate) fn push_resistors(&self, seq: &mut Designators, out: &mut Vec<Parameter>) {
+        if let Reference::Divider { ra_ohm, rb_ohm, .. } = *self {
+            out.push(Parameter::resistor("ra_ohm", &seq.next_name(), "reference divider resistor to rail A", ra_ohm));
+            out.push(Parameter::resistor("rb_ohm", &seq.next_name(), "reference divider resistor to rail B", rb_ohm));
+        }
+    }
+
+    /// Appends the fixed rail voltages.
+    pub(crate) fn push_rails(&self, out: &mut Vec<Parameter>) {
+        match *self {
+            Reference::Direct { rail: Rail::Fixed(v) } => {
+                out.push(Parameter::quantity("reference_v", "reference voltage", v, ParameterKind::Reference))
+            }
+            Reference::Direct { .. } => {}
+            Reference::Divider { rail_a, rail_b, .. } => {
+                if let Rail::Fixed(v) = rail_a {
+                    out.push(Parameter::quantity("rail_a", "divider rail A", v, ParameterKind::Reference));
+                }
+                if let Rail::Fixed(v) = rail_b {
+                    out.push(Parameter::quantity("rail_b", "divider rail B", v, ParameterKind::Reference));
+                }
+            }
+        }
+    }
+
+    /// Replaces the divider resistors from `next`, in the order of [`Reference::push_resistors`].
+    pub(crate) fn take_resistors(&mut self, next: &mut dyn FnMut() -> f64) {
+        if let Reference::Divider { ra_ohm, rb_ohm, .. } = self {
+            *ra_ohm = next();
+            *rb_ohm = next();
+        }
+    }
+
+    /// Replaces the fixed rail voltages from `next`, in the order of [`Reference::push_rails`].
+    pub(crate) fn take_rails(&mut self, next: &mut dyn FnMut() -> f64) {
+        match self {
+            Reference::Direct { rail } => {
+                if let Rail::Fixed(_) = rail {
+                    *rail = Rail::Fixed(next());
+                }
+            }
+            Reference::Divider { rail_a, rail_b, .. } => {
+                if let Rail::Fixed(_) = rail_a {
+                    *rail_a = Rail::Fixed(next());
+                }
+                if let Rail::Fixed(_) = rail_b {
+                    *rail_b = Rail::Fixed(next());
+                }
+            }
+        }
+    }
+
+    /// The resistor drops and the current each rail sources, at node voltage `node_v`.
+    pub(crate) fn drops(
+        &self,
+        seq: &mut Designators,
+        supply_v: f64,
+        negative_rail_v: f64,
+        node_v: f64,
+    ) -> (Vec<ResistorDrop>, f64) {
+        match *self {
+            Reference::Direct { .. } => (Vec::new(), 0.0),
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+                let va = rail_a.volts(supply_v, negative_rail_v);
+                let vb = rail_b.volts(supply_v, negative_rail_v);
+                let ia = (va - node_v) / ra_ohm;
+                let ib = (vb - node_v) / rb_ohm;
+                (
+                    vec![
+                        ResistorDrop { designator: seq.next_name(), resistance_ohm: ra_ohm, volts: va - node_v },
+                        ResistorDrop { designator: seq.next_name(), resistance_ohm: rb_ohm, volts: node_v - vb },
+                    ],
+                    ia.max(0.0) + ib.max(0.0),
+                )
+            }
+        }
+    }
+
+    /// A reference of the same kind and rails whose node sits at `required_v` while the device
+    /// input draws `bias_a`. A direct reference must already be there; a divider keeps its total
+    /// Ra + Rb and solves N = VB + (VA−VB)·x − IB·Rt·x(1−x) for x = Rb/Rt in (0, 1) exactly
+    /// (a quadratic; numerically stable roots). `what` names the input in messages.
+    pub(crate) fn synthesise_for(
+        &self,
+        required_v: f64,
+        bias_a: f64,
+        supply_v: f64,
+        negative_rail_v: f64,
+        what: &str,
+    ) -> Result<Reference, DesignError> {
+        if !required_v.is_finite() {
+            return Err(DesignError::infeasible(
+                format!("the {what} would need a non-finite voltage"),
+                "check the targets and the device values",
+            ));
+        }
+        match *self {
+            Reference::Direct { rail } => {
+                let v = rail.volts(supply_v, negative_rail_v);
+                if (v - required_v).abs() > 1e-9 * v.abs().max(required_v.abs()).max(1.0) {
+                    return Err(DesignError::infeasible(
+                        format!("the {what} is tied directly to {v:.4} V but the targets need {required_v:.6} V there"),
+                        format!("set the reference to {required_v:.6} V, or make it with a divider (reference kind \"divider\")"),
+                    ));
+                }
+                Ok(*self)
+            }
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+                let va = rail_a.volts(supply_v, negative_rail_v);
+                let vb = rail_b.volts(supply_v, negative_rail_v);
+                let rt = ra_ohm + rb_ohm;
+                if !(rt.is_finite() && rt > 0.0) {
+                    return Err(DesignError::invalid("reference", "the divider total Ra + Rb must be a finite number above zero"));
+                }
+                let span = va - vb;
+                if span.abs() <= 1e-12 * va.abs().max(vb.abs()).max(1.0) {
+                    return Err(DesignError::infeasible(
+                        format!("the divider's two rails are both at {va:.4} V, so it cannot set the {what}"),
+                        "return Ra and Rb to different rails",
+                    ));
+                }
+                let a = bias_a * rt;
+                let x0 = (required_v - vb) / span;
+                let x = match pick_root(quadratic_roots(a, span - a, vb - required_v), x0, |x| x > 0.0 && x < 1.0) {
+                    Some(x) => x,
+                    None => {
+                        let (lo, hi) = if va < vb { (va, vb) } else { (vb, va) };
+                        return Err(DesignError::infeasible(
+                            format!(
+                                "the {what} would need {required_v:.4} V, which a divider between {lo:.4} V and {hi:.4} V cannot make (with the input bias current)"
+                            ),
+                            "move the targets so the reference falls between the divider's rails, or return the divider to other rails",
+                        ));
+                    }
+                };
+                let rb = x * rt;
+                let ra = rt - rb;
+                if !(ra > 0.0 && rb > 0.0) {
+                    return Err(DesignError::infeasible(
+                        format!("the {what} would need to sit on a divider rail ({required_v:.4} V)"),
+                        "use a direct reference (reference kind \"direct\") at that voltage",
+                    ));
+                }
+                Ok(Reference::Divider { ra_ohm: ra, rail_a, rb_ohm: rb, rail_b })
+            }
+        }
+    }
+
+    /// Divider current from rail A to rail B with no load, amperes (0 for a direct reference).
+    pub(crate) fn divider_current_a(&self, supply_v: f64, negative_rail_v: f64) -> f64 {
+        match *self {
+            Reference::Direct { .. } => 0.0,
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+                (rail_a.volts(supply_v, negative_rail_v) - rail_b.volts(supply_v, negative_rail_v)).abs() / (ra_ohm + rb_ohm)
+            }
+        }
+    }
+}
+
+/// Smallest and largest resistance a design may hold, ohms (1 µΩ to 1 PΩ): beyond any real part,
+/// and inside the range where every network equation here stays finite in double precision.
+pub const RESISTANCE_RANGE_OHM: (f64, f64) = (1e-6, 1e15);
+
+/// Checks a resistance: finite and within [`RESISTANCE_RANGE_OHM`].
+pub(crate) fn resistance(field: &str, value_ohm: f64) -> Result<f64, DesignError> {
+    let (lo, hi) = RESISTANCE_RANGE_OHM;
+    if value_ohm.is_finite() && (lo..=hi).contains(&value_ohm) {
+        Ok(value_ohm)
+    } else {
+        Err(DesignError::invalid(field, format!("must be a resistance between 1 µΩ and 1 PΩ (got {value_ohm})")))
+    }
+}
+
+/// Two resistances in parallel, ohms, without overflow for huge values.
+pub(crate) fn par2(a_ohm: f64, b_ohm: f64) -> f64 {
+    1.0 / (1.0 / a_ohm + 1.0 / b_ohm)
+}
+
+/// The fraction Rb/(Ra+Rb) of a divider, without overflow for huge values.
+pub(crate) fn divider_fraction(ra_ohm: f64, rb_ohm: f64) -> f64 {
+    1.0 / (1.0 + ra_ohm / rb_ohm)
+}
+
+/// The last step of every synthesis: the design must pass its own validation and reproduce the
+/// targets to 1e-9 (relative to the larger target, 1 mV floor); extreme anchors or targets that
+/// leave the floating-point range or lose that accuracy give a typed error instead of a bad design.
+pub(crate) fn verified<C: Circuit>(design: C, targets: Thresholds, anchor_ohm: f64) -> Result<C, DesignError> {
+    let unusable = |why: String| {
+        DesignError::infeasible(
+            format!("with the anchor at {anchor_ohm:.4e} Ω the targets need {why}"),
+            "choose an anchor resistance in the usual range (about 1 kΩ to 10 MΩ), or targets on the scale of the rails",
+        )
+    };
+    if let Err(e) = design.validate() {
+        return Err(unusable(format!("part values outside the usable range ({e})")));
+    }
+    let t = design.thresholds()?;
+    let scale = targets.vt_upper_v.abs().max(targets.vt_lower_v.abs()).max(1e-3);
+    let ok = |got: f64, want: f64| got.is_finite() && (got - want).abs() <= 1e-9 * scale;
+    if ok(t.vt_upper_v, targets.vt_upper_v) && ok(t.vt_lower_v, targets.vt_lower_v) {
+        Ok(design)
+    } else {
+        Err(unusable(format!(
+            "part ratios beyond double-precision accuracy (reached {:.9} V / {:.9} V)",
+            t.vt_upper_v, t.vt_lower_v
+        )))
+    }
+}
+
+/// Hands out designators R1, R2... in order over the fitted resistors.
+#[derive(Debug, Default)]
+pub(crate) struct Designators(u32);
+
+impl Designators {
+    /// The next designator.
+    pub(crate) fn next_name(&mut self) -> String {
+        self.0 += 1;
+        format!("R{}", self.0)
+    }
+}
+
+/// Real roots of a·x² + b·x + c = 0 without cancellation (q = −(b + sign(b)·√D)/2; roots q/a and
+/// c/q; Press et al., *Numerical Recipes*, §5.6, from memory). A vanishing `a` gives the linear root.
+pub(crate) fn quadratic_roots(a: f64, b: f64, c: f64) -> [Option<f64>; 2] {
+    let scale = a.abs().max(b.abs()).max(c.abs());
+    if !(scale.is_finite()) || scale == 0.0 {
+        return [None, None];
+    }
+    let (a, b, c) = (a / scale, b / scale, c / scale);
+    if a.abs() <= 1e-15 * b.abs() {
+        if b == 0.0 {
+            return [None, None];
+        }
+        return [Some(-c / b), None];
+    }
+    let d = b * b - 4.0 * a * c;
+    if d < 0.0 {
+        return [None, None];
+    }
+    let sq = d.sqrt();
+    let q = -0.5 * (b + if b >= 0.0 { sq } else { -sq });
+    if q == 0.0 {
+        return [Some(0.0), None];
+    }
+    [Some(q / a), Some(c / q)]
+}
+
+/// The root that satisfies `ok`; with two such roots, the one nearer `hint`.
+pub(crate) fn pick_root(roots: [Option<f64>; 2], hint: f64, ok: impl Fn(f64) -> bool) -> Option<f64> {
+    let good: Vec<f64> = roots.iter().flatten().copied().filter(|x| x.is_finite() && ok(*x)).collect();
+    match good.as_slice() {
+        [] => None,
+        [x] => Some(*x),
+        [x, y, ..] => Some(if (x - hint).abs() <= (y - hint).abs() || !hint.is_finite() { *x } else { *y }),
+    }
+}
+
+/// The input-referred switching point of a non-inverting stage: the input voltage at which node P
+/// (fed by R1s from the input and by S from an output Thevenin source `vx_v`, drawing IB+) reaches
+/// `p_v`. From KCL at P: Vin = P·(1 + R1s/S) − Vx·R1s/S + IB+·R1s (DOMAIN §1b, §1c).
+pub(crate) fn noninverting_switch_v(p_v: f64, vx_v: f64, r1s_ohm: f64, s_ohm: f64, ib_plus_a: f64) -> f64 {
+    let m = r1s_ohm / s_ohm;
+    p_v * (1.0 + m) - vx_v * m + ib_plus_a * r1s_ohm
+}
+
+/// A non-inverting Schmitt trigger: input resistor R1, feedback R2, reference on the inverting input.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct NonInvertingSchmitt {
+    /// Input resistor R1 from the signal to the non-inverting input (node P), ohms.
+    pub r1_ohm: f64,
+    /// Feedback resistor R2 from the output to node P, ohms.
+    pub r2_ohm: f64,
+    /// What sets the inverting input: a rail directly, or a divider.
+    pub reference: Reference,
+    /// The comparator or op-amp (push-pull output).
+    pub device: Comparator,
+}
+
+impl NonInvertingSchmitt {
+    /// The usual single-supply form: R1, R2 and a reference divider from the supply to ground.
+    pub fn with_divider(r1_ohm: f64, r2_ohm: f64, ra_ohm: f64, rb_ohm: f64, device: Comparator) -> Self {
+        NonInvertingSchmitt { r1_ohm, r2_ohm, reference: Reference::divider(ra_ohm, rb_ohm), device }
+    }
+
+    /// R1 and R2 with the inverting input tied to a fixed reference of `reference_v`.
+    pub fn with_fixed_reference(r1_ohm: f64, r2_ohm: f64, reference_v: f64, device: Comparator) -> Self {
+        NonInvertingSchmitt { r1_ohm, r2_ohm, reference: Reference::fixed(reference_v), device }
+    }
+
+    /// R1 + Rs: the input resistor plus the source resistance, ohms.
+    fn r1s(&self) -> f64 {
+        self.r1_ohm + self.device.source_resistance_ohm
+    }
+
+    /// The inverting-input node N = Vth,ref − IB−·Rref.
+    fn node_n(&self) -> f64 {
+        self.reference.node_v(self.device.supply_v, self.device.negative_rail_v, self.device.bias_minus_applied_a())
+    }
+
+    /// Output level in a state.
+    fn vo(&self, high: bool) -> f64 {
+        if high { self.device.output_high_v() } else { self.device.output_low_v() }
+    }
+
+    /// Node P for input `vin_v` and output `vo_v`: P = (Vin/R1s + VO/R2 − IB+)·(R1s‖R2).
+    fn node_p(&self, vin_v: f64, vo_v: f64) -> f64 {
+        let r1s = self.r1s();
+        (vin_v / r1s + vo_v / self.r2_ohm - self.device.bias_plus_applied_a()) / (1.0 / r1s + 1.0 / self.r2_ohm)
+    }
+}
+
+impl Circuit for NonInvertingSchmitt {
+    fn validate(&self) -> Result<(), DesignError> {
+        self.device.validate()?;
+        resistance("r1_ohm", self.r1_ohm)?;
+        resistance("r2_ohm", self.r2_ohm)?;
+        self.reference.validate()
+    }
+
+    fn thresholds(&self) -> Result<Thresholds, DesignError> {
+        let n = self.node_n();
+        let (r1s, ibp) = (self.r1s(), self.device.bias_plus_applied_a());
+        // Output low while the input is below VT+; output high while above VT−.
+        let up = noninverting_switch_v(n + self.device.switching_offset_v(false), self.vo(false), r1s, self.r2_ohm, ibp);
+        let lo = noninverting_switch_v(n + self.device.switching_offset_v(true), self.vo(true), r1s, self.r2_ohm, ibp);
+        Ok(Thresholds { vt_upper_v: up, vt_lower_v: lo })
+    }
+
+    fn output_levels(&self) -> Result<(f64, f64), DesignError> {
+        Ok((self.device.output_high_v(), self.device.output_low_v()))
+    }
+
+    fn sense(&self) -> Sense {
+        Sense::NonInverting
+    }
+
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
+        let vo = self.vo(state == OutputState::High);
+        let p = self.node_p(vin_v, vo);
+        let n = self.node_n();
+        let r1s = self.r1s();
+        let i_in = (vin_v - p) / r1s;
+        let i_fb = (vo - p) / self.r2_ohm;
+        let mut seq = Designators::default();
+        let mut resistors = vec![
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.r1_ohm, volts: i_in * self.r1_ohm },
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.r2_ohm, volts: vo - p },
+        ];
+        let (drops, i_ref) = self.reference.drops(&mut seq, self.device.supply_v, self.device.negative_rail_v, n);
+        resistors.extend(drops);
+        Ok(OperatingPoint {
+            resistors,
+            input_current_a: i_in,
+            // Current sourced by the rails: the reference divider and the output feeding R2.
+            network_current_a: i_ref + i_fb.abs(),
+            device_inputs: vec![
+                NodeVoltage { name: "non-inverting input (node P)".into(), volts: p },
+                NodeVoltage { name: "inverting input (reference)".into(), volts: n },
+            ],
+        })
+    }
+
+    fn parameters(&self) -> Vec<Parameter> {
+        let mut seq = Designators::default();
+        let mut v = vec![
+            Parameter::resistor("r1_ohm", &seq.next_name(), "input resistor", self.r1_ohm),
+            Parameter::resistor("r2_ohm", &seq.next_name(), "feedback resistor", self.r2_ohm),
+        ];
+        self.reference.push_resistors(&mut seq, &mut v);
+        let d = &self.device;
+        v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
+        self.reference.push_rails(&mut v);
+        push_device_parameters(d, self.reference.is_divider(), &mut v);
+        v
+    }
+
+    fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let n = 2 + 2 + self.reference.parameter_count() + device_parameter_count(self.reference.is_divider());
+        expect_len(values, n)?;
+        let mut it = values.iter().copied();
+        let mut next = || it.next().unwrap_or(f64::NAN);
+        let mut c = self.clone();
+        c.r1_ohm = next();
+        c.r2_ohm = next();
+        c.reference.take_resistors(&mut next);
+        c.device.supply_v = next();
+        c.device.negative_rail_v = next();
+        c.reference.take_rails(&mut next);
+        take_device_parameters(&mut c.device, self.reference.is_divider(), &mut next);
+        Ok(c)
+    }
+
+    /// DOMAIN §1b synthesis, extended to invert offset, bias and built-in hysteresis exactly:
+    /// m = (ΔV − h)/(VOH − VOL + h), R1 = m·R2 − Rs,
+    /// N = (VT+ − IB+·R1s + m·VOL)/(1+m) − VOS − h/2, then the reference is set to N.
+    fn synthesise_with_anchor(&self, targets: Thresholds, r2_ohm: f64) -> Result<Self, DesignError> {
+        self.device.validate()?;
+        self.reference.validate()?;
+        resistance("anchor_ohm", r2_ohm)?;
+        let d = &self.device;
+        let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
+        if !(up.is_finite() && lo.is_finite()) {
+            return Err(DesignError::invalid("targets", "VT+ and VT− must be finite numbers"));
+        }
+        if up <= lo {
+            return Err(DesignError::infeasible(
+                format!("VT+ ({up:.4} V) must be above VT− ({lo:.4} V)"),
+                "swap the targets or use a plain comparator for a single threshold",
+            ));
+        }
+        let off_l = d.switching_offset_v(false);
+        let h = off_l - d.switching_offset_v(true);
+        let (voh, vol) = (d.output_high_v(), d.output_low_v());
+        let m = (up - lo - h) / (voh - vol + h);
+        if m.is_nan() || m <= 0.0 {
+            return Err(DesignError::infeasible(
+                format!("the device's built-in hysteresis ({:.4} V) already covers the requested width ({:.4} V)", h, up - lo),
+                "ask for a wider hysteresis or use a device without built-in hysteresis",
+            ));
+        }
+        let r1s = m * r2_ohm;
+        let r1 = r1s - d.source_resistance_ohm;
+        if r1.is_nan() || r1 <= 0.0 {
+            return Err(DesignError::infeasible(
+                format!(
+                    "the input resistance the targets need (m·R2 = {:.1} Ω) is not above the source resistance ({:.1} Ω)",
+                    r1s, d.source_resistance_ohm
+                ),
+                "raise the anchor R2 or lower the source resistance",
+            ));
+        }
+        let n = (up - d.bias_plus_applied_a() * r1s + m * vol) / (1.0 + m) - off_l;
+        let (cm_lo, cm_hi) = (d.input_min_v(), d.input_max_v());
+        let tol = 1e-9 * n.abs().max(1.0);
+        if n < cm_lo - tol || n > cm_hi + tol {
+            return Err(DesignError::infeasible(
+                format!("the reference would need to sit at {n:.4} V, outside the device's input range ({cm_lo:.4} V to {cm_hi:.4} V)"),
+                "move the targets' centre, or use a device whose inputs reach that voltage",
+            ));
+        }
+        let reference =
+            self.reference.synthesise_for(n, d.bias_minus_applied_a(), d.supply_v, d.negative_rail_v, "inverting input (reference)")?;
+        verified(NonInvertingSchmitt { r1_ohm: r1, r2_ohm, reference, device: self.device }, targets, r2_ohm)
+    }
+
+    fn anchor_description(&self) -> &'static str {
+        "feedback resistor R2 (output to the non-inverting input); a reference divider keeps its total Ra + Rb"
+    }
+
+    fn supply_v(&self) -> f64 {
+        self.device.supply_v
+    }
+
+    fn with_supply(&self, supply_v: f64) -> Self {
+        let mut c = self.clone();
+        c.device.supply_v = supply_v;
+        c
+    }
+
+    fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
+        let mut w = Vec::new();
+        let d = &self.device;
+        let m = self.r1s() / self.r2_ohm;
+        let (vref, rref) = self.reference.thevenin(d.supply_v, d.negative_rail_v);
+        // Bias error: IB+·R1s plus IB−·Rref scaled by (1+m) (DOMAIN §1b).
+        let bias_err = d.bias_plus_applied_a().abs() * self.r1s() + d.bias_minus_applied_a().abs() * rref * (1.0 + m);
+        // Resistor-tolerance error of VT+ (DOMAIN §2, sensitivities b): |∂VT/∂R1|·R1 = |∂VT/∂R2|·R2 = m|Vref − VOL|,
+        // through the divider (1+m)·|VA − VB|·Ra·Rb/(Ra+Rb)² for each of Ra and Rb.
+        let mut tol_err = 2.0 * m * (vref - d.output_low_v()).abs();
+        if let Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } = self.reference {
+            let span = (rail_a.volts(d.supply_v, d.negative_rail_v) - rail_b.volts(d.supply_v, d.negative_rail_v)).abs();
+            let x = divider_fraction(ra_ohm, rb_ohm);
+            tol_err += 2.0 * (1.0 + m) * span * x * (1.0 - x);
+        }
+        tol_err *= settings.resistor_tolerance;
+        if bias_err > 0.0 && bias_err > settings.bias_error_fraction * tol_err {
+            w.push(Warning::new(
+                WarningCode::BiasCurrentError,
+                format!(
+                    "bias-current error {:.2} mV (IB+ × (R1+Rs) and IB− × reference resistance × (1+R1/R2)) exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
+                    bias_err * 1e3,
+                    settings.bias_error_fraction * 100.0,
+                    tol_err * 1e3
+                ),
+            ));
+        }
+        divider_current_check(&self.reference, d, settings, d.bias_minus_applied_a(), &mut w);
+        w
+    }
+
+    fn device_input_range(&self) -> (f64, f64) {
+        (self.device.input_min_v(), self.device.input_max_v())
+    }
+
+    fn negative_rail_v(&self) -> f64 {
+        self.device.negative_rail_v
+    }
+}
+
+/// Number of device parameters [`push_device_parameters`] appends.
+pub(crate) fn device_parameter_count(with_bias_minus: bool) -> usize {
+    5 + with_bias_minus as usize
+}
+
+/// Appends the device quantities in a fixed order: VCC − VOH, VOL − VEE, VOS, IB+, [IB−], h.
+pub(crate) fn push_device_parameters(d: &Comparator, with_bias_minus: bool, v: &mut Vec<Parameter>) {
+    v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
+    v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
+    v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
+    v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
+    if with_bias_minus {
+        v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
+    }
+    v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Offset));
+}
+
+/// Reads the device quantities back in the order of [`push_device_parameters`].
+pub(crate) fn take_device_parameters(d: &mut Comparator, with_bias_minus: bool, next: &mut dyn FnMut() -> f64) {
+    d.output_high_drop_v = next();
+    d.output_low_rise_v = next();
+    d.offset_v = next();
+    d.bias_plus_a = next();
+    if with_bias_minus {
+        d.bias_minus_a = next();
+    }
+    d.builtin_hysteresis_v = next();
+}
+
+/// DOMAIN §6: keep the divider current 20–100× the input current it feeds (common practice).
+pub(crate) fn divider_current_check(
+    reference: &Reference,
+    d: &Comparator,
+    settings: &CheckSettings,
+    bias_a: f64,
+    w: &mut Vec<Warning>,
+) {
+    let i_div = reference.divider_current_a(d.supply_v, d.negative_rail_v);
+    let ib = bias_a.abs();
+    if reference.is_divider() && ib > 0.0 && i_div < settings.divider_current_ratio * ib {
+        w.push(Warning::new(
+            WarningCode::DividerCurrentLow,
+            format!(
+                "reference divider current {:.3} µA is less than {:.0}× the input bias current {:.3} µA (common practice: 20–100×): lower Ra and Rb",
+                i_div * 1e6,
+                settings.divider_current_ratio,
+                ib * 1e6
+            ),
+        ));
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::{ImpedanceChoice, Targets};
+    use crate::topology::{analyse, synthesise};
+
+    fn real_device() -> Comparator {
+        Comparator {
+            supply_v: 5.0,
+            output_high_drop_v: 0.08,
+            output_low_rise_v: 0.04,
+            offset_v: 0.003,
+            bias_plus_a: 40e-9,
+            bias_minus_a: 25e-9,
+            builtin_hysteresis_v: 0.006,
+            source_resistance_ohm: 1.5e3,
+            ..Comparator::default()
+        }
+    }
+
+    #[test]
+    fn ideal_closed_form() {
+        // Sedra & Smith bistable section (from memory), DOMAIN §1b: VT+ = Vref(1+m) − m·VOL,
+        // VT− = Vref(1+m) − m·VOH, m = R1/R2. 5 V rail to rail, Vref = 2.5 V, m = 0.1: 2.75 V and 2.25 V.
+        let c = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 2.5, Comparator::ideal(5.0));
+        let t = c.thresholds().unwrap();
+        assert!((t.vt_upper_v - 2.75).abs() < 1e-12);
+        assert!((t.vt_lower_v - 2.25).abs() < 1e-12);
+        assert_eq!(c.sense(), Sense::NonInverting);
+    }
+
+    #[test]
+    fn width_may_exceed_the_swing() {
+        // DOMAIN §1b: ΔV = m(VOH − VOL), which exceeds the swing for m > 1.
+        let c = NonInvertingSchmitt::with_fixed_reference(30e3, 10e3, 2.5, Comparator::ideal(5.0));
+        let t = c.thresholds().unwrap();
+        assert!((t.hysteresis_v() - 15.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn divider_reference_and_errors() {
+        // DOMAIN §1b errors: R1 → R1+Rs; Vref → Vref − IB−·Rref + VOS; add IB+·(R1+Rs); h adds h(1+m).
+        let d = real_device();
+        let c = NonInvertingSchmitt::with_divider(10e3, 100e3, 30e3, 20e3, d);
+        let t = c.thresholds().unwrap();
+        let r1s = 10e3 + 1.5e3;
+        let m = r1s / 100e3;
+        let rref = 30e3 * 20e3 / 50e3;
+        let vref = 5.0 * 20e3 / 50e3 - 25e-9 * rref + 0.003;
+        let up = (vref + 0.003) * (1.0 + m) - m * 0.04 + 40e-9 * r1s;
+        let lo = (vref - 0.003) * (1.0 + m) - m * 4.92 + 40e-9 * r1s;
+        assert!((t.vt_upper_v - up).abs() < 1e-12, "{} {}", t.vt_upper_v, up);
+        assert!((t.vt_lower_v - lo).abs() < 1e-12);
+        assert!((t.hysteresis_v() - (m * (4.92 - 0.04) + 0.006 * (1.0 + m))).abs() < 1e-12);
+    }
+
+    #[test]
+    fn synthesis_round_trip_with_nonidealities_keeps_divider_total() {
+        let template = NonInvertingSchmitt::with_divider(1.0, 1.0, 60e3, 40e3, real_device());
+        let targets = Targets { vt_upper_v: 2.9, vt_lower_v: 1.7, impedance: ImpedanceChoice::AnchorOhm(220e3) };
+        let d = synthesise(&template, &targets).unwrap();
+        let t = d.thresholds().unwrap();
+        assert!((t.vt_upper_v - 2.9).abs() < 1e-9 * 2.9);
+        assert!((t.vt_lower_v - 1.7).abs() < 1e-9 * 1.7);
+        assert_eq!(d.r2_ohm, 220e3);
+        match d.reference {
+            Reference::Divider { ra_ohm, rb_ohm, .. } => assert!((ra_ohm + rb_ohm - 100e3).abs() < 1e-6),
+            _ => panic!("reference kind changed"),
+        }
+    }
+
+    #[test]
+    fn direct_reference_needs_the_right_voltage() {
+        let template = NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
+        // Centred on 2.5 V with rail outputs: Vref = 2.5 V works (DOMAIN §1b synthesis).
+        let ok = template.synthesise_with_anchor(Thresholds { vt_upper_v: 2.75, vt_lower_v: 2.25 }, 100e3).unwrap();
+        assert!((ok.r1_ohm - 10e3).abs() < 1e-6);
+        let e = template.synthesise_with_anchor(Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.8 }, 100e3).unwrap_err();
+        match e {
+            DesignError::Infeasible { reason, suggestion } => {
+                assert!(reason.contains("tied directly"));
+                assert!(suggestion.contains("divider"));
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn infeasible_targets_are_typed() {
+        let template = NonInvertingSchmitt::with_divider(1.0, 1.0, 50e3, 50e3, real_device());
+        let e = |up: f64, lo: f64| template.synthesise_with_anchor(Thresholds { vt_upper_v: up, vt_lower_v: lo }, 1e5).unwrap_err();
+        assert!(matches!(e(1.0, 2.0), DesignError::Infeasible { .. }));
+        // Narrower than the built-in hysteresis.
+        assert!(matches!(e(2.502, 2.5), DesignError::Infeasible { .. }));
+        // Reference above the supply.
+        assert!(matches!(e(9.0, 8.5), DesignError::Infeasible { .. }));
+        // Source resistance larger than the input resistor needed.
+        let mut d = real_device();
+        d.source_resistance_ohm = 1e6;
+        let t2 = NonInvertingSchmitt::with_divider(1.0, 1.0, 50e3, 50e3, d);
+        let e2 = t2.synthesise_with_anchor(Thresholds { vt_upper_v: 2.6, vt_lower_v: 2.4 }, 1e5).unwrap_err();
+        assert!(e2.to_string().contains("source resistance"), "{e2}");
+    }
+
+    #[test]
+    fn input_current_flows_through_r1() {
+        // DOMAIN §1b: the source supplies (Vin − VO)/(R1+R2) (no bias current, Rs = 0).
+        let c = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 2.5, Comparator::ideal(5.0));
+        let op = c.operating_point(1.0, OutputState::High).unwrap();
+        assert!((op.input_current_a - (1.0 - 5.0) / 110e3).abs() < 1e-15);
+        let a = analyse(&c, &CheckSettings::default()).unwrap();
+        assert!((a.input_resistance_ohm.unwrap() - 110e3).abs() < 1e-3);
+    }
+
+    #[test]
+    fn invalid_parts_are_typed_errors() {
+        let mut c = NonInvertingSchmitt::with_divider(10e3, 0.0, 10e3, 10e3, Comparator::ideal(5.0));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        c.r2_ohm = 1e3;
+        c.reference = Reference::Divider { ra_ohm: f64::NAN, rail_a: Rail::Supply, rb_ohm: 1e3, rail_b: Rail::Ground };
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        c.reference = Reference::Direct { rail: Rail::Fixed(f64::INFINITY) };
+        assert!(c.validate().is_err());
+    }
+
+    #[test]
+    fn parameters_round_trip() {
+        let c = NonInvertingSchmitt {
+            reference: Reference::Divider { ra_ohm: 30e3, rail_a: Rail::Fixed(3.3), rb_ohm: 20e3, rail_b: Rail::Ground },
+            ..NonInvertingSchmitt::with_divider(10e3, 100e3, 1.0, 1.0, real_device())
+        };
+        let p = c.parameters();
+        let names: Vec<_> = p.iter().filter_map(|p| p.designator.clone()).collect();
+        assert_eq!(names, ["R1", "R2", "R3", "R4"]);
+        let v: Vec<f64> = p.iter().map(|p| p.value).collect();
+        assert_eq!(c.with_parameters(&v).unwrap(), c);
+        assert!(c.with_parameters(&v[1..]).is_err());
+        let direct = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, real_device());
+        let v: Vec<f64> = direct.parameters().iter().map(|p| p.value).collect();
+        assert_eq!(direct.with_parameters(&v).unwrap(), direct);
+    }
+
+    #[test]
+    fn out_of_range_parts_are_refused() {
+        let c = NonInvertingSchmitt::with_fixed_reference(1e16, 1e5, 2.5, Comparator::ideal(5.0));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        let template = NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
+        let t = Thresholds { vt_upper_v: 2.75, vt_lower_v: 2.25 };
+        assert!(matches!(template.synthesise_with_anchor(t, 1e300), Err(DesignError::InvalidValue { .. })));
+        // A valid anchor of 1 µΩ needs R1 = 0.1 µΩ, below the smallest resistance: refused by the final check.
+        let e = template.synthesise_with_anchor(t, 1e-6).unwrap_err();
+        assert!(matches!(e, DesignError::Infeasible { .. }), "{e}");
+    }
+
+    #[test]
+    fn json_shape() {
+        let c = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 2.5, Comparator::ideal(5.0));
+        let v = serde_json::to_value(&c).unwrap();
+        assert_eq!(v["reference"], serde_json::json!({"kind": "direct", "rail": {"fixed": 2.5}}));
+        let back: NonInvertingSchmitt = serde_json::from_value(v).unwrap();
+        assert_eq!(back, c);
+        let d: Reference = serde_json::from_str(r#"{"kind":"divider","ra_ohm":1e4,"rail_a":"supply","rb_ohm":2e4,"rail_b":"ground"}"#).unwrap();
+        assert_eq!(d, Reference::divider(1e4, 2e4));
+    }
+
+    #[test]
+    fn quadratic_roots_are_stable() {
+        // x² − 1e8·x + 1 = 0: the small root 1e-8 is lost by the textbook formula.
+        let r = quadratic_roots(1.0, -1e8, 1.0);
+        let small = r.iter().flatten().copied().fold(f64::INFINITY, f64::min);
+        assert!((small - 1e-8).abs() < 1e-20);
+        assert_eq!(quadratic_roots(0.0, 0.0, 0.0), [None, None]);
+        assert_eq!(quadratic_roots(1.0, 0.0, 1.0), [None, None]);
+        assert_eq!(quadratic_roots(0.0, 2.0, -1.0)[0], Some(0.5));
+    }
+}
