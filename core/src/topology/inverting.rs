@@ -17,7 +17,8 @@ use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
-use crate::error::{positive, DesignError};
+use super::noninverting::{resistance, verified};
+use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 /// An inverting Schmitt trigger with an optional two-resistor reference divider.
@@ -92,12 +93,12 @@ impl Circuit for InvertingSchmitt {
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         if let Some(r) = self.ra_ohm {
-            positive("ra_ohm", r)?;
+            resistance("ra_ohm", r)?;
         }
         if let Some(r) = self.rb_ohm {
-            positive("rb_ohm", r)?;
+            resistance("rb_ohm", r)?;
         }
-        positive("rf_ohm", self.rf_ohm)?;
+        resistance("rf_ohm", self.rf_ohm)?;
         self.rail_a.validate("rail_a")?;
         self.rail_b.validate("rail_b")?;
         if self.ra_ohm.is_none() && self.rb_ohm.is_none() {
@@ -180,6 +181,7 @@ impl Circuit for InvertingSchmitt {
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
+        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, ParameterKind::Offset));
         v
     }
 
@@ -190,7 +192,7 @@ impl Circuit for InvertingSchmitt {
             + 2
             + matches!(self.rail_a, Rail::Fixed(_)) as usize
             + matches!(self.rail_b, Rail::Fixed(_)) as usize
-            + 5;
+            + 6;
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
@@ -215,6 +217,7 @@ impl Circuit for InvertingSchmitt {
         c.device.offset_v = next();
         c.device.bias_plus_a = next();
         c.device.bias_minus_a = next();
+        c.device.builtin_hysteresis_v = next();
         Ok(c)
     }
 
@@ -234,7 +237,7 @@ impl Circuit for InvertingSchmitt {
             ));
         }
         let k = (p_hi - p_lo) / (voh - vol);
-        if k <= 0.0 {
+        if k.is_nan() || k <= 0.0 {
             return Err(DesignError::infeasible(
                 "the device's built-in hysteresis already exceeds the requested width",
                 "ask for a wider hysteresis or use a device without built-in hysteresis",
@@ -302,7 +305,7 @@ impl Circuit for InvertingSchmitt {
                 }
             }
         }
-        Ok(out)
+        verified(out, targets, rf_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {
