@@ -15,6 +15,7 @@
 #![deny(missing_docs)]
 
 pub mod analysis;
+pub mod catalog;
 pub mod device;
 pub mod error;
 pub mod evaluate;

@@ -32,15 +32,16 @@ pub fn DesignEditor() -> impl IntoView {
             <div class="field">
                 <label for="design-name">"Name"</label>
                 <input id="design-name" type="text" prop:value=name
-                    on:change=move |ev| { let v = event_target_value(&ev); nb.edit(|r| r.name = v); } />
+                    on:change=move |ev| { let v = event_target_value(&ev); nb.edit_keyed("name", |r| r.name = v); } />
             </div>
             <div class="field-grid">
                 {move || fields.get().into_iter().enumerate().map(|(i, (id, designator, label, kind))| {
                     let value = Signal::derive(move || {
                         nb.with_current(|r| r.circuit.parameters().get(i).map(|p| p.value).unwrap_or(f64::NAN)).unwrap_or(f64::NAN)
                     });
+                    let key = format!("param-{i}");
                     let on_value = Callback::new(move |v: f64| {
-                        nb.edit(|r| {
+                        nb.edit_keyed(&key, |r| {
                             let mut values: Vec<f64> = r.circuit.parameters().iter().map(|p| p.value).collect();
                             if i < values.len() {
                                 values[i] = v;

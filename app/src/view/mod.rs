@@ -3,6 +3,7 @@
 mod editor;
 mod notebook;
 mod results;
+mod starters;
 pub mod state;
 
 use leptos::prelude::*;
@@ -13,6 +14,28 @@ use state::Notebook;
 pub fn App() -> impl IntoView {
     let nb = Notebook::load();
     provide_context(nb);
+    // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) step the open design's edits back and forward.
+    let keys = window_event_listener(leptos::ev::keydown, move |ev| {
+        let ctrl = ev.ctrl_key() || ev.meta_key();
+        let key = ev.key().to_lowercase();
+        if ctrl && key == "z" && !ev.shift_key() {
+            ev.prevent_default();
+            nb.undo();
+        } else if ctrl && ((key == "z" && ev.shift_key()) || key == "y") {
+            ev.prevent_default();
+            nb.redo();
+        }
+    });
+    // Another tab saved or deleted a design: take the change in instead of overwriting it later.
+    let storage = window_event_listener(leptos::ev::storage, move |ev| {
+        if let Some(key) = ev.key() {
+            nb.external_change(&key, ev.new_value());
+        }
+    });
+    on_cleanup(move || {
+        keys.remove();
+        storage.remove();
+    });
     view! {
         <header class="top">
             <h1><span class="mark" aria-hidden="true"></span>"Hysteron"</h1>

@@ -1,38 +1,66 @@
-//! The notebook list: saved designs, new design.
+//! The notebook list: saved designs, search, new, duplicate, delete with undo.
 
 use super::state::{blank_record, Notebook};
 use leptos::prelude::*;
 
-/// The list of saved designs with a button for a new one.
+/// The list of saved designs.
 #[component]
 pub fn NotebookList() -> impl IntoView {
     let nb = expect_context::<Notebook>();
+    let shown = Memo::new(move |_| {
+        let f = nb.filter.get().to_lowercase();
+        nb.entries.with(|es| {
+            es.iter()
+                .filter(|e| f.is_empty() || e.record.name.to_lowercase().contains(&f))
+                .map(|e| {
+                    let summary = e
+                        .snapshot
+                        .as_ref()
+                        .map(|s| format!("VT+ {:.3} V · VT− {:.3} V", s.vt_upper_v, s.vt_lower_v))
+                        .unwrap_or_else(|| "no result".into());
+                    (e.id.clone(), e.record.name.clone(), e.record.circuit.name().to_string(), summary, e.saved_at_ms)
+                })
+                .collect::<Vec<_>>()
+        })
+    });
     view! {
-        <nav class="notebook" aria-label="Saved designs">
+        <nav class="notebook" aria-label="Notebook of saved designs">
             <div class="notebook-head">
                 <h2>"Notebook"</h2>
                 <button id="new-design" on:click=move |_| { nb.add(blank_record()); }>"New design"</button>
             </div>
-            <ul class="design-list">
-                <For
-                    each=move || nb.entries.get()
-                    key=|e| (e.id.clone(), e.revision)
-                    let:entry
-                >
+            <super::starters::StarterPicker />
+            <div class="field">
+                <label for="notebook-filter">"Find by name"</label>
+                <input id="notebook-filter" type="search" prop:value=move || nb.filter.get()
+                    on:input=move |ev| nb.filter.set(event_target_value(&ev)) />
+            </div>
+            {move || nb.deleted.get().map(|(e, _)| view! {
+                <div class="undo-bar" role="status">
+                    "Deleted “" {e.record.name.clone()} "”. "
+                    <button id="undo-delete" class="quiet" on:click=move |_| nb.undo_delete()>"Undo"</button>
+                </div>
+            })}
+            <ul class="design-list" id="design-list">
+                <For each=move || shown.get() key=|row| (row.0.clone(), row.1.clone(), row.3.clone(), row.4.to_bits()) let:row>
                     {
-                        let id = entry.id.clone();
-                        let id2 = id.clone();
-                        let summary = entry
-                            .snapshot
-                            .as_ref()
-                            .map(|s| format!("{:.3} V / {:.3} V", s.vt_upper_v, s.vt_lower_v))
-                            .unwrap_or_else(|| "no result".into());
+                        let (id, name, topology, summary, saved) = row;
+                        let (id_open, id_dup, id_del, id_cls) = (id.clone(), id.clone(), id.clone(), id.clone());
+                        let when = js_sys::Date::new(&wasm_bindgen::JsValue::from_f64(saved)).to_locale_string("en-GB", &wasm_bindgen::JsValue::UNDEFINED);
+                        let label = name.clone();
                         view! {
-                            <li class:open=move || nb.current.get().as_deref() == Some(id.as_str())>
-                                <button class="design-pick" on:click=move |_| nb.current.set(Some(id2.clone()))>
-                                    <span class="design-name">{entry.record.name.clone()}</span>
-                                    <span class="design-meta">{entry.record.circuit.name()} " · " {summary}</span>
+                            <li class="design-item" class:open=move || nb.current.get().as_deref() == Some(id_cls.as_str()) data-id=id.clone()>
+                                <button class="design-pick" on:click=move |_| nb.open(&id_open)>
+                                    <span class="design-name">{name}</span>
+                                    <span class="design-meta">{topology} " · " {summary}</span>
+                                    <span class="design-meta">"edited " {String::from(when)}</span>
                                 </button>
+                                <span class="design-actions">
+                                    <button class="quiet small dup" title="Duplicate" aria-label=format!("Duplicate {label}")
+                                        on:click=move |_| nb.duplicate(&id_dup)>"Copy"</button>
+                                    <button class="quiet small del" title="Delete" aria-label=format!("Delete {label}")
+                                        on:click=move |_| nb.delete(&id_del)>"Delete"</button>
+                                </span>
                             </li>
                         }
                     }
@@ -41,8 +69,8 @@ pub fn NotebookList() -> impl IntoView {
             {move || {
                 let aside = nb.set_aside.get();
                 (!aside.is_empty()).then(|| view! {
-                    <div class="set-aside" role="status">
-                        <h3>"Set aside"</h3>
+                    <div class="set-aside" role="status" id="set-aside">
+                        <h3>"Set aside (kept untouched in storage)"</h3>
                         <ul>{aside.into_iter().map(|a| view! { <li><code>{a.key}</code>": "{a.message}</li> }).collect_view()}</ul>
                     </div>
                 })

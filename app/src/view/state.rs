@@ -19,6 +19,33 @@ pub struct Notebook {
     pub banner: RwSignal<Option<String>>,
     /// False when storage is unavailable: the page works in memory.
     pub persistent: RwSignal<bool>,
+    /// Undo and redo stacks of the open design's records.
+    pub history: RwSignal<History>,
+    /// The last deleted design and its position, for undo.
+    pub deleted: RwSignal<Option<(Entry, usize)>>,
+    /// Text filter of the notebook list.
+    pub filter: RwSignal<String>,
+}
+
+/// Undo/redo history of one design. Edits closer together than [`History::MERGE_MS`] on the same
+/// field merge into one step, so typing "4k7" is one undo step, not three.
+#[derive(Debug, Clone, Default)]
+pub struct History {
+    /// Id of the design this history belongs to.
+    pub id: String,
+    /// Earlier states, newest last.
+    pub undo: Vec<DesignRecord>,
+    /// States undone, newest last.
+    pub redo: Vec<DesignRecord>,
+    last_key: String,
+    last_ms: f64,
+}
+
+impl History {
+    /// Edits within this many milliseconds on the same field merge into one undo step.
+    pub const MERGE_MS: f64 = 800.0;
+    /// The most steps kept.
+    pub const LIMIT: usize = 200;
 }
 
 /// Milliseconds since the Unix epoch.
@@ -75,6 +102,9 @@ impl Notebook {
             set_aside: RwSignal::new(loaded.set_aside),
             banner: RwSignal::new(banner),
             persistent: RwSignal::new(loaded.unavailable.is_none()),
+            history: RwSignal::new(History::default()),
+            deleted: RwSignal::new(None),
+            filter: RwSignal::new(String::new()),
         };
         if nb.entries.with_untracked(|e| e.is_empty()) {
             nb.add(blank_record());
@@ -98,17 +128,182 @@ impl Notebook {
         id
     }
 
-    /// Applies an edit to the open design, recomputes its snapshot and saves it.
+    /// Applies an edit to the open design, records it for undo, recomputes its snapshot and saves it.
+    /// `key` names what was edited, so that quick successive edits of one field merge into one step.
+    pub fn edit_keyed(&self, key: &str, f: impl FnOnce(&mut DesignRecord)) {
+        let Some(id) = self.current.get_untracked() else { return };
+        let Some(before) = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
+        else {
+            return;
+        };
+        let mut after = before.clone();
+        f(&mut after);
+        if after == before {
+            return;
+        }
+        self.history.update(|h| {
+            if h.id != id {
+                *h = History { id: id.clone(), ..History::default() };
+            }
+            let now = now_ms();
+            let merge = !key.is_empty() && h.last_key == key && now - h.last_ms < History::MERGE_MS && !h.undo.is_empty();
+            if !merge {
+                h.undo.push(before);
+                if h.undo.len() > History::LIMIT {
+                    h.undo.remove(0);
+                }
+            }
+            h.redo.clear();
+            h.last_key = key.to_string();
+            h.last_ms = now;
+        });
+        self.replace_current(after);
+    }
+
+    /// Applies an edit that never merges with the previous one.
     pub fn edit(&self, f: impl FnOnce(&mut DesignRecord)) {
+        self.edit_keyed("", f)
+    }
+
+    fn replace_current(&self, record: DesignRecord) {
         let Some(id) = self.current.get_untracked() else { return };
         self.entries.update(|es| {
             if let Some(e) = es.iter_mut().find(|e| e.id == id) {
-                f(&mut e.record);
-                e.snapshot = snapshot_of(&e.record);
+                e.snapshot = snapshot_of(&record);
+                e.record = record;
                 e.saved_at_ms = now_ms();
             }
         });
         self.persist(&id);
+    }
+
+    /// Steps the open design back one edit (Ctrl+Z).
+    pub fn undo(&self) {
+        let Some(id) = self.current.get_untracked() else { return };
+        let Some(now) = self.with_current_untracked(|r| r.clone()) else { return };
+        let mut prev = None;
+        self.history.update(|h| {
+            if h.id == id {
+                prev = h.undo.pop();
+                if prev.is_some() {
+                    h.redo.push(now);
+                    h.last_key.clear();
+                }
+            }
+        });
+        if let Some(r) = prev {
+            self.replace_current(r);
+        }
+    }
+
+    /// Re-applies an undone edit (Ctrl+Shift+Z or Ctrl+Y).
+    pub fn redo(&self) {
+        let Some(id) = self.current.get_untracked() else { return };
+        let Some(now) = self.with_current_untracked(|r| r.clone()) else { return };
+        let mut next = None;
+        self.history.update(|h| {
+            if h.id == id {
+                next = h.redo.pop();
+                if next.is_some() {
+                    h.undo.push(now);
+                    h.last_key.clear();
+                }
+            }
+        });
+        if let Some(r) = next {
+            self.replace_current(r);
+        }
+    }
+
+    /// Reads the open design's record without tracking.
+    pub fn with_current_untracked<R>(&self, f: impl FnOnce(&DesignRecord) -> R) -> Option<R> {
+        let id = self.current.get_untracked()?;
+        self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| f(&e.record)))
+    }
+
+    /// Opens a design.
+    pub fn open(&self, id: &str) {
+        self.current.set(Some(id.to_string()));
+    }
+
+    /// Copies a design under a new name and opens the copy.
+    pub fn duplicate(&self, id: &str) {
+        let Some(mut record) = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
+        else {
+            return;
+        };
+        record.name = format!("{} (copy)", record.name);
+        self.add(record);
+    }
+
+    /// Deletes a design; it can be brought back with [`Notebook::undo_delete`] until the next delete.
+    pub fn delete(&self, id: &str) {
+        let mut removed = None;
+        self.entries.update(|es| {
+            if let Some(i) = es.iter().position(|e| e.id == id) {
+                removed = Some((es.remove(i), i));
+            }
+        });
+        let Some((entry, index)) = removed else { return };
+        if self.persistent.get_untracked() {
+            storage::remove(&entry.id, &self.order());
+        }
+        if self.current.get_untracked().as_deref() == Some(id) {
+            let next = self.entries.with_untracked(|es| es.get(index.min(es.len().saturating_sub(1))).map(|e| e.id.clone()));
+            self.current.set(next);
+        }
+        self.deleted.set(Some((entry, index)));
+    }
+
+    /// Brings back the last deleted design at its old place.
+    pub fn undo_delete(&self) {
+        let Some((mut entry, index)) = self.deleted.get_untracked() else { return };
+        self.deleted.set(None);
+        entry.revision = 0;
+        let id = entry.id.clone();
+        self.entries.update(|es| {
+            let i = index.min(es.len());
+            es.insert(i, entry);
+        });
+        self.current.set(Some(id.clone()));
+        self.persist(&id);
+    }
+
+    /// Takes in a change another tab made to storage (the `storage` event).
+    pub fn external_change(&self, key: &str, new_value: Option<String>) {
+        let Some(id) = key.strip_prefix("hysteron/design/") else { return };
+        match new_value {
+            None => {
+                if self.current.get_untracked().as_deref() != Some(id) {
+                    self.entries.update(|es| es.retain(|e| e.id != id));
+                }
+            }
+            Some(text) => match storage::parse_stored(key, &text) {
+                Ok(theirs) => {
+                    let open = self.current.get_untracked().as_deref() == Some(id);
+                    let mut known = false;
+                    self.entries.update(|es| match es.iter_mut().find(|e| e.id == id) {
+                        Some(e) => {
+                            known = true;
+                            if theirs.revision > e.revision {
+                                *e = theirs.clone();
+                            }
+                        }
+                        None => es.push(theirs.clone()),
+                    });
+                    if known && open {
+                        self.banner.set(Some(format!(
+                            "\"{}\" was changed in another tab; this tab now shows that version.",
+                            theirs.record.name
+                        )));
+                    }
+                }
+                Err(a) => self.set_aside.update(|s| {
+                    s.retain(|x| x.key != a.key);
+                    s.push(a);
+                }),
+            },
+        }
     }
 
     /// Reads the open design's record.
