@@ -21,4 +21,5 @@ pub mod error;
 pub mod evaluate;
 pub mod record;
 pub mod rng;
+pub mod safety;
 pub mod topology;
