@@ -12,6 +12,9 @@ use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 pub mod inverting;
+pub mod cmos_buffer;
+pub mod schmitt_gate;
+pub mod bjt_pair;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -405,6 +408,12 @@ macro_rules! topologies {
 topologies! {
     /// Inverting Schmitt trigger: input on (−), divider and feedback on (+). DOMAIN §1a.
     Inverting(inverting::InvertingSchmitt) = "inverting",
+    /// Non-inverting Schmitt from a CMOS buffer and resistors. DOMAIN §1d.
+    CmosBuffer(cmos_buffer::CmosBufferSchmitt) = "cmos_buffer",
+    /// Dedicated Schmitt-input gate with an optional input network. DOMAIN §1e.
+    SchmittGate(schmitt_gate::SchmittGate) = "schmitt_gate",
+    /// Emitter-coupled two-transistor Schmitt trigger. DOMAIN §1f.
+    BjtPair(bjt_pair::EmitterCoupledSchmitt) = "bjt_pair",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
