@@ -347,6 +347,7 @@ impl EmitterCoupledSchmitt {
 
     /// Refines a design so that the Ebers–Moll thresholds reach the targets: damped Newton on
     /// (ln RC1, logit(R2/(R1+R2))) with a forward-difference Jacobian, at most 40 iterations.
+    /// When the start does not latch, RC1 is first raised until the transfer curve folds.
     fn ebers_moll_refine(&self, start: Self, targets: Thresholds) -> Result<Self, DesignError> {
         let rd = start.r1_ohm + start.r2_ohm;
         let build = |p: [f64; 2]| {
@@ -368,7 +369,24 @@ impl EmitterCoupledSchmitt {
         let scale = [targets.vt_upper_v.abs().max(1e-3), targets.vt_lower_v.abs().max(1e-3)];
         let norm = |r: &[f64; 2]| (r[0] / scale[0]).abs().max((r[1] / scale[1]).abs());
         let mut p = [start.rc1_ohm.ln(), (start.r2_ohm / start.r1_ohm).ln()];
-        let mut r = resid(p)?;
+        // A start that does not latch has no fold to aim with: raise RC1 (more loop gain) with
+        // K = R2/(RC1 + R1 + R2) held, so the emitter current stays put, until it does (at most 16
+        // steps of ×1.25, while R2 = K·(RC1 + Rd) stays below Rd).
+        let k = start.k();
+        let mut r = resid(p);
+        for _ in 0..16 {
+            if !matches!(r, Err(DesignError::NoSwitching { .. })) {
+                break;
+            }
+            let rc1 = p[0].exp() * 1.25;
+            let r2 = k * (rc1 + rd);
+            if r2 >= 0.999 * rd {
+                break;
+            }
+            p = [rc1.ln(), (r2 / (rd - r2)).ln()];
+            r = resid(p);
+        }
+        let mut r = r?;
         for _ in 0..40 {
             if norm(&r) <= 1e-11 {
                 return Ok(build(p));
@@ -479,15 +497,17 @@ fn solve4(mut a: [[f64; 4]; 4], mut b: [f64; 4]) -> Option<[f64; 4]> {
                 p = i;
             }
         }
-        if !(a[p][k].abs() > 1e-300) || !a[p][k].is_finite() {
+        let pivot = a[p][k];
+        if pivot.is_nan() || pivot.abs() <= 1e-300 || !pivot.is_finite() {
             return None;
         }
         a.swap(k, p);
         b.swap(k, p);
+        let row_k = a[k];
         for i in k + 1..4 {
-            let f = a[i][k] / a[k][k];
-            for j in k..4 {
-                a[i][j] -= f * a[k][j];
+            let f = a[i][k] / row_k[k];
+            for (aij, akj) in a[i].iter_mut().zip(row_k.iter()).skip(k) {
+                *aij -= f * akj;
             }
             b[i] -= f * b[k];
         }
