@@ -413,7 +413,7 @@ impl Circuit for SchmittGate {
                     a * g.vt_upper.max_v + b,
                     a * g.vt_lower.min_v + b,
                     a * g.vt_lower.max_v + b,
-                    if b != 0.0 { format!(" {b:+.3} V") } else { String::new() },
+                    if b != 0.0 { format!(", then {b:+.3} V") } else { String::new() },
                     if min_width <= 0.0 { " (none guaranteed: check the datasheet's minimum hysteresis figure)" } else { "" }
                 ),
             ));
