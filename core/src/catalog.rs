@@ -98,6 +98,27 @@ const TEMPLATES: &[Starter] = &[
         hazardous: false,
         json: include_str!("catalog/supply_monitor.json"),
     },
+    Starter {
+        key: "cmos_buffer",
+        title: "Schmitt from a CMOS buffer or two inverters",
+        note: "When a spare buffer or two inverters are on the board: two resistors around the gate's switching point give hysteresis. Cheap, but the band moves with the gate's threshold spread.",
+        hazardous: false,
+        json: include_str!("catalog/cmos_buffer.json"),
+    },
+    Starter {
+        key: "schmitt_gate",
+        title: "Schmitt-input logic gate",
+        note: "A gate with built-in hysteresis: enter VT+ and VT− from its datasheet. An optional input divider scales and shifts the band for higher-voltage signals.",
+        hazardous: false,
+        json: include_str!("catalog/schmitt_gate.json"),
+    },
+    Starter {
+        key: "bjt_pair",
+        title: "Two-transistor Schmitt (emitter-coupled)",
+        note: "From discrete transistors when no comparator is at hand; thresholds from hand analysis or a full Ebers–Moll solution.",
+        hazardous: false,
+        json: include_str!("catalog/bjt_pair.json"),
+    },
 ];
 
 const DEMOS: &[Starter] = &[
@@ -121,6 +142,27 @@ const DEMOS: &[Starter] = &[
         note: "24 V valve-position signal checked against an IEC 61131-2 Type 1 input.",
         hazardous: false,
         json: include_str!("catalog/demo_greenhouse_valve.json"),
+    },
+    Starter {
+        key: "rain-gauge",
+        title: "Rain-gauge tipping bucket",
+        note: "Reed switch on 20 m of cable, RC debounce into a Schmitt-input gate.",
+        hazardous: false,
+        json: include_str!("catalog/demo_rain_gauge.json"),
+    },
+    Starter {
+        key: "beehive-clock",
+        title: "Beehive scale wake-up clock",
+        note: "One Schmitt inverter as a 1 Hz RC oscillator at 3.3 V.",
+        hazardous: false,
+        json: include_str!("catalog/demo_beehive_clock.json"),
+    },
+    Starter {
+        key: "dust-extractor",
+        title: "Workshop dust-extractor current sense",
+        note: "Two-transistor Schmitt on a slow 0–2 V current-transformer signal, 12 V.",
+        hazardous: false,
+        json: include_str!("catalog/demo_dust_extractor.json"),
     },
 ];
 

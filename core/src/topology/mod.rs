@@ -224,7 +224,19 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
         }
     }
 
-    let supply_corners = supply_corners(circuit, settings)?;
+    // A corner that cannot be evaluated (a gate threshold leaving its band at that supply, say)
+    // becomes a warning: the nominal analysis still stands.
+    let supply_corners = match supply_corners(circuit, settings) {
+        Ok(c) => c,
+        Err(e) => {
+            warnings.push(Warning::new(
+                WarningCode::Note,
+                format!("the design cannot be evaluated over the whole supply range: {e}"),
+            ));
+            supply_corners(circuit, &CheckSettings { supply_min_v: None, supply_max_v: None, ..*settings })
+                .unwrap_or_default()
+        }
+    };
     Ok(Analysis {
         vt_upper_v: t.vt_upper_v,
         vt_lower_v: t.vt_lower_v,
