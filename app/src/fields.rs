@@ -95,3 +95,64 @@ pub fn QuantityField(
         </div>
     }
 }
+
+/// A field for a quantity that may be left empty (meaning "not given").
+#[component]
+pub fn OptionalQuantityField(
+    /// Element id of the input.
+    id: String,
+    /// Visible label.
+    label: String,
+    /// Unit shown after the field.
+    unit: &'static str,
+    /// Current value, `None` when not given.
+    #[prop(into)]
+    value: Signal<Option<f64>>,
+    /// Called with each valid entry (`None` when the field is emptied).
+    on_value: Callback<Option<f64>>,
+) -> impl IntoView {
+    let show = move |v: Option<f64>| v.map(|v| format_value(v, unit)).unwrap_or_default();
+    let text = RwSignal::new(show(value.get_untracked()));
+    let error = RwSignal::new(None::<String>);
+    Effect::new(move |_| {
+        let v = value.get();
+        let current = text.get_untracked();
+        let same = match (current.trim().is_empty(), v) {
+            (true, None) => true,
+            (false, Some(v)) => parse_value(&current).map(|x| (x - v).abs() <= 1e-12 * v.abs().max(1e-30)).unwrap_or(false),
+            _ => false,
+        };
+        if !same {
+            text.set(show(v));
+            error.set(None);
+        }
+    });
+    let err_id = format!("{id}-error");
+    view! {
+        <div class="field" class:invalid=move || error.with(|e| e.is_some())>
+            <label for=id.clone()>{label}</label>
+            <span class="field-input">
+                <input id=id type="text" inputmode="decimal" autocomplete="off" spellcheck="false"
+                    placeholder="not given"
+                    aria-describedby=err_id.clone()
+                    aria-invalid=move || if error.with(|e| e.is_some()) { "true" } else { "false" }
+                    prop:value=move || text.get()
+                    on:input=move |ev| {
+                        let t = event_target_value(&ev);
+                        text.set(t.clone());
+                        if t.trim().is_empty() {
+                            error.set(None);
+                            on_value.run(None);
+                        } else {
+                            match parse_value(&t) {
+                                Ok(v) => { error.set(None); on_value.run(Some(v)); }
+                                Err(e) => error.set(Some(e)),
+                            }
+                        }
+                    } />
+                <span class="unit">{unit}</span>
+            </span>
+            <span class="field-error" id=err_id role="status">{move || error.get().unwrap_or_default()}</span>
+        </div>
+    }
+}

@@ -1,7 +1,8 @@
 //! The page's components. `App` owns the notebook state; the other modules render parts of it.
 
-mod editor;
+mod circuit;
 mod notebook;
+mod purpose;
 mod results;
 mod starters;
 pub mod state;
@@ -46,7 +47,7 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <editor::DesignEditor /> <results::Results /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <results::Results /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}

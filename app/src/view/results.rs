@@ -27,6 +27,22 @@ pub fn Results() -> impl IntoView {
         })
         .flatten()
     });
+    // The figures saved with the design are its record for the bench: if today's math gives other
+    // numbers (a newer version, say), say so and show both rather than silently changing them.
+    let saved = Memo::new(move |_| nb.with_current_entry(|e| e.snapshot.clone()).flatten());
+    let differs = move || {
+        let s = saved.get()?;
+        analysis.with(|a| {
+            let a = a.as_ref().ok()?;
+            let close = |x: f64, y: f64| (x - y).abs() <= 1e-9 * x.abs().max(y.abs()).max(1e-3);
+            (!(close(s.vt_upper_v, a.vt_upper_v) && close(s.vt_lower_v, a.vt_lower_v))).then(|| {
+                format!(
+                    "Saved with this design: VT+ {:.4} V, VT− {:.4} V (computed by version {}). Computed now: VT+ {:.4} V, VT− {:.4} V. The saved figures are kept until you change the design.",
+                    s.vt_upper_v, s.vt_lower_v, s.computed_by, a.vt_upper_v, a.vt_lower_v
+                )
+            })
+        })
+    };
     let canvas: NodeRef<Canvas> = NodeRef::new();
     let plot_error = RwSignal::new(None::<String>);
     Effect::new(move |_| {
@@ -51,6 +67,7 @@ pub fn Results() -> impl IntoView {
         <section class="card" aria-labelledby="results-heading">
             <h2 id="results-heading">"Results"</h2>
             {move || analysis.with(|a| a.as_ref().err().cloned()).map(|e| view! { <p class="error" id="analysis-error" role="alert">{e}</p> })}
+            {move || differs().map(|m| view! { <p class="compare" id="saved-differs" role="status">{m}</p> })}
             <table class="results">
                 <tbody>
                     {row("vt-upper", "VT+ (trip point, rising input)", |a| a.vt_upper_v)}

@@ -215,6 +215,12 @@ impl Notebook {
         }
     }
 
+    /// Reads the open design's whole notebook entry (record, snapshot, revision).
+    pub fn with_current_entry<R>(&self, f: impl FnOnce(&Entry) -> R) -> Option<R> {
+        let id = self.current.get()?;
+        self.entries.with(|es| es.iter().find(|e| e.id == id).map(f))
+    }
+
     /// Reads the open design's record without tracking.
     pub fn with_current_untracked<R>(&self, f: impl FnOnce(&DesignRecord) -> R) -> Option<R> {
         let id = self.current.get_untracked()?;

@@ -1,0 +1,103 @@
+//! The circuit section: topology choice with a note on when to use it, every numeric quantity of
+//! the circuit as a field, and the whole circuit as JSON for structural options.
+
+use super::state::Notebook;
+use crate::fields::QuantityField;
+use hysteron_core::catalog;
+use hysteron_core::topology::{Circuit, ParameterKind, Topology};
+use leptos::prelude::*;
+
+fn unit_of(kind: ParameterKind) -> &'static str {
+    match kind {
+        ParameterKind::Resistor => "Ω",
+        ParameterKind::BiasCurrent => "A",
+        ParameterKind::Device => "",
+        _ => "V",
+    }
+}
+
+/// Edits the open design's topology, parts and device values.
+#[component]
+pub fn CircuitSection() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    // The list of fields changes only when the topology's parameter set changes.
+    let fields = Memo::new(move |_| {
+        nb.with_current(|r| {
+            r.circuit.parameters().into_iter().map(|p| (p.id, p.designator, p.label, p.kind)).collect::<Vec<_>>()
+        })
+        .unwrap_or_default()
+    });
+    let topology = Memo::new(move |_| nb.with_current(|r| r.circuit.name().to_string()).unwrap_or_default());
+    let choose = move |name: String| {
+        if let Some(t) = catalog::templates().into_iter().find(|s| s.record().circuit.name() == name) {
+            let circuit = t.record().circuit;
+            nb.edit(move |r| r.circuit = circuit);
+        }
+    };
+    let json_text = RwSignal::new(String::new());
+    let json_error = RwSignal::new(None::<String>);
+    let json_open = RwSignal::new(false);
+    let load_json = move || {
+        json_text.set(nb.with_current_untracked(|r| serde_json::to_string_pretty(&r.circuit).unwrap_or_default()).unwrap_or_default());
+        json_error.set(None);
+    };
+    let apply_json = move |_| {
+        let text = json_text.get_untracked();
+        match serde_json::from_str::<Topology>(&text) {
+            Err(e) => json_error.set(Some(format!("not a circuit: {e}"))),
+            Ok(c) => match c.validate() {
+                Err(e) => json_error.set(Some(e.to_string())),
+                Ok(()) => {
+                    json_error.set(None);
+                    nb.edit(move |r| r.circuit = c);
+                }
+            },
+        }
+    };
+    view! {
+        <section class="card" aria-labelledby="circuit-heading" id="circuit">
+            <h2 id="circuit-heading">"Circuit"</h2>
+            <div class="field">
+                <label for="topology-choice">"Topology"</label>
+                <select id="topology-choice" prop:value=move || topology.get() on:change=move |ev| choose(event_target_value(&ev))>
+                    {catalog::templates().into_iter().map(|s| {
+                        let name = s.record().circuit.name().to_string();
+                        view! { <option value=name>{s.title}</option> }
+                    }).collect_view()}
+                </select>
+                <p class="note" id="topology-note">{move || catalog::topology_note(&topology.get())}</p>
+            </div>
+            <div class="field-grid">
+                {move || fields.get().into_iter().enumerate().map(|(i, (id, designator, label, kind))| {
+                    let value = Signal::derive(move || {
+                        nb.with_current(|r| r.circuit.parameters().get(i).map(|p| p.value).unwrap_or(f64::NAN)).unwrap_or(f64::NAN)
+                    });
+                    let key = format!("param-{i}");
+                    let on_value = Callback::new(move |v: f64| {
+                        nb.edit_keyed(&key, |r| {
+                            let mut values: Vec<f64> = r.circuit.parameters().iter().map(|p| p.value).collect();
+                            if i < values.len() {
+                                values[i] = v;
+                                if let Ok(c) = r.circuit.with_parameters(&values) {
+                                    r.circuit = c;
+                                }
+                            }
+                        })
+                    });
+                    let shown = match designator { Some(d) => format!("{d} — {label}"), None => label };
+                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit_of(kind) value on_value /> }
+                }).collect_view()}
+            </div>
+            <details class="json-edit" on:toggle=move |_| { let o = !json_open.get_untracked(); json_open.set(o); if o { load_json(); } }>
+                <summary>"Structure and options as JSON (rails, optional resistors, output type, model…)"</summary>
+                <textarea id="circuit-json" rows="14" spellcheck="false" prop:value=move || json_text.get()
+                    on:input=move |ev| json_text.set(event_target_value(&ev))></textarea>
+                <div class="row">
+                    <button id="circuit-json-apply" on:click=apply_json>"Apply"</button>
+                    <button class="quiet" on:click=move |_| load_json()>"Reload from the design"</button>
+                </div>
+                {move || json_error.get().map(|e| view! { <p class="error" id="circuit-json-error" role="alert">{e}</p> })}
+            </details>
+        </section>
+    }
+}
