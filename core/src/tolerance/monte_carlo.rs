@@ -357,7 +357,7 @@ impl<C: Circuit> MonteCarloRun<C> {
                 self.trials
             )));
         }
-        let mut scratch: Vec<i64> = Vec::with_capacity(valid);
+        let mut scratch = [Vec::new(), Vec::new()];
         let mut derived = Vec::with_capacity(valid);
         let vt_upper = statistics(&partial.vt_upper_v, &mut scratch, self.bins);
         let vt_lower = statistics(&partial.vt_lower_v, &mut scratch, self.bins);
@@ -425,41 +425,96 @@ pub fn coverage_indices(m: usize) -> (usize, usize) {
     (r - 1, hi - 1)
 }
 
-/// An integer key with the order of `f64::total_cmp` (sign-magnitude to two's complement), so the
-/// order statistics are found with plain integer comparisons.
-fn order_key(x: f64) -> i64 {
-    let b = x.to_bits() as i64;
-    b ^ (((b >> 63) as u64) >> 1) as i64
+/// Fine bins for locating order statistics: the bin index is monotonic in the value.
+struct FineBins {
+    min: f64,
+    scale: f64,
+    last: usize,
 }
 
-fn from_order_key(k: i64) -> f64 {
-    f64::from_bits((k ^ (((k >> 63) as u64) >> 1) as i64) as u64)
+impl FineBins {
+    fn new(n: usize, min: f64, max: f64) -> Self {
+        let nb = (n / 8).clamp(1, 4096);
+        let scale = if max > min {
+            nb as f64 / (max - min)
+        } else {
+            0.0
+        };
+        FineBins {
+            min,
+            scale,
+            last: nb - 1,
+        }
+    }
+
+    fn bin(&self, x: f64) -> usize {
+        (((x - self.min) * self.scale) as usize).min(self.last)
+    }
 }
 
-fn statistics(values: &[f64], scratch: &mut Vec<i64>, bins: usize) -> SampleStatistics {
+/// The values of ranks `ranks` (0-based) among `values` sorted by `f64::total_cmp`, without sorting:
+/// with the fine-bin counts, find the bin holding each rank, then select within that bin's few
+/// values. Exact, and faster than a selection over all values.
+fn order_statistics(
+    values: &[f64],
+    fine: &FineBins,
+    counts: &[usize],
+    ranks: [usize; 2],
+    scratch: &mut [Vec<f64>; 2],
+) -> [f64; 2] {
+    let mut targets = [(0usize, 0usize); 2];
+    for (target, &rank) in targets.iter_mut().zip(&ranks) {
+        let mut before = 0;
+        for (b, &c) in counts.iter().enumerate() {
+            if before + c > rank {
+                *target = (b, rank - before);
+                break;
+            }
+            before += c;
+        }
+    }
+    for v in scratch.iter_mut() {
+        v.clear();
+    }
+    for &x in values {
+        let b = fine.bin(x);
+        for (t, v) in targets.iter().zip(scratch.iter_mut()) {
+            if b == t.0 {
+                v.push(x);
+            }
+        }
+    }
+    let mut out = [fine.min; 2];
+    for ((o, t), v) in out.iter_mut().zip(&targets).zip(scratch.iter_mut()) {
+        if t.1 < v.len() {
+            *o = *v.select_nth_unstable_by(t.1, f64::total_cmp).1;
+        }
+    }
+    out
+}
+
+fn statistics(values: &[f64], scratch: &mut [Vec<f64>; 2], bins: usize) -> SampleStatistics {
     let n = values.len() as f64;
     let (mut sum, mut min, mut max) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
     for &x in values {
         sum += x;
-        min = min.min(x);
-        max = max.max(x);
+        if x < min {
+            min = x;
+        }
+        if x > max {
+            max = x;
+        }
     }
     let mean = sum / n;
-    let ss: f64 = values.iter().map(|x| (x - mean) * (x - mean)).sum();
-    let sd = (ss / (n - 1.0)).sqrt();
-    scratch.clear();
-    scratch.extend(values.iter().map(|&x| order_key(x)));
-    let (lo_i, hi_i) = coverage_indices(values.len());
-    let (_, lo, rest) = scratch.select_nth_unstable(lo_i);
-    let lo = from_order_key(*lo);
-    let hi = if hi_i > lo_i {
-        from_order_key(*rest.select_nth_unstable(hi_i - lo_i - 1).1)
-    } else {
-        lo
-    };
+    // One pass for the squared deviations, the fine bins and the plotted histogram.
+    let fine = FineBins::new(values.len(), min, max);
+    let mut fine_counts = vec![0usize; fine.last + 1];
     let mut counts = vec![0u64; bins];
     let width = (max - min) / bins as f64;
+    let mut ss = 0.0;
     for &x in values {
+        ss += (x - mean) * (x - mean);
+        fine_counts[fine.bin(x)] += 1;
         let i = if width > 0.0 {
             (((x - min) / width) as usize).min(bins - 1)
         } else {
@@ -467,6 +522,13 @@ fn statistics(values: &[f64], scratch: &mut Vec<i64>, bins: usize) -> SampleStat
         };
         counts[i] += 1;
     }
+    let sd = (ss / (n - 1.0)).sqrt();
+    let (lo_i, hi_i) = coverage_indices(values.len());
+    let [lo, hi] = if max > min {
+        order_statistics(values, &fine, &fine_counts, [lo_i, hi_i], scratch)
+    } else {
+        [min, min]
+    };
     SampleStatistics {
         mean_v: mean,
         standard_deviation_v: sd,
@@ -529,9 +591,9 @@ pub fn monte_carlo_fingerprint(seed: u64) -> u64 {
             h = h.wrapping_mul(0x0000_0100_0000_01b3);
         }
     };
-    for i in 0..16 {
-        eat(partial.vt_upper_v[i].to_bits());
-        eat(partial.vt_lower_v[i].to_bits());
+    for (u, l) in partial.vt_upper_v.iter().zip(&partial.vt_lower_v).take(16) {
+        eat(u.to_bits());
+        eat(l.to_bits());
     }
     for st in [&result.vt_upper, &result.vt_lower] {
         for x in [
@@ -641,29 +703,47 @@ mod tests {
     }
 
     #[test]
-    fn order_keys_sort_like_total_cmp() {
-        let xs = [
-            -f64::INFINITY,
-            -2.5,
-            -1e-300,
-            -0.0,
-            0.0,
-            1e-300,
-            3.0,
-            f64::INFINITY,
-        ];
-        for w in xs.windows(2) {
-            assert!(order_key(w[0]) < order_key(w[1]), "{w:?}");
+    fn order_statistics_equal_those_of_a_full_sort() {
+        let mut rng = Rng::new(3);
+        let mut scratch = [Vec::new(), Vec::new()];
+        for n in [2usize, 3, 17, 100, 1001, 20_000] {
+            // Heavy ties and a wide spread, to exercise crowded and empty bins.
+            let v: Vec<f64> = (0..n)
+                .map(|i| {
+                    if i % 5 == 0 {
+                        1.5
+                    } else {
+                        rng.normal().powi(3)
+                    }
+                })
+                .collect();
+            let mut sorted = v.clone();
+            sorted.sort_by(f64::total_cmp);
+            let (a, b) = coverage_indices(n);
+            let s = statistics(&v, &mut scratch, 7);
+            assert_eq!(
+                [s.interval_95_low_v, s.interval_95_high_v],
+                [sorted[a], sorted[b]],
+                "n = {n}"
+            );
+            assert_eq!((s.min_v, s.max_v), (sorted[0], sorted[n - 1]));
         }
-        for x in xs {
-            assert_eq!(from_order_key(order_key(x)).to_bits(), x.to_bits());
-        }
+        let s = statistics(&[2.0; 10], &mut scratch, 7);
+        assert_eq!(
+            (
+                s.interval_95_low_v,
+                s.interval_95_high_v,
+                s.standard_deviation_v
+            ),
+            (2.0, 2.0, 0.0)
+        );
+        assert_eq!(s.histogram.counts[0], 10);
     }
 
     #[test]
     fn statistics_of_a_known_sample() {
         let v: Vec<f64> = (1..=100).map(f64::from).collect();
-        let mut scratch = Vec::new();
+        let mut scratch = [Vec::new(), Vec::new()];
         let s = statistics(&v, &mut scratch, 10);
         assert_eq!(s.mean_v, 50.5);
         // Sample SD of 1..=100: √(100·101/12) = 29.011...
