@@ -4,6 +4,7 @@
 use crate::analysis::{Analysis, Thresholds};
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
+use crate::tolerance::{tolerance_report, ToleranceReport};
 use crate::topology::{analyse, sensitivities, synthesise, Circuit, Topology};
 use serde::{Deserialize, Serialize};
 
@@ -53,6 +54,8 @@ pub struct Evaluation {
     pub synthesis: Option<Synthesis>,
     /// Studies that failed.
     pub errors: Vec<StudyError>,
+    /// Tolerance analysis, when the record has tolerance settings.
+    pub tolerance: Option<ToleranceReport>,
 }
 
 /// Thresholds of a circuit, validated first. The fast path for the page.
@@ -96,6 +99,13 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             }
         }
     });
+    let tolerance = record.tolerance.as_ref().and_then(|s| match tolerance_report(&record.circuit, s) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            fail("tolerance", e);
+            None
+        }
+    });
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -103,6 +113,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         sensitivities: sens,
         synthesis,
         errors,
+        tolerance,
     }
 }
 

@@ -23,3 +23,4 @@ pub mod record;
 pub mod rng;
 pub mod safety;
 pub mod topology;
+pub mod tolerance;

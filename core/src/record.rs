@@ -6,6 +6,7 @@
 
 use crate::analysis::{CheckSettings, Targets};
 use crate::error::DesignError;
+use crate::tolerance::ToleranceSettings;
 use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
 
@@ -33,6 +34,9 @@ pub struct DesignRecord {
     /// Operating range and the numbers the design checks need.
     #[serde(default)]
     pub checks: CheckSettings,
+    /// Tolerance-analysis settings; `None`: no tolerance analysis.
+    #[serde(default)]
+    pub tolerance: Option<ToleranceSettings>,
 }
 
 /// Why a record could not be read.
@@ -91,6 +95,7 @@ impl DesignRecord {
             circuit,
             targets: None,
             checks: CheckSettings::default(),
+            tolerance: None,
         }
     }
 

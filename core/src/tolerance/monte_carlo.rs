@@ -1,0 +1,769 @@
+//! Monte Carlo propagation of distributions (JCGM 101:2008, from memory): M trials, each drawing every
+//! varied parameter from its distribution (tolerance, plus a rectangular drift input where a part has
+//! a temperature coefficient), evaluating the circuit's thresholds, and summarising the M values of
+//! each figure by their mean, standard deviation (§7.6), the 95 % probabilistically symmetric
+//! coverage interval from the order statistics (§7.7), a histogram, and the yield against the spec
+//! window.
+//!
+//! **Reproducibility.** Each trial has its own generator: xoshiro256++ ([`crate::rng::Rng`]) seeded
+//! through SplitMix64 with `key ^ index`, where `key` is the first output of a generator seeded with
+//! the run's seed, and `index` is the trial number from 0. A trial's draws therefore depend only on
+//! the seed and its index: the run can be split into chunks ([`MonteCarloRun::run`] on `[a, b)`,
+//! merged in order with [`MonteCarloPartial::merge`]) and gives bit-identical results to one run,
+//! on native and wasm32 targets alike. (Hashing the seed first keeps runs with neighbouring seeds,
+//! such as 42 and 43, from sharing trials, which `seed ^ index` alone would do.) Within a trial the
+//! draws come in parameter order: for each varied parameter its tolerance deviation (uniform
+//! a·(2U − 1), or (a/3)·Z by the polar method for normal), then its drift deviation d·(2U − 1).
+//!
+//! **Invalid trials** (a draw that makes the circuit fail its own validation) are counted, left out
+//! of the statistics, and count as outside the spec window.
+//!
+//! Per trial the run only copies the circuit with new parameter values and computes its thresholds:
+//! no allocation per trial.
+
+use super::{Distribution, Figure, Figures, Prepared, SpecWindow, ToleranceSettings};
+use crate::analysis::Thresholds;
+use crate::device::Comparator;
+use crate::error::DesignError;
+use crate::rng::Rng;
+use crate::topology::inverting::InvertingSchmitt;
+use crate::topology::Circuit;
+use serde::{Deserialize, Serialize};
+
+#[derive(Debug, Clone, Copy)]
+struct Draw {
+    index: usize,
+    centre: f64,
+    half_width: f64,
+    normal: bool,
+    drift_half_width: f64,
+}
+
+/// A prepared Monte Carlo run: the circuit, its resolved bands and the run's settings. Run it in
+/// one go with `run(0, trials())`, or in slices for a progress bar, then [`MonteCarloRun::finish`].
+#[derive(Debug, Clone)]
+pub struct MonteCarloRun<C: Circuit> {
+    circuit: C,
+    draws: Vec<Draw>,
+    centres: Vec<f64>,
+    trials: u64,
+    seed: u64,
+    stream_key: u64,
+    bins: usize,
+    spec: SpecWindow,
+}
+
+/// The raw outcome of trials `[start, end)`: the VT+ and VT− of every valid trial in trial order,
+/// and the counts. Merge consecutive slices in order, then hand the whole to [`MonteCarloRun::finish`].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MonteCarloPartial {
+    /// First trial index covered.
+    pub start: u64,
+    /// One past the last trial index covered.
+    pub end: u64,
+    /// VT+ of every valid trial, in trial order, volts.
+    pub vt_upper_v: Vec<f64>,
+    /// VT− of every valid trial, in trial order, volts.
+    pub vt_lower_v: Vec<f64>,
+    /// Trials whose drawn circuit was invalid.
+    pub rejected_trials: u64,
+    /// Valid trials inside the spec window (all valid trials when the window is empty).
+    pub inside_spec: u64,
+    /// Violations per bound, indexed as [`SpecWindow::violations`] bits.
+    pub spec_violations: [u64; 8],
+}
+
+impl MonteCarloPartial {
+    /// Appends the next slice. Fails unless `next` starts where this one ends.
+    pub fn merge(&mut self, next: MonteCarloPartial) -> Result<(), DesignError> {
+        if next.start != self.end {
+            return Err(DesignError::Parameter {
+                reason: format!(
+                    "Monte Carlo slices must be merged in trial order: this one ends at trial {}, the next starts at {}",
+                    self.end, next.start
+                ),
+            });
+        }
+        self.end = next.end;
+        self.vt_upper_v.extend_from_slice(&next.vt_upper_v);
+        self.vt_lower_v.extend_from_slice(&next.vt_lower_v);
+        self.rejected_trials += next.rejected_trials;
+        self.inside_spec += next.inside_spec;
+        for (a, b) in self.spec_violations.iter_mut().zip(next.spec_violations) {
+            *a += b;
+        }
+        Ok(())
+    }
+
+    /// Number of trials covered.
+    pub fn trials_done(&self) -> u64 {
+        self.end - self.start
+    }
+}
+
+/// Counts of M values in equal bins between their minimum and maximum, for plotting.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Histogram {
+    /// Left edge of the first bin (the smallest value), volts.
+    pub lower_v: f64,
+    /// Right edge of the last bin (the largest value, included in the last bin), volts.
+    pub upper_v: f64,
+    /// Width of each bin, volts (0 when every value is the same; then all counts are in bin 0).
+    pub bin_width_v: f64,
+    /// Number of values in each bin.
+    pub counts: Vec<u64>,
+}
+
+/// Summary of the M values of one figure.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SampleStatistics {
+    /// Arithmetic mean, volts (JCGM 101:2008 §7.6).
+    pub mean_v: f64,
+    /// Sample standard deviation with M − 1 in the denominator, volts (§7.6).
+    pub standard_deviation_v: f64,
+    /// Smallest value, volts.
+    pub min_v: f64,
+    /// Largest value, volts.
+    pub max_v: f64,
+    /// Lower end of the 95 % probabilistically symmetric coverage interval, the r-th order
+    /// statistic (§7.7), volts.
+    pub interval_95_low_v: f64,
+    /// Upper end, the (r + q)-th order statistic, volts.
+    pub interval_95_high_v: f64,
+    /// Histogram for plotting.
+    pub histogram: Histogram,
+}
+
+/// Which end of a spec range.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Bound {
+    /// Below the minimum.
+    BelowMin,
+    /// Above the maximum.
+    AboveMax,
+}
+
+/// How many trials broke one bound of the spec window.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SpecViolation {
+    /// The figure.
+    pub figure: Figure,
+    /// Which end.
+    pub bound: Bound,
+    /// Number of trials (a trial may break several bounds).
+    pub trials: u64,
+}
+
+/// The fraction of trials inside the spec window.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SpecYield {
+    /// Trials inside the window.
+    pub inside_trials: u64,
+    /// Yield p = inside / M (invalid trials count as outside).
+    pub fraction: f64,
+    /// Binomial standard error √(p(1 − p)/M). It is 0 at p = 0 or 1; then 3/M bounds the missing
+    /// fraction at about 95 % confidence (the "rule of three", common practice).
+    pub standard_error: f64,
+    /// Trials outside, per broken bound (only bounds that were broken).
+    pub violations: Vec<SpecViolation>,
+}
+
+/// Monte Carlo result for all four figures.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MonteCarloResult {
+    /// Number of trials M.
+    pub trials: u64,
+    /// Seed of the run.
+    pub seed: u64,
+    /// Trials with a valid circuit (the statistics use these).
+    pub valid_trials: u64,
+    /// Trials whose drawn circuit was invalid.
+    pub rejected_trials: u64,
+    /// VT+.
+    pub vt_upper: SampleStatistics,
+    /// VT−.
+    pub vt_lower: SampleStatistics,
+    /// Hysteresis.
+    pub hysteresis: SampleStatistics,
+    /// Centre.
+    pub centre: SampleStatistics,
+    /// Yield against the spec window (`None` when no bound is stated).
+    pub spec_yield: Option<SpecYield>,
+}
+
+impl MonteCarloResult {
+    /// The statistics of one figure.
+    pub fn figure(&self, f: Figure) -> &SampleStatistics {
+        match f {
+            Figure::VtUpper => &self.vt_upper,
+            Figure::VtLower => &self.vt_lower,
+            Figure::Hysteresis => &self.hysteresis,
+            Figure::Centre => &self.centre,
+        }
+    }
+}
+
+/// One-shot Monte Carlo run with the settings' trial count, seed and spec window.
+pub fn monte_carlo<C: Circuit>(
+    circuit: &C,
+    settings: &ToleranceSettings,
+) -> Result<MonteCarloResult, DesignError> {
+    let run = MonteCarloRun::new(circuit, settings)?;
+    run.finish(&run.run(0, run.trials())?)
+}
+
+impl<C: Circuit> MonteCarloRun<C> {
+    /// Prepares a run: validates the circuit and settings and resolves the bands.
+    pub fn new(circuit: &C, settings: &ToleranceSettings) -> Result<Self, DesignError> {
+        Ok(Self::from_prepared(
+            &Prepared::new(circuit, settings)?,
+            settings,
+        ))
+    }
+
+    pub(crate) fn from_prepared(prep: &Prepared<C>, settings: &ToleranceSettings) -> Self {
+        let draws = prep
+            .bands
+            .iter()
+            .enumerate()
+            .filter(|(_, b)| b.is_varied())
+            .map(|(index, b)| Draw {
+                index,
+                centre: b.centre,
+                half_width: b.half_width,
+                normal: b.distribution == Distribution::Normal,
+                drift_half_width: b.drift_half_width,
+            })
+            .collect();
+        let seed = settings.monte_carlo.seed;
+        MonteCarloRun {
+            circuit: prep.circuit.clone(),
+            draws,
+            centres: prep.centres.clone(),
+            trials: settings.monte_carlo.trials,
+            seed,
+            stream_key: Rng::new(seed).next_u64(),
+            bins: settings.monte_carlo.histogram_bins.max(1),
+            spec: settings.effective_spec(),
+        }
+    }
+
+    /// Number of trials M of the run.
+    pub fn trials(&self) -> u64 {
+        self.trials
+    }
+
+    fn draw(&self, index: u64, values: &mut [f64]) {
+        let mut rng = Rng::new(self.stream_key ^ index);
+        for d in &self.draws {
+            let mut x = d.centre;
+            if d.half_width > 0.0 {
+                x += if d.normal {
+                    d.half_width / 3.0 * rng.normal()
+                } else {
+                    d.half_width * (2.0 * rng.uniform() - 1.0)
+                };
+            }
+            if d.drift_half_width > 0.0 {
+                x += d.drift_half_width * (2.0 * rng.uniform() - 1.0);
+            }
+            values[d.index] = x;
+        }
+    }
+
+    /// The parameter values of trial `index`, in [`Circuit::parameters`] order.
+    pub fn trial_parameters(&self, index: u64) -> Vec<f64> {
+        let mut values = self.centres.clone();
+        self.draw(index, &mut values);
+        values
+    }
+
+    /// The thresholds of trial `index` (an error when that trial's circuit is invalid).
+    pub fn trial(&self, index: u64) -> Result<Thresholds, DesignError> {
+        let c = self
+            .circuit
+            .with_parameters(&self.trial_parameters(index))?;
+        c.validate()?;
+        c.thresholds()
+    }
+
+    fn evaluate(&self, values: &[f64]) -> Option<Thresholds> {
+        let c = self.circuit.with_parameters(values).ok()?;
+        c.validate().ok()?;
+        let t = c.thresholds().ok()?;
+        (t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()).then_some(t)
+    }
+
+    /// Runs trials `[start, end)`. Any split of `0..trials()` into consecutive slices, merged in
+    /// order, gives the same result as one slice.
+    pub fn run(&self, start: u64, end: u64) -> Result<MonteCarloPartial, DesignError> {
+        if start > end || end > self.trials {
+            return Err(DesignError::Parameter {
+                reason: format!("Monte Carlo slice {start}..{end} is not inside 0..{}: ask for a slice of the run", self.trials),
+            });
+        }
+        let n = usize::try_from(end - start).unwrap_or(usize::MAX);
+        let mut p = MonteCarloPartial {
+            start,
+            end,
+            vt_upper_v: Vec::with_capacity(n),
+            vt_lower_v: Vec::with_capacity(n),
+            rejected_trials: 0,
+            inside_spec: 0,
+            spec_violations: [0; 8],
+        };
+        let check_spec = !self.spec.is_empty();
+        let mut values = self.centres.clone();
+        for index in start..end {
+            self.draw(index, &mut values);
+            match self.evaluate(&values) {
+                Some(t) => {
+                    p.vt_upper_v.push(t.vt_upper_v);
+                    p.vt_lower_v.push(t.vt_lower_v);
+                    let v = if check_spec {
+                        self.spec.violations(Figures::from_thresholds(t).as_array())
+                    } else {
+                        0
+                    };
+                    if v == 0 {
+                        p.inside_spec += 1;
+                    } else {
+                        for (bit, count) in p.spec_violations.iter_mut().enumerate() {
+                            *count += u64::from(v >> bit & 1);
+                        }
+                    }
+                }
+                None => p.rejected_trials += 1,
+            }
+        }
+        Ok(p)
+    }
+
+    /// Statistics, histograms and yield of a complete run (`partial` must cover `0..trials()`).
+    pub fn finish(&self, partial: &MonteCarloPartial) -> Result<MonteCarloResult, DesignError> {
+        if partial.start != 0 || partial.end != self.trials {
+            return Err(DesignError::Parameter {
+                reason: format!(
+                    "the Monte Carlo run is incomplete: trials {}..{} of {} are done; run the rest before finishing",
+                    partial.start, partial.end, self.trials
+                ),
+            });
+        }
+        let valid = partial.vt_upper_v.len();
+        if valid < 2 || partial.vt_lower_v.len() != valid {
+            return Err(DesignError::inconsistent(format!(
+                "only {valid} of {} Monte Carlo trials gave a valid circuit: narrow the tolerance bands",
+                self.trials
+            )));
+        }
+        let mut scratch = [Vec::new(), Vec::new()];
+        let mut derived = Vec::with_capacity(valid);
+        let vt_upper = statistics(&partial.vt_upper_v, &mut scratch, self.bins);
+        let vt_lower = statistics(&partial.vt_lower_v, &mut scratch, self.bins);
+        derived.extend(
+            partial
+                .vt_upper_v
+                .iter()
+                .zip(&partial.vt_lower_v)
+                .map(|(u, l)| u - l),
+        );
+        let hysteresis = statistics(&derived, &mut scratch, self.bins);
+        derived.clear();
+        derived.extend(
+            partial
+                .vt_upper_v
+                .iter()
+                .zip(&partial.vt_lower_v)
+                .map(|(u, l)| 0.5 * (u + l)),
+        );
+        let centre = statistics(&derived, &mut scratch, self.bins);
+        let spec_yield = (!self.spec.is_empty()).then(|| {
+            let m = self.trials as f64;
+            let p = partial.inside_spec as f64 / m;
+            SpecYield {
+                inside_trials: partial.inside_spec,
+                fraction: p,
+                standard_error: (p * (1.0 - p) / m).sqrt(),
+                violations: (0..8)
+                    .filter(|&bit| partial.spec_violations[bit] > 0)
+                    .map(|bit| SpecViolation {
+                        figure: Figure::ALL[bit / 2],
+                        bound: if bit % 2 == 0 {
+                            Bound::BelowMin
+                        } else {
+                            Bound::AboveMax
+                        },
+                        trials: partial.spec_violations[bit],
+                    })
+                    .collect(),
+            }
+        });
+        Ok(MonteCarloResult {
+            trials: self.trials,
+            seed: self.seed,
+            valid_trials: valid as u64,
+            rejected_trials: partial.rejected_trials,
+            vt_upper,
+            vt_lower,
+            hysteresis,
+            centre,
+            spec_yield,
+        })
+    }
+}
+
+/// Indices (0-based) of the order statistics that bound the 95 % probabilistically symmetric
+/// coverage interval of M sorted values: q = ⌊0.95·M + ½⌋, r = (M − q)/2 when M − q is even and
+/// (M − q + 1)/2 otherwise, interval [y₍r₎, y₍r+q₎] (JCGM 101:2008 §7.7, from memory). For small
+/// M, r is at least 1 and r + q at most M.
+pub fn coverage_indices(m: usize) -> (usize, usize) {
+    let q = ((0.95 * m as f64) + 0.5).floor() as usize;
+    let r = (m - q.min(m)).div_ceil(2);
+    let r = r.max(1);
+    let hi = (r + q).min(m).max(r);
+    (r - 1, hi - 1)
+}
+
+/// Fine bins for locating order statistics: the bin index is monotonic in the value.
+struct FineBins {
+    min: f64,
+    scale: f64,
+    last: usize,
+}
+
+impl FineBins {
+    fn new(n: usize, min: f64, max: f64) -> Self {
+        let nb = (n / 8).clamp(1, 4096);
+        let scale = if max > min {
+            nb as f64 / (max - min)
+        } else {
+            0.0
+        };
+        FineBins {
+            min,
+            scale,
+            last: nb - 1,
+        }
+    }
+
+    fn bin(&self, x: f64) -> usize {
+        (((x - self.min) * self.scale) as usize).min(self.last)
+    }
+}
+
+/// The values of ranks `ranks` (0-based) among `values` sorted by `f64::total_cmp`, without sorting:
+/// with the fine-bin counts, find the bin holding each rank, then select within that bin's few
+/// values. Exact, and faster than a selection over all values.
+fn order_statistics(
+    values: &[f64],
+    fine: &FineBins,
+    counts: &[usize],
+    ranks: [usize; 2],
+    scratch: &mut [Vec<f64>; 2],
+) -> [f64; 2] {
+    let mut targets = [(0usize, 0usize); 2];
+    for (target, &rank) in targets.iter_mut().zip(&ranks) {
+        let mut before = 0;
+        for (b, &c) in counts.iter().enumerate() {
+            if before + c > rank {
+                *target = (b, rank - before);
+                break;
+            }
+            before += c;
+        }
+    }
+    for v in scratch.iter_mut() {
+        v.clear();
+    }
+    for &x in values {
+        let b = fine.bin(x);
+        for (t, v) in targets.iter().zip(scratch.iter_mut()) {
+            if b == t.0 {
+                v.push(x);
+            }
+        }
+    }
+    let mut out = [fine.min; 2];
+    for ((o, t), v) in out.iter_mut().zip(&targets).zip(scratch.iter_mut()) {
+        if t.1 < v.len() {
+            *o = *v.select_nth_unstable_by(t.1, f64::total_cmp).1;
+        }
+    }
+    out
+}
+
+fn statistics(values: &[f64], scratch: &mut [Vec<f64>; 2], bins: usize) -> SampleStatistics {
+    let n = values.len() as f64;
+    let (mut sum, mut min, mut max) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
+    for &x in values {
+        sum += x;
+        if x < min {
+            min = x;
+        }
+        if x > max {
+            max = x;
+        }
+    }
+    let mean = sum / n;
+    // One pass for the squared deviations, the fine bins and the plotted histogram.
+    let fine = FineBins::new(values.len(), min, max);
+    let mut fine_counts = vec![0usize; fine.last + 1];
+    let mut counts = vec![0u64; bins];
+    let width = (max - min) / bins as f64;
+    let mut ss = 0.0;
+    for &x in values {
+        ss += (x - mean) * (x - mean);
+        fine_counts[fine.bin(x)] += 1;
+        let i = if width > 0.0 {
+            (((x - min) / width) as usize).min(bins - 1)
+        } else {
+            0
+        };
+        counts[i] += 1;
+    }
+    let sd = (ss / (n - 1.0)).sqrt();
+    let (lo_i, hi_i) = coverage_indices(values.len());
+    let [lo, hi] = if max > min {
+        order_statistics(values, &fine, &fine_counts, [lo_i, hi_i], scratch)
+    } else {
+        [min, min]
+    };
+    SampleStatistics {
+        mean_v: mean,
+        standard_deviation_v: sd,
+        min_v: min,
+        max_v: max,
+        interval_95_low_v: lo,
+        interval_95_high_v: hi,
+        histogram: Histogram {
+            lower_v: min,
+            upper_v: max,
+            bin_width_v: width.max(0.0),
+            counts,
+        },
+    }
+}
+
+/// A 64-bit digest of a fixed Monte Carlo run, for checking that native and wasm32 builds draw and
+/// compute bit-identical trials. The run: a single-supply inverting trigger (Ra 10 k, Rb 10 k,
+/// Rf 20 k at 5 V, VCC − VOH 0.1 V, VOL 0.05 V, VOS 2 mV, IB± 20 nA, source 1 k), default bands
+/// with Ra and Rf normal, 0–70 °C drift, 64 trials from `seed`. The digest is FNV-1a (64-bit) over
+/// the little-endian bit patterns of the first 16 trials' VT+ and VT−, then the mean, standard
+/// deviation and interval ends of VT+ and VT− and the VT+ histogram counts. Returns 0 only if the
+/// fixed run failed, which would itself be a bug.
+pub fn monte_carlo_fingerprint(seed: u64) -> u64 {
+    let dev = Comparator {
+        supply_v: 5.0,
+        output_high_drop_v: 0.1,
+        output_low_rise_v: 0.05,
+        offset_v: 0.002,
+        bias_plus_a: 20e-9,
+        bias_minus_a: 20e-9,
+        source_resistance_ohm: 1e3,
+        ..Comparator::default()
+    };
+    let circuit = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, dev);
+    let mut s = ToleranceSettings::default();
+    s.monte_carlo.trials = 64;
+    s.monte_carlo.seed = seed;
+    s.monte_carlo.histogram_bins = 8;
+    for id in ["ra_ohm", "rf_ohm"] {
+        s.overrides.push(super::ParameterTolerance {
+            id: id.into(),
+            distribution: Some(Distribution::Normal),
+            ..Default::default()
+        });
+    }
+    let Ok(run) = MonteCarloRun::new(&circuit, &s) else {
+        return 0;
+    };
+    let Ok(partial) = run.run(0, run.trials()) else {
+        return 0;
+    };
+    let Ok(result) = run.finish(&partial) else {
+        return 0;
+    };
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    let mut eat = |word: u64| {
+        for byte in word.to_le_bytes() {
+            h ^= u64::from(byte);
+            h = h.wrapping_mul(0x0000_0100_0000_01b3);
+        }
+    };
+    for (u, l) in partial.vt_upper_v.iter().zip(&partial.vt_lower_v).take(16) {
+        eat(u.to_bits());
+        eat(l.to_bits());
+    }
+    for st in [&result.vt_upper, &result.vt_lower] {
+        for x in [
+            st.mean_v,
+            st.standard_deviation_v,
+            st.interval_95_low_v,
+            st.interval_95_high_v,
+        ] {
+            eat(x.to_bits());
+        }
+    }
+    for &c in &result.vt_upper.histogram.counts {
+        eat(c);
+    }
+    h
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn circuit() -> InvertingSchmitt {
+        InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0))
+    }
+
+    fn settings(trials: u64) -> ToleranceSettings {
+        let mut s = ToleranceSettings::default();
+        s.monte_carlo.trials = trials;
+        s.monte_carlo.seed = 2024;
+        s.spec = SpecWindow {
+            vt_upper_max_v: Some(3.02),
+            hysteresis_min_v: Some(0.99),
+            ..Default::default()
+        };
+        s
+    }
+
+    #[test]
+    fn fingerprint_is_pinned() {
+        // Cross-target pin: this value was computed natively; the wasm32 build must give the same
+        // (the lead runs `monte_carlo_fingerprint(7)` in the browser). A change here means the
+        // stream, the draw order or the arithmetic changed: re-pin only on purpose.
+        assert_eq!(monte_carlo_fingerprint(7), PINNED_FINGERPRINT_SEED_7);
+        assert_ne!(monte_carlo_fingerprint(7), monte_carlo_fingerprint(8));
+    }
+
+    const PINNED_FINGERPRINT_SEED_7: u64 = 0x9115_18c1_41ba_0fe9;
+
+    #[test]
+    fn slices_merged_in_order_equal_one_run() {
+        let run = MonteCarloRun::new(&circuit(), &settings(1000)).unwrap();
+        let whole = run.finish(&run.run(0, 1000).unwrap()).unwrap();
+        let mut acc = run.run(0, 0).unwrap();
+        for (a, b) in [(0, 1), (1, 250), (250, 251), (251, 999), (999, 1000)] {
+            acc.merge(run.run(a, b).unwrap()).unwrap();
+        }
+        assert_eq!(run.finish(&acc).unwrap(), whole);
+    }
+
+    #[test]
+    fn out_of_order_or_incomplete_runs_are_refused() {
+        let run = MonteCarloRun::new(&circuit(), &settings(100)).unwrap();
+        let mut a = run.run(0, 50).unwrap();
+        assert!(a.merge(run.run(60, 100).unwrap()).is_err());
+        assert!(run.finish(&a).is_err());
+        assert!(run.run(90, 101).is_err());
+        assert!(run.run(50, 40).is_err());
+    }
+
+    #[test]
+    fn trial_matches_the_run() {
+        let run = MonteCarloRun::new(&circuit(), &settings(20)).unwrap();
+        let p = run.run(0, 20).unwrap();
+        for i in 0..20 {
+            let t = run.trial(i).unwrap();
+            assert_eq!(t.vt_upper_v.to_bits(), p.vt_upper_v[i as usize].to_bits());
+        }
+    }
+
+    #[test]
+    fn neighbouring_seeds_do_not_share_trials() {
+        let mut s = settings(10);
+        let a = MonteCarloRun::new(&circuit(), &s)
+            .unwrap()
+            .run(0, 10)
+            .unwrap();
+        s.monte_carlo.seed += 1;
+        let b = MonteCarloRun::new(&circuit(), &s)
+            .unwrap()
+            .run(0, 10)
+            .unwrap();
+        for x in &a.vt_upper_v {
+            assert!(!b.vt_upper_v.contains(x));
+        }
+    }
+
+    #[test]
+    fn coverage_indices_follow_jcgm_101() {
+        // JCGM 101:2008 §7.7 (from memory): M = 10⁵, p = 0.95 → q = 95 000, r = 2 500:
+        // [y₂₅₀₀, y₉₇₅₀₀] (1-based).
+        assert_eq!(coverage_indices(100_000), (2_499, 97_499));
+        // M = 1001: q = ⌊950.95 + ½⌋ = 951, M − q = 50 even, r = 25 → [y₂₅, y₉₇₆].
+        assert_eq!(coverage_indices(1001), (24, 975));
+        // M = 1000: q = 950, M − q = 50, r = 25 → [y₂₅, y₉₇₅].
+        assert_eq!(coverage_indices(1000), (24, 974));
+        assert_eq!(coverage_indices(2), (0, 1));
+    }
+
+    #[test]
+    fn order_statistics_equal_those_of_a_full_sort() {
+        let mut rng = Rng::new(3);
+        let mut scratch = [Vec::new(), Vec::new()];
+        for n in [2usize, 3, 17, 100, 1001, 20_000] {
+            // Heavy ties and a wide spread, to exercise crowded and empty bins.
+            let v: Vec<f64> = (0..n)
+                .map(|i| {
+                    if i % 5 == 0 {
+                        1.5
+                    } else {
+                        rng.normal().powi(3)
+                    }
+                })
+                .collect();
+            let mut sorted = v.clone();
+            sorted.sort_by(f64::total_cmp);
+            let (a, b) = coverage_indices(n);
+            let s = statistics(&v, &mut scratch, 7);
+            assert_eq!(
+                [s.interval_95_low_v, s.interval_95_high_v],
+                [sorted[a], sorted[b]],
+                "n = {n}"
+            );
+            assert_eq!((s.min_v, s.max_v), (sorted[0], sorted[n - 1]));
+        }
+        let s = statistics(&[2.0; 10], &mut scratch, 7);
+        assert_eq!(
+            (
+                s.interval_95_low_v,
+                s.interval_95_high_v,
+                s.standard_deviation_v
+            ),
+            (2.0, 2.0, 0.0)
+        );
+        assert_eq!(s.histogram.counts[0], 10);
+    }
+
+    #[test]
+    fn statistics_of_a_known_sample() {
+        let v: Vec<f64> = (1..=100).map(f64::from).collect();
+        let mut scratch = [Vec::new(), Vec::new()];
+        let s = statistics(&v, &mut scratch, 10);
+        assert_eq!(s.mean_v, 50.5);
+        // Sample SD of 1..=100: √(100·101/12) = 29.011...
+        assert!((s.standard_deviation_v - (100.0f64 * 101.0 / 12.0).sqrt()).abs() < 1e-12);
+        assert_eq!((s.min_v, s.max_v), (1.0, 100.0));
+        // M = 100: q = 95, r = 3 (M − q = 5 odd) → [y₃, y₉₈].
+        assert_eq!((s.interval_95_low_v, s.interval_95_high_v), (3.0, 98.0));
+        assert_eq!(s.histogram.counts.iter().sum::<u64>(), 100);
+        assert_eq!(s.histogram.counts[9], 10);
+    }
+
+    #[test]
+    fn yield_counts_the_window() {
+        let r = monte_carlo(&circuit(), &settings(2000)).unwrap();
+        let y = r.spec_yield.unwrap();
+        assert!(y.fraction > 0.0 && y.fraction < 1.0, "{}", y.fraction);
+        assert!(
+            (y.standard_error - (y.fraction * (1.0 - y.fraction) / 2000.0).sqrt()).abs() < 1e-15
+        );
+        let broken: u64 = y.violations.iter().map(|v| v.trials).sum();
+        assert!(broken >= 2000 - y.inside_trials);
+    }
+}

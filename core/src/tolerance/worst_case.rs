@@ -1,0 +1,429 @@
+//! Worst-case (extreme-value) analysis: the lowest and highest VT+, VT−, hysteresis and centre over
+//! the tolerance bands, and the parameter corner that gives each.
+//!
+//! Two methods (DOMAIN §2, common practice):
+//! - **corners**: every combination of each varied parameter at the low or the high end of its band
+//!   (tolerance plus drift), 2^n evaluations. Exact when each figure is monotonic in each parameter
+//!   with the others held fixed (the direction may depend on the others): moving one coordinate at a
+//!   time to the better end never loses, so the extremes over the box lie at its vertices.
+//! - **sensitivity sign**: each parameter at the end its sensitivity ∂f/∂x at the band centre points
+//!   to (the centre when ∂f/∂x = 0), two evaluations per figure. Exact under the same monotonicity.
+//!
+//! **Fallback**: with more varied parameters than the corner limit (settings `corner_limit`, at most
+//! 20, default 12 → 4096 evaluations) only the sensitivity-sign method runs; the report says so.
+//! When both run, the report says whether they agree.
+
+use super::{evaluate, Figure, Figures, Prepared, ToleranceSettings};
+use crate::error::DesignError;
+use crate::topology::Circuit;
+use serde::{Deserialize, Serialize};
+
+/// Which method the reported extremes come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum WorstCaseMethod {
+    /// Every corner was evaluated.
+    Corners,
+    /// Sensitivity-sign method alone (too many parameters for every corner).
+    SensitivitySign,
+}
+
+/// Where a parameter sits in a corner.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Side {
+    /// Low end of its band (centre − tolerance − drift).
+    Low,
+    /// Centre of its band (the figure does not depend on it).
+    Centre,
+    /// High end of its band (centre + tolerance + drift).
+    High,
+}
+
+/// One varied parameter's position in a corner.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct CornerSide {
+    /// Parameter identifier.
+    pub id: String,
+    /// Where it sits.
+    pub side: Side,
+}
+
+/// An extreme value and the corner that gives it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Extreme {
+    /// The figure's value there, volts.
+    pub value_v: f64,
+    /// Position of every varied parameter, in parameter order.
+    pub corner: Vec<CornerSide>,
+}
+
+/// Lowest and highest value of one figure.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Extremes {
+    /// Lowest value.
+    pub min: Extreme,
+    /// Highest value.
+    pub max: Extreme,
+}
+
+/// Result of the worst-case analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct WorstCase {
+    /// Method the extremes come from.
+    pub method: WorstCaseMethod,
+    /// Number of parameters with a band wider than zero.
+    pub varied_parameters: usize,
+    /// Number of circuit evaluations made.
+    pub evaluations: u64,
+    /// VT+ extremes.
+    pub vt_upper: Extremes,
+    /// VT− extremes.
+    pub vt_lower: Extremes,
+    /// Hysteresis extremes.
+    pub hysteresis: Extremes,
+    /// Centre extremes.
+    pub centre: Extremes,
+    /// With corners: how far the sensitivity-sign method's range falls inside the corners' range,
+    /// per figure, volts (the larger of the two ends; 0 when both methods agree). A figure whose
+    /// sensitivity to some parameter changes sign inside the bands (the centre of a symmetric
+    /// design, for one) shows a shortfall. `None` when only the sign method ran.
+    pub sign_method_shortfall: Option<Figures>,
+}
+
+impl WorstCase {
+    /// The extremes of one figure.
+    pub fn figure(&self, f: Figure) -> &Extremes {
+        match f {
+            Figure::VtUpper => &self.vt_upper,
+            Figure::VtLower => &self.vt_lower,
+            Figure::Hysteresis => &self.hysteresis,
+            Figure::Centre => &self.centre,
+        }
+    }
+}
+
+/// Worst case by corners when the varied parameters are few enough, else by sensitivity sign.
+pub fn worst_case<C: Circuit>(
+    circuit: &C,
+    settings: &ToleranceSettings,
+) -> Result<WorstCase, DesignError> {
+    from_prepared(&Prepared::new(circuit, settings)?, settings.corner_limit)
+}
+
+/// Worst case by evaluating every corner, whatever the corner limit says (up to 20 varied parameters).
+pub fn worst_case_corners<C: Circuit>(
+    circuit: &C,
+    settings: &ToleranceSettings,
+) -> Result<WorstCase, DesignError> {
+    let prep = Prepared::new(circuit, settings)?;
+    let (ext, evals) = corners(&prep, super::settings::MAX_CORNER_LIMIT)?;
+    Ok(assemble(&prep, WorstCaseMethod::Corners, ext, evals, None))
+}
+
+/// Worst case by the sensitivity-sign method alone.
+pub fn worst_case_sensitivity_sign<C: Circuit>(
+    circuit: &C,
+    settings: &ToleranceSettings,
+) -> Result<WorstCase, DesignError> {
+    let prep = Prepared::new(circuit, settings)?;
+    let (ext, evals) = sign_method(&prep)?;
+    Ok(assemble(
+        &prep,
+        WorstCaseMethod::SensitivitySign,
+        ext,
+        evals,
+        None,
+    ))
+}
+
+/// Value and side vector (−1, 0, +1 per parameter) of each figure's min and max: [figure][0 min, 1 max].
+type Found = [[(f64, Vec<i8>); 2]; 4];
+
+pub(crate) fn from_prepared<C: Circuit>(
+    prep: &Prepared<C>,
+    corner_limit: usize,
+) -> Result<WorstCase, DesignError> {
+    let n = prep.varied().len();
+    let (sign, sign_evals) = sign_method(prep)?;
+    if n > corner_limit {
+        return Ok(assemble(
+            prep,
+            WorstCaseMethod::SensitivitySign,
+            sign,
+            sign_evals,
+            None,
+        ));
+    }
+    let (corner, corner_evals) = corners(prep, corner_limit)?;
+    let gap = |q: usize| {
+        (corner[q][1].0 - sign[q][1].0)
+            .max(sign[q][0].0 - corner[q][0].0)
+            .max(0.0)
+    };
+    let shortfall = Figures {
+        vt_upper_v: gap(0),
+        vt_lower_v: gap(1),
+        hysteresis_v: gap(2),
+        centre_v: gap(3),
+    };
+    Ok(assemble(
+        prep,
+        WorstCaseMethod::Corners,
+        corner,
+        corner_evals + sign_evals,
+        Some(shortfall),
+    ))
+}
+
+fn set_sides<C: Circuit>(prep: &Prepared<C>, sides: &[i8], values: &mut [f64]) {
+    for (i, b) in prep.bands.iter().enumerate() {
+        values[i] = b.centre + f64::from(sides[i]) * b.total_half_width();
+    }
+}
+
+fn corner_error<C: Circuit>(prep: &Prepared<C>, sides: &[i8], e: DesignError) -> DesignError {
+    let at: Vec<String> = prep
+        .bands
+        .iter()
+        .zip(sides)
+        .filter(|(b, _)| b.is_varied())
+        .map(|(b, s)| {
+            format!(
+                "{} {}",
+                b.parameter.id,
+                if *s > 0 {
+                    "high"
+                } else if *s < 0 {
+                    "low"
+                } else {
+                    "centre"
+                }
+            )
+        })
+        .collect();
+    DesignError::inconsistent(format!(
+        "the circuit is invalid at the tolerance corner ({}): {e}; narrow those bands",
+        at.join(", ")
+    ))
+}
+
+fn corners<C: Circuit>(prep: &Prepared<C>, limit: usize) -> Result<(Found, u64), DesignError> {
+    let varied = prep.varied();
+    let n = varied.len();
+    if n > limit {
+        return Err(DesignError::Parameter {
+            reason: format!("{n} parameters vary, so 2^{n} corners exceed the limit of 2^{limit}: fix some bands at zero or use the sensitivity-sign method"),
+        });
+    }
+    let m = prep.bands.len();
+    let mut sides = vec![0i8; m];
+    let mut values = prep.centres.clone();
+    let mut best: [[(f64, u64); 2]; 4] = [[(f64::INFINITY, 0), (f64::NEG_INFINITY, 0)]; 4];
+    let count = 1u64 << n;
+    for mask in 0..count {
+        for (j, &i) in varied.iter().enumerate() {
+            sides[i] = if mask >> j & 1 == 1 { 1 } else { -1 };
+        }
+        set_sides(prep, &sides, &mut values);
+        let f = evaluate(&prep.circuit, &values)
+            .map_err(|e| corner_error(prep, &sides, e))?
+            .as_array();
+        for q in 0..4 {
+            if f[q] < best[q][0].0 {
+                best[q][0] = (f[q], mask);
+            }
+            if f[q] > best[q][1].0 {
+                best[q][1] = (f[q], mask);
+            }
+        }
+    }
+    let to_sides = |mask: u64| {
+        let mut s = vec![0i8; m];
+        for (j, &i) in varied.iter().enumerate() {
+            s[i] = if mask >> j & 1 == 1 { 1 } else { -1 };
+        }
+        s
+    };
+    let found = best.map(|[lo, hi]| [(lo.0, to_sides(lo.1)), (hi.0, to_sides(hi.1))]);
+    Ok((found, count))
+}
+
+fn sign_method<C: Circuit>(prep: &Prepared<C>) -> Result<(Found, u64), DesignError> {
+    let m = prep.bands.len();
+    let mut values = prep.centres.clone();
+    let mut out: Vec<[(f64, Vec<i8>); 2]> = Vec::with_capacity(4);
+    for (q, f) in Figure::ALL.into_iter().enumerate() {
+        let mut pair: Vec<(f64, Vec<i8>)> = Vec::with_capacity(2);
+        for dir in [-1i8, 1] {
+            let sides: Vec<i8> = (0..m)
+                .map(|i| {
+                    let d = prep.sensitivity(f, i);
+                    if !prep.bands[i].is_varied() || d == 0.0 {
+                        0
+                    } else if d > 0.0 {
+                        dir
+                    } else {
+                        -dir
+                    }
+                })
+                .collect();
+            set_sides(prep, &sides, &mut values);
+            let v = evaluate(&prep.circuit, &values)
+                .map_err(|e| corner_error(prep, &sides, e))?
+                .as_array()[q];
+            pair.push((v, sides));
+        }
+        let hi = pair.pop().unwrap_or_default();
+        let lo = pair.pop().unwrap_or_default();
+        out.push([lo, hi]);
+    }
+    let mut it = out.into_iter();
+    let mut next = || it.next().unwrap_or_default();
+    Ok(([next(), next(), next(), next()], 8))
+}
+
+fn assemble<C: Circuit>(
+    prep: &Prepared<C>,
+    method: WorstCaseMethod,
+    found: Found,
+    evaluations: u64,
+    shortfall: Option<Figures>,
+) -> WorstCase {
+    let extreme = |(value_v, sides): &(f64, Vec<i8>)| Extreme {
+        value_v: *value_v,
+        corner: prep
+            .bands
+            .iter()
+            .zip(sides)
+            .filter(|(b, _)| b.is_varied())
+            .map(|(b, &s)| CornerSide {
+                id: b.parameter.id.clone(),
+                side: match s {
+                    1 => Side::High,
+                    -1 => Side::Low,
+                    _ => Side::Centre,
+                },
+            })
+            .collect(),
+    };
+    let ex = |q: usize| Extremes {
+        min: extreme(&found[q][0]),
+        max: extreme(&found[q][1]),
+    };
+    WorstCase {
+        method,
+        varied_parameters: prep.varied().len(),
+        evaluations,
+        vt_upper: ex(0),
+        vt_lower: ex(1),
+        hysteresis: ex(2),
+        centre: ex(3),
+        sign_method_shortfall: shortfall,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::device::Comparator;
+    use crate::topology::inverting::InvertingSchmitt;
+
+    fn design() -> InvertingSchmitt {
+        let dev = Comparator {
+            offset_v: 0.003,
+            bias_plus_a: 50e-9,
+            bias_minus_a: 50e-9,
+            source_resistance_ohm: 1e3,
+            ..Comparator::ideal(5.0)
+        };
+        InvertingSchmitt::single_supply(12e3, 10e3, 47e3, dev)
+    }
+
+    #[test]
+    fn corners_and_sign_method_agree_for_the_monotonic_inverting_case() {
+        // DOMAIN §2: threshold signs against every parameter are fixed in topology a, so both
+        // methods must land on the same corners.
+        let s = ToleranceSettings::default();
+        let wc = worst_case(&design(), &s).unwrap();
+        assert_eq!(wc.method, WorstCaseMethod::Corners);
+        let sign = worst_case_sensitivity_sign(&design(), &s).unwrap();
+        // The thresholds: bit-identical values, at the same corner for every parameter the
+        // threshold depends on (the sign method leaves the others, e.g. VOL for VT+, at the centre).
+        for f in [Figure::VtUpper, Figure::VtLower] {
+            for (a, b) in [
+                (&wc.figure(f).min, &sign.figure(f).min),
+                (&wc.figure(f).max, &sign.figure(f).max),
+            ] {
+                assert_eq!(a.value_v, b.value_v, "{f:?}");
+                for (x, y) in a.corner.iter().zip(&b.corner) {
+                    assert!(
+                        y.side == Side::Centre || x.side == y.side,
+                        "{f:?} {x:?} {y:?}"
+                    );
+                }
+            }
+        }
+        // The hysteresis k·(VOH − VOL) is monotonic too; it differs only by rounding where the
+        // sign method leaves a parameter the hysteresis does not depend on (the offset) at its centre.
+        let short = wc.sign_method_shortfall.unwrap();
+        assert_eq!((short.vt_upper_v, short.vt_lower_v), (0.0, 0.0));
+        assert!(short.hysteresis_v < 1e-15, "{}", short.hysteresis_v);
+        // Ra (to the supply) high lowers VT+: DOMAIN §2 a, ∂VT/∂Ra = (VT − VA)·Rp/Ra² < 0.
+        let side = |e: &Extreme, id: &str| e.corner.iter().find(|c| c.id == id).map(|c| c.side);
+        assert_eq!(side(&wc.vt_upper.min, "ra_ohm"), Some(Side::High));
+        assert_eq!(side(&wc.vt_upper.max, "ra_ohm"), Some(Side::Low));
+        assert_eq!(side(&wc.vt_upper.max, "supply_v"), Some(Side::High));
+    }
+
+    #[test]
+    fn resistor_only_extremes_match_the_closed_form() {
+        // Rail-to-rail closed form (DOMAIN §1a): VT+ = VCC·Rb/(Rb + Ra‖Rf); highest with Rb high,
+        // Ra and Rf low.
+        let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0));
+        let s = ToleranceSettings {
+            supply_tolerance_pct: 0.0,
+            output_level_tolerance_v: 0.0,
+            offset_v: Some(0.0),
+            temperature_min_c: 25.0,
+            temperature_max_c: 25.0,
+            ..Default::default()
+        };
+        let wc = worst_case(&c, &s).unwrap();
+        assert_eq!(wc.varied_parameters, 3);
+        assert_eq!(wc.evaluations, 8 + 8);
+        let par = |a: f64, b: f64| a * b / (a + b);
+        let (ra, rb, rf) = (9.9e3, 10.1e3, 19.8e3);
+        let expected = 5.0 * rb / (rb + par(ra, rf));
+        assert!((wc.vt_upper.max.value_v - expected).abs() < 1e-12);
+    }
+
+    #[test]
+    fn too_many_parameters_fall_back_to_the_sign_method() {
+        let s = ToleranceSettings {
+            corner_limit: 2,
+            ..Default::default()
+        };
+        let wc = worst_case(&design(), &s).unwrap();
+        assert_eq!(wc.method, WorstCaseMethod::SensitivitySign);
+        assert_eq!(wc.sign_method_shortfall, None);
+        assert_eq!(wc.evaluations, 8);
+    }
+
+    #[test]
+    fn an_invalid_corner_is_reported_with_the_bands_to_narrow() {
+        // A supply band that reaches below the negative rail (0 V) makes the low corners invalid.
+        let mut s = ToleranceSettings::default();
+        s.overrides.push(super::super::ParameterTolerance {
+            id: "supply_v".into(),
+            band: Some(super::super::ToleranceBand::Limits([-1.0, 6.0])),
+            ..Default::default()
+        });
+        let e = worst_case(
+            &InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0)),
+            &s,
+        )
+        .unwrap_err();
+        assert!(e.to_string().contains("supply_v low"), "{e}");
+    }
+}
