@@ -1,0 +1,145 @@
+//! Parts: exact values from the targets, then the best standard-value combinations, each one
+//! pickable. All arithmetic is `core`'s (synthesis, search, apply); this section only asks and shows.
+
+use super::state::Notebook;
+use crate::fields::QuantityField;
+use hysteron_core::eseries::ESeries;
+use hysteron_core::evaluate::Synthesis;
+use hysteron_core::notation::{format_with_unit, Unit};
+use hysteron_core::search::{apply, search, SearchReport, SearchSettings};
+use hysteron_core::topology::{analyse, synthesise, Circuit, ParameterKind};
+use leptos::prelude::*;
+
+const SERIES: [ESeries; 7] = [ESeries::E3, ESeries::E6, ESeries::E12, ESeries::E24, ESeries::E48, ESeries::E96, ESeries::E192];
+
+fn ohms(v: f64) -> String {
+    format_with_unit(v, 4, Unit::Ohm)
+}
+
+/// The parts section: synthesise, search standard values, pick an alternative.
+#[component]
+pub fn PartsSection() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let settings = Signal::derive(move || nb.with_current(|r| r.search.clone().unwrap_or_default()).unwrap_or_default());
+    let exact = RwSignal::new(None::<Result<Synthesis, String>>);
+    let found = RwSignal::new(None::<Result<SearchReport, String>>);
+    let elapsed_ms = RwSignal::new(None::<f64>);
+    // A new design or new targets make old answers stale.
+    Effect::new(move |_| {
+        nb.current.track();
+        let _ = nb.with_current(|r| r.targets);
+        exact.set(None);
+        found.set(None);
+    });
+    let run = move |_| {
+        let Some(record) = nb.with_current_untracked(|r| r.clone()) else { return };
+        let Some(targets) = record.targets else {
+            exact.set(Some(Err("enter the thresholds wanted (Purpose and targets) first".into())));
+            return;
+        };
+        let t0 = web_sys::window().and_then(|w| w.performance()).map(|p| p.now());
+        let syn = synthesise(&record.circuit, &targets)
+            .and_then(|c| analyse(&c, &record.checks).map(|a| Synthesis { circuit: c, analysis: a }));
+        let base = syn.as_ref().map(|s| s.circuit.clone()).unwrap_or_else(|_| record.circuit.clone());
+        let settings = record.search.clone().unwrap_or_default();
+        let report = search(&base, targets.thresholds(), &settings, &record.checks).map_err(|e| e.to_string());
+        if let (Some(a), Some(p)) = (t0, web_sys::window().and_then(|w| w.performance())) {
+            elapsed_ms.set(Some(p.now() - a));
+        }
+        exact.set(Some(syn.map_err(|e| e.to_string())));
+        found.set(Some(report));
+    };
+    let use_exact = move |_| {
+        if let Some(Ok(s)) = exact.get_untracked() {
+            let c = s.circuit;
+            nb.edit(move |r| r.circuit = c);
+        }
+    };
+    let set_series = move |ev| {
+        let v = event_target_value(&ev);
+        if let Ok(s) = v.parse::<ESeries>() {
+            nb.edit(move |r| {
+                let mut st = r.search.clone().unwrap_or_default();
+                st.series = s;
+                r.search = Some(st);
+                r.parts.series = s;
+                r.parts.tolerance_pct = s.usual_tolerance_pct();
+            });
+        }
+    };
+    let range_field = move |id: &'static str, label: &'static str, get: fn(&SearchSettings) -> f64, put: fn(&mut SearchSettings, f64)| {
+        let value = Signal::derive(move || get(&settings.get()));
+        let on_value = Callback::new(move |v: f64| {
+            nb.edit_keyed(id, move |r| {
+                let mut st = r.search.clone().unwrap_or_default();
+                put(&mut st, v);
+                r.search = Some(st);
+            })
+        });
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit="Ω" value on_value /> }
+    };
+    view! {
+        <section class="card" aria-labelledby="parts-heading" id="parts">
+            <h2 id="parts-heading">"Parts from the targets"</h2>
+            <div class="row">
+                <div class="field">
+                    <label for="search-series">"Standard values"</label>
+                    <select id="search-series" prop:value=move || settings.get().series.to_string() on:change=set_series>
+                        {SERIES.iter().map(|s| view! { <option value=s.to_string()>{format!("{s} ({} %)", s.usual_tolerance_pct())}</option> }).collect_view()}
+                    </select>
+                </div>
+                {range_field("search-r-min", "Smallest resistor", |s| s.r_min_ohm, |s, v| s.r_min_ohm = v)}
+                {range_field("search-r-max", "Largest resistor", |s| s.r_max_ohm, |s, v| s.r_max_ohm = v)}
+                <button id="find-parts" on:click=run>"Find parts"</button>
+            </div>
+            {move || exact.get().map(|res| match res {
+                Err(e) => view! { <p class="error" id="synthesis-error" role="alert">{e}</p> }.into_any(),
+                Ok(s) => {
+                    let parts = s.circuit.parameters().into_iter().filter(|p| p.kind == ParameterKind::Resistor)
+                        .map(|p| format!("{} {}", p.designator.unwrap_or_default(), ohms(p.value))).collect::<Vec<_>>().join(", ");
+                    view! {
+                        <div class="exact" id="synthesis-result">
+                            <p>"Exact values: " <span id="exact-parts">{parts}</span> " → VT+ "
+                                <output id="exact-vt-upper" data-value=s.analysis.vt_upper_v.to_string()>{format!("{:.4} V", s.analysis.vt_upper_v)}</output>
+                                ", VT− " <output id="exact-vt-lower" data-value=s.analysis.vt_lower_v.to_string()>{format!("{:.4} V", s.analysis.vt_lower_v)}</output></p>
+                            <button class="quiet" id="use-exact" on:click=use_exact>"Use exact values"</button>
+                        </div>
+                    }.into_any()
+                }
+            })}
+            {move || found.get().map(|res| match res {
+                Err(e) => view! { <p class="error" id="search-error" role="alert">{e}</p> }.into_any(),
+                Ok(rep) => {
+                    let head: Vec<String> = rep.candidates.first().map(|c| c.parts.iter().map(|p| p.designator.clone().unwrap_or_else(|| p.id.clone())).collect()).unwrap_or_default();
+                    view! {
+                        <p class="note">{format!("{} combinations of {} checked; {} solved for directly", rep.combinations, rep.series, rep.solved_id)}
+                            {move || elapsed_ms.get().map(|ms| format!(" ({ms:.1} ms)"))}</p>
+                        <table class="grid" id="alternatives">
+                            <thead><tr><th>"#"</th>{head.into_iter().map(|h| view! { <th>{h}</th> }).collect_view()}
+                                <th>"VT+"</th><th>"VT−"</th><th>"worst error"</th><th></th></tr></thead>
+                            <tbody>
+                                {rep.candidates.into_iter().enumerate().map(|(i, c)| {
+                                    let cand = c.clone();
+                                    let pick = move |_| {
+                                        let cand = cand.clone();
+                                        nb.edit(move |r| if let Ok(n) = apply(&r.circuit, &cand) { r.circuit = n; });
+                                    };
+                                    view! {
+                                        <tr class="alternative">
+                                            <td>{i + 1}</td>
+                                            {c.parts.iter().map(|p| view! { <td>{ohms(p.value_ohm)}</td> }).collect_view()}
+                                            <td>{format!("{:.4} V", c.vt_upper_v)}</td>
+                                            <td>{format!("{:.4} V", c.vt_lower_v)}</td>
+                                            <td>{format!("{:.3} %", c.worst_error_rel * 100.0)}</td>
+                                            <td><button class="quiet small use-alternative" on:click=pick>"Use"</button></td>
+                                        </tr>
+                                    }
+                                }).collect_view()}
+                            </tbody>
+                        </table>
+                    }.into_any()
+                }
+            })}
+        </section>
+    }
+}
