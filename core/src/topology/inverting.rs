@@ -181,7 +181,7 @@ impl Circuit for InvertingSchmitt {
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, ParameterKind::Offset));
+        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, ParameterKind::Device));
         v
     }
 

@@ -614,7 +614,7 @@ pub(crate) fn push_device_parameters(d: &Comparator, with_bias_minus: bool, v: &
     if with_bias_minus {
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
     }
-    v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Offset));
+    v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
 }
 
 /// Reads the device quantities back in the order of [`push_device_parameters`].

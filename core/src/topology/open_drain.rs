@@ -412,7 +412,7 @@ impl Circuit for OpenDrainSchmitt {
         if self.has_bias_minus() {
             v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
         }
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Offset));
+        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
         v
     }
 
