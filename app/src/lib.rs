@@ -7,6 +7,7 @@ pub mod fields;
 pub mod panic;
 pub mod plot;
 pub mod storage;
+pub mod tick;
 pub mod view;
 
 

@@ -110,3 +110,58 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
     root.present().map_err(err)?;
     Ok(())
 }
+
+/// Draws a histogram of Monte Carlo results with the spec window's limits marked.
+pub fn draw_histogram(
+    canvas: &HtmlCanvasElement,
+    hist: &hysteron_core::tolerance::monte_carlo::Histogram,
+    x_label: &str,
+    spec_min: Option<f64>,
+    spec_max: Option<f64>,
+) -> Result<(), String> {
+    let dpr = fit_canvas(canvas);
+    let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
+    let root = backend.into_drawing_area();
+    root.fill(&WHITE).map_err(err)?;
+    let n = hist.counts.len();
+    if n == 0 || !(hist.upper_v > hist.lower_v) {
+        return Err("plot: empty histogram".into());
+    }
+    let mut x0 = hist.lower_v;
+    let mut x1 = hist.upper_v;
+    for v in [spec_min, spec_max].into_iter().flatten() {
+        x0 = x0.min(v);
+        x1 = x1.max(v);
+    }
+    let pad = (x1 - x0) * 0.05;
+    let ymax = hist.counts.iter().copied().max().unwrap_or(1).max(1) as f64 * 1.1;
+    let font = (11.0 * dpr) as u32;
+    let mut chart = ChartBuilder::on(&root)
+        .margin((8.0 * dpr) as u32)
+        .x_label_area_size((30.0 * dpr) as u32)
+        .y_label_area_size((44.0 * dpr) as u32)
+        .build_cartesian_2d((x0 - pad)..(x1 + pad), 0.0..ymax)
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc(x_label)
+        .y_desc("trials")
+        .label_style(("sans-serif", font).into_font().color(&colours::INK))
+        .axis_desc_style(("sans-serif", font).into_font().color(&colours::INK))
+        .light_line_style(RGBColor(0xee, 0xee, 0xee))
+        .draw()
+        .map_err(err)?;
+    chart
+        .draw_series(hist.counts.iter().enumerate().map(|(i, &c)| {
+            let a = hist.lower_v + i as f64 * hist.bin_width_v;
+            Rectangle::new([(a, 0.0), (a + hist.bin_width_v, c as f64)], colours::RISING.mix(0.75).filled())
+        }))
+        .map_err(err)?;
+    for v in [spec_min, spec_max].into_iter().flatten() {
+        chart
+            .draw_series(LineSeries::new(vec![(v, 0.0), (v, ymax)], colours::FALLING.stroke_width((2.0 * dpr) as u32)))
+            .map_err(err)?;
+    }
+    root.present().map_err(err)?;
+    Ok(())
+}

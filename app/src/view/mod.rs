@@ -5,6 +5,7 @@ mod notebook;
 mod purpose;
 mod results;
 mod starters;
+mod tolerance;
 pub mod state;
 
 use leptos::prelude::*;
@@ -47,7 +48,7 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <results::Results /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <results::Results /> <tolerance::ToleranceSection /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}

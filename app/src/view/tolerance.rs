@@ -1,0 +1,323 @@
+//! Tolerance: worst case, GUM and the error budget live as the design changes; Monte Carlo on
+//! request, in slices with a progress bar and a cancel button, with histograms and the yield
+//! against the spec window. All numbers come from `core::tolerance`.
+
+use super::state::Notebook;
+use crate::fields::{OptionalQuantityField, QuantityField};
+use crate::plot;
+use crate::tick::later;
+use hysteron_core::tolerance::input_standard::{check_input_types, InputType};
+use hysteron_core::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
+use hysteron_core::topology::Topology;
+use leptos::html::Canvas;
+use leptos::prelude::*;
+
+/// Trials per slice: small enough that one slice takes a few milliseconds in the browser.
+const SLICE: u64 = 4000;
+
+struct Job {
+    run: MonteCarloRun<Topology>,
+    partial: MonteCarloPartial,
+    generation: u64,
+}
+
+#[derive(Clone, Copy)]
+struct McState {
+    job: StoredValue<Option<Job>>,
+    generation: RwSignal<u64>,
+    progress: RwSignal<Option<f64>>,
+    result: RwSignal<Option<Result<MonteCarloResult, String>>>,
+    elapsed_ms: RwSignal<f64>,
+    started_ms: RwSignal<f64>,
+}
+
+fn step(st: McState, generation: u64) {
+    if st.generation.get_untracked() != generation {
+        return;
+    }
+    let outcome = st.job.try_update_value(|job| {
+        let job = job.as_mut()?;
+        if job.generation != generation {
+            return None;
+        }
+        let total = job.run.trials();
+        let start = job.partial.end;
+        let end = (start + SLICE).min(total);
+        let res = job.run.run(start, end).and_then(|next| job.partial.merge(next));
+        Some(match res {
+            Err(e) => Err(e.to_string()),
+            Ok(()) if job.partial.end >= total => Ok(Some(job.run.finish(&job.partial).map_err(|e| e.to_string()))),
+            Ok(()) => Ok(None),
+        }
+        .map(|done| (done, job.partial.end as f64 / total.max(1) as f64)))
+    });
+    match outcome.flatten() {
+        None => {}
+        Some(Err(e)) => {
+            st.result.set(Some(Err(e)));
+            st.progress.set(None);
+        }
+        Some(Ok((Some(done), _))) => {
+            st.elapsed_ms.set(crate::tick::now_ms() - st.started_ms.get_untracked());
+            st.result.set(Some(done));
+            st.progress.set(None);
+            st.job.set_value(None);
+        }
+        Some(Ok((None, p))) => {
+            st.progress.set(Some(p));
+            later(move || step(st, generation));
+        }
+    }
+}
+
+fn mv(v: f64) -> String {
+    format!("{:.2} mV", v * 1e3)
+}
+
+fn volts(v: f64) -> String {
+    format!("{v:.4} V")
+}
+
+/// The tolerance section.
+#[component]
+pub fn ToleranceSection() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let settings = Memo::new(move |_| nb.with_current(|r| r.tolerance.clone().unwrap_or_default()).unwrap_or_default());
+    let edit = move |key: &'static str, f: Box<dyn Fn(&mut ToleranceSettings)>| {
+        nb.edit_keyed(key, move |r| {
+            let mut s = r.tolerance.clone().unwrap_or_default();
+            f(&mut s);
+            r.tolerance = Some(s);
+        })
+    };
+    let quick = Memo::new(move |_| {
+        let s = settings.get();
+        nb.with_current(|r| {
+            let wc = worst_case(&r.circuit, &s).map_err(|e| e.to_string())?;
+            let g = gum(&r.circuit, &s).map_err(|e| e.to_string())?;
+            let b = error_budget(&r.circuit, &s).map_err(|e| e.to_string())?;
+            let types = check_input_types(&wc);
+            Ok::<_, String>((wc, g, b, types))
+        })
+        .unwrap_or_else(|| Err("no design open".into()))
+    });
+    let st = McState {
+        job: StoredValue::new(None),
+        generation: RwSignal::new(0),
+        progress: RwSignal::new(None),
+        result: RwSignal::new(None),
+        elapsed_ms: RwSignal::new(0.0),
+        started_ms: RwSignal::new(0.0),
+    };
+    // A different design or changed settings make an old Monte Carlo result stale.
+    Effect::new(move |_| {
+        nb.current.track();
+        settings.track();
+        let _ = nb.with_current(|r| r.circuit.clone());
+        st.generation.update(|g| *g += 1);
+        st.job.set_value(None);
+        st.progress.set(None);
+        st.result.set(None);
+    });
+    let start = move |_| {
+        let Some(circuit) = nb.with_current_untracked(|r| r.circuit.clone()) else { return };
+        let s = settings.get_untracked();
+        match MonteCarloRun::new(&circuit, &s) {
+            Err(e) => st.result.set(Some(Err(e.to_string()))),
+            Ok(run) => {
+                st.generation.update(|g| *g += 1);
+                let generation = st.generation.get_untracked();
+                let partial = MonteCarloPartial {
+                    start: 0,
+                    end: 0,
+                    vt_upper_v: Vec::new(),
+                    vt_lower_v: Vec::new(),
+                    rejected_trials: 0,
+                    inside_spec: 0,
+                    spec_violations: [0; 8],
+                };
+                st.job.set_value(Some(Job { run, partial, generation }));
+                st.result.set(None);
+                st.progress.set(Some(0.0));
+                st.started_ms.set(crate::tick::now_ms());
+                later(move || step(st, generation));
+            }
+        }
+    };
+    let cancel = move |_| {
+        st.generation.update(|g| *g += 1);
+        st.job.set_value(None);
+        st.progress.set(None);
+    };
+    let pct = move |id: &'static str, label: &'static str, get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
+        let value = Signal::derive(move || get(&settings.get()));
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit="%" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
+    };
+    let spec = move |id: &'static str, label: &'static str, get: fn(&SpecWindow) -> Option<f64>, put: fn(&mut SpecWindow, Option<f64>)| {
+        let value = Signal::derive(move || get(&settings.get().spec));
+        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
+    };
+    let hist_canvases: [NodeRef<Canvas>; 3] = [NodeRef::new(), NodeRef::new(), NodeRef::new()];
+    Effect::new(move |_| {
+        let s = settings.get();
+        st.result.with(|r| {
+            if let Some(Ok(mc)) = r {
+                let sets = [
+                    (&mc.vt_upper.histogram, "VT+ (V)", s.spec.vt_upper_min_v, s.spec.vt_upper_max_v),
+                    (&mc.vt_lower.histogram, "VT− (V)", s.spec.vt_lower_min_v, s.spec.vt_lower_max_v),
+                    (&mc.hysteresis.histogram, "hysteresis (V)", s.spec.hysteresis_min_v, s.spec.hysteresis_max_v),
+                ];
+                for (node, (h, label, lo, hi)) in hist_canvases.iter().zip(sets) {
+                    if let Some(c) = node.get() {
+                        let _ = plot::draw_histogram(&c, h, label, lo, hi);
+                    }
+                }
+            }
+        })
+    });
+    view! {
+        <section class="card" aria-labelledby="tolerance-heading" id="tolerance">
+            <h2 id="tolerance-heading">"Tolerance"</h2>
+            <div class="field-grid">
+                <div class="field">
+                    <label for="tol-distribution">"Distribution of every part"</label>
+                    <select id="tol-distribution"
+                        prop:value=move || if settings.get().distribution == Distribution::Uniform { "uniform" } else { "normal" }
+                        on:change=move |ev| { let n = event_target_value(&ev) == "normal";
+                            edit("tol-distribution", Box::new(move |s| s.distribution = if n { Distribution::Normal } else { Distribution::Uniform })) }>
+                        <option value="uniform">"uniform within the tolerance"</option>
+                        <option value="normal">"normal, tolerance at 3 σ"</option>
+                    </select>
+                </div>
+                {pct("tol-resistor", "Resistor tolerance", |s| s.resistor_tolerance_pct, |s, v| s.resistor_tolerance_pct = v)}
+                {pct("tol-supply", "Supply tolerance", |s| s.supply_tolerance_pct, |s, v| s.supply_tolerance_pct = v)}
+                {pct("tol-reference", "Reference tolerance", |s| s.reference_tolerance_pct, |s, v| s.reference_tolerance_pct = v)}
+                {pct("tol-threshold", "Gate/transistor threshold tolerance", |s| s.device_threshold_tolerance_pct, |s, v| s.device_threshold_tolerance_pct = v)}
+                <QuantityField id="tol-tempco".to_string() label="Resistor tempco".to_string() unit="ppm/K"
+                    value=Signal::derive(move || settings.get().resistor_tempco_ppm_per_k)
+                    on_value=Callback::new(move |v| edit("tol-tempco", Box::new(move |s| s.resistor_tempco_ppm_per_k = v))) />
+                <QuantityField id="tol-temp-min".to_string() label="Temperature from".to_string() unit="°C"
+                    value=Signal::derive(move || settings.get().temperature_min_c)
+                    on_value=Callback::new(move |v| edit("tol-temp-min", Box::new(move |s| s.temperature_min_c = v))) />
+                <QuantityField id="tol-temp-max".to_string() label="Temperature to".to_string() unit="°C"
+                    value=Signal::derive(move || settings.get().temperature_max_c)
+                    on_value=Callback::new(move |v| edit("tol-temp-max", Box::new(move |s| s.temperature_max_c = v))) />
+            </div>
+            <fieldset class="plain">
+                <legend>"Spec window (the yield counts boards inside it)"</legend>
+                <div class="field-grid">
+                    {spec("spec-vt-upper-min", "VT+ at least", |w| w.vt_upper_min_v, |w, v| w.vt_upper_min_v = v)}
+                    {spec("spec-vt-upper-max", "VT+ at most", |w| w.vt_upper_max_v, |w, v| w.vt_upper_max_v = v)}
+                    {spec("spec-vt-lower-min", "VT− at least", |w| w.vt_lower_min_v, |w, v| w.vt_lower_min_v = v)}
+                    {spec("spec-vt-lower-max", "VT− at most", |w| w.vt_lower_max_v, |w, v| w.vt_lower_max_v = v)}
+                    {spec("spec-hyst-min", "Hysteresis at least", |w| w.hysteresis_min_v, |w, v| w.hysteresis_min_v = v)}
+                    <div class="field">
+                        <label for="spec-input-type">"24 V input type (IEC 61131-2)"</label>
+                        <select id="spec-input-type"
+                            prop:value=move || match settings.get().spec_input_type { None => "none", Some(InputType::Type1) => "type1", Some(InputType::Type2) => "type2", Some(InputType::Type3) => "type3" }
+                            on:change=move |ev| { let v = event_target_value(&ev);
+                                let t = match v.as_str() { "type1" => Some(InputType::Type1), "type2" => Some(InputType::Type2), "type3" => Some(InputType::Type3), _ => None };
+                                edit("spec-input-type", Box::new(move |s| { s.spec_input_type = t; s.check_input_types = t.is_some(); })) }>
+                            <option value="none">"not a 24 V input"</option>
+                            <option value="type1">"Type 1"</option>
+                            <option value="type2">"Type 2"</option>
+                            <option value="type3">"Type 3"</option>
+                        </select>
+                    </div>
+                </div>
+            </fieldset>
+            {move || match quick.get() {
+                Err(e) => view! { <p class="error" id="tolerance-error" role="alert">{e}</p> }.into_any(),
+                Ok((wc, g, b, types)) => {
+                    let rows = [
+                        ("VT+", &wc.vt_upper, &g.vt_upper, "wc-vt-upper"),
+                        ("VT−", &wc.vt_lower, &g.vt_lower, "wc-vt-lower"),
+                        ("Hysteresis", &wc.hysteresis, &g.hysteresis, "wc-hysteresis"),
+                    ];
+                    let show_types = settings.get().check_input_types;
+                    view! {
+                        <table class="grid" id="worst-case">
+                            <thead><tr><th></th><th>"worst-case min"</th><th>"worst-case max"</th><th>"GUM u"</th><th>"GUM U (k = 2)"</th></tr></thead>
+                            <tbody>
+                                {rows.into_iter().map(|(name, e, gf, id)| view! {
+                                    <tr id=id>
+                                        <td>{name}</td>
+                                        <td class="wc-min" data-value=e.min.value_v.to_string()>{volts(e.min.value_v)}</td>
+                                        <td class="wc-max" data-value=e.max.value_v.to_string()>{volts(e.max.value_v)}</td>
+                                        <td>{mv(gf.combined_standard_uncertainty_v)}</td>
+                                        <td>{mv(gf.expanded_uncertainty_v)}</td>
+                                    </tr>
+                                }).collect_view()}
+                            </tbody>
+                        </table>
+                        <p class="note">{format!("Worst case by {} over {} varied quantities ({} evaluations).",
+                            match wc.method { hysteron_core::tolerance::worst_case::WorstCaseMethod::Corners => "every corner", _ => "the sensitivity-sign method" },
+                            wc.varied_parameters, wc.evaluations)}</p>
+                        <details open>
+                            <summary>"Error budget of VT+ and VT− (largest first)"</summary>
+                            <div class="row">
+                                {[("VT+", b.vt_upper.clone()), ("VT−", b.vt_lower.clone())].into_iter().map(|(name, fb)| view! {
+                                    <table class="grid budget">
+                                        <thead><tr><th>{name}</th><th>"± limit"</th><th>"u"</th></tr></thead>
+                                        <tbody>
+                                            {fb.entries.iter().filter(|e| e.limit_mv.abs() > 1e-6).map(|e| view! {
+                                                <tr><td>{e.label.clone()}</td><td>{format!("{:.2} mV", e.limit_mv)}</td><td>{format!("{:.2} mV", e.standard_mv)}</td></tr>
+                                            }).collect_view()}
+                                            <tr><td>"linear sum"</td><td>{format!("{:.2} mV", fb.linear_sum_mv)}</td><td></td></tr>
+                                            <tr><td>"root-sum-square"</td><td>{format!("{:.2} mV", fb.rss_mv)}</td><td>{format!("{:.2} mV", fb.combined_standard_mv)}</td></tr>
+                                        </tbody>
+                                    </table>
+                                }).collect_view()}
+                            </div>
+                        </details>
+                        {show_types.then(|| view! {
+                            <ul id="input-type-checks">
+                                {types.into_iter().map(|t| view! {
+                                    <li class:warning=!t.conforms>{format!("{:?}: worst-case VT+ max {:.2} V vs ON from {:.1} V, VT− min {:.2} V vs OFF up to {:.1} V — {}",
+                                        t.limits.input_type, t.vt_upper_max_v, t.limits.on_min_v, t.vt_lower_min_v, t.limits.off_max_v,
+                                        if t.conforms { "conforms" } else { "does not conform" })}</li>
+                                }).collect_view()}
+                                <li class="note">{hysteron_core::tolerance::input_standard::STANDARD}</li>
+                            </ul>
+                        })}
+                    }.into_any()
+                }
+            }}
+            <div class="row">
+                <QuantityField id="mc-trials".to_string() label="Monte Carlo trials".to_string() unit=""
+                    value=Signal::derive(move || settings.get().monte_carlo.trials as f64)
+                    on_value=Callback::new(move |v: f64| edit("mc-trials", Box::new(move |s| s.monte_carlo.trials = v.round().clamp(1.0, 1e7) as u64))) />
+                <QuantityField id="mc-seed".to_string() label="Seed".to_string() unit=""
+                    value=Signal::derive(move || settings.get().monte_carlo.seed as f64)
+                    on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v.abs().round().min(9.0e15) as u64))) />
+                <button id="mc-run" on:click=start disabled=move || st.progress.get().is_some()>"Run Monte Carlo"</button>
+                {move || st.progress.get().map(|p| view! {
+                    <progress id="mc-progress" max="1" value=p.to_string()></progress>
+                    <button id="mc-cancel" class="quiet" on:click=cancel>"Cancel"</button>
+                })}
+            </div>
+            {move || st.result.get().map(|r| match r {
+                Err(e) => view! { <p class="error" id="mc-error" role="alert">{e}</p> }.into_any(),
+                Ok(mc) => {
+                    let y = mc.spec_yield.clone();
+                    view! {
+                        <p id="mc-summary">{format!("{} trials ({} rejected) in {:.0} ms. VT+ {:.4} ± {:.4} V, VT− {:.4} ± {:.4} V (mean ± standard deviation); 95 % of boards: VT+ {:.4}…{:.4} V, VT− {:.4}…{:.4} V.",
+                            mc.trials, mc.rejected_trials, st.elapsed_ms.get_untracked(), mc.vt_upper.mean_v, mc.vt_upper.standard_deviation_v, mc.vt_lower.mean_v, mc.vt_lower.standard_deviation_v,
+                            mc.vt_upper.interval_95_low_v, mc.vt_upper.interval_95_high_v, mc.vt_lower.interval_95_low_v, mc.vt_lower.interval_95_high_v)}</p>
+                        {match y {
+                            Some(y) => view! { <p class="yield">"Yield against the spec window: "
+                                <output id="mc-yield" data-value=y.fraction.to_string()>{format!("{:.2} % (± {:.2} %)", y.fraction * 100.0, y.standard_error * 100.0)}</output></p> }.into_any(),
+                            None => view! { <p class="note" id="mc-no-spec">"Enter a spec window to get the yield."</p> }.into_any(),
+                        }}
+                    }.into_any()
+                }
+            })}
+            <div class="histograms" class:hidden=move || !st.result.with(|r| matches!(r, Some(Ok(_))))>
+                <canvas class="hist" id="hist-vt-upper" node_ref=hist_canvases[0] role="img" aria-label="Histogram of VT+ over the Monte Carlo trials"></canvas>
+                <canvas class="hist" id="hist-vt-lower" node_ref=hist_canvases[1] role="img" aria-label="Histogram of VT− over the Monte Carlo trials"></canvas>
+                <canvas class="hist" id="hist-hysteresis" node_ref=hist_canvases[2] role="img" aria-label="Histogram of the hysteresis over the Monte Carlo trials"></canvas>
+            </div>
+        </section>
+    }
+}
