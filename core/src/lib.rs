@@ -21,3 +21,4 @@ pub mod evaluate;
 pub mod record;
 pub mod rng;
 pub mod topology;
+pub mod signal;

@@ -33,6 +33,12 @@ pub struct DesignRecord {
     /// Operating range and the numbers the design checks need.
     #[serde(default)]
     pub checks: CheckSettings,
+    /// The signal study: the waveform the design will see (generated or imported), timing and sweep.
+    #[serde(default)]
+    pub signal: Option<crate::signal::report::SignalSettings>,
+    /// Applications that ride on the thresholds: RC relaxation oscillator and RC debouncer.
+    #[serde(default)]
+    pub application: Option<crate::signal::report::ApplicationSettings>,
 }
 
 /// Why a record could not be read.
@@ -91,6 +97,8 @@ impl DesignRecord {
             circuit,
             targets: None,
             checks: CheckSettings::default(),
+            signal: None,
+            application: None,
         }
     }
 
