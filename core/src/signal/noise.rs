@@ -3,8 +3,10 @@
 //! impulse spikes.
 //!
 //! Every source draws from its own [`Rng`], seeded from the signal's seed and the source's
-//! position in the list, so editing one source leaves the others' samples unchanged. Sample loops
-//! allocate nothing.
+//! position in the list, so editing one source leaves the others' samples unchanged. Gaussian
+//! deviates come from the ziggurat method on that generator ([`super::gauss`]). Generators keep
+//! their state between blocks ([`NoiseGenerator`]), so a signal can be produced a cache-sized block
+//! at a time; sample loops allocate nothing.
 //!
 //! Band-limited noise is the output of `poles` identical first-order low-pass stages driven by
 //! white noise, sampled exactly: the stage states form a linear stochastic system whose
@@ -15,6 +17,7 @@
 //! (Standard results for linear stochastic systems; e.g. Gardiner, *Handbook of Stochastic
 //! Methods*, Ornstein–Uhlenbeck process; from memory.)
 
+use super::gauss::NormalStream;
 use super::generate::add_sinusoid;
 use crate::error::{positive, DesignError};
 use crate::rng::Rng;
@@ -224,88 +227,135 @@ pub fn source_seed(seed: u64, index: usize) -> u64 {
     seed ^ (index as u64 + 1).wrapping_mul(0x9E37_79B9_7F4A_7C15)
 }
 
-/// Adds one noise source to `out`, whose samples are at `start_s + i·step_s`. The source must have
-/// passed [`NoiseSource::validate`]. Allocation-free.
-pub fn add_noise(source: &NoiseSource, seed: u64, start_s: f64, step_s: f64, out: &mut [f64]) {
-    let mut rng = Rng::new(seed);
-    match source {
-        NoiseSource::White { rms_v } => {
-            let s = *rms_v;
-            if s == 0.0 {
-                return;
+/// A noise source's running state: call [`NoiseGenerator::add_to`] on consecutive blocks of
+/// samples (any block lengths) and the result is the same as one call on the whole record.
+#[derive(Debug, Clone)]
+pub struct NoiseGenerator {
+    state: NoiseState,
+    index: usize,
+    step_s: f64,
+}
+
+#[derive(Debug, Clone)]
+enum NoiseState {
+    Silent,
+    White { rms_v: f64, rng: Rng, zig: Box<NormalStream> },
+    Band { cascade: PoleCascade, rng: Rng, zig: Box<NormalStream> },
+    Hum { parts: Vec<(f64, f64, f64)> },
+    Spikes { rng: Rng, level: f64, next_s: f64, decay: f64, decay_s: f64, amplitude_v: f64, floor: f64, mean_gap_s: f64, polarity: SpikePolarity },
+}
+
+impl NoiseGenerator {
+    /// The generator for `source` (validated by the caller with [`NoiseSource::validate`]),
+    /// seeded with `seed`, for samples at i·`step_s`.
+    pub fn new(source: &NoiseSource, seed: u64, step_s: f64) -> Self {
+        let mut rng = Rng::new(seed);
+        let state = match source {
+            NoiseSource::White { rms_v } if *rms_v > 0.0 => NoiseState::White { rms_v: *rms_v, rng, zig: Box::new(NormalStream::new()) },
+            NoiseSource::BandLimited { rms_v, corner_hz, poles } if *rms_v > 0.0 => {
+                let mut zig = Box::new(NormalStream::new());
+                let mut cascade = PoleCascade::new(*rms_v, *corner_hz, *poles, step_s);
+                cascade.start(&mut rng, &mut zig);
+                NoiseState::Band { cascade, rng, zig }
             }
-            for v in out.iter_mut() {
-                *v += s * rng.normal();
-            }
-        }
-        NoiseSource::BandLimited { rms_v, corner_hz, poles } => {
-            if *rms_v == 0.0 {
-                return;
-            }
-            let mut g = PoleCascade::new(*rms_v, *corner_hz, *poles, step_s);
-            g.start(&mut rng);
-            if g.n == 1 {
-                let (a, b) = (g.phi[0][0], g.chol[0][0]);
-                let mut x = g.state[0];
-                for v in out.iter_mut() {
-                    *v += x;
-                    x = a * x + b * rng.normal();
+            NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } if *amplitude_v != 0.0 => {
+                let f = mains.hz();
+                let mut parts = vec![(*amplitude_v, f, phase_deg.to_radians())];
+                for h in harmonics {
+                    parts.push((amplitude_v * h.relative_amplitude, f * h.order as f64, h.phase_deg.to_radians()));
                 }
-            } else {
-                for v in out.iter_mut() {
-                    *v += g.state[g.n - 1];
-                    g.step(&mut rng);
+                NoiseState::Hum { parts }
+            }
+            NoiseSource::Spikes { rate_hz, amplitude_v, decay_s, polarity } if *rate_hz > 0.0 && *amplitude_v != 0.0 => {
+                let mean_gap_s = 1.0 / rate_hz;
+                let next_s = rng.exponential(mean_gap_s);
+                NoiseState::Spikes {
+                    rng,
+                    level: 0.0,
+                    next_s,
+                    decay: libm::exp(-step_s / decay_s),
+                    decay_s: *decay_s,
+                    amplitude_v: *amplitude_v,
+                    floor: 1e-12 * amplitude_v.abs(),
+                    mean_gap_s,
+                    polarity: *polarity,
                 }
             }
-        }
-        NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } => {
-            let f = mains.hz();
-            add_sinusoid(out, start_s, step_s, *amplitude_v, f, phase_deg.to_radians());
-            for h in harmonics {
-                add_sinusoid(
-                    out,
-                    start_s,
-                    step_s,
-                    amplitude_v * h.relative_amplitude,
-                    f * h.order as f64,
-                    h.phase_deg.to_radians(),
-                );
-            }
-        }
-        NoiseSource::Spikes { rate_hz, amplitude_v, decay_s, polarity } => {
-            if *rate_hz <= 0.0 || *amplitude_v == 0.0 || out.is_empty() {
-                return;
-            }
-            let mean_gap = 1.0 / rate_hz;
-            let d = libm::exp(-step_s / decay_s);
-            let floor = 1e-12 * amplitude_v.abs();
-            let mut level = 0.0_f64;
-            let mut next = start_s + rng.exponential(mean_gap);
-            for (i, v) in out.iter_mut().enumerate() {
-                let t = start_s + i as f64 * step_s;
-                level *= d;
-                if level.abs() < floor {
-                    level = 0.0;
-                }
-                while next <= t {
-                    let sign = match polarity {
-                        SpikePolarity::Positive => 1.0,
-                        SpikePolarity::Negative => -1.0,
-                        SpikePolarity::Random => {
-                            if rng.uniform() < 0.5 {
-                                1.0
-                            } else {
-                                -1.0
-                            }
-                        }
-                    };
-                    level += sign * amplitude_v * libm::exp(-(t - next) / decay_s);
-                    next += rng.exponential(mean_gap);
-                }
-                *v += level;
-            }
-        }
+            _ => NoiseState::Silent,
+        };
+        NoiseGenerator { state, index: 0, step_s }
     }
+
+    /// Adds the next `out.len()` samples of noise to `out`. Allocation-free.
+    pub fn add_to(&mut self, out: &mut [f64]) {
+        let first = self.index;
+        let step_s = self.step_s;
+        match &mut self.state {
+            NoiseState::Silent => {}
+            NoiseState::White { rms_v, rng, zig } => {
+                let s = *rms_v;
+                for v in out.iter_mut() {
+                    *v += s * zig.next(rng);
+                }
+            }
+            NoiseState::Band { cascade, rng, zig } => {
+                if cascade.n == 1 {
+                    let (a, b) = (cascade.phi[0][0], cascade.chol[0][0]);
+                    let mut x = cascade.state[0];
+                    for v in out.iter_mut() {
+                        *v += x;
+                        x = a * x + b * zig.next(rng);
+                    }
+                    cascade.state[0] = x;
+                } else {
+                    for v in out.iter_mut() {
+                        *v += cascade.state[cascade.n - 1];
+                        cascade.step(rng, zig);
+                    }
+                }
+            }
+            NoiseState::Hum { parts } => {
+                for &(a, f, p) in parts.iter() {
+                    add_sinusoid(out, first, step_s, a, f, p);
+                }
+            }
+            NoiseState::Spikes { rng, level, next_s, decay, decay_s, amplitude_v, floor, mean_gap_s, polarity } => {
+                for (k, v) in out.iter_mut().enumerate() {
+                    let i = first + k;
+                    let t = i as f64 * step_s;
+                    if i > 0 {
+                        *level *= *decay;
+                    }
+                    if level.abs() < *floor {
+                        *level = 0.0;
+                    }
+                    while *next_s <= t {
+                        let sign = match polarity {
+                            SpikePolarity::Positive => 1.0,
+                            SpikePolarity::Negative => -1.0,
+                            SpikePolarity::Random => {
+                                if rng.uniform() < 0.5 {
+                                    1.0
+                                } else {
+                                    -1.0
+                                }
+                            }
+                        };
+                        *level += sign * *amplitude_v * libm::exp(-(t - *next_s) / *decay_s);
+                        *next_s += rng.exponential(*mean_gap_s);
+                    }
+                    *v += *level;
+                }
+            }
+        }
+        self.index += out.len();
+    }
+}
+
+/// Adds one noise source to `out`, whose samples are at i·`step_s` from t = 0. The source must
+/// have passed [`NoiseSource::validate`]. Allocation-free apart from the generator's tables.
+pub fn add_noise(source: &NoiseSource, seed: u64, step_s: f64, out: &mut [f64]) {
+    NoiseGenerator::new(source, seed, step_s).add_to(out);
 }
 
 /// Exact sampling of `n` identical first-order low-pass stages driven by white noise.
@@ -412,10 +462,10 @@ impl PoleCascade {
     }
 
     /// Draws the state from the stationary distribution (so the noise has its full RMS from the first sample).
-    pub(crate) fn start(&mut self, rng: &mut Rng) {
+    pub(crate) fn start(&mut self, rng: &mut Rng, zig: &mut NormalStream) {
         let mut w = [0.0; 4];
         for x in w.iter_mut().take(self.n) {
-            *x = rng.normal();
+            *x = zig.next(rng);
         }
         for j in 0..self.n {
             let mut s = 0.0;
@@ -428,11 +478,11 @@ impl PoleCascade {
 
     /// Advances the state by one sample interval.
     #[inline]
-    pub(crate) fn step(&mut self, rng: &mut Rng) {
+    pub(crate) fn step(&mut self, rng: &mut Rng, zig: &mut NormalStream) {
         let n = self.n;
         let mut w = [0.0; 4];
         for x in w.iter_mut().take(n) {
-            *x = rng.normal();
+            *x = zig.next(rng);
         }
         let old = self.state;
         for j in 0..n {
@@ -471,7 +521,7 @@ mod tests {
     #[test]
     fn white_noise_has_its_rms() {
         let mut v = vec![0.0; 100_000];
-        add_noise(&NoiseSource::White { rms_v: 0.25 }, 3, 0.0, 1e-6, &mut v);
+        add_noise(&NoiseSource::White { rms_v: 0.25 }, 3, 1e-6, &mut v);
         let (m, s) = stats(&v);
         // Standard error of σ: σ/√(2n) ≈ 0.00056.
         assert!(m.abs() < 0.004, "{m}");
@@ -484,7 +534,7 @@ mod tests {
         // Corner 1 kHz at 100 kHz: ωΔ = 0.0628, lag-10 correlation 0.5335.
         for poles in 1..=4u8 {
             let mut v = vec![0.0; 400_000];
-            add_noise(&NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 1000.0, poles }, 11, 0.0, 1e-5, &mut v);
+            add_noise(&NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 1000.0, poles }, 11, 1e-5, &mut v);
             let (m, s) = stats(&v);
             // Correlated samples: effective count ≈ n·(ωΔ)/2 ≈ 12 000, so σ's standard error ≈ 0.1/√(2·12 000) ≈ 0.0007;
             // more poles correlate longer, so allow 5 %.
@@ -506,7 +556,7 @@ mod tests {
         let fs = 50_000.0;
         let fc = 500.0;
         let mut v = vec![0.0; 1_000_000];
-        add_noise(&NoiseSource::BandLimited { rms_v: 1.0, corner_hz: fc, poles: 2 }, 5, 0.0, 1.0 / fs, &mut v);
+        add_noise(&NoiseSource::BandLimited { rms_v: 1.0, corner_hz: fc, poles: 2 }, 5, 1.0 / fs, &mut v);
         let k = (fs / (2.0 * std::f64::consts::PI * fc)).round() as usize;
         let tau = k as f64 / fs;
         let w = 2.0 * std::f64::consts::PI * fc * tau;
@@ -524,7 +574,7 @@ mod tests {
         ];
         let run = |s: &NoiseSource, i: usize| {
             let mut v = vec![0.0; 5000];
-            add_noise(s, source_seed(9, i), 0.0, 1e-6, &mut v);
+            add_noise(s, source_seed(9, i), 1e-6, &mut v);
             v
         };
         assert_eq!(run(&src[0], 0), run(&src[0], 0));
@@ -541,7 +591,6 @@ mod tests {
         add_noise(
             &NoiseSource::Spikes { rate_hz: 2000.0, amplitude_v: 1.0, decay_s: 1e-5, polarity: SpikePolarity::Positive },
             source_seed(1, 0),
-            0.0,
             1e-6,
             &mut v,
         );
@@ -553,7 +602,7 @@ mod tests {
     fn hum_peak_and_validation() {
         let h = NoiseSource::Hum { mains: MainsFrequency::Hz60, amplitude_v: 0.075, phase_deg: 0.0, harmonics: vec![] };
         let mut v = vec![0.0; 100_000];
-        add_noise(&h, 0, 0.0, 1e-5, &mut v);
+        add_noise(&h, 0, 1e-5, &mut v);
         let max = v.iter().cloned().fold(f64::MIN, f64::max);
         assert!((max - 0.075).abs() < 1e-4);
         assert!(h.validate(100.0).is_err());

@@ -157,7 +157,7 @@ pub fn run_sweep(
     unit.validate(def.sample_rate_hz)?;
     let n = base_v.len();
     let mut unit_v = vec![0.0; n];
-    add_noise(&unit, source_seed(def.seed, def.noise.len()), 0.0, def.step_s(), &mut unit_v);
+    add_noise(&unit, source_seed(def.seed, def.noise.len()), def.step_s(), &mut unit_v);
     // Gaussian moments per volt of sweep noise, plus the kept sources' own.
     let (_, s1_unit) = unit.gaussian_moments(def.sample_rate_hz).unwrap_or((1.0, 0.0));
     let kept = if settings.keep_other_noise {

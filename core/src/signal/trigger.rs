@@ -218,14 +218,55 @@ pub fn run_trigger(
     let mut pending: Option<Pending> = None;
     let (mut rising, mut falling) = (0usize, 0usize);
 
-    let mut prev = match volts.first() {
-        Some(&v) => v,
-        None => {
-            return TriggerOutcome { initial_output_high, final_output_high: initial_output_high, edges: 0, rising: 0, falling: 0 }
+    if volts.is_empty() {
+        return TriggerOutcome { initial_output_high, final_output_high: initial_output_high, edges: 0, rising: 0, falling: 0 };
+    }
+    // Records the switch whose threshold crossing lies between samples i − 1 and i.
+    let switch_at = |i: usize, edges: &mut Vec<Edge>, input_high: bool, last_start: &mut f64| -> (EdgeDirection, f64, f64) {
+        let (v, prev) = (volts[i], volts[i - 1]);
+        let level = if input_high { up } else { lo };
+        let (t0, t1) = (times.at(i - 1), times.at(i));
+        let dv = v - prev;
+        let f = if dv != 0.0 { ((level - prev) / dv).clamp(0.0, 1.0) } else { 1.0 };
+        let crossing = t0 + f * (t1 - t0);
+        let slope = if t1 > t0 { dv / (t1 - t0) } else { 0.0 };
+        let direction = if input_high == high_follows { EdgeDirection::Rising } else { EdgeDirection::Falling };
+        let exc = if input_high { v - up } else { lo - v };
+        let start = if overdrive { crossing } else { (crossing + fixed_delay).max(*last_start) };
+        if !overdrive {
+            *last_start = start;
         }
+        edges.push(Edge {
+            crossing_s: crossing,
+            start_s: start,
+            mid_s: start + timing.to_mid(direction),
+            direction,
+            slope_v_per_s: slope,
+            overdrive_v: if overdrive { exc } else { 0.0 },
+        });
+        (direction, crossing, exc)
     };
-    for (i, &v) in volts.iter().enumerate().skip(1) {
-        if overdrive {
+    if !overdrive {
+        // Fast path: scan for the next sample beyond the threshold that applies in each state.
+        let mut i = 1;
+        while i < volts.len() {
+            let found = if input_high {
+                volts[i..].iter().position(|&v| v < lo)
+            } else {
+                volts[i..].iter().position(|&v| v >= up)
+            };
+            let Some(k) = found else { break };
+            let j = i + k;
+            input_high = !input_high;
+            match switch_at(j, edges, input_high, &mut last_start).0 {
+                EdgeDirection::Rising => rising += 1,
+                EdgeDirection::Falling => falling += 1,
+            }
+            i = j + 1;
+        }
+    } else {
+        for i in 1..volts.len() {
+            let v = volts[i];
             if let Some(p) = pending.as_mut() {
                 let exc = if p.upward { v - p.threshold_v } else { p.threshold_v - v };
                 if exc > p.overdrive_v {
@@ -237,55 +278,31 @@ pub fn run_trigger(
                     pending = None;
                 }
             }
-        }
-        let switched_up = !input_high && v >= up;
-        let switched_down = input_high && v < lo;
-        if switched_up || switched_down {
-            let level = if switched_up { up } else { lo };
-            let (t0, t1) = (times.at(i - 1), times.at(i));
-            let dv = v - prev;
-            let f = if dv != 0.0 { ((level - prev) / dv).clamp(0.0, 1.0) } else { 1.0 };
-            let crossing = t0 + f * (t1 - t0);
-            let slope = if t1 > t0 { dv / (t1 - t0) } else { 0.0 };
-            input_high = switched_up;
-            let direction = if input_high == high_follows { EdgeDirection::Rising } else { EdgeDirection::Falling };
-            match direction {
-                EdgeDirection::Rising => rising += 1,
-                EdgeDirection::Falling => falling += 1,
-            }
-            if overdrive {
+            let switched = if input_high { v < lo } else { v >= up };
+            if switched {
                 if let Some(p) = pending.take() {
                     let d = timing.delay.delay_s(p.overdrive_v);
                     resolve(edges, &p, d, timing, &mut last_start);
                 }
-                let exc = if switched_up { v - up } else { lo - v };
-                edges.push(Edge {
+                input_high = !input_high;
+                let (direction, crossing, exc) = switch_at(i, edges, input_high, &mut last_start);
+                match direction {
+                    EdgeDirection::Rising => rising += 1,
+                    EdgeDirection::Falling => falling += 1,
+                }
+                pending = Some(Pending {
+                    index: edges.len() - 1,
                     crossing_s: crossing,
-                    start_s: crossing,
-                    mid_s: crossing,
-                    direction,
-                    slope_v_per_s: slope,
+                    threshold_v: if input_high { up } else { lo },
+                    upward: input_high,
                     overdrive_v: exc,
-                });
-                pending = Some(Pending { index: edges.len() - 1, crossing_s: crossing, threshold_v: level, upward: switched_up, overdrive_v: exc });
-            } else {
-                let start = (crossing + fixed_delay).max(last_start);
-                last_start = start;
-                edges.push(Edge {
-                    crossing_s: crossing,
-                    start_s: start,
-                    mid_s: start + timing.to_mid(direction),
-                    direction,
-                    slope_v_per_s: slope,
-                    overdrive_v: 0.0,
                 });
             }
         }
-        prev = v;
-    }
-    if let Some(p) = pending.take() {
-        let d = timing.delay.delay_s(p.overdrive_v);
-        resolve(edges, &p, d, timing, &mut last_start);
+        if let Some(p) = pending.take() {
+            let d = timing.delay.delay_s(p.overdrive_v);
+            resolve(edges, &p, d, timing, &mut last_start);
+        }
     }
     TriggerOutcome {
         initial_output_high,
