@@ -339,8 +339,8 @@ fn csv_round_trip_of_generated_data_is_exact() {
         let c = parse_csv(&text, &CsvOptions::default()).unwrap();
         assert_eq!((c.format.separator, c.format.decimal, c.format.header_lines), (separator, decimal, 1));
         assert_eq!(c.volts.len(), v.len());
-        for i in 0..v.len() {
-            assert_eq!(c.volts[i].to_bits(), v[i].to_bits(), "row {i}");
+        for (i, x) in v.iter().enumerate() {
+            assert_eq!(c.volts[i].to_bits(), x.to_bits(), "row {i}");
             assert_eq!(c.time_s[i].to_bits(), g.time.view().at(i).to_bits(), "row {i}");
         }
     }

@@ -248,7 +248,7 @@ pub fn simulate_debounce(design: &TriggerDesign, s: &DebounceSettings) -> Result
             let out_v = high_out(input_high);
             let a = advance(&f, v, t1 - now, h, Some(ev), |dt, x| {
                 step_count += 1;
-                if step_count % stride == 0 {
+                if step_count.is_multiple_of(stride) {
                     trace.push(TracePoint { t_s: base + dt, input_v: x, output_v: out_v });
                 }
             })?;

@@ -29,6 +29,9 @@
 //! capped at [`MAX_SAMPLES`]); all transcendental functions come from `libm` so results are
 //! bit-identical on every target.
 
+// Negated comparisons such as `!(x > 0.0)` are used on purpose throughout: they also reject NaN.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 use serde::{Deserialize, Serialize};
 
 pub use crate::analysis::{Sense, Thresholds};

@@ -57,19 +57,18 @@ pub fn downsample_min_max(
         return;
     }
     if i1 - i0 <= buckets {
-        for i in i0..i1 {
+        for (i, &v) in volts.iter().enumerate().take(i1).skip(i0) {
             out.t_s.push(times.at(i));
-            out.min_v.push(volts[i]);
-            out.max_v.push(volts[i]);
+            out.min_v.push(v);
+            out.max_v.push(v);
         }
         return;
     }
     let width = (t_end_s - t_start_s) / buckets as f64;
     let mut current: Option<usize> = None;
-    for i in i0..i1 {
+    for (i, &v) in volts.iter().enumerate().take(i1).skip(i0) {
         let t = times.at(i);
         let b = if width > 0.0 { (((t - t_start_s) / width) as usize).min(buckets - 1) } else { 0 };
-        let v = volts[i];
         if current == Some(b) {
             let k = out.min_v.len() - 1;
             if v < out.min_v[k] {

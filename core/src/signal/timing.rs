@@ -367,8 +367,8 @@ pub fn logic_dwell_in(times: Times<'_>, volts: &[f64], vil_v: f64, vih_v: f64) -
         let f = if v1 != v0 { ((level - v0) / (v1 - v0)).clamp(0.0, 1.0) } else { 1.0 };
         t0 + f * (t1 - t0)
     };
-    for i in 1..volts.len() {
-        let s = side(volts[i]);
+    for (i, &v) in volts.iter().enumerate().skip(1) {
+        let s = side(v);
         if s == last_side {
             continue;
         }

@@ -176,7 +176,7 @@ impl TimingModel {
         }
     }
 
-    fn to_mid(&self, d: EdgeDirection) -> f64 {
+    fn mid_delay_s(&self, d: EdgeDirection) -> f64 {
         match d {
             EdgeDirection::Rising => self.rise.to_mid_s(),
             EdgeDirection::Falling => self.fall.to_mid_s(),
@@ -239,7 +239,7 @@ pub fn run_trigger(
         edges.push(Edge {
             crossing_s: crossing,
             start_s: start,
-            mid_s: start + timing.to_mid(direction),
+            mid_s: start + timing.mid_delay_s(direction),
             direction,
             slope_v_per_s: slope,
             overdrive_v: if overdrive { exc } else { 0.0 },
@@ -265,8 +265,7 @@ pub fn run_trigger(
             i = j + 1;
         }
     } else {
-        for i in 1..volts.len() {
-            let v = volts[i];
+        for (i, &v) in volts.iter().enumerate().skip(1) {
             if let Some(p) = pending.as_mut() {
                 let exc = if p.upward { v - p.threshold_v } else { p.threshold_v - v };
                 if exc > p.overdrive_v {
@@ -318,7 +317,7 @@ fn resolve(edges: &mut [Edge], p: &Pending, delay_s: f64, timing: &TimingModel, 
         let start = (p.crossing_s + delay_s).max(*last_start);
         *last_start = start;
         e.start_s = start;
-        e.mid_s = start + timing.to_mid(e.direction);
+        e.mid_s = start + timing.mid_delay_s(e.direction);
         e.overdrive_v = p.overdrive_v;
     }
 }
