@@ -10,8 +10,8 @@
 //! detected.
 //!
 //! **Rows.** A row must have the same number of fields as the first data row; the time and
-//! voltage fields must be finite numbers (surrounding spaces and double quotes are ignored); time
-//! must increase from row to row. Blank lines are counted and skipped. Every other line is a
+//! voltage fields must be finite numbers (surrounding spaces and double quotes are ignored; other
+//! columns are not read); time must increase from row to row. Blank lines are counted and skipped. Every other line is a
 //! malformed row, reported with its 1-based line number in the file; none is dropped silently:
 //! in strict mode (the default) any malformed row fails the import with the full list, otherwise
 //! the capture lists every skipped line beside its data.
@@ -412,18 +412,21 @@ fn parse_field(field: &str, decimal: DecimalMark) -> Result<f64, FieldError> {
     }
 }
 
-/// Whether every non-empty field of the line is a number under the format, with at least
-/// `needed` fields; returns the field count.
-fn numeric_row(line: &str, sep: Separator, dec: DecimalMark, needed: usize) -> Option<usize> {
+/// Whether the line reads as a data row under the format: the fields at `cols` (time and
+/// voltage; other columns may hold anything, as in exports that put settings beside the data) are
+/// finite numbers. Returns the field count.
+fn numeric_row(line: &str, sep: Separator, dec: DecimalMark, cols: (usize, usize)) -> Option<usize> {
     let mut n = 0;
-    for field in line.split(sep.byte()) {
+    let mut found = 0;
+    for (k, field) in line.split(sep.byte()).enumerate() {
         n += 1;
-        if field.trim().is_empty() {
-            continue;
+        if k == cols.0 || k == cols.1 {
+            parse_field(field, dec).ok()?;
+            found += 1;
         }
-        parse_field(field, dec).ok()?;
     }
-    if n >= needed && n >= 1 {
+    let wanted = if cols.0 == cols.1 { 1 } else { 2 };
+    if found == wanted {
         Some(n)
     } else {
         None
@@ -570,6 +573,15 @@ impl CsvParser {
         })
     }
 
+    /// The columns a data row must hold as numbers (time and voltage, or voltage twice when the
+    /// time comes from the row number).
+    fn cols(&self) -> (usize, usize) {
+        match self.options.time_step_s {
+            Some(_) => (self.options.voltage_column, self.options.voltage_column),
+            None => (self.options.time_column, self.options.voltage_column),
+        }
+    }
+
     fn detect(&mut self, at_end: bool) -> Result<(), CsvError> {
         let total = self.pending.split('\n').count();
         let mut lines: Vec<&str> = self.pending.split('\n').take(DETECT_LINES).map(clean_line).collect();
@@ -602,7 +614,7 @@ impl CsvParser {
                 if l.trim().is_empty() {
                     continue;
                 }
-                match numeric_row(l, sep, dec, self.needed) {
+                match numeric_row(l, sep, dec, self.cols()) {
                     Some(cols) => {
                         if first.is_none() {
                             first = Some((i, cols));
@@ -634,7 +646,7 @@ impl CsvParser {
             columns = lines
                 .iter()
                 .skip(header_lines)
-                .find_map(|l| numeric_row(l, separator, decimal, self.needed))
+                .find_map(|l| numeric_row(l, separator, decimal, self.cols()))
                 .unwrap_or(self.needed);
         }
         let header_text = if header_lines > 0 {
@@ -914,6 +926,16 @@ mod tests {
             assert!(c.time_s.iter().zip(&t).all(|(a, b)| a.to_bits() == b.to_bits()));
             assert!(c.volts.iter().zip(&v).all(|(a, b)| a.to_bits() == b.to_bits()));
         }
+    }
+
+    #[test]
+    fn settings_beside_the_data_are_not_a_header() {
+        // Some exports put record settings in the first columns of the first rows and the
+        // samples in later columns; those rows are data.
+        let text = "Record Length,3,,-1e-6,0.5\nSample Interval,1e-6,,0,0.6\n,,,1e-6,0.7\n";
+        let c = parse_csv(text, &CsvOptions { time_column: 3, voltage_column: 4, ..Default::default() }).unwrap();
+        assert_eq!(c.format.header_lines, 0);
+        assert_eq!(c.volts, vec![0.5, 0.6, 0.7]);
     }
 
     #[test]

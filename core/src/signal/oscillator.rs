@@ -11,12 +11,13 @@
 //! T = 2RC·ln[(1+β)/(1−β)].
 //!
 //! With propagation delays the capacitor overshoots each threshold for the delay before the
-//! output flips, so here the half-periods are computed exactly for that model [D]:
+//! output flips, so here the half-periods are computed exactly for that model (derived here):
 //! Vpeak = VOH − (VOH−VT+)·e^{−tPHL/RC}, Vtrough = VOL + (VT−−VOL)·e^{−tPLH/RC},
-//! tH = RC·ln[(VOH−Vtrough)/(VOH−VT+)] + tPHL, tL = RC·ln[(Vpeak−VOL)/(VT−−VOL)] + tPLH
+//! tH = RC·ln[(VOH−Vtrough)/(VOH−VT+)] + tPHL, tL = RC·ln[(Vpeak−VOL)/(VT−−VOL)] + tPLH.
 //! For short delays this adds about tPHL·(VOH−VOL)/(VT+−VOL) + tPLH·(VOH−VOL)/(VOH−VT−) to T0
-//! [D]: more than DOMAIN's rule of thumb tPLH + tPHL, because the capacitor keeps charging past
-//! the threshold during the delay and must then travel back. The output resistance adds to R.
+//! (derived here): more than DOMAIN's rule of thumb tPLH + tPHL, because the capacitor keeps
+//! charging past the threshold during the delay and must then travel back. The output
+//! resistance adds to R.
 
 use super::ode::{advance, Event};
 use super::trigger::TriggerDesign;
@@ -315,7 +316,7 @@ mod tests {
         assert!((sim.period_s / c.period_s - 1.0).abs() < 1e-9, "{} {}", sim.period_s, c.period_s);
         assert!((sim.duty - c.duty).abs() < 1e-9);
         assert!(sim.first_high_s > sim.t_high_s);
-        // Short delays add about tPHL·(VOH−VOL)/(VT+−VOL) + tPLH·(VOH−VOL)/(VOH−VT−) [D]:
+        // Short delays add about tPHL·(VOH−VOL)/(VT+−VOL) + tPLH·(VOH−VOL)/(VOH−VT−) (derived here):
         // 50 µs·5/2.9 + 20 µs·5/3.3 = 116.5 µs, well above the plain tPLH + tPHL = 70 µs.
         let ideal = relaxation_oscillator(&d, &OscillatorSettings { delay_low_to_high_s: 0.0, delay_high_to_low_s: 0.0, ..s }).unwrap();
         let first_order = 50e-6 * 5.0 / 2.9 + 20e-6 * 5.0 / 3.3;

@@ -13,7 +13,7 @@ use super::trigger::{
     compare_edges, default_match_window_s, render_output, run_trigger, Edge, EdgeComparison, EdgeDirection, TimingModel,
     TriggerDesign, TriggerOutcome,
 };
-use super::{TimeBase, Times};
+use super::TimeBase;
 use crate::analysis::Thresholds;
 use crate::error::{finite, DesignError};
 use crate::topology::Topology;
@@ -589,11 +589,6 @@ pub fn evaluate_record_application(
 ) -> Result<(ApplicationReport, Vec<(String, DesignError)>), DesignError> {
     let design = TriggerDesign::from_circuit(circuit)?;
     Ok(evaluate_application(&design, settings))
-}
-
-/// A capture's samples as a [`Times`] view and a slice (helper for the page).
-pub fn capture_view(c: &Capture) -> (Times<'_>, &[f64]) {
-    (c.times(), &c.volts)
 }
 
 #[cfg(test)]

@@ -41,8 +41,8 @@ impl Default for DelaySpec {
 /// The delay law, ready to evaluate. For two points the delay follows the power law
 /// t(V) = tA·(V/VA)^(−α), α = ln(tA/tB)/ln(VB/VA), which passes through both points and stays
 /// positive; overdrives below a tenth of the smaller specified one are treated as that tenth, so
-/// the delay stays finite [D; the 1/V trend of an input stage that integrates its overdrive is
-/// common practice].
+/// the delay stays finite (our model; the 1/V trend of an input stage that integrates its
+/// overdrive is common practice).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct DelayModel {
     /// Delay at overdrive `reference_overdrive_v`, seconds.
