@@ -56,6 +56,10 @@ pub struct Evaluation {
     pub errors: Vec<StudyError>,
     /// Tolerance analysis, when the record has tolerance settings.
     pub tolerance: Option<ToleranceReport>,
+    /// The signal study's summary, when the record has signal settings.
+    pub signal: Option<crate::signal::report::SignalReport>,
+    /// The applications (oscillator, debouncer), when the record has application settings.
+    pub application: Option<crate::signal::report::ApplicationReport>,
 }
 
 /// Thresholds of a circuit, validated first. The fast path for the page.
@@ -106,6 +110,27 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             None
         }
     });
+    let signal = record.signal.as_ref().and_then(|s| match crate::signal::report::evaluate_record_signal(&record.circuit, s) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            fail("signal", e);
+            None
+        }
+    });
+    let application = record.application.as_ref().and_then(|a| {
+        match crate::signal::report::evaluate_record_application(&record.circuit, a) {
+            Ok((r, errs)) => {
+                for (study, e) in errs {
+                    fail(&study, e);
+                }
+                Some(r)
+            }
+            Err(e) => {
+                fail("application", e);
+                None
+            }
+        }
+    });
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -114,6 +139,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         synthesis,
         errors,
         tolerance,
+        signal,
+        application,
     }
 }
 

@@ -24,3 +24,4 @@ pub mod rng;
 pub mod safety;
 pub mod topology;
 pub mod tolerance;
+pub mod signal;

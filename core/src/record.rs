@@ -37,6 +37,12 @@ pub struct DesignRecord {
     /// Tolerance-analysis settings; `None`: no tolerance analysis.
     #[serde(default)]
     pub tolerance: Option<ToleranceSettings>,
+    /// The signal study: the waveform the design will see (generated or imported), timing and sweep.
+    #[serde(default)]
+    pub signal: Option<crate::signal::report::SignalSettings>,
+    /// Applications that ride on the thresholds: RC relaxation oscillator and RC debouncer.
+    #[serde(default)]
+    pub application: Option<crate::signal::report::ApplicationSettings>,
 }
 
 /// Why a record could not be read.
@@ -96,6 +102,8 @@ impl DesignRecord {
             targets: None,
             checks: CheckSettings::default(),
             tolerance: None,
+            signal: None,
+            application: None,
         }
     }
 

@@ -1,0 +1,217 @@
+//! Noise sweep: false edges versus noise level, for the design and for the plain comparator on
+//! the same signal, to show the noise level at which the design starts to fail.
+//!
+//! The sweep noise is generated once at 1 V RMS and scaled for each level (the generators are
+//! linear in their RMS), so every level sees the same noise shape (common random numbers): the
+//! curve is smooth and a level's result does not depend on which other levels were asked for.
+//! Beside each simulated count stand the predictions of [`super::rice`]: the hysteresis bound
+//! for the design and the no-hysteresis expectation for the comparator, summed over the intended
+//! edges with each edge's own slope.
+
+use super::generate::SignalDefinition;
+use super::noise::{add_noise, source_seed, NoiseSource};
+use super::rice;
+use super::trigger::{compare_edges, run_trigger, Edge, EdgeComparison, TimingModel, TriggerDesign};
+use crate::error::{positive, DesignError};
+use serde::{Deserialize, Serialize};
+
+/// The kind of noise the sweep adds.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum SweepNoise {
+    /// White Gaussian noise (flat to half the sample rate).
+    White,
+    /// Gaussian noise through `poles` first-order low-pass stages at `corner_hz`.
+    BandLimited {
+        /// Corner frequency, hertz.
+        corner_hz: f64,
+        /// Number of stages, 1 to 4.
+        poles: u8,
+    },
+}
+
+/// Settings of the noise sweep.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct SweepSettings {
+    /// Noise added at each level.
+    pub noise: SweepNoise,
+    /// Lowest RMS level, volts (`None`: the design's hysteresis / 300).
+    pub min_rms_v: Option<f64>,
+    /// Highest RMS level, volts (`None`: the design's hysteresis).
+    pub max_rms_v: Option<f64>,
+    /// Number of levels, 1 to 200.
+    pub steps: usize,
+    /// Space the levels logarithmically (true) or linearly.
+    pub logarithmic: bool,
+    /// Keep the signal's own noise sources under the sweep noise (true), or sweep alone.
+    pub keep_other_noise: bool,
+    /// The design "fails" at the first level whose false edges per intended edge exceed this.
+    pub fail_above_false_edges_per_edge: f64,
+}
+
+impl Default for SweepSettings {
+    fn default() -> Self {
+        SweepSettings {
+            noise: SweepNoise::White,
+            min_rms_v: None,
+            max_rms_v: None,
+            steps: 16,
+            logarithmic: true,
+            keep_other_noise: false,
+            fail_above_false_edges_per_edge: 0.0,
+        }
+    }
+}
+
+/// One sweep level.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct SweepPoint {
+    /// RMS of the sweep noise, volts.
+    pub noise_rms_v: f64,
+    /// The design's edges against its intended edges.
+    pub design: EdgeComparison,
+    /// The comparator's edges against its own intended edges.
+    pub baseline: EdgeComparison,
+    /// Rice bound on the design's false edges (sum over intended edges).
+    pub design_bound_false_edges: f64,
+    /// Expected comparator false edges without hysteresis (2 per wrong-way crossing, summed).
+    pub baseline_expected_false_edges: f64,
+}
+
+/// The whole sweep.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SweepResult {
+    /// One entry per level, ascending.
+    pub points: Vec<SweepPoint>,
+    /// First level at which the design fails (see [`SweepSettings::fail_above_false_edges_per_edge`]).
+    pub design_fails_at_rms_v: Option<f64>,
+    /// First level at which the comparator fails.
+    pub baseline_fails_at_rms_v: Option<f64>,
+}
+
+/// The levels the sweep visits, for a design of hysteresis `hysteresis_v`.
+pub fn sweep_levels(s: &SweepSettings, hysteresis_v: f64) -> Result<Vec<f64>, DesignError> {
+    let h = if hysteresis_v > 0.0 { hysteresis_v } else { 0.3 };
+    let lo = s.min_rms_v.unwrap_or(h / 300.0);
+    let hi = s.max_rms_v.unwrap_or(h);
+    positive("sweep.min_rms_v", lo)?;
+    positive("sweep.max_rms_v", hi)?;
+    if hi < lo {
+        return Err(DesignError::invalid("sweep.max_rms_v", "must not be below min_rms_v"));
+    }
+    if s.steps == 0 || s.steps > 200 {
+        return Err(DesignError::invalid("sweep.steps", format!("must be 1 to 200 (got {})", s.steps)));
+    }
+    if s.steps == 1 {
+        return Ok(vec![lo]);
+    }
+    let n = (s.steps - 1) as f64;
+    Ok((0..s.steps)
+        .map(|i| {
+            let f = i as f64 / n;
+            if s.logarithmic {
+                lo * libm::pow(hi / lo, f)
+            } else {
+                lo + (hi - lo) * f
+            }
+        })
+        .collect())
+}
+
+/// Everything one sweep needs, prepared once.
+pub struct SweepContext<'a> {
+    /// The signal (its components; its own noise when kept).
+    pub definition: &'a SignalDefinition,
+    /// The design.
+    pub design: TriggerDesign,
+    /// The plain comparator.
+    pub baseline: TriggerDesign,
+    /// Timing.
+    pub timing: TimingModel,
+    /// The design's edges on the noise-free signal.
+    pub intended: &'a [Edge],
+    /// The comparator's edges on the noise-free signal.
+    pub intended_baseline: &'a [Edge],
+    /// Matching window for the design, seconds.
+    pub window_s: f64,
+    /// Matching window for the comparator, seconds.
+    pub window_baseline_s: f64,
+}
+
+/// Runs the sweep. `base_v` is the signal the sweep noise is added to (the noise-free sum, or the
+/// signal with its own noise when kept); `scratch` is reused for each level's noisy signal.
+pub fn run_sweep(
+    ctx: &SweepContext<'_>,
+    settings: &SweepSettings,
+    base_v: &[f64],
+    scratch_v: &mut Vec<f64>,
+    edges: &mut Vec<Edge>,
+) -> Result<SweepResult, DesignError> {
+    let def = ctx.definition;
+    let levels = sweep_levels(settings, ctx.design.thresholds.hysteresis_v())?;
+    let unit = match settings.noise {
+        SweepNoise::White => NoiseSource::White { rms_v: 1.0 },
+        SweepNoise::BandLimited { corner_hz, poles } => NoiseSource::BandLimited { rms_v: 1.0, corner_hz, poles },
+    };
+    unit.validate(def.sample_rate_hz)?;
+    let n = base_v.len();
+    let mut unit_v = vec![0.0; n];
+    add_noise(&unit, source_seed(def.seed, def.noise.len()), def.step_s(), &mut unit_v);
+    // Gaussian moments per volt of sweep noise, plus the kept sources' own.
+    let (_, s1_unit) = unit.gaussian_moments(def.sample_rate_hz).unwrap_or((1.0, 0.0));
+    let kept = if settings.keep_other_noise {
+        rice::combine_moments(def.noise.iter().filter_map(|s| s.gaussian_moments(def.sample_rate_hz)))
+    } else {
+        (0.0, 0.0)
+    };
+    let h = ctx.design.thresholds.hysteresis_v();
+    let mut points = Vec::with_capacity(levels.len());
+    let (mut design_fail, mut base_fail) = (None, None);
+    scratch_v.resize(n, 0.0);
+    for level in levels {
+        for ((o, b), u) in scratch_v.iter_mut().zip(base_v).zip(&unit_v) {
+            *o = b + level * u;
+        }
+        run_trigger(&ctx.design, &ctx.timing, def.time_base().view(), scratch_v, edges);
+        let design = compare_edges(edges, ctx.intended, ctx.window_s);
+        run_trigger(&ctx.baseline, &ctx.timing, def.time_base().view(), scratch_v, edges);
+        let baseline = compare_edges(edges, ctx.intended_baseline, ctx.window_baseline_s);
+        let (s0, s1) = rice::combine_moments([(level, level * s1_unit), kept]);
+        let bound: f64 = ctx.intended.iter().map(|e| rice::false_edges_per_edge_bound(h, e.slope_v_per_s, s0, s1)).sum();
+        let expected: f64 =
+            ctx.intended_baseline.iter().map(|e| 2.0 * rice::wrong_way_crossings_no_hysteresis(e.slope_v_per_s, s1)).sum();
+        let per = |c: &EdgeComparison| c.false_edges as f64 / c.intended_edges.max(1) as f64;
+        if design_fail.is_none() && per(&design) > settings.fail_above_false_edges_per_edge {
+            design_fail = Some(level);
+        }
+        if base_fail.is_none() && per(&baseline) > settings.fail_above_false_edges_per_edge {
+            base_fail = Some(level);
+        }
+        points.push(SweepPoint {
+            noise_rms_v: level,
+            design,
+            baseline,
+            design_bound_false_edges: if bound.is_finite() { bound } else { f64::MAX },
+            baseline_expected_false_edges: if expected.is_finite() { expected } else { f64::MAX },
+        });
+    }
+    Ok(SweepResult { points, design_fails_at_rms_v: design_fail, baseline_fails_at_rms_v: base_fail })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn levels_are_spaced_as_asked() {
+        let s = SweepSettings { min_rms_v: Some(1e-3), max_rms_v: Some(1.0), steps: 4, ..Default::default() };
+        let l = sweep_levels(&s, 0.5).unwrap();
+        assert_eq!(l.len(), 4);
+        assert!((l[1] - 1e-2).abs() < 1e-15 && (l[3] - 1.0).abs() < 1e-12);
+        let s = SweepSettings { logarithmic: false, ..s };
+        assert!((sweep_levels(&s, 0.5).unwrap()[1] - 0.334).abs() < 1e-12);
+        assert!(sweep_levels(&SweepSettings { steps: 0, ..s }, 0.5).is_err());
+        assert!(sweep_levels(&SweepSettings { min_rms_v: Some(2.0), ..s }, 0.5).is_err());
+    }
+}
