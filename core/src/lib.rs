@@ -21,3 +21,5 @@ pub mod evaluate;
 pub mod record;
 pub mod rng;
 pub mod topology;
+pub mod eseries;
+pub mod notation;
