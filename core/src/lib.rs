@@ -23,3 +23,4 @@ pub mod rng;
 pub mod topology;
 pub mod eseries;
 pub mod notation;
+pub mod search;
