@@ -24,3 +24,4 @@ pub mod topology;
 pub mod eseries;
 pub mod notation;
 pub mod search;
+pub mod bom;

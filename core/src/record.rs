@@ -5,6 +5,8 @@
 //! - 1: first version.
 
 use crate::analysis::{CheckSettings, Targets};
+use crate::bom::PartSettings;
+use crate::search::SearchSettings;
 use crate::error::DesignError;
 use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
@@ -33,6 +35,12 @@ pub struct DesignRecord {
     /// Operating range and the numbers the design checks need.
     #[serde(default)]
     pub checks: CheckSettings,
+    /// How the part list is built (series, tolerance, package).
+    #[serde(default)]
+    pub parts: PartSettings,
+    /// Standard-value search settings; `None`: no search.
+    #[serde(default)]
+    pub search: Option<SearchSettings>,
 }
 
 /// Why a record could not be read.
@@ -91,6 +99,8 @@ impl DesignRecord {
             circuit,
             targets: None,
             checks: CheckSettings::default(),
+            parts: PartSettings::default(),
+            search: None,
         }
     }
 
