@@ -21,13 +21,14 @@ use crate::notation::{format_rkm, format_with_unit, Unit};
 use crate::topology::{analyse, Circuit, Parameter, ParameterKind};
 use serde::{Deserialize, Serialize};
 
-/// Resistor package (case size) chosen for the part list.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+/// Resistor package (case size) chosen for the part list; 0603 by default.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 pub enum Package {
     /// 0402 chip (1.0 × 0.5 mm).
     #[serde(rename = "0402")]
     Chip0402,
     /// 0603 chip (1.6 × 0.8 mm).
+    #[default]
     #[serde(rename = "0603")]
     Chip0603,
     /// 0805 chip (2.0 × 1.25 mm).
@@ -39,12 +40,6 @@ pub enum Package {
     /// Axial through-hole film resistor, 0.25 W.
     #[serde(rename = "through_hole_0w25")]
     ThroughHole0W25,
-}
-
-impl Default for Package {
-    fn default() -> Self {
-        Package::Chip0603
-    }
 }
 
 impl Package {

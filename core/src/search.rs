@@ -26,39 +26,47 @@
 //!    non-increasing then non-decreasing, and the maximum of two such functions is too (its
 //!    sub-level sets are intersections of intervals). So over the sorted series values f is
 //!    non-increasing up to the continuous optimum x* and non-decreasing after it.
-//! 3. **Continuous optimum.** Three evaluations (lowest, middle and highest series value) fit each
-//!    threshold's Möbius function exactly (cross-ratio form). On that model the sign of f's
-//!    one-sided slope is known everywhere (from each error's sign and the model's direction), and
-//!    it runs −, 0, + along x; bisection on it, with the bracket ends kept on series values,
-//!    closes the bracket around the continuous optimum x* to two adjacent series values in
-//!    log2 M steps.
+//! 3. **Continuous optimum.** Each threshold's Möbius function is fitted exactly through three
+//!    points (lowest, middle and highest series value; cross-ratio form). On that model the sign
+//!    of f's one-sided slope is known everywhere (from each error's sign and the model's
+//!    direction), and it runs −, 0, + along x; bisection on it, with the bracket ends kept on
+//!    series values, closes the bracket around the continuous optimum x* to two adjacent series
+//!    values in log2 M steps.
 //! 4. **Series values on both sides.** From those two values the search walks outward on the
 //!    real circuit, offering each value to the top-N list, and stops on a side once a value is
 //!    worse than the current N-th best *and* not better than the value before it — by step 2
 //!    every value further out is worse still. The stop rule uses only real evaluations, so an
 //!    imprecise x* costs a few extra evaluations, never a missed combination.
 //! 5. **Pruning.** When the model puts both values around x* above the current N-th best (by more
-//!    than the tolerance the model is held to), the walk is skipped: by step 2 no value of that
-//!    combination can enter. This is where most of the speed comes from (about three evaluations
-//!    per combination).
+//!    than the tolerance the model is held to, 1e-9 of the thresholds), the walk is skipped: by
+//!    step 2 no value of that combination can enter.
+//! 6. **Probes from a model too.** Step 1 holds for every resistor, so with the outer resistors
+//!    fixed and the solved one at a probe value, the thresholds are bilinear in the innermost
+//!    enumerated resistor as well: nine real evaluations per run of that resistor fit the three
+//!    probes as functions of it, and step 3 takes its fit points from these models. Pruned
+//!    combinations then cost no circuit evaluation at all.
 //!
-//! **Non-bilinear topologies** (a transistor model solved numerically, say) are handled safely:
-//! when the three fit points are not monotone, or any walked value differs from the model by more
-//! than 1e-9 of the thresholds' size, the model is distrusted: that combination falls back to an
-//! exhaustive scan of every series value of the solved resistor, and the whole search is run again
-//! without pruning, with every combination walked and checked. (A function that agrees with a
-//! bilinear one at every probe and walked value to 1e-9 but is not quasi-convex could in principle
-//! slip through; for linear networks the argument above is exact.) A failed evaluation also
-//! falls back to the exhaustive scan. [`SearchReport::exhaustive_combinations`] counts the fallbacks.
+//! **Non-bilinear topologies** (a transistor model solved numerically, say) are handled safely.
+//! Any sign that a model is wrong — fit points that are not monotone, or a walked value that
+//! differs from the model by more than 1e-9 of the thresholds' size — distrusts the models: that
+//! combination falls back to an exhaustive scan of every series value of the solved resistor, and
+//! the whole search is run again without pruning and without probe models, every combination
+//! evaluated, walked and checked on the real circuit. A failed evaluation also falls back to the
+//! exhaustive scan. The first combinations are always walked in full (the list is not yet full),
+//! so a wrong model shows early. (A function that agrees with a bilinear one at every checked
+//! value to 1e-9 yet is not quasi-convex could in principle slip through; for linear networks the
+//! argument above is exact.) [`SearchReport::exhaustive_combinations`] counts the fallbacks.
 //!
 //! With an optional current budget, a combination enters the list only if the network's quiescent
 //! current, as [`analyse`] reports it, is within the budget. The walk continues past values that
 //! fail the budget (a feasible value further out may still qualify), so the result stays optimal
-//! among budget-feasible combinations; the budget check runs only for combinations good enough to
-//! enter the list, which keeps the costly full analysis out of the inner loop.
+//! among budget-feasible combinations. The budget is checked only for combinations good enough
+//! to enter the list, first by two operating points (a lower bound of the analysed maximum, so a
+//! failure there is final), then by the full analysis.
 //!
-//! Cost: M^(n−1) combinations for n resistors and M series values in range, about three threshold
-//! evaluations each (E96 over three decades, three resistors: 289² ≈ 83 500 combinations).
+//! Cost: M^(n−1) combinations for n resistors and M series values in range (E96 over three
+//! decades, three resistors: 289² ≈ 83 500), each a few model evaluations; real circuit
+//! evaluations number about 9·M^(n−2) plus the walks (about 3 000 in that example).
 //! The inner loop does not allocate: one parameter buffer is reused for `with_parameters`.
 
 use crate::analysis::{CheckSettings, OutputState, Sense, Thresholds};
@@ -347,6 +355,11 @@ struct Searcher<'a, C: Circuit> {
     prune: bool,
     /// Set when a model failed a check: the thresholds are not bilinear in the solved resistor.
     model_failed: bool,
+    /// Index in `values` of the innermost enumerated resistor, if any.
+    inner: Option<usize>,
+    /// For the current setting of the outer resistors: each probe's (VT+, VT−) as bilinear
+    /// functions of the innermost enumerated resistor (see [`Searcher::fit_probe_models`]).
+    probe_models: Option<[(Bilinear, Bilinear); 3]>,
     top: Vec<Entry>,
 }
 
@@ -453,15 +466,23 @@ impl<C: Circuit> Searcher<'_, C> {
         let probes = [0, m / 2, m - 1];
         let mut yu = [0.0; 3];
         let mut yl = [0.0; 3];
-        for (k, &i) in probes.iter().enumerate() {
-            match self.eval(i) {
-                Eval::Fresh(t, _) => {
-                    yu[k] = t.vt_upper_v;
-                    yl[k] = t.vt_lower_v;
-                }
-                _ => {
-                    self.exhaustive();
-                    return;
+        if let (Some(pm), Some(inner)) = (&self.probe_models, self.inner) {
+            let x = self.values[inner];
+            for (k, (mu, ml)) in pm.iter().enumerate() {
+                yu[k] = mu.eval(x);
+                yl[k] = ml.eval(x);
+            }
+        } else {
+            for (k, &i) in probes.iter().enumerate() {
+                match self.eval(i) {
+                    Eval::Fresh(t, _) => {
+                        yu[k] = t.vt_upper_v;
+                        yl[k] = t.vt_lower_v;
+                    }
+                    _ => {
+                        self.exhaustive();
+                        return;
+                    }
                 }
             }
         }
@@ -522,6 +543,54 @@ impl<C: Circuit> Searcher<'_, C> {
             }
             prev = Some(f);
         }
+    }
+
+    /// Step 3's probes for a whole run of the innermost enumerated resistor R_e at once: with the
+    /// outer resistors fixed and the solved resistor at a probe value, the thresholds are
+    /// bilinear in R_e too (the same argument), so three real evaluations per probe fit them as
+    /// functions of R_e, and every combination of the run takes its probe values from these
+    /// models instead of three evaluations of its own. Used only in the pruning pass, whose
+    /// safety net (walk checks, restart) covers these models as well.
+    fn fit_probe_models(&mut self) {
+        self.probe_models = None;
+        let (Some(inner), m) = (self.inner, self.grid.len()) else { return };
+        if m < 4 {
+            return;
+        }
+        let saved = self.values[inner];
+        let xs = [self.grid[0], self.grid[m / 2], self.grid[m - 1]];
+        let mut models = [(Bilinear::Constant(0.0), Bilinear::Constant(0.0)); 3];
+        for (j, &probe) in [0, m / 2, m - 1].iter().enumerate() {
+            self.values[self.solved] = self.grid[probe];
+            let mut yu = [0.0; 3];
+            let mut yl = [0.0; 3];
+            for (k, &x) in xs.iter().enumerate() {
+                self.values[inner] = x;
+                self.evaluations += 1;
+                let t = self.template.with_parameters(&self.values).and_then(|c| c.thresholds());
+                match t {
+                    Ok(t) if t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite() => {
+                        yu[k] = t.vt_upper_v;
+                        yl[k] = t.vt_lower_v;
+                    }
+                    // A failed evaluation: this run uses real probes.
+                    _ => {
+                        self.values[inner] = saved;
+                        return;
+                    }
+                }
+            }
+            match (Bilinear::fit(xs, yu), Bilinear::fit(xs, yl)) {
+                (Some(mu), Some(ml)) => models[j] = (mu, ml),
+                _ => {
+                    self.model_failed = true;
+                    self.values[inner] = saved;
+                    return;
+                }
+            }
+        }
+        self.values[inner] = saved;
+        self.probe_models = Some(models);
     }
 
     /// Evaluates grid value `i` and checks a fresh result against the bilinear models; `None` when
@@ -609,6 +678,7 @@ pub fn search<C: Circuit>(
     };
     let values: Vec<f64> = params.iter().map(|p| p.value).collect();
     let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
+    let inner = if enumerated > 0 { Some(slots[0]) } else { None };
     let mut st = Searcher {
         template: circuit,
         checks,
@@ -627,6 +697,8 @@ pub fn search<C: Circuit>(
         exhaustive: 0,
         prune: true,
         model_failed: false,
+        inner,
+        probe_models: None,
         top: Vec::with_capacity(settings.top_n + 1),
     };
     let others: Vec<usize> = st.slots[..enumerated].to_vec();
@@ -652,6 +724,14 @@ fn enumerate<C: Circuit>(st: &mut Searcher<'_, C>, others: &[usize], m: usize) -
     loop {
         for (k, &slot) in others.iter().enumerate() {
             st.values[slot] = st.grid[m - 1 - idx[k]];
+        }
+        if idx.first() == Some(&0) {
+            // A new run of the innermost enumerated resistor.
+            if st.prune {
+                st.fit_probe_models();
+            } else {
+                st.probe_models = None;
+            }
         }
         st.solve_combination();
         if st.prune && st.model_failed {

@@ -47,12 +47,12 @@ fn brute_force<C: Circuit>(c: &C, target: Thresholds, s: &SearchSettings, checks
                 }
             }
         }
-        for k in 0..idx.len() {
-            idx[k] += 1;
-            if idx[k] < grid.len() {
+        for digit in idx.iter_mut() {
+            *digit += 1;
+            if *digit < grid.len() {
                 continue 'outer;
             }
-            idx[k] = 0;
+            *digit = 0;
         }
         break;
     }
@@ -143,13 +143,22 @@ fn zero_volt_target_uses_the_width() {
     assert_matches_brute_force(&c, Thresholds { vt_upper_v: 0.2, vt_lower_v: 0.0 }, &small(ESeries::E12, 1e3, 1e6, 5), &CheckSettings::default());
 }
 
-/// A made-up circuit whose thresholds are not bilinear in its last resistor: `wiggle` scales a
-/// ripple in ln(R3) that makes them non-monotone; `wiggle = 0` keeps them monotone but still
-/// not bilinear (tanh of ln R3).
+/// A made-up circuit whose thresholds need not be bilinear in its resistors: `wiggle` scales a
+/// ripple in ln(R3) that makes them non-monotone; with `wiggle = 0` they are monotone but still
+/// not bilinear in R3 (tanh of ln R3) unless `r3_bilinear`; `r1_bilinear = false` makes them
+/// non-bilinear in R1, the innermost enumerated resistor.
 #[derive(Debug, Clone, PartialEq)]
 struct Wavy {
     r: [f64; 3],
     wiggle: f64,
+    r3_bilinear: bool,
+    r1_bilinear: bool,
+}
+
+impl Wavy {
+    fn new(wiggle: f64) -> Self {
+        Wavy { r: [10e3; 3], wiggle, r3_bilinear: false, r1_bilinear: true }
+    }
 }
 
 impl Circuit for Wavy {
@@ -158,8 +167,9 @@ impl Circuit for Wavy {
     }
     fn thresholds(&self) -> Result<Thresholds, DesignError> {
         let [r1, r2, r3] = self.r;
-        let k = r1 / (r1 + r2);
-        let s = (0.7 * (r3 / 10e3).ln()).tanh() + self.wiggle * (5.0 * r3.ln()).sin();
+        let k = if self.r1_bilinear { r1 / (r1 + r2) } else { 0.5 + 0.4 * (0.8 * (r1 / r2).ln()).tanh() };
+        let shape = if self.r3_bilinear { (r3 - 10e3) / (r3 + 10e3) } else { (0.7 * (r3 / 10e3).ln()).tanh() };
+        let s = shape + self.wiggle * (5.0 * r3.ln()).sin();
         Ok(Thresholds { vt_upper_v: 2.5 + k + 0.5 * s, vt_lower_v: 1.5 + 0.5 * k * s })
     }
     fn output_levels(&self) -> Result<(f64, f64), DesignError> {
@@ -186,7 +196,7 @@ impl Circuit for Wavy {
     }
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
         expect_len(values, 4)?;
-        Ok(Wavy { r: [values[0], values[2], values[3]], wiggle: self.wiggle })
+        Ok(Wavy { r: [values[0], values[2], values[3]], ..self.clone() })
     }
     fn synthesise_with_anchor(&self, _targets: Thresholds, _anchor_ohm: f64) -> Result<Self, DesignError> {
         Err(DesignError::infeasible("not a real circuit", "none"))
@@ -213,21 +223,31 @@ impl Circuit for Wavy {
 
 #[test]
 fn non_monotone_thresholds_fall_back_safely() {
-    let c = Wavy { r: [10e3, 10e3, 10e3], wiggle: 0.3 };
+    let c = Wavy::new(0.3);
     let r = assert_matches_brute_force(&c, Thresholds { vt_upper_v: 3.2, vt_lower_v: 1.6 }, &small(ESeries::E24, 1e3, 100e3, 10), &CheckSettings::default());
     assert!(r.exhaustive_combinations > 0);
 }
 
 #[test]
 fn monotone_but_not_bilinear_thresholds_are_caught() {
-    let c = Wavy { r: [10e3, 10e3, 10e3], wiggle: 0.0 };
+    let c = Wavy::new(0.0);
     let r = assert_matches_brute_force(&c, Thresholds { vt_upper_v: 3.1, vt_lower_v: 1.62 }, &small(ESeries::E24, 1e3, 100e3, 10), &CheckSettings::default());
     assert!(r.exhaustive_combinations > 0, "the model check should have failed somewhere");
 }
 
 #[test]
+fn non_bilinear_in_an_enumerated_resistor_is_caught() {
+    // Bilinear in the solved R3, so no combination needs a full scan, but the probe models in R1
+    // are wrong: the walks' checks must notice and the search must redo everything unpruned.
+    let c = Wavy { r3_bilinear: true, r1_bilinear: false, ..Wavy::new(0.0) };
+    for (vt_upper_v, vt_lower_v) in [(3.1, 1.62), (2.8, 1.4), (3.3, 1.75)] {
+        assert_matches_brute_force(&c, Thresholds { vt_upper_v, vt_lower_v }, &small(ESeries::E24, 1e3, 100e3, 10), &CheckSettings::default());
+    }
+}
+
+#[test]
 fn wavy_with_a_budget_matches_brute_force() {
-    let c = Wavy { r: [10e3, 10e3, 10e3], wiggle: 0.3 };
+    let c = Wavy::new(0.3);
     let mut s = small(ESeries::E12, 1e3, 100e3, 6);
     s.current_budget_a = Some(5.0 / 60e3);
     assert_matches_brute_force(&c, Thresholds { vt_upper_v: 3.0, vt_lower_v: 1.7 }, &s, &CheckSettings::default());
