@@ -10,7 +10,14 @@ use hysteron_core::topology::{analyse, inverting::InvertingSchmitt, Circuit, Top
 
 /// DOMAIN §7 scenario 1: single-supply inverting Schmitt on 5 V, VT+ 2.9 V, VT− 1.7 V.
 fn lathe() -> Topology {
-    let dev = Comparator { supply_v: 5.0, output_high_drop_v: 0.05, offset_v: 0.002, bias_plus_a: 10e-12, bias_minus_a: 10e-12, ..Comparator::default() };
+    let dev = Comparator {
+        supply_v: 5.0,
+        output_high_drop_v: 0.05,
+        offset_v: 0.002,
+        bias_plus_a: 10e-12,
+        bias_minus_a: 10e-12,
+        ..Comparator::default()
+    };
     Topology::Inverting(InvertingSchmitt::single_supply(22e3, 15e3, 100e3, dev))
 }
 
@@ -19,7 +26,8 @@ fn benches(c: &mut Criterion) {
     let targets = Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 };
     let checks = CheckSettings::default();
 
-    let e96 = SearchSettings { series: ESeries::E96, r_min_ohm: 1e3, r_max_ohm: 1e6, top_n: 10, current_budget_a: None };
+    let e96 =
+        SearchSettings { series: ESeries::E96, r_min_ohm: 1e3, r_max_ohm: 1e6, top_n: 10, current_budget_a: None };
     c.bench_function("search E96 1k-1M, three resistors", |b| {
         b.iter(|| search(black_box(&circuit), black_box(targets), &e96, &checks).unwrap())
     });

@@ -105,7 +105,12 @@ impl Default for PartSettings {
     /// E24 values at 1 % in 0603 with 2× power derating (common practice: E24 values are widely
     /// stocked at 1 % in thick film).
     fn default() -> Self {
-        PartSettings { series: ESeries::E24, tolerance_pct: 1.0, package: Package::Chip0603, power_derating_factor: 2.0 }
+        PartSettings {
+            series: ESeries::E24,
+            tolerance_pct: 1.0,
+            package: Package::Chip0603,
+            power_derating_factor: 2.0,
+        }
     }
 }
 
@@ -286,7 +291,10 @@ pub fn bom<C: Circuit>(
     for p in params.iter().filter(|p| p.kind == ParameterKind::Resistor) {
         let designator = p.designator.clone().unwrap_or_else(|| p.id.clone());
         let value = settings.series.nearest(p.value).ok_or_else(|| {
-            DesignError::invalid(&p.id, format!("must be a finite resistance above zero for the part list (got {})", p.value))
+            DesignError::invalid(
+                &p.id,
+                format!("must be a finite resistance above zero for the part list (got {})", p.value),
+            )
         })?;
         let deviation_pct = (value - p.value) / p.value * 100.0;
         let (max_power_w, max_volts) = match stress.iter().find(|s| s.0 == designator) {
@@ -381,7 +389,11 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
         notes.push(format!("input common-mode range must cover {} to {} (both output states)", v(lo), v(hi)));
         let (dev_lo, dev_hi) = circuit.device_input_range();
         if lo < dev_lo - 1e-9 || hi > dev_hi + 1e-9 {
-            notes.push(format!("the entered device accepts only {} to {}: choose a device with a wider input range", v(dev_lo), v(dev_hi)));
+            notes.push(format!(
+                "the entered device accepts only {} to {}: choose a device with a wider input range",
+                v(dev_lo),
+                v(dev_hi)
+            ));
         }
     }
     let (voh, vol) = (analysis.output_high_v, analysis.output_low_v);

@@ -20,7 +20,8 @@ use serde::{Deserialize, Serialize};
 use std::fmt;
 
 /// E24 values as two significant digits (×0.1 gives the mantissa 1.0 … 9.1). IEC 60063 (from memory).
-const E24_DIGITS: [u16; 24] = [10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91];
+const E24_DIGITS: [u16; 24] =
+    [10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91];
 
 /// E192 values as three significant digits (×0.01 gives the mantissa 1.00 … 9.88). IEC 60063 (from memory).
 const E192_DIGITS: [u16; 192] = [
@@ -79,9 +80,11 @@ impl std::str::FromStr for ESeries {
     fn from_str(s: &str) -> Result<Self, Self::Err> {
         let t = s.trim();
         let digits = t.strip_prefix(['E', 'e']).unwrap_or(t);
-        ESeries::ALL.iter().copied().find(|e| e.per_decade().to_string() == digits).ok_or_else(|| {
-            format!("unknown series \"{t}\": use one of E3, E6, E12, E24, E48, E96, E192")
-        })
+        ESeries::ALL
+            .iter()
+            .copied()
+            .find(|e| e.per_decade().to_string() == digits)
+            .ok_or_else(|| format!("unknown series \"{t}\": use one of E3, E6, E12, E24, E48, E96, E192"))
     }
 }
 
@@ -105,7 +108,11 @@ impl ESeries {
 
     /// Significant digits of the tabulated values: 2 up to E24, 3 from E48 (IEC 60063).
     pub fn significant_digits(self) -> u32 {
-        if self.per_decade() <= 24 { 2 } else { 3 }
+        if self.per_decade() <= 24 {
+            2
+        } else {
+            3
+        }
     }
 
     /// The usual tolerance of parts sold in this series, percent (IEC 60063 pairing, from memory):
@@ -204,7 +211,11 @@ impl ESeries {
                 }
             }
         }
-        if below.is_finite() && above.is_finite() { Some((below, above)) } else { None }
+        if below.is_finite() && above.is_finite() {
+            Some((below, above))
+        } else {
+            None
+        }
     }
 
     /// The series value nearest x by ratio (minimising |ln(x/v)|; see the module notes for why).
@@ -220,14 +231,22 @@ impl ESeries {
     /// 1e-9). `None` for x not finite and positive.
     pub fn next_up(self, x: f64) -> Option<f64> {
         let (lo, hi) = self.bracket(x)?;
-        if lo == hi { self.bracket(hi * (1.0 + 4.0 * SAME_VALUE_REL)).map(|(_, h)| h) } else { Some(hi) }
+        if lo == hi {
+            self.bracket(hi * (1.0 + 4.0 * SAME_VALUE_REL)).map(|(_, h)| h)
+        } else {
+            Some(hi)
+        }
     }
 
     /// The largest series value strictly below x (x itself counts as "not below" within a relative
     /// 1e-9). `None` for x not finite and positive.
     pub fn next_down(self, x: f64) -> Option<f64> {
         let (lo, hi) = self.bracket(x)?;
-        if lo == hi { self.bracket(lo * (1.0 - 4.0 * SAME_VALUE_REL)).map(|(l, _)| l) } else { Some(lo) }
+        if lo == hi {
+            self.bracket(lo * (1.0 - 4.0 * SAME_VALUE_REL)).map(|(l, _)| l)
+        } else {
+            Some(lo)
+        }
     }
 
     /// Whether x is a value of this series (within a relative 1e-9).
@@ -253,7 +272,11 @@ fn decade_of(x: f64) -> i32 {
 /// double nearest the decimal value.
 pub(crate) fn digits_value(digits: u16, exp: i32) -> f64 {
     let d = f64::from(digits);
-    if exp >= 0 { d * pow10(exp) } else { d / pow10(-exp) }
+    if exp >= 0 {
+        d * pow10(exp)
+    } else {
+        d / pow10(-exp)
+    }
 }
 
 /// 10^k for k ≥ 0: exact up to 10^22 (a double holds every such power exactly), approximate beyond.

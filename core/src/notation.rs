@@ -583,7 +583,11 @@ fn format_parts(value: f64, significant_digits: u8, unit: &str) -> String {
     };
     let (i, f) = place_point(&digits, (exp - exp3) as usize + 1);
     let number = if f.is_empty() { format!("{sign}{i}") } else { format!("{sign}{i}.{f}") };
-    if prefix.is_empty() && unit.is_empty() { number } else { format!("{number} {prefix}{unit}") }
+    if prefix.is_empty() && unit.is_empty() {
+        number
+    } else {
+        format!("{number} {prefix}{unit}")
+    }
 }
 
 /// Writes a resistance as an IEC 60062 RKM code with at most `significant_digits` significant

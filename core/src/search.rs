@@ -11,12 +11,12 @@
 //!
 //! # Method, and why it is exact
 //! The resistors are the parameters of kind [`ParameterKind::Resistor`]. Every resistor but the
-//! last is enumerated over the series values in [`SearchSettings::r_min_ohm`, `r_max_ohm`]; the
+//! last is enumerated over the series values from [`SearchSettings::r_min_ohm`] to `r_max_ohm`; the
 //! last (the *solved* resistor) is found for each combination of the others:
 //!
 //! 1. **The thresholds are bilinear in one resistor** (bilinear theorem of network functions —
 //!    H. W. Bode, *Network Analysis and Feedback Amplifier Design*, 1945, from memory — applied to
-//!    the switching condition [D]): in a linear network each node voltage is α·Vin + β with α, β
+//!    the switching condition, derived here): in a linear network each node voltage is α·Vin + β with α, β
 //!    ratios of cofactors of the nodal matrix; a conductance G enters that matrix as a rank-one
 //!    stamp, so every cofactor is affine in G. The device switches where a fixed linear combination
 //!    of node voltages equals a constant (V(+) − V(−) = VOS, VX = VM…), so the threshold
@@ -245,7 +245,11 @@ impl Bilinear {
             Bilinear::Mobius { a, b, c, d, .. } => {
                 let q = c + d * x;
                 let r = a + b * x - t * q;
-                if q < 0.0 { (-r, -q) } else { (r, q) }
+                if q < 0.0 {
+                    (-r, -q)
+                } else {
+                    (r, q)
+                }
             }
         }
     }
@@ -326,7 +330,11 @@ struct Entry {
 }
 
 fn better(f: f64, closeness: f64, than: &Entry) -> bool {
-    if (f - than.f).abs() <= tie_tol(f.max(than.f)) { closeness < than.closeness } else { f < than.f }
+    if (f - than.f).abs() <= tie_tol(f.max(than.f)) {
+        closeness < than.closeness
+    } else {
+        f < than.f
+    }
 }
 
 /// The search's working state for one run.
@@ -505,7 +513,8 @@ impl<C: Circuit> Searcher<'_, C> {
                 let x = self.grid[i];
                 self.obj.worst(&Thresholds { vt_upper_v: mu.eval(x), vt_lower_v: ml.eval(x) })
             };
-            let best = if s > 0 { model_f(s - 1) } else { f64::INFINITY }.min(if s < m { model_f(s) } else { f64::INFINITY });
+            let best =
+                if s > 0 { model_f(s - 1) } else { f64::INFINITY }.min(if s < m { model_f(s) } else { f64::INFINITY });
             let margin = (tol_u / self.obj.su).max(tol_l / self.obj.sl);
             if best - margin > self.entry_bar() {
                 return;
@@ -599,7 +608,8 @@ impl<C: Circuit> Searcher<'_, C> {
         match self.eval(i) {
             Eval::Fresh(t, f) => {
                 let x = self.grid[i];
-                let ok = (t.vt_upper_v - m.mu.eval(x)).abs() <= m.tol_u && (t.vt_lower_v - m.ml.eval(x)).abs() <= m.tol_l;
+                let ok =
+                    (t.vt_upper_v - m.mu.eval(x)).abs() <= m.tol_u && (t.vt_lower_v - m.ml.eval(x)).abs() <= m.tol_l;
                 if !ok {
                     self.model_failed = true;
                 }
@@ -663,7 +673,8 @@ pub fn search<C: Circuit>(
     }
     let m = grid.len();
     let enumerated = slots.len() - 1;
-    let combinations = (0..enumerated).try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
+    let combinations =
+        (0..enumerated).try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
     let Some(combinations) = combinations else {
         return Err(DesignError::infeasible(
             format!(
@@ -777,14 +788,22 @@ fn report<C: Circuit>(
                 .slots
                 .iter()
                 .zip(&e.resistors_ohm)
-                .map(|(&s, &v)| PartValue { id: params[s].id.clone(), designator: params[s].designator.clone(), value_ohm: v })
+                .map(|(&s, &v)| PartValue {
+                    id: params[s].id.clone(),
+                    designator: params[s].designator.clone(),
+                    value_ohm: v,
+                })
                 .collect();
             let current = e.current_a.or_else(|| {
                 let mut values = st.values.clone();
                 for (&s, &v) in st.slots.iter().zip(&e.resistors_ohm) {
                     values[s] = v;
                 }
-                st.template.with_parameters(&values).and_then(|c| analyse(&c, st.checks)).ok().map(|a| a.quiescent_current_a)
+                st.template
+                    .with_parameters(&values)
+                    .and_then(|c| analyse(&c, st.checks))
+                    .ok()
+                    .map(|a| a.quiescent_current_a)
             });
             let (eu, el) = st.obj.errors(e.thresholds.vt_upper_v, e.thresholds.vt_lower_v);
             Candidate {
@@ -849,8 +868,9 @@ mod tests {
     fn finds_an_exact_combination_when_one_exists() {
         // 10k/10k/20k gives exactly 3 V / 2 V (DOMAIN §1a rail-to-rail form), all E24 values.
         let s = SearchSettings { top_n: 3, r_min_ohm: 1e3, r_max_ohm: 100e3, ..SearchSettings::default() };
-        let r = search(&three_resistor(), Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 }, &s, &CheckSettings::default())
-            .unwrap();
+        let r =
+            search(&three_resistor(), Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 }, &s, &CheckSettings::default())
+                .unwrap();
         let best = &r.candidates[0];
         assert!(best.worst_error_rel < 1e-12, "{best:?}");
         // The tie-break prefers the starting design's own impedance level.
@@ -865,8 +885,9 @@ mod tests {
     fn current_budget_is_respected() {
         let budget = 30e-6;
         let s = SearchSettings { current_budget_a: Some(budget), ..SearchSettings::default() };
-        let r = search(&three_resistor(), Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 }, &s, &CheckSettings::default())
-            .unwrap();
+        let r =
+            search(&three_resistor(), Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 }, &s, &CheckSettings::default())
+                .unwrap();
         assert_eq!(r.candidates.len(), 10);
         for c in &r.candidates {
             assert!(c.quiescent_current_a.unwrap() <= budget * (1.0 + 1e-12));
@@ -879,8 +900,14 @@ mod tests {
         let t = Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 };
         let ck = CheckSettings::default();
         let bad = |s: SearchSettings| search(&c, t, &s, &ck).unwrap_err();
-        assert!(matches!(bad(SearchSettings { r_min_ohm: 0.0, ..Default::default() }), DesignError::InvalidValue { .. }));
-        assert!(matches!(bad(SearchSettings { r_max_ohm: 10.0, ..Default::default() }), DesignError::InvalidValue { .. }));
+        assert!(matches!(
+            bad(SearchSettings { r_min_ohm: 0.0, ..Default::default() }),
+            DesignError::InvalidValue { .. }
+        ));
+        assert!(matches!(
+            bad(SearchSettings { r_max_ohm: 10.0, ..Default::default() }),
+            DesignError::InvalidValue { .. }
+        ));
         assert!(matches!(bad(SearchSettings { top_n: 0, ..Default::default() }), DesignError::InvalidValue { .. }));
         assert!(matches!(
             bad(SearchSettings { r_min_ohm: 1.01e3, r_max_ohm: 1.05e3, ..Default::default() }),

@@ -10,14 +10,24 @@ use hysteron_core::device::{Comparator, Rail};
 use hysteron_core::error::DesignError;
 use hysteron_core::eseries::ESeries;
 use hysteron_core::search::{apply, search, SearchReport, SearchSettings};
-use hysteron_core::topology::{analyse, expect_len, inverting::InvertingSchmitt, Circuit, Parameter, ParameterKind, Topology};
+use hysteron_core::topology::{
+    analyse, expect_len, inverting::InvertingSchmitt, Circuit, Parameter, ParameterKind, Topology,
+};
 use proptest::prelude::*;
 
 /// The objective as the search documents it: worst relative error, normalised by |target| (or
 /// the target width for a 0 V target).
 fn objective(t: Thresholds, target: Thresholds) -> f64 {
     let width = (target.vt_upper_v - target.vt_lower_v).abs();
-    let norm = |v: f64| if v != 0.0 { v.abs() } else if width > 0.0 { width } else { 1.0 };
+    let norm = |v: f64| {
+        if v != 0.0 {
+            v.abs()
+        } else if width > 0.0 {
+            width
+        } else {
+            1.0
+        }
+    };
     let eu = (t.vt_upper_v - target.vt_upper_v) / norm(target.vt_upper_v);
     let el = (t.vt_lower_v - target.vt_lower_v) / norm(target.vt_lower_v);
     eu.abs().max(el.abs())
@@ -62,13 +72,21 @@ fn brute_force<C: Circuit>(c: &C, target: Thresholds, s: &SearchSettings, checks
 }
 
 /// Checks a search report against brute force and checks each candidate on its own.
-fn assert_matches_brute_force<C: Circuit>(c: &C, target: Thresholds, s: &SearchSettings, checks: &CheckSettings) -> SearchReport {
+fn assert_matches_brute_force<C: Circuit>(
+    c: &C,
+    target: Thresholds,
+    s: &SearchSettings,
+    checks: &CheckSettings,
+) -> SearchReport {
     let report = search(c, target, s, checks).unwrap();
     let reference = brute_force(c, target, s, checks);
     let got: Vec<f64> = report.candidates.iter().map(|k| k.worst_error_rel).collect();
     assert_eq!(got.len(), reference.len(), "got {got:?}\nbrute force {reference:?}");
     for (k, (g, r)) in got.iter().zip(&reference).enumerate() {
-        assert!((g - r).abs() <= 1e-12 * r.abs() + 1e-15, "rank {k}: search {g:e}, brute force {r:e}\n{got:?}\n{reference:?}");
+        assert!(
+            (g - r).abs() <= 1e-12 * r.abs() + 1e-15,
+            "rank {k}: search {g:e}, brute force {r:e}\n{got:?}\n{reference:?}"
+        );
     }
     for cand in &report.candidates {
         // Each candidate is a real combination of in-range series values with the stated results.
@@ -110,14 +128,32 @@ fn three_resistor_inverting_matches_brute_force() {
 fn deep_list_with_bias_currents_matches_brute_force() {
     // Bias currents make the thresholds depend on the impedance level, so scaled copies of one
     // ratio no longer tie and a deep list needs several values from the same combination.
-    let dev = Comparator { supply_v: 5.0, bias_plus_a: 500e-9, bias_minus_a: 500e-9, offset_v: 0.003, source_resistance_ohm: 10e3, ..Comparator::default() };
+    let dev = Comparator {
+        supply_v: 5.0,
+        bias_plus_a: 500e-9,
+        bias_minus_a: 500e-9,
+        offset_v: 0.003,
+        source_resistance_ohm: 10e3,
+        ..Comparator::default()
+    };
     let c = InvertingSchmitt::single_supply(22e3, 15e3, 100e3, dev);
-    assert_matches_brute_force(&c, Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 }, &small(ESeries::E24, 1e3, 47e3, 40), &CheckSettings::default());
+    assert_matches_brute_force(
+        &c,
+        Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 },
+        &small(ESeries::E24, 1e3, 47e3, 40),
+        &CheckSettings::default(),
+    );
 }
 
 #[test]
 fn two_resistor_split_supply_matches_brute_force() {
-    let dev = Comparator { supply_v: 12.0, negative_rail_v: -12.0, output_high_drop_v: 1.0, output_low_rise_v: 1.0, ..Comparator::default() };
+    let dev = Comparator {
+        supply_v: 12.0,
+        negative_rail_v: -12.0,
+        output_high_drop_v: 1.0,
+        output_low_rise_v: 1.0,
+        ..Comparator::default()
+    };
     let c = InvertingSchmitt::split_supply(10e3, 90e3, dev);
     assert_matches_brute_force(
         &c,
@@ -139,8 +175,17 @@ fn current_budget_matches_brute_force() {
 fn zero_volt_target_uses_the_width() {
     // A zero-crossing detector on ±5 V: VT− = 0 V is normalised by the 0.2 V target width.
     let dev = Comparator { supply_v: 5.0, negative_rail_v: -5.0, ..Comparator::default() };
-    let c = InvertingSchmitt { rail_a: Rail::Supply, rail_b: Rail::NegativeRail, ..InvertingSchmitt::single_supply(10e3, 10e3, 100e3, dev) };
-    assert_matches_brute_force(&c, Thresholds { vt_upper_v: 0.2, vt_lower_v: 0.0 }, &small(ESeries::E12, 1e3, 1e6, 5), &CheckSettings::default());
+    let c = InvertingSchmitt {
+        rail_a: Rail::Supply,
+        rail_b: Rail::NegativeRail,
+        ..InvertingSchmitt::single_supply(10e3, 10e3, 100e3, dev)
+    };
+    assert_matches_brute_force(
+        &c,
+        Thresholds { vt_upper_v: 0.2, vt_lower_v: 0.0 },
+        &small(ESeries::E12, 1e3, 1e6, 5),
+        &CheckSettings::default(),
+    );
 }
 
 /// A made-up circuit whose thresholds need not be bilinear in its resistors: `wiggle` scales a
@@ -224,14 +269,24 @@ impl Circuit for Wavy {
 #[test]
 fn non_monotone_thresholds_fall_back_safely() {
     let c = Wavy::new(0.3);
-    let r = assert_matches_brute_force(&c, Thresholds { vt_upper_v: 3.2, vt_lower_v: 1.6 }, &small(ESeries::E24, 1e3, 100e3, 10), &CheckSettings::default());
+    let r = assert_matches_brute_force(
+        &c,
+        Thresholds { vt_upper_v: 3.2, vt_lower_v: 1.6 },
+        &small(ESeries::E24, 1e3, 100e3, 10),
+        &CheckSettings::default(),
+    );
     assert!(r.exhaustive_combinations > 0);
 }
 
 #[test]
 fn monotone_but_not_bilinear_thresholds_are_caught() {
     let c = Wavy::new(0.0);
-    let r = assert_matches_brute_force(&c, Thresholds { vt_upper_v: 3.1, vt_lower_v: 1.62 }, &small(ESeries::E24, 1e3, 100e3, 10), &CheckSettings::default());
+    let r = assert_matches_brute_force(
+        &c,
+        Thresholds { vt_upper_v: 3.1, vt_lower_v: 1.62 },
+        &small(ESeries::E24, 1e3, 100e3, 10),
+        &CheckSettings::default(),
+    );
     assert!(r.exhaustive_combinations > 0, "the model check should have failed somewhere");
 }
 
@@ -241,7 +296,12 @@ fn non_bilinear_in_an_enumerated_resistor_is_caught() {
     // are wrong: the walks' checks must notice and the search must redo everything unpruned.
     let c = Wavy { r3_bilinear: true, r1_bilinear: false, ..Wavy::new(0.0) };
     for (vt_upper_v, vt_lower_v) in [(3.1, 1.62), (2.8, 1.4), (3.3, 1.75)] {
-        assert_matches_brute_force(&c, Thresholds { vt_upper_v, vt_lower_v }, &small(ESeries::E24, 1e3, 100e3, 10), &CheckSettings::default());
+        assert_matches_brute_force(
+            &c,
+            Thresholds { vt_upper_v, vt_lower_v },
+            &small(ESeries::E24, 1e3, 100e3, 10),
+            &CheckSettings::default(),
+        );
     }
 }
 
