@@ -78,8 +78,11 @@ use serde::{Deserialize, Serialize};
 /// Most combinations of the enumerated resistors a search will take on (M^(n−1)).
 pub const MAX_COMBINATIONS: u64 = 2_000_000;
 
-/// Most threshold evaluations a search may spend (reached only by exhaustive fallbacks).
-pub const MAX_EVALUATIONS: u64 = 40_000_000;
+/// Most threshold evaluations a search may spend. Bilinear topologies need a few thousand; only
+/// the unpruned pass of a non-bilinear topology with exhaustive fallbacks comes near this (E96
+/// over three decades with three resistors would need 24 million), and is then refused with a
+/// suggestion rather than left running.
+pub const MAX_EVALUATIONS: u64 = 5_000_000;
 
 /// Largest `top_n` honoured.
 pub const MAX_TOP_N: usize = 1000;
