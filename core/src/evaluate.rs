@@ -2,6 +2,8 @@
 //! checks run. Each record gives one result; each study inside a result succeeds or fails on its own.
 
 use crate::analysis::{Analysis, Thresholds};
+use crate::bom::{bom, Bom, OutputStage};
+use crate::search::{search, SearchReport};
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
 use crate::tolerance::{tolerance_report, ToleranceReport};
@@ -60,6 +62,10 @@ pub struct Evaluation {
     pub signal: Option<crate::signal::report::SignalReport>,
     /// The applications (oscillator, debouncer), when the record has application settings.
     pub application: Option<crate::signal::report::ApplicationReport>,
+    /// Part list of the circuit as entered.
+    pub bom: Option<Bom>,
+    /// Best standard-value combinations for the targets, when the record has targets and search settings.
+    pub search: Option<SearchReport>,
 }
 
 /// Thresholds of a circuit, validated first. The fast path for the page.
@@ -68,7 +74,8 @@ pub fn thresholds(circuit: &Topology) -> Result<Thresholds, DesignError> {
     circuit.thresholds()
 }
 
-/// Evaluates one record: analysis, sensitivities and (with targets) synthesis.
+/// Evaluates one record: analysis, sensitivities, part list and (with targets) synthesis and
+/// (with search settings too) the standard-value search.
 pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let mut errors = Vec::new();
     let mut fail = |study: &str, error: DesignError| errors.push(StudyError { study: study.into(), error });
@@ -131,6 +138,19 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             }
         }
     });
+    let bom = analysis.as_ref().and_then(|a| {
+        let stage = OutputStage::infer(record.circuit.name(), &record.circuit.parameters());
+        bom(&record.circuit, a, &record.checks, &record.parts, stage).map_err(|e| fail("bom", e)).ok()
+    });
+    // The search starts from the synthesised design when there is one (it may have dropped a
+    // resistor to meet the targets), else from the design as entered.
+    let search = match (&record.targets, &record.search) {
+        (Some(t), Some(s)) => {
+            let start = synthesis.as_ref().map_or(&record.circuit, |x| &x.circuit);
+            search(start, t.thresholds(), s, &record.checks).map_err(|e| fail("search", e)).ok()
+        }
+        _ => None,
+    };
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -141,6 +161,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         tolerance,
         signal,
         application,
+        bom,
+        search,
     }
 }
 

@@ -25,3 +25,7 @@ pub mod safety;
 pub mod topology;
 pub mod tolerance;
 pub mod signal;
+pub mod eseries;
+pub mod notation;
+pub mod search;
+pub mod bom;

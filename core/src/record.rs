@@ -5,6 +5,8 @@
 //! - 1: first version.
 
 use crate::analysis::{CheckSettings, Targets};
+use crate::bom::PartSettings;
+use crate::search::SearchSettings;
 use crate::error::DesignError;
 use crate::tolerance::ToleranceSettings;
 use crate::topology::Topology;
@@ -43,6 +45,12 @@ pub struct DesignRecord {
     /// Applications that ride on the thresholds: RC relaxation oscillator and RC debouncer.
     #[serde(default)]
     pub application: Option<crate::signal::report::ApplicationSettings>,
+    /// How the part list is built (series, tolerance, package).
+    #[serde(default)]
+    pub parts: PartSettings,
+    /// Standard-value search settings; `None`: no search.
+    #[serde(default)]
+    pub search: Option<SearchSettings>,
 }
 
 /// Why a record could not be read.
@@ -104,6 +112,8 @@ impl DesignRecord {
             tolerance: None,
             signal: None,
             application: None,
+            parts: PartSettings::default(),
+            search: None,
         }
     }
 

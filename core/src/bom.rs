@@ -1,0 +1,590 @@
+//! The part list (BOM) of a design: one line per resistor with its standard value, tolerance,
+//! package, worst dissipation and voltage against the package's limits, and one line for the
+//! active device with what it must provide. Exported as CSV (RFC 4180).
+//!
+//! Works for every topology through [`Circuit`]: resistors are the parameters of kind
+//! [`ParameterKind::Resistor`], their stresses come from [`Analysis::resistors`].
+//!
+//! Rules used (stated on each line of the output as well):
+//! - **Standard value**: the series value nearest the design value by ratio ([`ESeries::nearest`]).
+//! - **Power rating**: the smallest common rating ≥ `power_derating_factor` × the worst
+//!   dissipation (common practice: at least 2×, so the part runs cool and drifts little).
+//! - **Voltage**: a resistor's rated voltage is the lower of √(P·R) and the package's limiting
+//!   element voltage (IEC 60115-1's definition, from memory); the package figures below are
+//!   typical thick-film chip and 0.25 W film values (common practice / from memory — check the
+//!   chosen part's datasheet).
+
+use crate::analysis::{Analysis, CheckSettings};
+use crate::error::DesignError;
+use crate::eseries::ESeries;
+use crate::notation::{format_rkm, format_with_unit, Unit};
+use crate::topology::{analyse, Circuit, Parameter, ParameterKind};
+use serde::{Deserialize, Serialize};
+
+/// Resistor package (case size) chosen for the part list; 0603 by default.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+pub enum Package {
+    /// 0402 chip (1.0 × 0.5 mm).
+    #[serde(rename = "0402")]
+    Chip0402,
+    /// 0603 chip (1.6 × 0.8 mm).
+    #[default]
+    #[serde(rename = "0603")]
+    Chip0603,
+    /// 0805 chip (2.0 × 1.25 mm).
+    #[serde(rename = "0805")]
+    Chip0805,
+    /// 1206 chip (3.2 × 1.6 mm).
+    #[serde(rename = "1206")]
+    Chip1206,
+    /// Axial through-hole film resistor, 0.25 W.
+    #[serde(rename = "through_hole_0w25")]
+    ThroughHole0W25,
+}
+
+impl Package {
+    /// Every package, smallest first.
+    pub const ALL: [Package; 5] =
+        [Package::Chip0402, Package::Chip0603, Package::Chip0805, Package::Chip1206, Package::ThroughHole0W25];
+
+    /// Plain name for display and the CSV.
+    pub fn label(self) -> &'static str {
+        match self {
+            Package::Chip0402 => "0402",
+            Package::Chip0603 => "0603",
+            Package::Chip0805 => "0805",
+            Package::Chip1206 => "1206",
+            Package::ThroughHole0W25 => "through-hole 0.25 W",
+        }
+    }
+
+    /// Typical power rating at 70 °C, watts (common practice / from memory: 1/16, 1/10, 1/8, 1/4 W
+    /// for thick-film chips, 0.25 W for the axial film part).
+    pub fn power_rating_w(self) -> f64 {
+        match self {
+            Package::Chip0402 => 0.0625,
+            Package::Chip0603 => 0.1,
+            Package::Chip0805 => 0.125,
+            Package::Chip1206 => 0.25,
+            Package::ThroughHole0W25 => 0.25,
+        }
+    }
+
+    /// Typical limiting element (maximum working) voltage, volts (common practice / from memory:
+    /// 50, 75, 150, 200 V for thick-film chips, 250 V for the axial film part).
+    pub fn max_working_voltage_v(self) -> f64 {
+        match self {
+            Package::Chip0402 => 50.0,
+            Package::Chip0603 => 75.0,
+            Package::Chip0805 => 150.0,
+            Package::Chip1206 => 200.0,
+            Package::ThroughHole0W25 => 250.0,
+        }
+    }
+}
+
+/// Common resistor power ratings, watts, from which a suggestion is picked (common practice).
+pub const POWER_RATINGS_W: [f64; 11] = [0.05, 0.0625, 0.1, 0.125, 0.25, 0.5, 0.75, 1.0, 2.0, 3.0, 5.0];
+
+/// What the part list is built with.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct PartSettings {
+    /// The series resistor values are rounded to.
+    pub series: ESeries,
+    /// Resistor tolerance ordered, percent.
+    pub tolerance_pct: f64,
+    /// Resistor package.
+    pub package: Package,
+    /// The suggested power rating is at least this multiple of the worst dissipation
+    /// (common practice: 2).
+    pub power_derating_factor: f64,
+}
+
+impl Default for PartSettings {
+    /// E24 values at 1 % in 0603 with 2× power derating (common practice: E24 values are widely
+    /// stocked at 1 % in thick film).
+    fn default() -> Self {
+        PartSettings {
+            series: ESeries::E24,
+            tolerance_pct: 1.0,
+            package: Package::Chip0603,
+            power_derating_factor: 2.0,
+        }
+    }
+}
+
+/// The kind of output stage the active device needs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum OutputStage {
+    /// Comparator or op-amp with a push-pull output.
+    PushPull,
+    /// Comparator with an open-drain or open-collector output and a pull-up resistor.
+    OpenDrain,
+    /// CMOS logic gate (buffer, inverter or Schmitt-input gate).
+    LogicGate,
+    /// Discrete transistors.
+    DiscreteTransistors,
+}
+
+impl OutputStage {
+    /// Infers the stage from the topology's name and its parameters: "open", "drain" or
+    /// "collector" in the name, or a resistor whose id or label mentions a pull-up, mean an
+    /// open-drain output; "gate", "cmos", "buffer" or "inverter" a logic gate; "bjt",
+    /// "transistor" or "emitter" discrete transistors; anything else a push-pull comparator.
+    pub fn infer(topology_name: &str, params: &[Parameter]) -> Self {
+        let name = topology_name.to_ascii_lowercase();
+        let has = |words: &[&str]| words.iter().any(|w| name.contains(w));
+        let pullup = params.iter().any(|p| {
+            p.kind == ParameterKind::Resistor && {
+                let t = format!("{} {}", p.id, p.label).to_ascii_lowercase();
+                t.contains("pullup") || t.contains("pull_up") || t.contains("pull-up") || t.contains("rpu")
+            }
+        });
+        if has(&["bjt", "transistor", "emitter"]) {
+            OutputStage::DiscreteTransistors
+        } else if has(&["open", "drain", "collector"]) || pullup {
+            OutputStage::OpenDrain
+        } else if has(&["gate", "cmos", "buffer", "inverter"]) {
+            OutputStage::LogicGate
+        } else {
+            OutputStage::PushPull
+        }
+    }
+
+    fn description(self) -> &'static str {
+        match self {
+            OutputStage::PushPull => "comparator or op-amp, push-pull output",
+            OutputStage::OpenDrain => "comparator, open-drain or open-collector output",
+            OutputStage::LogicGate => "CMOS logic gate",
+            OutputStage::DiscreteTransistors => "small-signal transistors",
+        }
+    }
+}
+
+/// One resistor of the part list.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ResistorLine {
+    /// Designator (R1, R2…).
+    pub designator: String,
+    /// Parameter identifier in the design record.
+    pub id: String,
+    /// Plain role of the part.
+    pub label: String,
+    /// The value the design calls for, ohms.
+    pub design_value_ohm: f64,
+    /// The series value to order (nearest by ratio), ohms.
+    pub value_ohm: f64,
+    /// (value − design value)/design value, percent.
+    pub deviation_pct: f64,
+    /// The value as an IEC 60062 RKM code (`4K7`).
+    pub value_rkm: String,
+    /// The value in full with its unit (`4.7 kΩ`).
+    pub value_text: String,
+    /// The series of the value.
+    pub series: ESeries,
+    /// Tolerance ordered, percent.
+    pub tolerance_pct: f64,
+    /// Package.
+    pub package: Package,
+    /// Worst dissipation over the analysed operating points and supply range, watts.
+    pub max_power_w: Option<f64>,
+    /// Suggested power rating, watts (smallest common rating ≥ derating factor × worst dissipation).
+    pub suggested_rating_w: Option<f64>,
+    /// The package's typical power rating, watts.
+    pub package_rating_w: f64,
+    /// Largest voltage across the part, volts.
+    pub max_volts: Option<f64>,
+    /// Rated voltage of this value in this package: min(√(P·R), limiting element voltage), volts.
+    pub voltage_limit_v: f64,
+    /// Findings: rounding, an overstressed package.
+    pub notes: Vec<String>,
+}
+
+/// The active device's line: what it must provide.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DeviceLine {
+    /// Designator (U1, or Q1, Q2 for discrete transistors).
+    pub designator: String,
+    /// The output stage required.
+    pub stage: OutputStage,
+    /// Plain description of the part.
+    pub description: String,
+    /// Lowest supply it must run from, volts.
+    pub supply_min_v: f64,
+    /// Highest supply it must run from, volts.
+    pub supply_max_v: f64,
+    /// Its negative rail, volts.
+    pub negative_rail_v: f64,
+    /// Lowest voltage its inputs see (both output states), volts; the input common-mode range must reach it.
+    pub input_min_v: Option<f64>,
+    /// Highest voltage its inputs see, volts.
+    pub input_max_v: Option<f64>,
+    /// Output high level the thresholds assume, volts.
+    pub output_high_v: f64,
+    /// Output low level the thresholds assume, volts.
+    pub output_low_v: f64,
+    /// Requirements and findings in words.
+    pub notes: Vec<String>,
+}
+
+/// The part list of one design.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Bom {
+    /// One line per resistor, in the order of [`Circuit::parameters`].
+    pub resistors: Vec<ResistorLine>,
+    /// The active device.
+    pub device: DeviceLine,
+    /// The settings it was built with.
+    pub settings: PartSettings,
+}
+
+/// The column names of [`Bom::to_csv`].
+pub const CSV_HEADER: [&str; 13] = [
+    "designator",
+    "part",
+    "value",
+    "value_full",
+    "series",
+    "tolerance_pct",
+    "package",
+    "dissipation_w",
+    "suggested_rating_w",
+    "package_rating_w",
+    "max_voltage_v",
+    "voltage_limit_v",
+    "notes",
+];
+
+/// Builds the part list of `circuit` from its `analysis`. When `checks` gives a supply range,
+/// the circuit is analysed again at its ends and the worst stress is kept. `stage` is the
+/// active device's output stage (see [`OutputStage::infer`]).
+pub fn bom<C: Circuit>(
+    circuit: &C,
+    analysis: &Analysis,
+    checks: &CheckSettings,
+    settings: &PartSettings,
+    stage: OutputStage,
+) -> Result<Bom, DesignError> {
+    crate::error::positive("parts.tolerance_pct", settings.tolerance_pct)?;
+    crate::error::finite("parts.power_derating_factor", settings.power_derating_factor)?;
+    if settings.power_derating_factor < 1.0 {
+        return Err(DesignError::invalid("parts.power_derating_factor", "must be 1 or more (common practice: 2)"));
+    }
+    // Worst stress per designator over the nominal analysis and the supply extremes.
+    let mut stress: Vec<(String, f64, f64)> =
+        analysis.resistors.iter().map(|r| (r.designator.clone(), r.max_power_w, r.max_volts)).collect();
+    for supply in [checks.supply_min_v, checks.supply_max_v].into_iter().flatten() {
+        if let Ok(a) = analyse(&circuit.with_supply(supply), checks) {
+            for r in &a.resistors {
+                if let Some(s) = stress.iter_mut().find(|s| s.0 == r.designator) {
+                    s.1 = s.1.max(r.max_power_w);
+                    s.2 = s.2.max(r.max_volts);
+                }
+            }
+        }
+    }
+
+    let params = circuit.parameters();
+    let mut resistors = Vec::new();
+    for p in params.iter().filter(|p| p.kind == ParameterKind::Resistor) {
+        let designator = p.designator.clone().unwrap_or_else(|| p.id.clone());
+        let value = settings.series.nearest(p.value).ok_or_else(|| {
+            DesignError::invalid(
+                &p.id,
+                format!("must be a finite resistance above zero for the part list (got {})", p.value),
+            )
+        })?;
+        let deviation_pct = (value - p.value) / p.value * 100.0;
+        let (max_power_w, max_volts) = match stress.iter().find(|s| s.0 == designator) {
+            Some(s) => (Some(s.1), Some(s.2)),
+            None => (None, None),
+        };
+        let package = settings.package;
+        let voltage_limit_v = (package.power_rating_w() * value).sqrt().min(package.max_working_voltage_v());
+        let suggested_rating_w = max_power_w.map(|pw| {
+            let need = pw * settings.power_derating_factor;
+            POWER_RATINGS_W.iter().copied().find(|&r| r >= need).unwrap_or(need)
+        });
+        let mut notes = Vec::new();
+        if deviation_pct.abs() > 1e-7 {
+            notes.push(format!(
+                "design value {} rounded to the nearest {} value ({:+.2} %); the thresholds move: use the standard-value search to rebalance",
+                format_with_unit(p.value, 4, Unit::Ohm),
+                settings.series,
+                deviation_pct
+            ));
+        }
+        if let Some(rating) = suggested_rating_w {
+            if rating > package.power_rating_w() {
+                let bigger = Package::ALL.iter().find(|k| k.power_rating_w() >= rating);
+                notes.push(match bigger {
+                    Some(k) => format!(
+                        "{} is rated {} W, below the suggested {} W ({}× the worst dissipation, common practice): use {} or larger",
+                        package.label(),
+                        package.power_rating_w(),
+                        rating,
+                        settings.power_derating_factor,
+                        k.label()
+                    ),
+                    None => format!(
+                        "needs a {rating} W part ({}× the worst dissipation, common practice): none of the listed packages is rated that high",
+                        settings.power_derating_factor
+                    ),
+                });
+            }
+        }
+        if let Some(v) = max_volts {
+            if v > voltage_limit_v {
+                notes.push(format!(
+                    "{:.1} V across the part exceeds its rated voltage {:.1} V in {} (min of √(P·R) and the package limit): use a larger package or split the resistor",
+                    v,
+                    voltage_limit_v,
+                    package.label()
+                ));
+            }
+        }
+        resistors.push(ResistorLine {
+            designator,
+            id: p.id.clone(),
+            label: p.label.clone(),
+            design_value_ohm: p.value,
+            value_ohm: value,
+            deviation_pct,
+            value_rkm: format_rkm(value, 3).unwrap_or_default(),
+            value_text: format_with_unit(value, 3, Unit::Ohm),
+            series: settings.series,
+            tolerance_pct: settings.tolerance_pct,
+            package,
+            max_power_w,
+            suggested_rating_w,
+            package_rating_w: package.power_rating_w(),
+            max_volts,
+            voltage_limit_v,
+            notes,
+        });
+    }
+
+    Ok(Bom { resistors, device: device_line(circuit, analysis, stage), settings: *settings })
+}
+
+fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage) -> DeviceLine {
+    let nominal = circuit.supply_v();
+    let supplies = analysis.supply_corners.iter().map(|c| c.supply_v).chain([nominal]);
+    let supply_min_v = supplies.clone().fold(f64::INFINITY, f64::min);
+    let supply_max_v = supplies.fold(f64::NEG_INFINITY, f64::max);
+    let input_min_v = analysis.device_inputs.iter().map(|n| n.min_v).reduce(f64::min);
+    let input_max_v = analysis.device_inputs.iter().map(|n| n.max_v).reduce(f64::max);
+    let negative_rail_v = circuit.negative_rail_v();
+    let v = |x: f64| format_with_unit(x, 4, Unit::Volt);
+    let mut notes = Vec::new();
+    let rails = if negative_rail_v == 0.0 {
+        format!("single supply {} to {}", v(supply_min_v), v(supply_max_v))
+    } else {
+        format!("supply {} to {} above a negative rail of {}", v(supply_min_v), v(supply_max_v), v(negative_rail_v))
+    };
+    notes.push(format!("must run from a {rails}"));
+    if let (Some(lo), Some(hi)) = (input_min_v, input_max_v) {
+        notes.push(format!("input common-mode range must cover {} to {} (both output states)", v(lo), v(hi)));
+        let (dev_lo, dev_hi) = circuit.device_input_range();
+        if lo < dev_lo - 1e-9 || hi > dev_hi + 1e-9 {
+            notes.push(format!(
+                "the entered device accepts only {} to {}: choose a device with a wider input range",
+                v(dev_lo),
+                v(dev_hi)
+            ));
+        }
+    }
+    let (voh, vol) = (analysis.output_high_v, analysis.output_low_v);
+    notes.push(match stage {
+        OutputStage::OpenDrain => format!(
+            "output low must reach {} at the sink current, and the output must withstand the pull-up voltage; the high level {} is set by the pull-up network",
+            v(vol),
+            v(voh)
+        ),
+        OutputStage::LogicGate => format!("the thresholds assume output levels {} and {} at the load (CMOS outputs swing rail to rail at light load)", v(voh), v(vol)),
+        _ => format!(
+            "the thresholds assume output levels {} (high) and {} (low) at the load: choose a device whose guaranteed swing reaches them, or enter its datasheet levels",
+            v(voh),
+            v(vol)
+        ),
+    });
+    DeviceLine {
+        designator: if stage == OutputStage::DiscreteTransistors { "Q1, Q2".into() } else { "U1".into() },
+        stage,
+        description: stage.description().into(),
+        supply_min_v,
+        supply_max_v,
+        negative_rail_v,
+        input_min_v,
+        input_max_v,
+        output_high_v: voh,
+        output_low_v: vol,
+        notes,
+    }
+}
+
+/// One CSV field, quoted per RFC 4180 §2 (rules 5–7) when it holds a comma, a double quote, CR or
+/// LF; double quotes inside are doubled.
+pub fn csv_field(text: &str) -> String {
+    if text.contains([',', '"', '\r', '\n']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+/// A number for the CSV: four significant digits, plain decimal (no unit).
+fn csv_number(x: Option<f64>) -> String {
+    match x {
+        Some(v) if v.is_finite() => format!("{:.3e}", v).parse::<f64>().map(|r| r.to_string()).unwrap_or_default(),
+        _ => String::new(),
+    }
+}
+
+impl Bom {
+    /// The part list as CSV text per RFC 4180 (IETF, 2005): a header line ([`CSV_HEADER`]),
+    /// one record per part, CRLF line ends, fields quoted where needed ([`csv_field`]).
+    pub fn to_csv(&self) -> String {
+        let mut out = String::new();
+        let mut line = |fields: &[String]| {
+            let quoted: Vec<String> = fields.iter().map(|f| csv_field(f)).collect();
+            out.push_str(&quoted.join(","));
+            out.push_str("\r\n");
+        };
+        line(&CSV_HEADER.map(String::from));
+        for r in &self.resistors {
+            line(&[
+                r.designator.clone(),
+                format!("resistor, {}", r.label),
+                r.value_rkm.clone(),
+                r.value_text.clone(),
+                r.series.to_string(),
+                csv_number(Some(r.tolerance_pct)),
+                r.package.label().to_string(),
+                csv_number(r.max_power_w),
+                csv_number(r.suggested_rating_w),
+                csv_number(Some(r.package_rating_w)),
+                csv_number(r.max_volts),
+                csv_number(Some(r.voltage_limit_v)),
+                r.notes.join("; "),
+            ]);
+        }
+        let d = &self.device;
+        line(&[
+            d.designator.clone(),
+            d.description.clone(),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            csv_number(Some(d.supply_max_v - d.negative_rail_v)),
+            String::new(),
+            d.notes.join("; "),
+        ]);
+        out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::device::Comparator;
+    use crate::topology::inverting::InvertingSchmitt;
+
+    fn design(ra: f64, rb: f64, rf: f64, supply: f64) -> (InvertingSchmitt, Analysis) {
+        let c = InvertingSchmitt::single_supply(ra, rb, rf, Comparator::ideal(supply));
+        let a = analyse(&c, &CheckSettings::default()).unwrap();
+        (c, a)
+    }
+
+    #[test]
+    fn standard_values_and_codes() {
+        let (c, a) = design(10e3, 13.3e3, 47e3, 5.0);
+        let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
+        assert_eq!(b.resistors.len(), 3);
+        assert_eq!(b.resistors[0].value_rkm, "10K");
+        assert_eq!(b.resistors[0].value_text, "10 kΩ");
+        assert!(b.resistors[0].notes.is_empty());
+        // 13.3 k is not an E24 value: nearest by ratio is 13 k (−2.26 %).
+        assert_eq!(b.resistors[1].value_ohm, 13e3);
+        assert_eq!(b.resistors[1].value_rkm, "13K");
+        assert!((b.resistors[1].deviation_pct + 2.2556).abs() < 1e-3);
+        assert!(b.resistors[1].notes[0].contains("rounded"));
+        assert_eq!(b.resistors[2].value_rkm, "47K");
+        assert_eq!(b.device.designator, "U1");
+    }
+
+    #[test]
+    fn derating_rule_picks_the_next_common_rating() {
+        // Ra = 120 Ω from 5 V into node P at 2.485 V (output low: P = (5/120)/(2/120 + 1/10k))
+        // dissipates 2.515²/120 = 52.7 mW; twice that (common practice) needs 0.125 W, above an
+        // 0603's 0.1 W.
+        let (c, a) = design(120.0, 120.0, 10e3, 5.0);
+        let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
+        let r1 = &b.resistors[0];
+        let p = r1.max_power_w.unwrap();
+        let node_p = (5.0 / 120.0) / (2.0 / 120.0 + 1.0 / 10e3);
+        assert!((p - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12, "{p}");
+        assert_eq!(r1.suggested_rating_w, Some(0.125));
+        assert!(r1.notes.iter().any(|n| n.contains("use 0805 or larger")), "{:?}", r1.notes);
+    }
+
+    #[test]
+    fn voltage_limit_is_the_lower_of_power_and_package() {
+        // 0402: √(0.0625 W × 1 MΩ) = 250 V, package limit 50 V → 50 V; at 1 kΩ √62.5 = 7.9 V.
+        let (c, a) = design(1e3, 1e6, 1e6, 5.0);
+        let s = PartSettings { package: Package::Chip0402, ..PartSettings::default() };
+        let b = bom(&c, &a, &CheckSettings::default(), &s, OutputStage::PushPull).unwrap();
+        assert!((b.resistors[0].voltage_limit_v - 62.5f64.sqrt()).abs() < 1e-12);
+        assert_eq!(b.resistors[1].voltage_limit_v, 50.0);
+    }
+
+    #[test]
+    fn supply_range_raises_the_stress() {
+        let (c, a) = design(10e3, 10e3, 20e3, 5.0);
+        let checks = CheckSettings { supply_min_v: Some(4.5), supply_max_v: Some(5.5), ..CheckSettings::default() };
+        let a2 = analyse(&c, &checks).unwrap();
+        let nominal = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
+        let ranged = bom(&c, &a2, &checks, &PartSettings::default(), OutputStage::PushPull).unwrap();
+        let ratio = ranged.resistors[0].max_power_w.unwrap() / nominal.resistors[0].max_power_w.unwrap();
+        // Every voltage scales with the supply here, so power scales with its square.
+        assert!((ratio - (5.5f64 / 5.0).powi(2)).abs() < 1e-9, "{ratio}");
+        assert_eq!((ranged.device.supply_min_v, ranged.device.supply_max_v), (4.5, 5.5));
+    }
+
+    #[test]
+    fn stage_inference() {
+        let p = vec![Parameter::resistor("rpu_ohm", "R4", "pull-up resistor", 4.7e3)];
+        assert_eq!(OutputStage::infer("inverting", &[]), OutputStage::PushPull);
+        assert_eq!(OutputStage::infer("inverting_open_drain", &[]), OutputStage::OpenDrain);
+        assert_eq!(OutputStage::infer("undervoltage", &p), OutputStage::OpenDrain);
+        assert_eq!(OutputStage::infer("cmos_gate", &[]), OutputStage::LogicGate);
+        assert_eq!(OutputStage::infer("emitter_coupled_bjt", &[]), OutputStage::DiscreteTransistors);
+    }
+
+    #[test]
+    fn csv_quoting_follows_rfc_4180() {
+        // RFC 4180 §2 rules 6 and 7.
+        assert_eq!(csv_field("plain"), "plain");
+        assert_eq!(csv_field("a,b"), "\"a,b\"");
+        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(csv_field("two\r\nlines"), "\"two\r\nlines\"");
+    }
+
+    #[test]
+    fn bad_settings_are_typed_errors() {
+        let (c, a) = design(10e3, 10e3, 20e3, 5.0);
+        let s = PartSettings { tolerance_pct: 0.0, ..PartSettings::default() };
+        assert!(bom(&c, &a, &CheckSettings::default(), &s, OutputStage::PushPull).is_err());
+        let s = PartSettings { power_derating_factor: 0.5, ..PartSettings::default() };
+        assert!(bom(&c, &a, &CheckSettings::default(), &s, OutputStage::PushPull).is_err());
+        assert_eq!(serde_json::from_str::<PartSettings>("{}").unwrap(), PartSettings::default());
+        assert_eq!(serde_json::to_string(&Package::Chip0805).unwrap(), "\"0805\"");
+    }
+}

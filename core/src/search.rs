@@ -1,0 +1,934 @@
+//! Best standard-value combinations: which E-series resistor values reach the target thresholds
+//! most closely, for any topology (everything goes through [`Circuit`]).
+//!
+//! # Objective
+//! For a combination with thresholds VT+ and VT−, the relative errors are
+//! e+ = (VT+ − VT+target)/s+ and e− = (VT− − VT−target)/s−, with s = |target| (or, for a target
+//! of exactly 0 V, the target hysteresis width |VT+target − VT−target|, or 1 V if that is zero too).
+//! The search minimises the worst of the two, **f = max(|e+|, |e−|)**, so neither threshold is
+//! traded away for the other; absolute errors in volts are reported beside it. Near-ties (within a
+//! relative 1e-12) go to the combination closest to the starting design, Σ|ln(Ri/Ri,start)|.
+//!
+//! # Method, and why it is exact
+//! The resistors are the parameters of kind [`ParameterKind::Resistor`]. Every resistor but the
+//! last is enumerated over the series values from [`SearchSettings::r_min_ohm`] to `r_max_ohm`; the
+//! last (the *solved* resistor) is found for each combination of the others:
+//!
+//! 1. **The thresholds are bilinear in one resistor** (bilinear theorem of network functions —
+//!    H. W. Bode, *Network Analysis and Feedback Amplifier Design*, 1945, from memory — applied to
+//!    the switching condition, derived here): in a linear network each node voltage is α·Vin + β with α, β
+//!    ratios of cofactors of the nodal matrix; a conductance G enters that matrix as a rank-one
+//!    stamp, so every cofactor is affine in G. The device switches where a fixed linear combination
+//!    of node voltages equals a constant (V(+) − V(−) = VOS, VX = VM…), so the threshold
+//!    Vin = (a + bG)/(c + dG): a Möbius function of G and therefore of R = 1/G. Having no pole for
+//!    R > 0 (the circuit is defined there), it is monotone in R.
+//! 2. **The objective is then quasi-convex in the solved resistor:** |e| of a monotone e is
+//!    non-increasing then non-decreasing, and the maximum of two such functions is too (its
+//!    sub-level sets are intersections of intervals). So over the sorted series values f is
+//!    non-increasing up to the continuous optimum x* and non-decreasing after it.
+//! 3. **Continuous optimum.** Each threshold's Möbius function is fitted exactly through three
+//!    points (lowest, middle and highest series value; cross-ratio form). On that model the sign
+//!    of f's one-sided slope is known everywhere (from each error's sign and the model's
+//!    direction), and it runs −, 0, + along x; bisection on it, with the bracket ends kept on
+//!    series values, closes the bracket around the continuous optimum x* to two adjacent series
+//!    values in log2 M steps.
+//! 4. **Series values on both sides.** From those two values the search walks outward on the
+//!    real circuit, offering each value to the top-N list, and stops on a side once a value is
+//!    worse than the current N-th best *and* not better than the value before it — by step 2
+//!    every value further out is worse still. The stop rule uses only real evaluations, so an
+//!    imprecise x* costs a few extra evaluations, never a missed combination.
+//! 5. **Pruning.** When the model puts both values around x* above the current N-th best (by more
+//!    than the tolerance the model is held to, 1e-9 of the thresholds), the walk is skipped: by
+//!    step 2 no value of that combination can enter.
+//! 6. **Probes from a model too.** Step 1 holds for every resistor, so with the outer resistors
+//!    fixed and the solved one at a probe value, the thresholds are bilinear in the innermost
+//!    enumerated resistor as well: nine real evaluations per run of that resistor fit the three
+//!    probes as functions of it, and step 3 takes its fit points from these models. Pruned
+//!    combinations then cost no circuit evaluation at all.
+//!
+//! **Non-bilinear topologies** (a transistor model solved numerically, say) are handled safely.
+//! Any sign that a model is wrong — fit points that are not monotone, or a walked value that
+//! differs from the model by more than 1e-9 of the thresholds' size — distrusts the models: that
+//! combination falls back to an exhaustive scan of every series value of the solved resistor, and
+//! the whole search is run again without pruning and without probe models, every combination
+//! evaluated, walked and checked on the real circuit. A failed evaluation also falls back to the
+//! exhaustive scan. The first combinations are always walked in full (the list is not yet full),
+//! so a wrong model shows early. (A function that agrees with a bilinear one at every checked
+//! value to 1e-9 yet is not quasi-convex could in principle slip through; for linear networks the
+//! argument above is exact.) [`SearchReport::exhaustive_combinations`] counts the fallbacks.
+//!
+//! With an optional current budget, a combination enters the list only if the network's quiescent
+//! current, as [`analyse`] reports it, is within the budget. The walk continues past values that
+//! fail the budget (a feasible value further out may still qualify), so the result stays optimal
+//! among budget-feasible combinations. The budget is checked only for combinations good enough
+//! to enter the list, first by two operating points (a lower bound of the analysed maximum, so a
+//! failure there is final), then by the full analysis.
+//!
+//! Cost: M^(n−1) combinations for n resistors and M series values in range (E96 over three
+//! decades, three resistors: 289² ≈ 83 500), each a few model evaluations; real circuit
+//! evaluations number about 9·M^(n−2) plus the walks (about 3 000 in that example).
+//! The inner loop does not allocate: one parameter buffer is reused for `with_parameters`.
+
+use crate::analysis::{CheckSettings, OutputState, Sense, Thresholds};
+use crate::error::DesignError;
+use crate::eseries::ESeries;
+use crate::topology::{analyse, Circuit, ParameterKind};
+use serde::{Deserialize, Serialize};
+
+/// Most combinations of the enumerated resistors a search will take on (M^(n−1)).
+pub const MAX_COMBINATIONS: u64 = 2_000_000;
+
+/// Most threshold evaluations a search may spend. Bilinear topologies need a few thousand; only
+/// the unpruned pass of a non-bilinear topology with exhaustive fallbacks comes near this (E96
+/// over three decades with three resistors would need 24 million), and is then refused with a
+/// suggestion rather than left running.
+pub const MAX_EVALUATIONS: u64 = 5_000_000;
+
+/// Largest `top_n` honoured.
+pub const MAX_TOP_N: usize = 1000;
+
+/// What the standard-value search may choose from and how many results it returns.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct SearchSettings {
+    /// The series every resistor is taken from.
+    pub series: ESeries,
+    /// Smallest resistor value allowed, ohms.
+    pub r_min_ohm: f64,
+    /// Largest resistor value allowed, ohms.
+    pub r_max_ohm: f64,
+    /// How many best combinations to return (1 … [`MAX_TOP_N`]).
+    pub top_n: usize,
+    /// Largest quiescent network current allowed, amperes (as [`analyse`] reports it); `None`: no limit.
+    pub current_budget_a: Option<f64>,
+}
+
+impl Default for SearchSettings {
+    /// E24 from 1 kΩ to 1 MΩ, ten results, no current limit (common practice: below 1 kΩ the
+    /// network loads the device output, above 1 MΩ bias currents and leakage dominate).
+    fn default() -> Self {
+        SearchSettings { series: ESeries::E24, r_min_ohm: 1e3, r_max_ohm: 1e6, top_n: 10, current_budget_a: None }
+    }
+}
+
+/// One resistor's value in a candidate.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PartValue {
+    /// Parameter identifier (record field name).
+    pub id: String,
+    /// Part designator (R1, R2…).
+    pub designator: Option<String>,
+    /// Series value chosen, ohms.
+    pub value_ohm: f64,
+}
+
+/// One combination of standard values and how close it comes.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Candidate {
+    /// The resistor values, in the order of [`Circuit::parameters`].
+    pub parts: Vec<PartValue>,
+    /// VT+ reached, volts.
+    pub vt_upper_v: f64,
+    /// VT− reached, volts.
+    pub vt_lower_v: f64,
+    /// VT+ − target VT+, volts.
+    pub error_upper_v: f64,
+    /// VT− − target VT−, volts.
+    pub error_lower_v: f64,
+    /// Relative error of VT+ (a fraction; see the module notes for the normaliser).
+    pub error_upper_rel: f64,
+    /// Relative error of VT− (a fraction).
+    pub error_lower_rel: f64,
+    /// The objective: max(|error_upper_rel|, |error_lower_rel|).
+    pub worst_error_rel: f64,
+    /// Quiescent network current of this combination, amperes (`None` if its analysis failed).
+    pub quiescent_current_a: Option<f64>,
+}
+
+/// The outcome of a search: the best combinations and what it took to find them.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SearchReport {
+    /// The thresholds aimed at.
+    pub targets: Thresholds,
+    /// The best combinations, best first (fewer than `top_n` only if fewer exist).
+    pub candidates: Vec<Candidate>,
+    /// The series searched.
+    pub series: ESeries,
+    /// Number of series values in the allowed range, M.
+    pub values_per_resistor: usize,
+    /// Combinations of the enumerated resistors, M^(n−1).
+    pub combinations: u64,
+    /// Threshold evaluations spent.
+    pub evaluations: u64,
+    /// Identifier of the resistor solved for rather than enumerated.
+    pub solved_id: String,
+    /// Combinations where the solved resistor had to be scanned exhaustively (non-bilinear thresholds).
+    pub exhaustive_combinations: u64,
+}
+
+/// The objective's targets and normalisers.
+#[derive(Debug, Clone, Copy)]
+struct Objective {
+    tu: f64,
+    tl: f64,
+    su: f64,
+    sl: f64,
+}
+
+impl Objective {
+    fn new(t: Thresholds) -> Self {
+        let width = (t.vt_upper_v - t.vt_lower_v).abs();
+        let norm = |v: f64| {
+            if v != 0.0 {
+                v.abs()
+            } else if width > 0.0 {
+                width
+            } else {
+                1.0
+            }
+        };
+        Objective { tu: t.vt_upper_v, tl: t.vt_lower_v, su: norm(t.vt_upper_v), sl: norm(t.vt_lower_v) }
+    }
+
+    fn errors(&self, yu: f64, yl: f64) -> (f64, f64) {
+        ((yu - self.tu) / self.su, (yl - self.tl) / self.sl)
+    }
+
+    fn worst(&self, t: &Thresholds) -> f64 {
+        let (eu, el) = self.errors(t.vt_upper_v, t.vt_lower_v);
+        eu.abs().max(el.abs())
+    }
+}
+
+/// A threshold as a function of the solved resistance x: constant, or (a + b·x)/(c + d·x) with
+/// `dir` its direction (+1 increasing, −1 decreasing).
+#[derive(Debug, Clone, Copy)]
+enum Bilinear {
+    Constant(f64),
+    Mobius { a: f64, b: f64, c: f64, d: f64, dir: f64 },
+}
+
+impl Bilinear {
+    /// The Möbius function through three points (x1 < x2 < x3), from the cross-ratio identity
+    /// (y−y1)(y2−y3)/((y−y3)(y2−y1)) = (x−x1)(x2−x3)/((x−x3)(x2−x1)). `None` when the points are
+    /// not monotone (then no pole-free Möbius function passes through them).
+    fn fit(x: [f64; 3], y: [f64; 3]) -> Option<Self> {
+        let [x1, x2, x3] = x;
+        let [y1, y2, y3] = y;
+        let size = y1.abs().max(y2.abs()).max(y3.abs());
+        let spread = (y1 - y2).abs().max((y2 - y3).abs()).max((y1 - y3).abs());
+        if spread <= 1e-10 * size {
+            return Some(Bilinear::Constant(y2));
+        }
+        if !((y1 < y2 && y2 < y3) || (y1 > y2 && y2 > y3)) {
+            return None;
+        }
+        let p = (y2 - y3) * (x2 - x1);
+        let q = (y2 - y1) * (x2 - x3);
+        Some(Bilinear::Mobius {
+            a: -y1 * p * x3 + y3 * q * x1,
+            b: y1 * p - y3 * q,
+            c: -p * x3 + q * x1,
+            d: p - q,
+            dir: if y3 > y1 { 1.0 } else { -1.0 },
+        })
+    }
+
+    fn eval(&self, x: f64) -> f64 {
+        match *self {
+            Bilinear::Constant(v) => v,
+            Bilinear::Mobius { a, b, c, d, .. } => (a + b * x) / (c + d * x),
+        }
+    }
+
+    /// y(x) − t as a fraction (r, q) with q > 0, so comparisons need no division.
+    fn offset(&self, x: f64, t: f64) -> (f64, f64) {
+        match *self {
+            Bilinear::Constant(v) => (v - t, 1.0),
+            Bilinear::Mobius { a, b, c, d, .. } => {
+                let q = c + d * x;
+                let r = a + b * x - t * q;
+                if q < 0.0 {
+                    (-r, -q)
+                } else {
+                    (r, q)
+                }
+            }
+        }
+    }
+
+    fn dir(&self) -> f64 {
+        match *self {
+            Bilinear::Constant(_) => 0.0,
+            Bilinear::Mobius { dir, .. } => dir,
+        }
+    }
+}
+
+fn sign(v: f64) -> f64 {
+    if v > 0.0 {
+        1.0
+    } else if v < 0.0 {
+        -1.0
+    } else {
+        0.0
+    }
+}
+
+/// Sign of the slope of f = max(|e+|, |e−|) on the model at x: +1 rising (optimum to the left),
+/// −1 falling (to the right), 0 at an optimum (a kink where the two cross with opposite slopes, a
+/// zero of the active error, or a flat active piece).
+fn model_slope(obj: &Objective, mu: &Bilinear, ml: &Bilinear, x: f64) -> f64 {
+    // e = r/(q·s) with q, s > 0: sign(e) = sign(r), and |e+| > |e−| ⇔ |r+|·q−·s− > |r−|·q+·s+.
+    let (ru, qu) = mu.offset(x, obj.tu);
+    let (rl, ql) = ml.offset(x, obj.tl);
+    let gu = sign(ru) * mu.dir();
+    let gl = sign(rl) * ml.dir();
+    let mag_u = ru.abs() * ql * obj.sl;
+    let mag_l = rl.abs() * qu * obj.su;
+    if mag_u > mag_l {
+        gu
+    } else if mag_l > mag_u {
+        gl
+    } else if gu > 0.0 && gl > 0.0 {
+        1.0
+    } else if gu < 0.0 && gl < 0.0 {
+        -1.0
+    } else {
+        0.0
+    }
+}
+
+/// Where the model's continuous optimum x* lies among the sorted series values: the smallest
+/// index s with a rising-or-flat slope at `grid[s]` (`grid.len()` if none), so x* is in
+/// [grid[s−1], grid[s]]. Bisection on the slope sign keeps that bracket; because f is quasi-convex
+/// the sign runs −1 … −1, 0 …, +1 … along the sorted values, and log2 M halvings close the bracket
+/// to two adjacent series values — all the discrete problem needs of x*.
+fn model_bracket(obj: &Objective, mu: &Bilinear, ml: &Bilinear, grid: &[f64]) -> usize {
+    let (mut lo, mut hi) = (0, grid.len());
+    while lo < hi {
+        let mid = lo + (hi - lo) / 2;
+        if model_slope(obj, mu, ml, grid[mid]) >= 0.0 {
+            hi = mid;
+        } else {
+            lo = mid + 1;
+        }
+    }
+    lo
+}
+
+/// Tolerance within which two objective values count as tied.
+fn tie_tol(f: f64) -> f64 {
+    1e-12 * f.abs() + 1e-15
+}
+
+/// An entry of the top-N list.
+#[derive(Debug, Clone)]
+struct Entry {
+    f: f64,
+    closeness: f64,
+    resistors_ohm: Vec<f64>,
+    thresholds: Thresholds,
+    current_a: Option<f64>,
+}
+
+fn better(f: f64, closeness: f64, than: &Entry) -> bool {
+    if (f - than.f).abs() <= tie_tol(f.max(than.f)) {
+        closeness < than.closeness
+    } else {
+        f < than.f
+    }
+}
+
+/// The search's working state for one run.
+struct Searcher<'a, C: Circuit> {
+    template: &'a C,
+    checks: &'a CheckSettings,
+    obj: Objective,
+    budget_a: Option<f64>,
+    top_n: usize,
+    grid: Vec<f64>,
+    /// Full parameter vector, reused for every evaluation.
+    values: Vec<f64>,
+    /// Indices of the resistor parameters in `values`; the last one is solved.
+    slots: Vec<usize>,
+    /// ln of the starting design's resistor values, for the tie-break.
+    ln_start: Vec<f64>,
+    solved: usize,
+    /// Per grid index: the combination number it was last evaluated in, and the objective then
+    /// (NaN for a failed evaluation). Stamps avoid clearing the cache for every combination.
+    stamp: Vec<u64>,
+    fcache: Vec<f64>,
+    combo: u64,
+    evaluations: u64,
+    exhaustive: u64,
+    /// Whether combinations may be skipped on the model's word (see [`Searcher::solve_combination`]).
+    prune: bool,
+    /// Set when a model failed a check: the thresholds are not bilinear in the solved resistor.
+    model_failed: bool,
+    /// Index in `values` of the innermost enumerated resistor, if any.
+    inner: Option<usize>,
+    /// For the current setting of the outer resistors: each probe's (VT+, VT−) as bilinear
+    /// functions of the innermost enumerated resistor (see [`Searcher::fit_probe_models`]).
+    probe_models: Option<[(Bilinear, Bilinear); 3]>,
+    top: Vec<Entry>,
+}
+
+/// A fresh evaluation (for the model check) or a cached objective.
+enum Eval {
+    Fresh(Thresholds, f64),
+    Cached(f64),
+    Failed,
+}
+
+impl<C: Circuit> Searcher<'_, C> {
+    /// The objective a newcomer must beat (with the tie tolerance) to enter the list.
+    fn entry_bar(&self) -> f64 {
+        if self.top.len() < self.top_n {
+            f64::INFINITY
+        } else {
+            self.top.last().map_or(f64::INFINITY, |e| e.f + tie_tol(e.f))
+        }
+    }
+
+    fn closeness(&self) -> f64 {
+        self.slots.iter().zip(&self.ln_start).map(|(&s, l)| (self.values[s].ln() - l).abs()).sum()
+    }
+
+    /// Evaluates grid value `i` for the solved resistor in the current combination and offers it.
+    fn eval(&mut self, i: usize) -> Eval {
+        if self.stamp[i] == self.combo {
+            let f = self.fcache[i];
+            return if f.is_nan() { Eval::Failed } else { Eval::Cached(f) };
+        }
+        self.stamp[i] = self.combo;
+        self.fcache[i] = f64::NAN;
+        self.values[self.solved] = self.grid[i];
+        self.evaluations += 1;
+        let Ok(c) = self.template.with_parameters(&self.values) else { return Eval::Failed };
+        let Ok(t) = c.thresholds() else { return Eval::Failed };
+        if !(t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()) {
+            return Eval::Failed;
+        }
+        let f = self.obj.worst(&t);
+        self.fcache[i] = f;
+        self.offer(f, t, &c);
+        Eval::Fresh(t, f)
+    }
+
+    /// Puts the current combination into the top-N list if it is good enough and within budget.
+    fn offer(&mut self, f: f64, t: Thresholds, c: &C) {
+        if f > self.entry_bar() {
+            return;
+        }
+        let closeness = self.closeness();
+        let full = self.top.len() >= self.top_n;
+        if full && !self.top.last().is_some_and(|last| better(f, closeness, last)) {
+            return;
+        }
+        // A restarted pass may meet a combination again.
+        if self.top.iter().any(|e| self.slots.iter().zip(&e.resistors_ohm).all(|(&s, &v)| self.values[s] == v)) {
+            return;
+        }
+        let mut current_a = None;
+        if let Some(budget) = self.budget_a {
+            if self.exceeds_at_thresholds(c, &t, budget) {
+                return;
+            }
+            match analyse(c, self.checks) {
+                Ok(a) if a.quiescent_current_a <= budget * (1.0 + 1e-12) => current_a = Some(a.quiescent_current_a),
+                _ => return,
+            }
+        }
+        let pos = self.top.iter().position(|e| better(f, closeness, e)).unwrap_or(self.top.len());
+        let resistors_ohm = self.slots.iter().map(|&s| self.values[s]).collect();
+        self.top.insert(pos, Entry { f, closeness, resistors_ohm, thresholds: t, current_a });
+        self.top.truncate(self.top_n);
+    }
+
+    /// A cheap exact rejection: [`analyse`] reports the largest network current over operating
+    /// points that include (VT+, input-low state) and (VT−, input-high state), so if either of
+    /// those two already exceeds the budget the full analysis cannot pass.
+    fn exceeds_at_thresholds(&self, c: &C, t: &Thresholds, budget: f64) -> bool {
+        let (low_state, high_state) = match c.sense() {
+            Sense::Inverting => (OutputState::High, OutputState::Low),
+            Sense::NonInverting => (OutputState::Low, OutputState::High),
+        };
+        [(t.vt_upper_v, low_state), (t.vt_lower_v, high_state)].iter().any(|&(vin, state)| {
+            c.operating_point(vin, state).is_ok_and(|op| op.network_current_a.abs() > budget * (1.0 + 1e-12))
+        })
+    }
+
+    /// Scans every grid value of the solved resistor (the safe fallback).
+    fn exhaustive(&mut self) {
+        self.exhaustive += 1;
+        for i in 0..self.grid.len() {
+            self.eval(i);
+        }
+    }
+
+    /// Finds the best values of the solved resistor for the current values of the others.
+    fn solve_combination(&mut self) {
+        let m = self.grid.len();
+        if m < 4 {
+            self.exhaustive();
+            return;
+        }
+        let probes = [0, m / 2, m - 1];
+        let mut yu = [0.0; 3];
+        let mut yl = [0.0; 3];
+        if let (Some(pm), Some(inner)) = (&self.probe_models, self.inner) {
+            let x = self.values[inner];
+            for (k, (mu, ml)) in pm.iter().enumerate() {
+                yu[k] = mu.eval(x);
+                yl[k] = ml.eval(x);
+            }
+        } else {
+            for (k, &i) in probes.iter().enumerate() {
+                match self.eval(i) {
+                    Eval::Fresh(t, _) => {
+                        yu[k] = t.vt_upper_v;
+                        yl[k] = t.vt_lower_v;
+                    }
+                    _ => {
+                        self.exhaustive();
+                        return;
+                    }
+                }
+            }
+        }
+        let xs = probes.map(|i| self.grid[i]);
+        let (Some(mu), Some(ml)) = (Bilinear::fit(xs, yu), Bilinear::fit(xs, yl)) else {
+            // Not monotone over the range: not a pole-free bilinear function.
+            self.model_failed = true;
+            self.exhaustive();
+            return;
+        };
+        let tol_u = 1e-9 * yu.iter().fold(0.0_f64, |a, y| a.max(y.abs())) + 1e-15;
+        let tol_l = 1e-9 * yl.iter().fold(0.0_f64, |a, y| a.max(y.abs())) + 1e-15;
+        let s = model_bracket(&self.obj, &mu, &ml, &self.grid);
+        if self.prune {
+            // By quasi-convexity the best series values of this combination are grid[s − 1] and
+            // grid[s]. For a bilinear circuit the model is its exact function (to rounding), so
+            // if the model puts both above the entry bar, with a margin as wide as the tolerance
+            // the model is held to, no value of this combination can enter: skip the walk.
+            let model_f = |i: usize| {
+                let x = self.grid[i];
+                self.obj.worst(&Thresholds { vt_upper_v: mu.eval(x), vt_lower_v: ml.eval(x) })
+            };
+            let best =
+                if s > 0 { model_f(s - 1) } else { f64::INFINITY }.min(if s < m { model_f(s) } else { f64::INFINITY });
+            let margin = (tol_u / self.obj.su).max(tol_l / self.obj.sl);
+            if best - margin > self.entry_bar() {
+                return;
+            }
+        }
+
+        let models = Models { mu, ml, tol_u, tol_l };
+        // Walk outward from the two values around x*: rightward over s, s+1, … (the value inside
+        // s is s − 1) and leftward over s − 1, s − 2, … (the value inside s − 1 is s).
+        let mut inner_of_s = None;
+        if s > 0 {
+            match self.checked(s - 1, &models) {
+                Some(f) => inner_of_s = Some(f),
+                None => return self.exhaustive(),
+            }
+        }
+        let mut inner_of_left = None;
+        let mut prev = inner_of_s;
+        for i in s..m {
+            let Some(f) = self.checked(i, &models) else { return self.exhaustive() };
+            if i == s {
+                inner_of_left = Some(f);
+            }
+            if f > self.entry_bar() && prev.is_some_and(|p| f >= p) {
+                break;
+            }
+            prev = Some(f);
+        }
+        let mut prev = inner_of_left;
+        for i in (0..s).rev() {
+            // s − 1 is cached from above; the stop rule is the same mirrored.
+            let Some(f) = self.checked(i, &models) else { return self.exhaustive() };
+            if f > self.entry_bar() && prev.is_some_and(|p| f >= p) {
+                break;
+            }
+            prev = Some(f);
+        }
+    }
+
+    /// Step 3's probes for a whole run of the innermost enumerated resistor R_e at once: with the
+    /// outer resistors fixed and the solved resistor at a probe value, the thresholds are
+    /// bilinear in R_e too (the same argument), so three real evaluations per probe fit them as
+    /// functions of R_e, and every combination of the run takes its probe values from these
+    /// models instead of three evaluations of its own. Used only in the pruning pass, whose
+    /// safety net (walk checks, restart) covers these models as well.
+    fn fit_probe_models(&mut self) {
+        self.probe_models = None;
+        let (Some(inner), m) = (self.inner, self.grid.len()) else { return };
+        if m < 4 {
+            return;
+        }
+        let saved = self.values[inner];
+        let xs = [self.grid[0], self.grid[m / 2], self.grid[m - 1]];
+        let mut models = [(Bilinear::Constant(0.0), Bilinear::Constant(0.0)); 3];
+        for (j, &probe) in [0, m / 2, m - 1].iter().enumerate() {
+            self.values[self.solved] = self.grid[probe];
+            let mut yu = [0.0; 3];
+            let mut yl = [0.0; 3];
+            for (k, &x) in xs.iter().enumerate() {
+                self.values[inner] = x;
+                self.evaluations += 1;
+                let t = self.template.with_parameters(&self.values).and_then(|c| c.thresholds());
+                match t {
+                    Ok(t) if t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite() => {
+                        yu[k] = t.vt_upper_v;
+                        yl[k] = t.vt_lower_v;
+                    }
+                    // A failed evaluation: this run uses real probes.
+                    _ => {
+                        self.values[inner] = saved;
+                        return;
+                    }
+                }
+            }
+            match (Bilinear::fit(xs, yu), Bilinear::fit(xs, yl)) {
+                (Some(mu), Some(ml)) => models[j] = (mu, ml),
+                _ => {
+                    self.model_failed = true;
+                    self.values[inner] = saved;
+                    return;
+                }
+            }
+        }
+        self.values[inner] = saved;
+        self.probe_models = Some(models);
+    }
+
+    /// Evaluates grid value `i` and checks a fresh result against the bilinear models; `None` when
+    /// the evaluation failed or the model does not hold there.
+    fn checked(&mut self, i: usize, m: &Models) -> Option<f64> {
+        match self.eval(i) {
+            Eval::Fresh(t, f) => {
+                let x = self.grid[i];
+                let ok =
+                    (t.vt_upper_v - m.mu.eval(x)).abs() <= m.tol_u && (t.vt_lower_v - m.ml.eval(x)).abs() <= m.tol_l;
+                if !ok {
+                    self.model_failed = true;
+                }
+                ok.then_some(f)
+            }
+            Eval::Cached(f) => Some(f),
+            Eval::Failed => None,
+        }
+    }
+}
+
+/// The two thresholds' bilinear models for one combination and the tolerances they are held to.
+struct Models {
+    mu: Bilinear,
+    ml: Bilinear,
+    tol_u: f64,
+    tol_l: f64,
+}
+
+/// Searches the standard-value combinations of `circuit`'s resistors that come closest to
+/// `targets` (see the module notes for the objective and the optimality argument). The circuit's
+/// other parameters (rails, device) are kept; its own resistor values only break near-ties.
+pub fn search<C: Circuit>(
+    circuit: &C,
+    targets: Thresholds,
+    settings: &SearchSettings,
+    checks: &CheckSettings,
+) -> Result<SearchReport, DesignError> {
+    crate::error::finite("targets.vt_upper_v", targets.vt_upper_v)?;
+    crate::error::finite("targets.vt_lower_v", targets.vt_lower_v)?;
+    crate::error::positive("search.r_min_ohm", settings.r_min_ohm)?;
+    crate::error::positive("search.r_max_ohm", settings.r_max_ohm)?;
+    if settings.r_max_ohm < settings.r_min_ohm {
+        return Err(DesignError::invalid(
+            "search.r_max_ohm",
+            format!("must not be below r_min_ohm ({} Ω)", settings.r_min_ohm),
+        ));
+    }
+    if settings.top_n == 0 || settings.top_n > MAX_TOP_N {
+        return Err(DesignError::invalid("search.top_n", format!("must be between 1 and {MAX_TOP_N}")));
+    }
+    if let Some(b) = settings.current_budget_a {
+        crate::error::positive("search.current_budget_a", b)?;
+    }
+    circuit.validate()?;
+    let params = circuit.parameters();
+    let slots: Vec<usize> =
+        params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor).map(|(i, _)| i).collect();
+    let Some(&solved) = slots.last() else {
+        return Err(DesignError::Parameter { reason: "this circuit has no resistors for the search to choose".into() });
+    };
+    let grid = settings.series.values_between(settings.r_min_ohm, settings.r_max_ohm);
+    if grid.is_empty() {
+        return Err(DesignError::invalid(
+            "search.r_max_ohm",
+            format!(
+                "no {} value lies between {} Ω and {} Ω: widen the range",
+                settings.series, settings.r_min_ohm, settings.r_max_ohm
+            ),
+        ));
+    }
+    let m = grid.len();
+    let enumerated = slots.len() - 1;
+    let combinations =
+        (0..enumerated).try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
+    let Some(combinations) = combinations else {
+        return Err(DesignError::infeasible(
+            format!(
+                "{} resistors over {} {} values each is more than {} combinations",
+                slots.len(),
+                m,
+                settings.series,
+                MAX_COMBINATIONS
+            ),
+            "narrow the resistance range or choose a coarser series",
+        ));
+    };
+    let values: Vec<f64> = params.iter().map(|p| p.value).collect();
+    let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
+    let inner = if enumerated > 0 { Some(slots[0]) } else { None };
+    let mut st = Searcher {
+        template: circuit,
+        checks,
+        obj: Objective::new(targets),
+        budget_a: settings.current_budget_a,
+        top_n: settings.top_n,
+        stamp: vec![u64::MAX; m],
+        fcache: vec![f64::NAN; m],
+        grid,
+        values,
+        slots,
+        ln_start,
+        solved,
+        combo: 0,
+        evaluations: 0,
+        exhaustive: 0,
+        prune: true,
+        model_failed: false,
+        inner,
+        probe_models: None,
+        top: Vec::with_capacity(settings.top_n + 1),
+    };
+    let others: Vec<usize> = st.slots[..enumerated].to_vec();
+    // First pass prunes on the model's word; if any model fails a check the topology is not
+    // bilinear in the solved resistor, and a second pass without pruning redoes everything.
+    for prune in [true, false] {
+        st.prune = prune;
+        st.model_failed = false;
+        if enumerate(&mut st, &others, m)? {
+            break;
+        }
+    }
+    Ok(report(&st, &params, targets, settings, combinations))
+}
+
+/// Runs every combination once. `Ok(true)` when the pass completed with its models trusted;
+/// `Ok(false)` when a pruning pass met a failed model and must be redone without pruning.
+fn enumerate<C: Circuit>(st: &mut Searcher<'_, C>, others: &[usize], m: usize) -> Result<bool, DesignError> {
+    // Enumerate from the highest values down: in most networks the current falls as resistance
+    // rises, so a current budget is met early and the entry bar drops sooner. The order does not
+    // change the result.
+    let mut idx = vec![0usize; others.len()];
+    loop {
+        for (k, &slot) in others.iter().enumerate() {
+            st.values[slot] = st.grid[m - 1 - idx[k]];
+        }
+        if idx.first() == Some(&0) {
+            // A new run of the innermost enumerated resistor.
+            if st.prune {
+                st.fit_probe_models();
+            } else {
+                st.probe_models = None;
+            }
+        }
+        st.solve_combination();
+        if st.prune && st.model_failed {
+            return Ok(false);
+        }
+        if st.evaluations > MAX_EVALUATIONS {
+            return Err(DesignError::NotConverged {
+                reason: format!(
+                    "the search stopped after {} evaluations: this topology's thresholds are not bilinear in the solved resistor, so every combination needed a full scan; narrow the range or choose a coarser series",
+                    st.evaluations
+                ),
+            });
+        }
+        st.combo += 1;
+        // Odometer over the enumerated resistors.
+        let mut k = 0;
+        loop {
+            if k == others.len() {
+                return Ok(true);
+            }
+            idx[k] += 1;
+            if idx[k] < m {
+                break;
+            }
+            idx[k] = 0;
+            k += 1;
+        }
+    }
+}
+
+fn report<C: Circuit>(
+    st: &Searcher<'_, C>,
+    params: &[crate::topology::Parameter],
+    targets: Thresholds,
+    settings: &SearchSettings,
+    combinations: u64,
+) -> SearchReport {
+    let candidates = st
+        .top
+        .iter()
+        .map(|e| {
+            let parts: Vec<PartValue> = st
+                .slots
+                .iter()
+                .zip(&e.resistors_ohm)
+                .map(|(&s, &v)| PartValue {
+                    id: params[s].id.clone(),
+                    designator: params[s].designator.clone(),
+                    value_ohm: v,
+                })
+                .collect();
+            let current = e.current_a.or_else(|| {
+                let mut values = st.values.clone();
+                for (&s, &v) in st.slots.iter().zip(&e.resistors_ohm) {
+                    values[s] = v;
+                }
+                st.template
+                    .with_parameters(&values)
+                    .and_then(|c| analyse(&c, st.checks))
+                    .ok()
+                    .map(|a| a.quiescent_current_a)
+            });
+            let (eu, el) = st.obj.errors(e.thresholds.vt_upper_v, e.thresholds.vt_lower_v);
+            Candidate {
+                parts,
+                vt_upper_v: e.thresholds.vt_upper_v,
+                vt_lower_v: e.thresholds.vt_lower_v,
+                error_upper_v: e.thresholds.vt_upper_v - targets.vt_upper_v,
+                error_lower_v: e.thresholds.vt_lower_v - targets.vt_lower_v,
+                error_upper_rel: eu,
+                error_lower_rel: el,
+                worst_error_rel: e.f,
+                quiescent_current_a: current,
+            }
+        })
+        .collect();
+    SearchReport {
+        targets,
+        candidates,
+        series: settings.series,
+        values_per_resistor: st.grid.len(),
+        combinations,
+        evaluations: st.evaluations,
+        solved_id: params[st.solved].id.clone(),
+        exhaustive_combinations: st.exhaustive,
+    }
+}
+
+/// The circuit with a candidate's resistor values put in (matched by parameter id).
+pub fn apply<C: Circuit>(circuit: &C, candidate: &Candidate) -> Result<C, DesignError> {
+    let params = circuit.parameters();
+    let mut values: Vec<f64> = params.iter().map(|p| p.value).collect();
+    for part in &candidate.parts {
+        let i = params.iter().position(|p| p.id == part.id).ok_or_else(|| DesignError::Parameter {
+            reason: format!("this circuit has no parameter \"{}\" to set", part.id),
+        })?;
+        values[i] = part.value_ohm;
+    }
+    circuit.with_parameters(&values)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::device::Comparator;
+    use crate::topology::inverting::InvertingSchmitt;
+
+    fn three_resistor() -> InvertingSchmitt {
+        InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0))
+    }
+
+    #[test]
+    fn bilinear_fit_reproduces_a_mobius_function() {
+        let f = |x: f64| (2.0 + 3.0 * x) / (1.0 + 0.5 * x);
+        let m = Bilinear::fit([1.0, 10.0, 100.0], [f(1.0), f(10.0), f(100.0)]).unwrap();
+        for x in [1.5, 7.0, 42.0, 99.0] {
+            assert!((m.eval(x) - f(x)).abs() < 1e-12, "{x}");
+        }
+        assert!(Bilinear::fit([1.0, 2.0, 3.0], [0.0, 1.0, 0.0]).is_none());
+    }
+
+    #[test]
+    fn finds_an_exact_combination_when_one_exists() {
+        // 10k/10k/20k gives exactly 3 V / 2 V (DOMAIN §1a rail-to-rail form), all E24 values.
+        let s = SearchSettings { top_n: 3, r_min_ohm: 1e3, r_max_ohm: 100e3, ..SearchSettings::default() };
+        let r =
+            search(&three_resistor(), Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 }, &s, &CheckSettings::default())
+                .unwrap();
+        let best = &r.candidates[0];
+        assert!(best.worst_error_rel < 1e-12, "{best:?}");
+        // The tie-break prefers the starting design's own impedance level.
+        let v: Vec<f64> = best.parts.iter().map(|p| p.value_ohm).collect();
+        assert_eq!(v, vec![10e3, 10e3, 20e3]);
+        assert_eq!(r.exhaustive_combinations, 0);
+        let c = apply(&three_resistor(), best).unwrap();
+        assert_eq!(c.rf_ohm, 20e3);
+    }
+
+    #[test]
+    fn current_budget_is_respected() {
+        let budget = 30e-6;
+        let s = SearchSettings { current_budget_a: Some(budget), ..SearchSettings::default() };
+        let r =
+            search(&three_resistor(), Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 }, &s, &CheckSettings::default())
+                .unwrap();
+        assert_eq!(r.candidates.len(), 10);
+        for c in &r.candidates {
+            assert!(c.quiescent_current_a.unwrap() <= budget * (1.0 + 1e-12));
+        }
+    }
+
+    #[test]
+    fn settings_are_checked() {
+        let c = three_resistor();
+        let t = Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 };
+        let ck = CheckSettings::default();
+        let bad = |s: SearchSettings| search(&c, t, &s, &ck).unwrap_err();
+        assert!(matches!(
+            bad(SearchSettings { r_min_ohm: 0.0, ..Default::default() }),
+            DesignError::InvalidValue { .. }
+        ));
+        assert!(matches!(
+            bad(SearchSettings { r_max_ohm: 10.0, ..Default::default() }),
+            DesignError::InvalidValue { .. }
+        ));
+        assert!(matches!(bad(SearchSettings { top_n: 0, ..Default::default() }), DesignError::InvalidValue { .. }));
+        assert!(matches!(
+            bad(SearchSettings { r_min_ohm: 1.01e3, r_max_ohm: 1.05e3, ..Default::default() }),
+            DesignError::InvalidValue { .. }
+        ));
+        assert!(matches!(
+            bad(SearchSettings { series: ESeries::E192, r_min_ohm: 1.0, r_max_ohm: 1e9, ..Default::default() }),
+            DesignError::Infeasible { .. }
+        ));
+        let nan = Thresholds { vt_upper_v: f64::NAN, vt_lower_v: 2.0 };
+        assert!(search(&c, nan, &SearchSettings::default(), &ck).is_err());
+    }
+
+    #[test]
+    fn settings_default_from_empty_json() {
+        let s: SearchSettings = serde_json::from_str("{}").unwrap();
+        assert_eq!(s, SearchSettings::default());
+        let s: SearchSettings = serde_json::from_str(r#"{"series":"e96","current_budget_a":1e-4}"#).unwrap();
+        assert_eq!((s.series, s.current_budget_a), (ESeries::E96, Some(1e-4)));
+    }
+}
