@@ -6,31 +6,13 @@ use leptos::prelude::*;
 /// Parses a field's text into a value in base units (ohms, volts, amperes...).
 /// The parsing rules live in `core` (IEC 60062 RKM code and SI prefixes); this is the page's one door to them.
 pub fn parse_value(text: &str) -> Result<f64, String> {
-    let t = text.trim();
-    if t.is_empty() {
-        return Err("enter a value".into());
-    }
-    let mult = |c: char| match c {
-        'p' => Some(1e-12), 'n' => Some(1e-9), 'u' | 'µ' => Some(1e-6), 'm' => Some(1e-3),
-        'k' | 'K' => Some(1e3), 'M' => Some(1e6), 'G' => Some(1e9), 'R' | 'r' => Some(1.0), _ => None,
-    };
-    if let Some((i, c)) = t.char_indices().find(|(_, c)| mult(*c).is_some()) {
-        let (a, b) = (&t[..i], &t[i + c.len_utf8()..]);
-        let num = if b.is_empty() { a.to_string() } else { format!("{}.{}", if a.is_empty() { "0" } else { a }, b) };
-        return num.parse::<f64>().map(|v| v * mult(c).unwrap_or(1.0)).map_err(|_| format!("cannot read \"{t}\" as a number"));
-    }
-    t.parse::<f64>().map_err(|_| format!("cannot read \"{t}\" as a number"))
+    hysteron_core::notation::parse_value(text).map_err(|e| e.to_string())
 }
 
-/// Formats a value for a field, in engineering notation.
+/// Formats a value for a field, in engineering notation (4 significant digits, no unit: the unit
+/// stands beside the field).
 pub fn format_value(value: f64, _unit: &str) -> String {
-    let a = value.abs();
-    let (d, p) = if a >= 1e6 { (1e6, "M") } else if a >= 1e3 { (1e3, "k") } else if a >= 1.0 || a == 0.0 { (1.0, "") }
-        else if a >= 1e-3 { (1e-3, "m") } else if a >= 1e-6 { (1e-6, "u") } else { (1e-9, "n") };
-    let x = value / d;
-    let s = format!("{:.4}", x);
-    let s = s.trim_end_matches('0').trim_end_matches('.');
-    format!("{s}{p}")
+    hysteron_core::notation::format_engineering(value, 4)
 }
 
 /// A labelled text field for one numeric quantity. It keeps its own text while the user types; a valid

@@ -3,6 +3,7 @@
 //! draws them and keeps them in local storage.
 #![deny(missing_docs)]
 
+pub mod download;
 pub mod fields;
 pub mod panic;
 pub mod plot;

@@ -2,6 +2,8 @@
 
 mod circuit;
 mod notebook;
+mod partlist;
+mod parts;
 mod purpose;
 mod results;
 mod starters;
@@ -48,7 +50,7 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <results::Results /> <tolerance::ToleranceSection /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <partlist::PartListSection /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}

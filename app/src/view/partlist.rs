@@ -1,0 +1,76 @@
+//! The part list (BOM) of the open design, with its CSV export.
+
+use super::state::Notebook;
+use crate::download::{file_stem, save_text};
+use hysteron_core::bom::{bom, Bom, OutputStage, Package};
+use hysteron_core::topology::{analyse, Circuit};
+use leptos::prelude::*;
+
+const PACKAGES: [Package; 5] = [Package::Chip0402, Package::Chip0603, Package::Chip0805, Package::Chip1206, Package::ThroughHole0W25];
+
+/// The part list for the open design: values in RKM code and in full, ratings, checks, device needs.
+pub fn part_list(record: &hysteron_core::record::DesignRecord) -> Result<Bom, String> {
+    let a = analyse(&record.circuit, &record.checks).map_err(|e| e.to_string())?;
+    let stage = OutputStage::infer(record.circuit.name(), &record.circuit.parameters());
+    bom(&record.circuit, &a, &record.checks, &record.parts, stage).map_err(|e| e.to_string())
+}
+
+/// The part list section.
+#[component]
+pub fn PartListSection() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let list = Memo::new(move |_| nb.with_current(part_list).unwrap_or_else(|| Err("no design open".into())));
+    let package = Signal::derive(move || nb.with_current(|r| r.parts.package).unwrap_or_default());
+    let export = move |_| {
+        if let (Some(Ok(b)), Some(name)) = (Some(list.get_untracked()), nb.with_current_untracked(|r| r.name.clone())) {
+            let _ = save_text(&format!("{}-parts.csv", file_stem(&name)), "text/csv", &b.to_csv());
+        }
+    };
+    view! {
+        <section class="card" aria-labelledby="partlist-heading" id="partlist">
+            <h2 id="partlist-heading">"Part list"</h2>
+            <div class="row no-print">
+                <div class="field">
+                    <label for="bom-package">"Resistor package"</label>
+                    <select id="bom-package" prop:value=move || package.get().label().to_string()
+                        on:change=move |ev| {
+                            let v = event_target_value(&ev);
+                            if let Some(p) = PACKAGES.iter().copied().find(|p| p.label() == v) { nb.edit(move |r| r.parts.package = p); }
+                        }>
+                        {PACKAGES.iter().map(|p| view! { <option value=p.label()>{p.label()}</option> }).collect_view()}
+                    </select>
+                </div>
+                <button id="bom-csv" on:click=export>"Save as CSV"</button>
+            </div>
+            {move || match list.get() {
+                Err(e) => view! { <p class="error" id="bom-error">{e}</p> }.into_any(),
+                Ok(b) => view! {
+                    <table class="grid" id="bom">
+                        <thead><tr><th>"Part"</th><th>"Value"</th><th>"Code"</th><th>"Series"</th><th>"Tol."</th><th>"Package"</th><th>"Worst power"</th><th>"Rating"</th><th>"Max V"</th><th>"Notes"</th></tr></thead>
+                        <tbody>
+                            {b.resistors.iter().map(|r| view! {
+                                <tr class="bom-line" data-designator=r.designator.clone() data-value=r.value_ohm.to_string()>
+                                    <td>{r.designator.clone()}</td>
+                                    <td>{r.value_text.clone()}</td>
+                                    <td>{r.value_rkm.clone()}</td>
+                                    <td>{r.series.to_string()}</td>
+                                    <td>{format!("{} %", r.tolerance_pct)}</td>
+                                    <td>{r.package.label()}</td>
+                                    <td>{r.max_power_w.map(|p| format!("{:.3} mW", p * 1e3)).unwrap_or_default()}</td>
+                                    <td>{r.suggested_rating_w.map(|p| format!("{p} W")).unwrap_or_default()}</td>
+                                    <td>{r.max_volts.map(|v| format!("{v:.2} V")).unwrap_or_default()}</td>
+                                    <td class="notes">{r.notes.join("; ")}</td>
+                                </tr>
+                            }).collect_view()}
+                            <tr class="bom-device">
+                                <td>{b.device.designator.clone()}</td>
+                                <td colspan="9">{b.device.description.clone()}
+                                    {(!b.device.notes.is_empty()).then(|| format!(" — {}", b.device.notes.join("; ")))}</td>
+                            </tr>
+                        </tbody>
+                    </table>
+                }.into_any(),
+            }}
+        </section>
+    }
+}
