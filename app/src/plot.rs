@@ -165,3 +165,87 @@ pub fn draw_histogram(
     root.present().map_err(err)?;
     Ok(())
 }
+
+/// One trace of the time-domain view: a min/max envelope over the visible window.
+pub struct Trace<'a> {
+    /// Envelope to draw.
+    pub envelope: &'a hysteron_core::signal::plot::Envelope,
+    /// Colour.
+    pub colour: RGBColor,
+    /// Vertical offset added for display, volts (to stack outputs under the input).
+    pub offset_v: f64,
+    /// Scale applied before the offset (outputs are drawn at a fraction of their swing).
+    pub scale: f64,
+}
+
+/// Draws the time-domain view: the input (and stacked outputs) with the thresholds as lines and
+/// the given edge times as ticks. `t0..t1` is the visible window in seconds.
+pub fn draw_time(
+    canvas: &HtmlCanvasElement,
+    t0: f64,
+    t1: f64,
+    traces: &[Trace<'_>],
+    thresholds: (f64, f64),
+    marks: &[(f64, RGBColor)],
+) -> Result<(), String> {
+    let dpr = fit_canvas(canvas);
+    let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
+    let root = backend.into_drawing_area();
+    root.fill(&WHITE).map_err(err)?;
+    let mut y0 = f64::INFINITY;
+    let mut y1 = f64::NEG_INFINITY;
+    for t in traces {
+        for (&a, &b) in t.envelope.min_v.iter().zip(&t.envelope.max_v) {
+            y0 = y0.min(a * t.scale + t.offset_v);
+            y1 = y1.max(b * t.scale + t.offset_v);
+        }
+    }
+    y0 = y0.min(thresholds.1);
+    y1 = y1.max(thresholds.0);
+    if !(y0.is_finite() && y1.is_finite() && t1 > t0) {
+        return Err("plot: nothing to draw".into());
+    }
+    let pad = ((y1 - y0) * 0.08).max(1e-3);
+    let font = (11.0 * dpr) as u32;
+    let mut chart = ChartBuilder::on(&root)
+        .margin((8.0 * dpr) as u32)
+        .x_label_area_size((30.0 * dpr) as u32)
+        .y_label_area_size((44.0 * dpr) as u32)
+        .build_cartesian_2d(t0..t1, (y0 - pad)..(y1 + pad))
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc("time (s)")
+        .y_desc("V")
+        .label_style(("sans-serif", font).into_font().color(&colours::INK))
+        .axis_desc_style(("sans-serif", font).into_font().color(&colours::INK))
+        .light_line_style(RGBColor(0xee, 0xee, 0xee))
+        .draw()
+        .map_err(err)?;
+    for v in [thresholds.0, thresholds.1] {
+        chart
+            .draw_series(DashedLineSeries::new(vec![(t0, v), (t1, v)], (5.0 * dpr) as u32, (4.0 * dpr) as u32, colours::THRESHOLD.stroke_width(dpr as u32)))
+            .map_err(err)?;
+    }
+    for t in traces {
+        let e = t.envelope;
+        let w = dpr.max(1.0) as u32;
+        // Each bucket as a vertical segment from its min to its max, joined bucket to bucket.
+        let pts: Vec<(f64, f64)> = e
+            .t_s
+            .iter()
+            .zip(e.min_v.iter().zip(&e.max_v))
+            .flat_map(|(&x, (&a, &b))| [(x, a * t.scale + t.offset_v), (x, b * t.scale + t.offset_v)])
+            .collect();
+        chart.draw_series(LineSeries::new(pts, t.colour.stroke_width(w))).map_err(err)?;
+    }
+    for &(x, colour) in marks {
+        if x >= t0 && x <= t1 {
+            chart
+                .draw_series(std::iter::once(TriangleMarker::new((x, y1 + pad * 0.5), (5.0 * dpr) as i32, colour.filled())))
+                .map_err(err)?;
+        }
+    }
+    root.present().map_err(err)?;
+    Ok(())
+}

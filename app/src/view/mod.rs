@@ -6,6 +6,7 @@ mod partlist;
 mod parts;
 mod purpose;
 mod results;
+mod signal;
 mod starters;
 mod tolerance;
 pub mod state;
@@ -50,7 +51,7 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <partlist::PartListSection /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <partlist::PartListSection /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}

@@ -1,0 +1,397 @@
+//! Signal test: build a signal (components and noise) or import a captured one (CSV), run the
+//! design and the no-hysteresis baseline over it, count false edges, sweep the noise, and look at
+//! the waveforms with zoom and pan. All simulation is `core::signal`'s.
+
+use super::state::Notebook;
+use crate::fields::QuantityField;
+use crate::plot::{self, colours, Trace};
+use crate::tick::later;
+use hysteron_core::signal::csv::{Capture, CsvOptions, CsvParser};
+use hysteron_core::signal::generate::Component;
+use hysteron_core::signal::noise::NoiseSource;
+use hysteron_core::signal::plot::{downsample_min_max, Envelope};
+use hysteron_core::signal::report::{run_signal, SignalRun, SignalSettings, SignalSource};
+use hysteron_core::signal::sweep::SweepSettings;
+use hysteron_core::signal::trigger::TriggerDesign;
+use leptos::html::Canvas;
+use leptos::prelude::*;
+use wasm_bindgen::JsCast;
+
+/// Characters of an imported file parsed per slice (keeps the page responsive on 1,000,000 rows).
+const CSV_SLICE: usize = 512 * 1024;
+
+fn label_of(key: &str) -> String {
+    let (name, unit) = if let Some(n) = key.strip_suffix("_v_per_s") {
+        (n, "V/s")
+    } else if let Some(n) = key.strip_suffix("_hz") {
+        (n, "Hz")
+    } else if let Some(n) = key.strip_suffix("_deg") {
+        (n, "°")
+    } else if let Some(n) = key.strip_suffix("_s") {
+        (n, "s")
+    } else if let Some(n) = key.strip_suffix("_v") {
+        (n, "V")
+    } else {
+        (key, "")
+    };
+    let name = name.replace('_', " ");
+    if unit.is_empty() { name } else { format!("{name} ({unit})") }
+}
+
+/// Edits a list of serde objects (components or noise sources) generically: every numeric field
+/// becomes a field; the list can grow and shrink. Non-numeric options are edited as JSON below.
+fn list_editor<T>(
+    prefix: &'static str,
+    items: Signal<Vec<serde_json::Value>>,
+    write: Callback<Vec<serde_json::Value>>,
+    error: RwSignal<Option<String>>,
+    _marker: std::marker::PhantomData<T>,
+) -> impl IntoView
+where
+    T: serde::de::DeserializeOwned + 'static,
+{
+    view! {
+        <ul class="signal-list">
+            {move || items.get().into_iter().enumerate().map(|(i, item)| {
+                let kind = item.get("kind").and_then(|k| k.as_str()).unwrap_or("?").replace('_', " ");
+                let fields: Vec<(String, f64)> = item.as_object().map(|o| o.iter()
+                    .filter_map(|(k, v)| v.as_f64().filter(|_| v.is_number() && k != "poles").map(|x| (k.clone(), x))).collect()).unwrap_or_default();
+                view! {
+                    <li class="signal-item">
+                        <strong>{kind}</strong>
+                        {fields.into_iter().map(|(key, _)| {
+                            let k2 = key.clone();
+                            let value = Signal::derive(move || items.get().get(i).and_then(|o| o.get(&k2)).and_then(|v| v.as_f64()).unwrap_or(f64::NAN));
+                            let k3 = key.clone();
+                            let on_value = Callback::new(move |v: f64| {
+                                let mut all = items.get_untracked();
+                                if let Some(o) = all.get_mut(i).and_then(|o| o.as_object_mut()) {
+                                    o.insert(k3.clone(), serde_json::json!(v));
+                                }
+                                match serde_json::from_value::<Vec<T>>(serde_json::Value::Array(all.clone())) {
+                                    Ok(_) => { error.set(None); write.run(all); }
+                                    Err(e) => error.set(Some(e.to_string())),
+                                }
+                            });
+                            view! { <QuantityField id=format!("{prefix}-{i}-{key}") label=label_of(&key) unit="" value on_value /> }
+                        }).collect_view()}
+                        <button class="quiet small" aria-label="Remove" on:click=move |_| {
+                            let mut all = items.get_untracked();
+                            if i < all.len() { all.remove(i); }
+                            write.run(all);
+                        }>"Remove"</button>
+                    </li>
+                }
+            }).collect_view()}
+        </ul>
+    }
+}
+
+fn to_values<T: serde::Serialize>(v: &[T]) -> Vec<serde_json::Value> {
+    v.iter().filter_map(|x| serde_json::to_value(x).ok()).collect()
+}
+
+/// The signal test section.
+#[component]
+pub fn SignalSection() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let settings = Memo::new(move |_| nb.with_current(|r| r.signal.clone()).flatten());
+    let edit = move |key: &'static str, f: Box<dyn Fn(&mut SignalSettings)>| {
+        nb.edit_keyed(key, move |r| {
+            let mut s = r.signal.clone().unwrap_or_default();
+            f(&mut s);
+            r.signal = Some(s);
+        })
+    };
+    let capture = RwSignal::new(None::<std::sync::Arc<Capture>>);
+    let import_status = RwSignal::new(None::<Result<String, String>>);
+    let import_progress = RwSignal::new(None::<f64>);
+    let run = RwSignal::new(None::<Result<std::sync::Arc<SignalRun>, String>>);
+    let list_error = RwSignal::new(None::<String>);
+    let view_window = RwSignal::new((0.0_f64, 0.0_f64));
+    let components = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.components)).unwrap_or_default());
+    let noise = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.noise)).unwrap_or_default());
+    let write_components = Callback::new(move |v: Vec<serde_json::Value>| {
+        if let Ok(c) = serde_json::from_value::<Vec<Component>>(serde_json::Value::Array(v)) {
+            edit("sig-components", Box::new(move |s| s.definition.components = c.clone()));
+        }
+    });
+    let write_noise = Callback::new(move |v: Vec<serde_json::Value>| {
+        if let Ok(n) = serde_json::from_value::<Vec<NoiseSource>>(serde_json::Value::Array(v)) {
+            edit("sig-noise", Box::new(move |s| s.definition.noise = n.clone()));
+        }
+    });
+    let add_component = move |c: Component| edit("", Box::new(move |s| s.definition.components.push(c.clone())));
+    let add_noise = move |n: NoiseSource| edit("", Box::new(move |s| s.definition.noise.push(n.clone())));
+
+    let simulate = move || {
+        let Some(record) = nb.with_current_untracked(|r| r.clone()) else { return };
+        let Some(s) = record.signal.clone() else { return };
+        let imported = matches!(s.source, SignalSource::ImportedCapture { .. });
+        let cap = capture.get_untracked();
+        if imported && cap.is_none() {
+            run.set(Some(Err("import the capture file again: captures are not stored with the design".into())));
+            return;
+        }
+        let t0 = crate::tick::now_ms();
+        let result = TriggerDesign::from_circuit(&record.circuit)
+            .and_then(|d| run_signal(&s, &d, cap.as_deref()))
+            .map(std::sync::Arc::new)
+            .map_err(|e| e.to_string());
+        if let Ok(r) = &result {
+            let n = r.signal_v.len();
+            let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
+            view_window.set((a, b));
+            web_sys::console::log_1(&format!("signal test: {n} samples in {:.1} ms", crate::tick::now_ms() - t0).into());
+        }
+        run.set(Some(result));
+    };
+    let sweep = move |_| {
+        edit("", Box::new(|s| if s.sweep.is_none() { s.sweep = Some(SweepSettings::default()) }));
+        simulate();
+    };
+    // Import: read the file as text, then parse it slice by slice with a progress bar.
+    let on_file = move |ev: leptos::ev::Event| {
+        let Some(input) = ev.target().and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok()) else { return };
+        let Some(file) = input.files().and_then(|f| f.get(0)) else { return };
+        let name = file.name();
+        let Ok(reader) = web_sys::FileReader::new() else { return };
+        import_status.set(None);
+        import_progress.set(Some(0.0));
+        let r2 = reader.clone();
+        let onload = wasm_bindgen::closure::Closure::once_into_js(move || {
+            let text = r2.result().ok().and_then(|v| v.as_string()).unwrap_or_default();
+            parse_slices(std::sync::Arc::new(text), name, capture, import_status, import_progress, nb);
+        });
+        reader.set_onload(Some(onload.unchecked_ref()));
+        if reader.read_as_text(&file).is_err() {
+            import_status.set(Some(Err("the browser could not read that file".into())));
+            import_progress.set(None);
+        }
+    };
+    let canvas: NodeRef<Canvas> = NodeRef::new();
+    Effect::new(move |_| {
+        let (t0, t1) = view_window.get();
+        run.with(|r| {
+            let (Some(Ok(r)), Some(c)) = (r.as_ref(), canvas.get()) else { return };
+            let times = r.time.view();
+            let buckets = 900;
+            let mut input = Envelope::default();
+            let mut out_d = Envelope::default();
+            let mut out_b = Envelope::default();
+            downsample_min_max(times, &r.signal_v, t0, t1, buckets, &mut input);
+            downsample_min_max(times, &r.design_output_v, t0, t1, buckets, &mut out_d);
+            downsample_min_max(times, &r.baseline_output_v, t0, t1, buckets, &mut out_b);
+            let t = r.report.design.thresholds;
+            let (lo, hi) = input.min_v.iter().zip(&input.max_v).fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), (x, y)| (a.min(*x), b.max(*y)));
+            let span = (hi - lo).max(1e-3);
+            let swing = (r.design_output_v.iter().cloned().fold(f64::NEG_INFINITY, f64::max) - r.design_output_v.iter().cloned().fold(f64::INFINITY, f64::min)).max(1e-6);
+            let scale = 0.35 * span / swing;
+            let traces = [
+                Trace { envelope: &input, colour: colours::INK, offset_v: 0.0, scale: 1.0 },
+                Trace { envelope: &out_d, colour: colours::RISING, offset_v: lo - 0.45 * span, scale },
+                Trace { envelope: &out_b, colour: colours::FALLING, offset_v: lo - 0.9 * span, scale },
+            ];
+            let marks: Vec<_> = r.baseline_edges.iter().map(|e| (e.mid_s, colours::FALLING))
+                .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING))).collect();
+            let _ = plot::draw_time(&c, t0, t1, &traces, (t.vt_upper_v, t.vt_lower_v), &marks);
+        });
+    });
+    let zoom = move |factor: f64| {
+        view_window.update(|(a, b)| {
+            let m = 0.5 * (*a + *b);
+            let h = 0.5 * (*b - *a) * factor;
+            *a = m - h;
+            *b = m + h;
+        })
+    };
+    let pan = move |frac: f64| view_window.update(|(a, b)| {
+        let d = (*b - *a) * frac;
+        *a += d;
+        *b += d;
+    });
+    let full = move |_| {
+        run.with_untracked(|r| if let Some(Ok(r)) = r {
+            let n = r.signal_v.len();
+            view_window.set((r.time.view().at(0), r.time.view().at(n.saturating_sub(1))));
+        })
+    };
+    view! {
+        <section class="card" aria-labelledby="signal-heading" id="signal">
+            <h2 id="signal-heading">"Signal test"</h2>
+            {move || settings.get().is_none().then(|| view! {
+                <p class="note">"Describe the signal the circuit will see, or import a capture, and see how many false edges the design gives compared with a plain comparator."</p>
+                <button id="signal-add" on:click=move |_| edit("", Box::new(|_| {}))>"Describe a signal"</button>
+            })}
+            {move || settings.get().map(|s| view! {
+                <div class="row">
+                    <QuantityField id="sig-rate".to_string() label="Sample rate".to_string() unit="Hz" value=Signal::derive(move || settings.get().map(|s| s.definition.sample_rate_hz).unwrap_or(f64::NAN))
+                        on_value=Callback::new(move |v| edit("sig-rate", Box::new(move |s| s.definition.sample_rate_hz = v))) />
+                    <QuantityField id="sig-duration".to_string() label="Duration".to_string() unit="s" value=Signal::derive(move || settings.get().map(|s| s.definition.duration_s).unwrap_or(f64::NAN))
+                        on_value=Callback::new(move |v| edit("sig-duration", Box::new(move |s| s.definition.duration_s = v))) />
+                    <QuantityField id="sig-seed".to_string() label="Noise seed".to_string() unit="" value=Signal::derive(move || settings.get().map(|s| s.definition.seed as f64).unwrap_or(f64::NAN))
+                        on_value=Callback::new(move |v: f64| edit("sig-seed", Box::new(move |s| s.definition.seed = v.abs().round().min(9e15) as u64))) />
+                    <p class="note">{match &s.source { SignalSource::Generated => "Source: built from the parts below".to_string(), SignalSource::ImportedCapture { name } => format!("Source: imported capture “{name}”") }}</p>
+                </div>
+                <h3>"Signal"</h3>
+                {list_editor::<Component>("sig-comp", components, write_components, list_error, std::marker::PhantomData)}
+                <div class="row no-print">
+                    <button class="quiet small" id="sig-add-dc" on:click=move |_| add_component(Component::Dc { level_v: 0.0 })>"+ DC"</button>
+                    <button class="quiet small" id="sig-add-sine" on:click=move |_| add_component(Component::Sine { amplitude_v: 1.0, frequency_hz: 50.0, phase_deg: 0.0 })>"+ sine"</button>
+                    <button class="quiet small" on:click=move |_| add_component(Component::Triangle { amplitude_v: 1.0, frequency_hz: 50.0, phase_deg: 0.0 })>"+ triangle"</button>
+                    <button class="quiet small" on:click=move |_| add_component(Component::Square { amplitude_v: 1.0, frequency_hz: 50.0, phase_deg: 0.0, duty: 0.5, rise_time_s: 1e-4 })>"+ square"</button>
+                    <button class="quiet small" on:click=move |_| add_component(Component::Ramp { slope_v_per_s: 10.0, start_s: 0.0, stop_s: None })>"+ ramp"</button>
+                    <button class="quiet small" on:click=move |_| add_component(Component::RcApproach { step_v: 1.0, time_constant_s: 0.01, start_s: 0.0 })>"+ RC approach"</button>
+                    <button class="quiet small" on:click=move |_| add_component(Component::Drift { rate_v_per_s: 0.1 })>"+ drift"</button>
+                </div>
+                <h3>"Noise"</h3>
+                {list_editor::<NoiseSource>("sig-noise", noise, write_noise, list_error, std::marker::PhantomData)}
+                <div class="row no-print">
+                    <button class="quiet small" id="sig-add-white" on:click=move |_| add_noise(NoiseSource::White { rms_v: 0.02 })>"+ white noise"</button>
+                    <button class="quiet small" on:click=move |_| add_noise(NoiseSource::BandLimited { rms_v: 0.02, corner_hz: 1000.0, poles: 1 })>"+ band-limited noise"</button>
+                    <button class="quiet small" on:click=move |_| add_noise(serde_json::from_value(serde_json::json!({"kind": "hum", "amplitude_v": 0.075})).unwrap_or(NoiseSource::White { rms_v: 0.0 }))>"+ mains hum"</button>
+                    <button class="quiet small" on:click=move |_| add_noise(NoiseSource::Spikes { rate_hz: 5.0, amplitude_v: 0.5, decay_s: 1e-4, polarity: Default::default() })>"+ spikes"</button>
+                </div>
+                {move || list_error.get().map(|e| view! { <p class="error">{e}</p> })}
+            })}
+            <div class="row no-print">
+                <div class="field">
+                    <label for="csv-file">"…or import a capture (CSV of time and voltage)"</label>
+                    <input id="csv-file" type="file" accept=".csv,.txt,text/csv,text/plain" on:change=on_file />
+                </div>
+                {move || import_progress.get().map(|p| view! { <progress id="csv-progress" max="1" value=p.to_string()></progress> })}
+            </div>
+            {move || import_status.get().map(|s| match s {
+                Ok(m) => view! { <p class="note" id="csv-status">{m}</p> }.into_any(),
+                Err(e) => view! { <pre class="error" id="csv-error" role="alert">{e}</pre> }.into_any(),
+            })}
+            {move || settings.get().is_some().then(|| view! {
+                <div class="row no-print">
+                    <button id="signal-run" on:click=move |_| simulate()>"Run the signal test"</button>
+                    <button id="signal-sweep" class="quiet" on:click=sweep>"Sweep the noise level"</button>
+                </div>
+            })}
+            {move || run.get().map(|r| match r {
+                Err(e) => view! { <p class="error" id="signal-error" role="alert">{e}</p> }.into_any(),
+                Ok(r) => {
+                    let rep = &r.report;
+                    let fe = |c: &Option<hysteron_core::signal::trigger::EdgeComparison>| c.map(|c| c.false_edges as f64);
+                    let d_false = fe(&rep.design.comparison);
+                    let b_false = fe(&rep.baseline.comparison);
+                    view! {
+                        <table class="grid" id="signal-results">
+                            <thead><tr><th></th><th>"this design"</th><th>"plain comparator"</th></tr></thead>
+                            <tbody>
+                                <tr><td>"thresholds"</td><td>{format!("{:.3} / {:.3} V", rep.design.thresholds.vt_upper_v, rep.design.thresholds.vt_lower_v)}</td><td>{format!("{:.3} V", rep.baseline_level_v)}</td></tr>
+                                <tr><td>"output edges"</td>
+                                    <td><output id="edges-design" data-value=rep.design.outcome.edges.to_string()>{rep.design.outcome.edges}</output></td>
+                                    <td><output id="edges-baseline" data-value=rep.baseline.outcome.edges.to_string()>{rep.baseline.outcome.edges}</output></td></tr>
+                                <tr><td>"false edges"</td>
+                                    <td><output id="false-edges-design" data-value=d_false.map(|x| x.to_string()).unwrap_or_default()>{d_false.map(|x| x.to_string()).unwrap_or_else(|| "— (no noise-free reference for a capture)".into())}</output></td>
+                                    <td><output id="false-edges-baseline" data-value=b_false.map(|x| x.to_string()).unwrap_or_default()>{b_false.map(|x| x.to_string()).unwrap_or_else(|| "—".into())}</output></td></tr>
+                                <tr><td>"intended edges"</td><td>{rep.design.comparison.map(|c| c.intended_edges.to_string()).unwrap_or_default()}</td><td>{rep.baseline.comparison.map(|c| c.intended_edges.to_string()).unwrap_or_default()}</td></tr>
+                            </tbody>
+                        </table>
+                        {rep.rice.map(|rc| view! { <p id="rice">{format!(
+                            "Rice's formula: for at most {} false edges per edge on the slowest edge ({:.3} V/s) the hysteresis should be at least {:.1} mV; this design has {:.1} mV ({}).",
+                            rc.target_false_edges_per_edge, rc.slowest_slope_v_per_s, rc.min_hysteresis_v * 1e3, rc.design_hysteresis_v * 1e3,
+                            if rc.design_meets_target { "enough" } else { "not enough" })}</p> })}
+                        {rep.noise.map(|n| view! { <p class="note">{format!("Noise: {:.1} mV RMS, {:.1} mV peak-to-peak measured.", n.measured_rms_v * 1e3, n.measured_peak_to_peak_v * 1e3)}</p> })}
+                        {rep.timing.jitter_upper_s.map(|j| view! { <p class="note">{format!("Edge timing jitter at VT+: {:.2} µs RMS (noise ÷ slope).", j * 1e6)}</p> })}
+                        {rep.sweep.clone().map(|sw| view! {
+                            <table class="grid" id="sweep">
+                                <thead><tr><th>"noise RMS"</th><th>"false edges, design"</th><th>"false edges, plain"</th></tr></thead>
+                                <tbody>{sw.points.iter().map(|p| view! {
+                                    <tr><td>{format!("{:.2} mV", p.noise_rms_v * 1e3)}</td><td>{p.design.false_edges}</td><td>{p.baseline.false_edges}</td></tr>
+                                }).collect_view()}</tbody>
+                            </table>
+                            <p class="note">{format!("The design starts to fail at {}; the plain comparator at {}.",
+                                sw.design_fails_at_rms_v.map(|v| format!("{:.2} mV RMS", v * 1e3)).unwrap_or_else(|| "no level swept".into()),
+                                sw.baseline_fails_at_rms_v.map(|v| format!("{:.2} mV RMS", v * 1e3)).unwrap_or_else(|| "no level swept".into()))}</p>
+                        })}
+                        {rep.notes.iter().map(|n| view! { <p class="note">{n.clone()}</p> }).collect_view()}
+                    }.into_any()
+                }
+            })}
+            <div class="time-view" class:hidden=move || !run.with(|r| matches!(r, Some(Ok(_))))>
+                <div class="row no-print">
+                    <button class="quiet small" id="zoom-in" on:click=move |_| zoom(0.5)>"Zoom in"</button>
+                    <button class="quiet small" id="zoom-out" on:click=move |_| zoom(2.0)>"Zoom out"</button>
+                    <button class="quiet small" on:click=move |_| pan(-0.25)>"◀ Earlier"</button>
+                    <button class="quiet small" on:click=move |_| pan(0.25)>"Later ▶"</button>
+                    <button class="quiet small" on:click=full>"Whole record"</button>
+                    <span class="note" id="time-window">{move || { let (a, b) = view_window.get(); format!("{:.6} s … {:.6} s", a, b) }}</span>
+                </div>
+                <canvas id="time-plot" node_ref=canvas role="img" aria-label="Signal with the thresholds, the design's output (blue) and the plain comparator's output (orange); triangles mark output edges"
+                    on:wheel=move |ev| { ev.prevent_default(); zoom(if ev.delta_y() > 0.0 { 1.25 } else { 0.8 }); }></canvas>
+            </div>
+        </section>
+    }
+}
+
+/// Parses imported text slice by slice on later turns of the event loop, reporting progress.
+fn parse_slices(
+    text: std::sync::Arc<String>,
+    name: String,
+    capture: RwSignal<Option<std::sync::Arc<Capture>>>,
+    status: RwSignal<Option<Result<String, String>>>,
+    progress: RwSignal<Option<f64>>,
+    nb: Notebook,
+) {
+    let parser = match CsvParser::new(CsvOptions::default()) {
+        Ok(p) => p,
+        Err(e) => {
+            status.set(Some(Err(e.to_string())));
+            progress.set(None);
+            return;
+        }
+    };
+    fn step(
+        text: std::sync::Arc<String>,
+        mut at: usize,
+        mut parser: CsvParser,
+        name: String,
+        capture: RwSignal<Option<std::sync::Arc<Capture>>>,
+        status: RwSignal<Option<Result<String, String>>>,
+        progress: RwSignal<Option<f64>>,
+        nb: Notebook,
+    ) {
+        let mut end = (at + CSV_SLICE).min(text.len());
+        while !text.is_char_boundary(end) {
+            end += 1;
+        }
+        if let Err(e) = parser.feed(&text[at..end]) {
+            status.set(Some(Err(e.to_string())));
+            progress.set(None);
+            return;
+        }
+        at = end;
+        if at < text.len() {
+            progress.set(Some(at as f64 / text.len() as f64));
+            later(move || step(text, at, parser, name, capture, status, progress, nb));
+            return;
+        }
+        progress.set(None);
+        match parser.finish() {
+            Err(e) => status.set(Some(Err(e.to_string()))),
+            Ok(c) => {
+                status.set(Some(Ok(format!(
+                    "Read {} samples from “{}” ({}).{}",
+                    c.volts.len(),
+                    name,
+                    c.format.describe(),
+                    if c.skipped.is_empty() { String::new() } else { format!(" {} lines were not samples; see the list.", c.skipped.len()) }
+                ))));
+                capture.set(Some(std::sync::Arc::new(c)));
+                let n = name.clone();
+                nb.edit(move |r| {
+                    let mut s = r.signal.clone().unwrap_or_default();
+                    s.source = SignalSource::ImportedCapture { name: n.clone() };
+                    r.signal = Some(s);
+                });
+            }
+        }
+    }
+    later(move || step(text, 0, parser, name, capture, status, progress, nb));
+}
+
