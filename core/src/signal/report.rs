@@ -277,7 +277,7 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
                 return Err(DesignError::invalid("capture", format!("the capture holds a non-finite value ({bad})")));
             }
             notes.push(
-                "imported capture: no noise-free version, so false edges, noise figures, the Rice check and the sweep are not available".into(),
+                "imported capture: no noise-free version, so the design's false edges, the noise figures, the Rice check and the sweep are not available; the plain comparator's edges are counted against the design's edges".into(),
             );
             (TimeBase::Samples { times_s: c.time_s.clone() }, None, c.volts.clone())
         }
@@ -312,6 +312,11 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
         window_base = study.match_window_s.unwrap_or_else(|| default_match_window_s(&intended_baseline, duration));
         cmp_design = Some(compare_edges(&design_edges, &intended, window));
         cmp_base = Some(compare_edges(&baseline_edges, &intended_baseline, window_base));
+    } else if !design_edges.is_empty() {
+        // A capture has no noise-free version: the plain comparator's edges are counted against
+        // the design's own edges instead, so its chatter still shows as false edges.
+        window_base = study.match_window_s.unwrap_or_else(|| default_match_window_s(&design_edges, duration));
+        cmp_base = Some(compare_edges(&baseline_edges, &design_edges, window_base));
     }
 
     // Noise figures.
