@@ -16,6 +16,9 @@ pub mod noninverting;
 pub mod open_drain;
 pub mod plain;
 pub mod supply_monitor;
+pub mod cmos_buffer;
+pub mod schmitt_gate;
+pub mod bjt_pair;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -417,6 +420,12 @@ topologies! {
     Plain(plain::PlainComparator) = "plain_comparator",
     /// Battery/supply undervoltage or overvoltage monitor, thresholds on the monitored rail. DOMAIN §1g.
     SupplyMonitor(supply_monitor::SupplyMonitor) = "supply_monitor",
+    /// Non-inverting Schmitt from a CMOS buffer and resistors. DOMAIN §1d.
+    CmosBuffer(cmos_buffer::CmosBufferSchmitt) = "cmos_buffer",
+    /// Dedicated Schmitt-input gate with an optional input network. DOMAIN §1e.
+    SchmittGate(schmitt_gate::SchmittGate) = "schmitt_gate",
+    /// Emitter-coupled two-transistor Schmitt trigger. DOMAIN §1f.
+    BjtPair(bjt_pair::EmitterCoupledSchmitt) = "bjt_pair",
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
