@@ -22,3 +22,8 @@ pub mod evaluate;
 pub mod record;
 pub mod rng;
 pub mod topology;
+pub mod share;
+pub mod netlist;
+pub mod spice;
+pub mod schematic;
+pub mod bench;
