@@ -120,7 +120,10 @@ pub fn bench_procedure_from(
 ) -> BenchProcedure {
     let a = analysis;
     let supply = circuit.supply_v();
-    let (ramp_low_v, ramp_high_v) = crate::spice::ramp_span_v(a.vt_upper_v, a.vt_lower_v);
+    // The ramp covers the thresholds at every supply of the range.
+    let highest = a.supply_corners.iter().map(|c| c.vt_upper_v.max(c.vt_lower_v)).fold(a.vt_upper_v, f64::max);
+    let lowest = a.supply_corners.iter().map(|c| c.vt_upper_v.min(c.vt_lower_v)).fold(a.vt_lower_v, f64::min);
+    let (ramp_low_v, ramp_high_v) = crate::spice::ramp_span_v(highest, lowest);
     // Step: a twentieth of the narrowest of the hysteresis and the bands, at least 10 µV.
     let mut narrowest = a.hysteresis_v.abs();
     for (lo, hi) in [bounds.vt_upper_v, bounds.vt_lower_v].into_iter().flatten() {

@@ -388,7 +388,7 @@ impl NetBuilder {
             Rail::Supply => self.supply(supply_v, "VCC"),
             Rail::Ground => GROUND.into(),
             Rail::NegativeRail => self.negative(negative_v),
-            Rail::Fixed(v) if v == 0.0 => GROUND.into(),
+            Rail::Fixed(0.0) => GROUND.into(),
             Rail::Fixed(v) => self.source(name, node, v, role, format!("{name} {}", volts_text(v))),
         }
     }

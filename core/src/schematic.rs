@@ -468,7 +468,25 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         s.terminal(net, OUTPUT_NET, gp(out_end, 14), Direction::Right);
     }
     spare_row(&mut s, net, &resistors, &placed);
+    fit_height(&mut s);
     s
+}
+
+/// Shrinks the sheet to its content: the lowest wire, part or label plus room for text below.
+fn fit_height(s: &mut SchematicLayout) {
+    let mut bottom = 0;
+    for w in &s.wires {
+        bottom = bottom.max(w.from.y).max(w.to.y);
+    }
+    for p in &s.parts {
+        for q in &p.pins {
+            bottom = bottom.max(q.at.y);
+        }
+    }
+    for l in &s.labels {
+        bottom = bottom.max(l.at.y + 1);
+    }
+    s.height = s.height.min(bottom + 3);
 }
 
 /// Places every resistor not yet drawn in a spare row at the bottom, both ends labelled.
@@ -576,6 +594,7 @@ pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
         placed[i] = true;
     }
     spare_row(&mut s, net, &resistors, &placed);
+    fit_height(&mut s);
     s
 }
 
@@ -819,8 +838,8 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             if schmitt {
                 // Hysteresis sign: two offset steps forming a loop.
                 let (cx, cy) = (mark_x, y + 4.3);
-                polyline(o, &[(cx - 1.1, cy + 0.5), (cx + 0.3, cy + 0.5), (cx + 0.3, cy - 0.5)], "");
-                polyline(o, &[(cx - 0.3, cy + 0.5), (cx - 0.3, cy - 0.5), (cx + 1.1, cy - 0.5)], "");
+                polyline(o, &[(cx - 1.5, cy + 0.6), (cx + 0.5, cy + 0.6), (cx + 0.5, cy - 0.6)], "");
+                polyline(o, &[(cx - 0.5, cy + 0.6), (cx - 0.5, cy - 0.6), (cx + 1.5, cy - 0.6)], "");
             }
             if inverting {
                 let _ = write!(o, r#"<circle cx="{}" cy="{}" r="{}"/>"#, px(out_start + 0.4), px(y + 4.0), px(0.4));
@@ -1046,7 +1065,7 @@ mod tests {
                 assert_eq!(drawn.iter().filter(|d| **d == r.designator).count(), 1, "{key}: {}", r.designator);
             }
             // All parts found a slot: the sheet kept its standard height.
-            assert_eq!(layout.height, 31, "{key}: a part went to the spare row");
+            assert!(layout.height <= 31, "{key}: a part went to the spare row");
             for d in &net.devices {
                 assert!(drawn.contains(&d.designator()), "{key}: {}", d.designator());
             }

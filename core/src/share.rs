@@ -272,8 +272,8 @@ pub fn base64url_decode(text: &str) -> Result<Vec<u8>, String> {
         }
         let full = chunk.len() - 1;
         let tail_mask = match chunk.len() {
-            2 => 0x00FF_FF,
-            3 => 0x0000_FF,
+            2 => 0x0000_FFFF,
+            3 => 0x0000_00FF,
             _ => 0,
         };
         if n & tail_mask != 0 {

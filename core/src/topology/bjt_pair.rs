@@ -1334,6 +1334,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for EmitterCoupledSchmitt {
     /// Q1 (base = input, collector `c1` through RC1), R1 from `c1` to Q2's base `b2`, R2 from `b2`
     /// to 0 V, Q2 (collector = output through RC2), shared emitter `e` through RE; an optional

@@ -594,6 +594,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for CmosBufferSchmitt {
     /// R1 from the input to node `x` (the buffer's input), R2 from the output to `x`, optional R3
     /// from `x` to its rail; the buffer U1 switches at VM.

@@ -493,6 +493,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for InvertingSchmitt {
     /// Signal on (−); node `p` on (+) with Ra to rail A, Rb to rail B and Rf from the output.
     fn netlist(&self) -> crate::netlist::Netlist {

@@ -829,6 +829,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for NonInvertingSchmitt {
     /// Signal through R1 to node `p` on (+), R2 from the output to `p`, the reference on (−).
     fn netlist(&self) -> crate::netlist::Netlist {

@@ -892,6 +892,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for OpenDrainSchmitt {
     /// The inverting or non-inverting network of the push-pull forms, plus the pull-up Rpu to its
     /// rail, the optional load RL and an output that only pulls low (through RDS(on)).

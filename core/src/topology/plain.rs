@@ -339,6 +339,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for PlainComparator {
     /// The signal straight on one input, the reference (rail, source or divider) on the other.
     fn netlist(&self) -> crate::netlist::Netlist {

@@ -563,6 +563,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for SchmittGate {
     /// Optional Ra from the input to node `x`, Rb from `x` to 0 V, Rc from `x` to VDD; the
     /// Schmitt-input gate U1 on `x` (on the input directly when Ra is not fitted).

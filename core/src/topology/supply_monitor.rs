@@ -658,6 +658,7 @@ mod tests {
     }
 }
 
+#[allow(clippy::items_after_test_module)]
 impl crate::netlist::Netlisted for SupplyMonitor {
     /// The monitored rail is the input source VIN (its source resistance as RS); Rtop from it to
     /// node `p` on (+), Rbot to 0 V, Rh from the output; VREF on (−). A comparator supplied from the
