@@ -106,7 +106,21 @@ fn v(x: f64) -> String {
 
 /// Builds the bench procedure for a circuit with its check settings (supply range, input span)
 /// and any known threshold bounds.
-pub fn bench_procedure(circuit: &Topology, checks: &CheckSettings, bounds: &ThresholdBounds) -> Result<BenchProcedure, DesignError> {
+///
+/// ```
+/// use hysteron_core::bench::{bench_procedure, ThresholdBounds};
+/// let r = hysteron_core::catalog::templates()[0].record();
+/// let bounds = ThresholdBounds { vt_upper_v: Some((2.9, 3.1)), vt_lower_v: Some((1.9, 2.1)) };
+/// let p = bench_procedure(&r.circuit, &r.checks, &bounds).unwrap();
+/// // Ra = Rb = Rf = 100 kΩ on 5 V: VT+ = 5·Rb/(Rb + Ra‖Rf) = 10/3 V (DOMAIN §1a).
+/// assert!((p.readings[0].nominal_v - 10.0 / 3.0).abs() < 1e-12);
+/// assert!(p.to_text().contains("2.900 V … 3.100 V"));
+/// ```
+pub fn bench_procedure(
+    circuit: &Topology,
+    checks: &CheckSettings,
+    bounds: &ThresholdBounds,
+) -> Result<BenchProcedure, DesignError> {
     let a = analyse(circuit, checks)?;
     Ok(bench_procedure_from(circuit, &a, checks, bounds))
 }
@@ -182,13 +196,15 @@ pub fn bench_procedure_from(
     ];
     if a.supply_corners.len() > 1 {
         equipment.push(format!("supply for the circuit, set to {} and adjustable over the supply range", v(supply)));
-    } else if matches!(circuit, Topology::SupplyMonitor(m) if m.comparator_supply == crate::topology::supply_monitor::MonitorSupply::Separate) {
+    } else if matches!(circuit, Topology::SupplyMonitor(m) if m.comparator_supply == crate::topology::supply_monitor::MonitorSupply::Separate)
+    {
         equipment.push(format!("separate supply for the comparator, {}", v(supply)));
     } else {
         equipment.push(format!("supply for the circuit, {}", v(supply)));
     }
 
-    let word = |level: f64| if (level - a.output_high_v).abs() <= (level - a.output_low_v).abs() { "high" } else { "low" };
+    let word =
+        |level: f64| if (level - a.output_high_v).abs() <= (level - a.output_low_v).abs() { "high" } else { "low" };
     let mut steps = Vec::new();
     let mut step = |instruction: String, reading: Option<usize>| steps.push(BenchStep { instruction, reading });
     step(format!("Set the circuit's supply to {} and check it at the device's supply pins.", v(supply)), None);
@@ -309,7 +325,10 @@ fn troubleshooting(circuit: &Topology, a: &crate::analysis::Analysis, checks: &C
             t.push(format!("Here the readings are {trip} and {release} of the monitored rail."));
             t.push("Measure the rail with the load connected and disconnected: when the load drops off the rail recovers, and the release point must lie above the recovered voltage or the load cycles on and off.".into());
             if checks.expected_recovery_v > 0.0 {
-                t.push(format!("The design expects a recovery of {}; check it on the real battery.", v(checks.expected_recovery_v)));
+                t.push(format!(
+                    "The design expects a recovery of {}; check it on the real battery.",
+                    v(checks.expected_recovery_v)
+                ));
             }
             t.push("Readings high by the same factor: the reference voltage is off (its error is multiplied by the divider ratio); measure VREF directly.".into());
             t.push("With megohm dividers, the meter's own input resistance (often 10 MΩ) loads node P: measure the rail, not node P.".into());
@@ -325,7 +344,10 @@ fn troubleshooting(circuit: &Topology, a: &crate::analysis::Analysis, checks: &C
         Topology::BjtPair(_) => {
             t.push("Measure VBE of the conducting transistor (about 0.6–0.7 V): the thresholds move almost one-for-one with it, and with temperature (about −2 mV/K).".into());
             t.push("With the input low, Q2 conducts: its collector-emitter voltage (OUT minus the shared emitter) must stay above 0.2 V; if it saturates, the low level and the upper threshold move.".into());
-            t.push("No hysteresis at all: the loop gain is too low; check RC1 and the shared emitter resistor values.".into());
+            t.push(
+                "No hysteresis at all: the loop gain is too low; check RC1 and the shared emitter resistor values."
+                    .into(),
+            );
         }
     }
     t

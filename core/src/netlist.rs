@@ -260,7 +260,10 @@ impl Netlist {
         if node == GROUND {
             return Some(0.0);
         }
-        self.sources.iter().find(|s| s.node_plus == node && s.node_minus == GROUND && s.role != SourceRole::Input).map(|s| s.volts)
+        self.sources
+            .iter()
+            .find(|s| s.node_plus == node && s.node_minus == GROUND && s.role != SourceRole::Input)
+            .map(|s| s.volts)
     }
 
     /// The part-list resistors only.
@@ -335,8 +338,21 @@ impl NetBuilder {
     }
 
     /// Adds any resistor.
-    pub fn resistor(&mut self, designator: String, node_a: &str, node_b: &str, resistance_ohm: f64, role: ResistorRole) -> &mut Self {
-        self.net.resistors.push(NetResistor { designator, node_a: node_a.into(), node_b: node_b.into(), resistance_ohm, role });
+    pub fn resistor(
+        &mut self,
+        designator: String,
+        node_a: &str,
+        node_b: &str,
+        resistance_ohm: f64,
+        role: ResistorRole,
+    ) -> &mut Self {
+        self.net.resistors.push(NetResistor {
+            designator,
+            node_a: node_a.into(),
+            node_b: node_b.into(),
+            resistance_ohm,
+            role,
+        });
         self
     }
 
@@ -356,7 +372,15 @@ impl NetBuilder {
     }
 
     /// Adds a source between two nodes (for a dropout).
-    pub fn source_between(&mut self, name: &str, node_plus: &str, node_minus: &str, volts: f64, role: SourceRole, label: String) {
+    pub fn source_between(
+        &mut self,
+        name: &str,
+        node_plus: &str,
+        node_minus: &str,
+        volts: f64,
+        role: SourceRole,
+        label: String,
+    ) {
         self.net.sources.push(NetSource {
             name: name.into(),
             node_plus: node_plus.into(),
@@ -377,13 +401,27 @@ impl NetBuilder {
         if negative_v == 0.0 {
             GROUND.into()
         } else {
-            self.source("VEE", NEGATIVE_NET, negative_v, SourceRole::NegativeRail, format!("VEE {}", volts_text(negative_v)))
+            self.source(
+                "VEE",
+                NEGATIVE_NET,
+                negative_v,
+                SourceRole::NegativeRail,
+                format!("VEE {}", volts_text(negative_v)),
+            )
         }
     }
 
     /// The node of a rail for a comparator on `supply_v`/`negative_v`; a fixed rail becomes a
     /// source named `name` on node `node`.
-    pub fn rail(&mut self, rail: Rail, supply_v: f64, negative_v: f64, name: &str, node: &str, role: SourceRole) -> String {
+    pub fn rail(
+        &mut self,
+        rail: Rail,
+        supply_v: f64,
+        negative_v: f64,
+        name: &str,
+        node: &str,
+        role: SourceRole,
+    ) -> String {
         match rail {
             Rail::Supply => self.supply(supply_v, "VCC"),
             Rail::Ground => GROUND.into(),
@@ -440,7 +478,12 @@ impl NetBuilder {
     /// Adds an input bias current into `pin` (from the pin node to ground), if it is not zero.
     pub fn bias(&mut self, name: &str, pin: &str, amps: f64) {
         if amps != 0.0 && pin != GROUND {
-            self.net.current_sources.push(NetCurrentSource { name: name.into(), node_from: pin.into(), node_to: GROUND.into(), amps });
+            self.net.current_sources.push(NetCurrentSource {
+                name: name.into(),
+                node_from: pin.into(),
+                node_to: GROUND.into(),
+                amps,
+            });
         }
     }
 
@@ -455,13 +498,17 @@ impl NetBuilder {
             match r.role {
                 ResistorRole::PartList => (
                     0,
-                    self.params.iter().position(|p| p.designator.as_deref() == Some(&r.designator)).unwrap_or(usize::MAX),
+                    self.params
+                        .iter()
+                        .position(|p| p.designator.as_deref() == Some(&r.designator))
+                        .unwrap_or(usize::MAX),
                 ),
                 ResistorRole::SourceResistance => (1, 0),
                 ResistorRole::Load => (2, 0),
             }
         };
-        let mut keyed: Vec<((usize, usize), NetResistor)> = self.net.resistors.drain(..).map(|r| (order(&r), r)).collect();
+        let mut keyed: Vec<((usize, usize), NetResistor)> =
+            self.net.resistors.drain(..).map(|r| (order(&r), r)).collect();
         keyed.sort_by_key(|(k, _)| *k);
         self.net.resistors = keyed.into_iter().map(|(_, r)| r).collect();
         self.net
@@ -471,7 +518,12 @@ impl NetBuilder {
 /// Adds a comparator input's reference network and returns the device-input node: a rail or
 /// fixed source directly (source `VREF` on net `ref`), or the divider Ra (`ra_ohm`, from
 /// `rail_a`) / Rb (`rb_ohm`, to `rail_b`) with its midpoint on net `node`.
-pub fn reference_network(b: &mut NetBuilder, reference: &crate::topology::noninverting::Reference, device: &Comparator, node: &str) -> String {
+pub fn reference_network(
+    b: &mut NetBuilder,
+    reference: &crate::topology::noninverting::Reference,
+    device: &Comparator,
+    node: &str,
+) -> String {
     use crate::topology::noninverting::Reference;
     let (vs, vn) = (device.supply_v, device.negative_rail_v);
     match *reference {
@@ -511,7 +563,11 @@ pub fn short_number(v: f64) -> String {
     let digits = (3 - v.abs().log10().floor() as i32).clamp(0, 12) as usize;
     let s = format!("{v:.digits$}");
     let s = if s.contains('.') { s.trim_end_matches('0').trim_end_matches('.').to_string() } else { s };
-    if s == "-0" { "0".into() } else { s }
+    if s == "-0" {
+        "0".into()
+    } else {
+        s
+    }
 }
 
 #[cfg(test)]

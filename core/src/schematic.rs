@@ -23,7 +23,10 @@
 //! slot go to a spare row at the bottom with both ends labelled, so every part is always drawn.
 //! The two-transistor trigger has its own placement ([`bjt_layout`]).
 
-use crate::netlist::{ActiveDevice, GateThreshold, NetResistor, Netlist, Netlisted, ResistorRole, SourceRole, GROUND, INPUT_NET, OUTPUT_NET, SOURCE_NET};
+use crate::netlist::{
+    ActiveDevice, GateThreshold, NetResistor, Netlist, Netlisted, ResistorRole, SourceRole, GROUND, INPUT_NET,
+    OUTPUT_NET, SOURCE_NET,
+};
 use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
 use std::fmt::Write as _;
@@ -205,7 +208,14 @@ impl SchematicLayout {
     }
 
     /// Places a resistor from `at` going `direction` (Right or Down) by four units.
-    fn resistor(&mut self, r: &NetResistor, at: GridPoint, direction: Direction, first_net: &str, text_side: Direction) {
+    fn resistor(
+        &mut self,
+        r: &NetResistor,
+        at: GridPoint,
+        direction: Direction,
+        first_net: &str,
+        text_side: Direction,
+    ) {
         let end = match direction {
             Direction::Right => gp(at.x + 4, at.y),
             Direction::Left => gp(at.x - 4, at.y),
@@ -221,7 +231,10 @@ impl SchematicLayout {
         };
         self.parts.push(PlacedPart {
             designator: r.designator.clone(),
-            symbol: PartSymbol::Resistor { resistance_ohm: r.resistance_ohm, in_part_list: r.role == ResistorRole::PartList },
+            symbol: PartSymbol::Resistor {
+                resistance_ohm: r.resistance_ohm,
+                in_part_list: r.role == ResistorRole::PartList,
+            },
             at: anchor,
             direction: dir,
             text_side,
@@ -239,7 +252,11 @@ impl SchematicLayout {
         } else if node == OUTPUT_NET {
             LabelKind::Output
         } else {
-            match net.sources.iter().find(|s| s.node_plus == node || (s.node_minus == node && s.role == SourceRole::Dropout)) {
+            match net
+                .sources
+                .iter()
+                .find(|s| s.node_plus == node || (s.node_minus == node && s.role == SourceRole::Dropout))
+            {
                 Some(s) if s.role == SourceRole::Reference => LabelKind::Reference,
                 Some(_) => LabelKind::Rail,
                 None => LabelKind::Reference,
@@ -256,7 +273,11 @@ fn pin(name: &str, at: GridPoint, net: &str) -> PlacedPin {
 
 /// The other end of a resistor from `node`.
 fn other<'a>(r: &'a NetResistor, node: &str) -> &'a str {
-    if r.node_a == node { &r.node_b } else { &r.node_a }
+    if r.node_a == node {
+        &r.node_b
+    } else {
+        &r.node_a
+    }
 }
 
 fn touches(r: &NetResistor, node: &str) -> bool {
@@ -268,13 +289,23 @@ fn touches(r: &NetResistor, node: &str) -> bool {
 /// placed in the spare row.
 pub fn auto_layout(net: &Netlist) -> SchematicLayout {
     let mut s = SchematicLayout { width: 46, height: 31, ..Default::default() };
-    let resistors: Vec<&NetResistor> = net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance).collect();
+    let resistors: Vec<&NetResistor> =
+        net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance).collect();
     let mut placed = vec![false; resistors.len()];
     let norm = |n: &str| if n == SOURCE_NET { INPUT_NET.to_string() } else { n.to_string() };
 
     let device_at = gp(22, 10);
     let (p_node, n_node, p_pin_y) = match net.devices.first() {
-        Some(ActiveDevice::Comparator { designator, non_inverting, inverting, output, positive_supply, negative_supply, output_high_drop_v, .. }) => {
+        Some(ActiveDevice::Comparator {
+            designator,
+            non_inverting,
+            inverting,
+            output,
+            positive_supply,
+            negative_supply,
+            output_high_drop_v,
+            ..
+        }) => {
             s.parts.push(PlacedPart {
                 designator: designator.clone(),
                 symbol: PartSymbol::Comparator { open_drain: output_high_drop_v.is_none() },
@@ -296,7 +327,10 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         Some(ActiveDevice::LogicGate { designator, input, output, supply, ground, threshold, inverting, .. }) => {
             s.parts.push(PlacedPart {
                 designator: designator.clone(),
-                symbol: PartSymbol::LogicGate { schmitt: matches!(threshold, GateThreshold::Schmitt { .. }), inverting: *inverting },
+                symbol: PartSymbol::LogicGate {
+                    schmitt: matches!(threshold, GateThreshold::Schmitt { .. }),
+                    inverting: *inverting,
+                },
                 at: device_at,
                 direction: Direction::Right,
                 text_side: Direction::Up,
@@ -378,7 +412,9 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
             s.junction(p_at);
         }
         // Feedback from the output over the top.
-        if let Some(i) = resistors.iter().position(|r| touches(r, &p_node) && touches(r, OUTPUT_NET) && p_node != OUTPUT_NET) {
+        if let Some(i) =
+            resistors.iter().position(|r| touches(r, &p_node) && touches(r, OUTPUT_NET) && p_node != OUTPUT_NET)
+        {
             s.resistor(resistors[i], gp(27, 4), Direction::Left, OUTPUT_NET, Direction::Up);
             s.path(&[gp(23, 4), gp(19, 4), gp(19, py)]);
             s.path(&[gp(27, 4), gp(32, 4), gp(32, 14)]);
@@ -514,7 +550,8 @@ fn spare_row(s: &mut SchematicLayout, net: &Netlist, resistors: &[&NetResistor],
 /// The placement of the emitter-coupled two-transistor trigger.
 pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
     let mut s = SchematicLayout { width: 46, height: 31, ..Default::default() };
-    let resistors: Vec<&NetResistor> = net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance).collect();
+    let resistors: Vec<&NetResistor> =
+        net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance).collect();
     let mut placed = vec![false; resistors.len()];
     let find = |a: &str, b: &str| resistors.iter().position(|r| touches(r, a) && touches(r, b) && a != b);
     let mut devices = net.devices.iter().filter_map(|d| match d {
@@ -533,13 +570,18 @@ pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
             at,
             direction: Direction::Right,
             text_side: Direction::Right,
-            pins: vec![pin("b", gp(at.x, at.y + 3), q.2), pin("c", gp(at.x + 4, at.y), q.1), pin("e", gp(at.x + 4, at.y + 6), q.3)],
+            pins: vec![
+                pin("b", gp(at.x, at.y + 3), q.2),
+                pin("c", gp(at.x + 4, at.y), q.1),
+                pin("e", gp(at.x + 4, at.y + 6), q.3),
+            ],
         });
     };
     npn(&mut s, q1, gp(10, 12));
     npn(&mut s, q2, gp(26, 12));
     let (c1, b2, e) = (q1.1.as_str(), q2.2.as_str(), q1.3.as_str());
-    let supply = net.sources.iter().find(|x| x.role == SourceRole::Supply).map(|x| x.node_plus.clone()).unwrap_or_default();
+    let supply =
+        net.sources.iter().find(|x| x.role == SourceRole::Supply).map(|x| x.node_plus.clone()).unwrap_or_default();
     // Supply bus.
     s.path(&[gp(14, 4), gp(22, 4), gp(30, 4)]);
     s.wire(gp(22, 2), gp(22, 4));
@@ -672,6 +714,14 @@ pub fn engineering_ohms(ohms: f64) -> String {
 }
 
 /// Renders a topology's schematic as a standalone SVG document.
+///
+/// ```
+/// use hysteron_core::catalog;
+/// use hysteron_core::schematic::{render_svg, SymbolStyle};
+/// let circuit = catalog::templates()[0].record().circuit;
+/// let svg = render_svg(&circuit, SymbolStyle::Ieee315);
+/// assert!(svg.starts_with("<svg") && svg.contains(">R3</text>") && svg.contains(">U1</text>"));
+/// ```
 pub fn render_svg(circuit: &Topology, style: SymbolStyle) -> String {
     render_layout_svg(&circuit.schematic(), style, None)
 }
@@ -703,15 +753,29 @@ pub fn render_layout_svg(layout: &SchematicLayout, style: SymbolStyle, title: Op
         SymbolStyle::Iec60617 => "Schematic, IEC 60617 symbols",
         SymbolStyle::Ieee315 => "Schematic, IEEE 315 symbols",
     };
-    let _ = write!(o, "<title>{}</title>", xml_escape(&match title {
-        Some(t) => format!("{t} — {desc}"),
-        None => desc.to_string(),
-    }));
+    let _ = write!(
+        o,
+        "<title>{}</title>",
+        xml_escape(&match title {
+            Some(t) => format!("{t} — {desc}"),
+            None => desc.to_string(),
+        })
+    );
     o.push_str(r##"<rect width="100%" height="100%" fill="#fff"/>"##);
     if let Some(t) = title {
-        let _ = write!(o, r#"<text x="{}" y="{}" font-size="13" font-weight="bold">{}</text>"#, px(1.0), px(1.3), xml_escape(t));
+        let _ = write!(
+            o,
+            r#"<text x="{}" y="{}" font-size="13" font-weight="bold">{}</text>"#,
+            px(1.0),
+            px(1.3),
+            xml_escape(t)
+        );
     }
-    let _ = write!(o, r##"<g transform="translate(0 {})" stroke="#000" stroke-width="1.4" fill="none" stroke-linecap="round">"##, px(top));
+    let _ = write!(
+        o,
+        r##"<g transform="translate(0 {})" stroke="#000" stroke-width="1.4" fill="none" stroke-linecap="round">"##,
+        px(top)
+    );
     for wire in &layout.wires {
         let _ = write!(
             o,
@@ -760,7 +824,8 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             };
             let horizontal = part.direction == Direction::Right;
             // Local frame: along = 0..4, across = 0.
-            let at = |along: f64, across: f64| if horizontal { (x + along, y + across) } else { (x + across, y + along) };
+            let at =
+                |along: f64, across: f64| if horizontal { (x + along, y + across) } else { (x + across, y + along) };
             let dash = if in_part_list { "" } else { r#" stroke-dasharray="3 2""# };
             polyline(o, &[at(0.0, 0.0), at(0.8, 0.0)], "");
             polyline(o, &[at(3.2, 0.0), at(4.0, 0.0)], "");
@@ -824,7 +889,14 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             polyline(o, &[(x + 4.0, y + 8.0), (x + 4.0, y + 7.0)], "");
             let (out_start, mark_x) = match style {
                 SymbolStyle::Iec60617 => {
-                    let _ = write!(o, r#"<rect x="{}" y="{}" width="{}" height="{}"/>"#, px(x + 1.0), px(y + 1.0), px(6.0), px(6.0));
+                    let _ = write!(
+                        o,
+                        r#"<rect x="{}" y="{}" width="{}" height="{}"/>"#,
+                        px(x + 1.0),
+                        px(y + 1.0),
+                        px(6.0),
+                        px(6.0)
+                    );
                     text(o, x + 4.0, y + 2.4, "middle", "1");
                     (x + 7.0, x + 4.0)
                 }
@@ -852,7 +924,14 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
         PartSymbol::Npn => {
             let _ = write!(o, r#"<circle cx="{}" cy="{}" r="{}"/>"#, px(x + 3.0), px(y + 3.0), px(2.2));
             polyline(o, &[(x, y + 3.0), (x + 2.0, y + 3.0)], "");
-            let _ = write!(o, r#"<line x1="{}" y1="{}" x2="{}" y2="{}" stroke-width="2.4"/>"#, px(x + 2.0), px(y + 1.8), px(x + 2.0), px(y + 4.2));
+            let _ = write!(
+                o,
+                r#"<line x1="{}" y1="{}" x2="{}" y2="{}" stroke-width="2.4"/>"#,
+                px(x + 2.0),
+                px(y + 1.8),
+                px(x + 2.0),
+                px(y + 4.2)
+            );
             polyline(o, &[(x + 2.0, y + 2.4), (x + 4.0, y + 1.2), (x + 4.0, y)], "");
             polyline(o, &[(x + 2.0, y + 3.6), (x + 4.0, y + 4.8), (x + 4.0, y + 6.0)], "");
             // Emitter arrow pointing away from the base.
@@ -893,10 +972,58 @@ fn draw_label(o: &mut String, label: &NetLabel) {
             // A flag pointing away from the wire, with the name beyond it.
             let w = 1.2;
             let (pts, tx, ty, anchor) = match label.toward {
-                Direction::Left => (vec![(x, y), (x - 0.5, y - 0.6), (x - w - 0.5, y - 0.6), (x - w - 0.5, y + 0.6), (x - 0.5, y + 0.6), (x, y)], x - w - 0.9, y + 0.35, "end"),
-                Direction::Right => (vec![(x, y), (x + 0.5, y - 0.6), (x + w + 0.5, y - 0.6), (x + w + 0.5, y + 0.6), (x + 0.5, y + 0.6), (x, y)], x + w + 0.9, y + 0.35, "start"),
-                Direction::Up => (vec![(x, y), (x - 0.6, y - 0.5), (x - 0.6, y - 1.5), (x + 0.6, y - 1.5), (x + 0.6, y - 0.5), (x, y)], x, y - 1.9, "middle"),
-                Direction::Down => (vec![(x, y), (x - 0.6, y + 0.5), (x - 0.6, y + 1.5), (x + 0.6, y + 1.5), (x + 0.6, y + 0.5), (x, y)], x, y + 2.6, "middle"),
+                Direction::Left => (
+                    vec![
+                        (x, y),
+                        (x - 0.5, y - 0.6),
+                        (x - w - 0.5, y - 0.6),
+                        (x - w - 0.5, y + 0.6),
+                        (x - 0.5, y + 0.6),
+                        (x, y),
+                    ],
+                    x - w - 0.9,
+                    y + 0.35,
+                    "end",
+                ),
+                Direction::Right => (
+                    vec![
+                        (x, y),
+                        (x + 0.5, y - 0.6),
+                        (x + w + 0.5, y - 0.6),
+                        (x + w + 0.5, y + 0.6),
+                        (x + 0.5, y + 0.6),
+                        (x, y),
+                    ],
+                    x + w + 0.9,
+                    y + 0.35,
+                    "start",
+                ),
+                Direction::Up => (
+                    vec![
+                        (x, y),
+                        (x - 0.6, y - 0.5),
+                        (x - 0.6, y - 1.5),
+                        (x + 0.6, y - 1.5),
+                        (x + 0.6, y - 0.5),
+                        (x, y),
+                    ],
+                    x,
+                    y - 1.9,
+                    "middle",
+                ),
+                Direction::Down => (
+                    vec![
+                        (x, y),
+                        (x - 0.6, y + 0.5),
+                        (x - 0.6, y + 1.5),
+                        (x + 0.6, y + 1.5),
+                        (x + 0.6, y + 0.5),
+                        (x, y),
+                    ],
+                    x,
+                    y + 2.6,
+                    "middle",
+                ),
             };
             let fill = match label.kind {
                 LabelKind::Input => r##" fill="#e8f0ff""##,
@@ -1018,7 +1145,10 @@ mod tests {
         // Wires stay on the sheet.
         for w in &layout.wires {
             for p in [w.from, w.to] {
-                assert!(p.x >= 0 && p.y >= 0 && p.x <= layout.width && p.y <= layout.height, "{key}: wire off the sheet at {p:?}");
+                assert!(
+                    p.x >= 0 && p.y >= 0 && p.x <= layout.width && p.y <= layout.height,
+                    "{key}: wire off the sheet at {p:?}"
+                );
             }
         }
     }
@@ -1033,24 +1163,85 @@ mod tests {
         use crate::topology::supply_monitor::{MonitorOutput, MonitorSupply, SupplyMonitor};
         use crate::topology::{bjt_pair::EmitterCoupledSchmitt, inverting::InvertingSchmitt};
         let dev = Comparator { source_resistance_ohm: 1e3, bias_plus_a: 1e-9, ..Comparator::ideal(5.0) };
-        let mut v: Vec<(String, Topology)> =
-            catalog::templates().into_iter().chain(catalog::demos()).map(|s| (s.key.to_string(), s.record().circuit)).collect();
-        v.push(("inv-split".into(), Topology::Inverting(InvertingSchmitt::split_supply(10e3, 47e3, Comparator { negative_rail_v: -5.0, ..dev }))));
-        v.push(("inv-ref".into(), Topology::Inverting(InvertingSchmitt { ra_ohm: None, rail_b: Rail::Fixed(1.2), ..InvertingSchmitt::single_supply(1.0, 10e3, 47e3, dev) })));
-        v.push(("ni-fixed".into(), Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, dev))));
-        v.push(("od-ni".into(), Topology::OpenDrain(OpenDrainSchmitt { rl_ohm: Some(47e3), ..OpenDrainSchmitt::non_inverting(10e3, 100e3, Reference::divider(20e3, 30e3), 4.7e3, dev) })));
-        v.push(("plain-inv".into(), Topology::Plain(PlainComparator { sense: crate::analysis::Sense::Inverting, reference: Reference::fixed(1.25), device: dev })));
-        v.push(("plain-inv-div".into(), Topology::Plain(PlainComparator { sense: crate::analysis::Sense::Inverting, reference: Reference::divider(10e3, 10e3), device: dev })));
+        let mut v: Vec<(String, Topology)> = catalog::templates()
+            .into_iter()
+            .chain(catalog::demos())
+            .map(|s| (s.key.to_string(), s.record().circuit))
+            .collect();
+        v.push((
+            "inv-split".into(),
+            Topology::Inverting(InvertingSchmitt::split_supply(
+                10e3,
+                47e3,
+                Comparator { negative_rail_v: -5.0, ..dev },
+            )),
+        ));
+        v.push((
+            "inv-ref".into(),
+            Topology::Inverting(InvertingSchmitt {
+                ra_ohm: None,
+                rail_b: Rail::Fixed(1.2),
+                ..InvertingSchmitt::single_supply(1.0, 10e3, 47e3, dev)
+            }),
+        ));
+        v.push((
+            "ni-fixed".into(),
+            Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, dev)),
+        ));
+        v.push((
+            "od-ni".into(),
+            Topology::OpenDrain(OpenDrainSchmitt {
+                rl_ohm: Some(47e3),
+                ..OpenDrainSchmitt::non_inverting(10e3, 100e3, Reference::divider(20e3, 30e3), 4.7e3, dev)
+            }),
+        ));
+        v.push((
+            "plain-inv".into(),
+            Topology::Plain(PlainComparator {
+                sense: crate::analysis::Sense::Inverting,
+                reference: Reference::fixed(1.25),
+                device: dev,
+            }),
+        ));
+        v.push((
+            "plain-inv-div".into(),
+            Topology::Plain(PlainComparator {
+                sense: crate::analysis::Sense::Inverting,
+                reference: Reference::divider(10e3, 10e3),
+                device: dev,
+            }),
+        ));
         let mut mon = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, dev);
         mon.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 0.2 };
         v.push(("mon-self".into(), Topology::SupplyMonitor(mon.clone())));
         mon.output = MonitorOutput::OpenDrain { rpu_ohm: 10e3, pullup_rail: Rail::Supply };
         v.push(("mon-self-od".into(), Topology::SupplyMonitor(mon)));
         v.push(("cmos".into(), Topology::CmosBuffer(CmosBufferSchmitt::new(10e3, 47e3, CmosGate::default()))));
-        v.push(("cmos-r3".into(), Topology::CmosBuffer(CmosBufferSchmitt { r3_ohm: Some(82e3), r3_rail: BiasRail::Supply, ..CmosBufferSchmitt::new(10e3, 47e3, CmosGate::default()) })));
+        v.push((
+            "cmos-r3".into(),
+            Topology::CmosBuffer(CmosBufferSchmitt {
+                r3_ohm: Some(82e3),
+                r3_rail: BiasRail::Supply,
+                ..CmosBufferSchmitt::new(10e3, 47e3, CmosGate::default())
+            }),
+        ));
         v.push(("gate-bare".into(), Topology::SchmittGate(SchmittGate::bare(SchmittInput::default()))));
-        v.push(("gate-net".into(), Topology::SchmittGate(SchmittGate { ra_ohm: Some(47e3), rb_ohm: Some(100e3), rc_ohm: Some(220e3), ..SchmittGate::bare(SchmittInput::default()) })));
-        v.push(("bjt".into(), Topology::BjtPair(EmitterCoupledSchmitt { load_ohm: Some(10e3), ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) })));
+        v.push((
+            "gate-net".into(),
+            Topology::SchmittGate(SchmittGate {
+                ra_ohm: Some(47e3),
+                rb_ohm: Some(100e3),
+                rc_ohm: Some(220e3),
+                ..SchmittGate::bare(SchmittInput::default())
+            }),
+        ));
+        v.push((
+            "bjt".into(),
+            Topology::BjtPair(EmitterCoupledSchmitt {
+                load_ohm: Some(10e3),
+                ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3)
+            }),
+        ));
         v
     }
 
@@ -1084,7 +1275,10 @@ mod tests {
                         SymbolStyle::Iec60617 => rkm(p.value),
                         SymbolStyle::Ieee315 => engineering_ohms(p.value),
                     };
-                    assert!(svg.contains(&format!(">{}</text>", xml_escape(&value))), "{key}: value {value} of {d} missing");
+                    assert!(
+                        svg.contains(&format!(">{}</text>", xml_escape(&value))),
+                        "{key}: value {value} of {d} missing"
+                    );
                 }
             }
         }

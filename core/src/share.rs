@@ -118,6 +118,16 @@ impl From<RecordError> for LinkError {
 
 /// Packs a design record into a link fragment payload (`h1.…`, without the leading `#`).
 ///
+/// ```
+/// use hysteron_core::catalog;
+/// use hysteron_core::share::{decode_link, encode_link, LinkError};
+/// let record = catalog::templates()[0].record();
+/// let link = encode_link(&record);
+/// assert!(link.starts_with("h1."));
+/// assert_eq!(decode_link(&format!("https://example.org/#{link}")), Ok(record));
+/// assert!(matches!(decode_link(&link[..link.len() / 2]), Err(LinkError::Corrupt { .. })));
+/// ```
+///
 /// Serialisation of a record cannot fail for finite values; a non-finite number would be written
 /// as JSON `null` and the link would then be refused on opening with [`LinkError::Record`].
 pub fn encode_link(record: &DesignRecord) -> String {
@@ -301,7 +311,15 @@ mod tests {
     #[test]
     fn base64url_matches_rfc4648_test_vectors() {
         // RFC 4648 §10 test vectors (padding removed; the alphabet differs only in 62/63).
-        let cases = [("", ""), ("f", "Zg"), ("fo", "Zm8"), ("foo", "Zm9v"), ("foob", "Zm9vYg"), ("fooba", "Zm9vYmE"), ("foobar", "Zm9vYmFy")];
+        let cases = [
+            ("", ""),
+            ("f", "Zg"),
+            ("fo", "Zm8"),
+            ("foo", "Zm9v"),
+            ("foob", "Zm9vYg"),
+            ("fooba", "Zm9vYmE"),
+            ("foobar", "Zm9vYmFy"),
+        ];
         for (plain, enc) in cases {
             let mut s = String::new();
             base64url_encode(plain.as_bytes(), &mut s);
@@ -334,7 +352,10 @@ mod tests {
         let link = encode_link(&catalog::templates()[0].record());
         assert_eq!(decode_link("hello"), Err(LinkError::NotALink));
         assert_eq!(decode_link(""), Err(LinkError::NotALink));
-        assert!(matches!(decode_link(&link.replacen("h1.", "h7.", 1)), Err(LinkError::FutureVersion { found: 7, supported: 1 })));
+        assert!(matches!(
+            decode_link(&link.replacen("h1.", "h7.", 1)),
+            Err(LinkError::FutureVersion { found: 7, supported: 1 })
+        ));
         assert!(matches!(decode_link(&link[..link.len() - 5]), Err(LinkError::Corrupt { .. })));
         // A flipped character in the middle: checksum or inflate failure.
         let mut bytes = link.clone().into_bytes();
@@ -370,9 +391,6 @@ mod tests {
         packed.extend_from_slice(&miniz_oxide::deflate::compress_to_vec(json.as_bytes(), 6));
         let mut link = String::from(LINK_PREFIX);
         base64url_encode(&packed, &mut link);
-        assert!(matches!(
-            decode_link(&link),
-            Err(LinkError::Record(RecordError::FutureVersion { found: 42, .. }))
-        ));
+        assert!(matches!(decode_link(&link), Err(LinkError::Record(RecordError::FutureVersion { found: 42, .. }))));
     }
 }

@@ -68,6 +68,13 @@ pub fn ramp_span_v(vt_upper_v: f64, vt_lower_v: f64) -> (f64, f64) {
 
 /// Writes the circuit as a SPICE3 deck titled `title`. Fails when the circuit is invalid (a
 /// simulator would be handed nonsense) or its thresholds cannot be computed.
+///
+/// ```
+/// use hysteron_core::catalog;
+/// let circuit = catalog::templates()[0].record().circuit;
+/// let deck = hysteron_core::spice::to_spice(&circuit, "Inverting Schmitt").unwrap();
+/// assert!(deck.contains("\nR3 out p 100k\n") && deck.ends_with(".end\n"));
+/// ```
 pub fn to_spice(circuit: &Topology, title: &str) -> Result<String, DesignError> {
     circuit.validate()?;
     let t = circuit.thresholds()?;
@@ -77,17 +84,41 @@ pub fn to_spice(circuit: &Topology, title: &str) -> Result<String, DesignError> 
 }
 
 /// Writes a netlist as a SPICE3 deck with the expected thresholds and ramp limits in comments.
-pub fn write_deck(net: &Netlist, title: &str, vt_upper_v: f64, vt_lower_v: f64, ramp_lo_v: f64, ramp_hi_v: f64) -> String {
+pub fn write_deck(
+    net: &Netlist,
+    title: &str,
+    vt_upper_v: f64,
+    vt_lower_v: f64,
+    ramp_lo_v: f64,
+    ramp_hi_v: f64,
+) -> String {
     let n = spice_number;
     let mut o = String::new();
     let title = one_line(title);
     let _ = writeln!(o, "{}", if title.is_empty() { "Hysteron design".to_string() } else { title });
     let _ = writeln!(o, "* Exported by Hysteron: generic SPICE3 syntax; topology {}", net.topology);
-    let _ = writeln!(o, "* Expected thresholds: VT+ = {} V (rising input), VT- = {} V (falling input)", fmt6(vt_upper_v), fmt6(vt_lower_v));
-    let _ = writeln!(o, "* Suggested analysis (transient, VIN is a triangle {} V -> {} V -> {} V over 2 s):", fmt6(ramp_lo_v), fmt6(ramp_hi_v), fmt6(ramp_lo_v));
+    let _ = writeln!(
+        o,
+        "* Expected thresholds: VT+ = {} V (rising input), VT- = {} V (falling input)",
+        fmt6(vt_upper_v),
+        fmt6(vt_lower_v)
+    );
+    let _ = writeln!(
+        o,
+        "* Suggested analysis (transient, VIN is a triangle {} V -> {} V -> {} V over 2 s):",
+        fmt6(ramp_lo_v),
+        fmt6(ramp_hi_v),
+        fmt6(ramp_lo_v)
+    );
     let _ = writeln!(o, "*   .tran 1m 2");
     let _ = writeln!(o, "* or a DC sweep, which shows VT+ only (rising):");
-    let _ = writeln!(o, "*   .dc VIN {} {} {}", short(ramp_lo_v), short(ramp_hi_v), short(((ramp_hi_v - ramp_lo_v) / 2000.0).abs().max(1e-6)));
+    let _ = writeln!(
+        o,
+        "*   .dc VIN {} {} {}",
+        short(ramp_lo_v),
+        short(ramp_hi_v),
+        short(((ramp_hi_v - ramp_lo_v) / 2000.0).abs().max(1e-6))
+    );
     o.push('\n');
     let _ = writeln!(o, "* Supplies, references and the signal");
     for s in &net.sources {
@@ -156,7 +187,11 @@ fn fmt6(v: f64) -> String {
 
 /// A number for a comment: four significant digits, scientific notation below 1 m.
 fn human(v: f64) -> String {
-    if v != 0.0 && v.abs() < 1e-3 { format!("{v:.3e}") } else { fmt6(v) }
+    if v != 0.0 && v.abs() < 1e-3 {
+        format!("{v:.3e}")
+    } else {
+        fmt6(v)
+    }
 }
 
 /// A number for an element line rounded to four significant digits (ramp limits, the signal's
@@ -183,9 +218,18 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
         } => {
             let u = designator;
             let _ = writeln!(o, "* {u}: comparator, behavioural model (pins: + {non_inverting}, - {inverting}, out {output}, V+ {positive_supply}, V- {negative_supply}).");
-            let _ = writeln!(o, "* Two voltage-controlled switches (SPICE3 SW model) connect the output to a high and a low level;");
-            let _ = writeln!(o, "* a switch closes when its control voltage exceeds VT+VH and opens below VT-VH. Control is");
-            let _ = writeln!(o, "* V(+)-V(-) for the high switch and V(-)-V(+) for the low one, with VT = +/-VOS and VH = h/2:");
+            let _ = writeln!(
+                o,
+                "* Two voltage-controlled switches (SPICE3 SW model) connect the output to a high and a low level;"
+            );
+            let _ = writeln!(
+                o,
+                "* a switch closes when its control voltage exceeds VT+VH and opens below VT-VH. Control is"
+            );
+            let _ = writeln!(
+                o,
+                "* V(+)-V(-) for the high switch and V(-)-V(+) for the low one, with VT = +/-VOS and VH = h/2:"
+            );
             let _ = writeln!(
                 o,
                 "* VOS = {} V, built-in hysteresis h = {} V. Output switch on-resistance {} ohm, off {} ohm.",
@@ -199,7 +243,14 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                     let _ = writeln!(o, "* Output high = V({positive_supply}) - {} V, output low = V({negative_supply}) + {} V (push-pull).", human(*drop), human(*output_low_rise_v));
                     let _ = writeln!(o, "V{u}H {u}_hi {positive_supply} DC {}", n(-drop));
                     let _ = writeln!(o, "S{u}H {output} {u}_hi {non_inverting} {inverting} SW{u}H");
-                    let _ = writeln!(models, ".model SW{u}H SW(VT={} VH={} RON={} ROFF={})", n(*offset_v), n(hysteresis_v / 2.0), n(OUTPUT_ON_OHM), n(OUTPUT_OFF_OHM));
+                    let _ = writeln!(
+                        models,
+                        ".model SW{u}H SW(VT={} VH={} RON={} ROFF={})",
+                        n(*offset_v),
+                        n(hysteresis_v / 2.0),
+                        n(OUTPUT_ON_OHM),
+                        n(OUTPUT_OFF_OHM)
+                    );
                 }
                 None => {
                     let _ = writeln!(o, "* Open-drain/open-collector output: it only pulls low, to V({negative_supply}) + {} V through RDS(on) = {} ohm.", human(*output_low_rise_v), human(on_ohm(*sink_resistance_ohm)));
@@ -208,12 +259,31 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             let _ = writeln!(o, "V{u}L {u}_lo {negative_supply} DC {}", n(*output_low_rise_v));
             let _ = writeln!(o, "S{u}L {output} {u}_lo {inverting} {non_inverting} SW{u}L");
             let ron = if output_high_drop_v.is_some() { OUTPUT_ON_OHM } else { on_ohm(*sink_resistance_ohm) };
-            let _ = writeln!(models, ".model SW{u}L SW(VT={} VH={} RON={} ROFF={})", n(-offset_v), n(hysteresis_v / 2.0), n(ron), n(OUTPUT_OFF_OHM));
+            let _ = writeln!(
+                models,
+                ".model SW{u}L SW(VT={} VH={} RON={} ROFF={})",
+                n(-offset_v),
+                n(hysteresis_v / 2.0),
+                n(ron),
+                n(OUTPUT_OFF_OHM)
+            );
         }
-        ActiveDevice::LogicGate { designator, input, output, supply, ground, threshold, inverting, output_high_v, output_low_v } => {
+        ActiveDevice::LogicGate {
+            designator,
+            input,
+            output,
+            supply,
+            ground,
+            threshold,
+            inverting,
+            output_high_v,
+            output_low_v,
+        } => {
             let u = designator;
             let (vt, vh, what) = match *threshold {
-                GateThreshold::Single { switching_v } => (switching_v, 0.0, format!("switches at VM = {} V", human(switching_v))),
+                GateThreshold::Single { switching_v } => {
+                    (switching_v, 0.0, format!("switches at VM = {} V", human(switching_v)))
+                }
                 GateThreshold::Schmitt { upper_v, lower_v } => (
                     0.5 * (upper_v + lower_v),
                     0.5 * (upper_v - lower_v),
@@ -222,8 +292,16 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             };
             let kind = if *inverting { "inverter" } else { "buffer" };
             let _ = writeln!(o, "* {u}: logic {kind}, behavioural model (pins: in {input}, out {output}, VDD {supply}, GND {ground}); {what}.");
-            let _ = writeln!(o, "* Two voltage-controlled switches (SPICE3 SW model, VT = centre, VH = half the input hysteresis)");
-            let _ = writeln!(o, "* connect the output to VOH = {} V or VOL = {} V; the input draws no current.", human(*output_high_v), human(*output_low_v));
+            let _ = writeln!(
+                o,
+                "* Two voltage-controlled switches (SPICE3 SW model, VT = centre, VH = half the input hysteresis)"
+            );
+            let _ = writeln!(
+                o,
+                "* connect the output to VOH = {} V or VOL = {} V; the input draws no current.",
+                human(*output_high_v),
+                human(*output_low_v)
+            );
             let (rise_level, fall_level) = if *inverting { ("lo", "hi") } else { ("hi", "lo") };
             let _ = writeln!(o, "V{u}H {u}_hi {ground} DC {}", n(*output_high_v));
             let _ = writeln!(o, "V{u}L {u}_lo {ground} DC {}", n(*output_low_v));
@@ -231,19 +309,43 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             // (its control is the negated input, so its threshold is −VT).
             let _ = writeln!(o, "S{u}R {output} {u}_{rise_level} {input} {ground} SW{u}R");
             let _ = writeln!(o, "S{u}F {output} {u}_{fall_level} {ground} {input} SW{u}F");
-            let _ = writeln!(models, ".model SW{u}R SW(VT={} VH={} RON={} ROFF={})", n(vt), n(vh), n(OUTPUT_ON_OHM), n(OUTPUT_OFF_OHM));
-            let _ = writeln!(models, ".model SW{u}F SW(VT={} VH={} RON={} ROFF={})", n(-vt), n(vh), n(OUTPUT_ON_OHM), n(OUTPUT_OFF_OHM));
+            let _ = writeln!(
+                models,
+                ".model SW{u}R SW(VT={} VH={} RON={} ROFF={})",
+                n(vt),
+                n(vh),
+                n(OUTPUT_ON_OHM),
+                n(OUTPUT_OFF_OHM)
+            );
+            let _ = writeln!(
+                models,
+                ".model SW{u}F SW(VT={} VH={} RON={} ROFF={})",
+                n(-vt),
+                n(vh),
+                n(OUTPUT_ON_OHM),
+                n(OUTPUT_OFF_OHM)
+            );
         }
         ActiveDevice::Npn { designator, collector, base, emitter, model } => {
-            let _ = writeln!(o, "* {designator}: NPN, SPICE bipolar model with IS, BF and BR only (transport Ebers-Moll);");
+            let _ =
+                writeln!(o, "* {designator}: NPN, SPICE bipolar model with IS, BF and BR only (transport Ebers-Moll);");
             let _ = writeln!(o, "* the hand analysis assumed VBE = {} V.", human(model.vbe_v));
             let _ = writeln!(o, "{designator} {collector} {base} {emitter} QNPN");
             if !models.contains(".model QNPN") {
                 let celsius = model.temperature_k - 273.15;
-                let _ = writeln!(models, "* IS is entered at the junction temperature: TNOM = TEMP so SPICE does not rescale it.");
+                let _ = writeln!(
+                    models,
+                    "* IS is entered at the junction temperature: TNOM = TEMP so SPICE does not rescale it."
+                );
                 let _ = writeln!(models, ".options TNOM={}", fmt6(celsius));
                 let _ = writeln!(models, ".temp {}", fmt6(celsius));
-                let _ = writeln!(models, ".model QNPN NPN(IS={} BF={} BR={})", n(model.saturation_current_a), n(model.beta_f), n(model.beta_r));
+                let _ = writeln!(
+                    models,
+                    ".model QNPN NPN(IS={} BF={} BR={})",
+                    n(model.saturation_current_a),
+                    n(model.beta_f),
+                    n(model.beta_r)
+                );
             }
         }
     }
@@ -252,7 +354,11 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
 /// The on-resistance used for an open-drain output: RDS(on), or 1 mΩ for an ideal switch
 /// (SPICE's switch needs a resistance above zero).
 fn on_ohm(sink_resistance_ohm: f64) -> f64 {
-    if sink_resistance_ohm > 0.0 { sink_resistance_ohm } else { 1e-3 }
+    if sink_resistance_ohm > 0.0 {
+        sink_resistance_ohm
+    } else {
+        1e-3
+    }
 }
 
 #[cfg(test)]

@@ -36,10 +36,20 @@ pub fn variety() -> Vec<(String, Topology)> {
     v.push(("inverting split".into(), Topology::Inverting(InvertingSchmitt::split_supply(10e3, 47e3, split))));
     v.push((
         "inverting fixed".into(),
-        Topology::Inverting(InvertingSchmitt { ra_ohm: None, rail_b: Rail::Fixed(1.2), ..InvertingSchmitt::single_supply(1.0, 10e3, 47e3, real) }),
+        Topology::Inverting(InvertingSchmitt {
+            ra_ohm: None,
+            rail_b: Rail::Fixed(1.2),
+            ..InvertingSchmitt::single_supply(1.0, 10e3, 47e3, real)
+        }),
     ));
-    v.push(("non-inverting fixed".into(), Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, real))));
-    v.push(("non-inverting split".into(), Topology::NonInverting(NonInvertingSchmitt::with_divider(10e3, 100e3, 33e3, 47e3, split))));
+    v.push((
+        "non-inverting fixed".into(),
+        Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, real)),
+    ));
+    v.push((
+        "non-inverting split".into(),
+        Topology::NonInverting(NonInvertingSchmitt::with_divider(10e3, 100e3, 33e3, 47e3, split)),
+    ));
     v.push((
         "open-drain non-inverting".into(),
         Topology::OpenDrain(OpenDrainSchmitt {
@@ -51,7 +61,11 @@ pub fn variety() -> Vec<(String, Topology)> {
     ));
     v.push((
         "plain inverting".into(),
-        Topology::Plain(PlainComparator { sense: hysteron_core::analysis::Sense::Inverting, reference: Reference::divider(10e3, 15e3), device: real }),
+        Topology::Plain(PlainComparator {
+            sense: hysteron_core::analysis::Sense::Inverting,
+            reference: Reference::divider(10e3, 15e3),
+            device: real,
+        }),
     ));
     let mut mon = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, real);
     mon.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 0.3 };
@@ -62,7 +76,11 @@ pub fn variety() -> Vec<(String, Topology)> {
     v.push(("cmos".into(), Topology::CmosBuffer(CmosBufferSchmitt::new(10e3, 47e3, gate))));
     v.push((
         "cmos r3".into(),
-        Topology::CmosBuffer(CmosBufferSchmitt { r3_ohm: Some(82e3), r3_rail: BiasRail::Supply, ..CmosBufferSchmitt::new(10e3, 47e3, gate) }),
+        Topology::CmosBuffer(CmosBufferSchmitt {
+            r3_ohm: Some(82e3),
+            r3_rail: BiasRail::Supply,
+            ..CmosBufferSchmitt::new(10e3, 47e3, gate)
+        }),
     ));
     v.push(("gate bare".into(), Topology::SchmittGate(SchmittGate::bare(SchmittInput::default()))));
     v.push((
@@ -76,7 +94,10 @@ pub fn variety() -> Vec<(String, Topology)> {
     ));
     v.push((
         "bjt".into(),
-        Topology::BjtPair(EmitterCoupledSchmitt { load_ohm: Some(10e3), ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) }),
+        Topology::BjtPair(EmitterCoupledSchmitt {
+            load_ohm: Some(10e3),
+            ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3)
+        }),
     ));
     v
 }

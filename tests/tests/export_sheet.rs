@@ -32,7 +32,10 @@ fn parse_rkm(code: &str) -> Option<f64> {
         'G' => 1e9,
         _ => 1e12,
     };
-    let number: f64 = format!("{}.{}", if int.is_empty() { "0" } else { int }, if frac.is_empty() { "0" } else { frac }).parse().ok()?;
+    let number: f64 =
+        format!("{}.{}", if int.is_empty() { "0" } else { int }, if frac.is_empty() { "0" } else { frac })
+            .parse()
+            .ok()?;
     Some(number * mult)
 }
 
@@ -70,7 +73,11 @@ fn every_schematic_is_xml_with_every_designator_and_value() {
                 match style {
                     SymbolStyle::Iec60617 => {
                         let ohm = parse_rkm(value).unwrap_or_else(|| panic!("{key}: {value} is not an RKM code"));
-                        assert!((ohm - p.value).abs() <= 5e-4 * p.value, "{key}: {d} drawn as {value}, part {}", p.value);
+                        assert!(
+                            (ohm - p.value).abs() <= 5e-4 * p.value,
+                            "{key}: {d} drawn as {value}, part {}",
+                            p.value
+                        );
                     }
                     SymbolStyle::Ieee315 => assert_eq!(value, &engineering_ohms(p.value), "{key}: {d}"),
                 }
@@ -78,7 +85,10 @@ fn every_schematic_is_xml_with_every_designator_and_value() {
             for d in &devices {
                 assert!(t.contains(d), "{key} {style:?}: {d} not drawn");
             }
-            assert!(t.iter().any(|x| x == "IN") && t.iter().any(|x| x == "OUT"), "{key}: input or output label missing");
+            assert!(
+                t.iter().any(|x| x == "IN") && t.iter().any(|x| x == "OUT"),
+                "{key}: input or output label missing"
+            );
         }
     }
 }
@@ -103,7 +113,11 @@ fn markup_in_the_design_name_stays_text() {
 #[test]
 fn bench_readings_are_the_analysis_thresholds_for_every_design() {
     for (key, c) in variety() {
-        let checks = hysteron_core::analysis::CheckSettings { supply_min_v: Some(c.supply_v() * 0.95), supply_max_v: Some(c.supply_v() * 1.05), ..Default::default() };
+        let checks = hysteron_core::analysis::CheckSettings {
+            supply_min_v: Some(c.supply_v() * 0.95),
+            supply_max_v: Some(c.supply_v() * 1.05),
+            ..Default::default()
+        };
         let a = analyse(&c, &checks).unwrap();
         let p = bench_procedure(&c, &checks, &ThresholdBounds::default()).unwrap();
         assert_eq!(p.readings.len(), 6, "{key}: nominal and both supply ends");
@@ -115,10 +129,22 @@ fn bench_readings_are_the_analysis_thresholds_for_every_design() {
         }
         // The ramp covers both thresholds at every supply, and the step resolves the hysteresis.
         for r in &p.readings {
-            assert!(p.ramp_low_v < r.nominal_v && r.nominal_v < p.ramp_high_v, "{key}: {} outside the ramp", r.nominal_v);
+            assert!(
+                p.ramp_low_v < r.nominal_v && r.nominal_v < p.ramp_high_v,
+                "{key}: {} outside the ramp",
+                r.nominal_v
+            );
         }
-        assert!(p.step_v <= a.hysteresis_v.abs().max(1e-4) / 10.0, "{key}: step {} for ΔV {}", p.step_v, a.hysteresis_v);
+        assert!(
+            p.step_v <= a.hysteresis_v.abs().max(1e-4) / 10.0,
+            "{key}: step {} for ΔV {}",
+            p.step_v,
+            a.hysteresis_v
+        );
         let text = p.to_text();
-        assert!(text.contains(&format!("{:.3} V", a.vt_upper_v)) && text.contains(&format!("{:.3} V", a.vt_lower_v)), "{key}");
+        assert!(
+            text.contains(&format!("{:.3} V", a.vt_upper_v)) && text.contains(&format!("{:.3} V", a.vt_lower_v)),
+            "{key}"
+        );
     }
 }

@@ -12,7 +12,9 @@
 use base64::Engine as _;
 use hysteron_core::catalog;
 use hysteron_core::record::DesignRecord;
-use hysteron_core::share::{base64url_decode, base64url_encode, crc32, decode_link, encode_link, LinkError, LINK_PREFIX};
+use hysteron_core::share::{
+    base64url_decode, base64url_encode, crc32, decode_link, encode_link, LinkError, LINK_PREFIX,
+};
 use proptest::prelude::*;
 use serde_json::Value;
 
@@ -28,7 +30,8 @@ fn fixture_records() -> Vec<DesignRecord> {
 }
 
 fn seeds() -> Vec<DesignRecord> {
-    let mut v: Vec<DesignRecord> = catalog::templates().into_iter().chain(catalog::demos()).map(|s| s.record()).collect();
+    let mut v: Vec<DesignRecord> =
+        catalog::templates().into_iter().chain(catalog::demos()).map(|s| s.record()).collect();
     v.extend(fixture_records());
     v
 }
@@ -203,7 +206,9 @@ fn golden_links_of_link_version_1_keep_opening() {
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures");
     for name in ["non_inverting", "open_drain", "plain_comparator", "supply_monitor"] {
         let link = std::fs::read_to_string(dir.join(format!("links/{name}.h1.txt"))).unwrap();
-        let expected = DesignRecord::from_json(&std::fs::read_to_string(dir.join(format!("records/{name}.json"))).unwrap()).unwrap();
+        let expected =
+            DesignRecord::from_json(&std::fs::read_to_string(dir.join(format!("records/{name}.json"))).unwrap())
+                .unwrap();
         assert_eq!(decode_link(&link), Ok(expected), "{name}");
     }
 }

@@ -149,7 +149,10 @@ fn parse_deck(text: &str) -> Deck {
                 ".model" => {
                     if f[2] == "sw" {
                         let get = |key: &str| {
-                            f.iter().position(|x| *x == key).and_then(|k| parse_value(f[k + 1])).unwrap_or_else(|| panic!("{key} missing in {line}"))
+                            f.iter()
+                                .position(|x| *x == key)
+                                .and_then(|k| parse_value(f[k + 1]))
+                                .unwrap_or_else(|| panic!("{key} missing in {line}"))
                         };
                         deck.switch_models.insert(f[1].into(), (get("vt"), get("vh"), get("ron"), get("roff")));
                     }
