@@ -66,6 +66,25 @@ pub struct Evaluation {
     pub bom: Option<Bom>,
     /// Best standard-value combinations for the targets, when the record has targets and search settings.
     pub search: Option<SearchReport>,
+    /// The share link, SPICE deck and bench procedure of the design as entered (see [`Exports`]).
+    #[serde(default)]
+    pub exports: Option<Exports>,
+}
+
+/// The shareable and printable forms of a design, computed with every evaluation.
+///
+/// The SVG schematic is not included: it is several kilobytes per style and the page draws it on
+/// demand with [`crate::schematic::render_svg`]; the command-line output stays small.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Exports {
+    /// The share-link fragment payload (`h1.…`, put after `#`), see [`crate::share`].
+    pub link: String,
+    /// The SPICE3 netlist, see [`crate::spice`]; `None` when the circuit cannot be exported
+    /// (the reason is in `errors` under the study "exports").
+    pub spice: Option<String>,
+    /// The bench test procedure, see [`crate::bench`]; `None` when the thresholds cannot be
+    /// computed (the reason is in `errors`). Bands are empty until the tolerance study provides them.
+    pub bench: Option<crate::bench::BenchProcedure>,
 }
 
 /// Thresholds of a circuit, validated first. The fast path for the page.
@@ -151,6 +170,28 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
         _ => None,
     };
+    // The deck and the bench sheet need a working analysis; when it failed, its error already
+    // says why and only the link (which carries inputs, not results) is produced.
+    let exports = {
+        let (spice, bench) = match &analysis {
+            Some(a) => (
+                crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
+                Some(crate::bench::bench_procedure_from(
+                    &record.circuit,
+                    a,
+                    &record.checks,
+                    &tolerance.as_ref().map_or_else(crate::bench::ThresholdBounds::default, |t| {
+                        crate::bench::ThresholdBounds {
+                            vt_upper_v: Some((t.worst_case.vt_upper.min.value_v, t.worst_case.vt_upper.max.value_v)),
+                            vt_lower_v: Some((t.worst_case.vt_lower.min.value_v, t.worst_case.vt_lower.max.value_v)),
+                        }
+                    }),
+                )),
+            ),
+            None => (None, None),
+        };
+        Some(Exports { link: crate::share::encode_link(record), spice, bench })
+    };
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -163,6 +204,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         application,
         bom,
         search,
+        exports,
     }
 }
 
@@ -225,5 +267,25 @@ mod tests {
     #[test]
     fn not_json_fails_whole() {
         assert!(evaluate_json("nope").is_err());
+    }
+
+    #[test]
+    fn exports_carry_a_link_back_to_the_record_a_deck_and_a_bench_sheet() {
+        let r = crate::catalog::templates()[0].record();
+        let e = evaluate(&r);
+        let x = e.exports.unwrap();
+        assert_eq!(crate::share::decode_link(&x.link).unwrap(), r);
+        assert!(x.spice.unwrap().ends_with(".end\n"));
+        assert_eq!(x.bench.unwrap().readings[0].nominal_v, e.analysis.unwrap().vt_upper_v);
+        // A broken circuit: the analysis error is reported once, the link still made.
+        let mut bad = r.clone();
+        if let Topology::Inverting(c) = &mut bad.circuit {
+            c.rf_ohm = -1.0;
+        }
+        let e = evaluate(&bad);
+        let x = e.exports.unwrap();
+        assert!(x.spice.is_none() && x.bench.is_none());
+        assert_eq!(e.errors.len(), 1);
+        assert!(crate::share::decode_link(&x.link).is_ok());
     }
 }

@@ -29,3 +29,8 @@ pub mod eseries;
 pub mod notation;
 pub mod search;
 pub mod bom;
+pub mod share;
+pub mod netlist;
+pub mod spice;
+pub mod schematic;
+pub mod bench;

@@ -6,3 +6,4 @@
 
 pub mod browser;
 pub mod server;
+pub mod designs;

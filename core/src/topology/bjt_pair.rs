@@ -1353,3 +1353,48 @@ mod tests {
         }
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for EmitterCoupledSchmitt {
+    /// Q1 (base = input, collector `c1` through RC1), R1 from `c1` to Q2's base `b2`, R2 from `b2`
+    /// to 0 V, Q2 (collector = output through RC2), shared emitter `e` through RE; an optional
+    /// external load from the output to 0 V (not a part of the part list).
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{
+            input_centre_v, ActiveDevice, NetBuilder, NpnModel, ResistorRole, GROUND, INPUT_NET, OUTPUT_NET,
+        };
+        let mut b = NetBuilder::new("bjt_pair", self);
+        let vcc = b.supply(self.supply_v, "VCC");
+        b.input(input_centre_v(self, (0.0, self.supply_v)), 0.0, "IN");
+        b.part("r1_ohm", "c1", "b2", self.r1_ohm);
+        b.part("r2_ohm", "b2", GROUND, self.r2_ohm);
+        b.part("rc1_ohm", &vcc, "c1", self.rc1_ohm);
+        b.part("rc2_ohm", &vcc, OUTPUT_NET, self.rc2_ohm);
+        b.part("re_ohm", "e", GROUND, self.re_ohm);
+        if let Some(rl) = self.load_ohm {
+            b.resistor("RLOAD".into(), OUTPUT_NET, GROUND, rl, ResistorRole::Load);
+        }
+        let t = &self.transistor;
+        let model = NpnModel {
+            saturation_current_a: t.saturation_current_a,
+            beta_f: t.beta_f,
+            beta_r: t.beta_r,
+            temperature_k: t.temperature_k,
+            vbe_v: t.vbe_v,
+        };
+        let q = |designator: &str, collector: &str, base: &str| ActiveDevice::Npn {
+            designator: designator.into(),
+            collector: collector.into(),
+            base: base.into(),
+            emitter: "e".into(),
+            model,
+        };
+        b.device(q("Q1", "c1", INPUT_NET));
+        b.device(q("Q2", OUTPUT_NET, "b2"));
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::bjt_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

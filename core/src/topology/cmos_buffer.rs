@@ -593,3 +593,41 @@ mod tests {
         assert!((fixed.with_supply(4.5).gate.switching_point_v() - 2.5).abs() < 1e-15);
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for CmosBufferSchmitt {
+    /// R1 from the input to node `x` (the buffer's input), R2 from the output to `x`, optional R3
+    /// from `x` to its rail; the buffer U1 switches at VM.
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{input_centre_v, ActiveDevice, GateThreshold, NetBuilder, GROUND, INPUT_NET, OUTPUT_NET};
+        let g = &self.gate;
+        let mut b = NetBuilder::new("cmos_buffer", self);
+        let vdd = b.supply(g.supply_v, "VDD");
+        b.input(input_centre_v(self, (0.0, g.supply_v)), 0.0, "IN");
+        b.part("r1_ohm", INPUT_NET, "x", self.r1_ohm);
+        b.part("r2_ohm", OUTPUT_NET, "x", self.r2_ohm);
+        if let Some(r3) = self.r3_ohm {
+            let rail = match self.r3_rail {
+                BiasRail::Ground => GROUND.to_string(),
+                BiasRail::Supply => vdd.clone(),
+            };
+            b.part("r3_ohm", "x", &rail, r3);
+        }
+        b.device(ActiveDevice::LogicGate {
+            designator: "U1".into(),
+            input: "x".into(),
+            output: OUTPUT_NET.into(),
+            supply: vdd,
+            ground: GROUND.into(),
+            threshold: GateThreshold::Single { switching_v: g.switching_point_v() },
+            inverting: false,
+            output_high_v: g.output_high_v(),
+            output_low_v: g.output_low_v,
+        });
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

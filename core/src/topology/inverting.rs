@@ -492,3 +492,31 @@ mod tests {
         assert!(c.with_parameters(&p[1..]).is_err());
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for InvertingSchmitt {
+    /// Signal on (−); node `p` on (+) with Ra to rail A, Rb to rail B and Rf from the output.
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{input_centre_v, NetBuilder, SourceRole, INPUT_NET, OUTPUT_NET};
+        let d = &self.device;
+        let mut b = NetBuilder::new("inverting", self);
+        let vcc = b.supply(d.supply_v, "VCC");
+        let vee = b.negative(d.negative_rail_v);
+        b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
+        if let Some(r) = self.ra_ohm {
+            let n = b.rail(self.rail_a, d.supply_v, d.negative_rail_v, "VRA", "rail_a", SourceRole::Reference);
+            b.part("ra_ohm", &n, "p", r);
+        }
+        if let Some(r) = self.rb_ohm {
+            let n = b.rail(self.rail_b, d.supply_v, d.negative_rail_v, "VRB", "rail_b", SourceRole::Reference);
+            b.part("rb_ohm", "p", &n, r);
+        }
+        b.part("rf_ohm", OUTPUT_NET, "p", self.rf_ohm);
+        b.comparator(d, "p", INPUT_NET, &vcc, &vee, false, 0.0);
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

@@ -828,3 +828,25 @@ mod tests {
         assert_eq!(quadratic_roots(0.0, 2.0, -1.0)[0], Some(0.5));
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for NonInvertingSchmitt {
+    /// Signal through R1 to node `p` on (+), R2 from the output to `p`, the reference on (−).
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{input_centre_v, reference_network, NetBuilder, INPUT_NET, OUTPUT_NET};
+        let d = &self.device;
+        let mut b = NetBuilder::new("non_inverting", self);
+        let vcc = b.supply(d.supply_v, "VCC");
+        let vee = b.negative(d.negative_rail_v);
+        b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
+        b.part("r1_ohm", INPUT_NET, "p", self.r1_ohm);
+        b.part("r2_ohm", OUTPUT_NET, "p", self.r2_ohm);
+        let n = reference_network(&mut b, &self.reference, d, "n");
+        b.comparator(d, "p", &n, &vcc, &vee, false, 0.0);
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

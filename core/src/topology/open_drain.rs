@@ -891,3 +891,49 @@ mod tests {
         assert_eq!(i.with_parameters(&v).unwrap(), i);
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for OpenDrainSchmitt {
+    /// The inverting or non-inverting network of the push-pull forms, plus the pull-up Rpu to its
+    /// rail, the optional load RL and an output that only pulls low (through RDS(on)).
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{input_centre_v, reference_network, NetBuilder, SourceRole, GROUND, INPUT_NET, OUTPUT_NET};
+        let d = &self.device;
+        let (vs, vn) = (d.supply_v, d.negative_rail_v);
+        let mut b = NetBuilder::new("open_drain", self);
+        let vcc = b.supply(vs, "VCC");
+        let vee = b.negative(vn);
+        b.input(input_centre_v(self, (vn, vs)), d.source_resistance_ohm, "IN");
+        let (plus, minus) = match self.polarity {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
+                if let Some(r) = ra_ohm {
+                    let n = b.rail(rail_a, vs, vn, "VRA", "rail_a", SourceRole::Reference);
+                    b.part("ra_ohm", &n, "p", r);
+                }
+                if let Some(r) = rb_ohm {
+                    let n = b.rail(rail_b, vs, vn, "VRB", "rail_b", SourceRole::Reference);
+                    b.part("rb_ohm", "p", &n, r);
+                }
+                b.part("rf_ohm", OUTPUT_NET, "p", rf_ohm);
+                ("p".to_string(), INPUT_NET.to_string())
+            }
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
+                b.part("r1_ohm", INPUT_NET, "p", r1_ohm);
+                b.part("r2_ohm", OUTPUT_NET, "p", r2_ohm);
+                let n = reference_network(&mut b, &reference, d, "n");
+                ("p".to_string(), n)
+            }
+        };
+        let pu = b.rail(self.pullup_rail, vs, vn, "VPU", "pu", SourceRole::PullupRail);
+        b.part("rpu_ohm", &pu, OUTPUT_NET, self.rpu_ohm);
+        if let Some(rl) = self.rl_ohm {
+            b.part("rl_ohm", OUTPUT_NET, GROUND, rl);
+        }
+        b.comparator(d, &plus, &minus, &vcc, &vee, true, self.sink_resistance_ohm);
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

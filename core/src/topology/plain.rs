@@ -338,3 +338,26 @@ mod tests {
         assert_eq!(direct.with_parameters(&v).unwrap(), direct);
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for PlainComparator {
+    /// The signal straight on one input, the reference (rail, source or divider) on the other.
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{input_centre_v, reference_network, NetBuilder, INPUT_NET};
+        let d = &self.device;
+        let mut b = NetBuilder::new("plain_comparator", self);
+        let vcc = b.supply(d.supply_v, "VCC");
+        let vee = b.negative(d.negative_rail_v);
+        b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
+        let (plus, minus) = match self.sense {
+            Sense::NonInverting => (INPUT_NET.to_string(), reference_network(&mut b, &self.reference, d, "n")),
+            Sense::Inverting => (reference_network(&mut b, &self.reference, d, "p"), INPUT_NET.to_string()),
+        };
+        b.comparator(d, &plus, &minus, &vcc, &vee, false, 0.0);
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

@@ -562,3 +562,45 @@ mod tests {
         assert!(analyse(&hot, &s).is_ok());
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for SchmittGate {
+    /// Optional Ra from the input to node `x`, Rb from `x` to 0 V, Rc from `x` to VDD; the
+    /// Schmitt-input gate U1 on `x` (on the input directly when Ra is not fitted).
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{input_centre_v, ActiveDevice, GateThreshold, NetBuilder, GROUND, INPUT_NET, OUTPUT_NET};
+        let g = &self.gate;
+        let mut b = NetBuilder::new("schmitt_gate", self);
+        let vdd = b.supply(g.supply_v, "VDD");
+        b.input(input_centre_v(self, (0.0, g.supply_v)), 0.0, "IN");
+        let x = match self.ra_ohm {
+            Some(ra) => {
+                b.part("ra_ohm", INPUT_NET, "x", ra);
+                "x"
+            }
+            None => INPUT_NET,
+        };
+        if let Some(rb) = self.rb_ohm {
+            b.part("rb_ohm", x, GROUND, rb);
+        }
+        if let Some(rc) = self.rc_ohm {
+            b.part("rc_ohm", x, &vdd, rc);
+        }
+        b.device(ActiveDevice::LogicGate {
+            designator: "U1".into(),
+            input: x.into(),
+            output: OUTPUT_NET.into(),
+            supply: vdd,
+            ground: GROUND.into(),
+            threshold: GateThreshold::Schmitt { upper_v: g.vt_upper.typ_v, lower_v: g.vt_lower.typ_v },
+            inverting: g.inverting,
+            output_high_v: g.output_high_v(),
+            output_low_v: g.output_low_v,
+        });
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}

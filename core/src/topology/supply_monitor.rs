@@ -657,3 +657,46 @@ mod tests {
         assert!(s.with_supply(4.5).thresholds().unwrap().vt_lower_v > s.thresholds().unwrap().vt_lower_v);
     }
 }
+
+#[allow(clippy::items_after_test_module)]
+impl crate::netlist::Netlisted for SupplyMonitor {
+    /// The monitored rail is the input source VIN (its source resistance as RS); Rtop from it to
+    /// node `p` on (+), Rbot to 0 V, Rh from the output; VREF on (−). A comparator supplied from the
+    /// monitored rail gets its supply through the dropout source VDROP.
+    fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{
+            input_centre_v, volts_text, NetBuilder, SourceRole, GROUND, INPUT_NET, OUTPUT_NET, SOURCE_NET,
+        };
+        let d = &self.device;
+        let (vs, vn) = (d.supply_v, d.negative_rail_v);
+        let mut b = NetBuilder::new("supply_monitor", self);
+        b.input(input_centre_v(self, (vn, vs)), d.source_resistance_ohm, "IN");
+        let positive = match self.comparator_supply {
+            MonitorSupply::Separate => b.supply(vs, "VCC"),
+            MonitorSupply::FromMonitoredRail { dropout_v } => {
+                let rail = if d.source_resistance_ohm > 0.0 { SOURCE_NET } else { INPUT_NET };
+                b.source_between("VDROP", rail, "vcc_u1", dropout_v, SourceRole::Dropout, format!("IN − {}", volts_text(dropout_v)));
+                "vcc_u1".to_string()
+            }
+        };
+        let vee = b.negative(vn);
+        b.part("rtop_ohm", INPUT_NET, "p", self.rtop_ohm);
+        b.part("rbot_ohm", "p", GROUND, self.rbot_ohm);
+        b.part("rh_ohm", OUTPUT_NET, "p", self.rh_ohm);
+        let vref = b.rail(Rail::Fixed(self.vref_v), vs, vn, "VREF", "ref", SourceRole::Reference);
+        let open_drain = match self.output {
+            MonitorOutput::OpenDrain { rpu_ohm, pullup_rail } => {
+                let pu = b.rail(pullup_rail, vs, vn, "VPU", "pu", SourceRole::PullupRail);
+                b.part("rpu_ohm", &pu, OUTPUT_NET, rpu_ohm);
+                true
+            }
+            MonitorOutput::PushPull => false,
+        };
+        b.comparator(d, "p", &vref, &positive, &vee, open_drain, 0.0);
+        b.finish()
+    }
+
+    fn schematic(&self) -> crate::schematic::SchematicLayout {
+        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}
