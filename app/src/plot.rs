@@ -37,7 +37,24 @@ fn err<E: std::fmt::Display>(e: E) -> String {
 pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Result<(), String> {
     let dpr = fit_canvas(canvas);
     let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
-    let root = backend.into_drawing_area();
+    transfer_on(backend.into_drawing_area(), curve, dpr)
+}
+
+/// The transfer curve as an SVG document (for the file export), 720 × 400 px.
+pub fn transfer_svg(curve: &TransferCurve) -> Result<String, String> {
+    let mut out = String::new();
+    {
+        let backend = plotters::backend::SVGBackend::with_string(&mut out, (720, 400));
+        transfer_on(backend.into_drawing_area(), curve, 1.0)?;
+    }
+    Ok(out)
+}
+
+fn transfer_on<DB: DrawingBackend>(
+    root: DrawingArea<DB, plotters::coord::Shift>,
+    curve: &TransferCurve,
+    dpr: f64,
+) -> Result<(), String> {
     root.fill(&WHITE).map_err(err)?;
     let xs = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vin_v);
     let ys = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vout_v);
@@ -69,7 +86,7 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
         .draw()
         .map_err(err)?;
     let stroke = (2.0 * dpr) as u32;
-    for (vt, name) in [(curve.vt_upper_v, "VT+"), (curve.vt_lower_v, "VT−")] {
+    for (vt, name, dy) in [(curve.vt_upper_v, "VT+", 0.4), (curve.vt_lower_v, "VT−", 1.4)] {
         chart
             .draw_series(DashedLineSeries::new(
                 vec![(vt, y0), (vt, y1)],
@@ -81,7 +98,7 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
         chart
             .draw_series(std::iter::once(Text::new(
                 format!("{name} {vt:.3} V"),
-                (vt, y1 - py * 0.4),
+                (vt, y1 - py * dy),
                 ("sans-serif", font).into_font().color(&colours::INK),
             )))
             .map_err(err)?;
@@ -89,12 +106,14 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
     for (branch, colour) in [(&curve.rising, colours::RISING), (&curve.falling, colours::FALLING)] {
         let pts: Vec<(f64, f64)> = branch.iter().map(|p| (p.vin_v, p.vout_v)).collect();
         chart.draw_series(LineSeries::new(pts.clone(), colour.stroke_width(stroke))).map_err(err)?;
-        // Direction marks: a filled triangle in the middle of each horizontal run, pointing the way
-        // the input moves on this branch.
+        // Direction marks: a filled triangle on each horizontal run, pointing the way the input
+        // moves on this branch (rising branch at one third, falling at two thirds, so they never overlap).
+        let at = if std::ptr::eq(branch, &curve.rising) { 0.33 } else { 0.67 };
         for w in pts.windows(2) {
             let ((xa, ya), (xb, yb)) = (w[0], w[1]);
             if (ya - yb).abs() < 1e-12 && (xb - xa).abs() > 1e-12 {
-                let xm = 0.5 * (xa + xb);
+                let (lo, hi) = (xa.min(xb), xa.max(xb));
+                let xm = lo + (hi - lo) * at;
                 let dir = (xb - xa).signum();
                 let dx = (x1 - x0) * 0.018 * dir;
                 let dy = (y1 - y0) * 0.035;

@@ -6,6 +6,8 @@
 //!
 //! Each step prints what it checks and what it installs.
 
+mod csp;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode};
 
@@ -23,6 +25,7 @@ fn main() -> ExitCode {
         Some("test") => test(&root, &args[1..]),
         Some("build") => setup_build_tools(&root).and_then(|_| build_page(&root)),
         Some("setup") => setup_build_tools(&root).and_then(|_| setup_browser()),
+        Some("csp") => csp::write_policy(),
         _ => {
             eprintln!("usage: cargo xtask <serve|test|build|setup>");
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");

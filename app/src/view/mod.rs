@@ -2,8 +2,10 @@
 
 mod circuit;
 mod notebook;
-mod partlist;
+pub mod partlist;
 mod parts;
+mod share;
+mod sheet;
 mod purpose;
 mod results;
 mod signal;
@@ -19,6 +21,8 @@ use state::Notebook;
 pub fn App() -> impl IntoView {
     let nb = Notebook::load();
     provide_context(nb);
+    provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
+    let incoming = RwSignal::new(share::incoming());
     // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) step the open design's edits back and forward.
     let keys = window_event_listener(leptos::ev::keydown, move |ev| {
         let ctrl = ev.ctrl_key() || ev.meta_key();
@@ -47,11 +51,12 @@ pub fn App() -> impl IntoView {
             <p class="tagline">"Two-threshold switching circuits, designed and checked"</p>
         </header>
         {move || nb.banner.get().map(|b| view! { <div class="banner" role="status" id="storage-banner">{b}</div> })}
+        <share::SharedDesign incoming />
         <div class="layout">
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <partlist::PartListSection /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <partlist::PartListSection /> <share::ShareSection /> <sheet::DesignSheet /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}
