@@ -23,6 +23,8 @@ pub fn App() -> impl IntoView {
     provide_context(nb);
     provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
     let incoming = RwSignal::new(share::incoming());
+    // A link pasted into this tab changes only the fragment: read it again.
+    let hash = window_event_listener_untyped("hashchange", move |_| incoming.set(share::incoming()));
     // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) step the open design's edits back and forward.
     let keys = window_event_listener(leptos::ev::keydown, move |ev| {
         let ctrl = ev.ctrl_key() || ev.meta_key();
@@ -43,6 +45,7 @@ pub fn App() -> impl IntoView {
     });
     on_cleanup(move || {
         keys.remove();
+        hash.remove();
         storage.remove();
     });
     view! {
