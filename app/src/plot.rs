@@ -40,6 +40,15 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
     transfer_on(backend.into_drawing_area(), curve, dpr)
 }
 
+/// Draws the transfer curve into a canvas of a fixed backing size (for the print sheet, whose
+/// canvas has no on-screen size to measure); `scale` multiplies line widths and fonts.
+pub fn draw_transfer_fixed(canvas: &HtmlCanvasElement, curve: &TransferCurve, width: u32, height: u32, scale: f64) -> Result<(), String> {
+    canvas.set_width(width);
+    canvas.set_height(height);
+    let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
+    transfer_on(backend.into_drawing_area(), curve, scale)
+}
+
 /// The transfer curve as an SVG document (for the file export), 720 × 400 px.
 pub fn transfer_svg(curve: &TransferCurve) -> Result<String, String> {
     let mut out = String::new();

@@ -59,7 +59,7 @@ pub fn DesignSheet() -> impl IntoView {
             transfer_curve(&r.circuit, t.vt_lower_v - span, t.vt_upper_v + span).ok()
         });
         if let (Some(Some(c)), Some(el)) = (curve, canvas.get()) {
-            let _ = plot::draw_transfer(&el, &c);
+            let _ = plot::draw_transfer_fixed(&el, &c, 1000, 420, 2.0);
         }
     });
     let today = String::from(js_sys::Date::new_0().to_iso_string()).chars().take(10).collect::<String>();
