@@ -16,4 +16,8 @@ pub mod view;
 pub fn start() {
     panic::install();
     leptos::mount::mount_to_body(view::App);
+    // Lets browser timing runs read how long loading took (performance.getEntriesByName).
+    if let Some(p) = web_sys::window().and_then(|w| w.performance()) {
+        let _ = p.mark("hysteron-mounted");
+    }
 }

@@ -109,6 +109,7 @@ pub fn SignalSection() -> impl IntoView {
     let run = RwSignal::new(None::<Result<std::sync::Arc<SignalRun>, String>>);
     let list_error = RwSignal::new(None::<String>);
     let view_window = RwSignal::new((0.0_f64, 0.0_f64));
+    let elapsed = RwSignal::new(None::<(usize, f64)>);
     let components = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.components)).unwrap_or_default());
     let noise = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.noise)).unwrap_or_default());
     let write_components = Callback::new(move |v: Vec<serde_json::Value>| {
@@ -142,7 +143,7 @@ pub fn SignalSection() -> impl IntoView {
             let n = r.signal_v.len();
             let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
             view_window.set((a, b));
-            web_sys::console::log_1(&format!("signal test: {n} samples in {:.1} ms", crate::tick::now_ms() - t0).into());
+            elapsed.set(Some((n, crate::tick::now_ms() - t0)));
         }
         run.set(Some(result));
     };
@@ -310,6 +311,7 @@ pub fn SignalSection() -> impl IntoView {
                                 sw.baseline_fails_at_rms_v.map(|v| format!("{:.2} mV RMS", v * 1e3)).unwrap_or_else(|| "no level swept".into()))}</p>
                         })}
                         {rep.notes.iter().map(|n| view! { <p class="note">{n.clone()}</p> }).collect_view()}
+                        {move || elapsed.get().map(|(n, ms)| view! { <p class="note" id="signal-time" data-ms=ms.to_string()>{format!("{n} samples simulated in {ms:.1} ms.")}</p> })}
                     }.into_any()
                 }
             })}

@@ -1,0 +1,87 @@
+//! Timed runs in the real browser (headless Chromium), printed for the record — performance targets
+//! live here and in the criterion benchmarks, never in assertions on time. Each run also checks that
+//! the work it timed really happened.
+//!
+//! Figures printed: page load to mounted, input event to updated results (p50/p95 over 60 edits,
+//! analysis plus transfer-curve redraw), Monte Carlo 100,000 trials, the E96 three-decade search,
+//! and a 1,000,000-sample signal pass.
+
+use hysteron_tests::browser;
+use std::time::Duration;
+
+fn percentile(sorted: &[f64], p: f64) -> f64 {
+    let i = ((sorted.len() as f64 - 1.0) * p).round() as usize;
+    sorted[i.min(sorted.len() - 1)]
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn timed_runs_in_the_browser() {
+    let s = browser::start().await;
+    let mounted = s.js("const m = performance.getEntriesByName('hysteron-mounted')[0]; return m ? m.startTime : -1;").await;
+    let mounted_ms = mounted.as_f64().unwrap_or(-1.0);
+    assert!(mounted_ms > 0.0, "the page did not mark its mount");
+
+    // Input event → results updated (all effects, including the canvas redraw, have run).
+    s.wait_for("#field-rf_ohm").await;
+    let times = s
+        .client
+        .execute_async(
+            r#"const done = arguments[arguments.length - 1];
+               const el = document.querySelector('#field-rf_ohm');
+               const out = document.querySelector('#vt-upper');
+               const next = () => new Promise(r => { const c = new MessageChannel(); c.port1.onmessage = () => r(); c.port2.postMessage(0); });
+               (async () => {
+                 const t = [];
+                 for (let i = 0; i < 60; i++) {
+                   const before = out.dataset.value;
+                   const t0 = performance.now();
+                   el.value = (i % 2 ? '47k' : '22k');
+                   el.dispatchEvent(new Event('input', { bubbles: true }));
+                   await next();
+                   const t1 = performance.now();
+                   if (out.dataset.value === before) { t.push(-1); } else { t.push(t1 - t0); }
+                   await new Promise(r => setTimeout(r, 20));
+                 }
+                 done(t);
+               })();"#,
+            vec![],
+        )
+        .await
+        .expect("latency script");
+    let mut lat: Vec<f64> = times.as_array().unwrap().iter().map(|v| v.as_f64().unwrap_or(-1.0)).collect();
+    assert!(lat.iter().all(|&x| x >= 0.0), "some edits did not update the results within one task: {lat:?}");
+    lat.sort_by(|a, b| a.total_cmp(b));
+    let (p50, p95) = (percentile(&lat, 0.5), percentile(&lat, 0.95));
+
+    // Monte Carlo, 100,000 trials, in slices.
+    s.type_into("#mc-trials", "100k").await;
+    tokio::time::sleep(Duration::from_millis(200)).await;
+    s.wait_for("#mc-run").await.click().await.unwrap();
+    let summary = s.text("#mc-summary").await;
+    assert!(summary.starts_with("100000 trials"), "{summary}");
+    let mc_ms: f64 = summary.split(" in ").nth(1).and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
+
+    // E96 over 1 kΩ–1 MΩ for the three-resistor inverting form (the default range).
+    s.wait_for("#search-series").await.select_by_value("E96").await.unwrap();
+    s.wait_for("#find-parts").await.click().await.unwrap();
+    let note = s.text("#parts .note").await;
+    assert!(note.contains("E96"), "{note}");
+    let search_ms: f64 = note.rsplit('(').next().and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
+
+    // A 1,000,000-sample signal pass (generation, noise, design and baseline triggers).
+    s.wait_for("#signal-add").await.click().await.unwrap();
+    s.type_into("#sig-rate", "1M").await;
+    s.type_into("#sig-duration", "1").await;
+    tokio::time::sleep(Duration::from_millis(200)).await;
+    s.wait_for("#signal-run").await.click().await.unwrap();
+    let el = s.wait_for("#signal-time").await;
+    let signal_ms: f64 = el.attr("data-ms").await.unwrap().unwrap_or_default().parse().unwrap_or(f64::NAN);
+    let text = el.text().await.unwrap_or_default();
+    assert!(text.starts_with("1000000 samples"), "{text}");
+
+    println!(
+        "browser timing: mounted {mounted_ms:.0} ms after navigation; input→results p50 {p50:.2} ms, p95 {p95:.2} ms (60 edits); \
+         Monte Carlo 100k {mc_ms:.0} ms (sliced); E96 search {search_ms:.1} ms; 1M-sample signal {signal_ms:.0} ms"
+    );
+    s.close().await;
+}
