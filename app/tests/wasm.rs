@@ -29,6 +29,13 @@ fn random_stream_is_bit_identical_to_native() {
     assert_eq!(first, hysteron_core_fingerprint_seed0());
 }
 
+#[wasm_bindgen_test]
+fn monte_carlo_is_bit_identical_to_native() {
+    // Pinned natively in core/src/tolerance/monte_carlo.rs (`fingerprint_is_pinned`): the same
+    // seed gives the same trials, statistics and yield in the browser build.
+    assert_eq!(hysteron_core::tolerance::monte_carlo_fingerprint(7), 0x9115_18c1_41ba_0fe9);
+}
+
 /// First output of xoshiro256++ seeded with 0 through SplitMix64, as computed natively
 /// (pinned in `core/src/rng.rs` tests as well).
 fn hysteron_core_fingerprint_seed0() -> u64 {

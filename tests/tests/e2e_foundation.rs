@@ -43,6 +43,19 @@ async fn typed_parts_give_thresholds_and_persist() {
     let orange = coloured[1].as_u64().unwrap_or(0);
     assert!(blue > 200 && orange > 200, "transfer curve not drawn: {blue} blue, {orange} orange pixels");
 
+    // Editing a part redraws the curve: the VT+ line moves, so the picture changes.
+    let picture = r#"const c = document.querySelector('#transfer-plot');
+        const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+        let h = 0; for (let i = 0; i < d.length; i += 16) h = (h * 31 + d[i] + 7 * d[i + 2]) >>> 0; return h;"#;
+    let before = s.js(picture).await;
+    s.type_into("#field-rf_ohm", "47k").await;
+    let (up47, _) = closed_form(5.0, 4.7e3, 10e3, 47e3);
+    s.wait_number("#vt-upper", up47, 1e-9).await;
+    let after = s.js(picture).await;
+    assert_ne!(before, after, "the transfer curve did not change after an edit");
+    s.type_into("#field-rf_ohm", "22k").await;
+    s.wait_number("#vt-upper", up, 1e-9).await;
+
     // Junk is marked at the field and does not change the results.
     s.type_into("#field-rf_ohm", "x22").await; // invalid from the first key
     let msg = s.text("#field-rf_ohm-error").await;
