@@ -115,12 +115,12 @@ fn transfer_on<DB: DrawingBackend>(
     for (branch, colour) in [(&curve.rising, colours::RISING), (&curve.falling, colours::FALLING)] {
         let pts: Vec<(f64, f64)> = branch.iter().map(|p| (p.vin_v, p.vout_v)).collect();
         chart.draw_series(LineSeries::new(pts.clone(), colour.stroke_width(stroke))).map_err(err)?;
-        // Direction marks: a filled triangle on each horizontal run, pointing the way the input
-        // moves on this branch (rising branch at one third, falling at two thirds, so they never overlap).
-        let at = if std::ptr::eq(branch, &curve.rising) { 0.33 } else { 0.67 };
-        for w in pts.windows(2) {
-            let ((xa, ya), (xb, yb)) = (w[0], w[1]);
-            if (ya - yb).abs() < 1e-12 && (xb - xa).abs() > 1e-12 {
+        // Direction marks: a filled triangle on the branch's first horizontal run (the part of the
+        // loop only this branch traces), pointing the way the input moves.
+        let at = 0.5;
+        if let Some(w) = pts.windows(2).find(|w| (w[0].1 - w[1].1).abs() < 1e-12 && (w[1].0 - w[0].0).abs() > 1e-12) {
+            let ((xa, ya), (xb, _)) = (w[0], w[1]);
+            {
                 let (lo, hi) = (xa.min(xb), xa.max(xb));
                 let xm = lo + (hi - lo) * at;
                 let dir = (xb - xa).signum();
