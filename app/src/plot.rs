@@ -2,6 +2,7 @@
 //! screen's device-pixel ratio so lines stay crisp on high-DPI screens.
 
 use hysteron_core::topology::TransferCurve;
+use plotters::coord::ranged1d::Ranged;
 use plotters::prelude::*;
 use plotters_canvas::CanvasBackend;
 use web_sys::HtmlCanvasElement;
@@ -29,12 +30,53 @@ pub fn fit_canvas(canvas: &HtmlCanvasElement) -> f64 {
     dpr
 }
 
+/// Where a chart's data area lies on its canvas, so a pointer position can be turned back into
+/// data values (the hover readout).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct PlotFrame {
+    /// Left and right edge of the data area, canvas backing pixels.
+    pub px_x: (i32, i32),
+    /// Top and bottom edge of the data area, canvas backing pixels.
+    pub px_y: (i32, i32),
+    /// Data range along x (left, right).
+    pub x: (f64, f64),
+    /// Data range along y (bottom, top).
+    pub y: (f64, f64),
+    /// Backing pixels per CSS pixel.
+    pub dpr: f64,
+}
+
+impl PlotFrame {
+    /// The data values under a pointer at CSS-pixel offset (ox, oy) in the canvas, if inside the area.
+    pub fn value_at(&self, ox: f64, oy: f64) -> Option<(f64, f64)> {
+        let (px, py) = (ox * self.dpr, oy * self.dpr);
+        let (l, r) = (self.px_x.0 as f64, self.px_x.1 as f64);
+        let (t, b) = (self.px_y.0 as f64, self.px_y.1 as f64);
+        if !(px >= l && px <= r && py >= t && py <= b) || r <= l || b <= t {
+            return None;
+        }
+        let x = self.x.0 + (px - l) / (r - l) * (self.x.1 - self.x.0);
+        let y = self.y.1 - (py - t) / (b - t) * (self.y.1 - self.y.0);
+        Some((x, y))
+    }
+}
+
+fn frame_of<DB: DrawingBackend, X: Ranged<ValueType = f64>, Y: Ranged<ValueType = f64>>(
+    chart: &ChartContext<'_, DB, Cartesian2d<X, Y>>,
+    x: (f64, f64),
+    y: (f64, f64),
+    dpr: f64,
+) -> PlotFrame {
+    let (rx, ry) = chart.plotting_area().get_pixel_range();
+    PlotFrame { px_x: (rx.start, rx.end), px_y: (ry.start, ry.end), x, y, dpr }
+}
+
 fn err<E: std::fmt::Display>(e: E) -> String {
     format!("plot: {e}")
 }
 
 /// Draws the hysteresis loop: both branches, direction arrows, and the thresholds marked.
-pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Result<(), String> {
+pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Result<PlotFrame, String> {
     let dpr = fit_canvas(canvas);
     let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
     transfer_on(backend.into_drawing_area(), curve, dpr)
@@ -42,7 +84,7 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
 
 /// Draws the transfer curve into a canvas of a fixed backing size (for the print sheet, whose
 /// canvas has no on-screen size to measure); `scale` multiplies line widths and fonts.
-pub fn draw_transfer_fixed(canvas: &HtmlCanvasElement, curve: &TransferCurve, width: u32, height: u32, scale: f64) -> Result<(), String> {
+pub fn draw_transfer_fixed(canvas: &HtmlCanvasElement, curve: &TransferCurve, width: u32, height: u32, scale: f64) -> Result<PlotFrame, String> {
     canvas.set_width(width);
     canvas.set_height(height);
     let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
@@ -63,7 +105,7 @@ fn transfer_on<DB: DrawingBackend>(
     root: DrawingArea<DB, plotters::coord::Shift>,
     curve: &TransferCurve,
     dpr: f64,
-) -> Result<(), String> {
+) -> Result<PlotFrame, String> {
     root.fill(&WHITE).map_err(err)?;
     let xs = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vin_v);
     let ys = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vout_v);
@@ -94,6 +136,7 @@ fn transfer_on<DB: DrawingBackend>(
         .light_line_style(RGBColor(0xee, 0xee, 0xee))
         .draw()
         .map_err(err)?;
+    let frame = frame_of(&chart, (x0, x1), (y0, y1), dpr);
     let stroke = (2.0 * dpr) as u32;
     for (vt, name, dy) in [(curve.vt_upper_v, "VT+", 0.4), (curve.vt_lower_v, "VT−", 1.4)] {
         chart
@@ -136,7 +179,7 @@ fn transfer_on<DB: DrawingBackend>(
         }
     }
     root.present().map_err(err)?;
-    Ok(())
+    Ok(frame)
 }
 
 /// Draws a histogram of Monte Carlo results with the spec window's limits marked.
@@ -146,7 +189,7 @@ pub fn draw_histogram(
     x_label: &str,
     spec_min: Option<f64>,
     spec_max: Option<f64>,
-) -> Result<(), String> {
+) -> Result<PlotFrame, String> {
     let dpr = fit_canvas(canvas);
     let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
     let root = backend.into_drawing_area();
@@ -179,6 +222,7 @@ pub fn draw_histogram(
         .light_line_style(RGBColor(0xee, 0xee, 0xee))
         .draw()
         .map_err(err)?;
+    let frame = frame_of(&chart, (x0 - pad, x1 + pad), (0.0, ymax), dpr);
     chart
         .draw_series(hist.counts.iter().enumerate().map(|(i, &c)| {
             let a = hist.lower_v + i as f64 * hist.bin_width_v;
@@ -191,7 +235,7 @@ pub fn draw_histogram(
             .map_err(err)?;
     }
     root.present().map_err(err)?;
-    Ok(())
+    Ok(frame)
 }
 
 /// One trace of the time-domain view: a min/max envelope over the visible window.
@@ -215,7 +259,7 @@ pub fn draw_time(
     traces: &[Trace<'_>],
     thresholds: (f64, f64),
     marks: &[(f64, RGBColor)],
-) -> Result<(), String> {
+) -> Result<PlotFrame, String> {
     let dpr = fit_canvas(canvas);
     let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
     let root = backend.into_drawing_area();
@@ -250,6 +294,7 @@ pub fn draw_time(
         .light_line_style(RGBColor(0xee, 0xee, 0xee))
         .draw()
         .map_err(err)?;
+    let frame = frame_of(&chart, (t0, t1), (y0 - pad, y1 + pad), dpr);
     for v in [thresholds.0, thresholds.1] {
         chart
             .draw_series(DashedLineSeries::new(vec![(t0, v), (t1, v)], (5.0 * dpr) as u32, (4.0 * dpr) as u32, colours::THRESHOLD.stroke_width(dpr as u32)))
@@ -275,5 +320,5 @@ pub fn draw_time(
         }
     }
     root.present().map_err(err)?;
-    Ok(())
+    Ok(frame)
 }

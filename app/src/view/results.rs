@@ -45,12 +45,24 @@ pub fn Results() -> impl IntoView {
     };
     let canvas: NodeRef<Canvas> = NodeRef::new();
     let plot_error = RwSignal::new(None::<String>);
+    let frame = StoredValue::new(None::<plot::PlotFrame>);
+    let hover = RwSignal::new(String::new());
     Effect::new(move |_| {
         let c: Option<TransferCurve> = curve.get();
         if let (Some(el), Some(c)) = (canvas.get(), c) {
-            plot_error.set(plot::draw_transfer(&el, &c).err());
+            match plot::draw_transfer(&el, &c) {
+                Ok(f) => {
+                    frame.set_value(Some(f));
+                    plot_error.set(None);
+                }
+                Err(e) => plot_error.set(Some(e)),
+            }
         }
     });
+    let on_move = move |ev: leptos::ev::MouseEvent| {
+        let v = frame.get_value().and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
+        hover.set(v.map(|(x, y)| format!("input {x:.3} V, output {y:.3} V")).unwrap_or_default());
+    };
     let value = move |f: fn(&Analysis) -> f64| move || analysis.with(|a| a.as_ref().map(f).ok());
     let row = move |id: &'static str, label: &'static str, f: fn(&Analysis) -> f64| {
         let v = value(f);
@@ -84,7 +96,9 @@ pub fn Results() -> impl IntoView {
             </ul>
             <figure class="plot">
                 <canvas id="transfer-plot" node_ref=canvas width="640" height="360"
+                    on:mousemove=on_move on:mouseleave=move |_| hover.set(String::new())
                     role="img" aria-label="Transfer curve: output voltage against input voltage, both branches of the hysteresis loop"></canvas>
+                <output class="hover" id="transfer-hover" aria-live="off">{move || hover.get()}</output>
                 <figcaption>"Transfer curve: rising input (blue) switches at VT+, falling input (orange) at VT−."</figcaption>
                 {move || plot_error.get().map(|e| view! { <p class="error">{e}</p> })}
             </figure>

@@ -106,6 +106,7 @@ pub fn SignalSection() -> impl IntoView {
     let capture = RwSignal::new(None::<std::sync::Arc<Capture>>);
     let import_status = RwSignal::new(None::<Result<String, String>>);
     let import_progress = RwSignal::new(None::<f64>);
+    let import_generation = RwSignal::new(0u64);
     let run = RwSignal::new(None::<Result<std::sync::Arc<SignalRun>, String>>);
     let list_error = RwSignal::new(None::<String>);
     let view_window = RwSignal::new((0.0_f64, 0.0_f64));
@@ -162,7 +163,9 @@ pub fn SignalSection() -> impl IntoView {
         let r2 = reader.clone();
         let onload = wasm_bindgen::closure::Closure::once_into_js(move || {
             let text = r2.result().ok().and_then(|v| v.as_string()).unwrap_or_default();
-            parse_slices(std::sync::Arc::new(text), name, capture, import_status, import_progress, nb);
+            import_generation.update(|g| *g += 1);
+            let ticket = (import_generation, import_generation.get_untracked());
+            parse_slices(std::sync::Arc::new(text), name, capture, import_status, import_progress, nb, ticket);
         });
         reader.set_onload(Some(onload.unchecked_ref()));
         if reader.read_as_text(&file).is_err() {
@@ -171,6 +174,8 @@ pub fn SignalSection() -> impl IntoView {
         }
     };
     let canvas: NodeRef<Canvas> = NodeRef::new();
+    let frame = StoredValue::new(None::<plot::PlotFrame>);
+    let hover = RwSignal::new(String::new());
     Effect::new(move |_| {
         let (t0, t1) = view_window.get();
         run.with(|r| {
@@ -195,7 +200,7 @@ pub fn SignalSection() -> impl IntoView {
             ];
             let marks: Vec<_> = r.baseline_edges.iter().map(|e| (e.mid_s, colours::FALLING))
                 .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING))).collect();
-            let _ = plot::draw_time(&c, t0, t1, &traces, (t.vt_upper_v, t.vt_lower_v), &marks);
+            frame.set_value(plot::draw_time(&c, t0, t1, &traces, (t.vt_upper_v, t.vt_lower_v), &marks).ok());
         });
     });
     let zoom = move |factor: f64| {
@@ -260,7 +265,14 @@ pub fn SignalSection() -> impl IntoView {
                     <label for="csv-file">"…or import a capture (CSV of time and voltage)"</label>
                     <input id="csv-file" type="file" accept=".csv,.txt,text/csv,text/plain" on:change=on_file />
                 </div>
-                {move || import_progress.get().map(|p| view! { <progress id="csv-progress" max="1" value=p.to_string()></progress> })}
+                {move || import_progress.get().map(|p| view! {
+                    <progress id="csv-progress" max="1" value=p.to_string()></progress>
+                    <button class="quiet small" id="csv-cancel" on:click=move |_| {
+                        import_generation.update(|g| *g += 1);
+                        import_progress.set(None);
+                        import_status.set(Some(Err("import cancelled".into())));
+                    }>"Cancel"</button>
+                })}
             </div>
             {move || import_status.get().map(|s| match s {
                 Ok(m) => view! { <p class="note" id="csv-status">{m}</p> }.into_any(),
@@ -325,7 +337,13 @@ pub fn SignalSection() -> impl IntoView {
                     <span class="note" id="time-window">{move || { let (a, b) = view_window.get(); format!("{:.6} s … {:.6} s", a, b) }}</span>
                 </div>
                 <canvas id="time-plot" node_ref=canvas role="img" aria-label="Signal with the thresholds, the design's output (blue) and the plain comparator's output (orange); triangles mark output edges"
-                    on:wheel=move |ev| { ev.prevent_default(); zoom(if ev.delta_y() > 0.0 { 1.25 } else { 0.8 }); }></canvas>
+                    on:wheel=move |ev| { ev.prevent_default(); zoom(if ev.delta_y() > 0.0 { 1.25 } else { 0.8 }); }
+                    on:mousemove=move |ev: leptos::ev::MouseEvent| {
+                        let v = frame.get_value().and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
+                        hover.set(v.map(|(t, y)| format!("t = {t:.6} s, {y:.3} V")).unwrap_or_default());
+                    }
+                    on:mouseleave=move |_| hover.set(String::new())></canvas>
+                <output class="hover" id="time-hover">{move || hover.get()}</output>
             </div>
         </section>
     }
@@ -339,6 +357,7 @@ fn parse_slices(
     status: RwSignal<Option<Result<String, String>>>,
     progress: RwSignal<Option<f64>>,
     nb: Notebook,
+    ticket: (RwSignal<u64>, u64),
 ) {
     let parser = match CsvParser::new(CsvOptions::default()) {
         Ok(p) => p,
@@ -357,7 +376,11 @@ fn parse_slices(
         status: RwSignal<Option<Result<String, String>>>,
         progress: RwSignal<Option<f64>>,
         nb: Notebook,
+        ticket: (RwSignal<u64>, u64),
     ) {
+        if ticket.0.get_untracked() != ticket.1 {
+            return; // cancelled, or a newer import started
+        }
         let mut end = (at + CSV_SLICE).min(text.len());
         while !text.is_char_boundary(end) {
             end += 1;
@@ -370,7 +393,7 @@ fn parse_slices(
         at = end;
         if at < text.len() {
             progress.set(Some(at as f64 / text.len() as f64));
-            later(move || step(text, at, parser, name, capture, status, progress, nb));
+            later(move || step(text, at, parser, name, capture, status, progress, nb, ticket));
             return;
         }
         progress.set(None);
@@ -394,6 +417,6 @@ fn parse_slices(
             }
         }
     }
-    later(move || step(text, 0, parser, name, capture, status, progress, nb));
+    later(move || step(text, 0, parser, name, capture, status, progress, nb, ticket));
 }
 

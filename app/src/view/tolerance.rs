@@ -170,7 +170,7 @@ pub fn ToleranceSection() -> impl IntoView {
                 ];
                 for (node, (h, label, lo, hi)) in hist_canvases.iter().zip(sets) {
                     if let Some(c) = node.get() {
-                        let _ = plot::draw_histogram(&c, h, label, lo, hi);
+                        let _ = plot::draw_histogram(&c, h, label, lo, hi).map(|_| ());
                     }
                 }
             }
