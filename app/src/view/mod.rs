@@ -1,5 +1,6 @@
 //! The page's components. `App` owns the notebook state; the other modules render parts of it.
 
+mod application;
 mod circuit;
 mod notebook;
 pub mod partlist;
@@ -59,7 +60,7 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <partlist::PartListSection /> <share::ShareSection /> <sheet::DesignSheet /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <application::ApplicationSection /> <partlist::PartListSection /> <share::ShareSection /> <sheet::DesignSheet /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}
