@@ -66,3 +66,62 @@ fn damaged_records_are_set_aside_with_a_message() {
     let e = parse_stored("k", &stored(future)).unwrap_err();
     assert!(e.message.contains("newer"), "{}", e.message);
 }
+
+/// Timed runs in the browser's WebAssembly engine, printed for the record (no assertion on time):
+/// Monte Carlo 100,000 trials in one call, the E96 three-decade search, one analysis, and one
+/// 1,000,000-sample pass of generation, noise and trigger. Each checks the work was done.
+#[wasm_bindgen_test]
+fn timed_runs() {
+    use hysteron_core::catalog;
+    use hysteron_core::search::{search, SearchSettings};
+    use hysteron_core::signal::generate::{Component, SignalDefinition};
+    use hysteron_core::signal::noise::NoiseSource;
+    use hysteron_core::signal::trigger::{run_trigger, TimingModel, TriggerDesign};
+    use hysteron_core::signal::timing::TriggerTiming;
+    use hysteron_core::tolerance::{monte_carlo, ToleranceSettings};
+    let perf = web_sys::window().unwrap().performance().unwrap();
+    let demo = catalog::demos().into_iter().find(|d| d.key == "lathe-tachometer").unwrap().record();
+    let c = demo.circuit.clone();
+
+    let mut s = ToleranceSettings::default();
+    s.monte_carlo.trials = 100_000;
+    let t0 = perf.now();
+    let mc = monte_carlo(&c, &s).unwrap();
+    let mc_ms = perf.now() - t0;
+    assert_eq!(mc.trials, 100_000);
+
+    let settings = SearchSettings { series: hysteron_core::eseries::ESeries::E96, ..SearchSettings::default() };
+    let t0 = perf.now();
+    let rep = search(&c, demo.targets.unwrap().thresholds(), &settings, &demo.checks).unwrap();
+    let search_ms = perf.now() - t0;
+    assert!(!rep.candidates.is_empty());
+
+    let t0 = perf.now();
+    let n = 1000;
+    let mut acc = 0.0;
+    for _ in 0..n {
+        acc += c.thresholds().unwrap().vt_upper_v;
+    }
+    let analysis_us = (perf.now() - t0) * 1e3 / n as f64;
+    assert!(acc.is_finite());
+
+    let def = SignalDefinition {
+        sample_rate_hz: 1e6,
+        duration_s: 1.0,
+        seed: 3,
+        components: vec![Component::Dc { level_v: 2.3 }, Component::Sine { amplitude_v: 1.9, frequency_hz: 60.0, phase_deg: 0.0 }],
+        noise: vec![NoiseSource::White { rms_v: 0.025 }],
+    };
+    let design = TriggerDesign::from_circuit(&c).unwrap();
+    let t0 = perf.now();
+    let signal = def.generate().unwrap();
+    let mut edges = Vec::new();
+    let out = run_trigger(&design, &TimingModel::new(&TriggerTiming::default()).unwrap(), signal.time.view(), &signal.buffers.noisy_v, &mut edges);
+    let pass_ms = perf.now() - t0;
+    assert_eq!(signal.buffers.noisy_v.len(), 1_000_000);
+    assert!(out.edges >= 100);
+
+    wasm_bindgen_test::console_log!(
+        "wasm timing: Monte Carlo 100k {mc_ms:.1} ms; E96 search {search_ms:.1} ms; thresholds {analysis_us:.2} µs; 1M-sample pass {pass_ms:.1} ms"
+    );
+}

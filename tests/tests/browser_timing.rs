@@ -21,6 +21,11 @@ async fn timed_runs_in_the_browser() {
     let mounted_ms = mounted.as_f64().unwrap_or(-1.0);
     assert!(mounted_ms > 0.0, "the page did not mark its mount");
 
+    // The lathe tachometer demo: three resistors, targets, a spec window and a signal.
+    s.wait_for("#starter-choice").await.select_by_value("demo:lathe-tachometer").await.unwrap();
+    s.wait_for("#add-starter").await.click().await.unwrap();
+    tokio::time::sleep(Duration::from_millis(300)).await;
+
     // Input event → results updated (all effects, including the canvas redraw, have run).
     s.wait_for("#field-rf_ohm").await;
     let times = s
@@ -69,7 +74,6 @@ async fn timed_runs_in_the_browser() {
     let search_ms: f64 = note.rsplit('(').next().and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
 
     // A 1,000,000-sample signal pass (generation, noise, design and baseline triggers).
-    s.wait_for("#signal-add").await.click().await.unwrap();
     s.type_into("#sig-rate", "1M").await;
     s.type_into("#sig-duration", "1").await;
     tokio::time::sleep(Duration::from_millis(200)).await;

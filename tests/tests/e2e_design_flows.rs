@@ -115,7 +115,7 @@ async fn imported_capture_gives_the_edges_and_the_baseline_chatters() {
 
     let s = browser::start().await;
     add_demo(&s, "lathe-tachometer").await;
-    s.wait_for("#signal-add").await.click().await.unwrap();
+    // The demo already describes a generated signal; the import replaces it as the source.
     let input = s.wait_for("#csv-file").await;
     input.send_keys(path.to_str().unwrap()).await.expect("choose the file");
     let status = s.text("#csv-status").await;
@@ -147,5 +147,26 @@ async fn malformed_capture_is_reported_by_line_number() {
     // The page is still alive and computing.
     assert!(s.number("#vt-upper").await.is_finite());
     let _ = std::fs::remove_dir_all(&dir);
+    s.close().await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn generated_signal_test_matches_core_and_shows_the_baseline_chattering() {
+    let s = browser::start().await;
+    add_demo(&s, "lathe-tachometer").await;
+    s.wait_for("#signal-run").await.click().await.unwrap();
+    let design_false = s.wait_for("#false-edges-design").await.attr("data-value").await.unwrap().unwrap_or_default();
+    let base_false: f64 = s.number("#false-edges-baseline").await;
+    let record = stored_record(&s).await;
+    let rep = hysteron_core::signal::report::evaluate_record_signal(&record.circuit, record.signal.as_ref().unwrap()).unwrap();
+    assert_eq!(design_false.parse::<f64>().unwrap(), rep.design.comparison.unwrap().false_edges as f64);
+    assert_eq!(base_false, rep.baseline.comparison.unwrap().false_edges as f64);
+    // The demo's band (about 1.2 V) is far wider than its noise; the plain comparator is not.
+    assert_eq!(design_false, "0");
+    assert!(base_false > 10.0, "baseline false edges {base_false}");
+    // The noise sweep adds a table of levels.
+    s.wait_for("#signal-sweep").await.click().await.unwrap();
+    let rows = s.js("return document.querySelectorAll('#sweep tbody tr').length").await;
+    assert!(rows.as_u64().unwrap_or(0) >= 8, "sweep rows: {rows}");
     s.close().await;
 }

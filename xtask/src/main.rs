@@ -192,7 +192,7 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     run(Command::new("cargo").args(["test", "--workspace", "--exclude", "hysteron-app"]).current_dir(root))?;
     say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
     run(Command::new("cargo")
-        .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown"])
+        .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown", "--", "--nocapture"])
         .env("CHROMEDRIVER", "chromedriver")
         .env("WASM_BINDGEN_TEST_TIMEOUT", "120")
         .current_dir(root))?;

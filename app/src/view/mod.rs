@@ -17,6 +17,9 @@ pub mod state;
 use leptos::prelude::*;
 use state::Notebook;
 
+/// How long edits must pause before the slower sections recompute, milliseconds.
+const SETTLE_MS: i32 = 120;
+
 /// The whole page: header, notebook list, and the open design.
 #[component]
 pub fn App() -> impl IntoView {
@@ -24,6 +27,26 @@ pub fn App() -> impl IntoView {
     provide_context(nb);
     provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
     let incoming = RwSignal::new(share::incoming());
+    // Copy the open design into `settled` once edits pause for a moment (immediately when another
+    // design is opened), so the slower sections recompute once per pause, not once per keystroke.
+    let settle_ticket = StoredValue::new(0u64);
+    Effect::new(move |prev: Option<Option<String>>| {
+        let id = nb.current.get();
+        let record = nb.with_current(|r| r.clone());
+        settle_ticket.update_value(|t| *t += 1);
+        let ticket = settle_ticket.get_value();
+        let switched = prev.as_ref().map_or(true, |p| *p != id);
+        if switched || nb.settled.with_untracked(|s| s.is_none()) {
+            nb.settled.set(record);
+        } else {
+            crate::tick::after_ms(SETTLE_MS, move || {
+                if settle_ticket.get_value() == ticket {
+                    nb.settled.set(record);
+                }
+            });
+        }
+        id
+    });
     // A link pasted into this tab changes only the fragment: read it again.
     let hash = window_event_listener_untyped("hashchange", move |_| incoming.set(share::incoming()));
     // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) step the open design's edits back and forward.

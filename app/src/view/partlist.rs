@@ -19,7 +19,7 @@ pub fn part_list(record: &hysteron_core::record::DesignRecord) -> Result<Bom, St
 #[component]
 pub fn PartListSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let list = Memo::new(move |_| nb.with_current(part_list).unwrap_or_else(|| Err("no design open".into())));
+    let list = Memo::new(move |_| nb.with_settled(part_list).unwrap_or_else(|| Err("no design open".into())));
     let package = Signal::derive(move || nb.with_current(|r| r.parts.package).unwrap_or_default());
     let export = move |_| {
         if let (Some(Ok(b)), Some(name)) = (Some(list.get_untracked()), nb.with_current_untracked(|r| r.name.clone())) {

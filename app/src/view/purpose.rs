@@ -49,7 +49,7 @@ pub fn PurposeSection() -> impl IntoView {
         use hysteron_core::topology::Circuit;
         nb.with_current(|r| r.circuit.anchor_description()).unwrap_or("")
     });
-    let caution_list = Memo::new(move |_| nb.with_current(cautions).unwrap_or_default());
+    let caution_list = Memo::new(move |_| nb.with_settled(cautions).unwrap_or_default());
     view! {
         <section class="card" aria-labelledby="purpose-heading" id="purpose">
             <h2 id="purpose-heading">"Purpose and targets"</h2>

@@ -38,7 +38,7 @@ pub fn ShareSection() -> impl IntoView {
     let style = expect_context::<StyleChoice>().0;
     let image = Memo::new(move |_| {
         let s = style.get();
-        nb.with_current(|r| schematic_url(r, s)).unwrap_or_default()
+        nb.with_settled(|r| schematic_url(r, s)).unwrap_or_default()
     });
     let link = RwSignal::new(String::new());
     let message = RwSignal::new(None::<Result<String, String>>);

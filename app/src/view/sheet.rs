@@ -21,11 +21,15 @@ const SHEET_TRIALS: u64 = 20_000;
 pub fn DesignSheet() -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let style = expect_context::<StyleChoice>().0;
-    // The costlier figures are computed only when a print starts.
+    // The sheet is computed only once a print starts (the browser's `beforeprint`), and kept live
+    // after that, so editing stays fast.
     let printing = RwSignal::new(0u32);
     let on_print = window_event_listener_untyped("beforeprint", move |_| printing.update(|n| *n += 1));
     on_cleanup(move || on_print.remove());
     let core_figures = Memo::new(move |_| {
+        if printing.get() == 0 {
+            return None;
+        }
         nb.with_current(|r| {
             let a = analyse(&r.circuit, &r.checks).map_err(|e| e.to_string())?;
             let s = r.tolerance.clone().unwrap_or_default();
@@ -53,6 +57,9 @@ pub fn DesignSheet() -> impl IntoView {
     });
     let canvas: NodeRef<Canvas> = NodeRef::new();
     Effect::new(move |_| {
+        if printing.get() == 0 {
+            return;
+        }
         let curve = nb.with_current(|r| {
             let t = hysteron_core::evaluate::thresholds(&r.circuit).ok()?;
             let span = t.hysteresis_v().abs().max(0.5);
@@ -80,7 +87,7 @@ pub fn DesignSheet() -> impl IntoView {
                     })}
                     <div class="sheet-grid">
                         <div>
-                            <img class="sheet-schematic" src=move || nb.with_current(|r| schematic_url(r, style.get())).unwrap_or_default() alt="Schematic" />
+                            <img class="sheet-schematic" src=move || if printing.get() == 0 { String::new() } else { nb.with_current(|r| schematic_url(r, style.get())).unwrap_or_default() } alt="Schematic" />
                             <canvas class="sheet-curve" node_ref=canvas width="480" height="240" aria-hidden="true"></canvas>
                         </div>
                         <div>

@@ -25,6 +25,8 @@ pub struct Notebook {
     pub deleted: RwSignal<Option<(Entry, usize)>>,
     /// Text filter of the notebook list.
     pub filter: RwSignal<String>,
+    /// The open design as it stood once edits paused (see [`Notebook::with_settled`]).
+    pub settled: RwSignal<Option<DesignRecord>>,
 }
 
 /// Undo/redo history of one design. Edits closer together than [`History::MERGE_MS`] on the same
@@ -105,6 +107,7 @@ impl Notebook {
             history: RwSignal::new(History::default()),
             deleted: RwSignal::new(None),
             filter: RwSignal::new(String::new()),
+            settled: RwSignal::new(None),
         };
         if nb.entries.with_untracked(|e| e.is_empty()) {
             nb.add(blank_record());
@@ -213,6 +216,13 @@ impl Notebook {
         if let Some(r) = next {
             self.replace_current(r);
         }
+    }
+
+    /// Reads the open design as it stood once typing paused. The slower studies (tolerance tables,
+    /// part list, schematic, cautions) follow this copy, so each keystroke only recomputes the
+    /// results and the transfer curve.
+    pub fn with_settled<R>(&self, f: impl FnOnce(&DesignRecord) -> R) -> Option<R> {
+        self.settled.with(|r| r.as_ref().map(f))
     }
 
     /// Reads the open design's whole notebook entry (record, snapshot, revision).

@@ -13,8 +13,8 @@ use hysteron_core::topology::Topology;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
-/// Trials per slice: small enough that one slice takes a few milliseconds in the browser.
-const SLICE: u64 = 4000;
+/// Trials per slice: one slice takes about 5 ms in the browser, short enough to keep the page responsive.
+const SLICE: u64 = 20_000;
 
 struct Job {
     run: MonteCarloRun<Topology>,
@@ -92,8 +92,8 @@ pub fn ToleranceSection() -> impl IntoView {
         })
     };
     let quick = Memo::new(move |_| {
-        let s = settings.get();
-        nb.with_current(|r| {
+        nb.with_settled(|r| {
+            let s = r.tolerance.clone().unwrap_or_default();
             let wc = worst_case(&r.circuit, &s).map_err(|e| e.to_string())?;
             let g = gum(&r.circuit, &s).map_err(|e| e.to_string())?;
             let b = error_budget(&r.circuit, &s).map_err(|e| e.to_string())?;
