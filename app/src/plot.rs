@@ -195,7 +195,7 @@ pub fn draw_histogram(
     let root = backend.into_drawing_area();
     root.fill(&WHITE).map_err(err)?;
     let n = hist.counts.len();
-    if n == 0 || !(hist.upper_v > hist.lower_v) {
+    if n == 0 || hist.upper_v.partial_cmp(&hist.lower_v) != Some(std::cmp::Ordering::Greater) {
         return Err("plot: empty histogram".into());
     }
     let mut x0 = hist.lower_v;

@@ -27,7 +27,7 @@ pub fn with_policy(html: &str) -> Result<String, String> {
         let tag = &after[..open_end];
         let close = after.find("</script>").ok_or("csp: unterminated script")?;
         if !tag.contains("src=") {
-            hashes.push(format!("'sha256-{}'", base64(&sha256(after[open_end..close].as_bytes()))));
+            hashes.push(format!("'sha256-{}'", base64(&sha256(&after.as_bytes()[open_end..close]))));
         }
         rest = &after[close + 9..];
     }

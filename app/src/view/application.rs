@@ -17,17 +17,17 @@ fn ms(s: f64) -> String {
 #[component]
 pub fn ApplicationSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let app = Memo::new(move |_| nb.with_current(|r| r.application.clone()).flatten());
+    let app = Memo::new(move |_| nb.with_current(|r| r.application).flatten());
     let edit = move |key: &'static str, f: Box<dyn Fn(&mut ApplicationSettings)>| {
         nb.edit_keyed(key, move |r| {
-            let mut a = r.application.clone().unwrap_or_default();
+            let mut a = r.application.unwrap_or_default();
             f(&mut a);
             r.application = Some(a);
         })
     };
     let results = Memo::new(move |_| {
         nb.with_current(|r| {
-            let a = r.application.clone()?;
+            let a = r.application?;
             let d = TriggerDesign::from_circuit(&r.circuit).map_err(|e| e.to_string());
             let osc = a.oscillator.map(|o| d.clone().and_then(|d| relaxation_oscillator(&d, &o).map_err(|e| e.to_string())));
             let deb = a.debounce.map(|b| d.clone().and_then(|d| rc_debounce(&d, &b).map_err(|e| e.to_string())));

@@ -35,7 +35,7 @@ pub fn App() -> impl IntoView {
         let record = nb.with_current(|r| r.clone());
         settle_ticket.update_value(|t| *t += 1);
         let ticket = settle_ticket.get_value();
-        let switched = prev.as_ref().map_or(true, |p| *p != id);
+        let switched = prev.as_ref() != Some(&id);
         if switched || nb.settled.with_untracked(|s| s.is_none()) {
             nb.settled.set(record);
         } else {

@@ -367,6 +367,7 @@ fn parse_slices(
             return;
         }
     };
+    #[allow(clippy::too_many_arguments)] // the slice's whole state, carried from turn to turn
     fn step(
         text: std::sync::Arc<String>,
         mut at: usize,
