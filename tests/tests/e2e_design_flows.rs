@@ -64,7 +64,7 @@ async fn monte_carlo_yield_matches_core_for_the_stored_settings() {
     let s = browser::start().await;
     add_demo(&s, "lathe-tachometer").await;
     let nominal = s.number("#vt-upper").await;
-    let (lo, hi) = (nominal - 0.012, nominal + 0.012);
+    let (lo, hi) = (nominal - 0.03, nominal + 0.03);
     s.type_into("#spec-vt-upper-min", &format!("{lo:.4}")).await;
     s.type_into("#spec-vt-upper-max", &format!("{hi:.4}")).await;
     s.type_into("#mc-trials", "20k").await;
@@ -79,7 +79,7 @@ async fn monte_carlo_yield_matches_core_for_the_stored_settings() {
     let mc = hysteron_core::tolerance::monte_carlo(&record.circuit, &settings).unwrap();
     let expected = mc.spec_yield.unwrap().fraction;
     assert_eq!(shown, expected, "page yield {shown} differs from core {expected} (same seed, same inputs)");
-    assert!(shown > 0.05 && shown < 0.999, "a ±12 mV window around nominal should cut some boards: {shown}");
+    assert!(shown > 0.05 && shown < 0.999, "a ±30 mV window around nominal should cut some boards: {shown}");
     // Histograms are drawn.
     let inked = s.js("const c = document.querySelector('#hist-vt-upper'); const d = c.getContext('2d').getImageData(0,0,c.width,c.height).data; let n=0; for (let i=0;i<d.length;i+=4) if (d[i]<120 && d[i+2]>100) n++; return n;").await;
     assert!(inked.as_u64().unwrap_or(0) > 500, "VT+ histogram not drawn");

@@ -209,6 +209,11 @@ pub fn SharedDesign(incoming: RwSignal<Incoming>) -> impl IntoView {
                 <section class="card shared" id="shared-design" aria-labelledby="shared-heading">
                     <h2 id="shared-heading">"Shared design (read-only): " {record.name.clone()}</h2>
                     <p class="note">{record.purpose.clone()}</p>
+                    {let c = hysteron_core::safety::cautions(&record); (!c.is_empty()).then(|| view! {
+                        <div class="caution" role="note"><strong>"Safety"</strong>
+                            <ul>{c.into_iter().map(|c| view! { <li>{c.message}</li> }).collect_view()}</ul>
+                            <p>"Local codes and licensed practice take precedence."</p></div>
+                    })}
                     <p>{match t {
                         Ok(t) => view! { "VT+ " <output id="shared-vt-upper" data-value=t.vt_upper_v.to_string()>{format!("{:.4} V", t.vt_upper_v)}</output>
                                          ", VT− " <output id="shared-vt-lower" data-value=t.vt_lower_v.to_string()>{format!("{:.4} V", t.vt_lower_v)}</output> }.into_any(),
