@@ -37,6 +37,7 @@ fn seeds() -> Vec<DesignRecord> {
 }
 
 /// Replaces every number in the record except `schema_version` with the next value of `numbers`
+/// (whole-number fields get a whole number)
 /// (cyclically) and the texts with `text`; keeps the shape, so the result is still a record.
 fn randomise(value: &mut Value, numbers: &[f64], k: &mut usize, text: &str) {
     match value {
@@ -59,10 +60,14 @@ fn randomise(value: &mut Value, numbers: &[f64], k: &mut usize, text: &str) {
                 randomise(v, numbers, k, text);
             }
         }
-        Value::Number(_) => {
+        Value::Number(n) => {
             let x = numbers[*k % numbers.len()];
             *k += 1;
-            if let Some(n) = serde_json::Number::from_f64(x) {
+            if n.is_u64() || n.is_i64() {
+                // Whole-number fields (seeds, counts, pole orders) stay whole and small enough for any
+                // of their integer types.
+                *value = Value::Number(((x.abs() as u64) % 200).into());
+            } else if let Some(n) = serde_json::Number::from_f64(x) {
                 *value = Value::Number(n);
             }
         }
