@@ -280,33 +280,8 @@ pub trait Netlisted {
     fn schematic(&self) -> SchematicLayout;
 }
 
-impl Netlisted for Topology {
-    fn netlist(&self) -> Netlist {
-        match self {
-            Topology::Inverting(c) => c.netlist(),
-            Topology::NonInverting(c) => c.netlist(),
-            Topology::OpenDrain(c) => c.netlist(),
-            Topology::Plain(c) => c.netlist(),
-            Topology::SupplyMonitor(c) => c.netlist(),
-            Topology::CmosBuffer(c) => c.netlist(),
-            Topology::SchmittGate(c) => c.netlist(),
-            Topology::BjtPair(c) => c.netlist(),
-        }
-    }
-
-    fn schematic(&self) -> SchematicLayout {
-        match self {
-            Topology::Inverting(c) => c.schematic(),
-            Topology::NonInverting(c) => c.schematic(),
-            Topology::OpenDrain(c) => c.schematic(),
-            Topology::Plain(c) => c.schematic(),
-            Topology::SupplyMonitor(c) => c.schematic(),
-            Topology::CmosBuffer(c) => c.schematic(),
-            Topology::SchmittGate(c) => c.schematic(),
-            Topology::BjtPair(c) => c.schematic(),
-        }
-    }
-}
+// `impl Netlisted for Topology` is generated with the enum by `topologies!` (core/src/topology/mod.rs),
+// so a new topology is registered in one list.
 
 /// Builds a netlist step by step; used by the topology modules' [`Netlisted`] implementations.
 #[derive(Debug)]

@@ -418,6 +418,11 @@ macro_rules! topologies {
             fn device_input_range(&self) -> (f64, f64) { match self { $( Topology::$variant(c) => c.device_input_range(), )+ } }
             fn negative_rail_v(&self) -> f64 { match self { $( Topology::$variant(c) => c.negative_rail_v(), )+ } }
         }
+
+        impl crate::netlist::Netlisted for Topology {
+            fn netlist(&self) -> crate::netlist::Netlist { match self { $( Topology::$variant(c) => c.netlist(), )+ } }
+            fn schematic(&self) -> crate::schematic::SchematicLayout { match self { $( Topology::$variant(c) => c.schematic(), )+ } }
+        }
     };
 }
 
