@@ -13,7 +13,7 @@
 
 use crate::device::{Comparator, Rail};
 use crate::schematic::SchematicLayout;
-use crate::topology::{Circuit, Parameter, Topology};
+use crate::topology::{Circuit, Parameter};
 use serde::{Deserialize, Serialize};
 
 /// SPICE's ground node.
