@@ -1,0 +1,121 @@
+//! One validation layer: the physically sensible range of every kind of quantity a design, a study
+//! or a page field may hold. Every topology, study and field checks its numbers here, so a value
+//! that one part of Hysteron refuses is refused everywhere, and nothing huge, tiny or non-finite
+//! reaches the math.
+//!
+//! The ranges are wide on purpose (common practice: well beyond any part a bench would fit, yet far
+//! inside the range where the network equations stay finite in double precision).
+
+use crate::error::DesignError;
+use crate::notation::{format_with_unit, Unit};
+
+/// A kind of physical quantity with its own sensible range.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Quantity {
+    /// A resistor or any resistance, ohms: 1 mΩ to 1 TΩ.
+    Resistance,
+    /// A voltage (supply, rail, reference, threshold, level, offset, signal), volts: ±100 kV.
+    Voltage,
+    /// A current (bias, budget, load), amperes: ±100 A.
+    Current,
+    /// A capacitance, farads: 1 fF to 1 F.
+    Capacitance,
+    /// An absolute temperature, kelvin: 1 K to 1000 K.
+    Temperature,
+    /// A frequency, hertz: 1 µHz to 10 GHz.
+    Frequency,
+    /// A duration or time step, seconds: 0 to 10⁷ s (about four months).
+    Duration,
+    /// A dimensionless gain or ratio (current gain, derating factor): 0.001 to 10⁶.
+    Gain,
+    /// A transistor saturation current IS, amperes: 10⁻³⁰ A to 1 mA.
+    SaturationCurrent,
+    /// A percentage (tolerance, yield target): 0 % to 100 %.
+    Percent,
+}
+
+impl Quantity {
+    /// The inclusive range (min, max) in base units.
+    pub fn range(self) -> (f64, f64) {
+        match self {
+            Quantity::Resistance => (1e-3, 1e12),
+            Quantity::Voltage => (-1e5, 1e5),
+            Quantity::Current => (-100.0, 100.0),
+            Quantity::Capacitance => (1e-15, 1.0),
+            Quantity::Temperature => (1.0, 1000.0),
+            Quantity::Frequency => (1e-6, 1e10),
+            Quantity::Duration => (0.0, 1e7),
+            Quantity::Gain => (1e-3, 1e6),
+            Quantity::SaturationCurrent => (1e-30, 1e-3),
+            Quantity::Percent => (0.0, 100.0),
+        }
+    }
+
+    /// The unit a value of this quantity is written in, `None` for dimensionless quantities.
+    pub fn unit(self) -> Option<Unit> {
+        match self {
+            Quantity::Resistance => Some(Unit::Ohm),
+            Quantity::Voltage => Some(Unit::Volt),
+            Quantity::Current | Quantity::SaturationCurrent => Some(Unit::Ampere),
+            Quantity::Capacitance => Some(Unit::Farad),
+            Quantity::Frequency => Some(Unit::Hertz),
+            Quantity::Duration => Some(Unit::Second),
+            Quantity::Temperature | Quantity::Gain | Quantity::Percent => None,
+        }
+    }
+
+    fn write(self, value: f64) -> String {
+        match (self, self.unit()) {
+            (Quantity::Temperature, _) => format!("{value} K"),
+            (Quantity::Percent, _) => format!("{value} %"),
+            (_, Some(u)) => format_with_unit(value, 3, u),
+            (_, None) => format!("{value}"),
+        }
+    }
+
+    /// Whether `value` is finite and inside [`Quantity::range`].
+    pub fn admits(self, value: f64) -> bool {
+        let (lo, hi) = self.range();
+        value.is_finite() && (lo..=hi).contains(&value)
+    }
+}
+
+/// Checks one value: finite and inside its quantity's range. The error names `field` and the range.
+pub fn check(quantity: Quantity, field: &str, value: f64) -> Result<f64, DesignError> {
+    if quantity.admits(value) {
+        return Ok(value);
+    }
+    let (lo, hi) = quantity.range();
+    let got = if value.is_finite() { quantity.write(value) } else { "not a number".to_string() };
+    Err(DesignError::invalid(
+        field,
+        format!("must be between {} and {} (got {got})", quantity.write(lo), quantity.write(hi)),
+    ))
+}
+
+/// Checks an optional value (a part that may be left out).
+pub fn check_optional(quantity: Quantity, field: &str, value: Option<f64>) -> Result<Option<f64>, DesignError> {
+    value.map(|v| check(quantity, field, v)).transpose()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn refuses_non_finite_and_out_of_range_values() {
+        assert!(check(Quantity::Resistance, "r1_ohm", f64::NAN).is_err());
+        assert!(check(Quantity::Resistance, "r1_ohm", 5e-324).is_err());
+        assert!(check(Quantity::Voltage, "supply_v", 1e300).is_err());
+        assert!(check(Quantity::Current, "bias_plus_a", 1e308).is_err());
+        assert_eq!(check(Quantity::Resistance, "r1_ohm", 4.7e3), Ok(4.7e3));
+        assert_eq!(check(Quantity::Voltage, "negative_rail_v", -12.0), Ok(-12.0));
+    }
+
+    #[test]
+    fn message_names_the_field_and_the_range() {
+        let e = check(Quantity::Resistance, "r1_ohm", -1.0).unwrap_err().to_string();
+        assert!(e.starts_with("r1_ohm: must be between"), "{e}");
+        assert!(e.contains("1 TΩ") || e.contains("1.00 TΩ") || e.contains("TΩ"), "{e}");
+    }
+}
