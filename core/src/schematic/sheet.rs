@@ -4,7 +4,7 @@
 
 use serde::{Deserialize, Serialize};
 
-/// A point of the schematic grid (one unit is [`super::svg::GRID_PX`] pixels in the drawing).
+/// A point of the schematic grid (one unit is `svg::GRID_PX` pixels in the drawing).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
 pub struct GridPoint {
     /// Column, grid units from the left.
