@@ -190,14 +190,20 @@ pub fn write_deck(
 /// Significant digits of a number in a comment or a rounded element value.
 const SHORT_DIGITS: u8 = 4;
 
-/// A voltage for a comment, through [`notation::format_with_unit`]: "2.5 V", "-12 V", "1 mV".
-fn volts(v: f64) -> String {
-    notation::format_with_unit(v, SHORT_DIGITS, Unit::Volt)
+/// Notation's text in the ASCII a SPICE deck keeps to (some simulators read decks as 8-bit text):
+/// `µ` becomes `u` (as in SPICE's own suffixes) and `Ω` becomes `ohm`.
+fn ascii(text: String) -> String {
+    text.replace('µ', "u").replace('Ω', "ohm")
 }
 
-/// A resistance for a comment, through [`notation::format_with_unit`]: "1 Ω", "1 TΩ".
+/// A voltage for a comment, through [`notation::format_with_unit`]: "2.5 V", "-12 V", "1 mV", "500 uV".
+fn volts(v: f64) -> String {
+    ascii(notation::format_with_unit(v, SHORT_DIGITS, Unit::Volt))
+}
+
+/// A resistance for a comment, through [`notation::format_with_unit`]: "1 ohm", "1 Tohm".
 fn ohms(v: f64) -> String {
-    notation::format_with_unit(v, SHORT_DIGITS, Unit::Ohm)
+    ascii(notation::format_with_unit(v, SHORT_DIGITS, Unit::Ohm))
 }
 
 /// `v` rounded to four significant digits (ramp limits, the signal's DC value, the temperature:
@@ -403,6 +409,20 @@ mod tests {
             } else {
                 assert!(deck.contains("behavioural model"), "{}", s.key);
             }
+        }
+    }
+
+    #[test]
+    fn comments_write_values_through_notation_in_ascii() {
+        assert_eq!(volts(2.5), "2.5 V");
+        assert_eq!(volts(-5e-4), "-500 uV");
+        assert_eq!(ohms(OUTPUT_OFF_OHM), "1 Tohm");
+        assert_eq!(short(1.23456), "1.235");
+        assert_eq!(short(-0.0123456), "-12.35m");
+        for s in catalog::templates().into_iter().chain(catalog::demos()) {
+            let r = s.record();
+            let deck = to_spice(&r.circuit, "ascii title").unwrap();
+            assert!(deck.is_ascii(), "{}: a non-ASCII character in the deck", s.key);
         }
     }
 
