@@ -199,9 +199,13 @@ fn circuit_voltages(circuit: &Topology, analysis: Option<&Analysis>, checks: &Ch
     out
 }
 
-/// The voltage that most exceeds the limits (largest peak among those above), if any.
+/// The voltage that most exceeds the limits (largest peak among those above; of equal peaks, the
+/// alternating one), if any.
 fn worst_above(voltages: &[DesignVoltage]) -> Option<&DesignVoltage> {
-    voltages.iter().filter(|v| v.above_extra_low_voltage()).max_by(|a, b| a.peak_v.total_cmp(&b.peak_v))
+    voltages
+        .iter()
+        .filter(|v| v.above_extra_low_voltage())
+        .max_by(|a, b| a.peak_v.total_cmp(&b.peak_v).then(a.alternating_rms_v.total_cmp(&b.alternating_rms_v)))
 }
 
 fn mentions(text: &str, words: &[&str]) -> bool {
