@@ -13,8 +13,9 @@
 //! Only VIL < VM < VIH is guaranteed by logic datasheets, so both thresholds move together by
 //! (1 + R1/R2 + R1/R3)·ΔVM while the width stays fixed (DOMAIN §1d; the check says so with numbers).
 
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{finite, non_negative, positive, DesignError};
@@ -451,6 +452,23 @@ impl Circuit for CmosBufferSchmitt {
     fn negative_rail_v(&self) -> f64 {
         0.0
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::LogicGate
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "Both readings off together while their difference is right: the gate's switching point VM differs from the assumed value (datasheets only guarantee it between VIL and VIH); measure node X at the moment of switching.".into(),
+            "The buffer's supply current rises while the input is slow near VM (both output transistors conduct); a brief warm part during the ramp is expected.".into(),
+        ]
+    }
+}
+
+impl Described for CmosBufferSchmitt {
+    const TITLE: &'static str = "Schmitt from a CMOS buffer or two inverters";
+    const NOTE: &'static str = "When a spare buffer or two inverters are on the board: two resistors around the gate's switching point give hysteresis. Cheap, but the band moves with the gate's threshold spread.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/cmos_buffer.json");
 }
 
 #[cfg(test)]

@@ -12,13 +12,15 @@
 //! P = Rp·(VA/Ra + VB/Rb + VO/Rf − IB+) and the device switches when P − V(−) = VOS (∓h/2),
 //! with V(−) = Vin − IB−·Rs. Hence VT+ (VO = VOH) and VT− (VO = VOL) = P − VOS ± h/2 + IB−·Rs.
 
-use super::{expect_len, parallel, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, parallel, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use super::noninverting::{resistance, verified};
 use crate::error::DesignError;
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// An inverting Schmitt trigger with an optional two-resistor reference divider.
@@ -181,7 +183,7 @@ impl Circuit for InvertingSchmitt {
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -376,6 +378,20 @@ impl Circuit for InvertingSchmitt {
     fn negative_rail_v(&self) -> f64 {
         self.device.negative_rail_v
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::PushPull
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![super::comparator::common_mode_hint(self.device_input_range())]
+    }
+}
+
+impl Described for InvertingSchmitt {
+    const TITLE: &'static str = "Inverting Schmitt (op-amp or comparator)";
+    const NOTE: &'static str = "The usual choice: the signal drives a high-impedance input and a divider plus feedback set both thresholds anywhere between the rails. The output is high while the input is low.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/inverting.json");
 }
 
 #[cfg(test)]

@@ -10,12 +10,14 @@
 //! N = Vth,ref − IB−·Rref, the device switches when P − N = VOS ± h/2, which gives
 //! VT+ = (N + VOS + h/2)(1+m) − m·VOL + IB+·R1s and VT− = (N + VOS − h/2)(1+m) − m·VOH + IB+·R1s.
 
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use crate::error::DesignError;
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// The reference that sets a comparator's fixed input: a rail directly, or a two-resistor divider.
@@ -598,6 +600,20 @@ impl Circuit for NonInvertingSchmitt {
     fn negative_rail_v(&self) -> f64 {
         self.device.negative_rail_v
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::PushPull
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![super::comparator::common_mode_hint(self.device_input_range())]
+    }
+}
+
+impl Described for NonInvertingSchmitt {
+    const TITLE: &'static str = "Non-inverting Schmitt";
+    const NOTE: &'static str = "The signal drives the feedback network through R1, so the band can be wider than the output swing and sit above or below the rails. The source must supply current; the output is high while the input is high.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/non_inverting.json");
 }
 
 /// Number of device parameters [`push_device_parameters`] appends.
@@ -614,7 +630,7 @@ pub(crate) fn push_device_parameters(d: &Comparator, with_bias_minus: bool, v: &
     if with_bias_minus {
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
     }
-    v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
+    v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
 }
 
 /// Reads the device quantities back in the order of [`push_device_parameters`].

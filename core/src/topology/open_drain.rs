@@ -21,12 +21,14 @@ use super::noninverting::{
     divider_fraction, noninverting_switch_v, par2, pick_root, quadratic_roots, resistance, verified, Designators,
     Reference,
 };
-use super::{expect_len, parallel, sensitivities, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, parallel, sensitivities, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use crate::error::{non_negative, DesignError};
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// Which input the signal drives, with the resistors of that form.
@@ -406,13 +408,13 @@ impl Circuit for OpenDrainSchmitt {
         }
         v.extend(rails);
         v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
-        v.push(Parameter::quantity("sink_resistance_ohm", "output sink resistance", self.sink_resistance_ohm, ParameterKind::Device));
+        v.push(Parameter::device("sink_resistance_ohm", "output sink resistance", self.sink_resistance_ohm, Unit::Ohm));
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         if self.has_bias_minus() {
             v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
         }
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -685,6 +687,26 @@ impl Circuit for OpenDrainSchmitt {
     fn negative_rail_v(&self) -> f64 {
         self.device.negative_rail_v
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::OpenDrain
+    }
+
+    fn troubleshooting(&self, analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "Upper reading off: check the pull-up resistor's value and the rail it goes to; the pull-up is in series with the feedback resistor while the output is off, so it moves VT+.".into(),
+            format!(
+                "Measure OUT while it is high with the load connected: expected {:.3} V; a lower value means extra load on the pull-up.",
+                analysis.output_high_v
+            ),
+        ]
+    }
+}
+
+impl Described for OpenDrainSchmitt {
+    const TITLE: &'static str = "Open-drain / open-collector comparator";
+    const NOTE: &'static str = "For comparators whose output only pulls low, or to give a logic level on another rail. The pull-up loads the feedback resistor and moves the upper threshold; Hysteron models it exactly.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/open_drain.json");
 }
 
 /// Bias-current error (thresholds with and without the bias currents) against the resistor-tolerance

@@ -12,12 +12,14 @@
 
 use super::noninverting::{divider_current_check, resistance, verified, Designators, Reference};
 use super::open_drain::bias_error_check_with;
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::Comparator;
 use crate::error::DesignError;
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// A comparator with no feedback: signal on one input, a reference on the other.
@@ -120,7 +122,7 @@ impl Circuit for PlainComparator {
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -230,6 +232,20 @@ impl Circuit for PlainComparator {
     fn negative_rail_v(&self) -> f64 {
         self.device.negative_rail_v
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::PushPull
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![super::comparator::common_mode_hint(self.device_input_range())]
+    }
+}
+
+impl Described for PlainComparator {
+    const TITLE: &'static str = "Plain comparator (no hysteresis)";
+    const NOTE: &'static str = "The baseline with a single threshold. Use it to see what hysteresis buys on your signal; on its own it chatters on slow or noisy edges.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/plain_comparator.json");
 }
 
 #[cfg(test)]

@@ -14,8 +14,9 @@
 //! are the gate's own.
 
 use super::cmos_buffer::{clamp_warning, logic_input_range};
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{finite, non_negative, positive, DesignError};
@@ -432,6 +433,23 @@ impl Circuit for SchmittGate {
     fn negative_rail_v(&self) -> f64 {
         0.0
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::LogicGate
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "The gate's own thresholds vary from part to part within the datasheet's limits: compare the readings with the bands, not with the typical values alone.".into(),
+            "Measure the gate input pin at the moment of switching: it should equal the gate's VT+ or VT−; if it does, the difference comes from the input resistors.".into(),
+        ]
+    }
+}
+
+impl Described for SchmittGate {
+    const TITLE: &'static str = "Schmitt-input logic gate";
+    const NOTE: &'static str = "A gate with built-in hysteresis: enter VT+ and VT− from its datasheet. An optional input divider scales and shifts the band for higher-voltage signals.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/schmitt_gate.json");
 }
 
 #[cfg(test)]

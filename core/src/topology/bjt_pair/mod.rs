@@ -24,11 +24,13 @@
 //! Every iteration is bounded: a solve that does not settle returns [`DesignError::NotConverged`];
 //! a curve without a fold returns [`DesignError::NoSwitching`].
 
-use super::{expect_len, Circuit, CurvePoint, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, CurvePoint, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{positive, DesignError};
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 mod ebers_moll;
@@ -525,10 +527,10 @@ impl Circuit for EmitterCoupledSchmitt {
             Parameter::resistor("re_ohm", "R5", "shared emitter resistor RE", self.re_ohm),
             Parameter::quantity("supply_v", "supply VCC", self.supply_v, ParameterKind::Supply),
             Parameter::quantity("vbe_v", "base–emitter voltage VBE (hand model)", t.vbe_v, ParameterKind::DeviceThreshold),
-            Parameter::quantity("beta_f", "forward current gain βF", t.beta_f, ParameterKind::Device),
-            Parameter::quantity("beta_r", "reverse current gain βR", t.beta_r, ParameterKind::Device),
-            Parameter::quantity("saturation_current_a", "saturation current IS", t.saturation_current_a, ParameterKind::Device),
-            Parameter::quantity("temperature_k", "junction temperature", t.temperature_k, ParameterKind::Device),
+            Parameter::device("beta_f", "forward current gain βF", t.beta_f, Unit::Ratio),
+            Parameter::device("beta_r", "reverse current gain βR", t.beta_r, Unit::Ratio),
+            Parameter::device("saturation_current_a", "saturation current IS", t.saturation_current_a, Unit::Ampere),
+            Parameter::device("temperature_k", "junction temperature", t.temperature_k, Unit::Kelvin),
         ]
     }
 
@@ -671,6 +673,24 @@ impl Circuit for EmitterCoupledSchmitt {
     fn negative_rail_v(&self) -> f64 {
         0.0
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::DiscreteTransistors
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "Measure VBE of the conducting transistor (about 0.6–0.7 V): the thresholds move almost one-for-one with it, and with temperature (about −2 mV/K).".into(),
+            "With the input low, Q2 conducts: its collector-emitter voltage (OUT minus the shared emitter) must stay above 0.2 V; if it saturates, the low level and the upper threshold move.".into(),
+            "No hysteresis at all: the loop gain is too low; check RC1 and the shared emitter resistor values.".into(),
+        ]
+    }
+}
+
+impl Described for EmitterCoupledSchmitt {
+    const TITLE: &'static str = "Two-transistor Schmitt (emitter-coupled)";
+    const NOTE: &'static str = "From discrete transistors when no comparator is at hand; thresholds from hand analysis or a full Ebers–Moll solution.";
+    const TEMPLATE_JSON: &'static str = include_str!("../../catalog/bjt_pair.json");
 }
 
 #[cfg(test)]
