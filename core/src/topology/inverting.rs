@@ -14,11 +14,10 @@
 
 use super::{Described, expect_len, parallel, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
-use super::noninverting::{resistance, verified};
+use super::comparator::{resistance, verified};
 use crate::error::DesignError;
 use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
@@ -92,6 +91,8 @@ impl InvertingSchmitt {
 }
 
 impl Circuit for InvertingSchmitt {
+    super::comparator::comparator_rails!(push_pull);
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         if let Some(r) = self.ra_ohm {
@@ -314,16 +315,6 @@ impl Circuit for InvertingSchmitt {
         "feedback resistor Rf (output to the non-inverting input)"
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let rp = parallel(&[self.ra_ohm, self.rb_ohm, Some(self.rf_ohm)]);
@@ -369,22 +360,6 @@ impl Circuit for InvertingSchmitt {
             }
         }
         w
-    }
-
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
-    }
-
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
-    }
-
-    fn output_stage(&self) -> OutputStage {
-        OutputStage::PushPull
-    }
-
-    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
-        vec![super::comparator::common_mode_hint(self.device_input_range())]
     }
 }
 

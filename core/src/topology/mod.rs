@@ -22,6 +22,7 @@ pub mod cmos_buffer;
 pub mod schmitt_gate;
 pub mod bjt_pair;
 pub mod comparator;
+pub mod logic;
 #[cfg(test)]
 mod toy;
 

@@ -10,11 +10,10 @@
 //! - Signal on (+), reference node N = Vth − IB−·Rref on (−): VT± = N + VOS ± h/2 + IB+·Rs.
 //! - Signal on (−), reference node N = Vth − IB+·Rref on (+): VT± = N − VOS ± h/2 + IB−·Rs.
 
-use super::noninverting::{divider_current_check, resistance, verified, Designators, Reference};
-use super::open_drain::bias_error_check_with;
+use super::comparator::{divider_current_check, resistance, verified, Designators, Reference};
+use super::comparator::bias_error_check_with;
 use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::Comparator;
@@ -71,6 +70,8 @@ impl PlainComparator {
 }
 
 impl Circuit for PlainComparator {
+    super::comparator::comparator_rails!(push_pull);
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         self.reference.validate()
@@ -196,16 +197,6 @@ impl Circuit for PlainComparator {
         "reference divider total Ra + Rb (unused with a direct reference)"
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let d = &self.device;
@@ -223,22 +214,6 @@ impl Circuit for PlainComparator {
         bias_error_check_with(self, &nb, settings, &mut w);
         divider_current_check(&self.reference, d, settings, self.bias_ref_signal().0, &mut w);
         w
-    }
-
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
-    }
-
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
-    }
-
-    fn output_stage(&self) -> OutputStage {
-        OutputStage::PushPull
-    }
-
-    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
-        vec![super::comparator::common_mode_hint(self.device_input_range())]
     }
 }
 

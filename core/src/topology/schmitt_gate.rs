@@ -13,7 +13,7 @@
 //! **VT± = a·VT±gate + b** with a = Ra·G ≥ 1 and b = −VDD·Ra/Rc ≤ 0 [D]. Without Ra the thresholds
 //! are the gate's own.
 
-use super::cmos_buffer::{clamp_warning, logic_input_range};
+use super::logic::{clamp_warning, logic_input_range};
 use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     Analysis, OutputStage,

@@ -15,8 +15,8 @@
 //! VBAT = [P(1 + r_x + Rtop/Rbot) − β·r_x + IB+·Rtop]/(1 + α·r_x), with the output source
 //! Vx = α·VBAT + β behind Rx and r_x = Rtop/(Rh + Rx).
 
-use super::noninverting::{pick_root, quadratic_roots, resistance, verified, Designators};
-use super::open_drain::bias_error_check_with;
+use super::comparator::{pick_root, quadratic_roots, resistance, verified, Designators};
+use super::comparator::bias_error_check_with;
 use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     Analysis, OutputStage,
@@ -181,6 +181,8 @@ impl SupplyMonitor {
 }
 
 impl Circuit for SupplyMonitor {
+    super::comparator::comparator_rails!();
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         resistance("rtop_ohm", self.rtop_ohm)?;
@@ -405,17 +407,7 @@ impl Circuit for SupplyMonitor {
         "divider resistor Rtop (monitored rail to the sense node); a pull-up is kept"
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
     /// The comparator's supply moves; the monitored rail is the input, not a supply.
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let Ok(t) = self.thresholds() else { return w };
@@ -468,14 +460,6 @@ impl Circuit for SupplyMonitor {
             ));
         }
         w
-    }
-
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
-    }
-
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
     }
 
     fn output_stage(&self) -> OutputStage {
