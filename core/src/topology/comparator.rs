@@ -250,19 +250,7 @@ impl Reference {
     }
 }
 
-/// Smallest and largest resistance a design may hold, ohms (1 µΩ to 1 PΩ): beyond any real part,
-/// and inside the range where every network equation here stays finite in double precision.
-pub const RESISTANCE_RANGE_OHM: (f64, f64) = (1e-6, 1e15);
-
-/// Checks a resistance: finite and within [`RESISTANCE_RANGE_OHM`].
-pub(crate) fn resistance(field: &str, value_ohm: f64) -> Result<f64, DesignError> {
-    let (lo, hi) = RESISTANCE_RANGE_OHM;
-    if value_ohm.is_finite() && (lo..=hi).contains(&value_ohm) {
-        Ok(value_ohm)
-    } else {
-        Err(DesignError::invalid(field, format!("must be a resistance between 1 µΩ and 1 PΩ (got {value_ohm})")))
-    }
-}
+pub(crate) use super::resistance;
 
 /// Two resistances in parallel, ohms, without overflow for huge values.
 pub(crate) fn par2(a_ohm: f64, b_ohm: f64) -> f64 {
@@ -425,11 +413,18 @@ pub(crate) fn bias_error_check_with<C: Circuit>(
         .map(|(p, up, _)| (up * p.value).abs())
         .sum::<f64>()
         * settings.resistor_tolerance;
+    bias_error_warning(bias_err, tol_err, settings, "", w);
+}
+
+/// DOMAIN §6: warns when the bias-current error `bias_err` (volts) exceeds the settings' fraction of
+/// the resistor-tolerance error `tol_err` (volts). `terms` names where the error comes from, as
+/// " (IB × node resistance …)", or is empty.
+pub(crate) fn bias_error_warning(bias_err: f64, tol_err: f64, settings: &CheckSettings, terms: &str, w: &mut Vec<Warning>) {
     if bias_err > 0.0 && bias_err > settings.bias_error_fraction * tol_err {
         w.push(Warning::new(
             WarningCode::BiasCurrentError,
             format!(
-                "bias-current error {:.2} mV exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
+                "bias-current error {:.2} mV{terms} exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
                 bias_err * 1e3,
                 settings.bias_error_fraction * 100.0,
                 tol_err * 1e3

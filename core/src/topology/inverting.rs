@@ -332,18 +332,8 @@ impl Circuit for InvertingSchmitt {
                 tol_err += (t.vt_upper_v - self.vb()).abs() * rp / rb;
             }
             tol_err *= settings.resistor_tolerance;
-            if bias_err > settings.bias_error_fraction * tol_err && bias_err > 0.0 {
-                w.push(Warning::new(
-                    WarningCode::BiasCurrentError,
-                    format!(
-                        "bias-current error {:.2} mV (IB × node resistance {:.0} Ω) exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
-                        bias_err * 1e3,
-                        rp,
-                        settings.bias_error_fraction * 100.0,
-                        tol_err * 1e3
-                    ),
-                ));
-            }
+            let terms = format!(" (IB × node resistance {rp:.0} Ω)");
+            super::comparator::bias_error_warning(bias_err, tol_err, settings, &terms, &mut w);
         }
         if let (Some(ra), Some(rb)) = (self.ra_ohm, self.rb_ohm) {
             let i_div = (self.va() - self.vb()).abs() / (ra + rb);

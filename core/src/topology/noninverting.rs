@@ -11,7 +11,7 @@
 
 use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning,
 };
 use crate::device::Comparator;
 use crate::error::DesignError;
@@ -227,17 +227,8 @@ impl Circuit for NonInvertingSchmitt {
             tol_err += 2.0 * (1.0 + m) * span * x * (1.0 - x);
         }
         tol_err *= settings.resistor_tolerance;
-        if bias_err > 0.0 && bias_err > settings.bias_error_fraction * tol_err {
-            w.push(Warning::new(
-                WarningCode::BiasCurrentError,
-                format!(
-                    "bias-current error {:.2} mV (IB+ × (R1+Rs) and IB− × reference resistance × (1+R1/R2)) exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
-                    bias_err * 1e3,
-                    settings.bias_error_fraction * 100.0,
-                    tol_err * 1e3
-                ),
-            ));
-        }
+        let terms = " (IB+ × (R1+Rs) and IB− × reference resistance × (1+R1/R2))";
+        super::comparator::bias_error_warning(bias_err, tol_err, settings, terms, &mut w);
         divider_current_check(&self.reference, d, settings, d.bias_minus_applied_a(), &mut w);
         w
     }

@@ -1,3 +1,4 @@
+// Over 600 lines: one model for both polarities (a third of the file is unit tests and the netlist).
 //! Open-collector / open-drain comparator with a pull-up resistor (shared/DOMAIN.md §1c).
 //!
 //! The output transistor only sinks. With it off, the pull-up Rpu (to its own rail, which may differ

@@ -1,3 +1,4 @@
+// Over 600 lines: the monitor model is one job; about a third of the file is unit tests and the netlist.
 //! Battery / supply undervoltage or overvoltage monitor (shared/DOMAIN.md §1g).
 //!
 //! The circuit's input is the monitored rail VBAT: VBAT–Rtop–P–Rbot–0 V, hysteresis resistor Rh from

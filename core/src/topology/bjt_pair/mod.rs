@@ -1,3 +1,4 @@
+// Over 600 lines: the hand model and the trait; the Ebers–Moll solver is in `ebers_moll.rs`, a third here is tests and the netlist.
 //! Emitter-coupled two-transistor Schmitt trigger (shared/DOMAIN.md §1f).
 //!
 //! Q1: base = Vin, collector through RC1 to VCC. R1 from C1 to B2, R2 from B2 to 0 V. Q2: collector
@@ -456,13 +457,13 @@ impl EmitterCoupledSchmitt {
 impl Circuit for EmitterCoupledSchmitt {
     fn validate(&self) -> Result<(), DesignError> {
         positive("supply_v", self.supply_v)?;
-        positive("r1_ohm", self.r1_ohm)?;
-        positive("r2_ohm", self.r2_ohm)?;
-        positive("rc1_ohm", self.rc1_ohm)?;
-        positive("rc2_ohm", self.rc2_ohm)?;
-        positive("re_ohm", self.re_ohm)?;
+        crate::topology::resistance("r1_ohm", self.r1_ohm)?;
+        crate::topology::resistance("r2_ohm", self.r2_ohm)?;
+        crate::topology::resistance("rc1_ohm", self.rc1_ohm)?;
+        crate::topology::resistance("rc2_ohm", self.rc2_ohm)?;
+        crate::topology::resistance("re_ohm", self.re_ohm)?;
         if let Some(r) = self.load_ohm {
-            positive("load_ohm", r)?;
+            crate::topology::resistance("load_ohm", r)?;
         }
         self.transistor.validate()?;
         if self.transistor.vbe_v >= self.supply_v {
