@@ -270,3 +270,29 @@ impl Default for CheckSettings {
         }
     }
 }
+
+/// The kind of output stage the active device needs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum OutputStage {
+    /// Comparator or op-amp with a push-pull output.
+    PushPull,
+    /// Comparator with an open-drain or open-collector output and a pull-up resistor.
+    OpenDrain,
+    /// CMOS logic gate (buffer, inverter or Schmitt-input gate).
+    LogicGate,
+    /// Discrete transistors.
+    DiscreteTransistors,
+}
+
+impl OutputStage {
+    /// The part-list description of the stage.
+    pub fn description(self) -> &'static str {
+        match self {
+            OutputStage::PushPull => "comparator or op-amp, push-pull output",
+            OutputStage::OpenDrain => "comparator, open-drain or open-collector output",
+            OutputStage::LogicGate => "CMOS logic gate",
+            OutputStage::DiscreteTransistors => "small-signal transistors",
+        }
+    }
+}

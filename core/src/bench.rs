@@ -14,7 +14,6 @@
 
 use crate::analysis::{CheckSettings, Sense};
 use crate::error::DesignError;
-use crate::topology::supply_monitor::MonitorMode;
 use crate::topology::{analyse, Circuit, Topology};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write as _;
@@ -153,8 +152,7 @@ pub fn bench_procedure_from(
         Sense::Inverting => (a.output_high_v, a.output_low_v),
         Sense::NonInverting => (a.output_low_v, a.output_high_v),
     };
-    let monitor = matches!(circuit, Topology::SupplyMonitor(_));
-    let input_name = if monitor { "monitored rail" } else { "input" }.to_string();
+    let input_name = circuit.input_name().to_string();
 
     let mut readings = Vec::new();
     let mut corner_readings = |supply_v: f64, up: f64, down: f64, nominal: bool| {
@@ -197,9 +195,8 @@ pub fn bench_procedure_from(
     ];
     if a.supply_corners.len() > 1 {
         equipment.push(format!("supply for the circuit, set to {} and adjustable over the supply range", v(supply)));
-    } else if matches!(circuit, Topology::SupplyMonitor(m) if m.comparator_supply == crate::topology::supply_monitor::MonitorSupply::Separate)
-    {
-        equipment.push(format!("separate supply for the comparator, {}", v(supply)));
+    } else if let Some(name) = circuit.bench_supply_name() {
+        equipment.push(format!("{name}, {}", v(supply)));
     } else {
         equipment.push(format!("supply for the circuit, {}", v(supply)));
     }
@@ -261,9 +258,7 @@ pub fn bench_procedure_from(
 
     equipment.extend(safety.equipment);
     let mut cautions = safety.cautions;
-    if monitor {
-        cautions.push("do the ramps with a current-limited bench supply in place of the battery; on the real battery, fuse the sense lead where it leaves the battery".into());
-    }
+    cautions.extend(circuit.bench_cautions());
 
     let troubleshooting = troubleshooting(circuit, a, checks);
     BenchProcedure {
@@ -294,54 +289,7 @@ fn troubleshooting(circuit: &Topology, a: &crate::analysis::Analysis, checks: &C
         "Band too narrow or too wide: the feedback resistor or the output levels are off; measure OUT in both states with the real load connected and compare with the expected levels.".to_string(),
         "OUT chatters at a crossing: the ramp is noisy or the supply is not decoupled; add a 100 nF capacitor at the device's supply pins and use a cleaner source.".to_string(),
     ];
-    match circuit {
-        Topology::Inverting(_) | Topology::NonInverting(_) | Topology::Plain(_) => {
-            t.push(format!(
-                "The device's inputs must stay inside its common-mode range ({} to {}); a reading far off near a rail often means an input left that range.",
-                v(circuit.device_input_range().0),
-                v(circuit.device_input_range().1)
-            ));
-        }
-        Topology::OpenDrain(_) => {
-            t.push("Upper reading off: check the pull-up resistor's value and the rail it goes to; the pull-up is in series with the feedback resistor while the output is off, so it moves VT+.".into());
-            t.push(format!(
-                "Measure OUT while it is high with the load connected: expected {}; a lower value means extra load on the pull-up.",
-                v(a.output_high_v)
-            ));
-        }
-        Topology::SupplyMonitor(m) => {
-            let (trip, release) = match m.mode {
-                MonitorMode::Undervoltage => ("VT− (trip)", "VT+ (release)"),
-                MonitorMode::Overvoltage => ("VT+ (trip)", "VT− (release)"),
-            };
-            t.push(format!("Here the readings are {trip} and {release} of the monitored rail."));
-            t.push("Measure the rail with the load connected and disconnected: when the load drops off the rail recovers, and the release point must lie above the recovered voltage or the load cycles on and off.".into());
-            if checks.expected_recovery_v > 0.0 {
-                t.push(format!(
-                    "The design expects a recovery of {}; check it on the real battery.",
-                    v(checks.expected_recovery_v)
-                ));
-            }
-            t.push("Readings high by the same factor: the reference voltage is off (its error is multiplied by the divider ratio); measure VREF directly.".into());
-            t.push("With megohm dividers, the meter's own input resistance (often 10 MΩ) loads node P: measure the rail, not node P.".into());
-        }
-        Topology::CmosBuffer(_) => {
-            t.push("Both readings off together while their difference is right: the gate's switching point VM differs from the assumed value (datasheets only guarantee it between VIL and VIH); measure node X at the moment of switching.".into());
-            t.push("The buffer's supply current rises while the input is slow near VM (both output transistors conduct); a brief warm part during the ramp is expected.".into());
-        }
-        Topology::SchmittGate(_) => {
-            t.push("The gate's own thresholds vary from part to part within the datasheet's limits: compare the readings with the bands, not with the typical values alone.".into());
-            t.push("Measure the gate input pin at the moment of switching: it should equal the gate's VT+ or VT−; if it does, the difference comes from the input resistors.".into());
-        }
-        Topology::BjtPair(_) => {
-            t.push("Measure VBE of the conducting transistor (about 0.6–0.7 V): the thresholds move almost one-for-one with it, and with temperature (about −2 mV/K).".into());
-            t.push("With the input low, Q2 conducts: its collector-emitter voltage (OUT minus the shared emitter) must stay above 0.2 V; if it saturates, the low level and the upper threshold move.".into());
-            t.push(
-                "No hysteresis at all: the loop gain is too low; check RC1 and the shared emitter resistor values."
-                    .into(),
-            );
-        }
-    }
+    t.extend(circuit.troubleshooting(a, checks));
     t
 }
 

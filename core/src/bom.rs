@@ -18,7 +18,8 @@ use crate::analysis::{Analysis, CheckSettings};
 use crate::error::DesignError;
 use crate::eseries::ESeries;
 use crate::notation::{format_rkm, format_with_unit, Unit};
-use crate::topology::{analyse, Circuit, Parameter, ParameterKind};
+pub use crate::analysis::OutputStage;
+use crate::topology::{analyse, Circuit, ParameterKind};
 use serde::{Deserialize, Serialize};
 
 /// Resistor package (case size) chosen for the part list; 0603 by default.
@@ -114,54 +115,6 @@ impl Default for PartSettings {
     }
 }
 
-/// The kind of output stage the active device needs.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case")]
-pub enum OutputStage {
-    /// Comparator or op-amp with a push-pull output.
-    PushPull,
-    /// Comparator with an open-drain or open-collector output and a pull-up resistor.
-    OpenDrain,
-    /// CMOS logic gate (buffer, inverter or Schmitt-input gate).
-    LogicGate,
-    /// Discrete transistors.
-    DiscreteTransistors,
-}
-
-impl OutputStage {
-    /// Infers the stage from the topology's name and its parameters: "open", "drain" or
-    /// "collector" in the name, or a resistor whose id or label mentions a pull-up, mean an
-    /// open-drain output; "gate", "cmos", "buffer" or "inverter" a logic gate; "bjt",
-    /// "transistor" or "emitter" discrete transistors; anything else a push-pull comparator.
-    pub fn infer(topology_name: &str, params: &[Parameter]) -> Self {
-        let name = topology_name.to_ascii_lowercase();
-        let has = |words: &[&str]| words.iter().any(|w| name.contains(w));
-        let pullup = params.iter().any(|p| {
-            p.kind == ParameterKind::Resistor && {
-                let t = format!("{} {}", p.id, p.label).to_ascii_lowercase();
-                t.contains("pullup") || t.contains("pull_up") || t.contains("pull-up") || t.contains("rpu")
-            }
-        });
-        if has(&["bjt", "transistor", "emitter"]) {
-            OutputStage::DiscreteTransistors
-        } else if has(&["open", "drain", "collector"]) || pullup {
-            OutputStage::OpenDrain
-        } else if has(&["gate", "cmos", "buffer", "inverter"]) {
-            OutputStage::LogicGate
-        } else {
-            OutputStage::PushPull
-        }
-    }
-
-    fn description(self) -> &'static str {
-        match self {
-            OutputStage::PushPull => "comparator or op-amp, push-pull output",
-            OutputStage::OpenDrain => "comparator, open-drain or open-collector output",
-            OutputStage::LogicGate => "CMOS logic gate",
-            OutputStage::DiscreteTransistors => "small-signal transistors",
-        }
-    }
-}
 
 /// One resistor of the part list.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -258,14 +211,13 @@ pub const CSV_HEADER: [&str; 13] = [
 ];
 
 /// Builds the part list of `circuit` from its `analysis`. When `checks` gives a supply range,
-/// the circuit is analysed again at its ends and the worst stress is kept. `stage` is the
-/// active device's output stage (see [`OutputStage::infer`]).
+/// the circuit is analysed again at its ends and the worst stress is kept. The active device's
+/// output stage comes from the circuit ([`Circuit::output_stage`]).
 pub fn bom<C: Circuit>(
     circuit: &C,
     analysis: &Analysis,
     checks: &CheckSettings,
     settings: &PartSettings,
-    stage: OutputStage,
 ) -> Result<Bom, DesignError> {
     crate::error::positive("parts.tolerance_pct", settings.tolerance_pct)?;
     crate::error::finite("parts.power_derating_factor", settings.power_derating_factor)?;
@@ -366,7 +318,7 @@ pub fn bom<C: Circuit>(
         });
     }
 
-    Ok(Bom { resistors, device: device_line(circuit, analysis, stage), settings: *settings })
+    Ok(Bom { resistors, device: device_line(circuit, analysis, circuit.output_stage()), settings: *settings })
 }
 
 fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage) -> DeviceLine {
@@ -506,7 +458,7 @@ mod tests {
     #[test]
     fn standard_values_and_codes() {
         let (c, a) = design(10e3, 13.3e3, 47e3, 5.0);
-        let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
+        let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
         assert_eq!(b.resistors.len(), 3);
         assert_eq!(b.resistors[0].value_rkm, "10K");
         assert_eq!(b.resistors[0].value_text, "10 kΩ");
@@ -526,7 +478,7 @@ mod tests {
         // dissipates 2.515²/120 = 52.7 mW; twice that (common practice) needs 0.125 W, above an
         // 0603's 0.1 W.
         let (c, a) = design(120.0, 120.0, 10e3, 5.0);
-        let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
+        let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
         let r1 = &b.resistors[0];
         let p = r1.max_power_w.unwrap();
         let node_p = (5.0 / 120.0) / (2.0 / 120.0 + 1.0 / 10e3);
@@ -540,7 +492,7 @@ mod tests {
         // 0402: √(0.0625 W × 1 MΩ) = 250 V, package limit 50 V → 50 V; at 1 kΩ √62.5 = 7.9 V.
         let (c, a) = design(1e3, 1e6, 1e6, 5.0);
         let s = PartSettings { package: Package::Chip0402, ..PartSettings::default() };
-        let b = bom(&c, &a, &CheckSettings::default(), &s, OutputStage::PushPull).unwrap();
+        let b = bom(&c, &a, &CheckSettings::default(), &s).unwrap();
         assert!((b.resistors[0].voltage_limit_v - 62.5f64.sqrt()).abs() < 1e-12);
         assert_eq!(b.resistors[1].voltage_limit_v, 50.0);
     }
@@ -550,8 +502,8 @@ mod tests {
         let (c, a) = design(10e3, 10e3, 20e3, 5.0);
         let checks = CheckSettings { supply_min_v: Some(4.5), supply_max_v: Some(5.5), ..CheckSettings::default() };
         let a2 = analyse(&c, &checks).unwrap();
-        let nominal = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
-        let ranged = bom(&c, &a2, &checks, &PartSettings::default(), OutputStage::PushPull).unwrap();
+        let nominal = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
+        let ranged = bom(&c, &a2, &checks, &PartSettings::default()).unwrap();
         let ratio = ranged.resistors[0].max_power_w.unwrap() / nominal.resistors[0].max_power_w.unwrap();
         // Every voltage scales with the supply here, so power scales with its square.
         assert!((ratio - (5.5f64 / 5.0).powi(2)).abs() < 1e-9, "{ratio}");
@@ -559,13 +511,19 @@ mod tests {
     }
 
     #[test]
-    fn stage_inference() {
-        let p = vec![Parameter::resistor("rpu_ohm", "R4", "pull-up resistor", 4.7e3)];
-        assert_eq!(OutputStage::infer("inverting", &[]), OutputStage::PushPull);
-        assert_eq!(OutputStage::infer("inverting_open_drain", &[]), OutputStage::OpenDrain);
-        assert_eq!(OutputStage::infer("undervoltage", &p), OutputStage::OpenDrain);
-        assert_eq!(OutputStage::infer("cmos_gate", &[]), OutputStage::LogicGate);
-        assert_eq!(OutputStage::infer("emitter_coupled_bjt", &[]), OutputStage::DiscreteTransistors);
+    fn the_device_line_takes_the_stage_from_the_circuit() {
+        // The open-drain template needs an open-drain comparator; the transistor pair two
+        // transistors, not a "U1".
+        for (key, stage, designator) in [
+            ("open_drain", OutputStage::OpenDrain, "U1"),
+            ("bjt_pair", OutputStage::DiscreteTransistors, "Q1, Q2"),
+            ("cmos_buffer", OutputStage::LogicGate, "U1"),
+        ] {
+            let r = crate::catalog::templates().into_iter().find(|s| s.key == key).unwrap().record();
+            let a = analyse(&r.circuit, &CheckSettings::default()).unwrap();
+            let b = bom(&r.circuit, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
+            assert_eq!((b.device.stage, b.device.designator.as_str()), (stage, designator), "{key}");
+        }
     }
 
     #[test]
@@ -581,9 +539,9 @@ mod tests {
     fn bad_settings_are_typed_errors() {
         let (c, a) = design(10e3, 10e3, 20e3, 5.0);
         let s = PartSettings { tolerance_pct: 0.0, ..PartSettings::default() };
-        assert!(bom(&c, &a, &CheckSettings::default(), &s, OutputStage::PushPull).is_err());
+        assert!(bom(&c, &a, &CheckSettings::default(), &s).is_err());
         let s = PartSettings { power_derating_factor: 0.5, ..PartSettings::default() };
-        assert!(bom(&c, &a, &CheckSettings::default(), &s, OutputStage::PushPull).is_err());
+        assert!(bom(&c, &a, &CheckSettings::default(), &s).is_err());
         assert_eq!(serde_json::from_str::<PartSettings>("{}").unwrap(), PartSettings::default());
         assert_eq!(serde_json::to_string(&Package::Chip0805).unwrap(), "\"0805\"");
     }

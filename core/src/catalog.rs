@@ -1,6 +1,9 @@
 //! Starting points for new designs: one template per topology with a plain note on when to use it,
 //! and the demo scenarios (invented for the demo, see shared/DOMAIN.md §7 — not measured data).
 //!
+//! The templates come from the topologies themselves ([`Topology::ENTRIES`], each module's
+//! [`crate::topology::Described`]): registering a topology adds its template here.
+//!
 //! Templates and demos are design records in JSON, read through [`DesignRecord::from_json`] like any
 //! stored or shared record, so they exercise the same path and cannot drift from the schema.
 
@@ -41,7 +44,10 @@ fn fallback() -> DesignRecord {
 
 /// One template per topology, in the order topologies are offered.
 pub fn templates() -> Vec<Starter> {
-    TEMPLATES.to_vec()
+    Topology::ENTRIES
+        .iter()
+        .map(|e| Starter { key: e.name, title: e.title, note: e.note, hazardous: false, json: e.template_json })
+        .collect()
 }
 
 /// The demo scenarios.
@@ -49,77 +55,10 @@ pub fn demos() -> Vec<Starter> {
     DEMOS.to_vec()
 }
 
-/// The plain note on when to use a topology, by its record name.
+/// The plain note on when to use a topology, by its record name (empty for an unknown name).
 pub fn topology_note(name: &str) -> &'static str {
-    TEMPLATES.iter().find(|s| record_topology(s.json) == Some(name)).map(|s| s.note).unwrap_or("")
+    Topology::ENTRIES.iter().find(|e| e.name == name).map(|e| e.note).unwrap_or("")
 }
-
-fn record_topology(json: &str) -> Option<&str> {
-    let i = json.find("\"topology\"")?;
-    let rest = &json[i + 10..];
-    let a = rest.find('"')? + 1;
-    let b = rest[a..].find('"')? + a;
-    Some(&rest[a..b])
-}
-
-const TEMPLATES: &[Starter] = &[
-    Starter {
-        key: "inverting",
-        title: "Inverting Schmitt (op-amp or comparator)",
-        note: "The usual choice: the signal drives a high-impedance input and a divider plus feedback set both thresholds anywhere between the rails. The output is high while the input is low.",
-        hazardous: false,
-        json: include_str!("catalog/inverting.json"),
-    },
-    Starter {
-        key: "non_inverting",
-        title: "Non-inverting Schmitt",
-        note: "The signal drives the feedback network through R1, so the band can be wider than the output swing and sit above or below the rails. The source must supply current; the output is high while the input is high.",
-        hazardous: false,
-        json: include_str!("catalog/non_inverting.json"),
-    },
-    Starter {
-        key: "open_drain",
-        title: "Open-drain / open-collector comparator",
-        note: "For comparators whose output only pulls low, or to give a logic level on another rail. The pull-up loads the feedback resistor and moves the upper threshold; Hysteron models it exactly.",
-        hazardous: false,
-        json: include_str!("catalog/open_drain.json"),
-    },
-    Starter {
-        key: "plain_comparator",
-        title: "Plain comparator (no hysteresis)",
-        note: "The baseline with a single threshold. Use it to see what hysteresis buys on your signal; on its own it chatters on slow or noisy edges.",
-        hazardous: false,
-        json: include_str!("catalog/plain_comparator.json"),
-    },
-    Starter {
-        key: "supply_monitor",
-        title: "Supply or battery monitor (lockout)",
-        note: "Undervoltage or overvoltage lockout of a rail: input divider, reference and hysteresis resistor, with trip and release referred to the monitored rail.",
-        hazardous: false,
-        json: include_str!("catalog/supply_monitor.json"),
-    },
-    Starter {
-        key: "cmos_buffer",
-        title: "Schmitt from a CMOS buffer or two inverters",
-        note: "When a spare buffer or two inverters are on the board: two resistors around the gate's switching point give hysteresis. Cheap, but the band moves with the gate's threshold spread.",
-        hazardous: false,
-        json: include_str!("catalog/cmos_buffer.json"),
-    },
-    Starter {
-        key: "schmitt_gate",
-        title: "Schmitt-input logic gate",
-        note: "A gate with built-in hysteresis: enter VT+ and VT− from its datasheet. An optional input divider scales and shifts the band for higher-voltage signals.",
-        hazardous: false,
-        json: include_str!("catalog/schmitt_gate.json"),
-    },
-    Starter {
-        key: "bjt_pair",
-        title: "Two-transistor Schmitt (emitter-coupled)",
-        note: "From discrete transistors when no comparator is at hand; thresholds from hand analysis or a full Ebers–Moll solution.",
-        hazardous: false,
-        json: include_str!("catalog/bjt_pair.json"),
-    },
-];
 
 const DEMOS: &[Starter] = &[
     Starter {
@@ -184,6 +123,10 @@ mod tests {
     fn every_topology_has_a_template_and_a_note() {
         for name in Topology::NAMES {
             assert!(!topology_note(name).is_empty(), "no template for {name}");
+            // The template is a design of the topology it is offered for.
+            let s = templates().into_iter().find(|s| s.key == *name).unwrap();
+            assert_eq!(s.record().circuit.name(), *name);
+            assert_eq!(s.record().circuit.title(), s.title);
         }
     }
 }

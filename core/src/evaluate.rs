@@ -2,7 +2,7 @@
 //! checks run. Each record gives one result; each study inside a result succeeds or fails on its own.
 
 use crate::analysis::{Analysis, Thresholds};
-use crate::bom::{bom, Bom, OutputStage};
+use crate::bom::{bom, Bom};
 use crate::search::{search, SearchReport};
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
@@ -161,8 +161,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
     });
     let bom = analysis.as_ref().and_then(|a| {
-        let stage = OutputStage::infer(record.circuit.name(), &record.circuit.parameters());
-        bom(&record.circuit, a, &record.checks, &record.parts, stage).map_err(|e| fail("bom", e)).ok()
+        bom(&record.circuit, a, &record.checks, &record.parts).map_err(|e| fail("bom", e)).ok()
     });
     // The search starts from the synthesised design when there is one (it may have dropped a
     // resistor to meet the targets), else from the design as entered.

@@ -51,6 +51,10 @@ pub enum Unit {
     Hertz,
     /// Second (s).
     Second,
+    /// Kelvin (K).
+    Kelvin,
+    /// A dimensionless ratio (current gain...), written without a symbol.
+    Ratio,
 }
 
 impl Unit {
@@ -63,6 +67,8 @@ impl Unit {
             Unit::Farad => "F",
             Unit::Hertz => "Hz",
             Unit::Second => "s",
+            Unit::Kelvin => "K",
+            Unit::Ratio => "",
         }
     }
 }

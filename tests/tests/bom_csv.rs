@@ -4,7 +4,7 @@
 //! point carries the part list and the search.
 
 use hysteron_core::analysis::CheckSettings;
-use hysteron_core::bom::{bom, OutputStage, PartSettings, CSV_HEADER};
+use hysteron_core::bom::{bom, PartSettings, CSV_HEADER};
 use hysteron_core::device::Comparator;
 use hysteron_core::evaluate::{evaluate_json, RecordResult};
 use hysteron_core::notation::parse_value;
@@ -67,7 +67,7 @@ fn csv_reads_back_field_for_field() {
     // Values chosen so that notes (with commas and a non-E24 value) need quoting.
     let c = InvertingSchmitt::single_supply(120.0, 113.0, 10e3, Comparator::ideal(5.0));
     let a = analyse(&c, &CheckSettings::default()).unwrap();
-    let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default(), OutputStage::PushPull).unwrap();
+    let b = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
     let rows = parse_rfc4180(&b.to_csv());
     assert_eq!(rows[0], CSV_HEADER.map(String::from).to_vec());
     assert_eq!(rows.len(), 1 + b.resistors.len() + 1);

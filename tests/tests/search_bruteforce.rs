@@ -264,6 +264,12 @@ impl Circuit for Wavy {
     fn negative_rail_v(&self) -> f64 {
         0.0
     }
+    fn output_stage(&self) -> hysteron_core::analysis::OutputStage {
+        hysteron_core::analysis::OutputStage::PushPull
+    }
+    fn troubleshooting(&self, _analysis: &hysteron_core::analysis::Analysis, _checks: &CheckSettings) -> Vec<String> {
+        Vec::new()
+    }
 }
 
 #[test]

@@ -4,17 +4,8 @@
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::catalog;
-use hysteron_core::topology::{Circuit, ParameterKind, Topology};
+use hysteron_core::topology::{Circuit, Topology};
 use leptos::prelude::*;
-
-fn unit_of(kind: ParameterKind) -> &'static str {
-    match kind {
-        ParameterKind::Resistor => "Ω",
-        ParameterKind::BiasCurrent => "A",
-        ParameterKind::Device => "",
-        _ => "V",
-    }
-}
 
 /// Edits the open design's topology, parts and device values.
 #[component]
@@ -23,7 +14,7 @@ pub fn CircuitSection() -> impl IntoView {
     // The list of fields changes only when the topology's parameter set changes.
     let fields = Memo::new(move |_| {
         nb.with_current(|r| {
-            r.circuit.parameters().into_iter().map(|p| (p.id, p.designator, p.label, p.kind)).collect::<Vec<_>>()
+            r.circuit.parameters().into_iter().map(|p| (p.id, p.designator, p.label, p.unit.symbol())).collect::<Vec<_>>()
         })
         .unwrap_or_default()
     });
@@ -68,7 +59,7 @@ pub fn CircuitSection() -> impl IntoView {
                 <p class="note" id="topology-note">{move || catalog::topology_note(&topology.get())}</p>
             </div>
             <div class="field-grid">
-                {move || fields.get().into_iter().enumerate().map(|(i, (id, designator, label, kind))| {
+                {move || fields.get().into_iter().enumerate().map(|(i, (id, designator, label, unit))| {
                     let value = Signal::derive(move || {
                         nb.with_current(|r| r.circuit.parameters().get(i).map(|p| p.value).unwrap_or(f64::NAN)).unwrap_or(f64::NAN)
                     });
@@ -85,7 +76,7 @@ pub fn CircuitSection() -> impl IntoView {
                         })
                     });
                     let shown = match designator { Some(d) => format!("{d} — {label}"), None => label };
-                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit_of(kind) value on_value /> }
+                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit value on_value /> }
                 }).collect_view()}
             </div>
             <details class="json-edit" on:toggle=move |_| { let o = !json_open.get_untracked(); json_open.set(o); if o { load_json(); } }>

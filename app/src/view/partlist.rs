@@ -2,8 +2,8 @@
 
 use super::state::Notebook;
 use crate::download::{file_stem, save_text};
-use hysteron_core::bom::{bom, Bom, OutputStage, Package};
-use hysteron_core::topology::{analyse, Circuit};
+use hysteron_core::bom::{bom, Bom, Package};
+use hysteron_core::topology::analyse;
 use leptos::prelude::*;
 
 const PACKAGES: [Package; 5] = [Package::Chip0402, Package::Chip0603, Package::Chip0805, Package::Chip1206, Package::ThroughHole0W25];
@@ -11,8 +11,7 @@ const PACKAGES: [Package; 5] = [Package::Chip0402, Package::Chip0603, Package::C
 /// The part list for the open design: values in RKM code and in full, ratings, checks, device needs.
 pub fn part_list(record: &hysteron_core::record::DesignRecord) -> Result<Bom, String> {
     let a = analyse(&record.circuit, &record.checks).map_err(|e| e.to_string())?;
-    let stage = OutputStage::infer(record.circuit.name(), &record.circuit.parameters());
-    bom(&record.circuit, &a, &record.checks, &record.parts, stage).map_err(|e| e.to_string())
+    bom(&record.circuit, &a, &record.checks, &record.parts).map_err(|e| e.to_string())
 }
 
 /// The part list section.

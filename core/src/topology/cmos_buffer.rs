@@ -1,3 +1,4 @@
+// Over 600 lines: one model; about a third of the file is unit tests and the netlist.
 //! Non-inverting Schmitt trigger built from a CMOS buffer (or two inverters in series) and resistors
 //! (shared/DOMAIN.md §1d).
 //!
@@ -13,11 +14,13 @@
 //! Only VIL < VM < VIH is guaranteed by logic datasheets, so both thresholds move together by
 //! (1 + R1/R2 + R1/R3)·ΔVM while the width stays fixed (DOMAIN §1d; the check says so with numbers).
 
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{finite, non_negative, positive, DesignError};
+use super::logic::{clamp_warning, logic_input_range};
 use serde::{Deserialize, Serialize};
 
 /// A logic-gate voltage level, entered either as a fraction of the supply or in volts.
@@ -230,41 +233,12 @@ impl CmosBufferSchmitt {
     }
 }
 
-/// Warns when a gate input node leaves the rails over the input span, with the clamp current the
-/// network lets through (Norton current of node X into a clamp at the rail: overshoot / Rth).
-pub(crate) fn clamp_warning(x_low_v: f64, x_high_v: f64, vin_low_v: f64, vin_high_v: f64, supply_v: f64, rth_ohm: f64) -> Vec<Warning> {
-    let mut w = Vec::new();
-    let mut push = |x: f64, vin: f64, rail: f64, word: &str| {
-        let over = (x - rail).abs();
-        let current = if rth_ohm > 0.0 { format!("about {:.3} mA", over / rth_ohm * 1e3) } else { "a current limited only by the signal source".into() };
-        w.push(Warning::new(
-            WarningCode::CommonModeRange,
-            format!(
-                "gate input X would reach {x:.3} V at Vin = {vin:.3} V, {word} the rail ({rail:.3} V): the gate's input clamp diode conducts {current} (node resistance {rth_ohm:.0} Ω); keep it below the datasheet's input clamp current, add series resistance, or limit the input swing"
-            ),
-        ));
-    };
-    if x_high_v > supply_v + 1e-9 {
-        push(x_high_v, vin_high_v, supply_v, "above");
-    }
-    if x_low_v < -1e-9 {
-        push(x_low_v, vin_low_v, 0.0, "below");
-    }
-    w
-}
-
-/// The absolute-maximum input range of CMOS logic, 0.5 V beyond either rail (common practice:
-/// the usual datasheet rating −0.5 V … VDD + 0.5 V).
-pub(crate) fn logic_input_range(supply_v: f64) -> (f64, f64) {
-    (-0.5, supply_v + 0.5)
-}
-
 impl Circuit for CmosBufferSchmitt {
     fn validate(&self) -> Result<(), DesignError> {
-        positive("r1_ohm", self.r1_ohm)?;
-        positive("r2_ohm", self.r2_ohm)?;
+        super::resistance("r1_ohm", self.r1_ohm)?;
+        super::resistance("r2_ohm", self.r2_ohm)?;
         if let Some(r) = self.r3_ohm {
-            positive("r3_ohm", r)?;
+            super::resistance("r3_ohm", r)?;
         }
         self.gate.validate()
     }
@@ -451,6 +425,23 @@ impl Circuit for CmosBufferSchmitt {
     fn negative_rail_v(&self) -> f64 {
         0.0
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::LogicGate
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "Both readings off together while their difference is right: the gate's switching point VM differs from the assumed value (datasheets only guarantee it between VIL and VIH); measure node X at the moment of switching.".into(),
+            "The buffer's supply current rises while the input is slow near VM (both output transistors conduct); a brief warm part during the ramp is expected.".into(),
+        ]
+    }
+}
+
+impl Described for CmosBufferSchmitt {
+    const TITLE: &'static str = "Schmitt from a CMOS buffer or two inverters";
+    const NOTE: &'static str = "When a spare buffer or two inverters are on the board: two resistors around the gate's switching point give hysteresis. Cheap, but the band moves with the gate's threshold spread.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/cmos_buffer.json");
 }
 
 #[cfg(test)]

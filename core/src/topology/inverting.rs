@@ -12,13 +12,14 @@
 //! P = Rp·(VA/Ra + VB/Rb + VO/Rf − IB+) and the device switches when P − V(−) = VOS (∓h/2),
 //! with V(−) = Vin − IB−·Rs. Hence VT+ (VO = VOH) and VT− (VO = VOL) = P − VOS ± h/2 + IB−·Rs.
 
-use super::{expect_len, parallel, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, parallel, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
-use super::noninverting::{resistance, verified};
+use super::comparator::{resistance, verified};
 use crate::error::DesignError;
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// An inverting Schmitt trigger with an optional two-resistor reference divider.
@@ -90,6 +91,8 @@ impl InvertingSchmitt {
 }
 
 impl Circuit for InvertingSchmitt {
+    super::comparator::comparator_rails!(push_pull);
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         if let Some(r) = self.ra_ohm {
@@ -181,7 +184,7 @@ impl Circuit for InvertingSchmitt {
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -312,16 +315,6 @@ impl Circuit for InvertingSchmitt {
         "feedback resistor Rf (output to the non-inverting input)"
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let rp = parallel(&[self.ra_ohm, self.rb_ohm, Some(self.rf_ohm)]);
@@ -339,18 +332,8 @@ impl Circuit for InvertingSchmitt {
                 tol_err += (t.vt_upper_v - self.vb()).abs() * rp / rb;
             }
             tol_err *= settings.resistor_tolerance;
-            if bias_err > settings.bias_error_fraction * tol_err && bias_err > 0.0 {
-                w.push(Warning::new(
-                    WarningCode::BiasCurrentError,
-                    format!(
-                        "bias-current error {:.2} mV (IB × node resistance {:.0} Ω) exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
-                        bias_err * 1e3,
-                        rp,
-                        settings.bias_error_fraction * 100.0,
-                        tol_err * 1e3
-                    ),
-                ));
-            }
+            let terms = format!(" (IB × node resistance {rp:.0} Ω)");
+            super::comparator::bias_error_warning(bias_err, tol_err, settings, &terms, &mut w);
         }
         if let (Some(ra), Some(rb)) = (self.ra_ohm, self.rb_ohm) {
             let i_div = (self.va() - self.vb()).abs() / (ra + rb);
@@ -368,14 +351,12 @@ impl Circuit for InvertingSchmitt {
         }
         w
     }
+}
 
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
-    }
-
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
-    }
+impl Described for InvertingSchmitt {
+    const TITLE: &'static str = "Inverting Schmitt (op-amp or comparator)";
+    const NOTE: &'static str = "The usual choice: the signal drives a high-impedance input and a divider plus feedback set both thresholds anywhere between the rails. The output is high while the input is low.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/inverting.json");
 }
 
 #[cfg(test)]

@@ -1,14 +1,16 @@
 //! Every topology behind one trait ([`Circuit`]) and one enum ([`Topology`]).
 //!
-//! Adding a topology: write one module that implements [`Circuit`] and add one line to the
-//! `topologies!` list at the bottom of this file. Everything else (analysis, operating range,
-//! sensitivities, tolerance, search, the JSON entry point, the page) works through the trait.
+//! Adding a topology: write one module that implements [`Circuit`], [`Described`] and
+//! `Netlisted`, and add one line to the `topologies!` list at the bottom of this file. Everything
+//! else (analysis, operating range, sensitivities, tolerance, search, part list, bench procedure,
+//! catalog template, SPICE deck, schematic, the JSON entry point, the page) works through the traits.
 
 use crate::analysis::{
-    Analysis, CheckSettings, ImpedanceChoice, NodeRange, OperatingPoint, OutputState, ResistorStress,
-    Sense, SupplyCorner, Targets, Thresholds, Warning, WarningCode,
+    Analysis, CheckSettings, ImpedanceChoice, NodeRange, OperatingPoint, OutputStage, OutputState,
+    ResistorStress, Sense, SupplyCorner, Targets, Thresholds, Warning, WarningCode,
 };
 use crate::error::DesignError;
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 pub mod inverting;
@@ -20,6 +22,10 @@ pub mod cmos_buffer;
 pub mod schmitt_gate;
 pub mod bjt_pair;
 pub mod netlisting;
+pub mod comparator;
+pub mod logic;
+#[cfg(test)]
+mod toy;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -56,6 +62,9 @@ pub struct Parameter {
     pub value: f64,
     /// Kind of quantity.
     pub kind: ParameterKind,
+    /// Physical unit of `value` (records written before units were stored read as dimensionless).
+    #[serde(default = "dimensionless")]
+    pub unit: Unit,
     /// Datasheet minimum and maximum, when the record states them (gate thresholds, VBE...);
     /// tolerance analysis uses these limits instead of a percentage.
     #[serde(default)]
@@ -71,13 +80,32 @@ impl Parameter {
             label: label.to_string(),
             value: value_ohm,
             kind: ParameterKind::Resistor,
+            unit: Unit::Ohm,
             limits: None,
         }
     }
 
-    /// A non-resistor parameter.
+    /// A non-resistor parameter; its unit follows from the kind (volts for rails, references,
+    /// levels, offsets and thresholds, amperes for bias currents). A [`ParameterKind::Device`]
+    /// quantity has no one unit: build it with [`Parameter::device`].
     pub fn quantity(id: &str, label: &str, value: f64, kind: ParameterKind) -> Self {
-        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, limits: None }
+        let unit = match kind {
+            ParameterKind::Resistor => Unit::Ohm,
+            ParameterKind::BiasCurrent => Unit::Ampere,
+            ParameterKind::Device => Unit::Ratio,
+            ParameterKind::Supply
+            | ParameterKind::Reference
+            | ParameterKind::OutputLevel
+            | ParameterKind::Offset
+            | ParameterKind::DeviceThreshold => Unit::Volt,
+        };
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None }
+    }
+
+    /// A device property ([`ParameterKind::Device`]) with its unit stated (current gain: ratio,
+    /// saturation current: ampere, temperature: kelvin, sink resistance: ohm...).
+    pub fn device(id: &str, label: &str, value: f64, unit: Unit) -> Self {
+        Parameter { unit, ..Parameter::quantity(id, label, value, ParameterKind::Device) }
     }
 
     /// The same parameter with datasheet limits attached.
@@ -132,6 +160,56 @@ pub trait Circuit: Clone {
 
     /// The lowest rail of the active device, volts (for the phase-reversal check).
     fn negative_rail_v(&self) -> f64;
+
+    /// The output stage the active device needs (part list: device line and designator).
+    fn output_stage(&self) -> OutputStage;
+
+    /// What the circuit's input is called at the bench ("input", "monitored rail").
+    fn input_name(&self) -> &'static str {
+        "input"
+    }
+
+    /// The bench supply for the device when it is not simply "supply for the circuit"
+    /// (a monitor's comparator on its own supply, say); the bench adds the voltage.
+    fn bench_supply_name(&self) -> Option<&'static str> {
+        None
+    }
+
+    /// Safety cautions specific to testing this circuit at the bench.
+    fn bench_cautions(&self) -> Vec<String> {
+        Vec::new()
+    }
+
+    /// What to check when the bench readings are off, specific to this topology (the bench
+    /// procedure puts the hints common to every circuit first).
+    fn troubleshooting(&self, analysis: &Analysis, checks: &CheckSettings) -> Vec<String>;
+}
+
+/// What a topology tells the catalog and the page without a design at hand.
+pub trait Described {
+    /// Short human title ("Inverting Schmitt (op-amp or comparator)").
+    const TITLE: &'static str;
+    /// When an engineer reaches for this topology, in plain words.
+    const NOTE: &'static str;
+    /// The design record (JSON) a new notebook entry of this topology starts from.
+    const TEMPLATE_JSON: &'static str;
+}
+
+/// One registered topology as the catalog sees it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct TopologyEntry {
+    /// Stable record name (`"inverting"`).
+    pub name: &'static str,
+    /// See [`Described::TITLE`].
+    pub title: &'static str,
+    /// See [`Described::NOTE`].
+    pub note: &'static str,
+    /// See [`Described::TEMPLATE_JSON`].
+    pub template_json: &'static str,
+}
+
+fn dimensionless() -> Unit {
+    Unit::Ratio
 }
 
 /// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
@@ -377,52 +455,91 @@ pub fn transfer_curve<C: Circuit>(circuit: &C, vin_min_v: f64, vin_max_v: f64) -
     })
 }
 
-/// Generates the [`Topology`] enum and its dispatching [`Circuit`] implementation from one list.
+/// Generates the [`Topology`] enum and all its dispatch ([`Circuit`], the catalog entries, the
+/// netlist) from one list. The attributes of a list line (doc comments, `#[cfg(test)]`) go on the
+/// variant and on every match arm for it, so a gated line gates the whole topology.
 macro_rules! topologies {
-    ($( $(#[$doc:meta])* $variant:ident($ty:ty) = $name:literal, )+) => {
+    ($( $(#[$attr:meta])* $variant:ident($ty:ty) = $name:literal, )+) => {
         /// Every topology Hysteron knows, as stored in a design record (`"topology": "<name>"`).
         #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
         #[serde(tag = "topology", rename_all = "snake_case")]
         pub enum Topology {
-            $( $(#[$doc])* #[serde(rename = $name)] $variant($ty), )+
+            $( $(#[$attr])* #[serde(rename = $name)] $variant($ty), )+
         }
 
+        #[allow(unused_doc_comments)]
         impl Topology {
             /// The stable name used in design records and links.
             pub fn name(&self) -> &'static str {
-                match self { $( Topology::$variant(_) => $name, )+ }
+                match self { $( $(#[$attr])* Topology::$variant(_) => $name, )+ }
             }
 
             /// All topology names, in display order.
-            pub const NAMES: &'static [&'static str] = &[$($name),+];
+            pub const NAMES: &'static [&'static str] = &[$( $(#[$attr])* $name ),+];
+
+            /// Every topology's catalog entry, in display order.
+            pub const ENTRIES: &'static [TopologyEntry] = &[$(
+                $(#[$attr])*
+                TopologyEntry {
+                    name: $name,
+                    title: <$ty as Described>::TITLE,
+                    note: <$ty as Described>::NOTE,
+                    template_json: <$ty as Described>::TEMPLATE_JSON,
+                }
+            ),+];
+
+            /// The topology's catalog entry.
+            pub fn entry(&self) -> TopologyEntry {
+                let name = self.name();
+                Self::ENTRIES.iter().copied().find(|e| e.name == name).unwrap_or(Self::ENTRIES[0])
+            }
+
+            /// Short human title of the topology.
+            pub fn title(&self) -> &'static str {
+                self.entry().title
+            }
+
+            /// When to use the topology, in plain words.
+            pub fn note(&self) -> &'static str {
+                self.entry().note
+            }
         }
 
+        #[allow(unused_doc_comments)]
         impl Circuit for Topology {
-            fn validate(&self) -> Result<(), DesignError> { match self { $( Topology::$variant(c) => c.validate(), )+ } }
-            fn thresholds(&self) -> Result<Thresholds, DesignError> { match self { $( Topology::$variant(c) => c.thresholds(), )+ } }
-            fn output_levels(&self) -> Result<(f64, f64), DesignError> { match self { $( Topology::$variant(c) => c.output_levels(), )+ } }
-            fn sense(&self) -> Sense { match self { $( Topology::$variant(c) => c.sense(), )+ } }
+            fn validate(&self) -> Result<(), DesignError> { match self { $( $(#[$attr])* Topology::$variant(c) => c.validate(), )+ } }
+            fn thresholds(&self) -> Result<Thresholds, DesignError> { match self { $( $(#[$attr])* Topology::$variant(c) => c.thresholds(), )+ } }
+            fn output_levels(&self) -> Result<(f64, f64), DesignError> { match self { $( $(#[$attr])* Topology::$variant(c) => c.output_levels(), )+ } }
+            fn sense(&self) -> Sense { match self { $( $(#[$attr])* Topology::$variant(c) => c.sense(), )+ } }
             fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
-                match self { $( Topology::$variant(c) => c.operating_point(vin_v, state), )+ }
+                match self { $( $(#[$attr])* Topology::$variant(c) => c.operating_point(vin_v, state), )+ }
             }
-            fn parameters(&self) -> Vec<Parameter> { match self { $( Topology::$variant(c) => c.parameters(), )+ } }
+            fn parameters(&self) -> Vec<Parameter> { match self { $( $(#[$attr])* Topology::$variant(c) => c.parameters(), )+ } }
             fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
-                match self { $( Topology::$variant(c) => c.with_parameters(values).map(Topology::$variant), )+ }
+                match self { $( $(#[$attr])* Topology::$variant(c) => c.with_parameters(values).map(Topology::$variant), )+ }
             }
             fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
-                match self { $( Topology::$variant(c) => c.synthesise_with_anchor(targets, anchor_ohm).map(Topology::$variant), )+ }
+                match self { $( $(#[$attr])* Topology::$variant(c) => c.synthesise_with_anchor(targets, anchor_ohm).map(Topology::$variant), )+ }
             }
-            fn anchor_description(&self) -> &'static str { match self { $( Topology::$variant(c) => c.anchor_description(), )+ } }
-            fn supply_v(&self) -> f64 { match self { $( Topology::$variant(c) => c.supply_v(), )+ } }
-            fn with_supply(&self, supply_v: f64) -> Self { match self { $( Topology::$variant(c) => Topology::$variant(c.with_supply(supply_v)), )+ } }
-            fn checks(&self, settings: &CheckSettings) -> Vec<Warning> { match self { $( Topology::$variant(c) => c.checks(settings), )+ } }
-            fn device_input_range(&self) -> (f64, f64) { match self { $( Topology::$variant(c) => c.device_input_range(), )+ } }
-            fn negative_rail_v(&self) -> f64 { match self { $( Topology::$variant(c) => c.negative_rail_v(), )+ } }
+            fn anchor_description(&self) -> &'static str { match self { $( $(#[$attr])* Topology::$variant(c) => c.anchor_description(), )+ } }
+            fn supply_v(&self) -> f64 { match self { $( $(#[$attr])* Topology::$variant(c) => c.supply_v(), )+ } }
+            fn with_supply(&self, supply_v: f64) -> Self { match self { $( $(#[$attr])* Topology::$variant(c) => Topology::$variant(c.with_supply(supply_v)), )+ } }
+            fn checks(&self, settings: &CheckSettings) -> Vec<Warning> { match self { $( $(#[$attr])* Topology::$variant(c) => c.checks(settings), )+ } }
+            fn device_input_range(&self) -> (f64, f64) { match self { $( $(#[$attr])* Topology::$variant(c) => c.device_input_range(), )+ } }
+            fn negative_rail_v(&self) -> f64 { match self { $( $(#[$attr])* Topology::$variant(c) => c.negative_rail_v(), )+ } }
+            fn output_stage(&self) -> OutputStage { match self { $( $(#[$attr])* Topology::$variant(c) => c.output_stage(), )+ } }
+            fn input_name(&self) -> &'static str { match self { $( $(#[$attr])* Topology::$variant(c) => c.input_name(), )+ } }
+            fn bench_supply_name(&self) -> Option<&'static str> { match self { $( $(#[$attr])* Topology::$variant(c) => c.bench_supply_name(), )+ } }
+            fn bench_cautions(&self) -> Vec<String> { match self { $( $(#[$attr])* Topology::$variant(c) => c.bench_cautions(), )+ } }
+            fn troubleshooting(&self, analysis: &Analysis, checks: &CheckSettings) -> Vec<String> {
+                match self { $( $(#[$attr])* Topology::$variant(c) => c.troubleshooting(analysis, checks), )+ }
+            }
         }
 
+        #[allow(unused_doc_comments)]
         impl crate::netlist::Netlisted for Topology {
-            fn netlist(&self) -> crate::netlist::Netlist { match self { $( Topology::$variant(c) => c.netlist(), )+ } }
-            fn schematic(&self) -> crate::schematic::sheet::SchematicLayout { match self { $( Topology::$variant(c) => c.schematic(), )+ } }
+            fn netlist(&self) -> crate::netlist::Netlist { match self { $( $(#[$attr])* Topology::$variant(c) => c.netlist(), )+ } }
+            fn schematic(&self) -> crate::schematic::sheet::SchematicLayout { match self { $( $(#[$attr])* Topology::$variant(c) => c.schematic(), )+ } }
         }
     };
 }
@@ -444,6 +561,24 @@ topologies! {
     SchmittGate(schmitt_gate::SchmittGate) = "schmitt_gate",
     /// Emitter-coupled two-transistor Schmitt trigger. DOMAIN §1f.
     BjtPair(bjt_pair::EmitterCoupledSchmitt) = "bjt_pair",
+    /// A made-up one-resistor topology that proves a new topology needs one module and this line.
+    #[cfg(test)]
+    Toy(toy::Toy) = "toy",
+}
+
+/// Smallest and largest resistance a design may hold, ohms (1 µΩ to 1 PΩ): beyond any real part,
+/// and inside the range where every network equation here stays finite in double precision.
+pub const RESISTANCE_RANGE_OHM: (f64, f64) = (1e-6, 1e15);
+
+/// Checks a resistance: finite and within [`RESISTANCE_RANGE_OHM`]. Every topology checks its
+/// resistors here, so a value one topology refuses no other accepts.
+pub(crate) fn resistance(field: &str, value_ohm: f64) -> Result<f64, DesignError> {
+    let (lo, hi) = RESISTANCE_RANGE_OHM;
+    if value_ohm.is_finite() && (lo..=hi).contains(&value_ohm) {
+        Ok(value_ohm)
+    } else {
+        Err(DesignError::invalid(field, format!("must be a resistance between 1 µΩ and 1 PΩ (got {value_ohm})")))
+    }
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.

@@ -1,3 +1,4 @@
+// Over 600 lines: one model for both polarities (a third of the file is unit tests and the netlist).
 //! Open-collector / open-drain comparator with a pull-up resistor (shared/DOMAIN.md §1c).
 //!
 //! The output transistor only sinks. With it off, the pull-up Rpu (to its own rail, which may differ
@@ -17,16 +18,19 @@
 //! (pull-up a tenth of the feedback resistor) is common practice (DOMAIN §6). Offsets, bias
 //! currents and built-in hysteresis enter as in the push-pull forms.
 
-use super::noninverting::{
+use super::comparator::{
+    bias_error_check_with, divider_current_check,
     divider_fraction, noninverting_switch_v, par2, pick_root, quadratic_roots, resistance, verified, Designators,
     Reference,
 };
-use super::{expect_len, parallel, sensitivities, Circuit, Parameter, ParameterKind};
+use super::{Described, expect_len, parallel, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use crate::error::{non_negative, DesignError};
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// Which input the signal drives, with the resistors of that form.
@@ -251,6 +255,8 @@ impl OpenDrainSchmitt {
 }
 
 impl Circuit for OpenDrainSchmitt {
+    super::comparator::comparator_rails!();
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         match self.polarity {
@@ -406,13 +412,13 @@ impl Circuit for OpenDrainSchmitt {
         }
         v.extend(rails);
         v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
-        v.push(Parameter::quantity("sink_resistance_ohm", "output sink resistance", self.sink_resistance_ohm, ParameterKind::Device));
+        v.push(Parameter::device("sink_resistance_ohm", "output sink resistance", self.sink_resistance_ohm, Unit::Ohm));
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         if self.has_bias_minus() {
             v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
         }
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -629,16 +635,6 @@ impl Circuit for OpenDrainSchmitt {
         }
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let rfb = self.feedback_ohm();
@@ -668,53 +664,35 @@ impl Circuit for OpenDrainSchmitt {
         match self.polarity {
             OpenDrainPolarity::Inverting { ra_ohm: Some(ra), rail_a, rb_ohm: Some(rb), rail_b, .. } => {
                 let div = Reference::Divider { ra_ohm: ra, rail_a, rb_ohm: rb, rail_b };
-                super::noninverting::divider_current_check(&div, &self.device, settings, self.device.bias_plus_applied_a(), &mut w);
+                divider_current_check(&div, &self.device, settings, self.device.bias_plus_applied_a(), &mut w);
             }
             OpenDrainPolarity::NonInverting { reference, .. } => {
-                super::noninverting::divider_current_check(&reference, &self.device, settings, self.device.bias_minus_applied_a(), &mut w);
+                divider_current_check(&reference, &self.device, settings, self.device.bias_minus_applied_a(), &mut w);
             }
             _ => {}
         }
         w
     }
 
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::OpenDrain
     }
 
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
+    fn troubleshooting(&self, analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "Upper reading off: check the pull-up resistor's value and the rail it goes to; the pull-up is in series with the feedback resistor while the output is off, so it moves VT+.".into(),
+            format!(
+                "Measure OUT while it is high with the load connected: expected {:.3} V; a lower value means extra load on the pull-up.",
+                analysis.output_high_v
+            ),
+        ]
     }
 }
 
-/// Bias-current error (thresholds with and without the bias currents) against the resistor-tolerance
-/// error Σ|∂VT+/∂Ri|·Ri·tol (DOMAIN §2, §6), for any circuit whose device is a [`Comparator`].
-pub(crate) fn bias_error_check_with<C: Circuit>(
-    circuit: &C,
-    without_bias: &C,
-    settings: &CheckSettings,
-    w: &mut Vec<Warning>,
-) {
-    let (Ok(t), Ok(t0)) = (circuit.thresholds(), without_bias.thresholds()) else { return };
-    let bias_err = (t.vt_upper_v - t0.vt_upper_v).abs().max((t.vt_lower_v - t0.vt_lower_v).abs());
-    let Ok(s) = sensitivities(circuit) else { return };
-    let tol_err: f64 = s
-        .iter()
-        .filter(|(p, _, _)| p.kind == ParameterKind::Resistor)
-        .map(|(p, up, _)| (up * p.value).abs())
-        .sum::<f64>()
-        * settings.resistor_tolerance;
-    if bias_err > 0.0 && bias_err > settings.bias_error_fraction * tol_err {
-        w.push(Warning::new(
-            WarningCode::BiasCurrentError,
-            format!(
-                "bias-current error {:.2} mV exceeds {:.0} % of the resistor-tolerance error {:.2} mV: lower the resistances or use a lower-bias device",
-                bias_err * 1e3,
-                settings.bias_error_fraction * 100.0,
-                tol_err * 1e3
-            ),
-        ));
-    }
+impl Described for OpenDrainSchmitt {
+    const TITLE: &'static str = "Open-drain / open-collector comparator";
+    const NOTE: &'static str = "For comparators whose output only pulls low, or to give a logic level on another rail. The pull-up loads the feedback resistor and moves the upper threshold; Hysteron models it exactly.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/open_drain.json");
 }
 
 fn bias_error_check(c: &OpenDrainSchmitt, settings: &CheckSettings, w: &mut Vec<Warning>) {

@@ -10,14 +10,15 @@
 //! - Signal on (+), reference node N = Vth − IB−·Rref on (−): VT± = N + VOS ± h/2 + IB+·Rs.
 //! - Signal on (−), reference node N = Vth − IB+·Rref on (+): VT± = N − VOS ± h/2 + IB−·Rs.
 
-use super::noninverting::{divider_current_check, resistance, verified, Designators, Reference};
-use super::open_drain::bias_error_check_with;
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::comparator::{divider_current_check, resistance, verified, Designators, Reference};
+use super::comparator::bias_error_check_with;
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::Comparator;
 use crate::error::DesignError;
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// A comparator with no feedback: signal on one input, a reference on the other.
@@ -69,6 +70,8 @@ impl PlainComparator {
 }
 
 impl Circuit for PlainComparator {
+    super::comparator::comparator_rails!(push_pull);
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         self.reference.validate()
@@ -120,7 +123,7 @@ impl Circuit for PlainComparator {
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
         v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -194,16 +197,6 @@ impl Circuit for PlainComparator {
         "reference divider total Ra + Rb (unused with a direct reference)"
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let d = &self.device;
@@ -222,14 +215,12 @@ impl Circuit for PlainComparator {
         divider_current_check(&self.reference, d, settings, self.bias_ref_signal().0, &mut w);
         w
     }
+}
 
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
-    }
-
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
-    }
+impl Described for PlainComparator {
+    const TITLE: &'static str = "Plain comparator (no hysteresis)";
+    const NOTE: &'static str = "The baseline with a single threshold. Use it to see what hysteresis buys on your signal; on its own it chatters on slow or noisy edges.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/plain_comparator.json");
 }
 
 #[cfg(test)]

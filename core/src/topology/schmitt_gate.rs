@@ -1,3 +1,4 @@
+// Over 600 lines: one model; about a third of the file is unit tests and the netlist.
 //! A dedicated Schmitt-input logic gate, optionally behind a resistive input network
 //! (shared/DOMAIN.md §1e).
 //!
@@ -13,9 +14,10 @@
 //! **VT± = a·VT±gate + b** with a = Ra·G ≥ 1 and b = −VDD·Ra/Rc ≤ 0 [D]. Without Ra the thresholds
 //! are the gate's own.
 
-use super::cmos_buffer::{clamp_warning, logic_input_range};
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::logic::{clamp_warning, logic_input_range};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{finite, non_negative, positive, DesignError};
@@ -208,13 +210,13 @@ impl SchmittGate {
 impl Circuit for SchmittGate {
     fn validate(&self) -> Result<(), DesignError> {
         if let Some(r) = self.ra_ohm {
-            positive("ra_ohm", r)?;
+            super::resistance("ra_ohm", r)?;
         }
         if let Some(r) = self.rb_ohm {
-            positive("rb_ohm", r)?;
+            super::resistance("rb_ohm", r)?;
         }
         if let Some(r) = self.rc_ohm {
-            positive("rc_ohm", r)?;
+            super::resistance("rc_ohm", r)?;
         }
         if self.ra_ohm.is_none() && (self.rb_ohm.is_some() || self.rc_ohm.is_some()) {
             return Err(DesignError::inconsistent(
@@ -432,6 +434,23 @@ impl Circuit for SchmittGate {
     fn negative_rail_v(&self) -> f64 {
         0.0
     }
+
+    fn output_stage(&self) -> OutputStage {
+        OutputStage::LogicGate
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
+        vec![
+            "The gate's own thresholds vary from part to part within the datasheet's limits: compare the readings with the bands, not with the typical values alone.".into(),
+            "Measure the gate input pin at the moment of switching: it should equal the gate's VT+ or VT−; if it does, the difference comes from the input resistors.".into(),
+        ]
+    }
+}
+
+impl Described for SchmittGate {
+    const TITLE: &'static str = "Schmitt-input logic gate";
+    const NOTE: &'static str = "A gate with built-in hysteresis: enter VT+ and VT− from its datasheet. An optional input divider scales and shifts the band for higher-voltage signals.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/schmitt_gate.json");
 }
 
 #[cfg(test)]

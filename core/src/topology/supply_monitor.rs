@@ -1,3 +1,4 @@
+// Over 600 lines: the monitor model is one job; about a third of the file is unit tests and the netlist.
 //! Battery / supply undervoltage or overvoltage monitor (shared/DOMAIN.md §1g).
 //!
 //! The circuit's input is the monitored rail VBAT: VBAT–Rtop–P–Rbot–0 V, hysteresis resistor Rh from
@@ -15,14 +16,16 @@
 //! VBAT = [P(1 + r_x + Rtop/Rbot) − β·r_x + IB+·Rtop]/(1 + α·r_x), with the output source
 //! Vx = α·VBAT + β behind Rx and r_x = Rtop/(Rh + Rx).
 
-use super::noninverting::{pick_root, quadratic_roots, resistance, verified, Designators};
-use super::open_drain::bias_error_check_with;
-use super::{expect_len, Circuit, Parameter, ParameterKind};
+use super::comparator::{pick_root, quadratic_roots, resistance, verified, Designators};
+use super::comparator::bias_error_check_with;
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
+    Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use crate::error::{finite, non_negative, DesignError};
+use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// Extra-low-voltage limit for d.c. used by the safety check: 60 V d.c. (IEC 62368-1 ES1 and the
@@ -179,6 +182,8 @@ impl SupplyMonitor {
 }
 
 impl Circuit for SupplyMonitor {
+    super::comparator::comparator_rails!();
+
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         resistance("rtop_ohm", self.rtop_ohm)?;
@@ -278,7 +283,7 @@ impl Circuit for SupplyMonitor {
         v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
         v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
         v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::Device));
+        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
         v
     }
 
@@ -403,17 +408,7 @@ impl Circuit for SupplyMonitor {
         "divider resistor Rtop (monitored rail to the sense node); a pull-up is kept"
     }
 
-    fn supply_v(&self) -> f64 {
-        self.device.supply_v
-    }
-
     /// The comparator's supply moves; the monitored rail is the input, not a supply.
-    fn with_supply(&self, supply_v: f64) -> Self {
-        let mut c = self.clone();
-        c.device.supply_v = supply_v;
-        c
-    }
-
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
         let mut w = Vec::new();
         let Ok(t) = self.thresholds() else { return w };
@@ -468,13 +463,50 @@ impl Circuit for SupplyMonitor {
         w
     }
 
-    fn device_input_range(&self) -> (f64, f64) {
-        (self.device.input_min_v(), self.device.input_max_v())
+    fn output_stage(&self) -> OutputStage {
+        match self.output {
+            MonitorOutput::PushPull => OutputStage::PushPull,
+            MonitorOutput::OpenDrain { .. } => OutputStage::OpenDrain,
+        }
     }
 
-    fn negative_rail_v(&self) -> f64 {
-        self.device.negative_rail_v
+    fn input_name(&self) -> &'static str {
+        "monitored rail"
     }
+
+    fn bench_supply_name(&self) -> Option<&'static str> {
+        (self.comparator_supply == MonitorSupply::Separate).then_some("separate supply for the comparator")
+    }
+
+    fn bench_cautions(&self) -> Vec<String> {
+        vec!["do the ramps with a current-limited bench supply in place of the battery; on the real battery, fuse the sense lead where it leaves the battery".into()]
+    }
+
+    fn troubleshooting(&self, _analysis: &Analysis, checks: &CheckSettings) -> Vec<String> {
+        let (trip, release) = match self.mode {
+            MonitorMode::Undervoltage => ("VT− (trip)", "VT+ (release)"),
+            MonitorMode::Overvoltage => ("VT+ (trip)", "VT− (release)"),
+        };
+        let mut t = vec![
+            format!("Here the readings are {trip} and {release} of the monitored rail."),
+            "Measure the rail with the load connected and disconnected: when the load drops off the rail recovers, and the release point must lie above the recovered voltage or the load cycles on and off.".into(),
+        ];
+        if checks.expected_recovery_v > 0.0 {
+            t.push(format!(
+                "The design expects a recovery of {:.3} V; check it on the real battery.",
+                checks.expected_recovery_v
+            ));
+        }
+        t.push("Readings high by the same factor: the reference voltage is off (its error is multiplied by the divider ratio); measure VREF directly.".into());
+        t.push("With megohm dividers, the meter's own input resistance (often 10 MΩ) loads node P: measure the rail, not node P.".into());
+        t
+    }
+}
+
+impl Described for SupplyMonitor {
+    const TITLE: &'static str = "Supply or battery monitor (lockout)";
+    const NOTE: &'static str = "Undervoltage or overvoltage lockout of a rail: input divider, reference and hysteresis resistor, with trip and release referred to the monitored rail.";
+    const TEMPLATE_JSON: &'static str = include_str!("../catalog/supply_monitor.json");
 }
 
 #[cfg(test)]
