@@ -110,3 +110,42 @@ fn huge_noise_fails_the_signal_study_naming_the_quantity() {
     // The rest of the design is still evaluated.
     assert!(e.analysis.is_some());
 }
+
+/// Every study setting outside its physical range (core::limits) gives an `InvalidValue` error
+/// naming the field, in the study that reads it.
+#[test]
+fn out_of_range_settings_are_refused_naming_the_field() {
+    use hysteron_core::error::DesignError;
+    let cases: Vec<(&str, &str, fn(&mut Value))> = vec![
+        ("signal", "noise.rms_v", |r| r["signal"]["noise"][1]["rms_v"] = json!(1e308)),
+        ("signal", "components.amplitude_v", |r| r["signal"]["components"][1]["amplitude_v"] = json!(1e300)),
+        ("signal", "components.frequency_hz", |r| r["signal"]["components"][1]["frequency_hz"] = json!(5e-324)),
+        ("signal", "duration_s", |r| r["signal"]["duration_s"] = json!(1e308)),
+        ("signal", "sample_rate_hz", |r| r["signal"]["sample_rate_hz"] = json!(1e308)),
+        ("signal", "noise.corner_hz", |r| r["signal"]["noise"][1]["corner_hz"] = json!(5e-324)),
+        ("tolerance", "tolerance.offset_v", |r| r["tolerance"]["offset_v"] = json!(1e308)),
+        ("tolerance", "tolerance.spec.vt_upper_min_v", |r| r["tolerance"]["spec"]["vt_upper_min_v"] = json!(-1e308)),
+        ("tolerance", "tolerance.resistor_tempco_ppm_per_k", |r| r["tolerance"]["resistor_tempco_ppm_per_k"] = json!(1e308)),
+        ("synthesis", "targets.vt_upper_v", |r| r["targets"]["vt_upper_v"] = json!(1e308)),
+        ("synthesis", "targets.impedance.anchor_ohm", |r| r["targets"]["impedance"]["anchor_ohm"] = json!(5e-324)),
+        ("analysis", "checks.supply_max_v", |r| r["checks"]["supply_max_v"] = json!(1e308)),
+        ("search", "search.r_max_ohm", |r| r["search"] = json!({"r_max_ohm": 1e308})),
+        ("search", "search.r_min_ohm", |r| r["search"] = json!({"r_min_ohm": 5e-324})),
+        ("application.oscillator", "oscillator.c_f", |r| r["application"] = json!({"oscillator": {"c_f": 1e308}})),
+        ("application.debounce", "debounce.bounce_s", |r| r["application"] = json!({"debounce": {"bounce_s": 1e308}})),
+    ];
+    for (study, field, mutate) in cases {
+        let mut r = demo("Lathe");
+        mutate(&mut r);
+        let e = evaluate_value(&r);
+        assert_all_finite(&e);
+        let found = e.errors.iter().find(|x| x.study == study);
+        match found.map(|x| &x.error) {
+            Some(DesignError::InvalidValue { field: f, reason }) => {
+                assert_eq!(f, field, "{study}: {reason}");
+                assert!(reason.contains("must be"), "{reason}");
+            }
+            other => panic!("{study}/{field}: expected an invalid-value error, got {other:?} (all: {:?})", e.errors),
+        }
+    }
+}
