@@ -7,3 +7,4 @@
 pub mod browser;
 pub mod server;
 pub mod designs;
+pub mod mutate;
