@@ -8,7 +8,8 @@
 //!
 //! Each asserts: no panic; every number in a successful result finite; output within the reader's
 //! stated memory bounds; and every single input within a time bound (the bounds are named beside
-//! each check). The case counts below take about 60 s in all on the 2-core CI machine in the test
+//! each check). The case counts below take about 65 s of test time in all (about 35 s wall, the three run in
+//! parallel) on the 2-core CI machine in the test
 //! profile (`hysteron-core` is built with opt-level 3 there); `FUZZ_SCALE=<factor>` runs more or
 //! fewer. Each target prints its inputs per second and its slowest input.
 
@@ -65,9 +66,9 @@ impl Clock {
     }
 }
 
-/// Bound on one link's decoding (and, when it decodes, its evaluation): measured worst 93 ms
-/// (20,000 inputs at about 980 per second, 2 cores shared with a build); the bound leaves a
-/// twentyfold margin for a loaded CI machine.
+/// Bound on one link's decoding (and, when it decodes, its evaluation): measured worst 93–137 ms
+/// (about 1,000–1,400 inputs per second, 2 cores shared with other builds); the bound leaves a
+/// fifteenfold margin for a loaded CI machine.
 const LINK_BOUND: Duration = Duration::from_millis(2_000);
 
 #[test]
@@ -80,7 +81,7 @@ fn fuzz_link_decoder() {
     // An edit: (kind, position, byte).
     let edit = (0u8..7, any::<u32>(), any::<u8>());
     let strategy = (any::<u32>(), proptest::collection::vec(edit, 1..6));
-    runner(20_000, 1)
+    runner(40_000, 1)
         .run(&strategy, |(which, edits)| {
             let mut link: Vec<u8> = links[which as usize % links.len()].clone().into_bytes();
             for (kind, pos, byte) in edits {
@@ -137,8 +138,8 @@ fn fuzz_link_decoder() {
     assert!(r.is_err() && took < LINK_BOUND, "{took:?}");
 }
 
-/// Bound on one CSV parse of up to about 30 kB: measured worst 12 ms (about 2,200 inputs per
-/// second); eightyfold margin.
+/// Bound on one CSV parse of up to about 30 kB: measured worst 12–16 ms (about 2,200–3,300
+/// inputs per second); sixtyfold margin.
 const CSV_BOUND: Duration = Duration::from_millis(1_000);
 
 #[test]
@@ -169,7 +170,7 @@ fn fuzz_csv_reader() {
     let edits = proptest::collection::vec((any::<u32>(), 0usize..PIECES.len(), 0u8..3), 0..12);
     let strategy = (0usize..3, edits, options, 0usize..n);
     let clock = Clock::new();
-    runner(30_000, 2)
+    runner(60_000, 2)
         .run(&strategy, |(which, edits, (sep, dec, header, tcol, vcol, step, strict), keep_rows)| {
             // Keep a prefix of the rows (short files, single rows), then edit characters.
             let full = &texts[which];
@@ -218,8 +219,8 @@ fn fuzz_csv_reader() {
     clock.report("CSV reader");
 }
 
-/// Bound on one record's evaluation (every study the record carries): measured worst 192 ms
-/// (a demo with tolerance and signal studies; about 170 inputs per second); 25-fold margin for CI.
+/// Bound on one record's evaluation (every study the record carries): measured worst 141–192 ms
+/// (a demo with tolerance and signal studies; about 170–360 inputs per second); 25-fold margin.
 const RECORD_BOUND: Duration = Duration::from_millis(5_000);
 
 #[test]
@@ -229,7 +230,7 @@ fn fuzz_record_evaluator() {
     let mut studies_failed_non_finite = 0u64;
     let counter = Cell::new(0u64);
     let strategy = (any::<u32>(), proptest::collection::vec((any::<u32>(), any::<u32>()), 1..5));
-    runner(3_500, 3)
+    runner(7_000, 3)
         .run(&strategy, |(which, picks)| {
             let record = &records[which as usize % records.len()];
             let text = mutate(record, &picks).to_string();
