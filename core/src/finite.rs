@@ -473,7 +473,8 @@ mod tests {
         assert_eq!(e, DesignError::NotFinite { quantity: "worst_case.vt_upper.max.value_v".into() });
         assert!(e.to_string().starts_with("worst_case.vt_upper.max.value_v is not a finite number"), "{e}");
 
-        let cases: Vec<(fn(&mut Outer), &str)> = vec![
+        type Case = (fn(&mut Outer), &'static str);
+        let cases: Vec<Case> = vec![
             (|o| o.list[1] = Some(f64::NAN), "r.list[1]"),
             (|o| o.choice = Choice::AnchorOhm(f64::NEG_INFINITY), "r.choice.AnchorOhm"),
             (|o| o.choice = Choice::Pair(1.0, f64::NAN), "r.choice.Pair[1]"),

@@ -92,7 +92,7 @@ pub fn set_extreme(v: &mut Value, path: &[Seg], pick: u32) {
         } else {
             Value::from(c)
         }
-    } else if x.is_u64() && pick % 3 == 0 {
+    } else if x.is_u64() && pick.is_multiple_of(3) {
         let choices = [0u64, 1, u64::MAX, u64::from(u32::MAX)];
         Value::from(choices[(pick / 3) as usize % choices.len()])
     } else {

@@ -116,7 +116,8 @@ fn huge_noise_fails_the_signal_study_naming_the_quantity() {
 #[test]
 fn out_of_range_settings_are_refused_naming_the_field() {
     use hysteron_core::error::DesignError;
-    let cases: Vec<(&str, &str, fn(&mut Value))> = vec![
+    type Case = (&'static str, &'static str, fn(&mut Value));
+    let cases: Vec<Case> = vec![
         ("signal", "noise.rms_v", |r| r["signal"]["noise"][1]["rms_v"] = json!(1e308)),
         ("signal", "components.amplitude_v", |r| r["signal"]["components"][1]["amplitude_v"] = json!(1e300)),
         ("signal", "components.frequency_hz", |r| r["signal"]["components"][1]["frequency_hz"] = json!(5e-324)),

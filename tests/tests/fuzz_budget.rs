@@ -118,7 +118,7 @@ fn fuzz_link_decoder() {
             let (out, took) = clock.time(|| {
                 let decoded = decode_link(&text);
                 // A link that still decodes is a record: evaluate it too, and check its results.
-                let evaluated = decoded.as_ref().ok().map(|r| hysteron_core::evaluate::evaluate(r));
+                let evaluated = decoded.as_ref().ok().map(hysteron_core::evaluate::evaluate);
                 (decoded, evaluated)
             });
             prop_assert!(took < LINK_BOUND, "{took:?} for {text}");
