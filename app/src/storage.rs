@@ -98,17 +98,30 @@ pub struct Loaded {
     pub entries: Vec<Entry>,
     /// Unreadable items.
     pub set_aside: Vec<SetAside>,
-    /// Set when storage cannot be used at all (private mode, disabled).
+    /// Set when storage cannot be read at all (private mode, disabled, blocked): the designs that
+    /// may be stored are unknown, so nothing is shown as the notebook and nothing is written.
     pub unavailable: Option<String>,
+    /// Set when storage can be read but refuses writes (full): the stored designs are shown,
+    /// and saves report their own failure.
+    pub read_only: Option<String>,
 }
 
-/// Whether local storage can be written (false in some private modes or when disabled).
-pub fn available() -> Result<(), String> {
+/// Local storage, when it can be read: the browser may refuse it (private mode, disabled or
+/// blocked site data), and reading may throw.
+pub fn readable() -> Result<web_sys::Storage, String> {
     let storage = web_sys::window()
         .ok_or("no window")?
         .local_storage()
         .map_err(|_| "this browser refuses access to local storage".to_string())?
         .ok_or("this browser has no local storage")?;
+    storage.length().map_err(|_| "local storage refuses reads".to_string())?;
+    storage.get_item(INDEX_KEY).map_err(|_| "local storage refuses reads".to_string())?;
+    Ok(storage)
+}
+
+/// Whether local storage can be written (false in some private modes, when disabled or full).
+pub fn available() -> Result<(), String> {
+    let storage = readable()?;
     storage
         .set_item("hysteron/probe", "1")
         .map_err(|_| "local storage refuses writes (private mode or storage full)".to_string())?;
@@ -118,6 +131,17 @@ pub fn available() -> Result<(), String> {
 
 fn raw_get(key: &str) -> Option<String> {
     web_sys::window()?.local_storage().ok()??.get_item(key).ok()?
+}
+
+/// Reads one design as stored now (another tab may have written it): `None` when absent.
+pub fn read(id: &str) -> Option<Result<Entry, SetAside>> {
+    let key = design_key(id);
+    raw_get(&key).map(|text| parse_stored(&key, &text))
+}
+
+/// The revision stored under `id` now, when there is a readable one.
+pub fn stored_revision(id: &str) -> Option<u64> {
+    serde_json::from_str::<StoredDesign>(&raw_get(&design_key(id))?).ok().map(|s| s.revision)
 }
 
 /// Parses one stored design's text.
@@ -137,10 +161,10 @@ pub fn parse_stored(key: &str, text: &str) -> Result<Entry, SetAside> {
 
 /// Reads the whole notebook. Never fails: problems are reported per item.
 pub fn load() -> Loaded {
-    if let Err(e) = available() {
+    if let Err(e) = readable() {
         return Loaded { unavailable: Some(e), ..Loaded::default() };
     }
-    let mut loaded = Loaded::default();
+    let mut loaded = Loaded { read_only: available().err(), ..Loaded::default() };
     let ids: Vec<String> = match raw_get(INDEX_KEY) {
         None => Vec::new(),
         Some(text) => match serde_json::from_str::<Vec<String>>(&text) {
@@ -192,11 +216,9 @@ fn scan_design_keys() -> Vec<String> {
 /// When another tab saved a newer revision meanwhile, nothing is overwritten: `Err(Conflict)`.
 pub fn save(entry: &Entry, order: &[String]) -> Result<u64, SaveError> {
     let key = design_key(&entry.id);
-    if let Some(text) = raw_get(&key) {
-        if let Ok(stored) = serde_json::from_str::<StoredDesign>(&text) {
-            if stored.revision > entry.revision {
-                return Err(SaveError::Conflict { theirs: stored.revision });
-            }
+    if let Some(theirs) = stored_revision(&entry.id) {
+        if theirs > entry.revision {
+            return Err(SaveError::Conflict { theirs });
         }
     }
     let revision = entry.revision + 1;
@@ -213,10 +235,16 @@ pub fn save(entry: &Entry, order: &[String]) -> Result<u64, SaveError> {
     Ok(revision)
 }
 
-/// Removes one design from storage (the page keeps it in memory for undo).
-pub fn remove(id: &str, order: &[String]) {
+/// Removes one design from storage (the page keeps it in memory for undo), unless another tab
+/// saved a newer revision than `revision` meanwhile: then nothing is removed, `Err(Conflict)`.
+pub fn remove(id: &str, revision: u64, order: &[String]) -> Result<(), SaveError> {
+    if let Some(theirs) = stored_revision(id) {
+        if theirs > revision {
+            return Err(SaveError::Conflict { theirs });
+        }
+    }
     LocalStorage::delete(design_key(id));
-    LocalStorage::set(INDEX_KEY, order).ok();
+    LocalStorage::set(INDEX_KEY, order).map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))
 }
 
 /// Why a save did not happen.

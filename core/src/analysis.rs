@@ -223,6 +223,21 @@ pub struct Targets {
 }
 
 impl Targets {
+    /// Checks every value against its physical range (`crate::limits`).
+    pub fn validate(&self) -> Result<(), crate::error::DesignError> {
+        use crate::limits::{check, Quantity};
+        check(Quantity::Voltage, "targets.vt_upper_v", self.vt_upper_v)?;
+        check(Quantity::Voltage, "targets.vt_lower_v", self.vt_lower_v)?;
+        match self.impedance {
+            ImpedanceChoice::AnchorOhm(r) => check(Quantity::Resistance, "targets.impedance.anchor_ohm", r)?,
+            ImpedanceChoice::CurrentBudgetA(a) => {
+                crate::error::positive("targets.impedance.current_budget_a", a)?;
+                check(Quantity::Current, "targets.impedance.current_budget_a", a)?
+            }
+        };
+        Ok(())
+    }
+
     /// The targets as a thresholds pair.
     pub fn thresholds(&self) -> Thresholds {
         Thresholds { vt_upper_v: self.vt_upper_v, vt_lower_v: self.vt_lower_v }
@@ -253,6 +268,30 @@ pub struct CheckSettings {
     pub supply_min_v: Option<f64>,
     /// Highest supply of the operating range, volts (`None`: nominal only).
     pub supply_max_v: Option<f64>,
+}
+
+impl CheckSettings {
+    /// Checks every value against its physical range (`crate::limits`); ratios may be zero
+    /// (the warning then always or never fires) or a gain of 0.001 to 10⁶.
+    pub fn validate(&self) -> Result<(), crate::error::DesignError> {
+        use crate::limits::{check, check_optional, Quantity};
+        for (field, ratio) in [
+            ("checks.pullup_ratio_limit", self.pullup_ratio_limit),
+            ("checks.bias_error_fraction", self.bias_error_fraction),
+            ("checks.divider_current_ratio", self.divider_current_ratio),
+        ] {
+            if ratio != 0.0 {
+                check(Quantity::Gain, field, ratio)?;
+            }
+        }
+        check(Quantity::Percent, "checks.resistor_tolerance", self.resistor_tolerance * 100.0)?;
+        check(Quantity::Voltage, "checks.expected_recovery_v", self.expected_recovery_v)?;
+        check_optional(Quantity::Voltage, "checks.input_min_v", self.input_min_v)?;
+        check_optional(Quantity::Voltage, "checks.input_max_v", self.input_max_v)?;
+        check_optional(Quantity::Voltage, "checks.supply_min_v", self.supply_min_v)?;
+        check_optional(Quantity::Voltage, "checks.supply_max_v", self.supply_max_v)?;
+        Ok(())
+    }
 }
 
 impl Default for CheckSettings {

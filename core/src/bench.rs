@@ -121,7 +121,11 @@ pub fn bench_procedure(
     bounds: &ThresholdBounds,
 ) -> Result<BenchProcedure, DesignError> {
     let a = analyse(circuit, checks)?;
-    Ok(bench_procedure_from(circuit, &a, checks, bounds))
+    crate::finite::check("analysis", &a)?;
+    let procedure = bench_procedure_from(circuit, &a, checks, bounds);
+    // A sheet that says "set the input to -inf V" is refused rather than printed.
+    crate::finite::check("bench", &procedure)?;
+    Ok(procedure)
 }
 
 /// The same from an analysis already made with the same check settings.

@@ -44,6 +44,12 @@ pub enum DesignError {
         /// What was wrong with the parameter access.
         reason: String,
     },
+    /// A computed result came out NaN or infinite (the inputs, though accepted, lie where the
+    /// equations overflow or divide by zero); see [`crate::finite`].
+    NotFinite {
+        /// Path of the first non-finite number in the result (`tolerance.worst_case.vt_upper.max.value_v`).
+        quantity: String,
+    },
 }
 
 impl DesignError {
@@ -72,6 +78,10 @@ impl fmt::Display for DesignError {
             DesignError::NoSwitching { reason } => write!(f, "{reason}"),
             DesignError::NotConverged { reason } => write!(f, "{reason}"),
             DesignError::Parameter { reason } => write!(f, "{reason}"),
+            DesignError::NotFinite { quantity } => write!(
+                f,
+                "{quantity} is not a finite number: the inputs lie where this computation overflows; bring part values, currents and settings closer to ones a bench would use"
+            ),
         }
     }
 }

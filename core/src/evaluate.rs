@@ -108,6 +108,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             None
         }
     };
+    let analysis = crate::finite::keep("analysis", analysis, &mut fail);
     let sens = if analysis.is_some() {
         match sensitivities(&record.circuit) {
             Ok(s) => Some(
@@ -123,6 +124,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     } else {
         None
     };
+    let sens = crate::finite::keep("sensitivities", sens, &mut fail);
     let synthesis = record.targets.as_ref().and_then(|t| {
         match synthesise(&record.circuit, t).and_then(|c| analyse(&c, &record.checks).map(|a| (c, a))) {
             Ok((circuit, analysis)) => Some(Synthesis { circuit, analysis }),
@@ -132,6 +134,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             }
         }
     });
+    let synthesis = crate::finite::keep("synthesis", synthesis, &mut fail);
     let tolerance = record.tolerance.as_ref().and_then(|s| match tolerance_report(&record.circuit, s) {
         Ok(r) => Some(r),
         Err(e) => {
@@ -139,6 +142,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             None
         }
     });
+    let tolerance = crate::finite::keep("tolerance", tolerance, &mut fail);
     let signal = record.signal.as_ref().and_then(|s| match crate::signal::report::evaluate_record_signal(&record.circuit, s) {
         Ok(r) => Some(r),
         Err(e) => {
@@ -146,6 +150,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             None
         }
     });
+    let signal = crate::finite::keep("signal", signal, &mut fail);
     let application = record.application.as_ref().and_then(|a| {
         match crate::signal::report::evaluate_record_application(&record.circuit, a) {
             Ok((r, errs)) => {
@@ -160,9 +165,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             }
         }
     });
+    let application = crate::finite::keep("application", application, &mut fail);
     let bom = analysis.as_ref().and_then(|a| {
         bom(&record.circuit, a, &record.checks, &record.parts).map_err(|e| fail("bom", e)).ok()
     });
+    let bom = crate::finite::keep("bom", bom, &mut fail);
     // The search starts from the synthesised design when there is one (it may have dropped a
     // resistor to meet the targets), else from the design as entered.
     let search = match (&record.targets, &record.search) {
@@ -172,6 +179,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
         _ => None,
     };
+    let search = crate::finite::keep("search", search, &mut fail);
     // The deck and the bench sheet need a working analysis; when it failed, its error already
     // says why and only the link (which carries inputs, not results) is produced.
     let exports = {
@@ -192,6 +200,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             ),
             None => (None, None),
         };
+        let bench = bench.and_then(|b| crate::finite::check("bench", &b).map_err(|e| fail("exports", e)).ok().map(|()| b));
         Some(Exports { link: crate::share::encode_link(record), spice, bench })
     };
     Evaluation {

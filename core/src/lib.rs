@@ -18,6 +18,7 @@ pub mod analysis;
 pub mod catalog;
 pub mod device;
 pub mod error;
+pub mod finite;
 pub mod limits;
 pub mod evaluate;
 pub mod stream;

@@ -103,6 +103,20 @@ pub struct SearchSettings {
     pub current_budget_a: Option<f64>,
 }
 
+impl SearchSettings {
+    /// Checks every value against its physical range (`crate::limits`) and the order of the range.
+    pub fn validate(&self) -> Result<(), DesignError> {
+        use crate::limits::{check, Quantity};
+        check(Quantity::Resistance, "search.r_min_ohm", self.r_min_ohm)?;
+        check(Quantity::Resistance, "search.r_max_ohm", self.r_max_ohm)?;
+        if let Some(b) = self.current_budget_a {
+            crate::error::positive("search.current_budget_a", b)?;
+            check(Quantity::Current, "search.current_budget_a", b)?;
+        }
+        Ok(())
+    }
+}
+
 impl Default for SearchSettings {
     /// E24 from 1 kΩ to 1 MΩ, ten results, no current limit (common practice: below 1 kΩ the
     /// network loads the device output, above 1 MΩ bias currents and leakage dominate).
@@ -641,10 +655,9 @@ pub fn search<C: Circuit>(
     settings: &SearchSettings,
     checks: &CheckSettings,
 ) -> Result<SearchReport, DesignError> {
-    crate::error::finite("targets.vt_upper_v", targets.vt_upper_v)?;
-    crate::error::finite("targets.vt_lower_v", targets.vt_lower_v)?;
-    crate::error::positive("search.r_min_ohm", settings.r_min_ohm)?;
-    crate::error::positive("search.r_max_ohm", settings.r_max_ohm)?;
+    settings.validate()?;
+    crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_upper_v", targets.vt_upper_v)?;
+    crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_lower_v", targets.vt_lower_v)?;
     if settings.r_max_ohm < settings.r_min_ohm {
         return Err(DesignError::invalid(
             "search.r_max_ohm",
@@ -653,9 +666,6 @@ pub fn search<C: Circuit>(
     }
     if settings.top_n == 0 || settings.top_n > MAX_TOP_N {
         return Err(DesignError::invalid("search.top_n", format!("must be between 1 and {MAX_TOP_N}")));
-    }
-    if let Some(b) = settings.current_budget_a {
-        crate::error::positive("search.current_budget_a", b)?;
     }
     circuit.validate()?;
     let params = circuit.parameters();

@@ -86,6 +86,8 @@ pub fn to_spice(circuit: &Topology, title: &str) -> Result<String, DesignError> 
     let t = circuit.thresholds()?;
     let net = circuit.netlist();
     let (lo, hi) = ramp_span_v(t.vt_upper_v, t.vt_lower_v);
+    // A deck that says "VT+ = inf V" or "PWL(0 -inf …)" is refused rather than written.
+    crate::finite::check("spice", &(&t, [lo, hi], &net))?;
     Ok(write_deck(&net, title, t.vt_upper_v, t.vt_lower_v, lo, hi))
 }
 

@@ -1,6 +1,9 @@
-//! The notebook list: saved designs, search, new, duplicate, delete with undo.
+//! The notebook list: saved designs, search, new, duplicate, delete with undo; set-aside items
+//! (damaged or from a newer version) with a download of each as stored; and a plain notice when
+//! storage could not be read, so an empty list is never taken for the saved notebook.
 
 use super::state::{blank_record, Notebook};
+use crate::download::{file_stem, save_text};
 use leptos::prelude::*;
 
 /// The list of saved designs.
@@ -41,6 +44,11 @@ pub fn NotebookList() -> impl IntoView {
                     <button id="undo-delete" class="quiet" on:click=move |_| nb.undo_delete()>"Undo"</button>
                 </div>
             })}
+            {move || (!nb.persistent.get()).then(|| view! {
+                <p class="storage-unreadable" role="alert" id="storage-unreadable">
+                    "This is not your saved notebook: the browser's storage could not be read, so designs saved earlier are not shown (they are left untouched). The list below holds only designs made in this tab, and nothing is saved."
+                </p>
+            })}
             <ul class="design-list" id="design-list">
                 <For each=move || shown.get() key=|row| (row.0.clone(), row.1.clone(), row.3.clone(), row.4.to_bits()) let:row>
                     {
@@ -71,7 +79,21 @@ pub fn NotebookList() -> impl IntoView {
                 (!aside.is_empty()).then(|| view! {
                     <div class="set-aside" role="status" id="set-aside">
                         <h3>"Set aside (kept untouched in storage)"</h3>
-                        <ul>{aside.into_iter().map(|a| view! { <li><code>{a.key}</code>": "{a.message}</li> }).collect_view()}</ul>
+                        <ul>{aside.into_iter().map(|a| {
+                            let file = format!("{}.json", file_stem(&a.key));
+                            let (raw, key) = (a.raw.clone(), a.key.clone());
+                            view! {
+                                <li>
+                                    <code>{a.key}</code>": "{a.message}" "
+                                    <button class="quiet small set-aside-download" aria-label=format!("Download {key} as it is stored")
+                                        on:click=move |_| {
+                                            if let Err(e) = save_text(&file, "application/json", &raw) {
+                                                nb.banner.set(Some(format!("could not download the item: {e}")));
+                                            }
+                                        }>"Download"</button>
+                                </li>
+                            }
+                        }).collect_view()}</ul>
                     </div>
                 })
             }}

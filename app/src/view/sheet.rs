@@ -32,6 +32,7 @@ pub fn DesignSheet() -> impl IntoView {
         }
         nb.with_current(|r| {
             let a = analyse(&r.circuit, &r.checks).map_err(|e| e.to_string())?;
+            hysteron_core::finite::check("analysis", &a).map_err(|e| e.to_string())?;
             let s = r.tolerance.clone().unwrap_or_default();
             let wc: Option<WorstCase> = worst_case(&r.circuit, &s).ok();
             let bounds = wc.as_ref().map_or_else(ThresholdBounds::default, |w| ThresholdBounds {
@@ -39,6 +40,7 @@ pub fn DesignSheet() -> impl IntoView {
                 vt_lower_v: Some((w.vt_lower.min.value_v, w.vt_lower.max.value_v)),
             });
             let bench = bench_procedure_from(&r.circuit, &a, &r.checks, &bounds);
+            hysteron_core::finite::check("bench", &bench).map_err(|e| e.to_string())?;
             let parts = super::partlist::part_list(r).ok();
             Ok::<_, String>((a, wc, bench, parts, cautions(r)))
         })

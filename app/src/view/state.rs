@@ -95,9 +95,15 @@ impl Notebook {
     pub fn load() -> Self {
         let loaded = storage::load();
         let current = loaded.entries.first().map(|e| e.id.clone());
-        let banner = loaded.unavailable.as_ref().map(|e| {
-            format!("Designs cannot be saved in this browser ({e}). You can keep working; export a design to keep it.")
-        });
+        let banner = match (&loaded.unavailable, &loaded.read_only) {
+            (Some(e), _) => Some(format!(
+                "Saved designs cannot be read in this browser ({e}). Any designs stored here are left untouched and are not shown below; this page works in memory only and saves nothing. Reload to try again, and export designs you want to keep."
+            )),
+            (None, Some(e)) => Some(format!(
+                "Local storage refuses writes ({e}). Your saved designs are shown as stored; new edits stay in this tab only until space is freed. Export designs you want to keep."
+            )),
+            (None, None) => None,
+        };
         let nb = Notebook {
             entries: RwSignal::new(loaded.entries),
             current: RwSignal::new(current),
@@ -262,7 +268,23 @@ impl Notebook {
         });
         let Some((entry, index)) = removed else { return };
         if self.persistent.get_untracked() {
-            storage::remove(&entry.id, &self.order());
+            match storage::remove(&entry.id, entry.revision, &self.order()) {
+                Ok(()) => {}
+                Err(SaveError::Conflict { theirs }) => {
+                    // Another tab saved a newer version: it is not deleted; show theirs in its place.
+                    let shown = match storage::read(&entry.id) {
+                        Some(Ok(t)) => t,
+                        _ => entry.clone(),
+                    };
+                    let name = shown.record.name.clone();
+                    self.entries.update(|es| es.insert(index.min(es.len()), shown));
+                    self.banner.set(Some(format!(
+                        "\"{name}\" was not deleted: another tab saved a newer version (revision {theirs}), shown here now. Delete it again if you still want it gone."
+                    )));
+                    return;
+                }
+                Err(SaveError::Failed(e)) => self.banner.set(Some(format!("{e}. The page keeps working in memory."))),
+            }
         }
         if self.current.get_untracked().as_deref() == Some(id) {
             let next = self.entries.with_untracked(|es| es.get(index.min(es.len().saturating_sub(1))).map(|e| e.id.clone()));
@@ -328,6 +350,52 @@ impl Notebook {
         self.entries.with(|es| es.iter().find(|e| e.id == id).map(|e| f(&e.record)))
     }
 
+    /// A save refused because another tab saved a newer revision: their version takes this
+    /// design's place and this tab's version is kept beside it as a new design (saved at once),
+    /// so neither edit is lost; the banner says so.
+    fn keep_conflict_copy(&self, ours: Entry, theirs_revision: u64) {
+        let id = ours.id.clone();
+        let theirs = storage::read(&id);
+        let index = self.entries.with_untracked(|es| es.iter().position(|e| e.id == id)).unwrap_or(0);
+        let their_name = match &theirs {
+            Some(Ok(t)) => t.record.name.clone(),
+            _ => ours.record.name.clone(),
+        };
+        self.entries.update(|es| match theirs {
+            Some(Ok(t)) => {
+                if let Some(e) = es.iter_mut().find(|e| e.id == id) {
+                    *e = t;
+                }
+            }
+            // Theirs cannot be read here (damaged or newer format): it stays in storage untouched
+            // and is listed with the set-aside items on the next load; this tab's copy follows.
+            _ => es.retain(|e| e.id != id),
+        });
+        let copy_id = new_id();
+        let mut record = ours.record;
+        record.name = format!("{} (this tab's version)", record.name);
+        let copy_name = record.name.clone();
+        let copy = Entry { id: copy_id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot: ours.snapshot };
+        self.entries.update(|es| {
+            let i = (index + 1).min(es.len());
+            es.insert(i, copy);
+        });
+        if self.current.get_untracked().as_deref() == Some(id.as_str()) {
+            self.current.set(Some(copy_id.clone()));
+        }
+        self.persist(&copy_id);
+        let saved = self.entries.with_untracked(|es| es.iter().any(|e| e.id == copy_id && e.revision > 0));
+        self.banner.set(Some(if saved {
+            format!(
+                "\"{their_name}\" was changed in another tab at the same time (revision {theirs_revision}). Both versions are kept: theirs as \"{their_name}\", this tab's as \"{copy_name}\", which is open now."
+            )
+        } else {
+            format!(
+                "\"{their_name}\" was changed in another tab at the same time (revision {theirs_revision}). This tab's version is open as \"{copy_name}\" but could not be saved: export it to keep it."
+            )
+        }));
+    }
+
     /// Writes one design to storage, reporting failures in the banner.
     pub fn persist(&self, id: &str) {
         if !self.persistent.get_untracked() {
@@ -341,10 +409,7 @@ impl Notebook {
                     e.revision = rev;
                 }
             }),
-            Err(SaveError::Conflict { theirs }) => self.banner.set(Some(format!(
-                "\"{}\" was changed in another tab (revision {theirs}). Your edits here were not saved over it: reload to see theirs, or duplicate this design to keep yours.",
-                entry.record.name
-            ))),
+            Err(SaveError::Conflict { theirs }) => self.keep_conflict_copy(entry, theirs),
             Err(SaveError::Failed(e)) => self.banner.set(Some(format!(
                 "{e}. The page keeps working in memory; export designs you want to keep."
             ))),

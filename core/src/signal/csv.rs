@@ -461,8 +461,10 @@ impl CsvParser {
     /// A parser with the given options (checked here).
     pub fn new(options: CsvOptions) -> Result<Self, CsvError> {
         if let Some(step) = options.time_step_s {
-            if !(step.is_finite() && step > 0.0) {
-                return Err(CsvError::InvalidOption { field: "time_step_s".into(), reason: format!("must be a finite number above zero (got {step})") });
+            // Bounded by limits.rs's durations, so row × step stays finite for MAX_SAMPLES rows.
+            if !(step > 0.0 && crate::limits::Quantity::Duration.admits(step)) {
+                let (_, hi) = crate::limits::Quantity::Duration.range();
+                return Err(CsvError::InvalidOption { field: "time_step_s".into(), reason: format!("must be above zero and at most {hi} s (got {step})") });
             }
         } else if options.time_column == options.voltage_column {
             return Err(CsvError::InvalidOption {
@@ -477,8 +479,8 @@ impl CsvParser {
             });
         }
         let needed = match options.time_step_s {
-            Some(_) => options.voltage_column + 1,
-            None => options.time_column.max(options.voltage_column) + 1,
+            Some(_) => options.voltage_column.saturating_add(1),
+            None => options.time_column.max(options.voltage_column).saturating_add(1),
         };
         Ok(CsvParser {
             options,

@@ -102,12 +102,17 @@ pub struct DebounceResult {
 
 fn check(design: &TriggerDesign, s: &DebounceSettings) -> Result<(), DesignError> {
     design.validate()?;
+    use crate::limits::{check as limit, Quantity};
     positive("debounce.supply_v", s.supply_v)?;
-    positive("debounce.r1_ohm", s.r1_ohm)?;
-    positive("debounce.r2_ohm", s.r2_ohm)?;
-    positive("debounce.c_f", s.c_f)?;
-    crate::error::non_negative("debounce.bounce_s", s.bounce_s)?;
-    positive("debounce.r1_min_ohm", s.r1_min_ohm)?;
+    limit(Quantity::Voltage, "debounce.supply_v", s.supply_v)?;
+    limit(Quantity::Resistance, "debounce.r1_ohm", s.r1_ohm)?;
+    limit(Quantity::Resistance, "debounce.r2_ohm", s.r2_ohm)?;
+    limit(Quantity::Capacitance, "debounce.c_f", s.c_f)?;
+    limit(Quantity::Duration, "debounce.bounce_s", s.bounce_s)?;
+    limit(Quantity::Resistance, "debounce.r1_min_ohm", s.r1_min_ohm)?;
+    if let Some(t) = s.target_delay_s {
+        limit(Quantity::Duration, "debounce.target_delay_s", t)?;
+    }
     let t = design.thresholds;
     if !(0.0 < t.vt_lower_v && t.vt_lower_v < t.vt_upper_v && t.vt_upper_v < s.supply_v) {
         return Err(DesignError::NoSwitching {

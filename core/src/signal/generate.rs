@@ -11,6 +11,7 @@
 use super::noise::{add_noise, source_seed, NoiseGenerator, NoiseSource};
 use super::{TimeBase, MAX_SAMPLES};
 use crate::error::{finite, positive, DesignError};
+use crate::limits::{check as limit, Quantity};
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
@@ -96,12 +97,37 @@ fn half() -> f64 {
     0.5
 }
 
+/// Largest slope of a ramp or drift, volts per second: the voltage range (limits.rs) crossed in a
+/// microsecond, far beyond any signal a trigger sees, yet finite over any record.
+pub const MAX_SLOPE_V_PER_S: f64 = 1e11;
+
+/// Largest phase magnitude, degrees (a thousand turns; beyond that `sin` loses every digit).
+pub const MAX_PHASE_DEG: f64 = 360e3;
+
+fn slope(field: &str, v: f64) -> Result<(), DesignError> {
+    if v.is_finite() && v.abs() <= MAX_SLOPE_V_PER_S {
+        Ok(())
+    } else {
+        Err(DesignError::invalid(field, format!("must be between −{MAX_SLOPE_V_PER_S:e} and {MAX_SLOPE_V_PER_S:e} V/s (got {v})")))
+    }
+}
+
+/// Checks a phase in degrees: finite and at most [`MAX_PHASE_DEG`] in magnitude.
+pub fn phase(field: &str, v: f64) -> Result<(), DesignError> {
+    if v.is_finite() && v.abs() <= MAX_PHASE_DEG {
+        Ok(())
+    } else {
+        Err(DesignError::invalid(field, format!("must be between −{MAX_PHASE_DEG} and {MAX_PHASE_DEG} degrees (got {v})")))
+    }
+}
+
 impl Component {
     /// Checks the component for a signal sampled at `sample_rate_hz`.
     pub fn validate(&self, sample_rate_hz: f64) -> Result<(), DesignError> {
         let nyquist = sample_rate_hz / 2.0;
         let freq = |f: f64| -> Result<(), DesignError> {
             positive("components.frequency_hz", f)?;
+            limit(Quantity::Frequency, "components.frequency_hz", f)?;
             if f >= nyquist {
                 return Err(DesignError::invalid(
                     "components.frequency_hz",
@@ -111,21 +137,24 @@ impl Component {
             Ok(())
         };
         match *self {
-            Component::Dc { level_v } => finite("components.level_v", level_v).map(|_| ()),
+            Component::Dc { level_v } => limit(Quantity::Voltage, "components.level_v", level_v).map(|_| ()),
             Component::Sine { amplitude_v, frequency_hz, phase_deg }
             | Component::Triangle { amplitude_v, frequency_hz, phase_deg } => {
-                finite("components.amplitude_v", amplitude_v)?;
+                limit(Quantity::Voltage, "components.amplitude_v", amplitude_v)?;
+                phase("components.phase_deg", phase_deg)?;
                 finite("components.phase_deg", phase_deg)?;
                 freq(frequency_hz)
             }
             Component::Square { amplitude_v, frequency_hz, phase_deg, duty, rise_time_s } => {
-                finite("components.amplitude_v", amplitude_v)?;
+                limit(Quantity::Voltage, "components.amplitude_v", amplitude_v)?;
+                phase("components.phase_deg", phase_deg)?;
                 finite("components.phase_deg", phase_deg)?;
                 freq(frequency_hz)?;
                 if !(duty > 0.0 && duty < 1.0) {
                     return Err(DesignError::invalid("components.duty", format!("must be between 0 and 1, exclusive (got {duty})")));
                 }
                 crate::error::non_negative("components.rise_time_s", rise_time_s)?;
+                limit(Quantity::Duration, "components.rise_time_s", rise_time_s)?;
                 let r = rise_time_s * frequency_hz;
                 if r > duty.min(1.0 - duty) {
                     return Err(DesignError::invalid(
@@ -139,10 +168,10 @@ impl Component {
                 Ok(())
             }
             Component::Ramp { slope_v_per_s, start_s, stop_s } => {
-                finite("components.slope_v_per_s", slope_v_per_s)?;
-                finite("components.start_s", start_s)?;
+                slope("components.slope_v_per_s", slope_v_per_s)?;
+                limit(Quantity::Duration, "components.start_s", start_s)?;
                 if let Some(s) = stop_s {
-                    finite("components.stop_s", s)?;
+                    limit(Quantity::Duration, "components.stop_s", s)?;
                     if s < start_s {
                         return Err(DesignError::invalid("components.stop_s", "must not be before start_s"));
                     }
@@ -150,11 +179,12 @@ impl Component {
                 Ok(())
             }
             Component::RcApproach { step_v, time_constant_s, start_s } => {
-                finite("components.step_v", step_v)?;
+                limit(Quantity::Voltage, "components.step_v", step_v)?;
                 positive("components.time_constant_s", time_constant_s)?;
-                finite("components.start_s", start_s).map(|_| ())
+                limit(Quantity::Duration, "components.time_constant_s", time_constant_s)?;
+                limit(Quantity::Duration, "components.start_s", start_s).map(|_| ())
             }
-            Component::Drift { rate_v_per_s } => finite("components.rate_v_per_s", rate_v_per_s).map(|_| ()),
+            Component::Drift { rate_v_per_s } => slope("components.rate_v_per_s", rate_v_per_s),
         }
     }
 
@@ -305,7 +335,9 @@ impl SignalDefinition {
     /// Checks every value and returns the number of samples the record will hold.
     pub fn validate(&self) -> Result<usize, DesignError> {
         positive("sample_rate_hz", self.sample_rate_hz)?;
+        limit(Quantity::Frequency, "sample_rate_hz", self.sample_rate_hz)?;
         positive("duration_s", self.duration_s)?;
+        limit(Quantity::Duration, "duration_s", self.duration_s)?;
         let n = (self.duration_s * self.sample_rate_hz).round();
         if n < 2.0 {
             return Err(DesignError::invalid("duration_s", "the record must hold at least two samples: lengthen it or raise the sample rate"));

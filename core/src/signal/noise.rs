@@ -20,6 +20,7 @@
 use super::gauss::NormalStream;
 use super::generate::add_sinusoid;
 use crate::error::{positive, DesignError};
+use crate::limits::{check as limit, Quantity};
 use crate::rng::Rng;
 use serde::{Deserialize, Serialize};
 
@@ -136,10 +137,15 @@ impl NoiseSource {
     pub fn validate(&self, sample_rate_hz: f64) -> Result<(), DesignError> {
         let nyquist = sample_rate_hz / 2.0;
         match self {
-            NoiseSource::White { rms_v } => non_negative_finite("noise.rms_v", *rms_v),
+            NoiseSource::White { rms_v } => {
+                non_negative_finite("noise.rms_v", *rms_v)?;
+                limit(Quantity::Voltage, "noise.rms_v", *rms_v).map(|_| ())
+            }
             NoiseSource::BandLimited { rms_v, corner_hz, poles } => {
                 non_negative_finite("noise.rms_v", *rms_v)?;
+                limit(Quantity::Voltage, "noise.rms_v", *rms_v)?;
                 positive("noise.corner_hz", *corner_hz)?;
+                limit(Quantity::Frequency, "noise.corner_hz", *corner_hz)?;
                 if *poles == 0 || *poles > MAX_POLES {
                     return Err(DesignError::invalid(
                         "noise.poles",
@@ -150,13 +156,14 @@ impl NoiseSource {
             }
             NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } => {
                 non_negative_finite("noise.amplitude_v", *amplitude_v)?;
-                crate::error::finite("noise.phase_deg", *phase_deg)?;
+                limit(Quantity::Voltage, "noise.amplitude_v", *amplitude_v)?;
+                super::generate::phase("noise.phase_deg", *phase_deg)?;
                 for h in harmonics {
                     if h.order == 0 {
                         return Err(DesignError::invalid("noise.harmonics.order", "must be 1 or more"));
                     }
-                    crate::error::finite("noise.harmonics.relative_amplitude", h.relative_amplitude)?;
-                    crate::error::finite("noise.harmonics.phase_deg", h.phase_deg)?;
+                    limit(Quantity::Gain, "noise.harmonics.relative_amplitude", h.relative_amplitude.abs().max(1e-3))?;
+                    super::generate::phase("noise.harmonics.phase_deg", h.phase_deg)?;
                     let f = mains.hz() * h.order as f64;
                     if f >= nyquist {
                         return Err(DesignError::invalid(
@@ -184,8 +191,9 @@ impl NoiseSource {
                         format!("{rate_hz} spikes per second exceeds the sample rate ({sample_rate_hz} Hz): lower the rate"),
                     ));
                 }
-                crate::error::finite("noise.amplitude_v", *amplitude_v)?;
+                limit(Quantity::Voltage, "noise.amplitude_v", *amplitude_v)?;
                 positive("noise.decay_s", *decay_s)?;
+                limit(Quantity::Duration, "noise.decay_s", *decay_s)?;
                 Ok(())
             }
         }

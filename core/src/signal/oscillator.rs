@@ -117,11 +117,18 @@ pub fn op_amp_thresholds(r1_ohm: f64, r2_ohm: f64, output_high_v: f64, output_lo
 
 fn check(design: &TriggerDesign, s: &OscillatorSettings) -> Result<(), DesignError> {
     design.validate()?;
-    positive("oscillator.r_ohm", s.r_ohm)?;
-    positive("oscillator.c_f", s.c_f)?;
+    use crate::limits::{check as limit, Quantity};
+    limit(Quantity::Resistance, "oscillator.r_ohm", s.r_ohm)?;
+    limit(Quantity::Capacitance, "oscillator.c_f", s.c_f)?;
     non_negative("oscillator.output_resistance_ohm", s.output_resistance_ohm)?;
-    non_negative("oscillator.delay_low_to_high_s", s.delay_low_to_high_s)?;
-    non_negative("oscillator.delay_high_to_low_s", s.delay_high_to_low_s)?;
+    if s.output_resistance_ohm != 0.0 {
+        limit(Quantity::Resistance, "oscillator.output_resistance_ohm", s.output_resistance_ohm)?;
+    }
+    limit(Quantity::Duration, "oscillator.delay_low_to_high_s", s.delay_low_to_high_s)?;
+    limit(Quantity::Duration, "oscillator.delay_high_to_low_s", s.delay_high_to_low_s)?;
+    if let Some(f) = s.target_frequency_hz {
+        limit(Quantity::Frequency, "oscillator.target_frequency_hz", f)?;
+    }
     if design.sense != Sense::Inverting {
         return Err(DesignError::inconsistent(
             "a relaxation oscillator needs an inverting trigger (Schmitt inverter or the inverting comparator form)",

@@ -68,6 +68,21 @@ pub struct StudySettings {
 /// at the usual settings, so the recommendation errs on the safe side there.
 pub const DEFAULT_NOISE_BANDWIDTH_HZ: f64 = 1e6;
 
+impl StudySettings {
+    /// Checks every value against its physical range (`crate::limits`).
+    pub fn validate(&self) -> Result<(), DesignError> {
+        use crate::limits::{check as limit, check_optional, Quantity};
+        check_optional(Quantity::Voltage, "study.baseline_level_v", self.baseline_level_v)?;
+        check_optional(Quantity::Duration, "study.match_window_s", self.match_window_s)?;
+        crate::error::non_negative("study.target_false_edges_per_edge", self.target_false_edges_per_edge)?;
+        if let Some(l) = self.logic_input {
+            limit(Quantity::Voltage, "study.logic_input.vil_v", l.vil_v)?;
+            limit(Quantity::Voltage, "study.logic_input.vih_v", l.vih_v)?;
+        }
+        Ok(())
+    }
+}
+
 impl Default for StudySettings {
     fn default() -> Self {
         StudySettings {
@@ -323,6 +338,7 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
     design.validate()?;
     let timing = TimingModel::new(&settings.timing)?;
     let study = &settings.study;
+    study.validate()?;
     let baseline_level = match study.baseline_level_v {
         Some(v) => finite("study.baseline_level_v", v)?,
         None => design.thresholds.centre_v(),

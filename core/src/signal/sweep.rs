@@ -97,6 +97,9 @@ pub fn sweep_levels(s: &SweepSettings, hysteresis_v: f64) -> Result<Vec<f64>, De
     let hi = s.max_rms_v.unwrap_or(h);
     positive("sweep.min_rms_v", lo)?;
     positive("sweep.max_rms_v", hi)?;
+    crate::limits::check(crate::limits::Quantity::Voltage, "sweep.min_rms_v", lo)?;
+    crate::limits::check(crate::limits::Quantity::Voltage, "sweep.max_rms_v", hi)?;
+    crate::error::non_negative("sweep.fail_above_false_edges_per_edge", s.fail_above_false_edges_per_edge)?;
     if hi < lo {
         return Err(DesignError::invalid("sweep.max_rms_v", "must not be below min_rms_v"));
     }

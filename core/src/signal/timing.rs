@@ -7,6 +7,7 @@ use super::trigger::InitialState;
 use super::Times;
 use crate::analysis::Thresholds;
 use crate::error::{finite, non_negative, positive, DesignError};
+use crate::limits::{check as limit, Quantity};
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
@@ -60,7 +61,7 @@ impl DelayModel {
     pub fn new(spec: &DelaySpec) -> Result<Self, DesignError> {
         match *spec {
             DelaySpec::Fixed { delay_s } => {
-                non_negative("timing.delay.delay_s", delay_s)?;
+                limit(Quantity::Duration, "timing.delay.delay_s", delay_s)?;
                 Ok(DelayModel { reference_delay_s: delay_s, reference_overdrive_v: 1.0, exponent: 0.0, min_overdrive_v: 0.0 })
             }
             DelaySpec::TwoPoint { overdrive_a_v, delay_a_s, overdrive_b_v, delay_b_s } => {
@@ -68,6 +69,10 @@ impl DelayModel {
                 positive("timing.delay.overdrive_b_v", overdrive_b_v)?;
                 positive("timing.delay.delay_a_s", delay_a_s)?;
                 positive("timing.delay.delay_b_s", delay_b_s)?;
+                limit(Quantity::Voltage, "timing.delay.overdrive_a_v", overdrive_a_v)?;
+                limit(Quantity::Voltage, "timing.delay.overdrive_b_v", overdrive_b_v)?;
+                limit(Quantity::Duration, "timing.delay.delay_a_s", delay_a_s)?;
+                limit(Quantity::Duration, "timing.delay.delay_b_s", delay_b_s)?;
                 if overdrive_a_v == overdrive_b_v {
                     if delay_a_s != delay_b_s {
                         return Err(DesignError::inconsistent(
@@ -173,13 +178,16 @@ impl OutputStage {
     pub fn validate(&self) -> Result<(), DesignError> {
         match *self {
             OutputStage::PushPull { rise_time_s, fall_time_s } => {
-                non_negative("timing.output.rise_time_s", rise_time_s)?;
-                non_negative("timing.output.fall_time_s", fall_time_s)?;
+                limit(Quantity::Duration, "timing.output.rise_time_s", rise_time_s)?;
+                limit(Quantity::Duration, "timing.output.fall_time_s", fall_time_s)?;
             }
             OutputStage::OpenDrain { pullup_ohm, load_capacitance_f, fall_time_s } => {
-                positive("timing.output.pullup_ohm", pullup_ohm)?;
+                limit(Quantity::Resistance, "timing.output.pullup_ohm", pullup_ohm)?;
                 non_negative("timing.output.load_capacitance_f", load_capacitance_f)?;
-                non_negative("timing.output.fall_time_s", fall_time_s)?;
+                if load_capacitance_f != 0.0 {
+                    limit(Quantity::Capacitance, "timing.output.load_capacitance_f", load_capacitance_f)?;
+                }
+                limit(Quantity::Duration, "timing.output.fall_time_s", fall_time_s)?;
             }
         }
         Ok(())

@@ -21,6 +21,7 @@
 //! independent (matched networks whose drift cancels are not modelled).
 
 use crate::error::{finite, non_negative, DesignError};
+use crate::limits::{check as limit, Quantity};
 use crate::topology::{Parameter, ParameterKind};
 use serde::{Deserialize, Serialize};
 
@@ -188,10 +189,10 @@ impl SpecWindow {
         let names = ["vt_upper", "vt_lower", "hysteresis", "centre"];
         for (name, (lo, hi)) in names.iter().zip(self.bounds()) {
             if let Some(lo) = lo {
-                finite(&format!("tolerance.spec.{name}_min_v"), lo)?;
+                limit(Quantity::Voltage, &format!("tolerance.spec.{name}_min_v"), lo)?;
             }
             if let Some(hi) = hi {
-                finite(&format!("tolerance.spec.{name}_max_v"), hi)?;
+                limit(Quantity::Voltage, &format!("tolerance.spec.{name}_max_v"), hi)?;
             }
             if let (Some(lo), Some(hi)) = (lo, hi) {
                 if lo > hi {
@@ -285,6 +286,29 @@ fn percent(field: &str, p: f64) -> Result<f64, DesignError> {
     Ok(p)
 }
 
+/// Largest temperature coefficient accepted, ppm/K (10 %/K: beyond any resistor or reference;
+/// common practice puts thick-film chips at 100–200 ppm/K).
+pub const MAX_TEMPCO_PPM_PER_K: f64 = 1e5;
+
+fn tempco(field: &str, tc: f64) -> Result<f64, DesignError> {
+    non_negative(field, tc)?;
+    if tc > MAX_TEMPCO_PPM_PER_K {
+        return Err(DesignError::invalid(field, format!("must be at most {MAX_TEMPCO_PPM_PER_K} ppm/K (got {tc})")));
+    }
+    Ok(tc)
+}
+
+/// An override's absolute band or limit, in the parameter's base unit: finite and no larger in
+/// magnitude than the widest range of `crate::limits` (1 TΩ).
+fn magnitude(field: &str, x: f64) -> Result<f64, DesignError> {
+    let widest = Quantity::Resistance.range().1;
+    if x.is_finite() && x.abs() <= widest {
+        Ok(x)
+    } else {
+        Err(DesignError::invalid(field, format!("must be a finite number of magnitude at most {widest:e} (got {x})")))
+    }
+}
+
 impl ToleranceSettings {
     /// Checks every number: finite, in range, temperature range in order, run size bounded.
     pub fn validate(&self) -> Result<(), DesignError> {
@@ -305,17 +329,13 @@ impl ToleranceSettings {
             "tolerance.output_level_tolerance_v",
             self.output_level_tolerance_v,
         )?;
+        limit(Quantity::Voltage, "tolerance.output_level_tolerance_v", self.output_level_tolerance_v)?;
         if let Some(v) = self.offset_v {
             non_negative("tolerance.offset_v", v)?;
+            limit(Quantity::Voltage, "tolerance.offset_v", v)?;
         }
-        non_negative(
-            "tolerance.resistor_tempco_ppm_per_k",
-            self.resistor_tempco_ppm_per_k,
-        )?;
-        non_negative(
-            "tolerance.reference_tempco_ppm_per_k",
-            self.reference_tempco_ppm_per_k,
-        )?;
+        tempco("tolerance.resistor_tempco_ppm_per_k", self.resistor_tempco_ppm_per_k)?;
+        tempco("tolerance.reference_tempco_ppm_per_k", self.reference_tempco_ppm_per_k)?;
         finite("tolerance.temperature_min_c", self.temperature_min_c)?;
         finite("tolerance.temperature_max_c", self.temperature_max_c)?;
         if self.temperature_min_c < -273.15 || self.temperature_max_c > 1000.0 {
@@ -366,10 +386,11 @@ impl ToleranceSettings {
                 }
                 Some(ToleranceBand::Absolute(a)) => {
                     non_negative(&field, a)?;
+                    magnitude(&field, a)?;
                 }
                 Some(ToleranceBand::Limits([lo, hi])) => {
-                    finite(&field, lo)?;
-                    finite(&field, hi)?;
+                    magnitude(&field, lo)?;
+                    magnitude(&field, hi)?;
                     if lo > hi {
                         return Err(DesignError::invalid(
                             &field,
@@ -380,7 +401,7 @@ impl ToleranceSettings {
                 None => {}
             }
             if let Some(tc) = o.tempco_ppm_per_k {
-                non_negative(&format!("{field}.tempco_ppm_per_k"), tc)?;
+                tempco(&format!("{field}.tempco_ppm_per_k"), tc)?;
             }
         }
         Ok(())

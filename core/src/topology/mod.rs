@@ -214,6 +214,7 @@ fn dimensionless() -> Unit {
 
 /// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
 pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Analysis, DesignError> {
+    settings.validate()?;
     circuit.validate()?;
     let t = circuit.thresholds()?;
     let (voh, vol) = circuit.output_levels()?;
@@ -360,9 +361,8 @@ pub fn supply_corners<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Resu
 /// scale inversely with its impedance level, so the budget is met by rescaling the anchor and
 /// re-solving (twice, so bias-current terms settle).
 pub fn synthesise<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
+    targets.validate()?;
     let t = targets.thresholds();
-    crate::error::finite("targets.vt_upper_v", t.vt_upper_v)?;
-    crate::error::finite("targets.vt_lower_v", t.vt_lower_v)?;
     match targets.impedance {
         ImpedanceChoice::AnchorOhm(r) => {
             crate::error::positive("targets.impedance.anchor_ohm", r)?;
