@@ -1,13 +1,13 @@
 //! The headless evaluation of design records: what the command-line entry point and the page's
 //! checks run. Each record gives one result; each study inside a result succeeds or fails on its own.
 
-use crate::analysis::{Analysis, Thresholds};
-use crate::bom::{bom, Bom, OutputStage};
+use crate::analysis::Analysis;
+use crate::bom::Bom;
 use crate::search::{search, SearchReport};
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
 use crate::tolerance::{tolerance_report, ToleranceReport};
-use crate::topology::{analyse, sensitivities, synthesise, Circuit, Topology};
+use crate::topology::{analyse, sensitivities, synthesise, Topology};
 use serde::{Deserialize, Serialize};
 
 /// ∂VT/∂p of one parameter.
@@ -87,11 +87,7 @@ pub struct Exports {
     pub bench: Option<crate::bench::BenchProcedure>,
 }
 
-/// Thresholds of a circuit, validated first. The fast path for the page.
-pub fn thresholds(circuit: &Topology) -> Result<Thresholds, DesignError> {
-    circuit.validate()?;
-    circuit.thresholds()
-}
+pub use crate::overview::thresholds;
 
 /// Evaluates one record: analysis, sensitivities, part list and (with targets) synthesis and
 /// (with search settings too) the standard-value search.
@@ -157,10 +153,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
             }
         }
     });
-    let bom = analysis.as_ref().and_then(|a| {
-        let stage = OutputStage::infer(record.circuit.name(), &record.circuit.parameters());
-        bom(&record.circuit, a, &record.checks, &record.parts, stage).map_err(|e| fail("bom", e)).ok()
-    });
+    let bom = analysis.as_ref().and_then(|a| crate::overview::part_list(record, a).map_err(|e| fail("bom", e)).ok());
     // The search starts from the synthesised design when there is one (it may have dropped a
     // resistor to meet the targets), else from the design as entered.
     let search = match (&record.targets, &record.search) {
@@ -176,17 +169,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         let (spice, bench) = match &analysis {
             Some(a) => (
                 crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
-                Some(crate::bench::bench_procedure_from(
-                    &record.circuit,
-                    a,
-                    &record.checks,
-                    &tolerance.as_ref().map_or_else(crate::bench::ThresholdBounds::default, |t| {
-                        crate::bench::ThresholdBounds {
-                            vt_upper_v: Some((t.worst_case.vt_upper.min.value_v, t.worst_case.vt_upper.max.value_v)),
-                            vt_lower_v: Some((t.worst_case.vt_lower.min.value_v, t.worst_case.vt_lower.max.value_v)),
-                        }
-                    }),
-                )),
+                Some(crate::overview::bench(record, a, tolerance.as_ref().map(|t| &t.worst_case))),
             ),
             None => (None, None),
         };

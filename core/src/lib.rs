@@ -20,6 +20,7 @@ pub mod device;
 pub mod error;
 pub mod limits;
 pub mod evaluate;
+pub mod overview;
 pub mod record;
 pub mod rng;
 pub mod safety;
