@@ -3,11 +3,11 @@
 
 use crate::analysis::Analysis;
 use crate::bom::Bom;
-use crate::search::{search, SearchReport};
+use crate::search::SearchReport;
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
 use crate::tolerance::{tolerance_report, ToleranceReport};
-use crate::topology::{analyse, sensitivities, synthesise, Topology};
+use crate::topology::{analyse, sensitivities};
 use serde::{Deserialize, Serialize};
 
 /// ∂VT/∂p of one parameter.
@@ -23,14 +23,7 @@ pub struct Sensitivity {
     pub d_vt_lower: f64,
 }
 
-/// The outcome of synthesis: the circuit that reaches the targets and its analysis.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Synthesis {
-    /// The synthesised circuit (same topology, new part values).
-    pub circuit: Topology,
-    /// The synthesised circuit's analysis.
-    pub analysis: Analysis,
-}
+pub use crate::overview::Synthesis;
 
 /// A study that failed, and why.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -117,8 +110,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         None
     };
     let synthesis = record.targets.as_ref().and_then(|t| {
-        match synthesise(&record.circuit, t).and_then(|c| analyse(&c, &record.checks).map(|a| (c, a))) {
-            Ok((circuit, analysis)) => Some(Synthesis { circuit, analysis }),
+        match crate::overview::synthesis(record, t) {
+            Ok(s) => Some(s),
             Err(e) => {
                 fail("synthesis", e);
                 None
@@ -154,12 +147,9 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
     });
     let bom = analysis.as_ref().and_then(|a| crate::overview::part_list(record, a).map_err(|e| fail("bom", e)).ok());
-    // The search starts from the synthesised design when there is one (it may have dropped a
-    // resistor to meet the targets), else from the design as entered.
     let search = match (&record.targets, &record.search) {
-        (Some(t), Some(s)) => {
-            let start = synthesis.as_ref().map_or(&record.circuit, |x| &x.circuit);
-            search(start, t.thresholds(), s, &record.checks).map_err(|e| fail("search", e)).ok()
+        (Some(t), Some(_)) => {
+            crate::overview::standard_values(record, t, synthesis.as_ref()).map_err(|e| fail("search", e)).ok()
         }
         _ => None,
     };
@@ -230,6 +220,7 @@ pub fn evaluate_json(text: &str) -> Result<Vec<RecordResult>, RecordError> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::topology::Topology;
 
     #[test]
     fn array_with_one_bad_record_keeps_the_good_one() {

@@ -12,15 +12,16 @@
 //! The part list is built by [`part_list`] only, and the bench procedure by [`bench`] only, so a
 //! change to either is one line here.
 
-use crate::analysis::{Analysis, Thresholds};
+use crate::analysis::{Analysis, Targets, Thresholds};
 use crate::bench::{bench_procedure_from, BenchProcedure, ThresholdBounds};
 use crate::bom::{Bom, OutputStage};
 use crate::error::DesignError;
 use crate::record::DesignRecord;
+use crate::search::{search, SearchReport};
 use crate::safety::{cautions, Caution};
 use crate::signal::report::{evaluate_record_signal, SignalReport};
 use crate::tolerance::{monte_carlo, worst_case, WorstCase};
-use crate::topology::{analyse, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
+use crate::topology::{analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
 use serde::{Deserialize, Serialize};
 
 /// The smallest margin drawn either side of the thresholds, volts: a circuit with little or no
@@ -137,6 +138,35 @@ pub fn bounds_of(worst: Option<&WorstCase>) -> ThresholdBounds {
 /// when there is one. The one place the bench procedure is built.
 pub fn bench(record: &DesignRecord, analysis: &Analysis, worst: Option<&WorstCase>) -> BenchProcedure {
     bench_procedure_from(&record.circuit, analysis, &record.checks, &bounds_of(worst))
+}
+
+/// The outcome of synthesis: the circuit that reaches the targets and its analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Synthesis {
+    /// The synthesised circuit (same topology, new part values).
+    pub circuit: Topology,
+    /// The synthesised circuit's analysis (with the record's checks).
+    pub analysis: Analysis,
+}
+
+/// Synthesis towards `targets` from the record's circuit, with the result analysed.
+pub fn synthesis(record: &DesignRecord, targets: &Targets) -> Result<Synthesis, DesignError> {
+    let circuit = synthesise(&record.circuit, targets)?;
+    let analysis = analyse(&circuit, &record.checks)?;
+    Ok(Synthesis { circuit, analysis })
+}
+
+/// Best standard-value combinations for `targets` with the record's search settings (defaults
+/// when it has none). The search starts from the synthesised design when there is one (it may
+/// have dropped a resistor to meet the targets), else from the design as entered.
+pub fn standard_values(
+    record: &DesignRecord,
+    targets: &Targets,
+    synthesised: Option<&Synthesis>,
+) -> Result<SearchReport, DesignError> {
+    let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
+    let settings = record.search.clone().unwrap_or_default();
+    search(start, targets.thresholds(), &settings, &record.checks)
 }
 
 /// The slower sections, computed once typing pauses.
