@@ -14,7 +14,7 @@
 
 use crate::analysis::{CheckSettings, Sense};
 use crate::error::DesignError;
-use crate::topology::supply_monitor::{MonitorMode, SAFETY_DC_LIMIT_V};
+use crate::topology::supply_monitor::MonitorMode;
 use crate::topology::{analyse, Circuit, Topology};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write as _;
@@ -185,12 +185,13 @@ pub fn bench_procedure_from(
         }
     }
 
+    let safety = crate::safety::bench_safety(circuit, a, checks, &[ramp_low_v, ramp_high_v]);
     let mut equipment = vec![
-        format!(
+        safety.input_source.clone().unwrap_or_else(|| format!(
             "adjustable bench supply (or a function generator set to a triangle of {} to {}, 0.1 Hz or slower) for the {input_name}",
             v(ramp_low_v),
             v(ramp_high_v)
-        ),
+        )),
         format!("voltmeter on the {input_name}, resolving {} or better", v(step_v)),
         "second voltmeter or an oscilloscope on OUT, to see the moment it switches".to_string(),
     ];
@@ -258,17 +259,8 @@ pub fn bench_procedure_from(
         None,
     );
 
-    let mut cautions = Vec::new();
-    let highest = [ramp_high_v.abs(), ramp_low_v.abs(), supply.abs(), checks.input_max_v.unwrap_or(0.0).abs()]
-        .into_iter()
-        .fold(0.0, f64::max);
-    if highest > SAFETY_DC_LIMIT_V {
-        cautions.push(format!(
-            "the test reaches {} d.c., above the {} V extra-low-voltage limit (DOMAIN §5): use insulated leads, one hand, and a current-limited supply",
-            v(highest),
-            SAFETY_DC_LIMIT_V
-        ));
-    }
+    equipment.extend(safety.equipment);
+    let mut cautions = safety.cautions;
     if monitor {
         cautions.push("do the ramps with a current-limited bench supply in place of the battery; on the real battery, fuse the sense lead where it leaves the battery".into());
     }

@@ -62,6 +62,9 @@ pub struct Evaluation {
     /// The share link, SPICE deck and bench procedure of the design as entered (see [`Exports`]).
     #[serde(default)]
     pub exports: Option<Exports>,
+    /// Safety cautions computed from the design's values (see [`crate::safety::cautions`]).
+    #[serde(default)]
+    pub cautions: Vec<crate::safety::Caution>,
 }
 
 /// The shareable and printable forms of a design, computed with every evaluation.
@@ -178,6 +181,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         bom,
         search,
         exports,
+        cautions: crate::safety::cautions(record),
     }
 }
 

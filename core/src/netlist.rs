@@ -7,13 +7,18 @@
 //! Node names are SPICE-friendly lower-case words; `0` is ground (SPICE's reference node). The
 //! circuit input net is always [`INPUT_NET`] and the output net [`OUTPUT_NET`].
 //!
-//! Every topology implements [`Netlisted`] at the end of its own module; [`Topology`] dispatches
-//! here. Resistor designators come from [`Circuit::parameters`] by parameter id, so the netlist,
-//! the schematic and the tolerance tables share one numbering.
+//! This module is plain data below the topologies: it imports no topology. Every topology
+//! implements [`Netlisted`] at the end of its own module (the enum `Topology` dispatches to them),
+//! building its netlist with [`NetBuilder`]; the helpers that need a topology's types (the
+//! builder from a design's parameter list, the input's DC value, the reference network) live in
+//! the topology layer (`topology::netlisting`, `topology::noninverting::reference_network`).
+//! Resistor designators are handed in as [`PartDesignator`]s taken from the design's parameter
+//! list (`Circuit::parameters`), so the netlist, the schematic and the tolerance tables share one
+//! numbering.
 
 use crate::device::{Comparator, Rail};
-use crate::schematic::SchematicLayout;
-use crate::topology::{Circuit, Parameter};
+use crate::notation::{self, Unit};
+use crate::schematic::sheet::SchematicLayout;
 use serde::{Deserialize, Serialize};
 
 /// SPICE's ground node.
@@ -33,7 +38,7 @@ pub const NEGATIVE_NET: &str = "vee";
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum ResistorRole {
-    /// A part of the design's part list; its designator matches [`Circuit::parameters`].
+    /// A part of the design's part list; its designator matches the design's parameter list.
     PartList,
     /// The signal source's own resistance (not a part to fit).
     SourceResistance,
@@ -222,7 +227,7 @@ impl ActiveDevice {
 pub struct Netlist {
     /// The topology's record name.
     pub topology: String,
-    /// Resistors: the part list first, in the order of [`Circuit::parameters`], then any
+    /// Resistors: the part list first, in the order of the design's parameter list, then any
     /// source resistance and external load.
     pub resistors: Vec<NetResistor>,
     /// Voltage sources: rails, references, the signal.
@@ -274,7 +279,7 @@ impl Netlist {
 
 /// Anything that can be drawn and exported: its netlist and its schematic placement.
 pub trait Netlisted {
-    /// The circuit as a netlist, with designators matching [`Circuit::parameters`].
+    /// The circuit as a netlist, with designators matching the design's parameter list.
     fn netlist(&self) -> Netlist;
     /// Where the parts, wires and net labels go on the schematic grid.
     fn schematic(&self) -> SchematicLayout;
@@ -283,26 +288,37 @@ pub trait Netlisted {
 // `impl Netlisted for Topology` is generated with the enum by `topologies!` (core/src/topology/mod.rs),
 // so a new topology is registered in one list.
 
+/// A part-list resistor's parameter id and designator (`rf_ohm` → `R3`), as the design's
+/// parameter list names it; a [`NetBuilder`] is given them in that list's order.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PartDesignator {
+    /// The parameter id (`rf_ohm`).
+    pub id: String,
+    /// The designator (`R3`).
+    pub designator: String,
+}
+
 /// Builds a netlist step by step; used by the topology modules' [`Netlisted`] implementations.
 #[derive(Debug)]
 pub struct NetBuilder {
     net: Netlist,
-    params: Vec<Parameter>,
+    parts: Vec<PartDesignator>,
 }
 
 impl NetBuilder {
-    /// Starts a netlist for a circuit; designators are looked up in its parameters.
-    pub fn new<C: Circuit>(topology: &str, circuit: &C) -> Self {
-        NetBuilder { net: Netlist { topology: topology.into(), ..Netlist::default() }, params: circuit.parameters() }
+    /// Starts a netlist for the topology named `topology` (its record name); `parts` are its
+    /// part-list resistors in parameter order, where designators are looked up by parameter id.
+    pub fn new(topology: &str, parts: Vec<PartDesignator>) -> Self {
+        NetBuilder { net: Netlist { topology: topology.into(), ..Netlist::default() }, parts }
     }
 
     /// The designator of the resistor parameter `id` (e.g. `rf_ohm` → `R3`); the id in capitals
     /// if the circuit does not list it (never expected; a test checks every topology).
     pub fn designator(&self, id: &str) -> String {
-        self.params
+        self.parts
             .iter()
             .find(|p| p.id == id)
-            .and_then(|p| p.designator.clone())
+            .map(|p| p.designator.clone())
             .unwrap_or_else(|| id.trim_end_matches("_ohm").to_uppercase())
     }
 
@@ -473,10 +489,7 @@ impl NetBuilder {
             match r.role {
                 ResistorRole::PartList => (
                     0,
-                    self.params
-                        .iter()
-                        .position(|p| p.designator.as_deref() == Some(&r.designator))
-                        .unwrap_or(usize::MAX),
+                    self.parts.iter().position(|p| p.designator == r.designator).unwrap_or(usize::MAX),
                 ),
                 ResistorRole::SourceResistance => (1, 0),
                 ResistorRole::Load => (2, 0),
@@ -490,91 +503,47 @@ impl NetBuilder {
     }
 }
 
-/// Adds a comparator input's reference network and returns the device-input node: a rail or
-/// fixed source directly (source `VREF` on net `ref`), or the divider Ra (`ra_ohm`, from
-/// `rail_a`) / Rb (`rb_ohm`, to `rail_b`) with its midpoint on net `node`.
-pub fn reference_network(
-    b: &mut NetBuilder,
-    reference: &crate::topology::noninverting::Reference,
-    device: &Comparator,
-    node: &str,
-) -> String {
-    use crate::topology::noninverting::Reference;
-    let (vs, vn) = (device.supply_v, device.negative_rail_v);
-    match *reference {
-        Reference::Direct { rail } => b.rail(rail, vs, vn, "VREF", "ref", SourceRole::Reference),
-        Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-            let a = b.rail(rail_a, vs, vn, "VRA", "rail_a", SourceRole::Reference);
-            let c = b.rail(rail_b, vs, vn, "VRB", "rail_b", SourceRole::Reference);
-            b.part("ra_ohm", &a, node, ra_ohm);
-            b.part("rb_ohm", node, &c, rb_ohm);
-            node.into()
-        }
-    }
-}
+/// Significant digits of a voltage in a net label.
+pub const LABEL_DIGITS: u8 = 4;
 
-/// The DC value for the signal source: the centre of the thresholds when they can be computed,
-/// else the middle of `fallback` (volts).
-pub fn input_centre_v<C: Circuit>(circuit: &C, fallback: (f64, f64)) -> f64 {
-    match circuit.thresholds() {
-        Ok(t) if t.centre_v().is_finite() => t.centre_v(),
-        _ => 0.5 * (fallback.0 + fallback.1),
-    }
-}
-
-/// A voltage as short text: "5 V", "3.3 V", "-12 V", "2.5 V" (up to four significant digits).
+/// A voltage as net-label text through [`notation::format_with_unit`] with [`LABEL_DIGITS`]
+/// significant digits: "5 V", "3.3 V", "-12 V", "2.5 V", "200 mV".
 pub fn volts_text(v: f64) -> String {
-    format!("{} V", short_number(v))
-}
-
-/// A number with up to four significant digits and no trailing zeros.
-pub fn short_number(v: f64) -> String {
-    if !v.is_finite() {
-        return format!("{v}");
-    }
-    if v == 0.0 {
-        return "0".into();
-    }
-    let digits = (3 - v.abs().log10().floor() as i32).clamp(0, 12) as usize;
-    let s = format!("{v:.digits$}");
-    let s = if s.contains('.') { s.trim_end_matches('0').trim_end_matches('.').to_string() } else { s };
-    if s == "-0" {
-        "0".into()
-    } else {
-        s
-    }
+    notation::format_with_unit(v, LABEL_DIGITS, Unit::Volt)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::catalog;
 
     #[test]
-    fn short_numbers() {
-        assert_eq!(short_number(5.0), "5");
-        assert_eq!(short_number(3.3), "3.3");
-        assert_eq!(short_number(-12.0), "-12");
-        assert_eq!(short_number(2.5), "2.5");
-        assert_eq!(short_number(1.23456), "1.235");
-        assert_eq!(short_number(0.0), "0");
+    fn volts_labels() {
+        assert_eq!(volts_text(5.0), "5 V");
+        assert_eq!(volts_text(3.3), "3.3 V");
+        assert_eq!(volts_text(-12.0), "-12 V");
+        assert_eq!(volts_text(1.23456), "1.235 V");
+        assert_eq!(volts_text(0.2), "200 mV");
+        assert_eq!(volts_text(0.0), "0 V");
     }
 
     #[test]
-    fn every_starter_netlist_lists_each_part_once_with_its_value() {
-        for s in catalog::templates().into_iter().chain(catalog::demos()) {
-            let c = s.record().circuit;
-            let net = c.netlist();
-            let parts: Vec<_> = c.parameters().into_iter().filter(|p| p.designator.is_some()).collect();
-            let listed: Vec<_> = net.part_list().collect();
-            assert_eq!(listed.len(), parts.len(), "{}", s.key);
-            for (p, r) in parts.iter().zip(&listed) {
-                assert_eq!(p.designator.as_deref(), Some(r.designator.as_str()), "{}", s.key);
-                assert_eq!(p.value, r.resistance_ohm, "{}", s.key);
-                assert_ne!(r.node_a, r.node_b, "{}: {} shorted", s.key, r.designator);
-            }
-            assert_eq!(net.sources.iter().filter(|s| s.role == SourceRole::Input).count(), 1);
-            assert!(!net.devices.is_empty());
-        }
+    fn part_list_resistors_come_first_in_parameter_order_with_their_designators() {
+        let parts = ["ra_ohm", "rb_ohm", "rf_ohm"]
+            .iter()
+            .zip(["R1", "R2", "R3"])
+            .map(|(id, d)| PartDesignator { id: id.to_string(), designator: d.to_string() })
+            .collect();
+        let mut b = NetBuilder::new("toy", parts);
+        b.resistor("RLOAD".into(), OUTPUT_NET, GROUND, 10e3, ResistorRole::Load);
+        b.part("rf_ohm", OUTPUT_NET, "p", 100e3);
+        b.input(1.0, 50.0, "IN");
+        b.part("ra_ohm", SUPPLY_NET, "p", 10e3);
+        b.part("rx_ohm", "p", GROUND, 1e3);
+        let net = b.finish();
+        let order: Vec<&str> = net.resistors.iter().map(|r| r.designator.as_str()).collect();
+        // Listed parts in parameter order, an unlisted id (in capitals) after them, then RS and RLOAD.
+        assert_eq!(order, ["R1", "R3", "RX", "RS", "RLOAD"]);
+        assert_eq!(net.part_list().count(), 3);
+        assert_eq!(net.net_label(SOURCE_NET), "IN");
     }
 }

@@ -735,3 +735,37 @@ mod tests {
         assert_eq!(format_rkm(1e16, 3), Err(NotationError::OutOfRange));
     }
 }
+
+/// As [`format_rkm`], in the form common on schematics that keeps one digit after a lone
+/// multiplier letter, so the letter never ends the code: `1K0`, `2M2`, `4K7`, `10K`, `1R`, `R47`
+/// (IEC 60062 lists `1K0` and `1M0` among its examples; from memory, shared/DOMAIN.md §3). Reads
+/// back with [`parse`] to the same value as the [`format_rkm`] form.
+#[allow(clippy::items_after_test_module)]
+pub fn format_rkm_padded(value_ohm: f64, significant_digits: u8) -> Result<String, NotationError> {
+    let code = format_rkm(value_ohm, significant_digits)?;
+    let lone_digit_then_letter = code.len() == 2
+        && code.starts_with(|c: char| c.is_ascii_digit())
+        && code.ends_with(|c: char| "KMGT".contains(c));
+    Ok(if lone_digit_then_letter { format!("{code}0") } else { code })
+}
+
+#[cfg(test)]
+mod padded_rkm_tests {
+    use super::*;
+
+    #[test]
+    fn a_lone_multiplier_letter_gets_one_zero() {
+        let r = |x| format_rkm_padded(x, 4).unwrap();
+        // IEC 60062 examples (from memory): 1K0, 1M0, 4K7, R47, 100R.
+        assert_eq!(r(1000.0), "1K0");
+        assert_eq!(r(1e6), "1M0");
+        assert_eq!(r(999_960.0), "1M0");
+        assert_eq!(r(4700.0), "4K7");
+        assert_eq!(r(10e3), "10K");
+        assert_eq!(r(1.0), "1R");
+        assert_eq!(r(0.47), "R47");
+        assert_eq!(r(0.0), "0R");
+        assert_eq!(parse_value(&r(3000.0)).unwrap(), 3000.0);
+        assert!(format_rkm_padded(-1.0, 4).is_err());
+    }
+}

@@ -15,9 +15,15 @@
 //! The signal source VIN carries both a DC value (the band's centre) and a slow triangle
 //! (`PWL`) from below VT− to above VT+ and back, so a transient run shows both thresholds.
 //! Analysis lines are suggested in comments, not issued, so the deck can be included elsewhere.
+//!
+//! The writer ([`write_deck`]) reads only the netlist data ([`crate::netlist`]); [`to_spice`] is
+//! the one entry point that takes a [`Topology`] (it computes the thresholds for the comments and
+//! the ramp). Numbers on element lines are written by [`spice_number`], SPICE's own notation;
+//! voltages in comments go through [`crate::notation`].
 
 use crate::error::DesignError;
-use crate::netlist::{ActiveDevice, GateThreshold, Netlist, Netlisted, SourceRole};
+use crate::netlist::{ActiveDevice, GateThreshold, Netlist, Netlisted, ResistorRole, SourceRole};
+use crate::notation::{self, Unit};
 use crate::topology::{Circuit, Topology};
 use std::fmt::Write as _;
 
@@ -99,16 +105,16 @@ pub fn write_deck(
     let _ = writeln!(o, "* Exported by Hysteron: generic SPICE3 syntax; topology {}", net.topology);
     let _ = writeln!(
         o,
-        "* Expected thresholds: VT+ = {} V (rising input), VT- = {} V (falling input)",
-        fmt6(vt_upper_v),
-        fmt6(vt_lower_v)
+        "* Expected thresholds: VT+ = {} (rising input), VT- = {} (falling input)",
+        volts(vt_upper_v),
+        volts(vt_lower_v)
     );
     let _ = writeln!(
         o,
-        "* Suggested analysis (transient, VIN is a triangle {} V -> {} V -> {} V over 2 s):",
-        fmt6(ramp_lo_v),
-        fmt6(ramp_hi_v),
-        fmt6(ramp_lo_v)
+        "* Suggested analysis (transient, VIN is a triangle {} -> {} -> {} over 2 s):",
+        volts(ramp_lo_v),
+        volts(ramp_hi_v),
+        volts(ramp_lo_v)
     );
     let _ = writeln!(o, "*   .tran 1m 2");
     let _ = writeln!(o, "* or a DC sweep, which shows VT+ only (rising):");
@@ -151,11 +157,11 @@ pub fn write_deck(
     let _ = writeln!(o, "* Resistors (designators as in the part list)");
     for r in &net.resistors {
         match r.role {
-            crate::netlist::ResistorRole::PartList => {}
-            crate::netlist::ResistorRole::SourceResistance => {
+            ResistorRole::PartList => {}
+            ResistorRole::SourceResistance => {
                 let _ = writeln!(o, "* {}: the signal source's own resistance (not a part)", r.designator);
             }
-            crate::netlist::ResistorRole::Load => {
+            ResistorRole::Load => {
                 let _ = writeln!(o, "* {}: external load (not a part)", r.designator);
             }
         }
@@ -181,23 +187,34 @@ pub fn write_deck(
     o
 }
 
-fn fmt6(v: f64) -> String {
-    crate::netlist::short_number(v)
+/// Significant digits of a number in a comment or a rounded element value.
+const SHORT_DIGITS: u8 = 4;
+
+/// Notation's text in the ASCII a SPICE deck keeps to (some simulators read decks as 8-bit text):
+/// `µ` becomes `u` (as in SPICE's own suffixes) and `Ω` becomes `ohm`.
+fn ascii(text: String) -> String {
+    text.replace('µ', "u").replace('Ω', "ohm")
 }
 
-/// A number for a comment: four significant digits, scientific notation below 1 m.
-fn human(v: f64) -> String {
-    if v != 0.0 && v.abs() < 1e-3 {
-        format!("{v:.3e}")
-    } else {
-        fmt6(v)
-    }
+/// A voltage for a comment, through [`notation::format_with_unit`]: "2.5 V", "-12 V", "1 mV", "500 uV".
+fn volts(v: f64) -> String {
+    ascii(notation::format_with_unit(v, SHORT_DIGITS, Unit::Volt))
 }
 
-/// A number for an element line rounded to four significant digits (ramp limits, the signal's
-/// DC value: their exact digits carry no meaning).
+/// A resistance for a comment, through [`notation::format_with_unit`]: "1 ohm", "1 Tohm".
+fn ohms(v: f64) -> String {
+    ascii(notation::format_with_unit(v, SHORT_DIGITS, Unit::Ohm))
+}
+
+/// `v` rounded to four significant digits (ramp limits, the signal's DC value, the temperature:
+/// their exact digits carry no meaning).
+fn rounded(v: f64) -> f64 {
+    format!("{v:.*e}", usize::from(SHORT_DIGITS - 1)).parse::<f64>().unwrap_or(v)
+}
+
+/// A number for an element line rounded to four significant digits, in SPICE notation.
 fn short(v: f64) -> String {
-    spice_number(fmt6(v).parse::<f64>().unwrap_or(v))
+    spice_number(rounded(v))
 }
 
 fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
@@ -232,15 +249,15 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             );
             let _ = writeln!(
                 o,
-                "* VOS = {} V, built-in hysteresis h = {} V. Output switch on-resistance {} ohm, off {} ohm.",
-                human(*offset_v),
-                human(*hysteresis_v),
-                human(if output_high_drop_v.is_some() { OUTPUT_ON_OHM } else { on_ohm(*sink_resistance_ohm) }),
-                human(OUTPUT_OFF_OHM)
+                "* VOS = {}, built-in hysteresis h = {}. Output switch on-resistance {}, off {}.",
+                volts(*offset_v),
+                volts(*hysteresis_v),
+                ohms(if output_high_drop_v.is_some() { OUTPUT_ON_OHM } else { on_ohm(*sink_resistance_ohm) }),
+                ohms(OUTPUT_OFF_OHM)
             );
             match output_high_drop_v {
                 Some(drop) => {
-                    let _ = writeln!(o, "* Output high = V({positive_supply}) - {} V, output low = V({negative_supply}) + {} V (push-pull).", human(*drop), human(*output_low_rise_v));
+                    let _ = writeln!(o, "* Output high = V({positive_supply}) - {}, output low = V({negative_supply}) + {} (push-pull).", volts(*drop), volts(*output_low_rise_v));
                     let _ = writeln!(o, "V{u}H {u}_hi {positive_supply} DC {}", n(-drop));
                     let _ = writeln!(o, "S{u}H {output} {u}_hi {non_inverting} {inverting} SW{u}H");
                     let _ = writeln!(
@@ -253,7 +270,7 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                     );
                 }
                 None => {
-                    let _ = writeln!(o, "* Open-drain/open-collector output: it only pulls low, to V({negative_supply}) + {} V through RDS(on) = {} ohm.", human(*output_low_rise_v), human(on_ohm(*sink_resistance_ohm)));
+                    let _ = writeln!(o, "* Open-drain/open-collector output: it only pulls low, to V({negative_supply}) + {} through RDS(on) = {}.", volts(*output_low_rise_v), ohms(on_ohm(*sink_resistance_ohm)));
                 }
             }
             let _ = writeln!(o, "V{u}L {u}_lo {negative_supply} DC {}", n(*output_low_rise_v));
@@ -282,12 +299,12 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             let u = designator;
             let (vt, vh, what) = match *threshold {
                 GateThreshold::Single { switching_v } => {
-                    (switching_v, 0.0, format!("switches at VM = {} V", human(switching_v)))
+                    (switching_v, 0.0, format!("switches at VM = {}", volts(switching_v)))
                 }
                 GateThreshold::Schmitt { upper_v, lower_v } => (
                     0.5 * (upper_v + lower_v),
                     0.5 * (upper_v - lower_v),
-                    format!("Schmitt input: VT+ = {} V, VT- = {} V", human(upper_v), human(lower_v)),
+                    format!("Schmitt input: VT+ = {}, VT- = {}", volts(upper_v), volts(lower_v)),
                 ),
             };
             let kind = if *inverting { "inverter" } else { "buffer" };
@@ -298,9 +315,9 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             );
             let _ = writeln!(
                 o,
-                "* connect the output to VOH = {} V or VOL = {} V; the input draws no current.",
-                human(*output_high_v),
-                human(*output_low_v)
+                "* connect the output to VOH = {} or VOL = {}; the input draws no current.",
+                volts(*output_high_v),
+                volts(*output_low_v)
             );
             let (rise_level, fall_level) = if *inverting { ("lo", "hi") } else { ("hi", "lo") };
             let _ = writeln!(o, "V{u}H {u}_hi {ground} DC {}", n(*output_high_v));
@@ -329,7 +346,7 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
         ActiveDevice::Npn { designator, collector, base, emitter, model } => {
             let _ =
                 writeln!(o, "* {designator}: NPN, SPICE bipolar model with IS, BF and BR only (transport Ebers-Moll);");
-            let _ = writeln!(o, "* the hand analysis assumed VBE = {} V.", human(model.vbe_v));
+            let _ = writeln!(o, "* the hand analysis assumed VBE = {}.", volts(model.vbe_v));
             let _ = writeln!(o, "{designator} {collector} {base} {emitter} QNPN");
             if !models.contains(".model QNPN") {
                 let celsius = model.temperature_k - 273.15;
@@ -337,8 +354,8 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                     models,
                     "* IS is entered at the junction temperature: TNOM = TEMP so SPICE does not rescale it."
                 );
-                let _ = writeln!(models, ".options TNOM={}", fmt6(celsius));
-                let _ = writeln!(models, ".temp {}", fmt6(celsius));
+                let _ = writeln!(models, ".options TNOM={}", short(celsius));
+                let _ = writeln!(models, ".temp {}", short(celsius));
                 let _ = writeln!(
                     models,
                     ".model QNPN NPN(IS={} BF={} BR={})",
@@ -392,6 +409,20 @@ mod tests {
             } else {
                 assert!(deck.contains("behavioural model"), "{}", s.key);
             }
+        }
+    }
+
+    #[test]
+    fn comments_write_values_through_notation_in_ascii() {
+        assert_eq!(volts(2.5), "2.5 V");
+        assert_eq!(volts(-5e-4), "-500 uV");
+        assert_eq!(ohms(OUTPUT_OFF_OHM), "1 Tohm");
+        assert_eq!(short(1.23456), "1.235");
+        assert_eq!(short(-0.0123456), "-12.35m");
+        for s in catalog::templates().into_iter().chain(catalog::demos()) {
+            let r = s.record();
+            let deck = to_spice(&r.circuit, "ascii title").unwrap();
+            assert!(deck.is_ascii(), "{}: a non-ASCII character in the deck", s.key);
         }
     }
 

@@ -1,8 +1,15 @@
 //! Headless Chromium through chromedriver, and helpers to read and type into the page.
+//!
+//! Tests never sleep for a fixed time: every wait is for a condition (an element present, a number or
+//! text reaching a value, a JavaScript predicate true, the open design stored with a value) with the
+//! timeout [`WAIT`] and a failure message that names what was awaited and what was seen last. The one
+//! deliberate delay is [`KEY_DELAY`] between the key events [`Session::type_into`] sends, because a
+//! person types one key at a time.
 
 use fantoccini::{Client, ClientBuilder, Locator};
+use std::future::Future;
 use std::process::Stdio;
-use std::time::Duration;
+use std::time::{Duration, Instant};
 use tokio::process::{Child, Command};
 
 /// A running chromedriver, the page's server, and one browser session. Dropping it ends chromedriver.
@@ -24,6 +31,52 @@ mod tempdir {
         }
     }
 }
+
+/// How long any awaited condition may take before the test fails.
+pub const WAIT: Duration = Duration::from_secs(20);
+
+/// The pause between two key events in [`Session::type_into`]: a quick typist (about 100 words a
+/// minute is 8 characters a second; common practice). Keys of one field typed this fast still merge
+/// into one undo step (`History::MERGE_MS`, 800 ms).
+pub const KEY_DELAY: Duration = Duration::from_millis(60);
+
+/// How often a condition is checked again while waiting.
+const POLL: Duration = Duration::from_millis(25);
+
+/// Checks `probe` until it gives `Ok`, for at most `timeout`; panics naming `what` was awaited and
+/// the last state `probe` reported (its `Err`).
+pub async fn wait_until<T, F, Fut>(what: &str, timeout: Duration, mut probe: F) -> T
+where
+    F: FnMut() -> Fut,
+    Fut: Future<Output = Result<T, String>>,
+{
+    let start = Instant::now();
+    loop {
+        match probe().await {
+            Ok(v) => return v,
+            Err(last) if start.elapsed() >= timeout => {
+                panic!("timed out after {:.1} s waiting for {what}; last seen: {last}", timeout.as_secs_f64())
+            }
+            Err(_) => tokio::time::sleep(POLL).await,
+        }
+    }
+}
+
+/// JavaScript truthiness of a script's result.
+fn truthy(v: &serde_json::Value) -> bool {
+    match v {
+        serde_json::Value::Null => false,
+        serde_json::Value::Bool(b) => *b,
+        serde_json::Value::Number(n) => n.as_f64().is_some_and(|x| x != 0.0),
+        serde_json::Value::String(s) => !s.is_empty(),
+        _ => true,
+    }
+}
+
+/// The script body that returns the open design's record as stored in local storage (or null).
+const OPEN_RECORD_JS: &str = "const li = document.querySelector('#design-list li.open'); \
+    const raw = li && localStorage.getItem('hysteron/design/' + li.dataset.id); \
+    const r = raw ? JSON.parse(raw).record : null;";
 
 fn free_port() -> u16 {
     std::net::TcpListener::bind("127.0.0.1:0").and_then(|l| l.local_addr()).map(|a| a.port()).unwrap_or(9515)
@@ -62,22 +115,16 @@ pub async fn start() -> Session {
     });
     let caps: serde_json::Map<String, serde_json::Value> = caps.as_object().cloned().unwrap_or_default();
     let url = format!("http://127.0.0.1:{port}");
-    let mut last_err = String::new();
-    for _ in 0..50 {
-        match ClientBuilder::rustls().expect("tls").capabilities(caps.clone()).connect(&url).await {
-            Ok(client) => {
-                let s = Session { client, base, _driver: driver, _profile: tempdir::Dir(profile) };
-                s.client.goto(&s.base).await.expect("open the page");
-                s.wait_for("#design").await;
-                return s;
-            }
-            Err(e) => {
-                last_err = e.to_string();
-                tokio::time::sleep(Duration::from_millis(200)).await;
-            }
-        }
-    }
-    panic!("could not start a browser session through chromedriver: {last_err}");
+    // chromedriver takes a moment to listen on its port: wait until a session can be made.
+    let (caps, url) = (&caps, &url);
+    let client = wait_until("a browser session through chromedriver", WAIT, move || async move {
+        ClientBuilder::rustls().expect("tls").capabilities(caps.clone()).connect(url).await.map_err(|e| e.to_string())
+    })
+    .await;
+    let s = Session { client, base, _driver: driver, _profile: tempdir::Dir(profile) };
+    s.client.goto(&s.base).await.expect("open the page");
+    s.wait_for("#design").await;
+    s
 }
 
 impl Session {
@@ -91,11 +138,26 @@ impl Session {
             .unwrap_or_else(|e| panic!("element {css} did not appear: {e}"))
     }
 
-    /// Replaces a text field's content with `text`, firing input events as a user would.
+    /// Replaces a text field's content with `text` as a user would: the field is cleared, then each
+    /// character is sent as its own real key event (through WebDriver, not a script setting `value`),
+    /// [`KEY_DELAY`] apart, so the page sees one `input` event per key.
     pub async fn type_into(&self, css: &str, text: &str) {
         let el = self.wait_for(css).await;
         el.clear().await.expect("clear field");
-        el.send_keys(text).await.expect("type");
+        for (i, c) in text.chars().enumerate() {
+            if i > 0 {
+                tokio::time::sleep(KEY_DELAY).await;
+            }
+            el.send_keys(&c.to_string()).await.unwrap_or_else(|e| panic!("type {c:?} into {css}: {e}"));
+        }
+        // Every key arrived: the field holds the text, or the page re-showed the same number in its
+        // own notation (e.g. "1M" as "1 M").
+        let value = el.prop("value").await.ok().flatten().unwrap_or_default();
+        let same_number = |a: &str, b: &str| {
+            use hysteron_core::notation::parse_value;
+            matches!((parse_value(a), parse_value(b)), (Ok(x), Ok(y)) if (x - y).abs() <= 1e-12 * x.abs().max(y.abs()))
+        };
+        assert!(value == text || same_number(&value, text), "{css} holds {value:?} after typing {text:?}");
     }
 
     /// The `data-value` of an output element, parsed as a number.
@@ -105,17 +167,71 @@ impl Session {
         v.parse().unwrap_or(f64::NAN)
     }
 
-    /// Waits until `data-value` of `css` is within `tol` of `expected`; returns the last value read.
+    /// Waits until `data-value` of `css` is within `tol` of `expected`; returns the value read.
     pub async fn wait_number(&self, css: &str, expected: f64, tol: f64) -> f64 {
-        let mut v = f64::NAN;
-        for _ in 0..100 {
-            v = self.number(css).await;
-            if (v - expected).abs() <= tol {
-                return v;
+        wait_until(&format!("{css} to show {expected} ± {tol}"), WAIT, move || async move {
+            let v = self.number(css).await;
+            if (v - expected).abs() <= tol { Ok(v) } else { Err(v.to_string()) }
+        })
+        .await
+    }
+
+    /// Waits until `data-value` of `css` is a number other than `from` (the page recomputed).
+    pub async fn wait_number_change(&self, css: &str, from: f64) -> f64 {
+        wait_until(&format!("{css} to change from {from}"), WAIT, move || async move {
+            let v = self.number(css).await;
+            if v.is_finite() && v != from { Ok(v) } else { Err(v.to_string()) }
+        })
+        .await
+    }
+
+    /// Waits until the text of `css` satisfies `test` (described by `what`); returns the text.
+    pub async fn wait_text(&self, css: &str, what: &str, test: impl Fn(&str) -> bool) -> String {
+        let test = &test;
+        wait_until(&format!("{css} to read {what}"), WAIT, move || async move {
+            let t = self.text(css).await;
+            if test(&t) { Ok(t) } else { Err(format!("{t:?}")) }
+        })
+        .await
+    }
+
+    /// Waits until the script body `predicate` (JavaScript ending in `return …`) gives a truthy value;
+    /// returns that value. `what` says what is awaited, for the failure message.
+    pub async fn wait_js(&self, what: &str, predicate: &str) -> serde_json::Value {
+        wait_until(what, WAIT, move || async move {
+            let v = self.js(predicate).await;
+            if truthy(&v) { Ok(v) } else { Err(v.to_string()) }
+        })
+        .await
+    }
+
+    /// Waits until the open design, as stored in local storage, satisfies `predicate`: a JavaScript
+    /// expression over the stored record `r` (e.g. `r.tolerance.monte_carlo.trials === 20000`).
+    /// Edits are saved as they are applied, so this is "the page has taken the edit".
+    pub async fn wait_stored(&self, predicate: &str) {
+        let script = format!("{OPEN_RECORD_JS} if (!r) return null; try {{ return !!({predicate}); }} catch (e) {{ return String(e); }}");
+        let script = &script;
+        wait_until(&format!("the open design to be stored with {predicate}"), WAIT, move || async move {
+            match self.js(script).await {
+                serde_json::Value::Bool(true) => Ok(()),
+                other => Err(other.to_string()),
             }
-            tokio::time::sleep(Duration::from_millis(50)).await;
-        }
-        v
+        })
+        .await
+    }
+
+    /// Adds a design from a starter (`demo:<key>` or a template value) and waits until it is the open
+    /// design, new in the list, with its results shown.
+    pub async fn add_starter(&self, value: &str) {
+        let before = self.js("return [...document.querySelectorAll('#design-list li')].map(li => li.dataset.id)").await;
+        self.wait_for("#starter-choice").await.select_by_value(value).await.unwrap_or_else(|e| panic!("choose {value}: {e}"));
+        self.wait_for("#add-starter").await.click().await.expect("add the starter");
+        let script = format!(
+            "const before = {before}; const li = document.querySelector('#design-list li.open'); \
+             const out = document.querySelector('#vt-upper'); \
+             return !!li && !before.includes(li.dataset.id) && !!out && out.dataset.value !== '';"
+        );
+        self.wait_js(&format!("the starter {value} to open with its results"), &script).await;
     }
 
     /// The visible text of an element.

@@ -7,7 +7,6 @@
 //! and a 1,000,000-sample signal pass.
 
 use hysteron_tests::browser;
-use std::time::Duration;
 
 fn percentile(sorted: &[f64], p: f64) -> f64 {
     let i = ((sorted.len() as f64 - 1.0) * p).round() as usize;
@@ -22,9 +21,7 @@ async fn timed_runs_in_the_browser() {
     assert!(mounted_ms > 0.0, "the page did not mark its mount");
 
     // The lathe tachometer demo: three resistors, targets, a spec window and a signal.
-    s.wait_for("#starter-choice").await.select_by_value("demo:lathe-tachometer").await.unwrap();
-    s.wait_for("#add-starter").await.click().await.unwrap();
-    tokio::time::sleep(Duration::from_millis(300)).await;
+    s.add_starter("demo:lathe-tachometer").await;
 
     // Input event → results updated (all effects, including the canvas redraw, have run).
     s.wait_for("#field-rf_ohm").await;
@@ -60,7 +57,7 @@ async fn timed_runs_in_the_browser() {
 
     // Monte Carlo, 100,000 trials, in slices.
     s.type_into("#mc-trials", "100k").await;
-    tokio::time::sleep(Duration::from_millis(200)).await;
+    s.wait_stored("r.tolerance.monte_carlo.trials === 100000").await;
     s.wait_for("#mc-run").await.click().await.unwrap();
     let summary = s.text("#mc-summary").await;
     assert!(summary.starts_with("100000 trials"), "{summary}");
@@ -76,7 +73,7 @@ async fn timed_runs_in_the_browser() {
     // A 1,000,000-sample signal pass (generation, noise, design and baseline triggers).
     s.type_into("#sig-rate", "1M").await;
     s.type_into("#sig-duration", "1").await;
-    tokio::time::sleep(Duration::from_millis(200)).await;
+    s.wait_stored("r.signal.sample_rate_hz === 1e6 && r.signal.duration_s === 1").await;
     s.wait_for("#signal-run").await.click().await.unwrap();
     let el = s.wait_for("#signal-time").await;
     let signal_ms: f64 = el.attr("data-ms").await.unwrap().unwrap_or_default().parse().unwrap_or(f64::NAN);

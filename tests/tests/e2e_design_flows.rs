@@ -7,11 +7,9 @@ use hysteron_core::record::DesignRecord;
 use hysteron_core::search::search;
 use hysteron_core::topology::{synthesise, Circuit};
 use hysteron_tests::browser::{self, Session};
-use std::time::Duration;
 
 async fn add_demo(s: &Session, key: &str) {
-    s.wait_for("#starter-choice").await.select_by_value(&format!("demo:{key}")).await.expect("choose");
-    s.wait_for("#add-starter").await.click().await.expect("add");
+    s.add_starter(&format!("demo:{key}")).await;
     s.wait_for("#field-rf_ohm, #field-rtop_ohm, #field-r1_ohm, #field-ra_ohm").await;
 }
 
@@ -68,7 +66,10 @@ async fn monte_carlo_yield_matches_core_for_the_stored_settings() {
     s.type_into("#spec-vt-upper-min", &format!("{lo:.4}")).await;
     s.type_into("#spec-vt-upper-max", &format!("{hi:.4}")).await;
     s.type_into("#mc-trials", "20k").await;
-    tokio::time::sleep(Duration::from_millis(200)).await;
+    s.wait_stored(&format!(
+        "r.tolerance.monte_carlo.trials === 20000 && r.tolerance.spec.vt_upper_min_v === {lo:.4} && r.tolerance.spec.vt_upper_max_v === {hi:.4}"
+    ))
+    .await;
     s.wait_for("#mc-run").await.click().await.unwrap();
     let y = s.wait_for("#mc-yield").await;
     let shown: f64 = y.attr("data-value").await.unwrap().unwrap_or_default().parse().unwrap_or(f64::NAN);

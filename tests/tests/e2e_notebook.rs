@@ -8,9 +8,7 @@ use hysteron_core::evaluate::thresholds;
 use hysteron_tests::browser::{self, Session};
 
 async fn add_starter(s: &Session, value: &str) {
-    let select = s.wait_for("#starter-choice").await;
-    select.select_by_value(value).await.expect("choose starter");
-    s.wait_for("#add-starter").await.click().await.expect("add");
+    s.add_starter(value).await;
 }
 
 async fn list_len(s: &Session) -> usize {
@@ -48,24 +46,21 @@ async fn delete_undo_and_edit_undo_redo() {
     // Delete the open design, then bring it back.
     let del = s.wait_for("#design-list li.open button.del").await;
     del.click().await.unwrap();
-    for _ in 0..50 {
-        if list_len(&s).await == 1 {
-            break;
-        }
-        tokio::time::sleep(std::time::Duration::from_millis(50)).await;
-    }
-    assert_eq!(list_len(&s).await, 1, "delete did not remove the design");
+    s.wait_js("delete to remove the design from the list", "return document.querySelectorAll('#design-list li').length === 1").await;
     s.wait_for("#undo-delete").await.click().await.unwrap();
-    let names = s.js("return [...document.querySelectorAll('#design-list .design-name')].map(e => e.textContent)").await;
-    assert!(names.to_string().contains("Lathe spindle tachometer"), "undo did not restore: {names}");
+    s.wait_js(
+        "undo to restore the deleted design",
+        "return [...document.querySelectorAll('#design-list .design-name')].some(e => e.textContent.includes('Lathe spindle tachometer'))",
+    )
+    .await;
     s.reload().await;
     assert_eq!(list_len(&s).await, 2, "restored design was not saved");
 
     // Undo and redo of an edit with the keyboard.
     let before = s.number("#vt-upper").await;
     s.type_into("#field-rf_ohm", "47k").await;
-    tokio::time::sleep(std::time::Duration::from_millis(900)).await;
-    let after = s.number("#vt-upper").await;
+    s.wait_stored("r.circuit.rf_ohm === 47000").await;
+    let after = s.wait_number_change("#vt-upper", before).await;
     assert!((after - before).abs() > 1e-3, "edit did not change VT+");
     let body = s.wait_for("body").await;
     body.send_keys(&format!("{}z", Key::Control)).await.ok();
@@ -92,8 +87,10 @@ async fn damaged_record_is_set_aside_and_the_rest_keeps_working() {
     assert!(raw.as_str().unwrap_or("").ends_with("oops"));
     // The good designs still load and still compute.
     assert_eq!(list_len(&s).await, 2);
+    let before = s.number("#vt-upper").await;
     s.type_into("#field-rf_ohm", "220k").await;
-    let v = s.number("#vt-upper").await;
+    s.wait_stored("r.circuit.rf_ohm === 220000").await;
+    let v = s.wait_number_change("#vt-upper", before).await;
     assert!(v.is_finite());
     s.close().await;
 }
@@ -124,20 +121,16 @@ async fn two_tabs_see_each_others_changes() {
     s.client.goto(&s.base).await.unwrap();
     s.wait_for("#design-name").await;
     s.type_into("#design-name", "Renamed in tab two").await;
-    tokio::time::sleep(std::time::Duration::from_millis(300)).await;
+    s.wait_stored("r.name === 'Renamed in tab two'").await;
     s.client.switch_to_window(first).await.unwrap();
-    let mut seen = String::new();
-    for _ in 0..60 {
-        seen = s.js("return [...document.querySelectorAll('#design-list .design-name')].map(e => e.textContent).join('|')").await.to_string();
-        if seen.contains("Renamed in tab two") {
-            break;
-        }
-        tokio::time::sleep(std::time::Duration::from_millis(100)).await;
-    }
-    assert!(seen.contains("Renamed in tab two"), "tab one did not take in tab two's change: {seen}");
+    s.wait_js(
+        "tab one to take in tab two's change",
+        "return [...document.querySelectorAll('#design-list .design-name')].some(e => e.textContent.includes('Renamed in tab two'))",
+    )
+    .await;
     // Tab one now edits on top of tab two's version instead of overwriting it with an old one.
     s.type_into("#field-rf_ohm", "33k").await;
-    tokio::time::sleep(std::time::Duration::from_millis(200)).await;
+    s.wait_stored("r.circuit.rf_ohm === 33000").await;
     let stored = s.js("const k = Object.keys(localStorage).find(k => k.startsWith('hysteron/design/')); return JSON.parse(localStorage.getItem(k)).record.name").await;
     assert_eq!(stored.as_str(), Some("Renamed in tab two"));
     s.close().await;

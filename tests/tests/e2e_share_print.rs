@@ -7,12 +7,9 @@ use fantoccini::wd::{PrintConfiguration, PrintSize};
 use hysteron_core::catalog;
 use hysteron_core::topology::Circuit;
 use hysteron_tests::browser::{self, Session};
-use std::time::Duration;
 
 async fn add_demo(s: &Session, key: &str) {
-    s.wait_for("#starter-choice").await.select_by_value(&format!("demo:{key}")).await.expect("choose");
-    s.wait_for("#add-starter").await.click().await.expect("add");
-    tokio::time::sleep(Duration::from_millis(150)).await;
+    s.add_starter(&format!("demo:{key}")).await;
 }
 
 async fn stored_count(s: &Session) -> u64 {
@@ -36,8 +33,11 @@ async fn share_link_opens_read_only_and_can_be_kept() {
     assert!((up - expected_up).abs() < 1e-12, "shared design shows VT+ {up}, expected {expected_up}");
     assert_eq!(stored_count(&s).await, before);
     s.wait_for("#keep-shared").await.click().await.unwrap();
-    tokio::time::sleep(Duration::from_millis(200)).await;
-    assert_eq!(stored_count(&s).await, before + 1, "keeping did not save a copy");
+    s.wait_js(
+        "keeping the shared design to save a copy",
+        &format!("return Object.keys(localStorage).filter(k => k.startsWith('hysteron/design/')).length === {}", before + 1),
+    )
+    .await;
     let hash = s.js("return location.hash").await;
     assert_eq!(hash.as_str(), Some(""), "the fragment should be cleared after keeping");
 
@@ -68,8 +68,16 @@ async fn schematic_shows_every_part_in_both_symbol_styles() {
         add_demo(&s, demo.key).await;
         let designators: Vec<String> = demo.record().circuit.parameters().into_iter().filter_map(|p| p.designator).collect();
         for style in ["iec60617", "ieee315"] {
+            let was = s.js("return [document.querySelector('#symbol-style').value, document.querySelector('#schematic').getAttribute('src')]").await;
             s.wait_for("#symbol-style").await.select_by_value(style).await.unwrap();
-            tokio::time::sleep(Duration::from_millis(100)).await;
+            if was[0].as_str() != Some(style) {
+                // Another style was shown: wait for the drawing to change.
+                s.wait_js(
+                    &format!("{}: the schematic to be redrawn in {style}", demo.key),
+                    &format!("return document.querySelector('#schematic').getAttribute('src') !== {}", was[1]),
+                )
+                .await;
+            }
             let svg = s.js("const src = document.querySelector('#schematic').getAttribute('src'); return decodeURIComponent(src.split(',').slice(1).join(','));").await;
             let svg = svg.as_str().unwrap_or_default().to_string();
             assert!(svg.starts_with("<svg") || svg.starts_with("<?xml"), "{}: not an SVG", demo.key);
@@ -98,7 +106,11 @@ async fn hostile_design_file_is_shown_as_text() {
     let err = s.text("#import-error").await;
     assert!(err.contains("not a design"), "{err}");
     s.wait_for("#import-json").await.send_keys(good.to_str().unwrap()).await.unwrap();
-    tokio::time::sleep(Duration::from_millis(300)).await;
+    s.wait_js(
+        "the imported design to be listed",
+        "return [...document.querySelectorAll('#design-list .design-name')].some(e => e.textContent.includes('onerror'))",
+    )
+    .await;
     let shown = s.js("return [...document.querySelectorAll('#design-list .design-name')].map(e => e.textContent)").await;
     assert!(shown.to_string().contains("onerror"), "imported name not listed as text: {shown}");
     let injected = s.js("return document.querySelectorAll('#design-list img, #design img:not(.schematic):not(.sheet-schematic)').length").await;
@@ -128,9 +140,11 @@ async fn every_demo_prints_on_one_page_of_a4_and_letter() {
         add_demo(&s, demo.key).await;
         // The browser fires `beforeprint` when the user prints; the sheet then adds its slower figures.
         s.js("window.dispatchEvent(new Event('beforeprint')); return 1;").await;
-        tokio::time::sleep(Duration::from_millis(300)).await;
-        let sheet_vt = s.js("return document.querySelector('#sheet-vt-upper').textContent").await;
-        assert!(sheet_vt.as_str().unwrap_or("").ends_with(" V"), "{}: sheet has no thresholds", demo.key);
+        s.wait_js(
+            &format!("{}: the print sheet to show its thresholds", demo.key),
+            "const e = document.querySelector('#sheet-vt-upper'); return !!e && e.textContent.endsWith(' V')",
+        )
+        .await;
         for (size, label) in [(PrintSize::A4, "a4"), (PrintSize::US_LETTER, "letter")] {
             let cfg = PrintConfiguration::builder().size(size).shrink_to_fit(false).background(true).build().unwrap();
             let pdf = s.client.print(cfg).await.expect("print to PDF");

@@ -20,7 +20,7 @@ fn magnitude(lo_exp: f64, hi_exp: f64) -> impl Strategy<Value = f64> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 2000, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(2000), ..ProptestConfig::default() })]
 
     #[test]
     fn engineering_round_trip(m in magnitude(-16.0, 16.0), neg in any::<bool>(), sig in 1u8..=8) {

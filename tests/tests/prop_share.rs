@@ -85,7 +85,7 @@ fn any_finite() -> impl Strategy<Value = f64> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 256, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(256), ..ProptestConfig::default() })]
 
     #[test]
     fn encode_then_decode_gives_back_the_design(

@@ -160,7 +160,7 @@ fn sine_def(amplitude: f64, centre: f64, freq: f64, seed: u64, noise: Vec<NoiseS
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 24, .. ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(24), ..ProptestConfig::default() })]
 
     /// A noise-free sine gives exactly the analytic edges: one per threshold crossing, at
     /// t = (k + arcsin((VT+ − c)/A)/(2π))/f on the rising side and
@@ -347,7 +347,7 @@ fn csv_round_trip_of_generated_data_is_exact() {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 16, .. ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(16), ..ProptestConfig::default() })]
 
     /// Reading a file in pieces split at arbitrary points gives the same capture as reading it
     /// whole (the page reads large files a slice at a time).

@@ -330,7 +330,7 @@ fn design_strategy() -> impl Strategy<Value = (InvertingSchmitt, u64)> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 24, .. ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(24), ..ProptestConfig::default() })]
 
     #[test]
     fn worst_case_corners_bound_every_uniform_monte_carlo_sample((c, seed) in design_strategy(), pct in 0.1..5.0f64) {

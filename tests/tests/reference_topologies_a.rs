@@ -681,7 +681,7 @@ fn wild_anchor() -> impl Strategy<Value = f64> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 96, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(96), ..ProptestConfig::default() })]
 
     #[test]
     fn non_inverting_feasible_round_trip(

@@ -606,7 +606,7 @@ fn finite_or_typed<C: Circuit>(r: Result<C, DesignError>) {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(256))]
+    #![proptest_config(ProptestConfig::with_cases(hysteron_tests::proptest_cases(256)))]
 
     #[test]
     fn cmos_buffer_synthesis_round_trip(
@@ -707,7 +707,7 @@ proptest! {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(12))]
+    #![proptest_config(ProptestConfig::with_cases(hysteron_tests::proptest_cases(12)))]
 
     /// Ebers–Moll synthesis is a damped Newton refinement; it promises 1e-6 relative.
     #[test]

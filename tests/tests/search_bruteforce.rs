@@ -314,7 +314,7 @@ fn wavy_with_a_budget_matches_brute_force() {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 24, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: hysteron_tests::proptest_cases(24), ..ProptestConfig::default() })]
 
     /// Random targets and device errors (offset and bias currents break the scale invariance, so
     /// ties are rarer and the ranking is stricter).

@@ -2,7 +2,10 @@
 //!
 //! - `cargo xtask serve`: installs whatever is missing, builds the page and serves it on 127.0.0.1.
 //! - `cargo xtask test`: installs whatever is missing (browser included) and runs every test:
-//!   unit, property, reference, wasm and browser end-to-end.
+//!   unit, property, reference, wasm and browser end-to-end. Property tests run with the fixed seed
+//!   [`CI_PROPTEST_SEED`], so a run is repeatable and CI never fails on a new random draw.
+//! - `cargo xtask explore [SCALE] [SEED]`: runs only the property tests, with a fresh random seed (or
+//!   SEED) and SCALE times as many cases (default 10), to look for new failures; it prints the seed.
 //!
 //! Each step prints what it checks and what it installs.
 
@@ -16,6 +19,11 @@ const TRUNK_VERSION: &str = "0.21.14";
 /// binaryen release whose wasm-opt produces pages that load (Debian's 108 does not).
 const BINARYEN_NPM: &str = "binaryen@132.0.0";
 const WASM_OPT_VERSION: &str = "version 132";
+/// The proptest seed every `cargo xtask test` run uses (proptest reads `PROPTEST_RNG_SEED`). Failures
+/// saved in the `*.proptest-regressions` files are replayed first, whatever the seed.
+const CI_PROPTEST_SEED: u64 = 20_261_202;
+/// How many times the usual number of cases `cargo xtask explore` runs by default.
+const EXPLORE_SCALE: u32 = 10;
 
 fn main() -> ExitCode {
     let args: Vec<String> = std::env::args().skip(1).collect();
@@ -23,13 +31,15 @@ fn main() -> ExitCode {
     let result = match args.first().map(String::as_str) {
         Some("serve") => serve(&root, &args[1..]),
         Some("test") => test(&root, &args[1..]),
+        Some("explore") => explore(&root, &args[1..]),
         Some("build") => setup_build_tools(&root).and_then(|_| build_page(&root)),
         Some("setup") => setup_build_tools(&root).and_then(|_| setup_browser()),
         Some("csp") => csp::write_policy(),
         _ => {
-            eprintln!("usage: cargo xtask <serve|test|build|setup>");
+            eprintln!("usage: cargo xtask <serve|test|explore|build|setup>");
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
             eprintln!("  test    install what is missing, run every test (unit, property, reference, wasm, browser)");
+            eprintln!("  explore [SCALE] [SEED]  property tests only, fresh seed (or SEED), SCALE× the cases (default {EXPLORE_SCALE})");
             return ExitCode::from(2);
         }
     };
@@ -189,7 +199,12 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     setup_browser()?;
     build_page(root)?;
     say("native tests: unit, property, reference and browser end-to-end");
-    run(Command::new("cargo").args(["test", "--workspace", "--exclude", "hysteron-app"]).current_dir(root))?;
+    say(&format!("property tests use the fixed seed PROPTEST_RNG_SEED={CI_PROPTEST_SEED} (fresh seeds: cargo xtask explore)"));
+    run(Command::new("cargo")
+        .args(["test", "--workspace", "--exclude", "hysteron-app"])
+        .env("PROPTEST_RNG_SEED", CI_PROPTEST_SEED.to_string())
+        .env_remove("HYSTERON_PROPTEST_SCALE")
+        .current_dir(root))?;
     say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
     run(Command::new("cargo")
         .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown", "--", "--nocapture"])
@@ -197,5 +212,61 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
         .env("WASM_BINDGEN_TEST_TIMEOUT", "120")
         .current_dir(root))?;
     say("every test passed");
+    Ok(())
+}
+
+/// The test files under `tests/tests/` that hold property tests (a `proptest!` block).
+fn property_test_files(root: &Path) -> Result<Vec<String>, String> {
+    let dir = root.join("tests").join("tests");
+    let entries = std::fs::read_dir(&dir).map_err(|e| format!("cannot list {}: {e}", dir.display()))?;
+    let mut names = Vec::new();
+    for entry in entries.flatten() {
+        let path = entry.path();
+        if path.extension().is_some_and(|x| x == "rs")
+            && std::fs::read_to_string(&path).is_ok_and(|text| text.contains("proptest!"))
+        {
+            if let Some(stem) = path.file_stem().and_then(|s| s.to_str()) {
+                names.push(stem.to_string());
+            }
+        }
+    }
+    names.sort();
+    Ok(names)
+}
+
+/// A seed that differs from run to run (clock and process id); printed so a failure can be repeated.
+fn fresh_seed() -> u64 {
+    let nanos = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map(|d| d.as_nanos() as u64)
+        .unwrap_or(0);
+    // SplitMix64's finaliser (Steele, Lea and Flood, 2014, from memory) spreads nearby clock values.
+    let mut z = nanos ^ (u64::from(std::process::id()) << 32);
+    z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+    z ^ (z >> 31)
+}
+
+/// `cargo xtask explore [SCALE] [SEED]`: the property tests with a fresh seed and more cases.
+fn explore(root: &Path, rest: &[String]) -> Result<(), String> {
+    let scale = match rest.first() {
+        Some(s) => s.parse::<u32>().ok().filter(|&n| n >= 1).ok_or_else(|| format!("SCALE must be a whole number ≥ 1, got {s:?}"))?,
+        None => EXPLORE_SCALE,
+    };
+    let seed = match rest.get(1) {
+        Some(s) => s.parse::<u64>().map_err(|_| format!("SEED must be a whole number, got {s:?}"))?,
+        None => fresh_seed(),
+    };
+    let files = property_test_files(root)?;
+    say(&format!("exploring {} property test files with seed {seed} and {scale}× the usual cases", files.len()));
+    say(&format!("repeat this run with: cargo xtask explore {scale} {seed}"));
+    say("a failure is saved in tests/tests/<file>.proptest-regressions: commit it, and every run replays it first");
+    let mut cmd = Command::new("cargo");
+    cmd.args(["test", "-p", "hysteron-tests"]);
+    for f in &files {
+        cmd.args(["--test", f]);
+    }
+    run(cmd.env("PROPTEST_RNG_SEED", seed.to_string()).env("HYSTERON_PROPTEST_SCALE", scale.to_string()).current_dir(root))?;
+    say(&format!("no failure with seed {seed}"));
     Ok(())
 }

@@ -5,6 +5,7 @@
 use super::csv::Capture;
 use super::debounce::{rc_debounce, simulate_debounce, DebounceResult, DebounceSettings};
 use super::generate::{Component, SignalBuffers, SignalDefinition};
+use super::noise::NoiseSource;
 use super::oscillator::{relaxation_oscillator, simulate_oscillator, OscillatorResult, OscillatorSettings};
 use super::rice;
 use super::sweep::{run_sweep, SweepContext, SweepResult, SweepSettings};
@@ -55,11 +56,27 @@ pub struct StudySettings {
     pub target_false_edges_per_edge: f64,
     /// A logic input without hysteresis to check for slow-edge dwell.
     pub logic_input: Option<LogicInput>,
+    /// The physical bandwidth of the Gaussian noise at the trigger, hertz: the comparator's input
+    /// bandwidth or an input filter's. White noise is taken as flat to it and one-pole noise has
+    /// its derivative cut at it (see [`super::rice`]), so the minimum hysteresis does not depend
+    /// on the simulation's sample rate. Default [`DEFAULT_NOISE_BANDWIDTH_HZ`].
+    pub noise_bandwidth_hz: f64,
 }
+
+/// The default noise bandwidth, hertz: 1 MHz, the order of a general-purpose comparator's or
+/// op-amp's small-signal bandwidth (common practice). Wider than the simulation's half sample rate
+/// at the usual settings, so the recommendation errs on the safe side there.
+pub const DEFAULT_NOISE_BANDWIDTH_HZ: f64 = 1e6;
 
 impl Default for StudySettings {
     fn default() -> Self {
-        StudySettings { baseline_level_v: None, match_window_s: None, target_false_edges_per_edge: 1e-3, logic_input: None }
+        StudySettings {
+            baseline_level_v: None,
+            match_window_s: None,
+            target_false_edges_per_edge: 1e-3,
+            logic_input: None,
+            noise_bandwidth_hz: DEFAULT_NOISE_BANDWIDTH_HZ,
+        }
     }
 }
 
@@ -100,7 +117,7 @@ pub struct TriggerSummary {
 pub struct NoiseSummary {
     /// σ0 of the Gaussian sources combined, volts.
     pub gaussian_rms_v: f64,
-    /// σ1 of the Gaussian sources combined, volts per second.
+    /// σ1 of the Gaussian sources combined at the study's noise bandwidth, volts per second.
     pub gaussian_sigma1_v_per_s: f64,
     /// RMS of (noisy − noise-free) over the record, all sources, volts.
     pub measured_rms_v: f64,
@@ -108,25 +125,39 @@ pub struct NoiseSummary {
     pub measured_peak_to_peak_v: f64,
 }
 
-/// The minimum hysteresis from Rice's formula, and its check by simulation.
+/// The minimum hysteresis: the reverse excursion of the deterministic interference (hum and its
+/// harmonics) plus the Gaussian term of Rice's formula at the study's noise bandwidth (see
+/// [`super::rice`] for the derivation), and its check by simulation.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct RiceCheck {
     /// Target false edges per intended edge.
     pub target_false_edges_per_edge: f64,
     /// Slowest intended-edge slope (the worst case), volts per second.
     pub slowest_slope_v_per_s: f64,
+    /// The noise bandwidth σ1 is taken at, hertz.
+    #[serde(default)]
+    pub noise_bandwidth_hz: f64,
     /// σ0 used, volts.
     pub sigma0_v: f64,
-    /// σ1 used, volts per second.
+    /// σ1 of the Gaussian noise at the noise bandwidth, volts per second.
     pub sigma1_v_per_s: f64,
-    /// Minimum hysteresis H for the target at the slowest edge, volts.
+    /// The largest reverse excursion of the hum against the slowest edges, volts.
+    #[serde(default)]
+    pub interference_excursion_v: f64,
+    /// The Gaussian term of the minimum, volts.
+    #[serde(default)]
+    pub gaussian_term_v: f64,
+    /// Minimum hysteresis H for the target at the slowest edge (excursion + Gaussian term), volts.
     pub min_hysteresis_v: f64,
     /// The design's hysteresis, volts.
     pub design_hysteresis_v: f64,
     /// Whether the design's hysteresis reaches the minimum.
     pub design_meets_target: bool,
-    /// The bound's false edges per intended edge for the design's hysteresis at the slowest edge.
-    pub design_bound_false_edges_per_edge: f64,
+    /// The bound's false edges per intended edge for the design's hysteresis at the slowest edge,
+    /// on the margin left after the interference; `None` when the interference alone reverses the
+    /// input by more than the design's hysteresis (false edges at the worst hum phase, whatever
+    /// the noise).
+    pub design_bound_false_edges_per_edge: Option<f64>,
     /// Simulated: the design's centre with hysteresis `min_hysteresis_v`, on this signal.
     pub simulated_at_min: EdgeComparison,
     /// Its false edges per intended edge.
@@ -244,6 +275,38 @@ fn single_sine(components: &[Component]) -> Option<(f64, f64, f64)> {
     sine.map(|(a, f)| (a, f, dc))
 }
 
+/// σ0 and σ1 of a Gaussian source at the physical noise bandwidth `bandwidth_hz` (white: flat to
+/// it; band-limited: its poles, one pole cut at it; see [`rice`]); `None` for hum and spikes.
+fn physical_moments(source: &NoiseSource, bandwidth_hz: f64) -> Option<(f64, f64)> {
+    match *source {
+        NoiseSource::White { rms_v } => Some(rice::spectral_moments(rms_v, rice::Spectrum::Flat { bandwidth_hz })),
+        NoiseSource::BandLimited { rms_v, corner_hz, poles } => {
+            Some(rice::spectral_moments(rms_v, rice::Spectrum::Poles { corner_hz, poles, bandwidth_hz }))
+        }
+        _ => None,
+    }
+}
+
+/// The hum sources' fundamentals and harmonics as sinusoids (the deterministic interference).
+fn interference_terms(noise: &[NoiseSource]) -> Vec<rice::Sinusoid> {
+    let mut out = Vec::new();
+    for n in noise {
+        if let NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } = n {
+            let f = mains.hz();
+            out.push(rice::Sinusoid { amplitude_v: *amplitude_v, frequency_hz: f, phase_rad: phase_deg.to_radians() });
+            for h in harmonics {
+                out.push(rice::Sinusoid {
+                    amplitude_v: amplitude_v * h.relative_amplitude,
+                    frequency_hz: f * h.order as f64,
+                    phase_rad: h.phase_deg.to_radians(),
+                });
+            }
+        }
+    }
+    out.retain(|t| t.amplitude_v != 0.0);
+    out
+}
+
 /// Runs the signal study with waveforms, for the page. With `capture` the imported samples are
 /// used (no intended edges, noise figures, Rice check or sweep: a capture has no noise-free
 /// version); otherwise the signal is generated from the settings.
@@ -319,9 +382,11 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
         cmp_base = Some(compare_edges(&baseline_edges, &design_edges, window_base));
     }
 
-    // Noise figures.
+    // Noise figures, at the physical noise bandwidth (not the sample rate).
     let def = &settings.definition;
-    let (s0, s1) = rice::combine_moments(def.noise.iter().filter_map(|s| s.gaussian_moments(def.sample_rate_hz)));
+    let bandwidth_hz = crate::limits::check(crate::limits::Quantity::Frequency, "study.noise_bandwidth_hz", study.noise_bandwidth_hz)?;
+    let (s0, s1) = rice::combine_moments(def.noise.iter().filter_map(|s| physical_moments(s, bandwidth_hz)));
+    let interference = interference_terms(&def.noise);
     let noise = clean.as_ref().map(|clean| {
         let (mut sum2, mut lo, mut hi) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
         for (a, b) in signal.iter().zip(clean) {
@@ -372,13 +437,15 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
         zero_crossing,
     };
 
-    // Rice minimum hysteresis, checked by simulation at the design's centre.
+    // Minimum hysteresis (hum excursion + Rice's Gaussian term), checked by simulation at the
+    // design's centre.
     let mut rice_check = None;
     if let (Some(_), Some(slope)) = (&clean, slow_any) {
-        if s0 > 0.0 && s1 > 0.0 {
-            let target = study.target_false_edges_per_edge;
-            match rice::min_hysteresis_v(target, slope, s0, s1) {
-                Some(h_min) => {
+        let target = study.target_false_edges_per_edge;
+        if (s0 > 0.0 && s1 > 0.0) || !interference.is_empty() {
+            match rice::min_hysteresis_with_interference(target, su, sl, s0, s1, &interference) {
+                Some(need) => {
+                    let h_min = need.total_v;
                     let trial = design.with_thresholds(Thresholds::from_centre_width(design.thresholds.centre_v(), h_min));
                     let mut trial_intended = Vec::new();
                     let mut trial_edges = Vec::new();
@@ -389,23 +456,32 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
                     let w = study.match_window_s.unwrap_or_else(|| default_match_window_s(&trial_intended, duration));
                     let c = compare_edges(&trial_edges, &trial_intended, w);
                     let h = design.thresholds.hysteresis_v();
+                    let margin = h - need.interference_v;
                     rice_check = Some(RiceCheck {
                         target_false_edges_per_edge: target,
                         slowest_slope_v_per_s: slope,
+                        noise_bandwidth_hz: bandwidth_hz,
                         sigma0_v: s0,
                         sigma1_v_per_s: s1,
+                        interference_excursion_v: need.interference_v,
+                        gaussian_term_v: need.gaussian_v,
                         min_hysteresis_v: h_min,
                         design_hysteresis_v: h,
                         design_meets_target: h >= h_min,
-                        design_bound_false_edges_per_edge: rice::false_edges_per_edge_bound(h, slope, s0, s1),
+                        design_bound_false_edges_per_edge: (margin > 0.0 || need.interference_v == 0.0)
+                            .then(|| rice::false_edges_per_edge_bound(margin.max(0.0), slope, s0, need.sigma1_effective_v_per_s))
+                            .filter(|b| b.is_finite()),
                         simulated_at_min: c,
                         simulated_false_edges_per_edge_at_min: c.false_edges as f64 / c.intended_edges.max(1) as f64,
                     });
                 }
                 None => notes.push(format!("minimum hysteresis not computed: the target {target} must be above zero")),
             }
+            if def.noise.iter().any(|n| matches!(n, NoiseSource::Spikes { .. })) {
+                notes.push("the minimum hysteresis does not cover impulse spikes (neither Gaussian nor periodic): keep the hysteresis above the spike height or filter them".into());
+            }
         } else {
-            notes.push("minimum hysteresis not computed: the signal has no Gaussian noise (white or band-limited)".into());
+            notes.push("minimum hysteresis not computed: the signal has no Gaussian noise (white or band-limited) and no hum".into());
         }
     } else if clean.is_some() {
         notes.push("minimum hysteresis not computed: the noise-free signal crosses no threshold".into());
@@ -600,7 +676,6 @@ pub fn evaluate_record_application(
 mod tests {
     use super::*;
     use crate::analysis::Sense;
-    use crate::signal::noise::NoiseSource;
 
     fn design() -> TriggerDesign {
         TriggerDesign {

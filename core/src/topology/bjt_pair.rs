@@ -1360,10 +1360,9 @@ impl crate::netlist::Netlisted for EmitterCoupledSchmitt {
     /// to 0 V, Q2 (collector = output through RC2), shared emitter `e` through RE; an optional
     /// external load from the output to 0 V (not a part of the part list).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{
-            input_centre_v, ActiveDevice, NetBuilder, NpnModel, ResistorRole, GROUND, INPUT_NET, OUTPUT_NET,
-        };
-        let mut b = NetBuilder::new("bjt_pair", self);
+        use crate::netlist::{ActiveDevice, NpnModel, ResistorRole, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
+        let mut b = builder("bjt_pair", self);
         let vcc = b.supply(self.supply_v, "VCC");
         b.input(input_centre_v(self, (0.0, self.supply_v)), 0.0, "IN");
         b.part("r1_ohm", "c1", "b2", self.r1_ohm);
@@ -1394,7 +1393,7 @@ impl crate::netlist::Netlisted for EmitterCoupledSchmitt {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::bjt_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::bjt_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }

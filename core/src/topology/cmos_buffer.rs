@@ -599,9 +599,10 @@ impl crate::netlist::Netlisted for CmosBufferSchmitt {
     /// R1 from the input to node `x` (the buffer's input), R2 from the output to `x`, optional R3
     /// from `x` to its rail; the buffer U1 switches at VM.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{input_centre_v, ActiveDevice, GateThreshold, NetBuilder, GROUND, INPUT_NET, OUTPUT_NET};
+        use crate::netlist::{ActiveDevice, GateThreshold, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let g = &self.gate;
-        let mut b = NetBuilder::new("cmos_buffer", self);
+        let mut b = builder("cmos_buffer", self);
         let vdd = b.supply(g.supply_v, "VDD");
         b.input(input_centre_v(self, (0.0, g.supply_v)), 0.0, "IN");
         b.part("r1_ohm", INPUT_NET, "x", self.r1_ohm);
@@ -627,7 +628,7 @@ impl crate::netlist::Netlisted for CmosBufferSchmitt {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }

@@ -497,9 +497,10 @@ mod tests {
 impl crate::netlist::Netlisted for InvertingSchmitt {
     /// Signal on (−); node `p` on (+) with Ra to rail A, Rb to rail B and Rf from the output.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{input_centre_v, NetBuilder, SourceRole, INPUT_NET, OUTPUT_NET};
+        use crate::netlist::{SourceRole, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let d = &self.device;
-        let mut b = NetBuilder::new("inverting", self);
+        let mut b = builder("inverting", self);
         let vcc = b.supply(d.supply_v, "VCC");
         let vee = b.negative(d.negative_rail_v);
         b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
@@ -516,7 +517,7 @@ impl crate::netlist::Netlisted for InvertingSchmitt {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }

@@ -19,6 +19,7 @@ pub mod supply_monitor;
 pub mod cmos_buffer;
 pub mod schmitt_gate;
 pub mod bjt_pair;
+pub mod netlisting;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -421,7 +422,7 @@ macro_rules! topologies {
 
         impl crate::netlist::Netlisted for Topology {
             fn netlist(&self) -> crate::netlist::Netlist { match self { $( Topology::$variant(c) => c.netlist(), )+ } }
-            fn schematic(&self) -> crate::schematic::SchematicLayout { match self { $( Topology::$variant(c) => c.schematic(), )+ } }
+            fn schematic(&self) -> crate::schematic::sheet::SchematicLayout { match self { $( Topology::$variant(c) => c.schematic(), )+ } }
         }
     };
 }

@@ -833,9 +833,10 @@ mod tests {
 impl crate::netlist::Netlisted for NonInvertingSchmitt {
     /// Signal through R1 to node `p` on (+), R2 from the output to `p`, the reference on (−).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{input_centre_v, reference_network, NetBuilder, INPUT_NET, OUTPUT_NET};
+        use crate::netlist::{INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let d = &self.device;
-        let mut b = NetBuilder::new("non_inverting", self);
+        let mut b = builder("non_inverting", self);
         let vcc = b.supply(d.supply_v, "VCC");
         let vee = b.negative(d.negative_rail_v);
         b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
@@ -846,7 +847,32 @@ impl crate::netlist::Netlisted for NonInvertingSchmitt {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    }
+}
+
+/// Adds a comparator input's reference network to a netlist and returns the device-input node: a
+/// rail or fixed source directly (source `VREF` on net `ref`), or the divider Ra (`ra_ohm`, from
+/// `rail_a`) / Rb (`rb_ohm`, to `rail_b`) with its midpoint on net `node`. Shared by the
+/// topologies that take a [`Reference`] (non-inverting, open-drain, plain comparator).
+#[allow(clippy::items_after_test_module)]
+pub fn reference_network(
+    b: &mut crate::netlist::NetBuilder,
+    reference: &Reference,
+    device: &Comparator,
+    node: &str,
+) -> String {
+    use crate::netlist::SourceRole;
+    let (vs, vn) = (device.supply_v, device.negative_rail_v);
+    match *reference {
+        Reference::Direct { rail } => b.rail(rail, vs, vn, "VREF", "ref", SourceRole::Reference),
+        Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+            let a = b.rail(rail_a, vs, vn, "VRA", "rail_a", SourceRole::Reference);
+            let c = b.rail(rail_b, vs, vn, "VRB", "rail_b", SourceRole::Reference);
+            b.part("ra_ohm", &a, node, ra_ohm);
+            b.part("rb_ohm", node, &c, rb_ohm);
+            node.into()
+        }
     }
 }

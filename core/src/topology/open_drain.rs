@@ -897,10 +897,12 @@ impl crate::netlist::Netlisted for OpenDrainSchmitt {
     /// The inverting or non-inverting network of the push-pull forms, plus the pull-up Rpu to its
     /// rail, the optional load RL and an output that only pulls low (through RDS(on)).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{input_centre_v, reference_network, NetBuilder, SourceRole, GROUND, INPUT_NET, OUTPUT_NET};
+        use crate::netlist::{SourceRole, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
+        use super::noninverting::reference_network;
         let d = &self.device;
         let (vs, vn) = (d.supply_v, d.negative_rail_v);
-        let mut b = NetBuilder::new("open_drain", self);
+        let mut b = builder("open_drain", self);
         let vcc = b.supply(vs, "VCC");
         let vee = b.negative(vn);
         b.input(input_centre_v(self, (vn, vs)), d.source_resistance_ohm, "IN");
@@ -933,7 +935,7 @@ impl crate::netlist::Netlisted for OpenDrainSchmitt {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }

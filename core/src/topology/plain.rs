@@ -343,9 +343,11 @@ mod tests {
 impl crate::netlist::Netlisted for PlainComparator {
     /// The signal straight on one input, the reference (rail, source or divider) on the other.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{input_centre_v, reference_network, NetBuilder, INPUT_NET};
+        use crate::netlist::INPUT_NET;
+        use super::netlisting::{builder, input_centre_v};
+        use super::noninverting::reference_network;
         let d = &self.device;
-        let mut b = NetBuilder::new("plain_comparator", self);
+        let mut b = builder("plain_comparator", self);
         let vcc = b.supply(d.supply_v, "VCC");
         let vee = b.negative(d.negative_rail_v);
         b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
@@ -357,7 +359,7 @@ impl crate::netlist::Netlisted for PlainComparator {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }

@@ -568,9 +568,10 @@ impl crate::netlist::Netlisted for SchmittGate {
     /// Optional Ra from the input to node `x`, Rb from `x` to 0 V, Rc from `x` to VDD; the
     /// Schmitt-input gate U1 on `x` (on the input directly when Ra is not fitted).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{input_centre_v, ActiveDevice, GateThreshold, NetBuilder, GROUND, INPUT_NET, OUTPUT_NET};
+        use crate::netlist::{ActiveDevice, GateThreshold, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let g = &self.gate;
-        let mut b = NetBuilder::new("schmitt_gate", self);
+        let mut b = builder("schmitt_gate", self);
         let vdd = b.supply(g.supply_v, "VDD");
         b.input(input_centre_v(self, (0.0, g.supply_v)), 0.0, "IN");
         let x = match self.ra_ohm {
@@ -600,7 +601,7 @@ impl crate::netlist::Netlisted for SchmittGate {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }

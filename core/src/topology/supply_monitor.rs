@@ -664,12 +664,11 @@ impl crate::netlist::Netlisted for SupplyMonitor {
     /// node `p` on (+), Rbot to 0 V, Rh from the output; VREF on (−). A comparator supplied from the
     /// monitored rail gets its supply through the dropout source VDROP.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use crate::netlist::{
-            input_centre_v, volts_text, NetBuilder, SourceRole, GROUND, INPUT_NET, OUTPUT_NET, SOURCE_NET,
-        };
+        use crate::netlist::{volts_text, SourceRole, GROUND, INPUT_NET, OUTPUT_NET, SOURCE_NET};
+        use super::netlisting::{builder, input_centre_v};
         let d = &self.device;
         let (vs, vn) = (d.supply_v, d.negative_rail_v);
-        let mut b = NetBuilder::new("supply_monitor", self);
+        let mut b = builder("supply_monitor", self);
         b.input(input_centre_v(self, (vn, vs)), d.source_resistance_ohm, "IN");
         let positive = match self.comparator_supply {
             MonitorSupply::Separate => b.supply(vs, "VCC"),
@@ -696,7 +695,7 @@ impl crate::netlist::Netlisted for SupplyMonitor {
         b.finish()
     }
 
-    fn schematic(&self) -> crate::schematic::SchematicLayout {
-        crate::schematic::auto_layout(&crate::netlist::Netlisted::netlist(self))
+    fn schematic(&self) -> crate::schematic::sheet::SchematicLayout {
+        crate::schematic::layout::auto_layout(&crate::netlist::Netlisted::netlist(self))
     }
 }
