@@ -7,7 +7,6 @@
 
 use gloo_storage::{LocalStorage, Storage};
 use hysteron_core::record::DesignRecord;
-use hysteron_core::topology::TransferCurve;
 use serde::{Deserialize, Serialize};
 
 /// Key of the ordered id list.
@@ -20,33 +19,8 @@ pub fn design_key(id: &str) -> String {
     format!("hysteron/design/{id}")
 }
 
-/// One part as it stood when the design was saved.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct SnapshotPart {
-    /// Designator (R1...).
-    pub designator: String,
-    /// What the part does.
-    pub label: String,
-    /// Value in base units.
-    pub value: f64,
-}
-
-/// What was computed from the design when it was saved: the record for the bench.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Snapshot {
-    /// VT+ at save time, volts.
-    pub vt_upper_v: f64,
-    /// VT− at save time, volts.
-    pub vt_lower_v: f64,
-    /// Hysteresis at save time, volts.
-    pub hysteresis_v: f64,
-    /// The transfer curve at save time.
-    pub curve: TransferCurve,
-    /// The part list at save time.
-    pub parts: Vec<SnapshotPart>,
-    /// Version of the math that computed it.
-    pub computed_by: String,
-}
+/// The snapshot kept beside each design; its layout (field names) is part of the storage envelope.
+pub use hysteron_core::overview::{Snapshot, SnapshotPart};
 
 /// One design as stored.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -1,13 +1,13 @@
 //! The headless evaluation of design records: what the command-line entry point and the page's
 //! checks run. Each record gives one result; each study inside a result succeeds or fails on its own.
 
-use crate::analysis::{Analysis, Thresholds};
-use crate::bom::{bom, Bom};
-use crate::search::{search, SearchReport};
+use crate::analysis::Analysis;
+use crate::bom::Bom;
+use crate::search::SearchReport;
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
 use crate::tolerance::{tolerance_report, ToleranceReport};
-use crate::topology::{analyse, sensitivities, synthesise, Circuit, Topology};
+use crate::topology::{analyse, sensitivities};
 use serde::{Deserialize, Serialize};
 
 /// ∂VT/∂p of one parameter.
@@ -23,14 +23,7 @@ pub struct Sensitivity {
     pub d_vt_lower: f64,
 }
 
-/// The outcome of synthesis: the circuit that reaches the targets and its analysis.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Synthesis {
-    /// The synthesised circuit (same topology, new part values).
-    pub circuit: Topology,
-    /// The synthesised circuit's analysis.
-    pub analysis: Analysis,
-}
+pub use crate::overview::Synthesis;
 
 /// A study that failed, and why.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -90,11 +83,7 @@ pub struct Exports {
     pub bench: Option<crate::bench::BenchProcedure>,
 }
 
-/// Thresholds of a circuit, validated first. The fast path for the page.
-pub fn thresholds(circuit: &Topology) -> Result<Thresholds, DesignError> {
-    circuit.validate()?;
-    circuit.thresholds()
-}
+pub use crate::overview::thresholds;
 
 /// Evaluates one record: analysis, sensitivities, part list and (with targets) synthesis and
 /// (with search settings too) the standard-value search.
@@ -126,8 +115,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     };
     let sens = crate::finite::keep("sensitivities", sens, &mut fail);
     let synthesis = record.targets.as_ref().and_then(|t| {
-        match synthesise(&record.circuit, t).and_then(|c| analyse(&c, &record.checks).map(|a| (c, a))) {
-            Ok((circuit, analysis)) => Some(Synthesis { circuit, analysis }),
+        match crate::overview::synthesis(record, t) {
+            Ok(s) => Some(s),
             Err(e) => {
                 fail("synthesis", e);
                 None
@@ -166,16 +155,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
     });
     let application = crate::finite::keep("application", application, &mut fail);
-    let bom = analysis.as_ref().and_then(|a| {
-        bom(&record.circuit, a, &record.checks, &record.parts).map_err(|e| fail("bom", e)).ok()
-    });
+    let bom = analysis.as_ref().and_then(|a| crate::overview::part_list(record, a).map_err(|e| fail("bom", e)).ok());
     let bom = crate::finite::keep("bom", bom, &mut fail);
-    // The search starts from the synthesised design when there is one (it may have dropped a
-    // resistor to meet the targets), else from the design as entered.
     let search = match (&record.targets, &record.search) {
-        (Some(t), Some(s)) => {
-            let start = synthesis.as_ref().map_or(&record.circuit, |x| &x.circuit);
-            search(start, t.thresholds(), s, &record.checks).map_err(|e| fail("search", e)).ok()
+        (Some(t), Some(_)) => {
+            crate::overview::standard_values(record, t, synthesis.as_ref()).map_err(|e| fail("search", e)).ok()
         }
         _ => None,
     };
@@ -186,17 +170,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         let (spice, bench) = match &analysis {
             Some(a) => (
                 crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
-                Some(crate::bench::bench_procedure_from(
-                    &record.circuit,
-                    a,
-                    &record.checks,
-                    &tolerance.as_ref().map_or_else(crate::bench::ThresholdBounds::default, |t| {
-                        crate::bench::ThresholdBounds {
-                            vt_upper_v: Some((t.worst_case.vt_upper.min.value_v, t.worst_case.vt_upper.max.value_v)),
-                            vt_lower_v: Some((t.worst_case.vt_lower.min.value_v, t.worst_case.vt_lower.max.value_v)),
-                        }
-                    }),
-                )),
+                Some(crate::overview::bench(record, a, tolerance.as_ref().map(|t| &t.worst_case))),
             ),
             None => (None, None),
         };
@@ -259,6 +233,7 @@ pub fn evaluate_json(text: &str) -> Result<Vec<RecordResult>, RecordError> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::topology::Topology;
 
     #[test]
     fn array_with_one_bad_record_keeps_the_good_one() {

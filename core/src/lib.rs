@@ -21,6 +21,7 @@ pub mod error;
 pub mod finite;
 pub mod limits;
 pub mod evaluate;
+pub mod overview;
 pub mod stream;
 pub mod record;
 pub mod rng;

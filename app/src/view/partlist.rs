@@ -2,23 +2,19 @@
 
 use super::state::Notebook;
 use crate::download::{file_stem, save_text};
-use hysteron_core::bom::{bom, Bom, Package};
-use hysteron_core::topology::analyse;
+use hysteron_core::bom::Package;
+use hysteron_core::overview::settled;
 use leptos::prelude::*;
 
 const PACKAGES: [Package; 5] = [Package::Chip0402, Package::Chip0603, Package::Chip0805, Package::Chip1206, Package::ThroughHole0W25];
-
-/// The part list for the open design: values in RKM code and in full, ratings, checks, device needs.
-pub fn part_list(record: &hysteron_core::record::DesignRecord) -> Result<Bom, String> {
-    let a = analyse(&record.circuit, &record.checks).map_err(|e| e.to_string())?;
-    bom(&record.circuit, &a, &record.checks, &record.parts).map_err(|e| e.to_string())
-}
 
 /// The part list section.
 #[component]
 pub fn PartListSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let list = Memo::new(move |_| nb.with_settled(part_list).unwrap_or_else(|| Err("no design open".into())));
+    let list = Memo::new(move |_| {
+        nb.with_settled(|r| settled(r).parts.map_err(|e| e.to_string())).unwrap_or_else(|| Err("no design open".into()))
+    });
     let package = Signal::derive(move || nb.with_current(|r| r.parts.package).unwrap_or_default());
     let export = move |_| {
         if let (Some(Ok(b)), Some(name)) = (Some(list.get_untracked()), nb.with_current_untracked(|r| r.name.clone())) {

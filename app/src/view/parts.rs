@@ -4,10 +4,10 @@
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::eseries::ESeries;
-use hysteron_core::evaluate::Synthesis;
+use hysteron_core::overview::{standard_values, synthesis, Synthesis};
 use hysteron_core::notation::{format_with_unit, Unit};
-use hysteron_core::search::{apply, search, SearchReport, SearchSettings};
-use hysteron_core::topology::{analyse, synthesise, Circuit, ParameterKind};
+use hysteron_core::search::{apply, SearchReport, SearchSettings};
+use hysteron_core::topology::{Circuit, ParameterKind};
 use leptos::prelude::*;
 
 const SERIES: [ESeries; 7] = [ESeries::E3, ESeries::E6, ESeries::E12, ESeries::E24, ESeries::E48, ESeries::E96, ESeries::E192];
@@ -38,11 +38,8 @@ pub fn PartsSection() -> impl IntoView {
             return;
         };
         let t0 = web_sys::window().and_then(|w| w.performance()).map(|p| p.now());
-        let syn = synthesise(&record.circuit, &targets)
-            .and_then(|c| analyse(&c, &record.checks).map(|a| Synthesis { circuit: c, analysis: a }));
-        let base = syn.as_ref().map(|s| s.circuit.clone()).unwrap_or_else(|_| record.circuit.clone());
-        let settings = record.search.clone().unwrap_or_default();
-        let report = search(&base, targets.thresholds(), &settings, &record.checks).map_err(|e| e.to_string());
+        let syn = synthesis(&record, &targets);
+        let report = standard_values(&record, &targets, syn.as_ref().ok()).map_err(|e| e.to_string());
         if let (Some(a), Some(p)) = (t0, web_sys::window().and_then(|w| w.performance())) {
             elapsed_ms.set(Some(p.now() - a));
         }

@@ -2,8 +2,9 @@
 
 use super::state::Notebook;
 use crate::plot;
-use hysteron_core::analysis::{Analysis, CheckSettings};
-use hysteron_core::topology::{analyse, transfer_curve, TransferCurve};
+use hysteron_core::analysis::Analysis;
+use hysteron_core::overview::quick;
+use hysteron_core::topology::TransferCurve;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
@@ -15,18 +16,15 @@ fn volts(v: f64) -> String {
 #[component]
 pub fn Results() -> impl IntoView {
     let nb = expect_context::<Notebook>();
+    // One call per keystroke: the analysis and the transfer curve over the window core chooses.
+    let figures = Memo::new(move |_| nb.with_current(quick));
     let analysis = Memo::new(move |_| {
-        nb.with_current(|r| analyse(&r.circuit, &r.checks).map_err(|e| e.to_string()))
-            .unwrap_or_else(|| Err("no design open".into()))
-    });
-    let curve = Memo::new(move |_| {
-        nb.with_current(|r| {
-            let a: Analysis = analyse(&r.circuit, &CheckSettings::default()).ok()?;
-            let span = a.hysteresis_v.abs().max(0.5);
-            transfer_curve(&r.circuit, a.vt_lower_v - span, a.vt_upper_v + span).ok()
+        figures.with(|q| match q {
+            Some(q) => q.analysis.clone().map_err(|e| e.to_string()),
+            None => Err("no design open".into()),
         })
-        .flatten()
     });
+    let curve = Memo::new(move |_| figures.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
     // The figures saved with the design are its record for the bench: if today's math gives other
     // numbers (a newer version, say), say so and show both rather than silently changing them.
     let saved = Memo::new(move |_| nb.with_current_entry(|e| e.snapshot.clone()).flatten());

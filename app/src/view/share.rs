@@ -8,7 +8,6 @@ use hysteron_core::record::DesignRecord;
 use hysteron_core::schematic::{render_svg_titled, SymbolStyle};
 use hysteron_core::share::{decode_link, encode_link};
 use hysteron_core::spice::to_spice;
-use hysteron_core::topology::transfer_curve;
 use leptos::prelude::*;
 use wasm_bindgen::JsCast;
 
@@ -72,9 +71,7 @@ pub fn ShareSection() -> impl IntoView {
     };
     let save_curve_svg = move |_| {
         let svg = nb.with_current_untracked(|r| {
-            let t = hysteron_core::evaluate::thresholds(&r.circuit).map_err(|e| e.to_string())?;
-            let span = t.hysteresis_v().abs().max(0.5);
-            let c = transfer_curve(&r.circuit, t.vt_lower_v - span, t.vt_upper_v + span).map_err(|e| e.to_string())?;
+            let c = hysteron_core::overview::curve(&r.circuit).map_err(|e| e.to_string())?;
             plot::transfer_svg(&c)
         });
         match svg {
@@ -201,17 +198,16 @@ pub fn SharedDesign(incoming: RwSignal<Incoming>) -> impl IntoView {
                 <button class="quiet small" on:click=move |_| { clear_fragment(); incoming.set(Incoming::None); }>"Dismiss"</button></div>
         }.into_any(),
         Incoming::Design(record) => {
-            let t = hysteron_core::evaluate::thresholds(&record.circuit);
+            let hysteron_core::overview::Settled { thresholds: t, parts, cautions } = hysteron_core::overview::settled(&record);
             let keep_record = (*record).clone();
             let img = schematic_url(&record, style.get_untracked());
-            let parts = crate::view::partlist::part_list(&record);
             view! {
                 <section class="card shared" id="shared-design" aria-labelledby="shared-heading">
                     <h2 id="shared-heading">"Shared design (read-only): " {record.name.clone()}</h2>
                     <p class="note">{record.purpose.clone()}</p>
-                    {let c = hysteron_core::safety::cautions(&record); (!c.is_empty()).then(|| view! {
+                    {(!cautions.is_empty()).then(|| view! {
                         <div class="caution" role="note"><strong>"Safety"</strong>
-                            <ul>{c.into_iter().map(|c| view! { <li>{c.message}</li> }).collect_view()}</ul>
+                            <ul>{cautions.into_iter().map(|c| view! { <li>{c.message}</li> }).collect_view()}</ul>
                             <p>"Local codes and licensed practice take precedence."</p></div>
                     })}
                     <p>{match t {

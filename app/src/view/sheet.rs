@@ -5,11 +5,7 @@
 use super::share::{schematic_url, StyleChoice};
 use super::state::Notebook;
 use crate::plot;
-use hysteron_core::bench::{bench_procedure_from, ThresholdBounds};
-use hysteron_core::safety::cautions;
-use hysteron_core::signal::report::{evaluate_record_signal, SignalReport};
-use hysteron_core::tolerance::{monte_carlo, worst_case, WorstCase};
-use hysteron_core::topology::{analyse, transfer_curve};
+use hysteron_core::overview::{curve, sheet, sheet_studies, Sheet, SheetStudies};
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
@@ -30,44 +26,21 @@ pub fn DesignSheet() -> impl IntoView {
         if printing.get() == 0 {
             return None;
         }
-        nb.with_current(|r| {
-            let a = analyse(&r.circuit, &r.checks).map_err(|e| e.to_string())?;
-            hysteron_core::finite::check("analysis", &a).map_err(|e| e.to_string())?;
-            let s = r.tolerance.clone().unwrap_or_default();
-            let wc: Option<WorstCase> = worst_case(&r.circuit, &s).ok();
-            let bounds = wc.as_ref().map_or_else(ThresholdBounds::default, |w| ThresholdBounds {
-                vt_upper_v: Some((w.vt_upper.min.value_v, w.vt_upper.max.value_v)),
-                vt_lower_v: Some((w.vt_lower.min.value_v, w.vt_lower.max.value_v)),
-            });
-            let bench = bench_procedure_from(&r.circuit, &a, &r.checks, &bounds);
-            hysteron_core::finite::check("bench", &bench).map_err(|e| e.to_string())?;
-            let parts = super::partlist::part_list(r).ok();
-            Ok::<_, String>((a, wc, bench, parts, cautions(r)))
-        })
+        nb.with_current(|r| sheet(r).map_err(|e| e.to_string()))
     });
     let slow = Memo::new(move |_| {
         if printing.get() == 0 {
             return None;
         }
-        nb.with_current(|r| {
-            let mut s = r.tolerance.clone().unwrap_or_default();
-            s.monte_carlo.trials = s.monte_carlo.trials.min(SHEET_TRIALS);
-            let y = monte_carlo(&r.circuit, &s).ok().and_then(|m| m.spec_yield.map(|y| (y.fraction, m.trials)));
-            let sig: Option<SignalReport> = r.signal.as_ref().and_then(|sg| evaluate_record_signal(&r.circuit, sg).ok());
-            (y, sig)
-        })
+        nb.with_current(|r| sheet_studies(r, SHEET_TRIALS))
     });
     let canvas: NodeRef<Canvas> = NodeRef::new();
     Effect::new(move |_| {
         if printing.get() == 0 {
             return;
         }
-        let curve = nb.with_current(|r| {
-            let t = hysteron_core::evaluate::thresholds(&r.circuit).ok()?;
-            let span = t.hysteresis_v().abs().max(0.5);
-            transfer_curve(&r.circuit, t.vt_lower_v - span, t.vt_upper_v + span).ok()
-        });
-        if let (Some(Some(c)), Some(el)) = (curve, canvas.get()) {
+        let c = nb.with_current(|r| curve(&r.circuit).ok());
+        if let (Some(Some(c)), Some(el)) = (c, canvas.get()) {
             let _ = plot::draw_transfer_fixed(&el, &c, 1000, 420, 2.0);
         }
     });
@@ -82,7 +55,7 @@ pub fn DesignSheet() -> impl IntoView {
             <p class="sheet-purpose">{move || nb.with_current(|r| r.purpose.clone()).unwrap_or_default()}</p>
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
-                Ok((a, wc, bench, parts, cautions)) => view! {
+                Ok(Sheet { analysis: a, worst_case: wc, bench, parts, cautions }) => view! {
                     {(!cautions.is_empty()).then(|| view! {
                         <div class="sheet-caution"><strong>"Safety: "</strong>{cautions.iter().map(|c| c.message.clone()).collect::<Vec<_>>().join(" ")}
                             " Local codes and licensed practice take precedence."</div>
@@ -101,8 +74,8 @@ pub fn DesignSheet() -> impl IntoView {
                                     <tr><td>"hysteresis"</td><td>{v(a.hysteresis_v)}</td><td>{wc.as_ref().map(|w| v(w.hysteresis.min.value_v))}</td><td>{wc.as_ref().map(|w| v(w.hysteresis.max.value_v))}</td></tr>
                                 </tbody>
                             </table>
-                            <p>{move || slow.get().and_then(|(y, _)| y).map(|(f, n)| format!("Monte Carlo yield in the spec window: {:.2} % of {n} boards.", f * 100.0))}</p>
-                            <p>{move || slow.get().and_then(|(_, s)| s).map(|s| format!(
+                            <p>{move || slow.get().and_then(|SheetStudies { spec_yield, .. }| spec_yield).map(|(f, n)| format!("Monte Carlo yield in the spec window: {:.2} % of {n} boards.", f * 100.0))}</p>
+                            <p>{move || slow.get().and_then(|SheetStudies { signal, .. }| signal).map(|s| format!(
                                 "Signal test: {} edges from the design{}; the plain comparator gives {} edges{}.",
                                 s.design.outcome.edges,
                                 s.design.comparison.map(|c| format!(" ({} false)", c.false_edges)).unwrap_or_default(),

@@ -1,9 +1,9 @@
 //! The notebook's reactive state and the one place where edits are applied and saved.
 
-use crate::storage::{self, Entry, SaveError, SetAside, Snapshot, SnapshotPart};
+use crate::storage::{self, Entry, SaveError, SetAside, Snapshot};
 use hysteron_core::device::Comparator;
 use hysteron_core::record::DesignRecord;
-use hysteron_core::topology::{inverting::InvertingSchmitt, transfer_curve, Circuit, ParameterKind, Topology};
+use hysteron_core::topology::{inverting::InvertingSchmitt, Topology};
 use leptos::prelude::*;
 
 /// Shared notebook state, provided as context by `App`.
@@ -60,26 +60,9 @@ pub fn new_id() -> String {
     format!("d{:x}{:04x}", now_ms() as u64, (js_sys::Math::random() * 65535.0) as u32)
 }
 
-/// Computes what is kept beside a design when it is saved.
+/// Computes what is kept beside a design when it is saved (see [`hysteron_core::overview::snapshot`]).
 pub fn snapshot_of(record: &DesignRecord) -> Option<Snapshot> {
-    let c = &record.circuit;
-    let t = hysteron_core::evaluate::thresholds(c).ok()?;
-    let span = (t.vt_upper_v - t.vt_lower_v).abs().max(0.5);
-    let curve = transfer_curve(c, t.vt_lower_v - span, t.vt_upper_v + span).ok()?;
-    let parts = c
-        .parameters()
-        .into_iter()
-        .filter(|p| p.kind == ParameterKind::Resistor)
-        .map(|p| SnapshotPart { designator: p.designator.unwrap_or_default(), label: p.label, value: p.value })
-        .collect();
-    Some(Snapshot {
-        vt_upper_v: t.vt_upper_v,
-        vt_lower_v: t.vt_lower_v,
-        hysteresis_v: t.hysteresis_v(),
-        curve,
-        parts,
-        computed_by: env!("CARGO_PKG_VERSION").to_string(),
-    })
+    hysteron_core::overview::snapshot(record)
 }
 
 /// The design a new blank notebook entry starts from.

@@ -1,0 +1,301 @@
+//! What the page shows of one design, computed in one place: the page (and [`crate::evaluate`])
+//! call these and render the result; neither assembles the pipelines itself.
+//!
+//! Three calls, by how often they run:
+//! - [`quick`] on every keystroke: the analysis (or why it failed) and the transfer curve over
+//!   [`curve_window`];
+//! - [`snapshot`] when a design is saved: thresholds, curve and part values kept beside the record;
+//! - [`settled`] once typing pauses (part list, cautions) and [`sheet`] / [`sheet_studies`] when the
+//!   print sheet is made (worst case, bench procedure with its tolerance bounds, Monte Carlo yield,
+//!   signal test).
+//!
+//! The part list is built by [`part_list`] only, and the bench procedure by [`bench`] only, so a
+//! change to either is one line here.
+
+use crate::analysis::{Analysis, Targets, Thresholds};
+use crate::bench::{bench_procedure_from, BenchProcedure, ThresholdBounds};
+use crate::bom::Bom;
+use crate::error::DesignError;
+use crate::record::DesignRecord;
+use crate::search::{search, SearchReport};
+use crate::safety::{cautions, Caution};
+use crate::signal::report::{evaluate_record_signal, SignalReport};
+use crate::tolerance::{monte_carlo, worst_case, WorstCase};
+use crate::topology::{analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
+use serde::{Deserialize, Serialize};
+
+/// The smallest margin drawn either side of the thresholds, volts: a circuit with little or no
+/// hysteresis still shows half a volt of input around its trip points.
+pub const CURVE_MARGIN_MIN_V: f64 = 0.5;
+
+/// Thresholds of a circuit, validated first (the fast path: no analysis, no allocation).
+pub fn thresholds(circuit: &Topology) -> Result<Thresholds, DesignError> {
+    circuit.validate()?;
+    circuit.thresholds()
+}
+
+/// The input range `(from_v, to_v)` the transfer curve is drawn over: the thresholds widened on
+/// each side by the hysteresis, and by at least [`CURVE_MARGIN_MIN_V`]:
+/// `VT− − m … VT+ + m`, `m = max(|VT+ − VT−|, 0.5 V)`.
+///
+/// ```
+/// use hysteron_core::analysis::Thresholds;
+/// let w = hysteron_core::overview::curve_window(&Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 });
+/// assert_eq!(w, (1.0, 4.0));
+/// ```
+pub fn curve_window(t: &Thresholds) -> (f64, f64) {
+    let margin_v = (t.vt_upper_v - t.vt_lower_v).abs().max(CURVE_MARGIN_MIN_V);
+    (t.vt_lower_v - margin_v, t.vt_upper_v + margin_v)
+}
+
+/// The transfer curve over [`curve_window`] (validated thresholds first).
+pub fn curve(circuit: &Topology) -> Result<TransferCurve, DesignError> {
+    let (from_v, to_v) = curve_window(&thresholds(circuit)?);
+    transfer_curve(circuit, from_v, to_v)
+}
+
+/// What each keystroke recomputes: the analysis with the record's checks, and the transfer curve.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Quick {
+    /// The analysis, or why the design cannot be analysed.
+    pub analysis: Result<Analysis, DesignError>,
+    /// The transfer curve over [`curve_window`]; `None` when the thresholds cannot be computed.
+    pub curve: Option<TransferCurve>,
+}
+
+/// The keystroke path: analysis and transfer curve of the design as it stands.
+pub fn quick(record: &DesignRecord) -> Quick {
+    Quick { analysis: analyse(&record.circuit, &record.checks), curve: curve(&record.circuit).ok() }
+}
+
+/// One part as it stood when the design was saved.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SnapshotPart {
+    /// Designator (R1...).
+    pub designator: String,
+    /// What the part does.
+    pub label: String,
+    /// Value in base units.
+    pub value: f64,
+}
+
+/// What was computed from the design when it was saved, kept beside the record: the figures the
+/// bench was told. The page stores it as it is (its field names are part of the storage layout).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Snapshot {
+    /// VT+ at save time, volts.
+    pub vt_upper_v: f64,
+    /// VT− at save time, volts.
+    pub vt_lower_v: f64,
+    /// Hysteresis at save time, volts.
+    pub hysteresis_v: f64,
+    /// The transfer curve at save time.
+    pub curve: TransferCurve,
+    /// The resistors at save time.
+    pub parts: Vec<SnapshotPart>,
+    /// Version of the math that computed it.
+    pub computed_by: String,
+}
+
+/// The snapshot kept beside a saved design; `None` when its thresholds cannot be computed.
+pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
+    let c = &record.circuit;
+    let t = thresholds(c).ok()?;
+    let (from_v, to_v) = curve_window(&t);
+    let curve = transfer_curve(c, from_v, to_v).ok()?;
+    let parts = c
+        .parameters()
+        .into_iter()
+        .filter(|p| p.kind == ParameterKind::Resistor)
+        .map(|p| SnapshotPart { designator: p.designator.unwrap_or_default(), label: p.label, value: p.value })
+        .collect();
+    Some(Snapshot {
+        vt_upper_v: t.vt_upper_v,
+        vt_lower_v: t.vt_lower_v,
+        hysteresis_v: t.hysteresis_v(),
+        curve,
+        parts,
+        computed_by: env!("CARGO_PKG_VERSION").to_string(),
+    })
+}
+
+/// The part list of a record from its analysis (made with the record's checks). The one place
+/// the part list is built.
+pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, DesignError> {
+    crate::bom::bom(&record.circuit, analysis, &record.checks, &record.parts)
+}
+
+/// The threshold limits a worst-case study gives, for the bench procedure's acceptance bands.
+pub fn bounds_of(worst: Option<&WorstCase>) -> ThresholdBounds {
+    worst.map_or_else(ThresholdBounds::default, |w| ThresholdBounds {
+        vt_upper_v: Some((w.vt_upper.min.value_v, w.vt_upper.max.value_v)),
+        vt_lower_v: Some((w.vt_lower.min.value_v, w.vt_lower.max.value_v)),
+    })
+}
+
+/// The bench procedure of a record from its analysis, with acceptance bands from the worst case
+/// when there is one. The one place the bench procedure is built.
+pub fn bench(record: &DesignRecord, analysis: &Analysis, worst: Option<&WorstCase>) -> BenchProcedure {
+    bench_procedure_from(&record.circuit, analysis, &record.checks, &bounds_of(worst))
+}
+
+/// The outcome of synthesis: the circuit that reaches the targets and its analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Synthesis {
+    /// The synthesised circuit (same topology, new part values).
+    pub circuit: Topology,
+    /// The synthesised circuit's analysis (with the record's checks).
+    pub analysis: Analysis,
+}
+
+/// Synthesis towards `targets` from the record's circuit, with the result analysed.
+pub fn synthesis(record: &DesignRecord, targets: &Targets) -> Result<Synthesis, DesignError> {
+    let circuit = synthesise(&record.circuit, targets)?;
+    let analysis = analyse(&circuit, &record.checks)?;
+    Ok(Synthesis { circuit, analysis })
+}
+
+/// Best standard-value combinations for `targets` with the record's search settings (defaults
+/// when it has none). The search starts from the synthesised design when there is one (it may
+/// have dropped a resistor to meet the targets), else from the design as entered.
+pub fn standard_values(
+    record: &DesignRecord,
+    targets: &Targets,
+    synthesised: Option<&Synthesis>,
+) -> Result<SearchReport, DesignError> {
+    let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
+    let settings = record.search.clone().unwrap_or_default();
+    search(start, targets.thresholds(), &settings, &record.checks)
+}
+
+/// The slower sections, computed once typing pauses.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Settled {
+    /// Thresholds (validated), or why they cannot be computed.
+    pub thresholds: Result<Thresholds, DesignError>,
+    /// The part list, or why it cannot be made (the analysis's error when that failed).
+    pub parts: Result<Bom, DesignError>,
+    /// The cautions the design calls for (mains, high voltage...).
+    pub cautions: Vec<Caution>,
+}
+
+/// The settled path: part list and cautions (and the thresholds, for a read-only view).
+pub fn settled(record: &DesignRecord) -> Settled {
+    Settled {
+        thresholds: thresholds(&record.circuit),
+        parts: analyse(&record.circuit, &record.checks).and_then(|a| part_list(record, &a)),
+        cautions: cautions(record),
+    }
+}
+
+/// The print sheet's figures that need no long study.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Sheet {
+    /// The analysis with the record's checks.
+    pub analysis: Analysis,
+    /// Worst case with the record's tolerance settings (defaults when it has none); `None` when
+    /// the study fails.
+    pub worst_case: Option<WorstCase>,
+    /// The bench procedure, with acceptance bands from the worst case.
+    pub bench: BenchProcedure,
+    /// The part list; `None` when it cannot be made.
+    pub parts: Option<Bom>,
+    /// The cautions the design calls for.
+    pub cautions: Vec<Caution>,
+}
+
+/// The print sheet's content; fails when the design cannot be analysed or any number on the
+/// sheet is not finite (such a design gets no bench sheet, see [`crate::finite`]).
+pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
+    let analysis = analyse(&record.circuit, &record.checks)?;
+    crate::finite::check("analysis", &analysis)?;
+    let settings = record.tolerance.clone().unwrap_or_default();
+    let worst = worst_case(&record.circuit, &settings).ok();
+    let bench = bench(record, &analysis, worst.as_ref());
+    crate::finite::check("bench", &bench)?;
+    let parts = part_list(record, &analysis).ok();
+    Ok(Sheet { bench, parts, cautions: cautions(record), worst_case: worst, analysis })
+}
+
+/// The print sheet's longer studies.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SheetStudies {
+    /// Monte Carlo yield in the spec window: `(fraction, trials)`; `None` without a spec window
+    /// or when the study fails.
+    pub spec_yield: Option<(f64, u64)>,
+    /// The signal test summary, when the record has signal settings and the study succeeds.
+    pub signal: Option<SignalReport>,
+}
+
+/// The print sheet's Monte Carlo yield (at most `max_trials` trials, to keep printing quick) and
+/// signal test.
+pub fn sheet_studies(record: &DesignRecord, max_trials: u64) -> SheetStudies {
+    let mut settings = record.tolerance.clone().unwrap_or_default();
+    settings.monte_carlo.trials = settings.monte_carlo.trials.min(max_trials);
+    let spec_yield =
+        monte_carlo(&record.circuit, &settings).ok().and_then(|m| m.spec_yield.map(|y| (y.fraction, m.trials)));
+    let signal = record.signal.as_ref().and_then(|s| evaluate_record_signal(&record.circuit, s).ok());
+    SheetStudies { spec_yield, signal }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::catalog::templates;
+
+    fn inverting() -> DesignRecord {
+        templates().into_iter().find(|t| t.record().circuit.name() == "inverting").unwrap().record()
+    }
+
+    #[test]
+    fn curve_window_is_the_hysteresis_or_half_a_volt_each_side() {
+        // Wide loop: the margin is the hysteresis itself.
+        assert_eq!(curve_window(&Thresholds { vt_upper_v: 4.0, vt_lower_v: 1.0 }), (-2.0, 7.0));
+        // Narrow loop: half a volt each side.
+        assert_eq!(curve_window(&Thresholds { vt_upper_v: 2.1, vt_lower_v: 2.0 }), (1.5, 2.6));
+        // An inverted pair (VT+ below VT−, as a miswired design may give) still widens outward by |ΔV|.
+        assert_eq!(curve_window(&Thresholds { vt_upper_v: 1.0, vt_lower_v: 3.0 }), (1.0, 3.0));
+    }
+
+    #[test]
+    fn quick_and_snapshot_agree_with_the_analysis() {
+        let r = inverting();
+        let q = quick(&r);
+        let a = q.analysis.as_ref().unwrap();
+        let s = snapshot(&r).unwrap();
+        assert_eq!((s.vt_upper_v, s.vt_lower_v), (a.vt_upper_v, a.vt_lower_v));
+        assert_eq!(q.curve.as_ref(), Some(&s.curve));
+        let (from_v, _) = curve_window(&thresholds(&r.circuit).unwrap());
+        assert_eq!(s.curve.rising.first().map(|p| p.vin_v), Some(from_v));
+        assert_eq!(s.parts.len(), r.circuit.parameters().iter().filter(|p| p.kind == ParameterKind::Resistor).count());
+    }
+
+    #[test]
+    fn a_broken_design_fails_every_path_with_the_same_error() {
+        let mut r = inverting();
+        if let Topology::Inverting(c) = &mut r.circuit {
+            c.rf_ohm = -1.0;
+        }
+        let q = quick(&r);
+        assert!(q.analysis.is_err() && q.curve.is_none());
+        assert!(snapshot(&r).is_none());
+        let s = settled(&r);
+        assert_eq!(s.parts.unwrap_err(), q.analysis.clone().unwrap_err());
+        assert_eq!(sheet(&r).unwrap_err(), q.analysis.unwrap_err());
+    }
+
+    #[test]
+    fn sheet_bench_bands_come_from_the_worst_case() {
+        let r = inverting();
+        let s = sheet(&r).unwrap();
+        let w = s.worst_case.as_ref().unwrap();
+        let upper = s.bench.readings.iter().find(|x| x.nominal_v == s.analysis.vt_upper_v).unwrap();
+        assert_eq!(bounds_of(Some(w)).vt_upper_v, Some((w.vt_upper.min.value_v, w.vt_upper.max.value_v)));
+        assert!(upper.accepts(w.vt_upper.min.value_v) && upper.accepts(w.vt_upper.max.value_v));
+        assert!(s.parts.is_some());
+        let studies = sheet_studies(&r, 200);
+        if let Some((f, n)) = studies.spec_yield {
+            assert!((0.0..=1.0).contains(&f) && n <= 200);
+        }
+    }
+}
