@@ -69,6 +69,7 @@ use serde::{Deserialize, Serialize};
 pub use crate::analysis::{Sense, Thresholds};
 
 pub mod csv;
+pub mod sinusoid;
 pub mod debounce;
 pub mod gauss;
 pub mod generate;

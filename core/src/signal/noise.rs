@@ -18,7 +18,7 @@
 //! Methods*, Ornstein–Uhlenbeck process; from memory.)
 
 use super::gauss::NormalStream;
-use super::generate::add_sinusoid;
+use super::sinusoid::add_sinusoid;
 use crate::error::{positive, DesignError};
 use crate::rng::Rng;
 use serde::{Deserialize, Serialize};

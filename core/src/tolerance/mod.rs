@@ -35,6 +35,7 @@ pub mod gum;
 pub mod input_standard;
 pub mod monte_carlo;
 pub mod settings;
+pub mod spec_window;
 pub mod worst_case;
 
 pub use budget::{error_budget, ErrorBudget};
@@ -265,7 +266,7 @@ pub fn tolerance_report<C: Circuit>(
         spec.contains(mins) && spec.contains(maxs)
     });
     let input_types = if settings.check_input_types {
-        input_standard::check_input_types(&wc)
+        input_standard::check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v)
     } else {
         Vec::new()
     };
