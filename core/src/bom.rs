@@ -428,7 +428,7 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
 /// A number for the CSV: four significant digits, plain decimal (no unit).
 fn csv_number(x: Option<f64>) -> String {
     match x {
-        Some(v) if v.is_finite() => format!("{:.3e}", v).parse::<f64>().map(|r| r.to_string()).unwrap_or_default(),
+        Some(v) => crate::notation::format_significant(v, 4),
         _ => String::new(),
     }
 }

@@ -64,7 +64,9 @@ pub fn cautions(record: &DesignRecord) -> Vec<Caution> {
         out.push(Caution {
             kind: CautionKind::AboveExtraLowVoltage,
             message: format!(
-                "This design reaches {highest:.1} V, above the {ELV_DC_V:.0} V d.c. extra-low-voltage limit: it can give a dangerous shock. Rate every part and spacing for the working and surge voltage (creepage and clearance per IEC 60664-1 / IEC 62368-1), and follow local electrical codes; such work belongs to qualified, licensed practice."
+                "This design reaches {} V, above the {} V d.c. extra-low-voltage limit: it can give a dangerous shock. Rate every part and spacing for the working and surge voltage (creepage and clearance per IEC 60664-1 / IEC 62368-1), and follow local electrical codes; such work belongs to qualified, licensed practice.",
+                crate::notation::format_fixed(highest, 1),
+                crate::notation::format_fixed(ELV_DC_V, 0)
             ),
         });
     }
