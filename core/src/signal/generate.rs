@@ -131,8 +131,9 @@ impl Component {
                     return Err(DesignError::invalid(
                         "components.rise_time_s",
                         format!(
-                            "{rise_time_s} s edges do not fit in the shorter half of a {:.4e} s period at duty {duty}: shorten the edges or lower the frequency",
-                            1.0 / frequency_hz
+                            "{} edges do not fit in the shorter half of a {} period at duty {duty}: shorten the edges or lower the frequency",
+                            crate::notation::format_with_unit(rise_time_s, 5, crate::notation::Unit::Second),
+                            crate::notation::format_with_unit(1.0 / frequency_hz, 5, crate::notation::Unit::Second)
                         ),
                     ));
                 }
@@ -282,7 +283,7 @@ impl SignalDefinition {
         if n > MAX_SAMPLES as f64 {
             return Err(DesignError::invalid(
                 "duration_s",
-                format!("{n:.0} samples exceeds the limit of {MAX_SAMPLES}: shorten the record or lower the sample rate"),
+                format!("{} samples exceeds the limit of {MAX_SAMPLES}: shorten the record or lower the sample rate", crate::notation::format_fixed(n, 0)),
             ));
         }
         for c in &self.components {
