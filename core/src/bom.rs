@@ -377,34 +377,21 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
     }
 }
 
-/// One CSV field, quoted per RFC 4180 §2 (rules 5–7) when it holds a comma, a double quote, CR or
-/// LF; double quotes inside are doubled.
-pub fn csv_field(text: &str) -> String {
-    if text.contains([',', '"', '\r', '\n']) {
-        format!("\"{}\"", text.replace('"', "\"\""))
-    } else {
-        text.to_string()
-    }
-}
-
 /// A number for the CSV: four significant digits, plain decimal (no unit).
 fn csv_number(x: Option<f64>) -> String {
     match x {
-        Some(v) if v.is_finite() => format!("{:.3e}", v).parse::<f64>().map(|r| r.to_string()).unwrap_or_default(),
+        Some(v) => crate::notation::format_significant(v, 4),
         _ => String::new(),
     }
 }
 
 impl Bom {
     /// The part list as CSV text per RFC 4180 (IETF, 2005): a header line ([`CSV_HEADER`]),
-    /// one record per part, CRLF line ends, fields quoted where needed ([`csv_field`]).
+    /// one record per part, CRLF line ends, fields quoted where needed (the project's one CSV
+    /// writer, [`crate::csv_text`]).
     pub fn to_csv(&self) -> String {
-        let mut out = String::new();
-        let mut line = |fields: &[String]| {
-            let quoted: Vec<String> = fields.iter().map(|f| csv_field(f)).collect();
-            out.push_str(&quoted.join(","));
-            out.push_str("\r\n");
-        };
+        let mut out = crate::csv_text::CsvText::new(b',', crate::csv_text::LineEnd::Crlf, 1024);
+        let mut line = |fields: &[String]| out.row(fields);
         line(&CSV_HEADER.map(String::from));
         for r in &self.resistors {
             line(&[
@@ -439,7 +426,7 @@ impl Bom {
             String::new(),
             d.notes.join("; "),
         ]);
-        out
+        out.finish()
     }
 }
 
@@ -526,14 +513,6 @@ mod tests {
         }
     }
 
-    #[test]
-    fn csv_quoting_follows_rfc_4180() {
-        // RFC 4180 §2 rules 6 and 7.
-        assert_eq!(csv_field("plain"), "plain");
-        assert_eq!(csv_field("a,b"), "\"a,b\"");
-        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
-        assert_eq!(csv_field("two\r\nlines"), "\"two\r\nlines\"");
-    }
 
     #[test]
     fn bad_settings_are_typed_errors() {

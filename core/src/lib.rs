@@ -33,6 +33,7 @@ pub mod eseries;
 pub mod notation;
 pub mod search;
 pub mod bom;
+pub mod csv_text;
 pub mod share;
 pub mod netlist;
 pub mod spice;

@@ -775,3 +775,62 @@ mod padded_rkm_tests {
         assert!(format_rkm_padded(-1.0, 4).is_err());
     }
 }
+
+/// Writes a value with exactly `decimals` digits after the point (clamped to 0 … 17), as
+/// `format!("{:.N}")` does: `24.0`, `0.125`. Non-finite values as `NaN`, `inf`, `-inf`.
+pub fn format_fixed(value: f64, decimals: u8) -> String {
+    format!("{value:.*}", usize::from(decimals.min(17)))
+}
+
+/// As [`format_fixed`], with trailing zeros and a trailing point dropped: `0.1`, `2`, `1.2346`.
+pub fn format_fixed_trimmed(value: f64, decimals: u8) -> String {
+    let s = format_fixed(value, decimals);
+    if !value.is_finite() || !s.contains('.') {
+        return s;
+    }
+    let t = s.trim_end_matches('0').trim_end_matches('.');
+    if t == "-0" {
+        "0".to_string()
+    } else {
+        t.to_string()
+    }
+}
+
+/// Writes a value rounded to `significant_digits` significant digits (clamped to 1 … 17) as a plain
+/// decimal number without unit or prefix, in Rust's shortest form of the rounded value: `0.25`,
+/// `1235`, `0.0001`. Empty for a non-finite value (a blank cell in a table).
+pub fn format_significant(value: f64, significant_digits: u8) -> String {
+    if !value.is_finite() {
+        return String::new();
+    }
+    let digits = usize::from(significant_digits.clamp(1, 17)) - 1;
+    format!("{value:.digits$e}").parse::<f64>().map(|r| r.to_string()).unwrap_or_default()
+}
+
+#[cfg(test)]
+mod plain_number_tests {
+    use super::*;
+
+    #[test]
+    fn fixed_and_trimmed() {
+        assert_eq!(format_fixed(24.0, 1), "24.0");
+        assert_eq!(format_fixed(0.0125, 3), "0.013"); // 0.0125 is stored slightly above, rounds up
+        assert_eq!(format_fixed(f64::INFINITY, 2), "inf");
+        assert_eq!(format_fixed_trimmed(0.1, 4), "0.1");
+        assert_eq!(format_fixed_trimmed(2.0, 4), "2");
+        assert_eq!(format_fixed_trimmed(1.234_56, 4), "1.2346");
+        assert_eq!(format_fixed_trimmed(-0.000_01, 4), "0");
+        assert_eq!(format_fixed_trimmed(150.0, 0), "150");
+        assert_eq!(format_fixed_trimmed(f64::NAN, 4), "NaN");
+    }
+
+    #[test]
+    fn significant_digits() {
+        assert_eq!(format_significant(1234.567, 4), "1235");
+        assert_eq!(format_significant(0.000_123_456, 4), "0.0001235");
+        assert_eq!(format_significant(0.25, 4), "0.25");
+        assert_eq!(format_significant(-47_000.0, 2), "-47000");
+        assert_eq!(format_significant(f64::NAN, 4), "");
+        assert_eq!(format_significant(f64::NEG_INFINITY, 4), "");
+    }
+}

@@ -4,6 +4,7 @@
 //! seeded through SplitMix64 (Steele, Lea & Flood, OOPSLA 2014). Normal deviates use the
 //! Marsaglia polar method (Marsaglia & Bray, SIAM Review 6, 1964), with `libm`'s pure-Rust `log`
 //! and `sqrt` so that native and wasm32 builds draw the same numbers from the same seed.
+//! [`Rng::normal`] is the project's one normal sampler: Monte Carlo and the noise sources use it.
 
 /// The first output of `Rng::new(0)`: a fingerprint that native and wasm32 builds must share.
 pub const SEED0_FIRST_OUTPUT: u64 = 0x53175D61490B23DF;
@@ -110,6 +111,29 @@ mod tests {
         // Standard error of the mean 1/√n ≈ 0.0022; of the variance √(2/n) ≈ 0.0032.
         assert!(m.abs() < 0.01, "{m}");
         assert!((v - 1.0).abs() < 0.015, "{v}");
+    }
+
+    #[test]
+    fn normal_tails_match_the_normal_distribution() {
+        // Upper-tail frequencies against Q(x) = erfc(x/√2)/2 (the standard normal tail, a
+        // textbook identity), bounds 5 binomial standard errors; the only normal sampler of the
+        // project must be right in the tails that noise false-edge counts depend on.
+        let mut r = Rng::new(12345);
+        let n = 1_000_000usize;
+        let points = [-2.0, -1.0, -0.3, 0.0, 0.5, 1.0, 2.0, 2.5, 3.0, 3.8];
+        let mut counts = [0usize; 10];
+        for _ in 0..n {
+            let v = r.normal();
+            for (c, p) in counts.iter_mut().zip(points) {
+                *c += (v > p) as usize;
+            }
+        }
+        for (c, p) in counts.iter().zip(points) {
+            let q = 0.5 * libm::erfc(p / std::f64::consts::SQRT_2);
+            let se = (q * (1.0 - q) / n as f64).sqrt();
+            let f = *c as f64 / n as f64;
+            assert!((f - q).abs() < 5.0 * se + 1e-7, "P(Z > {p}): {f} vs {q} (se {se})");
+        }
     }
 
     #[test]

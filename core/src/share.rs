@@ -20,7 +20,15 @@
 //! declaring more than [`MAX_RECORD_BYTES`] of JSON is refused before anything is inflated, and
 //! inflation stops at the declared length, so a crafted "zip bomb" cannot hang the page or fill
 //! its memory. A truncated or altered link fails the length, inflate or checksum test and gives
-//! [`LinkError::Corrupt`]; nothing already saved is touched (this module has no side effects).
+//! [`LinkError::Corrupt`]; so do bytes appended after the compressed stream, set padding bits in
+//! its last byte, base64 padding and non-canonical base64 endings. The one alteration that can
+//! pass is one that inflates to the very same JSON (DEFLATE lets a back-reference point at any
+//! identical earlier string): it opens the same design, never another. Nothing already saved is
+//! touched (this module has no side effects).
+//!
+//! The codecs are crates: CRC-32 from `crc32fast`, base64url from `base64`, DEFLATE from
+//! `miniz_oxide`; links written by the earlier hand-written CRC-32 and base64url are byte for
+//! byte the same and keep opening (tested).
 //!
 //! # Versions
 //!
@@ -35,6 +43,8 @@
 //!   after the schema moves on, because its JSON states its own schema version.
 
 use crate::record::{DesignRecord, RecordError};
+use base64::engine::{DecodePaddingMode, GeneralPurpose, GeneralPurposeConfig};
+use base64::Engine as _;
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
@@ -132,16 +142,31 @@ impl From<RecordError> for LinkError {
 /// as JSON `null` and the link would then be refused on opening with [`LinkError::Record`].
 pub fn encode_link(record: &DesignRecord) -> String {
     let json = serde_json::to_string(record).unwrap_or_else(|_| String::from("{}"));
-    let bytes = json.as_bytes();
+    pack(json.as_bytes())
+}
+
+/// Packs JSON bytes into a version-1 link (`h1.` + base64url of length, CRC-32 and DEFLATE data).
+fn pack(bytes: &[u8]) -> String {
     let mut packed = Vec::with_capacity(HEADER_BYTES + bytes.len() / 2);
     packed.extend_from_slice(&(bytes.len() as u32).to_be_bytes());
-    packed.extend_from_slice(&crc32(bytes).to_be_bytes());
+    packed.extend_from_slice(&crc32fast::hash(bytes).to_be_bytes());
     packed.extend_from_slice(&miniz_oxide::deflate::compress_to_vec(bytes, COMPRESSION_LEVEL));
     let mut out = String::with_capacity(LINK_PREFIX.len() + packed.len() * 4 / 3 + 4);
     out.push_str(LINK_PREFIX);
-    base64url_encode(&packed, &mut out);
+    BASE64URL.encode_string(&packed, &mut out);
     out
 }
+
+/// base64url without padding (RFC 4648 §5), strict on reading: no padding, no characters outside
+/// the alphabet, and zero bits in the unused tail (RFC 4648 §3.5: canonical encoding), so every
+/// payload has exactly one spelling.
+const BASE64URL: GeneralPurpose = GeneralPurpose::new(
+    &base64::alphabet::URL_SAFE,
+    GeneralPurposeConfig::new()
+        .with_encode_padding(false)
+        .with_decode_padding_mode(DecodePaddingMode::RequireNone)
+        .with_decode_allow_trailing_bits(false),
+);
 
 /// Opens a link: accepts the fragment payload (`h1.…`), the fragment with its `#`, or a whole
 /// address ending in the fragment. Returns the design record, or why it cannot be opened.
@@ -170,7 +195,15 @@ fn unpack(text: &str) -> Result<Vec<u8>, LinkError> {
         return Err(LinkError::FutureVersion { found: version, supported: LINK_VERSION });
     }
     // Version 1 is the only one so far; an older version would be unpacked here to the same JSON.
-    let packed = base64url_decode(payload).map_err(|reason| LinkError::Corrupt { reason })?;
+    let packed = BASE64URL.decode(payload).map_err(|e| LinkError::Corrupt {
+        reason: match e {
+            base64::DecodeError::InvalidByte(..) | base64::DecodeError::InvalidPadding => {
+                "the link contains a character that does not belong to it".into()
+            }
+            base64::DecodeError::InvalidLength(_) => "the link's length is impossible for its encoding".into(),
+            base64::DecodeError::InvalidLastSymbol(..) => "the link's last character is not a valid ending".into(),
+        },
+    })?;
     if packed.len() < HEADER_BYTES {
         return Err(LinkError::Corrupt { reason: "the link is too short to hold a design".into() });
     }
@@ -179,24 +212,68 @@ fn unpack(text: &str) -> Result<Vec<u8>, LinkError> {
     if declared > MAX_RECORD_BYTES {
         return Err(LinkError::TooLarge { size: declared, limit: MAX_RECORD_BYTES });
     }
-    let json = miniz_oxide::inflate::decompress_to_vec_with_limit(&packed[HEADER_BYTES..], declared).map_err(|e| {
-        LinkError::Corrupt {
-            reason: match e.status {
-                miniz_oxide::inflate::TINFLStatus::HasMoreOutput => "the data unpacks to more than it declares".into(),
-                miniz_oxide::inflate::TINFLStatus::FailedCannotMakeProgress => "the compressed data ends early".into(),
-                _ => "the compressed data is invalid".into(),
-            },
-        }
-    })?;
-    if json.len() != declared {
-        return Err(LinkError::Corrupt {
-            reason: format!("the data unpacks to {} bytes, not the {declared} it declares", json.len()),
-        });
-    }
-    if crc32(&json) != expected_crc {
+    let data = &packed[HEADER_BYTES..];
+    let json = inflate_exact(data, declared).map_err(|reason| LinkError::Corrupt { reason })?;
+    if crc32fast::hash(&json) != expected_crc {
         return Err(LinkError::Corrupt { reason: "checksum mismatch".into() });
     }
+    if padding_bits_set(data, declared, &json) {
+        return Err(LinkError::Corrupt { reason: "the link carries bits after the end of its data".into() });
+    }
     Ok(json)
+}
+
+/// Inflates a raw DEFLATE stream (RFC 1951) that must unpack to exactly `declared` bytes and end
+/// exactly at the last input byte: bytes appended after the stream, a stream that ends early and
+/// one that unpacks to more or less than declared are all refused. Work and memory are bounded by
+/// `declared` (at most [`MAX_RECORD_BYTES`]) and the input length.
+fn inflate_exact(data: &[u8], declared: usize) -> Result<Vec<u8>, String> {
+    use miniz_oxide::inflate::core::{decompress, inflate_flags, DecompressorOxide};
+    use miniz_oxide::inflate::TINFLStatus;
+    // One spare byte tells "unpacks to more than declared" apart from "exactly declared".
+    let mut out = vec![0u8; declared + 1];
+    let mut inflater = Box::<DecompressorOxide>::default();
+    let (status, consumed, written) =
+        decompress(&mut inflater, data, &mut out, 0, inflate_flags::TINFL_FLAG_USING_NON_WRAPPING_OUTPUT_BUF);
+    match status {
+        TINFLStatus::Done => {}
+        TINFLStatus::HasMoreOutput => return Err("the data unpacks to more than it declares".into()),
+        TINFLStatus::NeedsMoreInput | TINFLStatus::FailedCannotMakeProgress => {
+            return Err("the compressed data ends early".into())
+        }
+        _ => return Err("the compressed data is invalid".into()),
+    }
+    if written != declared {
+        return Err(format!("the data unpacks to {written} bytes, not the {declared} it declares"));
+    }
+    if consumed != data.len() {
+        return Err(format!("{} bytes follow the end of the compressed data", data.len() - consumed));
+    }
+    out.truncate(written);
+    Ok(out)
+}
+
+/// Whether the unused high bits of the stream's last byte (DEFLATE fills bytes from the low bit,
+/// RFC 1951 §3.1.1, and pads the last one) carry anything: the writer leaves them zero, so a set
+/// padding bit is an alteration the checksum cannot see. A set bit is padding when clearing it
+/// unpacks to the same bytes; the first set bit from the top that matters ends the search (every
+/// lower bit is then part of the stream), so this costs at most one extra inflation per set
+/// padding bit plus one.
+fn padding_bits_set(data: &[u8], declared: usize, json: &[u8]) -> bool {
+    let Some(&last) = data.last() else { return false };
+    let mut altered = data.to_vec();
+    let end = altered.len() - 1;
+    for bit in (0..8).rev() {
+        if last & (1 << bit) == 0 {
+            continue;
+        }
+        altered[end] = last & !(1 << bit);
+        return match inflate_exact(&altered, declared) {
+            Ok(same) if same == json => true,
+            _ => false,
+        };
+    }
+    false
 }
 
 /// Splits `h<digits>.<payload>` into the version number and the payload.
@@ -214,125 +291,130 @@ fn split_version(fragment: &str) -> Result<(u32, &str), LinkError> {
     Ok((version, &rest[dot + 1..]))
 }
 
-/// CRC-32 (ISO-HDLC / IEEE 802.3: reflected polynomial 0xEDB88320, initial value and final XOR
-/// 0xFFFFFFFF), bytewise with a table built at compile time. Check value for the ASCII text
-/// "123456789" is 0xCBF43926 (Williams, "A painless guide to CRC error detection algorithms",
-/// from memory).
-pub fn crc32(data: &[u8]) -> u32 {
-    let mut crc = 0xFFFF_FFFFu32;
-    for &b in data {
-        crc = CRC_TABLE[((crc ^ b as u32) & 0xFF) as usize] ^ (crc >> 8);
-    }
-    !crc
-}
-
-const CRC_TABLE: [u32; 256] = {
-    let mut table = [0u32; 256];
-    let mut i = 0;
-    while i < 256 {
-        let mut c = i as u32;
-        let mut k = 0;
-        while k < 8 {
-            c = if c & 1 != 0 { 0xEDB8_8320 ^ (c >> 1) } else { c >> 1 };
-            k += 1;
-        }
-        table[i] = c;
-        i += 1;
-    }
-    table
-};
-
-/// The base64url alphabet (RFC 4648 §5, table 2).
-const B64_ALPHABET: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_";
-
-/// Appends base64url of `data` without padding (RFC 4648 §5 and §3.2).
-pub fn base64url_encode(data: &[u8], out: &mut String) {
-    for chunk in data.chunks(3) {
-        let b = [chunk[0], *chunk.get(1).unwrap_or(&0), *chunk.get(2).unwrap_or(&0)];
-        let n = (b[0] as u32) << 16 | (b[1] as u32) << 8 | b[2] as u32;
-        let chars = chunk.len() + 1;
-        for i in 0..chars {
-            out.push(B64_ALPHABET[((n >> (18 - 6 * i)) & 63) as usize] as char);
-        }
-    }
-}
-
-/// Decodes unpadded base64url, strictly: only the 64 alphabet characters (a trailing `=` padding
-/// is tolerated), no length that leaves a lone character, and zero bits in the unused tail
-/// (RFC 4648 §3.5: canonical encoding), so every payload has exactly one spelling.
-pub fn base64url_decode(text: &str) -> Result<Vec<u8>, String> {
-    let text = text.trim_end_matches('=');
-    let bytes = text.as_bytes();
-    if bytes.len() % 4 == 1 {
-        return Err("the link's length is impossible for its encoding".into());
-    }
-    let mut out = Vec::with_capacity(bytes.len() * 3 / 4);
-    for chunk in bytes.chunks(4) {
-        let mut n = 0u32;
-        for (i, &c) in chunk.iter().enumerate() {
-            let v = match c {
-                b'A'..=b'Z' => c - b'A',
-                b'a'..=b'z' => c - b'a' + 26,
-                b'0'..=b'9' => c - b'0' + 52,
-                b'-' => 62,
-                b'_' => 63,
-                _ => return Err("the link contains a character that does not belong to it".into()),
-            };
-            n |= (v as u32) << (18 - 6 * i);
-        }
-        let full = chunk.len() - 1;
-        let tail_mask = match chunk.len() {
-            2 => 0x0000_FFFF,
-            3 => 0x0000_00FF,
-            _ => 0,
-        };
-        if n & tail_mask != 0 {
-            return Err("the link's last character is not a valid ending".into());
-        }
-        for i in 0..full {
-            out.push((n >> (16 - 8 * i)) as u8);
-        }
-    }
-    Ok(out)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::catalog;
 
-    #[test]
-    fn crc32_check_value() {
-        // Check value of CRC-32/ISO-HDLC for "123456789" (Williams's CRC catalogue, from memory).
-        assert_eq!(crc32(b"123456789"), 0xCBF4_3926);
-        assert_eq!(crc32(b""), 0);
+    /// Packs raw bytes (header, then `deflated`) as a link, for crafting damaged links.
+    fn link_of(header_len: u32, crc: u32, deflated: &[u8]) -> String {
+        let mut packed = header_len.to_be_bytes().to_vec();
+        packed.extend_from_slice(&crc.to_be_bytes());
+        packed.extend_from_slice(deflated);
+        let mut link = String::from(LINK_PREFIX);
+        BASE64URL.encode_string(&packed, &mut link);
+        link
+    }
+
+    /// The packed bytes behind a link.
+    fn packed_of(link: &str) -> Vec<u8> {
+        BASE64URL.decode(&link[LINK_PREFIX.len()..]).unwrap()
     }
 
     #[test]
-    fn base64url_matches_rfc4648_test_vectors() {
-        // RFC 4648 §10 test vectors (padding removed; the alphabet differs only in 62/63).
-        let cases = [
-            ("", ""),
-            ("f", "Zg"),
-            ("fo", "Zm8"),
-            ("foo", "Zm9v"),
-            ("foob", "Zm9vYg"),
-            ("fooba", "Zm9vYmE"),
-            ("foobar", "Zm9vYmFy"),
+    fn links_written_by_the_hand_written_codec_still_open() {
+        // Written by the hand-written CRC-32 and base64url of the releases before the codecs came
+        // from crc32fast and base64 (same envelope, miniz_oxide level 10); they must keep opening
+        // to the same JSON. The second uses both URL-safe characters and multi-byte UTF-8.
+        let old = [
+            ("{}", "h1.AAAAAqOmv0OrrgUA"),
+            (
+                "{\"schema_version\":1,\"name\":\"Ω ~~~ ???>>> test\",\"notes\":\"line\\nbreak\"}",
+                "h1.AAAARiNCQikBRgC5_3sic2NoZW1hX3ZlcnNpb24iOjEsIm5hbWUiOiLOqSB-fn4gPz8_Pj4-IHRlc3QiLCJub3RlcyI6ImxpbmVcbmJyZWFrIn0",
+            ),
+            (
+                "[1,2,3,4,5,6,7,8,9,10,11,12,13,14,15,16,17,18,19,20,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15,16,17,18,19,20]",
+                "h1.AAAAZ1kbH9-VyzkRACAMAEFDV3DhjRYG_zbAAvXObgkqjc5gskgsKAZWbNhx4MSFSTz9LucC",
+            ),
         ];
-        for (plain, enc) in cases {
-            let mut s = String::new();
-            base64url_encode(plain.as_bytes(), &mut s);
-            assert_eq!(s, enc);
-            assert_eq!(base64url_decode(enc).unwrap(), plain.as_bytes());
+        for (json, link) in old {
+            assert_eq!(unpack(link).unwrap(), json.as_bytes(), "{link}");
+            // The writer still produces the very same text (same compressor, same codecs).
+            assert_eq!(pack(json.as_bytes()), link);
         }
-        // 0xFB 0xFF uses both URL-safe characters (62 and 63).
-        let mut s = String::new();
-        base64url_encode(&[0xFB, 0xFF], &mut s);
-        assert_eq!(s, "-_8");
-        assert!(base64url_decode("Zh").is_err(), "non-zero tail bits are not canonical");
-        assert!(base64url_decode("Z").is_err());
-        assert!(base64url_decode("Zm+v").is_err());
+    }
+
+    #[test]
+    fn crc32_and_base64url_check_values() {
+        // CRC-32/ISO-HDLC check value for "123456789" (Williams's CRC catalogue, from memory).
+        assert_eq!(crc32fast::hash(b"123456789"), 0xCBF4_3926);
+        // RFC 4648 §10 test vectors, padding removed; 0xFB 0xFF uses both URL-safe characters.
+        assert_eq!(BASE64URL.encode("foobar"), "Zm9vYmFy");
+        assert_eq!(BASE64URL.encode("fooba"), "Zm9vYmE");
+        assert_eq!(BASE64URL.encode([0xFB, 0xFF]), "-_8");
+        assert!(BASE64URL.decode("Zh").is_err(), "non-zero tail bits are not canonical");
+        assert!(BASE64URL.decode("Z").is_err());
+        assert!(BASE64URL.decode("Zm+v").is_err());
+        assert!(BASE64URL.decode("Zm8=").is_err(), "padding is an alteration");
+    }
+
+    #[test]
+    fn bytes_after_the_compressed_data_are_refused() {
+        // Issue 13 reproducer: bytes appended after the DEFLATE stream used to be ignored.
+        let record = catalog::templates()[0].record();
+        let link = encode_link(&record);
+        let packed = packed_of(&link);
+        for extra in [&[0u8][..], &[0, 0, 0], b"tail", &[0xFF; 64]] {
+            let mut p = packed.clone();
+            p.extend_from_slice(extra);
+            let mut s = String::from(LINK_PREFIX);
+            BASE64URL.encode_string(&p, &mut s);
+            match decode_link(&s) {
+                Err(LinkError::Corrupt { reason }) => assert!(reason.contains("follow the end"), "{reason}"),
+                other => panic!("{} appended bytes: {other:?}", extra.len()),
+            }
+        }
+        // Appended characters and padding are refused as well.
+        assert!(matches!(decode_link(&format!("{link}=")), Err(LinkError::Corrupt { .. })));
+        assert!(matches!(decode_link(&format!("{link}AAAA")), Err(LinkError::Corrupt { .. })));
+    }
+
+    #[test]
+    fn set_padding_bits_in_the_last_byte_are_refused() {
+        // A stream whose last byte has unused high bits: set each in turn; the checksum cannot see
+        // them, the padding check must.
+        let json = b"{}";
+        let deflated = miniz_oxide::deflate::compress_to_vec(json, COMPRESSION_LEVEL);
+        let good = link_of(2, crc32fast::hash(json), &deflated);
+        assert_eq!(unpack(&good).unwrap(), json);
+        let mut refused = 0;
+        for bit in 0..8 {
+            let mut d = deflated.clone();
+            let end = d.len() - 1;
+            d[end] ^= 1 << bit;
+            match unpack(&link_of(2, crc32fast::hash(json), &d)) {
+                Ok(got) => panic!("flip of bit {bit} of the last byte opened as {got:?}"),
+                Err(_) => refused += 1,
+            }
+        }
+        assert_eq!(refused, 8);
+    }
+
+    #[test]
+    fn every_bit_flip_of_a_starter_link_is_refused_or_harmless() {
+        // Exhaustive over two starters: every bit of the packed bytes flipped in turn. Header,
+        // checksum, padding and stream damage fail; the only flips that can pass are those that
+        // inflate to the very same JSON (a DEFLATE back-reference moved to an identical earlier
+        // string), which by construction open the same design.
+        for s in [&catalog::templates()[0], &catalog::demos()[0]] {
+            let record = s.record();
+            let packed = packed_of(&encode_link(&record));
+            let mut opened = 0;
+            for i in 0..packed.len() {
+                for bit in 0..8 {
+                    let mut p = packed.clone();
+                    p[i] ^= 1 << bit;
+                    let mut l = String::from(LINK_PREFIX);
+                    BASE64URL.encode_string(&p, &mut l);
+                    if let Ok(got) = decode_link(&l) {
+                        assert_eq!(got, record, "{}: flip at byte {i} bit {bit} opened another design", s.key);
+                        assert!(i >= HEADER_BYTES && i + 1 < packed.len(), "{}: flip at byte {i} bit {bit}", s.key);
+                        opened += 1;
+                    }
+                }
+            }
+            assert!(opened * 1000 <= packed.len() * 8, "{}: {opened} of {} flips opened", s.key, packed.len() * 8);
+        }
     }
 
     #[test]
@@ -368,16 +450,12 @@ mod tests {
     fn zip_bomb_is_refused_without_inflating_it() {
         // 8 MiB of zeros compresses to a few kilobytes; declared honestly it exceeds the limit.
         let zeros = vec![b' '; 8 << 20];
-        let mut packed = (zeros.len() as u32).to_be_bytes().to_vec();
-        packed.extend_from_slice(&crc32(&zeros).to_be_bytes());
-        packed.extend_from_slice(&miniz_oxide::deflate::compress_to_vec(&zeros, 6));
-        let mut link = String::from(LINK_PREFIX);
-        base64url_encode(&packed, &mut link);
+        let deflated = miniz_oxide::deflate::compress_to_vec(&zeros, 6);
+        let crc = crc32fast::hash(&zeros);
+        let link = link_of(zeros.len() as u32, crc, &deflated);
         assert!(matches!(decode_link(&link), Err(LinkError::TooLarge { .. })));
         // Declared small but inflating to more: stopped at the declared length.
-        packed[..4].copy_from_slice(&1000u32.to_be_bytes());
-        let mut link = String::from(LINK_PREFIX);
-        base64url_encode(&packed, &mut link);
+        let link = link_of(1000, crc, &deflated);
         assert!(matches!(decode_link(&link), Err(LinkError::Corrupt { .. })));
     }
 
@@ -386,11 +464,8 @@ mod tests {
         let mut v = serde_json::to_value(catalog::templates()[0].record()).unwrap();
         v["schema_version"] = 42.into();
         let json = serde_json::to_string(&v).unwrap();
-        let mut packed = (json.len() as u32).to_be_bytes().to_vec();
-        packed.extend_from_slice(&crc32(json.as_bytes()).to_be_bytes());
-        packed.extend_from_slice(&miniz_oxide::deflate::compress_to_vec(json.as_bytes(), 6));
-        let mut link = String::from(LINK_PREFIX);
-        base64url_encode(&packed, &mut link);
+        let deflated = miniz_oxide::deflate::compress_to_vec(json.as_bytes(), 6);
+        let link = link_of(json.len() as u32, crc32fast::hash(json.as_bytes()), &deflated);
         assert!(matches!(decode_link(&link), Err(LinkError::Record(RecordError::FutureVersion { found: 42, .. }))));
     }
 }

@@ -406,7 +406,7 @@ fn parse_slices(
                     c.volts.len(),
                     name,
                     c.format.describe(),
-                    if c.skipped.is_empty() { String::new() } else { format!(" {} lines were not samples; see the list.", c.skipped.len()) }
+                    if c.skipped_count == 0 { String::new() } else { format!(" {} lines were not samples; see the list (first {}).", c.skipped_count, c.skipped.len()) }
                 ))));
                 capture.set(Some(std::sync::Arc::new(c)));
                 let n = name.clone();

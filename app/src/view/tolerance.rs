@@ -97,7 +97,7 @@ pub fn ToleranceSection() -> impl IntoView {
             let wc = worst_case(&r.circuit, &s).map_err(|e| e.to_string())?;
             let g = gum(&r.circuit, &s).map_err(|e| e.to_string())?;
             let b = error_budget(&r.circuit, &s).map_err(|e| e.to_string())?;
-            let types = check_input_types(&wc);
+            let types = check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v);
             Ok::<_, String>((wc, g, b, types))
         })
         .unwrap_or_else(|| Err("no design open".into()))

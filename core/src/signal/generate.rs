@@ -15,8 +15,8 @@ use crate::limits::{check as limit, Quantity};
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
-/// Samples between exact re-anchoring of recurrences (sine phasors, exponential decays).
-pub const RESYNC: usize = 256;
+pub use super::sinusoid::RESYNC;
+use super::sinusoid::{add_sinusoid, frac};
 
 /// One deterministic part of a signal. Periodic components are referenced to t = 0 with a phase
 /// in degrees; at phase 0 a sine and a triangle start at zero going up and a square is mid-way up
@@ -160,8 +160,9 @@ impl Component {
                     return Err(DesignError::invalid(
                         "components.rise_time_s",
                         format!(
-                            "{rise_time_s} s edges do not fit in the shorter half of a {:.4e} s period at duty {duty}: shorten the edges or lower the frequency",
-                            1.0 / frequency_hz
+                            "{} edges do not fit in the shorter half of a {} period at duty {duty}: shorten the edges or lower the frequency",
+                            crate::notation::format_with_unit(rise_time_s, 5, crate::notation::Unit::Second),
+                            crate::notation::format_with_unit(1.0 / frequency_hz, 5, crate::notation::Unit::Second)
                         ),
                     ));
                 }
@@ -219,11 +220,6 @@ impl Component {
     }
 }
 
-#[inline(always)]
-fn frac(x: f64) -> f64 {
-    x - x.floor()
-}
-
 /// Unit triangle of phase p ∈ [0, 1): 0 → 1 → 0 → −1 → 0.
 #[inline(always)]
 fn triangle(p: f64) -> f64 {
@@ -250,32 +246,6 @@ fn square(p: f64, d: f64, r: f64) -> f64 {
         (d - q) / h
     } else {
         -1.0
-    }
-}
-
-/// Adds A·sin(2πf·t + φ) at t = (first_index + k)·step for k = 0.. to `out`, by a rotating
-/// phasor re-anchored to `libm::sin`/`cos` at the first sample and at every absolute index that is
-/// a multiple of [`RESYNC`]. Allocation-free.
-pub(crate) fn add_sinusoid(out: &mut [f64], first_index: usize, step_s: f64, amplitude_v: f64, frequency_hz: f64, phase_rad: f64) {
-    if amplitude_v == 0.0 {
-        return;
-    }
-    let rot = 2.0 * PI * frac(frequency_hz * step_s);
-    let (sr, cr) = (libm::sin(rot), libm::cos(rot));
-    let cycles0 = phase_rad / (2.0 * PI);
-    let mut k = 0;
-    while k < out.len() {
-        let i = first_index + k;
-        let run = (RESYNC - i % RESYNC).min(out.len() - k);
-        let a = 2.0 * PI * frac(frequency_hz * (i as f64 * step_s) + cycles0);
-        let (mut s, mut c) = (libm::sin(a), libm::cos(a));
-        for v in out[k..k + run].iter_mut() {
-            *v += amplitude_v * s;
-            let s2 = s * cr + c * sr;
-            c = c * cr - s * sr;
-            s = s2;
-        }
-        k += run;
     }
 }
 
@@ -345,7 +315,7 @@ impl SignalDefinition {
         if n > MAX_SAMPLES as f64 {
             return Err(DesignError::invalid(
                 "duration_s",
-                format!("{n:.0} samples exceeds the limit of {MAX_SAMPLES}: shorten the record or lower the sample rate"),
+                format!("{} samples exceeds the limit of {MAX_SAMPLES}: shorten the record or lower the sample rate", crate::notation::format_fixed(n, 0)),
             ));
         }
         for c in &self.components {

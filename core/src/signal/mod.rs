@@ -9,7 +9,7 @@
 //!   RC approach, drift) and the settings that describe a signal.
 //! - [`noise`]: seeded noise sources (white and band-limited Gaussian, mains hum with harmonics,
 //!   impulse spikes). All randomness comes from [`crate::rng::Rng`], so a seed gives the same
-//!   samples natively and in wasm; [`gauss`] turns its bits into normal deviates quickly.
+//!   samples natively and in wasm; normal deviates come from [`crate::rng::Rng::normal`].
 //! - [`csv`]: importing bench captures (time and voltage as CSV) with format detection, chunked
 //!   parsing and line-numbered errors; exporting with exact round trips.
 //! - [`trigger`]: the two-threshold trigger applied to a sampled signal, with propagation delay
@@ -69,8 +69,8 @@ use serde::{Deserialize, Serialize};
 pub use crate::analysis::{Sense, Thresholds};
 
 pub mod csv;
+pub mod sinusoid;
 pub mod debounce;
-pub mod gauss;
 pub mod generate;
 pub mod noise;
 pub mod ode;

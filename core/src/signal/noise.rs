@@ -4,7 +4,8 @@
 //!
 //! Every source draws from its own [`Rng`], seeded from the signal's seed and the source's
 //! position in the list, so editing one source leaves the others' samples unchanged. Gaussian
-//! deviates come from the ziggurat method on that generator ([`super::gauss`]). Generators keep
+//! deviates come from that generator's one normal sampler ([`Rng::normal`], the project's only
+//! one, whose stream is pinned natively and in wasm). Generators keep
 //! their state between blocks ([`NoiseGenerator`]), so a signal can be produced a cache-sized block
 //! at a time; sample loops allocate nothing.
 //!
@@ -17,8 +18,7 @@
 //! (Standard results for linear stochastic systems; e.g. Gardiner, *Handbook of Stochastic
 //! Methods*, Ornstein–Uhlenbeck process; from memory.)
 
-use super::gauss::NormalStream;
-use super::generate::add_sinusoid;
+use super::sinusoid::add_sinusoid;
 use crate::error::{positive, DesignError};
 use crate::limits::{check as limit, Quantity};
 use crate::rng::Rng;
@@ -247,8 +247,8 @@ pub struct NoiseGenerator {
 #[derive(Debug, Clone)]
 enum NoiseState {
     Silent,
-    White { rms_v: f64, rng: Rng, zig: Box<NormalStream> },
-    Band { cascade: Box<PoleCascade>, rng: Rng, zig: Box<NormalStream> },
+    White { rms_v: f64, rng: Rng },
+    Band { cascade: Box<PoleCascade>, rng: Rng },
     Hum { parts: Vec<(f64, f64, f64)> },
     Spikes { rng: Rng, level: f64, next_s: f64, decay: f64, decay_s: f64, amplitude_v: f64, floor: f64, mean_gap_s: f64, polarity: SpikePolarity },
 }
@@ -259,12 +259,11 @@ impl NoiseGenerator {
     pub fn new(source: &NoiseSource, seed: u64, step_s: f64) -> Self {
         let mut rng = Rng::new(seed);
         let state = match source {
-            NoiseSource::White { rms_v } if *rms_v > 0.0 => NoiseState::White { rms_v: *rms_v, rng, zig: Box::new(NormalStream::new()) },
+            NoiseSource::White { rms_v } if *rms_v > 0.0 => NoiseState::White { rms_v: *rms_v, rng },
             NoiseSource::BandLimited { rms_v, corner_hz, poles } if *rms_v > 0.0 => {
-                let mut zig = Box::new(NormalStream::new());
                 let mut cascade = Box::new(PoleCascade::new(*rms_v, *corner_hz, *poles, step_s));
-                cascade.start(&mut rng, &mut zig);
-                NoiseState::Band { cascade, rng, zig }
+                cascade.start(&mut rng);
+                NoiseState::Band { cascade, rng }
             }
             NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } if *amplitude_v != 0.0 => {
                 let f = mains.hz();
@@ -300,25 +299,25 @@ impl NoiseGenerator {
         let step_s = self.step_s;
         match &mut self.state {
             NoiseState::Silent => {}
-            NoiseState::White { rms_v, rng, zig } => {
+            NoiseState::White { rms_v, rng } => {
                 let s = *rms_v;
                 for v in out.iter_mut() {
-                    *v += s * zig.next(rng);
+                    *v += s * rng.normal();
                 }
             }
-            NoiseState::Band { cascade, rng, zig } => {
+            NoiseState::Band { cascade, rng } => {
                 if cascade.n == 1 {
                     let (a, b) = (cascade.phi[0][0], cascade.chol[0][0]);
                     let mut x = cascade.state[0];
                     for v in out.iter_mut() {
                         *v += x;
-                        x = a * x + b * zig.next(rng);
+                        x = a * x + b * rng.normal();
                     }
                     cascade.state[0] = x;
                 } else {
                     for v in out.iter_mut() {
                         *v += cascade.state[cascade.n - 1];
-                        cascade.step(rng, zig);
+                        cascade.step(rng);
                     }
                 }
             }
@@ -467,10 +466,10 @@ impl PoleCascade {
     }
 
     /// Draws the state from the stationary distribution (so the noise has its full RMS from the first sample).
-    pub(crate) fn start(&mut self, rng: &mut Rng, zig: &mut NormalStream) {
+    pub(crate) fn start(&mut self, rng: &mut Rng) {
         let mut w = [0.0; 4];
         for x in w.iter_mut().take(self.n) {
-            *x = zig.next(rng);
+            *x = rng.normal();
         }
         for j in 0..self.n {
             let mut s = 0.0;
@@ -483,11 +482,11 @@ impl PoleCascade {
 
     /// Advances the state by one sample interval.
     #[inline]
-    pub(crate) fn step(&mut self, rng: &mut Rng, zig: &mut NormalStream) {
+    pub(crate) fn step(&mut self, rng: &mut Rng) {
         let n = self.n;
         let mut w = [0.0; 4];
         for x in w.iter_mut().take(n) {
-            *x = zig.next(rng);
+            *x = rng.normal();
         }
         let old = self.state;
         for j in 0..n {

@@ -69,7 +69,7 @@ pub fn advance<F: Fn(f64) -> f64>(
     let steps = (duration_s / max_step_s).ceil();
     if steps > MAX_STEPS as f64 {
         return Err(DesignError::NotConverged {
-            reason: format!("the simulation would need {steps:.0} steps (limit {MAX_STEPS}): shorten it or widen the step"),
+            reason: format!("the simulation would need {} steps (limit {MAX_STEPS}): shorten it or widen the step", crate::notation::format_fixed(steps, 0)),
         });
     }
     let steps = (steps as usize).max(1);

@@ -174,7 +174,7 @@ pub fn relaxation_oscillator(design: &TriggerDesign, s: &OscillatorSettings) -> 
         let target = 1.0 / f;
         if target <= tplh + tphl {
             return Err(DesignError::infeasible(
-                format!("a {f} Hz period is not longer than the two propagation delays ({:.3e} s)", tplh + tphl),
+                format!("a {f} Hz period is not longer than the two propagation delays ({})", crate::notation::format_with_unit(tplh + tphl, 4, crate::notation::Unit::Second)),
                 "lower the target frequency or use a faster device",
             ));
         }
@@ -195,7 +195,7 @@ pub fn relaxation_oscillator(design: &TriggerDesign, s: &OscillatorSettings) -> 
                 let r_new = rc / s.c_f - s.output_resistance_ohm;
                 if r_new <= 0.0 {
                     return Err(DesignError::infeasible(
-                        format!("the target needs RC = {rc:.4e} s, less than the output resistance alone gives with this C"),
+                        format!("the target needs RC = {}, less than the output resistance alone gives with this C", crate::notation::format_with_unit(rc, 5, crate::notation::Unit::Second)),
                         "use a smaller capacitor",
                     ));
                 }

@@ -3,13 +3,25 @@
 //! from noise, the phase error of a zero-crossing detector whose thresholds are not at zero, and
 //! the time a slow edge spends between a logic input's VIL and VIH.
 
-use super::trigger::InitialState;
 use super::Times;
 use crate::analysis::Thresholds;
 use crate::error::{finite, non_negative, positive, DesignError};
 use crate::limits::{check as limit, Quantity};
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
+
+/// The trigger's state before the first sample.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum InitialState {
+    /// "Input high" if the first sample is at or above VT+, else "input low" (also inside the band).
+    #[default]
+    Auto,
+    /// As if the input had last been below VT−.
+    InputLow,
+    /// As if the input had last been above VT+.
+    InputHigh,
+}
 
 /// How the device's propagation delay is given.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]

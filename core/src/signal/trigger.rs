@@ -27,6 +27,7 @@
 //! consecutive intended edges (so windows never overlap), or the whole record when there are
 //! fewer than two intended edges.
 
+pub use super::timing::InitialState;
 use super::timing::{DelayModel, TransitionShape, TriggerTiming};
 use super::Times;
 use crate::analysis::{Sense, Thresholds};
@@ -87,19 +88,6 @@ impl TriggerDesign {
     fn output_high_when_input_high(&self) -> bool {
         matches!(self.sense, Sense::NonInverting)
     }
-}
-
-/// The trigger's state before the first sample.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
-#[serde(rename_all = "snake_case")]
-pub enum InitialState {
-    /// "Input high" if the first sample is at or above VT+, else "input low" (also inside the band).
-    #[default]
-    Auto,
-    /// As if the input had last been below VT−.
-    InputLow,
-    /// As if the input had last been above VT+.
-    InputHigh,
 }
 
 /// Direction of an output edge.

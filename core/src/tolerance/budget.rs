@@ -70,10 +70,9 @@ pub fn error_budget<C: Circuit>(
 }
 
 /// A number with up to four decimals, trailing zeros removed.
+/// A band figure with at most four decimals, trailing zeros dropped.
 fn short(x: f64) -> String {
-    let s = format!("{x:.4}");
-    let s = s.trim_end_matches('0').trim_end_matches('.');
-    s.to_string()
+    crate::notation::format_fixed_trimmed(x, 4)
 }
 
 fn band_text(s: &UncertaintySource) -> String {

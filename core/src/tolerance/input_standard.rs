@@ -12,8 +12,7 @@
 //! VT+ (worst-case maximum) ≤ the ON minimum, so every valid ON level switches it on, and VT−
 //! (worst-case minimum) ≥ the OFF maximum, so every valid OFF level switches it off.
 
-use super::settings::SpecWindow;
-use super::worst_case::WorstCase;
+use super::spec_window::SpecWindow;
 use serde::{Deserialize, Serialize};
 
 /// The standard and edition the limits are taken from (recalled from memory).
@@ -95,11 +94,10 @@ pub struct InputTypeCheck {
     pub conforms: bool,
 }
 
-/// Checks worst-case thresholds against one input type.
-pub fn check_input_type(t: InputType, wc: &WorstCase) -> InputTypeCheck {
+/// Checks worst-case thresholds (the highest VT+ and the lowest VT−, volts, e.g. from
+/// [`super::worst_case::WorstCase`]) against one input type.
+pub fn check_input_type(t: InputType, vt_upper_max_v: f64, vt_lower_min_v: f64) -> InputTypeCheck {
     let l = limits(t);
-    let vt_upper_max_v = wc.vt_upper.max.value_v;
-    let vt_lower_min_v = wc.vt_lower.min.value_v;
     let on_margin_v = l.on_min_v - vt_upper_max_v;
     let off_margin_v = vt_lower_min_v - l.off_max_v;
     InputTypeCheck {
@@ -112,11 +110,11 @@ pub fn check_input_type(t: InputType, wc: &WorstCase) -> InputTypeCheck {
     }
 }
 
-/// Checks worst-case thresholds against Types 1, 2 and 3.
-pub fn check_input_types(wc: &WorstCase) -> Vec<InputTypeCheck> {
+/// Checks worst-case thresholds (highest VT+, lowest VT−, volts) against Types 1, 2 and 3.
+pub fn check_input_types(vt_upper_max_v: f64, vt_lower_min_v: f64) -> Vec<InputTypeCheck> {
     InputType::ALL
         .iter()
-        .map(|&t| check_input_type(t, wc))
+        .map(|&t| check_input_type(t, vt_upper_max_v, vt_lower_min_v))
         .collect()
 }
 
@@ -158,12 +156,13 @@ mod tests {
         };
         let c = design(10.0, 7.0);
         let wc = worst_case(&c, &ToleranceSettings::default()).unwrap();
-        let checks = check_input_types(&wc);
+        let checks = check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v);
         assert!(checks.iter().all(|k| k.conforms), "{checks:?}");
         assert!(checks[1].on_margin_v < checks[0].on_margin_v);
         // A VT+ of 12 V passes Type 1 (ON from 15 V) but fails Types 2 and 3 (ON from 11 V).
         let c = design(12.0, 7.0);
-        let checks = check_input_types(&worst_case(&c, &ToleranceSettings::default()).unwrap());
+        let wc = worst_case(&c, &ToleranceSettings::default()).unwrap();
+        let checks = check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v);
         assert_eq!(
             checks.iter().map(|k| k.conforms).collect::<Vec<_>>(),
             vec![true, false, false]

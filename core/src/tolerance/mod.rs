@@ -35,6 +35,7 @@ pub mod gum;
 pub mod input_standard;
 pub mod monte_carlo;
 pub mod settings;
+pub mod spec_window;
 pub mod worst_case;
 
 pub use budget::{error_budget, ErrorBudget};
@@ -265,7 +266,7 @@ pub fn tolerance_report<C: Circuit>(
         spec.contains(mins) && spec.contains(maxs)
     });
     let input_types = if settings.check_input_types {
-        input_standard::check_input_types(&wc)
+        input_standard::check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v)
     } else {
         Vec::new()
     };
@@ -283,9 +284,9 @@ pub fn tolerance_report<C: Circuit>(
             let gap = short.as_array()[f.index()];
             if gap > 1e-9 * e.max.value_v.abs().max(e.min.value_v.abs()).max(1.0) {
                 notes.push(format!(
-                    "{}: the sensitivity-sign method misses {:.3} mV of the corner range; its dependence on some parameter changes sign inside the bands, so linear estimates understate its spread",
+                    "{}: the sensitivity-sign method misses {} mV of the corner range; its dependence on some parameter changes sign inside the bands, so linear estimates understate its spread",
                     f.name(),
-                    gap * 1e3
+                    crate::notation::format_fixed(gap * 1e3, 3)
                 ));
             }
         }
@@ -321,10 +322,10 @@ pub fn tolerance_report<C: Circuit>(
         let half_interval = 0.5 * (s.interval_95_high_v - s.interval_95_low_v);
         if g.expanded_uncertainty_v > 0.0 && half_interval < 0.9 * g.expanded_uncertainty_v {
             notes.push(format!(
-                "{}: the Monte Carlo 95 % interval (±{:.3} mV) is narrower than the GUM ±U at k = 2 (±{:.3} mV): one rectangular input dominates (JCGM 101:2008), so prefer the Monte Carlo interval",
+                "{}: the Monte Carlo 95 % interval (±{} mV) is narrower than the GUM ±U at k = 2 (±{} mV): one rectangular input dominates (JCGM 101:2008), so prefer the Monte Carlo interval",
                 f.name(),
-                half_interval * 1e3,
-                g.expanded_uncertainty_v * 1e3
+                crate::notation::format_fixed(half_interval * 1e3, 3),
+                crate::notation::format_fixed(g.expanded_uncertainty_v * 1e3, 3)
             ));
         }
     }
