@@ -4,7 +4,7 @@
 //! Conventions follow shared/DOMAIN.md §0: the device switches when V(+) − V(−) = VOS; bias currents
 //! are positive into the pin; built-in hysteresis h acts as a state-dependent offset ±h/2.
 
-use crate::error::{finite, non_negative, DesignError};
+use crate::error::{non_negative, DesignError};
 use serde::{Deserialize, Serialize};
 
 /// Which non-idealities are applied. `true` means the effect is modelled; `false` treats it as ideal
@@ -86,17 +86,20 @@ impl Comparator {
 
     /// Checks every field for finiteness and sign, and the rails and output levels for consistency.
     pub fn validate(&self) -> Result<(), DesignError> {
-        finite("supply_v", self.supply_v)?;
-        finite("negative_rail_v", self.negative_rail_v)?;
-        non_negative("output_high_drop_v", self.output_high_drop_v)?;
-        non_negative("output_low_rise_v", self.output_low_rise_v)?;
-        finite("offset_v", self.offset_v)?;
-        finite("bias_plus_a", self.bias_plus_a)?;
-        finite("bias_minus_a", self.bias_minus_a)?;
-        non_negative("builtin_hysteresis_v", self.builtin_hysteresis_v)?;
-        finite("input_low_margin_v", self.input_low_margin_v)?;
-        finite("input_high_margin_v", self.input_high_margin_v)?;
-        non_negative("source_resistance_ohm", self.source_resistance_ohm)?;
+        use crate::limits::{check, Quantity};
+        check(Quantity::Voltage, "supply_v", self.supply_v)?;
+        check(Quantity::Voltage, "negative_rail_v", self.negative_rail_v)?;
+        non_negative("output_high_drop_v", check(Quantity::Voltage, "output_high_drop_v", self.output_high_drop_v)?)?;
+        non_negative("output_low_rise_v", check(Quantity::Voltage, "output_low_rise_v", self.output_low_rise_v)?)?;
+        check(Quantity::Voltage, "offset_v", self.offset_v)?;
+        check(Quantity::Current, "bias_plus_a", self.bias_plus_a)?;
+        check(Quantity::Current, "bias_minus_a", self.bias_minus_a)?;
+        non_negative("builtin_hysteresis_v", check(Quantity::Voltage, "builtin_hysteresis_v", self.builtin_hysteresis_v)?)?;
+        check(Quantity::Voltage, "input_low_margin_v", self.input_low_margin_v)?;
+        check(Quantity::Voltage, "input_high_margin_v", self.input_high_margin_v)?;
+        if self.source_resistance_ohm != 0.0 {
+            check(Quantity::Resistance, "source_resistance_ohm", self.source_resistance_ohm)?;
+        }
         if self.supply_v <= self.negative_rail_v {
             return Err(DesignError::inconsistent(format!(
                 "supply_v ({} V) must be above negative_rail_v ({} V)",
@@ -193,7 +196,7 @@ impl Rail {
     /// Checks a fixed voltage for finiteness.
     pub fn validate(&self, field: &str) -> Result<(), DesignError> {
         if let Rail::Fixed(v) = self {
-            finite(field, *v)?;
+            crate::limits::check(crate::limits::Quantity::Voltage, field, *v)?;
         }
         Ok(())
     }

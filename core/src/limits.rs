@@ -12,7 +12,8 @@ use crate::notation::{format_with_unit, Unit};
 /// A kind of physical quantity with its own sensible range.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Quantity {
-    /// A resistor or any resistance, ohms: 1 mΩ to 1 TΩ.
+    /// A resistor or any resistance, ohms: 1 µΩ to 1 PΩ (wide enough for a shunt's fraction and a
+    /// leakage path, and for the search's anchor sweeps; every network equation stays finite).
     Resistance,
     /// A voltage (supply, rail, reference, threshold, level, offset, signal), volts: ±100 kV.
     Voltage,
@@ -38,7 +39,7 @@ impl Quantity {
     /// The inclusive range (min, max) in base units.
     pub fn range(self) -> (f64, f64) {
         match self {
-            Quantity::Resistance => (1e-3, 1e12),
+            Quantity::Resistance => (1e-6, 1e15),
             Quantity::Voltage => (-1e5, 1e5),
             Quantity::Current => (-100.0, 100.0),
             Quantity::Capacitance => (1e-15, 1.0),
@@ -116,6 +117,6 @@ mod tests {
     fn message_names_the_field_and_the_range() {
         let e = check(Quantity::Resistance, "r1_ohm", -1.0).unwrap_err().to_string();
         assert!(e.starts_with("r1_ohm: must be between"), "{e}");
-        assert!(e.contains("1 TΩ") || e.contains("1.00 TΩ") || e.contains("TΩ"), "{e}");
+        assert!(e.contains("1 µΩ") && e.contains("got -1 Ω"), "{e}");
     }
 }

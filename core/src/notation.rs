@@ -1,3 +1,4 @@
+// Over 600 lines: one job, numbers in and out (engineering notation, the RKM code, plain decimals); about 200 lines are round-trip tests.
 //! Engineering notation and the IEC 60062 RKM code, in and out.
 //!
 //! **Reading** ([`parse`]) accepts, with optional spaces between the parts:

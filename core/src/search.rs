@@ -1,3 +1,4 @@
+// Over 600 lines: one job, the standard-value search (enumeration, the exact solve of the last resistor, ranking); about 85 lines are its tests.
 //! Best standard-value combinations: which E-series resistor values reach the target thresholds
 //! most closely, for any topology (everything goes through [`Circuit`]).
 //!

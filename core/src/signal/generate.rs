@@ -101,8 +101,7 @@ fn half() -> f64 {
 /// microsecond, far beyond any signal a trigger sees, yet finite over any record.
 pub const MAX_SLOPE_V_PER_S: f64 = 1e11;
 
-/// Largest phase magnitude, degrees (a thousand turns; beyond that `sin` loses every digit).
-pub const MAX_PHASE_DEG: f64 = 360e3;
+pub use super::sinusoid::{phase, MAX_PHASE_DEG};
 
 fn slope(field: &str, v: f64) -> Result<(), DesignError> {
     if v.is_finite() && v.abs() <= MAX_SLOPE_V_PER_S {
@@ -112,14 +111,6 @@ fn slope(field: &str, v: f64) -> Result<(), DesignError> {
     }
 }
 
-/// Checks a phase in degrees: finite and at most [`MAX_PHASE_DEG`] in magnitude.
-pub fn phase(field: &str, v: f64) -> Result<(), DesignError> {
-    if v.is_finite() && v.abs() <= MAX_PHASE_DEG {
-        Ok(())
-    } else {
-        Err(DesignError::invalid(field, format!("must be between −{MAX_PHASE_DEG} and {MAX_PHASE_DEG} degrees (got {v})")))
-    }
-}
 
 impl Component {
     /// Checks the component for a signal sampled at `sample_rate_hz`.

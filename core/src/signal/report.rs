@@ -1,3 +1,4 @@
+// Over 600 lines: one job, the record-level signal and application studies that the page, sheet and CLI report; about 70 lines are tests.
 //! The signal and application studies as stored in the design record and returned by the JSON
 //! entry point: settings ([`SignalSettings`], [`ApplicationSettings`]), the full run with
 //! waveforms for the page ([`run_signal`]), and the summary without waveforms ([`SignalReport`]).

@@ -2,7 +2,20 @@
 //! ([`super::generate`]) and the mains-hum noise source ([`super::noise`]). Below both: it imports
 //! neither.
 
+use crate::error::DesignError;
 use std::f64::consts::PI;
+
+/// Largest phase magnitude, degrees (a thousand turns; beyond that `sin` loses every digit).
+pub const MAX_PHASE_DEG: f64 = 360e3;
+
+/// Checks a phase in degrees: finite and at most [`MAX_PHASE_DEG`] in magnitude.
+pub fn phase(field: &str, v: f64) -> Result<(), DesignError> {
+    if v.is_finite() && v.abs() <= MAX_PHASE_DEG {
+        Ok(())
+    } else {
+        Err(DesignError::invalid(field, format!("must be between −{MAX_PHASE_DEG} and {MAX_PHASE_DEG} degrees (got {v})")))
+    }
+}
 
 /// Samples between exact re-anchoring of recurrences (sine phasors, exponential decays).
 pub const RESYNC: usize = 256;

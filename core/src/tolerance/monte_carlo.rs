@@ -1,3 +1,4 @@
+// Over 600 lines: one job, Monte Carlo (JCGM 101) with its sliced runner, statistics and histograms; about 155 lines are tests.
 //! Monte Carlo propagation of distributions (JCGM 101:2008, from memory): M trials, each drawing every
 //! varied parameter from its distribution (tolerance, plus a rectangular drift input where a part has
 //! a temperature coefficient), evaluating the circuit's thresholds, and summarising the M values of

@@ -570,15 +570,11 @@ topologies! {
 /// and inside the range where every network equation here stays finite in double precision.
 pub const RESISTANCE_RANGE_OHM: (f64, f64) = (1e-6, 1e15);
 
-/// Checks a resistance: finite and within [`RESISTANCE_RANGE_OHM`]. Every topology checks its
-/// resistors here, so a value one topology refuses no other accepts.
+/// Checks a resistance: finite and within [`RESISTANCE_RANGE_OHM`] (the range of
+/// [`crate::limits::Quantity::Resistance`]). Every topology checks its resistors here, so a value
+/// one topology refuses no other accepts.
 pub(crate) fn resistance(field: &str, value_ohm: f64) -> Result<f64, DesignError> {
-    let (lo, hi) = RESISTANCE_RANGE_OHM;
-    if value_ohm.is_finite() && (lo..=hi).contains(&value_ohm) {
-        Ok(value_ohm)
-    } else {
-        Err(DesignError::invalid(field, format!("must be a resistance between 1 µΩ and 1 PΩ (got {value_ohm})")))
-    }
+    crate::limits::check(crate::limits::Quantity::Resistance, field, value_ohm)
 }
 
 /// Helper for `with_parameters`: checks the length of a parameter vector.
