@@ -8,6 +8,7 @@ pub mod browser;
 pub mod server;
 pub mod designs;
 pub mod mutate;
+pub mod sampling;
 
 /// Number of cases for a property test: `base` in CI and ordinary runs, `base` times the whole number
 /// in `HYSTERON_PROPTEST_SCALE` when exploring (`cargo xtask explore` sets it, with a fresh seed).
