@@ -9,6 +9,16 @@ pub fn parse_value(text: &str) -> Result<f64, String> {
     hysteron_core::notation::parse_value(text).map_err(|e| e.to_string())
 }
 
+/// Parses a field's text and checks the value against the physical range of the quantity its unit
+/// names (`core::limits`), so a supply of 1e300 V or a negative resistor is refused at the field.
+pub fn parse_in_range(text: &str, unit: &str) -> Result<f64, String> {
+    let v = parse_value(text)?;
+    match hysteron_core::limits::for_unit_symbol(unit).and_then(|q| hysteron_core::limits::refusal(q, v)) {
+        None => Ok(v),
+        Some(reason) => Err(reason),
+    }
+}
+
 /// Formats a value for a field, in engineering notation (4 significant digits, no unit: the unit
 /// stands beside the field).
 pub fn format_value(value: f64, _unit: &str) -> String {
@@ -62,7 +72,7 @@ pub fn QuantityField(
                     on:input=move |ev| {
                         let t = event_target_value(&ev);
                         text.set(t.clone());
-                        match parse_value(&t) {
+                        match parse_in_range(&t, unit) {
                             Ok(v) => {
                                 error.set(None);
                                 on_value.run(v);
@@ -126,7 +136,7 @@ pub fn OptionalQuantityField(
                             error.set(None);
                             on_value.run(None);
                         } else {
-                            match parse_value(&t) {
+                            match parse_in_range(&t, unit) {
                                 Ok(v) => { error.set(None); on_value.run(Some(v)); }
                                 Err(e) => error.set(Some(e)),
                             }

@@ -125,3 +125,16 @@ fn timed_runs() {
         "wasm timing: Monte Carlo 100k {mc_ms:.1} ms; E96 search {search_ms:.1} ms; thresholds {analysis_us:.2} µs; 1M-sample pass {pass_ms:.1} ms"
     );
 }
+
+#[wasm_bindgen_test]
+fn fields_refuse_values_outside_their_physical_range() {
+    // Issue 13 reproducers: a supply of 1e300 V and a negative resistor are refused at the field,
+    // with the range in words; ordinary values in engineering notation and RKM code pass.
+    use hysteron_app::fields::parse_in_range;
+    assert!(parse_in_range("1e300", "V").unwrap_err().starts_with("must be between"));
+    assert!(parse_in_range("-1k", "Ω").is_err());
+    assert_eq!(parse_in_range("4k7", "Ω"), Ok(4700.0));
+    assert_eq!(parse_in_range("12", "V"), Ok(12.0));
+    // A unit without a range of its own (a dimensionless gain) is not range-checked here.
+    assert_eq!(parse_in_range("1e9", ""), Ok(1e9));
+}

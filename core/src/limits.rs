@@ -81,17 +81,40 @@ impl Quantity {
     }
 }
 
-/// Checks one value: finite and inside its quantity's range. The error names `field` and the range.
-pub fn check(quantity: Quantity, field: &str, value: f64) -> Result<f64, DesignError> {
+/// Why `value` is not admitted, in words for the place where it was typed ("must be between 1 µΩ
+/// and …"), or `None` when it is admitted.
+pub fn refusal(quantity: Quantity, value: f64) -> Option<String> {
     if quantity.admits(value) {
-        return Ok(value);
+        return None;
     }
     let (lo, hi) = quantity.range();
     let got = if value.is_finite() { quantity.write(value) } else { "not a number".to_string() };
-    Err(DesignError::invalid(
-        field,
-        format!("must be between {} and {} (got {got})", quantity.write(lo), quantity.write(hi)),
-    ))
+    Some(format!("must be between {} and {} (got {got})", quantity.write(lo), quantity.write(hi)))
+}
+
+/// Checks one value: finite and inside its quantity's range. The error names `field` and the range.
+pub fn check(quantity: Quantity, field: &str, value: f64) -> Result<f64, DesignError> {
+    match refusal(quantity, value) {
+        None => Ok(value),
+        Some(reason) => Err(DesignError::invalid(field, reason)),
+    }
+}
+
+/// The quantity a page field holds, from the unit symbol written beside it (`Ω`, `V`, `A`, `F`,
+/// `Hz`, `s`, `K`, `%`); `None` for symbols with no range of their own (dimensionless, `°C`,
+/// `ppm/K`), which their study checks instead.
+pub fn for_unit_symbol(symbol: &str) -> Option<Quantity> {
+    match symbol {
+        "Ω" => Some(Quantity::Resistance),
+        "V" => Some(Quantity::Voltage),
+        "A" => Some(Quantity::Current),
+        "F" => Some(Quantity::Capacitance),
+        "Hz" => Some(Quantity::Frequency),
+        "s" => Some(Quantity::Duration),
+        "K" => Some(Quantity::Temperature),
+        "%" => Some(Quantity::Percent),
+        _ => None,
+    }
 }
 
 /// Checks an optional value (a part that may be left out).
@@ -111,6 +134,15 @@ mod tests {
         assert!(check(Quantity::Current, "bias_plus_a", 1e308).is_err());
         assert_eq!(check(Quantity::Resistance, "r1_ohm", 4.7e3), Ok(4.7e3));
         assert_eq!(check(Quantity::Voltage, "negative_rail_v", -12.0), Ok(-12.0));
+    }
+
+    #[test]
+    fn page_fields_find_their_quantity_by_unit_symbol() {
+        assert_eq!(for_unit_symbol("V"), Some(Quantity::Voltage));
+        assert_eq!(for_unit_symbol("Ω"), Some(Quantity::Resistance));
+        assert_eq!(for_unit_symbol("°C"), None);
+        assert!(refusal(Quantity::Voltage, 1e300).unwrap().starts_with("must be between"));
+        assert_eq!(refusal(Quantity::Voltage, 5.0), None);
     }
 
     #[test]
