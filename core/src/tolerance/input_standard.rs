@@ -21,7 +21,7 @@
 use super::spec_window::SpecWindow;
 use crate::analysis::OutputState;
 use crate::error::DesignError;
-use crate::notation::format_fixed;
+use crate::notation::format_fixed_trimmed;
 use crate::topology::Circuit;
 use serde::{Deserialize, Serialize};
 
@@ -144,11 +144,11 @@ pub struct InputCurrentCheck {
 }
 
 fn ma(i_a: f64) -> String {
-    format!("{} mA", format_fixed(i_a * 1e3, 2))
+    format!("{} mA", format_fixed_trimmed(i_a * 1e3, 2))
 }
 
 fn v(x_v: f64) -> String {
-    format!("{} V", format_fixed(x_v, 2))
+    format!("{} V", format_fixed_trimmed(x_v, 2))
 }
 
 fn voltage_failures(k: &InputTypeCheck) -> Vec<String> {
@@ -338,5 +338,110 @@ mod tests {
             checks.iter().map(|k| k.conforms).collect::<Vec<_>>(),
             vec![true, false, false]
         );
+    }
+    /// The greenhouse demo's circuit (a supply monitor with a resistive input divider) with every
+    /// resistor scaled so the input current at `vin_v` (the lower or higher of the two output
+    /// states) is `target_a`. Scaling every resistor leaves every node voltage unchanged, so
+    /// every current scales by its inverse.
+    fn input_drawing(target_a: f64, vin_v: f64, lower: bool) -> crate::topology::Topology {
+        let c = crate::catalog::demos()
+            .into_iter()
+            .find(|s| s.key == "greenhouse-valve")
+            .unwrap()
+            .record()
+            .circuit;
+        let (lo, hi) = current_range(&c, vin_v).unwrap();
+        let k = if lower { lo } else { hi } / target_a;
+        let values: Vec<f64> = c
+            .parameters()
+            .iter()
+            .map(|p| match p.kind {
+                crate::topology::ParameterKind::Resistor => p.value * k,
+                _ => p.value,
+            })
+            .collect();
+        c.with_parameters(&values).unwrap()
+    }
+
+    fn failures(c: &crate::topology::Topology, t: InputType, vt_lower_min_v: f64) -> Vec<String> {
+        // VT+ 10 V and the given VT− pass every type's voltage limits when VT− ≥ 5 V.
+        check_input_type_with_current(c, t, 10.0, vt_lower_min_v).unwrap().failures
+    }
+
+    #[test]
+    fn on_current_minimum_per_type() {
+        // IEC 61131-2, from memory, check the edition (DOMAIN §8): ON current at least 2 mA from
+        // 15 V (Type 1), 6 mA from 11 V (Type 2), 2 mA from 11 V (Type 3).
+        for (t, on_min_v, limit_ma) in [
+            (InputType::Type1, 15.0, 2.0),
+            (InputType::Type2, 11.0, 6.0),
+            (InputType::Type3, 11.0, 2.0),
+        ] {
+            let low = input_drawing(0.95 * limit_ma * 1e-3, on_min_v, true);
+            let f = failures(&low, t, 9.0);
+            let want = format!("at {on_min_v} V: {} needs at least {limit_ma} mA when ON", t.name());
+            assert!(f.iter().any(|s| s.contains(&want)), "{t:?}: {f:?}");
+            let ok = input_drawing(1.05 * limit_ma * 1e-3, on_min_v, true);
+            let f = failures(&ok, t, 9.0);
+            assert!(!f.iter().any(|s| s.contains("when ON")), "{t:?}: {f:?}");
+        }
+    }
+
+    #[test]
+    fn on_current_maximum_per_type() {
+        // IEC 61131-2, from memory, check the edition (DOMAIN §8): ON current at most 15 mA
+        // (Types 1 and 3) or 30 mA (Type 2), up to 30 V.
+        for (t, limit_ma) in [(InputType::Type1, 15.0), (InputType::Type2, 30.0), (InputType::Type3, 15.0)] {
+            let high = input_drawing(1.05 * limit_ma * 1e-3, 30.0, false);
+            let f = failures(&high, t, 9.0);
+            let want = format!("at 30 V: {} allows at most {limit_ma} mA when ON", t.name());
+            assert!(f.iter().any(|s| s.contains(&want)), "{t:?}: {f:?}");
+            let ok = input_drawing(0.95 * limit_ma * 1e-3, 30.0, false);
+            let f = failures(&ok, t, 9.0);
+            assert!(!f.iter().any(|s| s.contains("allows at most")), "{t:?}: {f:?}");
+        }
+    }
+
+    #[test]
+    fn low_current_off_region_per_type() {
+        // IEC 61131-2, from memory, check the edition (DOMAIN §8): OFF up to 15 V at ≤ 0.5 mA
+        // (Type 1), up to 11 V at ≤ 2 mA (Type 2), up to 11 V at ≤ 1.5 mA (Type 3). A worst-case
+        // VT− of 9 V inside that region must come with more current than the limit.
+        let vt_lower_v = 9.0;
+        for (t, limit_ma) in [(InputType::Type1, 0.5), (InputType::Type2, 2.0), (InputType::Type3, 1.5)] {
+            let starved = input_drawing(0.9 * limit_ma * 1e-3, vt_lower_v, true);
+            let f = failures(&starved, t, vt_lower_v);
+            assert!(f.iter().any(|s| s.contains("may stay ON")), "{t:?}: {f:?}");
+            let ok = input_drawing(1.1 * limit_ma * 1e-3, vt_lower_v, true);
+            let f = failures(&ok, t, vt_lower_v);
+            assert!(!f.iter().any(|s| s.contains("may stay ON")), "{t:?}: {f:?}");
+        }
+        // Above the low-current OFF region (Type 2 and 3 end at 11 V) the current does not matter.
+        let starved = input_drawing(0.1e-3, 12.0, true);
+        let k = check_input_type_with_current(&starved, InputType::Type2, 10.0, 12.0).unwrap();
+        assert_eq!(k.current.unwrap().at_vt_lower_min_a, None);
+    }
+
+    #[test]
+    fn greenhouse_demo_conforms_or_names_the_failing_limit() {
+        let s = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap();
+        let c = s.record().circuit;
+        let mut settings = ToleranceSettings::default();
+        settings.check_input_types = true;
+        let r = crate::tolerance::tolerance_report(&c, &settings).unwrap();
+        assert_eq!(r.input_types.len(), 3);
+        for k in &r.input_types {
+            assert!(k.current.is_some());
+            assert_eq!(k.conforms, k.failures.is_empty(), "{k:?}");
+        }
+        // Type 1 (IEC 61131-2, from memory, check the edition): at least 2 mA at 15 V when ON.
+        let t1 = &r.input_types[0];
+        let (i15_a, _) = current_range(&c, 15.0).unwrap();
+        let named = t1.failures.iter().any(|s| {
+            s.contains(&format!("draws {} at 15 V: Type 1 needs at least 2 mA when ON", ma(i15_a)))
+        });
+        assert_eq!(i15_a < 2e-3, named, "{:?}", t1.failures);
+        let voltage_ok = t1.on_margin_v >= 0.0 && t1.off_margin_v >= 0.0;
+        assert_eq!(voltage_ok, !t1.failures.iter().any(|s| s.contains("worst-case VT")));
     }
 }
