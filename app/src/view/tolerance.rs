@@ -6,7 +6,7 @@ use super::state::Notebook;
 use crate::fields::{OptionalQuantityField, QuantityField};
 use crate::plot;
 use crate::tick::later;
-use hysteron_core::tolerance::input_standard::{check_input_types, InputType};
+use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
 use hysteron_core::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
 use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
 use hysteron_core::topology::Topology;
@@ -97,7 +97,8 @@ pub fn ToleranceSection() -> impl IntoView {
             let wc = worst_case(&r.circuit, &s).map_err(|e| e.to_string())?;
             let g = gum(&r.circuit, &s).map_err(|e| e.to_string())?;
             let b = error_budget(&r.circuit, &s).map_err(|e| e.to_string())?;
-            let types = check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v);
+            let types = check_input_types_with_current(&r.circuit, wc.vt_upper.max.value_v, wc.vt_lower.min.value_v)
+                .map_err(|e| e.to_string())?;
             Ok::<_, String>((wc, g, b, types))
         })
         .unwrap_or_else(|| Err("no design open".into()))
@@ -276,7 +277,7 @@ pub fn ToleranceSection() -> impl IntoView {
                                 {types.into_iter().map(|t| view! {
                                     <li class:warning=!t.conforms>{format!("{:?}: worst-case VT+ max {:.2} V vs ON from {:.1} V, VT− min {:.2} V vs OFF up to {:.1} V — {}",
                                         t.limits.input_type, t.vt_upper_max_v, t.limits.on_min_v, t.vt_lower_min_v, t.limits.off_max_v,
-                                        if t.conforms { "conforms" } else { "does not conform" })}</li>
+                                        if t.conforms { "conforms".to_string() } else { format!("does not conform: {}", t.failures.join("; ")) })}</li>
                                 }).collect_view()}
                                 <li class="note">{hysteron_core::tolerance::input_standard::STANDARD}</li>
                             </ul>

@@ -40,7 +40,7 @@ pub mod worst_case;
 
 pub use budget::{error_budget, ErrorBudget};
 pub use gum::{gum, GumReport};
-pub use input_standard::{InputType, InputTypeCheck};
+pub use input_standard::{InputCurrentCheck, InputType, InputTypeCheck};
 pub use monte_carlo::{
     monte_carlo, monte_carlo_fingerprint, MonteCarloPartial, MonteCarloResult, MonteCarloRun,
 };
@@ -241,7 +241,7 @@ pub struct ToleranceReport {
     pub spec: SpecWindow,
     /// Whether every worst-case extreme lies inside the spec window (`None` without a window).
     pub worst_case_inside_spec: Option<bool>,
-    /// IEC 61131-2 conformity per input type, when asked for.
+    /// IEC 61131-2 conformity per input type (voltage and input current), when asked for.
     pub input_types: Vec<InputTypeCheck>,
     /// Plain remarks on how to read the results.
     pub notes: Vec<String>,
@@ -266,7 +266,11 @@ pub fn tolerance_report<C: Circuit>(
         spec.contains(mins) && spec.contains(maxs)
     });
     let input_types = if settings.check_input_types {
-        input_standard::check_input_types(wc.vt_upper.max.value_v, wc.vt_lower.min.value_v)
+        input_standard::check_input_types_with_current(
+            circuit,
+            wc.vt_upper.max.value_v,
+            wc.vt_lower.min.value_v,
+        )?
     } else {
         Vec::new()
     };
