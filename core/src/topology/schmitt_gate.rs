@@ -4,8 +4,12 @@
 //!
 //! The gate's own thresholds VT+gate and VT−gate come from its datasheet (min/typ/max at the chosen
 //! supply). Nominal analysis uses the typical values; the limits ride on the parameters so tolerance
-//! analysis can use them. Datasheet limits of VT+ and VT− are correlated, so pairing independent
-//! extremes is conservative (DOMAIN §1e).
+//! analysis can use them. Datasheet limits of VT+ and VT− are correlated and usually overlap
+//! (VT+ min below VT− max), so pairing their extremes independently builds devices with no
+//! hysteresis or a negative one. Tolerance studies therefore vary VT+ within its limits and the
+//! hysteresis ΔVT = VT+ − VT− within limits derived by [`SchmittInput::hysteresis_limits_v`];
+//! VT− follows and stays within its own datasheet limits, so every corner and every Monte Carlo
+//! draw is a real device with VT+ − VT− > 0.
 //!
 //! Input network, so that the band can be moved and widened: series Ra from the signal to the gate
 //! input X, optional Rb from X to ground, optional Rc from X to VDD. KCL at X (the gate input draws no
@@ -98,6 +102,34 @@ impl SchmittInput {
     /// The gate's typical hysteresis VT+ − VT−, volts.
     pub fn typ_hysteresis_v(&self) -> f64 {
         self.vt_upper.typ_v - self.vt_lower.typ_v
+    }
+
+    /// Limits [ΔVT min, ΔVT max] of the gate's hysteresis ΔVT = VT+ − VT−, volts, derived from the
+    /// VT± datasheet rows (records carry no separate ΔVT row):
+    /// **ΔVT min = max(ΔVT typ / 2, VT+min − VT−max)** and **ΔVT max = VT+max − VT−min**.
+    /// The upper limit is the widest pairing the two rows allow. The lower limit is the guaranteed
+    /// pairing when the rows do not overlap; when they overlap (the usual case) that pairing is not
+    /// positive, and half the typical hysteresis is used instead — common practice when a
+    /// datasheet gives no minimum hysteresis figure (enter the datasheet's own ΔVT min by narrowing
+    /// the rows if it gives one). Both limits are positive whenever the record validates.
+    pub fn hysteresis_limits_v(&self) -> (f64, f64) {
+        let typ = self.typ_hysteresis_v();
+        let lo = (0.5 * typ).max(self.vt_upper.min_v - self.vt_lower.max_v).min(typ);
+        let hi = (self.vt_upper.max_v - self.vt_lower.min_v).max(typ);
+        (lo, hi)
+    }
+
+    /// VT− of a device with the given VT+ and hysteresis ΔVT, volts: VT+ − ΔVT kept within the VT−
+    /// datasheet limits and at least ΔVT min below VT+, so the device stays physical
+    /// (VT+ − VT− ≥ ΔVT min > 0). The typical pair returns the typical VT− exactly.
+    fn lower_for(&self, vt_upper_v: f64, hysteresis_v: f64) -> f64 {
+        if vt_upper_v == self.vt_upper.typ_v && hysteresis_v == self.typ_hysteresis_v() {
+            return self.vt_lower.typ_v;
+        }
+        let (dvt_min, _) = self.hysteresis_limits_v();
+        let lower = (vt_upper_v - hysteresis_v).max(self.vt_lower.min_v).min(self.vt_lower.max_v);
+        // ΔVT min ≤ VT+min − VT−min keeps this within the VT− limits; otherwise the hysteresis wins.
+        lower.min(vt_upper_v - dvt_min)
     }
 
     /// Checks every field and the order 0 < VT−typ < VT+typ < VDD, VOL < VOH.
@@ -285,9 +317,10 @@ impl Circuit for SchmittGate {
             Parameter::quantity("gate_vt_upper_v", "gate VT+ (typical)", g.vt_upper.typ_v, ParameterKind::DeviceThreshold)
                 .with_limits(g.vt_upper.min_v, g.vt_upper.max_v),
         );
+        let (dvt_min, dvt_max) = g.hysteresis_limits_v();
         v.push(
-            Parameter::quantity("gate_vt_lower_v", "gate VT− (typical)", g.vt_lower.typ_v, ParameterKind::DeviceThreshold)
-                .with_limits(g.vt_lower.min_v, g.vt_lower.max_v),
+            Parameter::quantity("gate_hysteresis_v", "gate hysteresis ΔVT = VT+ − VT− (typical)", g.typ_hysteresis_v(), ParameterKind::DeviceThreshold)
+                .with_limits(dvt_min, dvt_max),
         );
         v.push(Parameter::quantity("output_high_drop_v", "VDD − VOH", g.output_high_drop_v, ParameterKind::OutputLevel));
         v.push(Parameter::quantity("output_low_v", "VOL", g.output_low_v, ParameterKind::OutputLevel));
@@ -310,8 +343,15 @@ impl Circuit for SchmittGate {
             c.rc_ohm = Some(next());
         }
         c.gate.supply_v = next();
-        c.gate.vt_upper.typ_v = next();
-        c.gate.vt_lower.typ_v = next();
+        let vt_upper = next();
+        let hysteresis = next();
+        c.gate.vt_upper.typ_v = vt_upper;
+        c.gate.vt_lower.typ_v = self.gate.lower_for(vt_upper, hysteresis);
+        // A Normal draw in the tail past a VT+ limit, or a ΔVT min that pushes VT− under its row,
+        // is still a real device: widen the rows of the copy rather than reject the trial.
+        c.gate.vt_upper.min_v = c.gate.vt_upper.min_v.min(vt_upper);
+        c.gate.vt_upper.max_v = c.gate.vt_upper.max_v.max(vt_upper);
+        c.gate.vt_lower.min_v = c.gate.vt_lower.min_v.min(c.gate.vt_lower.typ_v);
         c.gate.output_high_drop_v = next();
         c.gate.output_low_v = next();
         Ok(c)
@@ -559,7 +599,9 @@ mod tests {
         let p = c.parameters();
         assert_eq!(p.iter().filter_map(|p| p.designator.clone()).collect::<Vec<_>>(), ["R1", "R2"]);
         assert_eq!(p.iter().find(|p| p.id == "gate_vt_upper_v").unwrap().limits, Some([2.0, 3.5]));
-        assert_eq!(p.iter().find(|p| p.id == "gate_vt_lower_v").unwrap().limits, Some([1.0, 2.4]));
+        // ΔVT limits: max(1.1/2, 2.0 − 2.4) = 0.55 and 3.5 − 1.0 = 2.5 (rule of `hysteresis_limits_v`).
+        let dvt = p.iter().find(|p| p.id == "gate_hysteresis_v").unwrap().limits.unwrap();
+        assert!((dvt[0] - 0.55).abs() < 1e-12 && (dvt[1] - 2.5).abs() < 1e-12, "{dvt:?}");
         let values: Vec<f64> = p.iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&values).unwrap(), c);
         assert!(c.with_parameters(&values[..3]).is_err());
