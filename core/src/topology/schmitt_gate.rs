@@ -608,6 +608,48 @@ mod tests {
     }
 
     #[test]
+    fn overlapping_datasheet_limits_give_physical_worst_case_corners() {
+        // 74HC14-class row at VDD = 4.5 V (datasheet-class values, from memory): VT+ 1.6…2.3…3.15 V,
+        // VT− 0.9…1.4…2.1 V, so VT+ min (1.6) lies below VT− max (2.1): the rows overlap.
+        let g = SchmittInput {
+            supply_v: 4.5,
+            vt_upper: DatasheetRange { min_v: 1.6, typ_v: 2.3, max_v: 3.15 },
+            vt_lower: DatasheetRange { min_v: 0.9, typ_v: 1.4, max_v: 2.1 },
+            ..SchmittInput::default()
+        };
+        // ΔVT limits by the rule: max(0.9/2, 1.6 − 2.1) = 0.45 V and 3.15 − 0.9 = 2.25 V.
+        let (lo, hi) = g.hysteresis_limits_v();
+        assert!((lo - 0.45).abs() < 1e-12 && (hi - 2.25).abs() < 1e-12, "{lo} {hi}");
+        let c = SchmittGate { ra_ohm: Some(100e3), rb_ohm: Some(47e3), ..SchmittGate::bare(g) };
+        // Every corner of VT+ and ΔVT (other parameters at nominal) is a valid, physical device.
+        let p = c.parameters();
+        let base: Vec<f64> = p.iter().map(|p| p.value).collect();
+        let iu = p.iter().position(|p| p.id == "gate_vt_upper_v").unwrap();
+        let ih = p.iter().position(|p| p.id == "gate_hysteresis_v").unwrap();
+        for vt_up in [1.6, 2.3, 3.15] {
+            for dvt in [lo, 0.9, hi] {
+                let mut v = base.clone();
+                v[iu] = vt_up;
+                v[ih] = dvt;
+                let d = c.with_parameters(&v).unwrap();
+                d.validate().unwrap_or_else(|e| panic!("VT+ {vt_up} ΔVT {dvt}: {e}"));
+                let gd = d.gate;
+                assert!(gd.vt_upper.typ_v - gd.vt_lower.typ_v >= lo - 1e-12, "{gd:?}");
+                assert!((0.9..=2.1).contains(&gd.vt_lower.typ_v), "VT− leaves its row: {gd:?}");
+            }
+        }
+        // The whole study runs and its worst-case band is finite with positive hysteresis.
+        let rep = crate::tolerance::tolerance_report(&c, &Default::default()).unwrap();
+        let wc = &rep.worst_case;
+        assert!(wc.hysteresis.min.value_v > 0.0 && wc.hysteresis.max.value_v.is_finite(), "{:?}", wc.hysteresis);
+        // Input-referred: the divider scale a = 1 + 100/47; VT+ spans a·[1.6, 3.15].
+        let a = 1.0 + 100.0 / 47.0;
+        assert!(wc.vt_upper.min.value_v <= a * 1.6 + 1e-6 && wc.vt_upper.max.value_v >= a * 3.15 - 1e-6, "{:?}", wc.vt_upper);
+        assert!(wc.vt_lower.min.value_v >= a * 0.9 - 1e-6 && wc.vt_lower.max.value_v <= a * 2.1 + 1e-6, "{:?}", wc.vt_lower);
+        assert_eq!(rep.monte_carlo.rejected_trials, 0);
+    }
+
+    #[test]
     fn clamp_check_gives_numbers() {
         // 24 V signal into a 5 V gate through Ra = 100k, Rb = 22k: X reaches 24·22/122 = 4.33 V — fine.
         let ok = SchmittGate { ra_ohm: Some(100e3), rb_ohm: Some(22e3), ..SchmittGate::bare(gate()) };
