@@ -638,14 +638,16 @@ mod tests {
                 assert!((0.9..=2.1).contains(&gd.vt_lower.typ_v), "VT− leaves its row: {gd:?}");
             }
         }
-        // The whole study runs and its worst-case band is finite with positive hysteresis.
+        // The whole study runs, with the divider and for the bare gate; the bare gate's worst-case
+        // band is exactly the datasheet rows, with the hysteresis at least ΔVT min.
         let rep = crate::tolerance::tolerance_report(&c, &Default::default()).unwrap();
+        assert!(rep.worst_case.hysteresis.min.value_v > 0.0, "{:?}", rep.worst_case.hysteresis);
+        assert_eq!(rep.monte_carlo.rejected_trials, 0);
+        let rep = crate::tolerance::tolerance_report(&SchmittGate::bare(g), &Default::default()).unwrap();
         let wc = &rep.worst_case;
-        assert!(wc.hysteresis.min.value_v > 0.0 && wc.hysteresis.max.value_v.is_finite(), "{:?}", wc.hysteresis);
-        // Input-referred: the divider scale a = 1 + 100/47; VT+ spans a·[1.6, 3.15].
-        let a = 1.0 + 100.0 / 47.0;
-        assert!(wc.vt_upper.min.value_v <= a * 1.6 + 1e-6 && wc.vt_upper.max.value_v >= a * 3.15 - 1e-6, "{:?}", wc.vt_upper);
-        assert!(wc.vt_lower.min.value_v >= a * 0.9 - 1e-6 && wc.vt_lower.max.value_v <= a * 2.1 + 1e-6, "{:?}", wc.vt_lower);
+        assert!((wc.hysteresis.min.value_v - lo).abs() < 1e-9 && wc.hysteresis.max.value_v <= hi + 1e-9, "{:?}", wc.hysteresis);
+        assert!((wc.vt_upper.min.value_v - 1.6).abs() < 1e-9 && (wc.vt_upper.max.value_v - 3.15).abs() < 1e-9, "{:?}", wc.vt_upper);
+        assert!(wc.vt_lower.min.value_v >= 0.9 - 1e-9 && wc.vt_lower.max.value_v <= 2.1 + 1e-9, "{:?}", wc.vt_lower);
         assert_eq!(rep.monte_carlo.rejected_trials, 0);
     }
 
