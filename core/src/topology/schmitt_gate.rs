@@ -447,16 +447,19 @@ impl Circuit for SchmittGate {
         let (a, b) = self.scale_and_offset();
         if g.vt_upper.max_v > g.vt_upper.min_v || g.vt_lower.max_v > g.vt_lower.min_v {
             let min_width = a * (g.vt_upper.min_v - g.vt_lower.max_v);
+            let (dvt_min, dvt_max) = g.hysteresis_limits_v();
             w.push(Warning::new(
                 WarningCode::GateThresholdSpread,
                 format!(
-                    "over the datasheet limits VT+ lies between {:.3} V and {:.3} V and VT− between {:.3} V and {:.3} V (gate limits × {a:.3}{}); pairing the extremes independently leaves a guaranteed width of {min_width:.3} V{}",
+                    "over the datasheet limits VT+ lies between {:.3} V and {:.3} V and VT− between {:.3} V and {:.3} V (gate limits × {a:.3}{}); pairing the extremes independently leaves a guaranteed width of {min_width:.3} V{}; tolerance studies vary VT+ and the hysteresis ΔVT between {:.3} V and {:.3} V (gate ΔVT limits × {a:.3}) so every corner is a real device",
                     a * g.vt_upper.min_v + b,
                     a * g.vt_upper.max_v + b,
                     a * g.vt_lower.min_v + b,
                     a * g.vt_lower.max_v + b,
                     if b != 0.0 { format!(", then {b:+.3} V") } else { String::new() },
-                    if min_width <= 0.0 { " (none guaranteed: check the datasheet's minimum hysteresis figure)" } else { "" }
+                    if min_width <= 0.0 { " (none guaranteed: check the datasheet's minimum hysteresis figure)" } else { "" },
+                    a * dvt_min,
+                    a * dvt_max
                 ),
             ));
         }
