@@ -147,7 +147,10 @@ impl CmosGate {
                 format!("the switching point ({vm:.4} V) must lie between 0 V and VDD ({vdd:.4} V)"),
             ));
         }
-        if !(0.0 <= vil && vil <= vm && vm <= vih && vih <= vdd) {
+        // A tolerance corner puts VM exactly on VIL or VIH; stored as a fraction of VDD it can land
+        // a rounding step outside, so the order allows a few parts in 10¹² of VDD.
+        let eps = 1e-12 * vdd.abs();
+        if !(0.0 <= vil && vil <= vm + eps && vm <= vih + eps && vih <= vdd) {
             return Err(DesignError::inconsistent(format!(
                 "the gate levels must satisfy 0 ≤ VIL ≤ VM ≤ VIH ≤ VDD (got VIL {vil:.4} V, VM {vm:.4} V, VIH {vih:.4} V, VDD {vdd:.4} V): correct the datasheet levels"
             )));
@@ -313,7 +316,10 @@ impl Circuit for CmosBufferSchmitt {
             c.r3_ohm = Some(next());
         }
         c.gate.supply_v = next();
-        let vm = next();
+        // The datasheet guarantees VM within [VIL, VIH] at the supply in use: when the supply moves
+        // those levels (given as fractions of VDD), a VM drawn against the nominal levels is kept inside.
+        let (vil, vih) = (c.gate.input_low_max_v(), c.gate.input_high_min_v());
+        let vm = if vil <= vih { next().max(vil).min(vih) } else { next() };
         c.gate.switching_point = self.gate.switching_point.with_volts(vm, c.gate.supply_v);
         c.gate.output_high_drop_v = next();
         c.gate.output_low_v = next();

@@ -4,8 +4,12 @@
 //!
 //! The gate's own thresholds VT+gate and VT−gate come from its datasheet (min/typ/max at the chosen
 //! supply). Nominal analysis uses the typical values; the limits ride on the parameters so tolerance
-//! analysis can use them. Datasheet limits of VT+ and VT− are correlated, so pairing independent
-//! extremes is conservative (DOMAIN §1e).
+//! analysis can use them. Datasheet limits of VT+ and VT− are correlated and usually overlap
+//! (VT+ min below VT− max), so pairing their extremes independently builds devices with no
+//! hysteresis or a negative one. Tolerance studies therefore vary VT+ within its limits and the
+//! hysteresis ΔVT = VT+ − VT− within limits derived by [`SchmittInput::hysteresis_limits_v`];
+//! VT− follows and stays within its own datasheet limits, so every corner and every Monte Carlo
+//! draw is a real device with VT+ − VT− > 0.
 //!
 //! Input network, so that the band can be moved and widened: series Ra from the signal to the gate
 //! input X, optional Rb from X to ground, optional Rc from X to VDD. KCL at X (the gate input draws no
@@ -98,6 +102,34 @@ impl SchmittInput {
     /// The gate's typical hysteresis VT+ − VT−, volts.
     pub fn typ_hysteresis_v(&self) -> f64 {
         self.vt_upper.typ_v - self.vt_lower.typ_v
+    }
+
+    /// Limits [ΔVT min, ΔVT max] of the gate's hysteresis ΔVT = VT+ − VT−, volts, derived from the
+    /// VT± datasheet rows (records carry no separate ΔVT row):
+    /// **ΔVT min = max(ΔVT typ / 2, VT+min − VT−max)** and **ΔVT max = VT+max − VT−min**.
+    /// The upper limit is the widest pairing the two rows allow. The lower limit is the guaranteed
+    /// pairing when the rows do not overlap; when they overlap (the usual case) that pairing is not
+    /// positive, and half the typical hysteresis is used instead — common practice when a
+    /// datasheet gives no minimum hysteresis figure (enter the datasheet's own ΔVT min by narrowing
+    /// the rows if it gives one). Both limits are positive whenever the record validates.
+    pub fn hysteresis_limits_v(&self) -> (f64, f64) {
+        let typ = self.typ_hysteresis_v();
+        let lo = (0.5 * typ).max(self.vt_upper.min_v - self.vt_lower.max_v).min(typ);
+        let hi = (self.vt_upper.max_v - self.vt_lower.min_v).max(typ);
+        (lo, hi)
+    }
+
+    /// VT− of a device with the given VT+ and hysteresis ΔVT, volts: VT+ − ΔVT kept within the VT−
+    /// datasheet limits and at least ΔVT min below VT+, so the device stays physical
+    /// (VT+ − VT− ≥ ΔVT min > 0). The typical pair returns the typical VT− exactly.
+    fn lower_for(&self, vt_upper_v: f64, hysteresis_v: f64) -> f64 {
+        if vt_upper_v == self.vt_upper.typ_v && hysteresis_v == self.typ_hysteresis_v() {
+            return self.vt_lower.typ_v;
+        }
+        let (dvt_min, _) = self.hysteresis_limits_v();
+        let lower = (vt_upper_v - hysteresis_v).max(self.vt_lower.min_v).min(self.vt_lower.max_v);
+        // ΔVT min ≤ VT+min − VT−min keeps this within the VT− limits; otherwise the hysteresis wins.
+        lower.min(vt_upper_v - dvt_min)
     }
 
     /// Checks every field and the order 0 < VT−typ < VT+typ < VDD, VOL < VOH.
@@ -285,9 +317,10 @@ impl Circuit for SchmittGate {
             Parameter::quantity("gate_vt_upper_v", "gate VT+ (typical)", g.vt_upper.typ_v, ParameterKind::DeviceThreshold)
                 .with_limits(g.vt_upper.min_v, g.vt_upper.max_v),
         );
+        let (dvt_min, dvt_max) = g.hysteresis_limits_v();
         v.push(
-            Parameter::quantity("gate_vt_lower_v", "gate VT− (typical)", g.vt_lower.typ_v, ParameterKind::DeviceThreshold)
-                .with_limits(g.vt_lower.min_v, g.vt_lower.max_v),
+            Parameter::quantity("gate_hysteresis_v", "gate hysteresis ΔVT = VT+ − VT− (typical)", g.typ_hysteresis_v(), ParameterKind::DeviceThreshold)
+                .with_limits(dvt_min, dvt_max),
         );
         v.push(Parameter::quantity("output_high_drop_v", "VDD − VOH", g.output_high_drop_v, ParameterKind::OutputLevel));
         v.push(Parameter::quantity("output_low_v", "VOL", g.output_low_v, ParameterKind::OutputLevel));
@@ -310,8 +343,15 @@ impl Circuit for SchmittGate {
             c.rc_ohm = Some(next());
         }
         c.gate.supply_v = next();
-        c.gate.vt_upper.typ_v = next();
-        c.gate.vt_lower.typ_v = next();
+        let vt_upper = next();
+        let hysteresis = next();
+        c.gate.vt_upper.typ_v = vt_upper;
+        c.gate.vt_lower.typ_v = self.gate.lower_for(vt_upper, hysteresis);
+        // A Normal draw in the tail past a VT+ limit, or a ΔVT min that pushes VT− under its row,
+        // is still a real device: widen the rows of the copy rather than reject the trial.
+        c.gate.vt_upper.min_v = c.gate.vt_upper.min_v.min(vt_upper);
+        c.gate.vt_upper.max_v = c.gate.vt_upper.max_v.max(vt_upper);
+        c.gate.vt_lower.min_v = c.gate.vt_lower.min_v.min(c.gate.vt_lower.typ_v);
         c.gate.output_high_drop_v = next();
         c.gate.output_low_v = next();
         Ok(c)
@@ -407,16 +447,19 @@ impl Circuit for SchmittGate {
         let (a, b) = self.scale_and_offset();
         if g.vt_upper.max_v > g.vt_upper.min_v || g.vt_lower.max_v > g.vt_lower.min_v {
             let min_width = a * (g.vt_upper.min_v - g.vt_lower.max_v);
+            let (dvt_min, dvt_max) = g.hysteresis_limits_v();
             w.push(Warning::new(
                 WarningCode::GateThresholdSpread,
                 format!(
-                    "over the datasheet limits VT+ lies between {:.3} V and {:.3} V and VT− between {:.3} V and {:.3} V (gate limits × {a:.3}{}); pairing the extremes independently leaves a guaranteed width of {min_width:.3} V{}",
+                    "over the datasheet limits VT+ lies between {:.3} V and {:.3} V and VT− between {:.3} V and {:.3} V (gate limits × {a:.3}{}); pairing the extremes independently leaves a guaranteed width of {min_width:.3} V{}; tolerance studies vary VT+ and the hysteresis ΔVT between {:.3} V and {:.3} V (gate ΔVT limits × {a:.3}) so every corner is a real device",
                     a * g.vt_upper.min_v + b,
                     a * g.vt_upper.max_v + b,
                     a * g.vt_lower.min_v + b,
                     a * g.vt_lower.max_v + b,
                     if b != 0.0 { format!(", then {b:+.3} V") } else { String::new() },
-                    if min_width <= 0.0 { " (none guaranteed: check the datasheet's minimum hysteresis figure)" } else { "" }
+                    if min_width <= 0.0 { " (none guaranteed: check the datasheet's minimum hysteresis figure)" } else { "" },
+                    a * dvt_min,
+                    a * dvt_max
                 ),
             ));
         }
@@ -559,10 +602,56 @@ mod tests {
         let p = c.parameters();
         assert_eq!(p.iter().filter_map(|p| p.designator.clone()).collect::<Vec<_>>(), ["R1", "R2"]);
         assert_eq!(p.iter().find(|p| p.id == "gate_vt_upper_v").unwrap().limits, Some([2.0, 3.5]));
-        assert_eq!(p.iter().find(|p| p.id == "gate_vt_lower_v").unwrap().limits, Some([1.0, 2.4]));
+        // ΔVT limits: max(1.1/2, 2.0 − 2.4) = 0.55 and 3.5 − 1.0 = 2.5 (rule of `hysteresis_limits_v`).
+        let dvt = p.iter().find(|p| p.id == "gate_hysteresis_v").unwrap().limits.unwrap();
+        assert!((dvt[0] - 0.55).abs() < 1e-12 && (dvt[1] - 2.5).abs() < 1e-12, "{dvt:?}");
         let values: Vec<f64> = p.iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&values).unwrap(), c);
         assert!(c.with_parameters(&values[..3]).is_err());
+    }
+
+    #[test]
+    fn overlapping_datasheet_limits_give_physical_worst_case_corners() {
+        // 74HC14-class row at VDD = 4.5 V (datasheet-class values, from memory): VT+ 1.6…2.3…3.15 V,
+        // VT− 0.9…1.4…2.1 V, so VT+ min (1.6) lies below VT− max (2.1): the rows overlap.
+        let g = SchmittInput {
+            supply_v: 4.5,
+            vt_upper: DatasheetRange { min_v: 1.6, typ_v: 2.3, max_v: 3.15 },
+            vt_lower: DatasheetRange { min_v: 0.9, typ_v: 1.4, max_v: 2.1 },
+            ..SchmittInput::default()
+        };
+        // ΔVT limits by the rule: max(0.9/2, 1.6 − 2.1) = 0.45 V and 3.15 − 0.9 = 2.25 V.
+        let (lo, hi) = g.hysteresis_limits_v();
+        assert!((lo - 0.45).abs() < 1e-12 && (hi - 2.25).abs() < 1e-12, "{lo} {hi}");
+        let c = SchmittGate { ra_ohm: Some(100e3), rb_ohm: Some(47e3), ..SchmittGate::bare(g) };
+        // Every corner of VT+ and ΔVT (other parameters at nominal) is a valid, physical device.
+        let p = c.parameters();
+        let base: Vec<f64> = p.iter().map(|p| p.value).collect();
+        let iu = p.iter().position(|p| p.id == "gate_vt_upper_v").unwrap();
+        let ih = p.iter().position(|p| p.id == "gate_hysteresis_v").unwrap();
+        for vt_up in [1.6, 2.3, 3.15] {
+            for dvt in [lo, 0.9, hi] {
+                let mut v = base.clone();
+                v[iu] = vt_up;
+                v[ih] = dvt;
+                let d = c.with_parameters(&v).unwrap();
+                d.validate().unwrap_or_else(|e| panic!("VT+ {vt_up} ΔVT {dvt}: {e}"));
+                let gd = d.gate;
+                assert!(gd.vt_upper.typ_v - gd.vt_lower.typ_v >= lo - 1e-12, "{gd:?}");
+                assert!((0.9..=2.1).contains(&gd.vt_lower.typ_v), "VT− leaves its row: {gd:?}");
+            }
+        }
+        // The whole study runs, with the divider and for the bare gate; the bare gate's worst-case
+        // band is exactly the datasheet rows, with the hysteresis at least ΔVT min.
+        let rep = crate::tolerance::tolerance_report(&c, &Default::default()).unwrap();
+        assert!(rep.worst_case.hysteresis.min.value_v > 0.0, "{:?}", rep.worst_case.hysteresis);
+        assert_eq!(rep.monte_carlo.rejected_trials, 0);
+        let rep = crate::tolerance::tolerance_report(&SchmittGate::bare(g), &Default::default()).unwrap();
+        let wc = &rep.worst_case;
+        assert!((wc.hysteresis.min.value_v - lo).abs() < 1e-9 && wc.hysteresis.max.value_v <= hi + 1e-9, "{:?}", wc.hysteresis);
+        assert!((wc.vt_upper.min.value_v - 1.6).abs() < 1e-9 && (wc.vt_upper.max.value_v - 3.15).abs() < 1e-9, "{:?}", wc.vt_upper);
+        assert!(wc.vt_lower.min.value_v >= 0.9 - 1e-9 && wc.vt_lower.max.value_v <= 2.1 + 1e-9, "{:?}", wc.vt_lower);
+        assert_eq!(rep.monte_carlo.rejected_trials, 0);
     }
 
     #[test]
