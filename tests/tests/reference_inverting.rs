@@ -24,7 +24,7 @@ use proptest::prelude::*;
 // Helpers: a deterministic generator, a tolerance and an independent nodal solver.
 // ---------------------------------------------------------------------------------------------
 
-use hysteron_tests::sampling::{close, Lcg};
+use hysteron_tests::sampling::{close, random_comparator as random_device, Lcg};
 
 /// Nodal analysis of a resistive network whose nodes are either held at a known voltage or unknown.
 /// Kirchhoff's current law at each unknown node: Σ G·(Vn − Vm) + I_drawn = 0, solved with an LU
@@ -244,21 +244,6 @@ fn synthesis_matches_the_published_formulas() {
 // (b) Independent nodal solution over random designs.
 // ---------------------------------------------------------------------------------------------
 
-fn random_device(g: &mut Lcg, split: bool) -> Comparator {
-    let supply = g.uniform(3.0, 15.0);
-    Comparator {
-        supply_v: supply,
-        negative_rail_v: if split { -g.uniform(1.0, supply) } else { 0.0 },
-        output_high_drop_v: g.uniform(0.0, 0.3),
-        output_low_rise_v: g.uniform(0.0, 0.3),
-        offset_v: g.uniform(-5e-3, 5e-3),
-        bias_plus_a: g.uniform(-100e-9, 100e-9),
-        bias_minus_a: g.uniform(-100e-9, 100e-9),
-        builtin_hysteresis_v: if g.chance(0.5) { 0.0 } else { g.uniform(0.0, 0.01) },
-        source_resistance_ohm: if g.chance(0.3) { 0.0 } else { g.uniform(0.0, 5e3) },
-        ..Comparator::default()
-    }
-}
 
 /// Split supply, reference at ground: only Rb, to 0 V, on ± rails.
 fn random_split(g: &mut Lcg) -> InvertingSchmitt {

@@ -25,7 +25,7 @@ use proptest::prelude::*;
 // Helpers: a deterministic generator, tolerances and an independent MNA solver.
 // ---------------------------------------------------------------------------------------------
 
-use hysteron_tests::sampling::{close, Lcg};
+use hysteron_tests::sampling::{close, random_comparator as random_device, Lcg};
 
 const GND: usize = 0;
 
@@ -310,21 +310,6 @@ fn nodal_monitor(c: &SupplyMonitor) -> (f64, f64) {
 // Random designs.
 // ---------------------------------------------------------------------------------------------
 
-fn random_device(g: &mut Lcg, split: bool) -> Comparator {
-    let supply = g.uniform(3.0, 15.0);
-    Comparator {
-        supply_v: supply,
-        negative_rail_v: if split { -g.uniform(1.0, supply) } else { 0.0 },
-        output_high_drop_v: g.uniform(0.0, 0.3),
-        output_low_rise_v: g.uniform(0.0, 0.3),
-        offset_v: g.uniform(-5e-3, 5e-3),
-        bias_plus_a: g.uniform(-100e-9, 100e-9),
-        bias_minus_a: g.uniform(-100e-9, 100e-9),
-        builtin_hysteresis_v: if g.chance(0.5) { 0.0 } else { g.uniform(0.0, 0.01) },
-        source_resistance_ohm: if g.chance(0.3) { 0.0 } else { g.uniform(0.0, 5e3) },
-        ..Comparator::default()
-    }
-}
 
 fn random_rail(g: &mut Lcg, split: bool) -> Rail {
     match (g.next_f64() * 4.0) as u32 {
