@@ -38,10 +38,6 @@ pub struct Notebook {
 pub enum Study {
     /// Monte Carlo: depends on the circuit and the tolerance settings.
     MonteCarlo,
-    /// Signal test: depends on the circuit and the signal settings.
-    Signal,
-    /// Standard-value search: depends on the circuit, the targets and the search settings.
-    Search,
 }
 
 /// The inputs a study's result depends on, as JSON text: the result is current while the open
@@ -49,8 +45,6 @@ pub enum Study {
 pub fn study_inputs(study: Study, r: &DesignRecord) -> String {
     let v = match study {
         Study::MonteCarlo => serde_json::to_value((&r.circuit, r.tolerance.clone().unwrap_or_default())),
-        Study::Signal => serde_json::to_value((&r.circuit, &r.signal)),
-        Study::Search => serde_json::to_value((&r.circuit, &r.targets, r.search.clone().unwrap_or_default(), &r.parts)),
     };
     v.map(|v| v.to_string()).unwrap_or_default()
 }
