@@ -37,6 +37,56 @@ pub struct StoredDesign {
     pub record: serde_json::Value,
     /// Results at save time (absent when the design could not be computed).
     pub snapshot: Option<Snapshot>,
+    /// Study results computed on request (today the Monte Carlo run), each
+    /// with the inputs it was computed from ([`Studies`]). Kept as raw JSON: results that cannot
+    /// be read are dropped on load, never the design. Absent in designs stored before studies were
+    /// kept; a new field with a default, so the envelope version stays 1.
+    #[serde(default, skip_serializing_if = "serde_json::Value::is_null")]
+    pub studies: serde_json::Value,
+}
+
+/// One study's result kept with a design, with the inputs it was computed from: a later edit that
+/// changes those inputs makes it out of date (shown as such, never silently dropped); an edit
+/// elsewhere leaves it current, and undoing back to the same inputs makes it current again.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Kept<T> {
+    /// The study's inputs as JSON text (see `state::study_inputs`).
+    pub inputs: String,
+    /// The result.
+    pub result: T,
+    /// How long the run took, milliseconds.
+    pub elapsed_ms: f64,
+}
+
+/// The study results kept with one design.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct Studies {
+    /// The last Monte Carlo run. (Another study kept here is one more optional field, read
+    /// leniently in [`Studies::from_value`], and one more [`crate::view::state::Study`].)
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub monte_carlo: Option<Kept<hysteron_core::tolerance::monte_carlo::MonteCarloResult>>,
+}
+
+impl Studies {
+    /// True when no study result is kept.
+    pub fn is_empty(&self) -> bool {
+        self.monte_carlo.is_none()
+    }
+
+    fn to_value(&self) -> serde_json::Value {
+        if self.is_empty() {
+            serde_json::Value::Null
+        } else {
+            serde_json::to_value(self).unwrap_or(serde_json::Value::Null)
+        }
+    }
+
+    /// Reads stored study results; what cannot be read is dropped (it is recomputed on request).
+    pub fn from_value(v: &serde_json::Value) -> Studies {
+        let Some(o) = v.as_object() else { return Studies::default() };
+        let field = |k: &str| o.get(k).cloned().unwrap_or(serde_json::Value::Null);
+        Studies { monte_carlo: serde_json::from_value(field("monte_carlo")).ok().flatten() }
+    }
 }
 
 /// A design that could be read.
@@ -52,6 +102,8 @@ pub struct Entry {
     pub record: DesignRecord,
     /// Results at save time.
     pub snapshot: Option<Snapshot>,
+    /// Study results kept with the design.
+    pub studies: Studies,
 }
 
 /// A stored item that could not be read, kept untouched.
@@ -130,7 +182,8 @@ pub fn parse_stored(key: &str, text: &str) -> Result<Entry, SetAside> {
         )));
     }
     let record = DesignRecord::from_value(stored.record.clone()).map_err(|e| aside(e.to_string()))?;
-    Ok(Entry { id: stored.id, revision: stored.revision, saved_at_ms: stored.saved_at_ms, record, snapshot: stored.snapshot })
+    let studies = Studies::from_value(&stored.studies);
+    Ok(Entry { id: stored.id, revision: stored.revision, saved_at_ms: stored.saved_at_ms, record, snapshot: stored.snapshot, studies })
 }
 
 /// Reads the whole notebook. Never fails: problems are reported per item.
@@ -203,6 +256,7 @@ pub fn save(entry: &Entry, order: &[String]) -> Result<u64, SaveError> {
         saved_at_ms: entry.saved_at_ms,
         record: serde_json::to_value(&entry.record).map_err(|e| SaveError::Failed(e.to_string()))?,
         snapshot: entry.snapshot.clone(),
+        studies: entry.studies.to_value(),
     };
     LocalStorage::set(&key, &stored).map_err(|e| SaveError::Failed(format!("could not save: {e}")))?;
     LocalStorage::set(INDEX_KEY, order).map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))?;
@@ -231,4 +285,37 @@ pub enum SaveError {
     },
     /// Storage refused the write (full, unavailable).
     Failed(String),
+}
+
+/// Key (in session storage) of what this tab showed: the open design and the scroll position.
+pub const VIEW_KEY: &str = "hysteron/view";
+
+/// What this tab showed when it was last left: kept in session storage, so a reload of the tab
+/// comes back to the same design and place, while each tab keeps its own.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct View {
+    /// Id of the open design.
+    pub open: Option<String>,
+    /// Vertical scroll position of the page, CSS pixels.
+    #[serde(default)]
+    pub scroll_y: f64,
+}
+
+fn session() -> Option<web_sys::Storage> {
+    web_sys::window()?.session_storage().ok()?
+}
+
+/// The view this tab last remembered (default when none or unreadable).
+pub fn remembered_view() -> View {
+    session()
+        .and_then(|s| s.get_item(VIEW_KEY).ok().flatten())
+        .and_then(|t| serde_json::from_str(&t).ok())
+        .unwrap_or_default()
+}
+
+/// Remembers the view for a reload of this tab (silently does nothing when storage refuses).
+pub fn remember_view(view: &View) {
+    if let (Some(s), Ok(t)) = (session(), serde_json::to_string(view)) {
+        let _ = s.set_item(VIEW_KEY, &t);
+    }
 }

@@ -50,6 +50,7 @@ fn stored(record: serde_json::Value) -> String {
         saved_at_ms: 0.0,
         record,
         snapshot: None,
+        studies: serde_json::Value::Null,
     })
     .unwrap()
 }

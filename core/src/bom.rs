@@ -331,10 +331,13 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
     let negative_rail_v = circuit.negative_rail_v();
     let v = |x: f64| format_with_unit(x, 4, Unit::Volt);
     let mut notes = Vec::new();
+    // One supply value reads "a single 5 V supply", a range "a single supply of 4.5 V to 5.5 V".
+    let fixed = (supply_max_v - supply_min_v).abs() <= 1e-9 * supply_max_v.abs().max(1e-3);
+    let supply = if fixed { format!("{} supply", v(supply_max_v)) } else { format!("supply of {} to {}", v(supply_min_v), v(supply_max_v)) };
     let rails = if negative_rail_v == 0.0 {
-        format!("single supply {} to {}", v(supply_min_v), v(supply_max_v))
+        format!("single {supply}")
     } else {
-        format!("supply {} to {} above a negative rail of {}", v(supply_min_v), v(supply_max_v), v(negative_rail_v))
+        format!("{supply} above a negative rail of {}", v(negative_rail_v))
     };
     notes.push(format!("must run from a {rails}"));
     if let (Some(lo), Some(hi)) = (input_min_v, input_max_v) {
@@ -482,6 +485,17 @@ mod tests {
         let b = bom(&c, &a, &CheckSettings::default(), &s).unwrap();
         assert!((b.resistors[0].voltage_limit_v - 62.5f64.sqrt()).abs() < 1e-12);
         assert_eq!(b.resistors[1].voltage_limit_v, 50.0);
+    }
+
+    #[test]
+    fn device_note_names_one_supply_once_and_a_range_as_a_range() {
+        let (c, a) = design(10e3, 10e3, 20e3, 5.0);
+        let fixed = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
+        assert!(fixed.device.notes.iter().any(|n| n == "must run from a single 5 V supply"), "{:?}", fixed.device.notes);
+        let checks = CheckSettings { supply_min_v: Some(4.5), supply_max_v: Some(5.5), ..CheckSettings::default() };
+        let a2 = analyse(&c, &checks).unwrap();
+        let ranged = bom(&c, &a2, &checks, &PartSettings::default()).unwrap();
+        assert!(ranged.device.notes.iter().any(|n| n == "must run from a single supply of 4.5 V to 5.5 V"), "{:?}", ranged.device.notes);
     }
 
     #[test]

@@ -93,6 +93,10 @@ pub struct Snapshot {
     pub curve: TransferCurve,
     /// The resistors at save time.
     pub parts: Vec<SnapshotPart>,
+    /// The whole part list at save time (values, tolerance, package, ratings, the device line);
+    /// absent in snapshots saved before it was kept, or when the design cannot be analysed.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub part_list: Option<Bom>,
     /// Version of the math that computed it.
     pub computed_by: String,
 }
@@ -115,6 +119,7 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
         hysteresis_v: t.hysteresis_v(),
         curve,
         parts,
+        part_list: analyse(c, &record.checks).and_then(|a| part_list(record, &a)).ok(),
         computed_by: env!("CARGO_PKG_VERSION").to_string(),
     })
 }
@@ -268,6 +273,13 @@ mod tests {
         let (from_v, _) = curve_window(&thresholds(&r.circuit).unwrap());
         assert_eq!(s.curve.rising.first().map(|p| p.vin_v), Some(from_v));
         assert_eq!(s.parts.len(), r.circuit.parameters().iter().filter(|p| p.kind == ParameterKind::Resistor).count());
+        // The whole part list is kept too, the same as the settled path builds it.
+        assert_eq!(s.part_list.as_ref(), settled(&r).parts.as_ref().ok());
+        // A snapshot stored before the part list was kept still reads.
+        let mut old = serde_json::to_value(&s).unwrap();
+        old.as_object_mut().unwrap().remove("part_list");
+        let back: Snapshot = serde_json::from_value(old).unwrap();
+        assert_eq!(back.part_list, None);
     }
 
     #[test]

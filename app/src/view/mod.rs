@@ -26,7 +26,7 @@ pub fn App() -> impl IntoView {
     let nb = Notebook::load();
     provide_context(nb);
     provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
-    let incoming = RwSignal::new(share::incoming());
+    let incoming = nb.incoming;
     // Copy the open design into `settled` once edits pause for a moment (immediately when another
     // design is opened), so the slower sections recompute once per pause, not once per keystroke.
     let settle_ticket = StoredValue::new(0u64);
@@ -83,11 +83,12 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <application::ApplicationSection /> <partlist::PartListSection /> <share::ShareSection /> <sheet::DesignSheet /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <application::ApplicationSection /> <partlist::PartListSection /> <share::ShareSection /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}
             </main>
         </div>
+        <sheet::DesignSheet />
     }
 }

@@ -21,7 +21,7 @@ pub fn NotebookList() -> impl IntoView {
                         .as_ref()
                         .map(|s| format!("VT+ {:.3} V · VT− {:.3} V", s.vt_upper_v, s.vt_lower_v))
                         .unwrap_or_else(|| "no result".into());
-                    (e.id.clone(), e.record.name.clone(), e.record.circuit.name().to_string(), summary, e.saved_at_ms)
+                    (e.id.clone(), e.record.name.clone(), e.record.circuit.title().to_string(), summary, e.saved_at_ms)
                 })
                 .collect::<Vec<_>>()
         })
@@ -31,6 +31,12 @@ pub fn NotebookList() -> impl IntoView {
             <div class="notebook-head">
                 <h2>"Notebook"</h2>
                 <button id="new-design" on:click=move |_| { nb.add(blank_record()); }>"New design"</button>
+            </div>
+            <div class="row no-print edit-steps" role="group" aria-label="Edits of the open design">
+                <button id="undo-edit" class="quiet small" title="Undo the last edit (Ctrl+Z)" disabled=move || !nb.can_undo()
+                    on:click=move |_| nb.undo()>"↶ Undo"</button>
+                <button id="redo-edit" class="quiet small" title="Redo the edit undone last (Ctrl+Shift+Z or Ctrl+Y)" disabled=move || !nb.can_redo()
+                    on:click=move |_| nb.redo()>"↷ Redo"</button>
             </div>
             <super::starters::StarterPicker />
             <div class="field">

@@ -18,10 +18,10 @@ pub fn PurposeSection() -> impl IntoView {
     let purpose = Signal::derive(move || nb.with_current(|r| r.purpose.clone()).unwrap_or_default());
     let targets = Signal::derive(move || nb.with_current(|r| r.targets).flatten());
     let by_centre = RwSignal::new(false);
-    let t = move || targets.get().unwrap_or_else(default_targets);
+    let t = move || targets.get().or_else(|| nb.with_current(super::state::starting_targets)).unwrap_or_else(default_targets);
     let set_t = move |key: &'static str, f: Box<dyn Fn(&mut Targets)>| {
         nb.edit_keyed(key, move |r| {
-            let mut t = r.targets.unwrap_or_else(default_targets);
+            let mut t = r.targets.unwrap_or_else(|| super::state::starting_targets(r));
             f(&mut t);
             r.targets = Some(t);
         })
@@ -68,7 +68,7 @@ pub fn PurposeSection() -> impl IntoView {
                 <div class="row">
                     <label><input type="checkbox" id="targets-by-centre" prop:checked=move || by_centre.get()
                         on:change=move |ev| by_centre.set(event_target_checked(&ev)) />" enter as centre and width"</label>
-                    {move || targets.get().is_none().then(|| view! { <span class="note">"(no targets yet: enter them to let Hysteron choose parts)"</span> })}
+                    {move || targets.get().is_none().then(|| view! { <span class="note">"(no targets yet: the fields show this design's present thresholds; enter the ones you want to let Hysteron choose parts)"</span> })}
                 </div>
                 <div class="field-grid">
                     {move || if by_centre.get() {

@@ -104,7 +104,7 @@ pub fn ShareSection() -> impl IntoView {
             match DesignRecord::from_json(&text) {
                 Ok(record) => {
                     import_error.set(None);
-                    nb.add(record);
+                    nb.add_unique(record);
                 }
                 Err(e) => import_error.set(Some(format!("That file is not a design Hysteron can open: {e}"))),
             }
@@ -217,9 +217,11 @@ pub fn SharedDesign(incoming: RwSignal<Incoming>) -> impl IntoView {
                     }}</p>
                     <img class="schematic" src=img alt="Schematic of the shared design" />
                     {parts.ok().map(|b| view! { <p class="note">{b.resistors.iter().map(|r| format!("{} {}", r.designator, r.value_text)).collect::<Vec<_>>().join(" · ")}</p> })}
+                    <p class="note">"This design is not in your notebook yet: nothing is saved until you keep it. Printing now prints this design."</p>
                     <div class="row">
-                        <button id="keep-shared" on:click=move |_| { nb.add(keep_record.clone()); clear_fragment(); incoming.set(Incoming::None); }>"Keep a copy in my notebook"</button>
-                        <button class="quiet" on:click=move |_| { clear_fragment(); incoming.set(Incoming::None); }>"Close without keeping"</button>
+                        <button id="keep-shared" on:click=move |_| { nb.add_unique(keep_record.clone()); clear_fragment(); incoming.set(Incoming::None); }>"Keep in notebook"</button>
+                        <button id="print-shared" class="quiet" on:click=move |_| { if let Some(w) = web_sys::window() { let _ = w.print(); } }>"Print the design sheet"</button>
+                        <button id="close-shared" class="quiet" on:click=move |_| { clear_fragment(); incoming.set(Incoming::None); }>"Close without keeping"</button>
                     </div>
                 </section>
             }.into_any()

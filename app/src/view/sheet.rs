@@ -1,8 +1,11 @@
 //! The one-page design sheet for the bench, shown only when printing (A4 or US Letter).
 //! Everything on it comes from `core`: thresholds, worst case and Monte Carlo yield, the part list,
 //! the bench procedure, the signal test summary and the cautions.
+//!
+//! The sheet prints the design on screen: a shared design being shown (read-only, not yet kept)
+//! when there is one, else the open design of the notebook.
 
-use super::share::{schematic_url, StyleChoice};
+use super::share::{schematic_url, Incoming, StyleChoice};
 use super::state::Notebook;
 use crate::plot;
 use hysteron_core::overview::{curve, sheet, sheet_studies, Sheet, SheetStudies};
@@ -20,26 +23,31 @@ pub fn DesignSheet() -> impl IntoView {
     // The sheet is computed only once a print starts (the browser's `beforeprint`), and kept live
     // after that, so editing stays fast.
     let printing = RwSignal::new(0u32);
+    let shown = Memo::new(move |_| match nb.incoming.get() {
+        Incoming::Design(r) => Some(*r),
+        _ => nb.with_current(|r| r.clone()),
+    });
+    let with_shown = move |f: &dyn Fn(&hysteron_core::record::DesignRecord) -> String| shown.with(|r| r.as_ref().map(f)).unwrap_or_default();
     let on_print = window_event_listener_untyped("beforeprint", move |_| printing.update(|n| *n += 1));
     on_cleanup(move || on_print.remove());
     let core_figures = Memo::new(move |_| {
         if printing.get() == 0 {
             return None;
         }
-        nb.with_current(|r| sheet(r).map_err(|e| e.to_string()))
+        shown.with(|r| r.as_ref().map(|r| sheet(r).map_err(|e| e.to_string())))
     });
     let slow = Memo::new(move |_| {
         if printing.get() == 0 {
             return None;
         }
-        nb.with_current(|r| sheet_studies(r, SHEET_TRIALS))
+        shown.with(|r| r.as_ref().map(|r| sheet_studies(r, SHEET_TRIALS)))
     });
     let canvas: NodeRef<Canvas> = NodeRef::new();
     Effect::new(move |_| {
         if printing.get() == 0 {
             return;
         }
-        let c = nb.with_current(|r| curve(&r.circuit).ok());
+        let c = shown.with(|r| r.as_ref().map(|r| curve(&r.circuit).ok()));
         if let (Some(Some(c)), Some(el)) = (c, canvas.get()) {
             let _ = plot::draw_transfer_fixed(&el, &c, 1000, 420, 2.0);
         }
@@ -49,10 +57,10 @@ pub fn DesignSheet() -> impl IntoView {
     view! {
         <article class="sheet" id="design-sheet" aria-label="Design sheet for printing">
             <header class="sheet-head">
-                <h1>{move || nb.with_current(|r| r.name.clone()).unwrap_or_default()}</h1>
-                <p>{move || nb.with_current(|r| r.circuit.name().replace('_', " ")).unwrap_or_default()} " · " {today} " · Hysteron design sheet"</p>
+                <h1 id="sheet-name">{move || with_shown(&|r| r.name.clone())}</h1>
+                <p>{move || with_shown(&|r| r.circuit.title().to_string())} " · " {today} " · Hysteron design sheet"</p>
             </header>
-            <p class="sheet-purpose">{move || nb.with_current(|r| r.purpose.clone()).unwrap_or_default()}</p>
+            <p class="sheet-purpose">{move || with_shown(&|r| r.purpose.clone())}</p>
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
                 Ok(Sheet { analysis: a, worst_case: wc, bench, parts, cautions }) => view! {
@@ -62,7 +70,7 @@ pub fn DesignSheet() -> impl IntoView {
                     })}
                     <div class="sheet-grid">
                         <div>
-                            <img class="sheet-schematic" src=move || if printing.get() == 0 { String::new() } else { nb.with_current(|r| schematic_url(r, style.get())).unwrap_or_default() } alt="Schematic" />
+                            <img class="sheet-schematic" src=move || if printing.get() == 0 { String::new() } else { { let s = style.get(); with_shown(&|r| schematic_url(r, s)) } } alt="Schematic" />
                             <canvas class="sheet-curve" node_ref=canvas width="480" height="240" aria-hidden="true"></canvas>
                         </div>
                         <div>
@@ -98,7 +106,7 @@ pub fn DesignSheet() -> impl IntoView {
                         <ol>{bench.steps.iter().map(|s| view! { <li>{s.instruction.clone()}</li> }).collect_view()}</ol>
                         <p><strong>"If the readings are off: "</strong>{bench.troubleshooting.join(" ")}</p>
                     </div>
-                    <p class="sheet-notes">{move || nb.with_current(|r| r.notes.clone()).unwrap_or_default()}</p>
+                    <p class="sheet-notes">{move || with_shown(&|r| r.notes.clone())}</p>
                 }.into_any(),
             })}
         </article>

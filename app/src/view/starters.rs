@@ -19,7 +19,12 @@ pub fn StarterPicker() -> impl IntoView {
             None
         };
         if let Some(s) = starter {
-            nb.add(s.record());
+            // A starter without targets starts with its own thresholds as the targets.
+            let mut r = s.record();
+            if r.targets.is_none() {
+                r.targets = Some(super::state::starting_targets(&r));
+            }
+            nb.add(r);
         }
     };
     view! {

@@ -1,6 +1,8 @@
 //! The notebook's reactive state and the one place where edits are applied and saved.
 
-use crate::storage::{self, Entry, SaveError, SetAside, Snapshot};
+use super::share::Incoming;
+use crate::storage::{self, Entry, Kept, SaveError, SetAside, Snapshot, Studies};
+use hysteron_core::analysis::{ImpedanceChoice, Targets};
 use hysteron_core::device::Comparator;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::topology::{inverting::InvertingSchmitt, Topology};
@@ -27,6 +29,36 @@ pub struct Notebook {
     pub filter: RwSignal<String>,
     /// The open design as it stood once edits paused (see [`Notebook::with_settled`]).
     pub settled: RwSignal<Option<DesignRecord>>,
+    /// A design opened from a share link, shown read-only and not stored until the user keeps it.
+    pub incoming: RwSignal<Incoming>,
+}
+
+/// A study whose result is kept with its design (see [`storage::Studies`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Study {
+    /// Monte Carlo: depends on the circuit and the tolerance settings.
+    MonteCarlo,
+}
+
+/// The inputs a study's result depends on, as JSON text: the result is current while the open
+/// design gives the same text. Settings left at their defaults read the same as written defaults.
+pub fn study_inputs(study: Study, r: &DesignRecord) -> String {
+    let v = match study {
+        Study::MonteCarlo => serde_json::to_value((&r.circuit, r.tolerance.clone().unwrap_or_default())),
+    };
+    v.map(|v| v.to_string()).unwrap_or_default()
+}
+
+/// A kept study result as the page shows it: the result, and whether the design still gives the
+/// inputs it was computed from.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Shown<T> {
+    /// The result.
+    pub result: T,
+    /// How long the run took, milliseconds.
+    pub elapsed_ms: f64,
+    /// False once an edit changed the study's inputs: the result is out of date.
+    pub current: bool,
 }
 
 /// Undo/redo history of one design. Edits closer together than [`History::MERGE_MS`] on the same
@@ -65,19 +97,43 @@ pub fn snapshot_of(record: &DesignRecord) -> Option<Snapshot> {
     hysteron_core::overview::snapshot(record)
 }
 
-/// The design a new blank notebook entry starts from.
+/// The design a new blank notebook entry starts from, with targets equal to what it does now.
 pub fn blank_record() -> DesignRecord {
-    DesignRecord::new(
+    let mut r = DesignRecord::new(
         "Untitled design",
         Topology::Inverting(InvertingSchmitt::single_supply(100e3, 100e3, 100e3, Comparator::ideal(5.0))),
-    )
+    );
+    r.targets = Some(starting_targets(&r));
+    r
+}
+
+/// Anchor resistor of targets that start from a design's present thresholds, ohms (a common
+/// impedance level for signal dividers; common practice).
+pub const STARTING_ANCHOR_OHM: f64 = 100e3;
+
+/// Targets for a design that has none: its present VT+ and VT− (as `core` computes them), so the
+/// target fields never show numbers the design has nothing to do with; VT+ 3 V and VT− 2 V only
+/// when its thresholds cannot be computed.
+pub fn starting_targets(r: &DesignRecord) -> Targets {
+    let (vt_upper_v, vt_lower_v) = hysteron_core::overview::thresholds(&r.circuit)
+        .map(|t| (t.vt_upper_v, t.vt_lower_v))
+        .unwrap_or((3.0, 2.0));
+    Targets { vt_upper_v, vt_lower_v, impedance: ImpedanceChoice::AnchorOhm(STARTING_ANCHOR_OHM) }
 }
 
 impl Notebook {
     /// Loads the notebook from storage; problems become messages, never a dead page.
     pub fn load() -> Self {
         let loaded = storage::load();
-        let current = loaded.entries.first().map(|e| e.id.clone());
+        // Reopen what this tab showed before a reload, else the design edited last.
+        let view = storage::remembered_view();
+        let current = view
+            .open
+            .filter(|id| loaded.entries.iter().any(|e| &e.id == id))
+            .or_else(|| {
+                loaded.entries.iter().max_by(|a, b| a.saved_at_ms.total_cmp(&b.saved_at_ms)).map(|e| e.id.clone())
+            });
+        let incoming = super::share::incoming();
         let banner = match (&loaded.unavailable, &loaded.read_only) {
             (Some(e), _) => Some(format!(
                 "Saved designs cannot be read in this browser ({e}). Any designs stored here are left untouched and are not shown below; this page works in memory only and saves nothing. Reload to try again, and export designs you want to keep."
@@ -97,11 +153,129 @@ impl Notebook {
             deleted: RwSignal::new(None),
             filter: RwSignal::new(String::new()),
             settled: RwSignal::new(None),
+            incoming: RwSignal::new(incoming),
         };
-        if nb.entries.with_untracked(|e| e.is_empty()) {
+        // An empty notebook starts with a blank design, unless a shared design is being shown:
+        // opening a link stores nothing until the user keeps it.
+        if nb.entries.with_untracked(|e| e.is_empty()) && !matches!(nb.incoming.get_untracked(), Incoming::Design(_)) {
             nb.add(blank_record());
         }
+        nb.keep_view(view.scroll_y);
         nb
+    }
+
+    /// Remembers the open design and the scroll position for a reload of this tab, and brings
+    /// the scroll position of the last visit back once the page has drawn.
+    fn keep_view(&self, scroll_y: f64) {
+        let current = self.current;
+        let restored = StoredValue::new(false);
+        let remember = move || {
+            let y = web_sys::window().and_then(|w| w.scroll_y().ok()).unwrap_or(0.0);
+            storage::remember_view(&storage::View { open: current.get_untracked(), scroll_y: y });
+        };
+        Effect::new(move |_| {
+            current.track();
+            if restored.get_value() {
+                remember();
+            }
+        });
+        if let Some(h) = web_sys::window().and_then(|w| w.history().ok()) {
+            // The page puts the scroll position back itself, after its content is drawn.
+            let _ = js_sys::Reflect::set(&h, &"scrollRestoration".into(), &"manual".into());
+        }
+        // The page's height settles over a few frames (plots, fonts): try for up to a second.
+        fn restore(y: f64, tries: u32, done: StoredValue<bool>) {
+            let Some(w) = web_sys::window() else { return };
+            w.scroll_to_with_x_and_y(0.0, y);
+            let now = w.scroll_y().unwrap_or(0.0);
+            if (now - y).abs() < 2.0 || tries == 0 {
+                done.set_value(true);
+            } else {
+                crate::tick::after_ms(50, move || restore(y, tries - 1, done));
+            }
+        }
+        if scroll_y > 0.0 {
+            crate::tick::after_ms(0, move || restore(scroll_y, 20, restored));
+        } else {
+            restored.set_value(true);
+        }
+        let pending = StoredValue::new(false);
+        let on_scroll = move || {
+            if !restored.get_value() || pending.get_value() {
+                return;
+            }
+            pending.set_value(true);
+            crate::tick::after_ms(150, move || {
+                pending.set_value(false);
+                remember();
+            });
+        };
+        let scroll = window_event_listener_untyped("scroll", move |_| on_scroll());
+        let hide = window_event_listener_untyped("pagehide", move |_| if restored.get_value() { remember() });
+        on_cleanup(move || {
+            scroll.remove();
+            hide.remove();
+        });
+    }
+
+    /// A name no design in the notebook has: `name` itself when free, else `name (2)`, `name (3)`…
+    /// (a name that already ends in a number in brackets counts on from that number).
+    pub fn unique_name(&self, name: &str) -> String {
+        self.entries.with_untracked(|es| {
+            let taken = |n: &str| es.iter().any(|e| e.record.name == n);
+            if !taken(name) {
+                return name.to_string();
+            }
+            let (base, from) = match name.strip_suffix(')').and_then(|s| s.rsplit_once(" (")) {
+                Some((b, n)) if n.parse::<u32>().is_ok_and(|n| n >= 2) => (b.to_string(), n.parse::<u32>().unwrap_or(1) + 1),
+                _ => (name.to_string(), 2),
+            };
+            (from..).map(|i| format!("{base} ({i})")).find(|n| !taken(n)).unwrap_or_else(|| name.to_string())
+        })
+    }
+
+    /// Adds a design under a name no other design has (an imported or kept design), opens it and
+    /// saves it.
+    pub fn add_unique(&self, mut record: DesignRecord) -> String {
+        record.name = self.unique_name(&record.name);
+        self.add(record)
+    }
+
+    /// The kept result of a study of the open design, and whether it is still current.
+    pub fn study<T: Clone>(&self, study: Study, pick: fn(&Studies) -> &Option<Kept<T>>) -> Option<Shown<T>> {
+        let id = self.current.get()?;
+        self.entries.with(|es| {
+            let e = es.iter().find(|e| e.id == id)?;
+            let k = pick(&e.studies).as_ref()?;
+            Some(Shown { result: k.result.clone(), elapsed_ms: k.elapsed_ms, current: k.inputs == study_inputs(study, &e.record) })
+        })
+    }
+
+    /// Keeps a study's result with the design `id`, computed from `inputs` (taken with
+    /// [`study_inputs`] when the run started), and saves it. The design's edit time is unchanged.
+    pub fn keep_study(&self, id: &str, put: impl FnOnce(&mut Studies)) {
+        let mut found = false;
+        self.entries.update(|es| {
+            if let Some(e) = es.iter_mut().find(|e| e.id == id) {
+                put(&mut e.studies);
+                found = true;
+            }
+        });
+        if found {
+            self.persist(id);
+        }
+    }
+
+    /// Whether the open design has an edit to undo.
+    pub fn can_undo(&self) -> bool {
+        let id = self.current.get();
+        self.history.with(|h| Some(&h.id) == id.as_ref() && !h.undo.is_empty())
+    }
+
+    /// Whether the open design has an undone edit to redo.
+    pub fn can_redo(&self) -> bool {
+        let id = self.current.get();
+        self.history.with(|h| Some(&h.id) == id.as_ref() && !h.redo.is_empty())
     }
 
     fn order(&self) -> Vec<String> {
@@ -113,7 +287,7 @@ impl Notebook {
         let id = new_id();
         let snapshot = snapshot_of(&record);
         self.entries.update(|es| {
-            es.push(Entry { id: id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot })
+            es.push(Entry { id: id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot, studies: Studies::default() })
         });
         self.current.set(Some(id.clone()));
         self.persist(&id);
@@ -237,7 +411,7 @@ impl Notebook {
         else {
             return;
         };
-        record.name = format!("{} (copy)", record.name);
+        record.name = self.unique_name(&format!("{} (copy)", record.name));
         self.add(record);
     }
 
@@ -358,7 +532,7 @@ impl Notebook {
         let mut record = ours.record;
         record.name = format!("{} (this tab's version)", record.name);
         let copy_name = record.name.clone();
-        let copy = Entry { id: copy_id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot: ours.snapshot };
+        let copy = Entry { id: copy_id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot: ours.snapshot, studies: ours.studies };
         self.entries.update(|es| {
             let i = (index + 1).min(es.len());
             es.insert(i, copy);

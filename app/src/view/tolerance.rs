@@ -1,8 +1,13 @@
 //! Tolerance: worst case, GUM and the error budget live as the design changes; Monte Carlo on
 //! request, in slices with a progress bar and a cancel button, with histograms and the yield
 //! against the spec window. All numbers come from `core::tolerance`.
+//!
+//! The Monte Carlo result is kept with the design (`Notebook::keep_study`), so it survives a
+//! reload and edits elsewhere; an edit to the circuit or the tolerance settings marks it out of
+//! date instead of removing it.
 
-use super::state::Notebook;
+use super::state::{study_inputs, Notebook, Study};
+use crate::storage::Kept;
 use crate::fields::{OptionalQuantityField, QuantityField};
 use crate::plot;
 use crate::tick::later;
@@ -20,6 +25,9 @@ struct Job {
     run: MonteCarloRun<Topology>,
     partial: MonteCarloPartial,
     generation: u64,
+    /// The design the run belongs to, and the inputs it started from.
+    id: String,
+    inputs: String,
 }
 
 #[derive(Clone, Copy)]
@@ -27,13 +35,15 @@ struct McState {
     job: StoredValue<Option<Job>>,
     generation: RwSignal<u64>,
     progress: RwSignal<Option<f64>>,
-    result: RwSignal<Option<Result<MonteCarloResult, String>>>,
-    elapsed_ms: RwSignal<f64>,
+    error: RwSignal<Option<String>>,
     started_ms: RwSignal<f64>,
 }
 
-fn step(st: McState, generation: u64) {
-    if st.generation.get_untracked() != generation {
+type Finished = (Result<MonteCarloResult, String>, String, String);
+
+fn step(st: McState, nb: Notebook, generation: u64) {
+    // The section may be gone (another design opened): then the run simply stops.
+    if st.generation.try_get_untracked() != Some(generation) {
         return;
     }
     let outcome = st.job.try_update_value(|job| {
@@ -47,26 +57,32 @@ fn step(st: McState, generation: u64) {
         let res = job.run.run(start, end).and_then(|next| job.partial.merge(next));
         Some(match res {
             Err(e) => Err(e.to_string()),
-            Ok(()) if job.partial.end >= total => Ok(Some(job.run.finish(&job.partial).map_err(|e| e.to_string()))),
+            Ok(()) if job.partial.end >= total => {
+                let done = job.run.finish(&job.partial).map_err(|e| e.to_string());
+                Ok(Some((done, job.id.clone(), job.inputs.clone())))
+            }
             Ok(()) => Ok(None),
         }
-        .map(|done| (done, job.partial.end as f64 / total.max(1) as f64)))
+        .map(|done: Option<Finished>| (done, job.partial.end as f64 / total.max(1) as f64)))
     });
     match outcome.flatten() {
         None => {}
         Some(Err(e)) => {
-            st.result.set(Some(Err(e)));
+            st.error.set(Some(e));
             st.progress.set(None);
         }
-        Some(Ok((Some(done), _))) => {
-            st.elapsed_ms.set(crate::tick::now_ms() - st.started_ms.get_untracked());
-            st.result.set(Some(done));
+        Some(Ok((Some((done, id, inputs)), _))) => {
+            let elapsed_ms = crate::tick::now_ms() - st.started_ms.get_untracked();
             st.progress.set(None);
             st.job.set_value(None);
+            match done {
+                Ok(result) => nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result, elapsed_ms })),
+                Err(e) => st.error.set(Some(e)),
+            }
         }
         Some(Ok((None, p))) => {
             st.progress.set(Some(p));
-            later(move || step(st, generation));
+            later(move || step(st, nb, generation));
         }
     }
 }
@@ -107,25 +123,18 @@ pub fn ToleranceSection() -> impl IntoView {
         job: StoredValue::new(None),
         generation: RwSignal::new(0),
         progress: RwSignal::new(None),
-        result: RwSignal::new(None),
-        elapsed_ms: RwSignal::new(0.0),
+        error: RwSignal::new(None),
         started_ms: RwSignal::new(0.0),
     };
-    // A different design or changed settings make an old Monte Carlo result stale.
-    Effect::new(move |_| {
-        nb.current.track();
-        settings.track();
-        let _ = nb.with_current(|r| r.circuit.clone());
-        st.generation.update(|g| *g += 1);
-        st.job.set_value(None);
-        st.progress.set(None);
-        st.result.set(None);
-    });
+    // The run kept with the open design, and whether the design still gives its inputs.
+    let kept = Memo::new(move |_| nb.study(Study::MonteCarlo, |s| &s.monte_carlo));
     let start = move |_| {
-        let Some(circuit) = nb.with_current_untracked(|r| r.circuit.clone()) else { return };
+        let Some(id) = nb.current.get_untracked() else { return };
+        let Some((circuit, inputs)) = nb.with_current_untracked(|r| (r.circuit.clone(), study_inputs(Study::MonteCarlo, r))) else { return };
         let s = settings.get_untracked();
+        st.error.set(None);
         match MonteCarloRun::new(&circuit, &s) {
-            Err(e) => st.result.set(Some(Err(e.to_string()))),
+            Err(e) => st.error.set(Some(e.to_string())),
             Ok(run) => {
                 st.generation.update(|g| *g += 1);
                 let generation = st.generation.get_untracked();
@@ -138,11 +147,10 @@ pub fn ToleranceSection() -> impl IntoView {
                     inside_spec: 0,
                     spec_violations: [0; 8],
                 };
-                st.job.set_value(Some(Job { run, partial, generation }));
-                st.result.set(None);
+                st.job.set_value(Some(Job { run, partial, generation, id, inputs }));
                 st.progress.set(Some(0.0));
                 st.started_ms.set(crate::tick::now_ms());
-                later(move || step(st, generation));
+                later(move || step(st, nb, generation));
             }
         }
     };
@@ -162,8 +170,8 @@ pub fn ToleranceSection() -> impl IntoView {
     let hist_canvases: [NodeRef<Canvas>; 3] = [NodeRef::new(), NodeRef::new(), NodeRef::new()];
     Effect::new(move |_| {
         let s = settings.get();
-        st.result.with(|r| {
-            if let Some(Ok(mc)) = r {
+        kept.with(|r| {
+            if let Some(mc) = r.as_ref().map(|k| &k.result) {
                 let sets = [
                     (&mc.vt_upper.histogram, "VT+ (V)", s.spec.vt_upper_min_v, s.spec.vt_upper_max_v),
                     (&mc.vt_lower.histogram, "VT− (V)", s.spec.vt_lower_min_v, s.spec.vt_lower_max_v),
@@ -298,23 +306,30 @@ pub fn ToleranceSection() -> impl IntoView {
                     <button id="mc-cancel" class="quiet" on:click=cancel>"Cancel"</button>
                 })}
             </div>
-            {move || st.result.get().map(|r| match r {
-                Err(e) => view! { <p class="error" id="mc-error" role="alert">{e}</p> }.into_any(),
-                Ok(mc) => {
+            {move || st.error.get().map(|e| view! { <p class="error" id="mc-error" role="alert">{e}</p> })}
+            {move || kept.get().map(|k| {
+                let (mc, elapsed_ms, current) = (k.result, k.elapsed_ms, k.current);
+                {
                     let y = mc.spec_yield.clone();
                     view! {
-                        <p id="mc-summary">{format!("{} trials ({} rejected) in {:.0} ms. VT+ {:.4} ± {:.4} V, VT− {:.4} ± {:.4} V (mean ± standard deviation); 95 % of boards: VT+ {:.4}…{:.4} V, VT− {:.4}…{:.4} V.",
-                            mc.trials, mc.rejected_trials, st.elapsed_ms.get_untracked(), mc.vt_upper.mean_v, mc.vt_upper.standard_deviation_v, mc.vt_lower.mean_v, mc.vt_lower.standard_deviation_v,
+                        {(!current).then(|| view! {
+                            <p class="stale" id="mc-stale" role="status"><strong>"Out of date — run again."</strong>
+                                " The circuit or the tolerance settings changed since this run; the figures below are from the design as it was."</p>
+                        })}
+                        <div class="mc-result" class:out-of-date=!current>
+                        <p id="mc-summary" data-current=current.to_string()>{format!("{} trials ({} rejected) in {:.0} ms. VT+ {:.4} ± {:.4} V, VT− {:.4} ± {:.4} V (mean ± standard deviation); 95 % of boards: VT+ {:.4}…{:.4} V, VT− {:.4}…{:.4} V.",
+                            mc.trials, mc.rejected_trials, elapsed_ms, mc.vt_upper.mean_v, mc.vt_upper.standard_deviation_v, mc.vt_lower.mean_v, mc.vt_lower.standard_deviation_v,
                             mc.vt_upper.interval_95_low_v, mc.vt_upper.interval_95_high_v, mc.vt_lower.interval_95_low_v, mc.vt_lower.interval_95_high_v)}</p>
                         {match y {
                             Some(y) => view! { <p class="yield">"Yield against the spec window: "
                                 <output id="mc-yield" data-value=y.fraction.to_string()>{format!("{:.2} % (± {:.2} %)", y.fraction * 100.0, y.standard_error * 100.0)}</output></p> }.into_any(),
                             None => view! { <p class="note" id="mc-no-spec">"Enter a spec window to get the yield."</p> }.into_any(),
                         }}
+                        </div>
                     }.into_any()
                 }
             })}
-            <div class="histograms" class:hidden=move || !st.result.with(|r| matches!(r, Some(Ok(_))))>
+            <div class="histograms" class:hidden=move || kept.with(|r| r.is_none())>
                 <canvas class="hist" id="hist-vt-upper" node_ref=hist_canvases[0] role="img" aria-label="Histogram of VT+ over the Monte Carlo trials"></canvas>
                 <canvas class="hist" id="hist-vt-lower" node_ref=hist_canvases[1] role="img" aria-label="Histogram of VT− over the Monte Carlo trials"></canvas>
                 <canvas class="hist" id="hist-hysteresis" node_ref=hist_canvases[2] role="img" aria-label="Histogram of the hysteresis over the Monte Carlo trials"></canvas>
