@@ -1,7 +1,8 @@
 //! Writes the page's Content-Security-Policy into the built index.html (a Trunk post-build hook).
 //!
-//! The policy allows only the page's own files, its WebAssembly (`'wasm-unsafe-eval'`), and the one
-//! inline module script Trunk writes to load it, by its SHA-256 hash (CSP Level 3, `'sha256-…'`).
+//! The policy allows only the page's own files (workers and the web app manifest included), its
+//! WebAssembly (`'wasm-unsafe-eval'`), and the page's inline scripts (Trunk's module loader, the
+//! service worker's registration) by their SHA-256 hashes (CSP Level 3, `'sha256-…'`).
 //! Images may be `data:`/`blob:` URLs (the schematic and plot exports); nothing else is allowed.
 
 use std::path::PathBuf;
@@ -32,7 +33,7 @@ pub fn with_policy(html: &str) -> Result<String, String> {
         rest = &after[close + 9..];
     }
     let policy = format!(
-        "default-src 'self'; script-src 'self' 'wasm-unsafe-eval' {}; style-src 'self'; img-src 'self' data: blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'",
+        "default-src 'self'; script-src 'self' 'wasm-unsafe-eval' {}; style-src 'self'; img-src 'self' data: blob:; connect-src 'self'; worker-src 'self'; manifest-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'",
         hashes.join(" ")
     );
     let head = html.find("<head>").ok_or("csp: no <head> in index.html")? + 6;

@@ -10,6 +10,7 @@
 //! Each step prints what it checks and what it installs.
 
 mod csp;
+mod offline;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode};
@@ -35,6 +36,9 @@ fn main() -> ExitCode {
         Some("build") => setup_build_tools(&root).and_then(|_| build_page(&root)),
         Some("setup") => setup_build_tools(&root).and_then(|_| setup_browser()),
         Some("csp") => csp::write_policy(),
+        // Trunk's post-build hook: the policy first (it changes index.html), then the service worker's
+        // file list and version (a hash over every built file).
+        Some("post-build") => csp::write_policy().and_then(|_| offline::write_service_worker()),
         _ => {
             eprintln!("usage: cargo xtask <serve|test|explore|build|setup>");
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
