@@ -13,7 +13,7 @@ async fn single_file_opens_from_disk_and_keeps_an_edit() {
     });
     let html = std::fs::read_to_string(&file).expect("read the single file");
     // Nothing is loaded from anywhere: no src= or href= to another file.
-    for load in ["src=\"./", "href=\"./", ".wasm'", ".js'"] {
+    for load in ["src=\"./", "href=\"./", "from './", "module_or_path: './"] {
         assert!(!html.contains(load), "the single file still loads {load}");
     }
     assert!(html.contains("default-src 'none'"), "no strict policy in the single file");

@@ -130,7 +130,8 @@ fn loader_wasm(body: &str) -> Option<&str> {
 }
 
 /// The glue module's text followed by the start-up: the WebAssembly decoded from base64 and handed to
-/// the glue's `__wbg_init` (which instantiates bytes as it would a fetched file).
+/// the glue's `__wbg_init` (which instantiates bytes as it would a fetched file). The names added are
+/// `hysteron…` ones: the glue's own top level already declares `wasm`.
 fn inline_loader(glue: &str, wasm: &[u8]) -> Result<String, String> {
     if !glue.contains("__wbg_init") {
         return Err("single-file: the JS glue has no __wbg_init (wasm-bindgen changed?)".into());
@@ -143,8 +144,8 @@ fn inline_loader(glue: &str, wasm: &[u8]) -> Result<String, String> {
     }
     Ok(format!(
         "{glue}\nconst hysteronWasm = Uint8Array.from(atob('{}'), (c) => c.charCodeAt(0));\n\
-         const wasm = await __wbg_init({{ module_or_path: hysteronWasm }});\n\
-         dispatchEvent(new CustomEvent('TrunkApplicationStarted', {{ detail: {{ wasm }} }}));\n",
+         const hysteronExports = await __wbg_init({{ module_or_path: hysteronWasm }});\n\
+         dispatchEvent(new CustomEvent('TrunkApplicationStarted', {{ detail: {{ wasm: hysteronExports }} }}));\n",
         base64(wasm)
     ))
 }
