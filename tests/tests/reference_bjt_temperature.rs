@@ -235,3 +235,45 @@ fn ngspice_agrees_on_the_thresholds_at_three_temperatures() {
         assert!((vt_lower - ours.vt_lower_v).abs() < TOLERANCE_V, "{t_k} K VT−: {vt_lower} vs {}", ours.vt_lower_v);
     }
 }
+
+#[test]
+fn ngspice_runs_the_suggested_transient_through_both_folds() {
+    // Without junction capacitance SPICE's time step collapses at the fold ("timestep too small")
+    // and the suggested `.tran 1m 2` aborts; with CJE, CJC and TF in the model it completes, and
+    // the output switches where the DC thresholds say (the input ramps at about 4.5 V/s, so the
+    // nanosecond-scale charge delays shift the crossings by far less than the tolerance).
+    if std::process::Command::new("ngspice").arg("--version").output().is_err() {
+        println!("skipped: ngspice is not installed (`cargo xtask setup` installs it; Debian package ngspice)");
+        return;
+    }
+    let c = design(BjtModel::EbersMoll, 300.15);
+    let ours = c.thresholds().unwrap();
+    let (voh, vol) = c.output_levels().unwrap();
+    let mid = 0.5 * (voh + vol);
+    let deck = to_spice(&Topology::BjtPair(c), "bjt pair transient check").unwrap();
+    let dir = std::env::temp_dir().join(format!("hysteron_bjt_transient_{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let data = dir.join("tran.txt");
+    let body = deck.trim_end().strip_suffix(".end").unwrap();
+    let cir = dir.join("tran.cir");
+    std::fs::write(&cir, format!("{body}\n.control\ntran 1m 2\nwrdata {} v(out) v(in)\nquit\n.endc\n.end\n", data.display()))
+        .unwrap();
+    let out = std::process::Command::new("ngspice").arg("-b").arg(&cir).output().unwrap();
+    let log = String::from_utf8_lossy(&out.stdout).to_string() + &String::from_utf8_lossy(&out.stderr);
+    assert!(out.status.success() && !log.contains("aborted"), "{log}");
+    // wrdata writes "t v(out) t v(in)" per row.
+    let rows: Vec<[f64; 4]> = std::fs::read_to_string(&data)
+        .unwrap()
+        .lines()
+        .filter_map(|l| {
+            let v: Vec<f64> = l.split_whitespace().filter_map(|x| x.parse().ok()).collect();
+            (v.len() >= 4).then(|| [v[0], v[1], v[2], v[3]])
+        })
+        .collect();
+    assert!(rows.last().is_some_and(|r| r[0] >= 2.0 - 1e-9), "the run stopped early");
+    let crossings: Vec<f64> =
+        rows.windows(2).filter(|w| (w[0][1] - mid) * (w[1][1] - mid) < 0.0).map(|w| w[1][3]).collect();
+    println!("transient: output crosses its mid level at Vin = {crossings:?}; DC VT+ {:.4}, VT− {:.4}", ours.vt_upper_v, ours.vt_lower_v);
+    assert_eq!(crossings.len(), 2, "{crossings:?}");
+    assert!((crossings[0] - ours.vt_upper_v).abs() < 0.01 && (crossings[1] - ours.vt_lower_v).abs() < 0.01, "{crossings:?}");
+}
