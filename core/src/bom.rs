@@ -318,7 +318,34 @@ pub fn bom<C: Circuit>(
         });
     }
 
-    Ok(Bom { resistors, device: device_line(circuit, analysis, circuit.output_stage()), settings: *settings })
+    let mut device = device_line(circuit, analysis, circuit.output_stage());
+    device.notes.extend(transistor_notes(circuit, device.supply_max_v, settings.power_derating_factor));
+    Ok(Bom { resistors, device, settings: *settings })
+}
+
+/// Discrete transistors' VCEO, IC and power requirements at the highest supply, from the
+/// topology's bounds ([`Circuit::transistor_stress`]); current and power carry the derating factor
+/// (common practice: rate parts at least 2× their worst stress). Empty for other active devices.
+fn transistor_notes<C: Circuit>(circuit: &C, supply_max_v: f64, derating: f64) -> Vec<String> {
+    let watts = |w: f64| format!("{} mW", crate::notation::format_significant(w * 1e3, 3));
+    circuit
+        .with_supply(supply_max_v)
+        .transistor_stress()
+        .iter()
+        .map(|q| {
+            format!(
+                "{}: VCEO at least {} (largest VCE); IC rating at least {} ({}× the largest collector current {}); power rating at least {} ({}× the largest dissipation {})",
+                q.designator,
+                format_with_unit(q.vce_max_v, 3, Unit::Volt),
+                format_with_unit(q.collector_current_max_a * derating, 3, Unit::Ampere),
+                derating,
+                format_with_unit(q.collector_current_max_a, 3, Unit::Ampere),
+                watts(q.dissipation_max_w * derating),
+                derating,
+                watts(q.dissipation_max_w),
+            )
+        })
+        .collect()
 }
 
 fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage) -> DeviceLine {
@@ -340,7 +367,10 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
         format!("{supply} above a negative rail of {}", v(negative_rail_v))
     };
     notes.push(format!("must run from a {rails}"));
-    if let (Some(lo), Some(hi)) = (input_min_v, input_max_v) {
+    // Discrete transistors have no common-mode range or datasheet output swing: their
+    // requirements are the VCEO, IC and power lines (`transistor_notes`).
+    let discrete = stage == OutputStage::DiscreteTransistors;
+    if let (false, Some(lo), Some(hi)) = (discrete, input_min_v, input_max_v) {
         notes.push(format!("input common-mode range must cover {} to {} (both output states)", v(lo), v(hi)));
         let (dev_lo, dev_hi) = circuit.device_input_range();
         if lo < dev_lo - 1e-9 || hi > dev_hi + 1e-9 {
@@ -353,6 +383,11 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
     }
     let (voh, vol) = (analysis.output_high_v, analysis.output_low_v);
     notes.push(match stage {
+        OutputStage::DiscreteTransistors => format!(
+            "the thresholds assume output levels {} (high) and {} (low), set by RC2 and the emitter current",
+            v(voh),
+            v(vol)
+        ),
         OutputStage::OpenDrain => format!(
             "output low must reach {} at the sink current, and the output must withstand the pull-up voltage; the high level {} is set by the pull-up network",
             v(vol),

@@ -183,6 +183,25 @@ pub trait Circuit: Clone {
     /// What to check when the bench readings are off, specific to this topology (the bench
     /// procedure puts the hints common to every circuit first).
     fn troubleshooting(&self, analysis: &Analysis, checks: &CheckSettings) -> Vec<String>;
+
+    /// Upper bounds on the stress of each discrete transistor at this design's supply, for the
+    /// part list's VCEO, IC and power checks (empty when the active device is not discrete).
+    fn transistor_stress(&self) -> Vec<TransistorStress> {
+        Vec::new()
+    }
+}
+
+/// What one discrete transistor must withstand (upper bounds over every operating state).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TransistorStress {
+    /// Designator (Q1, Q2).
+    pub designator: String,
+    /// Largest collector–emitter voltage, volts (the rated VCEO must reach it).
+    pub vce_max_v: f64,
+    /// Largest collector current, amperes.
+    pub collector_current_max_a: f64,
+    /// Largest dissipation VCE·IC, watts.
+    pub dissipation_max_w: f64,
 }
 
 /// What a topology tells the catalog and the page without a design at hand.
@@ -534,6 +553,7 @@ macro_rules! topologies {
             fn troubleshooting(&self, analysis: &Analysis, checks: &CheckSettings) -> Vec<String> {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.troubleshooting(analysis, checks), )+ }
             }
+            fn transistor_stress(&self) -> Vec<TransistorStress> { match self { $( $(#[$attr])* Topology::$variant(c) => c.transistor_stress(), )+ } }
         }
 
         #[allow(unused_doc_comments)]
