@@ -256,8 +256,10 @@ fn legend<DB: DrawingBackend>(area: &DrawingArea<DB, plotters::coord::Shift>, it
         area.draw(&PathElement::new(vec![(x, y), (x + len, y)], colour.stroke_width((3.0 * scale).max(1.0) as u32))).map_err(err)?;
         x += len + (6.0 * scale) as i32;
         area.draw(&Text::new(name.to_string(), (x, y - (FONT_PX * scale * 0.55) as i32), font.clone())).map_err(err)?;
-        let (w, _) = area.estimate_text_size(name, &font).unwrap_or(((name.len() as f64 * 7.0 * scale) as u32, 0));
-        x += w as i32 + (18.0 * scale) as i32;
+        // The canvas backend underestimates text widths: take a generous average glyph width.
+        let estimate = (name.chars().count() as f64 * FONT_PX * 0.6 * scale) as u32;
+        let w = area.estimate_text_size(name, &font).map_or(estimate, |(w, _)| w.max(estimate));
+        x += w as i32 + (16.0 * scale) as i32;
     }
     Ok(())
 }
@@ -367,7 +369,7 @@ fn transfer_on<DB: DrawingBackend>(
     let font_px = FONT_PX * dpr;
     let font = ("sans-serif", font_px as u32).into_font().color(&colours::INK);
     let (head, body) = root.split_vertically((24.0 * dpr) as u32);
-    legend(&head, &[("rising input (switches at VT+)", colours::RISING), ("falling input (at VT−)", colours::FALLING)], dpr)?;
+    legend(&head, &[("rising input → VT+", colours::RISING), ("falling input → VT−", colours::FALLING)], dpr)?;
     let mut chart = ChartBuilder::on(&body)
         .margin_left((6.0 * dpr) as u32)
         .margin_right((14.0 * dpr) as u32)

@@ -33,6 +33,8 @@ async fn cdp(s: &Session, cmd: &str, params: serde_json::Value) -> serde_json::V
 /// Makes the page's viewport `width` × `height` CSS pixels at `dpr` device pixels per CSS pixel, and
 /// waits until the page sees that size.
 async fn viewport(s: &Session, width: u32, height: u32, dpr: f64) {
+    // Phones draw scrollbars over the page: the layout width is the whole screen width.
+    cdp(s, "Emulation.setScrollbarsHidden", serde_json::json!({"hidden": true})).await;
     cdp(
         s,
         "Emulation.setDeviceMetricsOverride",
@@ -135,9 +137,11 @@ async fn no_element_wider_than_a_phone_screen_and_screenshots_of_every_demo() {
         );
         // Numbers keep their units on one line: no value cell of the tables breaks inside.
         let broken = s
-            .js("return [...document.querySelectorAll('table.grid td, .key-value')].filter(td => !td.classList.contains('notes') && !td.hasAttribute('colspan') \
-                 && /\\d/.test(td.textContent) && td.getClientRects().length > 0 && td.getBoundingClientRect().height > 2.2 * parseFloat(getComputedStyle(td).fontSize)) \
-                 .map(td => td.textContent).slice(0, 5);")
+            .js("const lines = el => { const r = document.createRange(); r.selectNodeContents(el); \
+                   const fs = parseFloat(getComputedStyle(el).fontSize); const tops = [...r.getClientRects()].filter(b => b.width > 0).map(b => b.top).sort((a, b) => a - b); \
+                   return 1 + tops.filter((t, i) => i > 0 && t - tops[i - 1] > 0.6 * fs).length; }; \
+                 return [...document.querySelectorAll('table.grid td, .key-value')].filter(td => !td.classList.contains('notes') && !td.hasAttribute('colspan') \
+                 && /\\d/.test(td.textContent) && td.getClientRects().length > 0 && lines(td) > 1).map(td => td.textContent).slice(0, 5);")
             .await;
         assert_eq!(broken, serde_json::json!([]), "{}: values wrapped across lines", demo.key);
         close_studies(&s).await;
@@ -169,6 +173,7 @@ async fn results_and_curve_stay_in_view_while_editing() {
     // (the page scrolls to it); the key results and the curve must stay wholly in view.
     for css in ["#field-supply_v", "#tol-resistor", "#bom-package", "#mc-trials"] {
         let el = s.wait_for(css).await;
+        s.js(&format!("document.querySelector('{css}').scrollIntoView({{block: 'center'}}); return true;")).await;
         el.click().await.unwrap_or_else(|e| panic!("click {css}: {e}"));
         s.wait_js(&format!("{css} to have the focus"), &format!("return document.activeElement === document.querySelector('{css}');")).await;
         let scrolled = s.js("return window.scrollY;").await;
@@ -187,6 +192,7 @@ async fn results_and_curve_stay_in_view_while_editing() {
     // field far down is focused.
     viewport(&s, 390, 844, 2.0).await;
     let el = s.wait_for("#mc-trials").await;
+    s.js("document.querySelector('#mc-trials').scrollIntoView({block: 'center'}); return true;").await;
     el.click().await.expect("click the trials field");
     let context = "with #mc-trials focused at 390 × 844";
     assert_in_view(&s, "#key-strip", context).await;
