@@ -121,19 +121,50 @@ mod redraw {
         static OBSERVER: RefCell<Option<(ResizeObserver, Closure<dyn FnMut(js_sys::Array)>)>> = const { RefCell::new(None) };
     }
 
+    fn stale(canvas: &HtmlCanvasElement) -> bool {
+        match super::css_size(canvas) {
+            Some((w, h, dpr)) => canvas.width() != (w * dpr).round() as u32 || canvas.height() != (h * dpr).round() as u32,
+            None => false,
+        }
+    }
+
+    /// Redraws every kept canvas whose backing store no longer matches its size × pixel ratio.
+    fn redraw_stale() {
+        let canvases: Vec<HtmlCanvasElement> = ENTRIES.with(|e| e.borrow().iter().map(|x| x.canvas.clone()).collect());
+        for c in canvases.iter().filter(|c| stale(c)) {
+            redraw(c);
+        }
+    }
+
+    /// Redraws when the device-pixel ratio changes (browser zoom, a window moved to another
+    /// screen), which need not change any element's CSS size: a media query on the present ratio
+    /// reports the change once, then a new one is set for the new ratio.
+    fn watch_ratio() {
+        let Some(w) = web_sys::window() else { return };
+        let query = format!("(resolution: {}dppx)", w.device_pixel_ratio());
+        let call = |target: &JsValue, name: &str, args: &[JsValue]| -> Option<JsValue> {
+            let f = js_sys::Reflect::get(target, &name.into()).ok()?.dyn_into::<js_sys::Function>().ok()?;
+            let args: js_sys::Array = args.iter().collect();
+            f.apply(target, &args).ok()
+        };
+        let Some(list) = call(&w, "matchMedia", &[query.into()]) else { return };
+        let on_change = Closure::once_into_js(move || {
+            redraw_stale();
+            watch_ratio();
+        });
+        let _ = call(&list, "addEventListener", &["change".into(), on_change]);
+    }
+
     fn observer() -> Option<ResizeObserver> {
         OBSERVER.with(|o| {
             let mut o = o.borrow_mut();
             if o.is_none() {
+                watch_ratio();
                 let cb = Closure::<dyn FnMut(js_sys::Array)>::new(|entries: js_sys::Array| {
                     for e in entries.iter() {
                         let Ok(target) = js_sys::Reflect::get(&e, &"target".into()) else { continue };
                         let Ok(canvas) = target.dyn_into::<HtmlCanvasElement>() else { continue };
-                        let stale = match super::css_size(&canvas) {
-                            Some((w, h, dpr)) => canvas.width() != (w * dpr).round() as u32 || canvas.height() != (h * dpr).round() as u32,
-                            None => false,
-                        };
-                        if stale {
+                        if stale(&canvas) {
                             redraw(&canvas);
                         }
                     }
@@ -180,7 +211,15 @@ mod redraw {
         });
         if !known {
             if let Some(obs) = observer() {
-                obs.observe(canvas);
+                // Watch the size in device pixels, so a change of pixel ratio alone (a window moved
+                // to another screen, browser zoom) redraws too; browsers without that box get the
+                // plain content box.
+                let opts = js_sys::Object::new();
+                let _ = js_sys::Reflect::set(&opts, &"box".into(), &"device-pixel-content-box".into());
+                let observe = js_sys::Reflect::get(&obs, &"observe".into()).ok().and_then(|f| f.dyn_into::<js_sys::Function>().ok());
+                if observe.is_none_or(|f| f.call2(&obs, canvas, &opts).is_err()) {
+                    obs.observe(canvas);
+                }
             }
         }
         let frame = draw(canvas);

@@ -2,7 +2,9 @@
 //! screen for any demo, with every study open; on a wide screen (1400 × 1000) the key results and
 //! the transfer curve stay in view while a field far down the inputs has the focus; every plot is
 //! drawn at its on-screen size times the device-pixel ratio and again when that size changes.
-//! The run saves screenshots of every demo at 1400 px and 390 px wide in `target/screenshots/`.
+//! The run saves screenshots of every demo at 1400 px and 390 px wide in `target/screenshots/`
+//! (`<demo>-1400.png`, `<demo>-390.png`, and `lathe-tachometer-studies-*.png` with the studies open
+//! and run).
 
 use base64::Engine;
 use fantoccini::wd::WebDriverCompatibleCommand;
@@ -104,11 +106,14 @@ async fn close_studies(s: &Session) {
 /// Waits until the plots on screen have been drawn at their present size (the backing store is the
 /// CSS size × device-pixel ratio, to the pixel).
 async fn plots_fit(s: &Session, what: &str) {
-    s.wait_js(
-        &format!("the plots to be drawn at CSS size × devicePixelRatio ({what})"),
-        "const shown = [...document.querySelectorAll('canvas')].filter(c => c.clientWidth > 0 && c.clientHeight > 0); \
-         return shown.length > 0 && shown.every(c => c.width === Math.round(c.clientWidth * devicePixelRatio) && c.height === Math.round(c.clientHeight * devicePixelRatio));",
-    )
+    let script = "const shown = [...document.querySelectorAll('canvas')].filter(c => c.clientWidth > 0 && c.clientHeight > 0); \
+         const bad = shown.filter(c => c.width !== Math.round(c.clientWidth * devicePixelRatio) || c.height !== Math.round(c.clientHeight * devicePixelRatio)) \
+             .map(c => (c.id || c.className) + ' ' + c.width + '×' + c.height + ' for ' + c.clientWidth + '×' + c.clientHeight + ' at ' + devicePixelRatio); \
+         return { shown: shown.length, bad };";
+    browser::wait_until(&format!("the plots to be drawn at CSS size × devicePixelRatio ({what})"), browser::WAIT, || async {
+        let v = s.js(script).await;
+        if v["shown"].as_u64().unwrap_or(0) > 0 && v["bad"].as_array().is_some_and(|b| b.is_empty()) { Ok(()) } else { Err(v.to_string()) }
+    })
     .await;
 }
 
@@ -233,5 +238,11 @@ async fn plots_are_drawn_at_screen_size_times_pixel_ratio() {
     // Zooming redraws at the same backing size (no stretched bitmap).
     s.wait_for("#zoom-in").await.click().await.expect("zoom in");
     plots_fit(&s, "time view after zoom").await;
+    // The studies with their plots, for the eye: at 1400 px and at 390 px.
+    plots_fit(&s, "studies at 1400 px").await;
+    screenshot(&s, "lathe-tachometer-studies-1400").await;
+    viewport(&s, 390, 844, 2.0).await;
+    plots_fit(&s, "studies at 390 px").await;
+    screenshot(&s, "lathe-tachometer-studies-390").await;
     s.close().await;
 }
