@@ -36,15 +36,15 @@ pub mod colours {
 
 /// Typical width of one tick label with its gap, CSS pixels: the number of labels an axis gets is
 /// its length divided by this, so labels never run together however narrow the plot.
-const TICK_SPACING_X_PX: f64 = 78.0;
+const TICK_SPACING_X_PX: f64 = 64.0;
 /// Typical height of one tick label with its gap on a vertical axis, CSS pixels.
 const TICK_SPACING_Y_PX: f64 = 34.0;
 /// Font size of plot text, CSS pixels.
 const FONT_PX: f64 = 12.0;
 
-/// How many tick labels fit along `length_px` CSS pixels at `spacing_px` each (at least 2, at most 10).
+/// How many tick labels fit along `length_px` CSS pixels at `spacing_px` each (at least 3, at most 10).
 pub fn tick_count(length_px: f64, spacing_px: f64) -> usize {
-    ((length_px / spacing_px).floor() as usize).clamp(2, 10)
+    ((length_px / spacing_px).floor() as usize).clamp(3, 10)
 }
 
 /// A tick label for `v` on an axis spanning `span` with about `n` labels: as many decimals as the

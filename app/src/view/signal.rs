@@ -191,8 +191,8 @@ pub fn SignalSection() -> impl IntoView {
             // The input on its volts axis; each output in a lane of its own below it.
             let input = Trace { envelope: &input, colour: colours::INK, label: "input" };
             let outputs = [
-                Trace { envelope: &out_d, colour: colours::RISING, label: "this design's output" },
-                Trace { envelope: &out_b, colour: colours::FALLING, label: "plain comparator's output" },
+                Trace { envelope: &out_d, colour: colours::RISING, label: "this design" },
+                Trace { envelope: &out_b, colour: colours::FALLING, label: "plain comparator" },
             ];
             let marks: Vec<_> = r.baseline_edges.iter().map(|e| (e.mid_s, colours::FALLING))
                 .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING))).collect();
