@@ -1,9 +1,11 @@
 //! The circuit section: topology choice with a note on when to use it, every numeric quantity of
 //! the circuit as a field, and the whole circuit as JSON for structural options.
 
+use super::share::{schematic_url, StyleChoice};
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::catalog;
+use hysteron_core::schematic::SymbolStyle;
 use hysteron_core::topology::{Circuit, Topology};
 use leptos::prelude::*;
 
@@ -89,6 +91,35 @@ pub fn CircuitSection() -> impl IntoView {
                 </div>
                 {move || json_error.get().map(|e| view! { <p class="error" id="circuit-json-error" role="alert">{e}</p> })}
             </details>
+        </section>
+    }
+}
+
+/// The schematic of the open design with its part values, in the chosen symbol style; it stands
+/// with the results, in view beside (or above) the inputs.
+#[component]
+pub fn SchematicView() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let style = expect_context::<StyleChoice>().0;
+    let image = Memo::new(move |_| {
+        let s = style.get();
+        nb.with_settled(|r| schematic_url(r, s)).unwrap_or_default()
+    });
+    view! {
+        <section class="card schematic-card" aria-labelledby="schematic-heading" id="schematic-view">
+            <div class="card-head">
+                <h2 id="schematic-heading">"Schematic"</h2>
+                <div class="inline-field no-print">
+                    <label for="symbol-style">"Symbols"</label>
+                    <select id="symbol-style"
+                        prop:value=move || if style.get() == SymbolStyle::Ieee315 { "ieee315" } else { "iec60617" }
+                        on:change=move |ev| style.set(if event_target_value(&ev) == "ieee315" { SymbolStyle::Ieee315 } else { SymbolStyle::Iec60617 })>
+                        <option value="iec60617">"IEC 60617"</option>
+                        <option value="ieee315">"IEEE 315"</option>
+                    </select>
+                </div>
+            </div>
+            <img id="schematic" class="schematic" src=move || image.get() alt="Schematic of the circuit with part designators and values" />
         </section>
     }
 }

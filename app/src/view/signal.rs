@@ -174,7 +174,6 @@ pub fn SignalSection() -> impl IntoView {
         }
     };
     let canvas: NodeRef<Canvas> = NodeRef::new();
-    let frame = StoredValue::new(None::<plot::PlotFrame>);
     let hover = RwSignal::new(String::new());
     Effect::new(move |_| {
         let (t0, t1) = view_window.get();
@@ -189,18 +188,15 @@ pub fn SignalSection() -> impl IntoView {
             downsample_min_max(times, &r.design_output_v, t0, t1, buckets, &mut out_d);
             downsample_min_max(times, &r.baseline_output_v, t0, t1, buckets, &mut out_b);
             let t = r.report.design.thresholds;
-            let (lo, hi) = input.min_v.iter().zip(&input.max_v).fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), (x, y)| (a.min(*x), b.max(*y)));
-            let span = (hi - lo).max(1e-3);
-            let swing = (r.design_output_v.iter().cloned().fold(f64::NEG_INFINITY, f64::max) - r.design_output_v.iter().cloned().fold(f64::INFINITY, f64::min)).max(1e-6);
-            let scale = 0.35 * span / swing;
-            let traces = [
-                Trace { envelope: &input, colour: colours::INK, offset_v: 0.0, scale: 1.0 },
-                Trace { envelope: &out_d, colour: colours::RISING, offset_v: lo - 0.45 * span, scale },
-                Trace { envelope: &out_b, colour: colours::FALLING, offset_v: lo - 0.9 * span, scale },
+            // The input on its volts axis; each output in a lane of its own below it.
+            let input = Trace { envelope: &input, colour: colours::INK, label: "input" };
+            let outputs = [
+                Trace { envelope: &out_d, colour: colours::RISING, label: "this design" },
+                Trace { envelope: &out_b, colour: colours::FALLING, label: "plain comparator" },
             ];
             let marks: Vec<_> = r.baseline_edges.iter().map(|e| (e.mid_s, colours::FALLING))
                 .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING))).collect();
-            frame.set_value(plot::draw_time(&c, t0, t1, &traces, (t.vt_upper_v, t.vt_lower_v), &marks).ok());
+            let _ = plot::draw_time(&c, t0, t1, input, &outputs, (t.vt_upper_v, t.vt_lower_v), &marks);
         });
     });
     let zoom = move |factor: f64| {
@@ -336,10 +332,10 @@ pub fn SignalSection() -> impl IntoView {
                     <button class="quiet small" on:click=full>"Whole record"</button>
                     <span class="note" id="time-window">{move || { let (a, b) = view_window.get(); format!("{:.6} s … {:.6} s", a, b) }}</span>
                 </div>
-                <canvas id="time-plot" node_ref=canvas role="img" aria-label="Signal with the thresholds, the design's output (blue) and the plain comparator's output (orange); triangles mark output edges"
+                <canvas id="time-plot" node_ref=canvas role="img" aria-label="Signal with the thresholds on top; below it, each in its own lane, the design's output and the plain comparator's output; triangles mark output edges"
                     on:wheel=move |ev| { ev.prevent_default(); zoom(if ev.delta_y() > 0.0 { 1.25 } else { 0.8 }); }
                     on:mousemove=move |ev: leptos::ev::MouseEvent| {
-                        let v = frame.get_value().and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
+                        let v = canvas.get_untracked().and_then(|c| plot::current_frame(&c)).and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
                         hover.set(v.map(|(t, y)| format!("t = {t:.6} s, {y:.3} V")).unwrap_or_default());
                     }
                     on:mouseleave=move |_| hover.set(String::new())></canvas>
