@@ -84,6 +84,9 @@ impl Package {
     }
 }
 
+/// How the package ratings are known, for the part list's "Rating" column and its notes.
+pub const PACKAGE_RATING_BASIS: &str = "typical package rating at 70 °C (common practice; check the part's datasheet)";
+
 /// Common resistor power ratings, watts, from which a suggestion is picked (common practice).
 pub const POWER_RATINGS_W: [f64; 11] = [0.05, 0.0625, 0.1, 0.125, 0.25, 0.5, 0.75, 1.0, 2.0, 3.0, 5.0];
 
@@ -145,8 +148,13 @@ pub struct ResistorLine {
     pub max_power_w: Option<f64>,
     /// Suggested power rating, watts (smallest common rating ≥ derating factor × worst dissipation).
     pub suggested_rating_w: Option<f64>,
-    /// The package's typical power rating, watts.
+    /// The package's typical power rating at 70 °C, watts (common practice, see
+    /// [`Package::power_rating_w`]; [`PACKAGE_RATING_BASIS`] says so wherever it is shown).
     pub package_rating_w: f64,
+    /// Whether the package's rating reaches the suggested minimum rating (`None` without a
+    /// dissipation figure).
+    #[serde(default)]
+    pub rating_sufficient: Option<bool>,
     /// Largest voltage across the part, volts.
     pub max_volts: Option<f64>,
     /// Rated voltage of this value in this package: min(√(P·R), limiting element voltage), volts.
@@ -312,6 +320,7 @@ pub fn bom<C: Circuit>(
             max_power_w,
             suggested_rating_w,
             package_rating_w: package.power_rating_w(),
+            rating_sufficient: suggested_rating_w.map(|r| package.power_rating_w() >= r),
             max_volts,
             voltage_limit_v,
             notes,
@@ -471,6 +480,10 @@ mod tests {
         let node_p = (5.0 / 120.0) / (2.0 / 120.0 + 1.0 / 10e3);
         assert!((p - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12, "{p}");
         assert_eq!(r1.suggested_rating_w, Some(0.125));
+        // The package's own rating stays the 0603's 0.1 W (common practice), and it falls short.
+        assert_eq!((r1.package_rating_w, r1.rating_sufficient), (0.1, Some(false)));
+        let cool = &b.resistors[2];
+        assert_eq!((cool.package_rating_w, cool.rating_sufficient), (0.1, Some(true)));
         assert!(r1.notes.iter().any(|n| n.contains("use 0805 or larger")), "{:?}", r1.notes);
     }
 
