@@ -22,6 +22,8 @@ pub use crate::analysis::OutputStage;
 use crate::topology::{analyse, Circuit, ParameterKind};
 use serde::{Deserialize, Serialize};
 
+pub mod application;
+
 /// Resistor package (case size) chosen for the part list; 0603 by default.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 pub enum Package {
@@ -197,6 +199,10 @@ pub struct Bom {
     pub resistors: Vec<ResistorLine>,
     /// The active device.
     pub device: DeviceLine,
+    /// The parts of the record's oscillator and debouncer ([`application::application_parts`];
+    /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
+    #[serde(default)]
+    pub application: Vec<application::ApplicationPart>,
     /// The settings it was built with.
     pub settings: PartSettings,
 }
@@ -327,7 +333,12 @@ pub fn bom<C: Circuit>(
         });
     }
 
-    Ok(Bom { resistors, device: device_line(circuit, analysis, circuit.output_stage()), settings: *settings })
+    Ok(Bom {
+        resistors,
+        device: device_line(circuit, analysis, circuit.output_stage()),
+        application: Vec::new(),
+        settings: *settings,
+    })
 }
 
 fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage) -> DeviceLine {
@@ -417,6 +428,28 @@ impl Bom {
                 csv_number(r.max_volts),
                 csv_number(Some(r.voltage_limit_v)),
                 r.notes.join("; "),
+            ]);
+        }
+        for p in &self.application {
+            let resistor = p.kind == application::PartKind::Resistor;
+            let mut notes = p.notes.clone();
+            if let Some(v) = p.suggested_voltage_v {
+                notes.insert(0, format!("voltage rating at least {v} V"));
+            }
+            line(&[
+                p.designator.clone(),
+                format!("{}, {}", if resistor { "resistor" } else { "capacitor" }, p.label),
+                p.value_rkm.clone().unwrap_or_else(|| p.value_text.clone()),
+                p.value_text.clone(),
+                p.series.to_string(),
+                if resistor { csv_number(Some(self.settings.tolerance_pct)) } else { String::new() },
+                if resistor { self.settings.package.label().to_string() } else { String::new() },
+                csv_number(p.max_power_w),
+                csv_number(p.suggested_rating_w),
+                if resistor { csv_number(Some(self.settings.package.power_rating_w())) } else { String::new() },
+                csv_number(Some(p.max_volts)),
+                String::new(),
+                notes.join("; "),
             ]);
         }
         let d = &self.device;

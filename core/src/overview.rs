@@ -120,10 +120,14 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
     })
 }
 
-/// The part list of a record from its analysis (made with the record's checks). The one place
-/// the part list is built.
+/// The part list of a record from its analysis (made with the record's checks), with the parts of
+/// its oscillator and debouncer. The one place the part list is built.
 pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, DesignError> {
-    crate::bom::bom(&record.circuit, analysis, &record.checks, &record.parts)
+    let mut b = crate::bom::bom(&record.circuit, analysis, &record.checks, &record.parts)?;
+    let used: Vec<String> = b.resistors.iter().map(|r| r.designator.clone()).collect();
+    b.application =
+        crate::bom::application::application_parts(record.application.as_ref(), analysis, &used, &record.parts)?;
+    Ok(b)
 }
 
 /// The threshold limits a worst-case study gives.

@@ -58,6 +58,21 @@ pub fn PartListSection() -> impl IntoView {
                                     <td class="notes">{r.notes.join("; ")}</td>
                                 </tr>
                             }).collect_view()}
+                            {b.application.iter().map(|p| view! {
+                                <tr class="bom-app-line" data-designator=p.designator.clone() data-value=p.value.to_string()>
+                                    <td>{p.designator.clone()}</td>
+                                    <td>{p.value_text.clone()}</td>
+                                    <td>{p.value_rkm.clone().unwrap_or_default()}</td>
+                                    <td>{p.series.to_string()}</td>
+                                    <td></td>
+                                    <td>{p.label.clone()}</td>
+                                    <td>{p.max_power_w.map(|w| format!("{:.3} mW", w * 1e3)).unwrap_or_default()}</td>
+                                    <td></td>
+                                    <td>{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td>
+                                    <td>{format!("{:.2} V", p.max_volts)}</td>
+                                    <td class="notes">{p.notes.join("; ")}</td>
+                                </tr>
+                            }).collect_view()}
                             <tr class="bom-device">
                                 <td>{b.device.designator.clone()}</td>
                                 <td colspan="10">{b.device.description.clone()}
