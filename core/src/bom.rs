@@ -22,6 +22,8 @@ pub use crate::analysis::OutputStage;
 use crate::topology::{analyse, Circuit, ParameterKind};
 use serde::{Deserialize, Serialize};
 
+pub mod application;
+
 /// Resistor package (case size) chosen for the part list; 0603 by default.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 pub enum Package {
@@ -84,6 +86,9 @@ impl Package {
     }
 }
 
+/// How the package ratings are known, for the part list's "Rating" column and its notes.
+pub const PACKAGE_RATING_BASIS: &str = "typical package rating at 70 °C (common practice; check the part's datasheet)";
+
 /// Common resistor power ratings, watts, from which a suggestion is picked (common practice).
 pub const POWER_RATINGS_W: [f64; 11] = [0.05, 0.0625, 0.1, 0.125, 0.25, 0.5, 0.75, 1.0, 2.0, 3.0, 5.0];
 
@@ -145,8 +150,13 @@ pub struct ResistorLine {
     pub max_power_w: Option<f64>,
     /// Suggested power rating, watts (smallest common rating ≥ derating factor × worst dissipation).
     pub suggested_rating_w: Option<f64>,
-    /// The package's typical power rating, watts.
+    /// The package's typical power rating at 70 °C, watts (common practice, see
+    /// [`Package::power_rating_w`]; [`PACKAGE_RATING_BASIS`] says so wherever it is shown).
     pub package_rating_w: f64,
+    /// Whether the package's rating reaches the suggested minimum rating (`None` without a
+    /// dissipation figure).
+    #[serde(default)]
+    pub rating_sufficient: Option<bool>,
     /// Largest voltage across the part, volts.
     pub max_volts: Option<f64>,
     /// Rated voltage of this value in this package: min(√(P·R), limiting element voltage), volts.
@@ -189,6 +199,10 @@ pub struct Bom {
     pub resistors: Vec<ResistorLine>,
     /// The active device.
     pub device: DeviceLine,
+    /// The parts of the record's oscillator and debouncer ([`application::application_parts`];
+    /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
+    #[serde(default)]
+    pub application: Vec<application::ApplicationPart>,
     /// The settings it was built with.
     pub settings: PartSettings,
 }
@@ -312,6 +326,7 @@ pub fn bom<C: Circuit>(
             max_power_w,
             suggested_rating_w,
             package_rating_w: package.power_rating_w(),
+            rating_sufficient: suggested_rating_w.map(|r| package.power_rating_w() >= r),
             max_volts,
             voltage_limit_v,
             notes,
@@ -320,7 +335,7 @@ pub fn bom<C: Circuit>(
 
     let mut device = device_line(circuit, analysis, circuit.output_stage());
     device.notes.extend(transistor_notes(circuit, device.supply_max_v, settings.power_derating_factor));
-    Ok(Bom { resistors, device, settings: *settings })
+    Ok(Bom { resistors, device, application: Vec::new(), settings: *settings })
 }
 
 /// Discrete transistors' VCEO, IC and power requirements at the highest supply, from the
@@ -448,6 +463,28 @@ impl Bom {
                 r.notes.join("; "),
             ]);
         }
+        for p in &self.application {
+            let resistor = p.kind == application::PartKind::Resistor;
+            let mut notes = p.notes.clone();
+            if let Some(v) = p.suggested_voltage_v {
+                notes.insert(0, format!("voltage rating at least {v} V"));
+            }
+            line(&[
+                p.designator.clone(),
+                format!("{}, {}", if resistor { "resistor" } else { "capacitor" }, p.label),
+                p.value_rkm.clone().unwrap_or_else(|| p.value_text.clone()),
+                p.value_text.clone(),
+                p.series.to_string(),
+                if resistor { csv_number(Some(self.settings.tolerance_pct)) } else { String::new() },
+                if resistor { self.settings.package.label().to_string() } else { String::new() },
+                csv_number(p.max_power_w),
+                csv_number(p.suggested_rating_w),
+                if resistor { csv_number(Some(self.settings.package.power_rating_w())) } else { String::new() },
+                csv_number(Some(p.max_volts)),
+                String::new(),
+                notes.join("; "),
+            ]);
+        }
         let d = &self.device;
         line(&[
             d.designator.clone(),
@@ -509,6 +546,10 @@ mod tests {
         let node_p = (5.0 / 120.0) / (2.0 / 120.0 + 1.0 / 10e3);
         assert!((p - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12, "{p}");
         assert_eq!(r1.suggested_rating_w, Some(0.125));
+        // The package's own rating stays the 0603's 0.1 W (common practice), and it falls short.
+        assert_eq!((r1.package_rating_w, r1.rating_sufficient), (0.1, Some(false)));
+        let cool = &b.resistors[2];
+        assert_eq!((cool.package_rating_w, cool.rating_sufficient), (0.1, Some(true)));
         assert!(r1.notes.iter().any(|n| n.contains("use 0805 or larger")), "{:?}", r1.notes);
     }
 

@@ -51,6 +51,12 @@ pub struct Evaluation {
     pub errors: Vec<StudyError>,
     /// Tolerance analysis, when the record has tolerance settings.
     pub tolerance: Option<ToleranceReport>,
+    /// The two named windows, when the record has tolerance settings: the field window (every
+    /// tolerance over its full range; the tolerance study's worst case) and the bench window at
+    /// each supply the bench procedure sets (part tolerances and device spread at 25 °C), see
+    /// [`crate::tolerance::bench_window`].
+    #[serde(default)]
+    pub windows: Option<crate::tolerance::Windows>,
     /// The signal study's summary, when the record has signal settings.
     pub signal: Option<crate::signal::report::SignalReport>,
     /// The applications (oscillator, debouncer), when the record has application settings.
@@ -132,6 +138,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
     });
     let tolerance = crate::finite::keep("tolerance", tolerance, &mut fail);
+    let windows = match (&tolerance, &analysis) {
+        (Some(t), Some(a)) => crate::overview::windows(record, a, Some(&t.worst_case)).map_err(|e| fail("bench_window", e)).ok(),
+        _ => None,
+    };
+    let windows = crate::finite::keep("bench_window", windows, &mut fail);
     let signal = record.signal.as_ref().and_then(|s| match crate::signal::report::evaluate_record_signal(&record.circuit, s) {
         Ok(r) => Some(r),
         Err(e) => {
@@ -170,7 +181,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         let (spice, bench) = match &analysis {
             Some(a) => (
                 crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
-                Some(crate::overview::bench(record, a, tolerance.as_ref().map(|t| &t.worst_case))),
+                Some(crate::overview::bench(record, a, windows.as_ref())),
             ),
             None => (None, None),
         };
@@ -185,6 +196,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         synthesis,
         errors,
         tolerance,
+        windows,
         signal,
         application,
         bom,

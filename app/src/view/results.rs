@@ -1,12 +1,12 @@
-//! Results of the open design: VT+, VT− and the hysteresis with their windows (the bench window
-//! from the worst case, the spec window the user set), the other levels, warnings and the transfer
+//! Results of the open design: VT+, VT− and the hysteresis with their windows (field and bench
+//! windows from core's tolerance study, the spec window the user set), the other levels, warnings and the transfer
 //! curve. These stay in view beside the inputs (wide screens) or above them (narrow screens).
 
 use super::state::Notebook;
 use crate::plot;
 use hysteron_core::analysis::Analysis;
-use hysteron_core::overview::{quick, Quick};
-use hysteron_core::tolerance::{worst_case, SpecWindow};
+use hysteron_core::overview::{quick, record_windows, Quick};
+use hysteron_core::tolerance::{worst_case::WorstCase, SpecWindow};
 use hysteron_core::topology::TransferCurve;
 use leptos::html::Canvas;
 use leptos::prelude::*;
@@ -76,11 +76,9 @@ pub fn Results(figures: Figures) -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let analysis = figures.analysis;
     let curve = Memo::new(move |_| figures.quick.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
-    // The bench window: the worst case over the tolerances (what the bench procedure accepts),
-    // computed once typing pauses.
-    let bench = Memo::new(move |_| {
-        nb.with_settled(|r| worst_case(&r.circuit, &r.tolerance.clone().unwrap_or_default()).ok()).flatten()
-    });
+    // The field window (every tolerance over its full range) and the bench window (parts and
+    // device spread at 25 °C and the nominal supply), computed once typing pauses.
+    let windows = Memo::new(move |_| nb.with_settled(|r| record_windows(r).ok()).flatten());
     let spec = Memo::new(move |_| nb.with_current(|r| r.tolerance.as_ref().map(|t| t.spec)).flatten().unwrap_or_default());
     // The figures saved with the design are its record for the bench: if today's math gives other
     // numbers (a newer version, say), say so and show both rather than silently changing them.
@@ -114,7 +112,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
     let value = move |f: fn(&Analysis) -> f64| move || analysis.with(|a| a.as_ref().map(f).ok());
     // One key figure: its name, what it means, the value, and its windows where there are any.
     type Window = fn(&SpecWindow) -> (Option<f64>, Option<f64>);
-    type Bench = fn(&hysteron_core::tolerance::worst_case::WorstCase) -> (f64, f64);
+    type Bench = fn(&WorstCase) -> (f64, f64);
     let key = move |id: &'static str, name: &'static str, note: &'static str, f: fn(&Analysis) -> f64, spec_of: Window, bench_of: Bench| {
         let v = value(f);
         let spec_text = move || spec.with(|s| {
@@ -125,7 +123,8 @@ pub fn Results(figures: Figures) -> impl IntoView {
             let (lo, hi) = spec.with(spec_of);
             v().is_some_and(|x| lo.is_some_and(|l| x < l) || hi.is_some_and(|h| x > h))
         };
-        let bench_range = move || bench.with(|b| b.as_ref().map(bench_of));
+        let field_range = move || windows.with(|w| w.as_ref().map(|w| bench_of(&w.field)));
+        let bench_range = move || windows.with(|w| w.as_ref().and_then(|w| w.bench.first()).map(|b| bench_of(&b.worst_case)));
         view! {
             <div class="key-figure" id=format!("key-{id}")>
                 <span class="key-name">{name}</span>
@@ -133,6 +132,11 @@ pub fn Results(figures: Figures) -> impl IntoView {
                 <output id=id class="key-value" data-value=move || v().map(|x| x.to_string()).unwrap_or_default()>
                     {move || v().map(volts).unwrap_or_else(|| "—".into())}
                 </output>
+                {move || field_range().map(|(lo, hi)| view! {
+                    <span class="key-window" id=format!("{id}-field") data-min=lo.to_string() data-max=hi.to_string()>
+                        "field " {window_text(Some(lo), Some(hi))}
+                    </span>
+                })}
                 {move || bench_range().map(|(lo, hi)| view! {
                     <span class="key-window" id=format!("{id}-bench") data-min=lo.to_string() data-max=hi.to_string()>
                         "bench " {window_text(Some(lo), Some(hi))}
@@ -168,7 +172,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
                 {key("hysteresis", "Hysteresis", "VT+ − VT−", |a| a.hysteresis_v,
                     |s| (s.hysteresis_min_v, s.hysteresis_max_v), |w| (w.hysteresis.min.value_v, w.hysteresis.max.value_v))}
             </div>
-            <p class="key-legend note">"Bench: the worst case over the tolerances, as the bench procedure accepts it. Spec: your window (under Tolerance)."</p>
+            <p class="key-legend note">"Field: every tolerance over its full range (supply, temperature, parts, device). Bench: parts and device spread only, at 25 °C and the nominal supply — what the bench procedure accepts. Spec: your window (under Tolerance)."</p>
             <figure class="plot">
                 <canvas id="transfer-plot" node_ref=canvas
                     on:mousemove=on_move on:mouseleave=move |_| hover.set(String::new())

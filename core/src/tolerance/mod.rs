@@ -6,6 +6,8 @@
 //! - [`worst_case`]: extreme values over every corner, or by the sensitivity-sign method;
 //! - [`gum`]: combined standard uncertainty by the GUM law of propagation (JCGM 100:2008);
 //! - [`monte_carlo`]: JCGM 101:2008 Monte Carlo, seeded, chunkable, with the yield;
+//! - [`bench_window`]: the bench window (parts and device spread at 25 °C and a set supply) beside
+//!   the field window (the worst case over every tolerance);
 //! - [`budget`]: per-source error budget in millivolts for a design review;
 //! - [`input_standard`]: IEC 61131-2 24 V digital-input windows and the conformity check.
 //!
@@ -30,6 +32,7 @@ use crate::error::DesignError;
 use crate::topology::{sensitivities, Circuit};
 use serde::{Deserialize, Serialize};
 
+pub mod bench_window;
 pub mod budget;
 pub mod gum;
 pub mod input_standard;
@@ -38,6 +41,7 @@ pub mod settings;
 pub mod spec_window;
 pub mod worst_case;
 
+pub use bench_window::{bench_window, BenchWindow, Windows};
 pub use budget::{error_budget, ErrorBudget};
 pub use gum::{gum, GumReport};
 pub use input_standard::{InputCurrentCheck, InputType, InputTypeCheck};

@@ -23,6 +23,7 @@ pub mod schmitt_gate;
 pub mod bjt_pair;
 pub mod netlisting;
 pub mod comparator;
+pub mod input_rails;
 pub mod logic;
 #[cfg(test)]
 mod toy;
@@ -322,6 +323,8 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
             ));
         }
     }
+
+    warnings.extend(input_rails::rail_warnings(&nodes, circuit.supply_v(), neg));
 
     // A corner that cannot be evaluated (a gate threshold leaving its band at that supply, say)
     // becomes a warning: the nominal analysis still stands.
