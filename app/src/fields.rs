@@ -167,10 +167,11 @@ fn number_field(
             Err(e) => st.error.set(Some(e)),
         }
     };
-    // Commit: a valid entry is shown as the design now holds it, in the page's notation.
+    // Commit: a valid entry is shown as the design now holds it, in the page's notation. An empty
+    // field stays empty (WebDriver's clear, and a person selecting all and deleting, blur it).
     let commit = move || {
         let t = st.text.get_untracked();
-        if accept(&t).is_ok() {
+        if !t.trim().is_empty() && accept(&t).is_ok() {
             let v = value.get_untracked().filter(|v| v.is_finite());
             st.text.set(show(v));
             st.error.set(None);
