@@ -377,9 +377,13 @@ pub fn named_on_screen(error: DesignError, parameters: &[Parameter]) -> DesignEr
 /// Synthesis with either an anchor resistor or a current budget. A resistive network's currents
 /// scale inversely with its impedance level, so the budget is met by rescaling the anchor and
 /// re-solving (twice, so bias-current terms settle).
+/// Errors name the circuit's fields as the page shows them ([`named_on_screen`]).
 pub fn synthesise<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
+    synthesise_named(circuit, targets).map_err(|e| named_on_screen(e, &circuit.parameters()))
+}
+
+fn synthesise_named<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
     targets.validate()?;
-    circuit.validate().map_err(|e| named_on_screen(e, &circuit.parameters()))?;
     let t = targets.thresholds();
     match targets.impedance {
         ImpedanceChoice::AnchorOhm(r) => {
