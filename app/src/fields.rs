@@ -154,9 +154,9 @@ fn number_field(
         }
         Ok(Some(v))
     };
-    let on_input = move |ev: leptos::ev::Event| {
-        let t = event_target_value(&ev);
-        st.editing.set(true);
+    // Takes the text the input holds (from an input event, or read back at change and blur: a
+    // WebDriver clear, autofill or paste may change it without an input event).
+    let take = move |t: String| {
         st.text.set(t.clone());
         match accept(&t) {
             Ok(v) => {
@@ -167,13 +167,21 @@ fn number_field(
             Err(e) => st.error.set(Some(e)),
         }
     };
+    let on_input = move |ev: leptos::ev::Event| {
+        st.editing.set(true);
+        take(event_target_value(&ev));
+    };
     // Commit: a valid entry is shown as the design now holds it, in the page's notation. An empty
     // field stays empty (WebDriver's clear, and a person selecting all and deleting, blur it).
-    let commit = move || {
-        let t = st.text.get_untracked();
+    let commit = move |t: String| {
+        if t != st.text.get_untracked() {
+            take(t.clone());
+        }
         if !t.trim().is_empty() && accept(&t).is_ok() {
-            let v = value.get_untracked().filter(|v| v.is_finite());
-            st.text.set(show(v));
+            let shown = show(value.get_untracked().filter(|v| v.is_finite()));
+            if shown != t {
+                st.text.set(shown);
+            }
             st.error.set(None);
         }
     };
@@ -194,13 +202,19 @@ fn number_field(
                     aria-invalid=move || if st.error.with(|e| e.is_some()) { "true" } else { "false" }
                     prop:value=move || st.text.get()
                     on:focus=move |_| st.editing.set(true)
-                    on:blur=move |_| {
+                    on:blur=move |ev| {
                         st.editing.set(false);
-                        commit();
+                        commit(event_target_value(&ev));
+                    }
+                    on:change=move |ev| {
+                        let t = event_target_value(&ev);
+                        if t != st.text.get_untracked() {
+                            take(t);
+                        }
                     }
                     on:keydown=move |ev: leptos::ev::KeyboardEvent| {
                         if ev.key() == "Enter" {
-                            commit();
+                            commit(event_target_value(&ev));
                         }
                     }
                     on:input=on_input
