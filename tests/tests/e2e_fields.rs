@@ -69,20 +69,20 @@ async fn signal_builder_fields_keep_focus_and_text() {
     // The default signal: a DC level, a sine and white noise (core::signal::generate's default).
     s.wait_for("#sig-comp-1-frequency_hz").await;
     // Issue 12 item 1: "25" into a sine's frequency kept "2".
-    type_and_keep(&s, "sig-comp-1-frequency_hz", "25", "r.signal.definition.components[1].frequency_hz === 25").await;
-    type_and_keep(&s, "sig-comp-1-amplitude_v", "1.5", "r.signal.definition.components[1].amplitude_v === 1.5").await;
-    type_and_keep(&s, "sig-comp-0-level_v", "2.75", "r.signal.definition.components[0].level_v === 2.75").await;
+    type_and_keep(&s, "sig-comp-1-frequency_hz", "25", "r.signal.components[1].frequency_hz === 25").await;
+    type_and_keep(&s, "sig-comp-1-amplitude_v", "1.5", "r.signal.components[1].amplitude_v === 1.5").await;
+    type_and_keep(&s, "sig-comp-0-level_v", "2.75", "r.signal.components[0].level_v === 2.75").await;
     // "100m" into a noise RMS gave "1" (1 V).
-    type_and_keep(&s, "sig-noise-0-rms_v", "100m", "Math.abs(r.signal.definition.noise[0].rms_v - 0.1) < 1e-15").await;
+    type_and_keep(&s, "sig-noise-0-rms_v", "100m", "Math.abs(r.signal.noise[0].rms_v - 0.1) < 1e-15").await;
     // Duration was reformatted mid-typing ("0.55" became "500 m5").
-    type_and_keep(&s, "sig-duration", "0.55", "r.signal.definition.duration_s === 0.55").await;
+    type_and_keep(&s, "sig-duration", "0.55", "r.signal.duration_s === 0.55").await;
     // Committing (Tab) normalises the text to the page's notation, and only then.
     tab_out(&s, "#sig-duration").await;
     committed(&s, "sig-duration", "0.55").await;
     // A component added later is edited the same way; its fields are in plain words with units.
     s.wait_for("#sig-add-sine").await.click().await.expect("add a sine");
     s.wait_for("#sig-comp-2-frequency_hz").await;
-    type_and_keep(&s, "sig-comp-2-frequency_hz", "120", "r.signal.definition.components[2].frequency_hz === 120").await;
+    type_and_keep(&s, "sig-comp-2-frequency_hz", "120", "r.signal.components[2].frequency_hz === 120").await;
     let titles = s.js("return [...document.querySelectorAll('.signal-item strong')].map(e => e.textContent)").await;
     assert_eq!(titles, serde_json::json!(["DC level", "Sine", "Sine", "White noise"]), "part titles");
     let units = s.js("return document.querySelector('#sig-comp-2-frequency_hz').parentElement.querySelector('.unit').textContent").await;
@@ -93,11 +93,11 @@ async fn signal_builder_fields_keep_focus_and_text() {
     assert!(msg.contains("half the sample rate"), "{msg}");
     assert_plain_words(&msg);
     // The keys before the last ("1") formed a valid frequency and were taken; 1 GHz never is.
-    s.wait_stored("r.signal.definition.components[2].frequency_hz < 1e6").await;
+    s.wait_stored("r.signal.components[2].frequency_hz < 1e6").await;
     // The mains hum has its 50/60 Hz choice.
     s.wait_for("#sig-add-hum").await.click().await.expect("add mains hum");
     s.wait_for("#sig-noise-1-mains").await.select_by_value("hz60").await.expect("choose 60 Hz");
-    s.wait_stored("r.signal.definition.noise[1].kind === 'hum' && r.signal.definition.noise[1].mains === 'hz60'").await;
+    s.wait_stored("r.signal.noise[1].kind === 'hum' && r.signal.noise[1].mains === 'hz60'").await;
     s.close().await;
 }
 
