@@ -60,7 +60,8 @@ fn non_inverting_with_huge_bias_current_fails_and_exports_nothing() {
     let e = evaluate_value(&r);
     assert_all_finite(&e);
     assert!(e.analysis.is_none());
-    failed_naming(&e, "analysis", &["bias_plus_a", "vt_upper", "vt_lower", "not a finite number"]);
+    // Analysis errors name the field as the page shows it (issue 12): "bias current IB+".
+    failed_naming(&e, "analysis", &["bias current IB+", "vt_upper", "vt_lower", "not a finite number"]);
     let x = e.exports.as_ref().unwrap();
     assert!(x.spice.is_none() && x.bench.is_none(), "exports of a failed analysis: {x:?}");
     // The SPICE export on its own refuses the circuit too.
@@ -91,7 +92,8 @@ fn cmos_buffer_with_a_denormal_resistor_fails_and_exports_nothing() {
     let e = evaluate_value(&r);
     assert_all_finite(&e);
     assert!(e.analysis.is_none(), "{:?}", e.analysis);
-    failed_naming(&e, "analysis", &["r2_ohm", "vt_upper", "vt_lower", "not a finite number"]);
+    // Analysis errors name a resistor by its designator (issue 12).
+    failed_naming(&e, "analysis", &["R2", "vt_upper", "vt_lower", "not a finite number"]);
     let x = e.exports.as_ref().unwrap();
     assert!(x.spice.is_none() && x.bench.is_none());
     let rec = hysteron_core::record::DesignRecord::from_value(r).unwrap();
