@@ -102,7 +102,7 @@ impl Comparator {
         }
         if self.supply_v <= self.negative_rail_v {
             return Err(DesignError::inconsistent(format!(
-                "supply_v ({} V) must be above negative_rail_v ({} V)",
+                "the supply ({} V) must be above the negative rail ({} V)",
                 self.supply_v, self.negative_rail_v
             )));
         }

@@ -77,8 +77,28 @@ pub fn CircuitSection() -> impl IntoView {
                             }
                         })
                     });
+                    // A value that leaves the circuit invalid (a 0 V supply below the negative rail…) is
+                    // refused at its field, with the reason in the words on screen.
+                    let check = Callback::new(move |v: f64| -> Option<String> {
+                        nb.with_current_untracked(|r| {
+                            let mut values: Vec<f64> = r.circuit.parameters().iter().map(|p| p.value).collect();
+                            *values.get_mut(i)? = v;
+                            let err = r.circuit.with_parameters(&values).and_then(|c| c.validate().map(|_| ())).err()?;
+                            // A design that is already invalid for the same reason stays editable.
+                            if r.circuit.validate().err().as_ref() == Some(&err) {
+                                return None;
+                            }
+                            let own = r.circuit.parameters().get(i).map(|p| p.designator.clone().unwrap_or_else(|| p.label.clone()));
+                            let err = hysteron_core::topology::named_on_screen(err, &r.circuit.parameters());
+                            Some(match (&err, own) {
+                                (hysteron_core::error::DesignError::InvalidValue { field, reason }, Some(o)) if *field == o => reason.clone(),
+                                _ => err.to_string(),
+                            })
+                        })
+                        .flatten()
+                    });
                     let shown = match designator { Some(d) => format!("{d} — {label}"), None => label };
-                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit value on_value /> }
+                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit value on_value check /> }
                 }).collect_view()}
             </div>
             <details class="json-edit" on:toggle=move |_| { let o = !json_open.get_untracked(); json_open.set(o); if o { load_json(); } }>

@@ -73,7 +73,19 @@ pub fn PartsSection() -> impl IntoView {
                 r.search = Some(st);
             })
         });
-        view! { <QuantityField id=id.to_string() label=label.to_string() unit="Ω" value on_value /> }
+        // The smallest resistor must stay below the largest: refused at the field otherwise.
+        let check = Callback::new(move |v: f64| -> Option<String> {
+            let mut st = settings.get_untracked();
+            put(&mut st, v);
+            (st.r_min_ohm >= st.r_max_ohm).then(|| {
+                if id == "search-r-min" {
+                    format!("must be below the largest resistor ({})", ohms(st.r_max_ohm))
+                } else {
+                    format!("must be above the smallest resistor ({})", ohms(st.r_min_ohm))
+                }
+            })
+        });
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit="Ω" value on_value check /> }
     };
     view! {
         <section class="card" aria-labelledby="parts-heading" id="parts">
@@ -108,8 +120,12 @@ pub fn PartsSection() -> impl IntoView {
                 Err(e) => view! { <p class="error" id="search-error" role="alert">{e}</p> }.into_any(),
                 Ok(rep) => {
                     let head: Vec<String> = rep.candidates.first().map(|c| c.parts.iter().map(|p| p.designator.clone().unwrap_or_else(|| p.id.clone())).collect()).unwrap_or_default();
+                    // The resistor solved for, by its designator on screen (R1…), not its record name.
+                    let solved = rep.candidates.first().and_then(|c| c.parts.iter().find(|p| p.id == rep.solved_id))
+                        .and_then(|p| p.designator.clone())
+                        .unwrap_or_else(|| "the last resistor".to_string());
                     view! {
-                        <p class="note">{format!("{} combinations of {} checked; {} solved for directly", rep.combinations, rep.series, rep.solved_id)}
+                        <p class="note">{format!("{} combinations of {} checked; {solved} solved for directly", rep.combinations, rep.series)}
                             {move || elapsed_ms.get().map(|ms| format!(" ({ms:.1} ms)"))}</p>
                         <table class="grid" id="alternatives">
                             <thead><tr><th>"#"</th>{head.into_iter().map(|h| view! { <th>{h}</th> }).collect_view()}

@@ -13,6 +13,8 @@ use crate::plot;
 use crate::tick::later;
 use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
 use hysteron_core::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use hysteron_core::error::DesignError;
+use hysteron_core::tolerance::settings::MAX_TRIALS;
 use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
 use hysteron_core::topology::Topology;
 use leptos::html::Canvas;
@@ -159,13 +161,38 @@ pub fn ToleranceSection() -> impl IntoView {
         st.job.set_value(None);
         st.progress.set(None);
     };
-    let pct = move |id: &'static str, label: &'static str, get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
-        let value = Signal::derive(move || get(&settings.get()));
-        view! { <QuantityField id=id.to_string() label=label.to_string() unit="%" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
+    // A settings field refuses a value that makes the settings invalid, with core's reason, when the
+    // reason is about one of `own` (the record names of what this field edits).
+    let settings_check = move |own: &'static [&'static str], put: fn(&mut ToleranceSettings, f64)| {
+        Callback::new(move |v: f64| -> Option<String> {
+            let mut candidate = settings.get_untracked();
+            put(&mut candidate, v);
+            candidate.validate().err().and_then(|e| match &e {
+                DesignError::InvalidValue { field, reason } if own.iter().any(|k| field.ends_with(k)) => Some(reason.clone()),
+                _ => None,
+            })
+        })
     };
-    let spec = move |id: &'static str, label: &'static str, get: fn(&SpecWindow) -> Option<f64>, put: fn(&mut SpecWindow, Option<f64>)| {
+    let setting = move |id: &'static str, label: &'static str, unit: &'static str, own: &'static [&'static str],
+                        get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
+        let value = Signal::derive(move || get(&settings.get()));
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit value check=settings_check(own, put)
+            on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
+    };
+    let pct = move |id: &'static str, label: &'static str, own: &'static [&'static str], get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
+        setting(id, label, "%", own, get, put)
+    };
+    // A spec bound is refused when it would cross its partner ("VT+ at least" above "VT+ at most").
+    let spec = move |id: &'static str, label: &'static str, partner: &'static str, is_min: bool,
+                     get: fn(&SpecWindow) -> Option<f64>, put: fn(&mut SpecWindow, Option<f64>), other: fn(&SpecWindow) -> Option<f64>| {
         let value = Signal::derive(move || get(&settings.get().spec));
-        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
+        let check = Callback::new(move |v: f64| -> Option<String> {
+            let o = other(&settings.get_untracked().spec)?;
+            let crossed = if is_min { v > o } else { v < o };
+            crossed.then(|| format!("must not be {} {partner} ({})", if is_min { "above" } else { "below" }, volts(o)))
+        });
+        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value check
+            on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
     };
     let hist_canvases: [NodeRef<Canvas>; 3] = [NodeRef::new(), NodeRef::new(), NodeRef::new()];
     Effect::new(move |_| {
@@ -199,28 +226,22 @@ pub fn ToleranceSection() -> impl IntoView {
                         <option value="normal">"normal, tolerance at 3 σ"</option>
                     </select>
                 </div>
-                {pct("tol-resistor", "Resistor tolerance", |s| s.resistor_tolerance_pct, |s, v| s.resistor_tolerance_pct = v)}
-                {pct("tol-supply", "Supply tolerance", |s| s.supply_tolerance_pct, |s, v| s.supply_tolerance_pct = v)}
-                {pct("tol-reference", "Reference tolerance", |s| s.reference_tolerance_pct, |s, v| s.reference_tolerance_pct = v)}
-                {pct("tol-threshold", "Gate/transistor threshold tolerance", |s| s.device_threshold_tolerance_pct, |s, v| s.device_threshold_tolerance_pct = v)}
-                <QuantityField id="tol-tempco".to_string() label="Resistor tempco".to_string() unit="ppm/K"
-                    value=Signal::derive(move || settings.get().resistor_tempco_ppm_per_k)
-                    on_value=Callback::new(move |v| edit("tol-tempco", Box::new(move |s| s.resistor_tempco_ppm_per_k = v))) />
-                <QuantityField id="tol-temp-min".to_string() label="Temperature from".to_string() unit="°C"
-                    value=Signal::derive(move || settings.get().temperature_min_c)
-                    on_value=Callback::new(move |v| edit("tol-temp-min", Box::new(move |s| s.temperature_min_c = v))) />
-                <QuantityField id="tol-temp-max".to_string() label="Temperature to".to_string() unit="°C"
-                    value=Signal::derive(move || settings.get().temperature_max_c)
-                    on_value=Callback::new(move |v| edit("tol-temp-max", Box::new(move |s| s.temperature_max_c = v))) />
+                {pct("tol-resistor", "Resistor tolerance", &["resistor_tolerance_pct"], |s| s.resistor_tolerance_pct, |s, v| s.resistor_tolerance_pct = v)}
+                {pct("tol-supply", "Supply tolerance", &["supply_tolerance_pct"], |s| s.supply_tolerance_pct, |s, v| s.supply_tolerance_pct = v)}
+                {pct("tol-reference", "Reference tolerance", &["reference_tolerance_pct"], |s| s.reference_tolerance_pct, |s, v| s.reference_tolerance_pct = v)}
+                {pct("tol-threshold", "Gate/transistor threshold tolerance", &["device_threshold_tolerance_pct"], |s| s.device_threshold_tolerance_pct, |s, v| s.device_threshold_tolerance_pct = v)}
+                {setting("tol-tempco", "Resistor tempco", "ppm/K", &["resistor_tempco_ppm_per_k"], |s| s.resistor_tempco_ppm_per_k, |s, v| s.resistor_tempco_ppm_per_k = v)}
+                {setting("tol-temp-min", "Temperature from", "°C", &["temperature_min_c", "temperature_max_c"], |s| s.temperature_min_c, |s, v| s.temperature_min_c = v)}
+                {setting("tol-temp-max", "Temperature to", "°C", &["temperature_min_c", "temperature_max_c"], |s| s.temperature_max_c, |s, v| s.temperature_max_c = v)}
             </div>
             <fieldset class="plain">
                 <legend>"Spec window (the yield counts boards inside it)"</legend>
                 <div class="field-grid">
-                    {spec("spec-vt-upper-min", "VT+ at least", |w| w.vt_upper_min_v, |w, v| w.vt_upper_min_v = v)}
-                    {spec("spec-vt-upper-max", "VT+ at most", |w| w.vt_upper_max_v, |w, v| w.vt_upper_max_v = v)}
-                    {spec("spec-vt-lower-min", "VT− at least", |w| w.vt_lower_min_v, |w, v| w.vt_lower_min_v = v)}
-                    {spec("spec-vt-lower-max", "VT− at most", |w| w.vt_lower_max_v, |w, v| w.vt_lower_max_v = v)}
-                    {spec("spec-hyst-min", "Hysteresis at least", |w| w.hysteresis_min_v, |w, v| w.hysteresis_min_v = v)}
+                    {spec("spec-vt-upper-min", "VT+ at least", "VT+ at most", true, |w| w.vt_upper_min_v, |w, v| w.vt_upper_min_v = v, |w| w.vt_upper_max_v)}
+                    {spec("spec-vt-upper-max", "VT+ at most", "VT+ at least", false, |w| w.vt_upper_max_v, |w, v| w.vt_upper_max_v = v, |w| w.vt_upper_min_v)}
+                    {spec("spec-vt-lower-min", "VT− at least", "VT− at most", true, |w| w.vt_lower_min_v, |w, v| w.vt_lower_min_v = v, |w| w.vt_lower_max_v)}
+                    {spec("spec-vt-lower-max", "VT− at most", "VT− at least", false, |w| w.vt_lower_max_v, |w, v| w.vt_lower_max_v = v, |w| w.vt_lower_min_v)}
+                    {spec("spec-hyst-min", "Hysteresis at least", "hysteresis at most", true, |w| w.hysteresis_min_v, |w, v| w.hysteresis_min_v = v, |w| w.hysteresis_max_v)}
                     <div class="field">
                         <label for="spec-input-type">"24 V input type (IEC 61131-2)"</label>
                         <select id="spec-input-type"
@@ -296,10 +317,12 @@ pub fn ToleranceSection() -> impl IntoView {
             <div class="row">
                 <QuantityField id="mc-trials".to_string() label="Monte Carlo trials".to_string() unit=""
                     value=Signal::derive(move || settings.get().monte_carlo.trials as f64)
-                    on_value=Callback::new(move |v: f64| edit("mc-trials", Box::new(move |s| s.monte_carlo.trials = v.round().clamp(1.0, 1e7) as u64))) />
+                    check=Callback::new(|v: f64| crate::fields::whole_number(v, 2.0, MAX_TRIALS as f64))
+                    on_value=Callback::new(move |v: f64| edit("mc-trials", Box::new(move |s| s.monte_carlo.trials = v as u64))) />
                 <QuantityField id="mc-seed".to_string() label="Seed".to_string() unit=""
                     value=Signal::derive(move || settings.get().monte_carlo.seed as f64)
-                    on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v.abs().round().min(9.0e15) as u64))) />
+                    check=Callback::new(|v: f64| crate::fields::whole_number(v, 0.0, 9.0e15))
+                    on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v as u64))) />
                 <button id="mc-run" on:click=start disabled=move || st.progress.get().is_some()>"Run Monte Carlo"</button>
                 {move || st.progress.get().map(|p| view! {
                     <progress id="mc-progress" max="1" value=p.to_string()></progress>

@@ -235,7 +235,7 @@ fn dimensionless() -> Unit {
 /// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
 pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Analysis, DesignError> {
     settings.validate()?;
-    circuit.validate()?;
+    circuit.validate().map_err(|e| named_on_screen(e, &circuit.parameters()))?;
     let t = circuit.thresholds()?;
     let (voh, vol) = circuit.output_levels()?;
     let neg = circuit.negative_rail_v();
@@ -379,10 +379,32 @@ pub fn supply_corners<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Resu
         .collect()
 }
 
+/// Names the field of an [`DesignError::InvalidValue`] as the page shows it: a resistor by its
+/// designator (`ra_ohm` → `R1`), any other parameter by its label (`supply_v` → `supply`). Errors
+/// about fields that are no parameter of `parameters` are returned unchanged.
+pub fn named_on_screen(error: DesignError, parameters: &[Parameter]) -> DesignError {
+    match error {
+        DesignError::InvalidValue { field, reason } => {
+            let name = parameters
+                .iter()
+                .find(|p| p.id == field)
+                .map(|p| p.designator.clone().unwrap_or_else(|| p.label.clone()))
+                .unwrap_or(field);
+            DesignError::InvalidValue { field: name, reason }
+        }
+        other => other,
+    }
+}
+
 /// Synthesis with either an anchor resistor or a current budget. A resistive network's currents
 /// scale inversely with its impedance level, so the budget is met by rescaling the anchor and
 /// re-solving (twice, so bias-current terms settle).
+/// Errors name the circuit's fields as the page shows them ([`named_on_screen`]).
 pub fn synthesise<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
+    synthesise_named(circuit, targets).map_err(|e| named_on_screen(e, &circuit.parameters()))
+}
+
+fn synthesise_named<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
     targets.validate()?;
     let t = targets.thresholds();
     match targets.impedance {
