@@ -27,7 +27,7 @@ fn benches(c: &mut Criterion) {
     let checks = CheckSettings::default();
 
     let e96 =
-        SearchSettings { series: ESeries::E96, r_min_ohm: 1e3, r_max_ohm: 1e6, top_n: 10, current_budget_a: None };
+        SearchSettings { series: ESeries::E96, r_min_ohm: 1e3, r_max_ohm: 1e6, top_n: 10, ..SearchSettings::default() };
     c.bench_function("search E96 1k-1M, three resistors", |b| {
         b.iter(|| search(black_box(&circuit), black_box(targets), &e96, &checks).unwrap())
     });
