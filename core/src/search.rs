@@ -1,4 +1,4 @@
-// Over 600 lines: one job, the standard-value search (enumeration, the exact solve of the last resistor, ranking); about 85 lines are its tests.
+// Over 600 lines: one job, the standard-value search (enumeration, the exact solve of the last resistor, ranking, the sliced job); about 200 lines are its tests.
 //! Best standard-value combinations: which E-series resistor values reach the target thresholds
 //! most closely, for any topology (everything goes through [`Circuit`]).
 //!
@@ -64,6 +64,20 @@
 //! among budget-feasible combinations. The budget is checked only for combinations good enough
 //! to enter the list, first by two operating points (a lower bound of the analysed maximum, so a
 //! failure there is final), then by the full analysis.
+//!
+//! # Distinct alternatives
+//! Two combinations whose VT+ and VT− both agree within [`DISTINCT_REL`] (10 ppm of the
+//! normalisers above) are the *same alternative*: a divider scaled as a whole, an equal ratio
+//! from the series, or a resistor the thresholds do not depend on. With
+//! [`SearchSettings::distinct`] (the default) the list keeps only the best of each such group (by
+//! objective, then the tie-break), so the N entries are N different threshold pairs. The rule
+//! only removes entries, so an entry bar taken from the list remains a valid bound and the
+//! pruning argument below is unchanged.
+//!
+//! # In slices
+//! [`SearchJob`] holds the whole state (odometer, pass, list), so the search can run a bounded
+//! number of evaluations at a time ([`SearchJob::step`]) with its [`Workload`] bound known before
+//! the first step; [`search`] is the same job run in one call.
 //!
 //! Cost: M^(n−1) combinations for n resistors and M series values in range (E96 over three
 //! decades, three resistors: 289² ≈ 83 500), each a few model evaluations; real circuit
