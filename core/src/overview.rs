@@ -12,12 +12,12 @@
 //! The part list is built by [`part_list`] only, and the bench procedure by [`bench`] only, so a
 //! change to either is one line here.
 
-use crate::analysis::{Analysis, Targets, Thresholds};
+use crate::analysis::{Analysis, ImpedanceChoice, Targets, Thresholds};
 use crate::bench::{bench_procedure_from, bench_supplies, BenchProcedure, ReadingWindows, SupplyBounds, ThresholdBounds};
 use crate::bom::Bom;
 use crate::error::DesignError;
 use crate::record::DesignRecord;
-use crate::search::{search, SearchReport};
+use crate::search::{search, SearchJob, SearchReport, SearchSettings};
 use crate::safety::{cautions, Caution};
 use crate::signal::report::{evaluate_record_signal, SignalReport};
 use crate::tolerance::bench_window::{bench_window, windows as both_windows, Windows};
@@ -204,8 +204,31 @@ pub fn standard_values(
     synthesised: Option<&Synthesis>,
 ) -> Result<SearchReport, DesignError> {
     let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
-    let settings = record.search.clone().unwrap_or_default();
-    search(start, targets.thresholds(), &settings, &record.checks)
+    search(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
+}
+
+/// The search settings a record asks for: its own (defaults when it has none), with the targets'
+/// current budget as the search's limit when the settings set none — a design asked to draw at
+/// most 100 µA is never offered parts that draw more.
+pub fn search_settings(record: &DesignRecord, targets: &Targets) -> SearchSettings {
+    let mut settings = record.search.clone().unwrap_or_default();
+    if settings.current_budget_a.is_none() {
+        if let ImpedanceChoice::CurrentBudgetA(a) = targets.impedance {
+            settings.current_budget_a = Some(a);
+        }
+    }
+    settings
+}
+
+/// A standard-value search for `targets` to run in slices (the page's progress bar and Cancel):
+/// the same start and settings as [`standard_values`].
+pub fn standard_values_job(
+    record: &DesignRecord,
+    targets: &Targets,
+    synthesised: Option<&Synthesis>,
+) -> Result<SearchJob<Topology>, DesignError> {
+    let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
+    SearchJob::new(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
 }
 
 /// The slower sections, computed once typing pauses.

@@ -9,6 +9,7 @@ mod share;
 mod sheet;
 mod purpose;
 mod results;
+mod search;
 mod signal;
 mod starters;
 mod tolerance;
