@@ -33,6 +33,15 @@ pub enum Quantity {
     SaturationCurrent,
     /// A percentage (tolerance, yield target): 0 % to 100 %.
     Percent,
+    /// A voltage temperature coefficient (offset drift, threshold coefficient), volts per kelvin:
+    /// ±0.1 V/K (far beyond any device: offset drift is µV/K, a gate threshold a few mV/K).
+    VoltageDrift,
+    /// A relative temperature coefficient of a device quantity (bias current), percent per
+    /// kelvin: ±50 %/K (CMOS bias current doubles every 10 K, about 7 %/K — common practice).
+    RelativeDrift,
+    /// A resistor temperature coefficient (TCR) or tracking figure, ppm per kelvin: 0 to 10⁵
+    /// (thick-film chips 100–200 ppm/K, networks track to a few ppm/K — common practice).
+    Tempco,
 }
 
 impl Quantity {
@@ -49,6 +58,9 @@ impl Quantity {
             Quantity::Gain => (1e-3, 1e6),
             Quantity::SaturationCurrent => (1e-30, 1e-3),
             Quantity::Percent => (0.0, 100.0),
+            Quantity::VoltageDrift => (-0.1, 0.1),
+            Quantity::RelativeDrift => (-50.0, 50.0),
+            Quantity::Tempco => (0.0, 1e5),
         }
     }
 
@@ -61,7 +73,12 @@ impl Quantity {
             Quantity::Capacitance => Some(Unit::Farad),
             Quantity::Frequency => Some(Unit::Hertz),
             Quantity::Duration => Some(Unit::Second),
-            Quantity::Temperature | Quantity::Gain | Quantity::Percent => None,
+            Quantity::Temperature
+            | Quantity::Gain
+            | Quantity::Percent
+            | Quantity::VoltageDrift
+            | Quantity::RelativeDrift
+            | Quantity::Tempco => None,
         }
     }
 
@@ -69,6 +86,9 @@ impl Quantity {
         match (self, self.unit()) {
             (Quantity::Temperature, _) => format!("{value} K"),
             (Quantity::Percent, _) => format!("{value} %"),
+            (Quantity::VoltageDrift, _) => format!("{} µV/K", value * 1e6),
+            (Quantity::RelativeDrift, _) => format!("{value} %/K"),
+            (Quantity::Tempco, _) => format!("{value} ppm/K"),
             (_, Some(u)) => format_with_unit(value, 3, u),
             (_, None) => format!("{value}"),
         }
