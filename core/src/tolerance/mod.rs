@@ -7,7 +7,8 @@
 //! - [`gum`]: combined standard uncertainty by the GUM law of propagation (JCGM 100:2008);
 //! - [`monte_carlo`]: JCGM 101:2008 Monte Carlo, seeded, chunkable, with the yield;
 //! - [`budget`]: per-source error budget in millivolts for a design review;
-//! - [`input_standard`]: IEC 61131-2 24 V digital-input windows and the conformity check.
+//! - [`input_standard`]: IEC 61131-2 24 V digital-input windows and the conformity check;
+//! - [`temperature`]: VT+ and VT− versus temperature over the operating range, drift in V/K.
 //!
 //! [`tolerance_report`] runs them all. Every method works on the same resolved bands
 //! ([`settings::ParameterBand`]): a centre and a half-width per parameter, plus a rectangular drift
@@ -36,6 +37,7 @@ pub mod input_standard;
 pub mod monte_carlo;
 pub mod settings;
 pub mod spec_window;
+pub mod temperature;
 pub mod worst_case;
 
 pub use budget::{error_budget, ErrorBudget};
@@ -47,6 +49,7 @@ pub use monte_carlo::{
 pub use settings::{
     Distribution, ParameterBand, ParameterTolerance, SpecWindow, ToleranceBand, ToleranceSettings,
 };
+pub use temperature::{temperature_sweep, TemperaturePoint, TemperatureSweep};
 pub use worst_case::{worst_case, WorstCase};
 
 /// The four switching figures of a design.
