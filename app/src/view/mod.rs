@@ -12,6 +12,7 @@ mod results;
 mod signal;
 mod starters;
 mod tolerance;
+mod temperature;
 pub mod state;
 
 use leptos::prelude::*;
@@ -83,7 +84,7 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <application::ApplicationSection /> <partlist::PartListSection /> <share::ShareSection /> <sheet::DesignSheet /> }.into_any()
+                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <temperature::TemperatureSection /> <signal::SignalSection /> <application::ApplicationSection /> <partlist::PartListSection /> <share::ShareSection /> <sheet::DesignSheet /> }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}

@@ -55,7 +55,7 @@ pub fn DesignSheet() -> impl IntoView {
             <p class="sheet-purpose">{move || nb.with_current(|r| r.purpose.clone()).unwrap_or_default()}</p>
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
-                Ok(Sheet { analysis: a, worst_case: wc, bench, parts, cautions }) => view! {
+                Ok(Sheet { analysis: a, worst_case: wc, bench, parts, cautions, temperature }) => view! {
                     {(!cautions.is_empty()).then(|| view! {
                         <div class="sheet-caution"><strong>"Safety: "</strong>{cautions.iter().map(|c| c.message.clone()).collect::<Vec<_>>().join(" ")}
                             " Local codes and licensed practice take precedence."</div>
@@ -74,6 +74,7 @@ pub fn DesignSheet() -> impl IntoView {
                                     <tr><td>"hysteresis"</td><td>{v(a.hysteresis_v)}</td><td>{wc.as_ref().map(|w| v(w.hysteresis.min.value_v))}</td><td>{wc.as_ref().map(|w| v(w.hysteresis.max.value_v))}</td></tr>
                                 </tbody>
                             </table>
+                            <p id="sheet-temperature">{temperature.map(|t| format!("Drift with temperature — {t}."))}</p>
                             <p>{move || slow.get().and_then(|SheetStudies { spec_yield, .. }| spec_yield).map(|(f, n)| format!("Monte Carlo yield in the spec window: {:.2} % of {n} boards.", f * 100.0))}</p>
                             <p>{move || slow.get().and_then(|SheetStudies { signal, .. }| signal).map(|s| format!(
                                 "Signal test: {} edges from the design{}; the plain comparator gives {} edges{}.",

@@ -312,6 +312,9 @@ pub fn tolerance_report<C: Circuit>(
             }
         }
     }
+    if wc.non_monotone {
+        notes.push("a threshold is not monotonic in some parameter, so the corners alone are no bound: the worst case comes from a search inside the bands, starting at the corners".into());
+    }
     if mc.rejected_trials > 0 {
         notes.push(format!(
             "{} of {} Monte Carlo trials gave an invalid circuit and count as outside the spec: narrow the widest bands",

@@ -22,8 +22,9 @@
 //! temperature with the parts' coefficients at their limits.
 
 use super::settings::{ToleranceSettings, REFERENCE_TEMPERATURE_C};
+use crate::device::Comparator;
 use crate::error::DesignError;
-use crate::topology::{sensitivities, Circuit, Drift, ParameterKind};
+use crate::topology::{sensitivities, Circuit, Drift, ParameterKind, Topology};
 use serde::{Deserialize, Serialize};
 
 /// Number of temperatures the sweep evaluates (evenly spaced over the range, plus 25 °C when the
@@ -82,6 +83,58 @@ impl TemperatureSweep {
             mv(self.vt_lower_drift_v_per_k),
             mv(self.vt_lower_drift_bound_v_per_k),
         )
+    }
+}
+
+/// The drift coefficients a design carries on its active device, as the page edits them: `None`
+/// where the topology has no such quantity.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+pub struct DeviceDrift {
+    /// Comparator/op-amp offset drift magnitude, volts per kelvin.
+    pub offset_drift_v_per_k: Option<f64>,
+    /// Comparator/op-amp bias-current change, percent per kelvin (compounded, sign known).
+    pub bias_tempco_pct_per_k: Option<f64>,
+    /// Schmitt-input gate threshold coefficient, volts per kelvin (sign known).
+    pub threshold_tempco_v_per_k: Option<f64>,
+}
+
+fn comparator_of(t: &mut Topology) -> Option<&mut Comparator> {
+    match t {
+        Topology::Inverting(c) => Some(&mut c.device),
+        Topology::NonInverting(c) => Some(&mut c.device),
+        Topology::OpenDrain(c) => Some(&mut c.device),
+        Topology::Plain(c) => Some(&mut c.device),
+        Topology::SupplyMonitor(c) => Some(&mut c.device),
+        _ => None,
+    }
+}
+
+/// The design's device drift coefficients (see [`DeviceDrift`]).
+pub fn device_drift(t: &Topology) -> DeviceDrift {
+    let mut t = t.clone();
+    let mut d = DeviceDrift::default();
+    if let Some(c) = comparator_of(&mut t) {
+        d.offset_drift_v_per_k = Some(c.offset_drift_v_per_k);
+        d.bias_tempco_pct_per_k = Some(c.bias_tempco_pct_per_k);
+    }
+    if let Topology::SchmittGate(g) = &t {
+        d.threshold_tempco_v_per_k = Some(g.gate.threshold_tempco_v_per_k);
+    }
+    d
+}
+
+/// Writes the coefficients that are `Some` into the design (those it has no place for are ignored).
+pub fn set_device_drift(t: &mut Topology, d: DeviceDrift) {
+    if let Some(c) = comparator_of(t) {
+        if let Some(x) = d.offset_drift_v_per_k {
+            c.offset_drift_v_per_k = x;
+        }
+        if let Some(x) = d.bias_tempco_pct_per_k {
+            c.bias_tempco_pct_per_k = x;
+        }
+    }
+    if let (Topology::SchmittGate(g), Some(x)) = (t, d.threshold_tempco_v_per_k) {
+        g.gate.threshold_tempco_v_per_k = x;
     }
 }
 
