@@ -499,11 +499,30 @@ mod tests {
         };
         let wc = worst_case(&c, &s).unwrap();
         assert_eq!(wc.varied_parameters, 3);
-        assert_eq!(wc.evaluations, 8 + 8);
+        // Corners and sign method, then one search sweep per extreme that finds nothing better
+        // (the figures are monotonic): 8 extremes × 3 parameters × (grid + 1) points.
+        assert_eq!(wc.evaluations, 8 + 8 + 8 * 3 * (SEARCH_GRID as u64 + 1));
+        assert!(!wc.non_monotone);
         let par = |a: f64, b: f64| a * b / (a + b);
         let (ra, rb, rf) = (9.9e3, 10.1e3, 19.8e3);
         let expected = 5.0 * rb / (rb + par(ra, rf));
         assert!((wc.vt_upper.max.value_v - expected).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_clamped_level_is_found_by_the_search_inside_the_bands() {
+        // CMOS buffer Schmitt (DOMAIN §1d): VM is kept inside [VIL, VIH] = [0.3, 0.7]·VDD of the
+        // supply in use, so with VM at its upper limit VT− rises with VDD until 0.7·VDD stops
+        // clamping VM, then falls: its maximum lies inside the supply band, not at a corner.
+        use crate::topology::cmos_buffer::{CmosBufferSchmitt, CmosGate};
+        let c = CmosBufferSchmitt::new(10e3, 47e3, CmosGate { supply_v: 3.3, ..CmosGate::default() });
+        let s = ToleranceSettings { temperature_min_c: 25.0, temperature_max_c: 25.0, ..Default::default() };
+        let corners_only = worst_case_corners(&c, &s).unwrap();
+        let wc = worst_case(&c, &s).unwrap();
+        assert!(wc.non_monotone);
+        assert!(wc.vt_lower.max.value_v > corners_only.vt_lower.max.value_v + 1e-3);
+        // The peak sits where 0.7·VDD meets VM: the supply at its centre here, inside the band.
+        assert!(wc.vt_lower.max.corner.iter().any(|c| matches!(c.side, Side::Inside | Side::Centre)));
     }
 
     #[test]
@@ -515,7 +534,8 @@ mod tests {
         let wc = worst_case(&design(), &s).unwrap();
         assert_eq!(wc.method, WorstCaseMethod::SensitivitySign);
         assert_eq!(wc.sign_method_shortfall, None);
-        assert_eq!(wc.evaluations, 8);
+        assert_eq!(wc.evaluations, 8 + 8 * wc.varied_parameters as u64 * (SEARCH_GRID as u64 + 1));
+        assert!(!wc.non_monotone);
     }
 
     #[test]
