@@ -331,6 +331,32 @@ pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Resul
     }
 }
 
+/// Draws a chart of its own into `canvas` at its on-screen size × device-pixel ratio, now and again
+/// whenever the canvas is resized or shown (a fold opened); `paint` gets the canvas, already sized,
+/// and the ratio. Nothing is drawn while the canvas is hidden.
+pub fn draw_kept(
+    canvas: &HtmlCanvasElement,
+    paint: impl Fn(&HtmlCanvasElement, f64) -> Result<(), String> + 'static,
+) -> Result<(), String> {
+    let error = std::rc::Rc::new(std::cell::RefCell::new(None::<String>));
+    let e2 = error.clone();
+    redraw::keep(
+        canvas,
+        std::rc::Rc::new(move |c: &HtmlCanvasElement| {
+            let (_, _, dpr) = fit_canvas(c)?;
+            match paint(c, dpr) {
+                Ok(()) => Some(PlotFrame { dpr, ..PlotFrame::default() }),
+                Err(e) => {
+                    *e2.borrow_mut() = Some(e);
+                    None
+                }
+            }
+        }),
+    );
+    let failed = error.borrow_mut().take();
+    failed.map_or(Ok(()), Err)
+}
+
 /// Draws the transfer curve into a canvas of a fixed backing size (for the print sheet, whose
 /// canvas has no on-screen size to measure); `scale` multiplies line widths and fonts.
 pub fn draw_transfer_fixed(canvas: &HtmlCanvasElement, curve: &TransferCurve, width: u32, height: u32, scale: f64) -> Result<PlotFrame, String> {

@@ -71,6 +71,13 @@ pub struct Evaluation {
     /// Safety cautions computed from the design's values (see [`crate::safety::cautions`]).
     #[serde(default)]
     pub cautions: Vec<crate::safety::Caution>,
+    /// VT± versus temperature over the record's operating range, with the drift (see
+    /// [`crate::overview::temperature`]); `None` when the analysis failed or the sweep did.
+    #[serde(default)]
+    pub temperature: Option<crate::tolerance::TemperatureSweep>,
+    /// The temperature drift in one line, as the print sheet gives it.
+    #[serde(default)]
+    pub temperature_summary: Option<String>,
 }
 
 /// The shareable and printable forms of a design, computed with every evaluation.
@@ -188,6 +195,10 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         let bench = bench.and_then(|b| crate::finite::check("bench", &b).map_err(|e| fail("exports", e)).ok().map(|()| b));
         Some(Exports { link: crate::share::encode_link(record), spice, bench })
     };
+    let temperature = analysis
+        .as_ref()
+        .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
+    let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -203,6 +214,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         search,
         exports,
         cautions: crate::safety::cautions(record),
+        temperature,
+        temperature_summary,
     }
 }
 

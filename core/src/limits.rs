@@ -42,6 +42,15 @@ pub enum Quantity {
     Bandgap,
     /// A dimensionless temperature exponent (SPICE's XTI, XTB): −10 to 10.
     Exponent,
+    /// A voltage temperature coefficient (offset drift, threshold coefficient), volts per kelvin:
+    /// ±0.1 V/K (far beyond any device: offset drift is µV/K, a gate threshold a few mV/K).
+    VoltageDrift,
+    /// A relative temperature coefficient of a device quantity (bias current), percent per
+    /// kelvin: ±50 %/K (CMOS bias current doubles every 10 K, about 7 %/K — common practice).
+    RelativeDrift,
+    /// A resistor temperature coefficient (TCR) or tracking figure, ppm per kelvin: 0 to 10⁵
+    /// (thick-film chips 100–200 ppm/K, networks track to a few ppm/K — common practice).
+    Tempco,
 }
 
 impl Quantity {
@@ -61,6 +70,9 @@ impl Quantity {
             Quantity::JunctionTemperature => (150.0, 500.0),
             Quantity::Bandgap => (0.1, 5.0),
             Quantity::Exponent => (-10.0, 10.0),
+            Quantity::VoltageDrift => (-0.1, 0.1),
+            Quantity::RelativeDrift => (-50.0, 50.0),
+            Quantity::Tempco => (0.0, 1e5),
         }
     }
 
@@ -77,7 +89,10 @@ impl Quantity {
             | Quantity::JunctionTemperature
             | Quantity::Gain
             | Quantity::Percent
-            | Quantity::Exponent => None,
+            | Quantity::Exponent
+            | Quantity::VoltageDrift
+            | Quantity::RelativeDrift
+            | Quantity::Tempco => None,
         }
     }
 
@@ -85,6 +100,9 @@ impl Quantity {
         match (self, self.unit()) {
             (Quantity::Temperature | Quantity::JunctionTemperature, _) => format!("{value} K"),
             (Quantity::Percent, _) => format!("{value} %"),
+            (Quantity::VoltageDrift, _) => format!("{} µV/K", value * 1e6),
+            (Quantity::RelativeDrift, _) => format!("{value} %/K"),
+            (Quantity::Tempco, _) => format!("{value} ppm/K"),
             (_, Some(u)) => format_with_unit(value, 3, u),
             (_, None) => format!("{value}"),
         }

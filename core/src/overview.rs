@@ -21,7 +21,7 @@ use crate::search::{search, SearchJob, SearchReport, SearchSettings};
 use crate::safety::{cautions, Caution};
 use crate::signal::report::{evaluate_record_signal, SignalReport};
 use crate::tolerance::bench_window::{bench_window, windows as both_windows, Windows};
-use crate::tolerance::{monte_carlo, WorstCase};
+use crate::tolerance::{monte_carlo, temperature_sweep, TemperatureSweep, WorstCase};
 use crate::topology::{analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
 use serde::{Deserialize, Serialize};
 
@@ -231,6 +231,21 @@ pub fn standard_values_job(
     SearchJob::new(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
 }
 
+/// VT+ and VT− versus temperature over the record's operating range, with the drift in V/K
+/// (the record's tolerance settings, defaults when it has none). The one call the page, the
+/// sheet and the command line make for it.
+pub fn temperature(record: &DesignRecord) -> Result<TemperatureSweep, DesignError> {
+    let settings = record.tolerance.clone().unwrap_or_default();
+    let sweep = temperature_sweep(&record.circuit, &settings)?;
+    crate::finite::check("temperature", &sweep)?;
+    Ok(sweep)
+}
+
+/// The line the print sheet and the command line give for the temperature drift.
+pub fn temperature_line(record: &DesignRecord, sweep: &TemperatureSweep) -> String {
+    sweep.summary(&record.tolerance.clone().unwrap_or_default())
+}
+
 /// The slower sections, computed once typing pauses.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Settled {
@@ -273,6 +288,9 @@ pub struct Sheet {
     pub parts: Option<Bom>,
     /// The cautions the design calls for.
     pub cautions: Vec<Caution>,
+    /// The one line on the temperature drift of VT±; `None` when the sweep fails.
+    #[serde(default)]
+    pub temperature: Option<String>,
 }
 
 /// The print sheet's content; fails when the design cannot be analysed or any number on the
@@ -284,7 +302,8 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     let bench = bench(record, &analysis, windows.as_ref());
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
-    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis })
+    let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature })
 }
 
 /// The print sheet's longer studies.

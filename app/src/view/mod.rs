@@ -13,6 +13,7 @@ mod search;
 mod signal;
 mod starters;
 mod tolerance;
+mod temperature;
 pub mod state;
 
 use leptos::prelude::*;
@@ -118,6 +119,9 @@ pub fn App() -> impl IntoView {
                                 <parts::PartsSection />
                                 <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo">
                                     <tolerance::ToleranceSection />
+                                </Study>
+                                <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K">
+                                    <temperature::TemperatureSection />
                                 </Study>
                                 <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges">
                                     <signal::SignalSection />

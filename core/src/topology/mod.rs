@@ -70,6 +70,65 @@ pub struct Parameter {
     /// tolerance analysis uses these limits instead of a percentage.
     #[serde(default)]
     pub limits: Option<[f64; 2]>,
+    /// How the value moves with temperature from 25 °C (datasheet drift of a device quantity;
+    /// resistors and references take theirs from the tolerance settings instead).
+    #[serde(default)]
+    pub drift: Drift,
+}
+
+/// How a parameter's value moves with temperature T away from the 25 °C reference (ΔT = T − 25 K).
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Drift {
+    /// No temperature dependence is modelled.
+    #[default]
+    None,
+    /// A drift of known sign, base units per kelvin: p(T) = p + d·ΔT (a gate threshold's
+    /// temperature coefficient, say).
+    Known(f64),
+    /// A drift of unknown sign with this magnitude, base units per kelvin: p(T) = p ± |d|·ΔT
+    /// (offset drift TCVOS: datasheets give its magnitude only).
+    Unknown(f64),
+    /// A relative change of known sign compounded per kelvin: p(T) = p·(1 + r)^ΔT, r a fraction
+    /// per kelvin (bias current of CMOS/JFET inputs doubles about every 10 K, r ≈ 0.072; bipolar
+    /// inputs fall slowly, r < 0 — common practice).
+    Compound(f64),
+}
+
+impl Drift {
+    /// The change of a parameter of value `value` at ΔT = `dt_k` from 25 °C; `sign` (±1) picks
+    /// the direction of a drift of unknown sign (ignored by the others).
+    pub fn shift(&self, value: f64, dt_k: f64, sign: f64) -> f64 {
+        match *self {
+            Drift::None => 0.0,
+            Drift::Known(d) => d * dt_k,
+            Drift::Unknown(d) => sign * d.abs() * dt_k,
+            Drift::Compound(r) => value * ((1.0 + r).powf(dt_k) - 1.0),
+        }
+    }
+
+    /// Lowest and highest change over a temperature range given as ΔT from `dt_min_k` to
+    /// `dt_max_k` (both signs for an unknown sign); the change is monotone in ΔT, so the ends decide.
+    pub fn range(&self, value: f64, dt_min_k: f64, dt_max_k: f64) -> (f64, f64) {
+        let ends = [
+            self.shift(value, dt_min_k, 1.0),
+            self.shift(value, dt_max_k, 1.0),
+            self.shift(value, dt_min_k, -1.0),
+            self.shift(value, dt_max_k, -1.0),
+            0.0,
+        ];
+        let lo = ends.iter().copied().fold(f64::INFINITY, f64::min);
+        let hi = ends.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        if self.is_none() || !(lo.is_finite() && hi.is_finite()) { (0.0, 0.0) } else { (lo, hi) }
+    }
+
+    /// Whether no drift is modelled (or its coefficient is zero).
+    pub fn is_none(&self) -> bool {
+        match *self {
+            Drift::None => true,
+            Drift::Known(d) | Drift::Unknown(d) | Drift::Compound(d) => d == 0.0,
+        }
+    }
 }
 
 impl Parameter {
@@ -83,6 +142,7 @@ impl Parameter {
             kind: ParameterKind::Resistor,
             unit: Unit::Ohm,
             limits: None,
+            drift: Drift::None,
         }
     }
 
@@ -100,13 +160,19 @@ impl Parameter {
             | ParameterKind::Offset
             | ParameterKind::DeviceThreshold => Unit::Volt,
         };
-        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None }
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None, drift: Drift::None }
     }
 
     /// A device property ([`ParameterKind::Device`]) with its unit stated (current gain: ratio,
     /// saturation current: ampere, temperature: kelvin, sink resistance: ohm...).
     pub fn device(id: &str, label: &str, value: f64, unit: Unit) -> Self {
         Parameter { unit, ..Parameter::quantity(id, label, value, ParameterKind::Device) }
+    }
+
+    /// The same parameter with its temperature drift attached.
+    pub fn with_drift(mut self, drift: Drift) -> Self {
+        self.drift = drift;
+        self
     }
 
     /// The same parameter with datasheet limits attached.
@@ -232,6 +298,12 @@ fn dimensionless() -> Unit {
     Unit::Ratio
 }
 
+/// How far a device input may pass its negative rail or its common-mode limit before the
+/// phase-reversal and common-mode warnings speak, volts (10 mV: shifts of microvolts from bias
+/// current or offset are below any datasheet's stated precision; datasheets usually rate inputs to
+/// 0.1–0.3 V beyond the rails — common practice).
+pub const INPUT_RANGE_MARGIN_V: f64 = 0.01;
+
 /// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
 pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Analysis, DesignError> {
     settings.validate()?;
@@ -301,25 +373,32 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
 
     let mut warnings = circuit.checks(settings);
     let (cm_lo, cm_hi) = circuit.device_input_range();
+    let m = INPUT_RANGE_MARGIN_V;
     for n in &nodes {
-        if n.min_v < neg - 1e-9 {
+        if n.min_v < neg - m {
             warnings.push(Warning::new(
                 WarningCode::PhaseReversal,
                 format!(
-                    "{} goes to {:.3} V, below the negative rail ({:.3} V): many devices invert their output there; clamp the input or shift the thresholds",
-                    n.name, n.min_v, neg
+                    "{} goes to {:.3} V, more than {:.0} mV below the negative rail ({:.3} V): many devices invert their output there; clamp the input or shift the thresholds",
+                    n.name, n.min_v, m * 1e3, neg
                 ),
             ));
-        } else if n.min_v < cm_lo - 1e-9 {
+        } else if n.min_v < cm_lo - m {
             warnings.push(Warning::new(
                 WarningCode::CommonModeRange,
-                format!("{} reaches {:.3} V, below the device's input range ({:.3} V)", n.name, n.min_v, cm_lo),
+                format!(
+                    "{} reaches {:.3} V, more than {:.0} mV below the device's input range ({:.3} V)",
+                    n.name, n.min_v, m * 1e3, cm_lo
+                ),
             ));
         }
-        if n.max_v > cm_hi + 1e-9 {
+        if n.max_v > cm_hi + m {
             warnings.push(Warning::new(
                 WarningCode::CommonModeRange,
-                format!("{} reaches {:.3} V, above the device's input range ({:.3} V)", n.name, n.max_v, cm_hi),
+                format!(
+                    "{} reaches {:.3} V, more than {:.0} mV above the device's input range ({:.3} V)",
+                    n.name, n.max_v, m * 1e3, cm_hi
+                ),
             ));
         }
     }
