@@ -1,74 +1,30 @@
 //! Tolerance: worst case, GUM and the error budget live as the design changes; Monte Carlo on
-//! request, in slices with a progress bar and a cancel button, with histograms and the yield
+//! request, on the compute workers (`crate::jobs`) with a progress bar and a cancel button, with histograms and the yield
 //! against the spec window. All numbers come from `core::tolerance`.
 
 use super::state::Notebook;
 use crate::fields::{OptionalQuantityField, QuantityField};
 use crate::plot;
-use crate::tick::later;
 use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
-use hysteron_core::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use hysteron_core::tolerance::monte_carlo::MonteCarloResult;
 use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
-use hysteron_core::topology::Topology;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
-/// Trials per slice: one slice takes about 5 ms in the browser, short enough to keep the page responsive.
-const SLICE: u64 = 20_000;
-
-struct Job {
-    run: MonteCarloRun<Topology>,
-    partial: MonteCarloPartial,
-    generation: u64,
-}
-
 #[derive(Clone, Copy)]
 struct McState {
-    job: StoredValue<Option<Job>>,
-    generation: RwSignal<u64>,
-    progress: RwSignal<Option<f64>>,
+    /// The running job (Monte Carlo on the compute workers, see `crate::jobs`).
+    job: StoredValue<Option<crate::jobs::JobHandle>, leptos::prelude::LocalStorage>,
+    progress: RwSignal<Option<crate::jobs::JobStatus>>,
     result: RwSignal<Option<Result<MonteCarloResult, String>>>,
     elapsed_ms: RwSignal<f64>,
-    started_ms: RwSignal<f64>,
 }
 
-fn step(st: McState, generation: u64) {
-    if st.generation.get_untracked() != generation {
-        return;
+fn stop(st: McState) {
+    if let Some(h) = st.job.try_update_value(|j| j.take()).flatten() {
+        h.cancel();
     }
-    let outcome = st.job.try_update_value(|job| {
-        let job = job.as_mut()?;
-        if job.generation != generation {
-            return None;
-        }
-        let total = job.run.trials();
-        let start = job.partial.end;
-        let end = (start + SLICE).min(total);
-        let res = job.run.run(start, end).and_then(|next| job.partial.merge(next));
-        Some(match res {
-            Err(e) => Err(e.to_string()),
-            Ok(()) if job.partial.end >= total => Ok(Some(job.run.finish(&job.partial).map_err(|e| e.to_string()))),
-            Ok(()) => Ok(None),
-        }
-        .map(|done| (done, job.partial.end as f64 / total.max(1) as f64)))
-    });
-    match outcome.flatten() {
-        None => {}
-        Some(Err(e)) => {
-            st.result.set(Some(Err(e)));
-            st.progress.set(None);
-        }
-        Some(Ok((Some(done), _))) => {
-            st.elapsed_ms.set(crate::tick::now_ms() - st.started_ms.get_untracked());
-            st.result.set(Some(done));
-            st.progress.set(None);
-            st.job.set_value(None);
-        }
-        Some(Ok((None, p))) => {
-            st.progress.set(Some(p));
-            later(move || step(st, generation));
-        }
-    }
+    st.progress.set(None);
 }
 
 fn mv(v: f64) -> String {
@@ -104,53 +60,44 @@ pub fn ToleranceSection() -> impl IntoView {
         .unwrap_or_else(|| Err("no design open".into()))
     });
     let st = McState {
-        job: StoredValue::new(None),
-        generation: RwSignal::new(0),
+        job: StoredValue::new_local(None),
         progress: RwSignal::new(None),
         result: RwSignal::new(None),
         elapsed_ms: RwSignal::new(0.0),
-        started_ms: RwSignal::new(0.0),
     };
     // A different design or changed settings make an old Monte Carlo result stale.
     Effect::new(move |_| {
         nb.current.track();
         settings.track();
         let _ = nb.with_current(|r| r.circuit.clone());
-        st.generation.update(|g| *g += 1);
-        st.job.set_value(None);
-        st.progress.set(None);
+        stop(st);
         st.result.set(None);
     });
     let start = move |_| {
         let Some(circuit) = nb.with_current_untracked(|r| r.circuit.clone()) else { return };
-        let s = settings.get_untracked();
-        match MonteCarloRun::new(&circuit, &s) {
-            Err(e) => st.result.set(Some(Err(e.to_string()))),
-            Ok(run) => {
-                st.generation.update(|g| *g += 1);
-                let generation = st.generation.get_untracked();
-                let partial = MonteCarloPartial {
-                    start: 0,
-                    end: 0,
-                    vt_upper_v: Vec::new(),
-                    vt_lower_v: Vec::new(),
-                    rejected_trials: 0,
-                    inside_spec: 0,
-                    spec_violations: [0; 8],
-                };
-                st.job.set_value(Some(Job { run, partial, generation }));
-                st.result.set(None);
-                st.progress.set(Some(0.0));
-                st.started_ms.set(crate::tick::now_ms());
-                later(move || step(st, generation));
-            }
+        stop(st);
+        st.result.set(None);
+        let job = hysteron_core::jobs::Job::MonteCarlo { circuit, settings: settings.get_untracked(), trials: None };
+        let t0 = crate::tick::now_ms();
+        let handle = crate::jobs::start(
+            job,
+            move |status| st.progress.set(Some(status)),
+            move |out| {
+                st.elapsed_ms.set(crate::tick::now_ms() - t0);
+                st.job.set_value(None);
+                st.progress.set(None);
+                st.result.set(Some(match out {
+                    Ok(hysteron_core::jobs::JobOutput::MonteCarlo(mc)) => Ok(mc),
+                    Ok(_) => Err("the worker returned another study's result".into()),
+                    Err(e) => Err(e),
+                }));
+            },
+        );
+        if !handle.is_finished() {
+            st.job.set_value(Some(handle));
         }
     };
-    let cancel = move |_| {
-        st.generation.update(|g| *g += 1);
-        st.job.set_value(None);
-        st.progress.set(None);
-    };
+    let cancel = Callback::new(move |_| stop(st));
     let pct = move |id: &'static str, label: &'static str, get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
         let value = Signal::derive(move || get(&settings.get()));
         view! { <QuantityField id=id.to_string() label=label.to_string() unit="%" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
@@ -293,10 +240,7 @@ pub fn ToleranceSection() -> impl IntoView {
                     value=Signal::derive(move || settings.get().monte_carlo.seed as f64)
                     on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v.abs().round().min(9.0e15) as u64))) />
                 <button id="mc-run" on:click=start disabled=move || st.progress.get().is_some()>"Run Monte Carlo"</button>
-                {move || st.progress.get().map(|p| view! {
-                    <progress id="mc-progress" max="1" value=p.to_string()></progress>
-                    <button id="mc-cancel" class="quiet" on:click=cancel>"Cancel"</button>
-                })}
+                <super::progress::JobProgress id="mc" status=st.progress.into() on_cancel=cancel />
             </div>
             {move || st.result.get().map(|r| match r {
                 Err(e) => view! { <p class="error" id="mc-error" role="alert">{e}</p> }.into_any(),
