@@ -2,7 +2,8 @@
 //!
 //! The policy allows only the page's own files, its WebAssembly (`'wasm-unsafe-eval'`), and the one
 //! inline module script Trunk writes to load it, by its SHA-256 hash (CSP Level 3, `'sha256-…'`).
-//! Images may be `data:`/`blob:` URLs (the schematic and plot exports); nothing else is allowed.
+//! Images may be `data:`/`blob:` URLs (the schematic and plot exports); web workers only from the
+//! page's own files (`worker-src 'self'`: the compute worker's loader); nothing else is allowed.
 
 use std::path::PathBuf;
 
@@ -32,7 +33,7 @@ pub fn with_policy(html: &str) -> Result<String, String> {
         rest = &after[close + 9..];
     }
     let policy = format!(
-        "default-src 'self'; script-src 'self' 'wasm-unsafe-eval' {}; style-src 'self'; img-src 'self' data: blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'",
+        "default-src 'self'; script-src 'self' 'wasm-unsafe-eval' {}; style-src 'self'; worker-src 'self'; img-src 'self' data: blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'",
         hashes.join(" ")
     );
     let head = html.find("<head>").ok_or("csp: no <head> in index.html")? + 6;
@@ -135,5 +136,8 @@ mod tests {
         assert!(out.starts_with("<html><head>\n  <meta http-equiv=\"Content-Security-Policy\""));
         assert!(out.contains(&format!("'sha256-{}'", base64(&sha256(b"init();")))));
         assert_eq!(out.matches("'sha256-").count(), 1);
+        // Workers only from the page's own files: no blob: or data: worker, no inline script.
+        assert!(out.contains("worker-src 'self';"));
+        assert!(!out.contains("unsafe-inline") && !out.contains("worker-src 'self' blob:"));
     }
 }

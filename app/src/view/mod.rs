@@ -5,6 +5,7 @@ mod circuit;
 mod notebook;
 pub mod partlist;
 mod parts;
+pub mod progress;
 mod share;
 mod sheet;
 mod purpose;

@@ -10,7 +10,8 @@ use hysteron_core::signal::csv::{Capture, CsvOptions, CsvParser};
 use hysteron_core::signal::generate::{Component, SignalDefinition};
 use hysteron_core::signal::noise::NoiseSource;
 use hysteron_core::signal::plot::{downsample_min_max, Envelope};
-use hysteron_core::signal::report::{run_signal, SignalRun, SignalSettings, SignalSource};
+use hysteron_core::jobs::{Job, JobOutput, DEFAULT_DISPLAY_POINTS};
+use hysteron_core::signal::report::{SignalRun, SignalSettings, SignalSource};
 use hysteron_core::signal::sweep::SweepSettings;
 use hysteron_core::signal::trigger::TriggerDesign;
 use leptos::html::Canvas;
@@ -198,6 +199,8 @@ pub fn SignalSection() -> impl IntoView {
     };
     let view_window = RwSignal::new((0.0_f64, 0.0_f64));
     let elapsed = RwSignal::new(None::<(usize, f64)>);
+    let progress = RwSignal::new(None::<crate::jobs::JobStatus>);
+    let job = StoredValue::new_local(None::<crate::jobs::JobHandle>);
     let components = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.components)).unwrap_or_default());
     let noise = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.noise)).unwrap_or_default());
     let write_components = Callback::new(move |v: Vec<serde_json::Value>| {
@@ -222,19 +225,51 @@ pub fn SignalSection() -> impl IntoView {
             run.set(Some(Err("import the capture file again: captures are not stored with the design".into())));
             return;
         }
-        let t0 = crate::tick::now_ms();
-        let result = TriggerDesign::from_circuit(&record.circuit)
-            .and_then(|d| run_signal(&s, &d, cap.as_deref()))
-            .map(std::sync::Arc::new)
-            .map_err(|e| e.to_string());
-        if let Ok(r) = &result {
-            let n = r.signal_v.len();
-            let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
-            view_window.set((a, b));
-            elapsed.set(Some((n, crate::tick::now_ms() - t0)));
+        let design = match TriggerDesign::from_circuit(&record.circuit) {
+            Ok(d) => d,
+            Err(e) => return run.set(Some(Err(e.to_string()))),
+        };
+        // The study runs on the compute workers (`crate::jobs`), its sweep spread over them.
+        if let Some(h) = job.try_update_value(|j| j.take()).flatten() {
+            h.cancel();
         }
-        run.set(Some(result));
+        let t0 = crate::tick::now_ms();
+        let signal_job = Job::Signal {
+            design,
+            settings: s,
+            capture: cap.as_deref().cloned(),
+            display_points: DEFAULT_DISPLAY_POINTS,
+        };
+        let handle = crate::jobs::start(
+            signal_job,
+            move |status| progress.set(Some(status)),
+            move |out| {
+                progress.set(None);
+                job.set_value(None);
+                let result = match out {
+                    Ok(JobOutput::Signal(v)) => Ok(std::sync::Arc::new(v.into_run())),
+                    Ok(_) => Err("the worker returned another study's result".to_string()),
+                    Err(e) => Err(e),
+                };
+                if let Ok(r) = &result {
+                    let n = r.signal_v.len();
+                    let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
+                    view_window.set((a, b));
+                    elapsed.set(Some((r.report.samples, crate::tick::now_ms() - t0)));
+                }
+                run.set(Some(result));
+            },
+        );
+        if !handle.is_finished() {
+            job.set_value(Some(handle));
+        }
     };
+    let cancel = Callback::new(move |_| {
+        if let Some(h) = job.try_update_value(|j| j.take()).flatten() {
+            h.cancel();
+        }
+        progress.set(None);
+    });
     let sweep = move |_| {
         edit("", Box::new(|s| if s.sweep.is_none() { s.sweep = Some(SweepSettings::default()) }));
         simulate();
@@ -370,6 +405,7 @@ pub fn SignalSection() -> impl IntoView {
                 <div class="row no-print">
                     <button id="signal-run" on:click=move |_| simulate()>"Run the signal test"</button>
                     <button id="signal-sweep" class="quiet" on:click=sweep>"Sweep the noise level"</button>
+                    <super::progress::JobProgress id="signal" status=progress.into() on_cancel=cancel />
                 </div>
             })}
             {move || run.get().map(|r| match r {

@@ -1,5 +1,5 @@
 //! Tolerance: worst case, GUM and the error budget live as the design changes; Monte Carlo on
-//! request, in slices with a progress bar and a cancel button, with histograms and the yield
+//! request, on the compute workers (`crate::jobs`) with a progress bar and a cancel button, with histograms and the yield
 //! against the spec window. All numbers come from `core::tolerance`.
 //!
 //! The Monte Carlo result is kept with the design (`Notebook::keep_study`), so it survives a
@@ -10,83 +10,26 @@ use super::state::{study_inputs, Notebook, Study};
 use crate::storage::Kept;
 use crate::fields::{OptionalQuantityField, QuantityField};
 use crate::plot;
-use crate::tick::later;
 use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
-use hysteron_core::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
 use hysteron_core::error::DesignError;
 use hysteron_core::tolerance::settings::MAX_TRIALS;
 use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
-use hysteron_core::topology::Topology;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
-/// Trials per slice: one slice takes about 5 ms in the browser, short enough to keep the page responsive.
-const SLICE: u64 = 20_000;
-
-struct Job {
-    run: MonteCarloRun<Topology>,
-    partial: MonteCarloPartial,
-    generation: u64,
-    /// The design the run belongs to, and the inputs it started from.
-    id: String,
-    inputs: String,
-}
-
 #[derive(Clone, Copy)]
 struct McState {
-    job: StoredValue<Option<Job>>,
-    generation: RwSignal<u64>,
-    progress: RwSignal<Option<f64>>,
+    /// The running job (Monte Carlo on the compute workers, see `crate::jobs`).
+    job: StoredValue<Option<crate::jobs::JobHandle>, leptos::prelude::LocalStorage>,
+    progress: RwSignal<Option<crate::jobs::JobStatus>>,
     error: RwSignal<Option<String>>,
-    started_ms: RwSignal<f64>,
 }
 
-type Finished = (Result<MonteCarloResult, String>, String, String);
-
-fn step(st: McState, nb: Notebook, generation: u64) {
-    // The section may be gone (another design opened): then the run simply stops.
-    if st.generation.try_get_untracked() != Some(generation) {
-        return;
+fn stop(st: McState) {
+    if let Some(h) = st.job.try_update_value(|j| j.take()).flatten() {
+        h.cancel();
     }
-    let outcome = st.job.try_update_value(|job| {
-        let job = job.as_mut()?;
-        if job.generation != generation {
-            return None;
-        }
-        let total = job.run.trials();
-        let start = job.partial.end;
-        let end = (start + SLICE).min(total);
-        let res = job.run.run(start, end).and_then(|next| job.partial.merge(next));
-        Some(match res {
-            Err(e) => Err(e.to_string()),
-            Ok(()) if job.partial.end >= total => {
-                let done = job.run.finish(&job.partial).map_err(|e| e.to_string());
-                Ok(Some((done, job.id.clone(), job.inputs.clone())))
-            }
-            Ok(()) => Ok(None),
-        }
-        .map(|done: Option<Finished>| (done, job.partial.end as f64 / total.max(1) as f64)))
-    });
-    match outcome.flatten() {
-        None => {}
-        Some(Err(e)) => {
-            st.error.set(Some(e));
-            st.progress.set(None);
-        }
-        Some(Ok((Some((done, id, inputs)), _))) => {
-            let elapsed_ms = crate::tick::now_ms() - st.started_ms.get_untracked();
-            st.progress.set(None);
-            st.job.set_value(None);
-            match done {
-                Ok(result) => nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result, elapsed_ms })),
-                Err(e) => st.error.set(Some(e)),
-            }
-        }
-        Some(Ok((None, p))) => {
-            st.progress.set(Some(p));
-            later(move || step(st, nb, generation));
-        }
-    }
+    st.progress.set(None);
 }
 
 fn mv(v: f64) -> String {
@@ -122,45 +65,41 @@ pub fn ToleranceSection() -> impl IntoView {
         .unwrap_or_else(|| Err("no design open".into()))
     });
     let st = McState {
-        job: StoredValue::new(None),
-        generation: RwSignal::new(0),
+        job: StoredValue::new_local(None),
         progress: RwSignal::new(None),
         error: RwSignal::new(None),
-        started_ms: RwSignal::new(0.0),
     };
     // The run kept with the open design, and whether the design still gives its inputs.
     let kept = Memo::new(move |_| nb.study(Study::MonteCarlo, |s| &s.monte_carlo));
     let start = move |_| {
         let Some(id) = nb.current.get_untracked() else { return };
         let Some((circuit, inputs)) = nb.with_current_untracked(|r| (r.circuit.clone(), study_inputs(Study::MonteCarlo, r))) else { return };
-        let s = settings.get_untracked();
+        stop(st);
         st.error.set(None);
-        match MonteCarloRun::new(&circuit, &s) {
-            Err(e) => st.error.set(Some(e.to_string())),
-            Ok(run) => {
-                st.generation.update(|g| *g += 1);
-                let generation = st.generation.get_untracked();
-                let partial = MonteCarloPartial {
-                    start: 0,
-                    end: 0,
-                    vt_upper_v: Vec::new(),
-                    vt_lower_v: Vec::new(),
-                    rejected_trials: 0,
-                    inside_spec: 0,
-                    spec_violations: [0; 8],
-                };
-                st.job.set_value(Some(Job { run, partial, generation, id, inputs }));
-                st.progress.set(Some(0.0));
-                st.started_ms.set(crate::tick::now_ms());
-                later(move || step(st, nb, generation));
-            }
+        let job = hysteron_core::jobs::Job::MonteCarlo { circuit, settings: settings.get_untracked(), trials: None };
+        let t0 = crate::tick::now_ms();
+        // The result is kept with the design the run started on, even if another one is open now.
+        let handle = crate::jobs::start(
+            job,
+            move |status| st.progress.set(Some(status)),
+            move |out| {
+                let elapsed_ms = crate::tick::now_ms() - t0;
+                st.job.set_value(None);
+                st.progress.set(None);
+                match out {
+                    Ok(hysteron_core::jobs::JobOutput::MonteCarlo(result)) => {
+                        nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result, elapsed_ms }))
+                    }
+                    Ok(_) => st.error.set(Some("the worker returned another study's result".into())),
+                    Err(e) => st.error.set(Some(e)),
+                }
+            },
+        );
+        if !handle.is_finished() {
+            st.job.set_value(Some(handle));
         }
     };
-    let cancel = move |_| {
-        st.generation.update(|g| *g += 1);
-        st.job.set_value(None);
-        st.progress.set(None);
-    };
+    let cancel = Callback::new(move |_| stop(st));
     // A settings field refuses a value that makes the settings invalid, with core's reason, when the
     // reason is about one of `own` (the record names of what this field edits).
     let settings_check = move |own: &'static [&'static str], put: fn(&mut ToleranceSettings, f64)| {
@@ -324,10 +263,7 @@ pub fn ToleranceSection() -> impl IntoView {
                     check=Callback::new(|v: f64| crate::fields::whole_number(v, 0.0, 9.0e15))
                     on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v as u64))) />
                 <button id="mc-run" on:click=start disabled=move || st.progress.get().is_some()>"Run Monte Carlo"</button>
-                {move || st.progress.get().map(|p| view! {
-                    <progress id="mc-progress" max="1" value=p.to_string()></progress>
-                    <button id="mc-cancel" class="quiet" on:click=cancel>"Cancel"</button>
-                })}
+                <super::progress::JobProgress id="mc" status=st.progress.into() on_cancel=cancel />
             </div>
             {move || st.error.get().map(|e| view! { <p class="error" id="mc-error" role="alert">{e}</p> })}
             {move || kept.get().map(|k| {
