@@ -6,6 +6,7 @@
 pub mod download;
 pub mod fields;
 pub mod panic;
+pub mod jobs;
 pub mod plot;
 pub mod storage;
 pub mod tick;
@@ -20,4 +21,6 @@ pub fn start() {
     if let Some(p) = web_sys::window().and_then(|w| w.performance()) {
         let _ = p.mark("hysteron-mounted");
     }
+    // Start the compute workers in the background, after the page has shown.
+    tick::after_ms(200, || jobs::prewarm(jobs::worker_count()));
 }

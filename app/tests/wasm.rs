@@ -33,7 +33,7 @@ fn random_stream_is_bit_identical_to_native() {
 fn monte_carlo_is_bit_identical_to_native() {
     // Pinned natively in core/src/tolerance/monte_carlo.rs (`fingerprint_is_pinned`): the same
     // seed gives the same trials, statistics and yield in the browser build.
-    assert_eq!(hysteron_core::tolerance::monte_carlo_fingerprint(7), 0x9115_18c1_41ba_0fe9);
+    assert_eq!(hysteron_core::tolerance::monte_carlo_fingerprint(7), 0x1fd5_9992_eb42_40dc);
 }
 
 /// First output of xoshiro256++ seeded with 0 through SplitMix64, as computed natively

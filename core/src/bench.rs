@@ -1,5 +1,5 @@
 //! The bench test procedure printed on the design sheet: how to verify VT+ and VT− with a slow
-//! ramp, the readings to expect with their tolerance bands, and what to check when they are off.
+//! ramp, the readings to expect with their windows, and what to check when they are off.
 //!
 //! The method is the usual one for any hysteresis circuit (common practice): drive the input from
 //! an adjustable supply or a slow triangle, starting below VT−, raise it until the output
@@ -8,9 +8,14 @@
 //! reading overshoots the true switching point.
 //!
 //! Expected readings are the analysis's thresholds (`crate::topology::analyse`) at the nominal
-//! supply and, when the record gives a supply range, at its ends. Bands come from the tolerance
-//! study when it has run ([`ThresholdBounds`]); otherwise readings carry no band and the sheet says
-//! so.
+//! supply and, when the record gives a supply range, at its ends. Two named windows come from the
+//! tolerance study when it has run ([`ReadingWindows`], see [`crate::tolerance::bench_window`]):
+//! - the **bench window** at each supply a step sets: part tolerances and device spread only, at
+//!   room temperature (25 °C) — what the technician accepts;
+//! - the **field window** at the nominal supply: every tolerance over its full range (supply
+//!   tolerance, temperature range too) — what boards may show in service, printed for reference.
+//!
+//! Without the study, readings carry no window and the sheet says so.
 
 use crate::analysis::{CheckSettings, Sense};
 use crate::error::DesignError;
@@ -18,8 +23,7 @@ use crate::topology::{analyse, Circuit, Topology};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write as _;
 
-/// Worst-case (or statistical) limits of the thresholds at the nominal supply, from the tolerance
-/// study: `(min, max)` in volts, `None` when not yet known.
+/// Limits of the thresholds, `(min, max)` in volts, `None` when not yet known.
 #[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
 #[serde(default)]
 pub struct ThresholdBounds {
@@ -27,6 +31,34 @@ pub struct ThresholdBounds {
     pub vt_upper_v: Option<(f64, f64)>,
     /// Limits of VT−, volts.
     pub vt_lower_v: Option<(f64, f64)>,
+}
+
+/// The bench window at one supply a step sets.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct SupplyBounds {
+    /// The supply, volts.
+    pub supply_v: f64,
+    /// Limits of the thresholds at this supply and 25 °C, from part tolerances and device spread.
+    pub bounds: ThresholdBounds,
+}
+
+/// The two named windows the procedure prints (empty until the tolerance study provides them).
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[serde(default)]
+pub struct ReadingWindows {
+    /// The field window at the nominal supply: every tolerance over its full range (supply
+    /// tolerance, temperature range, device spread, part tolerances).
+    pub field: ThresholdBounds,
+    /// The bench window at each supply the procedure sets: part tolerances and device spread
+    /// only, at 25 °C and exactly that supply.
+    pub bench: Vec<SupplyBounds>,
+}
+
+impl ReadingWindows {
+    /// The bench window at `supply_v`, when known.
+    pub fn bench_at(&self, supply_v: f64) -> ThresholdBounds {
+        self.bench.iter().find(|b| b.supply_v == supply_v).map(|b| b.bounds).unwrap_or_default()
+    }
 }
 
 /// Which threshold a reading is.
@@ -48,10 +80,16 @@ pub struct ExpectedReading {
     pub supply_v: f64,
     /// Expected input voltage at the switch, volts.
     pub nominal_v: f64,
-    /// Lowest acceptable reading, volts (`None`: no band known yet).
-    pub min_v: Option<f64>,
-    /// Highest acceptable reading, volts.
-    pub max_v: Option<f64>,
+    /// Lowest acceptable reading: the bench window's minimum at this supply and 25 °C, volts
+    /// (`None`: not known yet).
+    pub bench_min_v: Option<f64>,
+    /// Highest acceptable reading: the bench window's maximum, volts.
+    pub bench_max_v: Option<f64>,
+    /// The field window's minimum (every tolerance over its full range; nominal supply only),
+    /// volts, for reference.
+    pub field_min_v: Option<f64>,
+    /// The field window's maximum, volts.
+    pub field_max_v: Option<f64>,
     /// Output level before the switch, volts.
     pub output_before_v: f64,
     /// Output level after the switch, volts.
@@ -59,9 +97,9 @@ pub struct ExpectedReading {
 }
 
 impl ExpectedReading {
-    /// Whether a measured value lies in the band (always `true` without a band).
+    /// Whether a measured value lies in the bench window (always `true` without one).
     pub fn accepts(&self, measured_v: f64) -> bool {
-        self.min_v.is_none_or(|m| measured_v >= m) && self.max_v.is_none_or(|m| measured_v <= m)
+        self.bench_min_v.is_none_or(|m| measured_v >= m) && self.bench_max_v.is_none_or(|m| measured_v <= m)
     }
 }
 
@@ -104,28 +142,48 @@ fn v(x: f64) -> String {
 }
 
 /// Builds the bench procedure for a circuit with its check settings (supply range, input span)
-/// and any known threshold bounds.
+/// and the windows known so far (bench window per supply, field window at the nominal supply).
 ///
 /// ```
-/// use hysteron_core::bench::{bench_procedure, ThresholdBounds};
+/// use hysteron_core::bench::{bench_procedure, ReadingWindows, SupplyBounds, ThresholdBounds};
 /// let r = hysteron_core::catalog::templates()[0].record();
-/// let bounds = ThresholdBounds { vt_upper_v: Some((2.9, 3.1)), vt_lower_v: Some((1.9, 2.1)) };
-/// let p = bench_procedure(&r.circuit, &r.checks, &bounds).unwrap();
+/// let windows = ReadingWindows {
+///     field: ThresholdBounds { vt_upper_v: Some((2.8, 3.2)), vt_lower_v: Some((1.8, 2.2)) },
+///     bench: vec![SupplyBounds {
+///         supply_v: 5.0,
+///         bounds: ThresholdBounds { vt_upper_v: Some((2.9, 3.1)), vt_lower_v: Some((1.9, 2.1)) },
+///     }],
+/// };
+/// let p = bench_procedure(&r.circuit, &r.checks, &windows).unwrap();
 /// // Ra = Rb = Rf = 100 kΩ on 5 V: VT+ = 5·Rb/(Rb + Ra‖Rf) = 10/3 V (DOMAIN §1a).
 /// assert!((p.readings[0].nominal_v - 10.0 / 3.0).abs() < 1e-12);
 /// assert!(p.to_text().contains("2.900 V … 3.100 V"));
+/// assert!(p.to_text().contains("2.800 V … 3.200 V"));
 /// ```
 pub fn bench_procedure(
     circuit: &Topology,
     checks: &CheckSettings,
-    bounds: &ThresholdBounds,
+    windows: &ReadingWindows,
 ) -> Result<BenchProcedure, DesignError> {
     let a = analyse(circuit, checks)?;
     crate::finite::check("analysis", &a)?;
-    let procedure = bench_procedure_from(circuit, &a, checks, bounds);
+    let procedure = bench_procedure_from(circuit, &a, checks, windows);
     // A sheet that says "set the input to -inf V" is refused rather than printed.
     crate::finite::check("bench", &procedure)?;
     Ok(procedure)
+}
+
+/// The supplies a bench procedure sets, in the order of its steps: the nominal supply first, then
+/// each other end of the record's supply range.
+pub fn bench_supplies(circuit: &Topology, analysis: &crate::analysis::Analysis) -> Vec<f64> {
+    let nominal = circuit.supply_v();
+    let mut out = vec![nominal];
+    for c in &analysis.supply_corners {
+        if c.supply_v != nominal && !out.contains(&c.supply_v) {
+            out.push(c.supply_v);
+        }
+    }
+    out
 }
 
 /// The same from an analysis already made with the same check settings.
@@ -133,7 +191,7 @@ pub fn bench_procedure_from(
     circuit: &Topology,
     analysis: &crate::analysis::Analysis,
     checks: &CheckSettings,
-    bounds: &ThresholdBounds,
+    windows: &ReadingWindows,
 ) -> BenchProcedure {
     let a = analysis;
     let supply = circuit.supply_v();
@@ -141,9 +199,16 @@ pub fn bench_procedure_from(
     let highest = a.supply_corners.iter().map(|c| c.vt_upper_v.max(c.vt_lower_v)).fold(a.vt_upper_v, f64::max);
     let lowest = a.supply_corners.iter().map(|c| c.vt_upper_v.min(c.vt_lower_v)).fold(a.vt_lower_v, f64::min);
     let (ramp_low_v, ramp_high_v) = crate::spice::ramp_span_v(highest, lowest);
-    // Step: a twentieth of the narrowest of the hysteresis and the bands, at least 10 µV.
+    // Step: a twentieth of the narrowest of the hysteresis and the windows, at least 10 µV.
     let mut narrowest = a.hysteresis_v.abs();
-    for (lo, hi) in [bounds.vt_upper_v, bounds.vt_lower_v].into_iter().flatten() {
+    let every_bound = windows
+        .bench
+        .iter()
+        .map(|b| b.bounds)
+        .chain([windows.field])
+        .flat_map(|b| [b.vt_upper_v, b.vt_lower_v])
+        .flatten();
+    for (lo, hi) in every_bound {
         if hi > lo {
             narrowest = narrowest.min(hi - lo);
         }
@@ -160,13 +225,16 @@ pub fn bench_procedure_from(
 
     let mut readings = Vec::new();
     let mut corner_readings = |supply_v: f64, up: f64, down: f64, nominal: bool| {
-        let (bu, bl) = if nominal { (bounds.vt_upper_v, bounds.vt_lower_v) } else { (None, None) };
+        let bench = windows.bench_at(supply_v);
+        let field = if nominal { windows.field } else { ThresholdBounds::default() };
         readings.push(ExpectedReading {
             threshold: Threshold::Upper,
             supply_v,
             nominal_v: up,
-            min_v: bu.map(|b| b.0),
-            max_v: bu.map(|b| b.1),
+            bench_min_v: bench.vt_upper_v.map(|b| b.0),
+            bench_max_v: bench.vt_upper_v.map(|b| b.1),
+            field_min_v: field.vt_upper_v.map(|b| b.0),
+            field_max_v: field.vt_upper_v.map(|b| b.1),
             output_before_v: before_up,
             output_after_v: after_up,
         });
@@ -174,8 +242,10 @@ pub fn bench_procedure_from(
             threshold: Threshold::Lower,
             supply_v,
             nominal_v: down,
-            min_v: bl.map(|b| b.0),
-            max_v: bl.map(|b| b.1),
+            bench_min_v: bench.vt_lower_v.map(|b| b.0),
+            bench_max_v: bench.vt_lower_v.map(|b| b.1),
+            field_min_v: field.vt_lower_v.map(|b| b.0),
+            field_max_v: field.vt_lower_v.map(|b| b.1),
             output_before_v: after_up,
             output_after_v: before_up,
         });
@@ -209,7 +279,14 @@ pub fn bench_procedure_from(
         |level: f64| if (level - a.output_high_v).abs() <= (level - a.output_low_v).abs() { "high" } else { "low" };
     let mut steps = Vec::new();
     let mut step = |instruction: String, reading: Option<usize>| steps.push(BenchStep { instruction, reading });
-    step(format!("Set the circuit's supply to {} and check it at the device's supply pins.", v(supply)), None);
+    step(
+        format!(
+            "Set the circuit's supply to {} and check it at the device's supply pins.{}",
+            v(supply),
+            expected_at(&readings[0], &readings[1])
+        ),
+        None,
+    );
     step(
         format!(
             "Set the {input_name} to {} (below VT−). OUT should read {} ({}).",
@@ -224,7 +301,10 @@ pub fn bench_procedure_from(
         let up = &chunk[0];
         let down = &chunk[1];
         if k > 0 {
-            step(format!("Set the circuit's supply to {} and repeat the two ramps.", v(up.supply_v)), None);
+            step(
+                format!("Set the circuit's supply to {} and repeat the two ramps.{}", v(up.supply_v), expected_at(up, down)),
+                None,
+            );
         }
         step(
             format!(
@@ -253,7 +333,7 @@ pub fn bench_procedure_from(
         idx += 2;
     }
     if readings.len() > 2 {
-        step(format!("Return the supply to {}.", v(supply)), None);
+        step(format!("Return the supply to {}.{}", v(supply), expected_at(&readings[0], &readings[1])), None);
     }
     step(
         "Check the hysteresis VT+ − VT− from the two readings and confirm OUT switches cleanly, once per crossing, without chatter on the oscilloscope.".to_string(),
@@ -280,8 +360,27 @@ pub fn bench_procedure_from(
 }
 
 fn band_text(r: &ExpectedReading) -> String {
-    match (r.min_v, r.max_v) {
-        (Some(lo), Some(hi)) => format!(" (accept {} … {})", v(lo), v(hi)),
+    let field = match (r.field_min_v, r.field_max_v) {
+        (Some(lo), Some(hi)) => format!("; field window {} … {}", v(lo), v(hi)),
+        _ => String::new(),
+    };
+    match (r.bench_min_v, r.bench_max_v) {
+        (Some(lo), Some(hi)) => format!(" (accept {} … {}, the bench window{field})", v(lo), v(hi)),
+        _ if !field.is_empty() => format!(" ({})", &field[2..]),
+        _ => String::new(),
+    }
+}
+
+/// The sentence a supply-setting step ends with: the bench window of both thresholds at that supply.
+fn expected_at(up: &ExpectedReading, down: &ExpectedReading) -> String {
+    match (up.bench_min_v, up.bench_max_v, down.bench_min_v, down.bench_max_v) {
+        (Some(a), Some(b), Some(c), Some(d)) => format!(
+            " At this supply and room temperature (25 °C) expect VT+ {} … {} and VT− {} … {} (bench window: part tolerances and device spread).",
+            v(a),
+            v(b),
+            v(c),
+            v(d)
+        ),
         _ => String::new(),
     }
 }
@@ -317,18 +416,28 @@ impl BenchProcedure {
             let _ = writeln!(o, "  {}. {}", i + 1, s.instruction);
         }
         let _ = writeln!(o, "\nExpected readings ({})", self.input_name);
-        let _ = writeln!(o, "  {:<6} {:>10} {:>12} {:>25}", "", "supply", "expected", "accept");
+        let _ = writeln!(
+            o,
+            "  {:<6} {:>10} {:>12} {:>25} {:>25}",
+            "", "supply", "expected", "accept (bench window)", "field window"
+        );
         for r in &self.readings {
             let name = match r.threshold {
                 Threshold::Upper => "VT+",
                 Threshold::Lower => "VT−",
             };
-            let band = match (r.min_v, r.max_v) {
+            let range = |lo: Option<f64>, hi: Option<f64>, missing: &str| match (lo, hi) {
                 (Some(lo), Some(hi)) => format!("{} … {}", v(lo), v(hi)),
-                _ => "(run the tolerance study)".into(),
+                _ => missing.to_string(),
             };
-            let _ = writeln!(o, "  {:<6} {:>10} {:>12} {:>25}", name, v(r.supply_v), v(r.nominal_v), band);
+            let bench = range(r.bench_min_v, r.bench_max_v, "(run the tolerance study)");
+            let field = range(r.field_min_v, r.field_max_v, "");
+            let _ = writeln!(o, "  {:<6} {:>10} {:>12} {:>25} {:>25}", name, v(r.supply_v), v(r.nominal_v), bench, field);
         }
+        let _ = writeln!(
+            o,
+            "  Bench window: part tolerances and device spread at 25 °C and the supply set. Field window: every tolerance over its full range (supply, temperature), for reference."
+        );
         let _ = writeln!(o, "\nIf the readings are off");
         for t in &self.troubleshooting {
             let _ = writeln!(o, "  - {t}");
@@ -350,7 +459,7 @@ mod tests {
     fn expected_readings_are_the_analysis_thresholds_at_every_supply() {
         let r = lathe();
         let a = analyse(&r.circuit, &r.checks).unwrap();
-        let p = bench_procedure(&r.circuit, &r.checks, &ThresholdBounds::default()).unwrap();
+        let p = bench_procedure(&r.circuit, &r.checks, &ReadingWindows::default()).unwrap();
         // Nominal first, then each end of the record's supply range (4.75 V and 5.25 V).
         assert_eq!(p.readings.len(), 2 * a.supply_corners.len());
         assert_eq!(p.readings[0].nominal_v, a.vt_upper_v);
@@ -368,27 +477,51 @@ mod tests {
     }
 
     #[test]
-    fn bands_come_from_the_bounds_and_set_the_step() {
+    fn windows_come_from_the_study_and_set_the_step() {
         let r = lathe();
-        let bounds = ThresholdBounds { vt_upper_v: Some((2.85, 2.95)), vt_lower_v: Some((1.66, 1.74)) };
-        let p = bench_procedure(&r.circuit, &r.checks, &bounds).unwrap();
-        assert_eq!((p.readings[0].min_v, p.readings[0].max_v), (Some(2.85), Some(2.95)));
-        assert_eq!((p.readings[1].min_v, p.readings[1].max_v), (Some(1.66), Some(1.74)));
-        // Bands only at the nominal supply, where the tolerance study computed them.
-        assert!(p.readings[2..].iter().all(|x| x.min_v.is_none()));
-        // The narrowest band is 80 mV: steps of 4 mV.
+        let windows = ReadingWindows {
+            field: ThresholdBounds { vt_upper_v: Some((2.72, 3.10)), vt_lower_v: Some((1.55, 1.85)) },
+            bench: vec![
+                SupplyBounds {
+                    supply_v: 5.0,
+                    bounds: ThresholdBounds { vt_upper_v: Some((2.85, 2.95)), vt_lower_v: Some((1.66, 1.74)) },
+                },
+                SupplyBounds {
+                    supply_v: 4.75,
+                    bounds: ThresholdBounds { vt_upper_v: Some((2.70, 2.80)), vt_lower_v: Some((1.57, 1.65)) },
+                },
+            ],
+        };
+        let p = bench_procedure(&r.circuit, &r.checks, &windows).unwrap();
+        let r0 = &p.readings[0];
+        assert_eq!((r0.bench_min_v, r0.bench_max_v), (Some(2.85), Some(2.95)));
+        assert_eq!((r0.field_min_v, r0.field_max_v), (Some(2.72), Some(3.10)));
+        assert_eq!((p.readings[1].bench_min_v, p.readings[1].bench_max_v), (Some(1.66), Some(1.74)));
+        // A supply corner gets its own bench window and no field window (that is the nominal supply's).
+        let low = p.readings.iter().find(|x| x.supply_v == 4.75 && x.threshold == Threshold::Upper).unwrap();
+        assert_eq!((low.bench_min_v, low.bench_max_v, low.field_min_v), (Some(2.70), Some(2.80), None));
+        let high = p.readings.iter().find(|x| x.supply_v == 5.25).unwrap();
+        assert_eq!(high.bench_min_v, None);
+        // The narrowest window is 80 mV: steps of 4 mV.
         assert!((p.step_v - 0.004).abs() < 1e-12);
-        assert!(p.readings[0].accepts(2.9) && !p.readings[0].accepts(2.96));
+        // The technician accepts by the bench window, not the field window.
+        assert!(r0.accepts(2.9) && !r0.accepts(2.96) && !r0.accepts(3.05));
         let text = p.to_text();
-        assert!(text.contains("2.850 V … 2.950 V"), "{text}");
-        assert!(text.contains(&format!("{:.3} V", p.readings[0].nominal_v)));
+        assert!(text.contains("2.850 V … 2.950 V") && text.contains("2.720 V … 3.100 V"), "{text}");
+        assert!(text.contains(&format!("{:.3} V", r0.nominal_v)));
+        // Every step that sets a supply states the window at that supply.
+        let sets: Vec<&BenchStep> = p.steps.iter().filter(|s| s.instruction.contains("supply to")).collect();
+        assert_eq!(sets.len(), 4, "{sets:?}");
+        assert!(sets[0].instruction.contains("VT+ 2.850 V … 2.950 V"), "{}", sets[0].instruction);
+        assert!(sets.iter().any(|s| s.instruction.contains("4.750 V") && s.instruction.contains("VT+ 2.700 V … 2.800 V")));
+        assert!(sets.last().unwrap().instruction.contains("VT− 1.660 V … 1.740 V"));
     }
 
     #[test]
     fn every_starter_gets_a_procedure_with_topology_specific_checks() {
         for s in catalog::templates().into_iter().chain(catalog::demos()) {
             let r = s.record();
-            let p = bench_procedure(&r.circuit, &r.checks, &ThresholdBounds::default()).unwrap();
+            let p = bench_procedure(&r.circuit, &r.checks, &ReadingWindows::default()).unwrap();
             assert!(p.troubleshooting.len() > 4, "{}", s.key);
             assert!(p.steps.iter().filter(|x| x.reading.is_some()).count() == p.readings.len());
             if r.circuit.name() == "supply_monitor" {

@@ -22,6 +22,8 @@ pub use crate::analysis::OutputStage;
 use crate::topology::{analyse, Circuit, ParameterKind};
 use serde::{Deserialize, Serialize};
 
+pub mod application;
+
 /// Resistor package (case size) chosen for the part list; 0603 by default.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 pub enum Package {
@@ -84,6 +86,9 @@ impl Package {
     }
 }
 
+/// How the package ratings are known, for the part list's "Rating" column and its notes.
+pub const PACKAGE_RATING_BASIS: &str = "typical package rating at 70 °C (common practice; check the part's datasheet)";
+
 /// Common resistor power ratings, watts, from which a suggestion is picked (common practice).
 pub const POWER_RATINGS_W: [f64; 11] = [0.05, 0.0625, 0.1, 0.125, 0.25, 0.5, 0.75, 1.0, 2.0, 3.0, 5.0];
 
@@ -145,8 +150,13 @@ pub struct ResistorLine {
     pub max_power_w: Option<f64>,
     /// Suggested power rating, watts (smallest common rating ≥ derating factor × worst dissipation).
     pub suggested_rating_w: Option<f64>,
-    /// The package's typical power rating, watts.
+    /// The package's typical power rating at 70 °C, watts (common practice, see
+    /// [`Package::power_rating_w`]; [`PACKAGE_RATING_BASIS`] says so wherever it is shown).
     pub package_rating_w: f64,
+    /// Whether the package's rating reaches the suggested minimum rating (`None` without a
+    /// dissipation figure).
+    #[serde(default)]
+    pub rating_sufficient: Option<bool>,
     /// Largest voltage across the part, volts.
     pub max_volts: Option<f64>,
     /// Rated voltage of this value in this package: min(√(P·R), limiting element voltage), volts.
@@ -189,6 +199,10 @@ pub struct Bom {
     pub resistors: Vec<ResistorLine>,
     /// The active device.
     pub device: DeviceLine,
+    /// The parts of the record's oscillator and debouncer ([`application::application_parts`];
+    /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
+    #[serde(default)]
+    pub application: Vec<application::ApplicationPart>,
     /// The settings it was built with.
     pub settings: PartSettings,
 }
@@ -312,13 +326,41 @@ pub fn bom<C: Circuit>(
             max_power_w,
             suggested_rating_w,
             package_rating_w: package.power_rating_w(),
+            rating_sufficient: suggested_rating_w.map(|r| package.power_rating_w() >= r),
             max_volts,
             voltage_limit_v,
             notes,
         });
     }
 
-    Ok(Bom { resistors, device: device_line(circuit, analysis, circuit.output_stage()), settings: *settings })
+    let mut device = device_line(circuit, analysis, circuit.output_stage());
+    device.notes.extend(transistor_notes(circuit, device.supply_max_v, settings.power_derating_factor));
+    Ok(Bom { resistors, device, application: Vec::new(), settings: *settings })
+}
+
+/// Discrete transistors' VCEO, IC and power requirements at the highest supply, from the
+/// topology's bounds ([`Circuit::transistor_stress`]); current and power carry the derating factor
+/// (common practice: rate parts at least 2× their worst stress). Empty for other active devices.
+fn transistor_notes<C: Circuit>(circuit: &C, supply_max_v: f64, derating: f64) -> Vec<String> {
+    let watts = |w: f64| format!("{} mW", crate::notation::format_significant(w * 1e3, 3));
+    circuit
+        .with_supply(supply_max_v)
+        .transistor_stress()
+        .iter()
+        .map(|q| {
+            format!(
+                "{}: VCEO at least {} (largest VCE); IC rating at least {} ({}× the largest collector current {}); power rating at least {} ({}× the largest dissipation {})",
+                q.designator,
+                format_with_unit(q.vce_max_v, 3, Unit::Volt),
+                format_with_unit(q.collector_current_max_a * derating, 3, Unit::Ampere),
+                derating,
+                format_with_unit(q.collector_current_max_a, 3, Unit::Ampere),
+                watts(q.dissipation_max_w * derating),
+                derating,
+                watts(q.dissipation_max_w),
+            )
+        })
+        .collect()
 }
 
 fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage) -> DeviceLine {
@@ -340,7 +382,10 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
         format!("{supply} above a negative rail of {}", v(negative_rail_v))
     };
     notes.push(format!("must run from a {rails}"));
-    if let (Some(lo), Some(hi)) = (input_min_v, input_max_v) {
+    // Discrete transistors have no common-mode range or datasheet output swing: their
+    // requirements are the VCEO, IC and power lines (`transistor_notes`).
+    let discrete = stage == OutputStage::DiscreteTransistors;
+    if let (false, Some(lo), Some(hi)) = (discrete, input_min_v, input_max_v) {
         notes.push(format!("input common-mode range must cover {} to {} (both output states)", v(lo), v(hi)));
         let (dev_lo, dev_hi) = circuit.device_input_range();
         if lo < dev_lo - 1e-9 || hi > dev_hi + 1e-9 {
@@ -353,6 +398,11 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
     }
     let (voh, vol) = (analysis.output_high_v, analysis.output_low_v);
     notes.push(match stage {
+        OutputStage::DiscreteTransistors => format!(
+            "the thresholds assume output levels {} (high) and {} (low), set by RC2 and the emitter current",
+            v(voh),
+            v(vol)
+        ),
         OutputStage::OpenDrain => format!(
             "output low must reach {} at the sink current, and the output must withstand the pull-up voltage; the high level {} is set by the pull-up network",
             v(vol),
@@ -411,6 +461,28 @@ impl Bom {
                 csv_number(r.max_volts),
                 csv_number(Some(r.voltage_limit_v)),
                 r.notes.join("; "),
+            ]);
+        }
+        for p in &self.application {
+            let resistor = p.kind == application::PartKind::Resistor;
+            let mut notes = p.notes.clone();
+            if let Some(v) = p.suggested_voltage_v {
+                notes.insert(0, format!("voltage rating at least {v} V"));
+            }
+            line(&[
+                p.designator.clone(),
+                format!("{}, {}", if resistor { "resistor" } else { "capacitor" }, p.label),
+                p.value_rkm.clone().unwrap_or_else(|| p.value_text.clone()),
+                p.value_text.clone(),
+                p.series.to_string(),
+                if resistor { csv_number(Some(self.settings.tolerance_pct)) } else { String::new() },
+                if resistor { self.settings.package.label().to_string() } else { String::new() },
+                csv_number(p.max_power_w),
+                csv_number(p.suggested_rating_w),
+                if resistor { csv_number(Some(self.settings.package.power_rating_w())) } else { String::new() },
+                csv_number(Some(p.max_volts)),
+                String::new(),
+                notes.join("; "),
             ]);
         }
         let d = &self.device;
@@ -474,6 +546,10 @@ mod tests {
         let node_p = (5.0 / 120.0) / (2.0 / 120.0 + 1.0 / 10e3);
         assert!((p - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12, "{p}");
         assert_eq!(r1.suggested_rating_w, Some(0.125));
+        // The package's own rating stays the 0603's 0.1 W (common practice), and it falls short.
+        assert_eq!((r1.package_rating_w, r1.rating_sufficient), (0.1, Some(false)));
+        let cool = &b.resistors[2];
+        assert_eq!((cool.package_rating_w, cool.rating_sufficient), (0.1, Some(true)));
         assert!(r1.notes.iter().any(|n| n.contains("use 0805 or larger")), "{:?}", r1.notes);
     }
 

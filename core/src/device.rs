@@ -55,6 +55,14 @@ pub struct Comparator {
     pub input_high_margin_v: f64,
     /// Resistance of the signal source that drives the circuit input, ohms.
     pub source_resistance_ohm: f64,
+    /// Input offset drift magnitude |ΔVOS/ΔT| (TCVOS), volts per kelvin; its sign is unknown, as
+    /// datasheets give a magnitude (typically 1–10 µV/K for bipolar inputs — common practice).
+    pub offset_drift_v_per_k: f64,
+    /// Relative change of the bias currents per kelvin, percent, compounded from 25 °C:
+    /// IB(T) = IB(25 °C)·(1 + p/100)^(T − 25 K). Its sign is known from the input stage: about
+    /// +7 %/K for CMOS and JFET inputs (doubling every 10 K), slightly negative for bipolar inputs
+    /// (common practice). Limited to ±50 %/K.
+    pub bias_tempco_pct_per_k: f64,
     /// Which effects are modelled.
     pub effects: Effects,
 }
@@ -73,6 +81,8 @@ impl Default for Comparator {
             input_low_margin_v: 0.0,
             input_high_margin_v: 0.0,
             source_resistance_ohm: 0.0,
+            offset_drift_v_per_k: 0.0,
+            bias_tempco_pct_per_k: 0.0,
             effects: Effects::default(),
         }
     }
@@ -97,12 +107,17 @@ impl Comparator {
         non_negative("builtin_hysteresis_v", check(Quantity::Voltage, "builtin_hysteresis_v", self.builtin_hysteresis_v)?)?;
         check(Quantity::Voltage, "input_low_margin_v", self.input_low_margin_v)?;
         check(Quantity::Voltage, "input_high_margin_v", self.input_high_margin_v)?;
+        non_negative(
+            "offset_drift_v_per_k",
+            check(Quantity::VoltageDrift, "offset_drift_v_per_k", self.offset_drift_v_per_k)?,
+        )?;
+        check(Quantity::RelativeDrift, "bias_tempco_pct_per_k", self.bias_tempco_pct_per_k)?;
         if self.source_resistance_ohm != 0.0 {
             check(Quantity::Resistance, "source_resistance_ohm", self.source_resistance_ohm)?;
         }
         if self.supply_v <= self.negative_rail_v {
             return Err(DesignError::inconsistent(format!(
-                "supply_v ({} V) must be above negative_rail_v ({} V)",
+                "the supply ({} V) must be above the negative rail ({} V)",
                 self.supply_v, self.negative_rail_v
             )));
         }
@@ -154,6 +169,16 @@ impl Comparator {
     pub fn switching_offset_v(&self, output_high: bool) -> f64 {
         let half = if self.effects.builtin_hysteresis { self.builtin_hysteresis_v / 2.0 } else { 0.0 };
         if output_high { self.offset_applied_v() - half } else { self.offset_applied_v() + half }
+    }
+
+    /// The offset VOS as a tolerance parameter, with its drift of unknown sign.
+    pub fn offset_drift(&self) -> crate::topology::Drift {
+        crate::topology::Drift::Unknown(self.offset_drift_v_per_k)
+    }
+
+    /// The bias currents' temperature dependence, compounded from 25 °C (sign known).
+    pub fn bias_drift(&self) -> crate::topology::Drift {
+        crate::topology::Drift::Compound(self.bias_tempco_pct_per_k / 100.0)
     }
 
     /// Lowest input voltage the device accepts without leaving its common-mode range, volts.

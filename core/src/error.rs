@@ -11,7 +11,9 @@ use std::fmt;
 pub enum DesignError {
     /// A numeric input is NaN, infinite, or outside the range it may take.
     InvalidValue {
-        /// Name of the offending field, as it appears in the design record.
+        /// Name of the offending field: as it appears in the design record, or as the page shows it
+        /// where the design gives it a name on screen (`R1`, `supply`, `VT+ at least`; see
+        /// [`crate::topology::named_on_screen`]).
         field: String,
         /// What is wrong and what range is allowed.
         reason: String,

@@ -51,6 +51,12 @@ pub struct Evaluation {
     pub errors: Vec<StudyError>,
     /// Tolerance analysis, when the record has tolerance settings.
     pub tolerance: Option<ToleranceReport>,
+    /// The two named windows, when the record has tolerance settings: the field window (every
+    /// tolerance over its full range; the tolerance study's worst case) and the bench window at
+    /// each supply the bench procedure sets (part tolerances and device spread at 25 °C), see
+    /// [`crate::tolerance::bench_window`].
+    #[serde(default)]
+    pub windows: Option<crate::tolerance::Windows>,
     /// The signal study's summary, when the record has signal settings.
     pub signal: Option<crate::signal::report::SignalReport>,
     /// The applications (oscillator, debouncer), when the record has application settings.
@@ -65,6 +71,13 @@ pub struct Evaluation {
     /// Safety cautions computed from the design's values (see [`crate::safety::cautions`]).
     #[serde(default)]
     pub cautions: Vec<crate::safety::Caution>,
+    /// VT± versus temperature over the record's operating range, with the drift (see
+    /// [`crate::overview::temperature`]); `None` when the analysis failed or the sweep did.
+    #[serde(default)]
+    pub temperature: Option<crate::tolerance::TemperatureSweep>,
+    /// The temperature drift in one line, as the print sheet gives it.
+    #[serde(default)]
+    pub temperature_summary: Option<String>,
 }
 
 /// The shareable and printable forms of a design, computed with every evaluation.
@@ -132,6 +145,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
     });
     let tolerance = crate::finite::keep("tolerance", tolerance, &mut fail);
+    let windows = match (&tolerance, &analysis) {
+        (Some(t), Some(a)) => crate::overview::windows(record, a, Some(&t.worst_case)).map_err(|e| fail("bench_window", e)).ok(),
+        _ => None,
+    };
+    let windows = crate::finite::keep("bench_window", windows, &mut fail);
     let signal = record.signal.as_ref().and_then(|s| match crate::signal::report::evaluate_record_signal(&record.circuit, s) {
         Ok(r) => Some(r),
         Err(e) => {
@@ -170,13 +188,17 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         let (spice, bench) = match &analysis {
             Some(a) => (
                 crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
-                Some(crate::overview::bench(record, a, tolerance.as_ref().map(|t| &t.worst_case))),
+                Some(crate::overview::bench(record, a, windows.as_ref())),
             ),
             None => (None, None),
         };
         let bench = bench.and_then(|b| crate::finite::check("bench", &b).map_err(|e| fail("exports", e)).ok().map(|()| b));
         Some(Exports { link: crate::share::encode_link(record), spice, bench })
     };
+    let temperature = analysis
+        .as_ref()
+        .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
+    let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -185,12 +207,15 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         synthesis,
         errors,
         tolerance,
+        windows,
         signal,
         application,
         bom,
         search,
         exports,
         cautions: crate::safety::cautions(record),
+        temperature,
+        temperature_summary,
     }
 }
 

@@ -39,3 +39,4 @@ pub mod netlist;
 pub mod spice;
 pub mod schematic;
 pub mod bench;
+pub mod jobs;

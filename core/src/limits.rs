@@ -33,6 +33,24 @@ pub enum Quantity {
     SaturationCurrent,
     /// A percentage (tolerance, yield target): 0 % to 100 %.
     Percent,
+    /// A semiconductor junction temperature, kelvin: 150 K to 500 K (about −120 °C to 225 °C;
+    /// common practice: beyond every silicon part's rating, and the range where the saturation
+    /// current's temperature law keeps IS inside [`Quantity::SaturationCurrent`]).
+    JunctionTemperature,
+    /// A bandgap voltage EG/q, volts: 0.1 V to 5 V (germanium 0.67 V, silicon 1.11 V, wide-bandgap
+    /// parts about 3.3 V; common practice).
+    Bandgap,
+    /// A dimensionless temperature exponent (SPICE's XTI, XTB): −10 to 10.
+    Exponent,
+    /// A voltage temperature coefficient (offset drift, threshold coefficient), volts per kelvin:
+    /// ±0.1 V/K (far beyond any device: offset drift is µV/K, a gate threshold a few mV/K).
+    VoltageDrift,
+    /// A relative temperature coefficient of a device quantity (bias current), percent per
+    /// kelvin: ±50 %/K (CMOS bias current doubles every 10 K, about 7 %/K — common practice).
+    RelativeDrift,
+    /// A resistor temperature coefficient (TCR) or tracking figure, ppm per kelvin: 0 to 10⁵
+    /// (thick-film chips 100–200 ppm/K, networks track to a few ppm/K — common practice).
+    Tempco,
 }
 
 impl Quantity {
@@ -49,6 +67,12 @@ impl Quantity {
             Quantity::Gain => (1e-3, 1e6),
             Quantity::SaturationCurrent => (1e-30, 1e-3),
             Quantity::Percent => (0.0, 100.0),
+            Quantity::JunctionTemperature => (150.0, 500.0),
+            Quantity::Bandgap => (0.1, 5.0),
+            Quantity::Exponent => (-10.0, 10.0),
+            Quantity::VoltageDrift => (-0.1, 0.1),
+            Quantity::RelativeDrift => (-50.0, 50.0),
+            Quantity::Tempco => (0.0, 1e5),
         }
     }
 
@@ -56,19 +80,29 @@ impl Quantity {
     pub fn unit(self) -> Option<Unit> {
         match self {
             Quantity::Resistance => Some(Unit::Ohm),
-            Quantity::Voltage => Some(Unit::Volt),
+            Quantity::Voltage | Quantity::Bandgap => Some(Unit::Volt),
             Quantity::Current | Quantity::SaturationCurrent => Some(Unit::Ampere),
             Quantity::Capacitance => Some(Unit::Farad),
             Quantity::Frequency => Some(Unit::Hertz),
             Quantity::Duration => Some(Unit::Second),
-            Quantity::Temperature | Quantity::Gain | Quantity::Percent => None,
+            Quantity::Temperature
+            | Quantity::JunctionTemperature
+            | Quantity::Gain
+            | Quantity::Percent
+            | Quantity::Exponent
+            | Quantity::VoltageDrift
+            | Quantity::RelativeDrift
+            | Quantity::Tempco => None,
         }
     }
 
     fn write(self, value: f64) -> String {
         match (self, self.unit()) {
-            (Quantity::Temperature, _) => format!("{value} K"),
+            (Quantity::Temperature | Quantity::JunctionTemperature, _) => format!("{value} K"),
             (Quantity::Percent, _) => format!("{value} %"),
+            (Quantity::VoltageDrift, _) => format!("{} µV/K", value * 1e6),
+            (Quantity::RelativeDrift, _) => format!("{value} %/K"),
+            (Quantity::Tempco, _) => format!("{value} ppm/K"),
             (_, Some(u)) => format_with_unit(value, 3, u),
             (_, None) => format!("{value}"),
         }

@@ -132,15 +132,30 @@ pub enum GateThreshold {
 /// Ebers–Moll parameters; SPICE's bipolar model reduces to it with the other parameters at their defaults).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct NpnModel {
-    /// Transport saturation current IS, amperes.
+    /// Transport saturation current IS at the nominal temperature, amperes.
     pub saturation_current_a: f64,
-    /// Forward current gain βF.
+    /// Forward current gain βF at the nominal temperature.
     pub beta_f: f64,
-    /// Reverse current gain βR.
+    /// Reverse current gain βR at the nominal temperature.
     pub beta_r: f64,
     /// Junction temperature, kelvin.
     pub temperature_k: f64,
-    /// VBE of the hand model, volts (stated in comments; SPICE computes its own).
+    /// Nominal temperature at which IS, βF and βR hold (SPICE's TNOM), kelvin.
+    pub nominal_temperature_k: f64,
+    /// Temperature exponent of IS (SPICE's XTI).
+    pub is_temperature_exponent: f64,
+    /// Bandgap voltage of the IS(T) law (SPICE's EG), volts.
+    pub bandgap_v: f64,
+    /// Temperature exponent of βF and βR (SPICE's XTB).
+    pub beta_temperature_exponent: f64,
+    /// Zero-bias base–emitter junction capacitance (SPICE's CJE), farads; for transient runs only.
+    pub emitter_capacitance_f: f64,
+    /// Zero-bias base–collector junction capacitance (SPICE's CJC), farads; for transient runs only.
+    pub collector_capacitance_f: f64,
+    /// Forward transit time (SPICE's TF), seconds; for transient runs only.
+    pub transit_time_s: f64,
+    /// VBE of the hand model at the junction temperature, volts (stated in comments; SPICE
+    /// computes its own).
     pub vbe_v: f64,
 }
 

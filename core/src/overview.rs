@@ -6,21 +6,22 @@
 //!   [`curve_window`];
 //! - [`snapshot`] when a design is saved: thresholds, curve and part values kept beside the record;
 //! - [`settled`] once typing pauses (part list, cautions) and [`sheet`] / [`sheet_studies`] when the
-//!   print sheet is made (worst case, bench procedure with its tolerance bounds, Monte Carlo yield,
+//!   print sheet is made (field and bench windows, bench procedure with them, Monte Carlo yield,
 //!   signal test).
 //!
 //! The part list is built by [`part_list`] only, and the bench procedure by [`bench`] only, so a
 //! change to either is one line here.
 
-use crate::analysis::{Analysis, Targets, Thresholds};
-use crate::bench::{bench_procedure_from, BenchProcedure, ThresholdBounds};
+use crate::analysis::{Analysis, ImpedanceChoice, Targets, Thresholds};
+use crate::bench::{bench_procedure_from, bench_supplies, BenchProcedure, ReadingWindows, SupplyBounds, ThresholdBounds};
 use crate::bom::Bom;
 use crate::error::DesignError;
 use crate::record::DesignRecord;
-use crate::search::{search, SearchReport};
+use crate::search::{search, SearchJob, SearchReport, SearchSettings};
 use crate::safety::{cautions, Caution};
 use crate::signal::report::{evaluate_record_signal, SignalReport};
-use crate::tolerance::{monte_carlo, worst_case, WorstCase};
+use crate::tolerance::bench_window::{bench_window, windows as both_windows, Windows};
+use crate::tolerance::{monte_carlo, temperature_sweep, TemperatureSweep, WorstCase};
 use crate::topology::{analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
 use serde::{Deserialize, Serialize};
 
@@ -124,13 +125,17 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
     })
 }
 
-/// The part list of a record from its analysis (made with the record's checks). The one place
-/// the part list is built.
+/// The part list of a record from its analysis (made with the record's checks), with the parts of
+/// its oscillator and debouncer. The one place the part list is built.
 pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, DesignError> {
-    crate::bom::bom(&record.circuit, analysis, &record.checks, &record.parts)
+    let mut b = crate::bom::bom(&record.circuit, analysis, &record.checks, &record.parts)?;
+    let used: Vec<String> = b.resistors.iter().map(|r| r.designator.clone()).collect();
+    b.application =
+        crate::bom::application::application_parts(record.application.as_ref(), analysis, &used, &record.parts)?;
+    Ok(b)
 }
 
-/// The threshold limits a worst-case study gives, for the bench procedure's acceptance bands.
+/// The threshold limits a worst-case study gives.
 pub fn bounds_of(worst: Option<&WorstCase>) -> ThresholdBounds {
     worst.map_or_else(ThresholdBounds::default, |w| ThresholdBounds {
         vt_upper_v: Some((w.vt_upper.min.value_v, w.vt_upper.max.value_v)),
@@ -138,10 +143,40 @@ pub fn bounds_of(worst: Option<&WorstCase>) -> ThresholdBounds {
     })
 }
 
-/// The bench procedure of a record from its analysis, with acceptance bands from the worst case
-/// when there is one. The one place the bench procedure is built.
-pub fn bench(record: &DesignRecord, analysis: &Analysis, worst: Option<&WorstCase>) -> BenchProcedure {
-    bench_procedure_from(&record.circuit, analysis, &record.checks, &bounds_of(worst))
+/// Both named windows of a record with its tolerance settings (defaults when it has none): the
+/// field window (`field`, the worst case as stated; computed unless given) and the bench window at
+/// every supply its bench procedure sets (see [`crate::tolerance::bench_window`]).
+pub fn windows(record: &DesignRecord, analysis: &Analysis, field: Option<&WorstCase>) -> Result<Windows, DesignError> {
+    let settings = record.tolerance.clone().unwrap_or_default();
+    let supplies = bench_supplies(&record.circuit, analysis);
+    match field {
+        None => both_windows(&record.circuit, &settings, &supplies),
+        Some(f) => {
+            let bench = supplies
+                .iter()
+                .map(|&s| bench_window(&record.circuit, &settings, s))
+                .collect::<Result<Vec<_>, _>>()?;
+            Ok(Windows { field: f.clone(), bench })
+        }
+    }
+}
+
+/// The windows as the bench procedure prints them.
+pub fn reading_windows(w: Option<&Windows>) -> ReadingWindows {
+    w.map_or_else(ReadingWindows::default, |w| ReadingWindows {
+        field: bounds_of(Some(&w.field)),
+        bench: w
+            .bench
+            .iter()
+            .map(|b| SupplyBounds { supply_v: b.supply_v, bounds: bounds_of(Some(&b.worst_case)) })
+            .collect(),
+    })
+}
+
+/// The bench procedure of a record from its analysis, with the field and bench windows when there
+/// are any. The one place the bench procedure is built.
+pub fn bench(record: &DesignRecord, analysis: &Analysis, windows: Option<&Windows>) -> BenchProcedure {
+    bench_procedure_from(&record.circuit, analysis, &record.checks, &reading_windows(windows))
 }
 
 /// The outcome of synthesis: the circuit that reaches the targets and its analysis.
@@ -169,8 +204,46 @@ pub fn standard_values(
     synthesised: Option<&Synthesis>,
 ) -> Result<SearchReport, DesignError> {
     let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
-    let settings = record.search.clone().unwrap_or_default();
-    search(start, targets.thresholds(), &settings, &record.checks)
+    search(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
+}
+
+/// The search settings a record asks for: its own (defaults when it has none), with the targets'
+/// current budget as the search's limit when the settings set none — a design asked to draw at
+/// most 100 µA is never offered parts that draw more.
+pub fn search_settings(record: &DesignRecord, targets: &Targets) -> SearchSettings {
+    let mut settings = record.search.clone().unwrap_or_default();
+    if settings.current_budget_a.is_none() {
+        if let ImpedanceChoice::CurrentBudgetA(a) = targets.impedance {
+            settings.current_budget_a = Some(a);
+        }
+    }
+    settings
+}
+
+/// A standard-value search for `targets` to run in slices (the page's progress bar and Cancel):
+/// the same start and settings as [`standard_values`].
+pub fn standard_values_job(
+    record: &DesignRecord,
+    targets: &Targets,
+    synthesised: Option<&Synthesis>,
+) -> Result<SearchJob<Topology>, DesignError> {
+    let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
+    SearchJob::new(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
+}
+
+/// VT+ and VT− versus temperature over the record's operating range, with the drift in V/K
+/// (the record's tolerance settings, defaults when it has none). The one call the page, the
+/// sheet and the command line make for it.
+pub fn temperature(record: &DesignRecord) -> Result<TemperatureSweep, DesignError> {
+    let settings = record.tolerance.clone().unwrap_or_default();
+    let sweep = temperature_sweep(&record.circuit, &settings)?;
+    crate::finite::check("temperature", &sweep)?;
+    Ok(sweep)
+}
+
+/// The line the print sheet and the command line give for the temperature drift.
+pub fn temperature_line(record: &DesignRecord, sweep: &TemperatureSweep) -> String {
+    sweep.summary(&record.tolerance.clone().unwrap_or_default())
 }
 
 /// The slower sections, computed once typing pauses.
@@ -193,20 +266,31 @@ pub fn settled(record: &DesignRecord) -> Settled {
     }
 }
 
+/// The two windows of a record for the page's key figures: its analysis, then the field window
+/// and the bench window at each supply the bench procedure sets (see [`windows`]).
+pub fn record_windows(record: &DesignRecord) -> Result<Windows, DesignError> {
+    let a = analyse(&record.circuit, &record.checks)?;
+    windows(record, &a, None)
+}
+
 /// The print sheet's figures that need no long study.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Sheet {
     /// The analysis with the record's checks.
     pub analysis: Analysis,
-    /// Worst case with the record's tolerance settings (defaults when it has none); `None` when
-    /// the study fails.
-    pub worst_case: Option<WorstCase>,
-    /// The bench procedure, with acceptance bands from the worst case.
+    /// The field window (worst case with the record's tolerance settings, defaults when it has
+    /// none) and the bench window at each supply the bench procedure sets; `None` when the study
+    /// fails.
+    pub windows: Option<Windows>,
+    /// The bench procedure, accepting by the bench window and quoting the field window.
     pub bench: BenchProcedure,
     /// The part list; `None` when it cannot be made.
     pub parts: Option<Bom>,
     /// The cautions the design calls for.
     pub cautions: Vec<Caution>,
+    /// The one line on the temperature drift of VT±; `None` when the sweep fails.
+    #[serde(default)]
+    pub temperature: Option<String>,
 }
 
 /// The print sheet's content; fails when the design cannot be analysed or any number on the
@@ -214,12 +298,12 @@ pub struct Sheet {
 pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     let analysis = analyse(&record.circuit, &record.checks)?;
     crate::finite::check("analysis", &analysis)?;
-    let settings = record.tolerance.clone().unwrap_or_default();
-    let worst = worst_case(&record.circuit, &settings).ok();
-    let bench = bench(record, &analysis, worst.as_ref());
+    let windows = windows(record, &analysis, None).ok();
+    let bench = bench(record, &analysis, windows.as_ref());
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
-    Ok(Sheet { bench, parts, cautions: cautions(record), worst_case: worst, analysis })
+    let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature })
 }
 
 /// The print sheet's longer studies.
@@ -297,17 +381,31 @@ mod tests {
     }
 
     #[test]
-    fn sheet_bench_bands_come_from_the_worst_case() {
+    fn sheet_bench_bands_come_from_the_bench_window() {
         let r = inverting();
         let s = sheet(&r).unwrap();
-        let w = s.worst_case.as_ref().unwrap();
+        let w = s.windows.as_ref().unwrap();
         let upper = s.bench.readings.iter().find(|x| x.nominal_v == s.analysis.vt_upper_v).unwrap();
-        assert_eq!(bounds_of(Some(w)).vt_upper_v, Some((w.vt_upper.min.value_v, w.vt_upper.max.value_v)));
-        assert!(upper.accepts(w.vt_upper.min.value_v) && upper.accepts(w.vt_upper.max.value_v));
+        let (lo, hi) = w.bench[0].vt_upper_v();
+        assert_eq!(w.bench[0].supply_v, r.circuit.supply_v());
+        assert!(upper.accepts(lo) && upper.accepts(hi));
+        assert_eq!((upper.bench_min_v, upper.bench_max_v), (Some(lo), Some(hi)));
+        assert_eq!((upper.field_min_v, upper.field_max_v), (Some(w.field.vt_upper.min.value_v), Some(w.field.vt_upper.max.value_v)));
+        // The field window (±5 % supply, 0–70 °C drift by default) is wider than the bench window.
+        assert!(w.field.vt_upper.min.value_v < lo && hi < w.field.vt_upper.max.value_v);
         assert!(s.parts.is_some());
         let studies = sheet_studies(&r, 200);
         if let Some((f, n)) = studies.spec_yield {
             assert!((0.0..=1.0).contains(&f) && n <= 200);
         }
+    }
+
+    #[test]
+    fn windows_reuse_a_given_field_window() {
+        let r = inverting();
+        let a = analyse(&r.circuit, &r.checks).unwrap();
+        let fresh = windows(&r, &a, None).unwrap();
+        let reused = windows(&r, &a, Some(&fresh.field)).unwrap();
+        assert_eq!(fresh, reused);
     }
 }

@@ -58,9 +58,9 @@ fn migrate_with(steps: &[Step], mut value: serde_json::Value, from: u32) -> Resu
 /// [`NUMBER_SUFFIXES`] they are where [`read_number_texts`] reads text as a number. When a migration
 /// step renames a numeric field, keep the old name here too (the texts are read before migrating).
 pub const NUMBER_FIELDS: &[&str] = &[
-    "beta", "beta_r", "bias_error_fraction", "centre", "corner_limit", "cycles", "divider_current_ratio",
+    "beta", "beta_f", "beta_f_limits", "beta_r", "beta_temperature_exponent", "bias_error_fraction", "centre", "corner_limit", "cycles", "divider_current_ratio",
     "drift_half_width", "duty", "exponent", "fail_above_false_edges_per_edge", "falling_phase_deg", "fixed",
-    "fraction", "half_width", "high_fraction", "histogram_bins", "oscillator_cycles", "order", "phase_deg",
+    "fraction", "half_width", "high_fraction", "histogram_bins", "is_temperature_exponent", "oscillator_cycles", "order", "phase_deg",
     "power_derating_factor", "pullup_ratio_limit", "relative_amplitude", "resistor_tolerance",
     "rising_phase_deg", "samples", "seed", "steps", "target_false_edges_per_edge", "temperature_max_c",
     "temperature_min_c", "time_column", "top_n", "trials", "voltage_column",

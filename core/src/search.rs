@@ -1,4 +1,4 @@
-// Over 600 lines: one job, the standard-value search (enumeration, the exact solve of the last resistor, ranking); about 85 lines are its tests.
+// Over 600 lines: one job, the standard-value search (enumeration, the exact solve of the last resistor, ranking, the sliced job); about 200 lines are its tests.
 //! Best standard-value combinations: which E-series resistor values reach the target thresholds
 //! most closely, for any topology (everything goes through [`Circuit`]).
 //!
@@ -65,6 +65,20 @@
 //! to enter the list, first by two operating points (a lower bound of the analysed maximum, so a
 //! failure there is final), then by the full analysis.
 //!
+//! # Distinct alternatives
+//! Two combinations whose VT+ and VT− both agree within [`DISTINCT_REL`] (10 ppm of the
+//! normalisers above) are the *same alternative*: a divider scaled as a whole, an equal ratio
+//! from the series, or a resistor the thresholds do not depend on. With
+//! [`SearchSettings::distinct`] (the default) the list keeps only the best of each such group (by
+//! objective, then the tie-break), so the N entries are N different threshold pairs. The rule
+//! only removes entries, so an entry bar taken from the list remains a valid bound and the
+//! pruning argument below is unchanged.
+//!
+//! # In slices
+//! [`SearchJob`] holds the whole state (odometer, pass, list), so the search can run a bounded
+//! number of evaluations at a time ([`SearchJob::step`]) with its [`Workload`] bound known before
+//! the first step; [`search`] is the same job run in one call.
+//!
 //! Cost: M^(n−1) combinations for n resistors and M series values in range (E96 over three
 //! decades, three resistors: 289² ≈ 83 500), each a few model evaluations; real circuit
 //! evaluations number about 9·M^(n−2) plus the walks (about 3 000 in that example).
@@ -101,7 +115,11 @@ pub struct SearchSettings {
     /// How many best combinations to return (1 … [`MAX_TOP_N`]).
     pub top_n: usize,
     /// Largest quiescent network current allowed, amperes (as [`analyse`] reports it); `None`: no limit.
+    /// A constraint: a combination that draws more is never listed, however close it comes.
     pub current_budget_a: Option<f64>,
+    /// List only distinct alternatives (see [`same_alternative`]): of combinations whose
+    /// thresholds agree within [`DISTINCT_REL`], only the best one is listed.
+    pub distinct: bool,
 }
 
 impl SearchSettings {
@@ -119,10 +137,17 @@ impl SearchSettings {
 }
 
 impl Default for SearchSettings {
-    /// E24 from 1 kΩ to 1 MΩ, ten results, no current limit (common practice: below 1 kΩ the
+    /// E24 from 1 kΩ to 1 MΩ, ten distinct results, no current limit (common practice: below 1 kΩ the
     /// network loads the device output, above 1 MΩ bias currents and leakage dominate).
     fn default() -> Self {
-        SearchSettings { series: ESeries::E24, r_min_ohm: 1e3, r_max_ohm: 1e6, top_n: 10, current_budget_a: None }
+        SearchSettings {
+            series: ESeries::E24,
+            r_min_ohm: 1e3,
+            r_max_ohm: 1e6,
+            top_n: 10,
+            current_budget_a: None,
+            distinct: true,
+        }
     }
 }
 
@@ -337,6 +362,21 @@ fn tie_tol(f: f64) -> f64 {
     1e-12 * f.abs() + 1e-15
 }
 
+/// Thresholds closer than this, relative to the objective's normalisers, make two combinations the
+/// same alternative: 10 ppm, a hundredth of the tightest standard tolerance (0.1 %, E192), so no
+/// bench could tell them apart. Such twins are one divider scaled as a whole (10k/22k and
+/// 100k/220k), a pair of equal ratio from the series (1k0/2k0 and 1k5/3k0), or values of a
+/// resistor the thresholds do not depend on (a collector load).
+pub const DISTINCT_REL: f64 = 1e-5;
+
+/// Whether thresholds `a` and `b` make the same alternative: both VT+ and VT− agree within
+/// [`DISTINCT_REL`] of their normalisers (see the module notes). Two listed alternatives always
+/// differ by more than that in VT+ or VT−.
+fn same_alternative(obj: &Objective, a: &Thresholds, b: &Thresholds) -> bool {
+    (a.vt_upper_v - b.vt_upper_v).abs() <= DISTINCT_REL * obj.su
+        && (a.vt_lower_v - b.vt_lower_v).abs() <= DISTINCT_REL * obj.sl
+}
+
 /// An entry of the top-N list.
 #[derive(Debug, Clone)]
 struct Entry {
@@ -356,12 +396,14 @@ fn better(f: f64, closeness: f64, than: &Entry) -> bool {
 }
 
 /// The search's working state for one run.
-struct Searcher<'a, C: Circuit> {
-    template: &'a C,
-    checks: &'a CheckSettings,
+struct Searcher<C: Circuit> {
+    template: C,
+    checks: CheckSettings,
     obj: Objective,
     budget_a: Option<f64>,
     top_n: usize,
+    /// List only distinct alternatives ([`SearchSettings::distinct`]).
+    distinct: bool,
     grid: Vec<f64>,
     /// Full parameter vector, reused for every evaluation.
     values: Vec<f64>,
@@ -396,7 +438,7 @@ enum Eval {
     Failed,
 }
 
-impl<C: Circuit> Searcher<'_, C> {
+impl<C: Circuit> Searcher<C> {
     /// The objective a newcomer must beat (with the tie tolerance) to enter the list.
     fn entry_bar(&self) -> f64 {
         if self.top.len() < self.top_n {
@@ -445,15 +487,27 @@ impl<C: Circuit> Searcher<'_, C> {
         if self.top.iter().any(|e| self.slots.iter().zip(&e.resistors_ohm).all(|(&s, &v)| self.values[s] == v)) {
             return;
         }
+        // The same alternative as a listed one: only the better of the two stays.
+        let twin = if self.distinct {
+            self.top.iter().position(|e| same_alternative(&self.obj, &e.thresholds, &t))
+        } else {
+            None
+        };
+        if twin.is_some_and(|j| !better(f, closeness, &self.top[j])) {
+            return;
+        }
         let mut current_a = None;
         if let Some(budget) = self.budget_a {
             if self.exceeds_at_thresholds(c, &t, budget) {
                 return;
             }
-            match analyse(c, self.checks) {
+            match analyse(c, &self.checks) {
                 Ok(a) if a.quiescent_current_a <= budget * (1.0 + 1e-12) => current_a = Some(a.quiescent_current_a),
                 _ => return,
             }
+        }
+        if let Some(j) = twin {
+            self.top.remove(j);
         }
         let pos = self.top.iter().position(|e| better(f, closeness, e)).unwrap_or(self.top.len());
         let resistors_ohm = self.slots.iter().map(|&s| self.values[s]).collect();
@@ -647,110 +701,261 @@ struct Models {
     tol_l: f64,
 }
 
-/// Searches the standard-value combinations of `circuit`'s resistors that come closest to
-/// `targets` (see the module notes for the objective and the optimality argument). The circuit's
-/// other parameters (rails, device) are kept; its own resistor values only break near-ties.
-pub fn search<C: Circuit>(
-    circuit: &C,
-    targets: Thresholds,
-    settings: &SearchSettings,
-    checks: &CheckSettings,
-) -> Result<SearchReport, DesignError> {
-    settings.validate()?;
-    crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_upper_v", targets.vt_upper_v)?;
-    crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_lower_v", targets.vt_lower_v)?;
-    if settings.r_max_ohm < settings.r_min_ohm {
-        return Err(DesignError::invalid(
-            "search.r_max_ohm",
-            format!("must not be below r_min_ohm ({} Ω)", settings.r_min_ohm),
-        ));
-    }
-    if settings.top_n == 0 || settings.top_n > MAX_TOP_N {
-        return Err(DesignError::invalid("search.top_n", format!("must be between 1 and {MAX_TOP_N}")));
-    }
-    circuit.validate()?;
-    let params = circuit.parameters();
-    let slots: Vec<usize> =
-        params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor).map(|(i, _)| i).collect();
-    let Some(&solved) = slots.last() else {
-        return Err(DesignError::Parameter { reason: "this circuit has no resistors for the search to choose".into() });
-    };
-    let grid = settings.series.values_between(settings.r_min_ohm, settings.r_max_ohm);
-    if grid.is_empty() {
-        return Err(DesignError::invalid(
-            "search.r_max_ohm",
-            format!(
-                "no {} value lies between {} Ω and {} Ω: widen the range",
-                settings.series, settings.r_min_ohm, settings.r_max_ohm
-            ),
-        ));
-    }
-    let m = grid.len();
-    let enumerated = slots.len() - 1;
-    let combinations =
-        (0..enumerated).try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
-    let Some(combinations) = combinations else {
-        return Err(DesignError::infeasible(
-            format!(
-                "{} resistors over {} {} values each is more than {} combinations",
-                slots.len(),
-                m,
-                settings.series,
-                MAX_COMBINATIONS
-            ),
-            "narrow the resistance range or choose a coarser series",
-        ));
-    };
-    let values: Vec<f64> = params.iter().map(|p| p.value).collect();
-    let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
-    let inner = if enumerated > 0 { Some(slots[0]) } else { None };
-    let mut st = Searcher {
-        template: circuit,
-        checks,
-        obj: Objective::new(targets),
-        budget_a: settings.current_budget_a,
-        top_n: settings.top_n,
-        stamp: vec![u64::MAX; m],
-        fcache: vec![f64::NAN; m],
-        grid,
-        values,
-        slots,
-        ln_start,
-        solved,
-        combo: 0,
-        evaluations: 0,
-        exhaustive: 0,
-        prune: true,
-        model_failed: false,
-        inner,
-        probe_models: None,
-        top: Vec::with_capacity(settings.top_n + 1),
-    };
-    let others: Vec<usize> = st.slots[..enumerated].to_vec();
-    // First pass prunes on the model's word; if any model fails a check the topology is not
-    // bilinear in the solved resistor, and a second pass without pruning redoes everything.
-    for prune in [true, false] {
-        st.prune = prune;
-        st.model_failed = false;
-        if enumerate(&mut st, &others, m)? {
-            break;
-        }
-    }
-    Ok(report(&st, &params, targets, settings, combinations))
+/// The work a search may take, known before it starts ([`SearchJob::workload`]).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Workload {
+    /// Resistors chosen by the search, n.
+    pub resistors: usize,
+    /// Series values in the allowed range, M.
+    pub values_per_resistor: usize,
+    /// Combinations of the enumerated resistors, M^(n−1).
+    pub combinations: u64,
+    /// Upper bound of the threshold evaluations: a pruning pass and an unpruned pass, each at most
+    /// M evaluations per combination (every series value of the solved resistor) plus 9 per run of
+    /// the innermost enumerated resistor for its probe models. Bilinear topologies need a small
+    /// fraction of it; [`Progress::estimated_evaluations`] refines it as the search runs.
+    pub max_evaluations: u64,
 }
 
-/// Runs every combination once. `Ok(true)` when the pass completed with its models trusted;
-/// `Ok(false)` when a pruning pass met a failed model and must be redone without pruning.
-fn enumerate<C: Circuit>(st: &mut Searcher<'_, C>, others: &[usize], m: usize) -> Result<bool, DesignError> {
-    // Enumerate from the highest values down: in most networks the current falls as resistance
-    // rises, so a current budget is met early and the entry bar drops sooner. The order does not
-    // change the result.
-    let mut idx = vec![0usize; others.len()];
-    loop {
-        for (k, &slot) in others.iter().enumerate() {
-            st.values[slot] = st.grid[m - 1 - idx[k]];
+/// How far a [`SearchJob`] has come.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Progress {
+    /// Combinations finished in the current pass.
+    pub combinations_done: u64,
+    /// Combinations in a pass.
+    pub combinations: u64,
+    /// Threshold evaluations spent so far (both passes).
+    pub evaluations: u64,
+    /// Whether the search is in its unpruned second pass (a model check failed in the first:
+    /// the thresholds are not bilinear in the solved resistor, so every combination is scanned).
+    pub unpruned_pass: bool,
+    /// Evaluations the whole search is expected to take: those spent, plus the remaining
+    /// combinations of this pass at this pass's rate so far; never above the workload's bound.
+    pub estimated_evaluations: u64,
+    /// Whether the search is complete ([`SearchJob::finish`] gives the report).
+    pub finished: bool,
+}
+
+impl Progress {
+    /// Fraction of the expected work done, 0 … 1.
+    pub fn fraction(&self) -> f64 {
+        if self.finished {
+            1.0
+        } else if self.estimated_evaluations == 0 {
+            0.0
+        } else {
+            (self.evaluations as f64 / self.estimated_evaluations as f64).clamp(0.0, 1.0)
         }
-        if idx.first() == Some(&0) {
+    }
+
+    /// Seconds still to go, extrapolated from `elapsed_s` spent on the evaluations so far
+    /// (`core` has no clock: the caller measures). `None` before any evaluation.
+    pub fn remaining_s(&self, elapsed_s: f64) -> Option<f64> {
+        if self.finished {
+            return Some(0.0);
+        }
+        if self.evaluations == 0 || !(elapsed_s.is_finite() && elapsed_s >= 0.0) {
+            return None;
+        }
+        let per_eval = elapsed_s / self.evaluations as f64;
+        Some(per_eval * self.estimated_evaluations.saturating_sub(self.evaluations) as f64)
+    }
+}
+
+/// A standard-value search that runs in slices, for a page that must stay responsive: create it
+/// (settings checked, [`SearchJob::workload`] known), call [`SearchJob::step`] with a budget of
+/// evaluations until [`Progress::finished`], then [`SearchJob::finish`]. To cancel, stop calling
+/// `step` and drop the job. Slicing does not change the result: a job stepped one evaluation at a
+/// time ends with the same report as [`search`].
+pub struct SearchJob<C: Circuit> {
+    st: Searcher<C>,
+    params: Vec<crate::topology::Parameter>,
+    targets: Thresholds,
+    settings: SearchSettings,
+    /// Indices in the parameter vector of the enumerated resistors (all but the solved one).
+    others: Vec<usize>,
+    /// Odometer over the enumerated resistors (digit k counts down the series from the top).
+    idx: Vec<usize>,
+    workload: Workload,
+    done_in_pass: u64,
+    evaluations_at_pass_start: u64,
+    finished: bool,
+}
+
+impl<C: Circuit> SearchJob<C> {
+    /// Checks the settings and targets and sets up the search of the standard-value combinations of
+    /// `circuit`'s resistors that come closest to `targets` (see the module notes). The circuit's
+    /// other parameters (rails, device) are kept; its own resistor values only break near-ties.
+    /// Targets with VT+ not above VT− are refused: no combination is offered for them.
+    pub fn new(
+        circuit: &C,
+        targets: Thresholds,
+        settings: &SearchSettings,
+        checks: &CheckSettings,
+    ) -> Result<Self, DesignError> {
+        settings.validate()?;
+        crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_upper_v", targets.vt_upper_v)?;
+        crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_lower_v", targets.vt_lower_v)?;
+        if targets.vt_upper_v <= targets.vt_lower_v {
+            return Err(DesignError::infeasible(
+                format!(
+                    "VT+ ({} V) must be above VT− ({} V): a Schmitt trigger switches up at the higher threshold",
+                    targets.vt_upper_v, targets.vt_lower_v
+                ),
+                "swap the two targets or move them apart",
+            ));
+        }
+        if settings.r_max_ohm < settings.r_min_ohm {
+            return Err(DesignError::invalid(
+                "search.r_max_ohm",
+                format!("must not be below r_min_ohm ({} Ω)", settings.r_min_ohm),
+            ));
+        }
+        if settings.top_n == 0 || settings.top_n > MAX_TOP_N {
+            return Err(DesignError::invalid("search.top_n", format!("must be between 1 and {MAX_TOP_N}")));
+        }
+        circuit.validate()?;
+        let params = circuit.parameters();
+        let slots: Vec<usize> =
+            params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor).map(|(i, _)| i).collect();
+        let Some(&solved) = slots.last() else {
+            return Err(DesignError::Parameter {
+                reason: "this circuit has no resistors for the search to choose".into(),
+            });
+        };
+        let grid = settings.series.values_between(settings.r_min_ohm, settings.r_max_ohm);
+        if grid.is_empty() {
+            return Err(DesignError::invalid(
+                "search.r_max_ohm",
+                format!(
+                    "no {} value lies between {} Ω and {} Ω: widen the range",
+                    settings.series, settings.r_min_ohm, settings.r_max_ohm
+                ),
+            ));
+        }
+        let m = grid.len();
+        let enumerated = slots.len() - 1;
+        let combinations = (0..enumerated)
+            .try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
+        let Some(combinations) = combinations else {
+            return Err(DesignError::infeasible(
+                format!(
+                    "{} resistors over {} {} values each is more than {} combinations",
+                    slots.len(),
+                    m,
+                    settings.series,
+                    MAX_COMBINATIONS
+                ),
+                "narrow the resistance range or choose a coarser series",
+            ));
+        };
+        let runs = if enumerated > 0 { combinations / m as u64 } else { 0 };
+        let workload = Workload {
+            resistors: slots.len(),
+            values_per_resistor: m,
+            combinations,
+            max_evaluations: 2 * combinations * m as u64 + 9 * runs,
+        };
+        let values: Vec<f64> = params.iter().map(|p| p.value).collect();
+        let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
+        let inner = if enumerated > 0 { Some(slots[0]) } else { None };
+        let others: Vec<usize> = slots[..enumerated].to_vec();
+        let st = Searcher {
+            template: circuit.clone(),
+            checks: checks.clone(),
+            obj: Objective::new(targets),
+            budget_a: settings.current_budget_a,
+            top_n: settings.top_n,
+            distinct: settings.distinct,
+            stamp: vec![u64::MAX; m],
+            fcache: vec![f64::NAN; m],
+            grid,
+            values,
+            slots,
+            ln_start,
+            solved,
+            combo: 0,
+            evaluations: 0,
+            exhaustive: 0,
+            prune: true,
+            model_failed: false,
+            inner,
+            probe_models: None,
+            top: Vec::with_capacity(settings.top_n + 1),
+        };
+        Ok(SearchJob {
+            st,
+            params,
+            targets,
+            settings: settings.clone(),
+            idx: vec![0; others.len()],
+            others,
+            workload,
+            done_in_pass: 0,
+            evaluations_at_pass_start: 0,
+            finished: false,
+        })
+    }
+
+    /// The bound on the work, known before the first step.
+    pub fn workload(&self) -> Workload {
+        self.workload
+    }
+
+    /// Runs whole combinations until at least `max_evaluations` threshold evaluations have been
+    /// spent in this call (at least one combination per call) or the search is complete. A
+    /// combination costs at most M + 9 evaluations, so a call overshoots its budget by no more.
+    pub fn step(&mut self, max_evaluations: u64) -> Progress {
+        let start = self.st.evaluations;
+        while !self.finished {
+            self.one_combination();
+            if self.st.evaluations.saturating_sub(start) >= max_evaluations {
+                break;
+            }
+        }
+        self.progress()
+    }
+
+    /// Where the search stands.
+    pub fn progress(&self) -> Progress {
+        let spent_in_pass = self.st.evaluations - self.evaluations_at_pass_start;
+        let remaining = self.workload.combinations - self.done_in_pass.min(self.workload.combinations);
+        let estimated = if self.finished {
+            self.st.evaluations
+        } else if self.done_in_pass == 0 {
+            self.workload.max_evaluations
+        } else {
+            let rate = spent_in_pass as f64 / self.done_in_pass as f64;
+            let rest = (rate * remaining as f64).ceil();
+            self.st.evaluations.saturating_add(if rest.is_finite() { rest as u64 } else { u64::MAX })
+        };
+        Progress {
+            combinations_done: self.done_in_pass,
+            combinations: self.workload.combinations,
+            evaluations: self.st.evaluations,
+            unpruned_pass: !self.st.prune,
+            estimated_evaluations: estimated.min(self.workload.max_evaluations).max(self.st.evaluations),
+            finished: self.finished,
+        }
+    }
+
+    /// The best combinations found: the search's answer once [`Progress::finished`]; before that,
+    /// the best of the combinations seen so far.
+    pub fn finish(&self) -> SearchReport {
+        report(&self.st, &self.params, self.targets, &self.settings, self.workload.combinations)
+    }
+
+    /// One combination of the enumerated resistors: its best solved values offered to the list,
+    /// then the odometer moved on. Enumerates from the highest values down: in most networks the
+    /// current falls as resistance rises, so a current budget is met early and the entry bar drops
+    /// sooner. The order does not change the result.
+    fn one_combination(&mut self) {
+        let st = &mut self.st;
+        let m = st.grid.len();
+        for (k, &slot) in self.others.iter().enumerate() {
+            st.values[slot] = st.grid[m - 1 - self.idx[k]];
+        }
+        if self.idx.first() == Some(&0) {
             // A new run of the innermost enumerated resistor.
             if st.prune {
                 st.fit_probe_models();
@@ -759,36 +964,57 @@ fn enumerate<C: Circuit>(st: &mut Searcher<'_, C>, others: &[usize], m: usize) -
             }
         }
         st.solve_combination();
-        if st.prune && st.model_failed {
-            return Ok(false);
-        }
-        if st.evaluations > MAX_EVALUATIONS {
-            return Err(DesignError::NotConverged {
-                reason: format!(
-                    "the search stopped after {} evaluations: this topology's thresholds are not bilinear in the solved resistor, so every combination needed a full scan; narrow the range or choose a coarser series",
-                    st.evaluations
-                ),
-            });
-        }
         st.combo += 1;
-        // Odometer over the enumerated resistors.
-        let mut k = 0;
-        loop {
-            if k == others.len() {
-                return Ok(true);
-            }
-            idx[k] += 1;
-            if idx[k] < m {
-                break;
-            }
-            idx[k] = 0;
-            k += 1;
+        if st.prune && st.model_failed {
+            // A model failed a check: the thresholds are not bilinear in the solved resistor, so
+            // everything is redone without pruning (the list found so far is kept: it holds real
+            // evaluations only).
+            st.prune = false;
+            st.model_failed = false;
+            self.idx.iter_mut().for_each(|d| *d = 0);
+            self.done_in_pass = 0;
+            self.evaluations_at_pass_start = st.evaluations;
+            return;
         }
+        self.done_in_pass += 1;
+        // Odometer over the enumerated resistors.
+        for digit in self.idx.iter_mut() {
+            *digit += 1;
+            if *digit < m {
+                return;
+            }
+            *digit = 0;
+        }
+        self.finished = true;
     }
 }
 
+/// Searches the standard-value combinations of `circuit`'s resistors that come closest to
+/// `targets` (see the module notes for the objective and the optimality argument) in one call: a
+/// [`SearchJob`] run to the end, refused with a suggestion once it has spent more than
+/// [`MAX_EVALUATIONS`]. The circuit's other parameters (rails, device) are kept; its own resistor
+/// values only break near-ties.
+pub fn search<C: Circuit>(
+    circuit: &C,
+    targets: Thresholds,
+    settings: &SearchSettings,
+    checks: &CheckSettings,
+) -> Result<SearchReport, DesignError> {
+    let mut job = SearchJob::new(circuit, targets, settings, checks)?;
+    let p = job.step(MAX_EVALUATIONS + 1);
+    if !p.finished {
+        return Err(DesignError::NotConverged {
+            reason: format!(
+                "the search stopped after {} evaluations: this topology's thresholds are not bilinear in the solved resistor, so every combination needed a full scan; narrow the range or choose a coarser series",
+                p.evaluations
+            ),
+        });
+    }
+    Ok(job.finish())
+}
+
 fn report<C: Circuit>(
-    st: &Searcher<'_, C>,
+    st: &Searcher<C>,
     params: &[crate::topology::Parameter],
     targets: Thresholds,
     settings: &SearchSettings,
@@ -815,7 +1041,7 @@ fn report<C: Circuit>(
                 }
                 st.template
                     .with_parameters(&values)
-                    .and_then(|c| analyse(&c, st.checks))
+                    .and_then(|c| analyse(&c, &st.checks))
                     .ok()
                     .map(|a| a.quiescent_current_a)
             });
@@ -933,6 +1159,99 @@ mod tests {
         ));
         let nan = Thresholds { vt_upper_v: f64::NAN, vt_lower_v: 2.0 };
         assert!(search(&c, nan, &SearchSettings::default(), &ck).is_err());
+    }
+
+    #[test]
+    fn targets_with_vt_upper_not_above_vt_lower_give_an_error_only() {
+        let s = SearchSettings::default();
+        let ck = CheckSettings::default();
+        for (u, l) in [(1.7, 2.9), (2.0, 2.0)] {
+            let t = Thresholds { vt_upper_v: u, vt_lower_v: l };
+            let e = search(&three_resistor(), t, &s, &ck).unwrap_err();
+            assert!(matches!(e, DesignError::Infeasible { .. }), "{e:?}");
+            assert!(e.to_string().contains("must be above"), "{e}");
+            assert!(SearchJob::new(&three_resistor(), t, &s, &ck).is_err());
+        }
+    }
+
+    /// The non-inverting Schmitt with a reference divider and an ideal device: its thresholds depend
+    /// on R1/R2 and Ra/Rb only through ratios, so every ratio has many scaled twins in E24.
+    fn divider_reference() -> crate::topology::noninverting::NonInvertingSchmitt {
+        crate::topology::noninverting::NonInvertingSchmitt::with_divider(10e3, 47e3, 10e3, 10e3, Comparator::ideal(5.0))
+    }
+
+    #[test]
+    fn alternatives_are_distinct_not_scaled_copies() {
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 2.1 };
+        let ck = CheckSettings::default();
+        let base = SearchSettings { r_min_ohm: 1e3, r_max_ohm: 100e3, top_n: 10, ..SearchSettings::default() };
+        let copies = search(&divider_reference(), t, &SearchSettings { distinct: false, ..base.clone() }, &ck).unwrap();
+        let distinct = search(&divider_reference(), t, &base, &ck).unwrap();
+        let obj = Objective::new(t);
+        let same = |a: &Candidate, b: &Candidate| {
+            same_alternative(
+                &obj,
+                &Thresholds { vt_upper_v: a.vt_upper_v, vt_lower_v: a.vt_lower_v },
+                &Thresholds { vt_upper_v: b.vt_upper_v, vt_lower_v: b.vt_lower_v },
+            )
+        };
+        // Without the rule the list is crowded by twins of its best entry (the complaint) …
+        let twins_of_best = copies.candidates.iter().filter(|c| same(c, &copies.candidates[0])).count();
+        assert!(twins_of_best >= 2, "{copies:#?}");
+        // … with it, every pair of listed alternatives differs in VT+ or VT− by more than 10 ppm.
+        assert_eq!(distinct.candidates.len(), 10);
+        for (i, a) in distinct.candidates.iter().enumerate() {
+            for b in &distinct.candidates[i + 1..] {
+                assert!(!same(a, b), "{a:?}\n{b:?}");
+            }
+        }
+        // The best entry is still the best there is, and the list stays ordered.
+        assert_eq!(distinct.candidates[0].worst_error_rel, copies.candidates[0].worst_error_rel);
+        assert!(distinct.candidates.windows(2).all(|w| w[0].worst_error_rel <= w[1].worst_error_rel + 1e-15));
+    }
+
+    #[test]
+    fn a_job_in_slices_ends_as_one_search_does() {
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 };
+        let ck = CheckSettings::default();
+        let s = SearchSettings { series: ESeries::E12, current_budget_a: Some(100e-6), ..SearchSettings::default() };
+        let whole = search(&three_resistor(), t, &s, &ck).unwrap();
+        let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
+        let w = job.workload();
+        assert_eq!((w.resistors, w.values_per_resistor, w.combinations), (3, 37, 37 * 37));
+        assert_eq!(w.max_evaluations, 2 * 37 * 37 * 37 + 9 * 37);
+        let mut slices = 0;
+        let mut last = job.progress();
+        assert!(!last.finished && last.estimated_evaluations == w.max_evaluations);
+        while !last.finished {
+            let p = job.step(7);
+            assert!(p.evaluations >= last.evaluations && p.evaluations <= w.max_evaluations);
+            assert!(p.estimated_evaluations >= p.evaluations && p.estimated_evaluations <= w.max_evaluations);
+            assert!((0.0..=1.0).contains(&p.fraction()));
+            last = p;
+            slices += 1;
+        }
+        assert!(slices > 10, "{slices} slices");
+        assert_eq!(last.estimated_evaluations, last.evaluations);
+        assert_eq!(last.remaining_s(3.0), Some(0.0));
+        assert_eq!(job.finish(), whole);
+    }
+
+    #[test]
+    fn remaining_time_is_extrapolated_from_the_rate() {
+        let p = Progress {
+            combinations_done: 10,
+            combinations: 40,
+            evaluations: 100,
+            unpruned_pass: false,
+            estimated_evaluations: 400,
+            finished: false,
+        };
+        // 100 evaluations in 0.5 s: 300 more take 1.5 s.
+        assert!((p.remaining_s(0.5).unwrap() - 1.5).abs() < 1e-12);
+        assert_eq!(p.fraction(), 0.25);
+        assert_eq!(Progress { evaluations: 0, ..p }.remaining_s(0.5), None);
+        assert_eq!(p.remaining_s(f64::NAN), None);
     }
 
     #[test]

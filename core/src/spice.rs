@@ -346,24 +346,34 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
             );
         }
         ActiveDevice::Npn { designator, collector, base, emitter, model } => {
-            let _ =
-                writeln!(o, "* {designator}: NPN, SPICE bipolar model with IS, BF and BR only (transport Ebers-Moll);");
+            let _ = writeln!(
+                o,
+                "* {designator}: NPN, SPICE bipolar model: DC from IS, BF, BR (transport Ebers-Moll) with their"
+            );
+            let _ = writeln!(o, "* temperature laws (XTI, EG, XTB); CJE, CJC, TF only shape the transient.");
             let _ = writeln!(o, "* the hand analysis assumed VBE = {}.", volts(model.vbe_v));
             let _ = writeln!(o, "{designator} {collector} {base} {emitter} QNPN");
             if !models.contains(".model QNPN") {
-                let celsius = model.temperature_k - 273.15;
+                let celsius = |k: f64| short(k - 273.15);
                 let _ = writeln!(
                     models,
-                    "* IS is entered at the junction temperature: TNOM = TEMP so SPICE does not rescale it."
+                    "* IS, BF, BR hold at TNOM; SPICE rescales them to the junction temperature TEMP."
                 );
-                let _ = writeln!(models, ".options TNOM={}", short(celsius));
-                let _ = writeln!(models, ".temp {}", short(celsius));
+                let _ = writeln!(models, ".options TNOM={}", celsius(model.nominal_temperature_k));
+                let _ = writeln!(models, ".temp {}", celsius(model.temperature_k));
                 let _ = writeln!(
                     models,
-                    ".model QNPN NPN(IS={} BF={} BR={})",
+                    ".model QNPN NPN(IS={} BF={} BR={} TNOM={} XTI={} EG={} XTB={} CJE={} CJC={} TF={})",
                     n(model.saturation_current_a),
                     n(model.beta_f),
-                    n(model.beta_r)
+                    n(model.beta_r),
+                    celsius(model.nominal_temperature_k),
+                    n(model.is_temperature_exponent),
+                    n(model.bandgap_v),
+                    n(model.beta_temperature_exponent),
+                    n(model.emitter_capacitance_f),
+                    n(model.collector_capacitance_f),
+                    n(model.transit_time_s)
                 );
             }
         }

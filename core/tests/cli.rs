@@ -92,7 +92,8 @@ fn out_of_range_values_and_future_versions_are_reported() {
     let errors = r[0]["ok"]["errors"].as_array().unwrap();
     let analysis = errors.iter().find(|e| e["study"] == "analysis").expect("analysis error");
     assert_eq!(analysis["error"]["kind"].as_str(), Some("invalid_value"));
-    assert_eq!(analysis["error"]["field"].as_str(), Some("r2_ohm"));
+    // Analysis errors name the field as the page shows it: the resistor's designator (issue 12).
+    assert_eq!(analysis["error"]["field"].as_str(), Some("R2"));
 
     let mut f: serde_json::Value = serde_json::from_str(&fixture("non_inverting")).unwrap();
     f["schema_version"] = 42.into();

@@ -133,14 +133,21 @@ pub async fn start_at(base: String) -> Session {
 }
 
 impl Session {
-    /// Waits (up to 20 s) for an element to appear.
+    /// Waits (up to 20 s) for an element to appear. Long studies are folded (`<details>`): an element
+    /// inside a closed fold has its folds opened first, as a user opens a study to reach its fields.
     pub async fn wait_for(&self, css: &str) -> fantoccini::elements::Element {
-        self.client
+        let el = self
+            .client
             .wait()
             .at_most(Duration::from_secs(20))
             .for_element(Locator::Css(css))
             .await
-            .unwrap_or_else(|e| panic!("element {css} did not appear: {e}"))
+            .unwrap_or_else(|e| panic!("element {css} did not appear: {e}"));
+        let open_folds = "for (let d = arguments[0].closest('details:not([open])'); d; d = d.closest('details:not([open])')) d.open = true;";
+        if let Ok(arg) = serde_json::to_value(&el) {
+            self.client.execute(open_folds, vec![arg]).await.ok();
+        }
+        el
     }
 
     /// Replaces a text field's content with `text` as a user would: the field is cleared, then each

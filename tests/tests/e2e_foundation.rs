@@ -32,16 +32,17 @@ async fn typed_parts_give_thresholds_and_persist() {
     let coloured = s
         .js(r#"const c = document.querySelector('#transfer-plot');
                const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
-               let blue = 0, orange = 0;
+               let rising = 0, falling = 0;
                for (let i = 0; i < d.length; i += 4) {
-                 if (d[i] < 60 && d[i+1] > 90 && d[i+2] > 120) blue++;
-                 if (d[i] > 170 && d[i+1] > 70 && d[i+1] < 120 && d[i+2] < 60) orange++;
+                 // Hysteron's palette (app/src/plot.rs colours): teal #00756f rising, madder #b23a5b falling.
+                 if (d[i] < 50 && d[i+1] > 95 && d[i+1] < 140 && d[i+2] > 90 && d[i+2] < 135) rising++;
+                 if (d[i] > 155 && d[i+1] < 90 && d[i+2] > 70 && d[i+2] < 115) falling++;
                }
-               return [blue, orange];"#)
+               return [rising, falling];"#)
         .await;
-    let blue = coloured[0].as_u64().unwrap_or(0);
-    let orange = coloured[1].as_u64().unwrap_or(0);
-    assert!(blue > 200 && orange > 200, "transfer curve not drawn: {blue} blue, {orange} orange pixels");
+    let rising = coloured[0].as_u64().unwrap_or(0);
+    let falling = coloured[1].as_u64().unwrap_or(0);
+    assert!(rising > 200 && falling > 200, "transfer curve not drawn: {rising} teal (rising), {falling} madder (falling) pixels");
 
     // Editing a part redraws the curve: the VT+ line moves, so the picture changes.
     let picture = r#"const c = document.querySelector('#transfer-plot');

@@ -9,7 +9,7 @@
 //!     back to exactly the same string and creates no element;
 //! (d) the bench procedure's expected readings are the analysis's thresholds for every design.
 
-use hysteron_core::bench::{bench_procedure, ThresholdBounds};
+use hysteron_core::bench::{bench_procedure, ReadingWindows};
 use hysteron_core::netlist::Netlisted;
 use hysteron_core::schematic::{engineering_ohms, render_svg, render_svg_titled, SymbolStyle};
 use hysteron_core::topology::{analyse, Circuit};
@@ -119,7 +119,7 @@ fn bench_readings_are_the_analysis_thresholds_for_every_design() {
             ..Default::default()
         };
         let a = analyse(&c, &checks).unwrap();
-        let p = bench_procedure(&c, &checks, &ThresholdBounds::default()).unwrap();
+        let p = bench_procedure(&c, &checks, &ReadingWindows::default()).unwrap();
         assert_eq!(p.readings.len(), 6, "{key}: nominal and both supply ends");
         for corner in &a.supply_corners {
             let at: Vec<_> = p.readings.iter().filter(|r| r.supply_v == corner.supply_v).collect();

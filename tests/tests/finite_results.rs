@@ -60,7 +60,8 @@ fn non_inverting_with_huge_bias_current_fails_and_exports_nothing() {
     let e = evaluate_value(&r);
     assert_all_finite(&e);
     assert!(e.analysis.is_none());
-    failed_naming(&e, "analysis", &["bias_plus_a", "vt_upper", "vt_lower", "not a finite number"]);
+    // Analysis errors name the field as the page shows it (issue 12): "bias current IB+".
+    failed_naming(&e, "analysis", &["bias current IB+", "vt_upper", "vt_lower", "not a finite number"]);
     let x = e.exports.as_ref().unwrap();
     assert!(x.spice.is_none() && x.bench.is_none(), "exports of a failed analysis: {x:?}");
     // The SPICE export on its own refuses the circuit too.
@@ -91,7 +92,8 @@ fn cmos_buffer_with_a_denormal_resistor_fails_and_exports_nothing() {
     let e = evaluate_value(&r);
     assert_all_finite(&e);
     assert!(e.analysis.is_none(), "{:?}", e.analysis);
-    failed_naming(&e, "analysis", &["r2_ohm", "vt_upper", "vt_lower", "not a finite number"]);
+    // Analysis errors name a resistor by its designator (issue 12).
+    failed_naming(&e, "analysis", &["R2", "vt_upper", "vt_lower", "not a finite number"]);
     let x = e.exports.as_ref().unwrap();
     assert!(x.spice.is_none() && x.bench.is_none());
     let rec = hysteron_core::record::DesignRecord::from_value(r).unwrap();
@@ -125,7 +127,8 @@ fn out_of_range_settings_are_refused_naming_the_field() {
         ("signal", "sample_rate_hz", |r| r["signal"]["sample_rate_hz"] = json!(1e308)),
         ("signal", "noise.corner_hz", |r| r["signal"]["noise"][1]["corner_hz"] = json!(5e-324)),
         ("tolerance", "tolerance.offset_v", |r| r["tolerance"]["offset_v"] = json!(1e308)),
-        ("tolerance", "tolerance.spec.vt_upper_min_v", |r| r["tolerance"]["spec"]["vt_upper_min_v"] = json!(-1e308)),
+        // The spec window's bounds are named as the page shows them (issue 12).
+        ("tolerance", "VT+ at least", |r| r["tolerance"]["spec"]["vt_upper_min_v"] = json!(-1e308)),
         ("tolerance", "tolerance.resistor_tempco_ppm_per_k", |r| r["tolerance"]["resistor_tempco_ppm_per_k"] = json!(1e308)),
         ("synthesis", "targets.vt_upper_v", |r| r["targets"]["vt_upper_v"] = json!(1e308)),
         ("synthesis", "targets.impedance.anchor_ohm", |r| r["targets"]["impedance"]["anchor_ohm"] = json!(5e-324)),

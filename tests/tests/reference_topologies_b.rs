@@ -432,7 +432,11 @@ impl IndependentPair {
 }
 
 fn domain_example(model: BjtModel) -> EmitterCoupledSchmitt {
-    EmitterCoupledSchmitt { model, ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) }
+    let mut c = EmitterCoupledSchmitt { model, ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) };
+    // DOMAIN §1f's transistor: IS and βF entered at, and operating at, 300 K.
+    c.transistor.temperature_k = 300.0;
+    c.transistor.nominal_temperature_k = 300.0;
+    c
 }
 
 /// A few plausible designs with clear hysteresis, plus DOMAIN §1f's example.
@@ -456,6 +460,8 @@ fn em_designs() -> Vec<EmitterCoupledSchmitt> {
             temperature_k: uniform(&mut rng, 250.0, 370.0),
             ..Transistor::default()
         };
+        // IS and βF entered at the junction temperature, as the independent solve below uses them.
+        c.transistor.nominal_temperature_k = c.transistor.temperature_k;
         if rng.uniform() < 0.3 {
             c.load_ohm = Some(log_uniform(&mut rng, 5e3, 1e6));
         }

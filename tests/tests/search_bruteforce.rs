@@ -106,7 +106,7 @@ fn assert_matches_brute_force<C: Circuit>(
 }
 
 fn small(series: ESeries, r_min_ohm: f64, r_max_ohm: f64, top_n: usize) -> SearchSettings {
-    SearchSettings { series, r_min_ohm, r_max_ohm, top_n, current_budget_a: None }
+    SearchSettings { series, r_min_ohm, r_max_ohm, top_n, current_budget_a: None, distinct: false }
 }
 
 #[test]

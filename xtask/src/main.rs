@@ -181,6 +181,9 @@ fn setup_browser() -> Result<(), String> {
     if version_of("pdfinfo", "-v").is_none() {
         missing.push("poppler-utils");
     }
+    if version_of("ngspice", "--version").is_none() {
+        missing.push("ngspice"); // tests/tests/reference_bjt_temperature.rs runs it in batch mode
+    }
     if missing.is_empty() {
         say("browser tools: present");
         Ok(())

@@ -1,9 +1,11 @@
 //! The circuit section: topology choice with a note on when to use it, every numeric quantity of
 //! the circuit as a field, and the whole circuit as JSON for structural options.
 
+use super::share::{schematic_url, StyleChoice};
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::catalog;
+use hysteron_core::schematic::SymbolStyle;
 use hysteron_core::topology::{Circuit, Topology};
 use leptos::prelude::*;
 
@@ -75,8 +77,28 @@ pub fn CircuitSection() -> impl IntoView {
                             }
                         })
                     });
+                    // A value that leaves the circuit invalid (a 0 V supply below the negative rail…) is
+                    // refused at its field, with the reason in the words on screen.
+                    let check = Callback::new(move |v: f64| -> Option<String> {
+                        nb.with_current_untracked(|r| {
+                            let mut values: Vec<f64> = r.circuit.parameters().iter().map(|p| p.value).collect();
+                            *values.get_mut(i)? = v;
+                            let err = r.circuit.with_parameters(&values).and_then(|c| c.validate().map(|_| ())).err()?;
+                            // A design that is already invalid for the same reason stays editable.
+                            if r.circuit.validate().err().as_ref() == Some(&err) {
+                                return None;
+                            }
+                            let own = r.circuit.parameters().get(i).map(|p| p.designator.clone().unwrap_or_else(|| p.label.clone()));
+                            let err = hysteron_core::topology::named_on_screen(err, &r.circuit.parameters());
+                            Some(match (&err, own) {
+                                (hysteron_core::error::DesignError::InvalidValue { field, reason }, Some(o)) if *field == o => reason.clone(),
+                                _ => err.to_string(),
+                            })
+                        })
+                        .flatten()
+                    });
                     let shown = match designator { Some(d) => format!("{d} — {label}"), None => label };
-                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit value on_value /> }
+                    view! { <QuantityField id=format!("field-{id}") label=shown unit=unit value on_value check /> }
                 }).collect_view()}
             </div>
             <details class="json-edit" on:toggle=move |_| { let o = !json_open.get_untracked(); json_open.set(o); if o { load_json(); } }>
@@ -89,6 +111,35 @@ pub fn CircuitSection() -> impl IntoView {
                 </div>
                 {move || json_error.get().map(|e| view! { <p class="error" id="circuit-json-error" role="alert">{e}</p> })}
             </details>
+        </section>
+    }
+}
+
+/// The schematic of the open design with its part values, in the chosen symbol style; it stands
+/// with the results, in view beside (or above) the inputs.
+#[component]
+pub fn SchematicView() -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let style = expect_context::<StyleChoice>().0;
+    let image = Memo::new(move |_| {
+        let s = style.get();
+        nb.with_settled(|r| schematic_url(r, s)).unwrap_or_default()
+    });
+    view! {
+        <section class="card schematic-card" aria-labelledby="schematic-heading" id="schematic-view">
+            <div class="card-head">
+                <h2 id="schematic-heading">"Schematic"</h2>
+                <div class="inline-field no-print">
+                    <label for="symbol-style">"Symbols"</label>
+                    <select id="symbol-style"
+                        prop:value=move || if style.get() == SymbolStyle::Ieee315 { "ieee315" } else { "iec60617" }
+                        on:change=move |ev| style.set(if event_target_value(&ev) == "ieee315" { SymbolStyle::Ieee315 } else { SymbolStyle::Iec60617 })>
+                        <option value="iec60617">"IEC 60617"</option>
+                        <option value="ieee315">"IEEE 315"</option>
+                    </select>
+                </div>
+            </div>
+            <img id="schematic" class="schematic" src=move || image.get() alt="Schematic of the circuit with part designators and values" />
         </section>
     }
 }

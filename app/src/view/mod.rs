@@ -5,13 +5,16 @@ mod circuit;
 mod notebook;
 pub mod partlist;
 mod parts;
+pub mod progress;
 mod share;
 mod sheet;
 mod purpose;
 mod results;
+mod search;
 mod signal;
 mod starters;
 mod tolerance;
+mod temperature;
 pub mod state;
 
 use leptos::prelude::*;
@@ -19,6 +22,26 @@ use state::Notebook;
 
 /// How long edits must pause before the slower sections recompute, milliseconds.
 const SETTLE_MS: i32 = 120;
+
+/// A long study folded under one line: closed until the user opens it, so the design's inputs
+/// stay short; what it holds is rendered (and kept) whether open or not.
+#[component]
+fn Study(
+    /// Element id of the fold.
+    id: &'static str,
+    /// The study's name.
+    title: &'static str,
+    /// What it holds, in a few words.
+    hint: &'static str,
+    children: Children,
+) -> impl IntoView {
+    view! {
+        <details class="study" id=id>
+            <summary><span class="study-title">{title}</span><span class="study-hint">{hint}</span></summary>
+            {children()}
+        </details>
+    }
+}
 
 /// The whole page: header, notebook list, and the open design.
 #[component]
@@ -83,7 +106,35 @@ pub fn App() -> impl IntoView {
             <notebook::NotebookList />
             <main id="design" class="design">
                 {move || if nb.current.get().is_some() {
-                    view! { <purpose::PurposeSection /> <circuit::CircuitSection /> <parts::PartsSection /> <results::Results /> <tolerance::ToleranceSection /> <signal::SignalSection /> <application::ApplicationSection /> <partlist::PartListSection /> <share::ShareSection /> }.into_any()
+                    let figures = results::Figures::new(nb);
+                    view! {
+                        <div class="design-grid">
+                            <results::KeyStrip figures />
+                            <aside class="design-view" aria-label="The design at a glance: results, transfer curve and schematic">
+                                <results::Results figures />
+                                <circuit::SchematicView />
+                            </aside>
+                            <div class="design-inputs">
+                                <purpose::PurposeSection />
+                                <circuit::CircuitSection />
+                                <parts::PartsSection />
+                                <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo">
+                                    <tolerance::ToleranceSection />
+                                </Study>
+                                <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K">
+                                    <temperature::TemperatureSection />
+                                </Study>
+                                <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges">
+                                    <signal::SignalSection />
+                                </Study>
+                                <Study id="fold-application" title="Oscillator and debouncer" hint="RC timing on the thresholds">
+                                    <application::ApplicationSection />
+                                </Study>
+                                <partlist::PartListSection />
+                                <share::ShareSection />
+                            </div>
+                        </div>
+                    }.into_any()
                 } else {
                     view! { <p class="empty">"No design open. Start one from the notebook."</p> }.into_any()
                 }}

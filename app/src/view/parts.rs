@@ -4,9 +4,9 @@
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::eseries::ESeries;
-use hysteron_core::overview::{standard_values, synthesis, Synthesis};
+use hysteron_core::overview::{synthesis, Synthesis};
 use hysteron_core::notation::{format_with_unit, Unit};
-use hysteron_core::search::{apply, SearchReport, SearchSettings};
+use hysteron_core::search::SearchSettings;
 use hysteron_core::topology::{Circuit, ParameterKind};
 use leptos::prelude::*;
 
@@ -22,14 +22,13 @@ pub fn PartsSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let settings = Signal::derive(move || nb.with_current(|r| r.search.clone().unwrap_or_default()).unwrap_or_default());
     let exact = RwSignal::new(None::<Result<Synthesis, String>>);
-    let found = RwSignal::new(None::<Result<SearchReport, String>>);
-    let elapsed_ms = RwSignal::new(None::<f64>);
+    let search = super::search::SearchState::new();
     // A new design or new targets make old answers stale.
     Effect::new(move |_| {
         nb.current.track();
         let _ = nb.with_current(|r| r.targets);
         exact.set(None);
-        found.set(None);
+        search.reset();
     });
     let run = move |_| {
         let Some(record) = nb.with_current_untracked(|r| r.clone()) else { return };
@@ -37,14 +36,9 @@ pub fn PartsSection() -> impl IntoView {
             exact.set(Some(Err("enter the thresholds wanted (Purpose and targets) first".into())));
             return;
         };
-        let t0 = web_sys::window().and_then(|w| w.performance()).map(|p| p.now());
         let syn = synthesis(&record, &targets);
-        let report = standard_values(&record, &targets, syn.as_ref().ok()).map_err(|e| e.to_string());
-        if let (Some(a), Some(p)) = (t0, web_sys::window().and_then(|w| w.performance())) {
-            elapsed_ms.set(Some(p.now() - a));
-        }
+        search.start(&record, &targets, syn.as_ref().ok());
         exact.set(Some(syn.map_err(|e| e.to_string())));
-        found.set(Some(report));
     };
     let use_exact = move |_| {
         if let Some(Ok(s)) = exact.get_untracked() {
@@ -73,7 +67,19 @@ pub fn PartsSection() -> impl IntoView {
                 r.search = Some(st);
             })
         });
-        view! { <QuantityField id=id.to_string() label=label.to_string() unit="Ω" value on_value /> }
+        // The smallest resistor must stay below the largest: refused at the field otherwise.
+        let check = Callback::new(move |v: f64| -> Option<String> {
+            let mut st = settings.get_untracked();
+            put(&mut st, v);
+            (st.r_min_ohm >= st.r_max_ohm).then(|| {
+                if id == "search-r-min" {
+                    format!("must be below the largest resistor ({})", ohms(st.r_max_ohm))
+                } else {
+                    format!("must be above the smallest resistor ({})", ohms(st.r_min_ohm))
+                }
+            })
+        });
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit="Ω" value on_value check /> }
     };
     view! {
         <section class="card" aria-labelledby="parts-heading" id="parts">
@@ -104,39 +110,7 @@ pub fn PartsSection() -> impl IntoView {
                     }.into_any()
                 }
             })}
-            {move || found.get().map(|res| match res {
-                Err(e) => view! { <p class="error" id="search-error" role="alert">{e}</p> }.into_any(),
-                Ok(rep) => {
-                    let head: Vec<String> = rep.candidates.first().map(|c| c.parts.iter().map(|p| p.designator.clone().unwrap_or_else(|| p.id.clone())).collect()).unwrap_or_default();
-                    view! {
-                        <p class="note">{format!("{} combinations of {} checked; {} solved for directly", rep.combinations, rep.series, rep.solved_id)}
-                            {move || elapsed_ms.get().map(|ms| format!(" ({ms:.1} ms)"))}</p>
-                        <table class="grid" id="alternatives">
-                            <thead><tr><th>"#"</th>{head.into_iter().map(|h| view! { <th>{h}</th> }).collect_view()}
-                                <th>"VT+"</th><th>"VT−"</th><th>"worst error"</th><th></th></tr></thead>
-                            <tbody>
-                                {rep.candidates.into_iter().enumerate().map(|(i, c)| {
-                                    let cand = c.clone();
-                                    let pick = move |_| {
-                                        let cand = cand.clone();
-                                        nb.edit(move |r| if let Ok(n) = apply(&r.circuit, &cand) { r.circuit = n; });
-                                    };
-                                    view! {
-                                        <tr class="alternative">
-                                            <td>{i + 1}</td>
-                                            {c.parts.iter().map(|p| view! { <td>{ohms(p.value_ohm)}</td> }).collect_view()}
-                                            <td>{format!("{:.4} V", c.vt_upper_v)}</td>
-                                            <td>{format!("{:.4} V", c.vt_lower_v)}</td>
-                                            <td>{format!("{:.3} %", c.worst_error_rel * 100.0)}</td>
-                                            <td><button class="quiet small use-alternative" on:click=pick>"Use"</button></td>
-                                        </tr>
-                                    }
-                                }).collect_view()}
-                            </tbody>
-                        </table>
-                    }.into_any()
-                }
-            })}
+            <super::search::SearchResults state=search />
         </section>
     }
 }

@@ -2,12 +2,44 @@
 
 use super::state::Notebook;
 use crate::fields::{OptionalQuantityField, QuantityField};
-use hysteron_core::analysis::{ImpedanceChoice, Targets, Thresholds};
+use hysteron_core::analysis::{CheckSettings, ImpedanceChoice, Targets, Thresholds};
+use hysteron_core::notation::{format_with_unit, Unit};
 use hysteron_core::safety::cautions;
 use leptos::prelude::*;
 
 fn default_targets() -> Targets {
     Targets { vt_upper_v: 3.0, vt_lower_v: 2.0, impedance: ImpedanceChoice::AnchorOhm(100e3) }
+}
+
+fn volts(v: f64) -> String {
+    format_with_unit(v, 4, Unit::Volt)
+}
+
+/// What is wrong with targets after the field `id` was changed, in the words on screen.
+fn targets_problem(id: &str, t: &Targets) -> Option<String> {
+    let (up, lo) = (t.vt_upper_v, t.vt_lower_v);
+    if up > lo {
+        return None;
+    }
+    Some(match id {
+        "target-vt-upper" => format!("must be above VT− wanted ({})", volts(lo)),
+        "target-vt-lower" => format!("must be below VT+ wanted ({})", volts(up)),
+        "target-width" => "must be above zero".to_string(),
+        _ => format!("gives VT+ {} at or below VT− {}", volts(up), volts(lo)),
+    })
+}
+
+/// What is wrong with the operating range after the field `id` was changed, in the words on screen.
+fn range_problem(id: &str, c: &CheckSettings) -> Option<String> {
+    let order = |lo: Option<f64>, hi: Option<f64>| matches!((lo, hi), (Some(a), Some(b)) if a > b);
+    match id {
+        "check-supply-min" if order(c.supply_min_v, c.supply_max_v) => Some(format!("must not be above the supply maximum ({})", volts(c.supply_max_v?))),
+        "check-supply-max" if order(c.supply_min_v, c.supply_max_v) => Some(format!("must not be below the supply minimum ({})", volts(c.supply_min_v?))),
+        "check-input-min" if order(c.input_min_v, c.input_max_v) => Some(format!("must not be above the highest input ({})", volts(c.input_max_v?))),
+        "check-input-max" if order(c.input_min_v, c.input_max_v) => Some(format!("must not be below the lowest input ({})", volts(c.input_min_v?))),
+        "check-recovery" if c.expected_recovery_v < 0.0 => Some("must not be negative".to_string()),
+        _ => None,
+    }
 }
 
 /// The first section of a design: name, purpose, targets and operating range, and cautions.
@@ -26,20 +58,33 @@ pub fn PurposeSection() -> impl IntoView {
             r.targets = Some(t);
         })
     };
+    // Each threshold field refuses a value that would put VT+ at or below VT− (or a width of zero
+    // or less), and says so beside itself in the words on screen.
     let thresholds_field = move |id: &'static str, label: &'static str, get: fn(&Targets) -> f64, put: fn(&mut Targets, f64)| {
         let value = Signal::derive(move || get(&t()));
         let on_value = Callback::new(move |v: f64| set_t(id, Box::new(move |t| put(t, v))));
-        view! { <QuantityField id=id.to_string() label=label.to_string() unit="V" value on_value /> }
+        let check = Callback::new(move |v: f64| {
+            let mut candidate = targets.get_untracked().unwrap_or_else(default_targets);
+            put(&mut candidate, v);
+            targets_problem(id, &candidate)
+        });
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit="V" value on_value check /> }
     };
     let check = move |id: &'static str, label: &'static str, get: fn(&hysteron_core::analysis::CheckSettings) -> Option<f64>,
                       put: fn(&mut hysteron_core::analysis::CheckSettings, Option<f64>)| {
         let value = Signal::derive(move || nb.with_current(|r| get(&r.checks)).flatten());
         let on_value = Callback::new(move |v: Option<f64>| nb.edit_keyed(id, move |r| put(&mut r.checks, v)));
-        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value on_value /> }
+        let check = Callback::new(move |v: f64| {
+            let mut candidate = nb.with_current_untracked(|r| r.checks.clone())?;
+            put(&mut candidate, Some(v));
+            range_problem(id, &candidate)
+        });
+        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value on_value check /> }
     };
+    // With a current budget chosen there is no anchor value: the anchor field is empty (never "NaN").
     let anchor = Signal::derive(move || match t().impedance {
-        ImpedanceChoice::AnchorOhm(r) => r,
-        ImpedanceChoice::CurrentBudgetA(_) => f64::NAN,
+        ImpedanceChoice::AnchorOhm(r) => Some(r),
+        ImpedanceChoice::CurrentBudgetA(_) => None,
     });
     let budget = Signal::derive(move || match t().impedance {
         ImpedanceChoice::CurrentBudgetA(a) => Some(a),
@@ -86,9 +131,12 @@ pub fn PurposeSection() -> impl IntoView {
                             {thresholds_field("target-vt-lower", "VT− wanted (release point, falling)", |t| t.vt_lower_v, |t, v| t.vt_lower_v = v)}
                         }.into_any()
                     }}
-                    <QuantityField id="target-anchor".to_string() label=format!("Impedance: value of the anchor resistor") unit="Ω" value=anchor
-                        on_value=Callback::new(move |v: f64| set_t("target-anchor", Box::new(move |t| t.impedance = ImpedanceChoice::AnchorOhm(v)))) />
+                    <OptionalQuantityField id="target-anchor".to_string() label="Impedance: value of the anchor resistor".to_string() unit="Ω" value=anchor
+                        on_value=Callback::new(move |v: Option<f64>| if let Some(v) = v {
+                            set_t("target-anchor", Box::new(move |t| t.impedance = ImpedanceChoice::AnchorOhm(v)))
+                        }) />
                     <OptionalQuantityField id="target-budget".to_string() label="…or a current budget for the network".to_string() unit="A" value=budget
+                        check=Callback::new(|a: f64| (a <= 0.0).then(|| format!("must be above zero (got {})", format_with_unit(a, 3, Unit::Ampere))))
                         on_value=Callback::new(move |v: Option<f64>| set_t("target-budget", Box::new(move |t| {
                             t.impedance = match v { Some(a) => ImpedanceChoice::CurrentBudgetA(a), None => ImpedanceChoice::AnchorOhm(100e3) };
                         }))) />

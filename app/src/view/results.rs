@@ -1,30 +1,85 @@
-//! Results of the open design: thresholds, levels, warnings and the transfer curve.
+//! Results of the open design: VT+, VT− and the hysteresis with their windows (field and bench
+//! windows from core's tolerance study, the spec window the user set), the other levels, warnings and the transfer
+//! curve. These stay in view beside the inputs (wide screens) or above them (narrow screens).
 
 use super::state::Notebook;
 use crate::plot;
 use hysteron_core::analysis::Analysis;
-use hysteron_core::overview::quick;
+use hysteron_core::overview::{quick, record_windows, Quick};
+use hysteron_core::tolerance::{worst_case::WorstCase, SpecWindow};
 use hysteron_core::topology::TransferCurve;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
+/// A non-breaking space: a number and its unit never part at a line end.
+const NBSP: &str = "\u{a0}";
+
 fn volts(v: f64) -> String {
-    format!("{v:.4} V")
+    format!("{v:.4}{NBSP}V")
 }
 
-/// Shows VT+, VT−, width, centre and the transfer curve; errors appear in place of results.
+fn window_text(lo: Option<f64>, hi: Option<f64>) -> Option<String> {
+    match (lo, hi) {
+        (Some(a), Some(b)) => Some(format!("{a:.3}{NBSP}…{NBSP}{b:.3}{NBSP}V")),
+        (Some(a), None) => Some(format!("≥{NBSP}{a:.3}{NBSP}V")),
+        (None, Some(b)) => Some(format!("≤{NBSP}{b:.3}{NBSP}V")),
+        (None, None) => None,
+    }
+}
+
+/// The figures computed once per keystroke (`core::overview::quick`), shared by the results and
+/// the narrow screen's key strip.
+#[derive(Clone, Copy)]
+pub struct Figures {
+    quick: Memo<Option<Quick>>,
+    analysis: Memo<Result<Analysis, String>>,
+}
+
+impl Figures {
+    /// Starts following the open design.
+    pub fn new(nb: Notebook) -> Self {
+        let quick = Memo::new(move |_| nb.with_current(quick));
+        let analysis = Memo::new(move |_| {
+            quick.with(|q| match q {
+                Some(q) => q.analysis.clone().map_err(|e| e.to_string()),
+                None => Err("no design open".into()),
+            })
+        });
+        Self { quick, analysis }
+    }
+}
+
+/// One line of VT+, VT− and the hysteresis, shown at the top of narrow screens while the inputs
+/// scroll beneath it (the full results stand above the inputs there).
 #[component]
-pub fn Results() -> impl IntoView {
-    let nb = expect_context::<Notebook>();
-    // One call per keystroke: the analysis and the transfer curve over the window core chooses.
-    let figures = Memo::new(move |_| nb.with_current(quick));
-    let analysis = Memo::new(move |_| {
-        figures.with(|q| match q {
-            Some(q) => q.analysis.clone().map_err(|e| e.to_string()),
-            None => Err("no design open".into()),
+pub fn KeyStrip(figures: Figures) -> impl IntoView {
+    let text = move || {
+        figures.analysis.with(|a| match a {
+            Ok(a) => format!(
+                "VT+ {} · VT− {} · hysteresis {}",
+                volts(a.vt_upper_v),
+                volts(a.vt_lower_v),
+                volts(a.hysteresis_v)
+            ),
+            Err(_) => "No thresholds: see the message under Results".into(),
         })
-    });
-    let curve = Memo::new(move |_| figures.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
+    };
+    view! {
+        <div class="key-strip" id="key-strip" aria-hidden="true">{text}</div>
+    }
+}
+
+/// Shows VT+, VT−, hysteresis (with their windows), centre, output levels, warnings and the
+/// transfer curve; errors appear in place of results.
+#[component]
+pub fn Results(figures: Figures) -> impl IntoView {
+    let nb = expect_context::<Notebook>();
+    let analysis = figures.analysis;
+    let curve = Memo::new(move |_| figures.quick.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
+    // The field window (every tolerance over its full range) and the bench window (parts and
+    // device spread at 25 °C and the nominal supply), computed once typing pauses.
+    let windows = Memo::new(move |_| nb.with_settled(|r| record_windows(r).ok()).flatten());
+    let spec = Memo::new(move |_| nb.with_current(|r| r.tolerance.as_ref().map(|t| t.spec)).flatten().unwrap_or_default());
     // The figures saved with the design are its record for the bench: if today's math gives other
     // numbers (a newer version, say), say so and show both rather than silently changing them.
     let saved = Memo::new(move |_| nb.with_current_entry(|e| e.snapshot.clone()).flatten());
@@ -43,25 +98,56 @@ pub fn Results() -> impl IntoView {
     };
     let canvas: NodeRef<Canvas> = NodeRef::new();
     let plot_error = RwSignal::new(None::<String>);
-    let frame = StoredValue::new(None::<plot::PlotFrame>);
     let hover = RwSignal::new(String::new());
     Effect::new(move |_| {
         let c: Option<TransferCurve> = curve.get();
         if let (Some(el), Some(c)) = (canvas.get(), c) {
-            match plot::draw_transfer(&el, &c) {
-                Ok(f) => {
-                    frame.set_value(Some(f));
-                    plot_error.set(None);
-                }
-                Err(e) => plot_error.set(Some(e)),
-            }
+            plot_error.set(plot::draw_transfer(&el, &c).err());
         }
     });
     let on_move = move |ev: leptos::ev::MouseEvent| {
-        let v = frame.get_value().and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
+        let v = canvas.get_untracked().and_then(|c| plot::current_frame(&c)).and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
         hover.set(v.map(|(x, y)| format!("input {x:.3} V, output {y:.3} V")).unwrap_or_default());
     };
     let value = move |f: fn(&Analysis) -> f64| move || analysis.with(|a| a.as_ref().map(f).ok());
+    // One key figure: its name, what it means, the value, and its windows where there are any.
+    type Window = fn(&SpecWindow) -> (Option<f64>, Option<f64>);
+    type Bench = fn(&WorstCase) -> (f64, f64);
+    let key = move |id: &'static str, name: &'static str, note: &'static str, f: fn(&Analysis) -> f64, spec_of: Window, bench_of: Bench| {
+        let v = value(f);
+        let spec_text = move || spec.with(|s| {
+            let (lo, hi) = spec_of(s);
+            window_text(lo, hi)
+        });
+        let outside = move || {
+            let (lo, hi) = spec.with(spec_of);
+            v().is_some_and(|x| lo.is_some_and(|l| x < l) || hi.is_some_and(|h| x > h))
+        };
+        let field_range = move || windows.with(|w| w.as_ref().map(|w| bench_of(&w.field)));
+        let bench_range = move || windows.with(|w| w.as_ref().and_then(|w| w.bench.first()).map(|b| bench_of(&b.worst_case)));
+        view! {
+            <div class="key-figure" id=format!("key-{id}")>
+                <span class="key-name">{name}</span>
+                <span class="key-note">{note}</span>
+                <output id=id class="key-value" data-value=move || v().map(|x| x.to_string()).unwrap_or_default()>
+                    {move || v().map(volts).unwrap_or_else(|| "—".into())}
+                </output>
+                {move || field_range().map(|(lo, hi)| view! {
+                    <span class="key-window" id=format!("{id}-field") data-min=lo.to_string() data-max=hi.to_string()>
+                        "field " {window_text(Some(lo), Some(hi))}
+                    </span>
+                })}
+                {move || bench_range().map(|(lo, hi)| view! {
+                    <span class="key-window" id=format!("{id}-bench") data-min=lo.to_string() data-max=hi.to_string()>
+                        "bench " {window_text(Some(lo), Some(hi))}
+                    </span>
+                })}
+                {move || spec_text().map(|t| view! {
+                    <span class="key-window" class:outside=outside id=format!("{id}-spec")>"spec " {t}</span>
+                })}
+            </div>
+        }
+    };
     let row = move |id: &'static str, label: &'static str, f: fn(&Analysis) -> f64| {
         let v = value(f);
         view! {
@@ -74,15 +160,29 @@ pub fn Results() -> impl IntoView {
         }
     };
     view! {
-        <section class="card" aria-labelledby="results-heading">
+        <section class="card results-card" aria-labelledby="results-heading" id="results">
             <h2 id="results-heading">"Results"</h2>
             {move || analysis.with(|a| a.as_ref().err().cloned()).map(|e| view! { <p class="error" id="analysis-error" role="alert">{e}</p> })}
             {move || differs().map(|m| view! { <p class="compare" id="saved-differs" role="status">{m}</p> })}
-            <table class="results">
+            <div class="key-figures" id="key-figures">
+                {key("vt-upper", "VT+", "trip point, rising input", |a| a.vt_upper_v,
+                    |s| (s.vt_upper_min_v, s.vt_upper_max_v), |w| (w.vt_upper.min.value_v, w.vt_upper.max.value_v))}
+                {key("vt-lower", "VT−", "release point, falling input", |a| a.vt_lower_v,
+                    |s| (s.vt_lower_min_v, s.vt_lower_max_v), |w| (w.vt_lower.min.value_v, w.vt_lower.max.value_v))}
+                {key("hysteresis", "Hysteresis", "VT+ − VT−", |a| a.hysteresis_v,
+                    |s| (s.hysteresis_min_v, s.hysteresis_max_v), |w| (w.hysteresis.min.value_v, w.hysteresis.max.value_v))}
+            </div>
+            <p class="key-legend note">"Field: every tolerance over its full range (supply, temperature, parts, device). Bench: parts and device spread only, at 25 °C and the nominal supply — what the bench procedure accepts. Spec: your window (under Tolerance)."</p>
+            <figure class="plot">
+                <canvas id="transfer-plot" node_ref=canvas
+                    on:mousemove=on_move on:mouseleave=move |_| hover.set(String::new())
+                    role="img" aria-label="Transfer curve: output voltage against input voltage, both branches of the hysteresis loop"></canvas>
+                <output class="hover" id="transfer-hover" aria-live="off">{move || hover.get()}</output>
+                <figcaption>"Transfer curve: output against input. Arrows show which way the input moves; the rising input switches at VT+, the falling input at VT−."</figcaption>
+                {move || plot_error.get().map(|e| view! { <p class="error">{e}</p> })}
+            </figure>
+            <table class="results levels">
                 <tbody>
-                    {row("vt-upper", "VT+ (trip point, rising input)", |a| a.vt_upper_v)}
-                    {row("vt-lower", "VT− (release point, falling input)", |a| a.vt_lower_v)}
-                    {row("hysteresis", "Hysteresis", |a| a.hysteresis_v)}
                     {row("centre", "Centre", |a| a.centre_v)}
                     {row("output-high", "Output high", |a| a.output_high_v)}
                     {row("output-low", "Output low", |a| a.output_low_v)}
@@ -92,14 +192,6 @@ pub fn Results() -> impl IntoView {
                 {move || analysis.with(|a| a.as_ref().map(|a| a.warnings.clone()).unwrap_or_default())
                     .into_iter().map(|w| view! { <li class="warning">{w.message}</li> }).collect_view()}
             </ul>
-            <figure class="plot">
-                <canvas id="transfer-plot" node_ref=canvas width="640" height="360"
-                    on:mousemove=on_move on:mouseleave=move |_| hover.set(String::new())
-                    role="img" aria-label="Transfer curve: output voltage against input voltage, both branches of the hysteresis loop"></canvas>
-                <output class="hover" id="transfer-hover" aria-live="off">{move || hover.get()}</output>
-                <figcaption>"Transfer curve: rising input (blue) switches at VT+, falling input (orange) at VT−."</figcaption>
-                {move || plot_error.get().map(|e| view! { <p class="error">{e}</p> })}
-            </figure>
         </section>
     }
 }

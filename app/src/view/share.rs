@@ -30,15 +30,11 @@ fn page_address() -> String {
 #[derive(Clone, Copy)]
 pub struct StyleChoice(pub RwSignal<SymbolStyle>);
 
-/// Schematic, share link and files for the open design.
+/// Share link and files for the open design (the schematic stands with the results).
 #[component]
 pub fn ShareSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let style = expect_context::<StyleChoice>().0;
-    let image = Memo::new(move |_| {
-        let s = style.get();
-        nb.with_settled(|r| schematic_url(r, s)).unwrap_or_default()
-    });
     let link = RwSignal::new(String::new());
     let message = RwSignal::new(None::<Result<String, String>>);
     let make_link = move |_| {
@@ -115,17 +111,7 @@ pub fn ShareSection() -> impl IntoView {
     };
     view! {
         <section class="card" aria-labelledby="share-heading" id="share">
-            <h2 id="share-heading">"Schematic, link and files"</h2>
-            <div class="row no-print">
-                <div class="field">
-                    <label for="symbol-style">"Symbols"</label>
-                    <select id="symbol-style" on:change=move |ev| style.set(if event_target_value(&ev) == "ieee315" { SymbolStyle::Ieee315 } else { SymbolStyle::Iec60617 })>
-                        <option value="iec60617">"IEC 60617"</option>
-                        <option value="ieee315">"IEEE 315"</option>
-                    </select>
-                </div>
-            </div>
-            <img id="schematic" class="schematic" src=move || image.get() alt="Schematic of the circuit with part designators and values" />
+            <h2 id="share-heading">"Link and files"</h2>
             <div class="row no-print">
                 <button id="make-link" on:click=make_link>"Make a share link"</button>
                 <button id="print-sheet" class="quiet" on:click=move |_| { if let Some(w) = web_sys::window() { let _ = w.print(); } }>"Print the design sheet"</button>

@@ -1,5 +1,5 @@
 //! The one-page design sheet for the bench, shown only when printing (A4 or US Letter).
-//! Everything on it comes from `core`: thresholds, worst case and Monte Carlo yield, the part list,
+//! Everything on it comes from `core`: thresholds, the field and bench windows, Monte Carlo yield, the part list,
 //! the bench procedure, the signal test summary and the cautions.
 //!
 //! The sheet prints the design on screen: a shared design being shown (read-only, not yet kept)
@@ -63,7 +63,11 @@ pub fn DesignSheet() -> impl IntoView {
             <p class="sheet-purpose">{move || with_shown(&|r| r.purpose.clone())}</p>
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
-                Ok(Sheet { analysis: a, worst_case: wc, bench, parts, cautions }) => view! {
+                Ok(Sheet { analysis: a, windows, bench, parts, cautions, temperature }) => {
+                let wc = windows.as_ref().map(|w| w.field.clone());
+                let bw = windows.as_ref().and_then(|w| w.bench.first().cloned());
+                let range = |lo: f64, hi: f64| format!("{} … {}", v(lo), v(hi));
+                view! {
                     {(!cautions.is_empty()).then(|| view! {
                         <div class="sheet-caution"><strong>"Safety: "</strong>{cautions.iter().map(|c| c.message.clone()).collect::<Vec<_>>().join(" ")}
                             " Local codes and licensed practice take precedence."</div>
@@ -75,13 +79,15 @@ pub fn DesignSheet() -> impl IntoView {
                         </div>
                         <div>
                             <table class="grid sheet-table">
-                                <thead><tr><th></th><th>"nominal"</th><th>"worst-case min"</th><th>"worst-case max"</th></tr></thead>
+                                <thead><tr><th></th><th>"nominal"</th><th>"field window"</th><th>{bw.as_ref().map(|b| format!("bench window ({:.0} °C, {})", b.temperature_c, v(b.supply_v))).unwrap_or_else(|| "bench window".into())}</th></tr></thead>
                                 <tbody>
-                                    <tr><td>"VT+"</td><td id="sheet-vt-upper">{v(a.vt_upper_v)}</td><td>{wc.as_ref().map(|w| v(w.vt_upper.min.value_v))}</td><td>{wc.as_ref().map(|w| v(w.vt_upper.max.value_v))}</td></tr>
-                                    <tr><td>"VT−"</td><td>{v(a.vt_lower_v)}</td><td>{wc.as_ref().map(|w| v(w.vt_lower.min.value_v))}</td><td>{wc.as_ref().map(|w| v(w.vt_lower.max.value_v))}</td></tr>
-                                    <tr><td>"hysteresis"</td><td>{v(a.hysteresis_v)}</td><td>{wc.as_ref().map(|w| v(w.hysteresis.min.value_v))}</td><td>{wc.as_ref().map(|w| v(w.hysteresis.max.value_v))}</td></tr>
+                                    <tr><td>"VT+"</td><td id="sheet-vt-upper">{v(a.vt_upper_v)}</td><td id="sheet-field-vt-upper">{wc.as_ref().map(|w| range(w.vt_upper.min.value_v, w.vt_upper.max.value_v))}</td><td id="sheet-bench-vt-upper">{bw.as_ref().map(|b| range(b.vt_upper_v().0, b.vt_upper_v().1))}</td></tr>
+                                    <tr><td>"VT−"</td><td>{v(a.vt_lower_v)}</td><td>{wc.as_ref().map(|w| range(w.vt_lower.min.value_v, w.vt_lower.max.value_v))}</td><td>{bw.as_ref().map(|b| range(b.vt_lower_v().0, b.vt_lower_v().1))}</td></tr>
+                                    <tr><td>"hysteresis"</td><td>{v(a.hysteresis_v)}</td><td>{wc.as_ref().map(|w| range(w.hysteresis.min.value_v, w.hysteresis.max.value_v))}</td><td>{bw.as_ref().map(|b| range(b.worst_case.hysteresis.min.value_v, b.worst_case.hysteresis.max.value_v))}</td></tr>
                                 </tbody>
                             </table>
+                            <p class="sheet-windows">"Field window: every tolerance over its full range (supply, temperature, device spread, parts). Bench window: part tolerances and device spread only, at room temperature and the supply the bench step sets — accept readings by this one."</p>
+                            <p id="sheet-temperature">{temperature.map(|t| format!("Drift with temperature — {t}."))}</p>
                             <p>{move || slow.get().and_then(|SheetStudies { spec_yield, .. }| spec_yield).map(|(f, n)| format!("Monte Carlo yield in the spec window: {:.2} % of {n} boards.", f * 100.0))}</p>
                             <p>{move || slow.get().and_then(|SheetStudies { signal, .. }| signal).map(|s| format!(
                                 "Signal test: {} edges from the design{}; the plain comparator gives {} edges{}.",
@@ -91,12 +97,14 @@ pub fn DesignSheet() -> impl IntoView {
                                 s.baseline.comparison.map(|c| format!(" ({} false)", c.false_edges)).unwrap_or_default()))}</p>
                             {parts.map(|b| view! {
                                 <table class="grid sheet-table">
-                                    <thead><tr><th>"part"</th><th>"value"</th><th>"tol."</th><th>"package"</th><th>"rating"</th></tr></thead>
+                                    <thead><tr><th>"part"</th><th>"value"</th><th>"tol."</th><th>"package"</th><th>"rating*"</th><th>"min. rating"</th></tr></thead>
                                     <tbody>
-                                        {b.resistors.iter().map(|r| view! { <tr><td>{r.designator.clone()}</td><td>{format!("{} ({})", r.value_text, r.value_rkm)}</td><td>{format!("{} %", r.tolerance_pct)}</td><td>{r.package.label()}</td><td>{r.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td></tr> }).collect_view()}
-                                        <tr><td>{b.device.designator.clone()}</td><td colspan="4">{b.device.description.clone()}</td></tr>
+                                        {b.resistors.iter().map(|r| view! { <tr><td>{r.designator.clone()}</td><td>{format!("{} ({})", r.value_text, r.value_rkm)}</td><td>{format!("{} %", r.tolerance_pct)}</td><td>{r.package.label()}</td><td>{format!("{} W", r.package_rating_w)}</td><td>{r.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td></tr> }).collect_view()}
+                                        {b.application.iter().map(|p| view! { <tr><td>{p.designator.clone()}</td><td>{p.value_text.clone()}</td><td></td><td>{p.label.clone()}</td><td></td><td>{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td></tr> }).collect_view()}
+                                        <tr><td>{b.device.designator.clone()}</td><td colspan="5">{b.device.description.clone()}</td></tr>
                                     </tbody>
                                 </table>
+                                <p class="sheet-windows">{format!("* {}", hysteron_core::bom::PACKAGE_RATING_BASIS)}</p>
                             })}
                         </div>
                     </div>
@@ -107,7 +115,8 @@ pub fn DesignSheet() -> impl IntoView {
                         <p><strong>"If the readings are off: "</strong>{bench.troubleshooting.join(" ")}</p>
                     </div>
                     <p class="sheet-notes">{move || with_shown(&|r| r.notes.clone())}</p>
-                }.into_any(),
+                }.into_any()
+                }
             })}
         </article>
     }

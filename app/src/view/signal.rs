@@ -7,10 +7,11 @@ use crate::fields::QuantityField;
 use crate::plot::{self, colours, Trace};
 use crate::tick::later;
 use hysteron_core::signal::csv::{Capture, CsvOptions, CsvParser};
-use hysteron_core::signal::generate::Component;
+use hysteron_core::signal::generate::{Component, SignalDefinition};
 use hysteron_core::signal::noise::NoiseSource;
 use hysteron_core::signal::plot::{downsample_min_max, Envelope};
-use hysteron_core::signal::report::{run_signal, SignalRun, SignalSettings, SignalSource};
+use hysteron_core::jobs::{Job, JobOutput, DEFAULT_DISPLAY_POINTS};
+use hysteron_core::signal::report::{SignalRun, SignalSettings, SignalSource};
 use hysteron_core::signal::sweep::SweepSettings;
 use hysteron_core::signal::trigger::TriggerDesign;
 use leptos::html::Canvas;
@@ -20,62 +21,137 @@ use wasm_bindgen::JsCast;
 /// Characters of an imported file parsed per slice (keeps the page responsive on 1,000,000 rows).
 const CSV_SLICE: usize = 512 * 1024;
 
-fn label_of(key: &str) -> String {
-    let (name, unit) = if let Some(n) = key.strip_suffix("_v_per_s") {
-        (n, "V/s")
-    } else if let Some(n) = key.strip_suffix("_hz") {
-        (n, "Hz")
-    } else if let Some(n) = key.strip_suffix("_deg") {
-        (n, "°")
-    } else if let Some(n) = key.strip_suffix("_s") {
-        (n, "s")
-    } else if let Some(n) = key.strip_suffix("_v") {
-        (n, "V")
-    } else {
-        (key, "")
-    };
-    let name = name.replace('_', " ");
-    if unit.is_empty() { name } else { format!("{name} ({unit})") }
+/// One numeric field of a signal part: record key, label on screen, unit.
+type PartField = (&'static str, &'static str, &'static str);
+
+/// The numeric fields of a signal part, in the order they are shown, with their labels and units.
+fn part_fields(kind: &str) -> &'static [PartField] {
+    match kind {
+        "dc" => &[("level_v", "Level", "V")],
+        "sine" | "triangle" => &[("amplitude_v", "Amplitude (peak)", "V"), ("frequency_hz", "Frequency", "Hz"), ("phase_deg", "Phase", "°")],
+        "square" => &[
+            ("amplitude_v", "Amplitude (peak)", "V"),
+            ("frequency_hz", "Frequency", "Hz"),
+            ("phase_deg", "Phase", "°"),
+            ("duty", "Duty cycle (0 to 1)", ""),
+            ("rise_time_s", "Edge time", "s"),
+        ],
+        "ramp" => &[("slope_v_per_s", "Slope", "V/s"), ("start_s", "Starts at", "s")],
+        "rc_approach" => &[("step_v", "Step", "V"), ("time_constant_s", "Time constant τ", "s"), ("start_s", "Starts at", "s")],
+        "drift" => &[("rate_v_per_s", "Drift rate", "V/s")],
+        "white" => &[("rms_v", "RMS", "V")],
+        "band_limited" => &[("rms_v", "RMS", "V"), ("corner_hz", "Corner frequency", "Hz")],
+        "hum" => &[("amplitude_v", "Amplitude of the fundamental (peak)", "V"), ("phase_deg", "Phase", "°")],
+        "spikes" => &[("rate_hz", "Mean rate", "Hz"), ("amplitude_v", "Height", "V"), ("decay_s", "Decay time constant", "s")],
+        _ => &[],
+    }
 }
 
-/// Edits a list of serde objects (components or noise sources) generically: every numeric field
-/// becomes a field; the list can grow and shrink. Non-numeric options are edited as JSON below.
+/// A choice of a signal part (record key, label, the options as record value and words).
+type PartChoice = (&'static str, &'static str, &'static [(&'static str, &'static str)]);
+
+/// The choices of a signal part (enumerations in the record), shown as drop-down lists.
+fn part_choices(kind: &str) -> &'static [PartChoice] {
+    match kind {
+        "hum" => &[("mains", "Mains frequency", &[("hz50", "50 Hz"), ("hz60", "60 Hz")])],
+        "spikes" => &[("polarity", "Polarity", &[("random", "either sign"), ("positive", "positive"), ("negative", "negative")])],
+        "band_limited" => &[("poles", "Low-pass stages", &[("1", "1 (RC)"), ("2", "2"), ("3", "3"), ("4", "4")])],
+        _ => &[],
+    }
+}
+
+/// The words on screen for a signal part's kind.
+fn kind_title(kind: &str) -> &'static str {
+    match kind {
+        "dc" => "DC level",
+        "sine" => "Sine",
+        "triangle" => "Triangle",
+        "square" => "Square wave",
+        "ramp" => "Ramp",
+        "rc_approach" => "RC approach",
+        "drift" => "Drift",
+        "white" => "White noise",
+        "band_limited" => "Band-limited noise",
+        "hum" => "Mains hum",
+        "spikes" => "Spikes",
+        _ => "Part",
+    }
+}
+
+/// Writes `value` at `key` of item `i` and reads the list back as `T`s.
+fn with_value<T: serde::de::DeserializeOwned>(all: &[serde_json::Value], i: usize, key: &str, value: serde_json::Value) -> Option<(Vec<serde_json::Value>, Vec<T>)> {
+    let mut all = all.to_vec();
+    all.get_mut(i)?.as_object_mut()?.insert(key.to_string(), value);
+    let typed = serde_json::from_value::<Vec<T>>(serde_json::Value::Array(all.clone())).ok()?;
+    Some((all, typed))
+}
+
+/// Edits a list of signal parts (components or noise sources): each part's numbers as fields with
+/// their units, its choices as drop-down lists. The list is drawn again only when parts are added
+/// or removed (its kinds change), never while a value is typed, so a field keeps its focus and text.
+/// `validate` checks one part at the present sample rate; a value that makes the part invalid is
+/// refused at its field with core's reason.
 fn list_editor<T>(
     prefix: &'static str,
     items: Signal<Vec<serde_json::Value>>,
     write: Callback<Vec<serde_json::Value>>,
-    error: RwSignal<Option<String>>,
-    _marker: std::marker::PhantomData<T>,
+    sample_rate_hz: Signal<f64>,
+    validate: fn(&T, f64) -> Result<(), hysteron_core::error::DesignError>,
 ) -> impl IntoView
 where
-    T: serde::de::DeserializeOwned + 'static,
+    T: serde::de::DeserializeOwned + Send + Sync + 'static,
 {
+    let kinds = Memo::new(move |_| {
+        items.with(|v| v.iter().map(|o| o.get("kind").and_then(|k| k.as_str()).unwrap_or("?").to_string()).collect::<Vec<_>>())
+    });
     view! {
         <ul class="signal-list">
-            {move || items.get().into_iter().enumerate().map(|(i, item)| {
-                let kind = item.get("kind").and_then(|k| k.as_str()).unwrap_or("?").replace('_', " ");
-                let fields: Vec<(String, f64)> = item.as_object().map(|o| o.iter()
-                    .filter_map(|(k, v)| v.as_f64().filter(|_| v.is_number() && k != "poles").map(|x| (k.clone(), x))).collect()).unwrap_or_default();
+            {move || kinds.get().into_iter().enumerate().map(|(i, kind)| {
+                let fields = part_fields(&kind).iter().map(|&(key, label, unit)| {
+                    let value = Signal::derive(move || items.with(|v| v.get(i).and_then(|o| o.get(key)).and_then(|x| x.as_f64())).unwrap_or(f64::NAN));
+                    let on_value = Callback::new(move |v: f64| {
+                        if let Some((all, _)) = with_value::<T>(&items.get_untracked(), i, key, serde_json::json!(v)) {
+                            write.run(all);
+                        }
+                    });
+                    let check = Callback::new(move |v: f64| -> Option<String> {
+                        let (_, typed) = with_value::<T>(&items.get_untracked(), i, key, serde_json::json!(v))?;
+                        let part = typed.get(i)?;
+                        validate(part, sample_rate_hz.get_untracked()).err().and_then(|e| {
+                            let own = matches!(&e, hysteron_core::error::DesignError::InvalidValue { field, .. } if field.ends_with(key));
+                            own.then(|| crate::fields::message_for(&e, key).replace("components.", "").replace("noise.", ""))
+                        })
+                    });
+                    view! { <QuantityField id=format!("{prefix}-{i}-{key}") label=label.to_string() unit value on_value check /> }
+                }).collect_view();
+                let choices = part_choices(&kind).iter().map(|&(key, label, options)| {
+                    let id = format!("{prefix}-{i}-{key}");
+                    let current = move || items.with(|v| v.get(i).and_then(|o| o.get(key)).map(|x| match x {
+                        serde_json::Value::String(s) => s.clone(),
+                        other => other.to_string(),
+                    })).unwrap_or_default();
+                    let change = move |ev: leptos::ev::Event| {
+                        let t = event_target_value(&ev);
+                        let value = t.parse::<u64>().map(serde_json::Value::from).unwrap_or(serde_json::Value::String(t));
+                        if let Some((all, _)) = with_value::<T>(&items.get_untracked(), i, key, value) {
+                            write.run(all);
+                        }
+                    };
+                    view! {
+                        <div class="field">
+                            <label for=id.clone()>{label}</label>
+                            <select id=id prop:value=current on:change=change>
+                                {options.iter().map(|&(v, words)| view! { <option value=v>{words}</option> }).collect_view()}
+                            </select>
+                        </div>
+                    }
+                }).collect_view();
                 view! {
                     <li class="signal-item">
-                        <strong>{kind}</strong>
-                        {fields.into_iter().map(|(key, _)| {
-                            let k2 = key.clone();
-                            let value = Signal::derive(move || items.get().get(i).and_then(|o| o.get(&k2)).and_then(|v| v.as_f64()).unwrap_or(f64::NAN));
-                            let k3 = key.clone();
-                            let on_value = Callback::new(move |v: f64| {
-                                let mut all = items.get_untracked();
-                                if let Some(o) = all.get_mut(i).and_then(|o| o.as_object_mut()) {
-                                    o.insert(k3.clone(), serde_json::json!(v));
-                                }
-                                match serde_json::from_value::<Vec<T>>(serde_json::Value::Array(all.clone())) {
-                                    Ok(_) => { error.set(None); write.run(all); }
-                                    Err(e) => error.set(Some(e.to_string())),
-                                }
-                            });
-                            view! { <QuantityField id=format!("{prefix}-{i}-{key}") label=label_of(&key) unit="" value on_value /> }
-                        }).collect_view()}
-                        <button class="quiet small" aria-label="Remove" on:click=move |_| {
+                        <strong>{kind_title(&kind)}</strong>
+                        {fields}
+                        {choices}
+                        <button class="quiet small" aria-label=format!("Remove {}", kind_title(&kind)) on:click=move |_| {
                             let mut all = items.get_untracked();
                             if i < all.len() { all.remove(i); }
                             write.run(all);
@@ -108,9 +184,23 @@ pub fn SignalSection() -> impl IntoView {
     let import_progress = RwSignal::new(None::<f64>);
     let import_generation = RwSignal::new(0u64);
     let run = RwSignal::new(None::<Result<std::sync::Arc<SignalRun>, String>>);
-    let list_error = RwSignal::new(None::<String>);
+    let has_settings = Memo::new(move |_| settings.with(|s| s.is_some()));
+    let sample_rate = Signal::derive(move || settings.with(|s| s.as_ref().map(|s| s.definition.sample_rate_hz)).unwrap_or(f64::NAN));
+    // A sample rate or duration is refused at its field when the signal cannot be built with it.
+    let definition_check = move |key: &'static str, put: fn(&mut SignalDefinition, f64)| {
+        Callback::new(move |v: f64| -> Option<String> {
+            let mut d = settings.get_untracked()?.definition;
+            put(&mut d, v);
+            d.validate().err().and_then(|e| {
+                let own = matches!(&e, hysteron_core::error::DesignError::InvalidValue { field, .. } if field == key);
+                own.then(|| crate::fields::message_for(&e, key))
+            })
+        })
+    };
     let view_window = RwSignal::new((0.0_f64, 0.0_f64));
     let elapsed = RwSignal::new(None::<(usize, f64)>);
+    let progress = RwSignal::new(None::<crate::jobs::JobStatus>);
+    let job = StoredValue::new_local(None::<crate::jobs::JobHandle>);
     let components = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.components)).unwrap_or_default());
     let noise = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.noise)).unwrap_or_default());
     let write_components = Callback::new(move |v: Vec<serde_json::Value>| {
@@ -135,19 +225,51 @@ pub fn SignalSection() -> impl IntoView {
             run.set(Some(Err("import the capture file again: captures are not stored with the design".into())));
             return;
         }
-        let t0 = crate::tick::now_ms();
-        let result = TriggerDesign::from_circuit(&record.circuit)
-            .and_then(|d| run_signal(&s, &d, cap.as_deref()))
-            .map(std::sync::Arc::new)
-            .map_err(|e| e.to_string());
-        if let Ok(r) = &result {
-            let n = r.signal_v.len();
-            let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
-            view_window.set((a, b));
-            elapsed.set(Some((n, crate::tick::now_ms() - t0)));
+        let design = match TriggerDesign::from_circuit(&record.circuit) {
+            Ok(d) => d,
+            Err(e) => return run.set(Some(Err(e.to_string()))),
+        };
+        // The study runs on the compute workers (`crate::jobs`), its sweep spread over them.
+        if let Some(h) = job.try_update_value(|j| j.take()).flatten() {
+            h.cancel();
         }
-        run.set(Some(result));
+        let t0 = crate::tick::now_ms();
+        let signal_job = Job::Signal {
+            design,
+            settings: s,
+            capture: cap.as_deref().cloned(),
+            display_points: DEFAULT_DISPLAY_POINTS,
+        };
+        let handle = crate::jobs::start(
+            signal_job,
+            move |status| progress.set(Some(status)),
+            move |out| {
+                progress.set(None);
+                job.set_value(None);
+                let result = match out {
+                    Ok(JobOutput::Signal(v)) => Ok(std::sync::Arc::new(v.into_run())),
+                    Ok(_) => Err("the worker returned another study's result".to_string()),
+                    Err(e) => Err(e),
+                };
+                if let Ok(r) = &result {
+                    let n = r.signal_v.len();
+                    let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
+                    view_window.set((a, b));
+                    elapsed.set(Some((r.report.samples, crate::tick::now_ms() - t0)));
+                }
+                run.set(Some(result));
+            },
+        );
+        if !handle.is_finished() {
+            job.set_value(Some(handle));
+        }
     };
+    let cancel = Callback::new(move |_| {
+        if let Some(h) = job.try_update_value(|j| j.take()).flatten() {
+            h.cancel();
+        }
+        progress.set(None);
+    });
     let sweep = move |_| {
         edit("", Box::new(|s| if s.sweep.is_none() { s.sweep = Some(SweepSettings::default()) }));
         simulate();
@@ -174,7 +296,6 @@ pub fn SignalSection() -> impl IntoView {
         }
     };
     let canvas: NodeRef<Canvas> = NodeRef::new();
-    let frame = StoredValue::new(None::<plot::PlotFrame>);
     let hover = RwSignal::new(String::new());
     Effect::new(move |_| {
         let (t0, t1) = view_window.get();
@@ -189,18 +310,15 @@ pub fn SignalSection() -> impl IntoView {
             downsample_min_max(times, &r.design_output_v, t0, t1, buckets, &mut out_d);
             downsample_min_max(times, &r.baseline_output_v, t0, t1, buckets, &mut out_b);
             let t = r.report.design.thresholds;
-            let (lo, hi) = input.min_v.iter().zip(&input.max_v).fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), (x, y)| (a.min(*x), b.max(*y)));
-            let span = (hi - lo).max(1e-3);
-            let swing = (r.design_output_v.iter().cloned().fold(f64::NEG_INFINITY, f64::max) - r.design_output_v.iter().cloned().fold(f64::INFINITY, f64::min)).max(1e-6);
-            let scale = 0.35 * span / swing;
-            let traces = [
-                Trace { envelope: &input, colour: colours::INK, offset_v: 0.0, scale: 1.0 },
-                Trace { envelope: &out_d, colour: colours::RISING, offset_v: lo - 0.45 * span, scale },
-                Trace { envelope: &out_b, colour: colours::FALLING, offset_v: lo - 0.9 * span, scale },
+            // The input on its volts axis; each output in a lane of its own below it.
+            let input = Trace { envelope: &input, colour: colours::INK, label: "input" };
+            let outputs = [
+                Trace { envelope: &out_d, colour: colours::RISING, label: "this design" },
+                Trace { envelope: &out_b, colour: colours::FALLING, label: "plain comparator" },
             ];
             let marks: Vec<_> = r.baseline_edges.iter().map(|e| (e.mid_s, colours::FALLING))
                 .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING))).collect();
-            frame.set_value(plot::draw_time(&c, t0, t1, &traces, (t.vt_upper_v, t.vt_lower_v), &marks).ok());
+            let _ = plot::draw_time(&c, t0, t1, input, &outputs, (t.vt_upper_v, t.vt_lower_v), &marks);
         });
     });
     let zoom = move |factor: f64| {
@@ -229,18 +347,24 @@ pub fn SignalSection() -> impl IntoView {
                 <p class="note">"Describe the signal the circuit will see, or import a capture, and see how many false edges the design gives compared with a plain comparator."</p>
                 <button id="signal-add" on:click=move |_| edit("", Box::new(|_| {}))>"Describe a signal"</button>
             })}
-            {move || settings.get().map(|s| view! {
+            <Show when=move || has_settings.get()>
                 <div class="row">
                     <QuantityField id="sig-rate".to_string() label="Sample rate".to_string() unit="Hz" value=Signal::derive(move || settings.get().map(|s| s.definition.sample_rate_hz).unwrap_or(f64::NAN))
+                        check=definition_check("sample_rate_hz", |d, v| d.sample_rate_hz = v)
                         on_value=Callback::new(move |v| edit("sig-rate", Box::new(move |s| s.definition.sample_rate_hz = v))) />
                     <QuantityField id="sig-duration".to_string() label="Duration".to_string() unit="s" value=Signal::derive(move || settings.get().map(|s| s.definition.duration_s).unwrap_or(f64::NAN))
+                        check=definition_check("duration_s", |d, v| d.duration_s = v)
                         on_value=Callback::new(move |v| edit("sig-duration", Box::new(move |s| s.definition.duration_s = v))) />
                     <QuantityField id="sig-seed".to_string() label="Noise seed".to_string() unit="" value=Signal::derive(move || settings.get().map(|s| s.definition.seed as f64).unwrap_or(f64::NAN))
-                        on_value=Callback::new(move |v: f64| edit("sig-seed", Box::new(move |s| s.definition.seed = v.abs().round().min(9e15) as u64))) />
-                    <p class="note">{match &s.source { SignalSource::Generated => "Source: built from the parts below".to_string(), SignalSource::ImportedCapture { name } => format!("Source: imported capture “{name}”") }}</p>
+                        check=Callback::new(|v: f64| crate::fields::whole_number(v, 0.0, 9e15))
+                        on_value=Callback::new(move |v: f64| edit("sig-seed", Box::new(move |s| s.definition.seed = v as u64))) />
+                    <p class="note">{move || match settings.get().map(|s| s.source) {
+                        Some(SignalSource::ImportedCapture { name }) => format!("Source: imported capture “{name}”"),
+                        _ => "Source: built from the parts below".to_string(),
+                    }}</p>
                 </div>
                 <h3>"Signal"</h3>
-                {list_editor::<Component>("sig-comp", components, write_components, list_error, std::marker::PhantomData)}
+                {list_editor::<Component>("sig-comp", components, write_components, sample_rate, Component::validate)}
                 <div class="row no-print">
                     <button class="quiet small" id="sig-add-dc" on:click=move |_| add_component(Component::Dc { level_v: 0.0 })>"+ DC"</button>
                     <button class="quiet small" id="sig-add-sine" on:click=move |_| add_component(Component::Sine { amplitude_v: 1.0, frequency_hz: 50.0, phase_deg: 0.0 })>"+ sine"</button>
@@ -251,15 +375,14 @@ pub fn SignalSection() -> impl IntoView {
                     <button class="quiet small" on:click=move |_| add_component(Component::Drift { rate_v_per_s: 0.1 })>"+ drift"</button>
                 </div>
                 <h3>"Noise"</h3>
-                {list_editor::<NoiseSource>("sig-noise", noise, write_noise, list_error, std::marker::PhantomData)}
+                {list_editor::<NoiseSource>("sig-noise", noise, write_noise, sample_rate, NoiseSource::validate)}
                 <div class="row no-print">
                     <button class="quiet small" id="sig-add-white" on:click=move |_| add_noise(NoiseSource::White { rms_v: 0.02 })>"+ white noise"</button>
                     <button class="quiet small" on:click=move |_| add_noise(NoiseSource::BandLimited { rms_v: 0.02, corner_hz: 1000.0, poles: 1 })>"+ band-limited noise"</button>
-                    <button class="quiet small" on:click=move |_| add_noise(serde_json::from_value(serde_json::json!({"kind": "hum", "amplitude_v": 0.075})).unwrap_or(NoiseSource::White { rms_v: 0.0 }))>"+ mains hum"</button>
+                    <button class="quiet small" id="sig-add-hum" on:click=move |_| add_noise(NoiseSource::Hum { mains: Default::default(), amplitude_v: 0.075, phase_deg: 0.0, harmonics: Vec::new() })>"+ mains hum"</button>
                     <button class="quiet small" on:click=move |_| add_noise(NoiseSource::Spikes { rate_hz: 5.0, amplitude_v: 0.5, decay_s: 1e-4, polarity: Default::default() })>"+ spikes"</button>
                 </div>
-                {move || list_error.get().map(|e| view! { <p class="error">{e}</p> })}
-            })}
+            </Show>
             <div class="row no-print">
                 <div class="field">
                     <label for="csv-file">"…or import a capture (CSV of time and voltage)"</label>
@@ -282,6 +405,7 @@ pub fn SignalSection() -> impl IntoView {
                 <div class="row no-print">
                     <button id="signal-run" on:click=move |_| simulate()>"Run the signal test"</button>
                     <button id="signal-sweep" class="quiet" on:click=sweep>"Sweep the noise level"</button>
+                    <super::progress::JobProgress id="signal" status=progress.into() on_cancel=cancel />
                 </div>
             })}
             {move || run.get().map(|r| match r {
@@ -336,10 +460,10 @@ pub fn SignalSection() -> impl IntoView {
                     <button class="quiet small" on:click=full>"Whole record"</button>
                     <span class="note" id="time-window">{move || { let (a, b) = view_window.get(); format!("{:.6} s … {:.6} s", a, b) }}</span>
                 </div>
-                <canvas id="time-plot" node_ref=canvas role="img" aria-label="Signal with the thresholds, the design's output (blue) and the plain comparator's output (orange); triangles mark output edges"
+                <canvas id="time-plot" node_ref=canvas role="img" aria-label="Signal with the thresholds on top; below it, each in its own lane, the design's output and the plain comparator's output; triangles mark output edges"
                     on:wheel=move |ev| { ev.prevent_default(); zoom(if ev.delta_y() > 0.0 { 1.25 } else { 0.8 }); }
                     on:mousemove=move |ev: leptos::ev::MouseEvent| {
-                        let v = frame.get_value().and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
+                        let v = canvas.get_untracked().and_then(|c| plot::current_frame(&c)).and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
                         hover.set(v.map(|(t, y)| format!("t = {t:.6} s, {y:.3} V")).unwrap_or_default());
                     }
                     on:mouseleave=move |_| hover.set(String::new())></canvas>

@@ -1,5 +1,5 @@
 //! Tolerance: worst case, GUM and the error budget live as the design changes; Monte Carlo on
-//! request, in slices with a progress bar and a cancel button, with histograms and the yield
+//! request, on the compute workers (`crate::jobs`) with a progress bar and a cancel button, with histograms and the yield
 //! against the spec window. All numbers come from `core::tolerance`.
 //!
 //! The Monte Carlo result is kept with the design (`Notebook::keep_study`), so it survives a
@@ -10,81 +10,26 @@ use super::state::{study_inputs, Notebook, Study};
 use crate::storage::Kept;
 use crate::fields::{OptionalQuantityField, QuantityField};
 use crate::plot;
-use crate::tick::later;
 use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
-use hysteron_core::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use hysteron_core::error::DesignError;
+use hysteron_core::tolerance::settings::MAX_TRIALS;
 use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
-use hysteron_core::topology::Topology;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
-/// Trials per slice: one slice takes about 5 ms in the browser, short enough to keep the page responsive.
-const SLICE: u64 = 20_000;
-
-struct Job {
-    run: MonteCarloRun<Topology>,
-    partial: MonteCarloPartial,
-    generation: u64,
-    /// The design the run belongs to, and the inputs it started from.
-    id: String,
-    inputs: String,
-}
-
 #[derive(Clone, Copy)]
 struct McState {
-    job: StoredValue<Option<Job>>,
-    generation: RwSignal<u64>,
-    progress: RwSignal<Option<f64>>,
+    /// The running job (Monte Carlo on the compute workers, see `crate::jobs`).
+    job: StoredValue<Option<crate::jobs::JobHandle>, leptos::prelude::LocalStorage>,
+    progress: RwSignal<Option<crate::jobs::JobStatus>>,
     error: RwSignal<Option<String>>,
-    started_ms: RwSignal<f64>,
 }
 
-type Finished = (Result<MonteCarloResult, String>, String, String);
-
-fn step(st: McState, nb: Notebook, generation: u64) {
-    // The section may be gone (another design opened): then the run simply stops.
-    if st.generation.try_get_untracked() != Some(generation) {
-        return;
+fn stop(st: McState) {
+    if let Some(h) = st.job.try_update_value(|j| j.take()).flatten() {
+        h.cancel();
     }
-    let outcome = st.job.try_update_value(|job| {
-        let job = job.as_mut()?;
-        if job.generation != generation {
-            return None;
-        }
-        let total = job.run.trials();
-        let start = job.partial.end;
-        let end = (start + SLICE).min(total);
-        let res = job.run.run(start, end).and_then(|next| job.partial.merge(next));
-        Some(match res {
-            Err(e) => Err(e.to_string()),
-            Ok(()) if job.partial.end >= total => {
-                let done = job.run.finish(&job.partial).map_err(|e| e.to_string());
-                Ok(Some((done, job.id.clone(), job.inputs.clone())))
-            }
-            Ok(()) => Ok(None),
-        }
-        .map(|done: Option<Finished>| (done, job.partial.end as f64 / total.max(1) as f64)))
-    });
-    match outcome.flatten() {
-        None => {}
-        Some(Err(e)) => {
-            st.error.set(Some(e));
-            st.progress.set(None);
-        }
-        Some(Ok((Some((done, id, inputs)), _))) => {
-            let elapsed_ms = crate::tick::now_ms() - st.started_ms.get_untracked();
-            st.progress.set(None);
-            st.job.set_value(None);
-            match done {
-                Ok(result) => nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result, elapsed_ms })),
-                Err(e) => st.error.set(Some(e)),
-            }
-        }
-        Some(Ok((None, p))) => {
-            st.progress.set(Some(p));
-            later(move || step(st, nb, generation));
-        }
-    }
+    st.progress.set(None);
 }
 
 fn mv(v: f64) -> String {
@@ -120,52 +65,73 @@ pub fn ToleranceSection() -> impl IntoView {
         .unwrap_or_else(|| Err("no design open".into()))
     });
     let st = McState {
-        job: StoredValue::new(None),
-        generation: RwSignal::new(0),
+        job: StoredValue::new_local(None),
         progress: RwSignal::new(None),
         error: RwSignal::new(None),
-        started_ms: RwSignal::new(0.0),
     };
     // The run kept with the open design, and whether the design still gives its inputs.
     let kept = Memo::new(move |_| nb.study(Study::MonteCarlo, |s| &s.monte_carlo));
     let start = move |_| {
         let Some(id) = nb.current.get_untracked() else { return };
         let Some((circuit, inputs)) = nb.with_current_untracked(|r| (r.circuit.clone(), study_inputs(Study::MonteCarlo, r))) else { return };
-        let s = settings.get_untracked();
+        stop(st);
         st.error.set(None);
-        match MonteCarloRun::new(&circuit, &s) {
-            Err(e) => st.error.set(Some(e.to_string())),
-            Ok(run) => {
-                st.generation.update(|g| *g += 1);
-                let generation = st.generation.get_untracked();
-                let partial = MonteCarloPartial {
-                    start: 0,
-                    end: 0,
-                    vt_upper_v: Vec::new(),
-                    vt_lower_v: Vec::new(),
-                    rejected_trials: 0,
-                    inside_spec: 0,
-                    spec_violations: [0; 8],
-                };
-                st.job.set_value(Some(Job { run, partial, generation, id, inputs }));
-                st.progress.set(Some(0.0));
-                st.started_ms.set(crate::tick::now_ms());
-                later(move || step(st, nb, generation));
-            }
+        let job = hysteron_core::jobs::Job::MonteCarlo { circuit, settings: settings.get_untracked(), trials: None };
+        let t0 = crate::tick::now_ms();
+        // The result is kept with the design the run started on, even if another one is open now.
+        let handle = crate::jobs::start(
+            job,
+            move |status| st.progress.set(Some(status)),
+            move |out| {
+                let elapsed_ms = crate::tick::now_ms() - t0;
+                st.job.set_value(None);
+                st.progress.set(None);
+                match out {
+                    Ok(hysteron_core::jobs::JobOutput::MonteCarlo(result)) => {
+                        nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result, elapsed_ms }))
+                    }
+                    Ok(_) => st.error.set(Some("the worker returned another study's result".into())),
+                    Err(e) => st.error.set(Some(e)),
+                }
+            },
+        );
+        if !handle.is_finished() {
+            st.job.set_value(Some(handle));
         }
     };
-    let cancel = move |_| {
-        st.generation.update(|g| *g += 1);
-        st.job.set_value(None);
-        st.progress.set(None);
+    let cancel = Callback::new(move |_| stop(st));
+    // A settings field refuses a value that makes the settings invalid, with core's reason, when the
+    // reason is about one of `own` (the record names of what this field edits).
+    let settings_check = move |own: &'static [&'static str], put: fn(&mut ToleranceSettings, f64)| {
+        Callback::new(move |v: f64| -> Option<String> {
+            let mut candidate = settings.get_untracked();
+            put(&mut candidate, v);
+            candidate.validate().err().and_then(|e| match &e {
+                DesignError::InvalidValue { field, reason } if own.iter().any(|k| field.ends_with(k)) => Some(reason.clone()),
+                _ => None,
+            })
+        })
     };
-    let pct = move |id: &'static str, label: &'static str, get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
+    let setting = move |id: &'static str, label: &'static str, unit: &'static str, own: &'static [&'static str],
+                        get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
         let value = Signal::derive(move || get(&settings.get()));
-        view! { <QuantityField id=id.to_string() label=label.to_string() unit="%" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
+        view! { <QuantityField id=id.to_string() label=label.to_string() unit value check=settings_check(own, put)
+            on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
     };
-    let spec = move |id: &'static str, label: &'static str, get: fn(&SpecWindow) -> Option<f64>, put: fn(&mut SpecWindow, Option<f64>)| {
+    let pct = move |id: &'static str, label: &'static str, own: &'static [&'static str], get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
+        setting(id, label, "%", own, get, put)
+    };
+    // A spec bound is refused when it would cross its partner ("VT+ at least" above "VT+ at most").
+    let spec = move |id: &'static str, label: &'static str, partner: &'static str, is_min: bool,
+                     get: fn(&SpecWindow) -> Option<f64>, put: fn(&mut SpecWindow, Option<f64>), other: fn(&SpecWindow) -> Option<f64>| {
         let value = Signal::derive(move || get(&settings.get().spec));
-        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
+        let check = Callback::new(move |v: f64| -> Option<String> {
+            let o = other(&settings.get_untracked().spec)?;
+            let crossed = if is_min { v > o } else { v < o };
+            crossed.then(|| format!("must not be {} {partner} ({})", if is_min { "above" } else { "below" }, volts(o)))
+        });
+        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value check
+            on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
     };
     let hist_canvases: [NodeRef<Canvas>; 3] = [NodeRef::new(), NodeRef::new(), NodeRef::new()];
     Effect::new(move |_| {
@@ -199,28 +165,22 @@ pub fn ToleranceSection() -> impl IntoView {
                         <option value="normal">"normal, tolerance at 3 σ"</option>
                     </select>
                 </div>
-                {pct("tol-resistor", "Resistor tolerance", |s| s.resistor_tolerance_pct, |s, v| s.resistor_tolerance_pct = v)}
-                {pct("tol-supply", "Supply tolerance", |s| s.supply_tolerance_pct, |s, v| s.supply_tolerance_pct = v)}
-                {pct("tol-reference", "Reference tolerance", |s| s.reference_tolerance_pct, |s, v| s.reference_tolerance_pct = v)}
-                {pct("tol-threshold", "Gate/transistor threshold tolerance", |s| s.device_threshold_tolerance_pct, |s, v| s.device_threshold_tolerance_pct = v)}
-                <QuantityField id="tol-tempco".to_string() label="Resistor tempco".to_string() unit="ppm/K"
-                    value=Signal::derive(move || settings.get().resistor_tempco_ppm_per_k)
-                    on_value=Callback::new(move |v| edit("tol-tempco", Box::new(move |s| s.resistor_tempco_ppm_per_k = v))) />
-                <QuantityField id="tol-temp-min".to_string() label="Temperature from".to_string() unit="°C"
-                    value=Signal::derive(move || settings.get().temperature_min_c)
-                    on_value=Callback::new(move |v| edit("tol-temp-min", Box::new(move |s| s.temperature_min_c = v))) />
-                <QuantityField id="tol-temp-max".to_string() label="Temperature to".to_string() unit="°C"
-                    value=Signal::derive(move || settings.get().temperature_max_c)
-                    on_value=Callback::new(move |v| edit("tol-temp-max", Box::new(move |s| s.temperature_max_c = v))) />
+                {pct("tol-resistor", "Resistor tolerance", &["resistor_tolerance_pct"], |s| s.resistor_tolerance_pct, |s, v| s.resistor_tolerance_pct = v)}
+                {pct("tol-supply", "Supply tolerance", &["supply_tolerance_pct"], |s| s.supply_tolerance_pct, |s, v| s.supply_tolerance_pct = v)}
+                {pct("tol-reference", "Reference tolerance", &["reference_tolerance_pct"], |s| s.reference_tolerance_pct, |s, v| s.reference_tolerance_pct = v)}
+                {pct("tol-threshold", "Gate/transistor threshold tolerance", &["device_threshold_tolerance_pct"], |s| s.device_threshold_tolerance_pct, |s, v| s.device_threshold_tolerance_pct = v)}
+                {setting("tol-tempco", "Resistor tempco", "ppm/K", &["resistor_tempco_ppm_per_k"], |s| s.resistor_tempco_ppm_per_k, |s, v| s.resistor_tempco_ppm_per_k = v)}
+                {setting("tol-temp-min", "Temperature from", "°C", &["temperature_min_c", "temperature_max_c"], |s| s.temperature_min_c, |s, v| s.temperature_min_c = v)}
+                {setting("tol-temp-max", "Temperature to", "°C", &["temperature_min_c", "temperature_max_c"], |s| s.temperature_max_c, |s, v| s.temperature_max_c = v)}
             </div>
             <fieldset class="plain">
                 <legend>"Spec window (the yield counts boards inside it)"</legend>
                 <div class="field-grid">
-                    {spec("spec-vt-upper-min", "VT+ at least", |w| w.vt_upper_min_v, |w, v| w.vt_upper_min_v = v)}
-                    {spec("spec-vt-upper-max", "VT+ at most", |w| w.vt_upper_max_v, |w, v| w.vt_upper_max_v = v)}
-                    {spec("spec-vt-lower-min", "VT− at least", |w| w.vt_lower_min_v, |w, v| w.vt_lower_min_v = v)}
-                    {spec("spec-vt-lower-max", "VT− at most", |w| w.vt_lower_max_v, |w, v| w.vt_lower_max_v = v)}
-                    {spec("spec-hyst-min", "Hysteresis at least", |w| w.hysteresis_min_v, |w, v| w.hysteresis_min_v = v)}
+                    {spec("spec-vt-upper-min", "VT+ at least", "VT+ at most", true, |w| w.vt_upper_min_v, |w, v| w.vt_upper_min_v = v, |w| w.vt_upper_max_v)}
+                    {spec("spec-vt-upper-max", "VT+ at most", "VT+ at least", false, |w| w.vt_upper_max_v, |w, v| w.vt_upper_max_v = v, |w| w.vt_upper_min_v)}
+                    {spec("spec-vt-lower-min", "VT− at least", "VT− at most", true, |w| w.vt_lower_min_v, |w, v| w.vt_lower_min_v = v, |w| w.vt_lower_max_v)}
+                    {spec("spec-vt-lower-max", "VT− at most", "VT− at least", false, |w| w.vt_lower_max_v, |w, v| w.vt_lower_max_v = v, |w| w.vt_lower_min_v)}
+                    {spec("spec-hyst-min", "Hysteresis at least", "hysteresis at most", true, |w| w.hysteresis_min_v, |w, v| w.hysteresis_min_v = v, |w| w.hysteresis_max_v)}
                     <div class="field">
                         <label for="spec-input-type">"24 V input type (IEC 61131-2)"</label>
                         <select id="spec-input-type"
@@ -296,15 +256,14 @@ pub fn ToleranceSection() -> impl IntoView {
             <div class="row">
                 <QuantityField id="mc-trials".to_string() label="Monte Carlo trials".to_string() unit=""
                     value=Signal::derive(move || settings.get().monte_carlo.trials as f64)
-                    on_value=Callback::new(move |v: f64| edit("mc-trials", Box::new(move |s| s.monte_carlo.trials = v.round().clamp(1.0, 1e7) as u64))) />
+                    check=Callback::new(|v: f64| crate::fields::whole_number(v, 2.0, MAX_TRIALS as f64))
+                    on_value=Callback::new(move |v: f64| edit("mc-trials", Box::new(move |s| s.monte_carlo.trials = v as u64))) />
                 <QuantityField id="mc-seed".to_string() label="Seed".to_string() unit=""
                     value=Signal::derive(move || settings.get().monte_carlo.seed as f64)
-                    on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v.abs().round().min(9.0e15) as u64))) />
+                    check=Callback::new(|v: f64| crate::fields::whole_number(v, 0.0, 9.0e15))
+                    on_value=Callback::new(move |v: f64| edit("mc-seed", Box::new(move |s| s.monte_carlo.seed = v as u64))) />
                 <button id="mc-run" on:click=start disabled=move || st.progress.get().is_some()>"Run Monte Carlo"</button>
-                {move || st.progress.get().map(|p| view! {
-                    <progress id="mc-progress" max="1" value=p.to_string()></progress>
-                    <button id="mc-cancel" class="quiet" on:click=cancel>"Cancel"</button>
-                })}
+                <super::progress::JobProgress id="mc" status=st.progress.into() on_cancel=cancel />
             </div>
             {move || st.error.get().map(|e| view! { <p class="error" id="mc-error" role="alert">{e}</p> })}
             {move || kept.get().map(|k| {

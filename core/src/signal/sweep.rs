@@ -142,6 +142,92 @@ pub struct SweepContext<'a> {
     pub window_baseline_s: f64,
 }
 
+/// The sweep prepared level by level: the levels, the unit noise (generated once, so every level
+/// sees the same noise shape) and the Rice terms. [`run_sweep`] runs every level in order; a
+/// caller that wants progress, or wants to spread the levels over several workers, calls
+/// [`SweepRunner::point`] for any subset of levels and [`finish_sweep`] on all the points in
+/// level order: each level's point depends only on its index, so the result is identical.
+pub struct SweepRunner {
+    levels: Vec<f64>,
+    unit_v: Vec<f64>,
+    s1_unit: f64,
+    kept: (f64, f64),
+}
+
+impl SweepRunner {
+    /// Validates the settings and generates the unit noise for a signal of `samples` samples.
+    pub fn new(ctx: &SweepContext<'_>, settings: &SweepSettings, samples: usize) -> Result<Self, DesignError> {
+        let def = ctx.definition;
+        let levels = sweep_levels(settings, ctx.design.thresholds.hysteresis_v())?;
+        let unit = match settings.noise {
+            SweepNoise::White => NoiseSource::White { rms_v: 1.0 },
+            SweepNoise::BandLimited { corner_hz, poles } => NoiseSource::BandLimited { rms_v: 1.0, corner_hz, poles },
+        };
+        unit.validate(def.sample_rate_hz)?;
+        let mut unit_v = vec![0.0; samples];
+        add_noise(&unit, source_seed(def.seed, def.noise.len()), def.step_s(), &mut unit_v);
+        // Gaussian moments per volt of sweep noise, plus the kept sources' own.
+        let (_, s1_unit) = unit.gaussian_moments(def.sample_rate_hz).unwrap_or((1.0, 0.0));
+        let kept = if settings.keep_other_noise {
+            rice::combine_moments(def.noise.iter().filter_map(|s| s.gaussian_moments(def.sample_rate_hz)))
+        } else {
+            (0.0, 0.0)
+        };
+        Ok(SweepRunner { levels, unit_v, s1_unit, kept })
+    }
+
+    /// The RMS levels, volts, ascending.
+    pub fn levels(&self) -> &[f64] {
+        &self.levels
+    }
+
+    /// The point of level `index` (an error when there is no such level). `base_v` is the signal
+    /// the sweep noise is added to; `scratch_v` and `edges` are reused between calls.
+    pub fn point(
+        &self,
+        ctx: &SweepContext<'_>,
+        index: usize,
+        base_v: &[f64],
+        scratch_v: &mut Vec<f64>,
+        edges: &mut Vec<Edge>,
+    ) -> Result<SweepPoint, DesignError> {
+        let Some(&level) = self.levels.get(index) else {
+            return Err(DesignError::invalid("sweep.steps", format!("level {index} is not among the {} levels", self.levels.len())));
+        };
+        let def = ctx.definition;
+        scratch_v.resize(base_v.len(), 0.0);
+        for ((o, b), u) in scratch_v.iter_mut().zip(base_v).zip(&self.unit_v) {
+            *o = b + level * u;
+        }
+        run_trigger(&ctx.design, &ctx.timing, def.time_base().view(), scratch_v, edges);
+        let design = compare_edges(edges, ctx.intended, ctx.window_s);
+        run_trigger(&ctx.baseline, &ctx.timing, def.time_base().view(), scratch_v, edges);
+        let baseline = compare_edges(edges, ctx.intended_baseline, ctx.window_baseline_s);
+        let h = ctx.design.thresholds.hysteresis_v();
+        let (s0, s1) = rice::combine_moments([(level, level * self.s1_unit), self.kept]);
+        let bound: f64 = ctx.intended.iter().map(|e| rice::false_edges_per_edge_bound(h, e.slope_v_per_s, s0, s1)).sum();
+        let expected: f64 =
+            ctx.intended_baseline.iter().map(|e| 2.0 * rice::wrong_way_crossings_no_hysteresis(e.slope_v_per_s, s1)).sum();
+        Ok(SweepPoint {
+            noise_rms_v: level,
+            design,
+            baseline,
+            design_bound_false_edges: if bound.is_finite() { bound } else { f64::MAX },
+            baseline_expected_false_edges: if expected.is_finite() { expected } else { f64::MAX },
+        })
+    }
+}
+
+/// The sweep result from every level's point, in level order: the first level at which the design
+/// (and the comparator) fails.
+pub fn finish_sweep(settings: &SweepSettings, points: Vec<SweepPoint>) -> SweepResult {
+    let per = |c: &EdgeComparison| c.false_edges as f64 / c.intended_edges.max(1) as f64;
+    let limit = settings.fail_above_false_edges_per_edge;
+    let design_fails_at_rms_v = points.iter().find(|p| per(&p.design) > limit).map(|p| p.noise_rms_v);
+    let baseline_fails_at_rms_v = points.iter().find(|p| per(&p.baseline) > limit).map(|p| p.noise_rms_v);
+    SweepResult { points, design_fails_at_rms_v, baseline_fails_at_rms_v }
+}
+
 /// Runs the sweep. `base_v` is the signal the sweep noise is added to (the noise-free sum, or the
 /// signal with its own noise when kept); `scratch` is reused for each level's noisy signal.
 pub fn run_sweep(
@@ -151,55 +237,11 @@ pub fn run_sweep(
     scratch_v: &mut Vec<f64>,
     edges: &mut Vec<Edge>,
 ) -> Result<SweepResult, DesignError> {
-    let def = ctx.definition;
-    let levels = sweep_levels(settings, ctx.design.thresholds.hysteresis_v())?;
-    let unit = match settings.noise {
-        SweepNoise::White => NoiseSource::White { rms_v: 1.0 },
-        SweepNoise::BandLimited { corner_hz, poles } => NoiseSource::BandLimited { rms_v: 1.0, corner_hz, poles },
-    };
-    unit.validate(def.sample_rate_hz)?;
-    let n = base_v.len();
-    let mut unit_v = vec![0.0; n];
-    add_noise(&unit, source_seed(def.seed, def.noise.len()), def.step_s(), &mut unit_v);
-    // Gaussian moments per volt of sweep noise, plus the kept sources' own.
-    let (_, s1_unit) = unit.gaussian_moments(def.sample_rate_hz).unwrap_or((1.0, 0.0));
-    let kept = if settings.keep_other_noise {
-        rice::combine_moments(def.noise.iter().filter_map(|s| s.gaussian_moments(def.sample_rate_hz)))
-    } else {
-        (0.0, 0.0)
-    };
-    let h = ctx.design.thresholds.hysteresis_v();
-    let mut points = Vec::with_capacity(levels.len());
-    let (mut design_fail, mut base_fail) = (None, None);
-    scratch_v.resize(n, 0.0);
-    for level in levels {
-        for ((o, b), u) in scratch_v.iter_mut().zip(base_v).zip(&unit_v) {
-            *o = b + level * u;
-        }
-        run_trigger(&ctx.design, &ctx.timing, def.time_base().view(), scratch_v, edges);
-        let design = compare_edges(edges, ctx.intended, ctx.window_s);
-        run_trigger(&ctx.baseline, &ctx.timing, def.time_base().view(), scratch_v, edges);
-        let baseline = compare_edges(edges, ctx.intended_baseline, ctx.window_baseline_s);
-        let (s0, s1) = rice::combine_moments([(level, level * s1_unit), kept]);
-        let bound: f64 = ctx.intended.iter().map(|e| rice::false_edges_per_edge_bound(h, e.slope_v_per_s, s0, s1)).sum();
-        let expected: f64 =
-            ctx.intended_baseline.iter().map(|e| 2.0 * rice::wrong_way_crossings_no_hysteresis(e.slope_v_per_s, s1)).sum();
-        let per = |c: &EdgeComparison| c.false_edges as f64 / c.intended_edges.max(1) as f64;
-        if design_fail.is_none() && per(&design) > settings.fail_above_false_edges_per_edge {
-            design_fail = Some(level);
-        }
-        if base_fail.is_none() && per(&baseline) > settings.fail_above_false_edges_per_edge {
-            base_fail = Some(level);
-        }
-        points.push(SweepPoint {
-            noise_rms_v: level,
-            design,
-            baseline,
-            design_bound_false_edges: if bound.is_finite() { bound } else { f64::MAX },
-            baseline_expected_false_edges: if expected.is_finite() { expected } else { f64::MAX },
-        });
-    }
-    Ok(SweepResult { points, design_fails_at_rms_v: design_fail, baseline_fails_at_rms_v: base_fail })
+    let runner = SweepRunner::new(ctx, settings, base_v.len())?;
+    let points = (0..runner.levels().len())
+        .map(|i| runner.point(ctx, i, base_v, scratch_v, edges))
+        .collect::<Result<Vec<_>, _>>()?;
+    Ok(finish_sweep(settings, points))
 }
 
 #[cfg(test)]

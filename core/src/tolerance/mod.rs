@@ -6,8 +6,11 @@
 //! - [`worst_case`]: extreme values over every corner, or by the sensitivity-sign method;
 //! - [`gum`]: combined standard uncertainty by the GUM law of propagation (JCGM 100:2008);
 //! - [`monte_carlo`]: JCGM 101:2008 Monte Carlo, seeded, chunkable, with the yield;
+//! - [`bench_window`]: the bench window (parts and device spread at 25 °C and a set supply) beside
+//!   the field window (the worst case over every tolerance);
 //! - [`budget`]: per-source error budget in millivolts for a design review;
-//! - [`input_standard`]: IEC 61131-2 24 V digital-input windows and the conformity check.
+//! - [`input_standard`]: IEC 61131-2 24 V digital-input windows and the conformity check;
+//! - [`temperature`]: VT+ and VT− versus temperature over the operating range, drift in V/K.
 //!
 //! [`tolerance_report`] runs them all. Every method works on the same resolved bands
 //! ([`settings::ParameterBand`]): a centre and a half-width per parameter, plus a rectangular drift
@@ -30,14 +33,17 @@ use crate::error::DesignError;
 use crate::topology::{sensitivities, Circuit};
 use serde::{Deserialize, Serialize};
 
+pub mod bench_window;
 pub mod budget;
 pub mod gum;
 pub mod input_standard;
 pub mod monte_carlo;
 pub mod settings;
 pub mod spec_window;
+pub mod temperature;
 pub mod worst_case;
 
+pub use bench_window::{bench_window, BenchWindow, Windows};
 pub use budget::{error_budget, ErrorBudget};
 pub use gum::{gum, GumReport};
 pub use input_standard::{InputCurrentCheck, InputType, InputTypeCheck};
@@ -47,6 +53,7 @@ pub use monte_carlo::{
 pub use settings::{
     Distribution, ParameterBand, ParameterTolerance, SpecWindow, ToleranceBand, ToleranceSettings,
 };
+pub use temperature::{temperature_sweep, TemperaturePoint, TemperatureSweep};
 pub use worst_case::{worst_case, WorstCase};
 
 /// The four switching figures of a design.
@@ -168,10 +175,20 @@ impl<C: Circuit> Prepared<C> {
         let centre = evaluate(circuit, &centres).map_err(|e| {
             DesignError::inconsistent(format!("the circuit is not valid at the centre of its tolerance bands ({e}): check the bands"))
         })?;
-        let centred = circuit.with_parameters(&centres)?;
+        let tracks = settings::tracking_mask(&params, settings);
+        let centred = circuit.with_parameters(&settings::circuit_values(&params, &centres, &tracks))?;
         let sens = sensitivities(&centred)?;
-        let d_upper: Vec<f64> = sens.iter().map(|s| s.1).collect();
-        let d_lower: Vec<f64> = sens.iter().map(|s| s.2).collect();
+        let mut d_upper: Vec<f64> = sens.iter().map(|s| s.1).collect();
+        let mut d_lower: Vec<f64> = sens.iter().map(|s| s.2).collect();
+        if settings::has_common_drift(&bands) {
+            // ∂VT/∂ε for Ri → Ri·(1 + ε): Σ ∂VT/∂Ri · Ri over the tracking resistors.
+            let chain = |d: &[f64]| -> f64 {
+                d.iter().zip(&sens).zip(&tracks).filter(|(_, t)| **t).map(|((d, s), _)| d * s.0.value).sum()
+            };
+            let (u, l) = (chain(&d_upper), chain(&d_lower));
+            d_upper.push(u);
+            d_lower.push(l);
+        }
         if d_upper.iter().chain(&d_lower).any(|d| !d.is_finite()) {
             return Err(DesignError::NotConverged {
                 reason: "a threshold sensitivity is not finite at the band centres".into(),
@@ -212,9 +229,13 @@ fn checked_thresholds<C: Circuit>(c: &C) -> Result<Thresholds, DesignError> {
     }
 }
 
-/// Figures of the circuit with its parameters replaced by `values` (validated first).
+/// Figures of the circuit with its parameters replaced by `values` (validated first). `values`
+/// follow the bands: one more value than the circuit has parameters is the common drift of a
+/// tracking resistor network ([`settings::COMMON_RESISTOR_DRIFT_ID`]), applied to every resistor.
 pub(crate) fn evaluate<C: Circuit>(circuit: &C, values: &[f64]) -> Result<Figures, DesignError> {
-    let c = circuit.with_parameters(values)?;
+    let params = circuit.parameters();
+    let tracks: Vec<bool> = params.iter().map(|p| p.kind == crate::topology::ParameterKind::Resistor).collect();
+    let c = circuit.with_parameters(&settings::circuit_values(&params, values, &tracks))?;
     c.validate()?;
     Ok(Figures::from_thresholds(checked_thresholds(&c)?))
 }
@@ -294,6 +315,9 @@ pub fn tolerance_report<C: Circuit>(
                 ));
             }
         }
+    }
+    if wc.non_monotone {
+        notes.push("a threshold is not monotonic in some parameter, so the corners alone are no bound: the worst case comes from a search inside the bands, starting at the corners".into());
     }
     if mc.rejected_trials > 0 {
         notes.push(format!(

@@ -11,14 +11,27 @@
 //! - offset voltage ±|VOS| centred on zero, with |VOS| the `offset_v` setting, else the entered
 //!   value, else 5 mV: the sign of a part's offset is unknown, so the entered value is read as the
 //!   datasheet magnitude;
-//! - bias current ±|IB| centred on zero, with |IB| the entered value;
+//! - bias current from zero to the entered value, keeping its sign: a datasheet states the
+//!   direction of the bias current (into the pins for NPN and most CMOS inputs, out of them for PNP
+//!   inputs), so only its magnitude is uncertain, and the entered value is read as the maximum;
+//! - built-in hysteresis of a comparator ±10 % like any device threshold (or its datasheet limits);
 //! - any parameter with datasheet `limits` uses exactly those limits;
 //! - other device properties are not varied unless an override says so.
 //!
 //! Temperature drift of resistors and references is a separate rectangular input of half-width
 //! |centre| · TC · ΔT_max, with ΔT_max the largest distance of the temperature range from 25 °C.
-//! This treats the sign of each part's temperature coefficient as unknown and the parts as
-//! independent (matched networks whose drift cancels are not modelled).
+//! This treats the sign of each part's temperature coefficient as unknown. Resistors are
+//! independent unless [`ToleranceSettings::resistor_tracking_ppm_per_k`] says they sit in one
+//! network or array: then every resistor's coefficient is a common part c (|c| ≤ TCR, one input
+//! shared by all resistors, [`COMMON_RESISTOR_DRIFT_ID`]) plus its own part (|δ| ≤ tracking/2), so
+//! two resistors' coefficients differ by at most the tracking figure and a ratio drifts by at most
+//! tracking × ΔT.
+//!
+//! Device quantities carry their own drift ([`crate::topology::Drift`]: offset drift of unknown
+//! sign, bias current compounded with known sign, a gate threshold's coefficient of known sign).
+//! Over the temperature range the drift spans an interval [lo, hi] of changes; the parameter's
+//! band becomes its tolerance band plus a rectangular drift input over that interval (the centre
+//! moves to the interval's middle when the drift has a known sign).
 
 use crate::error::{finite, non_negative, DesignError};
 use crate::limits::{check as limit, Quantity};
@@ -31,6 +44,11 @@ pub const REFERENCE_TEMPERATURE_C: f64 = 25.0;
 /// Offset magnitude used when neither the settings nor the device give one, volts
 /// (common practice: a general-purpose comparator's 25 °C maximum is a few millivolts).
 pub const DEFAULT_OFFSET_V: f64 = 0.005;
+
+/// Identifier of the extra input shared by all resistors of a tracking network: the common
+/// relative change c·ΔT of every resistor (only present when tracking is set and the temperature
+/// range leaves 25 °C).
+pub const COMMON_RESISTOR_DRIFT_ID: &str = "resistor_common_drift";
 
 /// Largest Monte Carlo trial count accepted (bounds memory: 16 bytes a trial).
 pub const MAX_TRIALS: u64 = 1_000_000;
@@ -56,7 +74,8 @@ pub enum ToleranceBand {
     /// ± this many percent of the entered value, centred on it.
     Percent(f64),
     /// ± this many base units (volts, amperes, ohms). Centred on the entered value, except for
-    /// offset voltage and bias current, whose absolute band is centred on zero (sign unknown).
+    /// offset voltage, whose absolute band is centred on zero (sign unknown); output levels and
+    /// bias currents stop at zero (they keep their sign).
     Absolute(f64),
     /// Datasheet minimum and maximum, base units.
     Limits([f64; 2]),
@@ -125,6 +144,11 @@ pub struct ToleranceSettings {
     pub resistor_tempco_ppm_per_k: f64,
     /// Reference temperature coefficient, ppm/K.
     pub reference_tempco_ppm_per_k: f64,
+    /// When set, the resistors sit in one network or array and track each other: their
+    /// temperature coefficients differ by at most this many ppm/K, while all of them together may
+    /// drift by [`ToleranceSettings::resistor_tempco_ppm_per_k`] (common practice: thin-film
+    /// networks track to 2–10 ppm/K). `None`: every resistor drifts on its own.
+    pub resistor_tracking_ppm_per_k: Option<f64>,
     /// Lowest operating temperature, °C.
     pub temperature_min_c: f64,
     /// Highest operating temperature, °C.
@@ -156,6 +180,7 @@ impl Default for ToleranceSettings {
             offset_v: None,
             resistor_tempco_ppm_per_k: 100.0,
             reference_tempco_ppm_per_k: 50.0,
+            resistor_tracking_ppm_per_k: None,
             temperature_min_c: 0.0,
             temperature_max_c: 70.0,
             overrides: Vec::new(),
@@ -185,10 +210,7 @@ pub const MAX_TEMPCO_PPM_PER_K: f64 = 1e5;
 
 fn tempco(field: &str, tc: f64) -> Result<f64, DesignError> {
     non_negative(field, tc)?;
-    if tc > MAX_TEMPCO_PPM_PER_K {
-        return Err(DesignError::invalid(field, format!("must be at most {MAX_TEMPCO_PPM_PER_K} ppm/K (got {tc})")));
-    }
-    Ok(tc)
+    limit(Quantity::Tempco, field, tc)
 }
 
 /// An override's absolute band or limit, in the parameter's base unit: finite and no larger in
@@ -229,6 +251,9 @@ impl ToleranceSettings {
         }
         tempco("tolerance.resistor_tempco_ppm_per_k", self.resistor_tempco_ppm_per_k)?;
         tempco("tolerance.reference_tempco_ppm_per_k", self.reference_tempco_ppm_per_k)?;
+        if let Some(t) = self.resistor_tracking_ppm_per_k {
+            limit(Quantity::Tempco, "tolerance.resistor_tracking_ppm_per_k", t)?;
+        }
         finite("tolerance.temperature_min_c", self.temperature_min_c)?;
         finite("tolerance.temperature_max_c", self.temperature_max_c)?;
         if self.temperature_min_c < -273.15 || self.temperature_max_c > 1000.0 {
@@ -324,7 +349,8 @@ pub struct ParameterBand {
     pub parameter: Parameter,
     /// The band as stated (override, datasheet limits or the kind's default).
     pub band: ToleranceBand,
-    /// Centre of the band, base units (the entered value, or zero for offset and bias current).
+    /// Centre of the band, base units (the entered value, zero for offset, half the entered value
+    /// for bias current; moved by a device drift of known sign).
     pub centre: f64,
     /// Half-width a of the tolerance band, base units.
     pub half_width: f64,
@@ -332,7 +358,8 @@ pub struct ParameterBand {
     pub distribution: Distribution,
     /// Temperature coefficient applied, ppm/K.
     pub tempco_ppm_per_k: f64,
-    /// Half-width of the rectangular drift input |centre|·TC·ΔT_max, base units.
+    /// Half-width of the rectangular drift input, base units: |centre|·TC·ΔT_max for resistors
+    /// and references, half the span of the device drift over the temperature range otherwise.
     pub drift_half_width: f64,
 }
 
@@ -369,7 +396,10 @@ pub fn resolve_bands(
         }
     }
     let excursion_k = settings.max_temperature_excursion_k();
-    params
+    let dt_min = settings.temperature_min_c - REFERENCE_TEMPERATURE_C;
+    let dt_max = settings.temperature_max_c - REFERENCE_TEMPERATURE_C;
+    let tracking = settings.resistor_tracking_ppm_per_k;
+    let mut bands = params
         .iter()
         .map(|p| {
             finite(&p.id, p.value)?;
@@ -380,11 +410,19 @@ pub fn resolve_bands(
                 (None, None) => default_band(p, settings),
             };
             let (centre, half_width) = centre_and_half_width(p, band)?;
-            let tempco = o.and_then(|o| o.tempco_ppm_per_k).unwrap_or(match p.kind {
-                ParameterKind::Resistor => settings.resistor_tempco_ppm_per_k,
+            let own = o.and_then(|o| o.tempco_ppm_per_k);
+            let tempco = own.unwrap_or(match p.kind {
+                ParameterKind::Resistor => tracking.map_or(settings.resistor_tempco_ppm_per_k, |t| 0.5 * t),
                 ParameterKind::Reference => settings.reference_tempco_ppm_per_k,
                 _ => 0.0,
             });
+            // A device drift spans [lo, hi] over the range; the band's centre moves to its middle.
+            let (lo, hi) = p.drift.range(centre, dt_min, dt_max);
+            let centre = centre + 0.5 * (lo + hi);
+            let drift_half_width = centre.abs() * tempco * 1e-6 * excursion_k + 0.5 * (hi - lo);
+            if !(centre.is_finite() && drift_half_width.is_finite()) {
+                return Err(DesignError::invalid(&p.id, "its temperature drift over the range is not finite: check the drift coefficients"));
+            }
             Ok(ParameterBand {
                 parameter: p.clone(),
                 band,
@@ -394,8 +432,63 @@ pub fn resolve_bands(
                     .and_then(|o| o.distribution)
                     .unwrap_or(settings.distribution),
                 tempco_ppm_per_k: tempco,
-                drift_half_width: centre.abs() * tempco * 1e-6 * excursion_k,
+                drift_half_width,
             })
+        })
+        .collect::<Result<Vec<_>, DesignError>>()?;
+    let common = settings.resistor_tempco_ppm_per_k * 1e-6 * excursion_k;
+    let any_tracking_resistor = params.iter().any(|p| {
+        p.kind == ParameterKind::Resistor
+            && settings.overrides.iter().all(|o| o.id != p.id || o.tempco_ppm_per_k.is_none())
+    });
+    if tracking.is_some() && common > 0.0 && any_tracking_resistor {
+        let p = Parameter::device(
+            COMMON_RESISTOR_DRIFT_ID,
+            "common drift of the tracking resistors (relative)",
+            0.0,
+            crate::notation::Unit::Ratio,
+        );
+        bands.push(ParameterBand {
+            parameter: p,
+            band: ToleranceBand::Percent(0.0),
+            centre: 0.0,
+            half_width: 0.0,
+            distribution: settings.distribution,
+            tempco_ppm_per_k: settings.resistor_tempco_ppm_per_k,
+            drift_half_width: common,
+        });
+    }
+    Ok(bands)
+}
+
+/// Whether the bands end with the common drift input of a tracking network.
+pub(crate) fn has_common_drift(bands: &[ParameterBand]) -> bool {
+    bands.last().is_some_and(|b| b.parameter.id == COMMON_RESISTOR_DRIFT_ID)
+}
+
+/// The circuit's parameter values from band values: without a common drift input they are the
+/// same; with one (the last value, a relative change ε), every resistor that tracks is scaled by
+/// 1 + ε and the last value is dropped.
+pub(crate) fn circuit_values(params: &[Parameter], values: &[f64], tracks: &[bool]) -> Vec<f64> {
+    if values.len() == params.len() + 1 {
+        let eps = values[params.len()];
+        values[..params.len()]
+            .iter()
+            .zip(tracks)
+            .map(|(v, t)| if *t { v * (1.0 + eps) } else { *v })
+            .collect()
+    } else {
+        values.to_vec()
+    }
+}
+
+/// Which parameters follow the common drift input: resistors without their own tempco override.
+pub(crate) fn tracking_mask(params: &[Parameter], settings: &ToleranceSettings) -> Vec<bool> {
+    params
+        .iter()
+        .map(|p| {
+            p.kind == ParameterKind::Resistor
+                && settings.overrides.iter().all(|o| o.id != p.id || o.tempco_ppm_per_k.is_none())
         })
         .collect()
 }
@@ -412,7 +505,7 @@ fn default_band(p: &Parameter, s: &ToleranceSettings) -> ToleranceBand {
         } else {
             DEFAULT_OFFSET_V
         })),
-        ParameterKind::BiasCurrent => ToleranceBand::Absolute(p.value.abs()),
+        ParameterKind::BiasCurrent => ToleranceBand::Limits(if p.value >= 0.0 { [0.0, p.value] } else { [p.value, 0.0] }),
         ParameterKind::Device => ToleranceBand::Percent(0.0),
     }
 }
@@ -422,10 +515,11 @@ fn centre_and_half_width(p: &Parameter, band: ToleranceBand) -> Result<(f64, f64
     let (lo, hi) = match band {
         ToleranceBand::Percent(pct) => (v - v.abs() * pct / 100.0, v + v.abs() * pct / 100.0),
         ToleranceBand::Absolute(a) => match p.kind {
-            ParameterKind::Offset | ParameterKind::BiasCurrent => (-a, a),
-            // Output levels are magnitudes measured from a rail: the band stops at zero.
-            ParameterKind::OutputLevel if v >= 0.0 => ((v - a).max(0.0), v + a),
-            ParameterKind::OutputLevel => (v - a, (v + a).min(0.0)),
+            ParameterKind::Offset => (-a, a),
+            // Output levels are magnitudes measured from a rail, and a bias current keeps its
+            // known direction: the band stops at zero.
+            ParameterKind::OutputLevel | ParameterKind::BiasCurrent if v >= 0.0 => ((v - a).max(0.0), v + a),
+            ParameterKind::OutputLevel | ParameterKind::BiasCurrent => (v - a, (v + a).min(0.0)),
             _ => (v - a, v + a),
         },
         ToleranceBand::Limits([lo, hi]) => (lo, hi),
@@ -472,7 +566,8 @@ mod tests {
         assert_eq!((b[2].centre, b[2].half_width), (0.025, 0.025));
         // Offset: entered magnitude, centred on zero.
         assert_eq!((b[3].centre, b[3].half_width), (0.0, 0.002));
-        assert_eq!((b[4].centre, b[4].half_width), (0.0, 1e-7));
+        // Bias current keeps its sign: from zero to the entered −100 nA.
+        assert_eq!((b[4].centre, b[4].half_width), (-5e-8, 5e-8));
         // Datasheet limits win over the percentage.
         assert_eq!((b[5].centre, b[5].half_width), (2.5, 1.0));
         assert!(!b[6].is_varied());

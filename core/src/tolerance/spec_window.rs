@@ -91,21 +91,23 @@ impl SpecWindow {
         }
     }
 
-    /// Checks every stated bound for finiteness and each pair for order.
+    /// Checks every stated bound for finiteness and each pair for order. Errors name each bound as
+    /// the page shows it ("VT+ at least", "VT+ at most"…).
     pub fn validate(&self) -> Result<(), DesignError> {
-        let names = ["vt_upper", "vt_lower", "hysteresis", "centre"];
-        for (name, (lo, hi)) in names.iter().zip(self.bounds()) {
+        let names = [("VT+", "vt_upper"), ("VT−", "vt_lower"), ("hysteresis", "hysteresis"), ("centre", "centre")];
+        for ((name, _), (lo, hi)) in names.iter().zip(self.bounds()) {
+            let (min_name, max_name) = (format!("{name} at least"), format!("{name} at most"));
             if let Some(lo) = lo {
-                crate::limits::check(crate::limits::Quantity::Voltage, &format!("tolerance.spec.{name}_min_v"), lo)?;
+                crate::limits::check(crate::limits::Quantity::Voltage, &min_name, lo)?;
             }
             if let Some(hi) = hi {
-                crate::limits::check(crate::limits::Quantity::Voltage, &format!("tolerance.spec.{name}_max_v"), hi)?;
+                crate::limits::check(crate::limits::Quantity::Voltage, &max_name, hi)?;
             }
             if let (Some(lo), Some(hi)) = (lo, hi) {
                 if lo > hi {
                     return Err(DesignError::invalid(
-                        &format!("tolerance.spec.{name}_min_v"),
-                        format!("the minimum ({lo} V) is above the maximum ({hi} V): swap them"),
+                        &min_name,
+                        format!("{lo} V is above {max_name} ({hi} V): swap them"),
                     ));
                 }
             }

@@ -9,6 +9,14 @@
 //! - **sensitivity sign**: each parameter at the end its sensitivity ∂f/∂x at the band centre points
 //!   to (the centre when ∂f/∂x = 0), two evaluations per figure. Exact under the same monotonicity.
 //!
+//! **Search inside the bands**: a figure that is not monotonic in some parameter (a datasheet level
+//! clamped against a supply-dependent limit, say) can take its extremes inside the box, where no
+//! corner looks. From each extreme the method found, every varied parameter is scanned over its band
+//! in turn (a grid of [`SEARCH_GRID`] intervals, then a golden-section refinement of the best
+//! interval), keeping each improvement, until a sweep over all parameters improves nothing (at most
+//! [`SEARCH_SWEEPS`] sweeps). For a monotonic figure the first sweep finds nothing and the corners
+//! stand; otherwise the report says so ([`WorstCase::non_monotone`]) and gives the search's extremes.
+//!
 //! **Fallback**: with more varied parameters than the corner limit (settings `corner_limit`, at most
 //! 20, default 12 → 4096 evaluations) only the sensitivity-sign method runs; the report says so.
 //! When both run, the report says whether they agree.
@@ -34,6 +42,8 @@ pub enum WorstCaseMethod {
 pub enum Side {
     /// Low end of its band (centre − tolerance − drift).
     Low,
+    /// Somewhere inside its band, neither end nor centre (found by the search inside the bands).
+    Inside,
     /// Centre of its band (the figure does not depend on it).
     Centre,
     /// High end of its band (centre + tolerance + drift).
@@ -56,6 +66,9 @@ pub struct Extreme {
     pub value_v: f64,
     /// Position of every varied parameter, in parameter order.
     pub corner: Vec<CornerSide>,
+    /// Every parameter's value at the extreme, base units, in band order.
+    #[serde(default)]
+    pub values: Vec<f64>,
 }
 
 /// Lowest and highest value of one figure.
@@ -89,7 +102,18 @@ pub struct WorstCase {
     /// sensitivity to some parameter changes sign inside the bands (the centre of a symmetric
     /// design, for one) shows a shortfall. `None` when only the sign method ran.
     pub sign_method_shortfall: Option<Figures>,
+    /// Whether the search inside the bands found a figure beyond every point the method read: the
+    /// response is not monotonic in some parameter, corners alone are no bound, and the extremes
+    /// reported are the search's.
+    #[serde(default)]
+    pub non_monotone: bool,
 }
+
+/// Intervals of the grid each parameter is scanned over in the search inside the bands.
+pub const SEARCH_GRID: usize = 8;
+
+/// Largest number of sweeps over all parameters in the search inside the bands.
+pub const SEARCH_SWEEPS: usize = 6;
 
 impl WorstCase {
     /// The extremes of one figure.
@@ -111,17 +135,18 @@ pub fn worst_case<C: Circuit>(
     from_prepared(&Prepared::new(circuit, settings)?, settings.corner_limit)
 }
 
-/// Worst case by evaluating every corner, whatever the corner limit says (up to 20 varied parameters).
+/// Worst case by evaluating every corner, whatever the corner limit says (up to 20 varied
+/// parameters); corners only, without the search inside the bands.
 pub fn worst_case_corners<C: Circuit>(
     circuit: &C,
     settings: &ToleranceSettings,
 ) -> Result<WorstCase, DesignError> {
     let prep = Prepared::new(circuit, settings)?;
     let (ext, evals) = corners(&prep, super::settings::MAX_CORNER_LIMIT)?;
-    Ok(assemble(&prep, WorstCaseMethod::Corners, ext, evals, None))
+    Ok(assemble(&prep, WorstCaseMethod::Corners, to_values(&prep, &ext), evals, None))
 }
 
-/// Worst case by the sensitivity-sign method alone.
+/// Worst case by the sensitivity-sign method alone (without the search inside the bands).
 pub fn worst_case_sensitivity_sign<C: Circuit>(
     circuit: &C,
     settings: &ToleranceSettings,
@@ -131,7 +156,7 @@ pub fn worst_case_sensitivity_sign<C: Circuit>(
     Ok(assemble(
         &prep,
         WorstCaseMethod::SensitivitySign,
-        ext,
+        to_values(&prep, &ext),
         evals,
         None,
     ))
@@ -147,13 +172,10 @@ pub(crate) fn from_prepared<C: Circuit>(
     let n = prep.varied().len();
     let (sign, sign_evals) = sign_method(prep)?;
     if n > corner_limit {
-        return Ok(assemble(
-            prep,
-            WorstCaseMethod::SensitivitySign,
-            sign,
-            sign_evals,
-            None,
-        ));
+        let (found, evals, moved) = search_inside(prep, to_values(prep, &sign));
+        let mut wc = assemble(prep, WorstCaseMethod::SensitivitySign, found, sign_evals + evals, None);
+        wc.non_monotone = moved;
+        return Ok(wc);
     }
     let (corner, corner_evals) = corners(prep, corner_limit)?;
     let gap = |q: usize| {
@@ -167,13 +189,93 @@ pub(crate) fn from_prepared<C: Circuit>(
         hysteresis_v: gap(2),
         centre_v: gap(3),
     };
-    Ok(assemble(
-        prep,
-        WorstCaseMethod::Corners,
-        corner,
-        corner_evals + sign_evals,
-        Some(shortfall),
-    ))
+    let (found, evals, moved) = search_inside(prep, to_values(prep, &corner));
+    let mut wc = assemble(prep, WorstCaseMethod::Corners, found, corner_evals + sign_evals + evals, Some(shortfall));
+    wc.non_monotone = moved;
+    Ok(wc)
+}
+
+/// Value and parameter values of each figure's min and max: [figure][0 min, 1 max].
+type FoundValues = [[(f64, Vec<f64>); 2]; 4];
+
+fn to_values<C: Circuit>(prep: &Prepared<C>, found: &Found) -> FoundValues {
+    let m = prep.bands.len();
+    found.clone().map(|pair| {
+        pair.map(|(v, sides)| {
+            let mut values = vec![0.0; m];
+            set_sides(prep, &sides, &mut values);
+            (v, values)
+        })
+    })
+}
+
+/// The search inside the bands (module notes) from each extreme in `found`. Returns the improved
+/// extremes, the evaluations made and whether any extreme moved. Points where the circuit is
+/// invalid are skipped: the search only looks for larger excursions among valid circuits.
+fn search_inside<C: Circuit>(prep: &Prepared<C>, mut found: FoundValues) -> (FoundValues, u64, bool) {
+    let varied = prep.varied();
+    let mut evals = 0u64;
+    let mut moved = false;
+    for (q, pair) in found.iter_mut().enumerate() {
+        for (k, (best, x)) in pair.iter_mut().enumerate() {
+            // Maximise g = ±figure.
+            let sign = if k == 1 { 1.0 } else { -1.0 };
+            let mut g_best = sign * *best;
+            let tiny = |g: f64| 1e-12 * g.abs().max(1e-3);
+            let eval = |x: &[f64], evals: &mut u64| -> Option<f64> {
+                *evals += 1;
+                evaluate(&prep.circuit, x).ok().map(|f| sign * f.as_array()[q]).filter(|g| g.is_finite())
+            };
+            for _ in 0..SEARCH_SWEEPS {
+                let mut improved = false;
+                for &i in &varied {
+                    let b = &prep.bands[i];
+                    let (lo, hi) = (b.centre - b.total_half_width(), b.centre + b.total_half_width());
+                    let step = (hi - lo) / SEARCH_GRID as f64;
+                    let keep = x[i];
+                    let mut cand = (g_best, keep);
+                    for j in 0..=SEARCH_GRID {
+                        x[i] = if j == SEARCH_GRID { hi } else { lo + step * j as f64 };
+                        if let Some(g) = eval(x, &mut evals) {
+                            if g > cand.0 + tiny(cand.0) {
+                                cand = (g, x[i]);
+                            }
+                        }
+                    }
+                    if cand.1 != keep {
+                        // Golden-section refinement around the best grid point.
+                        let (mut a, mut c) = ((cand.1 - step).max(lo), (cand.1 + step).min(hi));
+                        let r = 0.5 * (5f64.sqrt() - 1.0);
+                        for _ in 0..24 {
+                            let (p1, p2) = (c - r * (c - a), a + r * (c - a));
+                            x[i] = p1;
+                            let g1 = eval(x, &mut evals).unwrap_or(f64::NEG_INFINITY);
+                            x[i] = p2;
+                            let g2 = eval(x, &mut evals).unwrap_or(f64::NEG_INFINITY);
+                            if g1 > cand.0 {
+                                cand = (g1, p1);
+                            }
+                            if g2 > cand.0 {
+                                cand = (g2, p2);
+                            }
+                            if g1 >= g2 { c = p2 } else { a = p1 }
+                        }
+                        g_best = cand.0;
+                        x[i] = cand.1;
+                        improved = true;
+                        moved = true;
+                    } else {
+                        x[i] = keep;
+                    }
+                }
+                if !improved {
+                    break;
+                }
+            }
+            *best = sign * g_best;
+        }
+    }
+    (found, evals, moved)
 }
 
 fn set_sides<C: Circuit>(prep: &Prepared<C>, sides: &[i8], values: &mut [f64]) {
@@ -286,26 +388,31 @@ fn sign_method<C: Circuit>(prep: &Prepared<C>) -> Result<(Found, u64), DesignErr
 fn assemble<C: Circuit>(
     prep: &Prepared<C>,
     method: WorstCaseMethod,
-    found: Found,
+    found: FoundValues,
     evaluations: u64,
     shortfall: Option<Figures>,
 ) -> WorstCase {
-    let extreme = |(value_v, sides): &(f64, Vec<i8>)| Extreme {
+    let extreme = |(value_v, values): &(f64, Vec<f64>)| Extreme {
         value_v: *value_v,
         corner: prep
             .bands
             .iter()
-            .zip(sides)
+            .zip(values)
             .filter(|(b, _)| b.is_varied())
-            .map(|(b, &s)| CornerSide {
+            .map(|(b, &v)| CornerSide {
                 id: b.parameter.id.clone(),
-                side: match s {
-                    1 => Side::High,
-                    -1 => Side::Low,
-                    _ => Side::Centre,
+                side: if v == b.centre + b.total_half_width() {
+                    Side::High
+                } else if v == b.centre - b.total_half_width() {
+                    Side::Low
+                } else if v == b.centre {
+                    Side::Centre
+                } else {
+                    Side::Inside
                 },
             })
             .collect(),
+        values: values.clone(),
     };
     let ex = |q: usize| Extremes {
         min: extreme(&found[q][0]),
@@ -320,6 +427,7 @@ fn assemble<C: Circuit>(
         hysteresis: ex(2),
         centre: ex(3),
         sign_method_shortfall: shortfall,
+        non_monotone: false,
     }
 }
 
@@ -391,11 +499,30 @@ mod tests {
         };
         let wc = worst_case(&c, &s).unwrap();
         assert_eq!(wc.varied_parameters, 3);
-        assert_eq!(wc.evaluations, 8 + 8);
+        // Corners and sign method, then one search sweep per extreme that finds nothing better
+        // (the figures are monotonic): 8 extremes × 3 parameters × (grid + 1) points.
+        assert_eq!(wc.evaluations, 8 + 8 + 8 * 3 * (SEARCH_GRID as u64 + 1));
+        assert!(!wc.non_monotone);
         let par = |a: f64, b: f64| a * b / (a + b);
         let (ra, rb, rf) = (9.9e3, 10.1e3, 19.8e3);
         let expected = 5.0 * rb / (rb + par(ra, rf));
         assert!((wc.vt_upper.max.value_v - expected).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_clamped_level_is_found_by_the_search_inside_the_bands() {
+        // CMOS buffer Schmitt (DOMAIN §1d): VM is kept inside [VIL, VIH] = [0.3, 0.7]·VDD of the
+        // supply in use, so with VM at its upper limit VT− rises with VDD until 0.7·VDD stops
+        // clamping VM, then falls: its maximum lies inside the supply band, not at a corner.
+        use crate::topology::cmos_buffer::{CmosBufferSchmitt, CmosGate};
+        let c = CmosBufferSchmitt::new(10e3, 47e3, CmosGate { supply_v: 3.3, ..CmosGate::default() });
+        let s = ToleranceSettings { temperature_min_c: 25.0, temperature_max_c: 25.0, ..Default::default() };
+        let corners_only = worst_case_corners(&c, &s).unwrap();
+        let wc = worst_case(&c, &s).unwrap();
+        assert!(wc.non_monotone);
+        assert!(wc.vt_lower.max.value_v > corners_only.vt_lower.max.value_v + 1e-3);
+        // The peak sits where 0.7·VDD meets VM: the supply at its centre here, inside the band.
+        assert!(wc.vt_lower.max.corner.iter().any(|c| matches!(c.side, Side::Inside | Side::Centre)));
     }
 
     #[test]
@@ -407,7 +534,8 @@ mod tests {
         let wc = worst_case(&design(), &s).unwrap();
         assert_eq!(wc.method, WorstCaseMethod::SensitivitySign);
         assert_eq!(wc.sign_method_shortfall, None);
-        assert_eq!(wc.evaluations, 8);
+        assert_eq!(wc.evaluations, 8 + 8 * wc.varied_parameters as u64 * (SEARCH_GRID as u64 + 1));
+        assert!(!wc.non_monotone);
     }
 
     #[test]

@@ -353,12 +353,29 @@ pub(crate) fn device_parameter_count(with_bias_minus: bool) -> usize {
 pub(crate) fn push_device_parameters(d: &Comparator, with_bias_minus: bool, v: &mut Vec<Parameter>) {
     v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
     v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
-    v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
-    v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
+    v.push(offset_parameter(d));
+    v.push(bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
     if with_bias_minus {
-        v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
+        v.push(bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
     }
-    v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
+    v.push(builtin_hysteresis_parameter(d));
+}
+
+/// The offset VOS as a parameter, with the device's offset drift (sign unknown).
+pub(crate) fn offset_parameter(d: &Comparator) -> Parameter {
+    Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset).with_drift(d.offset_drift())
+}
+
+/// A bias current as a parameter, with the device's bias-current temperature dependence.
+pub(crate) fn bias_parameter(id: &str, label: &str, value_a: f64, d: &Comparator) -> Parameter {
+    Parameter::quantity(id, label, value_a, ParameterKind::BiasCurrent).with_drift(d.bias_drift())
+}
+
+/// The device's built-in hysteresis as a parameter. It is a switching property of the part that
+/// varies from part to part, so it takes the device-threshold band (datasheets give it as
+/// min/typ/max; ±10 % by default).
+pub(crate) fn builtin_hysteresis_parameter(d: &Comparator) -> Parameter {
+    Parameter { unit: Unit::Volt, ..Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::DeviceThreshold) }
 }
 
 /// Reads the device quantities back in the order of [`push_device_parameters`].
@@ -446,7 +463,7 @@ macro_rules! comparator_rails {
 
         fn with_supply(&self, supply_v: f64) -> Self {
             let mut c = self.clone();
-            c.device.supply_v = supply_v;
+            c.device = $crate::topology::comparator::device_at_supply(&self.device, supply_v);
             c
         }
 
@@ -475,6 +492,21 @@ macro_rules! comparator_rails {
     };
 }
 pub(crate) use comparator_rails;
+
+/// The device at another positive supply. On split supplies (negative rail below 0 V) the
+/// negative rail moves in proportion, so a −5 % corner of ±12 V is ±11.4 V: both rails of a split
+/// supply come from one regulator pair or one transformer and move together (common practice).
+pub(crate) fn device_at_supply(d: &Comparator, supply_v: f64) -> Comparator {
+    let mut out = *d;
+    out.supply_v = supply_v;
+    if d.negative_rail_v < 0.0 && d.supply_v > 0.0 {
+        let k = supply_v / d.supply_v;
+        if k.is_finite() {
+            out.negative_rail_v = d.negative_rail_v * k;
+        }
+    }
+    out
+}
 
 /// The bench hint on the device's common-mode range (its inputs must stay between `range`).
 pub fn common_mode_hint(range: (f64, f64)) -> String {

@@ -19,7 +19,6 @@ use crate::analysis::{
 use crate::device::{Comparator, Rail};
 use super::comparator::{resistance, verified};
 use crate::error::DesignError;
-use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// An inverting Schmitt trigger with an optional two-resistor reference divider.
@@ -181,10 +180,10 @@ impl Circuit for InvertingSchmitt {
         }
         v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
         v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
-        v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
-        v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis", d.builtin_hysteresis_v, Unit::Volt));
+        v.push(super::comparator::offset_parameter(d));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
+        v.push(super::comparator::bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
+        v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
 

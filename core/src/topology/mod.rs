@@ -23,6 +23,7 @@ pub mod schmitt_gate;
 pub mod bjt_pair;
 pub mod netlisting;
 pub mod comparator;
+pub mod input_rails;
 pub mod logic;
 #[cfg(test)]
 mod toy;
@@ -69,6 +70,65 @@ pub struct Parameter {
     /// tolerance analysis uses these limits instead of a percentage.
     #[serde(default)]
     pub limits: Option<[f64; 2]>,
+    /// How the value moves with temperature from 25 °C (datasheet drift of a device quantity;
+    /// resistors and references take theirs from the tolerance settings instead).
+    #[serde(default)]
+    pub drift: Drift,
+}
+
+/// How a parameter's value moves with temperature T away from the 25 °C reference (ΔT = T − 25 K).
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Drift {
+    /// No temperature dependence is modelled.
+    #[default]
+    None,
+    /// A drift of known sign, base units per kelvin: p(T) = p + d·ΔT (a gate threshold's
+    /// temperature coefficient, say).
+    Known(f64),
+    /// A drift of unknown sign with this magnitude, base units per kelvin: p(T) = p ± |d|·ΔT
+    /// (offset drift TCVOS: datasheets give its magnitude only).
+    Unknown(f64),
+    /// A relative change of known sign compounded per kelvin: p(T) = p·(1 + r)^ΔT, r a fraction
+    /// per kelvin (bias current of CMOS/JFET inputs doubles about every 10 K, r ≈ 0.072; bipolar
+    /// inputs fall slowly, r < 0 — common practice).
+    Compound(f64),
+}
+
+impl Drift {
+    /// The change of a parameter of value `value` at ΔT = `dt_k` from 25 °C; `sign` (±1) picks
+    /// the direction of a drift of unknown sign (ignored by the others).
+    pub fn shift(&self, value: f64, dt_k: f64, sign: f64) -> f64 {
+        match *self {
+            Drift::None => 0.0,
+            Drift::Known(d) => d * dt_k,
+            Drift::Unknown(d) => sign * d.abs() * dt_k,
+            Drift::Compound(r) => value * ((1.0 + r).powf(dt_k) - 1.0),
+        }
+    }
+
+    /// Lowest and highest change over a temperature range given as ΔT from `dt_min_k` to
+    /// `dt_max_k` (both signs for an unknown sign); the change is monotone in ΔT, so the ends decide.
+    pub fn range(&self, value: f64, dt_min_k: f64, dt_max_k: f64) -> (f64, f64) {
+        let ends = [
+            self.shift(value, dt_min_k, 1.0),
+            self.shift(value, dt_max_k, 1.0),
+            self.shift(value, dt_min_k, -1.0),
+            self.shift(value, dt_max_k, -1.0),
+            0.0,
+        ];
+        let lo = ends.iter().copied().fold(f64::INFINITY, f64::min);
+        let hi = ends.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        if self.is_none() || !(lo.is_finite() && hi.is_finite()) { (0.0, 0.0) } else { (lo, hi) }
+    }
+
+    /// Whether no drift is modelled (or its coefficient is zero).
+    pub fn is_none(&self) -> bool {
+        match *self {
+            Drift::None => true,
+            Drift::Known(d) | Drift::Unknown(d) | Drift::Compound(d) => d == 0.0,
+        }
+    }
 }
 
 impl Parameter {
@@ -82,6 +142,7 @@ impl Parameter {
             kind: ParameterKind::Resistor,
             unit: Unit::Ohm,
             limits: None,
+            drift: Drift::None,
         }
     }
 
@@ -99,13 +160,19 @@ impl Parameter {
             | ParameterKind::Offset
             | ParameterKind::DeviceThreshold => Unit::Volt,
         };
-        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None }
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None, drift: Drift::None }
     }
 
     /// A device property ([`ParameterKind::Device`]) with its unit stated (current gain: ratio,
     /// saturation current: ampere, temperature: kelvin, sink resistance: ohm...).
     pub fn device(id: &str, label: &str, value: f64, unit: Unit) -> Self {
         Parameter { unit, ..Parameter::quantity(id, label, value, ParameterKind::Device) }
+    }
+
+    /// The same parameter with its temperature drift attached.
+    pub fn with_drift(mut self, drift: Drift) -> Self {
+        self.drift = drift;
+        self
     }
 
     /// The same parameter with datasheet limits attached.
@@ -183,6 +250,25 @@ pub trait Circuit: Clone {
     /// What to check when the bench readings are off, specific to this topology (the bench
     /// procedure puts the hints common to every circuit first).
     fn troubleshooting(&self, analysis: &Analysis, checks: &CheckSettings) -> Vec<String>;
+
+    /// Upper bounds on the stress of each discrete transistor at this design's supply, for the
+    /// part list's VCEO, IC and power checks (empty when the active device is not discrete).
+    fn transistor_stress(&self) -> Vec<TransistorStress> {
+        Vec::new()
+    }
+}
+
+/// What one discrete transistor must withstand (upper bounds over every operating state).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TransistorStress {
+    /// Designator (Q1, Q2).
+    pub designator: String,
+    /// Largest collector–emitter voltage, volts (the rated VCEO must reach it).
+    pub vce_max_v: f64,
+    /// Largest collector current, amperes.
+    pub collector_current_max_a: f64,
+    /// Largest dissipation VCE·IC, watts.
+    pub dissipation_max_w: f64,
 }
 
 /// What a topology tells the catalog and the page without a design at hand.
@@ -212,10 +298,16 @@ fn dimensionless() -> Unit {
     Unit::Ratio
 }
 
+/// How far a device input may pass its negative rail or its common-mode limit before the
+/// phase-reversal and common-mode warnings speak, volts (10 mV: shifts of microvolts from bias
+/// current or offset are below any datasheet's stated precision; datasheets usually rate inputs to
+/// 0.1–0.3 V beyond the rails — common practice).
+pub const INPUT_RANGE_MARGIN_V: f64 = 0.01;
+
 /// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
 pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Analysis, DesignError> {
     settings.validate()?;
-    circuit.validate()?;
+    circuit.validate().map_err(|e| named_on_screen(e, &circuit.parameters()))?;
     let t = circuit.thresholds()?;
     let (voh, vol) = circuit.output_levels()?;
     let neg = circuit.negative_rail_v();
@@ -281,28 +373,37 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
 
     let mut warnings = circuit.checks(settings);
     let (cm_lo, cm_hi) = circuit.device_input_range();
+    let m = INPUT_RANGE_MARGIN_V;
     for n in &nodes {
-        if n.min_v < neg - 1e-9 {
+        if n.min_v < neg - m {
             warnings.push(Warning::new(
                 WarningCode::PhaseReversal,
                 format!(
-                    "{} goes to {:.3} V, below the negative rail ({:.3} V): many devices invert their output there; clamp the input or shift the thresholds",
-                    n.name, n.min_v, neg
+                    "{} goes to {:.3} V, more than {:.0} mV below the negative rail ({:.3} V): many devices invert their output there; clamp the input or shift the thresholds",
+                    n.name, n.min_v, m * 1e3, neg
                 ),
             ));
-        } else if n.min_v < cm_lo - 1e-9 {
+        } else if n.min_v < cm_lo - m {
             warnings.push(Warning::new(
                 WarningCode::CommonModeRange,
-                format!("{} reaches {:.3} V, below the device's input range ({:.3} V)", n.name, n.min_v, cm_lo),
+                format!(
+                    "{} reaches {:.3} V, more than {:.0} mV below the device's input range ({:.3} V)",
+                    n.name, n.min_v, m * 1e3, cm_lo
+                ),
             ));
         }
-        if n.max_v > cm_hi + 1e-9 {
+        if n.max_v > cm_hi + m {
             warnings.push(Warning::new(
                 WarningCode::CommonModeRange,
-                format!("{} reaches {:.3} V, above the device's input range ({:.3} V)", n.name, n.max_v, cm_hi),
+                format!(
+                    "{} reaches {:.3} V, more than {:.0} mV above the device's input range ({:.3} V)",
+                    n.name, n.max_v, m * 1e3, cm_hi
+                ),
             ));
         }
     }
+
+    warnings.extend(input_rails::rail_warnings(&nodes, circuit.supply_v(), neg));
 
     // A corner that cannot be evaluated (a gate threshold leaving its band at that supply, say)
     // becomes a warning: the nominal analysis still stands.
@@ -357,10 +458,32 @@ pub fn supply_corners<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Resu
         .collect()
 }
 
+/// Names the field of an [`DesignError::InvalidValue`] as the page shows it: a resistor by its
+/// designator (`ra_ohm` → `R1`), any other parameter by its label (`supply_v` → `supply`). Errors
+/// about fields that are no parameter of `parameters` are returned unchanged.
+pub fn named_on_screen(error: DesignError, parameters: &[Parameter]) -> DesignError {
+    match error {
+        DesignError::InvalidValue { field, reason } => {
+            let name = parameters
+                .iter()
+                .find(|p| p.id == field)
+                .map(|p| p.designator.clone().unwrap_or_else(|| p.label.clone()))
+                .unwrap_or(field);
+            DesignError::InvalidValue { field: name, reason }
+        }
+        other => other,
+    }
+}
+
 /// Synthesis with either an anchor resistor or a current budget. A resistive network's currents
 /// scale inversely with its impedance level, so the budget is met by rescaling the anchor and
 /// re-solving (twice, so bias-current terms settle).
+/// Errors name the circuit's fields as the page shows them ([`named_on_screen`]).
 pub fn synthesise<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
+    synthesise_named(circuit, targets).map_err(|e| named_on_screen(e, &circuit.parameters()))
+}
+
+fn synthesise_named<C: Circuit>(circuit: &C, targets: &Targets) -> Result<C, DesignError> {
     targets.validate()?;
     let t = targets.thresholds();
     match targets.impedance {
@@ -534,6 +657,7 @@ macro_rules! topologies {
             fn troubleshooting(&self, analysis: &Analysis, checks: &CheckSettings) -> Vec<String> {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.troubleshooting(analysis, checks), )+ }
             }
+            fn transistor_stress(&self) -> Vec<TransistorStress> { match self { $( $(#[$attr])* Topology::$variant(c) => c.transistor_stress(), )+ } }
         }
 
         #[allow(unused_doc_comments)]

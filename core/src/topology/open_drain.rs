@@ -413,12 +413,12 @@ impl Circuit for OpenDrainSchmitt {
         v.extend(rails);
         v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
         v.push(Parameter::device("sink_resistance_ohm", "output sink resistance", self.sink_resistance_ohm, Unit::Ohm));
-        v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
-        v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
+        v.push(super::comparator::offset_parameter(d));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
         if self.has_bias_minus() {
-            v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
+            v.push(super::comparator::bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
         }
-        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
+        v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
 

@@ -18,7 +18,6 @@ use crate::analysis::{
 };
 use crate::device::Comparator;
 use crate::error::DesignError;
-use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// A comparator with no feedback: signal on one input, a reference on the other.
@@ -120,10 +119,10 @@ impl Circuit for PlainComparator {
         v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
         v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
         self.reference.push_rails(&mut v);
-        v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
-        v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::quantity("bias_minus_a", "bias current IB−", d.bias_minus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
+        v.push(super::comparator::offset_parameter(d));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
+        v.push(super::comparator::bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
+        v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
 

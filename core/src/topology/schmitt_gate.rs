@@ -76,6 +76,11 @@ pub struct SchmittInput {
     pub output_low_v: f64,
     /// Whether the gate inverts (output low while the input is high).
     pub inverting: bool,
+    /// Temperature coefficient of both gate thresholds, volts per kelvin (sign known, 0: none).
+    /// Datasheet rows given over the full temperature range already contain the drift; enter a
+    /// coefficient when the rows are 25 °C figures (read it from the datasheet's VT-versus-
+    /// temperature curve). Both thresholds move together, so ΔVT stays as it is.
+    pub threshold_tempco_v_per_k: f64,
 }
 
 impl Default for SchmittInput {
@@ -89,6 +94,7 @@ impl Default for SchmittInput {
             output_high_drop_v: 0.1,
             output_low_v: 0.1,
             inverting: true,
+            threshold_tempco_v_per_k: 0.0,
         }
     }
 }
@@ -139,6 +145,11 @@ impl SchmittInput {
         self.vt_lower.validate("gate.vt_lower")?;
         non_negative("gate.output_high_drop_v", self.output_high_drop_v)?;
         non_negative("gate.output_low_v", self.output_low_v)?;
+        crate::limits::check(
+            crate::limits::Quantity::VoltageDrift,
+            "gate.threshold_tempco_v_per_k",
+            self.threshold_tempco_v_per_k,
+        )?;
         let (lo, hi) = (self.vt_lower.typ_v, self.vt_upper.typ_v);
         if !(0.0 < lo && lo < hi && hi < self.supply_v) {
             return Err(DesignError::inconsistent(format!(
@@ -315,7 +326,8 @@ impl Circuit for SchmittGate {
         v.push(Parameter::quantity("supply_v", "supply VDD", g.supply_v, ParameterKind::Supply));
         v.push(
             Parameter::quantity("gate_vt_upper_v", "gate VT+ (typical)", g.vt_upper.typ_v, ParameterKind::DeviceThreshold)
-                .with_limits(g.vt_upper.min_v, g.vt_upper.max_v),
+                .with_limits(g.vt_upper.min_v, g.vt_upper.max_v)
+                .with_drift(super::Drift::Known(g.threshold_tempco_v_per_k)),
         );
         let (dvt_min, dvt_max) = g.hysteresis_limits_v();
         v.push(
@@ -346,7 +358,18 @@ impl Circuit for SchmittGate {
         let vt_upper = next();
         let hysteresis = next();
         c.gate.vt_upper.typ_v = vt_upper;
-        c.gate.vt_lower.typ_v = self.gate.lower_for(vt_upper, hysteresis);
+        // A VT+ beyond its datasheet row is a 25 °C device moved by the threshold temperature
+        // coefficient: VT− moves with it by the same amount.
+        let row = &self.gate.vt_upper;
+        let excess = if vt_upper > row.max_v {
+            vt_upper - row.max_v
+        } else if vt_upper < row.min_v {
+            vt_upper - row.min_v
+        } else {
+            0.0
+        };
+        c.gate.vt_lower.typ_v = self.gate.lower_for(vt_upper - excess, hysteresis) + excess;
+        c.gate.vt_lower.max_v = c.gate.vt_lower.max_v.max(c.gate.vt_lower.typ_v);
         // A Normal draw in the tail past a VT+ limit, or a ΔVT min that pushes VT− under its row,
         // is still a real device: widen the rows of the copy rather than reject the trial.
         c.gate.vt_upper.min_v = c.gate.vt_upper.min_v.min(vt_upper);

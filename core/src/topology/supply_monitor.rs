@@ -25,7 +25,6 @@ use crate::analysis::{
 };
 use crate::device::{Comparator, Rail};
 use crate::error::{finite, non_negative, DesignError};
-use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
 /// Extra-low-voltage limit for d.c. used by the safety check: 60 V d.c. (IEC 62368-1 ES1 and the
@@ -281,9 +280,9 @@ impl Circuit for SupplyMonitor {
             v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
         }
         v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
-        v.push(Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset));
-        v.push(Parameter::quantity("bias_plus_a", "bias current IB+", d.bias_plus_a, ParameterKind::BiasCurrent));
-        v.push(Parameter::device("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, Unit::Volt));
+        v.push(super::comparator::offset_parameter(d));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
+        v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
 

@@ -189,7 +189,7 @@ impl crate::netlist::Netlisted for Toy {
 mod tests {
     //! The generic machinery, run on a topology it has never heard of.
     use crate::analysis::{CheckSettings, ImpedanceChoice, Targets};
-    use crate::bench::{bench_procedure, ThresholdBounds};
+    use crate::bench::bench_procedure;
     use crate::bom::{bom, PartSettings};
     use crate::catalog;
     use crate::record::DesignRecord;
@@ -239,7 +239,7 @@ mod tests {
         let b = bom(&r.circuit, &a, &r.checks, &PartSettings::default()).unwrap();
         assert_eq!(b.resistors.len(), 2);
         assert_eq!(b.device.designator, "U1");
-        let p = bench_procedure(&r.circuit, &r.checks, &ThresholdBounds::default()).unwrap();
+        let p = bench_procedure(&r.circuit, &r.checks, &Default::default()).unwrap();
         assert!(p.troubleshooting.iter().any(|t| t.contains("2.000 V")));
         let deck = crate::spice::to_spice(&r.circuit, "toy").unwrap();
         assert!(deck.contains("\nR1 ref p 10k\n") && deck.contains("\nR2 p out 40k\n"), "{deck}");

@@ -110,9 +110,9 @@ impl<'a> Em<'a> {
             c,
             vcc: c.supply_v,
             vt: t.thermal_voltage_v(),
-            is: t.saturation_current_a,
-            bf: t.beta_f,
-            br: t.beta_r,
+            is: t.saturation_current_at_temperature_a(),
+            bf: t.beta_f_at_temperature(),
+            br: t.beta_r_at_temperature(),
             g_load: c.load_ohm.map_or(0.0, |r| 1.0 / r),
         }
     }

@@ -25,7 +25,7 @@
 //! Every iteration is bounded: a solve that does not settle returns [`DesignError::NotConverged`];
 //! a curve without a fold returns [`DesignError::NoSwitching`].
 
-use super::{Described, expect_len, Circuit, CurvePoint, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, CurvePoint, Parameter, ParameterKind, TransistorStress};
 use crate::analysis::{
     Analysis, OutputStage,
     CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
@@ -55,47 +55,264 @@ pub enum BjtModel {
     EbersMoll,
 }
 
-/// The (matched) NPN transistors of the pair.
+/// SPICE's default nominal temperature TNOM, 27 °C, in kelvin: the temperature at which a new
+/// transistor's IS, βF and VBE are entered (SPICE3 manual, from memory).
+pub const SPICE_NOMINAL_TEMPERATURE_K: f64 = 300.15;
+
+/// Silicon's bandgap voltage EG/q for the IS(T) law, volts (SPICE's default EG, a textbook value,
+/// from memory).
+pub const SILICON_BANDGAP_V: f64 = 1.11;
+
+/// Temperature exponent of IS for a bipolar junction (SPICE's default XTI = 3, from memory).
+pub const SILICON_IS_EXPONENT: f64 = 3.0;
+
+/// Temperature exponent of βF (SPICE's XTB; 1.5 is a typical small-signal NPN figure, from memory:
+/// βF rises about 0.5 %/K near room temperature).
+pub const SILICON_BETA_EXPONENT: f64 = 1.5;
+
+/// Spread of βF assumed when the record gives no datasheet limits: βF/√3 to βF·√3, a 3:1 range
+/// (common practice: one general-purpose NPN part number spans about 3:1 in hFE, e.g. 100 to 300).
+pub const DEFAULT_BETA_SPREAD: f64 = 1.732_050_807_568_877_2;
+
+/// Spread of IS assumed when the record gives no limits: IS/2 to 2·IS, VBE ±18 mV at a fixed
+/// current (common practice: unit-to-unit VBE spread of one part number is a few tens of mV).
+pub const DEFAULT_IS_SPREAD: f64 = 2.0;
+
+/// Junction temperature range assumed when the record gives none, kelvin: 0 °C to 70 °C, the
+/// tolerance study's default operating range.
+pub const DEFAULT_TEMPERATURE_LIMITS_K: [f64; 2] = [273.15, 343.15];
+
+/// Zero-bias base–emitter capacitance written into the SPICE deck, farads: a general-purpose
+/// small-signal NPN's 4.5 pF (datasheet class, from memory). The DC thresholds do not depend on it;
+/// it gives a transient run finite slew at the fold.
+pub const EMITTER_CAPACITANCE_F: f64 = 4.5e-12;
+
+/// Zero-bias base–collector capacitance written into the SPICE deck, farads (datasheet class:
+/// Cobo ≈ 4 pF, from memory).
+pub const COLLECTOR_CAPACITANCE_F: f64 = 3.6e-12;
+
+/// Forward transit time written into the SPICE deck, seconds (datasheet class: fT ≈ 300 MHz gives
+/// TF ≈ 1/(2π·fT) ≈ 0.3–0.5 ns, from memory).
+pub const TRANSIT_TIME_S: f64 = 4e-10;
+
+/// The (matched) NPN transistors of the pair, with the temperature laws of SPICE's bipolar model
+/// (SPICE3 manual, from memory): IS(T) = IS0·(T/T0)^XTI·exp[(EG/k)(1/T0 − 1/T)] and
+/// βF(T) = βF0·(T/T0)^XTB (βR scales the same way), with T0 the nominal temperature.
+///
+/// Records written before the temperature laws existed have no `nominal_temperature_k`; they
+/// entered IS, βF and VBE at the junction temperature, so a missing nominal temperature reads as
+/// `temperature_k` and such records give exactly the figures they gave before.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(from = "TransistorRecord")]
 pub struct Transistor {
-    /// Base–emitter voltage of a conducting transistor for the hand model, volts.
+    /// Base–emitter voltage of a conducting transistor for the hand model at the nominal
+    /// temperature, volts; at other temperatures the hand model takes VBE at the same current from
+    /// the IS(T) law ([`Transistor::vbe_at_temperature_v`]).
     pub vbe_v: f64,
-    /// Forward current gain βF.
+    /// Forward current gain βF at the nominal temperature.
     pub beta_f: f64,
-    /// Reverse current gain βR (Ebers–Moll model only).
+    /// Reverse current gain βR at the nominal temperature (Ebers–Moll model only).
     pub beta_r: f64,
-    /// Transport saturation current IS, amperes (Ebers–Moll model only), at `temperature_k`.
+    /// Transport saturation current IS at the nominal temperature, amperes (Ebers–Moll model only).
     pub saturation_current_a: f64,
-    /// Junction temperature, kelvin; sets the thermal voltage VT = kT/q. IS and VBE are not
-    /// rescaled: enter them for the same temperature.
+    /// Junction temperature, kelvin; sets the thermal voltage VT = kT/q, IS(T), βF(T) and VBE(T).
     pub temperature_k: f64,
+    /// Nominal temperature T0 at which IS, βF, βR and VBE are entered, kelvin (SPICE's TNOM;
+    /// default 300.15 K = 27 °C).
+    pub nominal_temperature_k: f64,
+    /// Temperature exponent of IS (SPICE's XTI; 3 for silicon).
+    pub is_temperature_exponent: f64,
+    /// Bandgap voltage EG/q of the IS(T) law, volts (SPICE's EG; 1.11 V for silicon).
+    pub bandgap_v: f64,
+    /// Temperature exponent of βF and βR (SPICE's XTB; 1.5 typical).
+    pub beta_temperature_exponent: f64,
+    /// Datasheet minimum and maximum of βF at the nominal temperature for the tolerance studies
+    /// (`None`: βF/√3 to βF·√3, [`DEFAULT_BETA_SPREAD`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beta_f_limits: Option<[f64; 2]>,
+    /// Minimum and maximum of IS at the nominal temperature for the tolerance studies, amperes
+    /// (`None`: IS/2 to 2·IS, [`DEFAULT_IS_SPREAD`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub saturation_current_limits_a: Option<[f64; 2]>,
+    /// Junction temperature range for the tolerance studies, kelvin
+    /// (`None`: [`DEFAULT_TEMPERATURE_LIMITS_K`], 0 °C to 70 °C).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub temperature_limits_k: Option<[f64; 2]>,
+}
+
+/// The stored form of [`Transistor`]: every field optional, so old records keep loading.
+#[derive(Deserialize)]
+#[serde(default)]
+struct TransistorRecord {
+    vbe_v: f64,
+    beta_f: f64,
+    beta_r: f64,
+    saturation_current_a: f64,
+    temperature_k: f64,
+    nominal_temperature_k: Option<f64>,
+    is_temperature_exponent: f64,
+    bandgap_v: f64,
+    beta_temperature_exponent: f64,
+    beta_f_limits: Option<[f64; 2]>,
+    saturation_current_limits_a: Option<[f64; 2]>,
+    temperature_limits_k: Option<[f64; 2]>,
+}
+
+impl Default for TransistorRecord {
+    fn default() -> Self {
+        let t = Transistor::default();
+        TransistorRecord {
+            vbe_v: t.vbe_v,
+            beta_f: t.beta_f,
+            beta_r: t.beta_r,
+            saturation_current_a: t.saturation_current_a,
+            temperature_k: t.temperature_k,
+            nominal_temperature_k: None,
+            is_temperature_exponent: t.is_temperature_exponent,
+            bandgap_v: t.bandgap_v,
+            beta_temperature_exponent: t.beta_temperature_exponent,
+            beta_f_limits: None,
+            saturation_current_limits_a: None,
+            temperature_limits_k: None,
+        }
+    }
+}
+
+impl From<TransistorRecord> for Transistor {
+    fn from(r: TransistorRecord) -> Self {
+        Transistor {
+            vbe_v: r.vbe_v,
+            beta_f: r.beta_f,
+            beta_r: r.beta_r,
+            saturation_current_a: r.saturation_current_a,
+            temperature_k: r.temperature_k,
+            nominal_temperature_k: r.nominal_temperature_k.unwrap_or(r.temperature_k),
+            is_temperature_exponent: r.is_temperature_exponent,
+            bandgap_v: r.bandgap_v,
+            beta_temperature_exponent: r.beta_temperature_exponent,
+            beta_f_limits: r.beta_f_limits,
+            saturation_current_limits_a: r.saturation_current_limits_a,
+            temperature_limits_k: r.temperature_limits_k,
+        }
+    }
 }
 
 impl Default for Transistor {
-    /// VBE 0.65 V, βF 100, βR 1, IS 1e-14 A, 300 K (the values of DOMAIN §1f's example).
+    /// VBE 0.65 V, βF 100, βR 1, IS 1e-14 A (DOMAIN §1f's example values), entered at and
+    /// operating at 27 °C, with silicon's temperature laws (XTI 3, EG 1.11 V, XTB 1.5).
     fn default() -> Self {
-        Transistor { vbe_v: 0.65, beta_f: 100.0, beta_r: 1.0, saturation_current_a: 1e-14, temperature_k: 300.0 }
+        Transistor {
+            vbe_v: 0.65,
+            beta_f: 100.0,
+            beta_r: 1.0,
+            saturation_current_a: 1e-14,
+            temperature_k: SPICE_NOMINAL_TEMPERATURE_K,
+            nominal_temperature_k: SPICE_NOMINAL_TEMPERATURE_K,
+            is_temperature_exponent: SILICON_IS_EXPONENT,
+            bandgap_v: SILICON_BANDGAP_V,
+            beta_temperature_exponent: SILICON_BETA_EXPONENT,
+            beta_f_limits: None,
+            saturation_current_limits_a: None,
+            temperature_limits_k: None,
+        }
     }
 }
 
 impl Transistor {
-    /// Thermal voltage VT = kT/q, volts.
+    /// Thermal voltage VT = kT/q at the junction temperature, volts.
     pub fn thermal_voltage_v(&self) -> f64 {
         BOLTZMANN_OVER_CHARGE_V_PER_K * self.temperature_k
     }
 
-    /// Common-base current gain α = βF/(βF + 1).
+    /// ln(IS(T)/IS0) = XTI·ln(T/T0) + (EG/k)(1/T0 − 1/T), with EG/k = bandgap_v/(k/q).
+    fn ln_is_ratio(&self) -> f64 {
+        let (t, t0) = (self.temperature_k, self.nominal_temperature_k);
+        self.is_temperature_exponent * (t / t0).ln() + self.bandgap_v / BOLTZMANN_OVER_CHARGE_V_PER_K * (1.0 / t0 - 1.0 / t)
+    }
+
+    /// Saturation current at the junction temperature, amperes:
+    /// IS(T) = IS0·(T/T0)^XTI·exp[(EG/k)(1/T0 − 1/T)] (SPICE's bipolar model, from memory).
+    pub fn saturation_current_at_temperature_a(&self) -> f64 {
+        self.saturation_current_a * self.ln_is_ratio().exp()
+    }
+
+    /// Forward current gain at the junction temperature, βF(T) = βF0·(T/T0)^XTB.
+    pub fn beta_f_at_temperature(&self) -> f64 {
+        self.beta_f * (self.temperature_k / self.nominal_temperature_k).powf(self.beta_temperature_exponent)
+    }
+
+    /// Reverse current gain at the junction temperature, βR(T) = βR0·(T/T0)^XTB (SPICE scales BR
+    /// with XTB as it does BF, from memory).
+    pub fn beta_r_at_temperature(&self) -> f64 {
+        self.beta_r * (self.temperature_k / self.nominal_temperature_k).powf(self.beta_temperature_exponent)
+    }
+
+    /// The hand model's VBE at the junction temperature: the VBE that carries the same current as
+    /// `vbe_v` did at T0, VBE(T) = VT(T)·[VBE0/VT(T0) − ln(IS(T)/IS0)]. Its slope at T0 is
+    /// (VBE0 − EG − XTI·VT0)/T0, about −1.8 mV/K for 0.65 V (the textbook −2 mV/K).
+    pub fn vbe_at_temperature_v(&self) -> f64 {
+        let vt0 = BOLTZMANN_OVER_CHARGE_V_PER_K * self.nominal_temperature_k;
+        self.thermal_voltage_v() * (self.vbe_v / vt0 - self.ln_is_ratio())
+    }
+
+    /// Common-base current gain at the junction temperature, α = βF(T)/(βF(T) + 1).
     pub fn alpha(&self) -> f64 {
-        self.beta_f / (self.beta_f + 1.0)
+        let b = self.beta_f_at_temperature();
+        b / (b + 1.0)
+    }
+
+    /// βF limits for the tolerance studies (entered, or the default 3:1 spread).
+    pub fn beta_f_range(&self) -> [f64; 2] {
+        self.beta_f_limits.unwrap_or([self.beta_f / DEFAULT_BETA_SPREAD, self.beta_f * DEFAULT_BETA_SPREAD])
+    }
+
+    /// IS limits for the tolerance studies, amperes (entered, or IS/2 to 2·IS).
+    pub fn saturation_current_range_a(&self) -> [f64; 2] {
+        self.saturation_current_limits_a
+            .unwrap_or([self.saturation_current_a / DEFAULT_IS_SPREAD, self.saturation_current_a * DEFAULT_IS_SPREAD])
+    }
+
+    /// Junction temperature range for the tolerance studies, kelvin.
+    pub fn temperature_range_k(&self) -> [f64; 2] {
+        self.temperature_limits_k.unwrap_or(DEFAULT_TEMPERATURE_LIMITS_K)
     }
 
     fn validate(&self) -> Result<(), DesignError> {
+        use crate::limits::{check, Quantity};
         positive("transistor.vbe_v", self.vbe_v)?;
-        positive("transistor.beta_f", self.beta_f)?;
-        positive("transistor.beta_r", self.beta_r)?;
-        positive("transistor.saturation_current_a", self.saturation_current_a)?;
-        positive("transistor.temperature_k", self.temperature_k)?;
+        check(Quantity::Gain, "transistor.beta_f", self.beta_f)?;
+        check(Quantity::Gain, "transistor.beta_r", self.beta_r)?;
+        check(Quantity::SaturationCurrent, "transistor.saturation_current_a", self.saturation_current_a)?;
+        check(Quantity::JunctionTemperature, "transistor.temperature_k", self.temperature_k)?;
+        check(Quantity::JunctionTemperature, "transistor.nominal_temperature_k", self.nominal_temperature_k)?;
+        check(Quantity::Exponent, "transistor.is_temperature_exponent", self.is_temperature_exponent)?;
+        check(Quantity::Bandgap, "transistor.bandgap_v", self.bandgap_v)?;
+        check(Quantity::Exponent, "transistor.beta_temperature_exponent", self.beta_temperature_exponent)?;
+        // The scaled values must be a device too (every tolerance corner goes through here).
+        check(Quantity::SaturationCurrent, "transistor.saturation_current_a (at the junction temperature)", self.saturation_current_at_temperature_a())?;
+        check(Quantity::Gain, "transistor.beta_f (at the junction temperature)", self.beta_f_at_temperature())?;
+        check(Quantity::Gain, "transistor.beta_r (at the junction temperature)", self.beta_r_at_temperature())?;
+        let vbe_t = self.vbe_at_temperature_v();
+        if !(vbe_t.is_finite() && vbe_t > 0.0) {
+            return Err(DesignError::invalid(
+                "transistor.vbe_v",
+                format!("VBE at {} K comes out at {vbe_t:.3} V, not above zero: enter VBE at the nominal temperature or narrow the temperature", self.temperature_k),
+            ));
+        }
+        let ranges = [
+            ("transistor.beta_f_limits", Quantity::Gain, self.beta_f_limits),
+            ("transistor.saturation_current_limits_a", Quantity::SaturationCurrent, self.saturation_current_limits_a),
+            ("transistor.temperature_limits_k", Quantity::JunctionTemperature, self.temperature_limits_k),
+        ];
+        for (field, q, lim) in ranges {
+            if let Some([lo, hi]) = lim {
+                check(q, field, lo)?;
+                check(q, field, hi)?;
+                if lo > hi {
+                    return Err(DesignError::invalid(field, format!("minimum {lo} is above maximum {hi}: swap them")));
+                }
+            }
+        }
         Ok(())
     }
 }
@@ -186,14 +403,29 @@ impl EmitterCoupledSchmitt {
     /// Hand model: Q2's emitter current with the input low, amperes (≤ 0 means Q2 never conducts).
     fn hand_ie2(&self) -> f64 {
         let t = &self.transistor;
-        (self.k() * self.supply_v - t.vbe_v) / (self.re_ohm + self.rb2() / (t.beta_f + 1.0))
+        (self.k() * self.supply_v - t.vbe_at_temperature_v()) / (self.re_ohm + self.rb2() / (t.beta_f_at_temperature() + 1.0))
+    }
+
+    /// The hand model's active-region Q2 collector and emitter voltages with the input low, when
+    /// Q2 would then saturate (VC2 < VE + VCE(sat)); `None` when Q2 stays active or never conducts.
+    fn hand_q2_saturates(&self) -> Option<(f64, f64)> {
+        let ie2 = self.hand_ie2();
+        if ie2 <= 0.0 {
+            return None;
+        }
+        let (vth2, rth2) = self.output_thevenin();
+        let vc2 = vth2 - self.transistor.alpha() * ie2 * rth2;
+        let ve = self.re_ohm * ie2;
+        (vc2 < ve + VCE_SATURATION_V).then_some((vc2, ve))
     }
 
     /// VT± of the closed-form hand model (DOMAIN §1f), with the regeneration estimate; allocation-free.
+    /// Refuses (typed [`DesignError::Inconsistent`]) when Q2 saturates with the input low, where
+    /// VT+ = VBE + RE·IE2 no longer holds, and points to the Ebers–Moll model.
     pub fn hand_thresholds(&self) -> Result<Thresholds, DesignError> {
         let t = &self.transistor;
         let k = self.k();
-        let vbe = t.vbe_v;
+        let vbe = t.vbe_at_temperature_v();
         let vcc = self.supply_v;
         if k * vcc <= vbe {
             return Err(DesignError::NoSwitching {
@@ -206,11 +438,16 @@ impl EmitterCoupledSchmitt {
         }
         let ie2 = self.hand_ie2();
         let alpha = t.alpha();
+        if let Some((vc2, ve)) = self.hand_q2_saturates() {
+            return Err(DesignError::inconsistent(format!(
+                "Q2 saturates with the input low (its collector would sit at {vc2:.3} V, less than {VCE_SATURATION_V} V above the emitters at {ve:.3} V): the hand model's VT+ = VBE + RE·IE2 assumes Q2 active and does not hold; choose the ebers_moll model, which solves saturation, or lower RC2 or the emitter current (raise RE)"
+            )));
+        }
         let upper = vbe + self.re_ohm * ie2;
         let lower = k * (vcc * self.re_ohm + alpha * self.rc1_ohm * vbe) / (self.re_ohm + alpha * k * self.rc1_ohm);
         // Regeneration (DOMAIN §1f, [D]): loop gain α·K·RC1 against re1 + re2 + RB2/(β+1), re ≈ 2VT/IE.
         let loop_ohm = alpha * k * self.rc1_ohm;
-        let loss_ohm = 4.0 * t.thermal_voltage_v() / ie2 + self.rb2() / (t.beta_f + 1.0);
+        let loss_ohm = 4.0 * t.thermal_voltage_v() / ie2 + self.rb2() / (t.beta_f_at_temperature() + 1.0);
         if loop_ohm <= loss_ohm || upper <= lower {
             return Err(DesignError::NoSwitching {
                 reason: format!(
@@ -262,13 +499,13 @@ impl EmitterCoupledSchmitt {
             OutputState::Low => {
                 let ie2 = self.hand_ie2().max(0.0);
                 let ve = self.re_ohm * ie2;
-                let vb2 = if ie2 > 0.0 { ve + t.vbe_v } else { self.k() * self.supply_v };
+                let vb2 = if ie2 > 0.0 { ve + t.vbe_at_temperature_v() } else { self.k() * self.supply_v };
                 let vc1 = (self.supply_v / self.rc1_ohm + vb2 / self.r1_ohm) / (1.0 / self.rc1_ohm + 1.0 / self.r1_ohm);
                 let vc2 = (vth2 - alpha * ie2 * rth2).max(ve + VCE_SATURATION_V).min(vth2);
                 BjtNodes { vin_v, ve_v: ve, vc1_v: vc1, vb2_v: vb2, vc2_v: vc2, input_current_a: 0.0 }
             }
             OutputState::High => {
-                let ie1 = ((vin_v - t.vbe_v) / self.re_ohm).max(0.0);
+                let ie1 = ((vin_v - t.vbe_at_temperature_v()) / self.re_ohm).max(0.0);
                 let ve = self.re_ohm * ie1;
                 let mut ic1 = alpha * ie1;
                 let mut vc1 = vthc1 - ic1 * rthc1;
@@ -309,7 +546,7 @@ impl EmitterCoupledSchmitt {
         }
         let t = &self.transistor;
         let alpha = t.alpha();
-        let bp1 = t.beta_f + 1.0;
+        let bp1 = t.beta_f_at_temperature() + 1.0;
         let rd = self.r1_ohm + self.r2_ohm;
         let rc1_of = |k: f64| re_ohm * (k * vcc - lo) / (alpha * k * (lo - vbe_v));
         let f = |k: f64| (up - vbe_v) * (re_ohm + k * (1.0 - k) * (rc1_of(k) + rd) / bp1) - re_ohm * (k * vcc - vbe_v);
@@ -348,6 +585,14 @@ impl EmitterCoupledSchmitt {
         out.rc1_ohm = rc1;
         out.r1_ohm = r1;
         out.r2_ohm = r2;
+        // RC2 only sets the output low level. When the template's RC2 would saturate Q2 at the new
+        // emitter current, lower it so the output low sits midway between the emitters and VCC
+        // (common practice: keep the output transistor well out of saturation).
+        if out.hand_q2_saturates().is_some() {
+            let ie2 = out.hand_ie2();
+            let ve = out.re_ohm * ie2;
+            out.rc2_ohm = 0.5 * (vcc - ve) / (out.transistor.alpha() * ie2);
+        }
         Ok(out)
     }
 
@@ -466,10 +711,11 @@ impl Circuit for EmitterCoupledSchmitt {
             crate::topology::resistance("load_ohm", r)?;
         }
         self.transistor.validate()?;
-        if self.transistor.vbe_v >= self.supply_v {
+        let vbe = self.transistor.vbe_at_temperature_v();
+        if vbe >= self.supply_v {
             return Err(DesignError::inconsistent(format!(
-                "VBE ({:.3} V) must be below the supply ({:.3} V)",
-                self.transistor.vbe_v, self.supply_v
+                "VBE ({:.3} V at {} K) must be below the supply ({:.3} V)",
+                vbe, self.transistor.temperature_k, self.supply_v
             )));
         }
         Ok(())
@@ -518,8 +764,28 @@ impl Circuit for EmitterCoupledSchmitt {
         })
     }
 
+    /// The transistor's spread is declared here, so the tolerance studies (worst case, GUM, Monte
+    /// Carlo) vary it: βF over its datasheet limits, the junction temperature over its range (IS,
+    /// βF and VBE follow through the temperature laws), and the quantity the model uses for the
+    /// junction — IS for Ebers–Moll, VBE (±10 % by default) for the hand model. The other one is
+    /// stated but not varied. Every corner is a valid device: [`Transistor`]'s validation checks the
+    /// limits and the temperature-scaled values.
     fn parameters(&self) -> Vec<Parameter> {
         let t = &self.transistor;
+        let [b_lo, b_hi] = t.beta_f_range();
+        let [is_lo, is_hi] = t.saturation_current_range_a();
+        let [t_lo, t_hi] = t.temperature_range_k();
+        let (vbe, is) = match self.model {
+            BjtModel::Hand => (
+                Parameter::quantity("vbe_v", "base–emitter voltage VBE at the nominal temperature (hand model)", t.vbe_v, ParameterKind::DeviceThreshold),
+                Parameter::device("saturation_current_a", "saturation current IS (Ebers–Moll model only)", t.saturation_current_a, Unit::Ampere),
+            ),
+            BjtModel::EbersMoll => (
+                Parameter::device("vbe_v", "base–emitter voltage VBE (hand model only)", t.vbe_v, Unit::Volt),
+                Parameter::device("saturation_current_a", "saturation current IS at the nominal temperature", t.saturation_current_a, Unit::Ampere)
+                    .with_limits(is_lo, is_hi),
+            ),
+        };
         vec![
             Parameter::resistor("r1_ohm", "R1", "coupling resistor Q1 collector to Q2 base", self.r1_ohm),
             Parameter::resistor("r2_ohm", "R2", "Q2 base resistor to ground", self.r2_ohm),
@@ -527,11 +793,11 @@ impl Circuit for EmitterCoupledSchmitt {
             Parameter::resistor("rc2_ohm", "R4", "Q2 collector (output) resistor RC2", self.rc2_ohm),
             Parameter::resistor("re_ohm", "R5", "shared emitter resistor RE", self.re_ohm),
             Parameter::quantity("supply_v", "supply VCC", self.supply_v, ParameterKind::Supply),
-            Parameter::quantity("vbe_v", "base–emitter voltage VBE (hand model)", t.vbe_v, ParameterKind::DeviceThreshold),
-            Parameter::device("beta_f", "forward current gain βF", t.beta_f, Unit::Ratio),
+            vbe,
+            Parameter::device("beta_f", "forward current gain βF at the nominal temperature", t.beta_f, Unit::Ratio).with_limits(b_lo, b_hi),
             Parameter::device("beta_r", "reverse current gain βR", t.beta_r, Unit::Ratio),
-            Parameter::device("saturation_current_a", "saturation current IS", t.saturation_current_a, Unit::Ampere),
-            Parameter::device("temperature_k", "junction temperature", t.temperature_k, Unit::Kelvin),
+            is,
+            Parameter::device("temperature_k", "junction temperature", t.temperature_k, Unit::Kelvin).with_limits(t_lo, t_hi),
         ]
     }
 
@@ -571,18 +837,18 @@ impl Circuit for EmitterCoupledSchmitt {
         };
         match self.model {
             BjtModel::Hand => {
-                let d = self.hand_synthesis(targets, re_ohm, self.transistor.vbe_v)?;
+                let d = self.hand_synthesis(targets, re_ohm, self.transistor.vbe_at_temperature_v())?;
                 d.hand_thresholds().map_err(no_loop)?;
                 Ok(d)
             }
             BjtModel::EbersMoll => {
                 let t = &self.transistor;
                 let vt = t.thermal_voltage_v();
-                let mut vbe = t.vbe_v;
+                let mut vbe = t.vbe_at_temperature_v();
                 let mut start = self.hand_synthesis(targets, re_ohm, vbe)?;
                 for _ in 0..3 {
                     let i_fold = vt / (t.alpha() * start.k() * start.rc1_ohm);
-                    let est = vt * (i_fold / t.saturation_current_a).ln();
+                    let est = vt * (i_fold / t.saturation_current_at_temperature_a()).ln();
                     if !(est.is_finite() && est > 0.0) || (est - vbe).abs() < 1e-4 {
                         break;
                     }
@@ -679,6 +945,24 @@ impl Circuit for EmitterCoupledSchmitt {
         OutputStage::DiscreteTransistors
     }
 
+    /// Bounds that hold in every state: a transistor's collector current flows through its
+    /// collector resistor RC and (with its base current) through RE, so with VCE ≥ 0,
+    /// IC ≤ VCC/(RC + RE); VCE ≤ VCC − IC·(RC + RE) gives VCE ≤ VCC and
+    /// P = VCE·IC ≤ VCC²/(4(RC + RE)) (the maximum of IC·(VCC − IC·(RC + RE))).
+    fn transistor_stress(&self) -> Vec<TransistorStress> {
+        let vcc = self.supply_v;
+        let q = |designator: &str, rc: f64| {
+            let r = rc + self.re_ohm;
+            TransistorStress {
+                designator: designator.into(),
+                vce_max_v: vcc,
+                collector_current_max_a: vcc / r,
+                dissipation_max_w: vcc * vcc / (4.0 * r),
+            }
+        };
+        vec![q("Q1", self.rc1_ohm), q("Q2", self.rc2_ohm)]
+    }
+
     fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
         vec![
             "Measure VBE of the conducting transistor (about 0.6–0.7 V): the thresholds move almost one-for-one with it, and with temperature (about −2 mV/K).".into(),
@@ -700,9 +984,12 @@ mod tests {
     use crate::analysis::{ImpedanceChoice, Targets};
     use crate::topology::{analyse, synthesise};
 
-    /// DOMAIN §1f's example design.
+    /// DOMAIN §1f's example design (its transistor entered and operating at 300 K).
     fn example(model: BjtModel) -> EmitterCoupledSchmitt {
-        EmitterCoupledSchmitt { model, ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) }
+        let mut c = EmitterCoupledSchmitt { model, ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) };
+        c.transistor.temperature_k = 300.0;
+        c.transistor.nominal_temperature_k = 300.0;
+        c
     }
 
     #[test]
@@ -735,9 +1022,12 @@ mod tests {
     #[test]
     fn regeneration_is_lost_near_the_domain_figure() {
         // DOMAIN §1f: hysteresis disappears numerically at RC1 = 165 Ω; the estimate predicts 163 Ω.
+        // RC2 1 kΩ for the hand model keeps Q2 active at these emitter currents (with 2.2 kΩ it
+        // saturates, which the hand model refuses); the loop gain does not involve RC2.
         for (rc1, hand_ok, em_ok) in [(150.0, false, false), (170.0, true, true)] {
             let mut c = example(BjtModel::Hand);
             c.rc1_ohm = rc1;
+            c.rc2_ohm = 1e3;
             assert_eq!(c.thresholds().is_ok(), hand_ok, "hand at {rc1}");
             c.model = BjtModel::EbersMoll;
             assert_eq!(c.thresholds().is_ok(), em_ok, "ebers–moll at {rc1}");
@@ -746,6 +1036,7 @@ mod tests {
         c.rc1_ohm = 150.0;
         assert!(matches!(c.thresholds(), Err(DesignError::NoSwitching { .. })));
         c.model = BjtModel::Hand;
+        c.rc2_ohm = 1e3;
         assert!(matches!(c.thresholds(), Err(DesignError::NoSwitching { .. })));
     }
 
@@ -760,6 +1051,8 @@ mod tests {
             assert!((t.vt_lower_v - lo).abs() < 1e-9 * lo, "{t:?}");
             assert_eq!(d.re_ohm, 1.2e3);
             assert!((d.r1_ohm + d.r2_ohm - 20e3).abs() < 1e-6);
+            // RC2 is kept unless it would saturate Q2 (the 6 V bands need a smaller one).
+            assert_eq!(d.rc2_ohm == template.rc2_ohm, up < 5.0, "{up}: RC2 {}", d.rc2_ohm);
         }
     }
 
@@ -819,8 +1112,13 @@ mod tests {
         let mut c = example(BjtModel::Hand);
         assert!(!c.checks(&CheckSettings::default()).iter().any(|w| w.code == WarningCode::TransistorRegion));
         c.rc2_ohm = 10e3; // α·IE2·RC2 ≈ 27 V > VCC: Q2 saturates
-        let w = c.checks(&CheckSettings::default());
-        assert!(w.iter().any(|w| w.code == WarningCode::TransistorRegion && w.message.contains("Q2 saturates")), "{w:?}");
+        // The hand model refuses a saturated Q2 and names the model that solves it.
+        match c.thresholds() {
+            Err(DesignError::Inconsistent { reason }) => {
+                assert!(reason.contains("Q2 saturates") && reason.contains("ebers_moll"), "{reason}")
+            }
+            other => panic!("{other:?}"),
+        }
         c.model = BjtModel::EbersMoll;
         let w = c.checks(&CheckSettings::default());
         assert!(w.iter().any(|w| w.code == WarningCode::TransistorRegion && w.message.contains("Q2 saturates")), "{w:?}");
@@ -832,6 +1130,130 @@ mod tests {
             let a = analyse(&example(model), &CheckSettings::default()).unwrap();
             assert!(a.hysteresis_v > 1.5 && a.output_high_v > 11.9 && a.output_low_v < 7.0, "{a:?}");
             assert!(a.input_resistance_ohm.is_some());
+        }
+    }
+
+    #[test]
+    fn saturation_current_and_gain_follow_the_spice_temperature_laws() {
+        let mut t = Transistor::default();
+        assert_eq!(t.saturation_current_at_temperature_a(), 1e-14);
+        assert_eq!(t.beta_f_at_temperature(), 100.0);
+        assert!((t.vbe_at_temperature_v() - 0.65).abs() < 1e-15);
+        t.temperature_k = 350.0;
+        // IS(T) = IS0·(T/T0)^XTI·exp[(EG/k)(1/T0 − 1/T)] written out again (SPICE3, from memory).
+        let t0 = SPICE_NOMINAL_TEMPERATURE_K;
+        let k_ev = 8.617_333_262e-5; // Boltzmann constant in eV/K (CODATA 2018)
+        let is = 1e-14 * (350.0 / t0).powi(3) * ((1.11 / k_ev) * (1.0 / t0 - 1.0 / 350.0)).exp();
+        assert!((t.saturation_current_at_temperature_a() / is - 1.0).abs() < 1e-9);
+        assert!((t.beta_f_at_temperature() - 100.0 * (350.0 / t0).powf(1.5)).abs() < 1e-9);
+        // VBE at the same current: slope at T0 is (VBE0 − EG − XTI·VT0)/T0 ≈ −1.8 mV/K, inside the
+        // textbook "about −2 mV/K" for silicon (from memory: −1.5 to −2.5 mV/K).
+        let mut a = Transistor::default();
+        let mut b = a;
+        a.temperature_k = t0 - 0.5;
+        b.temperature_k = t0 + 0.5;
+        let slope = b.vbe_at_temperature_v() - a.vbe_at_temperature_v();
+        let expect = (0.65 - 1.11 - 3.0 * BOLTZMANN_OVER_CHARGE_V_PER_K * t0) / t0;
+        assert!((slope - expect).abs() < 1e-7, "{slope} vs {expect}");
+        assert!((-2.5e-3..=-1.5e-3).contains(&slope), "{slope}");
+    }
+
+    #[test]
+    fn old_records_enter_is_at_the_junction_temperature() {
+        // A record from before the temperature laws: no nominal temperature, IS entered at 300 K.
+        let old: Transistor = serde_json::from_str(
+            r#"{"vbe_v": 0.65, "beta_f": 100, "beta_r": 1, "saturation_current_a": 1e-14, "temperature_k": 300.0}"#,
+        )
+        .unwrap();
+        assert_eq!(old.nominal_temperature_k, 300.0);
+        assert_eq!(old.saturation_current_at_temperature_a(), 1e-14);
+        assert_eq!(old.is_temperature_exponent, 3.0);
+        // A new one round-trips with every field.
+        let t = Transistor { temperature_k: 330.0, temperature_limits_k: Some([250.0, 350.0]), ..Transistor::default() };
+        let back: Transistor = serde_json::from_str(&serde_json::to_string(&t).unwrap()).unwrap();
+        assert_eq!(back, t);
+        let empty: Transistor = serde_json::from_str("{}").unwrap();
+        assert_eq!(empty, Transistor::default());
+    }
+
+    #[test]
+    fn thresholds_fall_with_temperature_in_both_models() {
+        for model in [BjtModel::Hand, BjtModel::EbersMoll] {
+            let at = |t_k: f64| {
+                let mut c = example(model);
+                c.transistor.nominal_temperature_k = SPICE_NOMINAL_TEMPERATURE_K;
+                c.transistor.temperature_k = t_k;
+                c.thresholds().unwrap()
+            };
+            let (cold, hot) = (at(250.0), at(350.0));
+            assert!(hot.vt_lower_v < cold.vt_lower_v - 0.05, "{model:?}: {cold:?} → {hot:?}");
+        }
+    }
+
+    #[test]
+    fn transistor_temperature_values_are_checked() {
+        let mut c = example(BjtModel::EbersMoll);
+        c.transistor.temperature_k = 900.0;
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { field, .. }) if field == "transistor.temperature_k"));
+        c.transistor.temperature_k = 300.0;
+        c.transistor.temperature_limits_k = Some([350.0, 250.0]);
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { field, .. }) if field == "transistor.temperature_limits_k"));
+        c.transistor.temperature_limits_k = None;
+        c.transistor.bandgap_v = 50.0;
+        assert!(c.validate().is_err());
+        c.transistor.bandgap_v = 1.11;
+        c.transistor.beta_f_limits = Some([0.0, 200.0]);
+        assert!(c.validate().is_err());
+    }
+
+    #[test]
+    fn tolerance_studies_vary_the_transistor_and_temperature() {
+        use crate::tolerance::{tolerance_report, ToleranceSettings};
+        let mut s = ToleranceSettings::default();
+        s.monte_carlo.trials = 200;
+        for model in [BjtModel::EbersMoll, BjtModel::Hand] {
+            let c = example(model);
+            let r = tolerance_report(&c, &s).unwrap();
+            let varied = |id: &str| r.bands.iter().any(|b| b.parameter.id == id && b.is_varied());
+            assert!(varied("beta_f") && varied("temperature_k"), "{model:?}");
+            assert_eq!(varied("saturation_current_a"), model == BjtModel::EbersMoll, "{model:?}");
+            assert_eq!(varied("vbe_v"), model == BjtModel::Hand, "{model:?}");
+            // The temperature term reaches the GUM budget and widens the worst case of VT−.
+            let temp = r.gum.sources.iter().position(|x| x.id == "temperature_k").unwrap();
+            let u = r.gum.vt_lower.contributions.iter().find(|c| c.source == temp).unwrap().contribution_v.abs();
+            assert!(u > 1e-3, "{model:?}: temperature contributes {u} V");
+            assert_eq!(r.monte_carlo.rejected_trials, 0, "{model:?}");
+        }
+    }
+
+    #[test]
+    fn transistor_stress_bounds_the_operating_points() {
+        let c = example(BjtModel::EbersMoll);
+        let q = c.transistor_stress();
+        assert_eq!(q.len(), 2);
+        for (vin, state) in [(0.0, OutputState::Low), (6.0, OutputState::High)] {
+            let n = c.nodes(vin, state).unwrap();
+            let ic1 = (12.0 - n.vc1_v) / c.rc1_ohm - (n.vc1_v - n.vb2_v) / c.r1_ohm;
+            let ic2 = (12.0 - n.vc2_v) / c.rc2_ohm;
+            for (qi, ic, vce) in [(&q[0], ic1, n.vc1_v - n.ve_v), (&q[1], ic2, n.vc2_v - n.ve_v)] {
+                assert!(ic <= qi.collector_current_max_a && vce <= qi.vce_max_v && ic * vce <= qi.dissipation_max_w, "{qi:?} {ic} {vce}");
+            }
+        }
+        let a = analyse(&c, &CheckSettings::default()).unwrap();
+        let b = crate::bom::bom(&c, &a, &CheckSettings::default(), &crate::bom::PartSettings::default()).unwrap();
+        let notes = b.device.notes.join(" | ");
+        assert!(notes.contains("Q1: VCEO at least 12 V") && notes.contains("Q2: VCEO") && notes.contains("power rating"), "{notes}");
+        assert!(!notes.contains("common-mode") && !notes.contains("guaranteed swing"), "{notes}");
+    }
+
+    #[test]
+    fn spice_model_carries_temperature_laws_and_junction_capacitance() {
+        let mut c = example(BjtModel::EbersMoll);
+        c.transistor.nominal_temperature_k = SPICE_NOMINAL_TEMPERATURE_K;
+        c.transistor.temperature_k = 350.0;
+        let deck = crate::spice::to_spice(&crate::topology::Topology::BjtPair(c), "pair").unwrap();
+        for item in ["XTI=3 ", "EG=1.11 ", "XTB=1.5 ", "CJE=4.5p ", "CJC=3.6p ", "TF=400p", "TNOM=27 ", ".temp 76.85"] {
+            assert!(deck.contains(item), "{item} missing in\n{deck}");
         }
     }
 
@@ -875,7 +1297,14 @@ impl crate::netlist::Netlisted for EmitterCoupledSchmitt {
             beta_f: t.beta_f,
             beta_r: t.beta_r,
             temperature_k: t.temperature_k,
-            vbe_v: t.vbe_v,
+            nominal_temperature_k: t.nominal_temperature_k,
+            is_temperature_exponent: t.is_temperature_exponent,
+            bandgap_v: t.bandgap_v,
+            beta_temperature_exponent: t.beta_temperature_exponent,
+            emitter_capacitance_f: EMITTER_CAPACITANCE_F,
+            collector_capacitance_f: COLLECTOR_CAPACITANCE_F,
+            transit_time_s: TRANSIT_TIME_S,
+            vbe_v: t.vbe_at_temperature_v(),
         };
         let q = |designator: &str, collector: &str, base: &str| ActiveDevice::Npn {
             designator: designator.into(),

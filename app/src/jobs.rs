@@ -1,0 +1,399 @@
+//! Long studies off the page's thread: [`start`] hands a `core::jobs::Job` to the compute workers
+//! (`worker/`, built by Trunk as `hysteron-worker_loader.js`), shows progress through a callback and
+//! calls back once with the result; [`JobHandle::cancel`] stops it at once (the workers running it
+//! are terminated). A job that `core::jobs::split` can cut (Monte Carlo by trials, the noise sweep
+//! by levels) is spread over `navigator.hardwareConcurrency` workers and merged in order with
+//! `core::jobs::merge`, which gives exactly the single-run result for the same seed.
+//!
+//! Workers are kept in a small pool once their module has loaded ([`prewarm`] starts them in the
+//! background), so a run pays no module start-up. Where the browser refuses to start a worker, the
+//! job runs on the page in slices between frames (`crate::tick::later`), with the same progress and
+//! Cancel, and [`fallback_note`] says so once.
+
+use hysteron_core::jobs::{merge, split, Job, JobOutput, Progress, Running};
+use std::cell::{Cell, RefCell};
+use std::rc::Rc;
+use wasm_bindgen::prelude::*;
+use wasm_bindgen::JsCast;
+
+/// The worker's loader script, next to index.html (Trunk gives workers fixed names).
+const WORKER_URL: &str = "./hysteron-worker_loader.js";
+/// Most workers one job is spread over.
+const MAX_WORKERS: usize = 8;
+/// Target length of a slice on a worker (progress messages at most this often), ms.
+const WORKER_SLICE_MS: f64 = 25.0;
+/// Target length of a slice when the job runs on the page, ms (well under one frame's budget).
+const PAGE_SLICE_MS: f64 = 8.0;
+
+/// Where a job stands, for the progress display.
+#[derive(Debug, Clone, PartialEq)]
+pub struct JobStatus {
+    /// Units done over all parts.
+    pub done: u64,
+    /// Units in all (announced before the work starts; 0 until every part has announced).
+    pub total: u64,
+    /// What the units count ("trials", "sample passes", …).
+    pub unit: String,
+    /// When the job started, ms (performance.now()).
+    pub started_ms: f64,
+    /// When this status was taken, ms.
+    pub now_ms: f64,
+    /// Workers running it (0: on the page, in slices).
+    pub workers: usize,
+}
+
+impl JobStatus {
+    /// Fraction done, 0 to 1.
+    pub fn fraction(&self) -> f64 {
+        Progress { done: self.done, total: self.total }.fraction()
+    }
+
+    /// Milliseconds left, from the rate so far (`None` before any progress).
+    pub fn remaining_ms(&self) -> Option<f64> {
+        let f = self.fraction();
+        let spent = self.now_ms - self.started_ms;
+        (f > 0.0 && f < 1.0 && spent > 0.0).then(|| spent * (1.0 - f) / f)
+    }
+}
+
+thread_local! {
+    static POOL: RefCell<Vec<web_sys::Worker>> = const { RefCell::new(Vec::new()) };
+    static NO_WORKERS: Cell<bool> = const { Cell::new(false) };
+}
+
+/// Whether workers could not be started, so studies run on the page in slices.
+pub fn fallback_note() -> Option<&'static str> {
+    NO_WORKERS.with(|c| c.get()).then_some(
+        "This browser did not start a background worker for this page, so long studies run on the page in slices: it stays usable but they take longer.",
+    )
+}
+
+/// How many workers to spread a job over: `navigator.hardwareConcurrency`, 1 to 8.
+pub fn worker_count() -> usize {
+    web_sys::window()
+        .map(|w| w.navigator().hardware_concurrency())
+        .filter(|n| n.is_finite() && *n >= 1.0)
+        .map(|n| (n as usize).min(MAX_WORKERS))
+        .unwrap_or(1)
+}
+
+fn field(v: &JsValue, k: &str) -> JsValue {
+    js_sys::Reflect::get(v, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED)
+}
+
+/// A fresh worker; `on_ready` runs when its module has loaded.
+fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static) -> Option<web_sys::Worker> {
+    let w = web_sys::Worker::new(WORKER_URL).ok()?;
+    let w2 = w.clone();
+    let mut on_ready = Some(on_ready);
+    let cb = Closure::<dyn FnMut(web_sys::MessageEvent)>::new(move |ev: web_sys::MessageEvent| {
+        if field(&ev.data(), "kind").as_string().as_deref() == Some("ready") {
+            w2.set_onmessage(None);
+            if let Some(f) = on_ready.take() {
+                f(w2.clone());
+            }
+        }
+    });
+    w.set_onmessage(Some(cb.as_ref().unchecked_ref()));
+    cb.forget(); // one small closure per worker started; workers are pooled and reused
+    Some(w)
+}
+
+/// Starts `n` workers in the background so the first study does not wait for their module.
+pub fn prewarm(n: usize) {
+    let have = POOL.with(|p| p.borrow().len());
+    for _ in have..n.min(MAX_WORKERS) {
+        if spawn(|w| POOL.with(|p| p.borrow_mut().push(w))).is_none() {
+            NO_WORKERS.with(|c| c.set(true));
+            return;
+        }
+    }
+}
+
+/// A ready worker from the pool, or a new one once it is ready.
+fn acquire(then: impl FnOnce(web_sys::Worker) + 'static) -> bool {
+    if let Some(w) = POOL.with(|p| p.borrow_mut().pop()) {
+        then(w);
+        return true;
+    }
+    spawn(then).is_some()
+}
+
+struct Part {
+    worker: Option<web_sys::Worker>,
+    done: u64,
+    total: Option<u64>,
+    output: Option<JobOutput>,
+    _on_message: Option<Closure<dyn FnMut(web_sys::MessageEvent)>>,
+}
+
+struct Shared {
+    job: Job,
+    parts: Vec<Part>,
+    unit: String,
+    started_ms: f64,
+    finished: bool,
+    on_progress: Rc<dyn Fn(JobStatus)>,
+    on_done: Option<Box<dyn FnOnce(Result<JobOutput, String>)>>,
+}
+
+impl Shared {
+    fn status(&self) -> JobStatus {
+        let all_known = self.parts.iter().all(|p| p.total.is_some());
+        JobStatus {
+            done: self.parts.iter().map(|p| p.done).sum(),
+            total: if all_known { self.parts.iter().filter_map(|p| p.total).sum() } else { 0 },
+            unit: self.unit.clone(),
+            started_ms: self.started_ms,
+            now_ms: crate::tick::now_ms(),
+            workers: self.parts.len(),
+        }
+    }
+}
+
+fn finish(shared: &Rc<RefCell<Shared>>, result: Result<JobOutput, String>) {
+    let (cb, workers) = {
+        let mut s = shared.borrow_mut();
+        if s.finished {
+            return;
+        }
+        s.finished = true;
+        let workers: Vec<_> = s.parts.iter_mut().filter_map(|p| p.worker.take()).collect();
+        for p in &mut s.parts {
+            p._on_message = None;
+        }
+        (s.on_done.take(), workers)
+    };
+    for w in workers {
+        if result.is_ok() {
+            w.set_onmessage(None);
+            POOL.with(|p| p.borrow_mut().push(w));
+        } else {
+            w.terminate();
+        }
+    }
+    if let Some(cb) = cb {
+        cb(result);
+    }
+}
+
+fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
+    let kind = field(&data, "kind").as_string().unwrap_or_default();
+    match kind.as_str() {
+        "progress" => {
+            let status = {
+                let mut s = shared.borrow_mut();
+                if s.finished {
+                    return;
+                }
+                if let Some(u) = field(&data, "unit").as_string() {
+                    s.unit = u;
+                }
+                let p = &mut s.parts[index];
+                p.done = field(&data, "done").as_f64().unwrap_or(0.0) as u64;
+                p.total = field(&data, "total").as_f64().map(|t| t as u64);
+                s.status()
+            };
+            let cb = shared.borrow().on_progress.clone();
+            cb(status);
+        }
+        "error" => {
+            let m = field(&data, "message").as_string().unwrap_or_else(|| "the study failed in the worker".into());
+            finish(shared, Err(m));
+        }
+        "result" => {
+            let text = field(&data, "output").as_string().unwrap_or_default();
+            let arrays: Vec<Vec<f64>> = js_sys::Array::from(&field(&data, "arrays"))
+                .iter()
+                .map(|a| js_sys::Float64Array::from(a).to_vec())
+                .collect();
+            let output = serde_json::from_str::<JobOutput>(&text)
+                .map_err(|e| format!("the worker's result could not be read: {e}"))
+                .and_then(|mut o| o.put_arrays(arrays).map(|_| o).map_err(|e| e.to_string()));
+            let output = match output {
+                Ok(o) => o,
+                Err(e) => return finish(shared, Err(e)),
+            };
+            let complete = {
+                let mut s = shared.borrow_mut();
+                let p = &mut s.parts[index];
+                p.output = Some(output);
+                if let Some(t) = p.total {
+                    p.done = t;
+                }
+                if let Some(w) = p.worker.take() {
+                    w.set_onmessage(None);
+                    POOL.with(|pool| pool.borrow_mut().push(w));
+                }
+                p._on_message = None;
+                s.parts.iter().all(|p| p.output.is_some())
+            };
+            if complete {
+                let (job, outputs) = {
+                    let mut s = shared.borrow_mut();
+                    let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
+                    (s.job.clone(), outputs)
+                };
+                finish(shared, merge(&job, outputs).map_err(|e| e.to_string()));
+            }
+        }
+        _ => {}
+    }
+}
+
+fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Worker) {
+    if shared.borrow().finished {
+        POOL.with(|p| p.borrow_mut().push(w));
+        return;
+    }
+    let sh = shared.clone();
+    let cb = Closure::<dyn FnMut(web_sys::MessageEvent)>::new(move |ev: web_sys::MessageEvent| on_message(&sh, index, ev.data()));
+    w.set_onmessage(Some(cb.as_ref().unchecked_ref()));
+    let arrays = job.take_arrays();
+    let text = match serde_json::to_string(&job) {
+        Ok(t) => t,
+        Err(e) => return finish(shared, Err(format!("the job could not be written: {e}"))),
+    };
+    let list = js_sys::Array::new();
+    let transfer = js_sys::Array::new();
+    for a in arrays {
+        let f = js_sys::Float64Array::new_with_length(a.len() as u32);
+        f.copy_from(&a);
+        transfer.push(&f.buffer());
+        list.push(&f);
+    }
+    let msg = js_sys::Object::new();
+    let _ = js_sys::Reflect::set(&msg, &"job".into(), &text.into());
+    let _ = js_sys::Reflect::set(&msg, &"arrays".into(), &list);
+    let _ = js_sys::Reflect::set(&msg, &"slice_ms".into(), &WORKER_SLICE_MS.into());
+    {
+        let mut s = shared.borrow_mut();
+        s.parts[index].worker = Some(w.clone());
+        s.parts[index]._on_message = Some(cb);
+    }
+    if w.post_message_with_transfer(&msg, &transfer).is_err() {
+        finish(shared, Err("the job could not be sent to the worker".into()));
+    }
+}
+
+/// A running job.
+#[derive(Clone)]
+pub struct JobHandle {
+    shared: Rc<RefCell<Shared>>,
+    cancelled: Rc<Cell<bool>>,
+}
+
+impl JobHandle {
+    /// Stops the job at once: its workers are terminated (on the page: no further slice runs).
+    /// The done callback is not called.
+    pub fn cancel(&self) {
+        self.cancelled.set(true);
+        let workers: Vec<_> = {
+            let mut s = self.shared.borrow_mut();
+            s.finished = true;
+            s.on_done = None;
+            for p in &mut s.parts {
+                p._on_message = None;
+            }
+            s.parts.iter_mut().filter_map(|p| p.worker.take()).collect()
+        };
+        for w in workers {
+            w.terminate();
+        }
+        // Replace the terminated workers in the background.
+        crate::tick::after_ms(50, || prewarm(worker_count()));
+    }
+
+    /// Whether the job has ended (done, failed or cancelled).
+    pub fn is_finished(&self) -> bool {
+        self.shared.borrow().finished
+    }
+}
+
+/// Starts `job`: spread over the workers when it can be split, otherwise on one worker; on the
+/// page in slices when workers are refused. `on_progress` gets the status after each slice;
+/// `on_done` gets the merged output or the error, once (never after [`JobHandle::cancel`]).
+pub fn start(
+    job: Job,
+    on_progress: impl Fn(JobStatus) + 'static,
+    on_done: impl FnOnce(Result<JobOutput, String>) + 'static,
+) -> JobHandle {
+    let n = if NO_WORKERS.with(|c| c.get()) { 1 } else { worker_count() };
+    let parts = split(&job, n).unwrap_or_else(|_| vec![job.clone()]);
+    let shared = Rc::new(RefCell::new(Shared {
+        job: job.clone(),
+        parts: parts
+            .iter()
+            .map(|_| Part { worker: None, done: 0, total: None, output: None, _on_message: None })
+            .collect(),
+        unit: String::new(),
+        started_ms: crate::tick::now_ms(),
+        finished: false,
+        on_progress: Rc::new(on_progress),
+        on_done: Some(Box::new(on_done)),
+    }));
+    let handle = JobHandle { shared: shared.clone(), cancelled: Rc::new(Cell::new(false)) };
+    if !NO_WORKERS.with(|c| c.get()) {
+        let mut all = true;
+        for (i, part) in parts.into_iter().enumerate() {
+            let sh = shared.clone();
+            if !acquire(move |w| send(&sh, i, part, w)) {
+                all = false;
+                break;
+            }
+        }
+        if all {
+            return handle;
+        }
+        NO_WORKERS.with(|c| c.set(true));
+        // Workers refused: stop any part already sent and run the whole job on the page.
+        let workers: Vec<_> = shared.borrow_mut().parts.iter_mut().filter_map(|p| p.worker.take()).collect();
+        for w in workers {
+            w.terminate();
+        }
+    }
+    {
+        let mut s = shared.borrow_mut();
+        s.parts = vec![Part { worker: None, done: 0, total: None, output: None, _on_message: None }];
+    }
+    match Running::start(job) {
+        Err(e) => finish(&shared, Err(e.to_string())),
+        Ok(r) => {
+            let p = r.progress();
+            {
+                let mut s = shared.borrow_mut();
+                s.unit = r.unit().to_string();
+                s.parts[0].total = Some(p.total);
+            }
+            let (status, cb) = { let s = shared.borrow(); (s.status(), s.on_progress.clone()) };
+            cb(JobStatus { workers: 0, ..status });
+            page_slice(shared, handle.cancelled.clone(), r, 1024);
+        }
+    }
+    handle
+}
+
+/// One slice of a job on the page, then the next on a later turn of the event loop.
+fn page_slice(shared: Rc<RefCell<Shared>>, cancelled: Rc<Cell<bool>>, mut r: Running, budget: u64) {
+    if cancelled.get() || shared.borrow().finished {
+        return;
+    }
+    let t0 = crate::tick::now_ms();
+    let before = r.progress().done;
+    let p = match r.step(budget) {
+        Ok(p) => p,
+        Err(e) => return finish(&shared, Err(e.to_string())),
+    };
+    let dt = (crate::tick::now_ms() - t0).max(0.05);
+    let next = (((p.done - before).max(1) as f64) / dt * PAGE_SLICE_MS).clamp(1.0, 1e12) as u64;
+    if p.is_done() {
+        return finish(&shared, r.finish().map_err(|e| e.to_string()));
+    }
+    let (status, cb) = {
+        let mut s = shared.borrow_mut();
+        s.parts[0].done = p.done;
+        (JobStatus { workers: 0, ..s.status() }, s.on_progress.clone())
+    };
+    cb(status);
+    crate::tick::later(move || page_slice(shared, cancelled, r, next));
+}

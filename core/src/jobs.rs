@@ -1,0 +1,1138 @@
+//! Long studies as plain, serializable jobs that run in slices: the page hands a [`Job`] to a web
+//! worker (or runs it in slices on its own thread), the worker calls [`Running::step`] with a work
+//! budget until it is done, posting [`Progress`] between slices, and sends back the [`JobOutput`].
+//! Nothing here knows of workers, threads or clocks; the same code runs natively in the tests.
+//!
+//! **Work bound before the start.** [`Running::start`] validates the job and returns its total work
+//! in [`Progress::total`] (units named by [`Running::unit`]: trials, corners, sample passes or bytes)
+//! before any of it is done, so the page can announce the size of a study and, after the first
+//! slice, a time estimate from the measured rate.
+//!
+//! **Slices.** `step(budget)` does at least one unit and stops once `budget` units are done in that
+//! call; a unit that cannot be cut (the signal study's main pass, the whole worst case, a
+//! simulation of the oscillator or debouncer) is done in one step, and counts for its weight.
+//!
+//! **Splitting over N workers, identical to one run.** [`split`] cuts a Monte Carlo job into N
+//! consecutive trial ranges and a noise sweep into N consecutive level ranges; [`merge`] puts the
+//! parts' outputs back together in order. The result is bit-identical to one run with the same
+//! seed because nothing depends on which worker ran what:
+//! - Monte Carlo: each trial has its own generator, seeded from the run's seed and the trial index
+//!   (xoshiro256++ through SplitMix64 with `key ^ index`, `key` the first output of a generator
+//!   seeded with the run's seed; see [`crate::tolerance::monte_carlo`]). A part covering trials
+//!   `[a, b)` draws exactly the numbers trials a…b−1 draw in a single run; the parts' values are
+//!   concatenated in trial order before the statistics, which are then computed once.
+//! - Noise sweep: the sweep noise is generated once at 1 V RMS from the signal's seed and scaled
+//!   for each level (common random numbers, [`crate::signal::sweep`]); every part regenerates the
+//!   same unit noise from the same seed, so a level's point depends only on its index.
+//!
+//! **Large arrays.** [`JobOutput::take_arrays`] and [`JobOutput::put_arrays`] (and the same on
+//! [`Job`]) move the big sample vectors out of a value and back in, so a transport can send them as
+//! binary arrays and the rest as JSON; take, serialise, deserialise and put gives the value back.
+//!
+//! **Standard-value search: slot.** The search (`crate::search`) is being made sliceable separately;
+//! when its sliced API lands it becomes one more variant here (`Job::Search`), with its progress in
+//! evaluated combinations and its split by the first enumerated resistor. Until then the page runs
+//! the search as before.
+
+use crate::error::DesignError;
+use crate::signal::csv::{Capture, CsvOptions, CsvParser};
+use crate::signal::debounce::{simulate_debounce, DebounceSettings, DebounceSimulation};
+use crate::signal::oscillator::{simulate_oscillator, OscillatorSettings, OscillatorSimulation};
+use crate::signal::report::{run_signal, SignalReport, SignalRun, SignalSettings, SignalSource};
+use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
+use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
+use crate::signal::TimeBase;
+use crate::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use crate::tolerance::worst_case::{worst_case, WorstCase};
+use crate::tolerance::ToleranceSettings;
+use crate::topology::{Circuit, Topology};
+use serde::{Deserialize, Serialize};
+
+/// Consecutive indices `[start, end)` of a job's trials or sweep levels: one part of a split job.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct PartRange {
+    /// First index covered.
+    pub start: u64,
+    /// One past the last index covered.
+    pub end: u64,
+}
+
+/// A long study, as plain data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum Job {
+    /// Monte Carlo of a circuit; `trials` limits it to a part of the run (see [`split`]).
+    MonteCarlo {
+        /// The circuit.
+        circuit: Topology,
+        /// Bands, trials, seed, spec window.
+        settings: ToleranceSettings,
+        /// The part of the run; `None`: the whole run.
+        trials: Option<PartRange>,
+    },
+    /// Worst case (all corners up to the settings' corner limit, else the sensitivity signs).
+    WorstCase {
+        /// The circuit.
+        circuit: Topology,
+        /// Bands and corner limit.
+        settings: ToleranceSettings,
+    },
+    /// The signal study with its noise sweep (when the settings ask for one), with waveforms for
+    /// display reduced to at most `display_points` points (see [`reduce_for_display`]).
+    Signal {
+        /// The design's thresholds and output levels.
+        design: TriggerDesign,
+        /// The study's settings.
+        settings: SignalSettings,
+        /// An imported capture (its arrays travel apart, see [`Job::take_arrays`]).
+        capture: Option<Capture>,
+        /// Largest number of points kept per waveform.
+        display_points: usize,
+    },
+    /// Some levels of the noise sweep alone (a part of a split sweep).
+    NoiseSweep {
+        /// The design.
+        design: TriggerDesign,
+        /// The study's settings (its `sweep` must be set).
+        settings: SignalSettings,
+        /// The levels to run; `None`: all.
+        levels: Option<PartRange>,
+    },
+    /// Reading a CSV capture.
+    CsvImport {
+        /// The file's text.
+        text: String,
+        /// Columns, separators, header mode.
+        options: CsvOptions,
+    },
+    /// Time-domain simulation of the relaxation oscillator.
+    Oscillator {
+        /// The design.
+        design: TriggerDesign,
+        /// The oscillator's settings.
+        settings: OscillatorSettings,
+        /// Cycles to simulate.
+        cycles: usize,
+    },
+    /// Time-domain simulation of the RC debouncer.
+    Debouncer {
+        /// The design.
+        design: TriggerDesign,
+        /// The debouncer's settings.
+        settings: DebounceSettings,
+    },
+}
+
+/// The signal study's waveforms and summary, ready to draw (plain data; the page turns it into a
+/// [`SignalRun`] with [`SignalView::into_run`]).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SignalView {
+    /// Sample times of the (possibly reduced) waveforms.
+    pub time: TimeBase,
+    /// The noise-free signal (`None` for a capture).
+    pub clean_v: Option<Vec<f64>>,
+    /// The signal the triggers saw.
+    pub signal_v: Vec<f64>,
+    /// The design's output.
+    pub design_output_v: Vec<f64>,
+    /// The comparator's output.
+    pub baseline_output_v: Vec<f64>,
+    /// The design's edges (exact, never reduced).
+    pub design_edges: Vec<Edge>,
+    /// The comparator's edges.
+    pub baseline_edges: Vec<Edge>,
+    /// The design's intended edges.
+    pub intended_edges: Vec<Edge>,
+    /// The comparator's intended edges.
+    pub intended_baseline_edges: Vec<Edge>,
+    /// The summary, computed on every sample.
+    pub report: SignalReport,
+}
+
+impl SignalView {
+    /// The view as the [`SignalRun`] the page draws.
+    pub fn into_run(self) -> SignalRun {
+        SignalRun {
+            time: self.time,
+            clean_v: self.clean_v,
+            signal_v: self.signal_v,
+            design_output_v: self.design_output_v,
+            baseline_output_v: self.baseline_output_v,
+            design_edges: self.design_edges,
+            baseline_edges: self.baseline_edges,
+            intended_edges: self.intended_edges,
+            intended_baseline_edges: self.intended_baseline_edges,
+            report: self.report,
+        }
+    }
+}
+
+/// The points of a part of a noise sweep.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SweepPart {
+    /// First level covered.
+    pub start: u64,
+    /// One past the last level covered.
+    pub end: u64,
+    /// One point per level, in level order.
+    pub points: Vec<SweepPoint>,
+}
+
+/// What a job produces.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum JobOutput {
+    /// A whole Monte Carlo run.
+    MonteCarlo(MonteCarloResult),
+    /// A part of a Monte Carlo run (merge the parts with [`merge`]).
+    MonteCarloPart(MonteCarloPartial),
+    /// The worst case.
+    WorstCase(WorstCase),
+    /// The signal study.
+    Signal(Box<SignalView>),
+    /// A part of a noise sweep.
+    SweepPart(SweepPart),
+    /// The imported capture.
+    Capture(Capture),
+    /// The oscillator simulation.
+    Oscillator(OscillatorSimulation),
+    /// The debouncer simulation.
+    Debouncer(DebounceSimulation),
+}
+
+/// How far a job is, in its own units.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Progress {
+    /// Units done.
+    pub done: u64,
+    /// Units in all (known before the first step).
+    pub total: u64,
+}
+
+impl Progress {
+    /// Whether the work is complete.
+    pub fn is_done(&self) -> bool {
+        self.done >= self.total
+    }
+
+    /// Fraction done, 0 to 1.
+    pub fn fraction(&self) -> f64 {
+        if self.total == 0 {
+            1.0
+        } else {
+            (self.done as f64 / self.total as f64).min(1.0)
+        }
+    }
+}
+
+/// The signal study's main pass (generation, the design's and the comparator's triggers on the
+/// noisy and the noise-free signal, the minimum-hysteresis check) weighs about this many sweep
+/// levels (each level is two trigger passes; measured natively, common practice for a progress bar).
+const STUDY_WEIGHT: u64 = 4;
+
+/// Points kept per waveform for display when a job does not say (a 10 M-sample study comes back as
+/// 400,000 points: min and max of every 50 samples).
+pub const DEFAULT_DISPLAY_POINTS: usize = 400_000;
+
+enum State {
+    MonteCarlo {
+        run: Box<MonteCarloRun<Topology>>,
+        range: PartRange,
+        whole: bool,
+        acc: MonteCarloPartial,
+    },
+    WorstCase {
+        circuit: Box<Topology>,
+        settings: Box<ToleranceSettings>,
+        out: Option<WorstCase>,
+    },
+    Signal(Box<SignalState>),
+    Csv {
+        text: String,
+        at: usize,
+        parser: Option<Box<CsvParser>>,
+        out: Option<Capture>,
+    },
+    Oscillator {
+        design: TriggerDesign,
+        settings: OscillatorSettings,
+        cycles: usize,
+        out: Option<OscillatorSimulation>,
+    },
+    Debouncer {
+        design: TriggerDesign,
+        settings: DebounceSettings,
+        out: Option<DebounceSimulation>,
+    },
+}
+
+struct SignalState {
+    design: TriggerDesign,
+    settings: SignalSettings,
+    capture: Option<Capture>,
+    display_points: usize,
+    /// Whether the study's main pass (and the report) is wanted, or only sweep levels.
+    study: bool,
+    run: Option<SignalRun>,
+    sweep: Option<(SweepSettings, SweepRunner)>,
+    levels: PartRange,
+    points: Vec<SweepPoint>,
+    scratch_v: Vec<f64>,
+    edges: Vec<Edge>,
+    samples: u64,
+}
+
+/// A job being run in slices.
+pub struct Running {
+    state: State,
+    progress: Progress,
+}
+
+fn invalid(reason: impl Into<String>) -> DesignError {
+    DesignError::Parameter {
+        reason: reason.into(),
+    }
+}
+
+/// Samples of a signal study (the capture's, or the generated signal's).
+fn signal_samples(
+    settings: &SignalSettings,
+    capture: Option<&Capture>,
+) -> Result<u64, DesignError> {
+    Ok(match capture {
+        Some(c) => c.volts.len() as u64,
+        None => settings.definition.validate()? as u64,
+    })
+}
+
+/// Number of sweep levels the settings ask for (0 without a sweep or for a capture).
+fn sweep_level_count(
+    design: &TriggerDesign,
+    settings: &SignalSettings,
+    capture: bool,
+) -> Result<u64, DesignError> {
+    match (&settings.sweep, capture) {
+        (Some(sw), false) => Ok(crate::signal::sweep::sweep_levels(
+            sw,
+            design.thresholds.hysteresis_v(),
+        )?
+        .len() as u64),
+        _ => Ok(0),
+    }
+}
+
+impl Running {
+    /// Validates the job and prepares it; nothing of the work is done yet. The returned job's
+    /// [`Running::progress`] carries the total work.
+    pub fn start(job: Job) -> Result<Running, DesignError> {
+        let (state, total) = match job {
+            Job::MonteCarlo {
+                circuit,
+                settings,
+                trials,
+            } => {
+                let run = MonteCarloRun::new(&circuit, &settings)?;
+                let whole = trials.is_none();
+                let range = trials.unwrap_or(PartRange {
+                    start: 0,
+                    end: run.trials(),
+                });
+                if range.start > range.end || range.end > run.trials() {
+                    return Err(invalid(format!(
+                        "Monte Carlo part {}..{} is not inside 0..{}: split the run with jobs::split",
+                        range.start,
+                        range.end,
+                        run.trials()
+                    )));
+                }
+                let acc = run.run(range.start, range.start)?;
+                (
+                    State::MonteCarlo {
+                        run: Box::new(run),
+                        range,
+                        whole,
+                        acc,
+                    },
+                    range.end - range.start,
+                )
+            }
+            Job::WorstCase { circuit, settings } => {
+                circuit.validate()?;
+                settings.validate()?;
+                let n = circuit
+                    .parameters()
+                    .len()
+                    .min(settings.corner_limit)
+                    .min(63) as u32;
+                (
+                    State::WorstCase {
+                        circuit: Box::new(circuit),
+                        settings: Box::new(settings),
+                        out: None,
+                    },
+                    1u64 << n,
+                )
+            }
+            Job::Signal {
+                design,
+                settings,
+                capture,
+                display_points,
+            } => {
+                design.validate()?;
+                let samples = signal_samples(&settings, capture.as_ref())?;
+                let levels = sweep_level_count(&design, &settings, capture.is_some())?;
+                let total = samples.saturating_mul(STUDY_WEIGHT + levels);
+                let st = SignalState {
+                    design,
+                    settings,
+                    capture,
+                    display_points: display_points.max(2),
+                    study: true,
+                    run: None,
+                    sweep: None,
+                    levels: PartRange {
+                        start: 0,
+                        end: levels,
+                    },
+                    points: Vec::new(),
+                    scratch_v: Vec::new(),
+                    edges: Vec::new(),
+                    samples,
+                };
+                (State::Signal(Box::new(st)), total)
+            }
+            Job::NoiseSweep {
+                design,
+                settings,
+                levels,
+            } => {
+                design.validate()?;
+                if settings.sweep.is_none() {
+                    return Err(invalid(
+                        "the noise sweep has no settings: turn the sweep on first",
+                    ));
+                }
+                if matches!(settings.source, SignalSource::ImportedCapture { .. }) {
+                    return Err(invalid("an imported capture has no noise-free version to sweep the noise on: use a generated signal"));
+                }
+                let samples = signal_samples(&settings, None)?;
+                let count = sweep_level_count(&design, &settings, false)?;
+                let range = levels.unwrap_or(PartRange {
+                    start: 0,
+                    end: count,
+                });
+                if range.start > range.end || range.end > count {
+                    return Err(invalid(format!(
+                        "sweep part {}..{} is not inside 0..{count}: split the sweep with jobs::split",
+                        range.start, range.end
+                    )));
+                }
+                let total = samples.saturating_mul(STUDY_WEIGHT + range.end - range.start);
+                let st = SignalState {
+                    design,
+                    settings,
+                    capture: None,
+                    display_points: 2,
+                    study: false,
+                    run: None,
+                    sweep: None,
+                    levels: range,
+                    points: Vec::new(),
+                    scratch_v: Vec::new(),
+                    edges: Vec::new(),
+                    samples,
+                };
+                (State::Signal(Box::new(st)), total)
+            }
+            Job::CsvImport { text, options } => {
+                let parser = CsvParser::new(options).map_err(|e| invalid(e.to_string()))?;
+                let total = text.len() as u64;
+                (
+                    State::Csv {
+                        text,
+                        at: 0,
+                        parser: Some(Box::new(parser)),
+                        out: None,
+                    },
+                    total.max(1),
+                )
+            }
+            Job::Oscillator {
+                design,
+                settings,
+                cycles,
+            } => {
+                design.validate()?;
+                (
+                    State::Oscillator {
+                        design,
+                        settings,
+                        cycles,
+                        out: None,
+                    },
+                    1,
+                )
+            }
+            Job::Debouncer { design, settings } => {
+                design.validate()?;
+                (
+                    State::Debouncer {
+                        design,
+                        settings,
+                        out: None,
+                    },
+                    1,
+                )
+            }
+        };
+        Ok(Running {
+            state,
+            progress: Progress { done: 0, total },
+        })
+    }
+
+    /// What the units of [`Progress`] count.
+    pub fn unit(&self) -> &'static str {
+        match self.state {
+            State::MonteCarlo { .. } => "trials",
+            State::WorstCase { .. } => "corners",
+            State::Signal(_) => "sample passes",
+            State::Csv { .. } => "bytes",
+            State::Oscillator { .. } | State::Debouncer { .. } => "simulations",
+        }
+    }
+
+    /// How far the job is.
+    pub fn progress(&self) -> Progress {
+        self.progress
+    }
+
+    /// Does at least one unit of work and stops once `budget` units are done in this call (or the
+    /// job is complete). Returns the progress after the slice.
+    pub fn step(&mut self, budget: u64) -> Result<Progress, DesignError> {
+        let budget = budget.max(1);
+        let before = self.progress.done;
+        match &mut self.state {
+            State::MonteCarlo {
+                run, range, acc, ..
+            } => {
+                let start = acc.end;
+                let end = start.saturating_add(budget).min(range.end);
+                acc.merge(run.run(start, end)?)?;
+                self.progress.done = acc.end - range.start;
+            }
+            State::WorstCase {
+                circuit,
+                settings,
+                out,
+            } => {
+                if out.is_none() {
+                    *out = Some(worst_case(circuit.as_ref(), settings)?);
+                }
+                self.progress.done = self.progress.total;
+            }
+            State::Signal(st) => {
+                let mut done = before;
+                while done < self.progress.total && done - before < budget {
+                    done = st.advance()?.min(self.progress.total);
+                }
+                self.progress.done = done;
+            }
+            State::Csv {
+                text,
+                at,
+                parser,
+                out,
+            } => {
+                let mut end = at
+                    .saturating_add(usize::try_from(budget).unwrap_or(usize::MAX))
+                    .min(text.len());
+                while !text.is_char_boundary(end) {
+                    end += 1;
+                }
+                if let Some(p) = parser.as_mut() {
+                    p.feed(&text[*at..end])
+                        .map_err(|e| invalid(e.to_string()))?;
+                }
+                *at = end;
+                if *at >= text.len() {
+                    if let Some(p) = parser.take() {
+                        *out = Some(p.finish().map_err(|e| invalid(e.to_string()))?);
+                    }
+                    self.progress.done = self.progress.total;
+                } else {
+                    self.progress.done = *at as u64;
+                }
+            }
+            State::Oscillator {
+                design,
+                settings,
+                cycles,
+                out,
+            } => {
+                *out = Some(simulate_oscillator(design, settings, *cycles)?);
+                self.progress.done = 1;
+            }
+            State::Debouncer {
+                design,
+                settings,
+                out,
+            } => {
+                *out = Some(simulate_debounce(design, settings)?);
+                self.progress.done = 1;
+            }
+        }
+        Ok(self.progress)
+    }
+
+    /// Runs the job to the end in slices of `budget` units.
+    pub fn run_to_end(mut self, budget: u64) -> Result<JobOutput, DesignError> {
+        while !self.progress.is_done() {
+            self.step(budget)?;
+        }
+        self.finish()
+    }
+
+    /// The output of a completed job (an error when work is left).
+    pub fn finish(self) -> Result<JobOutput, DesignError> {
+        if !self.progress.is_done() {
+            return Err(invalid(format!(
+                "the job is not complete: {} of {} units are done; step it to the end first",
+                self.progress.done, self.progress.total
+            )));
+        }
+        let missing = || invalid("the job finished without an output: step it to the end first");
+        match self.state {
+            State::MonteCarlo {
+                run, whole, acc, ..
+            } => {
+                if whole {
+                    Ok(JobOutput::MonteCarlo(run.finish(&acc)?))
+                } else {
+                    Ok(JobOutput::MonteCarloPart(acc))
+                }
+            }
+            State::WorstCase { out, .. } => out.map(JobOutput::WorstCase).ok_or_else(missing),
+            State::Signal(st) => st.finish(),
+            State::Csv { out, .. } => out.map(JobOutput::Capture).ok_or_else(missing),
+            State::Oscillator { out, .. } => out.map(JobOutput::Oscillator).ok_or_else(missing),
+            State::Debouncer { out, .. } => out.map(JobOutput::Debouncer).ok_or_else(missing),
+        }
+    }
+}
+
+impl SignalState {
+    /// The context the sweep levels run in, from the study's run.
+    fn context<'a>(&'a self, run: &'a SignalRun) -> Result<SweepContext<'a>, DesignError> {
+        sweep_context(&self.design, &self.settings, run)
+    }
+}
+
+/// The context the sweep levels run in, from the study's run.
+fn sweep_context<'a>(
+    design: &TriggerDesign,
+    settings: &'a SignalSettings,
+    run: &'a SignalRun,
+) -> Result<SweepContext<'a>, DesignError> {
+    let timing = TimingModel::new(&settings.timing)?;
+    let study = &settings.study;
+    let duration = run.report.duration_s;
+    Ok(SweepContext {
+        definition: &settings.definition,
+        design: *design,
+        baseline: design.comparator(run.report.baseline_level_v),
+        timing,
+        intended: &run.intended_edges,
+        intended_baseline: &run.intended_baseline_edges,
+        window_s: study
+            .match_window_s
+            .unwrap_or_else(|| default_match_window_s(&run.intended_edges, duration)),
+        window_baseline_s: study
+            .match_window_s
+            .unwrap_or_else(|| default_match_window_s(&run.intended_baseline_edges, duration)),
+    })
+}
+
+impl SignalState {
+    /// One indivisible piece: the main pass, or one sweep level. Returns the units done so far.
+    fn advance(&mut self) -> Result<u64, DesignError> {
+        if self.run.is_none() {
+            let mut s = self.settings.clone();
+            s.sweep = None;
+            let run = run_signal(&s, &self.design, self.capture.as_ref())?;
+            if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
+                let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
+                self.sweep = Some((*sw, runner));
+            }
+            self.run = Some(run);
+            return Ok(self.samples * STUDY_WEIGHT);
+        }
+        let next = self.levels.start + self.points.len() as u64;
+        if next < self.levels.end {
+            let (Some(run), Some((sw, runner))) = (&self.run, &self.sweep) else {
+                return Err(invalid("the sweep is not prepared: run the study first"));
+            };
+            let base: &[f64] = match (&run.clean_v, sw.keep_other_noise) {
+                (Some(c), false) => c,
+                _ => &run.signal_v,
+            };
+            let ctx = sweep_context(&self.design, &self.settings, run)?;
+            let point = runner.point(
+                &ctx,
+                next as usize,
+                base,
+                &mut self.scratch_v,
+                &mut self.edges,
+            )?;
+            self.points.push(point);
+        }
+        Ok(self.samples * (STUDY_WEIGHT + self.points.len() as u64))
+    }
+
+    fn finish(self) -> Result<JobOutput, DesignError> {
+        let Some(mut run) = self.run else {
+            return Err(invalid(
+                "the signal study did not run: step it to the end first",
+            ));
+        };
+        if !self.study {
+            return Ok(JobOutput::SweepPart(SweepPart {
+                start: self.levels.start,
+                end: self.levels.end,
+                points: self.points,
+            }));
+        }
+        if let Some((sw, _)) = self.sweep {
+            run.report.sweep = Some(finish_sweep(&sw, self.points));
+        }
+        Ok(JobOutput::Signal(Box::new(reduce_for_display(
+            run,
+            self.display_points,
+        ))))
+    }
+}
+
+/// The waveforms of a signal run reduced to at most `max_points` points each, for display; the
+/// report and the edges are kept whole. Samples are taken in buckets of ⌈2n / max_points⌉; each
+/// bucket gives two points, at its first and last sample time, holding the bucket's minimum and
+/// maximum in the order they occur — so a min/max plot of the reduced waveform equals that of the
+/// full one at bucket resolution. A run of at most `max_points` samples is kept as it is.
+pub fn reduce_for_display(run: SignalRun, max_points: usize) -> SignalView {
+    let n = run.signal_v.len();
+    let max_points = max_points.max(2);
+    if n <= max_points {
+        return SignalView {
+            time: run.time,
+            clean_v: run.clean_v,
+            signal_v: run.signal_v,
+            design_output_v: run.design_output_v,
+            baseline_output_v: run.baseline_output_v,
+            design_edges: run.design_edges,
+            baseline_edges: run.baseline_edges,
+            intended_edges: run.intended_edges,
+            intended_baseline_edges: run.intended_baseline_edges,
+            report: run.report,
+        };
+    }
+    let bucket = (2 * n).div_ceil(max_points).max(2);
+    let times = run.time.view();
+    let mut time_s = Vec::with_capacity(2 * n.div_ceil(bucket));
+    let mut start = 0;
+    while start < n {
+        let end = (start + bucket).min(n);
+        time_s.push(times.at(start));
+        if end - start > 1 {
+            time_s.push(times.at(end - 1));
+        }
+        start = end;
+    }
+    let reduce = |v: &[f64]| -> Vec<f64> {
+        let mut out = Vec::with_capacity(time_s.len());
+        for chunk in v.chunks(bucket) {
+            let (mut lo, mut hi) = ((0, chunk[0]), (0, chunk[0]));
+            for (i, &x) in chunk.iter().enumerate() {
+                if x < lo.1 {
+                    lo = (i, x);
+                }
+                if x > hi.1 {
+                    hi = (i, x);
+                }
+            }
+            if chunk.len() > 1 {
+                if lo.0 <= hi.0 {
+                    out.extend([lo.1, hi.1]);
+                } else {
+                    out.extend([hi.1, lo.1]);
+                }
+            } else {
+                out.push(chunk[0]);
+            }
+        }
+        out
+    };
+    SignalView {
+        clean_v: run.clean_v.as_deref().map(reduce),
+        signal_v: reduce(&run.signal_v),
+        design_output_v: reduce(&run.design_output_v),
+        baseline_output_v: reduce(&run.baseline_output_v),
+        time: TimeBase::Samples { times_s: time_s },
+        design_edges: run.design_edges,
+        baseline_edges: run.baseline_edges,
+        intended_edges: run.intended_edges,
+        intended_baseline_edges: run.intended_baseline_edges,
+        report: run.report,
+    }
+}
+
+/// Cuts a job into at most `parts` jobs whose outputs, merged in order with [`merge`], equal the
+/// whole job's output: Monte Carlo by consecutive trial ranges, a signal study's noise sweep by
+/// consecutive level ranges (the first part also runs the study itself). Any other job, and any
+/// job too small to cut, comes back whole.
+pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
+    let parts = parts.max(1) as u64;
+    let ranges = |count: u64| -> Vec<PartRange> {
+        let k = parts.min(count.max(1));
+        (0..k)
+            .map(|i| PartRange {
+                start: count * i / k,
+                end: count * (i + 1) / k,
+            })
+            .collect()
+    };
+    match job {
+        Job::MonteCarlo {
+            circuit,
+            settings,
+            trials: None,
+        } if parts > 1 => {
+            let trials = settings.monte_carlo.trials;
+            Ok(ranges(trials)
+                .into_iter()
+                .map(|r| Job::MonteCarlo {
+                    circuit: circuit.clone(),
+                    settings: settings.clone(),
+                    trials: Some(r),
+                })
+                .collect())
+        }
+        Job::NoiseSweep {
+            design,
+            settings,
+            levels: None,
+        } if parts > 1 => {
+            let count = sweep_level_count(design, settings, false)?;
+            Ok(ranges(count)
+                .into_iter()
+                .map(|r| Job::NoiseSweep {
+                    design: *design,
+                    settings: settings.clone(),
+                    levels: Some(r),
+                })
+                .collect())
+        }
+        Job::Signal {
+            design,
+            settings,
+            capture: None,
+            display_points,
+        } if parts > 1 && settings.sweep.is_some() => {
+            let count = sweep_level_count(design, settings, false)?;
+            let mut out = vec![Job::Signal {
+                design: *design,
+                settings: SignalSettings {
+                    sweep: None,
+                    ..settings.clone()
+                },
+                capture: None,
+                display_points: *display_points,
+            }];
+            out.extend(ranges(count).into_iter().map(|r| Job::NoiseSweep {
+                design: *design,
+                settings: settings.clone(),
+                levels: Some(r),
+            }));
+            Ok(out)
+        }
+        other => Ok(vec![other.clone()]),
+    }
+}
+
+/// Puts the outputs of the parts of `job` (made by [`split`], in the same order) back together into
+/// the output the whole job gives.
+pub fn merge(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    let mut it = outputs.into_iter();
+    let first = it
+        .next()
+        .ok_or_else(|| invalid("no part outputs to merge: run the parts first"))?;
+    match job {
+        Job::MonteCarlo {
+            circuit,
+            settings,
+            trials: None,
+        } => {
+            let mut acc = match first {
+                JobOutput::MonteCarloPart(p) => p,
+                whole @ JobOutput::MonteCarlo(_) => return Ok(whole),
+                _ => return Err(invalid("a Monte Carlo job got another job's output")),
+            };
+            for o in it {
+                match o {
+                    JobOutput::MonteCarloPart(p) => acc.merge(p)?,
+                    _ => return Err(invalid("a Monte Carlo job got another job's output")),
+                }
+            }
+            let run = MonteCarloRun::new(circuit, settings)?;
+            Ok(JobOutput::MonteCarlo(run.finish(&acc)?))
+        }
+        Job::NoiseSweep { .. } => {
+            let mut acc = match first {
+                JobOutput::SweepPart(p) => p,
+                _ => return Err(invalid("a noise sweep got another job's output")),
+            };
+            for o in it {
+                acc.merge(o)?;
+            }
+            Ok(JobOutput::SweepPart(acc))
+        }
+        Job::Signal { settings, .. } => {
+            let mut view = match first {
+                JobOutput::Signal(v) => v,
+                _ => return Err(invalid("a signal study got another job's output")),
+            };
+            let mut parts: Option<SweepPart> = None;
+            for o in it {
+                match &mut parts {
+                    None => match o {
+                        JobOutput::SweepPart(p) => parts = Some(p),
+                        _ => {
+                            return Err(invalid("a signal study's sweep got another job's output"))
+                        }
+                    },
+                    Some(acc) => acc.merge(o)?,
+                }
+            }
+            if let (Some(sw), Some(p)) = (&settings.sweep, parts) {
+                view.report.sweep = Some(finish_sweep(sw, p.points));
+            }
+            Ok(JobOutput::Signal(view))
+        }
+        _ => Ok(first),
+    }
+}
+
+impl SweepPart {
+    /// Appends the next part (it must start where this one ends).
+    pub fn merge(&mut self, next: JobOutput) -> Result<(), DesignError> {
+        let JobOutput::SweepPart(next) = next else {
+            return Err(invalid("a noise sweep got another job's output"));
+        };
+        if next.start != self.end {
+            return Err(invalid(format!(
+                "sweep parts must be merged in level order: this one ends at level {}, the next starts at {}",
+                self.end, next.start
+            )));
+        }
+        self.end = next.end;
+        self.points.extend(next.points);
+        Ok(())
+    }
+}
+
+fn take_time(t: &mut TimeBase, out: &mut Vec<Vec<f64>>) {
+    if let TimeBase::Samples { times_s } = t {
+        out.push(std::mem::take(times_s));
+    }
+}
+
+fn put_time(t: &mut TimeBase, it: &mut impl Iterator<Item = Vec<f64>>) -> Result<(), DesignError> {
+    if let TimeBase::Samples { times_s } = t {
+        *times_s = it
+            .next()
+            .ok_or_else(|| invalid("an array is missing: send every array the value gave"))?;
+    }
+    Ok(())
+}
+
+fn next_array(it: &mut impl Iterator<Item = Vec<f64>>) -> Result<Vec<f64>, DesignError> {
+    it.next()
+        .ok_or_else(|| invalid("an array is missing: send every array the value gave"))
+}
+
+impl Job {
+    /// Moves the large sample vectors out (an imported capture's times and voltages), leaving them
+    /// empty; [`Job::put_arrays`] puts them back in the same order.
+    pub fn take_arrays(&mut self) -> Vec<Vec<f64>> {
+        match self {
+            Job::Signal {
+                capture: Some(c), ..
+            } => vec![std::mem::take(&mut c.time_s), std::mem::take(&mut c.volts)],
+            _ => Vec::new(),
+        }
+    }
+
+    /// Puts back what [`Job::take_arrays`] took.
+    pub fn put_arrays(&mut self, arrays: Vec<Vec<f64>>) -> Result<(), DesignError> {
+        let mut it = arrays.into_iter();
+        if let Job::Signal {
+            capture: Some(c), ..
+        } = self
+        {
+            c.time_s = next_array(&mut it)?;
+            c.volts = next_array(&mut it)?;
+        }
+        Ok(())
+    }
+}
+
+impl JobOutput {
+    /// Moves the large sample vectors out (Monte Carlo values, waveforms, capture samples), leaving
+    /// them empty; [`JobOutput::put_arrays`] puts them back in the same order.
+    pub fn take_arrays(&mut self) -> Vec<Vec<f64>> {
+        let mut out = Vec::new();
+        match self {
+            JobOutput::MonteCarloPart(p) => {
+                out.push(std::mem::take(&mut p.vt_upper_v));
+                out.push(std::mem::take(&mut p.vt_lower_v));
+            }
+            JobOutput::Signal(v) => {
+                take_time(&mut v.time, &mut out);
+                if let Some(c) = &mut v.clean_v {
+                    out.push(std::mem::take(c));
+                }
+                out.push(std::mem::take(&mut v.signal_v));
+                out.push(std::mem::take(&mut v.design_output_v));
+                out.push(std::mem::take(&mut v.baseline_output_v));
+            }
+            JobOutput::Capture(c) => {
+                out.push(std::mem::take(&mut c.time_s));
+                out.push(std::mem::take(&mut c.volts));
+            }
+            _ => {}
+        }
+        out
+    }
+
+    /// Puts back what [`JobOutput::take_arrays`] took.
+    pub fn put_arrays(&mut self, arrays: Vec<Vec<f64>>) -> Result<(), DesignError> {
+        let mut it = arrays.into_iter();
+        match self {
+            JobOutput::MonteCarloPart(p) => {
+                p.vt_upper_v = next_array(&mut it)?;
+                p.vt_lower_v = next_array(&mut it)?;
+            }
+            JobOutput::Signal(v) => {
+                put_time(&mut v.time, &mut it)?;
+                if let Some(c) = &mut v.clean_v {
+                    *c = next_array(&mut it)?;
+                }
+                v.signal_v = next_array(&mut it)?;
+                v.design_output_v = next_array(&mut it)?;
+                v.baseline_output_v = next_array(&mut it)?;
+            }
+            JobOutput::Capture(c) => {
+                c.time_s = next_array(&mut it)?;
+                c.volts = next_array(&mut it)?;
+            }
+            _ => {}
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::signal::csv::parse_csv;
+
+    fn design() -> TriggerDesign {
+        TriggerDesign {
+            thresholds: crate::analysis::Thresholds {
+                vt_upper_v: 0.3,
+                vt_lower_v: -0.3,
+            },
+            output_high_v: 5.0,
+            output_low_v: 0.0,
+            sense: crate::analysis::Sense::Inverting,
+        }
+    }
+
+    #[test]
+    fn csv_in_slices_equals_one_parse() {
+        let text: String = (0..5000)
+            .map(|i| format!("{},{}\n", i as f64 * 1e-3, (i % 7) as f64 * 0.1))
+            .collect();
+        let whole = parse_csv(&text, &CsvOptions::default()).unwrap();
+        let job = Job::CsvImport {
+            text,
+            options: CsvOptions::default(),
+        };
+        let r = Running::start(job).unwrap();
+        assert_eq!(r.unit(), "bytes");
+        let JobOutput::Capture(c) = r.run_to_end(997).unwrap() else {
+            panic!("not a capture")
+        };
+        assert_eq!(c, whole);
+    }
+
+    #[test]
+    fn unfinished_jobs_and_bad_parts_are_refused() {
+        let text = "0,1\n1,2\n2,3\n".to_string();
+        let r = Running::start(Job::CsvImport {
+            text,
+            options: CsvOptions::default(),
+        })
+        .unwrap();
+        assert!(r.finish().is_err());
+        let mut s = SignalSettings::default();
+        assert!(Running::start(Job::NoiseSweep {
+            design: design(),
+            settings: s.clone(),
+            levels: None
+        })
+        .is_err());
+        s.sweep = Some(SweepSettings::default());
+        let bad = Job::NoiseSweep {
+            design: design(),
+            settings: s,
+            levels: Some(PartRange { start: 3, end: 99 }),
+        };
+        assert!(Running::start(bad).is_err());
+    }
+
+    #[test]
+    fn reduction_keeps_extremes_and_ends() {
+        let s = SignalSettings {
+            definition: crate::signal::generate::SignalDefinition {
+                sample_rate_hz: 1e5,
+                duration_s: 0.1,
+                ..Default::default()
+            },
+            ..Default::default()
+        };
+        let run = run_signal(&s, &design(), None).unwrap();
+        let n = run.signal_v.len();
+        let (lo, hi) = run
+            .signal_v
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| {
+                (a.min(x), b.max(x))
+            });
+        let (t0, t1) = (run.time.view().at(0), run.time.view().at(n - 1));
+        let v = reduce_for_display(run.clone(), 1000);
+        assert!(v.signal_v.len() <= 1000 && v.signal_v.len() == v.design_output_v.len());
+        let rl = v
+            .signal_v
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| {
+                (a.min(x), b.max(x))
+            });
+        assert_eq!(rl, (lo, hi));
+        let m = v.signal_v.len();
+        assert_eq!((v.time.view().at(0), v.time.view().at(m - 1)), (t0, t1));
+        assert!(v.time.view().validate(m).is_ok());
+        assert_eq!(v.report, run.report);
+        // Small runs come back whole.
+        assert_eq!(reduce_for_display(run.clone(), n).signal_v, run.signal_v);
+    }
+}

@@ -1,0 +1,248 @@
+//! Browser end-to-end: the page's layout. At phone width (390 × 844) nothing is wider than the
+//! screen for any demo, with every study open; on a wide screen (1400 × 1000) the key results and
+//! the transfer curve stay in view while a field far down the inputs has the focus; every plot is
+//! drawn at its on-screen size times the device-pixel ratio and again when that size changes.
+//! The run saves screenshots of every demo at 1400 px and 390 px wide in `target/screenshots/`
+//! (`<demo>-1400.png`, `<demo>-390.png`, and `lathe-tachometer-studies-*.png` with the studies open
+//! and run).
+
+use base64::Engine;
+use fantoccini::wd::WebDriverCompatibleCommand;
+use hysteron_tests::browser::{self, Session};
+use std::path::PathBuf;
+
+/// chromedriver's extension command that runs a Chrome DevTools command (here: emulate a screen
+/// size and pixel ratio, and capture the whole page).
+#[derive(Debug)]
+struct Cdp(serde_json::Value);
+
+impl WebDriverCompatibleCommand for Cdp {
+    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
+        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
+    }
+    fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
+        (http::Method::POST, Some(self.0.to_string()))
+    }
+}
+
+async fn cdp(s: &Session, cmd: &str, params: serde_json::Value) -> serde_json::Value {
+    s.client
+        .issue_cmd(Cdp(serde_json::json!({"cmd": cmd, "params": params})))
+        .await
+        .unwrap_or_else(|e| panic!("DevTools command {cmd}: {e}"))
+}
+
+/// Makes the page's viewport `width` × `height` CSS pixels at `dpr` device pixels per CSS pixel, and
+/// waits until the page sees that size.
+async fn viewport(s: &Session, width: u32, height: u32, dpr: f64) {
+    // Phones draw scrollbars over the page: the layout width is the whole screen width.
+    cdp(s, "Emulation.setScrollbarsHidden", serde_json::json!({"hidden": true})).await;
+    cdp(
+        s,
+        "Emulation.setDeviceMetricsOverride",
+        serde_json::json!({"width": width, "height": height, "deviceScaleFactor": dpr, "mobile": false}),
+    )
+    .await;
+    s.wait_js(
+        &format!("the viewport to be {width} × {height} at ratio {dpr}"),
+        &format!("return innerWidth === {width} && innerHeight === {height} && devicePixelRatio === {dpr};"),
+    )
+    .await;
+}
+
+fn screenshot_dir() -> PathBuf {
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..").join("target").join("screenshots");
+    std::fs::create_dir_all(&dir).expect("create target/screenshots");
+    dir
+}
+
+/// Saves the whole page (beyond the viewport) as a PNG.
+async fn screenshot(s: &Session, name: &str) {
+    let shot = cdp(s, "Page.captureScreenshot", serde_json::json!({"format": "png", "captureBeyondViewport": true})).await;
+    let data = shot["data"].as_str().unwrap_or_default();
+    let png = base64::engine::general_purpose::STANDARD.decode(data).expect("screenshot is base64");
+    assert!(png.len() > 1000, "screenshot {name} is empty");
+    std::fs::write(screenshot_dir().join(format!("{name}.png")), png).expect("write screenshot");
+}
+
+/// The elements that reach beyond the viewport's left or right edge, except those inside a box
+/// that scrolls or clips sideways (a wide table scrolling in its own box is fine), as
+/// "tag#id.class width×left" texts; and the page's scroll width.
+const OVERFLOW_JS: &str = r#"
+    const w = document.documentElement.clientWidth;
+    const clipped = el => {
+        for (let p = el.parentElement; p && p !== document.body; p = p.parentElement) {
+            const o = getComputedStyle(p).overflowX;
+            if (o !== 'visible') return true;
+        }
+        return false;
+    };
+    const bad = [];
+    for (const el of document.querySelectorAll('body *')) {
+        const r = el.getBoundingClientRect();
+        if (r.width === 0 || r.height === 0) continue;
+        if ((r.right > w + 0.5 || r.left < -0.5) && !clipped(el)) {
+            bad.push(el.tagName.toLowerCase() + (el.id ? '#' + el.id : '') + (el.className && typeof el.className === 'string' ? '.' + el.className.trim().split(/\s+/).join('.') : '') + ' ' + Math.round(r.width) + '×' + Math.round(r.left));
+        }
+    }
+    return { scroll: document.documentElement.scrollWidth, width: w, bad: bad.slice(0, 12) };
+"#;
+
+/// Opens every folded study and waits until the worst-case table and the part list are shown.
+async fn open_studies(s: &Session) {
+    s.js("document.querySelectorAll('details.study').forEach(d => d.open = true); return true;").await;
+    s.wait_js(
+        "the worst-case table and the part list to be shown",
+        "const a = document.querySelector('#worst-case, #tolerance-error'); const b = document.querySelector('#bom, #bom-error'); \
+         return !!a && !!b && a.getBoundingClientRect().height > 0;",
+    )
+    .await;
+}
+
+async fn close_studies(s: &Session) {
+    s.js("document.querySelectorAll('details.study').forEach(d => d.open = false); window.scrollTo(0, 0); return true;").await;
+}
+
+/// Waits until the plots on screen have been drawn at their present size (the backing store is the
+/// CSS size × device-pixel ratio, to the pixel).
+async fn plots_fit(s: &Session, what: &str) {
+    let script = "const shown = [...document.querySelectorAll('canvas')].filter(c => c.clientWidth > 0 && c.clientHeight > 0); \
+         const bad = shown.filter(c => c.width !== Math.round(c.clientWidth * devicePixelRatio) || c.height !== Math.round(c.clientHeight * devicePixelRatio)) \
+             .map(c => (c.id || c.className) + ' ' + c.width + '×' + c.height + ' for ' + c.clientWidth + '×' + c.clientHeight + ' at ' + devicePixelRatio); \
+         return { shown: shown.length, bad };";
+    browser::wait_until(&format!("the plots to be drawn at CSS size × devicePixelRatio ({what})"), browser::WAIT, || async {
+        let v = s.js(script).await;
+        if v["shown"].as_u64().unwrap_or(0) > 0 && v["bad"].as_array().is_some_and(|b| b.is_empty()) { Ok(()) } else { Err(v.to_string()) }
+    })
+    .await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn no_element_wider_than_a_phone_screen_and_screenshots_of_every_demo() {
+    let s = browser::start().await;
+    for demo in hysteron_core::catalog::demos() {
+        viewport(&s, 1400, 1000, 1.0).await;
+        s.add_starter(&format!("demo:{}", demo.key)).await;
+        close_studies(&s).await;
+        plots_fit(&s, demo.key).await;
+        screenshot(&s, &format!("{}-1400", demo.key)).await;
+
+        viewport(&s, 390, 844, 2.0).await;
+        plots_fit(&s, demo.key).await;
+        screenshot(&s, &format!("{}-390", demo.key)).await;
+        // Every study open: the widest content the page has (worst-case and part-list tables).
+        open_studies(&s).await;
+        let seen = s.js(OVERFLOW_JS).await;
+        let bad = seen["bad"].as_array().cloned().unwrap_or_default();
+        assert!(
+            bad.is_empty() && seen["scroll"].as_f64() <= seen["width"].as_f64(),
+            "{}: at 390 px wide the page is {} px wide; too wide: {bad:?}",
+            demo.key,
+            seen["scroll"]
+        );
+        // Numbers keep their units on one line: no value cell of the tables breaks inside.
+        let broken = s
+            .js("const lines = el => { const r = document.createRange(); r.selectNodeContents(el); \
+                   const fs = parseFloat(getComputedStyle(el).fontSize); const tops = [...r.getClientRects()].filter(b => b.width > 0).map(b => b.top).sort((a, b) => a - b); \
+                   return 1 + tops.filter((t, i) => i > 0 && t - tops[i - 1] > 0.6 * fs).length; }; \
+                 return [...document.querySelectorAll('table.grid td, .key-value')].filter(td => !td.classList.contains('notes') && !td.hasAttribute('colspan') \
+                 && /\\d/.test(td.textContent) && td.getClientRects().length > 0 && lines(td) > 1).map(td => td.textContent).slice(0, 5);")
+            .await;
+        assert_eq!(broken, serde_json::json!([]), "{}: values wrapped across lines", demo.key);
+        close_studies(&s).await;
+    }
+    s.close().await;
+}
+
+/// Whether the element's box lies wholly inside the viewport.
+fn in_view_js(css: &str) -> String {
+    format!(
+        "const el = document.querySelector('{css}'); if (!el) return 'missing'; const r = el.getBoundingClientRect(); \
+         return (r.height > 0 && r.top >= -0.5 && r.left >= -0.5 && r.bottom <= innerHeight + 0.5 && r.right <= innerWidth + 0.5) \
+         || ('{css} at ' + [r.left, r.top, r.right, r.bottom].map(Math.round).join(',') + ' in ' + innerWidth + '×' + innerHeight);"
+    )
+}
+
+async fn assert_in_view(s: &Session, css: &str, context: &str) {
+    let v = s.js(&in_view_js(css)).await;
+    assert_eq!(v, serde_json::Value::Bool(true), "{css} not wholly in view {context}: {v}");
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn results_and_curve_stay_in_view_while_editing() {
+    let s = browser::start().await;
+    viewport(&s, 1400, 1000, 1.0).await;
+    s.add_starter("demo:lathe-tachometer").await;
+    // Fields from the top of the inputs to the bottom: the part list's package choice, a tolerance
+    // field (inside its fold) and the last circuit field. Each is focused the way a user reaches it
+    // (the page scrolls to it); the key results and the curve must stay wholly in view.
+    for css in ["#field-supply_v", "#tol-resistor", "#bom-package", "#mc-trials"] {
+        let el = s.wait_for(css).await;
+        s.js(&format!("document.querySelector('{css}').scrollIntoView({{block: 'center'}}); return true;")).await;
+        el.click().await.unwrap_or_else(|e| panic!("click {css}: {e}"));
+        s.wait_js(&format!("{css} to have the focus"), &format!("return document.activeElement === document.querySelector('{css}');")).await;
+        let scrolled = s.js("return window.scrollY;").await;
+        let context = format!("with {css} focused at 1400 × 1000 (page scrolled to {scrolled})");
+        assert_in_view(&s, "#key-figures", &context).await;
+        assert_in_view(&s, "#transfer-plot", &context).await;
+        assert_in_view(&s, css, &context).await;
+    }
+    // The figures follow the typing beside the field being edited.
+    let before = s.number("#vt-upper").await;
+    s.type_into("#field-supply_v", "9").await;
+    s.wait_number_change("#vt-upper", before).await;
+    assert_in_view(&s, "#key-figures", "after typing a supply").await;
+
+    // At phone width the one-line strip of VT+, VT− and the hysteresis stays at the top while a
+    // field far down is focused.
+    viewport(&s, 390, 844, 2.0).await;
+    let el = s.wait_for("#mc-trials").await;
+    s.js("document.querySelector('#mc-trials').scrollIntoView({block: 'center'}); return true;").await;
+    el.click().await.expect("click the trials field");
+    let context = "with #mc-trials focused at 390 × 844";
+    assert_in_view(&s, "#key-strip", context).await;
+    let strip = s.text("#key-strip").await;
+    assert!(strip.contains("VT+") && strip.contains("VT−") && strip.contains("hysteresis"), "{strip}");
+    assert_in_view(&s, "#mc-trials", context).await;
+    let covered = s
+        .js("const f = document.querySelector('#mc-trials').getBoundingClientRect(); const k = document.querySelector('#key-strip').getBoundingClientRect(); return f.top < k.bottom;")
+        .await;
+    assert_eq!(covered, serde_json::Value::Bool(false), "the key strip covers the focused field");
+    s.close().await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn plots_are_drawn_at_screen_size_times_pixel_ratio() {
+    let s = browser::start().await;
+    viewport(&s, 1400, 1000, 2.0).await;
+    s.add_starter("demo:lathe-tachometer").await;
+    let size = "const c = document.querySelector('#transfer-plot'); return [c.width, c.height, c.clientWidth, c.clientHeight];";
+    plots_fit(&s, "transfer curve at 1400 px, ratio 2").await;
+    let wide = s.js(size).await;
+    assert!(wide[2].as_f64().unwrap_or(0.0) >= 300.0, "the transfer curve is only {wide} wide");
+    // A narrower window: the curve is redrawn at its new size, not stretched.
+    viewport(&s, 700, 900, 1.5).await;
+    plots_fit(&s, "transfer curve at 700 px, ratio 1.5").await;
+    let narrow = s.js(size).await;
+    assert_ne!(wide[2], narrow[2], "the curve kept its width when the window narrowed");
+
+    // Histograms appear (in the opened tolerance fold) at their own size.
+    viewport(&s, 1400, 1000, 2.0).await;
+    s.wait_for("#mc-run").await.click().await.expect("run Monte Carlo");
+    s.wait_js("the histograms to be shown", "const c = document.querySelector('#hist-vt-upper'); return c && c.clientWidth > 0;").await;
+    plots_fit(&s, "histograms").await;
+    // The time view of the signal test, with its lanes.
+    s.wait_for("#signal-run").await.click().await.expect("run the signal test");
+    s.wait_js("the time view to be shown", "const c = document.querySelector('#time-plot'); return c && c.clientWidth > 0;").await;
+    plots_fit(&s, "time view").await;
+    // Zooming redraws at the same backing size (no stretched bitmap).
+    s.wait_for("#zoom-in").await.click().await.expect("zoom in");
+    plots_fit(&s, "time view after zoom").await;
+    // The studies with their plots, for the eye: at 1400 px and at 390 px.
+    plots_fit(&s, "studies at 1400 px").await;
+    screenshot(&s, "lathe-tachometer-studies-1400").await;
+    viewport(&s, 390, 844, 2.0).await;
+    plots_fit(&s, "studies at 390 px").await;
+    screenshot(&s, "lathe-tachometer-studies-390").await;
+    s.close().await;
+}

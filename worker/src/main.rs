@@ -1,0 +1,126 @@
+//! The compute worker: a second WebAssembly module that Trunk builds as a web worker
+//! (`<link data-trunk rel="rust" data-type="worker" data-loader-shim>` in app/index.html; the
+//! files keep the fixed names `hysteron-worker_loader.js`, `hysteron-worker.js` and
+//! `hysteron-worker_bg.wasm`, since the page must name them at run time).
+//!
+//! Protocol (one job per message; the page's side is `app/src/jobs.rs`):
+//! - page → worker: `{ job: "<core::jobs::Job as JSON>", arrays: [Float64Array…], slice_ms }`,
+//!   the job's large vectors taken out with `Job::take_arrays`;
+//! - worker → page: `{ kind: "progress", done, total, unit }` once before the work starts (the
+//!   announced bound) and after each slice (at most every `slice_ms`), then
+//!   `{ kind: "result", output: "<JobOutput as JSON>", arrays: [Float64Array…] }` with the arrays
+//!   transferred (not copied), or `{ kind: "error", message }`.
+//!
+//! Cancel: the page terminates the worker, which stops the work at once wherever it is.
+//! The work runs in slices of `core::jobs::Running::step`, with a budget adapted so that a slice
+//! takes about `slice_ms`; nothing here does math.
+
+#[cfg(target_arch = "wasm32")]
+mod worker {
+    use hysteron_core::jobs::{Job, JobOutput, Running};
+    use wasm_bindgen::prelude::*;
+    use wasm_bindgen::JsCast;
+    use web_sys::{DedicatedWorkerGlobalScope, MessageEvent};
+
+    fn scope() -> Option<DedicatedWorkerGlobalScope> {
+        js_sys::global().dyn_into::<DedicatedWorkerGlobalScope>().ok()
+    }
+
+    fn now_ms() -> f64 {
+        scope().and_then(|s| s.performance()).map(|p| p.now()).unwrap_or(0.0)
+    }
+
+    fn set(o: &js_sys::Object, k: &str, v: &JsValue) {
+        let _ = js_sys::Reflect::set(o, &JsValue::from_str(k), v);
+    }
+
+    fn post(msg: &js_sys::Object, transfer: Option<&js_sys::Array>) {
+        if let Some(s) = scope() {
+            let _ = match transfer {
+                Some(t) => s.post_message_with_transfer(msg, t),
+                None => s.post_message(msg),
+            };
+        }
+    }
+
+    fn post_error(message: &str) {
+        let o = js_sys::Object::new();
+        set(&o, "kind", &"error".into());
+        set(&o, "message", &message.into());
+        post(&o, None);
+    }
+
+    fn post_progress(done: u64, total: u64, unit: &str) {
+        let o = js_sys::Object::new();
+        set(&o, "kind", &"progress".into());
+        set(&o, "done", &(done as f64).into());
+        set(&o, "total", &(total as f64).into());
+        set(&o, "unit", &unit.into());
+        post(&o, None);
+    }
+
+    fn arrays_in(v: &JsValue) -> Vec<Vec<f64>> {
+        js_sys::Array::from(v).iter().map(|a| js_sys::Float64Array::from(a).to_vec()).collect()
+    }
+
+    fn run(data: JsValue) -> Result<(), String> {
+        let get = |k: &str| js_sys::Reflect::get(&data, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED);
+        let text = get("job").as_string().ok_or("the job message has no job: send {job, arrays}")?;
+        let slice_ms = get("slice_ms").as_f64().filter(|x| *x > 0.0).unwrap_or(30.0);
+        let mut job: Job = serde_json::from_str(&text).map_err(|e| format!("the job is not readable: {e}"))?;
+        job.put_arrays(arrays_in(&get("arrays"))).map_err(|e| e.to_string())?;
+        let mut running = Running::start(job).map_err(|e| e.to_string())?;
+        let unit = running.unit();
+        let total = running.progress().total;
+        post_progress(0, total, unit);
+        // Start small and grow the budget so that each slice takes about `slice_ms`.
+        let mut budget: u64 = 1024;
+        while !running.progress().is_done() {
+            let t0 = now_ms();
+            let before = running.progress().done;
+            let p = running.step(budget).map_err(|e| e.to_string())?;
+            let dt = now_ms() - t0;
+            let did = (p.done - before).max(1) as f64;
+            let rate = did / dt.max(0.05);
+            budget = (rate * slice_ms).clamp(1.0, 1e12) as u64;
+            post_progress(p.done, p.total, unit);
+        }
+        let mut out: JobOutput = running.finish().map_err(|e| e.to_string())?;
+        let arrays = out.take_arrays();
+        let json = serde_json::to_string(&out).map_err(|e| format!("the result could not be written: {e}"))?;
+        let list = js_sys::Array::new();
+        let transfer = js_sys::Array::new();
+        for a in arrays {
+            let f = js_sys::Float64Array::new_with_length(a.len() as u32);
+            f.copy_from(&a);
+            transfer.push(&f.buffer());
+            list.push(&f);
+        }
+        let o = js_sys::Object::new();
+        set(&o, "kind", &"result".into());
+        set(&o, "output", &json.into());
+        set(&o, "arrays", &list);
+        post(&o, Some(&transfer));
+        Ok(())
+    }
+
+    pub fn start() {
+        let Some(s) = scope() else { return };
+        let on_message = Closure::<dyn FnMut(MessageEvent)>::new(move |ev: MessageEvent| {
+            if let Err(e) = run(ev.data()) {
+                post_error(&e);
+            }
+        });
+        s.set_onmessage(Some(on_message.as_ref().unchecked_ref()));
+        on_message.forget();
+        // Tell the page the module is ready for jobs.
+        let o = js_sys::Object::new();
+        set(&o, "kind", &"ready".into());
+        post(&o, None);
+    }
+}
+
+fn main() {
+    #[cfg(target_arch = "wasm32")]
+    worker::start();
+}
