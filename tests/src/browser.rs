@@ -92,6 +92,11 @@ pub async fn start() -> Session {
         dist.display()
     );
     let base = crate::server::serve(dist).await.expect("start the static server");
+    start_at(base).await
+}
+
+/// As [`start`], for a page already served at `base` (a test that controls its own server).
+pub async fn start_at(base: String) -> Session {
     let port = free_port();
     let driver = Command::new("chromedriver")
         .arg(format!("--port={port}"))

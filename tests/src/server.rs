@@ -19,15 +19,22 @@ fn mime(path: &Path) -> &'static str {
         "svg" => "image/svg+xml",
         "json" => "application/json",
         "png" => "image/png",
+        "webmanifest" => "application/manifest+json",
         _ => "application/octet-stream",
     }
 }
 
 /// Starts serving `root` on a free loopback port; returns the base URL (`http://127.0.0.1:PORT/`).
 pub async fn serve(root: PathBuf) -> std::io::Result<String> {
+    serve_stoppable(root).await.map(|(base, _)| base)
+}
+
+/// As [`serve`], and a handle whose `abort()` stops the server: the port is closed, so every later
+/// request is refused as by a machine with no network (the offline test).
+pub async fn serve_stoppable(root: PathBuf) -> std::io::Result<(String, tokio::task::AbortHandle)> {
     let listener = TcpListener::bind("127.0.0.1:0").await?;
     let port = listener.local_addr()?.port();
-    tokio::spawn(async move {
+    let accept = tokio::spawn(async move {
         loop {
             let Ok((mut sock, _)) = listener.accept().await else { continue };
             let root = root.clone();
@@ -59,5 +66,5 @@ pub async fn serve(root: PathBuf) -> std::io::Result<String> {
             });
         }
     });
-    Ok(format!("http://127.0.0.1:{port}/"))
+    Ok((format!("http://127.0.0.1:{port}/"), accept.abort_handle()))
 }

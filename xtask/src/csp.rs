@@ -1,9 +1,10 @@
 //! Writes the page's Content-Security-Policy into the built index.html (a Trunk post-build hook).
 //!
-//! The policy allows only the page's own files, its WebAssembly (`'wasm-unsafe-eval'`), and the one
-//! inline module script Trunk writes to load it, by its SHA-256 hash (CSP Level 3, `'sha256-…'`).
-//! Images may be `data:`/`blob:` URLs (the schematic and plot exports); web workers only from the
-//! page's own files (`worker-src 'self'`: the compute worker's loader); nothing else is allowed.
+//! The policy allows only the page's own files, its WebAssembly (`'wasm-unsafe-eval'`), and the page's
+//! inline scripts (Trunk's module loader, the service worker's registration) by their SHA-256 hashes
+//! (CSP Level 3, `'sha256-…'`). Images may be `data:`/`blob:` URLs (the schematic and plot exports);
+//! web workers (the compute worker's loader, the service worker) and the web app manifest only from
+//! the page's own files (`worker-src 'self'`, `manifest-src 'self'`); nothing else is allowed.
 
 use std::path::PathBuf;
 
@@ -33,7 +34,7 @@ pub fn with_policy(html: &str) -> Result<String, String> {
         rest = &after[close + 9..];
     }
     let policy = format!(
-        "default-src 'self'; script-src 'self' 'wasm-unsafe-eval' {}; style-src 'self'; worker-src 'self'; img-src 'self' data: blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'",
+        "default-src 'self'; script-src 'self' 'wasm-unsafe-eval' {}; style-src 'self'; worker-src 'self'; manifest-src 'self'; img-src 'self' data: blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'",
         hashes.join(" ")
     );
     let head = html.find("<head>").ok_or("csp: no <head> in index.html")? + 6;

@@ -4,12 +4,16 @@
 //! - `cargo xtask test`: installs whatever is missing (browser included) and runs every test:
 //!   unit, property, reference, wasm and browser end-to-end. Property tests run with the fixed seed
 //!   [`CI_PROPTEST_SEED`], so a run is repeatable and CI never fails on a new random draw.
+//! - `cargo xtask single-file`: builds the page and writes it as one self-contained HTML file,
+//!   `dist-single/hysteron.html`, that works opened from disk (see `single.rs`).
 //! - `cargo xtask explore [SCALE] [SEED]`: runs only the property tests, with a fresh random seed (or
 //!   SEED) and SCALE times as many cases (default 10), to look for new failures; it prints the seed.
 //!
 //! Each step prints what it checks and what it installs.
 
 mod csp;
+mod offline;
+mod single;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode};
@@ -35,10 +39,15 @@ fn main() -> ExitCode {
         Some("build") => setup_build_tools(&root).and_then(|_| build_page(&root)),
         Some("setup") => setup_build_tools(&root).and_then(|_| setup_browser()),
         Some("csp") => csp::write_policy(),
+        // Trunk's post-build hook: the policy first (it changes index.html), then the service worker's
+        // file list and version (a hash over every built file).
+        Some("single-file") => setup_build_tools(&root).and_then(|_| build_page(&root)).and_then(|_| single::write_single_file(&root)),
+        Some("post-build") => csp::write_policy().and_then(|_| offline::write_service_worker()),
         _ => {
             eprintln!("usage: cargo xtask <serve|test|explore|build|setup>");
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
             eprintln!("  test    install what is missing, run every test (unit, property, reference, wasm, browser)");
+            eprintln!("  single-file  build the page as one HTML file that opens from disk: dist-single/hysteron.html");
             eprintln!("  explore [SCALE] [SEED]  property tests only, fresh seed (or SEED), SCALE× the cases (default {EXPLORE_SCALE})");
             return ExitCode::from(2);
         }
@@ -201,6 +210,7 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     setup_build_tools(root)?;
     setup_browser()?;
     build_page(root)?;
+    single::write_single_file(root)?;
     say("native tests: unit, property, reference and browser end-to-end");
     say(&format!("property tests use the fixed seed PROPTEST_RNG_SEED={CI_PROPTEST_SEED} (fresh seeds: cargo xtask explore)"));
     run(Command::new("cargo")

@@ -1,0 +1,226 @@
+//! `cargo xtask single-file`: the built page as one self-contained HTML file,
+//! `dist-single/hysteron.html`, that works opened straight from disk (file://): for a bench PC with
+//! no network, a USB stick or an e-mail attachment.
+//!
+//! From `dist/index.html`: each style sheet becomes a `<style>` element, the icon a `data:` URL, the
+//! WebAssembly base64 text inside the loader script, which is the JS glue itself followed by the
+//! start-up call (the browser refuses module and .wasm loads from file://, but not inline ones). The
+//! preload hints, the web app manifest link and the old policy are dropped. A new
+//! Content-Security-Policy allows nothing from anywhere (`default-src 'none'`) but the page's own
+//! inline scripts and styles by their SHA-256 hashes, its WebAssembly and `data:`/`blob:` images.
+
+use crate::csp::{base64, sha256};
+use std::path::Path;
+
+/// The single file's folder (beside `dist/`) and name.
+pub const OUT_DIR: &str = "dist-single";
+/// The single file's name inside [`OUT_DIR`].
+pub const OUT_FILE: &str = "hysteron.html";
+
+/// Reads `<root>/dist`, writes `<root>/dist-single/hysteron.html`.
+pub fn write_single_file(root: &Path) -> Result<(), String> {
+    let dist = root.join("dist");
+    let index = std::fs::read_to_string(dist.join("index.html"))
+        .map_err(|e| format!("single-file: cannot read {}/index.html (build the page first): {e}", dist.display()))?;
+    let read = |name: &str| -> Result<Vec<u8>, String> {
+        let rel = name.trim_start_matches("./");
+        if rel.contains("..") || rel.contains(':') {
+            return Err(format!("single-file: {name:?} is not a file of the build"));
+        }
+        std::fs::read(dist.join(rel)).map_err(|e| format!("single-file: cannot read {}: {e}", dist.join(rel).display()))
+    };
+    let html = single_file(&index, &read)?;
+    let out = root.join(OUT_DIR);
+    std::fs::create_dir_all(&out).map_err(|e| format!("single-file: cannot make {}: {e}", out.display()))?;
+    std::fs::write(out.join(OUT_FILE), &html).map_err(|e| format!("single-file: cannot write {}: {e}", out.join(OUT_FILE).display()))?;
+    println!("[xtask] single-file: {} ({} bytes)", out.join(OUT_FILE).display(), html.len());
+    Ok(())
+}
+
+/// The value of attribute `name` in the opening tag `tag` (quoted with `"`), if present.
+fn attr<'a>(tag: &'a str, name: &str) -> Option<&'a str> {
+    let needle = format!(" {name}=\"");
+    let start = tag.find(&needle)? + needle.len();
+    let end = tag[start..].find('"')? + start;
+    Some(&tag[start..end])
+}
+
+/// `index.html` of the build turned into one file; `read` gives a built file's bytes by its href.
+pub fn single_file(index: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) -> Result<String, String> {
+    let mut out = String::with_capacity(index.len());
+    let mut rest = index;
+    let mut loaders = 0;
+    loop {
+        let next = [rest.find("<link "), rest.find("<meta "), rest.find("<script")].into_iter().flatten().min();
+        let Some(i) = next else {
+            out.push_str(rest);
+            break;
+        };
+        out.push_str(&rest[..i]);
+        let after = &rest[i..];
+        let open_end = after.find('>').ok_or("single-file: unterminated tag in index.html")? + 1;
+        let tag = &after[..open_end];
+        if tag.starts_with("<script") {
+            let close = after.find("</script>").ok_or("single-file: unterminated script in index.html")?;
+            let body = &after[open_end..close];
+            if attr(tag, "src").is_some() {
+                return Err(format!("single-file: external script {tag} is not supported"));
+            }
+            if let Some(glue) = loader_glue(body) {
+                let js = String::from_utf8(read(glue)?).map_err(|_| format!("single-file: {glue} is not UTF-8"))?;
+                let wasm = loader_wasm(body).ok_or("single-file: the loader names no .wasm")?;
+                let bytes = read(wasm)?;
+                out.push_str("<script type=\"module\">");
+                out.push_str(&inline_loader(&js, &bytes)?);
+                out.push_str("</script>");
+                loaders += 1;
+            } else {
+                out.push_str(&after[..close + 9]);
+            }
+            rest = &after[close + 9..];
+            continue;
+        }
+        rest = &after[open_end..];
+        if tag.starts_with("<meta ") {
+            if attr(tag, "http-equiv") != Some("Content-Security-Policy") {
+                out.push_str(tag);
+            }
+            continue;
+        }
+        match attr(tag, "rel") {
+            Some("stylesheet") => {
+                let href = attr(tag, "href").ok_or("single-file: style sheet without href")?;
+                let css = String::from_utf8(read(href)?).map_err(|_| format!("single-file: {href} is not UTF-8"))?;
+                if css.contains("</style") {
+                    return Err(format!("single-file: {href} contains </style"));
+                }
+                out.push_str("<style>");
+                out.push_str(&css);
+                out.push_str("</style>");
+            }
+            Some("icon") => {
+                let href = attr(tag, "href").ok_or("single-file: icon without href")?;
+                let kind = if href.ends_with(".svg") { "image/svg+xml" } else { "image/png" };
+                out.push_str(&format!("<link rel=\"icon\" href=\"data:{kind};base64,{}\">", base64(&read(href)?)));
+            }
+            // Loads that cannot happen from disk, and would only be refused there.
+            Some("modulepreload") | Some("preload") | Some("manifest") => {}
+            _ => out.push_str(tag),
+        }
+    }
+    if loaders != 1 {
+        return Err(format!("single-file: expected one Trunk loader script in index.html, found {loaders}"));
+    }
+    with_policy(&out)
+}
+
+/// The glue module the Trunk loader imports (`import init, * as bindings from './x.js';`).
+fn loader_glue(body: &str) -> Option<&str> {
+    let i = body.find("import init")?;
+    let from = body[i..].find("from '")? + i + 6;
+    let end = body[from..].find('\'')? + from;
+    Some(&body[from..end])
+}
+
+/// The .wasm the Trunk loader passes to `init`.
+fn loader_wasm(body: &str) -> Option<&str> {
+    let i = body.find("module_or_path: '")? + 17;
+    let end = body[i..].find('\'')? + i;
+    Some(&body[i..end])
+}
+
+/// The glue module's text followed by the start-up: the WebAssembly decoded from base64 and handed to
+/// the glue's `__wbg_init` (which instantiates bytes as it would a fetched file). The names added are
+/// `hysteron…` ones: the glue's own top level already declares `wasm`.
+fn inline_loader(glue: &str, wasm: &[u8]) -> Result<String, String> {
+    if !glue.contains("__wbg_init") {
+        return Err("single-file: the JS glue has no __wbg_init (wasm-bindgen changed?)".into());
+    }
+    if glue.contains("</script") {
+        return Err("single-file: the JS glue contains </script".into());
+    }
+    if glue.lines().any(|l| l.trim_start().starts_with("import ")) {
+        return Err("single-file: the JS glue imports other modules; inlining them is not supported".into());
+    }
+    Ok(format!(
+        "{glue}\nconst hysteronWasm = Uint8Array.from(atob('{}'), (c) => c.charCodeAt(0));\n\
+         const hysteronExports = await __wbg_init({{ module_or_path: hysteronWasm }});\n\
+         dispatchEvent(new CustomEvent('TrunkApplicationStarted', {{ detail: {{ wasm: hysteronExports }} }}));\n",
+        base64(wasm)
+    ))
+}
+
+/// Hashes of the inline elements named `element` (`script` or `style`), as CSP sources.
+fn hashes(html: &str, element: &str) -> Result<Vec<String>, String> {
+    let (open, close) = (format!("<{element}"), format!("</{element}>"));
+    let mut out = Vec::new();
+    let mut rest = html;
+    while let Some(i) = rest.find(&open) {
+        let after = &rest[i..];
+        let open_end = after.find('>').ok_or("single-file: unterminated tag")? + 1;
+        let end = after.find(&close).ok_or_else(|| format!("single-file: unterminated {element}"))?;
+        out.push(format!("'sha256-{}'", base64(&sha256(&after.as_bytes()[open_end..end]))));
+        rest = &after[end + close.len()..];
+    }
+    Ok(out)
+}
+
+/// The html with its policy inserted right after `<head>`: nothing from anywhere but the hashed
+/// inline scripts and styles, the WebAssembly they start, and `data:`/`blob:` images.
+fn with_policy(html: &str) -> Result<String, String> {
+    let scripts = hashes(html, "script")?.join(" ");
+    let styles = hashes(html, "style")?.join(" ");
+    let policy = format!(
+        "default-src 'none'; script-src 'wasm-unsafe-eval' {scripts}; style-src {styles}; img-src data: blob:; object-src 'none'; base-uri 'none'; form-action 'none'"
+    );
+    let head = html.find("<head>").ok_or("single-file: no <head> in index.html")? + 6;
+    Ok(format!("{}\n  <meta http-equiv=\"Content-Security-Policy\" content=\"{policy}\">{}", &html[..head], &html[head..]))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const INDEX: &str = "<!DOCTYPE html>\n<html><head>\n  <meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'self'\">\n  <meta charset=\"utf-8\">\n  <link rel=\"stylesheet\" href=\"./style-1.css\" integrity=\"sha384-x\"/>\n  <link rel=\"icon\" href=\"./icon-2.svg\" integrity=\"sha384-y\"/>\n  <link rel=\"manifest\" href=\"manifest.webmanifest\">\n<script type=\"module\">\nimport init, * as bindings from './app-3.js';\nconst wasm = await init({ module_or_path: './app-3_bg.wasm' });\n</script>\n<link rel=\"modulepreload\" href=\"./app-3.js\"><link rel=\"preload\" href=\"./app-3_bg.wasm\" as=\"fetch\"></head>\n<body><script>if (1) {}</script></body></html>";
+
+    fn read(name: &str) -> Result<Vec<u8>, String> {
+        Ok(match name {
+            "./style-1.css" => b"body{color:red}".to_vec(),
+            "./icon-2.svg" => b"<svg/>".to_vec(),
+            "./app-3.js" => b"async function __wbg_init(m) {}\nexport { __wbg_init as default }".to_vec(),
+            "./app-3_bg.wasm" => b"\0asm\x01\0\0\0".to_vec(),
+            other => return Err(format!("unexpected read of {other}")),
+        })
+    }
+
+    #[test]
+    fn every_file_is_inlined_and_no_load_remains() {
+        let out = single_file(INDEX, &read).unwrap();
+        assert!(out.contains("<style>body{color:red}</style>"), "{out}");
+        assert!(out.contains(&format!("href=\"data:image/svg+xml;base64,{}\"", base64(b"<svg/>"))), "{out}");
+        assert!(out.contains(&format!("atob('{}')", base64(b"\0asm\x01\0\0\0"))), "{out}");
+        assert!(out.contains("export { __wbg_init as default }"), "{out}");
+        for gone in ["href=\"./", "manifest", "preload", "import init", "default-src 'self'", "integrity="] {
+            assert!(!out.contains(gone), "{gone} left in {out}");
+        }
+        assert!(out.contains("<script>if (1) {}</script>"), "other inline scripts stay: {out}");
+    }
+
+    #[test]
+    fn policy_hashes_each_inline_script_and_style_and_allows_nothing_else() {
+        let out = single_file(INDEX, &read).unwrap();
+        assert!(out.starts_with("<!DOCTYPE html>\n<html><head>\n  <meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; "));
+        assert_eq!(out.matches("Content-Security-Policy").count(), 1);
+        assert!(out.contains(&format!("'sha256-{}'", base64(&sha256(b"if (1) {}")))));
+        assert!(out.contains(&format!("style-src 'sha256-{}';", base64(&sha256(b"body{color:red}")))));
+        assert_eq!(out.matches("'sha256-").count(), 3, "two scripts and one style: {out}");
+        assert!(!out.contains("'unsafe-inline'") && !out.contains("'self'"));
+    }
+
+    #[test]
+    fn missing_loader_or_file_is_an_error() {
+        assert!(single_file("<html><head></head><body></body></html>", &read).unwrap_err().contains("loader"));
+        let no_css = |n: &str| if n.ends_with(".css") { Err("gone".to_string()) } else { read(n) };
+        assert_eq!(single_file(INDEX, &no_css).unwrap_err(), "gone");
+    }
+}
