@@ -35,8 +35,12 @@
 
 use crate::error::{finite, non_negative, DesignError};
 use crate::limits::{check as limit, Quantity};
+use crate::notation::Unit;
 use crate::topology::{Parameter, ParameterKind};
 use serde::{Deserialize, Serialize};
+
+/// 0 °C in kelvin (SI definition of the degree Celsius).
+pub const KELVIN_AT_0_C: f64 = 273.15;
 
 /// Reference temperature of datasheet values and temperature coefficients, °C.
 pub const REFERENCE_TEMPERATURE_C: f64 = 25.0;
@@ -506,6 +510,10 @@ fn default_band(p: &Parameter, s: &ToleranceSettings) -> ToleranceBand {
             DEFAULT_OFFSET_V
         })),
         ParameterKind::BiasCurrent => ToleranceBand::Limits(if p.value >= 0.0 { [0.0, p.value] } else { [p.value, 0.0] }),
+        // A device's own temperature (a junction, kelvin) spans the operating range.
+        ParameterKind::Device if p.unit == Unit::Kelvin => {
+            ToleranceBand::Limits([s.temperature_min_c + KELVIN_AT_0_C, s.temperature_max_c + KELVIN_AT_0_C])
+        }
         ParameterKind::Device => ToleranceBand::Percent(0.0),
     }
 }

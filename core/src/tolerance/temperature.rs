@@ -21,9 +21,10 @@
 //! / |T − 25 °C| over the range, the most a threshold can move per kelvin away from room
 //! temperature with the parts' coefficients at their limits.
 
-use super::settings::{ToleranceSettings, REFERENCE_TEMPERATURE_C};
+use super::settings::{ToleranceSettings, KELVIN_AT_0_C, REFERENCE_TEMPERATURE_C};
 use crate::device::Comparator;
 use crate::error::DesignError;
+use crate::notation::Unit;
 use crate::topology::{sensitivities, Circuit, Drift, ParameterKind, Topology};
 use serde::{Deserialize, Serialize};
 
@@ -145,6 +146,8 @@ enum Move {
     Own(Drift),
     /// A resistor: own coefficient of unknown sign (ppm/K) and whether it follows the common one.
     Resistor { own_ppm: f64, common: bool },
+    /// A device temperature itself (a junction temperature, kelvin): it is the sweep's temperature.
+    Junction,
 }
 
 /// The sweep of VT± over the settings' temperature range (see the module notes). Fails when the
@@ -160,6 +163,7 @@ pub fn temperature_sweep<C: Circuit>(circuit: &C, settings: &ToleranceSettings) 
         .map(|p| {
             let own_tc = settings.overrides.iter().find(|o| o.id == p.id).and_then(|o| o.tempco_ppm_per_k);
             match (p.kind, own_tc) {
+                (ParameterKind::Device, _) if p.unit == Unit::Kelvin => Move::Junction,
                 (ParameterKind::Resistor, Some(tc)) => Move::Resistor { own_ppm: tc, common: false },
                 (ParameterKind::Resistor, None) => match tracking {
                     Some(t) => Move::Resistor { own_ppm: 0.5 * t, common: true },
@@ -196,6 +200,7 @@ pub fn temperature_sweep<C: Circuit>(circuit: &C, settings: &ToleranceSettings) 
                 let s = dir * sign(d * dt);
                 let v = base[i];
                 match moves[i] {
+                    Move::Junction => KELVIN_AT_0_C + REFERENCE_TEMPERATURE_C + dt,
                     Move::Own(Drift::Unknown(_)) if dir == 0.0 => v,
                     Move::Own(drift) => v + drift.shift(v, dt, s),
                     Move::Resistor { own_ppm, common } => {
@@ -264,7 +269,7 @@ pub fn temperature_sweep<C: Circuit>(circuit: &C, settings: &ToleranceSettings) 
     let mut notes = Vec::new();
     let unknown_drifts = moves.iter().any(|m| match m {
         Move::Own(Drift::Unknown(d)) => *d != 0.0,
-        Move::Own(_) => false,
+        Move::Own(_) | Move::Junction => false,
         Move::Resistor { own_ppm, common } => *own_ppm != 0.0 || (*common && common_ppm != 0.0),
     });
     if unknown_drifts {

@@ -78,10 +78,6 @@ pub const DEFAULT_BETA_SPREAD: f64 = 1.732_050_807_568_877_2;
 /// current (common practice: unit-to-unit VBE spread of one part number is a few tens of mV).
 pub const DEFAULT_IS_SPREAD: f64 = 2.0;
 
-/// Junction temperature range assumed when the record gives none, kelvin: 0 °C to 70 °C, the
-/// tolerance study's default operating range.
-pub const DEFAULT_TEMPERATURE_LIMITS_K: [f64; 2] = [273.15, 343.15];
-
 /// Zero-bias base–emitter capacitance written into the SPICE deck, farads: a general-purpose
 /// small-signal NPN's 4.5 pF (datasheet class, from memory). The DC thresholds do not depend on it;
 /// it gives a transient run finite slew at the fold.
@@ -135,7 +131,8 @@ pub struct Transistor {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub saturation_current_limits_a: Option<[f64; 2]>,
     /// Junction temperature range for the tolerance studies, kelvin
-    /// (`None`: [`DEFAULT_TEMPERATURE_LIMITS_K`], 0 °C to 70 °C).
+    /// (`None`: the tolerance settings' operating range, so the junction follows the temperature
+    /// the rest of the design is studied over).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub temperature_limits_k: Option<[f64; 2]>,
 }
@@ -270,11 +267,6 @@ impl Transistor {
     pub fn saturation_current_range_a(&self) -> [f64; 2] {
         self.saturation_current_limits_a
             .unwrap_or([self.saturation_current_a / DEFAULT_IS_SPREAD, self.saturation_current_a * DEFAULT_IS_SPREAD])
-    }
-
-    /// Junction temperature range for the tolerance studies, kelvin.
-    pub fn temperature_range_k(&self) -> [f64; 2] {
-        self.temperature_limits_k.unwrap_or(DEFAULT_TEMPERATURE_LIMITS_K)
     }
 
     fn validate(&self) -> Result<(), DesignError> {
@@ -774,7 +766,6 @@ impl Circuit for EmitterCoupledSchmitt {
         let t = &self.transistor;
         let [b_lo, b_hi] = t.beta_f_range();
         let [is_lo, is_hi] = t.saturation_current_range_a();
-        let [t_lo, t_hi] = t.temperature_range_k();
         let (vbe, is) = match self.model {
             BjtModel::Hand => (
                 Parameter::quantity("vbe_v", "base–emitter voltage VBE at the nominal temperature (hand model)", t.vbe_v, ParameterKind::DeviceThreshold),
@@ -786,6 +777,9 @@ impl Circuit for EmitterCoupledSchmitt {
                     .with_limits(is_lo, is_hi),
             ),
         };
+        // With no limits of its own the junction temperature spans the settings' operating range
+        // (`tolerance::settings` gives a kelvin device parameter that band).
+        let junction = Parameter::device("temperature_k", "junction temperature", t.temperature_k, Unit::Kelvin);
         vec![
             Parameter::resistor("r1_ohm", "R1", "coupling resistor Q1 collector to Q2 base", self.r1_ohm),
             Parameter::resistor("r2_ohm", "R2", "Q2 base resistor to ground", self.r2_ohm),
@@ -797,7 +791,10 @@ impl Circuit for EmitterCoupledSchmitt {
             Parameter::device("beta_f", "forward current gain βF at the nominal temperature", t.beta_f, Unit::Ratio).with_limits(b_lo, b_hi),
             Parameter::device("beta_r", "reverse current gain βR", t.beta_r, Unit::Ratio),
             is,
-            Parameter::device("temperature_k", "junction temperature", t.temperature_k, Unit::Kelvin).with_limits(t_lo, t_hi),
+            match t.temperature_limits_k {
+                Some([lo, hi]) => junction.with_limits(lo, hi),
+                None => junction,
+            },
         ]
     }
 
@@ -990,6 +987,32 @@ mod tests {
         c.transistor.temperature_k = 300.0;
         c.transistor.nominal_temperature_k = 300.0;
         c
+    }
+
+    #[test]
+    fn junction_temperature_follows_the_operating_range() {
+        use crate::tolerance::settings::resolve_bands;
+        use crate::tolerance::{temperature_sweep, ToleranceSettings};
+        let settings = ToleranceSettings { temperature_min_c: -40.0, temperature_max_c: 85.0, ..ToleranceSettings::default() };
+        for model in [BjtModel::Hand, BjtModel::EbersMoll] {
+            let c = example(model);
+            // No limits of its own: the junction spans the settings' range (0 °C = 273.15 K, SI).
+            let bands = resolve_bands(&c.parameters(), &settings).unwrap();
+            let junction = bands.iter().find(|b| b.parameter.id == "temperature_k").unwrap();
+            assert!((junction.centre - junction.half_width - 233.15).abs() < 1e-9, "{junction:?}");
+            assert!((junction.centre + junction.half_width - 358.15).abs() < 1e-9, "{junction:?}");
+            // Limits of its own win.
+            let mut own = c.clone();
+            own.transistor.temperature_limits_k = Some([290.0, 310.0]);
+            let bands = resolve_bands(&own.parameters(), &settings).unwrap();
+            let junction = bands.iter().find(|b| b.parameter.id == "temperature_k").unwrap();
+            assert!((junction.centre - 300.0).abs() < 1e-9 && (junction.half_width - 10.0).abs() < 1e-9, "{junction:?}");
+            // The temperature sweep moves the junction: VT− falls as VBE does (about −2 mV/K, from
+            // memory, scaled by the circuit's gain from VBE to VT−, about 0.56 here).
+            let sweep = temperature_sweep(&c, &settings).unwrap();
+            let drift = sweep.vt_lower_drift_v_per_k.unwrap();
+            assert!((-1.3e-3..-0.6e-3).contains(&drift), "{model:?}: VT− drift {drift} V/K");
+        }
     }
 
     #[test]
