@@ -66,7 +66,7 @@ async fn timed_runs_in_the_browser() {
     // E96 over 1 kΩ–1 MΩ for the three-resistor inverting form (the default range).
     s.wait_for("#search-series").await.select_by_value("E96").await.unwrap();
     s.wait_for("#find-parts").await.click().await.unwrap();
-    let note = s.text("#parts .note").await;
+    let note = s.text("#search-summary").await;
     assert!(note.contains("E96"), "{note}");
     let search_ms: f64 = note.rsplit('(').next().and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
 

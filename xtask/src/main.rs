@@ -214,7 +214,7 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     say("native tests: unit, property, reference and browser end-to-end");
     say(&format!("property tests use the fixed seed PROPTEST_RNG_SEED={CI_PROPTEST_SEED} (fresh seeds: cargo xtask explore)"));
     run(Command::new("cargo")
-        .args(["test", "--workspace", "--exclude", "hysteron-app"])
+        .args(["test", "--workspace", "--exclude", "hysteron-app", "--no-fail-fast"])
         .env("PROPTEST_RNG_SEED", CI_PROPTEST_SEED.to_string())
         .env_remove("HYSTERON_PROPTEST_SCALE")
         .current_dir(root))?;
