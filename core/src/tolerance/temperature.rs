@@ -255,7 +255,9 @@ pub fn temperature_sweep<C: Circuit>(circuit: &C, settings: &ToleranceSettings) 
     let span = t_hi - t_lo;
     let (first, last) = (points[0], points[points.len() - 1]);
     let slope = |a: f64, b: f64| (span > 0.0).then(|| (b - a) / span);
-    let room = circuit.thresholds()?;
+    // Room temperature as the sweep sees it (a device with a temperature of its own, such as a
+    // junction entered at 27 °C, is at 25 °C here like every other point).
+    let (room_upper_v, room_lower_v) = thresholds_at(&values_at(0.0, 0.0, true), REFERENCE_TEMPERATURE_C)?;
     let bound = |pick: fn(&TemperaturePoint) -> (f64, f64), at_room: f64| -> Option<f64> {
         points
             .iter()
@@ -287,8 +289,8 @@ pub fn temperature_sweep<C: Circuit>(circuit: &C, settings: &ToleranceSettings) 
     Ok(TemperatureSweep {
         vt_upper_drift_v_per_k: slope(first.vt_upper_v, last.vt_upper_v),
         vt_lower_drift_v_per_k: slope(first.vt_lower_v, last.vt_lower_v),
-        vt_upper_drift_bound_v_per_k: bound(|p| (p.vt_upper_min_v, p.vt_upper_max_v), room.vt_upper_v),
-        vt_lower_drift_bound_v_per_k: bound(|p| (p.vt_lower_min_v, p.vt_lower_max_v), room.vt_lower_v),
+        vt_upper_drift_bound_v_per_k: bound(|p| (p.vt_upper_min_v, p.vt_upper_max_v), room_upper_v),
+        vt_lower_drift_bound_v_per_k: bound(|p| (p.vt_lower_min_v, p.vt_lower_max_v), room_lower_v),
         points,
         notes,
     })

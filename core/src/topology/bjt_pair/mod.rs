@@ -995,6 +995,7 @@ mod tests {
         use crate::tolerance::{temperature_sweep, ToleranceSettings};
         let settings = ToleranceSettings { temperature_min_c: -40.0, temperature_max_c: 85.0, ..ToleranceSettings::default() };
         for model in [BjtModel::Hand, BjtModel::EbersMoll] {
+            // Entered at 300 K (about 27 °C), not at the sweep's 25 °C.
             let c = example(model);
             // No limits of its own: the junction spans the settings' range (0 °C = 273.15 K, SI).
             let bands = resolve_bands(&c.parameters(), &settings).unwrap();
@@ -1012,6 +1013,10 @@ mod tests {
             let sweep = temperature_sweep(&c, &settings).unwrap();
             let drift = sweep.vt_lower_drift_v_per_k.unwrap();
             assert!((-1.3e-3..-0.6e-3).contains(&drift), "{model:?}: VT− drift {drift} V/K");
+            // The largest drift from room temperature is of the same order (resistor TCR adds a
+            // little), not inflated by a junction entered at another temperature than 25 °C.
+            let bound = sweep.vt_lower_drift_bound_v_per_k.unwrap();
+            assert!(bound >= drift.abs() && bound < 2.0 * drift.abs(), "{model:?}: bound {bound} V/K vs drift {drift} V/K");
         }
     }
 
