@@ -167,7 +167,8 @@ async fn generated_signal_test_matches_core_and_shows_the_baseline_chattering() 
     assert!(base_false > 10.0, "baseline false edges {base_false}");
     // The noise sweep adds a table of levels.
     s.wait_for("#signal-sweep").await.click().await.unwrap();
-    let rows = s.js("return document.querySelectorAll('#sweep tbody tr').length").await;
+    // The sweep runs on a compute worker: wait for its table.
+    let rows = s.wait_js("the noise sweep's table (8 levels or more)", "const n = document.querySelectorAll('#sweep tbody tr').length; return n >= 8 ? n : null;").await;
     assert!(rows.as_u64().unwrap_or(0) >= 8, "sweep rows: {rows}");
     s.close().await;
 }

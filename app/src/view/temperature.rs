@@ -136,7 +136,10 @@ pub fn TemperatureSection() -> impl IntoView {
                     {s.notes.iter().map(|n| view! { <p class="note">{n.clone()}</p> }).collect_view()}
                 }.into_any(),
             }}
-            <canvas class="plot" node_ref=canvas width="480" height="220" aria-label="VT+ and VT− versus temperature"></canvas>
+            <figure class="plot">
+                <canvas id="temperature-plot" node_ref=canvas role="img" aria-label="VT+ and VT− versus temperature"></canvas>
+                <figcaption>"VT+ and VT− against temperature: thick lines with the drifts of known sign, thin lines the band from coefficients of unknown sign."</figcaption>
+            </figure>
         </section>
     }
 }
