@@ -172,13 +172,13 @@ impl Comparator {
     }
 
     /// The offset VOS as a tolerance parameter, with its drift of unknown sign.
-    pub fn offset_drift(&self) -> crate::topology::Drift {
-        crate::topology::Drift::Unknown(self.offset_drift_v_per_k)
+    pub fn offset_drift(&self) -> crate::drift::Drift {
+        crate::drift::Drift::Unknown(self.offset_drift_v_per_k)
     }
 
     /// The bias currents' temperature dependence, compounded from 25 °C (sign known).
-    pub fn bias_drift(&self) -> crate::topology::Drift {
-        crate::topology::Drift::Compound(self.bias_tempco_pct_per_k / 100.0)
+    pub fn bias_drift(&self) -> crate::drift::Drift {
+        crate::drift::Drift::Compound(self.bias_tempco_pct_per_k / 100.0)
     }
 
     /// Lowest input voltage the device accepts without leaving its common-mode range, volts.

@@ -17,6 +17,7 @@
 pub mod analysis;
 pub mod catalog;
 pub mod device;
+pub mod drift;
 pub mod error;
 pub mod finite;
 pub mod limits;

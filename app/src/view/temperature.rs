@@ -90,7 +90,12 @@ pub fn TemperatureSection() -> impl IntoView {
     });
     let set_drift = move |key: &'static str, d: DeviceDrift| nb.edit_keyed(key, move |r| set_device_drift(&mut r.circuit, d));
     let canvas: NodeRef<Canvas> = NodeRef::new();
+    // Redrawn on every window resize too, so the plot follows its box at any width.
+    let resized = RwSignal::new(0_u32);
+    let listener = window_event_listener(leptos::ev::resize, move |_| resized.update(|n| *n = n.wrapping_add(1)));
+    on_cleanup(move || listener.remove());
     Effect::new(move |_| {
+        resized.track();
         sweep.with(|s| {
             if let (Ok(s), Some(c)) = (s, canvas.get()) {
                 let _ = draw(&c, s);
