@@ -2,6 +2,7 @@
 
 mod application;
 mod circuit;
+mod incoming;
 mod notebook;
 pub mod partlist;
 mod parts;

@@ -1,12 +1,13 @@
 //! The design leaves the browser: a share link (in the URL fragment, never sent to a server), the
 //! schematic, and files — the design record (JSON, with import), the SPICE netlist, and the plots.
 
+pub use super::incoming::{incoming, Incoming};
 use super::state::Notebook;
 use crate::download::{file_stem, save_text};
 use crate::plot;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::schematic::{render_svg_titled, SymbolStyle};
-use hysteron_core::share::{decode_link, encode_link};
+use hysteron_core::share::encode_link;
 use hysteron_core::spice::to_spice;
 use leptos::prelude::*;
 use wasm_bindgen::JsCast;
@@ -137,30 +138,6 @@ pub fn ShareSection() -> impl IntoView {
             </div>
             {move || import_error.get().map(|e| view! { <p class="error" id="import-error" role="alert">{e}</p> })}
         </section>
-    }
-}
-
-/// What the page found in its address: a shared design to show read-only, or why it could not open.
-#[derive(Clone, Debug)]
-pub enum Incoming {
-    /// Nothing shared.
-    None,
-    /// A design to show, not yet kept.
-    Design(Box<DesignRecord>),
-    /// The link could not be opened.
-    Broken(String),
-}
-
-/// Reads a shared design from the URL fragment, if any.
-pub fn incoming() -> Incoming {
-    let hash = web_sys::window().and_then(|w| w.location().hash().ok()).unwrap_or_default();
-    let payload = hash.trim_start_matches('#');
-    if payload.is_empty() {
-        return Incoming::None;
-    }
-    match decode_link(payload) {
-        Ok(r) => Incoming::Design(Box::new(r)),
-        Err(e) => Incoming::Broken(format!("This link could not be opened: {e}. Nothing in your notebook was changed.")),
     }
 }
 

@@ -1,6 +1,6 @@
 //! The notebook's reactive state and the one place where edits are applied and saved.
 
-use super::share::Incoming;
+use super::incoming::Incoming;
 use crate::storage::{self, Entry, Kept, SaveError, SetAside, Snapshot, Studies};
 use hysteron_core::analysis::{ImpedanceChoice, Targets};
 use hysteron_core::device::Comparator;
@@ -133,7 +133,7 @@ impl Notebook {
             .or_else(|| {
                 loaded.entries.iter().max_by(|a, b| a.saved_at_ms.total_cmp(&b.saved_at_ms)).map(|e| e.id.clone())
             });
-        let incoming = super::share::incoming();
+        let incoming = super::incoming::incoming();
         let banner = match (&loaded.unavailable, &loaded.read_only) {
             (Some(e), _) => Some(format!(
                 "Saved designs cannot be read in this browser ({e}). Any designs stored here are left untouched and are not shown below; this page works in memory only and saves nothing. Reload to try again, and export designs you want to keep."
