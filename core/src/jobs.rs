@@ -38,7 +38,7 @@ use crate::error::DesignError;
 use crate::signal::csv::{Capture, CsvOptions, CsvParser};
 use crate::signal::debounce::{simulate_debounce, DebounceSettings, DebounceSimulation};
 use crate::signal::oscillator::{simulate_oscillator, OscillatorSettings, OscillatorSimulation};
-use crate::signal::report::{run_signal, SignalReport, SignalRun, SignalSettings, SignalSource};
+use crate::signal::report::{run_signal, SignalRun, SignalSettings, SignalSource};
 use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
@@ -123,50 +123,6 @@ pub enum Job {
     },
 }
 
-/// The signal study's waveforms and summary, ready to draw (plain data; the page turns it into a
-/// [`SignalRun`] with [`SignalView::into_run`]).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct SignalView {
-    /// Sample times of the (possibly reduced) waveforms.
-    pub time: TimeBase,
-    /// The noise-free signal (`None` for a capture).
-    pub clean_v: Option<Vec<f64>>,
-    /// The signal the triggers saw.
-    pub signal_v: Vec<f64>,
-    /// The design's output.
-    pub design_output_v: Vec<f64>,
-    /// The comparator's output.
-    pub baseline_output_v: Vec<f64>,
-    /// The design's edges (exact, never reduced).
-    pub design_edges: Vec<Edge>,
-    /// The comparator's edges.
-    pub baseline_edges: Vec<Edge>,
-    /// The design's intended edges.
-    pub intended_edges: Vec<Edge>,
-    /// The comparator's intended edges.
-    pub intended_baseline_edges: Vec<Edge>,
-    /// The summary, computed on every sample.
-    pub report: SignalReport,
-}
-
-impl SignalView {
-    /// The view as the [`SignalRun`] the page draws.
-    pub fn into_run(self) -> SignalRun {
-        SignalRun {
-            time: self.time,
-            clean_v: self.clean_v,
-            signal_v: self.signal_v,
-            design_output_v: self.design_output_v,
-            baseline_output_v: self.baseline_output_v,
-            design_edges: self.design_edges,
-            baseline_edges: self.baseline_edges,
-            intended_edges: self.intended_edges,
-            intended_baseline_edges: self.intended_baseline_edges,
-            report: self.report,
-        }
-    }
-}
-
 /// The points of a part of a noise sweep.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepPart {
@@ -189,7 +145,7 @@ pub enum JobOutput {
     /// The worst case.
     WorstCase(WorstCase),
     /// The signal study.
-    Signal(Box<SignalView>),
+    Signal(Box<SignalRun>),
     /// A part of a noise sweep.
     SweepPart(SweepPart),
     /// The imported capture.
@@ -718,11 +674,11 @@ impl SignalState {
 /// bucket gives two points, at its first and last sample time, holding the bucket's minimum and
 /// maximum in the order they occur — so a min/max plot of the reduced waveform equals that of the
 /// full one at bucket resolution. A run of at most `max_points` samples is kept as it is.
-pub fn reduce_for_display(run: SignalRun, max_points: usize) -> SignalView {
+pub fn reduce_for_display(run: SignalRun, max_points: usize) -> SignalRun {
     let n = run.signal_v.len();
     let max_points = max_points.max(2);
     if n <= max_points {
-        return SignalView {
+        return SignalRun {
             time: run.time,
             clean_v: run.clean_v,
             signal_v: run.signal_v,
@@ -771,7 +727,7 @@ pub fn reduce_for_display(run: SignalRun, max_points: usize) -> SignalView {
         }
         out
     };
-    SignalView {
+    SignalRun {
         clean_v: run.clean_v.as_deref().map(reduce),
         signal_v: reduce(&run.signal_v),
         design_output_v: reduce(&run.design_output_v),

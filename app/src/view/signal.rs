@@ -247,7 +247,7 @@ pub fn SignalSection() -> impl IntoView {
                 progress.set(None);
                 job.set_value(None);
                 let result = match out {
-                    Ok(JobOutput::Signal(v)) => Ok(std::sync::Arc::new(v.into_run())),
+                    Ok(JobOutput::Signal(v)) => Ok(std::sync::Arc::new(*v)),
                     Ok(_) => Err("the worker returned another study's result".to_string()),
                     Err(e) => Err(e),
                 };

@@ -226,8 +226,9 @@ pub struct SignalReport {
     pub notes: Vec<String>,
 }
 
-/// A full signal run for the page: the waveforms and edges beside the summary.
-#[derive(Debug, Clone, PartialEq)]
+/// A full signal run for the page: the waveforms and edges beside the summary (plain data; a
+/// compute worker sends it back as it is, see `crate::jobs`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SignalRun {
     /// Sample times.
     pub time: TimeBase,
