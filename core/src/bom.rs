@@ -203,6 +203,10 @@ pub struct Bom {
     /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
     #[serde(default)]
     pub application: Vec<application::ApplicationPart>,
+    /// The parts of the record's input network ([`crate::input_network::parts::network_parts`];
+    /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub input_network: Vec<crate::input_network::parts::NetworkPart>,
     /// The settings it was built with.
     pub settings: PartSettings,
 }
@@ -335,7 +339,7 @@ pub fn bom<C: Circuit>(
 
     let mut device = device_line(circuit, analysis, circuit.output_stage());
     device.notes.extend(transistor_notes(circuit, device.supply_max_v, settings.power_derating_factor));
-    Ok(Bom { resistors, device, application: Vec::new(), settings: *settings })
+    Ok(Bom { resistors, device, application: Vec::new(), input_network: Vec::new(), settings: *settings })
 }
 
 /// Discrete transistors' VCEO, IC and power requirements at the highest supply, from the

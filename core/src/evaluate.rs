@@ -78,6 +78,10 @@ pub struct Evaluation {
     /// The temperature drift in one line, as the print sheet gives it.
     #[serde(default)]
     pub temperature_summary: Option<String>,
+    /// The input network in front of the trigger, when the record has one: thresholds at the
+    /// field terminal, clamp currents, dissipation, the filter (see [`crate::input_network`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input_network: Option<crate::input_network::NetworkReport>,
 }
 
 /// The shareable and printable forms of a design, computed with every evaluation.
@@ -150,7 +154,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         _ => None,
     };
     let windows = crate::finite::keep("bench_window", windows, &mut fail);
-    let signal = record.signal.as_ref().and_then(|s| match crate::signal::report::evaluate_record_signal(&record.circuit, s) {
+    let signal = record.signal.as_ref().and_then(|s| match crate::input_network::record_signal(record, s) {
         Ok(r) => Some(r),
         Err(e) => {
             fail("signal", e);
@@ -199,6 +203,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         .as_ref()
         .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
     let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
+    let input_network = crate::input_network::record_network(record).and_then(|r| r.map_err(|e| fail("input_network", e)).ok());
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -216,6 +221,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         cautions: crate::safety::cautions(record),
         temperature,
         temperature_summary,
+        input_network,
     }
 }
 

@@ -41,3 +41,4 @@ pub mod spice;
 pub mod schematic;
 pub mod bench;
 pub mod jobs;
+pub mod input_network;

@@ -198,6 +198,11 @@ pub struct DesignRecord {
     /// Standard-value search settings; `None`: no search.
     #[serde(default)]
     pub search: Option<SearchSettings>,
+    /// The input network between the field terminal and the trigger's input (dropper, series
+    /// resistor, clamp, RC filter; see [`crate::input_network`]); `None`: the field terminal is
+    /// the trigger's input.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input_network: Option<crate::input_network::InputNetwork>,
 }
 
 /// Why a record could not be read.
@@ -261,6 +266,7 @@ impl DesignRecord {
             application: None,
             parts: PartSettings::default(),
             search: None,
+            input_network: None,
         }
     }
 

@@ -328,15 +328,35 @@ fn interference_terms(noise: &[NoiseSource]) -> Vec<rice::Sinusoid> {
 /// used (no intended edges, noise figures, Rice check or sweep: a capture has no noise-free
 /// version); otherwise the signal is generated from the settings.
 pub fn run_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalRun, DesignError> {
-    run_inner(settings, design, capture, true)
+    run_inner(settings, design, capture, true, None)
+}
+
+/// [`run_signal`] / [`evaluate_signal`] with the input network's front end (clamp and RC filter,
+/// [`crate::input_network::noise::FrontEnd`]) applied to the samples before the trigger, and its
+/// filter in the spectral moments of Rice's formula; `design` then holds the field-referred
+/// thresholds. `keep` keeps the waveforms.
+pub fn run_signal_through(
+    settings: &SignalSettings,
+    design: &TriggerDesign,
+    capture: Option<&Capture>,
+    front: &crate::input_network::noise::FrontEnd,
+    keep: bool,
+) -> Result<SignalRun, DesignError> {
+    run_inner(settings, design, capture, keep, Some(front))
 }
 
 /// The signal study's summary, without keeping the waveforms.
 pub fn evaluate_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalReport, DesignError> {
-    run_inner(settings, design, capture, false).map(|r| r.report)
+    run_inner(settings, design, capture, false, None).map(|r| r.report)
 }
 
-fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>, keep: bool) -> Result<SignalRun, DesignError> {
+fn run_inner(
+    settings: &SignalSettings,
+    design: &TriggerDesign,
+    capture: Option<&Capture>,
+    keep: bool,
+    front: Option<&crate::input_network::noise::FrontEnd>,
+) -> Result<SignalRun, DesignError> {
     design.validate()?;
     let timing = TimingModel::new(&settings.timing)?;
     let study = &settings.study;
@@ -374,7 +394,21 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
             (settings.definition.time_base(), Some(b.clean_v), b.noisy_v)
         }
     };
+    let (mut clean, mut signal) = (clean, signal);
     let times = time.view();
+    if let Some(f) = front {
+        // The input network's clamp and filter act before the trigger (on both versions, so the
+        // intended edges carry the filter's delay too).
+        f.apply(times, &mut signal);
+        if let Some(c) = clean.as_mut() {
+            f.apply(times, c);
+        }
+        notes.push(format!(
+            "the signal passes the input network (clamp, filter τ = {:.4e} s) before the trigger; thresholds are at the field terminal{}",
+            f.time_constant_s,
+            if settings.sweep.is_some() { "; the noise sweep runs without the network" } else { "" }
+        ));
+    }
     let n = signal.len();
     let duration = times.at(n - 1) - times.at(0);
 
@@ -403,7 +437,10 @@ fn run_inner(settings: &SignalSettings, design: &TriggerDesign, capture: Option<
     // Noise figures, at the physical noise bandwidth (not the sample rate).
     let def = &settings.definition;
     let bandwidth_hz = crate::limits::check(crate::limits::Quantity::Frequency, "study.noise_bandwidth_hz", study.noise_bandwidth_hz)?;
-    let (s0, s1) = rice::combine_moments(def.noise.iter().filter_map(|s| physical_moments(s, bandwidth_hz)));
+    let (s0, s1) = rice::combine_moments(def.noise.iter().filter_map(|s| match front {
+        Some(f) => f.moments(s, bandwidth_hz),
+        None => physical_moments(s, bandwidth_hz),
+    }));
     let interference = interference_terms(&def.noise);
     let noise = clean.as_ref().map(|clean| {
         let (mut sum2, mut lo, mut hi) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
