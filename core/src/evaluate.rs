@@ -191,7 +191,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let exports = {
         let (spice, bench) = match &analysis {
             Some(a) => (
-                crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
+                crate::input_network::spice::record_deck(record).map_err(|e| fail("exports", e)).ok(),
                 Some(crate::overview::bench(record, a, windows.as_ref())),
             ),
             None => (None, None),

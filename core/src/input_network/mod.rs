@@ -51,6 +51,7 @@
 
 pub mod noise;
 pub mod parts;
+pub mod spice;
 
 use crate::analysis::{CheckSettings, OutputState, Sense, Thresholds};
 use crate::bom::PartSettings;
