@@ -295,6 +295,11 @@ pub struct Sheet {
     /// The one line on the temperature drift of VT±; `None` when the sweep fails.
     #[serde(default)]
     pub temperature: Option<String>,
+    /// The input network in one line ([`crate::input_network::sheet_line`]): thresholds at the
+    /// field terminal, clamp current, filter corner and delay; or why it failed. `None` without a
+    /// network.
+    #[serde(default)]
+    pub input_network: Option<String>,
 }
 
 /// The print sheet's content; fails when the design cannot be analysed or any number on the
@@ -307,7 +312,11 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
     let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
-    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature })
+    let input_network = crate::input_network::record_network(record).map(|r| match r {
+        Ok(r) => crate::input_network::sheet_line(&r),
+        Err(e) => format!("Input network: {e}"),
+    });
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network })
 }
 
 /// The print sheet's longer studies.

@@ -3,6 +3,7 @@
 mod application;
 mod circuit;
 mod incoming;
+mod input_network;
 mod notebook;
 pub mod partlist;
 mod parts;
@@ -119,6 +120,9 @@ pub fn App() -> impl IntoView {
                                 <purpose::PurposeSection />
                                 <circuit::CircuitSection />
                                 <parts::PartsSection />
+                                <Study id="fold-input-network" title="Input network" hint="dropper, series resistor, clamp, RC filter; thresholds at the field terminal">
+                                    <input_network::InputNetworkSection />
+                                </Study>
                                 <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo">
                                     <tolerance::ToleranceSection />
                                 </Study>
