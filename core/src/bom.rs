@@ -489,6 +489,35 @@ impl Bom {
                 notes.join("; "),
             ]);
         }
+        for p in &self.input_network {
+            use crate::input_network::parts::NetworkPartKind as K;
+            let kind = match p.kind {
+                K::Resistor => "resistor",
+                K::Capacitor => "capacitor",
+                K::Diode => "diode",
+                K::Tvs => "TVS diode",
+            };
+            let mut notes = p.notes.clone();
+            if let Some(v) = p.suggested_voltage_v {
+                notes.insert(0, format!("voltage rating at least {v} V"));
+            }
+            let resistor = p.kind == K::Resistor;
+            line(&[
+                p.designator.clone(),
+                format!("{kind}, {}", p.label),
+                p.value_text.clone(),
+                p.value_text.clone(),
+                String::new(),
+                if resistor { csv_number(Some(self.settings.tolerance_pct)) } else { String::new() },
+                if resistor { self.settings.package.label().to_string() } else { String::new() },
+                csv_number(Some(p.dissipation_w)),
+                csv_number(p.suggested_power_w),
+                if resistor { csv_number(Some(self.settings.package.power_rating_w())) } else { String::new() },
+                csv_number(Some(p.max_volts)),
+                String::new(),
+                notes.join("; "),
+            ]);
+        }
         let d = &self.device;
         line(&[
             d.designator.clone(),
