@@ -337,6 +337,7 @@ fn ngspice_transient_of_the_exported_deck_gives_the_filter_delay() {
         .expect("the output switches on the rising ramp");
     let t_ramp = (vt - lo) / (hi - lo); // when the unfiltered field voltage reaches VT+
     let measured = t_out - t_ramp;
+    println!("ngspice: output switches {measured:.6} s after the ramp passes VT+ {vt:.4} V; Hysteron's delay {delay:.6} s");
     // Tolerance: 2 % of the delay plus two time steps (the switch model's transition and the
     // solver's step), stated here.
     assert!((measured - delay).abs() < 0.02 * delay + 2e-4, "ngspice delay {measured} s vs Hysteron {delay} s");

@@ -20,6 +20,32 @@ fn w(x: f64) -> String {
     if x >= 1.0 { format!("{x:.3} W") } else { format!("{:.3} mW", x * 1e3) }
 }
 
+/// The network in schematic order, from the field terminal to the pin (the schematic does not
+/// draw it yet).
+fn chain(n: &InputNetwork) -> String {
+    let ohm = |x: f64| format_with_unit(x, 3, Unit::Ohm);
+    let mut parts = vec!["field terminal".to_string()];
+    if let Some(d) = n.dropper {
+        parts.push(format!("dropper {} / {} to ground", ohm(d.top_ohm), ohm(d.bottom_ohm)));
+    }
+    if let Some(r) = n.series_ohm {
+        parts.push(format!("series {}", ohm(r)));
+    }
+    match n.clamp {
+        Clamp::RailDiodes { forward_v, .. } => parts.push(format!("diodes to both rails (Vf {})", v(forward_v))),
+        Clamp::Tvs { standoff_v, .. } => parts.push(format!("TVS to ground ({} standoff)", v(standoff_v))),
+        Clamp::None => {}
+    }
+    if let Some(f) = n.filter {
+        parts.push(format!("filter {} with {} to ground", ohm(f.r_ohm), format_with_unit(f.c_f, 3, Unit::Farad)));
+    }
+    parts.push("trigger input".into());
+    if parts.len() == 2 {
+        return "No network: the field terminal is the trigger's input.".into();
+    }
+    format!("Network: {}.", parts.join(" → "))
+}
+
 /// The input-network section.
 #[component]
 pub fn InputNetworkSection() -> impl IntoView {
@@ -110,6 +136,7 @@ pub fn InputNetworkSection() -> impl IntoView {
                 {opt("net-edge", "Slowest edge (whole span)", "s", |n| n.slowest_edge_s, |n, x| n.slowest_edge_s = x)}
                 {opt("net-freq", "Signal frequency (phase lag)", "Hz", |n| n.signal_frequency_hz, |n, x| n.signal_frequency_hz = x)}
             </div>
+            <p id="net-chain" class="hint">{move || chain(&net.get())}</p>
             {move || report.get().map(|r| match r {
                 Err(e) => view! { <p class="error" id="net-error">{e}</p> }.into_any(),
                 Ok(r) => {
