@@ -301,24 +301,15 @@ fn ngspice_tran(deck: &str, stop_s: f64, step_s: f64) -> Option<Vec<(f64, f64, f
     )
 }
 
-#[test]
-fn ngspice_transient_of_the_exported_deck_gives_the_filter_delay() {
-    if std::process::Command::new("ngspice").arg("--version").output().is_err() {
-        println!("skipped: ngspice is not installed");
-        return;
-    }
-    // R1 10k, R2 100k, reference 2.5 V, ideal 5 V device; network: 10k series, rail clamps,
-    // 1k + 1 µF filter. τ = 1 µF·(11k‖110k) = 10 ms.
+/// Exports `net` in front of the non-inverting trigger, runs the deck's rising ramp in ngspice and
+/// returns (measured delay, Hysteron's delay, ngspice's trip at the field, Hysteron's field VT+),
+/// or `None` when ngspice cannot be run. The delay is measured from the moment the unfiltered
+/// ramp passes Hysteron's field VT+ to the output's mid-supply crossing.
+fn spice_trip(mut net: InputNetwork) -> Option<(f64, f64, f64, f64)> {
     let mut r = DesignRecord::new("filtered", noninv(R1));
-    let mut net = InputNetwork {
-        series_ohm: Some(10e3),
-        clamp: Clamp::RailDiodes { forward_v: 0.3, max_current_a: 0.05 },
-        filter: Some(RcFilter { r_ohm: 1e3, c_f: 1e-6 }),
-        ..Default::default()
-    };
     r.input_network = Some(net.clone());
     let deck = hysteron_core::input_network::spice::record_deck(&r).unwrap();
-    assert!(deck.contains("DCLAMP") && deck.contains(" field "), "{deck}");
+    assert!(deck.contains(" field "), "{deck}");
     // The deck's ramp: PWL(0 lo 1 hi 2 lo); give the network the same slowest edge.
     let pwl = deck.lines().find(|l| l.starts_with("VIN")).unwrap();
     let nums: Vec<f64> = pwl.split("PWL(").nth(1).unwrap().trim_end_matches(')').split_whitespace().filter_map(|x| x.parse().ok()).collect();
@@ -329,16 +320,49 @@ fn ngspice_transient_of_the_exported_deck_gives_the_filter_delay() {
     let report = analyse_network(&r.circuit, &net, &r.checks, &r.parts).unwrap();
     let delay = report.upper.edge_delay_s.unwrap();
     let vt = report.field.vt_upper_v;
-    let Some(rows) = ngspice_tran(&deck, 1.0, 1e-4) else { return };
-    // The output's rising crossing of mid-supply on the rising ramp.
+    let rows = ngspice_tran(&deck, 1.0, 1e-4)?;
     let t_out = rows
         .windows(2)
         .find_map(|w| (w[0].1 < 2.5 && w[1].1 >= 2.5).then(|| w[0].0 + (2.5 - w[0].1) / (w[1].1 - w[0].1) * (w[1].0 - w[0].0)))
         .expect("the output switches on the rising ramp");
-    let t_ramp = (vt - lo) / (hi - lo); // when the unfiltered field voltage reaches VT+
+    let slope = hi - lo; // V/s
+    let t_ramp = (vt - lo) / slope; // when the unfiltered field voltage reaches VT+
     let measured = t_out - t_ramp;
-    println!("ngspice: output switches {measured:.6} s after the ramp passes VT+ {vt:.4} V; Hysteron's delay {delay:.6} s");
+    // The field voltage the filtered source had reached at the switch: ramp minus slope·delay.
+    let trip = lo + slope * (t_out - delay);
+    println!("ngspice: output switches {measured:.6} s after the ramp passes VT+ {vt:.4} V; Hysteron's delay {delay:.6} s; trip {trip:.4} V");
+    Some((measured, delay, trip, vt))
+}
+
+#[test]
+fn ngspice_transient_of_the_exported_deck_gives_the_filter_delay() {
+    if std::process::Command::new("ngspice").arg("--version").output().is_err() {
+        println!("skipped: ngspice is not installed");
+        return;
+    }
+    // Design 1: R1 10k, R2 100k, reference 2.5 V, ideal 5 V device; network: 10k series, rail
+    // clamps, 1k + 1 µF filter. τ = 1 µF·(11k‖110k) = 10 ms.
+    let net = InputNetwork {
+        series_ohm: Some(10e3),
+        clamp: Clamp::RailDiodes { forward_v: 0.3, max_current_a: 0.05 },
+        filter: Some(RcFilter { r_ohm: 1e3, c_f: 1e-6 }),
+        ..Default::default()
+    };
+    let Some((measured, delay, trip, vt)) = spice_trip(net) else { return };
     // Tolerance: 2 % of the delay plus two time steps (the switch model's transition and the
     // solver's step), stated here.
     assert!((measured - delay).abs() < 0.02 * delay + 2e-4, "ngspice delay {measured} s vs Hysteron {delay} s");
+    assert!((trip - vt).abs() < 2e-3 * vt, "ngspice trip {trip} V vs Hysteron {vt} V");
+    // Design 2: a field input through a 100k/20k dropper, 1k series, a 6.2 V TVS and a
+    // 1k + 100 nF filter: thresholds at the field terminal six times the pin's plus the drop.
+    let net = InputNetwork {
+        dropper: Some(Dropper { top_ohm: 100e3, bottom_ohm: 20e3 }),
+        series_ohm: Some(1e3),
+        clamp: Clamp::Tvs { standoff_v: 5.0, breakdown_v: 6.2, clamping_v: 9.0, peak_current_a: 5.0 },
+        filter: Some(RcFilter { r_ohm: 1e3, c_f: 100e-9 }),
+        ..Default::default()
+    };
+    let Some((measured, delay, trip, vt)) = spice_trip(net) else { return };
+    assert!((measured - delay).abs() < 0.02 * delay + 2e-4, "ngspice delay {measured} s vs Hysteron {delay} s");
+    assert!((trip - vt).abs() < 2e-3 * vt, "ngspice trip {trip} V vs Hysteron {vt} V");
 }
