@@ -8,7 +8,14 @@
 //! Workers are kept in a small pool once their module has loaded ([`prewarm`] starts them in the
 //! background), so a run pays no module start-up. Where the browser refuses to start a worker, the
 //! job runs on the page in slices between frames (`crate::tick::later`), with the same progress and
-//! Cancel, and [`fallback_note`] says so once.
+//! Cancel, and the first such job's status carries [`fallback_note`] (shown once). A worker that
+//! fails to load (an error event before it says it is ready, or no word within
+//! [`READY_TIMEOUT_MS`]) counts as refused.
+//!
+//! The single file (`cargo xtask single-file`) cannot name a worker file; it sets
+//! `globalThis.hysteronWorkerUrl` to a `blob:` URL of the worker's script with its WebAssembly
+//! inlined, and workers start from that. `<html data-compute>` says where studies run: `workers`
+//! once a worker has said it is ready, `page` once workers were refused.
 
 use hysteron_core::jobs::{merge, split, Job, JobOutput, Progress, Running};
 use std::cell::{Cell, RefCell};
@@ -24,6 +31,8 @@ const MAX_WORKERS: usize = 8;
 const WORKER_SLICE_MS: f64 = 25.0;
 /// Target length of a slice when the job runs on the page, ms (well under one frame's budget).
 const PAGE_SLICE_MS: f64 = 8.0;
+/// How long a job waits for a new worker to say it is ready before it runs on the page, ms.
+pub const READY_TIMEOUT_MS: i32 = 15_000;
 
 /// Where a job stands, for the progress display.
 #[derive(Debug, Clone, PartialEq)]
@@ -40,6 +49,8 @@ pub struct JobStatus {
     pub now_ms: f64,
     /// Workers running it (0: on the page, in slices).
     pub workers: usize,
+    /// Said once per page, with the first job that runs on the page because workers were refused.
+    pub note: Option<&'static str>,
 }
 
 impl JobStatus {
@@ -59,13 +70,41 @@ impl JobStatus {
 thread_local! {
     static POOL: RefCell<Vec<web_sys::Worker>> = const { RefCell::new(Vec::new()) };
     static NO_WORKERS: Cell<bool> = const { Cell::new(false) };
+    static NOTE_GIVEN: Cell<bool> = const { Cell::new(false) };
 }
+
+/// What the page says once when workers are refused.
+const FALLBACK_NOTE: &str = "This browser did not start a background worker for this page, so long studies run on the page in slices: it stays usable but they take longer.";
 
 /// Whether workers could not be started, so studies run on the page in slices.
 pub fn fallback_note() -> Option<&'static str> {
-    NO_WORKERS.with(|c| c.get()).then_some(
-        "This browser did not start a background worker for this page, so long studies run on the page in slices: it stays usable but they take longer.",
-    )
+    NO_WORKERS.with(|c| c.get()).then_some(FALLBACK_NOTE)
+}
+
+/// The note, the first time it is asked for after workers were refused; `None` after that.
+fn take_note() -> Option<&'static str> {
+    (!NOTE_GIVEN.with(|c| c.replace(true))).then_some(FALLBACK_NOTE)
+}
+
+/// Marks where studies run on `<html data-compute>` (`workers` or `page`).
+fn mark(place: &str) {
+    if let Some(e) = web_sys::window().and_then(|w| w.document()).and_then(|d| d.document_element()) {
+        let _ = e.set_attribute("data-compute", place);
+    }
+}
+
+/// Workers are refused: every later job runs on the page.
+fn refuse_workers() {
+    NO_WORKERS.with(|c| c.set(true));
+    mark("page");
+}
+
+/// The worker's script: the single file's `blob:` URL when it set one, else the loader file.
+fn worker_url() -> String {
+    js_sys::Reflect::get(&js_sys::global(), &JsValue::from_str("hysteronWorkerUrl"))
+        .ok()
+        .and_then(|v| v.as_string())
+        .unwrap_or_else(|| WORKER_URL.to_string())
 }
 
 /// How many workers to spread a job over: `navigator.hardwareConcurrency`, 1 to 8.
@@ -81,42 +120,68 @@ fn field(v: &JsValue, k: &str) -> JsValue {
     js_sys::Reflect::get(v, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED)
 }
 
-/// A fresh worker; `on_ready` runs when its module has loaded.
-fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static) -> Option<web_sys::Worker> {
-    let w = web_sys::Worker::new(WORKER_URL).ok()?;
-    let w2 = w.clone();
-    let mut on_ready = Some(on_ready);
+/// A fresh worker; `on_ready` runs when its module has loaded, `on_fail` (instead) when it cannot
+/// be started, reports an error before it is ready, or is not ready within [`READY_TIMEOUT_MS`].
+/// Returns false when the browser refused at once (`on_fail` has not run).
+fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce() + 'static) -> bool {
+    let Ok(w) = web_sys::Worker::new(&worker_url()) else { return false };
+    // Exactly one of the two runs.
+    let outcome: Rc<RefCell<Option<(Box<dyn FnOnce(web_sys::Worker)>, Box<dyn FnOnce()>)>>> =
+        Rc::new(RefCell::new(Some((Box::new(on_ready), Box::new(on_fail)))));
+    let fail = {
+        let (o, w) = (outcome.clone(), w.clone());
+        move || {
+            let taken = o.borrow_mut().take();
+            if let Some((_, f)) = taken {
+                w.set_onmessage(None);
+                w.set_onerror(None);
+                w.terminate();
+                f();
+            }
+        }
+    };
+    let (o, w2) = (outcome.clone(), w.clone());
     let cb = Closure::<dyn FnMut(web_sys::MessageEvent)>::new(move |ev: web_sys::MessageEvent| {
         if field(&ev.data(), "kind").as_string().as_deref() == Some("ready") {
             w2.set_onmessage(None);
-            if let Some(f) = on_ready.take() {
+            w2.set_onerror(None);
+            mark("workers");
+            let taken = o.borrow_mut().take();
+            if let Some((f, _)) = taken {
                 f(w2.clone());
             }
         }
     });
     w.set_onmessage(Some(cb.as_ref().unchecked_ref()));
     cb.forget(); // one small closure per worker started; workers are pooled and reused
-    Some(w)
+    let on_error = Closure::once_into_js(fail.clone());
+    w.set_onerror(Some(on_error.unchecked_ref()));
+    crate::tick::after_ms(READY_TIMEOUT_MS, fail);
+    true
 }
 
 /// Starts `n` workers in the background so the first study does not wait for their module.
 pub fn prewarm(n: usize) {
+    if NO_WORKERS.with(|c| c.get()) {
+        return;
+    }
     let have = POOL.with(|p| p.borrow().len());
     for _ in have..n.min(MAX_WORKERS) {
-        if spawn(|w| POOL.with(|p| p.borrow_mut().push(w))).is_none() {
-            NO_WORKERS.with(|c| c.set(true));
+        if !spawn(|w| POOL.with(|p| p.borrow_mut().push(w)), refuse_workers) {
+            refuse_workers();
             return;
         }
     }
 }
 
-/// A ready worker from the pool, or a new one once it is ready.
-fn acquire(then: impl FnOnce(web_sys::Worker) + 'static) -> bool {
+/// A ready worker from the pool, or a new one once it is ready; `on_fail` runs when the new one
+/// fails to start. False when the browser refused at once.
+fn acquire(then: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce() + 'static) -> bool {
     if let Some(w) = POOL.with(|p| p.borrow_mut().pop()) {
         then(w);
         return true;
     }
-    spawn(then).is_some()
+    spawn(then, on_fail)
 }
 
 struct Part {
@@ -133,6 +198,9 @@ struct Shared {
     unit: String,
     started_ms: f64,
     finished: bool,
+    /// The job was moved onto the page (workers refused); worker messages are ignored from then on.
+    on_page: bool,
+    note: Option<&'static str>,
     on_progress: Rc<dyn Fn(JobStatus)>,
     on_done: Option<Box<dyn FnOnce(Result<JobOutput, String>)>>,
 }
@@ -146,7 +214,8 @@ impl Shared {
             unit: self.unit.clone(),
             started_ms: self.started_ms,
             now_ms: crate::tick::now_ms(),
-            workers: self.parts.len(),
+            workers: if self.on_page { 0 } else { self.parts.len() },
+            note: self.note,
         }
     }
 }
@@ -167,6 +236,7 @@ fn finish(shared: &Rc<RefCell<Shared>>, result: Result<JobOutput, String>) {
     for w in workers {
         if result.is_ok() {
             w.set_onmessage(None);
+            w.set_onerror(None);
             POOL.with(|p| p.borrow_mut().push(w));
         } else {
             w.terminate();
@@ -178,6 +248,12 @@ fn finish(shared: &Rc<RefCell<Shared>>, result: Result<JobOutput, String>) {
 }
 
 fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
+    {
+        let s = shared.borrow();
+        if s.finished || s.on_page || index >= s.parts.len() {
+            return;
+        }
+    }
     let kind = field(&data, "kind").as_string().unwrap_or_default();
     match kind.as_str() {
         "progress" => {
@@ -223,6 +299,7 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
                 }
                 if let Some(w) = p.worker.take() {
                     w.set_onmessage(None);
+                    w.set_onerror(None);
                     POOL.with(|pool| pool.borrow_mut().push(w));
                 }
                 p._on_message = None;
@@ -242,14 +319,28 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
 }
 
 fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Worker) {
-    if shared.borrow().finished {
+    if shared.borrow().finished || shared.borrow().on_page {
         POOL.with(|p| p.borrow_mut().push(w));
         return;
     }
     let sh = shared.clone();
     let cb = Closure::<dyn FnMut(web_sys::MessageEvent)>::new(move |ev: web_sys::MessageEvent| on_message(&sh, index, ev.data()));
     w.set_onmessage(Some(cb.as_ref().unchecked_ref()));
+    // A worker that dies during the job (an uncaught error) ends the job with a message.
+    let sh = shared.clone();
+    let on_error = Closure::once_into_js(move |ev: web_sys::Event| {
+        ev.prevent_default();
+        let why = field(&ev, "message").as_string().unwrap_or_else(|| "an error".into());
+        finish(&sh, Err(format!("the background worker stopped ({why}); run the study again")));
+    });
+    w.set_onerror(Some(on_error.unchecked_ref()));
     let arrays = job.take_arrays();
+    // A CSV file's text travels as a string of its own (the browser copies it natively), not
+    // escaped inside the job's JSON on the page's thread.
+    let csv_text = match &mut job {
+        Job::CsvImport { text, .. } => Some(std::mem::take(text)),
+        _ => None,
+    };
     let text = match serde_json::to_string(&job) {
         Ok(t) => t,
         Err(e) => return finish(shared, Err(format!("the job could not be written: {e}"))),
@@ -266,6 +357,9 @@ fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Wo
     let _ = js_sys::Reflect::set(&msg, &"job".into(), &text.into());
     let _ = js_sys::Reflect::set(&msg, &"arrays".into(), &list);
     let _ = js_sys::Reflect::set(&msg, &"slice_ms".into(), &WORKER_SLICE_MS.into());
+    if let Some(t) = csv_text {
+        let _ = js_sys::Reflect::set(&msg, &"text".into(), &JsValue::from_str(&t));
+    }
     {
         let mut s = shared.borrow_mut();
         s.parts[index].worker = Some(w.clone());
@@ -280,14 +374,12 @@ fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Wo
 #[derive(Clone)]
 pub struct JobHandle {
     shared: Rc<RefCell<Shared>>,
-    cancelled: Rc<Cell<bool>>,
 }
 
 impl JobHandle {
     /// Stops the job at once: its workers are terminated (on the page: no further slice runs).
     /// The done callback is not called.
     pub fn cancel(&self) {
-        self.cancelled.set(true);
         let workers: Vec<_> = {
             let mut s = self.shared.borrow_mut();
             s.finished = true;
@@ -297,11 +389,14 @@ impl JobHandle {
             }
             s.parts.iter_mut().filter_map(|p| p.worker.take()).collect()
         };
+        let had_workers = !workers.is_empty();
         for w in workers {
             w.terminate();
         }
         // Replace the terminated workers in the background.
-        crate::tick::after_ms(50, || prewarm(worker_count()));
+        if had_workers {
+            crate::tick::after_ms(50, || prewarm(worker_count()));
+        }
     }
 
     /// Whether the job has ended (done, failed or cancelled).
@@ -318,46 +413,66 @@ pub fn start(
     on_progress: impl Fn(JobStatus) + 'static,
     on_done: impl FnOnce(Result<JobOutput, String>) + 'static,
 ) -> JobHandle {
-    let n = if NO_WORKERS.with(|c| c.get()) { 1 } else { worker_count() };
+    let refused = NO_WORKERS.with(|c| c.get());
+    let n = if refused { 1 } else { worker_count() };
     let parts = split(&job, n).unwrap_or_else(|_| vec![job.clone()]);
     let shared = Rc::new(RefCell::new(Shared {
-        job: job.clone(),
-        parts: parts
-            .iter()
-            .map(|_| Part { worker: None, done: 0, total: None, output: None, _on_message: None })
-            .collect(),
+        job,
+        parts: parts.iter().map(|_| Part::default()).collect(),
         unit: String::new(),
         started_ms: crate::tick::now_ms(),
         finished: false,
+        on_page: false,
+        note: None,
         on_progress: Rc::new(on_progress),
         on_done: Some(Box::new(on_done)),
     }));
-    let handle = JobHandle { shared: shared.clone(), cancelled: Rc::new(Cell::new(false)) };
-    if !NO_WORKERS.with(|c| c.get()) {
-        let mut all = true;
-        for (i, part) in parts.into_iter().enumerate() {
-            let sh = shared.clone();
-            if !acquire(move |w| send(&sh, i, part, w)) {
-                all = false;
-                break;
-            }
-        }
-        if all {
-            return handle;
-        }
-        NO_WORKERS.with(|c| c.set(true));
-        // Workers refused: stop any part already sent and run the whole job on the page.
-        let workers: Vec<_> = shared.borrow_mut().parts.iter_mut().filter_map(|p| p.worker.take()).collect();
-        for w in workers {
-            w.terminate();
+    let handle = JobHandle { shared: shared.clone() };
+    if refused {
+        run_on_page(&shared);
+        return handle;
+    }
+    for (i, part) in parts.into_iter().enumerate() {
+        let (sh, sh2) = (shared.clone(), shared.clone());
+        if !acquire(move |w| send(&sh, i, part, w), move || {
+            refuse_workers();
+            run_on_page(&sh2);
+        }) {
+            refuse_workers();
+            run_on_page(&shared);
+            break;
         }
     }
-    {
+    handle
+}
+
+impl Default for Part {
+    fn default() -> Part {
+        Part { worker: None, done: 0, total: None, output: None, _on_message: None }
+    }
+}
+
+/// Moves the whole job onto the page (workers refused): stops any part sent to a worker and runs
+/// the job in slices between frames. Does nothing for a job already finished or on the page.
+fn run_on_page(shared: &Rc<RefCell<Shared>>) {
+    let (job, workers) = {
         let mut s = shared.borrow_mut();
-        s.parts = vec![Part { worker: None, done: 0, total: None, output: None, _on_message: None }];
+        if s.finished || s.on_page {
+            return;
+        }
+        s.on_page = true;
+        s.note = take_note();
+        let workers: Vec<_> = s.parts.iter_mut().filter_map(|p| p.worker.take()).collect();
+        s.parts = vec![Part::default()];
+        (s.job.clone(), workers)
+    };
+    for w in workers {
+        w.set_onmessage(None);
+        w.set_onerror(None);
+        w.terminate();
     }
     match Running::start(job) {
-        Err(e) => finish(&shared, Err(e.to_string())),
+        Err(e) => finish(shared, Err(e.to_string())),
         Ok(r) => {
             let p = r.progress();
             {
@@ -365,17 +480,20 @@ pub fn start(
                 s.unit = r.unit().to_string();
                 s.parts[0].total = Some(p.total);
             }
-            let (status, cb) = { let s = shared.borrow(); (s.status(), s.on_progress.clone()) };
-            cb(JobStatus { workers: 0, ..status });
-            page_slice(shared, handle.cancelled.clone(), r, 1024);
+            let (status, cb) = {
+                let s = shared.borrow();
+                (s.status(), s.on_progress.clone())
+            };
+            cb(status);
+            let sh = shared.clone();
+            crate::tick::later(move || page_slice(sh, r, 1024));
         }
     }
-    handle
 }
 
 /// One slice of a job on the page, then the next on a later turn of the event loop.
-fn page_slice(shared: Rc<RefCell<Shared>>, cancelled: Rc<Cell<bool>>, mut r: Running, budget: u64) {
-    if cancelled.get() || shared.borrow().finished {
+fn page_slice(shared: Rc<RefCell<Shared>>, mut r: Running, budget: u64) {
+    if shared.borrow().finished {
         return;
     }
     let t0 = crate::tick::now_ms();
@@ -392,8 +510,61 @@ fn page_slice(shared: Rc<RefCell<Shared>>, cancelled: Rc<Cell<bool>>, mut r: Run
     let (status, cb) = {
         let mut s = shared.borrow_mut();
         s.parts[0].done = p.done;
-        (JobStatus { workers: 0, ..s.status() }, s.on_progress.clone())
+        (s.status(), s.on_progress.clone())
     };
     cb(status);
-    crate::tick::later(move || page_slice(shared, cancelled, r, next));
+    crate::tick::later(move || page_slice(shared, r, next));
+}
+
+/// A study that follows changing inputs on the compute workers (see [`follow`]).
+#[derive(Clone, Copy)]
+pub struct Followed {
+    /// The latest job's output; `None` while it runs (or after Cancel).
+    pub result: leptos::prelude::RwSignal<Option<Result<JobOutput, String>>>,
+    /// Progress of the running job, once it has run for [`FOLLOW_QUIET_MS`] (no flicker for the
+    /// usual short runs).
+    pub status: leptos::prelude::RwSignal<Option<JobStatus>>,
+    /// Stops the running job.
+    pub cancel: leptos::prelude::Callback<()>,
+}
+
+/// How long a followed job runs before its progress is shown, ms.
+pub const FOLLOW_QUIET_MS: f64 = 150.0;
+
+/// Runs `job` on the compute workers each time it changes (compared by value): the running one is
+/// cancelled and the new one started; `None` runs nothing.
+pub fn follow(job: leptos::prelude::Memo<Option<Job>>) -> Followed {
+    use leptos::prelude::*;
+    let result = RwSignal::new(None::<Result<JobOutput, String>>);
+    let status = RwSignal::new(None::<JobStatus>);
+    let running = StoredValue::new_local(None::<JobHandle>);
+    let stop = move || {
+        if let Some(h) = running.try_update_value(|r| r.take()).flatten() {
+            h.cancel();
+        }
+        status.set(None);
+    };
+    Effect::new(move |_| {
+        let next = job.get();
+        stop();
+        result.set(None);
+        let Some(next) = next else { return };
+        let handle = start(
+            next,
+            move |st| {
+                if st.now_ms - st.started_ms >= FOLLOW_QUIET_MS {
+                    status.set(Some(st));
+                }
+            },
+            move |out| {
+                running.set_value(None);
+                status.set(None);
+                result.set(Some(out));
+            },
+        );
+        if !handle.is_finished() {
+            running.set_value(Some(handle));
+        }
+    });
+    Followed { result, status, cancel: Callback::new(move |_| stop()) }
 }

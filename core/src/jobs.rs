@@ -4,13 +4,16 @@
 //! Nothing here knows of workers, threads or clocks; the same code runs natively in the tests.
 //!
 //! **Work bound before the start.** [`Running::start`] validates the job and returns its total work
-//! in [`Progress::total`] (units named by [`Running::unit`]: trials, corners, sample passes or bytes)
+//! in [`Progress::total`] (units named by [`Running::unit`]: trials, circuit evaluations, sample passes or bytes)
 //! before any of it is done, so the page can announce the size of a study and, after the first
 //! slice, a time estimate from the measured rate.
 //!
 //! **Slices.** `step(budget)` does at least one unit and stops once `budget` units are done in that
-//! call; a unit that cannot be cut (the signal study's main pass, the whole worst case, a
-//! simulation of the oscillator or debouncer) is done in one step, and counts for its weight.
+//! call; a unit that cannot be cut (the signal study's main pass, the worst case's conclusion —
+//! the search inside the bands after every corner —, a simulation of the oscillator or debouncer)
+//! is done in one step, and counts for its weight. The worst case's corners go in slices of corner
+//! indices ([`crate::tolerance::worst_case::WorstCaseRun`]), merged in order so that the result
+//! equals one pass.
 //!
 //! **Splitting over N workers, identical to one run.** [`split`] cuts a Monte Carlo job into N
 //! consecutive trial ranges and a noise sweep into N consecutive level ranges; [`merge`] puts the
@@ -43,9 +46,11 @@ use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, 
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
 use crate::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
-use crate::tolerance::worst_case::{worst_case, WorstCase};
+use crate::tolerance::worst_case::{CornerScan, WorstCase, WorstCaseRun, SEARCH_GRID};
+use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
 use crate::tolerance::ToleranceSettings;
-use crate::topology::{Circuit, Topology};
+use crate::record::DesignRecord;
+use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
 
 /// Consecutive indices `[start, end)` of a job's trials or sweep levels: one part of a split job.
@@ -76,6 +81,12 @@ pub enum Job {
         circuit: Topology,
         /// Bands and corner limit.
         settings: ToleranceSettings,
+    },
+    /// The field window and the bench window at each supply the bench procedure sets, of a
+    /// record (equal to `overview::record_windows`): one worst case after the other.
+    Windows {
+        /// The design.
+        record: Box<DesignRecord>,
     },
     /// The signal study with its noise sweep (when the settings ask for one), with waveforms for
     /// display reduced to at most `display_points` points (see [`reduce_for_display`]).
@@ -144,6 +155,8 @@ pub enum JobOutput {
     MonteCarloPart(MonteCarloPartial),
     /// The worst case.
     WorstCase(WorstCase),
+    /// The field and bench windows.
+    Windows(Box<Windows>),
     /// The signal study.
     Signal(Box<SignalRun>),
     /// A part of a noise sweep.
@@ -186,6 +199,13 @@ impl Progress {
 /// levels (each level is two trigger passes; measured natively, common practice for a progress bar).
 const STUDY_WEIGHT: u64 = 4;
 
+/// What the worst case's conclusion (the search inside the bands from each of the 8 extremes, one
+/// grid sweep over each varied parameter when the figures are monotonic) counts for in progress,
+/// in circuit evaluations like each corner.
+fn conclusion_weight(varied: usize) -> u64 {
+    8 * (varied as u64).max(1) * (SEARCH_GRID as u64 + 1)
+}
+
 /// Points kept per waveform for display when a job does not say (a 10 M-sample study comes back as
 /// 400,000 points: min and max of every 50 samples).
 pub const DEFAULT_DISPLAY_POINTS: usize = 400_000;
@@ -198,9 +218,16 @@ enum State {
         acc: MonteCarloPartial,
     },
     WorstCase {
-        circuit: Box<Topology>,
-        settings: Box<ToleranceSettings>,
+        run: Box<WorstCaseRun<Topology>>,
+        scan: CornerScan,
         out: Option<WorstCase>,
+    },
+    Windows {
+        record: Box<DesignRecord>,
+        settings: Box<ToleranceSettings>,
+        supplies: Vec<f64>,
+        field: Option<WorstCase>,
+        bench: Vec<BenchWindow>,
     },
     Signal(Box<SignalState>),
     Csv {
@@ -313,20 +340,38 @@ impl Running {
                 )
             }
             Job::WorstCase { circuit, settings } => {
-                circuit.validate()?;
-                settings.validate()?;
-                let n = circuit
-                    .parameters()
-                    .len()
-                    .min(settings.corner_limit)
-                    .min(63) as u32;
+                let run = WorstCaseRun::new(&circuit, &settings)?;
+                let corners = run.corners();
+                let total = corners + conclusion_weight(run.varied_parameters());
+                let scan = run.scan(0, 0)?;
                 (
                     State::WorstCase {
-                        circuit: Box::new(circuit),
-                        settings: Box::new(settings),
+                        run: Box::new(run),
+                        scan,
                         out: None,
                     },
-                    1u64 << n,
+                    total,
+                )
+            }
+            Job::Windows { record } => {
+                let analysis = crate::topology::analyse(&record.circuit, &record.checks)?;
+                let mut supplies: Vec<f64> = Vec::new();
+                for s in crate::bench::bench_supplies(&record.circuit, &analysis) {
+                    if !supplies.contains(&s) {
+                        supplies.push(s);
+                    }
+                }
+                let total = 1 + supplies.len() as u64;
+                let settings = Box::new(record.tolerance.clone().unwrap_or_default());
+                (
+                    State::Windows {
+                        record,
+                        settings,
+                        supplies,
+                        field: None,
+                        bench: Vec::new(),
+                    },
+                    total,
                 )
             }
             Job::Signal {
@@ -452,7 +497,8 @@ impl Running {
     pub fn unit(&self) -> &'static str {
         match self.state {
             State::MonteCarlo { .. } => "trials",
-            State::WorstCase { .. } => "corners",
+            State::WorstCase { .. } => "circuit evaluations",
+            State::Windows { .. } => "worst cases",
             State::Signal(_) => "sample passes",
             State::Csv { .. } => "bytes",
             State::Oscillator { .. } | State::Debouncer { .. } => "simulations",
@@ -478,15 +524,31 @@ impl Running {
                 acc.merge(run.run(start, end)?)?;
                 self.progress.done = acc.end - range.start;
             }
-            State::WorstCase {
-                circuit,
-                settings,
-                out,
-            } => {
-                if out.is_none() {
-                    *out = Some(worst_case(circuit.as_ref(), settings)?);
+            State::WorstCase { run, scan, out } => {
+                let corners = run.corners();
+                if scan.end < corners {
+                    let end = scan.end.saturating_add(budget).min(corners);
+                    scan.merge(&run.scan(scan.end, end)?)?;
+                    self.progress.done = scan.end;
+                } else {
+                    *out = Some(run.finish(scan)?);
+                    self.progress.done = self.progress.total;
                 }
-                self.progress.done = self.progress.total;
+            }
+            State::Windows {
+                record,
+                settings,
+                supplies,
+                field,
+                bench,
+            } => {
+                // One worst case per call: the field window, then each bench supply.
+                if field.is_none() {
+                    *field = Some(crate::tolerance::worst_case(&record.circuit, settings)?);
+                } else if let Some(&s) = supplies.get(bench.len()) {
+                    bench.push(bench_window(&record.circuit, settings, s)?);
+                }
+                self.progress.done = u64::from(field.is_some()) + bench.len() as u64;
             }
             State::Signal(st) => {
                 let mut done = before;
@@ -570,6 +632,9 @@ impl Running {
                 }
             }
             State::WorstCase { out, .. } => out.map(JobOutput::WorstCase).ok_or_else(missing),
+            State::Windows { field, bench, .. } => field
+                .map(|field| JobOutput::Windows(Box::new(Windows { field, bench })))
+                .ok_or_else(missing),
             State::Signal(st) => st.finish(),
             State::Csv { out, .. } => out.map(JobOutput::Capture).ok_or_else(missing),
             State::Oscillator { out, .. } => out.map(JobOutput::Oscillator).ok_or_else(missing),
@@ -1029,6 +1094,74 @@ mod tests {
             panic!("not a capture")
         };
         assert_eq!(c, whole);
+    }
+
+    #[test]
+    fn worst_case_in_slices_equals_one_pass_for_every_demo_and_template() {
+        // Every starter (the two-transistor pair included, and the CMOS buffer whose clamped
+        // level sends the search inside the bands), sliced in odd budgets: bit-identical to
+        // tolerance::worst_case, with the corners and the conclusion announced before the work.
+        let starters = crate::catalog::demos().into_iter().chain(crate::catalog::templates());
+        let mut checked = 0;
+        for st in starters {
+            let r = st.record();
+            let settings = r.tolerance.clone().unwrap_or_default();
+            let whole = crate::tolerance::worst_case(&r.circuit, &settings);
+            let job = Job::WorstCase { circuit: r.circuit.clone(), settings: settings.clone() };
+            let running = match Running::start(job) {
+                Ok(running) => running,
+                Err(e) => {
+                    assert_eq!(Err(e), whole.map(|_| ()), "{}", st.key);
+                    continue;
+                }
+            };
+            assert_eq!(running.unit(), "circuit evaluations");
+            let total = running.progress().total;
+            let wc = whole.unwrap_or_else(|e| panic!("{}: {e}", st.key));
+            let corners = if wc.method == crate::tolerance::worst_case::WorstCaseMethod::Corners { 1u64 << wc.varied_parameters } else { 0 };
+            assert_eq!(total, corners + conclusion_weight(wc.varied_parameters), "{}", st.key);
+            for budget in [1u64, 7, 1 << 20] {
+                let JobOutput::WorstCase(sliced) = Running::start(Job::WorstCase { circuit: r.circuit.clone(), settings: settings.clone() })
+                    .unwrap()
+                    .run_to_end(budget)
+                    .unwrap()
+                else {
+                    panic!("not a worst case")
+                };
+                assert_eq!(sliced, wc, "{} in slices of {budget}", st.key);
+            }
+            checked += 1;
+        }
+        assert!(checked >= 8, "only {checked} starters had a worst case");
+    }
+
+    #[test]
+    fn windows_job_equals_the_overview_for_every_demo() {
+        for st in crate::catalog::demos() {
+            let r = st.record();
+            let whole = crate::overview::record_windows(&r);
+            let out = Running::start(Job::Windows { record: Box::new(r.clone()) }).and_then(|j| j.run_to_end(1));
+            match (out, whole) {
+                (Ok(JobOutput::Windows(w)), Ok(whole)) => assert_eq!(*w, whole, "{}", st.key),
+                (Err(a), Err(b)) => assert_eq!(a, b, "{}", st.key),
+                (a, b) => panic!("{}: job {a:?}, overview {b:?}", st.key),
+            }
+        }
+    }
+
+    #[test]
+    fn corner_scans_merge_only_in_order() {
+        let r = crate::catalog::templates()[0].record();
+        let run = WorstCaseRun::new(&r.circuit, &ToleranceSettings::default()).unwrap();
+        let n = run.corners();
+        assert!(n >= 4);
+        let mut a = run.scan(0, n / 2).unwrap();
+        let b = run.scan(n / 2, n).unwrap();
+        assert!(b.clone().merge(&a).is_err());
+        a.merge(&b).unwrap();
+        assert_eq!(a, run.scan(0, n).unwrap());
+        assert!(run.scan(0, n + 1).is_err());
+        assert!(run.finish(&b).is_err(), "a scan missing corners is refused");
     }
 
     #[test]

@@ -63,3 +63,67 @@ async fn single_file_opens_from_disk_and_keeps_an_edit() {
     assert_eq!(pages, Some(1), "the single file's sheet prints as: {info}");
     s.close().await;
 }
+
+/// Which case Chromium is in for the single file opened from disk: its studies run on workers
+/// started from the `blob:` URL the file makes (policy `worker-src blob:`), or, where the browser
+/// refuses them, on the page in slices with progress and a note said once. Either way a long run
+/// shows its progress and cancels, and a short run gives its result.
+#[tokio::test(flavor = "multi_thread")]
+async fn single_file_runs_studies_on_blob_workers_or_says_it_runs_them_on_the_page() {
+    let file = Path::new(env!("CARGO_MANIFEST_DIR")).join("..").join("dist-single").join("hysteron.html");
+    let file = file.canonicalize().unwrap_or_else(|e| {
+        panic!("{} missing ({e}): run `cargo xtask single-file` (or `cargo xtask test`) first", file.display())
+    });
+    let html = std::fs::read_to_string(&file).expect("read the single file");
+    assert!(html.contains("worker-src blob:"), "the single file's policy allows no blob: workers");
+    assert!(html.contains("globalThis.hysteronWorkerUrl"), "the single file carries no worker");
+    let s = browser::start_at(format!("file://{}", file.display())).await;
+    // A long run: the two-transistor demo costs an Ebers–Moll solve per trial.
+    s.add_starter("demo:dust-extractor").await;
+    s.type_into("#mc-trials", "1M").await;
+    s.wait_stored("r.tolerance.monte_carlo.trials === 1000000").await;
+    s.wait_for("#mc-run").await.click().await.unwrap();
+    let status = s
+        .wait_js(
+            "progress with the total announced and some trials done",
+            "const e = document.querySelector('#mc-status'); return e && +e.dataset.total === 1000000 && +e.dataset.done > 0 ? e.textContent : null;",
+        )
+        .await;
+    let status = status.as_str().unwrap_or_default().to_string();
+    let compute = s.js("return document.documentElement.dataset.compute || '';").await;
+    let note = s.js("const n = document.querySelector('#workers-note'); return n ? n.textContent : '';").await;
+    let note = note.as_str().unwrap_or_default().to_string();
+    match compute.as_str() {
+        Some("workers") => {
+            println!("single file from file://: Chromium runs studies on workers from the blob: URL ({status})");
+            assert!(status.contains("background"), "{status}");
+            assert!(note.is_empty(), "a note about the page although workers run: {note}");
+        }
+        Some("page") => {
+            println!("single file from file://: Chromium refuses the blob: worker; studies run on the page ({status})");
+            assert!(status.contains("on this page"), "{status}");
+            assert!(note.contains("did not start a background worker"), "the fallback is not said: {note:?}");
+        }
+        other => panic!("the page says nowhere where studies run (data-compute {other:?}; status {status})"),
+    }
+    s.wait_for("#mc-cancel").await.click().await.unwrap();
+    s.wait_js("the progress bar to go after Cancel", "return !document.querySelector('#mc-progress');").await;
+
+    // A second long run: the note, if any, is not said again.
+    s.wait_for("#mc-run").await.click().await.unwrap();
+    s.wait_js(
+        "the second run's progress",
+        "const e = document.querySelector('#mc-status'); return e && +e.dataset.done > 0 ? 1 : null;",
+    )
+    .await;
+    assert_eq!(s.js("return !!document.querySelector('#workers-note');").await, serde_json::Value::Bool(false), "the note is said twice");
+    s.wait_for("#mc-cancel").await.click().await.unwrap();
+
+    // A short run completes with its result.
+    s.type_into("#mc-trials", "2000").await;
+    s.wait_stored("r.tolerance.monte_carlo.trials === 2000").await;
+    s.wait_for("#mc-run").await.click().await.unwrap();
+    let summary = s.text("#mc-summary").await;
+    assert!(summary.starts_with("2000 trials"), "{summary}");
+    s.close().await;
+}

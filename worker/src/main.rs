@@ -4,8 +4,9 @@
 //! `hysteron-worker_bg.wasm`, since the page must name them at run time).
 //!
 //! Protocol (one job per message; the page's side is `app/src/jobs.rs`):
-//! - page → worker: `{ job: "<core::jobs::Job as JSON>", arrays: [Float64Array…], slice_ms }`,
-//!   the job's large vectors taken out with `Job::take_arrays`;
+//! - page → worker: `{ job: "<core::jobs::Job as JSON>", arrays: [Float64Array…], slice_ms, text? }`,
+//!   the job's large vectors taken out with `Job::take_arrays`, and a CSV import's file text
+//!   taken out of the job into `text` (a string of its own, not escaped inside the JSON);
 //! - worker → page: `{ kind: "progress", done, total, unit }` once before the work starts (the
 //!   announced bound) and after each slice (at most every `slice_ms`), then
 //!   `{ kind: "result", output: "<JobOutput as JSON>", arrays: [Float64Array…] }` with the arrays
@@ -69,6 +70,9 @@ mod worker {
         let slice_ms = get("slice_ms").as_f64().filter(|x| *x > 0.0).unwrap_or(30.0);
         let mut job: Job = serde_json::from_str(&text).map_err(|e| format!("the job is not readable: {e}"))?;
         job.put_arrays(arrays_in(&get("arrays"))).map_err(|e| e.to_string())?;
+        if let (Job::CsvImport { text, .. }, Some(t)) = (&mut job, get("text").as_string()) {
+            *text = t;
+        }
         let mut running = Running::start(job).map_err(|e| e.to_string())?;
         let unit = running.unit();
         let total = running.progress().total;

@@ -41,6 +41,8 @@ fn main() -> ExitCode {
         Some("csp") => csp::write_policy(),
         // Trunk's post-build hook: the policy first (it changes index.html), then the service worker's
         // file list and version (a hash over every built file).
+        // `--from-dist`: from the dist/ already built, without building again.
+        Some("single-file") if args.get(1).map(String::as_str) == Some("--from-dist") => single::write_single_file(&root),
         Some("single-file") => setup_build_tools(&root).and_then(|_| build_page(&root)).and_then(|_| single::write_single_file(&root)),
         Some("post-build") => csp::write_policy().and_then(|_| offline::write_service_worker()),
         _ => {
@@ -48,6 +50,7 @@ fn main() -> ExitCode {
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
             eprintln!("  test    install what is missing, run every test (unit, property, reference, wasm, browser)");
             eprintln!("  single-file  build the page as one HTML file that opens from disk: dist-single/hysteron.html");
+            eprintln!("               (--from-dist: from the dist/ already built)");
             eprintln!("  explore [SCALE] [SEED]  property tests only, fresh seed (or SEED), SCALE× the cases (default {EXPLORE_SCALE})");
             return ExitCode::from(2);
         }

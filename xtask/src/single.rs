@@ -8,6 +8,12 @@
 //! preload hints, the web app manifest link and the old policy are dropped. A new
 //! Content-Security-Policy allows nothing from anywhere (`default-src 'none'`) but the page's own
 //! inline scripts and styles by their SHA-256 hashes, its WebAssembly and `data:`/`blob:` images.
+//!
+//! The compute worker (`hysteron-worker.js` and `hysteron-worker_bg.wasm`, fixed names) cannot be a
+//! file either: its script, followed by its start with the WebAssembly as base64, goes into the
+//! loader as text, which makes it a `blob:` URL in `globalThis.hysteronWorkerUrl` before the page
+//! starts (`app/src/jobs.rs` starts workers from it), and the policy allows workers from `blob:`
+//! only (`worker-src blob:`). A browser that still refuses gets sliced work on the page.
 
 use crate::csp::{base64, sha256};
 use std::path::Path;
@@ -71,6 +77,10 @@ pub fn single_file(index: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) 
                 let wasm = loader_wasm(body).ok_or("single-file: the loader names no .wasm")?;
                 let bytes = read(wasm)?;
                 out.push_str("<script type=\"module\">");
+                if let (Ok(glue), Ok(wasm)) = (read(WORKER_GLUE), read(WORKER_WASM)) {
+                    let glue = String::from_utf8(glue).map_err(|_| format!("single-file: {WORKER_GLUE} is not UTF-8"))?;
+                    out.push_str(&inline_worker(&glue, &wasm));
+                }
                 out.push_str(&inline_loader(&js, &bytes)?);
                 out.push_str("</script>");
                 loaders += 1;
@@ -112,6 +122,43 @@ pub fn single_file(index: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) 
         return Err(format!("single-file: expected one Trunk loader script in index.html, found {loaders}"));
     }
     with_policy(&out)
+}
+
+/// The compute worker's script and WebAssembly in the build (Trunk keeps these names).
+const WORKER_GLUE: &str = "./hysteron-worker.js";
+/// See [`WORKER_GLUE`].
+const WORKER_WASM: &str = "./hysteron-worker_bg.wasm";
+
+/// `text` as a double-quoted JavaScript string literal that cannot end the script element
+/// (`<` is written `\x3c`).
+fn js_string(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + text.len() / 8 + 2);
+    out.push('"');
+    for c in text.chars() {
+        match c {
+            '\\' => out.push_str("\\\\"),
+            '"' => out.push_str("\\\""),
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '<' => out.push_str("\\x3c"),
+            '\u{2028}' => out.push_str("\\u2028"),
+            '\u{2029}' => out.push_str("\\u2029"),
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// Start-up lines that make the worker's script (its glue, then its start with the WebAssembly from
+/// base64; a failed start is rethrown so the page sees an error event) a `blob:` URL in
+/// `globalThis.hysteronWorkerUrl`.
+fn inline_worker(glue: &str, wasm: &[u8]) -> String {
+    format!(
+        "globalThis.hysteronWorkerUrl = URL.createObjectURL(new Blob([{}, \"\\nwasm_bindgen({{ module_or_path: Uint8Array.from(atob('{}'), (c) => c.charCodeAt(0)) }}).catch((e) => setTimeout(() => {{ throw e; }}));\\n\"], {{ type: 'text/javascript' }}));\n",
+        js_string(glue),
+        base64(wasm)
+    )
 }
 
 /// The glue module the Trunk loader imports (`import init, * as bindings from './x.js';`).
@@ -166,12 +213,13 @@ fn hashes(html: &str, element: &str) -> Result<Vec<String>, String> {
 }
 
 /// The html with its policy inserted right after `<head>`: nothing from anywhere but the hashed
-/// inline scripts and styles, the WebAssembly they start, and `data:`/`blob:` images.
+/// inline scripts and styles, the WebAssembly they start, workers from `blob:` URLs, and
+/// `data:`/`blob:` images.
 fn with_policy(html: &str) -> Result<String, String> {
     let scripts = hashes(html, "script")?.join(" ");
     let styles = hashes(html, "style")?.join(" ");
     let policy = format!(
-        "default-src 'none'; script-src 'wasm-unsafe-eval' {scripts}; style-src {styles}; img-src data: blob:; object-src 'none'; base-uri 'none'; form-action 'none'"
+        "default-src 'none'; script-src 'wasm-unsafe-eval' {scripts}; style-src {styles}; worker-src blob:; img-src data: blob:; object-src 'none'; base-uri 'none'; form-action 'none'"
     );
     let head = html.find("<head>").ok_or("single-file: no <head> in index.html")? + 6;
     Ok(format!("{}\n  <meta http-equiv=\"Content-Security-Policy\" content=\"{policy}\">{}", &html[..head], &html[head..]))
@@ -215,6 +263,22 @@ mod tests {
         assert!(out.contains(&format!("style-src 'sha256-{}';", base64(&sha256(b"body{color:red}")))));
         assert_eq!(out.matches("'sha256-").count(), 3, "two scripts and one style: {out}");
         assert!(!out.contains("'unsafe-inline'") && !out.contains("'self'"));
+    }
+
+    #[test]
+    fn worker_is_inlined_as_a_blob_script_when_built() {
+        let with_worker = |n: &str| match n {
+            "./hysteron-worker.js" => Ok(b"let wasm_bindgen = 1; // \"</script>\"\n".to_vec()),
+            "./hysteron-worker_bg.wasm" => Ok(b"\0asm\x02\0\0\0".to_vec()),
+            other => read(other),
+        };
+        let out = single_file(INDEX, &with_worker).unwrap();
+        assert!(out.contains("globalThis.hysteronWorkerUrl = URL.createObjectURL(new Blob([\"let wasm_bindgen = 1; // \\\"\\x3c/script>\\\"\\n\""), "{out}");
+        assert!(out.contains(&format!("atob('{}')", base64(b"\0asm\x02\0\0\0"))), "{out}");
+        assert!(out.contains("worker-src blob:;"), "{out}");
+        assert_eq!(out.matches("</script>").count(), 2, "the worker's text cannot end a script: {out}");
+        // Without worker files the page is built alone (studies then run on the page).
+        assert!(!single_file(INDEX, &read).unwrap().contains("hysteronWorkerUrl"));
     }
 
     #[test]

@@ -1,6 +1,7 @@
 //! The progress bar and Cancel button of a long study (`crate::jobs`): how much is done, in the
 //! study's own units, an estimate of the time left from the rate so far, and where it runs.
-//! Reused by every section that starts a job; ids are `<id>-progress`, `<id>-status`, `<id>-cancel`.
+//! Reused by every section that starts a job; ids are `<id>-progress`, `<id>-status`, `<id>-cancel`,
+//! and `workers-note` for the one note that studies run on the page (workers refused).
 
 use crate::jobs::JobStatus;
 use leptos::prelude::*;
@@ -51,6 +52,7 @@ pub fn JobProgress(
                     <progress id=format!("{id}-progress") max="1" value=s.fraction().to_string()></progress>
                     <span class="note" id=format!("{id}-status") data-done=s.done.to_string() data-total=s.total.to_string()>{describe(&s)}</span>
                     <button id=format!("{id}-cancel") class="quiet" on:click=move |_| on_cancel.run(())>"Cancel"</button>
+                    {s.note.map(|n| view! { <span class="note" id="workers-note">{n}</span> })}
                 </span>
             }
         })

@@ -5,7 +5,7 @@
 use super::state::Notebook;
 use crate::plot;
 use hysteron_core::analysis::Analysis;
-use hysteron_core::overview::{quick, record_windows, Quick};
+use hysteron_core::overview::{quick, Quick};
 use hysteron_core::tolerance::{worst_case::WorstCase, SpecWindow};
 use hysteron_core::topology::TransferCurve;
 use leptos::html::Canvas;
@@ -77,8 +77,24 @@ pub fn Results(figures: Figures) -> impl IntoView {
     let analysis = figures.analysis;
     let curve = Memo::new(move |_| figures.quick.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
     // The field window (every tolerance over its full range) and the bench window (parts and
-    // device spread at 25 °C and the nominal supply), computed once typing pauses.
-    let windows = Memo::new(move |_| nb.with_settled(|r| record_windows(r).ok()).flatten());
+    // device spread at 25 °C and the nominal supply), computed on a compute worker once typing
+    // pauses (`core::jobs::Job::Windows`, equal to `overview::record_windows`). The job carries
+    // only what the windows read, so an edit elsewhere (name, notes, signal) starts nothing.
+    let windows_job = Memo::new(move |_| {
+        nb.with_settled(|r| {
+            let mut only = hysteron_core::record::DesignRecord::new("", r.circuit.clone());
+            only.checks = r.checks.clone();
+            only.tolerance = r.tolerance.clone();
+            hysteron_core::jobs::Job::Windows { record: Box::new(only) }
+        })
+    });
+    let windows_run = crate::jobs::follow(windows_job);
+    let windows = Memo::new(move |_| {
+        windows_run.result.with(|o| match o {
+            Some(Ok(hysteron_core::jobs::JobOutput::Windows(w))) => Some((**w).clone()),
+            _ => None,
+        })
+    });
     let spec = Memo::new(move |_| nb.with_current(|r| r.tolerance.as_ref().map(|t| t.spec)).flatten().unwrap_or_default());
     // The figures saved with the design are its record for the bench: if today's math gives other
     // numbers (a newer version, say), say so and show both rather than silently changing them.

@@ -5,8 +5,7 @@
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use crate::plot::{self, colours, Trace};
-use crate::tick::later;
-use hysteron_core::signal::csv::{Capture, CsvOptions, CsvParser};
+use hysteron_core::signal::csv::{Capture, CsvOptions};
 use hysteron_core::signal::generate::{Component, SignalDefinition};
 use hysteron_core::signal::noise::NoiseSource;
 use hysteron_core::signal::plot::{downsample_min_max, Envelope};
@@ -17,9 +16,6 @@ use hysteron_core::signal::trigger::TriggerDesign;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 use wasm_bindgen::JsCast;
-
-/// Characters of an imported file parsed per slice (keeps the page responsive on 1,000,000 rows).
-const CSV_SLICE: usize = 512 * 1024;
 
 /// One numeric field of a signal part: record key, label on screen, unit.
 type PartField = (&'static str, &'static str, &'static str);
@@ -287,7 +283,7 @@ pub fn SignalSection() -> impl IntoView {
             let text = r2.result().ok().and_then(|v| v.as_string()).unwrap_or_default();
             import_generation.update(|g| *g += 1);
             let ticket = (import_generation, import_generation.get_untracked());
-            parse_slices(std::sync::Arc::new(text), name, capture, import_status, import_progress, nb, ticket);
+            parse_slices(text, name, capture, import_status, import_progress, nb, ticket);
         });
         reader.set_onload(Some(onload.unchecked_ref()));
         if reader.read_as_text(&file).is_err() {
@@ -391,6 +387,7 @@ pub fn SignalSection() -> impl IntoView {
                 {move || import_progress.get().map(|p| view! {
                     <progress id="csv-progress" max="1" value=p.to_string()></progress>
                     <button class="quiet small" id="csv-cancel" on:click=move |_| {
+                        cancel_import();
                         import_generation.update(|g| *g += 1);
                         import_progress.set(None);
                         import_status.set(Some(Err("import cancelled".into())));
@@ -473,9 +470,22 @@ pub fn SignalSection() -> impl IntoView {
     }
 }
 
-/// Parses imported text slice by slice on later turns of the event loop, reporting progress.
+thread_local! {
+    /// The capture import running on the compute workers, if any.
+    static IMPORT_JOB: std::cell::RefCell<Option<crate::jobs::JobHandle>> = const { std::cell::RefCell::new(None) };
+}
+
+/// Stops a running capture import.
+fn cancel_import() {
+    if let Some(h) = IMPORT_JOB.with(|j| j.borrow_mut().take()) {
+        h.cancel();
+    }
+}
+
+/// Reads imported text on a compute worker (`crate::jobs`, `Job::CsvImport`; on the page in slices
+/// where workers are refused), reporting progress.
 fn parse_slices(
-    text: std::sync::Arc<String>,
+    text: String,
     name: String,
     capture: RwSignal<Option<std::sync::Arc<Capture>>>,
     status: RwSignal<Option<Result<String, String>>>,
@@ -483,65 +493,45 @@ fn parse_slices(
     nb: Notebook,
     ticket: (RwSignal<u64>, u64),
 ) {
-    let parser = match CsvParser::new(CsvOptions::default()) {
-        Ok(p) => p,
-        Err(e) => {
-            status.set(Some(Err(e.to_string())));
-            progress.set(None);
-            return;
-        }
-    };
-    #[allow(clippy::too_many_arguments)] // the slice's whole state, carried from turn to turn
-    fn step(
-        text: std::sync::Arc<String>,
-        mut at: usize,
-        mut parser: CsvParser,
-        name: String,
-        capture: RwSignal<Option<std::sync::Arc<Capture>>>,
-        status: RwSignal<Option<Result<String, String>>>,
-        progress: RwSignal<Option<f64>>,
-        nb: Notebook,
-        ticket: (RwSignal<u64>, u64),
-    ) {
-        if ticket.0.get_untracked() != ticket.1 {
-            return; // cancelled, or a newer import started
-        }
-        let mut end = (at + CSV_SLICE).min(text.len());
-        while !text.is_char_boundary(end) {
-            end += 1;
-        }
-        if let Err(e) = parser.feed(&text[at..end]) {
-            status.set(Some(Err(e.to_string())));
-            progress.set(None);
-            return;
-        }
-        at = end;
-        if at < text.len() {
-            progress.set(Some(at as f64 / text.len() as f64));
-            later(move || step(text, at, parser, name, capture, status, progress, nb, ticket));
-            return;
-        }
-        progress.set(None);
-        match parser.finish() {
-            Err(e) => status.set(Some(Err(e.to_string()))),
-            Ok(c) => {
-                status.set(Some(Ok(format!(
-                    "Read {} samples from “{}” ({}).{}",
-                    c.volts.len(),
-                    name,
-                    c.format.describe(),
-                    if c.skipped_count == 0 { String::new() } else { format!(" {} lines were not samples; see the list (first {}).", c.skipped_count, c.skipped.len()) }
-                ))));
-                capture.set(Some(std::sync::Arc::new(c)));
-                let n = name.clone();
-                nb.edit(move |r| {
-                    let mut s = r.signal.clone().unwrap_or_default();
-                    s.source = SignalSource::ImportedCapture { name: n.clone() };
-                    r.signal = Some(s);
-                });
+    cancel_import();
+    let current = move || ticket.0.get_untracked() == ticket.1;
+    let handle = crate::jobs::start(
+        Job::CsvImport { text, options: CsvOptions::default() },
+        move |st| {
+            if current() {
+                progress.set(Some(st.fraction()));
             }
-        }
+        },
+        move |out| {
+            if !current() {
+                return; // cancelled, or a newer import started
+            }
+            IMPORT_JOB.with(|j| j.borrow_mut().take());
+            progress.set(None);
+            match out {
+                Err(e) => status.set(Some(Err(e))),
+                Ok(JobOutput::Capture(c)) => {
+                    status.set(Some(Ok(format!(
+                        "Read {} samples from “{}” ({}).{}",
+                        c.volts.len(),
+                        name,
+                        c.format.describe(),
+                        if c.skipped_count == 0 { String::new() } else { format!(" {} lines were not samples; see the list (first {}).", c.skipped_count, c.skipped.len()) }
+                    ))));
+                    capture.set(Some(std::sync::Arc::new(c)));
+                    let n = name.clone();
+                    nb.edit(move |r| {
+                        let mut s = r.signal.clone().unwrap_or_default();
+                        s.source = SignalSource::ImportedCapture { name: n.clone() };
+                        r.signal = Some(s);
+                    });
+                }
+                Ok(_) => status.set(Some(Err("the worker returned another study's result".into()))),
+            }
+        },
+    );
+    if !handle.is_finished() {
+        IMPORT_JOB.with(|j| *j.borrow_mut() = Some(handle));
     }
-    later(move || step(text, 0, parser, name, capture, status, progress, nb, ticket));
 }
 

@@ -13,7 +13,7 @@ use crate::plot;
 use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
 use hysteron_core::error::DesignError;
 use hysteron_core::tolerance::settings::MAX_TRIALS;
-use hysteron_core::tolerance::{error_budget, gum, worst_case, Distribution, SpecWindow, ToleranceSettings};
+use hysteron_core::tolerance::{error_budget, gum, Distribution, SpecWindow, ToleranceSettings};
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
@@ -52,15 +52,29 @@ pub fn ToleranceSection() -> impl IntoView {
             r.tolerance = Some(s);
         })
     };
+    // The worst case runs on a compute worker once typing pauses (`core::jobs::Job::WorstCase`,
+    // sliced by corners: progress and Cancel for a long one); GUM and the budget stay here.
+    let wc_job = Memo::new(move |_| {
+        nb.with_settled(|r| hysteron_core::jobs::Job::WorstCase { circuit: r.circuit.clone(), settings: r.tolerance.clone().unwrap_or_default() })
+    });
+    let wc_run = crate::jobs::follow(wc_job);
     let quick = Memo::new(move |_| {
+        if wc_job.with(|j| j.is_none()) {
+            return Err("no design open".into());
+        }
+        let wc = match wc_run.result.get() {
+            None => return Ok(None),
+            Some(Err(e)) => return Err(e),
+            Some(Ok(hysteron_core::jobs::JobOutput::WorstCase(wc))) => wc,
+            Some(Ok(_)) => return Err("the worker returned another study's result".into()),
+        };
         nb.with_settled(|r| {
             let s = r.tolerance.clone().unwrap_or_default();
-            let wc = worst_case(&r.circuit, &s).map_err(|e| e.to_string())?;
             let g = gum(&r.circuit, &s).map_err(|e| e.to_string())?;
             let b = error_budget(&r.circuit, &s).map_err(|e| e.to_string())?;
             let types = check_input_types_with_current(&r.circuit, wc.vt_upper.max.value_v, wc.vt_lower.min.value_v)
                 .map_err(|e| e.to_string())?;
-            Ok::<_, String>((wc, g, b, types))
+            Ok::<_, String>(Some((wc, g, b, types)))
         })
         .unwrap_or_else(|| Err("no design open".into()))
     });
@@ -198,7 +212,11 @@ pub fn ToleranceSection() -> impl IntoView {
             </fieldset>
             {move || match quick.get() {
                 Err(e) => view! { <p class="error" id="tolerance-error" role="alert">{e}</p> }.into_any(),
-                Ok((wc, g, b, types)) => {
+                Ok(None) => view! {
+                    <p class="note" id="wc-running">"Worst case: computing…"
+                        <super::progress::JobProgress id="wc" status=wc_run.status.into() on_cancel=wc_run.cancel /></p>
+                }.into_any(),
+                Ok(Some((wc, g, b, types))) => {
                     let rows = [
                         ("VT+", &wc.vt_upper, &g.vt_upper, "wc-vt-upper"),
                         ("VT−", &wc.vt_lower, &g.vt_lower, "wc-vt-lower"),

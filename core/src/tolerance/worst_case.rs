@@ -169,15 +169,32 @@ pub(crate) fn from_prepared<C: Circuit>(
     prep: &Prepared<C>,
     corner_limit: usize,
 ) -> Result<WorstCase, DesignError> {
-    let n = prep.varied().len();
     let (sign, sign_evals) = sign_method(prep)?;
-    if n > corner_limit {
-        let (found, evals, moved) = search_inside(prep, to_values(prep, &sign));
+    let n = prep.varied().len();
+    let scan = if n > corner_limit {
+        None
+    } else {
+        Some(scan_corners(prep, corner_limit, 0, 1u64 << n)?)
+    };
+    conclude(prep, &sign, sign_evals, scan.as_ref())
+}
+
+/// The rest of the worst case once the sign method has run and, with corners, every corner has
+/// been scanned: the sign method's shortfall, the search inside the bands and the report.
+fn conclude<C: Circuit>(
+    prep: &Prepared<C>,
+    sign: &Found,
+    sign_evals: u64,
+    scan: Option<&CornerScan>,
+) -> Result<WorstCase, DesignError> {
+    let Some(scan) = scan else {
+        let (found, evals, moved) = search_inside(prep, to_values(prep, sign));
         let mut wc = assemble(prep, WorstCaseMethod::SensitivitySign, found, sign_evals + evals, None);
         wc.non_monotone = moved;
         return Ok(wc);
-    }
-    let (corner, corner_evals) = corners(prep, corner_limit)?;
+    };
+    let corner = found_of(prep, scan);
+    let corner_evals = scan.end - scan.start;
     let gap = |q: usize| {
         (corner[q][1].0 - sign[q][1].0)
             .max(sign[q][0].0 - corner[q][0].0)
@@ -193,6 +210,116 @@ pub(crate) fn from_prepared<C: Circuit>(
     let mut wc = assemble(prep, WorstCaseMethod::Corners, found, corner_evals + sign_evals + evals, Some(shortfall));
     wc.non_monotone = moved;
     Ok(wc)
+}
+
+/// The best corners found over consecutive corner indices `[start, end)` (corner index: bit j set
+/// = the j-th varied parameter at the high end of its band): per figure the lowest and highest
+/// value and the first index that gives it.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct CornerScan {
+    /// First corner index covered.
+    pub start: u64,
+    /// One past the last corner index covered.
+    pub end: u64,
+    /// [figure: VT+, VT−, hysteresis, centre][0: min, 1: max] → (value, corner index).
+    pub best: [[(f64, u64); 2]; 4],
+}
+
+impl CornerScan {
+    fn empty(at: u64) -> CornerScan {
+        CornerScan {
+            start: at,
+            end: at,
+            best: [[(f64::INFINITY, 0), (f64::NEG_INFINITY, 0)]; 4],
+        }
+    }
+
+    /// Appends the scan of the next corners (it must start where this one ends). A later corner
+    /// replaces an earlier one only when strictly better, as in one pass over all corners, so the
+    /// merged scan equals the scan of the whole range.
+    pub fn merge(&mut self, next: &CornerScan) -> Result<(), DesignError> {
+        if next.start != self.end {
+            return Err(DesignError::Parameter {
+                reason: format!(
+                    "corner scans must be merged in order: this one ends at corner {}, the next starts at {}",
+                    self.end, next.start
+                ),
+            });
+        }
+        if next.end > next.start {
+            for q in 0..4 {
+                if next.best[q][0].0 < self.best[q][0].0 || self.end == self.start {
+                    self.best[q][0] = next.best[q][0];
+                }
+                if next.best[q][1].0 > self.best[q][1].0 || self.end == self.start {
+                    self.best[q][1] = next.best[q][1];
+                }
+            }
+        }
+        self.end = next.end;
+        Ok(())
+    }
+}
+
+/// A worst case run in slices of corners (the page's progress, Cancel between slices); the result
+/// equals [`worst_case`]'s however it was sliced. `new` prepares the bands and runs the
+/// sensitivity-sign method; [`WorstCaseRun::scan`] evaluates a range of corners; `finish`
+/// concludes from the merged scan (the search inside the bands and the report).
+pub struct WorstCaseRun<C: Circuit> {
+    prep: Prepared<C>,
+    corner_limit: usize,
+    sign: Found,
+    sign_evals: u64,
+}
+
+impl<C: Circuit> WorstCaseRun<C> {
+    /// Checks the circuit and the settings, resolves the bands and runs the sign method.
+    pub fn new(circuit: &C, settings: &ToleranceSettings) -> Result<Self, DesignError> {
+        settings.validate()?;
+        let prep = Prepared::new(circuit, settings)?;
+        let (sign, sign_evals) = sign_method(&prep)?;
+        Ok(WorstCaseRun { prep, corner_limit: settings.corner_limit, sign, sign_evals })
+    }
+
+    /// Number of parameters with a band wider than zero.
+    pub fn varied_parameters(&self) -> usize {
+        self.prep.varied().len()
+    }
+
+    /// Corners to evaluate: 2^n for n varied parameters, 0 when n exceeds the corner limit (the
+    /// sign method alone).
+    pub fn corners(&self) -> u64 {
+        let n = self.prep.varied().len();
+        if n > self.corner_limit {
+            0
+        } else {
+            1u64 << n
+        }
+    }
+
+    /// Evaluates corners `[start, end)`.
+    pub fn scan(&self, start: u64, end: u64) -> Result<CornerScan, DesignError> {
+        if start > end || end > self.corners() {
+            return Err(DesignError::Parameter {
+                reason: format!("corners {start}..{end} are not inside 0..{}", self.corners()),
+            });
+        }
+        scan_corners(&self.prep, self.corner_limit, start, end)
+    }
+
+    /// The worst case from the scan of every corner (ignored when there are none to scan).
+    pub fn finish(&self, scan: &CornerScan) -> Result<WorstCase, DesignError> {
+        let count = self.corners();
+        if count == 0 {
+            return conclude(&self.prep, &self.sign, self.sign_evals, None);
+        }
+        if scan.start != 0 || scan.end != count {
+            return Err(DesignError::Parameter {
+                reason: format!("the worst case needs every corner: the scan covers {}..{} of 0..{count}", scan.start, scan.end),
+            });
+        }
+        conclude(&self.prep, &self.sign, self.sign_evals, Some(scan))
+    }
 }
 
 /// Value and parameter values of each figure's min and max: [figure][0 min, 1 max].
@@ -311,6 +438,14 @@ fn corner_error<C: Circuit>(prep: &Prepared<C>, sides: &[i8], e: DesignError) ->
 }
 
 fn corners<C: Circuit>(prep: &Prepared<C>, limit: usize) -> Result<(Found, u64), DesignError> {
+    let n = prep.varied().len();
+    let count = if n > limit { 0 } else { 1u64 << n };
+    let scan = scan_corners(prep, limit, 0, count)?;
+    Ok((found_of(prep, &scan), count))
+}
+
+/// Evaluates corners `[start, end)` (see [`CornerScan`]).
+fn scan_corners<C: Circuit>(prep: &Prepared<C>, limit: usize, start: u64, end: u64) -> Result<CornerScan, DesignError> {
     let varied = prep.varied();
     let n = varied.len();
     if n > limit {
@@ -321,9 +456,10 @@ fn corners<C: Circuit>(prep: &Prepared<C>, limit: usize) -> Result<(Found, u64),
     let m = prep.bands.len();
     let mut sides = vec![0i8; m];
     let mut values = prep.centres.clone();
-    let mut best: [[(f64, u64); 2]; 4] = [[(f64::INFINITY, 0), (f64::NEG_INFINITY, 0)]; 4];
-    let count = 1u64 << n;
-    for mask in 0..count {
+    let mut out = CornerScan::empty(start);
+    out.end = end;
+    let best = &mut out.best;
+    for mask in start..end {
         for (j, &i) in varied.iter().enumerate() {
             sides[i] = if mask >> j & 1 == 1 { 1 } else { -1 };
         }
@@ -340,6 +476,13 @@ fn corners<C: Circuit>(prep: &Prepared<C>, limit: usize) -> Result<(Found, u64),
             }
         }
     }
+    Ok(out)
+}
+
+/// The extremes of a scan as side vectors.
+fn found_of<C: Circuit>(prep: &Prepared<C>, scan: &CornerScan) -> Found {
+    let varied = prep.varied();
+    let m = prep.bands.len();
     let to_sides = |mask: u64| {
         let mut s = vec![0i8; m];
         for (j, &i) in varied.iter().enumerate() {
@@ -347,8 +490,7 @@ fn corners<C: Circuit>(prep: &Prepared<C>, limit: usize) -> Result<(Found, u64),
         }
         s
     };
-    let found = best.map(|[lo, hi]| [(lo.0, to_sides(lo.1)), (hi.0, to_sides(hi.1))]);
-    Ok((found, count))
+    scan.best.map(|[lo, hi]| [(lo.0, to_sides(lo.1)), (hi.0, to_sides(hi.1))])
 }
 
 fn sign_method<C: Circuit>(prep: &Prepared<C>) -> Result<(Found, u64), DesignError> {
