@@ -132,6 +132,7 @@ pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, Desi
     let used: Vec<String> = b.resistors.iter().map(|r| r.designator.clone()).collect();
     b.application =
         crate::bom::application::application_parts(record.application.as_ref(), analysis, &used, &record.parts)?;
+    b.regulators = crate::topology::reference::regulator_lines(&record.circuit, &record.checks, &record.parts);
     Ok(b)
 }
 

@@ -16,11 +16,14 @@
 //! cathode to the reference pin, R2 from the reference pin to ground. The device holds the
 //! reference pin at Vref, so Vka = Vref·(1 + R1/R2) + Iref·R1 (the programming equation of every
 //! adjustable shunt reference datasheet, from memory), and its dynamic impedance seen at the
-//! cathode is Zka·(1 + R1/R2) (same source). Vref holds at the test cathode current Ik,test; the
-//! whole two-terminal part (device plus R1, R2) then draws I = Ik + Ip with Ip = Vref/R2 + Iref
-//! through the programming resistors, so V = V0 + Z′·I with Z′ = Zka·(1 + R1/R2) and
-//! V0 = Vka − Z′·(Ip + Ik,test): the same Thevenin form as the zener. Below Ik = 0 the device
-//! does not regulate; the node is then Rb against R1 + R2.
+//! cathode is Zka·(1 + R1/R2) (same source). Here the device holds its reference pin at
+//! VR = Vref + Zka·(Ik − Ik,test) (Vref specified at the test cathode current), so the cathode is
+//! Vka + Zka·(1 + R1/R2)·(Ik − Ik,test). The whole two-terminal part (device plus R1, R2) draws
+//! I = Ik + VR/R2 + Iref; eliminating Ik gives V = V0 + Z′·I with
+//! Z′ = Zka·(1 + R1/R2)/(1 + Zka/R2) (≈ Zka·(1 + R1/R2), since Zka ≪ R2) and
+//! V0 = Vka − Z′·(Vref/R2 + Iref + Ik,test): the same Thevenin form as the zener, and exactly the
+//! nodal solution of the three equations. Below Ik = 0 the device does not regulate; the node is
+//! then Rb against R1 + R2.
 //!
 //! Datasheet-class default values are typical figures from memory (zener: 5 % tolerance, slope
 //! resistance some tens of ohms at a 5 mA test current; shunt reference: Vref 2.495 V, Iref 2 µA,
@@ -134,6 +137,8 @@ struct Clamp {
     r: f64,
     hold_a: f64,
     off_ohm: f64,
+    /// The share of the branch current above `hold_a` that flows in the regulating element.
+    share: f64,
 }
 
 impl Clamp {
@@ -144,7 +149,7 @@ impl Clamp {
         let v = (self.va / self.rb + self.v0 / self.r - bias_a) / g;
         let i = (v - self.v0) / self.r - self.hold_a;
         if i >= 0.0 {
-            return (v, i);
+            return (v, i * self.share);
         }
         let off = if self.off_ohm.is_finite() {
             (self.va / self.rb - bias_a) / (1.0 / self.rb + 1.0 / self.off_ohm)
@@ -181,6 +186,7 @@ impl ZenerReference {
             r: self.slope_ohm,
             hold_a: 0.0,
             off_ohm: f64::INFINITY,
+            share: 1.0,
         }
     }
 
@@ -219,21 +225,26 @@ impl ShuntReference {
         self.vref_v / self.lower_ohm + self.ref_current_a
     }
 
-    /// Dynamic impedance at the cathode, Zka·(1 + R1/R2), ohms.
+    /// Dynamic impedance at the cathode for the device's own current, Zka·(1 + R1/R2), ohms
+    /// (the whole part including R1 and R2 shows this divided by 1 + Zka/R2; module notes).
     pub fn cathode_impedance_ohm(&self) -> f64 {
         self.impedance_ohm * self.gain()
     }
 
     fn clamp(&self, supply_v: f64, negative_rail_v: f64) -> Clamp {
-        let z = self.cathode_impedance_ohm();
+        // Module notes: Z′ = Zka·(1 + R1/R2)/(1 + Zka/R2); the branch current at Ik = 0 is
+        // Vref/R2 + Iref − Zka·Ik,test/R2, and Ik is the excess over it divided by (1 + Zka/R2).
+        let k = 1.0 + self.impedance_ohm / self.lower_ohm;
+        let z = self.cathode_impedance_ohm() / k;
         let ip = self.programming_current_a();
         Clamp {
             va: self.rail.volts(supply_v, negative_rail_v),
             rb: self.bias_ohm,
             v0: self.cathode_v() - z * (ip + self.test_current_a),
             r: z,
-            hold_a: ip,
+            hold_a: ip - self.impedance_ohm * self.test_current_a / self.lower_ohm,
             off_ohm: self.upper_ohm + self.lower_ohm,
+            share: 1.0 / k,
         }
     }
 
@@ -818,5 +829,129 @@ mod tests {
         assert!(bad.validate().is_err());
         let bad = Reference::Shunt(ShuntReference { lower_ohm: 0.0, ..ShuntReference::default() });
         assert!(bad.validate().is_err());
+    }
+}
+
+impl super::Topology {
+    /// The reference network of a comparator topology that takes one (non-inverting,
+    /// open-drain non-inverting, plain comparator), with the device whose rails it uses.
+    pub fn reference(&self) -> Option<(&Reference, &Comparator)> {
+        use super::open_drain::OpenDrainPolarity;
+        match self {
+            super::Topology::NonInverting(c) => Some((&c.reference, &c.device)),
+            super::Topology::Plain(c) => Some((&c.reference, &c.device)),
+            super::Topology::OpenDrain(c) => match &c.polarity {
+                OpenDrainPolarity::NonInverting { reference, .. } => Some((reference, &c.device)),
+                _ => None,
+            },
+            _ => None,
+        }
+    }
+
+    /// The same circuit with its reference replaced (`None` for a topology without one).
+    pub fn with_reference(&self, reference: Reference) -> Option<super::Topology> {
+        use super::open_drain::OpenDrainPolarity;
+        let mut t = self.clone();
+        match &mut t {
+            super::Topology::NonInverting(c) => c.reference = reference,
+            super::Topology::Plain(c) => c.reference = reference,
+            super::Topology::OpenDrain(c) => match &mut c.polarity {
+                OpenDrainPolarity::NonInverting { reference: r, .. } => *r = reference,
+                _ => return None,
+            },
+            _ => return None,
+        }
+        Some(t)
+    }
+
+    /// The record tag of the circuit's reference kind (see [`REFERENCE_KINDS`]), if it has one.
+    pub fn reference_kind(&self) -> Option<&'static str> {
+        self.reference().map(|(r, _)| r.kind())
+    }
+
+    /// The same circuit with its reference turned into another kind ([`Reference::converted`]),
+    /// or `None` when the topology has no reference or the tag is unknown.
+    pub fn with_reference_kind(&self, kind: &str) -> Option<super::Topology> {
+        let (r, d) = self.reference()?;
+        let next = r.converted(kind, d.supply_v, d.negative_rail_v)?;
+        self.with_reference(next)
+    }
+}
+
+/// The part-list line of a circuit's zener or adjustable shunt reference: its voltage, the
+/// largest current and dissipation over the supply range (at the highest supply of `checks`,
+/// with no input current), and for a zener the suggested power rating (the parts' derating factor
+/// times the dissipation, rounded up to a common rating; common practice). Empty for any other
+/// reference or topology.
+pub fn regulator_lines(
+    circuit: &super::Topology,
+    checks: &crate::analysis::CheckSettings,
+    parts: &crate::bom::PartSettings,
+) -> Vec<crate::bom::RegulatorLine> {
+    let Some((r, d)) = circuit.reference() else { return Vec::new() };
+    if r.validate().is_err() {
+        return Vec::new();
+    }
+    let supply = checks.supply_max_v.unwrap_or(d.supply_v).max(d.supply_v);
+    let dd = super::comparator::device_at_supply(d, supply);
+    let (Some(i), Some(p)) = (
+        r.regulator_current_a(dd.supply_v, dd.negative_rail_v, 0.0),
+        r.regulator_power_w(dd.supply_v, dd.negative_rail_v, 0.0),
+    ) else {
+        return Vec::new();
+    };
+    let ma = |a: f64| crate::notation::format_with_unit(a, 3, Unit::Ampere);
+    let mw = |w: f64| format!("{} mW", crate::notation::format_significant(w * 1e3, 3));
+    let v = |x: f64| crate::notation::format_with_unit(x, 4, Unit::Volt);
+    let need = p * parts.power_derating_factor;
+    match *r {
+        Reference::Zener(z) => {
+            let rating = crate::bom::ZENER_RATINGS_W.iter().copied().find(|&w| w >= need);
+            let mut notes = vec![
+                format!(
+                    "largest zener current {} and dissipation {} at {} supply; slope resistance {} at {}",
+                    ma(i),
+                    mw(p),
+                    v(supply),
+                    crate::notation::format_with_unit(z.slope_ohm, 3, Unit::Ohm),
+                    ma(z.test_current_a)
+                ),
+                format!("needs at least {} to regulate (minimum current)", ma(z.min_current_a)),
+            ];
+            if rating.is_none() {
+                notes.push(format!("needs more than {}: raise the bias resistor", mw(need)));
+            }
+            vec![crate::bom::RegulatorLine {
+                designator: "D1".into(),
+                description: format!("zener diode {} ±{} %", v(z.vz_v), z.tolerance_pct),
+                voltage_v: z.vz_v,
+                max_current_a: i,
+                max_power_w: p,
+                suggested_rating_w: rating,
+                notes,
+            }]
+        }
+        Reference::Shunt(s) => {
+            let vka = s.cathode_v();
+            vec![crate::bom::RegulatorLine {
+                designator: "U2".into(),
+                description: format!("adjustable shunt reference, Vref {} ±{} %", v(s.vref_v), s.tolerance_pct),
+                voltage_v: vka,
+                max_current_a: i,
+                max_power_w: p,
+                suggested_rating_w: None,
+                notes: vec![
+                    format!("programmed to {} by R1/R2; cathode voltage rating at least {}", v(vka), v(vka)),
+                    format!(
+                        "largest cathode current {} and dissipation {} at {} supply; needs at least {} to regulate",
+                        ma(i),
+                        mw(p),
+                        v(supply),
+                        ma(s.min_current_a)
+                    ),
+                ],
+            }]
+        }
+        _ => Vec::new(),
     }
 }
