@@ -317,12 +317,12 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
                     let r1 = resistors.iter().position(|r| touches(r, n_node) && touches(r, pin_net));
                     let r2 = resistors.iter().position(|r| touches(r, pin_net) && !touches(r, n_node));
                     if let (Some(i1), Some(i2)) = (r1, r2) {
-                        s.wire(n_at, gp(24, 22));
-                        s.resistor(resistors[i1], gp(24, 22), Direction::Down, n_node, Direction::Right);
-                        s.wire(gp(22, 26), gp(24, 26));
-                        s.resistor(resistors[i2], gp(24, 26), Direction::Right, pin_net, Direction::Down);
-                        s.terminal(net, GROUND, gp(28, 26), Direction::Down);
-                        s.junction(gp(24, 26));
+                        s.wire(n_at, gp(25, 22));
+                        s.resistor(resistors[i1], gp(25, 22), Direction::Down, n_node, Direction::Left);
+                        s.wire(gp(22, 26), gp(25, 26));
+                        s.resistor(resistors[i2], gp(25, 26), Direction::Right, pin_net, Direction::Down);
+                        s.terminal(net, GROUND, gp(29, 26), Direction::Down);
+                        s.junction(gp(25, 26));
                         s.junction(n_at);
                         placed[i1] = true;
                         placed[i2] = true;
