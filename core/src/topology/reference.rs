@@ -832,6 +832,65 @@ mod tests {
     }
 }
 
+/// A datasheet value of a zener or shunt reference that is not a tolerance parameter (its
+/// tolerance, temperature coefficient, test and minimum currents), for the page's fields.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ReferenceField {
+    /// Record field name inside `reference` (`tolerance_pct`…).
+    pub id: &'static str,
+    /// Plain label.
+    pub label: &'static str,
+    /// Unit symbol shown beside the field.
+    pub unit: &'static str,
+    /// The quantity whose range the field checks.
+    pub quantity: Quantity,
+    /// Present value, base units (the tempco in V/K).
+    pub value: f64,
+}
+
+impl Reference {
+    /// The zener's or shunt reference's datasheet values that are not parameters (empty for a
+    /// rail or divider), in a fixed order.
+    pub fn fields(&self) -> Vec<ReferenceField> {
+        let f = |id, label, unit, quantity, value| ReferenceField { id, label, unit, quantity, value };
+        match *self {
+            Reference::Zener(z) => vec![
+                f("tolerance_pct", "zener tolerance (±)", "%", Quantity::Percent, z.tolerance_pct),
+                f("tempco_v_per_k", "zener temperature coefficient", "V/K", Quantity::VoltageDrift, z.tempco_v_per_k),
+                f("test_current_a", "zener test current Izt", "A", Quantity::Current, z.test_current_a),
+                f("min_current_a", "zener minimum current", "A", Quantity::Current, z.min_current_a),
+            ],
+            Reference::Shunt(s) => vec![
+                f("tolerance_pct", "Vref tolerance (±)", "%", Quantity::Percent, s.tolerance_pct),
+                f("tempco_v_per_k", "Vref drift (either sign)", "V/K", Quantity::VoltageDrift, s.tempco_v_per_k),
+                f("test_current_a", "cathode current at which Vref holds", "A", Quantity::Current, s.test_current_a),
+                f("min_current_a", "minimum cathode current", "A", Quantity::Current, s.min_current_a),
+            ],
+            _ => Vec::new(),
+        }
+    }
+
+    /// The same reference with the datasheet value `id` (see [`Reference::fields`]) set to
+    /// `value`, checked by [`Reference::validate`]; an unknown id is an error naming it.
+    pub fn with_field(&self, id: &str, value: f64) -> Result<Reference, DesignError> {
+        let mut r = *self;
+        let slot = match (&mut r, id) {
+            (Reference::Zener(z), "tolerance_pct") => &mut z.tolerance_pct,
+            (Reference::Zener(z), "tempco_v_per_k") => &mut z.tempco_v_per_k,
+            (Reference::Zener(z), "test_current_a") => &mut z.test_current_a,
+            (Reference::Zener(z), "min_current_a") => &mut z.min_current_a,
+            (Reference::Shunt(s), "tolerance_pct") => &mut s.tolerance_pct,
+            (Reference::Shunt(s), "tempco_v_per_k") => &mut s.tempco_v_per_k,
+            (Reference::Shunt(s), "test_current_a") => &mut s.test_current_a,
+            (Reference::Shunt(s), "min_current_a") => &mut s.min_current_a,
+            _ => return Err(DesignError::invalid(&format!("reference.{id}"), "this reference has no such value")),
+        };
+        *slot = value;
+        r.validate()?;
+        Ok(r)
+    }
+}
+
 impl super::Topology {
     /// The reference network of a comparator topology that takes one (non-inverting,
     /// open-drain non-inverting, plain comparator), with the device whose rails it uses.
@@ -867,6 +926,13 @@ impl super::Topology {
     /// The record tag of the circuit's reference kind (see [`REFERENCE_KINDS`]), if it has one.
     pub fn reference_kind(&self) -> Option<&'static str> {
         self.reference().map(|(r, _)| r.kind())
+    }
+
+    /// The same circuit with a datasheet value of its reference set ([`Reference::with_field`]).
+    pub fn with_reference_field(&self, id: &str, value: f64) -> Result<super::Topology, DesignError> {
+        let (r, _) = self.reference().ok_or_else(|| DesignError::invalid("reference", "this circuit has no reference"))?;
+        let next = r.with_field(id, value)?;
+        self.with_reference(next).ok_or_else(|| DesignError::invalid("reference", "this circuit has no reference"))
     }
 
     /// The same circuit with its reference turned into another kind ([`Reference::converted`]),
