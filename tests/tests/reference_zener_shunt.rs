@@ -385,3 +385,32 @@ fn old_records_keep_their_divider_parameters() {
     let e = hysteron_core::evaluate::evaluate(&r);
     assert!(e.bom.unwrap().regulators.is_empty());
 }
+
+#[test]
+fn worst_case_and_temperature_see_the_zener_tolerance_and_its_coefficient() {
+    use hysteron_core::tolerance::{settings::ToleranceSettings, temperature::temperature_sweep, worst_case::worst_case};
+    // Ideal device and exact resistors: only the zener moves VT+, by (1 + R1/R2)·ΔVz·Rb/(Rb + rz)
+    // (the node's share of a change of the zener's source; superposition, as above).
+    let c = NonInvertingSchmitt { device: Comparator::ideal(12.0), ..schmitt(Reference::Zener(zener(30.0)), 12.0) };
+    let gain = (1.0 + c.r1_ohm / c.r2_ohm) * 1.5e3 / (1.5e3 + 30.0);
+    let exact = ToleranceSettings {
+        resistor_tolerance_pct: 0.0,
+        supply_tolerance_pct: 0.0,
+        output_level_tolerance_v: 0.0,
+        offset_v: Some(0.0),
+        resistor_tempco_ppm_per_k: 0.0,
+        temperature_min_c: 25.0,
+        temperature_max_c: 25.0,
+        ..ToleranceSettings::default()
+    };
+    let nominal = c.thresholds().unwrap().vt_upper_v;
+    let w = worst_case(&c, &exact).unwrap();
+    let half = gain * 0.05 * 5.1;
+    assert!((w.vt_upper.max.value_v - (nominal + half)).abs() < 1e-9, "{} vs {}", w.vt_upper.max.value_v, nominal + half);
+    assert!((w.vt_upper.min.value_v - (nominal - half)).abs() < 1e-9);
+    // Over −40 … 85 °C the zener's +2 mV/K moves VT+ by gain × 2 mV/K.
+    let hot = ToleranceSettings { temperature_min_c: -40.0, temperature_max_c: 85.0, ..exact };
+    let sweep = temperature_sweep(&c, &hot).unwrap();
+    let drift = sweep.vt_upper_drift_v_per_k.unwrap();
+    assert!((drift - gain * 2e-3).abs() < 1e-9, "{drift} vs {}", gain * 2e-3);
+}
