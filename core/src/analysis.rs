@@ -124,6 +124,8 @@ pub enum WarningCode {
     BiasCurrentError,
     /// Divider current is too close to the device's input current.
     DividerCurrentLow,
+    /// A zener's or shunt reference's current falls below its minimum at the lowest supply.
+    ReferenceCurrentLow,
     /// A monitored rail's release point is too close to the trip point for the expected recovery.
     ReleaseTooClose,
     /// A device input leaves the common-mode range.

@@ -192,6 +192,29 @@ pub struct DeviceLine {
     pub notes: Vec<String>,
 }
 
+/// Common power ratings of small zener diodes, watts (SOD-323 0.2 W, SOT-23 0.3 W, SOD-123 and
+/// DO-35 0.5 W, DO-41 1 W and 1.3 W, 5 W axial; common practice).
+pub const ZENER_RATINGS_W: [f64; 7] = [0.2, 0.25, 0.3, 0.5, 1.0, 1.3, 5.0];
+
+/// The reference's regulating part: a zener diode or an adjustable shunt reference.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RegulatorLine {
+    /// Designator (D1 for a zener, U2 for a shunt reference).
+    pub designator: String,
+    /// What to order, in words ("zener diode 3.3 V ±5 %").
+    pub description: String,
+    /// Its regulated voltage: Vz at the test current, or the programmed cathode voltage, volts.
+    pub voltage_v: f64,
+    /// Largest current through it over the supply range (highest supply), amperes.
+    pub max_current_a: f64,
+    /// Largest dissipation over the supply range, watts.
+    pub max_power_w: f64,
+    /// Suggested power rating (zener: the smallest of [`ZENER_RATINGS_W`] at least the derating
+    /// factor times the largest dissipation), watts.
+    pub suggested_rating_w: Option<f64>,
+    /// Requirements and findings in words.
+    pub notes: Vec<String>,
+}
 /// The part list of one design.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Bom {
@@ -207,6 +230,10 @@ pub struct Bom {
     /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub input_network: Vec<crate::input_network::parts::NetworkPart>,
+    /// The reference's zener or adjustable shunt reference, with its voltage and power
+    /// (`crate::topology::reference::regulator_lines`; filled by [`crate::overview::part_list`]).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub regulators: Vec<RegulatorLine>,
     /// The settings it was built with.
     pub settings: PartSettings,
 }
@@ -339,7 +366,7 @@ pub fn bom<C: Circuit>(
 
     let mut device = device_line(circuit, analysis, circuit.output_stage());
     device.notes.extend(transistor_notes(circuit, device.supply_max_v, settings.power_derating_factor));
-    Ok(Bom { resistors, device, application: Vec::new(), input_network: Vec::new(), settings: *settings })
+    Ok(Bom { resistors, device, application: Vec::new(), regulators: Vec::new(), input_network: Vec::new(), settings: *settings })
 }
 
 /// Discrete transistors' VCEO, IC and power requirements at the highest supply, from the
@@ -516,6 +543,23 @@ impl Bom {
                 csv_number(Some(p.max_volts)),
                 String::new(),
                 notes.join("; "),
+            ]);
+        }
+        for r in &self.regulators {
+            line(&[
+                r.designator.clone(),
+                r.description.clone(),
+                crate::notation::format_with_unit(r.voltage_v, 4, Unit::Volt),
+                crate::notation::format_with_unit(r.voltage_v, 4, Unit::Volt),
+                String::new(),
+                String::new(),
+                String::new(),
+                csv_number(Some(r.max_power_w)),
+                csv_number(r.suggested_rating_w),
+                String::new(),
+                csv_number(Some(r.voltage_v)),
+                String::new(),
+                r.notes.join("; "),
             ]);
         }
         let d = &self.device;

@@ -237,6 +237,58 @@ impl ActiveDevice {
     }
 }
 
+/// A voltage regulator of a comparator's reference: a zener diode or an adjustable shunt
+/// reference, with the values of the piecewise-linear model the analysis uses
+/// (`topology::reference`), so the SPICE deck computes the same node voltage.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum NetRegulator {
+    /// A zener diode, cathode to anode: Iz = max(0, (V(k) − V(a) − Vz0)/rz).
+    Zener {
+        /// Designator (D1).
+        designator: String,
+        /// Cathode node.
+        cathode: String,
+        /// Anode node.
+        anode: String,
+        /// Nominal zener voltage Vz at the test current, volts (for the part list and drawing).
+        vz_v: f64,
+        /// Source voltage Vz0 = Vz − Izt·rz of the model, volts.
+        source_v: f64,
+        /// Slope resistance rz, ohms.
+        slope_ohm: f64,
+    },
+    /// An adjustable shunt reference: cathode current
+    /// Ik = max(0, Ik,test + (V(ref) − V(a) − Vref)/Zka), Iref into the reference pin.
+    Shunt {
+        /// Designator (U2).
+        designator: String,
+        /// Cathode node.
+        cathode: String,
+        /// Anode node.
+        anode: String,
+        /// Reference-pin node.
+        reference: String,
+        /// Internal reference Vref, volts.
+        vref_v: f64,
+        /// Current into the reference pin, amperes.
+        ref_current_a: f64,
+        /// Dynamic impedance Zka, ohms.
+        impedance_ohm: f64,
+        /// Cathode current at which Vref holds, amperes.
+        test_current_a: f64,
+    },
+}
+
+impl NetRegulator {
+    /// The regulator's designator.
+    pub fn designator(&self) -> &str {
+        match self {
+            NetRegulator::Zener { designator, .. } | NetRegulator::Shunt { designator, .. } => designator,
+        }
+    }
+}
+
 /// The whole circuit as elements between named nodes.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
 pub struct Netlist {
@@ -251,6 +303,9 @@ pub struct Netlist {
     pub current_sources: Vec<NetCurrentSource>,
     /// Active devices.
     pub devices: Vec<ActiveDevice>,
+    /// Reference regulators (zener, adjustable shunt reference).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub regulators: Vec<NetRegulator>,
 }
 
 impl Netlist {
@@ -491,6 +546,11 @@ impl NetBuilder {
                 amps,
             });
         }
+    }
+
+    /// Adds a reference regulator.
+    pub fn regulator(&mut self, regulator: NetRegulator) {
+        self.net.regulators.push(regulator);
     }
 
     /// Adds any active device.

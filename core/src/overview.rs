@@ -132,8 +132,9 @@ pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, Desi
     let used: Vec<String> = b.resistors.iter().map(|r| r.designator.clone()).collect();
     b.application =
         crate::bom::application::application_parts(record.application.as_ref(), analysis, &used, &record.parts)?;
+    b.regulators = crate::topology::reference::regulator_lines(&record.circuit, &record.checks, &record.parts);
     if let (Some(net), Some(Ok(report))) = (record.input_network.as_ref(), crate::input_network::record_network(record)) {
-        let used: Vec<String> = used.into_iter().chain(b.application.iter().map(|p| p.designator.clone())).collect();
+        let used: Vec<String> = used.into_iter().chain(b.application.iter().map(|p| p.designator.clone())).chain(b.regulators.iter().map(|r| r.designator.clone())).collect();
         b.input_network = crate::input_network::parts::network_parts(&report, net, &used, &record.parts);
     }
     Ok(b)

@@ -817,7 +817,7 @@ impl<C: Circuit> SearchJob<C> {
         circuit.validate()?;
         let params = circuit.parameters();
         let slots: Vec<usize> =
-            params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor).map(|(i, _)| i).collect();
+            params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor && !p.held_in_search).map(|(i, _)| i).collect();
         let Some(&solved) = slots.last() else {
             return Err(DesignError::Parameter {
                 reason: "this circuit has no resistors for the search to choose".into(),

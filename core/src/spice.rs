@@ -176,6 +176,13 @@ pub fn write_deck(
             let _ = writeln!(o, "{} {} {} DC {}", i.name, i.node_from, i.node_to, n(i.amps));
         }
     }
+    if !net.regulators.is_empty() {
+        o.push('\n');
+        let _ = writeln!(o, "* Reference regulators: the piecewise-linear models Hysteron computes with");
+        for r in &net.regulators {
+            regulator_lines(&mut o, r);
+        }
+    }
     let mut models = String::new();
     for d in &net.devices {
         o.push('\n');
@@ -217,6 +224,56 @@ fn rounded(v: f64) -> f64 {
 /// A number for an element line rounded to four significant digits, in SPICE notation.
 fn short(v: f64) -> String {
     spice_number(rounded(v))
+}
+
+/// A reference regulator as a behavioural current source (B element), so the deck's operating
+/// point follows the same model as Hysteron's analysis.
+fn regulator_lines(o: &mut String, r: &crate::netlist::NetRegulator) {
+    let n = spice_number;
+    match r {
+        crate::netlist::NetRegulator::Zener { designator, cathode, anode, vz_v, source_v, slope_ohm } => {
+            let _ = writeln!(
+                o,
+                "* {designator}: zener {} (Vz0 {}, rz {}); a diode model D with BV and IBV may replace it",
+                volts(*vz_v),
+                volts(*source_v),
+                ohms(*slope_ohm)
+            );
+            let _ = writeln!(
+                o,
+                "B{designator} {cathode} {anode} I=max(0,(V({cathode},{anode})-{})/{})",
+                n(*source_v),
+                n(*slope_ohm)
+            );
+        }
+        crate::netlist::NetRegulator::Shunt {
+            designator,
+            cathode,
+            anode,
+            reference,
+            vref_v,
+            ref_current_a,
+            impedance_ohm,
+            test_current_a,
+        } => {
+            let _ = writeln!(
+                o,
+                "* {designator}: adjustable shunt reference (Vref {}, Zka {}); cathode {cathode}, anode {anode}, reference pin {reference}",
+                volts(*vref_v),
+                ohms(*impedance_ohm)
+            );
+            let _ = writeln!(
+                o,
+                "B{designator} {cathode} {anode} I=max(0,{}+(V({reference},{anode})-{})/{})",
+                n(*test_current_a),
+                n(*vref_v),
+                n(*impedance_ohm)
+            );
+            if *ref_current_a != 0.0 {
+                let _ = writeln!(o, "I{designator}REF {reference} {anode} DC {}", n(*ref_current_a));
+            }
+        }
+    }
 }
 
 fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {

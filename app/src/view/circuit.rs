@@ -6,6 +6,7 @@ use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::catalog;
 use hysteron_core::schematic::SymbolStyle;
+use hysteron_core::topology::reference::REFERENCE_KINDS;
 use hysteron_core::topology::{Circuit, Topology};
 use leptos::prelude::*;
 
@@ -27,6 +28,12 @@ pub fn CircuitSection() -> impl IntoView {
             nb.edit(move |r| r.circuit = circuit);
         }
     };
+    // The reference kind (divider, zener, adjustable shunt reference…) of a topology that has one,
+    // and the reference's datasheet values that are not parameters; core converts and checks.
+    let ref_kind = Memo::new(move |_| nb.with_current(|r| r.circuit.reference_kind()).flatten());
+    let ref_fields = Memo::new(move |_| {
+        nb.with_current(|r| r.circuit.reference().map(|(x, _)| x.fields()).unwrap_or_default()).unwrap_or_default()
+    });
     let json_text = RwSignal::new(String::new());
     let json_error = RwSignal::new(None::<String>);
     let json_open = RwSignal::new(false);
@@ -59,6 +66,39 @@ pub fn CircuitSection() -> impl IntoView {
                     }).collect_view()}
                 </select>
                 <p class="note" id="topology-note">{move || catalog::topology_note(&topology.get())}</p>
+            </div>
+            {move || ref_kind.get().map(|kind| view! {
+                <div class="field">
+                    <label for="reference-kind">"Reference"</label>
+                    <select id="reference-kind" prop:value=kind on:change=move |ev| {
+                        let k = event_target_value(&ev);
+                        nb.edit(move |r| if let Some(c) = r.circuit.with_reference_kind(&k) { r.circuit = c; });
+                    }>
+                        {REFERENCE_KINDS.iter().map(|(tag, label)| view! { <option value=*tag>{*label}</option> }).collect_view()}
+                    </select>
+                </div>
+            })}
+            <div class="field-grid" id="reference-fields">
+                {move || ref_fields.get().into_iter().map(|f| {
+                    let id = f.id;
+                    let value = Signal::derive(move || {
+                        nb.with_current(|r| r.circuit.reference().and_then(|(x, _)| x.fields().into_iter().find(|g| g.id == id).map(|g| g.value)))
+                            .flatten()
+                            .unwrap_or(f64::NAN)
+                    });
+                    let key = format!("reference-{id}");
+                    let on_value = Callback::new(move |v: f64| {
+                        nb.edit_keyed(&key, |r| {
+                            if let Ok(c) = r.circuit.with_reference_field(id, v) {
+                                r.circuit = c;
+                            }
+                        })
+                    });
+                    let check = Callback::new(move |v: f64| -> Option<String> {
+                        nb.with_current_untracked(|r| r.circuit.with_reference_field(id, v).err().map(|e| e.to_string())).flatten()
+                    });
+                    view! { <QuantityField id=format!("field-reference-{id}") label=f.label.to_string() unit=f.unit value on_value quantity=f.quantity check /> }
+                }).collect_view()}
             </div>
             <div class="field-grid">
                 {move || fields.get().into_iter().enumerate().map(|(i, (id, designator, label, unit))| {

@@ -73,6 +73,17 @@ pub fn PartListSection() -> impl IntoView {
                                     <td class="notes">{p.notes.join("; ")}</td>
                                 </tr>
                             }).collect_view()}
+                            {b.regulators.iter().map(|g| view! {
+                                <tr class="bom-regulator" data-designator=g.designator.clone() data-value=g.voltage_v.to_string()>
+                                    <td>{g.designator.clone()}</td>
+                                    <td colspan="5">{g.description.clone()}</td>
+                                    <td>{format!("{:.3} mW", g.max_power_w * 1e3)}</td>
+                                    <td></td>
+                                    <td>{g.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td>
+                                    <td>{format!("{:.2} V", g.voltage_v)}</td>
+                                    <td class="notes">{g.notes.join("; ")}</td>
+                                </tr>
+                            }).collect_view()}
                             <tr class="bom-device">
                                 <td>{b.device.designator.clone()}</td>
                                 <td colspan="10">{b.device.description.clone()}

@@ -102,6 +102,7 @@ pub fn DesignSheet() -> impl IntoView {
                                     <tbody>
                                         {b.resistors.iter().map(|r| view! { <tr><td>{r.designator.clone()}</td><td>{format!("{} ({})", r.value_text, r.value_rkm)}</td><td>{format!("{} %", r.tolerance_pct)}</td><td>{r.package.label()}</td><td>{format!("{} W", r.package_rating_w)}</td><td>{r.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td></tr> }).collect_view()}
                                         {b.application.iter().map(|p| view! { <tr><td>{p.designator.clone()}</td><td>{p.value_text.clone()}</td><td></td><td>{p.label.clone()}</td><td></td><td>{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td></tr> }).collect_view()}
+                                        {b.regulators.iter().map(|g| view! { <tr><td>{g.designator.clone()}</td><td colspan="4">{g.description.clone()}</td><td>{g.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td></tr> }).collect_view()}
                                         <tr><td>{b.device.designator.clone()}</td><td colspan="5">{b.device.description.clone()}</td></tr>
                                     </tbody>
                                 </table>

@@ -12,8 +12,8 @@ use super::sheet::{
     gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire,
 };
 use crate::netlist::{
-    ActiveDevice, GateThreshold, NetResistor, Netlist, ResistorRole, SourceRole, GROUND, INPUT_NET, OUTPUT_NET,
-    SOURCE_NET,
+    ActiveDevice, GateThreshold, NetRegulator, NetResistor, Netlist, ResistorRole, SourceRole, GROUND, INPUT_NET,
+    OUTPUT_NET, SOURCE_NET,
 };
 
 impl SchematicLayout {
@@ -265,8 +265,21 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         } else {
             let mut left_used = false;
             let mut down_used = false;
+            // A zener or shunt reference on N goes down from it (the shunt's R1 and R2 beside it).
+            let regulator = net.regulators.iter().find(|g| match g {
+                NetRegulator::Zener { cathode, .. } | NetRegulator::Shunt { cathode, .. } => cathode == n_node,
+            });
+            let ref_pin = match regulator {
+                Some(NetRegulator::Shunt { reference, .. }) => Some(reference.clone()),
+                _ => None,
+            };
             let mut mine: Vec<usize> = (0..resistors.len())
-                .filter(|&i| !placed[i] && touches(resistors[i], n_node) && resistors[i].role == ResistorRole::PartList)
+                .filter(|&i| {
+                    !placed[i]
+                        && touches(resistors[i], n_node)
+                        && resistors[i].role == ResistorRole::PartList
+                        && ref_pin.as_deref().is_none_or(|p| !touches(resistors[i], p))
+                })
                 .collect();
             // Lowest voltage (ground) down, the rest to the left.
             mine.sort_by(|&a, &b| {
@@ -280,7 +293,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
                 if o == OUTPUT_NET {
                     continue;
                 }
-                if !down_used && (o == GROUND || net.fixed_node_v(&o).is_some_and(|v| v <= 0.0)) {
+                if !down_used && regulator.is_none() && (o == GROUND || net.fixed_node_v(&o).is_some_and(|v| v <= 0.0)) {
                     s.wire(n_at, gp(20, 24));
                     s.resistor(r, gp(20, 24), Direction::Down, n_node, Direction::Right);
                     s.terminal(net, &o, gp(20, 28), Direction::Down);
@@ -294,6 +307,27 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
                     continue;
                 }
                 placed[i] = true;
+            }
+            if let Some(g) = regulator {
+                s.wire(n_at, gp(20, 24));
+                place_regulator(&mut s, net, g, gp(20, 24));
+                down_used = true;
+                if let Some(pin_net) = &ref_pin {
+                    // R1 from N to the right and down to the reference pin, R2 on to ground.
+                    let r1 = resistors.iter().position(|r| touches(r, n_node) && touches(r, pin_net));
+                    let r2 = resistors.iter().position(|r| touches(r, pin_net) && !touches(r, n_node));
+                    if let (Some(i1), Some(i2)) = (r1, r2) {
+                        s.wire(n_at, gp(25, 22));
+                        s.resistor(resistors[i1], gp(25, 22), Direction::Down, n_node, Direction::Left);
+                        s.wire(gp(22, 26), gp(25, 26));
+                        s.resistor(resistors[i2], gp(25, 26), Direction::Right, pin_net, Direction::Down);
+                        s.terminal(net, GROUND, gp(29, 26), Direction::Down);
+                        s.junction(gp(25, 26));
+                        s.junction(n_at);
+                        placed[i1] = true;
+                        placed[i2] = true;
+                    }
+                }
             }
             if left_used && down_used {
                 s.junction(n_at);
@@ -333,8 +367,56 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         s.terminal(net, OUTPUT_NET, gp(out_end, 14), Direction::Right);
     }
     spare_row(&mut s, net, &resistors, &placed);
+    for g in &net.regulators {
+        if !s.parts.iter().any(|p| p.designator == g.designator()) {
+            let at = gp(8, s.height + 1);
+            let cathode = match g {
+                NetRegulator::Zener { cathode, .. } | NetRegulator::Shunt { cathode, .. } => cathode.clone(),
+            };
+            place_regulator(&mut s, net, g, at);
+            s.terminal(net, &cathode, at, Direction::Up);
+            s.height += 7;
+        }
+    }
     fit_height(&mut s);
     s
+}
+
+/// Draws a zener or shunt reference downward from `at` (its cathode), the anode to its net.
+fn place_regulator(s: &mut SchematicLayout, net: &Netlist, g: &NetRegulator, at: GridPoint) {
+    let bottom = gp(at.x, at.y + 4);
+    match g {
+        NetRegulator::Zener { designator, cathode, anode, vz_v, .. } => {
+            s.parts.push(PlacedPart {
+                designator: designator.clone(),
+                symbol: PartSymbol::Zener { voltage_v: *vz_v },
+                at,
+                direction: Direction::Down,
+                text_side: Direction::Left,
+                pins: vec![pin("k", at, cathode), pin("a", bottom, anode)],
+            });
+            s.terminal(net, anode, bottom, Direction::Down);
+        }
+        NetRegulator::Shunt { designator, cathode, anode, reference, vref_v, .. } => {
+            // The drawn value is the programmed cathode voltage when the netlist's programming
+            // resistors are found; else Vref.
+            let r1 = net.resistors.iter().find(|r| touches(r, cathode) && touches(r, reference));
+            let r2 = net.resistors.iter().find(|r| touches(r, reference) && !touches(r, cathode));
+            let voltage_v = match (r1, r2) {
+                (Some(a), Some(b)) => vref_v * (1.0 + a.resistance_ohm / b.resistance_ohm),
+                _ => *vref_v,
+            };
+            s.parts.push(PlacedPart {
+                designator: designator.clone(),
+                symbol: PartSymbol::ShuntReference { voltage_v },
+                at,
+                direction: Direction::Down,
+                text_side: Direction::Left,
+                pins: vec![pin("k", at, cathode), pin("a", bottom, anode), pin("ref", gp(at.x + 2, at.y + 2), reference)],
+            });
+            s.terminal(net, anode, bottom, Direction::Down);
+        }
+    }
 }
 
 /// Shrinks the sheet to its content: the lowest wire, part or label plus room for text below.

@@ -153,6 +153,17 @@ mod tests {
             .chain(catalog::demos())
             .map(|s| (s.key.to_string(), s.record().circuit))
             .collect();
+        // The reference as a part: zener and adjustable shunt reference on the (−) input.
+        let ni = NonInvertingSchmitt::with_divider(10e3, 100e3, 47e3, 47e3, Comparator::ideal(12.0));
+        for r in [
+            Reference::Zener(crate::topology::reference::ZenerReference::default()),
+            Reference::Shunt(crate::topology::reference::ShuntReference::default()),
+        ] {
+            let t = Topology::NonInverting(NonInvertingSchmitt { reference: r, ..ni.clone() });
+            v.push((format!("ni-{}", r.kind()), t.clone()));
+            let plain = Topology::Plain(PlainComparator { reference: r, ..PlainComparator::non_inverting_with_divider(47e3, 47e3, Comparator::ideal(12.0)) });
+            v.push((format!("plain-{}", r.kind()), plain));
+        }
         v.push((
             "inv-split".into(),
             Topology::Inverting(InvertingSchmitt::split_supply(
@@ -244,6 +255,9 @@ mod tests {
             assert!(layout.height <= 31, "{key}: a part went to the spare row");
             for d in &net.devices {
                 assert!(drawn.contains(&d.designator()), "{key}: {}", d.designator());
+            }
+            for g in &net.regulators {
+                assert_eq!(drawn.iter().filter(|d| **d == g.designator()).count(), 1, "{key}: {}", g.designator());
             }
         }
     }

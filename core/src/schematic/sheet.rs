@@ -68,6 +68,17 @@ pub enum PartSymbol {
     },
     /// An NPN transistor: base at (0,3), collector at (4,0), emitter at (4,6).
     Npn,
+    /// A zener diode drawn downward, cathode at (0,0), anode at (0,4).
+    Zener {
+        /// Zener voltage, volts (drawn as its value).
+        voltage_v: f64,
+    },
+    /// An adjustable shunt reference drawn downward: cathode at (0,0), anode at (0,4), reference
+    /// pin at (2,2).
+    ShuntReference {
+        /// Programmed cathode voltage, volts (drawn as its value).
+        voltage_v: f64,
+    },
 }
 
 /// A pin of a placed part: where it is and which net it belongs to.

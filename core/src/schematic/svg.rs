@@ -278,6 +278,47 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             polyline(o, &[(x + 3.1, y + 4.75), (x + 3.7, y + 4.6), (x + 3.5, y + 4.05)], r##" fill="#000""##);
             text(o, x + 5.6, y + 3.4, "start", &part.designator);
         }
+        PartSymbol::Zener { voltage_v } => {
+            draw_breakdown_diode(o, x, y, style);
+            text(o, x - 1.0, y + 1.8, "end", &part.designator);
+            text(o, x - 1.0, y + 2.9, "end", &voltage_value(voltage_v, style));
+        }
+        PartSymbol::ShuntReference { voltage_v } => {
+            draw_breakdown_diode(o, x, y, style);
+            // The reference pin enters the triangle from the side.
+            polyline(o, &[(x + 0.35, y + 2.0), (x + 2.0, y + 2.0)], "");
+            text(o, x - 1.0, y + 1.8, "end", &part.designator);
+            text(o, x - 1.0, y + 2.9, "end", &voltage_value(voltage_v, style));
+        }
+    }
+}
+
+/// A voltage on the drawing: IEC style writes the unit letter in place of the decimal point
+/// ("5V1", "12V", as zener markings do; common practice), IEEE style in engineering notation.
+pub fn voltage_value(v: f64, style: SymbolStyle) -> String {
+    match style {
+        SymbolStyle::Iec60617 => {
+            let t = notation::format_significant(v, 3);
+            match t.split_once('.') {
+                Some((a, b)) => format!("{a}V{b}"),
+                None => format!("{t}V"),
+            }
+        }
+        SymbolStyle::Ieee315 => notation::format_with_unit(v, 3, Unit::Volt),
+    }
+}
+
+/// A diode body drawn downward from (x, y): leads, the triangle pointing up at the cathode bar,
+/// and the breakdown bar of the style (IEC 60617: one bent end; IEEE 315: both ends bent, a "Z").
+fn draw_breakdown_diode(o: &mut String, x: f64, y: f64, style: SymbolStyle) {
+    polyline(o, &[(x, y), (x, y + 1.4)], "");
+    polyline(o, &[(x, y + 2.6), (x, y + 4.0)], "");
+    polyline(o, &[(x - 0.7, y + 2.6), (x + 0.7, y + 2.6), (x, y + 1.4), (x - 0.7, y + 2.6)], "");
+    match style {
+        SymbolStyle::Iec60617 => polyline(o, &[(x - 0.7, y + 1.4), (x + 0.7, y + 1.4), (x + 0.7, y + 1.8)], ""),
+        SymbolStyle::Ieee315 => {
+            polyline(o, &[(x - 0.9, y + 1.0), (x - 0.7, y + 1.4), (x + 0.7, y + 1.4), (x + 0.9, y + 1.8)], "")
+        }
     }
 }
 

@@ -3,252 +3,12 @@
 //! device's rails and the shared design checks. No topology module imports a sibling topology.
 
 use super::{sensitivities, Circuit, Parameter, ParameterKind};
-use crate::analysis::{CheckSettings, ResistorDrop, Thresholds, Warning, WarningCode};
-use crate::device::{Comparator, Rail};
+use crate::analysis::{CheckSettings, Thresholds, Warning, WarningCode};
+use crate::device::Comparator;
 use crate::error::DesignError;
 use crate::notation::Unit;
-use serde::{Deserialize, Serialize};
 
-/// The reference that sets a comparator's fixed input: a rail directly, or a two-resistor divider.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(tag = "kind", rename_all = "snake_case")]
-pub enum Reference {
-    /// The input is tied straight to a rail or a fixed reference source (zero source resistance).
-    Direct {
-        /// The rail or fixed source.
-        rail: Rail,
-    },
-    /// A divider: Ra from `rail_a` to the input node, Rb from the node to `rail_b`.
-    /// Thevenin equivalent Vth = (VA·Rb + VB·Ra)/(Ra+Rb), Rth = Ra‖Rb (DOMAIN §0).
-    Divider {
-        /// Resistor Ra from `rail_a` to the node, ohms.
-        ra_ohm: f64,
-        /// Rail that Ra returns to (usually the supply).
-        rail_a: Rail,
-        /// Resistor Rb from the node to `rail_b`, ohms.
-        rb_ohm: f64,
-        /// Rail that Rb returns to (usually ground).
-        rail_b: Rail,
-    },
-}
-
-impl Reference {
-    /// A divider from the supply (Ra) to ground (Rb).
-    pub fn divider(ra_ohm: f64, rb_ohm: f64) -> Self {
-        Reference::Divider { ra_ohm, rail_a: Rail::Supply, rb_ohm, rail_b: Rail::Ground }
-    }
-
-    /// A fixed reference source of `volts`, tied straight to the input.
-    pub fn fixed(volts: f64) -> Self {
-        Reference::Direct { rail: Rail::Fixed(volts) }
-    }
-
-    /// Checks resistances (finite, above zero) and fixed rail voltages (finite).
-    pub fn validate(&self) -> Result<(), DesignError> {
-        match self {
-            Reference::Direct { rail } => rail.validate("reference.rail"),
-            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-                resistance("reference.ra_ohm", *ra_ohm)?;
-                resistance("reference.rb_ohm", *rb_ohm)?;
-                rail_a.validate("reference.rail_a")?;
-                rail_b.validate("reference.rail_b")
-            }
-        }
-    }
-
-    /// Thevenin equivalent (volts, ohms) for a device on the given rails.
-    pub fn thevenin(&self, supply_v: f64, negative_rail_v: f64) -> (f64, f64) {
-        match *self {
-            Reference::Direct { rail } => (rail.volts(supply_v, negative_rail_v), 0.0),
-            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-                let va = rail_a.volts(supply_v, negative_rail_v);
-                let vb = rail_b.volts(supply_v, negative_rail_v);
-                (vb + (va - vb) * divider_fraction(ra_ohm, rb_ohm), par2(ra_ohm, rb_ohm))
-            }
-        }
-    }
-
-    /// The node voltage when the device input draws `bias_a` (positive into the pin):
-    /// Vth − IB·Rth (DOMAIN §6: bias error = bias current × the node's Thevenin resistance).
-    pub fn node_v(&self, supply_v: f64, negative_rail_v: f64, bias_a: f64) -> f64 {
-        let (v, r) = self.thevenin(supply_v, negative_rail_v);
-        v - bias_a * r
-    }
-
-    /// Whether the reference is a divider (has resistors of the part list).
-    pub fn is_divider(&self) -> bool {
-        matches!(self, Reference::Divider { .. })
-    }
-
-    /// Number of parameter values this reference contributes (resistors and fixed rails).
-    pub(crate) fn parameter_count(&self) -> usize {
-        match self {
-            Reference::Direct { rail } => matches!(rail, Rail::Fixed(_)) as usize,
-            Reference::Divider { rail_a, rail_b, .. } => {
-                2 + matches!(rail_a, Rail::Fixed(_)) as usize + matches!(rail_b, Rail::Fixed(_)) as usize
-            }
-        }
-    }
-
-    /// Appends the divider resistors (designators from `seq`).
-    pub(crate) fn push_resistors(&self, seq: &mut Designators, out: &mut Vec<Parameter>) {
-        if let Reference::Divider { ra_ohm, rb_ohm, .. } = *self {
-            out.push(Parameter::resistor("ra_ohm", &seq.next_name(), "reference divider resistor to rail A", ra_ohm));
-            out.push(Parameter::resistor("rb_ohm", &seq.next_name(), "reference divider resistor to rail B", rb_ohm));
-        }
-    }
-
-    /// Appends the fixed rail voltages.
-    pub(crate) fn push_rails(&self, out: &mut Vec<Parameter>) {
-        match *self {
-            Reference::Direct { rail: Rail::Fixed(v) } => {
-                out.push(Parameter::quantity("reference_v", "reference voltage", v, ParameterKind::Reference))
-            }
-            Reference::Direct { .. } => {}
-            Reference::Divider { rail_a, rail_b, .. } => {
-                if let Rail::Fixed(v) = rail_a {
-                    out.push(Parameter::quantity("rail_a", "divider rail A", v, ParameterKind::Reference));
-                }
-                if let Rail::Fixed(v) = rail_b {
-                    out.push(Parameter::quantity("rail_b", "divider rail B", v, ParameterKind::Reference));
-                }
-            }
-        }
-    }
-
-    /// Replaces the divider resistors from `next`, in the order of [`Reference::push_resistors`].
-    pub(crate) fn take_resistors(&mut self, next: &mut dyn FnMut() -> f64) {
-        if let Reference::Divider { ra_ohm, rb_ohm, .. } = self {
-            *ra_ohm = next();
-            *rb_ohm = next();
-        }
-    }
-
-    /// Replaces the fixed rail voltages from `next`, in the order of [`Reference::push_rails`].
-    pub(crate) fn take_rails(&mut self, next: &mut dyn FnMut() -> f64) {
-        match self {
-            Reference::Direct { rail } => {
-                if let Rail::Fixed(_) = rail {
-                    *rail = Rail::Fixed(next());
-                }
-            }
-            Reference::Divider { rail_a, rail_b, .. } => {
-                if let Rail::Fixed(_) = rail_a {
-                    *rail_a = Rail::Fixed(next());
-                }
-                if let Rail::Fixed(_) = rail_b {
-                    *rail_b = Rail::Fixed(next());
-                }
-            }
-        }
-    }
-
-    /// The resistor drops and the current each rail sources, at node voltage `node_v`.
-    pub(crate) fn drops(
-        &self,
-        seq: &mut Designators,
-        supply_v: f64,
-        negative_rail_v: f64,
-        node_v: f64,
-    ) -> (Vec<ResistorDrop>, f64) {
-        match *self {
-            Reference::Direct { .. } => (Vec::new(), 0.0),
-            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-                let va = rail_a.volts(supply_v, negative_rail_v);
-                let vb = rail_b.volts(supply_v, negative_rail_v);
-                let ia = (va - node_v) / ra_ohm;
-                let ib = (vb - node_v) / rb_ohm;
-                (
-                    vec![
-                        ResistorDrop { designator: seq.next_name(), resistance_ohm: ra_ohm, volts: va - node_v },
-                        ResistorDrop { designator: seq.next_name(), resistance_ohm: rb_ohm, volts: node_v - vb },
-                    ],
-                    ia.max(0.0) + ib.max(0.0),
-                )
-            }
-        }
-    }
-
-    /// A reference of the same kind and rails whose node sits at `required_v` while the device
-    /// input draws `bias_a`. A direct reference must already be there; a divider keeps its total
-    /// Ra + Rb and solves N = VB + (VA−VB)·x − IB·Rt·x(1−x) for x = Rb/Rt in (0, 1) exactly
-    /// (a quadratic; numerically stable roots). `what` names the input in messages.
-    pub(crate) fn synthesise_for(
-        &self,
-        required_v: f64,
-        bias_a: f64,
-        supply_v: f64,
-        negative_rail_v: f64,
-        what: &str,
-    ) -> Result<Reference, DesignError> {
-        if !required_v.is_finite() {
-            return Err(DesignError::infeasible(
-                format!("the {what} would need a non-finite voltage"),
-                "check the targets and the device values",
-            ));
-        }
-        match *self {
-            Reference::Direct { rail } => {
-                let v = rail.volts(supply_v, negative_rail_v);
-                if (v - required_v).abs() > 1e-9 * v.abs().max(required_v.abs()).max(1.0) {
-                    return Err(DesignError::infeasible(
-                        format!("the {what} is tied directly to {v:.4} V but the targets need {required_v:.6} V there"),
-                        format!("set the reference to {required_v:.6} V, or make it with a divider (reference kind \"divider\")"),
-                    ));
-                }
-                Ok(*self)
-            }
-            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-                let va = rail_a.volts(supply_v, negative_rail_v);
-                let vb = rail_b.volts(supply_v, negative_rail_v);
-                let rt = ra_ohm + rb_ohm;
-                if !(rt.is_finite() && rt > 0.0) {
-                    return Err(DesignError::invalid("reference", "the divider total Ra + Rb must be a finite number above zero"));
-                }
-                let span = va - vb;
-                if span.abs() <= 1e-12 * va.abs().max(vb.abs()).max(1.0) {
-                    return Err(DesignError::infeasible(
-                        format!("the divider's two rails are both at {va:.4} V, so it cannot set the {what}"),
-                        "return Ra and Rb to different rails",
-                    ));
-                }
-                let a = bias_a * rt;
-                let x0 = (required_v - vb) / span;
-                let x = match pick_root(quadratic_roots(a, span - a, vb - required_v), x0, |x| x > 0.0 && x < 1.0) {
-                    Some(x) => x,
-                    None => {
-                        let (lo, hi) = if va < vb { (va, vb) } else { (vb, va) };
-                        return Err(DesignError::infeasible(
-                            format!(
-                                "the {what} would need {required_v:.4} V, which a divider between {lo:.4} V and {hi:.4} V cannot make (with the input bias current)"
-                            ),
-                            "move the targets so the reference falls between the divider's rails, or return the divider to other rails",
-                        ));
-                    }
-                };
-                let rb = x * rt;
-                let ra = rt - rb;
-                if !(ra > 0.0 && rb > 0.0) {
-                    return Err(DesignError::infeasible(
-                        format!("the {what} would need to sit on a divider rail ({required_v:.4} V)"),
-                        "use a direct reference (reference kind \"direct\") at that voltage",
-                    ));
-                }
-                Ok(Reference::Divider { ra_ohm: ra, rail_a, rb_ohm: rb, rail_b })
-            }
-        }
-    }
-
-    /// Divider current from rail A to rail B with no load, amperes (0 for a direct reference).
-    pub(crate) fn divider_current_a(&self, supply_v: f64, negative_rail_v: f64) -> f64 {
-        match *self {
-            Reference::Direct { .. } => 0.0,
-            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
-                (rail_a.volts(supply_v, negative_rail_v) - rail_b.volts(supply_v, negative_rail_v)).abs() / (ra_ohm + rb_ohm)
-            }
-        }
-    }
-}
+pub use super::reference::Reference;
 
 pub(crate) use super::resistance;
 
@@ -390,7 +150,8 @@ pub(crate) fn take_device_parameters(d: &mut Comparator, with_bias_minus: bool, 
     d.builtin_hysteresis_v = next();
 }
 
-/// DOMAIN §6: keep the divider current 20–100× the input current it feeds (common practice).
+/// DOMAIN §6: keep the divider current 20–100× the input current it feeds (common practice); a
+/// zener or shunt reference must keep its minimum current at the lowest supply.
 pub(crate) fn divider_current_check(
     reference: &Reference,
     d: &Comparator,
@@ -398,6 +159,7 @@ pub(crate) fn divider_current_check(
     bias_a: f64,
     w: &mut Vec<Warning>,
 ) {
+    reference.current_check(d, settings.supply_min_v, bias_a, w);
     let i_div = reference.divider_current_a(d.supply_v, d.negative_rail_v);
     let ib = bias_a.abs();
     if reference.is_divider() && ib > 0.0 && i_div < settings.divider_current_ratio * ib {

@@ -23,6 +23,7 @@ pub mod schmitt_gate;
 pub mod bjt_pair;
 pub mod netlisting;
 pub mod comparator;
+pub mod reference;
 pub mod input_rails;
 pub mod logic;
 #[cfg(test)]
@@ -74,6 +75,10 @@ pub struct Parameter {
     /// resistors and references take theirs from the tolerance settings instead).
     #[serde(default)]
     pub drift: Drift,
+    /// Held at its value by the standard-value search (a reference part whose value the
+    /// designer chose, such as a zener's bias resistor); tolerance and temperature still vary it.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub held_in_search: bool,
 }
 
 pub use crate::drift::Drift;
@@ -90,6 +95,7 @@ impl Parameter {
             unit: Unit::Ohm,
             limits: None,
             drift: Drift::None,
+            held_in_search: false,
         }
     }
 
@@ -107,7 +113,7 @@ impl Parameter {
             | ParameterKind::Offset
             | ParameterKind::DeviceThreshold => Unit::Volt,
         };
-        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None, drift: Drift::None }
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None, drift: Drift::None, held_in_search: false }
     }
 
     /// A device property ([`ParameterKind::Device`]) with its unit stated (current gain: ratio,
@@ -119,6 +125,12 @@ impl Parameter {
     /// The same parameter with its temperature drift attached.
     pub fn with_drift(mut self, drift: Drift) -> Self {
         self.drift = drift;
+        self
+    }
+
+    /// The same parameter, held at its value by the standard-value search.
+    pub fn held(mut self) -> Self {
+        self.held_in_search = true;
         self
     }
 

@@ -134,12 +134,12 @@ impl Circuit for NonInvertingSchmitt {
         v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
         v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
         self.reference.push_rails(&mut v);
-        push_device_parameters(d, self.reference.is_divider(), &mut v);
+        push_device_parameters(d, self.reference.has_resistance(), &mut v);
         v
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
-        let n = 2 + 2 + self.reference.parameter_count() + device_parameter_count(self.reference.is_divider());
+        let n = 2 + 2 + self.reference.parameter_count() + device_parameter_count(self.reference.has_resistance());
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
@@ -150,7 +150,7 @@ impl Circuit for NonInvertingSchmitt {
         c.device.supply_v = next();
         c.device.negative_rail_v = next();
         c.reference.take_rails(&mut next);
-        take_device_parameters(&mut c.device, self.reference.is_divider(), &mut next);
+        take_device_parameters(&mut c.device, self.reference.has_resistance(), &mut next);
         Ok(c)
     }
 
@@ -450,6 +450,37 @@ pub fn reference_network(
             let c = b.rail(rail_b, vs, vn, "VRB", "rail_b", SourceRole::Reference);
             b.part("ra_ohm", &a, node, ra_ohm);
             b.part("rb_ohm", node, &c, rb_ohm);
+            node.into()
+        }
+        Reference::Zener(z) => {
+            let a = b.rail(z.rail, vs, vn, "VRA", "rail_a", SourceRole::Reference);
+            b.part("ref_bias_ohm", &a, node, z.bias_ohm);
+            b.regulator(crate::netlist::NetRegulator::Zener {
+                designator: "D1".into(),
+                cathode: node.into(),
+                anode: crate::netlist::GROUND.into(),
+                vz_v: z.vz_v,
+                source_v: z.source_v(),
+                slope_ohm: z.slope_ohm,
+            });
+            node.into()
+        }
+        Reference::Shunt(s) => {
+            let a = b.rail(s.rail, vs, vn, "VRA", "rail_a", SourceRole::Reference);
+            let pin = format!("{node}ref");
+            b.part("ref_bias_ohm", &a, node, s.bias_ohm);
+            b.part("ref_upper_ohm", node, &pin, s.upper_ohm);
+            b.part("ref_lower_ohm", &pin, crate::netlist::GROUND, s.lower_ohm);
+            b.regulator(crate::netlist::NetRegulator::Shunt {
+                designator: "U2".into(),
+                cathode: node.into(),
+                anode: crate::netlist::GROUND.into(),
+                reference: pin,
+                vref_v: s.vref_v,
+                ref_current_a: s.ref_current_a,
+                impedance_ohm: s.impedance_ohm,
+                test_current_a: s.test_current_a,
+            });
             node.into()
         }
     }

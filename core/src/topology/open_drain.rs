@@ -236,7 +236,7 @@ impl OpenDrainSchmitt {
     fn has_bias_minus(&self) -> bool {
         match self.polarity {
             OpenDrainPolarity::Inverting { .. } => true,
-            OpenDrainPolarity::NonInverting { reference, .. } => reference.is_divider(),
+            OpenDrainPolarity::NonInverting { reference, .. } => reference.has_resistance(),
         }
     }
 
