@@ -41,3 +41,5 @@ pub mod spice;
 pub mod schematic;
 pub mod bench;
 pub mod jobs;
+pub mod output_dynamics;
+pub mod power_up;
