@@ -78,6 +78,13 @@ pub struct Evaluation {
     /// The temperature drift in one line, as the print sheet gives it.
     #[serde(default)]
     pub temperature_summary: Option<String>,
+    /// Output dynamics (edges at the load, thresholds under load, speed-up capacitor, slow-input
+    /// chatter check), when the record has `output_dynamics` settings.
+    #[serde(default)]
+    pub output_dynamics: Option<crate::output_dynamics::OutputDynamicsReport>,
+    /// Power-up state over the supply ramp, when the record has `power_up` settings.
+    #[serde(default)]
+    pub power_up: Option<crate::power_up::PowerUpReport>,
 }
 
 /// The shareable and printable forms of a design, computed with every evaluation.
@@ -187,7 +194,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let exports = {
         let (spice, bench) = match &analysis {
             Some(a) => (
-                crate::spice::to_spice(&record.circuit, &record.name).map_err(|e| fail("exports", e)).ok(),
+                crate::overview::spice(record).map_err(|e| fail("exports", e)).ok(),
                 Some(crate::overview::bench(record, a, windows.as_ref())),
             ),
             None => (None, None),
@@ -199,6 +206,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         .as_ref()
         .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
     let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
+    let (output_dynamics, power_up) = crate::overview::dynamics(record);
+    let output_dynamics = output_dynamics.and_then(|r| r.map_err(|e| fail("output_dynamics", e)).ok());
+    let output_dynamics = crate::finite::keep("output_dynamics", output_dynamics, &mut fail);
+    let power_up = power_up.and_then(|r| r.map_err(|e| fail("power_up", e)).ok());
+    let power_up = crate::finite::keep("power_up", power_up, &mut fail);
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -216,6 +228,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         cautions: crate::safety::cautions(record),
         temperature,
         temperature_summary,
+        output_dynamics,
+        power_up,
     }
 }
 

@@ -506,6 +506,62 @@ pub fn output_dynamics(circuit: &Topology, settings: &OutputDynamicsSettings) ->
     Ok(OutputDynamicsReport { load: load_effect, rise, fall, propagation_delay_s: tpd, speedup, chatter, warnings })
 }
 
+/// The SPICE deck of `circuit` with its output dynamics: the behavioural output switches drive an
+/// internal node `out_src` that reaches the output through RO (the output resistance), the load
+/// RL and CL sit from the output to 0 V, and the speed-up capacitor CS goes across the feedback
+/// resistor. The slew rate is not represented (SPICE3's switch has no slew limit; stated in the
+/// deck): a transient of this deck shows the RC part of the edges only. The thresholds in the
+/// deck's comments are the loaded ones when the topology models the load.
+pub fn spice_deck(circuit: &Topology, title: &str, settings: &OutputDynamicsSettings) -> Result<String, DesignError> {
+    use crate::netlist::{ActiveDevice, Netlisted, OUTPUT_NET};
+    use crate::spice::{ramp_span_v, spice_number as n, write_deck};
+    settings.validate()?;
+    circuit.validate()?;
+    let t = match circuit.with_output_load(&settings.load()) {
+        Some(c) => c.thresholds()?,
+        None => circuit.thresholds()?,
+    };
+    let mut net = circuit.netlist();
+    let ro = settings.output_resistance_ohm;
+    let mut driven = false;
+    if ro > 0.0 {
+        for d in net.devices.iter_mut() {
+            match d {
+                ActiveDevice::Comparator { output, .. } | ActiveDevice::LogicGate { output, .. } if output == OUTPUT_NET => {
+                    *output = "out_src".into();
+                    driven = true;
+                }
+                _ => {}
+            }
+        }
+    }
+    let (lo, hi) = ramp_span_v(t.vt_upper_v, t.vt_lower_v);
+    crate::finite::check("spice", &(&t, [lo, hi], &net))?;
+    let deck = write_deck(&net, title, t.vt_upper_v, t.vt_lower_v, lo, hi);
+    let mut extra = String::from("\n* Output dynamics (Hysteron output_dynamics settings)\n");
+    if let Some(sr) = settings.slew_rate_v_per_us {
+        extra.push_str(&format!("* Device slew rate {sr} V/us is not represented here (the SW switch has no slew limit).\n"));
+    }
+    if driven {
+        extra.push_str(&format!("* RO: output resistance of the device (not a part)\nRO out_src {OUTPUT_NET} {}\n", n(ro)));
+    } else if ro > 0.0 {
+        extra.push_str("* The output resistance is not represented: the output is not a behavioural switch.\n");
+    }
+    if let Some(rl) = settings.load_resistance_ohm {
+        extra.push_str(&format!("* RL: load resistance (not a part)\nRL {OUTPUT_NET} 0 {}\n", n(rl)));
+    }
+    if settings.load_capacitance_f > 0.0 {
+        extra.push_str(&format!("* CL: load capacitance (not a part)\nCL {OUTPUT_NET} 0 {}\n", n(settings.load_capacitance_f)));
+    }
+    if let (Some(cs), Some((designator, _))) = (settings.speedup_capacitance_f, feedback_resistor(circuit)) {
+        if let Some(r) = net.resistors.iter().find(|r| r.designator == designator) {
+            extra.push_str(&format!("* CS: speed-up capacitor across the feedback resistor {designator}\nCS {} {} {}\n", r.node_a, r.node_b, n(cs)));
+        }
+    }
+    let body = deck.strip_suffix(".end\n").unwrap_or(&deck);
+    Ok(format!("{body}{extra}.end\n"))
+}
+
 /// The output dynamics in one line for the print sheet.
 pub fn summary_line(r: &OutputDynamicsReport) -> String {
     use crate::notation::{format_with_unit, Unit};

@@ -291,6 +291,51 @@ pub struct Sheet {
     /// The one line on the temperature drift of VT±; `None` when the sweep fails.
     #[serde(default)]
     pub temperature: Option<String>,
+    /// The output dynamics and power-up state, one line each, when the record has their
+    /// settings ([`dynamics_lines`]).
+    #[serde(default)]
+    pub dynamics: Vec<String>,
+}
+
+/// The output-dynamics and power-up studies of a record, each `None` when the record has no
+/// settings for it.
+#[allow(clippy::type_complexity)]
+pub fn dynamics(
+    record: &DesignRecord,
+) -> (
+    Option<Result<crate::output_dynamics::OutputDynamicsReport, DesignError>>,
+    Option<Result<crate::power_up::PowerUpReport, DesignError>>,
+) {
+    (
+        record.output_dynamics.as_ref().map(|s| crate::output_dynamics::output_dynamics(&record.circuit, s)),
+        record.power_up.as_ref().map(|s| crate::power_up::power_up(&record.circuit, s)),
+    )
+}
+
+/// The print sheet's lines on output dynamics and power-up state (a study that fails says so).
+pub fn dynamics_lines(record: &DesignRecord) -> Vec<String> {
+    let (od, pu) = dynamics(record);
+    let mut lines = Vec::new();
+    match od {
+        Some(Ok(r)) => lines.push(crate::output_dynamics::summary_line(&r)),
+        Some(Err(e)) => lines.push(format!("output dynamics: {e}")),
+        None => {}
+    }
+    match pu {
+        Some(Ok(r)) => lines.push(crate::power_up::summary_line(&r)),
+        Some(Err(e)) => lines.push(format!("power-up state: {e}")),
+        None => {}
+    }
+    lines
+}
+
+/// The SPICE deck of a record: with its output dynamics when it has them
+/// ([`crate::output_dynamics::spice_deck`]), else [`crate::spice::to_spice`].
+pub fn spice(record: &DesignRecord) -> Result<String, DesignError> {
+    match &record.output_dynamics {
+        Some(s) => crate::output_dynamics::spice_deck(&record.circuit, &record.name, s),
+        None => crate::spice::to_spice(&record.circuit, &record.name),
+    }
 }
 
 /// The print sheet's content; fails when the design cannot be analysed or any number on the
@@ -303,7 +348,8 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
     let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
-    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature })
+    let dynamics = dynamics_lines(record);
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, dynamics })
 }
 
 /// The print sheet's longer studies.
