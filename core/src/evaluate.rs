@@ -82,6 +82,13 @@ pub struct Evaluation {
     /// field terminal, clamp currents, dissipation, the filter (see [`crate::input_network`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub input_network: Option<crate::input_network::NetworkReport>,
+    /// Output dynamics (edges at the load, thresholds under load, speed-up capacitor, slow-input
+    /// chatter check), when the record has `output_dynamics` settings.
+    #[serde(default)]
+    pub output_dynamics: Option<crate::output_dynamics::OutputDynamicsReport>,
+    /// Power-up state over the supply ramp, when the record has `power_up` settings.
+    #[serde(default)]
+    pub power_up: Option<crate::power_up::PowerUpReport>,
 }
 
 /// The shareable and printable forms of a design, computed with every evaluation.
@@ -191,7 +198,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let exports = {
         let (spice, bench) = match &analysis {
             Some(a) => (
-                crate::input_network::spice::record_deck(record).map_err(|e| fail("exports", e)).ok(),
+                crate::overview::spice(record).map_err(|e| fail("exports", e)).ok(),
                 Some(crate::overview::bench(record, a, windows.as_ref())),
             ),
             None => (None, None),
@@ -204,6 +211,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
     let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
     let input_network = crate::input_network::record_network(record).and_then(|r| r.map_err(|e| fail("input_network", e)).ok());
+    let (output_dynamics, power_up) = crate::overview::dynamics(record);
+    let output_dynamics = output_dynamics.and_then(|r| r.map_err(|e| fail("output_dynamics", e)).ok());
+    let output_dynamics = crate::finite::keep("output_dynamics", output_dynamics, &mut fail);
+    let power_up = power_up.and_then(|r| r.map_err(|e| fail("power_up", e)).ok());
+    let power_up = crate::finite::keep("power_up", power_up, &mut fail);
     Evaluation {
         name: record.name.clone(),
         topology: record.circuit.name().to_string(),
@@ -222,6 +234,8 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         temperature,
         temperature_summary,
         input_network,
+        output_dynamics,
+        power_up,
     }
 }
 

@@ -41,7 +41,7 @@ use crate::error::DesignError;
 use crate::signal::csv::{Capture, CsvOptions, CsvParser};
 use crate::signal::debounce::{simulate_debounce, DebounceSettings, DebounceSimulation};
 use crate::signal::oscillator::{simulate_oscillator, OscillatorSettings, OscillatorSimulation};
-use crate::signal::report::{run_signal, SignalRun, SignalSettings, SignalSource};
+use crate::signal::report::{SignalRun, SignalSettings, SignalSource};
 use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
@@ -99,6 +99,10 @@ pub enum Job {
         capture: Option<Capture>,
         /// Largest number of points kept per waveform.
         display_points: usize,
+        /// The design's output dynamics: the simulated output is then the output at the load
+        /// (slew- and RC-limited, [`crate::signal::output_edges`]); `None`: the ideal output.
+        #[serde(default)]
+        output: Option<Box<crate::output_dynamics::OutputDynamicsReport>>,
     },
     /// Some levels of the noise sweep alone (a part of a split sweep).
     NoiseSweep {
@@ -254,6 +258,8 @@ struct SignalState {
     settings: SignalSettings,
     capture: Option<Capture>,
     display_points: usize,
+    /// Output dynamics for the design's simulated output, see [`Job::Signal`].
+    output: Option<Box<crate::output_dynamics::OutputDynamicsReport>>,
     /// Whether the study's main pass (and the report) is wanted, or only sweep levels.
     study: bool,
     run: Option<SignalRun>,
@@ -379,6 +385,7 @@ impl Running {
                 settings,
                 capture,
                 display_points,
+                output,
             } => {
                 design.validate()?;
                 let samples = signal_samples(&settings, capture.as_ref())?;
@@ -389,6 +396,7 @@ impl Running {
                     settings,
                     capture,
                     display_points: display_points.max(2),
+                    output,
                     study: true,
                     run: None,
                     sweep: None,
@@ -435,6 +443,7 @@ impl Running {
                     settings,
                     capture: None,
                     display_points: 2,
+                    output: None,
                     study: false,
                     run: None,
                     sweep: None,
@@ -681,7 +690,7 @@ impl SignalState {
         if self.run.is_none() {
             let mut s = self.settings.clone();
             s.sweep = None;
-            let run = run_signal(&s, &self.design, self.capture.as_ref())?;
+            let run = crate::signal::report::run_signal_with_output(&s, &self.design, self.capture.as_ref(), self.output.as_deref())?;
             if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
                 let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
                 self.sweep = Some((*sw, runner));
@@ -857,6 +866,7 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
             settings,
             capture: None,
             display_points,
+            output,
         } if parts > 1 && settings.sweep.is_some() => {
             let count = sweep_level_count(design, settings, false)?;
             let mut out = vec![Job::Signal {
@@ -867,6 +877,7 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
                 },
                 capture: None,
                 display_points: *display_points,
+                output: output.clone(),
             }];
             out.extend(ranges(count).into_iter().map(|r| Job::NoiseSweep {
                 design: *design,
@@ -1064,6 +1075,7 @@ impl JobOutput {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::signal::report::run_signal;
     use crate::signal::csv::parse_csv;
 
     fn design() -> TriggerDesign {

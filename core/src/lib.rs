@@ -42,3 +42,5 @@ pub mod schematic;
 pub mod bench;
 pub mod jobs;
 pub mod input_network;
+pub mod output_dynamics;
+pub mod power_up;

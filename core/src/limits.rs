@@ -51,6 +51,11 @@ pub enum Quantity {
     /// A resistor temperature coefficient (TCR) or tracking figure, ppm per kelvin: 0 to 10⁵
     /// (thick-film chips 100–200 ppm/K, networks track to a few ppm/K — common practice).
     Tempco,
+    /// An output slew rate, volts per microsecond: 10⁻⁶ to 10⁵ V/µs (micropower comparators slew
+    /// about 0.01 V/µs, fast ones thousands — common practice).
+    SlewRate,
+    /// A signal slope, volts per second: ±10¹² V/s (1 kV/ns; beyond any input this circuit sees).
+    Slope,
 }
 
 impl Quantity {
@@ -73,6 +78,8 @@ impl Quantity {
             Quantity::VoltageDrift => (-0.1, 0.1),
             Quantity::RelativeDrift => (-50.0, 50.0),
             Quantity::Tempco => (0.0, 1e5),
+            Quantity::SlewRate => (1e-6, 1e5),
+            Quantity::Slope => (-1e12, 1e12),
         }
     }
 
@@ -92,7 +99,9 @@ impl Quantity {
             | Quantity::Exponent
             | Quantity::VoltageDrift
             | Quantity::RelativeDrift
-            | Quantity::Tempco => None,
+            | Quantity::Tempco
+            | Quantity::SlewRate
+            | Quantity::Slope => None,
         }
     }
 
@@ -103,6 +112,8 @@ impl Quantity {
             (Quantity::VoltageDrift, _) => format!("{} µV/K", value * 1e6),
             (Quantity::RelativeDrift, _) => format!("{value} %/K"),
             (Quantity::Tempco, _) => format!("{value} ppm/K"),
+            (Quantity::SlewRate, _) => format!("{value} V/µs"),
+            (Quantity::Slope, _) => format!("{value} V/s"),
             (_, Some(u)) => format_with_unit(value, 3, u),
             (_, None) => format!("{value}"),
         }

@@ -301,6 +301,78 @@ pub struct Sheet {
     /// network.
     #[serde(default)]
     pub input_network: Option<String>,
+    /// The output dynamics and power-up state, one line each, when the record has their
+    /// settings ([`dynamics_lines`]).
+    #[serde(default)]
+    pub dynamics: Vec<String>,
+}
+
+/// The output-dynamics and power-up studies of a record, each `None` when the record has no
+/// settings for it.
+#[allow(clippy::type_complexity)]
+pub fn dynamics(
+    record: &DesignRecord,
+) -> (
+    Option<Result<crate::output_dynamics::OutputDynamicsReport, DesignError>>,
+    Option<Result<crate::power_up::PowerUpReport, DesignError>>,
+) {
+    (
+        record.output_dynamics.as_ref().map(|s| crate::output_dynamics::output_dynamics(&record.circuit, s)),
+        record.power_up.as_ref().map(|s| crate::power_up::power_up(&record.circuit, s)),
+    )
+}
+
+/// The print sheet's lines on output dynamics and power-up state (a study that fails says so).
+pub fn dynamics_lines(record: &DesignRecord) -> Vec<String> {
+    let (od, pu) = dynamics(record);
+    let mut lines = Vec::new();
+    match od {
+        Some(Ok(r)) => lines.push(crate::output_dynamics::summary_line(&r)),
+        Some(Err(e)) => lines.push(format!("output dynamics: {e}")),
+        None => {}
+    }
+    match pu {
+        Some(Ok(r)) => lines.push(crate::power_up::summary_line(&r)),
+        Some(Err(e)) => lines.push(format!("power-up state: {e}")),
+        None => {}
+    }
+    lines
+}
+
+/// The SPICE deck of a record: the design's netlist with its input network
+/// ([`crate::input_network::spice::dress`]; the deck's thresholds and test ramp are then at the
+/// field terminal) and its output dynamics ([`crate::output_dynamics::dress`]; thresholds under
+/// load when there is no input network) when it has them; else exactly [`crate::spice::to_spice`].
+pub fn spice(record: &DesignRecord) -> Result<String, DesignError> {
+    use crate::netlist::Netlisted;
+    if record.input_network.is_none() && record.output_dynamics.is_none() {
+        return crate::spice::to_spice(&record.circuit, &record.name);
+    }
+    let circuit = &record.circuit;
+    circuit.validate()?;
+    let mut net = circuit.netlist();
+    let mut extra = String::new();
+    let mut thresholds = circuit.thresholds().map(|t| (t.vt_upper_v, t.vt_lower_v))?;
+    if let Some(s) = &record.output_dynamics {
+        s.validate()?;
+        if let Some(c) = circuit.with_output_load(&s.load()) {
+            thresholds = c.thresholds().map(|t| (t.vt_upper_v, t.vt_lower_v))?;
+        }
+    }
+    if let Some(d) = crate::input_network::spice::dress(record, &mut net)? {
+        thresholds = (d.vt_upper_v, d.vt_lower_v);
+        extra.push('\n');
+        extra.push_str(&d.extra);
+    }
+    if let Some(s) = &record.output_dynamics {
+        extra.push_str(&crate::output_dynamics::dress(circuit, s, &mut net));
+    }
+    let (upper, lower) = thresholds;
+    let (lo, hi) = crate::spice::ramp_span_v(upper, lower);
+    crate::finite::check("spice", &([upper, lower], [lo, hi], &net))?;
+    let deck = crate::spice::write_deck(&net, &record.name, upper, lower, lo, hi);
+    let body = deck.strip_suffix(".end\n").unwrap_or(&deck);
+    Ok(format!("{body}{extra}.end\n"))
 }
 
 /// The print sheet's content; fails when the design cannot be analysed or any number on the
@@ -317,7 +389,8 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
         Ok(r) => crate::input_network::sheet_line(&r),
         Err(e) => format!("Input network: {e}"),
     });
-    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network })
+    let dynamics = dynamics_lines(record);
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network, dynamics })
 }
 
 /// The print sheet's longer studies.

@@ -62,7 +62,7 @@ pub const NUMBER_FIELDS: &[&str] = &[
     "drift_half_width", "duty", "exponent", "fail_above_false_edges_per_edge", "falling_phase_deg", "fixed",
     "fraction", "half_width", "high_fraction", "histogram_bins", "is_temperature_exponent", "oscillator_cycles", "order", "phase_deg",
     "power_derating_factor", "pullup_ratio_limit", "relative_amplitude", "resistor_tolerance",
-    "rising_phase_deg", "samples", "seed", "steps", "target_false_edges_per_edge", "temperature_max_c",
+    "rising_phase_deg", "samples", "seed", "slew_rate_v_per_us", "steps", "target_false_edges_per_edge", "temperature_max_c",
     "temperature_min_c", "time_column", "top_n", "trials", "voltage_column",
 ];
 
@@ -203,6 +203,12 @@ pub struct DesignRecord {
     /// the trigger's input.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub input_network: Option<crate::input_network::InputNetwork>,
+    /// Output dynamics (slew rate, output resistance, load, speed-up capacitor); `None`: ideal output.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub output_dynamics: Option<crate::output_dynamics::OutputDynamicsSettings>,
+    /// Power-up study (supply ramp); `None`: not studied.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub power_up: Option<crate::power_up::PowerUpSettings>,
 }
 
 /// Why a record could not be read.
@@ -267,6 +273,8 @@ impl DesignRecord {
             parts: PartSettings::default(),
             search: None,
             input_network: None,
+            output_dynamics: None,
+            power_up: None,
         }
     }
 

@@ -5,6 +5,7 @@ mod circuit;
 mod incoming;
 mod input_network;
 mod notebook;
+mod output_dynamics;
 pub mod partlist;
 mod parts;
 pub mod progress;
@@ -128,6 +129,9 @@ pub fn App() -> impl IntoView {
                                 </Study>
                                 <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K">
                                     <temperature::TemperatureSection />
+                                </Study>
+                                <Study id="fold-dynamics" title="Output dynamics and power-up" hint="edges at the load, speed-up capacitor, state after a supply ramp">
+                                    <output_dynamics::OutputDynamicsSection />
                                 </Study>
                                 <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges">
                                     <signal::SignalSection />

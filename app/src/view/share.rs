@@ -8,7 +8,6 @@ use crate::plot;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::schematic::{render_svg_titled, SymbolStyle};
 use hysteron_core::share::encode_link;
-use hysteron_core::spice::to_spice;
 use leptos::prelude::*;
 use wasm_bindgen::JsCast;
 
@@ -55,7 +54,7 @@ pub fn ShareSection() -> impl IntoView {
         }
     };
     let save_spice = move |_| {
-        match nb.with_current_untracked(|r| to_spice(&r.circuit, &r.name)) {
+        match nb.with_current_untracked(hysteron_core::overview::spice) {
             Some(Ok(deck)) => { let _ = save_text(&format!("{}.cir", stem()), "text/plain", &deck); }
             Some(Err(e)) => message.set(Some(Err(format!("no netlist: {e}")))),
             None => {}

@@ -63,7 +63,7 @@ pub fn DesignSheet() -> impl IntoView {
             <p class="sheet-purpose">{move || with_shown(&|r| r.purpose.clone())}</p>
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
-                Ok(Sheet { analysis: a, windows, bench, parts, cautions, temperature, input_network }) => {
+                Ok(Sheet { analysis: a, windows, bench, parts, cautions, temperature, input_network, dynamics }) => {
                 let wc = windows.as_ref().map(|w| w.field.clone());
                 let bw = windows.as_ref().and_then(|w| w.bench.first().cloned());
                 let range = |lo: f64, hi: f64| format!("{} … {}", v(lo), v(hi));
@@ -89,6 +89,7 @@ pub fn DesignSheet() -> impl IntoView {
                             <p class="sheet-windows">"Field window: every tolerance over its full range (supply, temperature, device spread, parts). Bench window: part tolerances and device spread only, at room temperature and the supply the bench step sets — accept readings by this one."</p>
                             <p id="sheet-temperature">{temperature.map(|t| format!("Drift with temperature — {t}."))}</p>
                             <p id="sheet-input-network">{input_network}</p>
+                            {dynamics.into_iter().map(|line| view! { <p class="sheet-dynamics">{line}</p> }).collect_view()}
                             <p>{move || slow.get().and_then(|SheetStudies { spec_yield, .. }| spec_yield).map(|(f, n)| format!("Monte Carlo yield in the spec window: {:.2} % of {n} boards.", f * 100.0))}</p>
                             <p>{move || slow.get().and_then(|SheetStudies { signal, .. }| signal).map(|s| format!(
                                 "Signal test: {} edges from the design{}; the plain comparator gives {} edges{}.",

@@ -235,6 +235,7 @@ pub fn SignalSection() -> impl IntoView {
             settings: s,
             capture: cap.as_deref().cloned(),
             display_points: DEFAULT_DISPLAY_POINTS,
+            output: hysteron_core::overview::dynamics(&record).0.and_then(|r| r.ok()).map(Box::new),
         };
         let handle = crate::jobs::start(
             signal_job,

@@ -24,8 +24,34 @@ const THERMAL_V: f64 = 0.025_865;
 /// [`crate::spice::to_spice`]). The expected thresholds in the comments and the test ramp are at
 /// the field terminal.
 pub fn record_deck(record: &DesignRecord) -> Result<String, DesignError> {
-    let Some(net) = record.input_network.as_ref().filter(|n| n.has_parts()) else {
+    let mut nl = record.circuit.netlist();
+    let Some(dressed) = dress(record, &mut nl)? else {
         return crate::spice::to_spice(&record.circuit, &record.name);
+    };
+    let (lo, hi) = ramp_span_v(dressed.vt_upper_v, dressed.vt_lower_v);
+    crate::finite::check("spice", &([dressed.vt_upper_v, dressed.vt_lower_v], [lo, hi], &nl))?;
+    let deck = write_deck(&nl, &record.name, dressed.vt_upper_v, dressed.vt_lower_v, lo, hi);
+    let body = deck.strip_suffix(".end\n").unwrap_or(&deck);
+    Ok(format!("{body}\n{}.end\n", dressed.extra))
+}
+
+/// The input network put into a design's netlist: the signal source moved to the field terminal,
+/// the network's resistors added, and the deck lines SPICE needs beyond the netlist.
+#[derive(Debug, Clone)]
+pub struct Dressed {
+    /// VT+ at the field terminal, volts.
+    pub vt_upper_v: f64,
+    /// VT− at the field terminal, volts.
+    pub vt_lower_v: f64,
+    /// Deck lines (clamps, filter capacitor, models) to append before `.end`.
+    pub extra: String,
+}
+
+/// Puts the record's input network into `nl` (the record's own netlist) and returns the field
+/// thresholds and extra deck lines; `None` (and `nl` untouched) when the record has no network.
+pub fn dress(record: &DesignRecord, nl: &mut crate::netlist::Netlist) -> Result<Option<Dressed>, DesignError> {
+    let Some(net) = record.input_network.as_ref().filter(|n| n.has_parts()) else {
+        return Ok(None);
     };
     let circuit = &record.circuit;
     circuit.validate()?;
@@ -33,7 +59,6 @@ pub fn record_deck(record: &DesignRecord) -> Result<String, DesignError> {
     let analysis = crate::topology::analyse(circuit, &record.checks)?;
     let bom = crate::overview::part_list(record, &analysis)?;
     let parts = bom.input_network;
-    let mut nl = circuit.netlist();
     let Some(vin) = nl.sources.iter_mut().find(|s| s.role == SourceRole::Input) else {
         return Err(DesignError::invalid("input_network", "the circuit's netlist has no signal source to put the network in front of"));
     };
@@ -77,9 +102,7 @@ pub fn record_deck(record: &DesignRecord) -> Result<String, DesignError> {
         }
         from = to;
     }
-    let (lo, hi) = ramp_span_v(report.field.vt_upper_v, report.field.vt_lower_v);
-    crate::finite::check("spice", &(&report.field, [lo, hi], &nl))?;
-    let deck = write_deck(&nl, &record.name, report.field.vt_upper_v, report.field.vt_lower_v, lo, hi);
+    let (lo, _) = ramp_span_v(report.field.vt_upper_v, report.field.vt_lower_v);
     let n = spice_number;
     let mut extra = String::new();
     let _ = writeln!(extra, "* Input network (thresholds above are at the field terminal, node field; the trigger's pin is node {pin})");
@@ -114,8 +137,7 @@ pub fn record_deck(record: &DesignRecord) -> Result<String, DesignError> {
         let _ = writeln!(extra, "{c} {pin} {GROUND} {} IC={}", n(f.c_f), short(net.gain() * lo));
     }
     extra.push_str(&models);
-    let body = deck.strip_suffix(".end\n").unwrap_or(&deck);
-    Ok(format!("{body}\n{extra}.end\n"))
+    Ok(Some(Dressed { vt_upper_v: report.field.vt_upper_v, vt_lower_v: report.field.vt_lower_v, extra }))
 }
 
 fn short(v: f64) -> String {

@@ -326,6 +326,17 @@ impl Circuit for CmosBufferSchmitt {
         Ok(c)
     }
 
+    /// The gate's output resistance and the load as a Thevenin source in series with R2 (module
+    /// [`crate::output_dynamics`]).
+    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+        let (h, l, rs) = load.thevenin(self.gate.output_high_v(), self.gate.output_low_v);
+        let mut c = self.clone();
+        c.r2_ohm += rs;
+        c.gate.output_high_drop_v = (c.gate.supply_v - h).max(0.0);
+        c.gate.output_low_v = l;
+        Some(c)
+    }
+
     /// DOMAIN §1d synthesis with R2 as the anchor: R1 = R2·ΔV/(VOH − VOL);
     /// s = VT+ − VM − (R1/R2)(VM − VOL); s = 0: no R3; s > 0: R3 = R1·VM/s to 0 V;
     /// s < 0: R3 = R1(VM − VDD)/s to VDD.

@@ -223,6 +223,13 @@ impl Circuit for InvertingSchmitt {
         Ok(c)
     }
 
+    /// Ro and the load as a Thevenin source in series with Rf (module [`crate::output_dynamics`]).
+    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+        let (h, l, rs) = load.thevenin(self.device.output_high_v(), self.device.output_low_v());
+        let device = crate::output_dynamics::comparator_with_levels(&self.device, h, l);
+        Some(InvertingSchmitt { rf_ohm: self.rf_ohm + rs, device, ..self.clone() })
+    }
+
     /// DOMAIN §1a synthesis, extended to invert the offset and bias terms exactly:
     /// k = ΔP/(VOH − VOL), Rth = Rf·k/(1−k), Vth = (P − k·VO)/(1−k) + IB+·Rth,
     /// Ra = Rth(VA−VB)/(Vth−VB), Rb = Rth(VA−VB)/(VA−Vth).

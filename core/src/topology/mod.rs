@@ -215,6 +215,14 @@ pub trait Circuit: Clone {
     fn transistor_stress(&self) -> Vec<TransistorStress> {
         Vec::new()
     }
+
+    /// A copy whose output drives its feedback through the device's output resistance and load
+    /// (see [`crate::output_dynamics`]: output levels replaced by their Thevenin values, the
+    /// series resistance added to the feedback resistor), so `thresholds()` of the copy are the
+    /// thresholds under load. `None` (the default): not modelled for this topology.
+    fn with_output_load(&self, _load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+        None
+    }
 }
 
 /// What one discrete transistor must withstand (upper bounds over every operating state).
@@ -617,6 +625,9 @@ macro_rules! topologies {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.troubleshooting(analysis, checks), )+ }
             }
             fn transistor_stress(&self) -> Vec<TransistorStress> { match self { $( $(#[$attr])* Topology::$variant(c) => c.transistor_stress(), )+ } }
+            fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+                match self { $( $(#[$attr])* Topology::$variant(c) => c.with_output_load(load).map(Topology::$variant), )+ }
+            }
         }
 
         #[allow(unused_doc_comments)]

@@ -154,6 +154,13 @@ impl Circuit for NonInvertingSchmitt {
         Ok(c)
     }
 
+    /// Ro and the load as a Thevenin source in series with R2 (module [`crate::output_dynamics`]).
+    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+        let (h, l, rs) = load.thevenin(self.device.output_high_v(), self.device.output_low_v());
+        let device = crate::output_dynamics::comparator_with_levels(&self.device, h, l);
+        Some(NonInvertingSchmitt { r2_ohm: self.r2_ohm + rs, device, ..self.clone() })
+    }
+
     /// DOMAIN §1b synthesis, extended to invert offset, bias and built-in hysteresis exactly:
     /// m = (ΔV − h)/(VOH − VOL + h), R1 = m·R2 − Rs,
     /// N = (VT+ − IB+·R1s + m·VOL)/(1+m) − VOS − h/2, then the reference is set to N.

@@ -482,6 +482,16 @@ impl Circuit for OpenDrainSchmitt {
         Ok(c)
     }
 
+    /// Ro adds to the on transistor's sink resistance; the load RL joins the existing load to 0 V
+    /// (the pull-up network's high level and the feedback are modelled exactly already).
+    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+        let rl_ohm = match (self.rl_ohm, load.load_resistance_ohm) {
+            (Some(a), Some(b)) => Some(a * b / (a + b)),
+            (a, b) => a.or(b),
+        };
+        Some(OpenDrainSchmitt { sink_resistance_ohm: self.sink_resistance_ohm + load.output_resistance_ohm, rl_ohm, ..self.clone() })
+    }
+
     /// DOMAIN §1c synthesis with the pull-up, load and sink resistance kept from the template and
     /// offset, bias and built-in hysteresis inverted exactly.
     /// Inverting (choose Rf): with P± the node-P targets and S± = Rf + Rx± per state,

@@ -142,6 +142,11 @@ impl Circuit for PlainComparator {
         Ok(c)
     }
 
+    /// No feedback from the output: the load moves no threshold.
+    fn with_output_load(&self, _load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+        Some(self.clone())
+    }
+
     /// A plain comparator can only be centred: the width must equal the built-in hysteresis
     /// (within 1e-9 relative), and the reference is set so that the centre lands on the targets'
     /// centre, with the offset and bias terms inverted exactly. A divider is scaled to the anchor total.
