@@ -429,6 +429,14 @@ struct Searcher<C: Circuit> {
     /// functions of the innermost enumerated resistor (see [`Searcher::fit_probe_models`]).
     probe_models: Option<[(Bilinear, Bilinear); 3]>,
     top: Vec<Entry>,
+    /// The monotone plan (see the module notes): indices in `values` of the monotone resistor
+    /// (also `solved`) and of the output load; `None`: the bilinear method.
+    plan: Option<(usize, usize)>,
+    /// Monotone plan: per grid index of the monotone resistor, this row's lower bound of the
+    /// objective over every output load (`Some(None)`: no switching at the smallest load).
+    row: Vec<Option<Option<f64>>>,
+    /// Monotone plan: grid index where the last row's bound was least; the next row starts there.
+    row_guess: usize,
 }
 
 /// A fresh evaluation (for the model check) or a cached objective.
@@ -526,6 +534,107 @@ impl<C: Circuit> Searcher<C> {
         [(t.vt_upper_v, low_state), (t.vt_lower_v, high_state)].iter().any(|&(vin, state)| {
             c.operating_point(vin, state).is_ok_and(|op| op.network_current_a.abs() > budget * (1.0 + 1e-12))
         })
+    }
+
+    /// Evaluates the circuit at the current `values` and offers it; `None` when it does not switch
+    /// or the evaluation fails.
+    fn eval_current(&mut self) -> Option<Thresholds> {
+        self.evaluations += 1;
+        let c = self.template.with_parameters(&self.values).ok()?;
+        let t = c.thresholds().ok()?;
+        if !(t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()) {
+            return None;
+        }
+        let f = self.obj.worst(&t);
+        self.offer(f, t, &c);
+        Some(t)
+    }
+
+    /// Monotone plan: a lower bound of the objective over every value of the output load, from the
+    /// thresholds at its smallest value (VT− unchanged by it, VT+ only falling), and the slack it
+    /// is held to (1e-9 of the thresholds, for rounding).
+    fn load_bound(&self, t: &Thresholds) -> (f64, f64) {
+        let (eu, el) = self.obj.errors(t.vt_upper_v, t.vt_lower_v);
+        let slack = 1e-9 * (t.vt_upper_v.abs() / self.obj.su).max(t.vt_lower_v.abs() / self.obj.sl) + 1e-15;
+        (el.abs().max((-eu).max(0.0)), slack)
+    }
+
+    /// Monotone plan, one point of a row: the monotone resistor at grid index `i`, the output load
+    /// at its smallest value, evaluated and offered; when the bound allows a value of the load to
+    /// enter the list, the load is walked upward (see the module notes). Returns the bound (`None`:
+    /// no switching at the smallest load, so at none).
+    fn monotone_point(&mut self, i: usize) -> Option<f64> {
+        if let Some(b) = self.row[i] {
+            return b;
+        }
+        let (monotone, load) = self.plan?;
+        self.values[monotone] = self.grid[i];
+        self.values[load] = self.grid[0];
+        let bound = self.eval_current().map(|t| {
+            let (b, slack) = self.load_bound(&t);
+            if b <= self.entry_bar() + slack {
+                // VT+ falls as the load rises and VT− stays: walk up until even the bound of what
+                // is left is out of reach. A failed value is walked over (not taken as the end).
+                for j in 1..self.grid.len() {
+                    self.values[load] = self.grid[j];
+                    if let Some(tj) = self.eval_current() {
+                        let (bj, sj) = self.load_bound(&tj);
+                        if bj > self.entry_bar() + sj {
+                            break;
+                        }
+                    }
+                }
+                self.values[load] = self.grid[0];
+            }
+            b
+        });
+        self.row[i] = Some(bound);
+        bound
+    }
+
+    /// Monotone plan, one row (every enumerated resistor fixed): the bound of [`Self::load_bound`]
+    /// is quasi-convex in the monotone resistor (each threshold monotone in it, so |e−| and
+    /// max(0, −e+) are, and so their maximum), so from a starting index the row is walked both ways
+    /// and each way stops at a value whose bound is above the entry bar and above the value
+    /// before it: every value further on is then worse still. Values that do not switch are
+    /// walked over.
+    fn monotone_row(&mut self) {
+        let m = self.grid.len();
+        self.row.iter_mut().for_each(|r| *r = None);
+        let start = self.row_guess.min(m - 1);
+        let mut best: Option<(f64, usize)> = None;
+        let note = |b: f64, i: usize, best: &mut Option<(f64, usize)>| {
+            if best.is_none_or(|(v, _)| b < v) {
+                *best = Some((b, i));
+            }
+        };
+        let mut prev: Option<f64> = None;
+        let mut at_start = None;
+        for i in start..m {
+            let Some(b) = self.monotone_point(i) else { continue };
+            note(b, i, &mut best);
+            if i == start {
+                at_start = Some(b);
+            }
+            let slack = 1e-9 * b.abs() + 1e-15;
+            if b > self.entry_bar() + slack && prev.is_some_and(|p| b > p + slack) {
+                break;
+            }
+            prev = Some(b);
+        }
+        let mut prev = at_start;
+        for i in (0..start).rev() {
+            let Some(b) = self.monotone_point(i) else { continue };
+            note(b, i, &mut best);
+            let slack = 1e-9 * b.abs() + 1e-15;
+            if b > self.entry_bar() + slack && prev.is_some_and(|p| b > p + slack) {
+                break;
+            }
+            prev = Some(b);
+        }
+        if let Some((_, i)) = best {
+            self.row_guess = i;
+        }
     }
 
     /// Scans every grid value of the solved resistor (the safe fallback).
@@ -818,11 +927,17 @@ impl<C: Circuit> SearchJob<C> {
         let params = circuit.parameters();
         let slots: Vec<usize> =
             params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor).map(|(i, _)| i).collect();
-        let Some(&solved) = slots.last() else {
+        let Some(&last) = slots.last() else {
             return Err(DesignError::Parameter {
                 reason: "this circuit has no resistors for the search to choose".into(),
             });
         };
+        let is_resistor = |i: usize| params.get(i).is_some_and(|p| p.kind == ParameterKind::Resistor);
+        let plan = circuit
+            .monotone_structure()
+            .filter(|p| p.monotone != p.output_load && is_resistor(p.monotone) && is_resistor(p.output_load))
+            .map(|p| (p.monotone, p.output_load));
+        let solved = plan.map_or(last, |(monotone, _)| monotone);
         let grid = settings.series.values_between(settings.r_min_ohm, settings.r_max_ohm);
         if grid.is_empty() {
             return Err(DesignError::invalid(
@@ -834,7 +949,11 @@ impl<C: Circuit> SearchJob<C> {
             ));
         }
         let m = grid.len();
-        let enumerated = slots.len() - 1;
+        let others: Vec<usize> = match plan {
+            Some((monotone, load)) => slots.iter().copied().filter(|&i| i != monotone && i != load).collect(),
+            None => slots[..slots.len() - 1].to_vec(),
+        };
+        let enumerated = others.len();
         let combinations = (0..enumerated)
             .try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
         let Some(combinations) = combinations else {
@@ -850,16 +969,15 @@ impl<C: Circuit> SearchJob<C> {
             ));
         };
         let runs = if enumerated > 0 { combinations / m as u64 } else { 0 };
-        let workload = Workload {
-            resistors: slots.len(),
-            values_per_resistor: m,
-            combinations,
-            max_evaluations: 2 * combinations * m as u64 + 9 * runs,
+        let max_evaluations = match plan {
+            // Every value of the monotone resistor and of the output load, once each.
+            Some(_) => combinations.saturating_mul(m as u64 * m as u64),
+            None => 2 * combinations * m as u64 + 9 * runs,
         };
+        let workload = Workload { resistors: slots.len(), values_per_resistor: m, combinations, max_evaluations };
         let values: Vec<f64> = params.iter().map(|p| p.value).collect();
         let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
-        let inner = if enumerated > 0 { Some(slots[0]) } else { None };
-        let others: Vec<usize> = slots[..enumerated].to_vec();
+        let inner = if enumerated > 0 && plan.is_none() { Some(slots[0]) } else { None };
         let st = Searcher {
             template: circuit.clone(),
             checks: checks.clone(),
@@ -882,6 +1000,9 @@ impl<C: Circuit> SearchJob<C> {
             inner,
             probe_models: None,
             top: Vec::with_capacity(settings.top_n + 1),
+            plan,
+            row: vec![None; m],
+            row_guess: m / 2,
         };
         Ok(SearchJob {
             st,
@@ -955,7 +1076,9 @@ impl<C: Circuit> SearchJob<C> {
         for (k, &slot) in self.others.iter().enumerate() {
             st.values[slot] = st.grid[m - 1 - self.idx[k]];
         }
-        if self.idx.first() == Some(&0) {
+        if st.plan.is_some() {
+            st.monotone_row();
+        } else if self.idx.first() == Some(&0) {
             // A new run of the innermost enumerated resistor.
             if st.prune {
                 st.fit_probe_models();
@@ -963,7 +1086,9 @@ impl<C: Circuit> SearchJob<C> {
                 st.probe_models = None;
             }
         }
-        st.solve_combination();
+        if st.plan.is_none() {
+            st.solve_combination();
+        }
         st.combo += 1;
         if st.prune && st.model_failed {
             // A model failed a check: the thresholds are not bilinear in the solved resistor, so

@@ -203,6 +203,26 @@ pub trait Circuit: Clone {
     fn transistor_stress(&self) -> Vec<TransistorStress> {
         Vec::new()
     }
+
+    /// For a topology whose thresholds are not bilinear in its resistors (a transistor model solved
+    /// numerically), the monotone structure the standard-value search may rely on instead
+    /// (`crate::search`, "Monotone plan"); `None` (the default): the bilinear method applies.
+    fn monotone_structure(&self) -> Option<MonotoneStructure> {
+        None
+    }
+}
+
+/// How a numerically solved topology's thresholds depend on two of its resistors, stated by the
+/// topology (and checked numerically there) for the standard-value search's monotone plan.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MonotoneStructure {
+    /// Index in [`Circuit::parameters`] of a resistor both thresholds are monotone in (each in
+    /// its own direction) wherever the circuit switches.
+    pub monotone: usize,
+    /// Index of a resistor that only loads the output: VT− does not depend on it (to rounding),
+    /// VT+ does not rise as it rises, and a design that does not switch at a value of it does not
+    /// switch at any larger value.
+    pub output_load: usize,
 }
 
 /// What one discrete transistor must withstand (upper bounds over every operating state).
@@ -605,6 +625,7 @@ macro_rules! topologies {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.troubleshooting(analysis, checks), )+ }
             }
             fn transistor_stress(&self) -> Vec<TransistorStress> { match self { $( $(#[$attr])* Topology::$variant(c) => c.transistor_stress(), )+ } }
+            fn monotone_structure(&self) -> Option<MonotoneStructure> { match self { $( $(#[$attr])* Topology::$variant(c) => c.monotone_structure(), )+ } }
         }
 
         #[allow(unused_doc_comments)]
