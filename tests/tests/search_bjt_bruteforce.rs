@@ -33,7 +33,7 @@ fn brute_force(c: &EmitterCoupledSchmitt, target: Thresholds, s: &SearchSettings
     let grid = s.series.values_between(s.r_min_ohm, s.r_max_ohm);
     let mut values: Vec<f64> = params.iter().map(|p| p.value).collect();
     let mut idx = vec![0usize; slots.len()];
-    let mut all = Vec::new();
+    let mut all: Vec<(f64, Thresholds, Vec<f64>)> = Vec::new();
     'outer: loop {
         for (k, &slot) in slots.iter().enumerate() {
             values[slot] = grid[idx[k]];
@@ -53,7 +53,7 @@ fn brute_force(c: &EmitterCoupledSchmitt, target: Thresholds, s: &SearchSettings
     // Near-ties (1e-12) go to the set closest to the starting design, Σ|ln(Ri/Ri,start)|, as the
     // search documents.
     let start: Vec<f64> = slots.iter().map(|&i| params[i].value).collect();
-    let closeness = |v: &[f64]| v.iter().zip(&start).map(|(a, b)| (a / b).ln().abs()).sum::<f64>();
+    let closeness = |v: &Vec<f64>| v.iter().zip(&start).map(|(a, b)| (a / b).ln().abs()).sum::<f64>();
     all.sort_by(|a, b| a.0.total_cmp(&b.0));
     let mut i = 0;
     while i < all.len() {
