@@ -826,6 +826,16 @@ pub struct Workload {
     pub max_evaluations: u64,
 }
 
+impl Workload {
+    /// Upper bound of the search's time, seconds, before it starts: [`Workload::max_evaluations`]
+    /// times the cost of one evaluation (`Circuit::seconds_per_evaluation`, or a cost the caller
+    /// measured). The search usually needs a small fraction of it; [`Progress::remaining_s`]
+    /// refines it as it runs.
+    pub fn bound_s(&self, seconds_per_evaluation: f64) -> f64 {
+        self.max_evaluations as f64 * seconds_per_evaluation
+    }
+}
+
 /// How far a [`SearchJob`] has come.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Progress {
@@ -1126,16 +1136,34 @@ pub fn search<C: Circuit>(
     checks: &CheckSettings,
 ) -> Result<SearchReport, DesignError> {
     let mut job = SearchJob::new(circuit, targets, settings, checks)?;
-    let p = job.step(MAX_EVALUATIONS + 1);
-    if !p.finished {
-        return Err(DesignError::NotConverged {
-            reason: format!(
-                "the search stopped after {} evaluations: this topology's thresholds are not bilinear in the solved resistor, so every combination needed a full scan; narrow the range or choose a coarser series",
-                p.evaluations
-            ),
-        });
+    run_job(&mut job, MAX_EVALUATIONS)
+}
+
+/// Evaluations per slice in [`run_job`].
+const RUN_SLICE: u64 = 10_000;
+
+/// Steps `job` to the end, as the page does, within a budget of `max_evaluations` evaluations: the
+/// loop behind [`search`] and the command line (`evaluate`), so they give the page's answer or, when
+/// the budget is spent first, an error that says so (how far it came, and what to change). The page
+/// steps the same job to the end without a budget, with progress and Cancel.
+pub fn run_job<C: Circuit>(job: &mut SearchJob<C>, max_evaluations: u64) -> Result<SearchReport, DesignError> {
+    loop {
+        let p = job.step(RUN_SLICE.min(max_evaluations.saturating_sub(job.progress().evaluations)).max(1));
+        if p.finished {
+            return Ok(job.finish());
+        }
+        if p.evaluations >= max_evaluations {
+            return Err(DesignError::NotConverged {
+                reason: format!(
+                    "the standard-value search reached its budget of {max_evaluations} evaluations with {} of {} combinations done{} (about {} evaluations expected in all); narrow the resistance range or choose a coarser series, or run it on the page, which runs it to the end with progress and Cancel",
+                    p.combinations_done,
+                    p.combinations,
+                    if p.unpruned_pass { " in its unpruned pass" } else { "" },
+                    p.estimated_evaluations
+                ),
+            });
+        }
     }
-    Ok(job.finish())
 }
 
 fn report<C: Circuit>(

@@ -210,6 +210,14 @@ pub trait Circuit: Clone {
     fn monotone_structure(&self) -> Option<MonotoneStructure> {
         None
     }
+
+    /// The time one [`Circuit::thresholds`] call takes, seconds: a bound measured natively (release
+    /// build, `cargo bench -p hysteron-core --bench search`) with headroom, for the time estimates
+    /// the long studies announce before they start (workload × this). Closed forms: the default,
+    /// 2 µs (they take well under a microsecond).
+    fn seconds_per_evaluation(&self) -> f64 {
+        2e-6
+    }
 }
 
 /// How a numerically solved topology's thresholds depend on two of its resistors, stated by the
@@ -626,6 +634,7 @@ macro_rules! topologies {
             }
             fn transistor_stress(&self) -> Vec<TransistorStress> { match self { $( $(#[$attr])* Topology::$variant(c) => c.transistor_stress(), )+ } }
             fn monotone_structure(&self) -> Option<MonotoneStructure> { match self { $( $(#[$attr])* Topology::$variant(c) => c.monotone_structure(), )+ } }
+            fn seconds_per_evaluation(&self) -> f64 { match self { $( $(#[$attr])* Topology::$variant(c) => c.seconds_per_evaluation(), )+ } }
         }
 
         #[allow(unused_doc_comments)]

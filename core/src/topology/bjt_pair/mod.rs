@@ -977,6 +977,16 @@ impl Circuit for EmitterCoupledSchmitt {
         (self.model == BjtModel::EbersMoll).then_some(MonotoneStructure { monotone: 4, output_load: 3 })
     }
 
+    /// Ebers–Moll: a traced curve per evaluation, about 0.13 ms natively unloaded and up to
+    /// 0.25 ms on a busy machine (measured: `cargo bench -p hysteron-core --bench search`, the
+    /// dust-extractor demo); 0.4 ms leaves headroom for wasm. The hand model: the default.
+    fn seconds_per_evaluation(&self) -> f64 {
+        match self.model {
+            BjtModel::EbersMoll => 4e-4,
+            BjtModel::Hand => 2e-6,
+        }
+    }
+
     fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
         vec![
             "Measure VBE of the conducting transistor (about 0.6–0.7 V): the thresholds move almost one-for-one with it, and with temperature (about −2 mV/K).".into(),
