@@ -58,6 +58,34 @@
 //! value to 1e-9 yet is not quasi-convex could in principle slip through; for linear networks the
 //! argument above is exact.) [`SearchReport::exhaustive_combinations`] counts the fallbacks.
 //!
+//! # Monotone plan (topologies solved numerically)
+//! A topology whose thresholds are not bilinear in any resistor (the Ebers–Moll transistor pair)
+//! states instead, through [`Circuit::monotone_structure`], a resistor R_m both thresholds are
+//! monotone in (the pair's RE) and a resistor R_o that only loads the output (the pair's RC2:
+//! VT− does not depend on it, VT+ does not rise as it rises, and a design without a fold at its
+//! smallest value has none at a larger one). The topology checks these numerically and says so
+//! in its documentation; nothing is assumed of the other resistors (the pair's switching is not
+//! monotone in RC1: whether it switches at all is not an interval of RC1 or RE). Then every
+//! combination of the *other* resistors (a row) is handled as follows, and the result equals
+//! exhaustive enumeration (`tests/tests/search_bjt_bruteforce.rs`):
+//!
+//! 1. **A bound over R_o from one evaluation.** At R_m's value and R_o's smallest value, VT+ is
+//!    the largest VT+ of any R_o and VT− is everyone's, so with e+ and e− from that evaluation,
+//!    every value of R_o has f ≥ b = max(|e−|, max(0, −e+)) (held to 1e-9 of the thresholds for
+//!    rounding). Only when b is within the entry bar is R_o walked upward (each value evaluated
+//!    and offered), stopping once the bound of what is left, from the last value, is out of reach;
+//!    a value that does not switch is walked over, not taken as the end.
+//! 2. **A walk over R_m.** b is quasi-convex in R_m (|e−| and max(0, −e+) are, each of a monotone
+//!    threshold; so their maximum), so from a start value the row is walked both ways, each way
+//!    stopping at a value whose b is above the entry bar and above the value before it. Values
+//!    that do not switch are walked over. The start is where the previous row's b was least (rows
+//!    next to each other differ in one resistor by one series step), so a row usually costs a
+//!    handful of evaluations.
+//!
+//! Each evaluation counted is a real one and every listed combination was evaluated and offered
+//! like any other, so the distinct rule, the tie-break and the current budget apply unchanged. Cost
+//! on the dust-extractor demo (E6 over 1 k–1 M, five resistors): see `core/benches/search.rs`.
+//!
 //! With an optional current budget, a combination enters the list only if the network's quiescent
 //! current, as [`analyse`] reports it, is within the budget. The walk continues past values that
 //! fail the budget (a feasible value further out may still qualify), so the result stays optimal
