@@ -1419,6 +1419,22 @@ mod tests {
     }
 
     #[test]
+    fn a_spent_budget_gives_an_error_that_says_so() {
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 };
+        let ck = CheckSettings::default();
+        let s = SearchSettings { series: ESeries::E96, ..SearchSettings::default() };
+        let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
+        let e = run_job(&mut job, 50).unwrap_err();
+        assert!(matches!(e, DesignError::NotConverged { .. }), "{e:?}");
+        assert!(e.to_string().contains("budget of 50 evaluations"), "{e}");
+        // With room, run_job ends where search does, and where a job stepped by hand ends.
+        let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
+        let whole = search(&three_resistor(), t, &s, &ck).unwrap();
+        assert_eq!(run_job(&mut job, MAX_EVALUATIONS).unwrap(), whole);
+        assert!(job.workload().bound_s(1e-6) >= whole.evaluations as f64 * 1e-6);
+    }
+
+    #[test]
     fn remaining_time_is_extrapolated_from_the_rate() {
         let p = Progress {
             combinations_done: 10,

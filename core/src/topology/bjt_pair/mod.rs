@@ -1282,6 +1282,26 @@ mod tests {
     }
 
     #[test]
+    fn monte_carlo_on_the_transistor_level_model_is_bounded_with_a_message() {
+        // The reproducer: 10^6 trials on the Ebers–Moll pair ran for 86 s without a word.
+        use crate::tolerance::monte_carlo::{MonteCarloRun, MONTE_CARLO_TIME_LIMIT_S};
+        use crate::tolerance::ToleranceSettings;
+        let mut s = ToleranceSettings::default();
+        s.monte_carlo.trials = 1_000_000;
+        let em = example(BjtModel::EbersMoll);
+        let e = MonteCarloRun::new(&em, &s).err().expect("10^6 Ebers–Moll trials must be refused");
+        let text = e.to_string();
+        assert!(matches!(e, DesignError::InvalidValue { ref field, .. } if field == "tolerance.monte_carlo.trials"), "{e:?}");
+        let allowed = (MONTE_CARLO_TIME_LIMIT_S / em.seconds_per_evaluation()).floor() as u64;
+        assert!(text.contains(&format!("at most {allowed}")) && text.contains("hand model"), "{text}");
+        // Exactly the allowed number is accepted; the hand model takes the full 10^6.
+        s.monte_carlo.trials = allowed;
+        assert!(MonteCarloRun::new(&em, &s).is_ok());
+        s.monte_carlo.trials = 1_000_000;
+        assert!(MonteCarloRun::new(&example(BjtModel::Hand), &s).is_ok());
+    }
+
+    #[test]
     fn transistor_stress_bounds_the_operating_points() {
         let c = example(BjtModel::EbersMoll);
         let q = c.transistor_stress();
