@@ -188,7 +188,11 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let bom = crate::finite::keep("bom", bom, &mut fail);
     let search = match (&record.targets, &record.search) {
         (Some(t), Some(_)) => {
-            crate::overview::standard_values(record, t, synthesis.as_ref()).map_err(|e| fail("search", e)).ok()
+            // The page's job, stepped to the end within the search's evaluation budget.
+            crate::overview::standard_values_job(record, t, synthesis.as_ref())
+                .and_then(|mut job| crate::search::run_job(&mut job, crate::search::MAX_EVALUATIONS))
+                .map_err(|e| fail("search", e))
+                .ok()
         }
         _ => None,
     };

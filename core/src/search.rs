@@ -58,6 +58,34 @@
 //! value to 1e-9 yet is not quasi-convex could in principle slip through; for linear networks the
 //! argument above is exact.) [`SearchReport::exhaustive_combinations`] counts the fallbacks.
 //!
+//! # Monotone plan (topologies solved numerically)
+//! A topology whose thresholds are not bilinear in any resistor (the Ebers–Moll transistor pair)
+//! states instead, through [`Circuit::monotone_structure`], a resistor R_m both thresholds are
+//! monotone in (the pair's RE) and a resistor R_o that only loads the output (the pair's RC2:
+//! VT− does not depend on it, VT+ does not rise as it rises, and a design without a fold at its
+//! smallest value has none at a larger one). The topology checks these numerically and says so
+//! in its documentation; nothing is assumed of the other resistors (the pair's switching is not
+//! monotone in RC1: whether it switches at all is not an interval of RC1 or RE). Then every
+//! combination of the *other* resistors (a row) is handled as follows, and the result equals
+//! exhaustive enumeration (`tests/tests/search_bjt_bruteforce.rs`):
+//!
+//! 1. **A bound over R_o from one evaluation.** At R_m's value and R_o's smallest value, VT+ is
+//!    the largest VT+ of any R_o and VT− is everyone's, so with e+ and e− from that evaluation,
+//!    every value of R_o has f ≥ b = max(|e−|, max(0, −e+)) (held to 1e-9 of the thresholds for
+//!    rounding). Only when b is within the entry bar is R_o walked upward (each value evaluated
+//!    and offered), stopping once the bound of what is left, from the last value, is out of reach;
+//!    a value that does not switch is walked over, not taken as the end.
+//! 2. **A walk over R_m.** b is quasi-convex in R_m (|e−| and max(0, −e+) are, each of a monotone
+//!    threshold; so their maximum), so from a start value the row is walked both ways, each way
+//!    stopping at a value whose b is above the entry bar and above the value before it. Values
+//!    that do not switch are walked over. The start is where the previous row's b was least (rows
+//!    next to each other differ in one resistor by one series step), so a row usually costs a
+//!    handful of evaluations.
+//!
+//! Each evaluation counted is a real one and every listed combination was evaluated and offered
+//! like any other, so the distinct rule, the tie-break and the current budget apply unchanged. Cost
+//! on the dust-extractor demo (E6 over 1 k–1 M, five resistors): see `core/benches/search.rs`.
+//!
 //! With an optional current budget, a combination enters the list only if the network's quiescent
 //! current, as [`analyse`] reports it, is within the budget. The walk continues past values that
 //! fail the budget (a feasible value further out may still qualify), so the result stays optimal
@@ -429,6 +457,14 @@ struct Searcher<C: Circuit> {
     /// functions of the innermost enumerated resistor (see [`Searcher::fit_probe_models`]).
     probe_models: Option<[(Bilinear, Bilinear); 3]>,
     top: Vec<Entry>,
+    /// The monotone plan (see the module notes): indices in `values` of the monotone resistor
+    /// (also `solved`) and of the output load; `None`: the bilinear method.
+    plan: Option<(usize, usize)>,
+    /// Monotone plan: per grid index of the monotone resistor, this row's lower bound of the
+    /// objective over every output load (`Some(None)`: no switching at the smallest load).
+    row: Vec<Option<Option<f64>>>,
+    /// Monotone plan: grid index where the last row's bound was least; the next row starts there.
+    row_guess: usize,
 }
 
 /// A fresh evaluation (for the model check) or a cached objective.
@@ -526,6 +562,107 @@ impl<C: Circuit> Searcher<C> {
         [(t.vt_upper_v, low_state), (t.vt_lower_v, high_state)].iter().any(|&(vin, state)| {
             c.operating_point(vin, state).is_ok_and(|op| op.network_current_a.abs() > budget * (1.0 + 1e-12))
         })
+    }
+
+    /// Evaluates the circuit at the current `values` and offers it; `None` when it does not switch
+    /// or the evaluation fails.
+    fn eval_current(&mut self) -> Option<Thresholds> {
+        self.evaluations += 1;
+        let c = self.template.with_parameters(&self.values).ok()?;
+        let t = c.thresholds().ok()?;
+        if !(t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()) {
+            return None;
+        }
+        let f = self.obj.worst(&t);
+        self.offer(f, t, &c);
+        Some(t)
+    }
+
+    /// Monotone plan: a lower bound of the objective over every value of the output load, from the
+    /// thresholds at its smallest value (VT− unchanged by it, VT+ only falling), and the slack it
+    /// is held to (1e-9 of the thresholds, for rounding).
+    fn load_bound(&self, t: &Thresholds) -> (f64, f64) {
+        let (eu, el) = self.obj.errors(t.vt_upper_v, t.vt_lower_v);
+        let slack = 1e-9 * (t.vt_upper_v.abs() / self.obj.su).max(t.vt_lower_v.abs() / self.obj.sl) + 1e-15;
+        (el.abs().max((-eu).max(0.0)), slack)
+    }
+
+    /// Monotone plan, one point of a row: the monotone resistor at grid index `i`, the output load
+    /// at its smallest value, evaluated and offered; when the bound allows a value of the load to
+    /// enter the list, the load is walked upward (see the module notes). Returns the bound (`None`:
+    /// no switching at the smallest load, so at none).
+    fn monotone_point(&mut self, i: usize) -> Option<f64> {
+        if let Some(b) = self.row[i] {
+            return b;
+        }
+        let (monotone, load) = self.plan?;
+        self.values[monotone] = self.grid[i];
+        self.values[load] = self.grid[0];
+        let bound = self.eval_current().map(|t| {
+            let (b, slack) = self.load_bound(&t);
+            if b <= self.entry_bar() + slack {
+                // VT+ falls as the load rises and VT− stays: walk up until even the bound of what
+                // is left is out of reach. A failed value is walked over (not taken as the end).
+                for j in 1..self.grid.len() {
+                    self.values[load] = self.grid[j];
+                    if let Some(tj) = self.eval_current() {
+                        let (bj, sj) = self.load_bound(&tj);
+                        if bj > self.entry_bar() + sj {
+                            break;
+                        }
+                    }
+                }
+                self.values[load] = self.grid[0];
+            }
+            b
+        });
+        self.row[i] = Some(bound);
+        bound
+    }
+
+    /// Monotone plan, one row (every enumerated resistor fixed): the bound of [`Self::load_bound`]
+    /// is quasi-convex in the monotone resistor (each threshold monotone in it, so |e−| and
+    /// max(0, −e+) are, and so their maximum), so from a starting index the row is walked both ways
+    /// and each way stops at a value whose bound is above the entry bar and above the value
+    /// before it: every value further on is then worse still. Values that do not switch are
+    /// walked over.
+    fn monotone_row(&mut self) {
+        let m = self.grid.len();
+        self.row.iter_mut().for_each(|r| *r = None);
+        let start = self.row_guess.min(m - 1);
+        let mut best: Option<(f64, usize)> = None;
+        let note = |b: f64, i: usize, best: &mut Option<(f64, usize)>| {
+            if best.is_none_or(|(v, _)| b < v) {
+                *best = Some((b, i));
+            }
+        };
+        let mut prev: Option<f64> = None;
+        let mut at_start = None;
+        for i in start..m {
+            let Some(b) = self.monotone_point(i) else { continue };
+            note(b, i, &mut best);
+            if i == start {
+                at_start = Some(b);
+            }
+            let slack = 1e-9 * b.abs() + 1e-15;
+            if b > self.entry_bar() + slack && prev.is_some_and(|p| b > p + slack) {
+                break;
+            }
+            prev = Some(b);
+        }
+        let mut prev = at_start;
+        for i in (0..start).rev() {
+            let Some(b) = self.monotone_point(i) else { continue };
+            note(b, i, &mut best);
+            let slack = 1e-9 * b.abs() + 1e-15;
+            if b > self.entry_bar() + slack && prev.is_some_and(|p| b > p + slack) {
+                break;
+            }
+            prev = Some(b);
+        }
+        if let Some((_, i)) = best {
+            self.row_guess = i;
+        }
     }
 
     /// Scans every grid value of the solved resistor (the safe fallback).
@@ -717,6 +854,16 @@ pub struct Workload {
     pub max_evaluations: u64,
 }
 
+impl Workload {
+    /// Upper bound of the search's time, seconds, before it starts: [`Workload::max_evaluations`]
+    /// times the cost of one evaluation (`Circuit::seconds_per_evaluation`, or a cost the caller
+    /// measured). The search usually needs a small fraction of it; [`Progress::remaining_s`]
+    /// refines it as it runs.
+    pub fn bound_s(&self, seconds_per_evaluation: f64) -> f64 {
+        self.max_evaluations as f64 * seconds_per_evaluation
+    }
+}
+
 /// How far a [`SearchJob`] has come.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Progress {
@@ -818,11 +965,17 @@ impl<C: Circuit> SearchJob<C> {
         let params = circuit.parameters();
         let slots: Vec<usize> =
             params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor && !p.held_in_search).map(|(i, _)| i).collect();
-        let Some(&solved) = slots.last() else {
+        let Some(&last) = slots.last() else {
             return Err(DesignError::Parameter {
                 reason: "this circuit has no resistors for the search to choose".into(),
             });
         };
+        let is_resistor = |i: usize| params.get(i).is_some_and(|p| p.kind == ParameterKind::Resistor && !p.held_in_search);
+        let plan = circuit
+            .monotone_structure()
+            .filter(|p| p.monotone != p.output_load && is_resistor(p.monotone) && is_resistor(p.output_load))
+            .map(|p| (p.monotone, p.output_load));
+        let solved = plan.map_or(last, |(monotone, _)| monotone);
         let grid = settings.series.values_between(settings.r_min_ohm, settings.r_max_ohm);
         if grid.is_empty() {
             return Err(DesignError::invalid(
@@ -834,7 +987,11 @@ impl<C: Circuit> SearchJob<C> {
             ));
         }
         let m = grid.len();
-        let enumerated = slots.len() - 1;
+        let others: Vec<usize> = match plan {
+            Some((monotone, load)) => slots.iter().copied().filter(|&i| i != monotone && i != load).collect(),
+            None => slots[..slots.len() - 1].to_vec(),
+        };
+        let enumerated = others.len();
         let combinations = (0..enumerated)
             .try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
         let Some(combinations) = combinations else {
@@ -850,16 +1007,15 @@ impl<C: Circuit> SearchJob<C> {
             ));
         };
         let runs = if enumerated > 0 { combinations / m as u64 } else { 0 };
-        let workload = Workload {
-            resistors: slots.len(),
-            values_per_resistor: m,
-            combinations,
-            max_evaluations: 2 * combinations * m as u64 + 9 * runs,
+        let max_evaluations = match plan {
+            // Every value of the monotone resistor and of the output load, once each.
+            Some(_) => combinations.saturating_mul(m as u64 * m as u64),
+            None => 2 * combinations * m as u64 + 9 * runs,
         };
+        let workload = Workload { resistors: slots.len(), values_per_resistor: m, combinations, max_evaluations };
         let values: Vec<f64> = params.iter().map(|p| p.value).collect();
         let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
-        let inner = if enumerated > 0 { Some(slots[0]) } else { None };
-        let others: Vec<usize> = slots[..enumerated].to_vec();
+        let inner = if enumerated > 0 && plan.is_none() { Some(slots[0]) } else { None };
         let st = Searcher {
             template: circuit.clone(),
             checks: checks.clone(),
@@ -882,6 +1038,9 @@ impl<C: Circuit> SearchJob<C> {
             inner,
             probe_models: None,
             top: Vec::with_capacity(settings.top_n + 1),
+            plan,
+            row: vec![None; m],
+            row_guess: m / 2,
         };
         Ok(SearchJob {
             st,
@@ -955,7 +1114,9 @@ impl<C: Circuit> SearchJob<C> {
         for (k, &slot) in self.others.iter().enumerate() {
             st.values[slot] = st.grid[m - 1 - self.idx[k]];
         }
-        if self.idx.first() == Some(&0) {
+        if st.plan.is_some() {
+            st.monotone_row();
+        } else if self.idx.first() == Some(&0) {
             // A new run of the innermost enumerated resistor.
             if st.prune {
                 st.fit_probe_models();
@@ -963,7 +1124,9 @@ impl<C: Circuit> SearchJob<C> {
                 st.probe_models = None;
             }
         }
-        st.solve_combination();
+        if st.plan.is_none() {
+            st.solve_combination();
+        }
         st.combo += 1;
         if st.prune && st.model_failed {
             // A model failed a check: the thresholds are not bilinear in the solved resistor, so
@@ -1001,16 +1164,34 @@ pub fn search<C: Circuit>(
     checks: &CheckSettings,
 ) -> Result<SearchReport, DesignError> {
     let mut job = SearchJob::new(circuit, targets, settings, checks)?;
-    let p = job.step(MAX_EVALUATIONS + 1);
-    if !p.finished {
-        return Err(DesignError::NotConverged {
-            reason: format!(
-                "the search stopped after {} evaluations: this topology's thresholds are not bilinear in the solved resistor, so every combination needed a full scan; narrow the range or choose a coarser series",
-                p.evaluations
-            ),
-        });
+    run_job(&mut job, MAX_EVALUATIONS)
+}
+
+/// Evaluations per slice in [`run_job`].
+const RUN_SLICE: u64 = 10_000;
+
+/// Steps `job` to the end, as the page does, within a budget of `max_evaluations` evaluations: the
+/// loop behind [`search`] and the command line (`evaluate`), so they give the page's answer or, when
+/// the budget is spent first, an error that says so (how far it came, and what to change). The page
+/// steps the same job to the end without a budget, with progress and Cancel.
+pub fn run_job<C: Circuit>(job: &mut SearchJob<C>, max_evaluations: u64) -> Result<SearchReport, DesignError> {
+    loop {
+        let p = job.step(RUN_SLICE.min(max_evaluations.saturating_sub(job.progress().evaluations)).max(1));
+        if p.finished {
+            return Ok(job.finish());
+        }
+        if p.evaluations >= max_evaluations {
+            return Err(DesignError::NotConverged {
+                reason: format!(
+                    "the standard-value search reached its budget of {max_evaluations} evaluations with {} of {} combinations done{} (about {} evaluations expected in all); narrow the resistance range or choose a coarser series, or run it on the page, which runs it to the end with progress and Cancel",
+                    p.combinations_done,
+                    p.combinations,
+                    if p.unpruned_pass { " in its unpruned pass" } else { "" },
+                    p.estimated_evaluations
+                ),
+            });
+        }
     }
-    Ok(job.finish())
 }
 
 fn report<C: Circuit>(
@@ -1235,6 +1416,22 @@ mod tests {
         assert_eq!(last.estimated_evaluations, last.evaluations);
         assert_eq!(last.remaining_s(3.0), Some(0.0));
         assert_eq!(job.finish(), whole);
+    }
+
+    #[test]
+    fn a_spent_budget_gives_an_error_that_says_so() {
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 };
+        let ck = CheckSettings::default();
+        let s = SearchSettings { series: ESeries::E96, ..SearchSettings::default() };
+        let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
+        let e = run_job(&mut job, 50).unwrap_err();
+        assert!(matches!(e, DesignError::NotConverged { .. }), "{e:?}");
+        assert!(e.to_string().contains("budget of 50 evaluations"), "{e}");
+        // With room, run_job ends where search does, and where a job stepped by hand ends.
+        let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
+        let whole = search(&three_resistor(), t, &s, &ck).unwrap();
+        assert_eq!(run_job(&mut job, MAX_EVALUATIONS).unwrap(), whole);
+        assert!(job.workload().bound_s(1e-6) >= whole.evaluations as f64 * 1e-6);
     }
 
     #[test]

@@ -208,6 +208,11 @@ impl MonteCarloResult {
     }
 }
 
+/// Longest Monte Carlo run allowed, by its time bound (trials × the circuit's
+/// [`Circuit::seconds_per_evaluation`]), seconds. Closed-form topologies reach the trial limit
+/// long before it; the Ebers–Moll transistor pair does not.
+pub const MONTE_CARLO_TIME_LIMIT_S: f64 = 30.0;
+
 /// One-shot Monte Carlo run with the settings' trial count, seed and spec window.
 pub fn monte_carlo<C: Circuit>(
     circuit: &C,
@@ -219,7 +224,22 @@ pub fn monte_carlo<C: Circuit>(
 
 impl<C: Circuit> MonteCarloRun<C> {
     /// Prepares a run: validates the circuit and settings and resolves the bands.
+    /// Refuses a run whose time bound (trials × [`Circuit::seconds_per_evaluation`]) is above
+    /// [`MONTE_CARLO_TIME_LIMIT_S`]: a circuit solved at transistor level allows fewer trials.
     pub fn new(circuit: &C, settings: &ToleranceSettings) -> Result<Self, DesignError> {
+        let trials = settings.monte_carlo.trials;
+        let per_trial_s = circuit.seconds_per_evaluation();
+        let bound_s = trials as f64 * per_trial_s;
+        if bound_s > MONTE_CARLO_TIME_LIMIT_S {
+            let allowed = (MONTE_CARLO_TIME_LIMIT_S / per_trial_s).floor();
+            return Err(DesignError::invalid(
+                "tolerance.monte_carlo.trials",
+                format!(
+                    "{trials} trials of this circuit could take up to {bound_s:.0} s ({:.2} ms a trial: it is solved at transistor level); at most {allowed:.0} are allowed (a {MONTE_CARLO_TIME_LIMIT_S:.0} s bound): lower the trials, or choose the hand model for a longer run",
+                    per_trial_s * 1e3
+                ),
+            ));
+        }
         Ok(Self::from_prepared(
             &Prepared::new(circuit, settings)?,
             settings,

@@ -223,6 +223,34 @@ pub trait Circuit: Clone {
     fn with_output_load(&self, _load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
         None
     }
+
+    /// For a topology whose thresholds are not bilinear in its resistors (a transistor model solved
+    /// numerically), the monotone structure the standard-value search may rely on instead
+    /// (`crate::search`, "Monotone plan"); `None` (the default): the bilinear method applies.
+    fn monotone_structure(&self) -> Option<MonotoneStructure> {
+        None
+    }
+
+    /// The time one [`Circuit::thresholds`] call takes, seconds: a bound measured natively (release
+    /// build, `cargo bench -p hysteron-core --bench search`) with headroom, for the time estimates
+    /// the long studies announce before they start (workload × this). Closed forms: the default,
+    /// 2 µs (they take well under a microsecond).
+    fn seconds_per_evaluation(&self) -> f64 {
+        2e-6
+    }
+}
+
+/// How a numerically solved topology's thresholds depend on two of its resistors, stated by the
+/// topology (and checked numerically there) for the standard-value search's monotone plan.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MonotoneStructure {
+    /// Index in [`Circuit::parameters`] of a resistor both thresholds are monotone in (each in
+    /// its own direction) wherever the circuit switches.
+    pub monotone: usize,
+    /// Index of a resistor that only loads the output: VT− does not depend on it (to rounding),
+    /// VT+ does not rise as it rises, and a design that does not switch at a value of it does not
+    /// switch at any larger value.
+    pub output_load: usize,
 }
 
 /// What one discrete transistor must withstand (upper bounds over every operating state).
@@ -628,6 +656,8 @@ macro_rules! topologies {
             fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.with_output_load(load).map(Topology::$variant), )+ }
             }
+            fn monotone_structure(&self) -> Option<MonotoneStructure> { match self { $( $(#[$attr])* Topology::$variant(c) => c.monotone_structure(), )+ } }
+            fn seconds_per_evaluation(&self) -> f64 { match self { $( $(#[$attr])* Topology::$variant(c) => c.seconds_per_evaluation(), )+ } }
         }
 
         #[allow(unused_doc_comments)]
