@@ -68,6 +68,12 @@ pub enum PartSymbol {
     },
     /// An NPN transistor: base at (0,3), collector at (4,0), emitter at (4,6).
     Npn,
+    /// A capacitor, four grid units between its pins like a resistor (the oscillator's and the
+    /// debouncer's timing capacitors).
+    Capacitor {
+        /// Capacitance, farads (drawn as its value).
+        capacitance_f: f64,
+    },
 }
 
 /// A pin of a placed part: where it is and which net it belongs to.
