@@ -170,7 +170,17 @@ async fn the_transistor_pair_temperature_laws_are_fields() {
     ] {
         s.type_into(field, text).await;
         s.js(&format!("document.querySelector('{field}').blur(); return 1;")).await;
-        s.wait_stored(&format!("Math.abs(r.circuit.transistor.{key} - {value}) < 1e-12")).await;
+        let probe = format!(
+            "{} const e = document.querySelector('{field}').closest('.field').querySelector('.field-error'); \
+             return Math.abs(r.circuit.transistor.{key} - {value}) < 1e-12 || JSON.stringify([r.circuit.transistor, e && e.textContent]);",
+            open_record_js()
+        );
+        let seen = browser::wait_until(&format!("{key} = {value} to be stored"), browser::WAIT, || async {
+            let v = s.js(&probe).await;
+            if v == serde_json::Value::Bool(true) { Ok(()) } else { Err(v.to_string()) }
+        })
+        .await;
+        let _: () = seen;
     }
     // A value outside the physical range is refused at the field, beside it.
     s.type_into("#field-bandgap_v", "50").await;

@@ -2,6 +2,7 @@
 
 use super::state::Notebook;
 use crate::download::{file_stem, save_text};
+use hysteron_core::bom::application::PartKind;
 use hysteron_core::bom::{Package, PACKAGE_RATING_BASIS};
 use hysteron_core::overview::settled;
 use leptos::prelude::*;
@@ -58,7 +59,7 @@ pub fn PartListSection() -> impl IntoView {
                                     <td>{r.max_power_w.map(|p| format!("{:.3} mW", p * 1e3)).unwrap_or_default()}</td>
                                     <td>{r.max_volts.map(|v| format!("{v:.2} V")).unwrap_or_default()}</td>
                                     <td class="bom-rating">{format!("{} W", r.package_rating_w)}</td>
-                                    <td class="bom-min-rating">{r.suggested_rating_w.map(|p| format!("{p} W {}", match r.rating_sufficient { Some(false) => "✗ too low", _ => "✓" })).unwrap_or_default()}</td>
+                                    <td class="bom-min-rating" title=match r.rating_sufficient { Some(false) => "above the package's rating: use a larger package", _ => "within the package's rating" }>{r.suggested_rating_w.map(|p| format!("{p} W {}", match r.rating_sufficient { Some(false) => "✗", _ => "✓" })).unwrap_or_default()}</td>
                                 </tr>
                                 {(!notes.is_empty()).then(|| view! { <tr class="bom-notes"><td class="notes" colspan="7">{notes}</td></tr> })}
                             }}).collect_view()}
@@ -72,7 +73,7 @@ pub fn PartListSection() -> impl IntoView {
                                     <td>{p.value_rkm.clone().unwrap_or_default()}</td>
                                     <td>{p.max_power_w.map(|w| format!("{:.3} mW", w * 1e3)).unwrap_or_default()}</td>
                                     <td>{format!("{:.2} V", p.max_volts)}</td>
-                                    <td></td>
+                                    <td class="bom-rating">{(p.kind == PartKind::Resistor).then(|| format!("{} W", b.settings.package.power_rating_w()))}</td>
                                     <td class="bom-min-rating">{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td>
                                 </tr>
                                 <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
