@@ -182,8 +182,9 @@ async fn the_transistor_pair_temperature_laws_are_fields() {
         .await;
         let _: () = seen;
     }
-    // A value outside the physical range is refused at the field, beside it.
-    s.type_into("#field-bandgap_v", "50").await;
+    // A value outside the physical range (EG 0.1 V to 5 V) is refused at the field, beside it;
+    // every prefix typed ("0", "0.", "0.0") is out of range too, so the design keeps 1.12 V.
+    s.type_into("#field-bandgap_v", "0.01").await;
     s.js("document.querySelector('#field-bandgap_v').blur(); return 1;").await;
     s.wait_js(
         "a message beside the EG field",
