@@ -155,11 +155,33 @@ mod redraw {
         let _ = call(&list, "addEventListener", &["change".into(), on_change]);
     }
 
+    thread_local! {
+        static LAST_RATIO: std::cell::Cell<f64> = const { std::cell::Cell::new(0.0) };
+    }
+
+    /// The media query does not report every change of the ratio (Chromium's device emulation
+    /// changes it without an event): the ratio is also read four times a second, and a change
+    /// redraws the plots (one property read per tick, no layout unless it changed).
+    fn poll_ratio() {
+        let Some(w) = web_sys::window() else { return };
+        LAST_RATIO.with(|r| r.set(w.device_pixel_ratio()));
+        let tick = Closure::<dyn FnMut()>::new(|| {
+            let Some(w) = web_sys::window() else { return };
+            let now = w.device_pixel_ratio();
+            if LAST_RATIO.with(|r| r.replace(now)) != now {
+                redraw_stale();
+            }
+        });
+        let _ = w.set_interval_with_callback_and_timeout_and_arguments_0(tick.as_ref().unchecked_ref(), 250);
+        tick.forget();
+    }
+
     fn observer() -> Option<ResizeObserver> {
         OBSERVER.with(|o| {
             let mut o = o.borrow_mut();
             if o.is_none() {
                 watch_ratio();
+                poll_ratio();
                 let cb = Closure::<dyn FnMut(js_sys::Array)>::new(|entries: js_sys::Array| {
                     for e in entries.iter() {
                         let Ok(target) = js_sys::Reflect::get(&e, &"target".into()) else { continue };

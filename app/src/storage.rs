@@ -37,7 +37,7 @@ pub struct StoredDesign {
     pub record: serde_json::Value,
     /// Results at save time (absent when the design could not be computed).
     pub snapshot: Option<Snapshot>,
-    /// Study results computed on request (today the Monte Carlo run), each
+    /// Study results computed on request (Monte Carlo, signal test, standard-value search), each
     /// with the inputs it was computed from ([`Studies`]). Kept as raw JSON: results that cannot
     /// be read are dropped on load, never the design. Absent in designs stored before studies were
     /// kept; a new field with a default, so the envelope version stays 1.
@@ -65,12 +65,28 @@ pub struct Studies {
     /// leniently in [`Studies::from_value`], and one more [`crate::view::state::Study`].)
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub monte_carlo: Option<Kept<hysteron_core::tolerance::monte_carlo::MonteCarloResult>>,
+    /// The last signal test: its compact report only (counts, Rice's check, the sweep), never the
+    /// samples, which are made again by running it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signal: Option<Kept<hysteron_core::signal::report::SignalReport>>,
+    /// The last standard-value search, with the current budget it had to meet.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub search: Option<Kept<KeptSearch>>,
+}
+
+/// A standard-value search kept with its design.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct KeptSearch {
+    /// What the search found.
+    pub report: hysteron_core::search::SearchReport,
+    /// The current budget the listed sets meet, amperes (`None`: no budget).
+    pub budget_a: Option<f64>,
 }
 
 impl Studies {
     /// True when no study result is kept.
     pub fn is_empty(&self) -> bool {
-        self.monte_carlo.is_none()
+        self.monte_carlo.is_none() && self.signal.is_none() && self.search.is_none()
     }
 
     fn to_value(&self) -> serde_json::Value {
@@ -85,7 +101,11 @@ impl Studies {
     pub fn from_value(v: &serde_json::Value) -> Studies {
         let Some(o) = v.as_object() else { return Studies::default() };
         let field = |k: &str| o.get(k).cloned().unwrap_or(serde_json::Value::Null);
-        Studies { monte_carlo: serde_json::from_value(field("monte_carlo")).ok().flatten() }
+        Studies {
+            monte_carlo: serde_json::from_value(field("monte_carlo")).ok().flatten(),
+            signal: serde_json::from_value(field("signal")).ok().flatten(),
+            search: serde_json::from_value(field("search")).ok().flatten(),
+        }
     }
 }
 

@@ -246,3 +246,72 @@ async fn plots_are_drawn_at_screen_size_times_pixel_ratio() {
     screenshot(&s, "lathe-tachometer-studies-390").await;
     s.close().await;
 }
+
+#[tokio::test(flavor = "multi_thread")]
+async fn plots_follow_a_change_of_the_pixel_ratio_alone() {
+    // Only the device scale factor changes (the window keeps its CSS size, so no resize happens):
+    // every plot shown must redraw its backing store at CSS size × the new ratio.
+    let s = browser::start().await;
+    viewport(&s, 1400, 1000, 1.0).await;
+    s.add_starter("demo:lathe-tachometer").await;
+    // A second plot kind with its own redraw: the Monte Carlo histograms.
+    s.wait_for("#mc-run").await.click().await.expect("run Monte Carlo");
+    s.wait_js("the histograms to be shown", "const c = document.querySelector('#hist-vt-upper'); return c && c.clientWidth > 0;").await;
+    plots_fit(&s, "ratio 1").await;
+    let size = "return ['#transfer-plot', '#hist-vt-upper'].map(q => { const c = document.querySelector(q); return [c.width, c.height, c.clientWidth, c.clientHeight]; });";
+    let at_one = s.js(size).await;
+    for dpr in [2.0, 1.5, 3.0, 1.0] {
+        viewport(&s, 1400, 1000, dpr).await;
+        plots_fit(&s, &format!("ratio {dpr} at the same window size")).await;
+        let now = s.js(size).await;
+        for k in 0..2 {
+            assert_eq!(now[k][2], at_one[k][2], "plot {k}: the CSS width changed with the ratio alone");
+            let css_w = now[k][2].as_f64().unwrap_or(0.0);
+            assert_eq!(now[k][0].as_f64(), Some((css_w * dpr).round()), "plot {k} at ratio {dpr}: {}", now[k]);
+        }
+    }
+    s.close().await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn part_list_shows_every_column_at_1400_px_and_fits_at_390_px() {
+    let s = browser::start().await;
+    for demo in ["rain-gauge", "beehive-clock", "lathe-tachometer"] {
+        viewport(&s, 1400, 1000, 1.0).await;
+        s.add_starter(&format!("demo:{demo}")).await;
+        open_studies(&s).await;
+        s.js("document.querySelector('#bom').scrollIntoView(); return 1;").await;
+        // No column scrolls out of view: the table needs no sideways scrolling in its box, and
+        // every heading lies inside the card.
+        let seen = s
+            .js("const t = document.querySelector('#bom'); const card = t.closest('.card').getBoundingClientRect(); \
+                 const out = [...t.querySelectorAll('th')].filter(th => { const r = th.getBoundingClientRect(); return r.right > card.right + 0.5 || r.width === 0; }).map(th => th.textContent); \
+                 return { scroll: t.scrollWidth, client: t.clientWidth, out };")
+            .await;
+        assert!(
+            seen["scroll"].as_f64() <= seen["client"].as_f64().map(|c| c + 1.0) && seen["out"].as_array().is_some_and(|o| o.is_empty()),
+            "{demo}: at 1400 px the part list scrolls or hides columns: {seen}"
+        );
+        // The oscillator's and debouncer's lines are no taller than a resistor's line.
+        let heights = s
+            .js("const h = q => [...document.querySelectorAll(q)].map(r => r.getBoundingClientRect().height); \
+                 return { r: h('#bom tr.bom-line'), a: h('#bom tr.bom-app-line') };")
+            .await;
+        let max = |k: &str| heights[k].as_array().map(|a| a.iter().filter_map(|x| x.as_f64()).fold(0.0, f64::max)).unwrap_or(0.0);
+        let min_r = heights["r"].as_array().map(|a| a.iter().filter_map(|x| x.as_f64()).fold(f64::INFINITY, f64::min)).unwrap_or(0.0);
+        assert!(max("a") <= 1.2 * min_r, "{demo}: application lines are tall ({heights})");
+        screenshot(&s, &format!("{demo}-partlist-1400")).await;
+
+        // At phone width the page is no wider than the screen.
+        viewport(&s, 390, 844, 2.0).await;
+        let seen = s.js(OVERFLOW_JS).await;
+        assert!(
+            seen["bad"].as_array().is_some_and(|b| b.is_empty()) && seen["scroll"].as_f64() <= seen["width"].as_f64(),
+            "{demo}: at 390 px: {seen}"
+        );
+        s.js("document.querySelector('#bom').scrollIntoView(); return 1;").await;
+        screenshot(&s, &format!("{demo}-partlist-390")).await;
+        close_studies(&s).await;
+    }
+    s.close().await;
+}

@@ -2,6 +2,7 @@
 
 use super::state::Notebook;
 use crate::download::{file_stem, save_text};
+use hysteron_core::bom::application::PartKind;
 use hysteron_core::bom::{Package, PACKAGE_RATING_BASIS};
 use hysteron_core::overview::settled;
 use leptos::prelude::*;
@@ -39,60 +40,84 @@ pub fn PartListSection() -> impl IntoView {
             </div>
             {move || match list.get() {
                 Err(e) => view! { <p class="error" id="bom-error">{e}</p> }.into_any(),
-                Ok(b) => view! {
-                    <table class="grid" id="bom">
-                        <thead><tr><th>"Part"</th><th>"Value"</th><th>"Code"</th><th>"Series"</th><th>"Tol."</th><th>"Package"</th><th>"Worst power"</th><th title=PACKAGE_RATING_BASIS>"Rating*"</th><th>"Min. rating"</th><th>"Max V"</th><th>"Notes"</th></tr></thead>
+                Ok(b) => {
+                    // Series, tolerance and package are the same for every resistor: said once above
+                    // the table, so the columns left fit beside the design view at 1400 px.
+                    let common = format!("Resistors: {} values, {} % tolerance, {} package.", b.settings.series, b.settings.tolerance_pct, b.settings.package.label());
+                    view! {
+                    <p class="note" id="bom-common">{common}</p>
+                    <table class="grid bom" id="bom">
+                        <thead><tr><th>"Part"</th><th>"Value"</th><th>"Code"</th><th>"Worst power"</th><th>"Max V"</th><th title=PACKAGE_RATING_BASIS>"Rating*"</th><th>"Min. rating"</th></tr></thead>
                         <tbody>
-                            {b.resistors.iter().map(|r| view! {
-                                <tr class="bom-line" data-designator=r.designator.clone() data-value=r.value_ohm.to_string()>
+                            {b.resistors.iter().map(|r| {
+                                let notes = r.notes.join("; ");
+                                view! {
+                                <tr class="bom-line" class:has-notes=!notes.is_empty() data-designator=r.designator.clone() data-value=r.value_ohm.to_string()>
                                     <td>{r.designator.clone()}</td>
                                     <td>{r.value_text.clone()}</td>
                                     <td>{r.value_rkm.clone()}</td>
-                                    <td>{r.series.to_string()}</td>
-                                    <td>{format!("{} %", r.tolerance_pct)}</td>
-                                    <td>{r.package.label()}</td>
                                     <td>{r.max_power_w.map(|p| format!("{:.3} mW", p * 1e3)).unwrap_or_default()}</td>
-                                    <td class="bom-rating">{format!("{} W", r.package_rating_w)}</td>
-                                    <td class="bom-min-rating">{r.suggested_rating_w.map(|p| format!("{p} W {}", match r.rating_sufficient { Some(false) => "✗ too low", _ => "✓" })).unwrap_or_default()}</td>
                                     <td>{r.max_volts.map(|v| format!("{v:.2} V")).unwrap_or_default()}</td>
-                                    <td class="notes">{r.notes.join("; ")}</td>
+                                    <td class="bom-rating">{format!("{} W", r.package_rating_w)}</td>
+                                    <td class="bom-min-rating" title=match r.rating_sufficient { Some(false) => "above the package's rating: use a larger package", _ => "within the package's rating" }>{r.suggested_rating_w.map(|p| format!("{p} W {}", match r.rating_sufficient { Some(false) => "✗", _ => "✓" })).unwrap_or_default()}</td>
                                 </tr>
-                            }).collect_view()}
-                            {b.application.iter().map(|p| view! {
-                                <tr class="bom-app-line" data-designator=p.designator.clone() data-value=p.value.to_string()>
+                                {(!notes.is_empty()).then(|| view! { <tr class="bom-notes"><td class="notes" colspan="7">{notes}</td></tr> })}
+                            }}).collect_view()}
+                            {b.application.iter().map(|p| {
+                                // The role of an oscillator or debouncer part, then its findings, on a line below.
+                                let about = std::iter::once(format!("{} ({} values)", p.label, p.series)).chain(p.notes.iter().cloned()).collect::<Vec<_>>().join("; ");
+                                view! {
+                                <tr class="bom-app-line has-notes" data-designator=p.designator.clone() data-value=p.value.to_string()>
                                     <td>{p.designator.clone()}</td>
                                     <td>{p.value_text.clone()}</td>
                                     <td>{p.value_rkm.clone().unwrap_or_default()}</td>
-                                    <td>{p.series.to_string()}</td>
-                                    <td></td>
-                                    <td>{p.label.clone()}</td>
                                     <td>{p.max_power_w.map(|w| format!("{:.3} mW", w * 1e3)).unwrap_or_default()}</td>
-                                    <td></td>
-                                    <td>{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td>
                                     <td>{format!("{:.2} V", p.max_volts)}</td>
-                                    <td class="notes">{p.notes.join("; ")}</td>
+                                    <td class="bom-rating">{(p.kind == PartKind::Resistor).then(|| format!("{} W", b.settings.package.power_rating_w()))}</td>
+                                    <td class="bom-min-rating">{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td>
                                 </tr>
-                            }).collect_view()}
-                            {b.regulators.iter().map(|g| view! {
-                                <tr class="bom-regulator" data-designator=g.designator.clone() data-value=g.voltage_v.to_string()>
+                                <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
+                            }}).collect_view()}
+                            {b.regulators.iter().map(|g| {
+                                let about = std::iter::once(g.description.clone()).chain(g.notes.iter().cloned()).collect::<Vec<_>>().join("; ");
+                                view! {
+                                <tr class="bom-regulator has-notes" data-designator=g.designator.clone() data-value=g.voltage_v.to_string()>
                                     <td>{g.designator.clone()}</td>
-                                    <td colspan="5">{g.description.clone()}</td>
-                                    <td>{format!("{:.3} mW", g.max_power_w * 1e3)}</td>
+                                    <td>{format!("{:.3} V", g.voltage_v)}</td>
                                     <td></td>
-                                    <td>{g.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td>
+                                    <td>{format!("{:.3} mW", g.max_power_w * 1e3)}</td>
                                     <td>{format!("{:.2} V", g.voltage_v)}</td>
-                                    <td class="notes">{g.notes.join("; ")}</td>
+                                    <td></td>
+                                    <td class="bom-min-rating">{g.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td>
                                 </tr>
-                            }).collect_view()}
+                                <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
+                            }}).collect_view()}
+                            {b.input_network.iter().map(|p| {
+                                let about = std::iter::once(format!("input network: {}", p.label)).chain(p.notes.iter().cloned()).collect::<Vec<_>>().join("; ");
+                                let min_rating = p.suggested_power_w.map(|w| format!("{w} W")).into_iter()
+                                    .chain(p.suggested_voltage_v.map(|v| format!("{v} V"))).collect::<Vec<_>>().join(", ");
+                                view! {
+                                <tr class="bom-network has-notes" data-designator=p.designator.clone() data-value=p.value.to_string()>
+                                    <td>{p.designator.clone()}</td>
+                                    <td>{p.value_text.clone()}</td>
+                                    <td></td>
+                                    <td>{format!("{:.3} mW", p.dissipation_w * 1e3)}</td>
+                                    <td>{format!("{:.2} V", p.max_volts)}</td>
+                                    <td></td>
+                                    <td class="bom-min-rating">{min_rating}</td>
+                                </tr>
+                                <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
+                            }}).collect_view()}
                             <tr class="bom-device">
                                 <td>{b.device.designator.clone()}</td>
-                                <td colspan="10">{b.device.description.clone()}
+                                <td colspan="6">{b.device.description.clone()}
                                     {(!b.device.notes.is_empty()).then(|| format!(" — {}", b.device.notes.join("; ")))}</td>
                             </tr>
                         </tbody>
                     </table>
-                    <p class="note">{format!("* Rating: {PACKAGE_RATING_BASIS}. Min. rating: {}× the worst dissipation (common practice).", b.settings.power_derating_factor)}</p>
-                }.into_any(),
+                    <p class="note">{format!("* Rating: {PACKAGE_RATING_BASIS}. Min. rating: {}× the worst dissipation (common practice); for a capacitor, its voltage rating, at least twice the largest voltage it sees.", b.settings.power_derating_factor)}</p>
+                    }.into_any()
+                }
             }}
         </section>
     }

@@ -23,11 +23,15 @@ pub fn PartsSection() -> impl IntoView {
     let settings = Signal::derive(move || nb.with_current(|r| r.search.clone().unwrap_or_default()).unwrap_or_default());
     let exact = RwSignal::new(None::<Result<Synthesis, String>>);
     let search = super::search::SearchState::new();
-    // A new design or new targets make old answers stale.
+    // New targets make the exact answer stale; another design stops a running search. A search
+    // result is kept with its design and marked out of date when the targets change (never cleared).
     Effect::new(move |_| {
         nb.current.track();
         let _ = nb.with_current(|r| r.targets);
         exact.set(None);
+    });
+    Effect::new(move |_| {
+        nb.current.track();
         search.reset();
     });
     let run = move |_| {

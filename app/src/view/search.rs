@@ -3,7 +3,8 @@
 //! each alternative with the current it draws and the budget it had to meet. All arithmetic is
 //! `core`'s (`overview::standard_values_job`, `search::SearchJob`); this file asks and shows.
 
-use super::state::Notebook;
+use super::state::{study_inputs, Notebook, Study};
+use crate::storage::{Kept, KeptSearch};
 use crate::tick::{later, now_ms};
 use hysteron_core::analysis::Targets;
 use hysteron_core::notation::{format_with_unit, Unit};
@@ -54,7 +55,12 @@ pub struct SearchState {
     remaining_s: RwSignal<Option<f64>>,
     started_ms: RwSignal<f64>,
     elapsed_ms: RwSignal<Option<f64>>,
+    /// The error of the last start (invalid targets or settings); a result found is kept with the
+    /// design instead ([`crate::storage::Studies::search`]).
     found: RwSignal<Option<Result<SearchReport, String>>>,
+    /// The design the running search belongs to and its inputs ([`study_inputs`]) when it started.
+    keep: StoredValue<Option<(String, String)>>,
+    nb: Notebook,
 }
 
 impl SearchState {
@@ -70,10 +76,13 @@ impl SearchState {
             started_ms: RwSignal::new(0.0),
             elapsed_ms: RwSignal::new(None),
             found: RwSignal::new(None),
+            keep: StoredValue::new(None),
+            nb: expect_context::<Notebook>(),
         }
     }
 
-    /// Forgets any result and stops a running search (a new design or new targets).
+    /// Stops a running search and forgets its error (another design opened). A result found
+    /// stays kept with its design.
     pub fn reset(self) {
         self.generation.update(|g| *g += 1);
         self.job.set_value(None);
@@ -89,6 +98,7 @@ impl SearchState {
     pub fn start(self, record: &DesignRecord, targets: &Targets, synthesised: Option<&Synthesis>) {
         self.reset();
         self.budget_a.set(search_settings(record, targets).current_budget_a);
+        self.keep.set_value(self.nb.current.get_untracked().map(|id| (id, study_inputs(Study::Search, record))));
         match standard_values_job(record, targets, synthesised) {
             Err(e) => self.found.set(Some(Err(e.to_string()))),
             Ok(job) => {
@@ -141,10 +151,19 @@ fn step(st: SearchState, generation: u64) {
     st.remaining_s.set(p.remaining_s(elapsed_s));
     match done {
         Some(report) => {
-            st.elapsed_ms.set(Some(elapsed_s * 1e3));
-            st.found.set(Some(Ok(report)));
+            let elapsed_ms = elapsed_s * 1e3;
+            st.elapsed_ms.set(Some(elapsed_ms));
             st.progress.set(None);
             st.job.set_value(None);
+            // Kept with the design the search started on (it survives a reload and a change of
+            // the targets, then marked out of date).
+            let budget_a = st.budget_a.get_untracked();
+            match st.keep.try_update_value(|k| k.take()).flatten() {
+                Some((id, inputs)) => st.nb.keep_study(&id, move |s| {
+                    s.search = Some(Kept { inputs, result: KeptSearch { report, budget_a }, elapsed_ms })
+                }),
+                None => st.found.set(Some(Ok(report))),
+            }
         }
         None => later(move || step(st, generation)),
     }
@@ -179,16 +198,23 @@ pub fn SearchResults(state: SearchState) -> impl IntoView {
             }
         })
     };
+    // The search kept with the open design, and whether its inputs are still the design's.
+    let kept = Memo::new(move |_| nb.study(Study::Search, |s| &s.search));
+    let error = move || st.found.get().and_then(|r| r.err()).map(|e| view! { <p class="error" id="search-error" role="alert">{e}</p> });
     let results = move || {
-        st.found.get().map(|res| match res {
-            Err(e) => view! { <p class="error" id="search-error" role="alert">{e}</p> }.into_any(),
-            Ok(rep) => {
+        // An error hides every list; a result not kept (no stored design) shows as found.
+        let shown = match st.found.get() {
+            Some(Err(_)) => None,
+            Some(Ok(rep)) => Some((rep, st.budget_a.get_untracked(), st.elapsed_ms.get_untracked().unwrap_or(0.0), true)),
+            None => kept.get().map(|k| (k.result.report, k.result.budget_a, k.elapsed_ms, k.current)),
+        };
+        shown.map(|(rep, budget, elapsed_ms, current)| {
+            {
                 let head: Vec<String> = rep
                     .candidates
                     .first()
                     .map(|c| c.parts.iter().map(|p| p.designator.clone().unwrap_or_else(|| p.id.clone())).collect())
                     .unwrap_or_default();
-                let budget = st.budget_a.get_untracked();
                 let budget_note = match budget {
                     Some(b) => format!("; only sets drawing at most {} listed", amps(b)),
                     None => String::new(),
@@ -204,9 +230,13 @@ pub fn SearchResults(state: SearchState) -> impl IntoView {
                     view! { <p class="error" id="search-none" role="alert">"no combination in this range meets the current budget: raise the budget or the largest resistor"</p> }
                 });
                 view! {
-                    <p class="note" id="search-summary">
-                        {format!("{} combinations of {} checked; {solved} solved for directly{}", rep.combinations, rep.series, budget_note)}
-                        {move || st.elapsed_ms.get().map(|ms| format!(" ({ms:.1} ms)"))}
+                    {(!current).then(|| view! {
+                        <p class="stale" id="search-stale" role="status"><strong>"Out of date — search again."</strong>
+                            " The targets, the search settings or the device changed since this search; the sets below meet the targets as they were."</p>
+                    })}
+                    <div class="search-result" class:out-of-date=!current>
+                    <p class="note" id="search-summary" data-current=current.to_string()>
+                        {format!("{} combinations of {} checked; {solved} solved for directly{} ({elapsed_ms:.1} ms)", rep.combinations, rep.series, budget_note)}
                     </p>
                     {empty}
                     <table class="grid" id="alternatives">
@@ -235,10 +265,11 @@ pub fn SearchResults(state: SearchState) -> impl IntoView {
                             }).collect_view()}
                         </tbody>
                     </table>
+                    </div>
                 }
                 .into_any()
             }
         })
     };
-    view! { {bound} {running} {results} }
+    view! { {bound} {running} {error} {results} }
 }

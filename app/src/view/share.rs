@@ -6,7 +6,7 @@ use super::state::Notebook;
 use crate::download::{file_stem, save_text};
 use crate::plot;
 use hysteron_core::record::DesignRecord;
-use hysteron_core::schematic::{render_svg_titled, SymbolStyle};
+use hysteron_core::schematic::{render_design_svg, SymbolStyle};
 use hysteron_core::share::encode_link;
 use leptos::prelude::*;
 use wasm_bindgen::JsCast;
@@ -14,7 +14,7 @@ use wasm_bindgen::JsCast;
 /// The schematic of a record as a `data:` URL for an `<img>` (an image never runs scripts, and the
 /// SVG escapes every text it contains).
 pub fn schematic_url(record: &DesignRecord, style: SymbolStyle) -> String {
-    let svg = render_svg_titled(&record.circuit, style, &record.name);
+    let svg = render_design_svg(record, style, true);
     format!("data:image/svg+xml;charset=utf-8,{}", String::from(js_sys::encode_uri_component(&svg)))
 }
 
@@ -61,7 +61,7 @@ pub fn ShareSection() -> impl IntoView {
         }
     };
     let save_svg = move |_| {
-        if let Some(svg) = nb.with_current_untracked(|r| render_svg_titled(&r.circuit, style.get_untracked(), &r.name)) {
+        if let Some(svg) = nb.with_current_untracked(|r| render_design_svg(r, style.get_untracked(), true)) {
             let _ = save_text(&format!("{}-schematic.svg", stem()), "image/svg+xml", &svg);
         }
     };

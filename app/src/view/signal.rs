@@ -2,7 +2,8 @@
 //! design and the no-hysteresis baseline over it, count false edges, sweep the noise, and look at
 //! the waveforms with zoom and pan. All simulation is `core::signal`'s.
 
-use super::state::Notebook;
+use super::state::{study_inputs, Notebook, Study};
+use crate::storage::Kept;
 use crate::fields::QuantityField;
 use crate::plot::{self, colours, Trace};
 use hysteron_core::signal::csv::{Capture, CsvOptions};
@@ -194,7 +195,6 @@ pub fn SignalSection() -> impl IntoView {
         })
     };
     let view_window = RwSignal::new((0.0_f64, 0.0_f64));
-    let elapsed = RwSignal::new(None::<(usize, f64)>);
     let progress = RwSignal::new(None::<crate::jobs::JobStatus>);
     let job = StoredValue::new_local(None::<crate::jobs::JobHandle>);
     let components = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.components)).unwrap_or_default());
@@ -212,8 +212,13 @@ pub fn SignalSection() -> impl IntoView {
     let add_component = move |c: Component| edit("", Box::new(move |s| s.definition.components.push(c.clone())));
     let add_noise = move |n: NoiseSource| edit("", Box::new(move |s| s.definition.noise.push(n.clone())));
 
+    // The last run's report kept with the design (it survives a reload), and whether the design
+    // still gives the inputs it was computed from.
+    let kept = Memo::new(move |_| nb.study(Study::Signal, |s| &s.signal));
     let simulate = move || {
         let Some(record) = nb.with_current_untracked(|r| r.clone()) else { return };
+        let Some(id) = nb.current.get_untracked() else { return };
+        let inputs = study_inputs(Study::Signal, &record);
         let Some(s) = record.signal.clone() else { return };
         let imported = matches!(s.source, SignalSource::ImportedCapture { .. });
         let cap = capture.get_untracked();
@@ -252,7 +257,10 @@ pub fn SignalSection() -> impl IntoView {
                     let n = r.signal_v.len();
                     let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
                     view_window.set((a, b));
-                    elapsed.set(Some((r.report.samples, crate::tick::now_ms() - t0)));
+                    let elapsed_ms = crate::tick::now_ms() - t0;
+                    // The report (not the samples) is kept with the design the run started on.
+                    let result = r.report.clone();
+                    nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result, elapsed_ms }));
                 }
                 run.set(Some(result));
             },
@@ -406,14 +414,20 @@ pub fn SignalSection() -> impl IntoView {
                     <super::progress::JobProgress id="signal" status=progress.into() on_cancel=cancel />
                 </div>
             })}
-            {move || run.get().map(|r| match r {
-                Err(e) => view! { <p class="error" id="signal-error" role="alert">{e}</p> }.into_any(),
-                Ok(r) => {
-                    let rep = &r.report;
+            {move || run.get().and_then(|r| r.err()).map(|e| view! { <p class="error" id="signal-error" role="alert">{e}</p> })}
+            {move || kept.get().map(|k| {
+                let (rep, elapsed_ms, current) = (k.result, k.elapsed_ms, k.current);
+                {
+                    let rep = &rep;
                     let fe = |c: &Option<hysteron_core::signal::trigger::EdgeComparison>| c.map(|c| c.false_edges as f64);
                     let d_false = fe(&rep.design.comparison);
                     let b_false = fe(&rep.baseline.comparison);
                     view! {
+                        {(!current).then(|| view! {
+                            <p class="stale" id="signal-stale" role="status"><strong>"Out of date — run again."</strong>
+                                " The circuit or the signal changed since this test; the figures below are from the design as it was."</p>
+                        })}
+                        <div class="signal-result" class:out-of-date=!current>
                         <table class="grid" id="signal-results">
                             <thead><tr><th></th><th>"this design"</th><th>"plain comparator"</th></tr></thead>
                             <tbody>
@@ -445,7 +459,9 @@ pub fn SignalSection() -> impl IntoView {
                                 sw.baseline_fails_at_rms_v.map(|v| format!("{:.2} mV RMS", v * 1e3)).unwrap_or_else(|| "no level swept".into()))}</p>
                         })}
                         {rep.notes.iter().map(|n| view! { <p class="note">{n.clone()}</p> }).collect_view()}
-                        {move || elapsed.get().map(|(n, ms)| view! { <p class="note" id="signal-time" data-ms=ms.to_string()>{format!("{n} samples simulated in {ms:.1} ms.")}</p> })}
+                        <p class="note" id="signal-time" data-ms=elapsed_ms.to_string() data-current=current.to_string()>{format!("{} samples simulated in {elapsed_ms:.1} ms.", rep.samples)}</p>
+                        {move || run.with(|r| r.is_none()).then(|| view! { <p class="note" id="signal-no-waveforms">"The waveforms are not kept with the design: run the test again to see them."</p> })}
+                        </div>
                     }.into_any()
                 }
             })}

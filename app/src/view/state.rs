@@ -38,6 +38,11 @@ pub struct Notebook {
 pub enum Study {
     /// Monte Carlo: depends on the circuit and the tolerance settings.
     MonteCarlo,
+    /// Signal test: depends on the circuit and the signal settings.
+    Signal,
+    /// Standard-value search: depends on the targets, the search settings, the topology and every
+    /// value of the circuit but its resistors (picking a found set leaves the list current).
+    Search,
 }
 
 /// The inputs a study's result depends on, as JSON text: the result is current while the open
@@ -45,6 +50,18 @@ pub enum Study {
 pub fn study_inputs(study: Study, r: &DesignRecord) -> String {
     let v = match study {
         Study::MonteCarlo => serde_json::to_value((&r.circuit, r.tolerance.clone().unwrap_or_default())),
+        Study::Signal => serde_json::to_value((&r.circuit, &r.signal)),
+        Study::Search => {
+            use hysteron_core::topology::{Circuit, ParameterKind};
+            let fixed: Vec<(String, f64)> = r
+                .circuit
+                .parameters()
+                .into_iter()
+                .filter(|p| p.kind != ParameterKind::Resistor)
+                .map(|p| (p.id, p.value))
+                .collect();
+            serde_json::to_value((&r.targets, r.search.clone().unwrap_or_default(), r.circuit.name(), fixed, &r.checks))
+        }
     };
     v.map(|v| v.to_string()).unwrap_or_default()
 }

@@ -6,15 +6,19 @@
 //! - [`layout`]: placing a [`Netlist`](crate::netlist::Netlist) on the sheet ([`auto_layout`] for
 //!   the comparator and gate topologies, [`bjt_layout`] for the two-transistor trigger); each
 //!   topology picks one in its own `impl Netlisted`;
-//! - [`svg`]: drawing a sheet as SVG in IEC 60617 or IEEE 315 symbols ([`render_layout_svg`]).
+//! - [`svg`]: drawing a sheet as SVG in IEC 60617 or IEEE 315 symbols ([`render_layout_svg`]);
+//! - [`application`]: the oscillator's and debouncer's R and C below the trigger, and
+//!   [`render_design_svg`], the drawing of a whole design record.
 //!
-//! Only this file sits above the topologies ([`render_svg`], [`render_svg_titled`]); the three
-//! layers never import a topology, so the topology modules can use them without an import circle.
+//! Only this file and [`application`] sit above the topologies ([`render_svg`],
+//! [`render_svg_titled`], [`render_design_svg`]); the three layers never import a topology, so the topology modules can use them without an import circle.
 
+pub mod application;
 pub mod layout;
 pub mod sheet;
 pub mod svg;
 
+pub use application::render_design_svg;
 pub use layout::{auto_layout, bjt_layout};
 pub use sheet::{
     gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire,

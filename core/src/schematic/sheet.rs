@@ -79,6 +79,12 @@ pub enum PartSymbol {
         /// Programmed cathode voltage, volts (drawn as its value).
         voltage_v: f64,
     },
+    /// A capacitor, four grid units between its pins like a resistor (the oscillator's and the
+    /// debouncer's timing capacitors).
+    Capacitor {
+        /// Capacitance, farads (drawn as its value).
+        capacitance_f: f64,
+    },
 }
 
 /// A pin of a placed part: where it is and which net it belongs to.

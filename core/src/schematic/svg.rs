@@ -290,6 +290,53 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             text(o, x - 1.0, y + 1.8, "end", &part.designator);
             text(o, x - 1.0, y + 2.9, "end", &voltage_value(voltage_v, style));
         }
+        PartSymbol::Capacitor { capacitance_f } => draw_capacitor(o, part, capacitance_f, style),
+    }
+}
+
+/// A capacitor between its two pins, four units apart: IEC 60617-4 draws two parallel plates;
+/// IEEE 315 one straight and one curved plate (from memory of the standards' figures). The value
+/// is written in engineering notation with its unit (100 nF) in both conventions.
+fn draw_capacitor(o: &mut String, part: &PlacedPart, capacitance_f: f64, style: SymbolStyle) {
+    let (x, y) = (part.at.x as f64, part.at.y as f64);
+    let horizontal = part.direction == Direction::Right;
+    // Local frame: along = 0..4 from the first pin, across = perpendicular.
+    let at = |along: f64, across: f64| if horizontal { (x + along, y + across) } else { (x + across, y + along) };
+    let (gap_a, gap_b) = (1.75, 2.25);
+    polyline(o, &[at(0.0, 0.0), at(gap_a, 0.0)], "");
+    polyline(o, &[at(gap_b, 0.0), at(4.0, 0.0)], "");
+    polyline(o, &[at(gap_a, -0.9), at(gap_a, 0.9)], r#" stroke-width="2""#);
+    match style {
+        SymbolStyle::Iec60617 => polyline(o, &[at(gap_b, -0.9), at(gap_b, 0.9)], r#" stroke-width="2""#),
+        SymbolStyle::Ieee315 => {
+            // The curved plate bows away from the straight one.
+            let (a, c, b) = (at(gap_b + 0.35, -0.9), at(gap_b - 0.15, 0.0), at(gap_b + 0.35, 0.9));
+            let _ = write!(
+                o,
+                r#"<path d="M{} {} Q{} {} {} {}" stroke-width="2"/>"#,
+                px(a.0),
+                px(a.1),
+                px(2.0 * c.0 - 0.5 * (a.0 + b.0)),
+                px(2.0 * c.1 - 0.5 * (a.1 + b.1)),
+                px(b.0),
+                px(b.1)
+            );
+        }
+    }
+    let value = notation::format_with_unit(capacitance_f, 3, Unit::Farad);
+    match part.text_side {
+        Direction::Up | Direction::Down if horizontal => {
+            text(o, x + 2.0, y - 1.3, "middle", &part.designator);
+            text(o, x + 2.0, y + 2.0, "middle", &value);
+        }
+        Direction::Left => {
+            text(o, x - 1.2, y + 1.8, "end", &part.designator);
+            text(o, x - 1.2, y + 2.9, "end", &value);
+        }
+        _ => {
+            text(o, x + 1.2, y + 1.8, "start", &part.designator);
+            text(o, x + 1.2, y + 2.9, "start", &value);
+        }
     }
 }
 

@@ -10,8 +10,10 @@ use crate::analysis::{NodeRange, Warning, WarningCode};
 /// "VCC + 0.3 V" and "VEE − 0.3 V" as the input's absolute maximum).
 pub const ABSOLUTE_MAXIMUM_MARGIN_V: f64 = 0.3;
 
-/// One warning per device-input node whose range leaves `negative_rail_v − 0.3 V … supply_v +
-/// 0.3 V`, naming the node, how far it goes and the limit it passes.
+/// One warning per device-input node and side whose range leaves `negative_rail_v − 0.3 V …
+/// supply_v + 0.3 V`, naming the node, how far it goes and the limit it passes. Below the negative
+/// rail it carries the phase-reversal code and says so; [`super::analyse`] then gives no separate
+/// common-mode or phase-reversal warning for that node and side (one node, one message).
 pub fn rail_warnings(nodes: &[NodeRange], supply_v: f64, negative_rail_v: f64) -> Vec<Warning> {
     let hi_limit = supply_v + ABSOLUTE_MAXIMUM_MARGIN_V;
     let lo_limit = negative_rail_v - ABSOLUTE_MAXIMUM_MARGIN_V;
@@ -28,9 +30,9 @@ pub fn rail_warnings(nodes: &[NodeRange], supply_v: f64, negative_rail_v: f64) -
         }
         if n.min_v < lo_limit {
             out.push(Warning::new(
-                WarningCode::CommonModeRange,
+                WarningCode::PhaseReversal,
                 format!(
-                    "{} can reach {:.3} V, below the device's negative rail ({:.3} V) by more than {} V, its usual absolute maximum: its input protection conducts; clamp the node or limit its current with a series resistor",
+                    "{} can reach {:.3} V, below the device's negative rail ({:.3} V) by more than {} V, its usual absolute maximum: its input protection conducts and many devices invert their output there; clamp the node or limit its current with a series resistor",
                     n.name, n.min_v, negative_rail_v, ABSOLUTE_MAXIMUM_MARGIN_V
                 ),
             ));
@@ -68,6 +70,33 @@ mod tests {
         let w: Vec<&Warning> = a.warnings.iter().filter(|w| w.message.contains("supply rail")).collect();
         assert_eq!(w.len(), 1, "{:?}", a.warnings);
         assert!(w[0].message.contains("node P") && w[0].message.contains(&format!("{p:.3} V")) && w[0].message.contains("5.000 V"), "{}", w[0].message);
+    }
+
+    #[test]
+    fn the_greenhouse_demo_gives_node_p_one_message() {
+        // Node P passes both the device's input range and its supply rail: one warning, not two.
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap().record();
+        let a = analyse(&r.circuit, &r.checks).unwrap();
+        let about_p: Vec<&Warning> = a.warnings.iter().filter(|w| w.message.contains("node P")).collect();
+        assert_eq!(about_p.len(), 1, "{:?}", a.warnings);
+        // Below the input range but inside the rail margin, the common-mode warning still stands.
+        let mut low = r.clone();
+        if let crate::topology::Topology::SupplyMonitor(m) = &mut low.circuit {
+            m.device.input_high_margin_v = 2.0; // inputs reach only to 3 V
+        }
+        let checks = CheckSettings { input_max_v: Some(20.0), ..r.checks };
+        let a = analyse(&low.circuit, &checks).unwrap();
+        let about_p: Vec<&Warning> = a.warnings.iter().filter(|w| w.message.contains("node P")).collect();
+        assert_eq!(about_p.len(), 1, "{:?}", a.warnings);
+        assert!(about_p[0].message.contains("input range"), "{}", about_p[0].message);
+    }
+
+    #[test]
+    fn a_node_far_below_the_negative_rail_gets_one_message_with_the_phase_reversal_code() {
+        let w = rail_warnings(&[node(-1.0, 1.0)], 5.0, 0.0);
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].code, WarningCode::PhaseReversal);
+        assert!(w[0].message.contains("invert"), "{}", w[0].message);
     }
 
     #[test]

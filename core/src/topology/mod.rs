@@ -369,8 +369,20 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
     let mut warnings = circuit.checks(settings);
     let (cm_lo, cm_hi) = circuit.device_input_range();
     let m = INPUT_RANGE_MARGIN_V;
+    // One message per node and side: a node beyond the absolute-maximum margin of a rail gets the
+    // rail warning (`input_rails`), which says what the weaker common-mode and phase-reversal
+    // warnings would, so those are not given for it as well.
+    let past_rail = |v: f64, hi: bool| {
+        if hi {
+            v > circuit.supply_v() + input_rails::ABSOLUTE_MAXIMUM_MARGIN_V
+        } else {
+            v < neg - input_rails::ABSOLUTE_MAXIMUM_MARGIN_V
+        }
+    };
     for n in &nodes {
-        if n.min_v < neg - m {
+        if past_rail(n.min_v, false) {
+            // The rail warning below covers this side.
+        } else if n.min_v < neg - m {
             warnings.push(Warning::new(
                 WarningCode::PhaseReversal,
                 format!(
@@ -387,7 +399,7 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
                 ),
             ));
         }
-        if n.max_v > cm_hi + m {
+        if n.max_v > cm_hi + m && !past_rail(n.max_v, true) {
             warnings.push(Warning::new(
                 WarningCode::CommonModeRange,
                 format!(

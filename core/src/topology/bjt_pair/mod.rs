@@ -795,11 +795,15 @@ impl Circuit for EmitterCoupledSchmitt {
                 Some([lo, hi]) => junction.with_limits(lo, hi),
                 None => junction,
             },
+            // The temperature laws (SPICE's XTI, EG, XTB): entered, never varied by the studies.
+            Parameter::device("is_temperature_exponent", "temperature exponent of IS (XTI)", t.is_temperature_exponent, Unit::Ratio),
+            Parameter::device("bandgap_v", "bandgap voltage of the IS(T) law (EG)", t.bandgap_v, Unit::Volt),
+            Parameter::device("beta_temperature_exponent", "temperature exponent of βF and βR (XTB)", t.beta_temperature_exponent, Unit::Ratio),
         ]
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
-        expect_len(values, 11)?;
+        expect_len(values, 14)?;
         let mut c = self.clone();
         c.r1_ohm = values[0];
         c.r2_ohm = values[1];
@@ -812,6 +816,9 @@ impl Circuit for EmitterCoupledSchmitt {
         c.transistor.beta_r = values[8];
         c.transistor.saturation_current_a = values[9];
         c.transistor.temperature_k = values[10];
+        c.transistor.is_temperature_exponent = values[11];
+        c.transistor.bandgap_v = values[12];
+        c.transistor.beta_temperature_exponent = values[13];
         Ok(c)
     }
 
@@ -1159,7 +1166,12 @@ mod tests {
         let c = EmitterCoupledSchmitt { load_ohm: Some(10e3), ..example(BjtModel::EbersMoll) };
         let p: Vec<f64> = c.parameters().iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&p).unwrap(), c);
-        assert!(c.with_parameters(&p[..10]).is_err());
+        assert!(c.with_parameters(&p[..13]).is_err());
+        // XTI, EG and XTB are parameters (edited on the page), read back into the transistor.
+        let mut q = p.clone();
+        q[11..14].copy_from_slice(&[3.5, 1.12, 1.7]);
+        let t = c.with_parameters(&q).unwrap().transistor;
+        assert_eq!((t.is_temperature_exponent, t.bandgap_v, t.beta_temperature_exponent), (3.5, 1.12, 1.7));
     }
 
     #[test]
