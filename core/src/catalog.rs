@@ -103,6 +103,13 @@ const DEMOS: &[Starter] = &[
         hazardous: false,
         json: include_str!("catalog/demo_dust_extractor.json"),
     },
+    Starter {
+        key: "sawmill-end-stop",
+        title: "Sawmill carriage end stop",
+        note: "24 V sensor on a noisy cable: dropper, clamps and filter; shunt reference.",
+        hazardous: false,
+        json: include_str!("catalog/demo_sawmill_end_stop.json"),
+    },
 ];
 
 #[cfg(test)]
