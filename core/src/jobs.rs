@@ -103,6 +103,11 @@ pub enum Job {
         /// (slew- and RC-limited, [`crate::signal::output_edges`]); `None`: the ideal output.
         #[serde(default)]
         output: Option<Box<crate::output_dynamics::OutputDynamicsReport>>,
+        /// The input network's clamp and filter applied to the samples before the trigger
+        /// (`design` then holds the field-terminal thresholds; see
+        /// [`crate::input_network::signal_design`]); `None`: the signal reaches the pin as it is.
+        #[serde(default)]
+        front: Option<crate::input_network::noise::FrontEnd>,
     },
     /// Some levels of the noise sweep alone (a part of a split sweep).
     NoiseSweep {
@@ -260,6 +265,8 @@ struct SignalState {
     display_points: usize,
     /// Output dynamics for the design's simulated output, see [`Job::Signal`].
     output: Option<Box<crate::output_dynamics::OutputDynamicsReport>>,
+    /// The input network's front end, see [`Job::Signal`].
+    front: Option<crate::input_network::noise::FrontEnd>,
     /// Whether the study's main pass (and the report) is wanted, or only sweep levels.
     study: bool,
     run: Option<SignalRun>,
@@ -386,6 +393,7 @@ impl Running {
                 capture,
                 display_points,
                 output,
+                front,
             } => {
                 design.validate()?;
                 let samples = signal_samples(&settings, capture.as_ref())?;
@@ -397,6 +405,7 @@ impl Running {
                     capture,
                     display_points: display_points.max(2),
                     output,
+                    front,
                     study: true,
                     run: None,
                     sweep: None,
@@ -444,6 +453,7 @@ impl Running {
                     capture: None,
                     display_points: 2,
                     output: None,
+                    front: None,
                     study: false,
                     run: None,
                     sweep: None,
@@ -690,7 +700,7 @@ impl SignalState {
         if self.run.is_none() {
             let mut s = self.settings.clone();
             s.sweep = None;
-            let run = crate::signal::report::run_signal_with_output(&s, &self.design, self.capture.as_ref(), self.output.as_deref())?;
+            let run = crate::signal::report::run_signal_chain(&s, &self.design, self.capture.as_ref(), self.front.as_ref(), self.output.as_deref())?;
             if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
                 let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
                 self.sweep = Some((*sw, runner));
@@ -867,6 +877,9 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
             capture: None,
             display_points,
             output,
+            // A study through an input network stays one part (its sweep levels would need the
+            // network's front end too).
+            front: None,
         } if parts > 1 && settings.sweep.is_some() => {
             let count = sweep_level_count(design, settings, false)?;
             let mut out = vec![Job::Signal {
@@ -878,6 +891,7 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
                 capture: None,
                 display_points: *display_points,
                 output: output.clone(),
+                front: None,
             }];
             out.extend(ranges(count).into_iter().map(|r| Job::NoiseSweep {
                 design: *design,

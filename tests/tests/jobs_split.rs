@@ -115,7 +115,7 @@ fn signal_study_and_sweep_in_n_parts_equal_one_run() {
     let settings = signal_settings(2e5);
     let single = evaluate_signal(&settings, &trigger(), None).unwrap();
     assert_eq!(single.sweep.as_ref().map(|s| s.points.len()), Some(9));
-    let job = Job::Signal { design: trigger(), settings: settings.clone(), capture: None, display_points: DEFAULT_DISPLAY_POINTS, output: None };
+    let job = Job::Signal { design: trigger(), settings: settings.clone(), capture: None, display_points: DEFAULT_DISPLAY_POINTS, output: None, front: None };
     for (parts, budget) in [(1, u64::MAX), (1, 1), (2, 40_000), (3, 1), (5, 1), (12, 100_000)] {
         let JobOutput::Signal(view) = run_split(&job, parts, budget) else { panic!("not a signal study") };
         assert_eq!(view.report, single, "{parts} parts, budget {budget}");
@@ -133,7 +133,7 @@ fn signal_study_and_sweep_in_n_parts_equal_one_run() {
 fn progress_is_announced_before_the_start_and_reaches_the_total() {
     let settings = signal_settings(1e5);
     let samples = settings.definition.validate().unwrap() as u64;
-    let job = Job::Signal { design: trigger(), settings, capture: None, display_points: 1000, output: None };
+    let job = Job::Signal { design: trigger(), settings, capture: None, display_points: 1000, output: None, front: None };
     let mut r = Running::start(job).unwrap();
     let p0 = r.progress();
     assert_eq!(p0.done, 0);

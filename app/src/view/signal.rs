@@ -13,7 +13,6 @@ use hysteron_core::signal::plot::{downsample_min_max, Envelope};
 use hysteron_core::jobs::{Job, JobOutput, DEFAULT_DISPLAY_POINTS};
 use hysteron_core::signal::report::{SignalRun, SignalSettings, SignalSource};
 use hysteron_core::signal::sweep::SweepSettings;
-use hysteron_core::signal::trigger::TriggerDesign;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 use wasm_bindgen::JsCast;
@@ -226,7 +225,8 @@ pub fn SignalSection() -> impl IntoView {
             run.set(Some(Err("import the capture file again: captures are not stored with the design".into())));
             return;
         }
-        let design = match TriggerDesign::from_circuit(&record.circuit) {
+        // At the field terminal, through the input network's clamp and filter, when it has one.
+        let (design, front) = match hysteron_core::input_network::signal_design(&record) {
             Ok(d) => d,
             Err(e) => return run.set(Some(Err(e.to_string()))),
         };
@@ -241,6 +241,7 @@ pub fn SignalSection() -> impl IntoView {
             capture: cap.as_deref().cloned(),
             display_points: DEFAULT_DISPLAY_POINTS,
             output: hysteron_core::overview::dynamics(&record).0.and_then(|r| r.ok()).map(Box::new),
+            front,
         };
         let handle = crate::jobs::start(
             signal_job,

@@ -635,13 +635,25 @@ pub fn record_signal(
     record: &crate::record::DesignRecord,
     settings: &crate::signal::report::SignalSettings,
 ) -> Result<crate::signal::report::SignalReport, DesignError> {
+    match signal_design(record)? {
+        (_, None) => crate::signal::report::evaluate_record_signal(&record.circuit, settings),
+        (design, Some(front)) => crate::signal::report::run_signal_through(settings, &design, None, &front, false).map(|r| r.report),
+    }
+}
+
+/// The trigger as the signal test sees a record: its thresholds at the field terminal and the
+/// network's front end (clamp and filter) when the record has an input network, else the
+/// circuit's own thresholds and no front end. The page's signal job and [`record_signal`] use it.
+pub fn signal_design(
+    record: &crate::record::DesignRecord,
+) -> Result<(crate::signal::trigger::TriggerDesign, Option<noise::FrontEnd>), DesignError> {
+    let design = crate::signal::trigger::TriggerDesign::from_circuit(&record.circuit)?;
     match record.input_network.as_ref().filter(|n| n.has_parts()) {
-        None => crate::signal::report::evaluate_record_signal(&record.circuit, settings),
+        None => Ok((design, None)),
         Some(net) => {
             let report = analyse_network(&record.circuit, net, &record.checks, &record.parts)?;
-            let design = crate::signal::trigger::TriggerDesign::from_circuit(&record.circuit)?.with_thresholds(report.field);
             let front = noise::FrontEnd::of(&report, net, record.circuit.negative_rail_v(), record.circuit.supply_v());
-            crate::signal::report::run_signal_through(settings, &design, None, &front, false).map(|r| r.report)
+            Ok((design.with_thresholds(report.field), Some(front)))
         }
     }
 }

@@ -353,7 +353,20 @@ pub fn run_signal_with_output(
     capture: Option<&Capture>,
     output: Option<&crate::output_dynamics::OutputDynamicsReport>,
 ) -> Result<SignalRun, DesignError> {
-    let mut run = run_signal(settings, design, capture)?;
+    run_signal_chain(settings, design, capture, None, output)
+}
+
+/// The whole chain of the signal test: the input network's front end (when given, see
+/// [`run_signal_through`]), the trigger, then the output at the load (when output dynamics are
+/// given, see [`run_signal_with_output`]).
+pub fn run_signal_chain(
+    settings: &SignalSettings,
+    design: &TriggerDesign,
+    capture: Option<&Capture>,
+    front: Option<&crate::input_network::noise::FrontEnd>,
+    output: Option<&crate::output_dynamics::OutputDynamicsReport>,
+) -> Result<SignalRun, DesignError> {
+    let mut run = run_inner(settings, design, capture, true, front)?;
     if let Some(r) = output {
         super::output_edges::apply_output_dynamics(&mut run, design, r);
     }
