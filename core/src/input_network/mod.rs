@@ -525,7 +525,7 @@ pub fn analyse_network(
             let tau = upper.time_constant_s.unwrap_or(0.0).max(lower.time_constant_s.unwrap_or(0.0));
             let (cl, ch) = net.clamp_levels_v(neg, sup);
             let gains = [net.gain() * hi_v, net.gain() * lo_v];
-            let cap_max = gains.iter().map(|v| v.clamp(cl, ch).abs()).fold(0.0, f64::max);
+            let cap_max = gains.iter().map(|v| v.max(cl).min(ch).abs()).fold(0.0, f64::max);
             let surge_cap = at_surge.map_or(0.0, |(a, b)| a.clamp_node_v.abs().max(b.clamp_node_v.abs()));
             Some(FilterFigures {
                 time_constant_s: tau,
