@@ -624,7 +624,20 @@ pub fn analyse_network(
 /// The record's input-network study: `None` when the record has no network (or an empty one).
 pub fn record_network(record: &crate::record::DesignRecord) -> Option<Result<NetworkReport, DesignError>> {
     let net = record.input_network.as_ref().filter(|n| n.has_parts())?;
-    Some(analyse_network(&record.circuit, net, &record.checks, &record.parts))
+    Some(analyse_network(&loaded_circuit(record), net, &record.checks, &record.parts))
+}
+
+/// The record's circuit as the input network sees it: under its output load when the record has
+/// output dynamics the topology models ([`crate::topology::Circuit::with_output_load`]; the
+/// feedback then sees the output's Thevenin source, and behind the network's source resistance
+/// that shift grows with it), else the circuit itself.
+pub fn loaded_circuit(record: &crate::record::DesignRecord) -> crate::topology::Topology {
+    record
+        .output_dynamics
+        .as_ref()
+        .filter(|s| s.validate().is_ok())
+        .and_then(|s| record.circuit.with_output_load(&s.load()))
+        .unwrap_or_else(|| record.circuit.clone())
 }
 
 /// The record's signal study with its input network: the samples (taken as field-terminal
@@ -651,7 +664,7 @@ pub fn signal_design(
     match record.input_network.as_ref().filter(|n| n.has_parts()) {
         None => Ok((design, None)),
         Some(net) => {
-            let report = analyse_network(&record.circuit, net, &record.checks, &record.parts)?;
+            let report = analyse_network(&loaded_circuit(record), net, &record.checks, &record.parts)?;
             let front = noise::FrontEnd::of(&report, net, record.circuit.negative_rail_v(), record.circuit.supply_v());
             Ok((design.with_thresholds(report.field), Some(front)))
         }

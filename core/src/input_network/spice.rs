@@ -55,7 +55,8 @@ pub fn dress(record: &DesignRecord, nl: &mut crate::netlist::Netlist) -> Result<
     };
     let circuit = &record.circuit;
     circuit.validate()?;
-    let report = super::analyse_network(circuit, net, &record.checks, &record.parts)?;
+    // Field thresholds of the circuit under its output load, as the deck (with RO and RL) has it.
+    let report = super::analyse_network(&super::loaded_circuit(record), net, &record.checks, &record.parts)?;
     let analysis = crate::topology::analyse(circuit, &record.checks)?;
     let bom = crate::overview::part_list(record, &analysis)?;
     let parts = bom.input_network;
