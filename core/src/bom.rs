@@ -196,6 +196,49 @@ pub struct DeviceLine {
 /// DO-35 0.5 W, DO-41 1 W and 1.3 W, 5 W axial; common practice).
 pub const ZENER_RATINGS_W: [f64; 7] = [0.2, 0.25, 0.3, 0.5, 1.0, 1.3, 5.0];
 
+/// What kind of part an input-network line is (the input network fills these lines).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum NetworkPartKind {
+    /// A resistor, value in ohms.
+    Resistor,
+    /// A capacitor, value in farads.
+    Capacitor,
+    /// A clamp diode (value: forward drop, volts).
+    Diode,
+    /// A TVS diode (value: standoff voltage, volts).
+    Tvs,
+}
+
+/// One part of the input network in the part list.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct NetworkPart {
+    /// Designator, numbered after the design's other parts (R5, C2, D1…).
+    pub designator: String,
+    /// Resistor, capacitor, diode or TVS.
+    pub kind: NetworkPartKind,
+    /// Plain role of the part.
+    pub label: String,
+    /// Value in base units (ohms, farads; volts for diodes: forward drop or standoff).
+    pub value: f64,
+    /// The value in words with its unit.
+    pub value_text: String,
+    /// Worst continuous dissipation (highest or lowest stated input), watts.
+    pub dissipation_w: f64,
+    /// Dissipation at the stated surge, watts (`None` without a surge).
+    pub surge_dissipation_w: Option<f64>,
+    /// Suggested power rating, watts (resistors).
+    pub suggested_power_w: Option<f64>,
+    /// Largest voltage across the part, volts.
+    pub max_volts: f64,
+    /// Suggested voltage rating, volts (capacitors).
+    pub suggested_voltage_v: Option<f64>,
+    /// Largest current, amperes (clamps: at the surge when stated).
+    pub max_current_a: f64,
+    /// Requirements and findings in words.
+    pub notes: Vec<String>,
+}
+
 /// The reference's regulating part: a zener diode or an adjustable shunt reference.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct RegulatorLine {
@@ -226,10 +269,10 @@ pub struct Bom {
     /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
     #[serde(default)]
     pub application: Vec<application::ApplicationPart>,
-    /// The parts of the record's input network ([`crate::input_network::parts::network_parts`];
+    /// The parts of the record's input network (made by the input network's part-list lines;
     /// filled by [`crate::overview::part_list`], empty from [`bom`] alone).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
-    pub input_network: Vec<crate::input_network::parts::NetworkPart>,
+    pub input_network: Vec<NetworkPart>,
     /// The reference's zener or adjustable shunt reference, with its voltage and power
     /// (`crate::topology::reference::regulator_lines`; filled by [`crate::overview::part_list`]).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
@@ -517,7 +560,7 @@ impl Bom {
             ]);
         }
         for p in &self.input_network {
-            use crate::input_network::parts::NetworkPartKind as K;
+            use NetworkPartKind as K;
             let kind = match p.kind {
                 K::Resistor => "resistor",
                 K::Capacitor => "capacitor",

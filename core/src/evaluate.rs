@@ -161,7 +161,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         _ => None,
     };
     let windows = crate::finite::keep("bench_window", windows, &mut fail);
-    let signal = record.signal.as_ref().and_then(|s| match crate::input_network::record_signal(record, s) {
+    let signal = record.signal.as_ref().and_then(|s| match crate::input_network::from_record::record_signal(record, s) {
         Ok(r) => Some(r),
         Err(e) => {
             fail("signal", e);
@@ -214,7 +214,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         .as_ref()
         .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
     let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
-    let input_network = crate::input_network::record_network(record).and_then(|r| r.map_err(|e| fail("input_network", e)).ok());
+    let input_network = crate::input_network::from_record::record_network(record).and_then(|r| r.map_err(|e| fail("input_network", e)).ok());
     let (output_dynamics, power_up) = crate::overview::dynamics(record);
     let output_dynamics = output_dynamics.and_then(|r| r.map_err(|e| fail("output_dynamics", e)).ok());
     let output_dynamics = crate::finite::keep("output_dynamics", output_dynamics, &mut fail);

@@ -105,7 +105,7 @@ pub enum Job {
         output: Option<Box<crate::output_dynamics::OutputDynamicsReport>>,
         /// The input network's clamp and filter applied to the samples before the trigger
         /// (`design` then holds the field-terminal thresholds; see
-        /// [`crate::input_network::signal_design`]); `None`: the signal reaches the pin as it is.
+        /// [`crate::input_network::from_record::signal_design`]); `None`: the signal reaches the pin as it is.
         #[serde(default)]
         front: Option<crate::input_network::noise::FrontEnd>,
     },
@@ -700,7 +700,7 @@ impl SignalState {
         if self.run.is_none() {
             let mut s = self.settings.clone();
             s.sweep = None;
-            let run = crate::signal::report::run_signal_chain(&s, &self.design, self.capture.as_ref(), self.front.as_ref(), self.output.as_deref())?;
+            let run = crate::signal::output_edges::run_signal_chain(&s, &self.design, self.capture.as_ref(), self.front.as_ref(), self.output.as_deref())?;
             if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
                 let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
                 self.sweep = Some((*sw, runner));

@@ -19,7 +19,7 @@ use crate::error::DesignError;
 use crate::record::DesignRecord;
 use crate::search::{search, SearchJob, SearchReport, SearchSettings};
 use crate::safety::{cautions, Caution};
-use crate::signal::report::{evaluate_record_signal, SignalReport};
+use crate::signal::report::SignalReport;
 use crate::tolerance::bench_window::{bench_window, windows as both_windows, Windows};
 use crate::tolerance::{monte_carlo, temperature_sweep, TemperatureSweep, WorstCase};
 use crate::topology::{analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
@@ -133,7 +133,7 @@ pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, Desi
     b.application =
         crate::bom::application::application_parts(record.application.as_ref(), analysis, &used, &record.parts)?;
     b.regulators = crate::topology::reference::regulator_lines(&record.circuit, &record.checks, &record.parts);
-    if let (Some(net), Some(Ok(report))) = (record.input_network.as_ref(), crate::input_network::record_network(record)) {
+    if let (Some(net), Some(Ok(report))) = (record.input_network.as_ref(), crate::input_network::from_record::record_network(record)) {
         let used: Vec<String> = used.into_iter().chain(b.application.iter().map(|p| p.designator.clone())).chain(b.regulators.iter().map(|r| r.designator.clone())).collect();
         b.input_network = crate::input_network::parts::network_parts(&report, net, &used, &record.parts);
     }
@@ -359,7 +359,11 @@ pub fn spice(record: &DesignRecord) -> Result<String, DesignError> {
             thresholds = c.thresholds().map(|t| (t.vt_upper_v, t.vt_lower_v))?;
         }
     }
-    if let Some(d) = crate::input_network::spice::dress(record, &mut net)? {
+    let parts = match &record.input_network {
+        Some(_) => part_list(record, &crate::topology::analyse(circuit, &record.checks)?)?.input_network,
+        None => Vec::new(),
+    };
+    if let Some(d) = crate::input_network::spice::dress(record, &parts, &mut net)? {
         thresholds = (d.vt_upper_v, d.vt_lower_v);
         extra.push('\n');
         extra.push_str(&d.extra);
@@ -385,7 +389,7 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
     let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
-    let input_network = crate::input_network::record_network(record).map(|r| match r {
+    let input_network = crate::input_network::from_record::record_network(record).map(|r| match r {
         Ok(r) => crate::input_network::sheet_line(&r),
         Err(e) => format!("Input network: {e}"),
     });
@@ -410,7 +414,7 @@ pub fn sheet_studies(record: &DesignRecord, max_trials: u64) -> SheetStudies {
     settings.monte_carlo.trials = settings.monte_carlo.trials.min(max_trials);
     let spec_yield =
         monte_carlo(&record.circuit, &settings).ok().and_then(|m| m.spec_yield.map(|y| (y.fraction, m.trials)));
-    let signal = record.signal.as_ref().and_then(|s| evaluate_record_signal(&record.circuit, s).ok());
+    let signal = record.signal.as_ref().and_then(|s| crate::input_network::from_record::record_signal(record, s).ok());
     SheetStudies { spec_yield, signal }
 }
 

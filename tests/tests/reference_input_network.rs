@@ -308,7 +308,7 @@ fn ngspice_tran(deck: &str, stop_s: f64, step_s: f64) -> Option<Vec<(f64, f64, f
 fn spice_trip(mut net: InputNetwork) -> Option<(f64, f64, f64, f64)> {
     let mut r = DesignRecord::new("filtered", noninv(R1));
     r.input_network = Some(net.clone());
-    let deck = hysteron_core::input_network::spice::record_deck(&r).unwrap();
+    let deck = hysteron_core::overview::spice(&r).unwrap();
     assert!(deck.contains(" field "), "{deck}");
     // The deck's ramp: PWL(0 lo 1 hi 2 lo); give the network the same slowest edge.
     let pwl = deck.lines().find(|l| l.starts_with("VIN")).unwrap();
@@ -380,7 +380,7 @@ fn ngspice_runs_the_sawmill_deck_with_reference_network_and_load_at_the_field_th
         return;
     }
     let record = hysteron_core::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").expect("sawmill demo").record();
-    let report = hysteron_core::input_network::record_network(&record).expect("a network").expect("it analyses");
+    let report = hysteron_core::input_network::from_record::record_network(&record).expect("a network").expect("it analyses");
     let tau = report.filter.expect("a filter").time_constant_s;
     let deck = hysteron_core::overview::spice(&record).expect("a deck");
     assert!(deck.contains("BU2 ") && deck.contains("DCLAMP") && deck.contains("RO out_src out") && deck.contains("C1 in 0"), "{deck}");

@@ -4,7 +4,7 @@
 
 use super::state::Notebook;
 use crate::fields::{OptionalQuantityField, QuantityField};
-use hysteron_core::input_network::{analyse_network, Clamp, Dropper, InputNetwork, RcFilter};
+use hysteron_core::input_network::{Clamp, Dropper, InputNetwork, RcFilter};
 use hysteron_core::notation::{format_with_unit, Unit};
 use leptos::prelude::*;
 
@@ -60,8 +60,9 @@ pub fn InputNetworkSection() -> impl IntoView {
     };
     let report = Memo::new(move |_| {
         nb.with_settled(|r| {
-            let n = r.input_network.as_ref().filter(|n| n.has_parts())?;
-            Some(analyse_network(&r.circuit, n, &r.checks, &r.parts).map_err(|e| e.to_string()))
+            // The record's own report (under the output load when it has output dynamics), as the
+            // CLI result and the sheet give it.
+            hysteron_core::input_network::from_record::record_network(r).map(|x| x.map_err(|e| e.to_string()))
         })
         .flatten()
     });

@@ -226,7 +226,7 @@ pub fn SignalSection() -> impl IntoView {
             return;
         }
         // At the field terminal, through the input network's clamp and filter, when it has one.
-        let (design, front) = match hysteron_core::input_network::signal_design(&record) {
+        let (design, front) = match hysteron_core::input_network::from_record::signal_design(&record) {
             Ok(d) => d,
             Err(e) => return run.set(Some(Err(e.to_string()))),
         };

@@ -11,52 +11,9 @@
 
 use super::{Clamp, InputNetwork, NetworkReport};
 use crate::bom::application::CAPACITOR_VOLTAGE_RATINGS_V;
-use crate::bom::{PartSettings, POWER_RATINGS_W};
+use crate::bom::{NetworkPart, NetworkPartKind, PartSettings, POWER_RATINGS_W};
 use crate::notation::{format_with_unit, Unit};
-use serde::{Deserialize, Serialize};
 
-/// What kind of part a network line is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case")]
-pub enum NetworkPartKind {
-    /// A resistor, value in ohms.
-    Resistor,
-    /// A capacitor, value in farads.
-    Capacitor,
-    /// A clamp diode (value: forward drop, volts).
-    Diode,
-    /// A TVS diode (value: standoff voltage, volts).
-    Tvs,
-}
-
-/// One part of the input network in the part list.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct NetworkPart {
-    /// Designator, numbered after the design's other parts (R5, C2, D1…).
-    pub designator: String,
-    /// Resistor, capacitor, diode or TVS.
-    pub kind: NetworkPartKind,
-    /// Plain role of the part.
-    pub label: String,
-    /// Value in base units (ohms, farads; volts for diodes: forward drop or standoff).
-    pub value: f64,
-    /// The value in words with its unit.
-    pub value_text: String,
-    /// Worst continuous dissipation (highest or lowest stated input), watts.
-    pub dissipation_w: f64,
-    /// Dissipation at the stated surge, watts (`None` without a surge).
-    pub surge_dissipation_w: Option<f64>,
-    /// Suggested power rating, watts (resistors).
-    pub suggested_power_w: Option<f64>,
-    /// Largest voltage across the part, volts.
-    pub max_volts: f64,
-    /// Suggested voltage rating, volts (capacitors).
-    pub suggested_voltage_v: Option<f64>,
-    /// Largest current, amperes (clamps: at the surge when stated).
-    pub max_current_a: f64,
-    /// Requirements and findings in words.
-    pub notes: Vec<String>,
-}
 
 fn next_number(used: &[String], letter: &str) -> usize {
     used.iter()

@@ -11,29 +11,15 @@
 
 use super::Clamp;
 use crate::error::DesignError;
-use crate::netlist::{NetResistor, Netlisted, ResistorRole, SourceRole, GROUND};
+use crate::netlist::{NetResistor, ResistorRole, SourceRole, GROUND};
 use crate::record::DesignRecord;
-use crate::spice::{ramp_span_v, spice_number, write_deck};
+use crate::bom::{NetworkPart, NetworkPartKind};
+use crate::spice::{ramp_span_v, spice_number};
 use crate::topology::Circuit;
 use std::fmt::Write as _;
 
 /// kT/q at 27 °C, volts (SPICE's nominal temperature; from memory).
 const THERMAL_V: f64 = 0.025_865;
-
-/// The SPICE deck of the record's design, with its input network when it has one (else exactly
-/// [`crate::spice::to_spice`]). The expected thresholds in the comments and the test ramp are at
-/// the field terminal.
-pub fn record_deck(record: &DesignRecord) -> Result<String, DesignError> {
-    let mut nl = record.circuit.netlist();
-    let Some(dressed) = dress(record, &mut nl)? else {
-        return crate::spice::to_spice(&record.circuit, &record.name);
-    };
-    let (lo, hi) = ramp_span_v(dressed.vt_upper_v, dressed.vt_lower_v);
-    crate::finite::check("spice", &([dressed.vt_upper_v, dressed.vt_lower_v], [lo, hi], &nl))?;
-    let deck = write_deck(&nl, &record.name, dressed.vt_upper_v, dressed.vt_lower_v, lo, hi);
-    let body = deck.strip_suffix(".end\n").unwrap_or(&deck);
-    Ok(format!("{body}\n{}.end\n", dressed.extra))
-}
 
 /// The input network put into a design's netlist: the signal source moved to the field terminal,
 /// the network's resistors added, and the deck lines SPICE needs beyond the netlist.
@@ -49,17 +35,16 @@ pub struct Dressed {
 
 /// Puts the record's input network into `nl` (the record's own netlist) and returns the field
 /// thresholds and extra deck lines; `None` (and `nl` untouched) when the record has no network.
-pub fn dress(record: &DesignRecord, nl: &mut crate::netlist::Netlist) -> Result<Option<Dressed>, DesignError> {
+/// `parts` are the record's input-network lines of its part list (their designators name the
+/// deck's elements; [`crate::overview::part_list`] makes them).
+pub fn dress(record: &DesignRecord, parts: &[NetworkPart], nl: &mut crate::netlist::Netlist) -> Result<Option<Dressed>, DesignError> {
     let Some(net) = record.input_network.as_ref().filter(|n| n.has_parts()) else {
         return Ok(None);
     };
     let circuit = &record.circuit;
     circuit.validate()?;
     // Field thresholds of the circuit under its output load, as the deck (with RO and RL) has it.
-    let report = super::analyse_network(&super::loaded_circuit(record), net, &record.checks, &record.parts)?;
-    let analysis = crate::topology::analyse(circuit, &record.checks)?;
-    let bom = crate::overview::part_list(record, &analysis)?;
-    let parts = bom.input_network;
+    let report = super::analyse_network(&super::from_record::loaded_circuit(record), net, &record.checks, &record.parts)?;
     let Some(vin) = nl.sources.iter_mut().find(|s| s.role == SourceRole::Input) else {
         return Err(DesignError::invalid("input_network", "the circuit's netlist has no signal source to put the network in front of"));
     };
@@ -69,8 +54,8 @@ pub fn dress(record: &DesignRecord, nl: &mut crate::netlist::Netlist) -> Result<
     let negative = nl.sources.iter().find(|s| s.role == SourceRole::NegativeRail).map_or(GROUND.to_string(), |s| s.node_plus.clone());
 
     // The series chain: dropper top, series resistor, filter resistor; the last ends at the pin.
-    let resistors: Vec<&super::parts::NetworkPart> =
-        parts.iter().filter(|p| p.kind == super::parts::NetworkPartKind::Resistor).collect();
+    let resistors: Vec<&NetworkPart> =
+        parts.iter().filter(|p| p.kind == NetworkPartKind::Resistor).collect();
     let mut r_iter = resistors.into_iter();
     let mut chain: Vec<(String, f64, &'static str)> = Vec::new(); // (designator, ohms, node after)
     let mut bottom = None;
@@ -109,7 +94,7 @@ pub fn dress(record: &DesignRecord, nl: &mut crate::netlist::Netlist) -> Result<
     let _ = writeln!(extra, "* Input network (thresholds above are at the field terminal, node field; the trigger's pin is node {pin})");
     let diode_des: Vec<String> = parts
         .iter()
-        .filter(|p| matches!(p.kind, super::parts::NetworkPartKind::Diode | super::parts::NetworkPartKind::Tvs))
+        .filter(|p| matches!(p.kind, NetworkPartKind::Diode | NetworkPartKind::Tvs))
         .map(|p| p.designator.clone())
         .collect();
     let des = |i: usize, fallback: &str| diode_des.get(i).cloned().unwrap_or_else(|| fallback.to_string());
@@ -133,7 +118,7 @@ pub fn dress(record: &DesignRecord, nl: &mut crate::netlist::Netlist) -> Result<
         }
     }
     if let Some(f) = net.filter {
-        let c = parts.iter().find(|p| p.kind == super::parts::NetworkPartKind::Capacitor).map_or("C1".to_string(), |p| p.designator.clone());
+        let c = parts.iter().find(|p| p.kind == NetworkPartKind::Capacitor).map_or("C1".to_string(), |p| p.designator.clone());
         let _ = writeln!(extra, "* Filter capacitor at the pin");
         let _ = writeln!(extra, "{c} {pin} {GROUND} {} IC={}", n(f.c_f), short(net.gain() * lo));
     }

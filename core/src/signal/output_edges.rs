@@ -139,3 +139,34 @@ mod tests {
         assert!((out[999] - 5.0).abs() < 1e-3, "{}", out[999]);
     }
 }
+
+/// [`super::report::run_signal`] with the design's output at the load when output dynamics are
+/// given (slew- and RC-limited, [`apply_output_dynamics`]); `None` keeps the ideal output.
+pub fn run_signal_with_output(
+    settings: &super::report::SignalSettings,
+    design: &super::trigger::TriggerDesign,
+    capture: Option<&super::csv::Capture>,
+    output: Option<&crate::output_dynamics::OutputDynamicsReport>,
+) -> Result<SignalRun, crate::error::DesignError> {
+    run_signal_chain(settings, design, capture, None, output)
+}
+
+/// The whole chain of the signal test: the input network's front end (when given, see
+/// [`super::report::run_signal_through`]), the trigger, then the output at the load (when output
+/// dynamics are given, see [`run_signal_with_output`]).
+pub fn run_signal_chain(
+    settings: &super::report::SignalSettings,
+    design: &super::trigger::TriggerDesign,
+    capture: Option<&super::csv::Capture>,
+    front: Option<&crate::input_network::noise::FrontEnd>,
+    output: Option<&crate::output_dynamics::OutputDynamicsReport>,
+) -> Result<SignalRun, crate::error::DesignError> {
+    let mut run = match front {
+        Some(f) => super::report::run_signal_through(settings, design, capture, f, true)?,
+        None => super::report::run_signal(settings, design, capture)?,
+    };
+    if let Some(r) = output {
+        apply_output_dynamics(&mut run, design, r);
+    }
+    Ok(run)
+}

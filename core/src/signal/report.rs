@@ -345,34 +345,6 @@ pub fn run_signal_through(
     run_inner(settings, design, capture, keep, Some(front))
 }
 
-/// [`run_signal`] with the design's output at the load when output dynamics are given (slew- and
-/// RC-limited, [`super::output_edges`]); `None` keeps the ideal output.
-pub fn run_signal_with_output(
-    settings: &SignalSettings,
-    design: &TriggerDesign,
-    capture: Option<&Capture>,
-    output: Option<&crate::output_dynamics::OutputDynamicsReport>,
-) -> Result<SignalRun, DesignError> {
-    run_signal_chain(settings, design, capture, None, output)
-}
-
-/// The whole chain of the signal test: the input network's front end (when given, see
-/// [`run_signal_through`]), the trigger, then the output at the load (when output dynamics are
-/// given, see [`run_signal_with_output`]).
-pub fn run_signal_chain(
-    settings: &SignalSettings,
-    design: &TriggerDesign,
-    capture: Option<&Capture>,
-    front: Option<&crate::input_network::noise::FrontEnd>,
-    output: Option<&crate::output_dynamics::OutputDynamicsReport>,
-) -> Result<SignalRun, DesignError> {
-    let mut run = run_inner(settings, design, capture, true, front)?;
-    if let Some(r) = output {
-        super::output_edges::apply_output_dynamics(&mut run, design, r);
-    }
-    Ok(run)
-}
-
 /// The signal study's summary, without keeping the waveforms.
 pub fn evaluate_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalReport, DesignError> {
     run_inner(settings, design, capture, false, None).map(|r| r.report)

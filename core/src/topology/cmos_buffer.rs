@@ -328,7 +328,7 @@ impl Circuit for CmosBufferSchmitt {
 
     /// The gate's output resistance and the load as a Thevenin source in series with R2 (module
     /// [`crate::output_dynamics`]).
-    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+    fn with_output_load(&self, load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         let (h, l, rs) = load.thevenin(self.gate.output_high_v(), self.gate.output_low_v);
         let mut c = self.clone();
         c.r2_ohm += rs;

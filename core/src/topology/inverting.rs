@@ -224,9 +224,9 @@ impl Circuit for InvertingSchmitt {
     }
 
     /// Ro and the load as a Thevenin source in series with Rf (module [`crate::output_dynamics`]).
-    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+    fn with_output_load(&self, load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         let (h, l, rs) = load.thevenin(self.device.output_high_v(), self.device.output_low_v());
-        let device = crate::output_dynamics::comparator_with_levels(&self.device, h, l);
+        let device = crate::topology::output_load::comparator_with_levels(&self.device, h, l);
         Some(InvertingSchmitt { rf_ohm: self.rf_ohm + rs, device, ..self.clone() })
     }
 

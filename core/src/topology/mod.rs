@@ -25,6 +25,7 @@ pub mod netlisting;
 pub mod comparator;
 pub mod reference;
 pub mod input_rails;
+pub mod output_load;
 pub mod logic;
 #[cfg(test)]
 mod toy;
@@ -220,7 +221,7 @@ pub trait Circuit: Clone {
     /// (see [`crate::output_dynamics`]: output levels replaced by their Thevenin values, the
     /// series resistance added to the feedback resistor), so `thresholds()` of the copy are the
     /// thresholds under load. `None` (the default): not modelled for this topology.
-    fn with_output_load(&self, _load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+    fn with_output_load(&self, _load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         None
     }
 
@@ -665,7 +666,7 @@ macro_rules! topologies {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.troubleshooting(analysis, checks), )+ }
             }
             fn transistor_stress(&self) -> Vec<TransistorStress> { match self { $( $(#[$attr])* Topology::$variant(c) => c.transistor_stress(), )+ } }
-            fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+            fn with_output_load(&self, load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.with_output_load(load).map(Topology::$variant), )+ }
             }
             fn monotone_structure(&self) -> Option<MonotoneStructure> { match self { $( $(#[$attr])* Topology::$variant(c) => c.monotone_structure(), )+ } }

@@ -484,7 +484,7 @@ impl Circuit for OpenDrainSchmitt {
 
     /// Ro adds to the on transistor's sink resistance; the load RL joins the existing load to 0 V
     /// (the pull-up network's high level and the feedback are modelled exactly already).
-    fn with_output_load(&self, load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+    fn with_output_load(&self, load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         let rl_ohm = match (self.rl_ohm, load.load_resistance_ohm) {
             (Some(a), Some(b)) => Some(a * b / (a + b)),
             (a, b) => a.or(b),

@@ -143,7 +143,7 @@ impl Circuit for PlainComparator {
     }
 
     /// No feedback from the output: the load moves no threshold.
-    fn with_output_load(&self, _load: &crate::output_dynamics::OutputLoad) -> Option<Self> {
+    fn with_output_load(&self, _load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         Some(self.clone())
     }
 
