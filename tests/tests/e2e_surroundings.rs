@@ -16,7 +16,8 @@ fn sawmill() -> DesignRecord {
 }
 
 /// Thresholds at the field terminal of a non-inverting trigger (input resistor R1, feedback R2)
-/// fed from a dropper of ratio g through a source resistance Rs: the source resistance adds to R1,
+/// fed from a dropper of ratio g through a source resistance Rs, its output behind Ro with a load RL:
+/// the source resistance adds to R1,
 /// so g·V = Vr·(1 + (R1+Rs)/R2) − Vout·(R1+Rs)/R2 (the non-inverting Schmitt's textbook thresholds,
 /// e.g. Horowitz & Hill, from memory). Vr, the reference as the trigger sees it (offset included),
 /// is recovered from the trigger's own pin thresholds with the same formula at Rs = 0.
@@ -25,10 +26,15 @@ fn closed_form_field(record: &DesignRecord, series_ohm: f64) -> (f64, f64) {
     let net = record.input_network.as_ref().expect("the demo has an input network");
     let d = net.dropper.expect("the demo has a dropper");
     let f = net.filter.expect("the demo has a filter");
-    let (vol, voh) = record.circuit.output_levels().expect("output levels");
+    let (voh, vol) = record.circuit.output_levels().expect("output levels (high, low)");
     let pin = record.circuit.thresholds().expect("pin thresholds");
     let (r1, r2) = (c.r1_ohm, c.r2_ohm);
     let vr = (pin.vt_upper_v + vol * r1 / r2) / (1.0 + r1 / r2);
+    // The output under its load (Thevenin's theorem): levels ·RL/(Ro+RL) behind Ro‖RL, which adds
+    // to the feedback resistor.
+    let od = record.output_dynamics.expect("the demo has output dynamics");
+    let (ro, rl) = (od.output_resistance_ohm, od.load_resistance_ohm.expect("a load resistor"));
+    let (voh, vol, r2) = (voh * rl / (ro + rl), vol * rl / (ro + rl), r2 + ro * rl / (ro + rl));
     let g = d.bottom_ohm / (d.top_ohm + d.bottom_ohm);
     let rs = d.top_ohm * d.bottom_ohm / (d.top_ohm + d.bottom_ohm) + series_ohm + f.r_ohm;
     let k = (r1 + rs) / r2;
