@@ -76,6 +76,11 @@ pub fn DesignSheet() -> impl IntoView {
                         <div>
                             <img class="sheet-schematic" src=move || if printing.get() == 0 { String::new() } else { { let s = style.get(); with_shown(&|r| schematic_url(r, s)) } } alt="Schematic" />
                             <canvas class="sheet-curve" node_ref=canvas width="480" height="240" aria-hidden="true"></canvas>
+                            // The studies' one-line findings sit under the curve, so the two columns
+                            // stay of similar height and the sheet keeps to one page.
+                            <p id="sheet-temperature">{temperature.map(|t| format!("Drift with temperature — {t}."))}</p>
+                            <p id="sheet-input-network">{input_network}</p>
+                            {dynamics.into_iter().map(|line| view! { <p class="sheet-dynamics">{line}</p> }).collect_view()}
                         </div>
                         <div>
                             <table class="grid sheet-table">
@@ -87,9 +92,6 @@ pub fn DesignSheet() -> impl IntoView {
                                 </tbody>
                             </table>
                             <p class="sheet-windows">"Field window: every tolerance over its full range (supply, temperature, device spread, parts). Bench window: part tolerances and device spread only, at room temperature and the supply the bench step sets — accept readings by this one."</p>
-                            <p id="sheet-temperature">{temperature.map(|t| format!("Drift with temperature — {t}."))}</p>
-                            <p id="sheet-input-network">{input_network}</p>
-                            {dynamics.into_iter().map(|line| view! { <p class="sheet-dynamics">{line}</p> }).collect_view()}
                             <p>{move || slow.get().and_then(|SheetStudies { spec_yield, .. }| spec_yield).map(|(f, n)| format!("Monte Carlo yield in the spec window: {:.2} % of {n} boards.", f * 100.0))}</p>
                             <p>{move || slow.get().and_then(|SheetStudies { signal, .. }| signal).map(|s| format!(
                                 "Signal test: {} edges from the design{}; the plain comparator gives {} edges{}.",
@@ -104,6 +106,7 @@ pub fn DesignSheet() -> impl IntoView {
                                         {b.resistors.iter().map(|r| view! { <tr><td>{r.designator.clone()}</td><td>{format!("{} ({})", r.value_text, r.value_rkm)}</td><td>{format!("{} %", r.tolerance_pct)}</td><td>{r.package.label()}</td><td>{format!("{} W", r.package_rating_w)}</td><td>{r.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td></tr> }).collect_view()}
                                         {b.application.iter().map(|p| view! { <tr><td>{p.designator.clone()}</td><td>{p.value_text.clone()}</td><td></td><td>{p.label.clone()}</td><td></td><td>{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td></tr> }).collect_view()}
                                         {b.regulators.iter().map(|g| view! { <tr><td>{g.designator.clone()}</td><td colspan="4">{g.description.clone()}</td><td>{g.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td></tr> }).collect_view()}
+                                        {b.input_network.iter().map(|p| view! { <tr class="sheet-network"><td>{p.designator.clone()}</td><td>{p.value_text.clone()}</td><td></td><td colspan="2">{p.label.split(" (").next().unwrap_or_default().trim_start_matches("input ").to_string()}</td><td>{p.suggested_power_w.map(|w| format!("{w} W")).into_iter().chain(p.suggested_voltage_v.map(|v| format!("{v} V"))).collect::<Vec<_>>().join(", ")}</td></tr> }).collect_view()}
                                         <tr><td>{b.device.designator.clone()}</td><td colspan="5">{b.device.description.clone()}</td></tr>
                                     </tbody>
                                 </table>
