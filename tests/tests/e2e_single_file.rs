@@ -80,13 +80,13 @@ async fn single_file_runs_studies_on_blob_workers_or_says_it_runs_them_on_the_pa
     let s = browser::start_at(format!("file://{}", file.display())).await;
     // A long run: the two-transistor demo costs an Ebers–Moll solve per trial.
     s.add_starter("demo:dust-extractor").await;
-    s.type_into("#mc-trials", "1M").await;
-    s.wait_stored("r.tolerance.monte_carlo.trials === 1000000").await;
+    s.type_into("#mc-trials", "70k").await;
+    s.wait_stored("r.tolerance.monte_carlo.trials === 70000").await;
     s.wait_for("#mc-run").await.click().await.unwrap();
     let status = s
         .wait_js(
             "progress with the total announced and some trials done",
-            "const e = document.querySelector('#mc-status'); return e && +e.dataset.total === 1000000 && +e.dataset.done > 0 ? e.textContent : null;",
+            "const e = document.querySelector('#mc-status'); return e && +e.dataset.total === 70000 && +e.dataset.done > 0 ? e.textContent : null;",
         )
         .await;
     let status = status.as_str().unwrap_or_default().to_string();

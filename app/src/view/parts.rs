@@ -25,9 +25,12 @@ pub fn PartsSection() -> impl IntoView {
     let search = super::search::SearchState::new();
     // New targets make the exact answer stale; another design stops a running search. A search
     // result is kept with its design and marked out of date when the targets change (never cleared).
+    // Only a change of the targets themselves (a memo compares them), not any edit of the record
+    // (keeping the search result with the design is one).
+    let targets = Memo::new(move |_| nb.with_current(|r| r.targets).flatten());
     Effect::new(move |_| {
         nb.current.track();
-        let _ = nb.with_current(|r| r.targets);
+        targets.track();
         exact.set(None);
     });
     Effect::new(move |_| {

@@ -304,6 +304,11 @@ impl<C: Circuit> WorstCaseRun<C> {
                 reason: format!("corners {start}..{end} are not inside 0..{}", self.corners()),
             });
         }
+        if self.corners() == 0 {
+            // Too many varied parameters for the corners: the sign method alone (the fallback),
+            // so there is nothing to scan.
+            return Ok(CornerScan::empty(start));
+        }
         scan_corners(&self.prep, self.corner_limit, start, end)
     }
 
