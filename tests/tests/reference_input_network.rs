@@ -272,7 +272,10 @@ fn the_signal_study_sees_the_filter_in_rices_formula_and_in_the_samples() {
 /// Runs a transient of `deck` in ngspice, returning (t, v(out), v(field)) rows, or `None` with the
 /// reason printed when ngspice cannot be run.
 fn ngspice_tran(deck: &str, stop_s: f64, step_s: f64) -> Option<Vec<(f64, f64, f64)>> {
-    let dir = std::env::temp_dir().join(format!("hysteron_input_network_{}", std::process::id()));
+    // One folder per run: tests of this file run in parallel threads of one process.
+    static RUNS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+    let run = RUNS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let dir = std::env::temp_dir().join(format!("hysteron_input_network_{}_{run}", std::process::id()));
     std::fs::create_dir_all(&dir).ok()?;
     let data = dir.join("tran.txt");
     let body = deck.trim_end().strip_suffix(".end")?;
