@@ -1,5 +1,5 @@
 //! Long studies off the page's thread: [`start`] hands a `core::jobs::Job` to the compute workers
-//! (`worker/`, built by Trunk as `hysteron-worker_loader.js`), shows progress through a callback and
+//! (`app/worker/`, built by Trunk as `hysteron-worker_loader.js`), shows progress through a callback and
 //! calls back once with the result; [`JobHandle::cancel`] stops it at once (the workers running it
 //! are terminated). A job that `core::jobs::split` can cut (Monte Carlo by trials, the noise sweep
 //! by levels) is spread over `navigator.hardwareConcurrency` workers and merged in order with
