@@ -8,6 +8,8 @@ pub mod browser;
 pub mod server;
 pub mod designs;
 pub mod mutate;
+pub mod ngspice;
+pub mod nodal;
 pub mod sampling;
 
 /// Number of cases for a property test: `base` in CI and ordinary runs, `base` times the whole number

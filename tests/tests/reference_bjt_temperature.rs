@@ -20,6 +20,7 @@
 //! hand model (VBE1 = VBE2) only the base-current drop RB2·IB2 carries VBE, with gain
 //! (RB2/(β+1))/(RE + RB2/(β+1)) ≈ 0.04.
 
+use hysteron_tests::ngspice;
 use hysteron_core::spice::to_spice;
 use hysteron_core::topology::bjt_pair::{BjtModel, EmitterCoupledSchmitt, BOLTZMANN_OVER_CHARGE_V_PER_K};
 use hysteron_core::topology::{Circuit, Topology};
@@ -159,58 +160,9 @@ fn vt_upper_is_set_by_the_divider_and_moves_only_by_the_vbe_difference() {
 // ngspice on the exported deck.
 // ---------------------------------------------------------------------------------------------
 
-/// Runs ngspice in batch mode on `deck` (its `.end` replaced by a control block that sweeps VIN
-/// from `from` to `to` and writes v(out)); returns (vin, vout) pairs, or `None` with the reason
-/// printed when ngspice cannot be run.
-fn ngspice_sweep(deck: &str, from: f64, to: f64, tag: &str) -> Option<Vec<(f64, f64)>> {
-    let dir = std::env::temp_dir().join(format!("hysteron_bjt_temperature_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).ok()?;
-    let data = dir.join(format!("{tag}.txt"));
-    let step = if to > from { 1e-3 } else { -1e-3 };
-    let body = deck.trim_end().strip_suffix(".end")?;
-    let text = format!(
-        "{body}\n.control\nset wr_singlescale\ndc VIN {from} {to} {step}\nwrdata {} v(out)\nquit\n.endc\n.end\n",
-        data.display()
-    );
-    let cir = dir.join(format!("{tag}.cir"));
-    std::fs::write(&cir, text).ok()?;
-    let out = match std::process::Command::new("ngspice").arg("-b").arg(&cir).output() {
-        Ok(o) => o,
-        Err(e) => {
-            println!("skipped: ngspice cannot be run ({e}); `cargo xtask setup` installs it (Debian package ngspice)");
-            return None;
-        }
-    };
-    assert!(
-        out.status.success(),
-        "ngspice failed on {}:\n{}\n{}",
-        cir.display(),
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let rows = std::fs::read_to_string(&data).unwrap_or_else(|e| panic!("{}: {e}", data.display()));
-    Some(
-        rows.lines()
-            .filter_map(|l| {
-                let mut it = l.split_whitespace().filter_map(|x| x.parse::<f64>().ok());
-                Some((it.next()?, it.next()?))
-            })
-            .collect(),
-    )
-}
-
-/// The input where the output first crosses `level` in the sweep's direction.
-fn crossing(rows: &[(f64, f64)], level: f64) -> Option<f64> {
-    rows.windows(2).find_map(|w| {
-        let ((x0, y0), (x1, y1)) = (w[0], w[1]);
-        ((y0 - level) * (y1 - level) <= 0.0 && y0 != y1).then(|| x0 + (level - y0) * (x1 - x0) / (y1 - y0))
-    })
-}
-
 #[test]
 fn ngspice_agrees_on_the_thresholds_at_three_temperatures() {
-    if std::process::Command::new("ngspice").arg("--version").output().is_err() {
-        println!("skipped: ngspice is not installed (`cargo xtask setup` installs it; Debian package ngspice)");
+    if !ngspice::available() {
         return;
     }
     // Tolerance: the sweep step (1 mV) plus the interpolation across the jump; SPICE's bipolar
@@ -223,10 +175,10 @@ fn ngspice_agrees_on_the_thresholds_at_three_temperatures() {
         let (voh, vol) = c.output_levels().unwrap();
         let mid = 0.5 * (voh + vol);
         let deck = to_spice(&Topology::BjtPair(c.clone()), "bjt pair temperature check").unwrap();
-        let Some(up) = ngspice_sweep(&deck, 0.0, 8.0, &format!("up_{t_k}")) else { return };
-        let Some(down) = ngspice_sweep(&deck, 8.0, 0.0, &format!("down_{t_k}")) else { return };
-        let vt_upper = crossing(&up, mid).expect("rising sweep: the output never crosses its mid level");
-        let vt_lower = crossing(&down, mid).expect("falling sweep: the output never crosses its mid level");
+        let Some(up) = ngspice::dc_sweep(&deck, 0.0, 8.0) else { return };
+        let Some(down) = ngspice::dc_sweep(&deck, 8.0, 0.0) else { return };
+        let vt_upper = ngspice::crossing(&up, mid).expect("rising sweep: the output never crosses its mid level");
+        let vt_lower = ngspice::crossing(&down, mid).expect("falling sweep: the output never crosses its mid level");
         println!(
             "{t_k} K: ngspice VT+ {vt_upper:.4} V, VT− {vt_lower:.4} V; Hysteron {:.4} / {:.4} V",
             ours.vt_upper_v, ours.vt_lower_v
@@ -242,8 +194,7 @@ fn ngspice_runs_the_suggested_transient_through_both_folds() {
     // and the suggested `.tran 1m 2` aborts; with CJE, CJC and TF in the model it completes, and
     // the output switches where the DC thresholds say (the input ramps at about 4.5 V/s, so the
     // nanosecond-scale charge delays shift the crossings by far less than the tolerance).
-    if std::process::Command::new("ngspice").arg("--version").output().is_err() {
-        println!("skipped: ngspice is not installed (`cargo xtask setup` installs it; Debian package ngspice)");
+    if !ngspice::available() {
         return;
     }
     let c = design(BjtModel::EbersMoll, 300.15);
@@ -251,18 +202,10 @@ fn ngspice_runs_the_suggested_transient_through_both_folds() {
     let (voh, vol) = c.output_levels().unwrap();
     let mid = 0.5 * (voh + vol);
     let deck = to_spice(&Topology::BjtPair(c), "bjt pair transient check").unwrap();
-    let dir = std::env::temp_dir().join(format!("hysteron_bjt_transient_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let data = dir.join("tran.txt");
-    let body = deck.trim_end().strip_suffix(".end").unwrap();
-    let cir = dir.join("tran.cir");
-    std::fs::write(&cir, format!("{body}\n.control\ntran 1m 2\nwrdata {} v(out) v(in)\nquit\n.endc\n.end\n", data.display()))
-        .unwrap();
-    let out = std::process::Command::new("ngspice").arg("-b").arg(&cir).output().unwrap();
-    let log = String::from_utf8_lossy(&out.stdout).to_string() + &String::from_utf8_lossy(&out.stderr);
-    assert!(out.status.success() && !log.contains("aborted"), "{log}");
+    let (log, dir) = ngspice::run(&deck, "tran 1m 2\nwrdata {dir}/tran.txt v(out) v(in)").expect("ngspice runs");
+    assert!(!log.contains("aborted"), "{log}");
     // wrdata writes "t v(out) t v(in)" per row.
-    let rows: Vec<[f64; 4]> = std::fs::read_to_string(&data)
+    let rows: Vec<[f64; 4]> = std::fs::read_to_string(dir.join("tran.txt"))
         .unwrap()
         .lines()
         .filter_map(|l| {

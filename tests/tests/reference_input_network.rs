@@ -13,6 +13,7 @@
 //! (e) when ngspice is installed, a transient of the exported deck gives Hysteron's edge delay and
 //!     field thresholds.
 
+use hysteron_tests::ngspice;
 use hysteron_core::analysis::CheckSettings;
 use hysteron_core::bom::PartSettings;
 use hysteron_core::device::Comparator;
@@ -272,36 +273,8 @@ fn the_signal_study_sees_the_filter_in_rices_formula_and_in_the_samples() {
 /// Runs a transient of `deck` in ngspice, returning (t, v(out), v(field)) rows, or `None` with the
 /// reason printed when ngspice cannot be run.
 fn ngspice_tran(deck: &str, stop_s: f64, step_s: f64) -> Option<Vec<(f64, f64, f64)>> {
-    // One folder per run: tests of this file run in parallel threads of one process.
-    static RUNS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
-    let run = RUNS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
-    let dir = std::env::temp_dir().join(format!("hysteron_input_network_{}_{run}", std::process::id()));
-    std::fs::create_dir_all(&dir).ok()?;
-    let data = dir.join("tran.txt");
-    let body = deck.trim_end().strip_suffix(".end")?;
-    let text = format!(
-        "{body}\n.control\nset wr_singlescale\ntran {step_s} {stop_s} 0 {step_s}\nwrdata {} v(out) v(field)\nquit\n.endc\n.end\n",
-        data.display()
-    );
-    let cir = dir.join("tran.cir");
-    std::fs::write(&cir, text).ok()?;
-    let out = match std::process::Command::new("ngspice").arg("-b").arg(&cir).output() {
-        Ok(o) => o,
-        Err(e) => {
-            println!("skipped: ngspice cannot be run ({e}); Debian package ngspice");
-            return None;
-        }
-    };
-    assert!(out.status.success(), "ngspice failed on {}:\n{}\n{}", cir.display(), String::from_utf8_lossy(&out.stdout), String::from_utf8_lossy(&out.stderr));
-    let rows = std::fs::read_to_string(&data).unwrap_or_else(|e| panic!("{}: {e}", data.display()));
-    Some(
-        rows.lines()
-            .filter_map(|l| {
-                let mut it = l.split_whitespace().filter_map(|x| x.parse::<f64>().ok());
-                Some((it.next()?, it.next()?, it.next()?))
-            })
-            .collect(),
-    )
+    let rows = ngspice::table(deck, &format!("tran {step_s} {stop_s} 0 {step_s}"), "v(out) v(field)")?;
+    Some(rows.iter().filter(|r| r.len() >= 3).map(|r| (r[0], r[1], r[2])).collect())
 }
 
 /// Exports `net` in front of the non-inverting trigger, runs the deck's rising ramp in ngspice and

@@ -17,7 +17,7 @@ use hysteron_core::evaluate::evaluate;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::topology::inverting::InvertingSchmitt;
 use hysteron_core::topology::{Circuit, Topology};
-use nalgebra::{DMatrix, DVector};
+use hysteron_tests::nodal::Nodal;
 use proptest::prelude::*;
 
 // ---------------------------------------------------------------------------------------------
@@ -26,67 +26,6 @@ use proptest::prelude::*;
 
 use hysteron_tests::sampling::{close, random_comparator as random_device, Lcg};
 
-/// Nodal analysis of a resistive network whose nodes are either held at a known voltage or unknown.
-/// Kirchhoff's current law at each unknown node: Σ G·(Vn − Vm) + I_drawn = 0, solved with an LU
-/// decomposition. Conductances are scaled by R0 = 10 kΩ for conditioning.
-struct Nodal {
-    known: Vec<Option<f64>>,
-    resistors: Vec<(usize, usize, f64)>,
-    draws: Vec<(usize, f64)>,
-}
-
-impl Nodal {
-    fn new() -> Self {
-        Nodal { known: vec![], resistors: vec![], draws: vec![] }
-    }
-    fn held(&mut self, volts: f64) -> usize {
-        self.known.push(Some(volts));
-        self.known.len() - 1
-    }
-    fn free(&mut self) -> usize {
-        self.known.push(None);
-        self.known.len() - 1
-    }
-    fn r(&mut self, a: usize, b: usize, ohm: f64) {
-        self.resistors.push((a, b, ohm));
-    }
-    /// Current drawn out of node `a` (an input bias current into a device pin), amperes.
-    fn draw(&mut self, a: usize, amps: f64) {
-        self.draws.push((a, amps));
-    }
-    fn solve(&self) -> Vec<f64> {
-        const R0: f64 = 1e4;
-        let unknown: Vec<usize> = (0..self.known.len()).filter(|&i| self.known[i].is_none()).collect();
-        let row = |node: usize| unknown.iter().position(|&u| u == node);
-        let n = unknown.len();
-        let mut g = DMatrix::<f64>::zeros(n, n);
-        let mut rhs = DVector::<f64>::zeros(n);
-        for &(a, b, ohm) in &self.resistors {
-            let y = R0 / ohm;
-            for (this, other) in [(a, b), (b, a)] {
-                if let Some(i) = row(this) {
-                    g[(i, i)] += y;
-                    match (row(other), self.known[other]) {
-                        (Some(j), _) => g[(i, j)] -= y,
-                        (None, Some(v)) => rhs[i] += y * v,
-                        (None, None) => unreachable!(),
-                    }
-                }
-            }
-        }
-        for &(a, amps) in &self.draws {
-            if let Some(i) = row(a) {
-                rhs[i] -= amps * R0;
-            }
-        }
-        let x = g.lu().solve(&rhs).expect("network matrix is singular");
-        let mut v: Vec<f64> = self.known.iter().map(|k| k.unwrap_or(0.0)).collect();
-        for (k, &node) in unknown.iter().enumerate() {
-            v[node] = x[k];
-        }
-        v
-    }
-}
 
 fn rail_v(rail: Rail, d: &Comparator) -> f64 {
     match rail {

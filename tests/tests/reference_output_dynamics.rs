@@ -12,6 +12,7 @@
 //! (f) when ngspice is installed, a transient of the exported deck with Ro and CL gives the
 //!     10–90 % edge time within 3 % of Hysteron's.
 
+use hysteron_tests::ngspice;
 use hysteron_core::analysis::OutputState;
 use hysteron_core::device::Comparator;
 use hysteron_core::output_dynamics::{
@@ -23,60 +24,8 @@ use hysteron_core::topology::inverting::InvertingSchmitt;
 use hysteron_core::topology::noninverting::NonInvertingSchmitt;
 use hysteron_core::topology::{Circuit, Topology};
 use hysteron_tests::sampling::{close, Lcg};
-use nalgebra::{DMatrix, DVector};
+use hysteron_tests::nodal::Nodal;
 
-// ---------------------------------------------------------------------------------------------
-// Nodal analysis: KCL at each free node, Σ G·(Vn − Vm) = 0, solved with an LU decomposition.
-// ---------------------------------------------------------------------------------------------
-
-struct Nodal {
-    known: Vec<Option<f64>>,
-    resistors: Vec<(usize, usize, f64)>,
-}
-
-impl Nodal {
-    fn new() -> Self {
-        Nodal { known: vec![], resistors: vec![] }
-    }
-    fn held(&mut self, v: f64) -> usize {
-        self.known.push(Some(v));
-        self.known.len() - 1
-    }
-    fn free(&mut self) -> usize {
-        self.known.push(None);
-        self.known.len() - 1
-    }
-    fn r(&mut self, a: usize, b: usize, ohm: f64) {
-        self.resistors.push((a, b, ohm));
-    }
-    fn solve(&self) -> Vec<f64> {
-        const R0: f64 = 1e4;
-        let unknown: Vec<usize> = (0..self.known.len()).filter(|&i| self.known[i].is_none()).collect();
-        let row = |node: usize| unknown.iter().position(|&u| u == node);
-        let n = unknown.len();
-        let mut g = DMatrix::<f64>::zeros(n, n);
-        let mut rhs = DVector::<f64>::zeros(n);
-        for &(a, b, ohm) in &self.resistors {
-            let y = R0 / ohm;
-            for (this, other) in [(a, b), (b, a)] {
-                if let Some(i) = row(this) {
-                    g[(i, i)] += y;
-                    match (row(other), self.known[other]) {
-                        (Some(j), _) => g[(i, j)] -= y,
-                        (None, Some(v)) => rhs[i] += y * v,
-                        (None, None) => unreachable!(),
-                    }
-                }
-            }
-        }
-        let x = g.lu().solve(&rhs).expect("network matrix is singular");
-        let mut v: Vec<f64> = self.known.iter().map(|k| k.unwrap_or(0.0)).collect();
-        for (k, &node) in unknown.iter().enumerate() {
-            v[node] = x[k];
-        }
-        v
-    }
-}
 
 /// An ideal device on `supply` with rail-to-rail outputs, except for the output headroom given.
 fn device(supply: f64, drop_high: f64, rise_low: f64) -> Comparator {
@@ -367,18 +316,9 @@ fn old_records_load_unchanged_and_new_sections_reach_the_result() {
 // (f) ngspice transient of the exported deck.
 // ---------------------------------------------------------------------------------------------
 
-/// The first time after `after` at which `rows` cross `level` in either direction.
-fn crossing_time(rows: &[(f64, f64)], level: f64, after: f64) -> Option<f64> {
-    rows.windows(2).find_map(|w| {
-        let ((t0, y0), (t1, y1)) = (w[0], w[1]);
-        (t0 >= after && (y0 - level) * (y1 - level) <= 0.0 && y0 != y1).then(|| t0 + (level - y0) * (t1 - t0) / (y1 - y0))
-    })
-}
-
 #[test]
 fn ngspice_transient_gives_the_rc_edge_time() {
-    if std::process::Command::new("ngspice").arg("--version").output().is_err() {
-        println!("skipped: ngspice is not installed (Debian package ngspice)");
+    if !ngspice::available() {
         return;
     }
     // Ro 100 Ω, CL 1 nF: τ = 100 ns, 10–90 % = 219.7 ns. Tolerance 3 %: the deck's switch adds its
@@ -395,24 +335,11 @@ fn ngspice_transient_gives_the_rc_edge_time() {
         .map(|l| if l.starts_with("VIN ") { format!("{} PWL(0 0 1u 0 1.001u 5 5u 5 5.001u 0)", l.split(" DC ").next().unwrap()) } else { l.to_string() })
         .collect::<Vec<_>>()
         .join("\n");
-    let dir = std::env::temp_dir().join(format!("hysteron_output_dynamics_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let data = dir.join("out.txt");
-    let cir = dir.join("edge.cir");
-    std::fs::write(&cir, format!("{body}\n.control\nset wr_singlescale\ntran 1n 10u 0 1n\nwrdata {} v(out)\nquit\n.endc\n.end\n", data.display())).unwrap();
-    let out = std::process::Command::new("ngspice").arg("-b").arg(&cir).output().unwrap();
-    assert!(out.status.success(), "ngspice failed:\n{}\n{}", String::from_utf8_lossy(&out.stdout), String::from_utf8_lossy(&out.stderr));
-    let rows: Vec<(f64, f64)> = std::fs::read_to_string(&data)
-        .unwrap()
-        .lines()
-        .filter_map(|l| {
-            let mut it = l.split_whitespace().filter_map(|x| x.parse::<f64>().ok());
-            Some((it.next()?, it.next()?))
-        })
-        .collect();
+    let Some(rows) = ngspice::table(&format!("{body}\n.end\n"), "tran 1n 10u 0 1n", "v(out)") else { return };
+    let rows: Vec<(f64, f64)> = rows.iter().filter(|r| r.len() >= 2).map(|r| (r[0], r[1])).collect();
     // Falling edge (input steps up at 1 µs), then rising (input steps down at 5 µs); levels 0/5 V.
-    let fall = crossing_time(&rows, 0.5, 1e-6).unwrap() - crossing_time(&rows, 4.5, 1e-6).unwrap();
-    let rise = crossing_time(&rows, 4.5, 5e-6).unwrap() - crossing_time(&rows, 0.5, 5e-6).unwrap();
+    let fall = ngspice::crossing_after(&rows, 0.5, 1e-6).unwrap() - ngspice::crossing_after(&rows, 4.5, 1e-6).unwrap();
+    let rise = ngspice::crossing_after(&rows, 4.5, 5e-6).unwrap() - ngspice::crossing_after(&rows, 0.5, 5e-6).unwrap();
     println!("ngspice fall {fall:e} s, rise {rise:e} s; Hysteron {:e} s", ours.rise.t10_90_s);
     assert!((fall - ours.fall.t10_90_s).abs() < 0.03 * ours.fall.t10_90_s, "fall {fall} vs {}", ours.fall.t10_90_s);
     assert!((rise - ours.rise.t10_90_s).abs() < 0.03 * ours.rise.t10_90_s, "rise {rise} vs {}", ours.rise.t10_90_s);

@@ -16,6 +16,7 @@
 //! tens of ohms slope resistance at 5 mA; shunt reference Vref 2.495 V, Iref 2 µA, Zka 0.2 Ω,
 //! minimum cathode current 1 mA, Vref specified at 10 mA.
 
+use hysteron_tests::ngspice;
 use hysteron_core::analysis::{CheckSettings, OutputState, WarningCode};
 use hysteron_core::device::{Comparator, Rail};
 use hysteron_core::record::DesignRecord;
@@ -294,59 +295,6 @@ fn records_name_the_kind_and_the_page_can_switch_it() {
 // ngspice on the exported deck.
 // ---------------------------------------------------------------------------------------------
 
-/// Runs ngspice in batch mode on `deck` with `control` in place of its `.end`; returns stdout,
-/// or `None` (with the reason printed) when ngspice cannot be run.
-fn ngspice(deck: &str, control: &str, tag: &str) -> Option<String> {
-    let dir = std::env::temp_dir().join(format!("hysteron_reference_zener_shunt_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).ok()?;
-    let body = deck.trim_end().strip_suffix(".end")?;
-    let cir = dir.join(format!("{tag}.cir"));
-    std::fs::write(&cir, format!("{body}\n.control\n{control}\nquit\n.endc\n.end\n")).ok()?;
-    let out = match std::process::Command::new("ngspice").arg("-b").arg(&cir).output() {
-        Ok(o) => o,
-        Err(e) => {
-            println!("skipped: ngspice cannot be run ({e}); `cargo xtask setup` installs it (Debian package ngspice)");
-            return None;
-        }
-    };
-    let text = String::from_utf8_lossy(&out.stdout).to_string();
-    assert!(out.status.success(), "ngspice failed on {}:\n{text}\n{}", cir.display(), String::from_utf8_lossy(&out.stderr));
-    Some(text)
-}
-
-/// The value printed by ngspice's `print v(node)` ("v(n) = 3.000000e+00").
-fn printed(text: &str, name: &str) -> f64 {
-    text.lines()
-        .find_map(|l| {
-            let (k, v) = l.split_once('=')?;
-            (k.trim() == name).then(|| v.trim().parse::<f64>().ok()).flatten()
-        })
-        .unwrap_or_else(|| panic!("no {name} in:\n{text}"))
-}
-
-/// The input where the output first crosses `level` in a swept (vin, vout) table.
-fn crossing(rows: &[(f64, f64)], level: f64) -> Option<f64> {
-    rows.windows(2).find_map(|w| {
-        let ((x0, y0), (x1, y1)) = (w[0], w[1]);
-        ((y0 - level) * (y1 - level) <= 0.0 && y0 != y1).then(|| x0 + (level - y0) * (x1 - x0) / (y1 - y0))
-    })
-}
-
-fn sweep(deck: &str, from: f64, to: f64, tag: &str) -> Option<Vec<(f64, f64)>> {
-    let data = std::env::temp_dir().join(format!("hysteron_reference_zener_shunt_{}_{tag}.txt", std::process::id()));
-    let step = if to > from { 1e-3 } else { -1e-3 };
-    ngspice(deck, &format!("set wr_singlescale\ndc VIN {from} {to} {step}\nwrdata {} v(out)", data.display()), tag)?;
-    let rows = std::fs::read_to_string(&data).unwrap_or_else(|e| panic!("{}: {e}", data.display()));
-    Some(
-        rows.lines()
-            .filter_map(|l| {
-                let mut it = l.split_whitespace().filter_map(|x| x.parse::<f64>().ok());
-                Some((it.next()?, it.next()?))
-            })
-            .collect(),
-    )
-}
-
 #[test]
 fn ngspice_operating_point_and_switching_points_agree_with_the_exported_deck() {
     for (tag, reference) in [("zener", Reference::Zener(zener(30.0))), ("shunt", Reference::Shunt(shunt()))] {
@@ -354,19 +302,19 @@ fn ngspice_operating_point_and_switching_points_agree_with_the_exported_deck() {
         let topology = Topology::NonInverting(c.clone());
         let deck = to_spice(&topology, &format!("reference {tag}")).unwrap();
         assert!(deck.contains(if tag == "zener" { "BD1 n 0 I=max(" } else { "BU2 n 0 I=max(" }), "{deck}");
-        let Some(op) = ngspice(&deck, "op\nprint v(n)", &format!("{tag}_op")) else { return };
+        let Some((op, _)) = ngspice::run(&deck, "op\nprint v(n)") else { return };
         // The deck's node includes the input bias current IBN drawn from it, as Hysteron's does.
         let want = reference.node_v(12.0, 0.0, c.device.bias_minus_a);
-        let got = printed(&op, "v(n)");
+        let got = ngspice::printed(&op, "v(n)");
         println!("{tag}: reference node ngspice {got:.6} V, Hysteron {want:.6} V");
         // Tolerance: ngspice's default RELTOL 1e-3 and VNTOL 1 µV bound its node voltages.
         assert!((got - want).abs() < 1e-3 * want.abs() + 1e-6, "{tag}: ngspice {got} V, Hysteron {want} V");
         let t = c.thresholds().unwrap();
         let (lo, hi) = hysteron_core::spice::ramp_span_v(t.vt_upper_v, t.vt_lower_v);
         let mid = 0.5 * (c.device.supply_v - c.device.output_high_drop_v + c.device.output_low_rise_v);
-        let Some(up) = sweep(&deck, lo, hi, &format!("{tag}_up")) else { return };
-        let Some(down) = sweep(&deck, hi, lo, &format!("{tag}_down")) else { return };
-        let (vt_up, vt_lo) = (crossing(&up, mid).expect("rising switch"), crossing(&down, mid).expect("falling switch"));
+        let Some(up) = ngspice::dc_sweep(&deck, lo, hi) else { return };
+        let Some(down) = ngspice::dc_sweep(&deck, hi, lo) else { return };
+        let (vt_up, vt_lo) = (ngspice::crossing(&up, mid).expect("rising switch"), ngspice::crossing(&down, mid).expect("falling switch"));
         println!("{tag}: VT+ ngspice {vt_up:.4} V / Hysteron {:.4} V; VT− ngspice {vt_lo:.4} V / Hysteron {:.4} V", t.vt_upper_v, t.vt_lower_v);
         // Tolerance: the sweep step is 1 mV; the switching point falls within one step.
         assert!((vt_up - t.vt_upper_v).abs() < 2e-3, "{tag}: VT+ ngspice {vt_up} vs {}", t.vt_upper_v);
