@@ -512,52 +512,102 @@ fn csv_number(x: Option<f64>) -> String {
     }
 }
 
+/// One record of [`Bom::to_csv`], field by field in the order of [`CSV_HEADER`]; empty fields
+/// stay empty.
+#[derive(Default)]
+struct CsvRow {
+    designator: String,
+    part: String,
+    value: String,
+    value_full: String,
+    series: String,
+    tolerance_pct: String,
+    package: String,
+    dissipation_w: String,
+    suggested_rating_w: String,
+    package_rating_w: String,
+    max_voltage_v: String,
+    voltage_limit_v: String,
+    notes: String,
+}
+
+impl CsvRow {
+    fn fields(self) -> [String; 13] {
+        [
+            self.designator,
+            self.part,
+            self.value,
+            self.value_full,
+            self.series,
+            self.tolerance_pct,
+            self.package,
+            self.dissipation_w,
+            self.suggested_rating_w,
+            self.package_rating_w,
+            self.max_voltage_v,
+            self.voltage_limit_v,
+            self.notes,
+        ]
+    }
+
+    /// The tolerance, package and package rating of the design's resistors, for an extra
+    /// resistor line (application or input network parts share the design's resistor settings).
+    fn with_resistor_settings(self, settings: &PartSettings) -> Self {
+        CsvRow {
+            tolerance_pct: csv_number(Some(settings.tolerance_pct)),
+            package: settings.package.label().to_string(),
+            package_rating_w: csv_number(Some(settings.package.power_rating_w())),
+            ..self
+        }
+    }
+}
+
+/// Notes with a suggested voltage rating first, when there is one.
+fn notes_with_voltage_rating(notes: &[String], suggested_voltage_v: Option<f64>) -> String {
+    let rating = suggested_voltage_v.map(|v| format!("voltage rating at least {v} V"));
+    rating.iter().chain(notes).cloned().collect::<Vec<_>>().join("; ")
+}
+
 impl Bom {
     /// The part list as CSV text per RFC 4180 (IETF, 2005): a header line ([`CSV_HEADER`]),
     /// one record per part, CRLF line ends, fields quoted where needed (the project's one CSV
     /// writer, [`crate::csv_text`]).
     pub fn to_csv(&self) -> String {
         let mut out = crate::csv_text::CsvText::new(b',', crate::csv_text::LineEnd::Crlf, 1024);
-        let mut line = |fields: &[String]| out.row(fields);
-        line(&CSV_HEADER.map(String::from));
+        out.row(&CSV_HEADER.map(String::from));
+        let mut line = |row: CsvRow| out.row(&row.fields());
         for r in &self.resistors {
-            line(&[
-                r.designator.clone(),
-                format!("resistor, {}", r.label),
-                r.value_rkm.clone(),
-                r.value_text.clone(),
-                r.series.to_string(),
-                csv_number(Some(r.tolerance_pct)),
-                r.package.label().to_string(),
-                csv_number(r.max_power_w),
-                csv_number(r.suggested_rating_w),
-                csv_number(Some(r.package_rating_w)),
-                csv_number(r.max_volts),
-                csv_number(Some(r.voltage_limit_v)),
-                r.notes.join("; "),
-            ]);
+            line(CsvRow {
+                designator: r.designator.clone(),
+                part: format!("resistor, {}", r.label),
+                value: r.value_rkm.clone(),
+                value_full: r.value_text.clone(),
+                series: r.series.to_string(),
+                tolerance_pct: csv_number(Some(r.tolerance_pct)),
+                package: r.package.label().to_string(),
+                dissipation_w: csv_number(r.max_power_w),
+                suggested_rating_w: csv_number(r.suggested_rating_w),
+                package_rating_w: csv_number(Some(r.package_rating_w)),
+                max_voltage_v: csv_number(r.max_volts),
+                voltage_limit_v: csv_number(Some(r.voltage_limit_v)),
+                notes: r.notes.join("; "),
+            });
         }
         for p in &self.application {
             let resistor = p.kind == application::PartKind::Resistor;
-            let mut notes = p.notes.clone();
-            if let Some(v) = p.suggested_voltage_v {
-                notes.insert(0, format!("voltage rating at least {v} V"));
-            }
-            line(&[
-                p.designator.clone(),
-                format!("{}, {}", if resistor { "resistor" } else { "capacitor" }, p.label),
-                p.value_rkm.clone().unwrap_or_else(|| p.value_text.clone()),
-                p.value_text.clone(),
-                p.series.to_string(),
-                if resistor { csv_number(Some(self.settings.tolerance_pct)) } else { String::new() },
-                if resistor { self.settings.package.label().to_string() } else { String::new() },
-                csv_number(p.max_power_w),
-                csv_number(p.suggested_rating_w),
-                if resistor { csv_number(Some(self.settings.package.power_rating_w())) } else { String::new() },
-                csv_number(Some(p.max_volts)),
-                String::new(),
-                notes.join("; "),
-            ]);
+            let row = CsvRow {
+                designator: p.designator.clone(),
+                part: format!("{}, {}", if resistor { "resistor" } else { "capacitor" }, p.label),
+                value: p.value_rkm.clone().unwrap_or_else(|| p.value_text.clone()),
+                value_full: p.value_text.clone(),
+                series: p.series.to_string(),
+                dissipation_w: csv_number(p.max_power_w),
+                suggested_rating_w: csv_number(p.suggested_rating_w),
+                max_voltage_v: csv_number(Some(p.max_volts)),
+                notes: notes_with_voltage_rating(&p.notes, p.suggested_voltage_v),
+                ..CsvRow::default()
+            };
+            line(if resistor { row.with_resistor_settings(&self.settings) } else { row });
         }
         for p in &self.input_network {
             use NetworkPartKind as K;
@@ -567,60 +617,41 @@ impl Bom {
                 K::Diode => "diode",
                 K::Tvs => "TVS diode",
             };
-            let mut notes = p.notes.clone();
-            if let Some(v) = p.suggested_voltage_v {
-                notes.insert(0, format!("voltage rating at least {v} V"));
-            }
-            let resistor = p.kind == K::Resistor;
-            line(&[
-                p.designator.clone(),
-                format!("{kind}, {}", p.label),
-                p.value_text.clone(),
-                p.value_text.clone(),
-                String::new(),
-                if resistor { csv_number(Some(self.settings.tolerance_pct)) } else { String::new() },
-                if resistor { self.settings.package.label().to_string() } else { String::new() },
-                csv_number(Some(p.dissipation_w)),
-                csv_number(p.suggested_power_w),
-                if resistor { csv_number(Some(self.settings.package.power_rating_w())) } else { String::new() },
-                csv_number(Some(p.max_volts)),
-                String::new(),
-                notes.join("; "),
-            ]);
+            let row = CsvRow {
+                designator: p.designator.clone(),
+                part: format!("{kind}, {}", p.label),
+                value: p.value_text.clone(),
+                value_full: p.value_text.clone(),
+                dissipation_w: csv_number(Some(p.dissipation_w)),
+                suggested_rating_w: csv_number(p.suggested_power_w),
+                max_voltage_v: csv_number(Some(p.max_volts)),
+                notes: notes_with_voltage_rating(&p.notes, p.suggested_voltage_v),
+                ..CsvRow::default()
+            };
+            line(if p.kind == K::Resistor { row.with_resistor_settings(&self.settings) } else { row });
         }
         for r in &self.regulators {
-            line(&[
-                r.designator.clone(),
-                r.description.clone(),
-                crate::notation::format_with_unit(r.voltage_v, 4, Unit::Volt),
-                crate::notation::format_with_unit(r.voltage_v, 4, Unit::Volt),
-                String::new(),
-                String::new(),
-                String::new(),
-                csv_number(Some(r.max_power_w)),
-                csv_number(r.suggested_rating_w),
-                String::new(),
-                csv_number(Some(r.voltage_v)),
-                String::new(),
-                r.notes.join("; "),
-            ]);
+            let voltage = crate::notation::format_with_unit(r.voltage_v, 4, Unit::Volt);
+            line(CsvRow {
+                designator: r.designator.clone(),
+                part: r.description.clone(),
+                value: voltage.clone(),
+                value_full: voltage,
+                dissipation_w: csv_number(Some(r.max_power_w)),
+                suggested_rating_w: csv_number(r.suggested_rating_w),
+                max_voltage_v: csv_number(Some(r.voltage_v)),
+                notes: r.notes.join("; "),
+                ..CsvRow::default()
+            });
         }
         let d = &self.device;
-        line(&[
-            d.designator.clone(),
-            d.description.clone(),
-            String::new(),
-            String::new(),
-            String::new(),
-            String::new(),
-            String::new(),
-            String::new(),
-            String::new(),
-            String::new(),
-            csv_number(Some(d.supply_max_v - d.negative_rail_v)),
-            String::new(),
-            d.notes.join("; "),
-        ]);
+        line(CsvRow {
+            designator: d.designator.clone(),
+            part: d.description.clone(),
+            max_voltage_v: csv_number(Some(d.supply_max_v - d.negative_rail_v)),
+            notes: d.notes.join("; "),
+            ..CsvRow::default()
+        });
         out.finish()
     }
 }
