@@ -574,8 +574,8 @@ impl Bom {
     /// writer, [`crate::csv_text`]).
     pub fn to_csv(&self) -> String {
         let mut out = crate::csv_text::CsvText::new(b',', crate::csv_text::LineEnd::Crlf, 1024);
-        out.row(&CSV_HEADER.map(String::from));
-        let mut line = |row: CsvRow| out.row(&row.fields());
+        out.row(CSV_HEADER.map(String::from));
+        let mut line = |row: CsvRow| out.row(row.fields());
         for r in &self.resistors {
             line(CsvRow {
                 designator: r.designator.clone(),
