@@ -452,7 +452,7 @@ fn build(
         equipment.push(format!("supply for the circuit, {}", v(supply)));
     }
     if through.is_some() {
-        equipment.push("for the optional check at the pin: a voltmeter of 10 MΩ input resistance or more on the trigger's input pin".to_string());
+        equipment.push("for the optional pin check: a voltmeter of 10 MΩ or more".to_string());
     }
 
     let word =
@@ -479,7 +479,7 @@ fn build(
         ),
         Some(t) => step(
             format!(
-                "Connect the source to the field terminal — the wire the signal arrives on, ahead of the input network — and set it to {} (below VT−). OUT should read {} ({}).{}",
+                "Connect the source to the field terminal (the wire the signal arrives on, ahead of the input network) and set it to {} (below VT−). OUT should read {} ({}).{}",
                 v(ramp_low_v),
                 word(before_up),
                 v(before_up),
@@ -531,7 +531,7 @@ fn build(
         let (up, down) = (&readings[ramp_readings], &readings[ramp_readings + 1]);
         step(
             format!(
-                "Optional, at the pin, for reference: move the voltmeter to the trigger's input pin (behind the filter resistor), raise the field terminal again until OUT switches {} → {} and read the pin at that moment: VT+ at the pin, expected {}{}.",
+                "Optional, at the pin, for reference: voltmeter on the trigger's input pin (behind the filter resistor); raise the field terminal until OUT switches {} → {} and read the pin: VT+ expected {}{}.",
                 word(up.output_before_v),
                 word(up.output_after_v),
                 v(up.nominal_v),
@@ -541,7 +541,7 @@ fn build(
         );
         step(
             format!(
-                "Optional, at the pin: lower the field terminal until OUT switches back {} → {} and read the pin: VT− at the pin, expected {}{}. Pin readings in their windows with field readings outside point at the input network's parts.",
+                "Optional, at the pin: lower the field terminal until OUT switches back {} → {} and read the pin: VT− expected {}{}.",
                 word(down.output_before_v),
                 word(down.output_after_v),
                 v(down.nominal_v),
@@ -562,7 +562,7 @@ fn build(
     let mut troubleshooting = troubleshooting(circuit, a, checks);
     if let Some(t) = through {
         troubleshooting.push(format!(
-            "Field-terminal readings off while the pin readings are in their windows: the input network is off — with the board unpowered, measure the dropper's resistors (ratio g = {:.4}) and the series and filter resistors (Rs = {} in all); a leaky filter capacitor or a conducting clamp also pulls the pin.",
+            "Field readings off, pin readings in their windows: the input network is off; measure its resistors unpowered (dropper ratio g = {:.4}, Rs = {} in all) and look for a leaky filter capacitor or a conducting clamp.",
             t.summary.gain,
             crate::notation::format_with_unit(t.summary.source_resistance_ohm, 3, crate::notation::Unit::Ohm)
         ));
@@ -585,22 +585,22 @@ fn build(
 /// The sentences on the input network a field-terminal procedure's set-up step ends with: the
 /// source's current, the clamp when the ramp drives it, and the filter's settling time.
 fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String {
-    let mut s = format!(
-        " The ramp {} … {} stays {} the stated field range {} … {}; the network draws at most {} from the source over it.",
-        v(ramp_low_v),
-        v(ramp_high_v),
-        if ramp_low_v >= n.field_span_v.0 && ramp_high_v <= n.field_span_v.1 { "inside" } else { "partly outside (the thresholds need it)" },
-        v(n.field_span_v.0),
-        v(n.field_span_v.1),
-        amps(n.source_current_a)
-    );
+    let mut s = String::new();
+    if ramp_low_v < n.field_span_v.0 || ramp_high_v > n.field_span_v.1 {
+        s.push_str(&format!(
+            " The ramp goes beyond the stated field range {} … {}, as the thresholds need.",
+            v(n.field_span_v.0),
+            v(n.field_span_v.1)
+        ));
+    }
     match (n.clamp_at_v, n.clamp_current_a) {
         (Some(at), Some(i)) => {
             let rating = n.clamp_rating_a.map(|r| format!(" (its rating: {})", amps(r))).unwrap_or_default();
             let wanted = (1.2 * n.source_current_a).max(1e-3);
             let limit = n.clamp_rating_a.map_or(wanted, |r| wanted.min(r));
             s.push_str(&format!(
-                " At {} the clamp conducts {}{}: set the source's current limit to {}{}.",
+                " The network draws up to {}; at {} the clamp conducts {}{}: current limit {}{}.",
+                amps(n.source_current_a),
                 v(at),
                 amps(i),
                 rating,
@@ -609,15 +609,16 @@ fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String 
             ));
         }
         _ => s.push_str(&format!(
-            " The clamp stays off over the ramp; set the source's current limit to about {}.",
+            " The network draws up to {} over the ramp (clamp off): current limit about {}.",
+            amps(n.source_current_a),
             amps((1.2 * n.source_current_a).max(1e-3))
         )),
     }
     if let Some(tau) = n.time_constant_s {
         s.push_str(&format!(
-            " The input filter lags the field terminal (τ = {}): near each threshold wait at least {} after every step before reading.",
-            crate::notation::format_with_unit(tau, 3, crate::notation::Unit::Second),
-            crate::notation::format_with_unit((5.0 * tau).max(1e-3), 2, crate::notation::Unit::Second)
+            " Near each threshold wait at least {} after every step (input filter τ = {}).",
+            crate::notation::format_with_unit((5.0 * tau).max(1e-3), 2, crate::notation::Unit::Second),
+            crate::notation::format_with_unit(tau, 3, crate::notation::Unit::Second)
         ));
     }
     s
@@ -825,6 +826,7 @@ mod tests {
         let text = p.to_text();
         assert!(text.contains("Connect the source to the field terminal"), "{text}");
         assert!(text.contains("VT+ at pin") && text.contains("Optional, at the pin, for reference"), "{text}");
+        assert!(text.contains("draws up to") && text.contains("clamp off"), "{text}");
         let (lo, hi) = (field[0].bench_min_v.unwrap(), field[0].bench_max_v.unwrap());
         assert!(text.contains(&format!("accept {} … {}", v(lo), v(hi))), "{text}");
         // The filter's settling time is stated (τ = 10 nF × about 20 kΩ).
