@@ -21,7 +21,7 @@
 use hysteron_core::bench::{ReadingPoint, Threshold};
 use hysteron_core::overview;
 use hysteron_core::record::DesignRecord;
-use hysteron_core::topology::analyse;
+use hysteron_core::topology::{analyse, Circuit};
 
 const RECORD: &str = r#"{
   "schema_version": 1,
