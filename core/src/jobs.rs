@@ -26,7 +26,9 @@
 //!   concatenated in trial order before the statistics, which are then computed once.
 //! - Noise sweep: the sweep noise is generated once at 1 V RMS from the signal's seed and scaled
 //!   for each level (common random numbers, [`crate::signal::sweep`]); every part regenerates the
-//!   same unit noise from the same seed, so a level's point depends only on its index.
+//!   same unit noise from the same seed, so a level's point depends only on its index. Through an
+//!   input network every part carries the same front end ([`Job::NoiseSweep`]'s `front`), and
+//!   adds the noise to the signal regenerated before the network, as one run does.
 //!
 //! **Large arrays.** [`JobOutput::take_arrays`] and [`JobOutput::put_arrays`] (and the same on
 //! [`Job`]) move the big sample vectors out of a value and back in, so a transport can send them as
