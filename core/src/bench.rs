@@ -451,9 +451,6 @@ fn build(
     } else {
         equipment.push(format!("supply for the circuit, {}", v(supply)));
     }
-    if through.is_some() {
-        equipment.push("for the optional pin check: a voltmeter of 10 MΩ or more".to_string());
-    }
 
     let word =
         |level: f64| if (level - a.output_high_v).abs() <= (level - a.output_low_v).abs() { "high" } else { "low" };
@@ -479,7 +476,7 @@ fn build(
         ),
         Some(t) => step(
             format!(
-                "Connect the source to the field terminal (the wire the signal arrives on, ahead of the input network) and set it to {} (below VT−). OUT should read {} ({}).{}",
+                "Connect the source to the field terminal, ahead of the input network, and set it to {} (below VT−). OUT should read {} ({}).{}",
                 v(ramp_low_v),
                 word(before_up),
                 v(before_up),
@@ -488,10 +485,27 @@ fn build(
             None,
         ),
     }
+    // What the reading step calls the point read ("Read the input"; at the field terminal, "Read it").
+    let read = if through.is_some() { "it".to_string() } else { format!("the {input_name}") };
     let mut idx = 0;
     for (k, chunk) in readings[..ramp_readings].chunks(2).enumerate() {
         let up = &chunk[0];
         let down = &chunk[1];
+        if k > 0 && through.is_some() {
+            // At the field terminal the repeated ramps are stated briefly (the sheet keeps to one
+            // page with the network's own lines on it).
+            step(format!("Set the supply to {} and repeat the two ramps.", v(up.supply_v)), None);
+            step(
+                format!("Raise it until OUT switches {} → {}: VT+, expected {}{}.", word(up.output_before_v), word(up.output_after_v), v(up.nominal_v), accept_text(up)),
+                Some(idx),
+            );
+            step(
+                format!("Lower it until OUT switches back: VT−, expected {}{}.", v(down.nominal_v), accept_text(down)),
+                Some(idx + 1),
+            );
+            idx += 2;
+            continue;
+        }
         if k > 0 {
             step(
                 format!("Set the circuit's supply to {} and repeat the two ramps.{}", v(up.supply_v), expected_at(up, down)),
@@ -500,7 +514,7 @@ fn build(
         }
         step(
             format!(
-                "Raise the {input_name} slowly, in steps of at most {} near {}, until OUT switches {} → {}. Read the {input_name}: this is VT+, expected {}{}.",
+                "Raise the {input_name} slowly, in steps of at most {} near {}, until OUT switches {} → {}. Read {read}: this is VT+, expected {}{}.",
                 v(step_v),
                 v(up.nominal_v),
                 word(up.output_before_v),
@@ -512,7 +526,7 @@ fn build(
         );
         step(
             format!(
-                "Lower the {input_name} slowly, in steps of at most {} near {}, until OUT switches back {} → {}. Read the {input_name}: this is VT−, expected {}{}.",
+                "Lower the {input_name} slowly, in steps of at most {} near {}, until OUT switches back {} → {}. Read {read}: this is VT−, expected {}{}.",
                 v(step_v),
                 v(down.nominal_v),
                 word(down.output_before_v),
@@ -525,27 +539,28 @@ fn build(
         idx += 2;
     }
     if ramp_readings > 2 {
-        step(format!("Return the supply to {}.{}", v(supply), expected_at(&readings[0], &readings[1])), None);
+        let windows = if through.is_some() { String::new() } else { expected_at(&readings[0], &readings[1]) };
+        step(format!("Return the supply to {}.{windows}", v(supply)), None);
     }
     if through.is_some() {
         let (up, down) = (&readings[ramp_readings], &readings[ramp_readings + 1]);
         step(
             format!(
-                "Optional, at the pin, for reference: voltmeter on the trigger's input pin (behind the filter resistor); raise the field terminal until OUT switches {} → {} and read the pin: VT+ expected {}{}.",
+                "Optional, at the pin, for reference (a 10 MΩ voltmeter on the trigger's input pin): raise the field terminal until OUT switches {} → {}; the pin reads VT+, expected {}{}.",
                 word(up.output_before_v),
                 word(up.output_after_v),
                 v(up.nominal_v),
-                band_text(up)
+                accept_text(up)
             ),
             Some(ramp_readings),
         );
         step(
             format!(
-                "Optional, at the pin: lower the field terminal until OUT switches back {} → {} and read the pin: VT− expected {}{}.",
+                "Optional: lower it until OUT switches back {} → {}; the pin reads VT−, expected {}{}. Pin right, field off: the network's parts are off.",
                 word(down.output_before_v),
                 word(down.output_after_v),
                 v(down.nominal_v),
-                band_text(down)
+                accept_text(down)
             ),
             Some(ramp_readings + 1),
         );
@@ -559,14 +574,7 @@ fn build(
     let mut cautions = safety.cautions;
     cautions.extend(circuit.bench_cautions());
 
-    let mut troubleshooting = troubleshooting(circuit, a, checks);
-    if let Some(t) = through {
-        troubleshooting.push(format!(
-            "Field readings off, pin readings in their windows: the input network is off; measure its resistors unpowered (dropper ratio g = {:.4}, Rs = {} in all) and look for a leaky filter capacitor or a conducting clamp.",
-            t.summary.gain,
-            crate::notation::format_with_unit(t.summary.source_resistance_ohm, 3, crate::notation::Unit::Ohm)
-        ));
-    }
+    let troubleshooting = troubleshooting(circuit, a, checks);
     BenchProcedure {
         topology: circuit.name().to_string(),
         input_name,
@@ -599,7 +607,7 @@ fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String 
             let wanted = (1.2 * n.source_current_a).max(1e-3);
             let limit = n.clamp_rating_a.map_or(wanted, |r| wanted.min(r));
             s.push_str(&format!(
-                " The network draws up to {}; at {} the clamp conducts {}{}: current limit {}{}.",
+                " Source current up to {}; at {} the clamp conducts {}{}: limit {}{}.",
                 amps(n.source_current_a),
                 v(at),
                 amps(i),
@@ -609,19 +617,27 @@ fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String 
             ));
         }
         _ => s.push_str(&format!(
-            " The network draws up to {} over the ramp (clamp off): current limit about {}.",
+            " Source current up to {} (clamp off): limit about {}.",
             amps(n.source_current_a),
             amps((1.2 * n.source_current_a).max(1e-3))
         )),
     }
     if let Some(tau) = n.time_constant_s {
         s.push_str(&format!(
-            " Near each threshold wait at least {} after every step (input filter τ = {}).",
+            " Near each threshold wait {} after every step (filter τ = {}).",
             crate::notation::format_with_unit((5.0 * tau).max(1e-3), 2, crate::notation::Unit::Second),
             crate::notation::format_with_unit(tau, 3, crate::notation::Unit::Second)
         ));
     }
     s
+}
+
+/// The bench window alone, for the optional pin readings: " (accept lo … hi)".
+fn accept_text(r: &ExpectedReading) -> String {
+    match (r.bench_min_v, r.bench_max_v) {
+        (Some(lo), Some(hi)) => format!(" (accept {} … {})", v(lo), v(hi)),
+        _ => String::new(),
+    }
 }
 
 fn band_text(r: &ExpectedReading) -> String {
@@ -826,11 +842,11 @@ mod tests {
         let text = p.to_text();
         assert!(text.contains("Connect the source to the field terminal"), "{text}");
         assert!(text.contains("VT+ at pin") && text.contains("Optional, at the pin, for reference"), "{text}");
-        assert!(text.contains("draws up to") && text.contains("clamp off"), "{text}");
+        assert!(text.contains("Source current up to") && text.contains("clamp off"), "{text}");
         let (lo, hi) = (field[0].bench_min_v.unwrap(), field[0].bench_max_v.unwrap());
         assert!(text.contains(&format!("accept {} … {}", v(lo), v(hi))), "{text}");
         // The filter's settling time is stated (τ = 10 nF × about 20 kΩ).
-        assert!(text.contains("wait at least"), "{text}");
+        assert!(text.contains("Near each threshold wait"), "{text}");
         println!("{text}");
     }
 

@@ -147,7 +147,7 @@ fn a_ramp_into_the_clamp_states_the_clamp_current_and_its_rating() {
     assert_eq!(n.clamp_at_v, Some(p.ramp_low_v));
     assert!((n.clamp_current_a.unwrap() - expected).abs() < 1e-12, "{:?} vs {expected}", n.clamp_current_a);
     let text = p.to_text();
-    assert!(text.contains("the clamp conducts") && text.contains("its rating: 200 mA") && text.contains("current limit"), "{text}");
+    assert!(text.contains("the clamp conducts") && text.contains("its rating: 200 mA") && text.contains(": limit "), "{text}");
     // Without the tolerance study the readings carry no window and say so.
     assert!(p.readings.iter().all(|r| r.bench_min_v.is_none()));
     assert!(text.contains("(run the tolerance study)"));
