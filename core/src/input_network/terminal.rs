@@ -111,15 +111,14 @@ impl Circuit for AtFieldTerminal {
 
     fn parameters(&self) -> Vec<Parameter> {
         let mut p = self.circuit.parameters();
-        let mut next = p
+        let first = p
             .iter()
             .filter_map(|q| q.designator.as_deref().and_then(|d| d.strip_prefix('R')).and_then(|n| n.parse::<usize>().ok()))
             .max()
             .unwrap_or(0)
             + 1;
-        for (id, label, value) in self.resistors() {
-            p.push(Parameter::resistor(id, &format!("R{next}"), label, value));
-            next += 1;
+        for (k, (id, label, value)) in self.resistors().into_iter().enumerate() {
+            p.push(Parameter::resistor(id, &format!("R{}", first + k), label, value));
         }
         p
     }
