@@ -16,9 +16,23 @@
 //!   tolerance, temperature range too) — what boards may show in service, printed for reference.
 //!
 //! Without the study, readings carry no window and the sheet says so.
+//!
+//! **Through an input network** ([`bench_procedure_through`]): the technician drives the **field
+//! terminal** — the wire the signal arrives on, ahead of the dropper, series resistor, clamp and
+//! filter — and the readings are the field-terminal thresholds (VT_pin + Rs·Iin)/g
+//! ([`crate::input_network`]) at every supply. Their windows come from the same worst case run on
+//! the trigger behind its network ([`crate::input_network::terminal::AtFieldTerminal`]), where the
+//! network's resistors are tolerance contributors like the trigger's own: the pin's windows
+//! mapped through the network with the dropper ratio and the series resistance at their
+//! tolerance corners. The ramp stays inside the stated field span where the thresholds allow;
+//! when an end of it drives the clamp, the step says how much current the clamp takes against
+//! its rating, and the source's current over the ramp is stated. The pin-level readings remain,
+//! at the nominal supply, as an optional last check "at the pin, for reference".
 
 use crate::analysis::{CheckSettings, Sense};
 use crate::error::DesignError;
+use crate::input_network::terminal::AtFieldTerminal;
+use crate::input_network::Clamp;
 use crate::topology::{analyse, Circuit, Topology};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write as _;
@@ -71,11 +85,35 @@ pub enum Threshold {
     Lower,
 }
 
+/// Where a reading is taken.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ReadingPoint {
+    /// The circuit's input (a design without an input network).
+    #[default]
+    Input,
+    /// The field terminal, ahead of the input network.
+    FieldTerminal,
+    /// The trigger's input pin behind the input network (an optional check, for reference).
+    Pin,
+}
+
+impl ReadingPoint {
+    /// Whether this is the plain circuit input (kept out of the stored form, which then reads
+    /// as before the input network existed).
+    pub fn is_input(&self) -> bool {
+        *self == ReadingPoint::Input
+    }
+}
+
 /// One reading to take at the bench.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ExpectedReading {
     /// Which threshold.
     pub threshold: Threshold,
+    /// Where it is read.
+    #[serde(default, skip_serializing_if = "ReadingPoint::is_input")]
+    pub at: ReadingPoint,
     /// The supply the reading is taken at, volts.
     pub supply_v: f64,
     /// Expected input voltage at the switch, volts.
@@ -135,6 +173,31 @@ pub struct BenchProcedure {
     pub step_v: f64,
     /// What to check when the readings are off, specific to the topology.
     pub troubleshooting: Vec<String>,
+    /// The input network the procedure drives through (`None`: no network, the input is the pin).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub network: Option<NetworkBench>,
+}
+
+/// What the bench procedure states about the input network it drives through.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct NetworkBench {
+    /// The dropper's ratio g (1 without a dropper).
+    pub gain: f64,
+    /// Rs, the network's resistance seen from the pin, ohms.
+    pub source_resistance_ohm: f64,
+    /// The filter's time constant, seconds (`None` without a filter).
+    pub time_constant_s: Option<f64>,
+    /// The largest current the source delivers over the ramp (dropper and clamp), amperes.
+    pub source_current_a: f64,
+    /// The field voltage of the ramp end that drives the clamp, volts (`None`: the ramp stays
+    /// inside the clamp's levels).
+    pub clamp_at_v: Option<f64>,
+    /// The clamp's current there, amperes (magnitude).
+    pub clamp_current_a: Option<f64>,
+    /// The clamp's current rating (rail diodes) or peak pulse rating (TVS), amperes.
+    pub clamp_rating_a: Option<f64>,
+    /// The stated field span (lowest, highest), volts.
+    pub field_span_v: (f64, f64),
 }
 
 fn v(x: f64) -> String {
@@ -195,12 +258,119 @@ pub fn bench_procedure_from(
 ) -> BenchProcedure {
     let a = analysis;
     let supply = circuit.supply_v();
+    let mut corners = vec![(supply, a.vt_upper_v, a.vt_lower_v)];
+    corners.extend(a.supply_corners.iter().filter(|c| c.supply_v != supply).map(|c| (c.supply_v, c.vt_upper_v, c.vt_lower_v)));
     // The ramp covers the thresholds at every supply of the range.
     let highest = a.supply_corners.iter().map(|c| c.vt_upper_v.max(c.vt_lower_v)).fold(a.vt_upper_v, f64::max);
     let lowest = a.supply_corners.iter().map(|c| c.vt_upper_v.min(c.vt_lower_v)).fold(a.vt_lower_v, f64::min);
-    let (ramp_low_v, ramp_high_v) = crate::spice::ramp_span_v(highest, lowest);
+    let ramp = crate::spice::ramp_span_v(highest, lowest);
+    build(circuit, a, checks, windows, &Primary { corners, hysteresis_v: a.hysteresis_v, ramp, through: None })
+}
+
+/// The bench procedure of a design with an input network: the source drives the field terminal
+/// over the field range; the readings are the field-terminal thresholds at every supply
+/// ([`AtFieldTerminal`], the trigger behind `terminal.net`) with `field_windows` (the windows of
+/// the same worst case on [`AtFieldTerminal`], network resistors included; see
+/// [`crate::tolerance::bench_window`]); the pin readings at the nominal supply with
+/// `pin_windows` follow as an optional check, for reference. `circuit` and `analysis` are the
+/// trigger's own (its pin thresholds, output levels and bench hints). Fails when the
+/// field-terminal thresholds cannot be computed at a supply.
+pub fn bench_procedure_through(
+    circuit: &Topology,
+    analysis: &crate::analysis::Analysis,
+    checks: &CheckSettings,
+    pin_windows: &ReadingWindows,
+    terminal: &AtFieldTerminal,
+    field_windows: &ReadingWindows,
+) -> Result<BenchProcedure, DesignError> {
+    terminal.validate()?;
+    let net = &terminal.net;
+    let mut corners = Vec::new();
+    for s in bench_supplies(circuit, analysis) {
+        let t = terminal.with_supply(s).thresholds()?;
+        corners.push((s, t.vt_upper_v, t.vt_lower_v));
+    }
+    let highest = corners.iter().map(|c| c.1.max(c.2)).fold(f64::NEG_INFINITY, f64::max);
+    let lowest = corners.iter().map(|c| c.1.min(c.2)).fold(f64::INFINITY, f64::min);
+    let (mut lo, mut hi) = crate::spice::ramp_span_v(highest, lowest);
+    // Inside the stated field span where the thresholds allow: the network is then driven as in
+    // service, not beyond.
+    let span = crate::input_network::field_span_v(net, checks, circuit.supply_v());
+    if span.0 < lowest {
+        lo = lo.max(span.0);
+    }
+    if span.1 > highest {
+        hi = hi.min(span.1);
+    }
+    let (neg, sup) = (terminal.negative_rail_v(), terminal.supply_v());
+    let points = [net.clamp_at(lo, neg, sup), net.clamp_at(hi, neg, sup)];
+    // The source's current: through R_top into the dropper's node, else all of it into the clamp
+    // (the trigger's own input current, nano- to microamperes, is left out).
+    let source_current = |p: &crate::input_network::ClampPoint| match net.dropper {
+        Some(d) => (p.field_v - (p.clamp_node_v + p.clamp_current_a * net.series_ohm.unwrap_or(0.0))) / d.top_ohm,
+        None => p.clamp_current_a,
+    };
+    let clamped = points.iter().filter(|p| p.clamp_current_a != 0.0).max_by(|a, b| a.clamp_current_a.abs().total_cmp(&b.clamp_current_a.abs()));
+    let rating = match net.clamp {
+        Clamp::None => None,
+        Clamp::RailDiodes { max_current_a, .. } => Some(max_current_a),
+        Clamp::Tvs { peak_current_a, .. } => Some(peak_current_a),
+    };
+    let tau = crate::input_network::analyse_network(&terminal.circuit, net, checks, &crate::bom::PartSettings::default())
+        .ok()
+        .and_then(|r| r.filter.map(|f| f.time_constant_s));
+    let summary = NetworkBench {
+        gain: net.gain(),
+        source_resistance_ohm: net.source_resistance_ohm(),
+        time_constant_s: tau,
+        source_current_a: points.iter().map(|p| source_current(p).abs()).fold(0.0, f64::max),
+        clamp_at_v: clamped.map(|p| p.field_v),
+        clamp_current_a: clamped.map(|p| p.clamp_current_a.abs()),
+        clamp_rating_a: rating,
+        field_span_v: span,
+    };
+    let hysteresis_v = corners[0].1 - corners[0].2;
+    let through = Through { summary, field_windows, pin: (analysis.vt_upper_v, analysis.vt_lower_v) };
+    Ok(build(circuit, analysis, checks, pin_windows, &Primary { corners, hysteresis_v, ramp: (lo, hi), through: Some(through) }))
+}
+
+/// The readings the procedure's ramps produce: at the circuit input, or at the field terminal.
+struct Primary<'a> {
+    /// (supply, VT+, VT−) at each supply the procedure sets, nominal first.
+    corners: Vec<(f64, f64, f64)>,
+    /// Hysteresis at the nominal supply, volts.
+    hysteresis_v: f64,
+    /// The ramp's ends, volts.
+    ramp: (f64, f64),
+    /// The input network, when the ramps drive the field terminal.
+    through: Option<Through<'a>>,
+}
+
+struct Through<'a> {
+    summary: NetworkBench,
+    field_windows: &'a ReadingWindows,
+    /// The pin thresholds at the nominal supply (VT+, VT−).
+    pin: (f64, f64),
+}
+
+fn amps(x: f64) -> String {
+    crate::notation::format_with_unit(x, 3, crate::notation::Unit::Ampere)
+}
+
+fn build(
+    circuit: &Topology,
+    a: &crate::analysis::Analysis,
+    checks: &CheckSettings,
+    pin_windows: &ReadingWindows,
+    primary: &Primary<'_>,
+) -> BenchProcedure {
+    let supply = circuit.supply_v();
+    let through = primary.through.as_ref();
+    // The windows the ramps' readings are accepted by.
+    let windows = through.map_or(pin_windows, |t| t.field_windows);
+    let (ramp_low_v, ramp_high_v) = primary.ramp;
     // Step: a twentieth of the narrowest of the hysteresis and the windows, at least 10 µV.
-    let mut narrowest = a.hysteresis_v.abs();
+    let mut narrowest = primary.hysteresis_v.abs();
     let every_bound = windows
         .bench
         .iter()
@@ -214,48 +384,55 @@ pub fn bench_procedure_from(
         }
     }
     if narrowest <= 0.0 || !narrowest.is_finite() {
-        narrowest = 0.01 * a.vt_upper_v.abs().max(1.0);
+        narrowest = 0.01 * primary.corners[0].1.abs().max(1.0);
     }
     let step_v = (narrowest / 20.0).max(1e-5);
     let (before_up, after_up) = match a.sense {
         Sense::Inverting => (a.output_high_v, a.output_low_v),
         Sense::NonInverting => (a.output_low_v, a.output_high_v),
     };
-    let input_name = circuit.input_name().to_string();
+    let input_name = if through.is_some() { "field terminal".to_string() } else { circuit.input_name().to_string() };
+    let primary_at = if through.is_some() { ReadingPoint::FieldTerminal } else { ReadingPoint::Input };
 
     let mut readings = Vec::new();
-    let mut corner_readings = |supply_v: f64, up: f64, down: f64, nominal: bool| {
-        let bench = windows.bench_at(supply_v);
-        let field = if nominal { windows.field } else { ThresholdBounds::default() };
-        readings.push(ExpectedReading {
-            threshold: Threshold::Upper,
-            supply_v,
-            nominal_v: up,
-            bench_min_v: bench.vt_upper_v.map(|b| b.0),
-            bench_max_v: bench.vt_upper_v.map(|b| b.1),
-            field_min_v: field.vt_upper_v.map(|b| b.0),
-            field_max_v: field.vt_upper_v.map(|b| b.1),
-            output_before_v: before_up,
-            output_after_v: after_up,
-        });
-        readings.push(ExpectedReading {
-            threshold: Threshold::Lower,
-            supply_v,
-            nominal_v: down,
-            bench_min_v: bench.vt_lower_v.map(|b| b.0),
-            bench_max_v: bench.vt_lower_v.map(|b| b.1),
-            field_min_v: field.vt_lower_v.map(|b| b.0),
-            field_max_v: field.vt_lower_v.map(|b| b.1),
-            output_before_v: after_up,
-            output_after_v: before_up,
-        });
-    };
-    corner_readings(supply, a.vt_upper_v, a.vt_lower_v, true);
-    for c in &a.supply_corners {
-        if c.supply_v != supply {
-            corner_readings(c.supply_v, c.vt_upper_v, c.vt_lower_v, false);
+    let ramp_readings = {
+        let mut pair = |at: ReadingPoint, w: &ReadingWindows, supply_v: f64, up: f64, down: f64, nominal: bool| {
+            let bench = w.bench_at(supply_v);
+            let field = if nominal { w.field } else { ThresholdBounds::default() };
+            readings.push(ExpectedReading {
+                threshold: Threshold::Upper,
+                at,
+                supply_v,
+                nominal_v: up,
+                bench_min_v: bench.vt_upper_v.map(|b| b.0),
+                bench_max_v: bench.vt_upper_v.map(|b| b.1),
+                field_min_v: field.vt_upper_v.map(|b| b.0),
+                field_max_v: field.vt_upper_v.map(|b| b.1),
+                output_before_v: before_up,
+                output_after_v: after_up,
+            });
+            readings.push(ExpectedReading {
+                threshold: Threshold::Lower,
+                at,
+                supply_v,
+                nominal_v: down,
+                bench_min_v: bench.vt_lower_v.map(|b| b.0),
+                bench_max_v: bench.vt_lower_v.map(|b| b.1),
+                field_min_v: field.vt_lower_v.map(|b| b.0),
+                field_max_v: field.vt_lower_v.map(|b| b.1),
+                output_before_v: after_up,
+                output_after_v: before_up,
+            });
+        };
+        for (k, &(s, up, down)) in primary.corners.iter().enumerate() {
+            pair(primary_at, windows, s, up, down, k == 0);
         }
-    }
+        let ramp_readings = 2 * primary.corners.len();
+        if let Some(t) = through {
+            pair(ReadingPoint::Pin, pin_windows, supply, t.pin.0, t.pin.1, true);
+        }
+        ramp_readings
+    };
 
     let safety = crate::safety::bench_safety(circuit, a, checks, &[ramp_low_v, ramp_high_v]);
     let mut equipment = vec![
@@ -287,19 +464,48 @@ pub fn bench_procedure_from(
         ),
         None,
     );
-    step(
-        format!(
-            "Set the {input_name} to {} (below VT−). OUT should read {} ({}).",
-            v(ramp_low_v),
-            word(before_up),
-            v(before_up)
+    match through {
+        None => step(
+            format!(
+                "Set the {input_name} to {} (below VT−). OUT should read {} ({}).",
+                v(ramp_low_v),
+                word(before_up),
+                v(before_up)
+            ),
+            None,
         ),
-        None,
-    );
+        Some(t) => step(
+            format!(
+                "Connect the source to the field terminal, ahead of the input network, and set it to {} (below VT−). OUT should read {} ({}).{}",
+                v(ramp_low_v),
+                word(before_up),
+                v(before_up),
+                network_notes(&t.summary, ramp_low_v, ramp_high_v)
+            ),
+            None,
+        ),
+    }
+    // What the reading step calls the point read ("Read the input"; at the field terminal, "Read it").
+    let read = if through.is_some() { "it".to_string() } else { format!("the {input_name}") };
     let mut idx = 0;
-    for (k, chunk) in readings.chunks(2).enumerate() {
+    for (k, chunk) in readings[..ramp_readings].chunks(2).enumerate() {
         let up = &chunk[0];
         let down = &chunk[1];
+        if k > 0 && through.is_some() {
+            // At the field terminal the repeated ramps are stated briefly (the sheet keeps to one
+            // page with the network's own lines on it).
+            step(format!("Set the supply to {} and repeat the two ramps.", v(up.supply_v)), None);
+            step(
+                format!("Raise it until OUT switches {} → {}: VT+, expected {}{}.", word(up.output_before_v), word(up.output_after_v), v(up.nominal_v), accept_text(up)),
+                Some(idx),
+            );
+            step(
+                format!("Lower it until OUT switches back: VT−, expected {}{}.", v(down.nominal_v), accept_text(down)),
+                Some(idx + 1),
+            );
+            idx += 2;
+            continue;
+        }
         if k > 0 {
             step(
                 format!("Set the circuit's supply to {} and repeat the two ramps.{}", v(up.supply_v), expected_at(up, down)),
@@ -308,7 +514,7 @@ pub fn bench_procedure_from(
         }
         step(
             format!(
-                "Raise the {input_name} slowly, in steps of at most {} near {}, until OUT switches {} → {}. Read the {input_name}: this is VT+, expected {}{}.",
+                "Raise the {input_name} slowly, in steps of at most {} near {}, until OUT switches {} → {}. Read {read}: this is VT+, expected {}{}.",
                 v(step_v),
                 v(up.nominal_v),
                 word(up.output_before_v),
@@ -320,7 +526,7 @@ pub fn bench_procedure_from(
         );
         step(
             format!(
-                "Lower the {input_name} slowly, in steps of at most {} near {}, until OUT switches back {} → {}. Read the {input_name}: this is VT−, expected {}{}.",
+                "Lower the {input_name} slowly, in steps of at most {} near {}, until OUT switches back {} → {}. Read {read}: this is VT−, expected {}{}.",
                 v(step_v),
                 v(down.nominal_v),
                 word(down.output_before_v),
@@ -332,8 +538,32 @@ pub fn bench_procedure_from(
         );
         idx += 2;
     }
-    if readings.len() > 2 {
-        step(format!("Return the supply to {}.{}", v(supply), expected_at(&readings[0], &readings[1])), None);
+    if ramp_readings > 2 {
+        let windows = if through.is_some() { String::new() } else { expected_at(&readings[0], &readings[1]) };
+        step(format!("Return the supply to {}.{windows}", v(supply)), None);
+    }
+    if through.is_some() {
+        let (up, down) = (&readings[ramp_readings], &readings[ramp_readings + 1]);
+        step(
+            format!(
+                "Optional, at the pin, for reference (a 10 MΩ voltmeter on the trigger's input pin): raise the field terminal until OUT switches {} → {}; the pin reads VT+, expected {}{}.",
+                word(up.output_before_v),
+                word(up.output_after_v),
+                v(up.nominal_v),
+                accept_text(up)
+            ),
+            Some(ramp_readings),
+        );
+        step(
+            format!(
+                "Optional: lower it until OUT switches back {} → {}; the pin reads VT−, expected {}{}. Pin right, field off: the network's parts are off.",
+                word(down.output_before_v),
+                word(down.output_after_v),
+                v(down.nominal_v),
+                accept_text(down)
+            ),
+            Some(ramp_readings + 1),
+        );
     }
     step(
         "Check the hysteresis VT+ − VT− from the two readings and confirm OUT switches cleanly, once per crossing, without chatter on the oscilloscope.".to_string(),
@@ -356,6 +586,57 @@ pub fn bench_procedure_from(
         ramp_high_v,
         step_v,
         troubleshooting,
+        network: through.map(|t| t.summary),
+    }
+}
+
+/// The sentences on the input network a field-terminal procedure's set-up step ends with: the
+/// source's current, the clamp when the ramp drives it, and the filter's settling time.
+fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String {
+    let mut s = String::new();
+    if ramp_low_v < n.field_span_v.0 || ramp_high_v > n.field_span_v.1 {
+        s.push_str(&format!(
+            " The ramp goes beyond the stated field range {} … {}, as the thresholds need.",
+            v(n.field_span_v.0),
+            v(n.field_span_v.1)
+        ));
+    }
+    match (n.clamp_at_v, n.clamp_current_a) {
+        (Some(at), Some(i)) => {
+            let rating = n.clamp_rating_a.map(|r| format!(" (its rating: {})", amps(r))).unwrap_or_default();
+            let wanted = (1.2 * n.source_current_a).max(1e-3);
+            let limit = n.clamp_rating_a.map_or(wanted, |r| wanted.min(r));
+            s.push_str(&format!(
+                " Source current up to {}; at {} the clamp conducts {}{}: limit {}{}.",
+                amps(n.source_current_a),
+                v(at),
+                amps(i),
+                rating,
+                amps(limit),
+                if n.clamp_rating_a.is_some_and(|r| i > r) { ", below the clamp's rating, which the ramp's end would exceed" } else { "" }
+            ));
+        }
+        _ => s.push_str(&format!(
+            " Source current up to {} (clamp off): limit about {}.",
+            amps(n.source_current_a),
+            amps((1.2 * n.source_current_a).max(1e-3))
+        )),
+    }
+    if let Some(tau) = n.time_constant_s {
+        s.push_str(&format!(
+            " Near each threshold wait {} after every step (filter τ = {}).",
+            crate::notation::format_with_unit((5.0 * tau).max(1e-3), 2, crate::notation::Unit::Second),
+            crate::notation::format_with_unit(tau, 3, crate::notation::Unit::Second)
+        ));
+    }
+    s
+}
+
+/// The bench window alone, for the optional pin readings: " (accept lo … hi)".
+fn accept_text(r: &ExpectedReading) -> String {
+    match (r.bench_min_v, r.bench_max_v) {
+        (Some(lo), Some(hi)) => format!(" (accept {} … {})", v(lo), v(hi)),
+        _ => String::new(),
     }
 }
 
@@ -416,15 +697,19 @@ impl BenchProcedure {
             let _ = writeln!(o, "  {}. {}", i + 1, s.instruction);
         }
         let _ = writeln!(o, "\nExpected readings ({})", self.input_name);
+        // Pin rows (after the field terminal's) are named so; the column widens for them.
+        let w = if self.readings.iter().any(|r| r.at == ReadingPoint::Pin) { 10 } else { 6 };
         let _ = writeln!(
             o,
-            "  {:<6} {:>10} {:>12} {:>25} {:>25}",
+            "  {:<w$} {:>10} {:>12} {:>25} {:>25}",
             "", "supply", "expected", "accept (bench window)", "field window"
         );
         for r in &self.readings {
-            let name = match r.threshold {
-                Threshold::Upper => "VT+",
-                Threshold::Lower => "VT−",
+            let name = match (r.threshold, r.at) {
+                (Threshold::Upper, ReadingPoint::Pin) => "VT+ at pin",
+                (Threshold::Lower, ReadingPoint::Pin) => "VT− at pin",
+                (Threshold::Upper, _) => "VT+",
+                (Threshold::Lower, _) => "VT−",
             };
             let range = |lo: Option<f64>, hi: Option<f64>, missing: &str| match (lo, hi) {
                 (Some(lo), Some(hi)) => format!("{} … {}", v(lo), v(hi)),
@@ -432,12 +717,20 @@ impl BenchProcedure {
             };
             let bench = range(r.bench_min_v, r.bench_max_v, "(run the tolerance study)");
             let field = range(r.field_min_v, r.field_max_v, "");
-            let _ = writeln!(o, "  {:<6} {:>10} {:>12} {:>25} {:>25}", name, v(r.supply_v), v(r.nominal_v), bench, field);
+            let _ = writeln!(o, "  {:<w$} {:>10} {:>12} {:>25} {:>25}", name, v(r.supply_v), v(r.nominal_v), bench, field);
         }
         let _ = writeln!(
             o,
             "  Bench window: part tolerances and device spread at 25 °C and the supply set. Field window: every tolerance over its full range (supply, temperature), for reference."
         );
+        if let Some(n) = &self.network {
+            let _ = writeln!(
+                o,
+                "  At the field terminal the windows include the input network's resistors at their tolerance (dropper ratio g = {:.4}, Rs = {}); the pin rows are the trigger's own, for reference.",
+                n.gain,
+                crate::notation::format_with_unit(n.source_resistance_ohm, 3, crate::notation::Unit::Ohm)
+            );
+        }
         let _ = writeln!(o, "\nIf the readings are off");
         for t in &self.troubleshooting {
             let _ = writeln!(o, "  - {t}");
@@ -515,6 +808,46 @@ mod tests {
         assert!(sets[0].instruction.contains("VT+ 2.850 V … 2.950 V"), "{}", sets[0].instruction);
         assert!(sets.iter().any(|s| s.instruction.contains("4.750 V") && s.instruction.contains("VT+ 2.700 V … 2.800 V")));
         assert!(sets.last().unwrap().instruction.contains("VT− 1.660 V … 1.740 V"));
+    }
+
+    #[test]
+    fn a_network_design_drives_the_field_terminal_and_keeps_the_pin_for_reference() {
+        let r = catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").map(|s| s.record()).unwrap();
+        let a = analyse(&r.circuit, &r.checks).unwrap();
+        let w = crate::overview::windows(&r, &a, None).unwrap();
+        let p = crate::overview::bench(&r, &a, Some(&w));
+        let report = crate::input_network::from_record::record_network(&r).unwrap().unwrap();
+        assert_eq!(p.input_name, "field terminal");
+        let n = p.network.expect("the network's figures");
+        assert_eq!((n.gain, n.source_resistance_ohm), (report.gain, report.source_resistance_ohm));
+        // Field readings first, at every supply; the nominal ones are the network report's.
+        let field: Vec<&ExpectedReading> = p.readings.iter().filter(|x| x.at == ReadingPoint::FieldTerminal).collect();
+        assert_eq!(field.len(), 2 * a.supply_corners.len());
+        assert_eq!((field[0].nominal_v, field[1].nominal_v), (report.field.vt_upper_v, report.field.vt_lower_v));
+        for x in &field {
+            let (lo, hi) = (x.bench_min_v.unwrap(), x.bench_max_v.unwrap());
+            assert!(lo < x.nominal_v && x.nominal_v < hi && x.accepts(x.nominal_v), "{x:?}");
+        }
+        assert!(field[0].field_min_v.unwrap() <= field[0].bench_min_v.unwrap());
+        // The ramp covers every field threshold and stays inside the stated field span (0–26.4 V).
+        assert!(p.ramp_low_v < field.iter().map(|x| x.nominal_v).fold(f64::INFINITY, f64::min));
+        assert!(p.ramp_high_v > field.iter().map(|x| x.nominal_v).fold(0.0, f64::max));
+        assert!(p.ramp_low_v >= 0.0 && p.ramp_high_v <= 26.4);
+        // The pin readings follow, at the nominal supply, with the pin's own windows.
+        let pin: Vec<&ExpectedReading> = p.readings.iter().filter(|x| x.at == ReadingPoint::Pin).collect();
+        assert_eq!(pin.len(), 2);
+        assert_eq!((pin[0].nominal_v, pin[1].nominal_v), (a.vt_upper_v, a.vt_lower_v));
+        assert_eq!((pin[0].bench_min_v, pin[0].bench_max_v), (Some(w.bench[0].vt_upper_v().0), Some(w.bench[0].vt_upper_v().1)));
+        assert_eq!(p.steps.iter().filter(|x| x.reading.is_some()).count(), p.readings.len());
+        let text = p.to_text();
+        assert!(text.contains("Connect the source to the field terminal"), "{text}");
+        assert!(text.contains("VT+ at pin") && text.contains("Optional, at the pin, for reference"), "{text}");
+        assert!(text.contains("Source current up to") && text.contains("clamp off"), "{text}");
+        let (lo, hi) = (field[0].bench_min_v.unwrap(), field[0].bench_max_v.unwrap());
+        assert!(text.contains(&format!("accept {} … {}", v(lo), v(hi))), "{text}");
+        // The filter's settling time is stated (τ = 10 nF × about 20 kΩ).
+        assert!(text.contains("Near each threshold wait"), "{text}");
+        println!("{text}");
     }
 
     #[test]

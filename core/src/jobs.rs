@@ -26,7 +26,9 @@
 //!   concatenated in trial order before the statistics, which are then computed once.
 //! - Noise sweep: the sweep noise is generated once at 1 V RMS from the signal's seed and scaled
 //!   for each level (common random numbers, [`crate::signal::sweep`]); every part regenerates the
-//!   same unit noise from the same seed, so a level's point depends only on its index.
+//!   same unit noise from the same seed, so a level's point depends only on its index. Through an
+//!   input network every part carries the same front end ([`Job::NoiseSweep`]'s `front`), and
+//!   adds the noise to the signal regenerated before the network, as one run does.
 //!
 //! **Large arrays.** [`JobOutput::take_arrays`] and [`JobOutput::put_arrays`] (and the same on
 //! [`Job`]) move the big sample vectors out of a value and back in, so a transport can send them as
@@ -117,6 +119,10 @@ pub enum Job {
         settings: SignalSettings,
         /// The levels to run; `None`: all.
         levels: Option<PartRange>,
+        /// The input network's clamp and filter (see [`Job::Signal`]): each level's samples pass
+        /// it before the trigger, as in the whole study; `None`: no network.
+        #[serde(default)]
+        front: Option<crate::input_network::noise::FrontEnd>,
     },
     /// Reading a CSV capture.
     CsvImport {
@@ -273,6 +279,9 @@ struct SignalState {
     sweep: Option<(SweepSettings, SweepRunner)>,
     levels: PartRange,
     points: Vec<SweepPoint>,
+    /// The sweep's base before the input network (the generated signal, regenerated from its
+    /// seed), when there is a network: the sweep noise is added before the clamp and filter.
+    raw_base: Option<Vec<f64>>,
     scratch_v: Vec<f64>,
     edges: Vec<Edge>,
     samples: u64,
@@ -414,6 +423,7 @@ impl Running {
                         end: levels,
                     },
                     points: Vec::new(),
+                    raw_base: None,
                     scratch_v: Vec::new(),
                     edges: Vec::new(),
                     samples,
@@ -424,6 +434,7 @@ impl Running {
                 design,
                 settings,
                 levels,
+                front,
             } => {
                 design.validate()?;
                 if settings.sweep.is_none() {
@@ -453,12 +464,13 @@ impl Running {
                     capture: None,
                     display_points: 2,
                     output: None,
-                    front: None,
+                    front,
                     study: false,
                     run: None,
                     sweep: None,
                     levels: range,
                     points: Vec::new(),
+                    raw_base: None,
                     scratch_v: Vec::new(),
                     edges: Vec::new(),
                     samples,
@@ -665,7 +677,7 @@ impl Running {
 impl SignalState {
     /// The context the sweep levels run in, from the study's run.
     fn context<'a>(&'a self, run: &'a SignalRun) -> Result<SweepContext<'a>, DesignError> {
-        sweep_context(&self.design, &self.settings, run)
+        sweep_context(&self.design, &self.settings, run, self.front)
     }
 }
 
@@ -674,6 +686,7 @@ fn sweep_context<'a>(
     design: &TriggerDesign,
     settings: &'a SignalSettings,
     run: &'a SignalRun,
+    front: Option<crate::input_network::noise::FrontEnd>,
 ) -> Result<SweepContext<'a>, DesignError> {
     let timing = TimingModel::new(&settings.timing)?;
     let study = &settings.study;
@@ -691,6 +704,7 @@ fn sweep_context<'a>(
         window_baseline_s: study
             .match_window_s
             .unwrap_or_else(|| default_match_window_s(&run.intended_baseline_edges, duration)),
+        front,
     })
 }
 
@@ -703,6 +717,12 @@ impl SignalState {
             let run = crate::signal::output_edges::run_signal_chain(&s, &self.design, self.capture.as_ref(), self.front.as_ref(), self.output.as_deref())?;
             if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
                 let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
+                if self.front.is_some() {
+                    // The run's waveforms are after the network; the sweep needs them before it.
+                    let mut b = crate::signal::generate::SignalBuffers::default();
+                    self.settings.definition.generate_into(&mut b)?;
+                    self.raw_base = Some(if sw.keep_other_noise { b.noisy_v } else { b.clean_v });
+                }
                 self.sweep = Some((*sw, runner));
             }
             self.run = Some(run);
@@ -713,11 +733,12 @@ impl SignalState {
             let (Some(run), Some((sw, runner))) = (&self.run, &self.sweep) else {
                 return Err(invalid("the sweep is not prepared: run the study first"));
             };
-            let base: &[f64] = match (&run.clean_v, sw.keep_other_noise) {
-                (Some(c), false) => c,
+            let base: &[f64] = match (&self.raw_base, &run.clean_v, sw.keep_other_noise) {
+                (Some(raw), _, _) => raw,
+                (None, Some(c), false) => c,
                 _ => &run.signal_v,
             };
-            let ctx = sweep_context(&self.design, &self.settings, run)?;
+            let ctx = sweep_context(&self.design, &self.settings, run, self.front)?;
             let point = runner.point(
                 &ctx,
                 next as usize,
@@ -860,6 +881,7 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
             design,
             settings,
             levels: None,
+            front,
         } if parts > 1 => {
             let count = sweep_level_count(design, settings, false)?;
             Ok(ranges(count)
@@ -868,6 +890,7 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
                     design: *design,
                     settings: settings.clone(),
                     levels: Some(r),
+                    front: *front,
                 })
                 .collect())
         }
@@ -877,9 +900,7 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
             capture: None,
             display_points,
             output,
-            // A study through an input network stays one part (its sweep levels would need the
-            // network's front end too).
-            front: None,
+            front,
         } if parts > 1 && settings.sweep.is_some() => {
             let count = sweep_level_count(design, settings, false)?;
             let mut out = vec![Job::Signal {
@@ -891,12 +912,14 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
                 capture: None,
                 display_points: *display_points,
                 output: output.clone(),
-                front: None,
+                front: *front,
             }];
+            // Each sweep part runs the levels through the same network as the whole study.
             out.extend(ranges(count).into_iter().map(|r| Job::NoiseSweep {
                 design: *design,
                 settings: settings.clone(),
                 levels: Some(r),
+                front: *front,
             }));
             Ok(out)
         }
@@ -1203,7 +1226,8 @@ mod tests {
         assert!(Running::start(Job::NoiseSweep {
             design: design(),
             settings: s.clone(),
-            levels: None
+            levels: None,
+            front: None,
         })
         .is_err());
         s.sweep = Some(SweepSettings::default());
@@ -1211,6 +1235,7 @@ mod tests {
             design: design(),
             settings: s,
             levels: Some(PartRange { start: 3, end: 99 }),
+            front: None,
         };
         assert!(Running::start(bad).is_err());
     }

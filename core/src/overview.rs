@@ -179,9 +179,38 @@ pub fn reading_windows(w: Option<&Windows>) -> ReadingWindows {
 }
 
 /// The bench procedure of a record from its analysis, with the field and bench windows when there
-/// are any. The one place the bench procedure is built.
+/// are any. The one place the bench procedure is built. With an input network the procedure
+/// drives the field terminal ([`crate::bench::bench_procedure_through`]); its windows are those
+/// of the trigger behind the network ([`terminal_windows`]), computed when `windows` are given
+/// (the tolerance study ran); the pin's `windows` serve the optional pin check.
 pub fn bench(record: &DesignRecord, analysis: &Analysis, windows: Option<&Windows>) -> BenchProcedure {
-    bench_procedure_from(&record.circuit, analysis, &record.checks, &reading_windows(windows))
+    let pin = reading_windows(windows);
+    let Some(net) = record.input_network.as_ref().filter(|n| n.has_parts()) else {
+        return bench_procedure_from(&record.circuit, analysis, &record.checks, &pin);
+    };
+    let terminal = crate::input_network::terminal::AtFieldTerminal::new(crate::input_network::from_record::loaded_circuit(record), net.clone());
+    let field = windows.and_then(|_| terminal_windows(record, analysis, &terminal).ok());
+    match crate::bench::bench_procedure_through(&record.circuit, analysis, &record.checks, &pin, &terminal, &reading_windows(field.as_ref())) {
+        Ok(p) => p,
+        Err(e) => {
+            let mut p = bench_procedure_from(&record.circuit, analysis, &record.checks, &pin);
+            p.cautions.push(format!("the input network could not be analysed ({e}): this procedure drives the trigger's input pin directly"));
+            p
+        }
+    }
+}
+
+/// The field and bench windows at the field terminal of a record with an input network: the worst
+/// case of the record's tolerance settings on the trigger behind its network
+/// ([`crate::input_network::terminal::AtFieldTerminal`], the network's resistors varied like the
+/// trigger's), at the nominal supply and at each supply the bench procedure sets.
+pub fn terminal_windows(
+    record: &DesignRecord,
+    analysis: &Analysis,
+    terminal: &crate::input_network::terminal::AtFieldTerminal,
+) -> Result<Windows, DesignError> {
+    let settings = record.tolerance.clone().unwrap_or_default();
+    both_windows(terminal, &settings, &bench_supplies(&record.circuit, analysis))
 }
 
 /// The outcome of synthesis: the circuit that reaches the targets and its analysis.

@@ -2,9 +2,11 @@
 //! page — the sawmill demo's thresholds at the field terminal against the textbook closed form of
 //! a non-inverting trigger driven through a source resistance, a typed change to the series
 //! resistor, the reference chosen as an adjustable shunt reference (its part in the part list),
-//! and the signal test run through the input network. Every value is typed with real key events
+//! the signal test run through the input network, and the print sheet's bench steps at the field
+//! terminal with the field windows. Every value is typed with real key events
 //! ([`Session::type_into`]).
 
+use hysteron_core::bench::ReadingPoint;
 use hysteron_core::catalog;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::topology::{Circuit, Topology};
@@ -109,5 +111,38 @@ async fn the_signal_test_runs_through_the_input_network() {
     s.wait_for("#signal-run").await.click().await.unwrap();
     s.wait_for("#signal-results").await;
     s.wait_text("#fold-signal", "a note that the signal passes the input network", |t| t.contains("passes the input network")).await;
+    s.close().await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn the_print_sheet_bench_steps_drive_the_field_terminal_with_field_windows() {
+    // The figures the sheet must show, computed natively by the same core (bit-identical in wasm).
+    let record = sawmill();
+    let sheet = hysteron_core::overview::sheet(&record).expect("the sawmill sheet");
+    let field: Vec<_> = sheet.bench.readings.iter().filter(|r| r.at == ReadingPoint::FieldTerminal).collect();
+    let range = |lo: Option<f64>, hi: Option<f64>| format!("{:.3} V … {:.3} V", lo.expect("a window"), hi.expect("a window"));
+    let accept_up = format!("accept {}", range(field[0].bench_min_v, field[0].bench_max_v));
+    let accept_down = format!("accept {}", range(field[1].bench_min_v, field[1].bench_max_v));
+    let field_up = format!("field window {}", range(field[0].field_min_v, field[0].field_max_v));
+    // The field thresholds (about 15 V and 10 V) are not the pin's (about 2.6 V and 2.5 V).
+    assert!(field[0].nominal_v > 10.0 && field[1].nominal_v > 5.0, "{:?}", &field[..2]);
+
+    let s = browser::start().await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    // The browser fires `beforeprint` when the user prints; the sheet is computed then.
+    s.js("window.dispatchEvent(new Event('beforeprint')); return 1;").await;
+    let steps = s
+        .wait_js(
+            "the sheet's bench steps",
+            "const e = document.querySelector('#sheet-bench-steps'); return !!e && e.children.length > 3 && e.textContent;",
+        )
+        .await;
+    let steps = steps.as_str().unwrap_or_default().to_string();
+    assert!(steps.contains("Connect the source to the field terminal"), "{steps}");
+    assert!(steps.contains("Raise the field terminal slowly"), "{steps}");
+    for want in [&accept_up, &accept_down, &field_up] {
+        assert!(steps.contains(want.as_str()), "the sheet lacks {want}: {steps}");
+    }
+    assert!(steps.contains("Optional, at the pin, for reference"), "{steps}");
     s.close().await;
 }

@@ -121,7 +121,7 @@ fn signal_study_and_sweep_in_n_parts_equal_one_run() {
         assert_eq!(view.report, single, "{parts} parts, budget {budget}");
     }
     // The sweep alone, split, equals the sweep inside the study.
-    let sweep_job = Job::NoiseSweep { design: trigger(), settings, levels: None };
+    let sweep_job = Job::NoiseSweep { design: trigger(), settings, levels: None, front: None };
     for parts in [1, 2, 4, 9] {
         let JobOutput::SweepPart(p) = run_split(&sweep_job, parts, 1) else { panic!("not a sweep") };
         assert_eq!((p.start, p.end), (0, 9));

@@ -117,7 +117,7 @@ pub fn DesignSheet() -> impl IntoView {
                     <div class="sheet-bench">
                         <h2>"Bench test"</h2>
                         <p>{format!("Equipment: {}.", bench.equipment.join("; "))}</p>
-                        <ol>{bench.steps.iter().map(|s| view! { <li>{s.instruction.clone()}</li> }).collect_view()}</ol>
+                        <ol id="sheet-bench-steps">{bench.steps.iter().map(|s| view! { <li>{s.instruction.clone()}</li> }).collect_view()}</ol>
                         <p><strong>"If the readings are off: "</strong>{bench.troubleshooting.join(" ")}</p>
                     </div>
                     <p class="sheet-notes">{move || with_shown(&|r| r.notes.clone())}</p>

@@ -52,6 +52,7 @@
 pub mod noise;
 pub mod parts;
 pub mod from_record;
+pub mod terminal;
 pub mod spice;
 
 use crate::analysis::{CheckSettings, OutputState, Sense, Thresholds};

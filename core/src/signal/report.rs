@@ -396,6 +396,11 @@ fn run_inner(
     };
     let (mut clean, mut signal) = (clean, signal);
     let times = time.view();
+    // The noise sweep adds its noise before the network: it keeps the base unfiltered.
+    let sweep_base: Option<Vec<f64>> = match (front, &settings.sweep, &clean) {
+        (Some(_), Some(sw), Some(c)) => Some(if sw.keep_other_noise { signal.clone() } else { c.clone() }),
+        _ => None,
+    };
     if let Some(f) = front {
         // The input network's clamp and filter act before the trigger (on both versions, so the
         // intended edges carry the filter's delay too).
@@ -404,9 +409,8 @@ fn run_inner(
             f.apply(times, c);
         }
         notes.push(format!(
-            "the signal passes the input network (clamp, filter τ = {:.4e} s) before the trigger; thresholds are at the field terminal{}",
-            f.time_constant_s,
-            if settings.sweep.is_some() { "; the noise sweep runs without the network" } else { "" }
+            "the signal passes the input network (clamp, filter τ = {:.4e} s) before the trigger; thresholds are at the field terminal",
+            f.time_constant_s
         ));
     }
     let n = signal.len();
@@ -555,8 +559,13 @@ fn run_inner(
                 intended_baseline: &intended_baseline,
                 window_s: window,
                 window_baseline_s: window_base,
+                front: front.copied(),
             };
-            let base: &[f64] = if sw.keep_other_noise { &signal } else { clean_v };
+            let base: &[f64] = match &sweep_base {
+                Some(b) => b,
+                None if sw.keep_other_noise => &signal,
+                None => clean_v,
+            };
             let mut scratch = Vec::new();
             let mut edges = Vec::new();
             Some(run_sweep(&ctx, sw, base, &mut scratch, &mut edges)?)

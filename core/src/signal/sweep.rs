@@ -7,6 +7,14 @@
 //! Beside each simulated count stand the predictions of [`super::rice`]: the hysteresis bound
 //! for the design and the no-hysteresis expectation for the comparator, summed over the intended
 //! edges with each edge's own slope.
+//!
+//! **Through an input network.** When the study runs at the field terminal (the context's
+//! [`SweepContext::front`], see [`crate::input_network::noise::FrontEnd`]), every level's samples
+//! — the unfiltered base plus the scaled unit noise — pass the network's clamp and filter before
+//! the triggers, exactly as the study's own samples do, and the Rice terms use the noise's
+//! spectral moments after the filter. The base handed to [`SweepRunner::point`] must then be the
+//! signal before the network (the clamp is not linear, so noise and signal cannot be filtered
+//! apart).
 
 use super::generate::SignalDefinition;
 use super::noise::{add_noise, source_seed, NoiseSource};
@@ -140,6 +148,9 @@ pub struct SweepContext<'a> {
     pub window_s: f64,
     /// Matching window for the comparator, seconds.
     pub window_baseline_s: f64,
+    /// The input network's clamp and filter, applied to each level's samples before the
+    /// triggers (`None`: the samples reach the trigger as they are).
+    pub front: Option<crate::input_network::noise::FrontEnd>,
 }
 
 /// The sweep prepared level by level: the levels, the unit noise (generated once, so every level
@@ -150,6 +161,7 @@ pub struct SweepContext<'a> {
 pub struct SweepRunner {
     levels: Vec<f64>,
     unit_v: Vec<f64>,
+    s0_unit: f64,
     s1_unit: f64,
     kept: (f64, f64),
 }
@@ -166,14 +178,21 @@ impl SweepRunner {
         unit.validate(def.sample_rate_hz)?;
         let mut unit_v = vec![0.0; samples];
         add_noise(&unit, source_seed(def.seed, def.noise.len()), def.step_s(), &mut unit_v);
-        // Gaussian moments per volt of sweep noise, plus the kept sources' own.
-        let (_, s1_unit) = unit.gaussian_moments(def.sample_rate_hz).unwrap_or((1.0, 0.0));
+        // Gaussian moments per volt of sweep noise, plus the kept sources' own, as the trigger
+        // sees them: flat to half the sample rate, through the network's filter when there is one.
+        let moments = |s: &NoiseSource| match &ctx.front {
+            Some(f) => f.moments(s, def.sample_rate_hz / 2.0),
+            None => s.gaussian_moments(def.sample_rate_hz),
+        };
+        let (s0_filtered, s1_unit) = moments(&unit).unwrap_or((1.0, 0.0));
+        // Without a filter the level is the RMS the trigger sees (σ0 per volt is 1, as before).
+        let s0_unit = if ctx.front.is_some_and(|f| f.corner_hz().is_some()) { s0_filtered } else { 1.0 };
         let kept = if settings.keep_other_noise {
-            rice::combine_moments(def.noise.iter().filter_map(|s| s.gaussian_moments(def.sample_rate_hz)))
+            rice::combine_moments(def.noise.iter().filter_map(moments))
         } else {
             (0.0, 0.0)
         };
-        Ok(SweepRunner { levels, unit_v, s1_unit, kept })
+        Ok(SweepRunner { levels, unit_v, s0_unit, s1_unit, kept })
     }
 
     /// The RMS levels, volts, ascending.
@@ -182,7 +201,8 @@ impl SweepRunner {
     }
 
     /// The point of level `index` (an error when there is no such level). `base_v` is the signal
-    /// the sweep noise is added to; `scratch_v` and `edges` are reused between calls.
+    /// the sweep noise is added to (before the input network, when the context has one: see the
+    /// module documentation); `scratch_v` and `edges` are reused between calls.
     pub fn point(
         &self,
         ctx: &SweepContext<'_>,
@@ -199,12 +219,15 @@ impl SweepRunner {
         for ((o, b), u) in scratch_v.iter_mut().zip(base_v).zip(&self.unit_v) {
             *o = b + level * u;
         }
+        if let Some(f) = &ctx.front {
+            f.apply(def.time_base().view(), scratch_v);
+        }
         run_trigger(&ctx.design, &ctx.timing, def.time_base().view(), scratch_v, edges);
         let design = compare_edges(edges, ctx.intended, ctx.window_s);
         run_trigger(&ctx.baseline, &ctx.timing, def.time_base().view(), scratch_v, edges);
         let baseline = compare_edges(edges, ctx.intended_baseline, ctx.window_baseline_s);
         let h = ctx.design.thresholds.hysteresis_v();
-        let (s0, s1) = rice::combine_moments([(level, level * self.s1_unit), self.kept]);
+        let (s0, s1) = rice::combine_moments([(level * self.s0_unit, level * self.s1_unit), self.kept]);
         let bound: f64 = ctx.intended.iter().map(|e| rice::false_edges_per_edge_bound(h, e.slope_v_per_s, s0, s1)).sum();
         let expected: f64 =
             ctx.intended_baseline.iter().map(|e| 2.0 * rice::wrong_way_crossings_no_hysteresis(e.slope_v_per_s, s1)).sum();
@@ -229,7 +252,8 @@ pub fn finish_sweep(settings: &SweepSettings, points: Vec<SweepPoint>) -> SweepR
 }
 
 /// Runs the sweep. `base_v` is the signal the sweep noise is added to (the noise-free sum, or the
-/// signal with its own noise when kept); `scratch` is reused for each level's noisy signal.
+/// signal with its own noise when kept; before the input network when the context has one);
+/// `scratch` is reused for each level's noisy signal.
 pub fn run_sweep(
     ctx: &SweepContext<'_>,
     settings: &SweepSettings,
