@@ -253,3 +253,29 @@ async fn key_figures_lead_with_the_field_terminal_and_the_schematic_draws_the_ne
     assert!(!svg.contains(">FIELD</text>"));
     s.close().await;
 }
+
+#[tokio::test(flavor = "multi_thread")]
+async fn the_print_sheet_draws_the_network_on_one_page() {
+    use fantoccini::wd::{PrintConfiguration, PrintSize};
+    let s = browser::start().await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    s.js("window.dispatchEvent(new Event('beforeprint')); return 1;").await;
+    s.wait_js(
+        "the sheet's schematic with the network",
+        "const i = document.querySelector('img.sheet-schematic'); return !!i && decodeURIComponent(i.src).includes('>FIELD</text>');",
+    )
+    .await;
+    let dir = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..").join("target").join("screenshots");
+    std::fs::create_dir_all(&dir).expect("create target/screenshots");
+    for (size, label) in [(PrintSize::A4, "a4"), (PrintSize::US_LETTER, "letter")] {
+        let cfg = PrintConfiguration::builder().size(size).shrink_to_fit(false).background(true).build().unwrap();
+        let pdf = s.client.print(cfg).await.expect("print to PDF");
+        // Kept beside the screenshots for a look (`pdftoppm -png` makes an image of it).
+        let path = dir.join(format!("sawmill-end-stop-sheet-{label}.pdf"));
+        std::fs::write(&path, &pdf).expect("write the PDF");
+        let out = std::process::Command::new("pdfinfo").arg(&path).output().expect("pdfinfo (poppler-utils) runs");
+        let text = String::from_utf8_lossy(&out.stdout).to_string();
+        assert!(text.lines().any(|l| l.starts_with("Pages:") && l.trim_end().ends_with(" 1")), "{label}: {text}");
+    }
+    s.close().await;
+}
