@@ -245,8 +245,17 @@ async fn key_figures_lead_with_the_field_terminal_and_the_schematic_draws_the_ne
     let strip = s.text("#key-strip").await;
     assert!(strip.contains("field terminal") && strip.contains("pin"), "{strip}");
 
-    // A design without a network shows the pin figures only, as before.
+    // The drawings with the oscillator's or debouncer's parts below the trigger keep their
+    // aspect and text size too (a fixed height used to shrink them).
     viewport(&s, 1400, 1000, 1.0).await;
+    for demo in ["beehive-clock", "rain-gauge"] {
+        s.add_starter(&format!("demo:{demo}")).await;
+        let (px, aspect) = schematic_scale(&s).await;
+        assert!((aspect - 1.0).abs() < 0.01 && px >= 9.5, "{demo}: schematic aspect ratio {aspect}, text {px:.1} px");
+        screenshot_of(&s, "#schematic-view", &format!("{demo}-schematic-1400")).await;
+    }
+
+    // A design without a network shows the pin figures only, as before.
     s.add_starter("topology:non_inverting").await;
     s.wait_js("no field-terminal figures without a network", "return !!document.querySelector('#vt-upper') && !document.querySelector('#vt-upper-terminal');").await;
     let svg = schematic_svg(&s).await;
