@@ -62,11 +62,22 @@ pub struct Quick {
     pub analysis: Result<Analysis, DesignError>,
     /// The transfer curve over [`curve_window`]; `None` when the thresholds cannot be computed.
     pub curve: Option<TransferCurve>,
+    /// VT+ and VT− at the field terminal, in front of the record's input network (what the
+    /// engineer measures on the wire; [`crate::input_network::from_record::record_network`]):
+    /// `None` without a network, the network's error when it cannot be analysed. The analysis
+    /// above stays at the trigger's input pin.
+    #[serde(default)]
+    pub field_terminal: Option<Result<Thresholds, DesignError>>,
 }
 
-/// The keystroke path: analysis and transfer curve of the design as it stands.
+/// The keystroke path: analysis and transfer curve of the design as it stands, and its
+/// thresholds at the field terminal when it has an input network.
 pub fn quick(record: &DesignRecord) -> Quick {
-    Quick { analysis: analyse(&record.circuit, &record.checks), curve: curve(&record.circuit).ok() }
+    Quick {
+        analysis: analyse(&record.circuit, &record.checks),
+        curve: curve(&record.circuit).ok(),
+        field_terminal: crate::input_network::from_record::record_network(record).map(|r| r.map(|n| n.field)),
+    }
 }
 
 /// One part as it stood when the design was saved.
@@ -484,6 +495,27 @@ mod tests {
         old.as_object_mut().unwrap().remove("part_list");
         let back: Snapshot = serde_json::from_value(old).unwrap();
         assert_eq!(back.part_list, None);
+    }
+
+    #[test]
+    fn quick_carries_the_field_terminal_thresholds_of_the_input_network() {
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record();
+        let q = quick(&r);
+        let field = q.field_terminal.clone().expect("the demo has a network").unwrap();
+        // The same figures as the Input network study (under the output load), not the pin's.
+        let report = crate::input_network::from_record::record_network(&r).unwrap().unwrap();
+        assert_eq!(field, report.field);
+        let pin = q.analysis.as_ref().unwrap();
+        assert!(field.vt_upper_v > 3.0 * pin.vt_upper_v, "field {field:?}, pin {}", pin.vt_upper_v);
+        // Without a network the field terminal is the pin: nothing extra.
+        assert_eq!(quick(&DesignRecord { input_network: None, ..r.clone() }).field_terminal, None);
+        // A network that cannot be analysed reports its error, and the pin figures stay.
+        let mut bad = r.clone();
+        if let Some(n) = bad.input_network.as_mut() {
+            n.series_ohm = Some(-1.0);
+        }
+        let q = quick(&bad);
+        assert!(matches!(q.field_terminal, Some(Err(_))) && q.analysis.is_ok());
     }
 
     #[test]

@@ -315,3 +315,27 @@ async fn part_list_shows_every_column_at_1400_px_and_fits_at_390_px() {
     }
     s.close().await;
 }
+
+#[tokio::test(flavor = "multi_thread")]
+async fn worst_case_table_shows_every_column_at_1400_px() {
+    let s = browser::start().await;
+    viewport(&s, 1400, 1000, 1.0).await;
+    for demo in ["lathe-tachometer", "sawmill-end-stop"] {
+        s.add_starter(&format!("demo:{demo}")).await;
+        open_studies(&s).await;
+        s.wait_for("#worst-case").await;
+        // No sideways scrolling in its box, and its last heading inside the card.
+        let seen = s
+            .js("const t = document.querySelector('#worst-case'); const card = t.closest('.card').getBoundingClientRect(); \
+                 const ths = [...t.querySelectorAll('th')]; const last = ths[ths.length - 1].getBoundingClientRect(); \
+                 return { scroll: t.scrollWidth, client: t.clientWidth, last_right: last.right, card_right: card.right };")
+            .await;
+        assert!(
+            seen["scroll"].as_f64() <= seen["client"].as_f64().map(|c| c + 1.0)
+                && seen["last_right"].as_f64() <= seen["card_right"].as_f64().map(|c| c + 0.5),
+            "{demo}: at 1400 px the worst-case table scrolls: {seen}"
+        );
+        close_studies(&s).await;
+    }
+    s.close().await;
+}

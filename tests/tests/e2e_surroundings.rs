@@ -2,14 +2,18 @@
 //! page — the sawmill demo's thresholds at the field terminal against the textbook closed form of
 //! a non-inverting trigger driven through a source resistance, a typed change to the series
 //! resistor, the reference chosen as an adjustable shunt reference (its part in the part list),
-//! the signal test run through the input network, and the print sheet's bench steps at the field
-//! terminal with the field windows. Every value is typed with real key events
-//! ([`Session::type_into`]).
+//! the signal test run through the input network, the print sheet's bench steps at the field
+//! terminal with the field windows, and the key figures at the field terminal and the input network
+//! on the schematic, readable at 1400 px and 390 px (screenshots of the schematic card:
+//! `target/screenshots/sawmill-end-stop-schematic-{1400,390}.png`). Every value is typed with real
+//! key events ([`Session::type_into`]).
 
 use hysteron_core::bench::ReadingPoint;
 use hysteron_core::catalog;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::topology::{Circuit, Topology};
+use base64::Engine;
+use fantoccini::wd::WebDriverCompatibleCommand;
 use hysteron_tests::browser::{self, Session};
 
 /// The sawmill demo as the catalog holds it.
@@ -144,5 +148,178 @@ async fn the_print_sheet_bench_steps_drive_the_field_terminal_with_field_windows
         assert!(steps.contains(want.as_str()), "the sheet lacks {want}: {steps}");
     }
     assert!(steps.contains("Optional, at the pin, for reference"), "{steps}");
+    s.close().await;
+}
+
+/// chromedriver's extension command that runs a Chrome DevTools command (a screen size and pixel
+/// ratio, a screenshot).
+#[derive(Debug)]
+struct Cdp(serde_json::Value);
+
+impl WebDriverCompatibleCommand for Cdp {
+    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
+        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
+    }
+    fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
+        (http::Method::POST, Some(self.0.to_string()))
+    }
+}
+
+async fn cdp(s: &Session, cmd: &str, params: serde_json::Value) -> serde_json::Value {
+    s.client
+        .issue_cmd(Cdp(serde_json::json!({"cmd": cmd, "params": params})))
+        .await
+        .unwrap_or_else(|e| panic!("DevTools command {cmd}: {e}"))
+}
+
+async fn viewport(s: &Session, width: u32, height: u32, dpr: f64) {
+    cdp(s, "Emulation.setScrollbarsHidden", serde_json::json!({"hidden": true})).await;
+    cdp(s, "Emulation.setDeviceMetricsOverride", serde_json::json!({"width": width, "height": height, "deviceScaleFactor": dpr, "mobile": false})).await;
+    s.wait_js(
+        &format!("the viewport to be {width} × {height}"),
+        &format!("return innerWidth === {width} && innerHeight === {height} && devicePixelRatio === {dpr};"),
+    )
+    .await;
+}
+
+/// Saves a screenshot of the element `css` (scrolled into view) as `target/screenshots/<name>.png`.
+async fn screenshot_of(s: &Session, css: &str, name: &str) {
+    let r = s
+        .js(&format!(
+            "const el = document.querySelector('{css}'); el.scrollIntoView({{block: 'start'}}); const r = el.getBoundingClientRect(); \
+             return {{x: r.left + scrollX, y: r.top + scrollY, w: r.width, h: r.height}};"
+        ))
+        .await;
+    let clip = serde_json::json!({"x": r["x"], "y": r["y"], "width": r["w"], "height": r["h"], "scale": 1});
+    let shot = cdp(s, "Page.captureScreenshot", serde_json::json!({"format": "png", "clip": clip, "captureBeyondViewport": true})).await;
+    let png = base64::engine::general_purpose::STANDARD.decode(shot["data"].as_str().unwrap_or_default()).expect("base64");
+    assert!(png.len() > 1000, "screenshot {name} is empty");
+    let dir = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..").join("target").join("screenshots");
+    std::fs::create_dir_all(&dir).expect("create target/screenshots");
+    std::fs::write(dir.join(format!("{name}.png")), png).expect("write screenshot");
+}
+
+/// The schematic image's drawing (the SVG in its `data:` URL).
+async fn schematic_svg(s: &Session) -> String {
+    s.js("const i = document.querySelector('#schematic'); return i ? decodeURIComponent(i.src.split(',').slice(1).join(',')) : '';")
+        .await
+        .as_str()
+        .unwrap_or_default()
+        .to_string()
+}
+
+/// The schematic as shown: its text size in CSS pixels (the drawing's 11 px text at the scale
+/// the image is shown) and how far its shown aspect is from the drawing's own.
+async fn schematic_scale(s: &Session) -> (f64, f64) {
+    s.wait_js("the schematic to be loaded", "const i = document.querySelector('#schematic'); return !!i && i.complete && i.naturalWidth > 0 && i.clientWidth > 0;").await;
+    let v = s
+        .js("const i = document.querySelector('#schematic'); return [i.clientWidth / i.naturalWidth * 11, (i.clientWidth / i.clientHeight) / (i.naturalWidth / i.naturalHeight)];")
+        .await;
+    (v[0].as_f64().unwrap_or(0.0), v[1].as_f64().unwrap_or(0.0))
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn key_figures_lead_with_the_field_terminal_and_the_schematic_draws_the_network() {
+    let record = sawmill();
+    let s = browser::start().await;
+    viewport(&s, 1400, 1000, 1.0).await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    // What core computes for the page: the pin's thresholds and the field terminal's.
+    let q = hysteron_core::overview::quick(&record);
+    let pin = q.analysis.as_ref().expect("the demo analyses");
+    let field = q.field_terminal.clone().expect("the demo has a network").expect("its network analyses");
+    let tol = 1e-9;
+    s.wait_number("#vt-upper-terminal", field.vt_upper_v, tol).await;
+    s.wait_number("#vt-lower-terminal", field.vt_lower_v, tol).await;
+    s.wait_number("#hysteresis-terminal", field.hysteresis_v(), tol).await;
+    // #vt-upper keeps its meaning: the trigger's own threshold at its pin.
+    s.wait_number("#vt-upper", pin.vt_upper_v, tol).await;
+    s.wait_number("#vt-lower", pin.vt_lower_v, tol).await;
+    let card = s.text("#key-vt-upper").await;
+    assert!(card.contains("at the field terminal") && card.contains("input pin"), "{card}");
+    // The field value comes first, the pin value after it.
+    let order = s.js("const a = document.querySelector('#vt-upper-terminal'), b = document.querySelector('#vt-upper'); \
+        return !!(a.compareDocumentPosition(b) & Node.DOCUMENT_POSITION_FOLLOWING) && parseFloat(getComputedStyle(a).fontSize) > parseFloat(getComputedStyle(b).fontSize);").await;
+    assert_eq!(order, serde_json::Value::Bool(true), "the field figure leads, larger");
+
+    // The schematic draws the network: its field terminal and every part of its part list.
+    let parts = {
+        let a = hysteron_core::topology::analyse(&record.circuit, &record.checks).unwrap();
+        hysteron_core::overview::part_list(&record, &a).unwrap().input_network
+    };
+    assert!(parts.len() >= 6);
+    let svg = schematic_svg(&s).await;
+    assert!(svg.contains(">FIELD</text>"), "the field terminal is drawn");
+    for p in &parts {
+        assert!(svg.contains(&format!(">{}</text>", p.designator)), "{} on the schematic", p.designator);
+    }
+    // The drawing keeps its aspect and a readable text size at 1400 px.
+    let (px, aspect) = schematic_scale(&s).await;
+    assert!((aspect - 1.0).abs() < 0.01, "the schematic is shown at its own aspect (ratio {aspect})");
+    assert!(px >= 9.5, "schematic text at 1400 px is {px:.1} px");
+    screenshot_of(&s, "#schematic-view", "sawmill-end-stop-schematic-1400").await;
+
+    // A typed series resistor moves the field figures as core computes them; the pin stays.
+    open_fold(&s, "fold-input-network").await;
+    s.type_into("#net-series", "10k").await;
+    let mut changed = record.clone();
+    changed.input_network.as_mut().unwrap().series_ohm = Some(10e3);
+    let field2 = hysteron_core::overview::quick(&changed).field_terminal.unwrap().unwrap();
+    s.wait_number("#vt-upper-terminal", field2.vt_upper_v, tol).await;
+    s.wait_number("#vt-lower-terminal", field2.vt_lower_v, tol).await;
+    s.wait_number("#vt-upper", pin.vt_upper_v, tol).await;
+    s.wait_js("the new series resistor on the schematic", "const i = document.querySelector('#schematic'); return decodeURIComponent(i.src).includes('>10K</text>');").await;
+
+    // At phone width the strip at the top says where its figures are taken.
+    viewport(&s, 390, 844, 2.0).await;
+    let (px, aspect) = schematic_scale(&s).await;
+    assert!((aspect - 1.0).abs() < 0.01, "the schematic is shown at its own aspect at 390 px (ratio {aspect})");
+    assert!(px >= 6.5, "schematic text at 390 px is {px:.1} px");
+    screenshot_of(&s, "#schematic-view", "sawmill-end-stop-schematic-390").await;
+    s.js("window.scrollTo(0, document.body.scrollHeight / 2); return true;").await;
+    let strip = s.text("#key-strip").await;
+    assert!(strip.contains("field terminal") && strip.contains("pin"), "{strip}");
+
+    // The drawings with the oscillator's or debouncer's parts below the trigger keep their
+    // aspect and text size too (a fixed height used to shrink them).
+    viewport(&s, 1400, 1000, 1.0).await;
+    for demo in ["beehive-clock", "rain-gauge"] {
+        s.add_starter(&format!("demo:{demo}")).await;
+        let (px, aspect) = schematic_scale(&s).await;
+        assert!((aspect - 1.0).abs() < 0.01 && px >= 9.5, "{demo}: schematic aspect ratio {aspect}, text {px:.1} px");
+        screenshot_of(&s, "#schematic-view", &format!("{demo}-schematic-1400")).await;
+    }
+
+    // A design without a network shows the pin figures only, as before.
+    s.add_starter("topology:non_inverting").await;
+    s.wait_js("no field-terminal figures without a network", "return !!document.querySelector('#vt-upper') && !document.querySelector('#vt-upper-terminal');").await;
+    let svg = schematic_svg(&s).await;
+    assert!(!svg.contains(">FIELD</text>"));
+    s.close().await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn the_print_sheet_draws_the_network_on_one_page() {
+    use fantoccini::wd::{PrintConfiguration, PrintSize};
+    let s = browser::start().await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    s.js("window.dispatchEvent(new Event('beforeprint')); return 1;").await;
+    s.wait_js(
+        "the sheet's schematic with the network",
+        "const i = document.querySelector('img.sheet-schematic'); return !!i && decodeURIComponent(i.src).includes('>FIELD</text>');",
+    )
+    .await;
+    let dir = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..").join("target").join("screenshots");
+    std::fs::create_dir_all(&dir).expect("create target/screenshots");
+    for (size, label) in [(PrintSize::A4, "a4"), (PrintSize::US_LETTER, "letter")] {
+        let cfg = PrintConfiguration::builder().size(size).shrink_to_fit(false).background(true).build().unwrap();
+        let pdf = s.client.print(cfg).await.expect("print to PDF");
+        // Kept beside the screenshots for a look (`pdftoppm -png` makes an image of it).
+        let path = dir.join(format!("sawmill-end-stop-sheet-{label}.pdf"));
+        std::fs::write(&path, &pdf).expect("write the PDF");
+        let out = std::process::Command::new("pdfinfo").arg(&path).output().expect("pdfinfo (poppler-utils) runs");
+        let text = String::from_utf8_lossy(&out.stdout).to_string();
+        assert!(text.lines().any(|l| l.starts_with("Pages:") && l.trim_end().ends_with(" 1")), "{label}: {text}");
+    }
     s.close().await;
 }

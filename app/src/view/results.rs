@@ -4,7 +4,7 @@
 
 use super::state::Notebook;
 use crate::plot;
-use hysteron_core::analysis::Analysis;
+use hysteron_core::analysis::{Analysis, Thresholds};
 use hysteron_core::overview::{quick, Quick};
 use hysteron_core::tolerance::{worst_case::WorstCase, SpecWindow};
 use hysteron_core::topology::TransferCurve;
@@ -33,6 +33,9 @@ fn window_text(lo: Option<f64>, hi: Option<f64>) -> Option<String> {
 pub struct Figures {
     quick: Memo<Option<Quick>>,
     analysis: Memo<Result<Analysis, String>>,
+    /// VT+ and VT− at the field terminal when the design has an input network (core's
+    /// `Quick::field_terminal`); `None` without one.
+    terminal: Memo<Option<Result<Thresholds, String>>>,
 }
 
 impl Figures {
@@ -45,7 +48,10 @@ impl Figures {
                 None => Err("no design open".into()),
             })
         });
-        Self { quick, analysis }
+        let terminal = Memo::new(move |_| {
+            quick.with(|q| q.as_ref().and_then(|q| q.field_terminal.clone()).map(|t| t.map_err(|e| e.to_string())))
+        });
+        Self { quick, analysis, terminal }
     }
 }
 
@@ -54,14 +60,23 @@ impl Figures {
 #[component]
 pub fn KeyStrip(figures: Figures) -> impl IntoView {
     let text = move || {
-        figures.analysis.with(|a| match a {
-            Ok(a) => format!(
+        let terminal = figures.terminal.get();
+        figures.analysis.with(|a| match (a, terminal) {
+            (Ok(a), Some(Ok(t))) => format!(
+                "At the field terminal: VT+ {} · VT− {} · hysteresis {} (pin {} / {})",
+                volts(t.vt_upper_v),
+                volts(t.vt_lower_v),
+                volts(t.hysteresis_v()),
+                volts(a.vt_upper_v),
+                volts(a.vt_lower_v)
+            ),
+            (Ok(a), _) => format!(
                 "VT+ {} · VT− {} · hysteresis {}",
                 volts(a.vt_upper_v),
                 volts(a.vt_lower_v),
                 volts(a.hysteresis_v)
             ),
-            Err(_) => "No thresholds: see the message under Results".into(),
+            (Err(_), _) => "No thresholds: see the message under Results".into(),
         })
     };
     view! {
@@ -75,6 +90,8 @@ pub fn KeyStrip(figures: Figures) -> impl IntoView {
 pub fn Results(figures: Figures) -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let analysis = figures.analysis;
+    let terminal = figures.terminal;
+    let has_network = Memo::new(move |_| terminal.with(|t| t.is_some()));
     let curve = Memo::new(move |_| figures.quick.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
     // The field window (every tolerance over its full range) and the bench window (parts and
     // device spread at 25 °C and the nominal supply), computed on a compute worker once typing
@@ -129,8 +146,12 @@ pub fn Results(figures: Figures) -> impl IntoView {
     // One key figure: its name, what it means, the value, and its windows where there are any.
     type Window = fn(&SpecWindow) -> (Option<f64>, Option<f64>);
     type Bench = fn(&WorstCase) -> (f64, f64);
-    let key = move |id: &'static str, name: &'static str, note: &'static str, f: fn(&Analysis) -> f64, spec_of: Window, bench_of: Bench| {
+    let key = move |id: &'static str, name: &'static str, note: &'static str, f: fn(&Analysis) -> f64, at_terminal: fn(&Thresholds) -> f64, spec_of: Window, bench_of: Bench| {
         let v = value(f);
+        // With an input network the figure at the field terminal leads (`#{id}-terminal`); the
+        // pin's figure (`#{id}`, as without a network) follows it, smaller.
+        let t = move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().ok()).map(at_terminal));
+        let terminal_error = move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().err()).is_some());
         let spec_text = move || spec.with(|s| {
             let (lo, hi) = spec_of(s);
             window_text(lo, hi)
@@ -142,10 +163,18 @@ pub fn Results(figures: Figures) -> impl IntoView {
         let field_range = move || windows.with(|w| w.as_ref().map(|w| bench_of(&w.field)));
         let bench_range = move || windows.with(|w| w.as_ref().and_then(|w| w.bench.first()).map(|b| bench_of(&b.worst_case)));
         view! {
-            <div class="key-figure" id=format!("key-{id}")>
+            <div class="key-figure" id=format!("key-{id}") class:with-network=move || has_network.get()>
                 <span class="key-name">{name}</span>
                 <span class="key-note">{note}</span>
-                <output id=id class="key-value" data-value=move || v().map(|x| x.to_string()).unwrap_or_default()>
+                {move || has_network.get().then(|| view! {
+                    <span class="key-where">"at the field terminal"</span>
+                    <output id=format!("{id}-terminal") class="key-value" data-value=move || t().map(|x| x.to_string()).unwrap_or_default()
+                        title=move || if terminal_error() { "the input network cannot be analysed: see Input network" } else { "" }>
+                        {move || t().map(volts).unwrap_or_else(|| "—".into())}
+                    </output>
+                    <span class="key-where">"at the trigger's input pin"</span>
+                })}
+                <output id=id class="key-value" class:key-pin=move || has_network.get() data-value=move || v().map(|x| x.to_string()).unwrap_or_default()>
                     {move || v().map(volts).unwrap_or_else(|| "—".into())}
                 </output>
                 {move || field_range().map(|(lo, hi)| view! {
@@ -181,13 +210,19 @@ pub fn Results(figures: Figures) -> impl IntoView {
             {move || analysis.with(|a| a.as_ref().err().cloned()).map(|e| view! { <p class="error" id="analysis-error" role="alert">{e}</p> })}
             {move || differs().map(|m| view! { <p class="compare" id="saved-differs" role="status">{m}</p> })}
             <div class="key-figures" id="key-figures">
-                {key("vt-upper", "VT+", "trip point, rising input", |a| a.vt_upper_v,
+                {key("vt-upper", "VT+", "trip point, rising input", |a| a.vt_upper_v, |t| t.vt_upper_v,
                     |s| (s.vt_upper_min_v, s.vt_upper_max_v), |w| (w.vt_upper.min.value_v, w.vt_upper.max.value_v))}
-                {key("vt-lower", "VT−", "release point, falling input", |a| a.vt_lower_v,
+                {key("vt-lower", "VT−", "release point, falling input", |a| a.vt_lower_v, |t| t.vt_lower_v,
                     |s| (s.vt_lower_min_v, s.vt_lower_max_v), |w| (w.vt_lower.min.value_v, w.vt_lower.max.value_v))}
-                {key("hysteresis", "Hysteresis", "VT+ − VT−", |a| a.hysteresis_v,
+                {key("hysteresis", "Hysteresis", "VT+ − VT−", |a| a.hysteresis_v, |t| t.hysteresis_v(),
                     |s| (s.hysteresis_min_v, s.hysteresis_max_v), |w| (w.hysteresis.min.value_v, w.hysteresis.max.value_v))}
             </div>
+            {move || has_network.get().then(|| view! {
+                <p class="key-legend note" id="key-terminal-legend">"With the input network: the large figures are at the field terminal, on the wire in front of the network (what you measure there); the smaller ones at the trigger's input pin. The windows below them, and the transfer curve, are the pin's."</p>
+            })}
+            {move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().err().cloned())).map(|e| view! {
+                <p class="error" id="terminal-error" role="alert">{format!("No thresholds at the field terminal: {e}")}</p>
+            })}
             <p class="key-legend note">"Field: every tolerance over its full range (supply, temperature, parts, device). Bench: parts and device spread only, at 25 °C and the nominal supply — what the bench procedure accepts. Spec: your window (under Tolerance)."</p>
             <figure class="plot">
                 <canvas id="transfer-plot" node_ref=canvas

@@ -225,7 +225,7 @@ pub fn ToleranceSection() -> impl IntoView {
                     let show_types = settings.get().check_input_types;
                     view! {
                         <table class="grid" id="worst-case">
-                            <thead><tr><th></th><th>"worst-case min"</th><th>"worst-case max"</th><th>"GUM u"</th><th>"GUM U (k = 2)"</th></tr></thead>
+                            <thead><tr><th></th><th>"worst-case min"</th><th>"worst-case max"</th><th>"GUM u"</th><th>"GUM U (k\u{a0}=\u{a0}2)"</th></tr></thead>
                             <tbody>
                                 {rows.into_iter().map(|(name, e, gf, id)| view! {
                                     <tr id=id>

@@ -31,15 +31,32 @@ pub const SWITCH_NET: &str = "switch";
 /// list's designators and series values). With `titled`, the design's name heads the sheet.
 /// A design whose part list cannot be made (its analysis fails) is drawn without those parts.
 pub fn render_design_svg(record: &DesignRecord, style: SymbolStyle, titled: bool) -> String {
+    render_layout_svg(&design_layout(record), style, titled.then_some(record.name.as_str()))
+}
+
+/// The sheet of a whole design record: the trigger as its topology draws it, the input network
+/// in front of it when the record has one ([`super::network::add_network`]), and the
+/// oscillator's and debouncer's parts below. The parts beside the trigger's own take the part
+/// list's designators and values; a design whose part list cannot be made (its analysis fails)
+/// is drawn without them.
+pub fn design_layout(record: &DesignRecord) -> SchematicLayout {
     let mut layout = record.circuit.schematic();
+    let network = record.input_network.as_ref().filter(|n| n.has_parts());
+    if record.application.is_none() && network.is_none() {
+        return layout;
+    }
+    let part_list = crate::topology::analyse(&record.circuit, &record.checks)
+        .and_then(|a| crate::overview::part_list(record, &a))
+        .ok();
+    if let (Some(net), Some(b)) = (network, &part_list) {
+        let rails = super::network::ClampRails::of(&record.circuit.netlist());
+        super::network::add_network(&mut layout, net, &b.input_network, &rails);
+    }
     if let Some(settings) = &record.application {
-        let parts = crate::topology::analyse(&record.circuit, &record.checks)
-            .and_then(|a| crate::overview::part_list(record, &a))
-            .map(|b| b.application)
-            .unwrap_or_default();
+        let parts = part_list.map(|b| b.application).unwrap_or_default();
         add_application_parts(&mut layout, &parts, settings);
     }
-    render_layout_svg(&layout, style, titled.then_some(record.name.as_str()))
+    layout
 }
 
 struct Placer<'a> {

@@ -7,6 +7,8 @@
 //!   the comparator and gate topologies, [`bjt_layout`] for the two-transistor trigger); each
 //!   topology picks one in its own `impl Netlisted`;
 //! - [`svg`]: drawing a sheet as SVG in IEC 60617 or IEEE 315 symbols ([`render_layout_svg`]);
+//! - [`network`]: the input network (dropper, series resistor, clamp, filter) in a row in front
+//!   of the trigger, from the field terminal to its input;
 //! - [`application`]: the oscillator's and debouncer's R and C below the trigger, and
 //!   [`render_design_svg`], the drawing of a whole design record.
 //!
@@ -15,15 +17,16 @@
 
 pub mod application;
 pub mod layout;
+pub mod network;
 pub mod sheet;
 pub mod svg;
 
-pub use application::render_design_svg;
+pub use application::{design_layout, render_design_svg};
 pub use layout::{auto_layout, bjt_layout};
 pub use sheet::{
     gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire,
 };
-pub use svg::{engineering_ohms, render_layout_svg, rkm, xml_escape, SymbolStyle, GRID_PX, VALUE_DIGITS};
+pub use svg::{engineering_ohms, part_extents, render_layout_svg, rkm, xml_escape, Extent, SymbolStyle, GRID_PX, VALUE_DIGITS};
 
 use crate::netlist::Netlisted;
 use crate::topology::Topology;
@@ -84,7 +87,7 @@ mod tests {
 
     /// Checks that the drawing connects exactly what the netlist connects: pins on the same net
     /// are joined by wires (or by labels naming the same net), pins on different nets are not.
-    fn check_connectivity(key: &str, layout: &SchematicLayout) {
+    pub(super) fn check_connectivity(key: &str, layout: &SchematicLayout) {
         let mut g = Groups(Default::default());
         let mut points: Vec<GridPoint> = Vec::new();
         for w in &layout.wires {
@@ -142,7 +145,7 @@ mod tests {
         }
     }
 
-    fn variants() -> Vec<(String, Topology)> {
+    pub(super) fn variants() -> Vec<(String, Topology)> {
         use crate::device::{Comparator, Rail};
         use crate::topology::cmos_buffer::{BiasRail, CmosBufferSchmitt, CmosGate};
         use crate::topology::noninverting::{NonInvertingSchmitt, Reference};

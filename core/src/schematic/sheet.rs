@@ -85,6 +85,16 @@ pub enum PartSymbol {
         /// Capacitance, farads (drawn as its value).
         capacitance_f: f64,
     },
+    /// A diode (the input network's clamp diodes) drawn downward: cathode at (0,0), anode at (0,4).
+    Diode {
+        /// Forward drop, volts (drawn as the part list writes it, "Vf 300 mV").
+        forward_v: f64,
+    },
+    /// A bidirectional TVS diode drawn downward between (0,0) and (0,4).
+    Tvs {
+        /// Reverse standoff voltage, volts (drawn as the part list writes it, "standoff 33 V").
+        standoff_v: f64,
+    },
 }
 
 /// A pin of a placed part: where it is and which net it belongs to.

@@ -291,7 +291,180 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             text(o, x - 1.0, y + 2.9, "end", &voltage_value(voltage_v, style));
         }
         PartSymbol::Capacitor { capacitance_f } => draw_capacitor(o, part, capacitance_f, style),
+        PartSymbol::Diode { forward_v } => {
+            draw_diode(o, x, y);
+            side_text(o, part, &diode_value(forward_v));
+        }
+        PartSymbol::Tvs { standoff_v } => {
+            draw_tvs(o, x, y, style);
+            side_text(o, part, &tvs_value(standoff_v));
+        }
     }
+}
+
+/// A clamp diode's value as the part list writes it: its forward drop ("Vf 300 mV").
+pub fn diode_value(forward_v: f64) -> String {
+    format!("Vf {}", notation::format_with_unit(forward_v, 3, Unit::Volt))
+}
+
+/// A TVS diode's value as the part list writes it: its standoff voltage ("standoff 33 V").
+pub fn tvs_value(standoff_v: f64) -> String {
+    format!("standoff {}", notation::format_with_unit(standoff_v, 3, Unit::Volt))
+}
+
+/// Where the designator and value of a vertical diode-like part go: beside its body, on its
+/// `text_side` (left: right-aligned; otherwise left-aligned).
+fn side_text_at(part: &PlacedPart) -> (f64, f64, &'static str) {
+    let (x, y) = (part.at.x as f64, part.at.y as f64);
+    match part.text_side {
+        Direction::Left => (x - 1.1, y + 1.8, "end"),
+        _ => (x + 1.1, y + 1.8, "start"),
+    }
+}
+
+fn side_text(o: &mut String, part: &PlacedPart, value: &str) {
+    let (tx, ty, anchor) = side_text_at(part);
+    text(o, tx, ty, anchor, &part.designator);
+    text(o, tx, ty + 1.1, anchor, value);
+}
+
+/// A diode drawn downward from its cathode at (x, y) to its anode at (x, y + 4): the triangle
+/// points up at the cathode bar (IEC 60617-5 and IEEE 315 draw it alike; from memory).
+fn draw_diode(o: &mut String, x: f64, y: f64) {
+    polyline(o, &[(x, y), (x, y + 1.4)], "");
+    polyline(o, &[(x, y + 2.6), (x, y + 4.0)], "");
+    polyline(o, &[(x - 0.7, y + 2.6), (x + 0.7, y + 2.6), (x, y + 1.4), (x - 0.7, y + 2.6)], "");
+    polyline(o, &[(x - 0.7, y + 1.4), (x + 0.7, y + 1.4)], "");
+}
+
+/// A bidirectional breakdown (TVS) diode from (x, y) to (x, y + 4): two triangles pointing at
+/// one breakdown bar, bent at one end (IEC 60617) or at both (IEEE 315), as the zener's bar.
+fn draw_tvs(o: &mut String, x: f64, y: f64, style: SymbolStyle) {
+    polyline(o, &[(x, y), (x, y + 0.9)], "");
+    polyline(o, &[(x, y + 3.1), (x, y + 4.0)], "");
+    polyline(o, &[(x - 0.7, y + 0.9), (x + 0.7, y + 0.9), (x, y + 2.0), (x - 0.7, y + 0.9)], "");
+    polyline(o, &[(x - 0.7, y + 3.1), (x + 0.7, y + 3.1), (x, y + 2.0), (x - 0.7, y + 3.1)], "");
+    match style {
+        SymbolStyle::Iec60617 => polyline(o, &[(x - 0.7, y + 2.0), (x + 0.7, y + 2.0), (x + 0.7, y + 2.4)], ""),
+        SymbolStyle::Ieee315 => {
+            polyline(o, &[(x - 0.9, y + 1.6), (x - 0.7, y + 2.0), (x + 0.7, y + 2.0), (x + 0.9, y + 2.4)], "")
+        }
+    }
+}
+
+/// A rectangle on the sheet, grid units (x0 ≤ x1, y0 ≤ y1).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Extent {
+    /// Left edge.
+    pub x0: f64,
+    /// Top edge.
+    pub y0: f64,
+    /// Right edge.
+    pub x1: f64,
+    /// Bottom edge.
+    pub y1: f64,
+}
+
+impl Extent {
+    /// Whether two rectangles share area (touching edges do not count).
+    pub fn overlaps(&self, other: &Extent) -> bool {
+        self.x0 < other.x1 && other.x0 < self.x1 && self.y0 < other.y1 && other.y0 < self.y1
+    }
+}
+
+/// The estimated width of a text line at the drawing's 11 px sans-serif, grid units: about
+/// 0.6 em per character, half that for a space (an upper estimate for digits and capitals).
+pub fn text_width(content: &str) -> f64 {
+    content.chars().map(|c| if c == ' ' { 0.3 } else { 0.6 }).sum()
+}
+
+/// The box of a text line drawn at baseline (x, y) with its anchor, grid units.
+fn text_extent(x: f64, y: f64, anchor: &str, content: &str) -> Extent {
+    let w = text_width(content);
+    let x0 = match anchor {
+        "middle" => x - w / 2.0,
+        "end" => x - w,
+        _ => x,
+    };
+    Extent { x0, y0: y - 0.8, x1: x0 + w, y1: y + 0.2 }
+}
+
+/// The boxes a part covers on the sheet, grid units: its body (between its pins, leads
+/// included) and each text line written beside it (designator, value), as [`render_layout_svg`]
+/// draws them. Two parts whose boxes overlap would be drawn over each other.
+pub fn part_extents(part: &PlacedPart, style: SymbolStyle) -> Vec<Extent> {
+    let (x, y) = (part.at.x as f64, part.at.y as f64);
+    let horizontal = part.direction == Direction::Right;
+    let two_pin = |across: f64| {
+        if horizontal {
+            Extent { x0: x, y0: y - across, x1: x + 4.0, y1: y + across }
+        } else {
+            Extent { x0: x - across, y0: y, x1: x + across, y1: y + 4.0 }
+        }
+    };
+    let texts = |out: &mut Vec<Extent>, lines: &[(f64, f64, &str, &str)]| {
+        for &(tx, ty, anchor, content) in lines {
+            out.push(text_extent(tx, ty, anchor, content));
+        }
+    };
+    let d = part.designator.as_str();
+    let mut out = Vec::new();
+    match part.symbol {
+        PartSymbol::Resistor { resistance_ohm, .. } => {
+            let value = match style {
+                SymbolStyle::Iec60617 => rkm(resistance_ohm),
+                SymbolStyle::Ieee315 => engineering_ohms(resistance_ohm),
+            };
+            out.push(two_pin(0.45));
+            match part.text_side {
+                Direction::Up | Direction::Down if horizontal => {
+                    texts(&mut out, &[(x + 2.0, y - 0.8, "middle", d), (x + 2.0, y + 1.5, "middle", &value)])
+                }
+                Direction::Left => texts(&mut out, &[(x - 0.8, y + 1.8, "end", d), (x - 0.8, y + 2.9, "end", &value)]),
+                _ => texts(&mut out, &[(x + 0.8, y + 1.8, "start", d), (x + 0.8, y + 2.9, "start", &value)]),
+            }
+        }
+        PartSymbol::Capacitor { capacitance_f } => {
+            let value = notation::format_with_unit(capacitance_f, 3, Unit::Farad);
+            out.push(two_pin(0.9));
+            match part.text_side {
+                Direction::Up | Direction::Down if horizontal => {
+                    texts(&mut out, &[(x + 2.0, y - 1.3, "middle", d), (x + 2.0, y + 2.0, "middle", &value)])
+                }
+                Direction::Left => texts(&mut out, &[(x - 1.2, y + 1.8, "end", d), (x - 1.2, y + 2.9, "end", &value)]),
+                _ => texts(&mut out, &[(x + 1.2, y + 1.8, "start", d), (x + 1.2, y + 2.9, "start", &value)]),
+            }
+        }
+        PartSymbol::Diode { forward_v } => {
+            out.push(two_pin(0.7));
+            let (tx, ty, anchor) = side_text_at(part);
+            texts(&mut out, &[(tx, ty, anchor, d), (tx, ty + 1.1, anchor, &diode_value(forward_v))]);
+        }
+        PartSymbol::Tvs { standoff_v } => {
+            out.push(two_pin(0.9));
+            let (tx, ty, anchor) = side_text_at(part);
+            texts(&mut out, &[(tx, ty, anchor, d), (tx, ty + 1.1, anchor, &tvs_value(standoff_v))]);
+        }
+        PartSymbol::Zener { voltage_v } | PartSymbol::ShuntReference { voltage_v } => {
+            let right = if matches!(part.symbol, PartSymbol::ShuntReference { .. }) { 2.0 } else { 0.9 };
+            out.push(Extent { x0: x - 0.9, y0: y, x1: x + right, y1: y + 4.0 });
+            let value = voltage_value(voltage_v, style);
+            texts(&mut out, &[(x - 1.0, y + 1.8, "end", d), (x - 1.0, y + 2.9, "end", &value)]);
+        }
+        PartSymbol::Comparator { .. } => {
+            out.push(Extent { x0: x, y0: y, x1: x + 8.0, y1: y + 8.0 });
+            texts(&mut out, &[(x + 5.4, y + 1.2, "start", d)]);
+        }
+        PartSymbol::LogicGate { .. } => {
+            out.push(Extent { x0: x, y0: y, x1: x + 8.0, y1: y + 8.0 });
+            texts(&mut out, &[(x + 5.4, y + 0.4, "start", d)]);
+        }
+        PartSymbol::Npn => {
+            out.push(Extent { x0: x, y0: y, x1: x + 5.2, y1: y + 6.0 });
+            texts(&mut out, &[(x + 5.6, y + 3.4, "start", d)]);
+        }
+    }
+    out
 }
 
 /// A capacitor between its two pins, four units apart: IEC 60617-4 draws two parallel plates;
