@@ -35,8 +35,10 @@
 //! - Standard-value search: the combinations of the enumerated resistors are numbered in
 //!   enumeration order and cut into consecutive ranges ([`crate::search::SearchJob::parts`]); each
 //!   part lists its own best combinations and the merge offers the parts' lists in range order to
-//!   one list by the single run's rules ([`crate::search::SearchJob::merge`]; see "Split over
-//!   workers" in [`crate::search`]). Its progress counts combinations of the enumerated resistors.
+//!   one list by the single run's rules ([`crate::search::SearchJob::merge`]). That is exact only
+//!   without the distinct rule (see "Split over workers" in [`crate::search`]), so a search with
+//!   it (the default) is not split and runs whole on one worker. Progress counts combinations of
+//!   the enumerated resistors.
 
 use crate::error::DesignError;
 use crate::signal::csv::{Capture, CsvOptions, CsvParser};
@@ -943,7 +945,9 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
             settings,
             checks,
             combinations: None,
-        } if parts > 1 => {
+        } if parts > 1 && !settings.distinct => {
+            // Only without the distinct rule is the merged list the one-call list (see "Split over
+            // workers" in `crate::search`); a distinct search stays whole.
             let whole = SearchJob::new(circuit, *targets, settings, checks)?;
             Ok(whole
                 .parts(parts as usize)

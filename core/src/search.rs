@@ -108,22 +108,27 @@
 //! the first step; [`search`] is the same job run in one call.
 //!
 //! # Split over workers
-//! The page spreads a search over its compute workers (`crate::jobs::split`). The enumerated
-//! resistors are an odometer, digit 0 (the innermost resistor) turning fastest, so the
-//! combinations are numbered 0 … M^(n−1) − 1 in enumeration order; [`SearchJob::parts`] cuts that
-//! sequence into consecutive ranges (whole runs of the innermost resistor when there are enough of
-//! them), and [`SearchJob::restrict`] makes a job that enumerates one range only (starting its
-//! odometer at the range's first combination, fitting the probe models there, and restarting an
-//! unpruned pass there). Each part runs the same method with its own top-N list.
-//! [`SearchJob::merge`] then offers the parts' lists, in range order and each list best first, to
-//! one list by the same rules (entry bar, tie-break, distinct alternatives; the current budget was
-//! checked in the part). This gives the one-call search's candidates: a part's list starts empty,
-//! so its entry bar is never below the one-call search's at the same combination, it prunes and
-//! stops its walks no earlier, and every combination that enters the one-call list enters its
-//! part's list and is offered again at the merge; what the merge drops, the one-call list dropped
-//! too (the list keeps the best `top_n` distinct entries whatever the order they come in, checked
-//! for 1 to 8 parts in `tests/tests/jobs_split.rs`). The work differs: a part prunes against
-//! its own list, so `evaluations` (the parts' sum) is at least the one-call count.
+//! The enumerated resistors are an odometer, digit 0 (the innermost resistor) turning fastest, so
+//! the combinations are numbered 0 … M^(n−1) − 1 in enumeration order; [`SearchJob::parts`] cuts
+//! that sequence into consecutive ranges (whole runs of the innermost resistor when there are
+//! enough of them), and [`SearchJob::restrict`] makes a job that enumerates one range only
+//! (starting its odometer at the range's first combination, fitting the probe models there, and
+//! restarting an unpruned pass there). Each part runs the same method with its own top-N list;
+//! [`SearchJob::merge`] offers the parts' lists, in range order and each best first, to one list by
+//! the same rules (the current budget was checked in the part).
+//!
+//! **Exact only without the distinct rule.** Without it the list is the `top_n` best by objective
+//! then tie-break, whatever order the combinations come in: a part's list starts empty, so its
+//! entry bar is never below the one-call search's at the same combination and it prunes and stops
+//! its walks no earlier; every combination of the one-call list is among the best `top_n` of its
+//! part and is offered again at the merge. With the distinct rule (the default) the list depends
+//! on the order near twins meet: two alternatives of one part can both be twins of a better one
+//! from another part (A~B, B~C, not A~C), which the whole run folds differently from the part.
+//! This happens: E96 over 1k–1M for the three-resistor inverting form in four parts lost a
+//! 5.62k/5.62k/14.7k set to its 56.2k twin. So `crate::jobs::split` splits a search only when
+//! [`SearchSettings::distinct`] is off; a distinct search runs whole on one worker. Checked for 1
+//! to 8 parts in `tests/tests/search_split.rs`. The work differs: a part prunes against its own
+//! list, so `evaluations` (the parts' sum) is usually above the one-call count.
 //!
 //! Cost: M^(n−1) combinations for n resistors and M series values in range (E96 over three
 //! decades, three resistors: 289² ≈ 83 500), each a few model evaluations; real circuit

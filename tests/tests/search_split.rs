@@ -2,8 +2,10 @@
 //! (`core::jobs::split`/`merge` on `Job::Search`; the method in `core::search`, "Split over
 //! workers"): for the three-resistor inverting form, the non-inverting form with a divider
 //! reference (three enumerated resistors) and the transistor pair's monotone plan, for 1 to 8
-//! parts and uneven slice budgets, with and without the distinct rule and a current budget. The
-//! parts travel through JSON, as they do between a worker and the page.
+//! parts and uneven slice budgets, without the distinct rule (with and without a current budget).
+//! With the distinct rule a search is not split (its list depends on the order near twins meet)
+//! and one worker's run equals the one-call search. The parts travel through JSON, as they do
+//! between a worker and the page.
 
 use hysteron_core::analysis::{CheckSettings, Thresholds};
 use hysteron_core::eseries::ESeries;
@@ -51,9 +53,17 @@ fn check(name: &str, record: &DesignRecord, targets: Thresholds, settings: &Sear
     let job = Job::Search { circuit: record.circuit.clone(), targets, settings: settings.clone(), checks, combinations: None };
     for (parts, budget) in [(1, 1_000_000), (1, 3), (2, 100), (3, 17), (4, 1000), (5, 1), (7, 64), (8, 250)] {
         let (n, merged) = run_split(&job, parts, budget);
-        assert_eq!(n, parts.min(single.combinations as usize), "{name}: parts made for {parts}");
+        let expected = if settings.distinct { 1 } else { parts.min(single.combinations as usize) };
+        assert_eq!(n, expected, "{name}: parts made for {parts}");
         // Whole lists compared bit for bit: values, thresholds, errors, currents, order.
-        assert_eq!(merged.candidates, single.candidates, "{name}: {parts} parts, slices of {budget}");
+        if merged.candidates != single.candidates {
+            let short = |c: &hysteron_core::search::Candidate| {
+                (c.parts.iter().map(|p| p.value_ohm).collect::<Vec<_>>(), c.worst_error_rel, c.vt_upper_v, c.vt_lower_v)
+            };
+            let a: Vec<_> = merged.candidates.iter().map(short).collect();
+            let b: Vec<_> = single.candidates.iter().map(short).collect();
+            panic!("{name}: {parts} parts, slices of {budget}:\nsplit {a:?}\none call {b:?}");
+        }
         assert_eq!(
             (merged.combinations, merged.series, merged.values_per_resistor, &merged.solved_id, merged.targets),
             (single.combinations, single.series, single.values_per_resistor, &single.solved_id, single.targets),
@@ -65,16 +75,17 @@ fn check(name: &str, record: &DesignRecord, targets: Thresholds, settings: &Sear
 }
 
 fn settings(series: ESeries, r_min_ohm: f64, r_max_ohm: f64) -> SearchSettings {
-    SearchSettings { series, r_min_ohm, r_max_ohm, top_n: 10, current_budget_a: None, distinct: true }
+    SearchSettings { series, r_min_ohm, r_max_ohm, top_n: 10, current_budget_a: None, distinct: false }
 }
 
 #[test]
 fn inverting_three_resistors_in_n_parts_equals_one_search() {
     let r = record("inverting");
     let t = Thresholds { vt_upper_v: 1.9, vt_lower_v: 1.4 };
-    let single = check("inverting E96", &r, t, &settings(ESeries::E96, 1e3, 1e6));
+    let single = check("inverting E96, all part sets", &r, t, &settings(ESeries::E96, 1e3, 1e6));
     assert_eq!(single.combinations, 289 * 289);
-    check("inverting E24, all part sets", &r, t, &SearchSettings { distinct: false, ..settings(ESeries::E24, 1e3, 1e6) });
+    check("inverting E96, distinct (one part)", &r, t, &SearchSettings { distinct: true, ..settings(ESeries::E96, 1e3, 1e6) });
+    check("inverting E24, all part sets", &r, t, &settings(ESeries::E24, 1e3, 1e6));
     // A current budget that binds: the parts check it, the merge keeps their verdict.
     let budget = check("inverting E24, 20 µA", &r, t, &SearchSettings { current_budget_a: Some(20e-6), ..settings(ESeries::E24, 1e3, 1e6) });
     assert!(budget.candidates.iter().all(|c| c.quiescent_current_a.is_some_and(|a| a <= 20e-6 * (1.0 + 1e-12))));
@@ -92,7 +103,7 @@ fn transistor_pair_monotone_plan_in_n_parts_equals_one_search() {
     let r = record("bjt_pair");
     let single = check("transistor pair E6", &r, Thresholds { vt_upper_v: 1.5, vt_lower_v: 0.9 }, &settings(ESeries::E6, 1e3, 22e3));
     assert_eq!(single.solved_id, "re_ohm", "the monotone plan solves for RE");
-    check("transistor pair E6, all part sets", &r, Thresholds { vt_upper_v: 1.5, vt_lower_v: 0.9 }, &SearchSettings { distinct: false, ..settings(ESeries::E6, 1e3, 22e3) });
+    check("transistor pair E6, distinct (one part)", &r, Thresholds { vt_upper_v: 1.5, vt_lower_v: 0.9 }, &SearchSettings { distinct: true, ..settings(ESeries::E6, 1e3, 22e3) });
 }
 
 #[test]
@@ -131,3 +142,4 @@ fn search_parts_cover_the_enumeration_once_and_in_order() {
     };
     assert!(Running::start(bad).is_err());
 }
+
