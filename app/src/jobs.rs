@@ -6,8 +6,8 @@
 //! `core::jobs::merge`, which gives exactly the single-run result for the same seed.
 //!
 //! Workers are kept in a small pool once their module has loaded ([`prewarm`] starts them in the
-//! background, [`pool_size`]: one per hardware thread plus [`SPARE_WORKERS`] for the studies that
-//! follow the inputs), so a run pays no module start-up. Where the browser refuses to start a worker, the
+//! background, [`pool_size`]: one per hardware thread plus [`SPARE_WORKERS`]; workers still
+//! starting are counted, so repeated calls do not start more), so a run pays no module start-up. Where the browser refuses to start a worker, the
 //! job runs on the page in slices between frames (`crate::tick::later`), with the same progress and
 //! Cancel, and the first such job's status carries [`fallback_note`] (shown once). A worker that
 //! fails to load (an error event before it says it is ready, or no word within
@@ -163,10 +163,11 @@ fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce(
     true
 }
 
-/// Workers kept ready beyond [`worker_count`]: the studies that follow the inputs (worst case,
-/// windows) may hold one or two while a split study (Monte Carlo, search) wants the whole pool, and
-/// a worker started on demand costs its module's start-up (tens of ms) on the study's time.
-pub const SPARE_WORKERS: usize = 2;
+/// Workers kept ready beyond [`worker_count`]. Two spares (for the studies that follow the inputs
+/// while a split study wants the whole pool) were tried and measured slower on a 2-core machine:
+/// the replacements started after each cancelled followed study compile their module on the same
+/// cores the next study runs on (Monte Carlo 100k about 40 ms against 20–30 ms, headless Chromium).
+pub const SPARE_WORKERS: usize = 0;
 
 /// How many workers the pool keeps ready: [`worker_count`] plus [`SPARE_WORKERS`], at most 8.
 pub fn pool_size() -> usize {
