@@ -1156,7 +1156,7 @@ impl<C: Circuit> SearchJob<C> {
         let n = self.workload.combinations;
         let m = self.st.grid.len() as u64;
         let runs = n / m.max(1);
-        let (unit, count) = if runs >= parts as u64 && n % m.max(1) == 0 { (m, runs) } else { (1, n) };
+        let (unit, count) = if runs >= parts as u64 && n.is_multiple_of(m.max(1)) { (m, runs) } else { (1, n) };
         let k = (parts.max(1) as u64).min(count.max(1));
         (0..k).map(|i| (count * i / k * unit, count * (i + 1) / k * unit)).collect()
     }
