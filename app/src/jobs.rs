@@ -2,11 +2,12 @@
 //! (`app/worker/`, built by Trunk as `hysteron-worker_loader.js`), shows progress through a callback and
 //! calls back once with the result; [`JobHandle::cancel`] stops it at once (the workers running it
 //! are terminated). A job that `core::jobs::split` can cut (Monte Carlo by trials, the noise sweep
-//! by levels) is spread over `navigator.hardwareConcurrency` workers and merged in order with
+//! by levels, a standard-value search without the distinct rule by ranges of combinations) is spread over `navigator.hardwareConcurrency` workers and merged in order with
 //! `core::jobs::merge`, which gives exactly the single-run result for the same seed.
 //!
 //! Workers are kept in a small pool once their module has loaded ([`prewarm`] starts them in the
-//! background), so a run pays no module start-up. Where the browser refuses to start a worker, the
+//! background, [`pool_size`]: one per hardware thread plus [`SPARE_WORKERS`]; workers still
+//! starting are counted, so repeated calls do not start more), so a run pays no module start-up. Where the browser refuses to start a worker, the
 //! job runs on the page in slices between frames (`crate::tick::later`), with the same progress and
 //! Cancel, and the first such job's status carries [`fallback_note`] (shown once). A worker that
 //! fails to load (an error event before it says it is ready, or no word within
@@ -70,6 +71,8 @@ impl JobStatus {
 thread_local! {
     static POOL: RefCell<Vec<web_sys::Worker>> = const { RefCell::new(Vec::new()) };
     static NO_WORKERS: Cell<bool> = const { Cell::new(false) };
+    /// Workers started by [`prewarm`] that have not said they are ready yet.
+    static STARTING: Cell<usize> = const { Cell::new(0) };
     static NOTE_GIVEN: Cell<bool> = const { Cell::new(false) };
 }
 
@@ -160,14 +163,38 @@ fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce(
     true
 }
 
-/// Starts `n` workers in the background so the first study does not wait for their module.
+/// Workers kept ready beyond [`worker_count`]. Two spares (for the studies that follow the inputs
+/// while a split study wants the whole pool) were tried and measured slower on a 2-core machine:
+/// the replacements started after each cancelled followed study compile their module on the same
+/// cores the next study runs on (Monte Carlo 100k about 40 ms against 20–30 ms, headless Chromium).
+pub const SPARE_WORKERS: usize = 0;
+
+/// How many workers the pool keeps ready: [`worker_count`] plus [`SPARE_WORKERS`], at most 8.
+pub fn pool_size() -> usize {
+    (worker_count() + SPARE_WORKERS).min(MAX_WORKERS)
+}
+
+/// Starts workers in the background until `n` are ready or starting, so a study does not wait
+/// for their module.
 pub fn prewarm(n: usize) {
     if NO_WORKERS.with(|c| c.get()) {
         return;
     }
-    let have = POOL.with(|p| p.borrow().len());
+    let have = POOL.with(|p| p.borrow().len()) + STARTING.with(|c| c.get());
     for _ in have..n.min(MAX_WORKERS) {
-        if !spawn(|w| POOL.with(|p| p.borrow_mut().push(w)), refuse_workers) {
+        STARTING.with(|c| c.set(c.get() + 1));
+        let started = spawn(
+            |w| {
+                STARTING.with(|c| c.set(c.get().saturating_sub(1)));
+                POOL.with(|p| p.borrow_mut().push(w))
+            },
+            || {
+                STARTING.with(|c| c.set(c.get().saturating_sub(1)));
+                refuse_workers()
+            },
+        );
+        if !started {
+            STARTING.with(|c| c.set(c.get().saturating_sub(1)));
             refuse_workers();
             return;
         }
@@ -395,7 +422,7 @@ impl JobHandle {
         }
         // Replace the terminated workers in the background.
         if had_workers {
-            crate::tick::after_ms(50, || prewarm(worker_count()));
+            crate::tick::after_ms(50, || prewarm(pool_size()));
         }
     }
 

@@ -22,5 +22,5 @@ pub fn start() {
         let _ = p.mark("hysteron-mounted");
     }
     // Start the compute workers in the background, after the page has shown.
-    tick::after_ms(200, || jobs::prewarm(jobs::worker_count()));
+    tick::after_ms(200, || jobs::prewarm(jobs::pool_size()));
 }

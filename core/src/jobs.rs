@@ -34,10 +34,13 @@
 //! [`Job`]) move the big sample vectors out of a value and back in, so a transport can send them as
 //! binary arrays and the rest as JSON; take, serialise, deserialise and put gives the value back.
 //!
-//! **Standard-value search: slot.** The search (`crate::search`) is being made sliceable separately;
-//! when its sliced API lands it becomes one more variant here (`Job::Search`), with its progress in
-//! evaluated combinations and its split by the first enumerated resistor. Until then the page runs
-//! the search as before.
+//! - Standard-value search: the combinations of the enumerated resistors are numbered in
+//!   enumeration order and cut into consecutive ranges ([`crate::search::SearchJob::parts`]); each
+//!   part lists its own best combinations and the merge offers the parts' lists in range order to
+//!   one list by the single run's rules ([`crate::search::SearchJob::merge`]). That is exact only
+//!   without the distinct rule (see "Split over workers" in [`crate::search`]), so a search with
+//!   it (the default) is not split and runs whole on one worker. Progress counts combinations of
+//!   the enumerated resistors.
 
 use crate::error::DesignError;
 use crate::signal::csv::{Capture, CsvOptions, CsvParser};
@@ -52,6 +55,8 @@ use crate::tolerance::worst_case::{CornerScan, WorstCase, WorstCaseRun, SEARCH_G
 use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
 use crate::tolerance::ToleranceSettings;
 use crate::record::DesignRecord;
+use crate::analysis::{CheckSettings, Thresholds};
+use crate::search::{SearchJob, SearchReport, SearchSettings};
 use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
 
@@ -131,6 +136,20 @@ pub enum Job {
         /// Columns, separators, header mode.
         options: CsvOptions,
     },
+    /// The standard-value search (`crate::search`) from a starting circuit; `combinations` limits
+    /// it to a part of the enumeration (see [`split`]).
+    Search {
+        /// The starting design (its resistor values only break near-ties).
+        circuit: Topology,
+        /// The thresholds aimed at.
+        targets: Thresholds,
+        /// Series, range, list length, current budget.
+        settings: SearchSettings,
+        /// The design's check settings (for the current budget's analysis).
+        checks: CheckSettings,
+        /// The part of the enumeration; `None`: all of it.
+        combinations: Option<PartRange>,
+    },
     /// Time-domain simulation of the relaxation oscillator.
     Oscillator {
         /// The design.
@@ -178,6 +197,10 @@ pub enum JobOutput {
     SweepPart(SweepPart),
     /// The imported capture.
     Capture(Capture),
+    /// The standard-value search's report.
+    Search(SearchReport),
+    /// The report of a part of a split search (merge the parts with [`merge`]).
+    SearchPart(SearchReport),
     /// The oscillator simulation.
     Oscillator(OscillatorSimulation),
     /// The debouncer simulation.
@@ -256,6 +279,10 @@ enum State {
         settings: OscillatorSettings,
         cycles: usize,
         out: Option<OscillatorSimulation>,
+    },
+    Search {
+        job: Box<SearchJob<Topology>>,
+        whole: bool,
     },
     Debouncer {
         design: TriggerDesign,
@@ -359,6 +386,26 @@ impl Running {
                         acc,
                     },
                     range.end - range.start,
+                )
+            }
+            Job::Search {
+                circuit,
+                targets,
+                settings,
+                checks,
+                combinations,
+            } => {
+                let mut job = SearchJob::new(&circuit, targets, &settings, &checks)?;
+                if let Some(r) = combinations {
+                    job = job.restrict(r.start, r.end)?;
+                }
+                let total = job.progress().combinations;
+                (
+                    State::Search {
+                        job: Box::new(job),
+                        whole: combinations.is_none(),
+                    },
+                    total,
                 )
             }
             Job::WorstCase { circuit, settings } => {
@@ -533,6 +580,7 @@ impl Running {
             State::Signal(_) => "sample passes",
             State::Csv { .. } => "bytes",
             State::Oscillator { .. } | State::Debouncer { .. } => "simulations",
+            State::Search { .. } => "combinations",
         }
     }
 
@@ -631,6 +679,15 @@ impl Running {
                 *out = Some(simulate_debounce(design, settings)?);
                 self.progress.done = 1;
             }
+            State::Search { job, .. } => {
+                // `budget` combinations (a restart into the unpruned pass starts the count again).
+                let p = job.step_combinations(budget);
+                self.progress.done = if p.finished {
+                    self.progress.total
+                } else {
+                    p.combinations_done.min(self.progress.total.saturating_sub(1))
+                };
+            }
         }
         Ok(self.progress)
     }
@@ -670,6 +727,11 @@ impl Running {
             State::Csv { out, .. } => out.map(JobOutput::Capture).ok_or_else(missing),
             State::Oscillator { out, .. } => out.map(JobOutput::Oscillator).ok_or_else(missing),
             State::Debouncer { out, .. } => out.map(JobOutput::Debouncer).ok_or_else(missing),
+            State::Search { job, whole } => Ok(if whole {
+                JobOutput::Search(job.finish())
+            } else {
+                JobOutput::SearchPart(job.finish())
+            }),
         }
     }
 }
@@ -846,6 +908,27 @@ pub fn reduce_for_display(run: SignalRun, max_points: usize) -> SignalRun {
     }
 }
 
+/// The standard-value search of a record for `targets` as a job, with its work bound: the same
+/// start (the synthesised design when there is one) and settings as
+/// [`crate::overview::standard_values_job`]; the settings and targets are checked here, so an
+/// invalid search is refused before it is sent anywhere.
+pub fn search_job(
+    record: &DesignRecord,
+    targets: &crate::analysis::Targets,
+    synthesised: Option<&crate::overview::Synthesis>,
+) -> Result<(Job, crate::search::Workload), DesignError> {
+    let workload = crate::overview::standard_values_job(record, targets, synthesised)?.workload();
+    let circuit = synthesised.map_or(&record.circuit, |s| &s.circuit).clone();
+    let job = Job::Search {
+        circuit,
+        targets: targets.thresholds(),
+        settings: crate::overview::search_settings(record, targets),
+        checks: record.checks,
+        combinations: None,
+    };
+    Ok((job, workload))
+}
+
 /// Cuts a job into at most `parts` jobs whose outputs, merged in order with [`merge`], equal the
 /// whole job's output: Monte Carlo by consecutive trial ranges, a signal study's noise sweep by
 /// consecutive level ranges (the first part also runs the study itself). Any other job, and any
@@ -874,6 +957,28 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
                     circuit: circuit.clone(),
                     settings: settings.clone(),
                     trials: Some(r),
+                })
+                .collect())
+        }
+        Job::Search {
+            circuit,
+            targets,
+            settings,
+            checks,
+            combinations: None,
+        } if parts > 1 && !settings.distinct => {
+            // Only without the distinct rule is the merged list the one-call list (see "Split over
+            // workers" in `crate::search`); a distinct search stays whole.
+            let whole = SearchJob::new(circuit, *targets, settings, checks)?;
+            Ok(whole
+                .parts(parts as usize)
+                .into_iter()
+                .map(|(start, end)| Job::Search {
+                    circuit: circuit.clone(),
+                    targets: *targets,
+                    settings: settings.clone(),
+                    checks: *checks,
+                    combinations: Some(PartRange { start, end }),
                 })
                 .collect())
         }
@@ -953,6 +1058,24 @@ pub fn merge(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignErro
             }
             let run = MonteCarloRun::new(circuit, settings)?;
             Ok(JobOutput::MonteCarlo(run.finish(&acc)?))
+        }
+        Job::Search {
+            circuit,
+            targets,
+            settings,
+            checks,
+            combinations: None,
+        } => {
+            let mut reports = Vec::new();
+            for o in std::iter::once(first).chain(it) {
+                match o {
+                    whole @ JobOutput::Search(_) => return Ok(whole),
+                    JobOutput::SearchPart(r) => reports.push(r),
+                    _ => return Err(invalid("a search got another job's output")),
+                }
+            }
+            let whole = SearchJob::new(circuit, *targets, settings, checks)?;
+            Ok(JobOutput::Search(whole.merge(reports)?))
         }
         Job::NoiseSweep { .. } => {
             let mut acc = match first {

@@ -107,6 +107,29 @@
 //! number of evaluations at a time ([`SearchJob::step`]) with its [`Workload`] bound known before
 //! the first step; [`search`] is the same job run in one call.
 //!
+//! # Split over workers
+//! The enumerated resistors are an odometer, digit 0 (the innermost resistor) turning fastest, so
+//! the combinations are numbered 0 … M^(n−1) − 1 in enumeration order; [`SearchJob::parts`] cuts
+//! that sequence into consecutive ranges (whole runs of the innermost resistor when there are
+//! enough of them), and [`SearchJob::restrict`] makes a job that enumerates one range only
+//! (starting its odometer at the range's first combination, fitting the probe models there, and
+//! restarting an unpruned pass there). Each part runs the same method with its own top-N list;
+//! [`SearchJob::merge`] offers the parts' lists, in range order and each best first, to one list by
+//! the same rules (the current budget was checked in the part).
+//!
+//! **Exact only without the distinct rule.** Without it the list is the `top_n` best by objective
+//! then tie-break, whatever order the combinations come in: a part's list starts empty, so its
+//! entry bar is never below the one-call search's at the same combination and it prunes and stops
+//! its walks no earlier; every combination of the one-call list is among the best `top_n` of its
+//! part and is offered again at the merge. With the distinct rule (the default) the list depends
+//! on the order near twins meet: two alternatives of one part can both be twins of a better one
+//! from another part (A~B, B~C, not A~C), which the whole run folds differently from the part.
+//! This happens: E96 over 1k–1M for the three-resistor inverting form in four parts lost a
+//! 5.62k/5.62k/14.7k set to its 56.2k twin. So `crate::jobs::split` splits a search only when
+//! [`SearchSettings::distinct`] is off; a distinct search runs whole on one worker. Checked for 1
+//! to 8 parts in `tests/tests/search_split.rs`. The work differs: a part prunes against its own
+//! list, so `evaluations` (the parts' sum) is usually above the one-call count.
+//!
 //! Cost: M^(n−1) combinations for n resistors and M series values in range (E96 over three
 //! decades, three resistors: 289² ≈ 83 500), each a few model evaluations; real circuit
 //! evaluations number about 9·M^(n−2) plus the walks (about 3 000 in that example).
@@ -485,7 +508,12 @@ impl<C: Circuit> Searcher<C> {
     }
 
     fn closeness(&self) -> f64 {
-        self.slots.iter().zip(&self.ln_start).map(|(&s, l)| (self.values[s].ln() - l).abs()).sum()
+        self.closeness_of(self.slots.iter().map(|&s| self.values[s]))
+    }
+
+    /// The tie-break Σ|ln(Ri/Ri,start)| of resistor values given in `slots` order.
+    fn closeness_of(&self, resistors_ohm: impl Iterator<Item = f64>) -> f64 {
+        resistors_ohm.zip(&self.ln_start).map(|(v, l)| (v.ln() - l).abs()).sum()
     }
 
     /// Evaluates grid value `i` for the solved resistor in the current combination and offers it.
@@ -515,23 +543,10 @@ impl<C: Circuit> Searcher<C> {
             return;
         }
         let closeness = self.closeness();
-        let full = self.top.len() >= self.top_n;
-        if full && !self.top.last().is_some_and(|last| better(f, closeness, last)) {
+        let Some(twin) = self.place_for(f, closeness, &t, |e| self.slots.iter().zip(&e.resistors_ohm).all(|(&s, &v)| self.values[s] == v))
+        else {
             return;
-        }
-        // A restarted pass may meet a combination again.
-        if self.top.iter().any(|e| self.slots.iter().zip(&e.resistors_ohm).all(|(&s, &v)| self.values[s] == v)) {
-            return;
-        }
-        // The same alternative as a listed one: only the better of the two stays.
-        let twin = if self.distinct {
-            self.top.iter().position(|e| same_alternative(&self.obj, &e.thresholds, &t))
-        } else {
-            None
         };
-        if twin.is_some_and(|j| !better(f, closeness, &self.top[j])) {
-            return;
-        }
         let mut current_a = None;
         if let Some(budget) = self.budget_a {
             if self.exceeds_at_thresholds(c, &t, budget) {
@@ -542,13 +557,54 @@ impl<C: Circuit> Searcher<C> {
                 _ => return,
             }
         }
+        let resistors_ohm = self.slots.iter().map(|&s| self.values[s]).collect();
+        self.insert(twin, Entry { f, closeness, resistors_ohm, thresholds: t, current_a });
+    }
+
+    /// The list rules before the current budget: `None` when a newcomer (objective `f`, tie-break
+    /// `closeness`, thresholds `t`) cannot enter — the list is full of better ones, `same` finds it
+    /// listed already (a restarted pass, or a part's list offered twice), or a listed twin is
+    /// better —; else the index of the twin it replaces, if any.
+    fn place_for(&self, f: f64, closeness: f64, t: &Thresholds, same: impl Fn(&Entry) -> bool) -> Option<Option<usize>> {
+        let full = self.top.len() >= self.top_n;
+        if full && !self.top.last().is_some_and(|last| better(f, closeness, last)) {
+            return None;
+        }
+        if self.top.iter().any(same) {
+            return None;
+        }
+        // The same alternative as a listed one: only the better of the two stays.
+        let twin = if self.distinct {
+            self.top.iter().position(|e| same_alternative(&self.obj, &e.thresholds, t))
+        } else {
+            None
+        };
+        if twin.is_some_and(|j| !better(f, closeness, &self.top[j])) {
+            return None;
+        }
+        Some(twin)
+    }
+
+    /// Puts an admitted entry in its place (replacing its twin) and keeps the best `top_n`.
+    fn insert(&mut self, twin: Option<usize>, e: Entry) {
         if let Some(j) = twin {
             self.top.remove(j);
         }
-        let pos = self.top.iter().position(|e| better(f, closeness, e)).unwrap_or(self.top.len());
-        let resistors_ohm = self.slots.iter().map(|&s| self.values[s]).collect();
-        self.top.insert(pos, Entry { f, closeness, resistors_ohm, thresholds: t, current_a });
+        let pos = self.top.iter().position(|x| better(e.f, e.closeness, x)).unwrap_or(self.top.len());
+        self.top.insert(pos, e);
         self.top.truncate(self.top_n);
+    }
+
+    /// Offers an entry a part of a split search listed (its current budget already checked there)
+    /// to this list, by the same rules as [`Self::offer`].
+    fn admit(&mut self, e: Entry) {
+        if e.f > self.entry_bar() {
+            return;
+        }
+        let Some(twin) = self.place_for(e.f, e.closeness, &e.thresholds, |x| x.resistors_ohm == e.resistors_ohm) else {
+            return;
+        };
+        self.insert(twin, e);
     }
 
     /// A cheap exact rejection: [`analyse`] reports the largest network current over operating
@@ -923,6 +979,10 @@ pub struct SearchJob<C: Circuit> {
     others: Vec<usize>,
     /// Odometer over the enumerated resistors (digit k counts down the series from the top).
     idx: Vec<usize>,
+    /// The combinations this job runs, `[first, end)` in enumeration order (all, unless
+    /// [`SearchJob::restrict`]ed to a part of a split search).
+    first: u64,
+    end: u64,
     workload: Workload,
     done_in_pass: u64,
     evaluations_at_pass_start: u64,
@@ -1049,6 +1109,8 @@ impl<C: Circuit> SearchJob<C> {
             settings: settings.clone(),
             idx: vec![0; others.len()],
             others,
+            first: 0,
+            end: combinations,
             workload,
             done_in_pass: 0,
             evaluations_at_pass_start: 0,
@@ -1059,6 +1121,80 @@ impl<C: Circuit> SearchJob<C> {
     /// The bound on the work, known before the first step.
     pub fn workload(&self) -> Workload {
         self.workload
+    }
+
+    /// Restricts a job not yet stepped to the combinations `[start, end)` of the enumeration (a
+    /// part of a split search; see "Split over workers" in the module notes). Its report lists the
+    /// best of those combinations; [`SearchJob::merge`] puts the parts' reports together.
+    pub fn restrict(mut self, start: u64, end: u64) -> Result<Self, DesignError> {
+        if start >= end || end > self.workload.combinations {
+            return Err(DesignError::Parameter {
+                reason: format!(
+                    "search part {start}..{end} is not a non-empty part of 0..{}: split the search with SearchJob::parts",
+                    self.workload.combinations
+                ),
+            });
+        }
+        if self.st.evaluations > 0 || self.done_in_pass > 0 {
+            return Err(DesignError::Parameter { reason: "a search already under way cannot be restricted: restrict it before the first step".into() });
+        }
+        self.first = start;
+        self.end = end;
+        self.idx = self.digits(start);
+        Ok(self)
+    }
+
+    /// The odometer's digits of combination number `c` (digit 0 turns fastest).
+    fn digits(&self, c: u64) -> Vec<usize> {
+        odometer(c, self.st.grid.len(), self.idx.len())
+    }
+
+    /// Consecutive combination ranges `[start, end)` for at most `parts` parts of a split search,
+    /// in enumeration order: whole runs of the innermost enumerated resistor (M combinations each)
+    /// when there are at least as many runs as parts, else equal ranges of combinations.
+    pub fn parts(&self, parts: usize) -> Vec<(u64, u64)> {
+        let n = self.workload.combinations;
+        let m = self.st.grid.len() as u64;
+        let runs = n / m.max(1);
+        let (unit, count) = if runs >= parts as u64 && n.is_multiple_of(m.max(1)) { (m, runs) } else { (1, n) };
+        let k = (parts.max(1) as u64).min(count.max(1));
+        (0..k).map(|i| (count * i / k * unit, count * (i + 1) / k * unit)).collect()
+    }
+
+    /// Puts the reports of the parts of this (whole, unstepped) search back together, in
+    /// enumeration order: each part's list offered in turn to one list by the same rules as the
+    /// single run (see "Split over workers" in the module notes). The candidates equal the one-call
+    /// search's; `evaluations` and `exhaustive_combinations` are the parts' sums.
+    pub fn merge(mut self, parts: Vec<SearchReport>) -> Result<SearchReport, DesignError> {
+        let solved_id = self.params[self.st.solved].id.clone();
+        let (mut evaluations, mut exhaustive) = (0u64, 0u64);
+        for part in parts {
+            if part.solved_id != solved_id || part.values_per_resistor != self.st.grid.len() || part.series != self.settings.series {
+                return Err(DesignError::Parameter {
+                    reason: "a search part comes from another search: merge the parts of one split search".into(),
+                });
+            }
+            evaluations += part.evaluations;
+            exhaustive += part.exhaustive_combinations;
+            for c in part.candidates {
+                if c.parts.len() != self.st.slots.len() {
+                    return Err(DesignError::Parameter {
+                        reason: "a search part lists another circuit's resistors: merge the parts of one split search".into(),
+                    });
+                }
+                let closeness = self.st.closeness_of(c.parts.iter().map(|p| p.value_ohm));
+                self.st.admit(Entry {
+                    f: c.worst_error_rel,
+                    closeness,
+                    resistors_ohm: c.parts.iter().map(|p| p.value_ohm).collect(),
+                    thresholds: Thresholds { vt_upper_v: c.vt_upper_v, vt_lower_v: c.vt_lower_v },
+                    current_a: c.quiescent_current_a,
+                });
+            }
+        }
+        self.st.evaluations = evaluations;
+        self.st.exhaustive = exhaustive;
+        Ok(self.finish())
     }
 
     /// Runs whole combinations until at least `max_evaluations` threshold evaluations have been
@@ -1075,10 +1211,23 @@ impl<C: Circuit> SearchJob<C> {
         self.progress()
     }
 
+    /// Runs `count` combinations of the enumerated resistors (at least one), or fewer when the
+    /// search completes first; a restart into the unpruned pass counts as one of them.
+    pub fn step_combinations(&mut self, count: u64) -> Progress {
+        for _ in 0..count.max(1) {
+            if self.finished {
+                break;
+            }
+            self.one_combination();
+        }
+        self.progress()
+    }
+
     /// Where the search stands.
     pub fn progress(&self) -> Progress {
         let spent_in_pass = self.st.evaluations - self.evaluations_at_pass_start;
-        let remaining = self.workload.combinations - self.done_in_pass.min(self.workload.combinations);
+        let combinations = self.end - self.first;
+        let remaining = combinations - self.done_in_pass.min(combinations);
         let estimated = if self.finished {
             self.st.evaluations
         } else if self.done_in_pass == 0 {
@@ -1090,7 +1239,7 @@ impl<C: Circuit> SearchJob<C> {
         };
         Progress {
             combinations_done: self.done_in_pass,
-            combinations: self.workload.combinations,
+            combinations,
             evaluations: self.st.evaluations,
             unpruned_pass: !self.st.prune,
             estimated_evaluations: estimated.min(self.workload.max_evaluations).max(self.st.evaluations),
@@ -1116,8 +1265,8 @@ impl<C: Circuit> SearchJob<C> {
         }
         if st.plan.is_some() {
             st.monotone_row();
-        } else if self.idx.first() == Some(&0) {
-            // A new run of the innermost enumerated resistor.
+        } else if self.idx.first() == Some(&0) || self.done_in_pass == 0 {
+            // A new run of the innermost enumerated resistor (or a part starting inside one).
             if st.prune {
                 st.fit_probe_models();
             } else {
@@ -1134,12 +1283,16 @@ impl<C: Circuit> SearchJob<C> {
             // evaluations only).
             st.prune = false;
             st.model_failed = false;
-            self.idx.iter_mut().for_each(|d| *d = 0);
+            self.idx = odometer(self.first, m, self.idx.len());
             self.done_in_pass = 0;
             self.evaluations_at_pass_start = st.evaluations;
             return;
         }
         self.done_in_pass += 1;
+        if self.first + self.done_in_pass >= self.end {
+            self.finished = true;
+            return;
+        }
         // Odometer over the enumerated resistors.
         for digit in self.idx.iter_mut() {
             *digit += 1;
@@ -1150,6 +1303,18 @@ impl<C: Circuit> SearchJob<C> {
         }
         self.finished = true;
     }
+}
+
+/// The `len` digits (base `m`, digit 0 the lowest) of combination number `c`.
+fn odometer(mut c: u64, m: usize, len: usize) -> Vec<usize> {
+    let m = m.max(1) as u64;
+    (0..len)
+        .map(|_| {
+            let d = c % m;
+            c /= m;
+            d as usize
+        })
+        .collect()
 }
 
 /// Searches the standard-value combinations of `circuit`'s resistors that come closest to

@@ -1,23 +1,20 @@
-//! The standard-value search of the parts section, run in slices: the work bound is shown before
-//! it starts, then a progress bar with the time still to go and a Cancel button; the result lists
-//! each alternative with the current it draws and the budget it had to meet. All arithmetic is
-//! `core`'s (`overview::standard_values_job`, `search::SearchJob`); this file asks and shows.
+//! The standard-value search of the parts section, on the compute workers (`crate::jobs`, split
+//! over the pool by ranges of the enumeration: `core::jobs::split` on `Job::Search`): the work
+//! bound is shown before it starts, then a progress bar with the time still to go and a Cancel
+//! button; the result lists each alternative with the current it draws and the budget it had to
+//! meet. All arithmetic is `core`'s (`jobs::search_job`, `search::SearchJob`); this file asks and shows.
 
 use super::state::{study_inputs, Notebook, Study};
+use crate::jobs::{JobHandle, JobStatus};
 use crate::storage::{Kept, KeptSearch};
-use crate::tick::{later, now_ms};
+use crate::tick::now_ms;
 use hysteron_core::analysis::Targets;
+use hysteron_core::jobs::JobOutput;
 use hysteron_core::notation::{format_with_unit, Unit};
-use hysteron_core::overview::{search_settings, standard_values_job, Synthesis};
+use hysteron_core::overview::{search_settings, Synthesis};
 use hysteron_core::record::DesignRecord;
-use hysteron_core::search::{apply, Progress, SearchJob, SearchReport, Workload};
-use hysteron_core::topology::Topology;
+use hysteron_core::search::{apply, SearchReport, Workload};
 use leptos::prelude::*;
-
-/// Evaluations of the first slice, whose time sets the estimate and the slice size.
-const SAMPLE_EVALUATIONS: u64 = 20;
-/// Wanted length of one slice, milliseconds (the page answers input between slices).
-const SLICE_MS: f64 = 30.0;
 
 fn ohms(v: f64) -> String {
     format_with_unit(v, 4, Unit::Ohm)
@@ -27,39 +24,17 @@ fn amps(v: f64) -> String {
     format_with_unit(v, 3, Unit::Ampere)
 }
 
-fn seconds(s: f64) -> String {
-    if s < 1.0 {
-        "under a second".into()
-    } else if s < 120.0 {
-        format!("about {s:.0} s")
-    } else {
-        format!("about {:.0} min", s / 60.0)
-    }
-}
-
-struct Running {
-    job: SearchJob<Topology>,
-    generation: u64,
-    /// Evaluations per slice, set from the sample's speed.
-    slice: u64,
-}
-
 /// The search's state, shared between the parts section (which starts it) and [`SearchResults`].
 #[derive(Clone, Copy)]
 pub struct SearchState {
-    job: StoredValue<Option<Running>>,
-    generation: RwSignal<u64>,
+    job: StoredValue<Option<JobHandle>, leptos::prelude::LocalStorage>,
     workload: RwSignal<Option<Workload>>,
     budget_a: RwSignal<Option<f64>>,
-    progress: RwSignal<Option<Progress>>,
-    remaining_s: RwSignal<Option<f64>>,
-    started_ms: RwSignal<f64>,
+    status: RwSignal<Option<JobStatus>>,
     elapsed_ms: RwSignal<Option<f64>>,
-    /// The error of the last start (invalid targets or settings); a result found is kept with the
-    /// design instead ([`crate::storage::Studies::search`]).
+    /// The error of the last start (invalid targets or settings, or the run failed); a result
+    /// found is kept with the design instead ([`crate::storage::Studies::search`]).
     found: RwSignal<Option<Result<SearchReport, String>>>,
-    /// The design the running search belongs to and its inputs ([`study_inputs`]) when it started.
-    keep: StoredValue<Option<(String, String)>>,
     nb: Notebook,
 }
 
@@ -67,16 +42,12 @@ impl SearchState {
     /// A state with nothing searched.
     pub fn new() -> Self {
         SearchState {
-            job: StoredValue::new(None),
-            generation: RwSignal::new(0),
+            job: StoredValue::new_local(None),
             workload: RwSignal::new(None),
             budget_a: RwSignal::new(None),
-            progress: RwSignal::new(None),
-            remaining_s: RwSignal::new(None),
-            started_ms: RwSignal::new(0.0),
+            status: RwSignal::new(None),
             elapsed_ms: RwSignal::new(None),
             found: RwSignal::new(None),
-            keep: StoredValue::new(None),
             nb: expect_context::<Notebook>(),
         }
     }
@@ -84,11 +55,8 @@ impl SearchState {
     /// Stops a running search and forgets its error (another design opened). A result found
     /// stays kept with its design.
     pub fn reset(self) {
-        self.generation.update(|g| *g += 1);
-        self.job.set_value(None);
+        self.cancel();
         self.workload.set(None);
-        self.progress.set(None);
-        self.remaining_s.set(None);
         self.elapsed_ms.set(None);
         self.found.set(None);
     }
@@ -98,74 +66,52 @@ impl SearchState {
     pub fn start(self, record: &DesignRecord, targets: &Targets, synthesised: Option<&Synthesis>) {
         self.reset();
         self.budget_a.set(search_settings(record, targets).current_budget_a);
-        self.keep.set_value(self.nb.current.get_untracked().map(|id| (id, study_inputs(Study::Search, record))));
-        match standard_values_job(record, targets, synthesised) {
-            Err(e) => self.found.set(Some(Err(e.to_string()))),
-            Ok(job) => {
-                let generation = self.generation.get_untracked();
-                self.workload.set(Some(job.workload()));
-                self.progress.set(Some(job.progress()));
-                self.job.set_value(Some(Running { job, generation, slice: SAMPLE_EVALUATIONS }));
-                self.started_ms.set(now_ms());
-                later(move || step(self, generation));
-            }
+        let keep = self.nb.current.get_untracked().map(|id| (id, study_inputs(Study::Search, record)));
+        let (job, workload) = match hysteron_core::jobs::search_job(record, targets, synthesised) {
+            Err(e) => return self.found.set(Some(Err(e.to_string()))),
+            Ok(j) => j,
+        };
+        self.workload.set(Some(workload));
+        let t0 = now_ms();
+        let handle = crate::jobs::start(
+            job,
+            move |status| self.status.set(Some(status)),
+            move |out| {
+                let elapsed_ms = now_ms() - t0;
+                self.job.set_value(None);
+                self.status.set(None);
+                self.elapsed_ms.set(Some(elapsed_ms));
+                let budget_a = self.budget_a.get_untracked();
+                match out {
+                    // Kept with the design the search started on (it survives a reload and a
+                    // change of the targets, then marked out of date).
+                    Ok(JobOutput::Search(report)) => match keep {
+                        Some((id, inputs)) => self.nb.keep_study(&id, move |s| {
+                            s.search = Some(Kept { inputs, result: KeptSearch { report, budget_a }, elapsed_ms })
+                        }),
+                        None => self.found.set(Some(Ok(report))),
+                    },
+                    Ok(_) => self.found.set(Some(Err("the worker returned another study's result".into()))),
+                    Err(e) => self.found.set(Some(Err(e))),
+                }
+            },
+        );
+        if !handle.is_finished() {
+            self.job.set_value(Some(handle));
         }
     }
 
     fn cancel(self) {
-        self.generation.update(|g| *g += 1);
-        self.job.set_value(None);
-        self.progress.set(None);
-        self.remaining_s.set(None);
+        if let Some(h) = self.job.try_update_value(|j| j.take()).flatten() {
+            h.cancel();
+        }
+        self.status.set(None);
     }
 }
 
 impl Default for SearchState {
     fn default() -> Self {
         Self::new()
-    }
-}
-
-/// One slice of the running search, then the next one on a later turn of the event loop.
-fn step(st: SearchState, generation: u64) {
-    if st.generation.get_untracked() != generation {
-        return;
-    }
-    let t0 = now_ms();
-    let outcome = st.job.try_update_value(|run| {
-        let run = run.as_mut()?;
-        if run.generation != generation {
-            return None;
-        }
-        let before = run.job.progress().evaluations;
-        let p = run.job.step(run.slice);
-        let ms = (now_ms() - t0).max(0.01);
-        // Size the next slice to SLICE_MS from this one's speed.
-        let per_eval = ms / (p.evaluations.saturating_sub(before).max(1) as f64);
-        run.slice = ((SLICE_MS / per_eval) as u64).clamp(1, 1_000_000);
-        Some((p, p.finished.then(|| run.job.finish())))
-    });
-    let Some(Some((p, done))) = outcome else { return };
-    let elapsed_s = (now_ms() - st.started_ms.get_untracked()) / 1e3;
-    st.progress.set(Some(p));
-    st.remaining_s.set(p.remaining_s(elapsed_s));
-    match done {
-        Some(report) => {
-            let elapsed_ms = elapsed_s * 1e3;
-            st.elapsed_ms.set(Some(elapsed_ms));
-            st.progress.set(None);
-            st.job.set_value(None);
-            // Kept with the design the search started on (it survives a reload and a change of
-            // the targets, then marked out of date).
-            let budget_a = st.budget_a.get_untracked();
-            match st.keep.try_update_value(|k| k.take()).flatten() {
-                Some((id, inputs)) => st.nb.keep_study(&id, move |s| {
-                    s.search = Some(Kept { inputs, result: KeptSearch { report, budget_a }, elapsed_ms })
-                }),
-                None => st.found.set(Some(Ok(report))),
-            }
-        }
-        None => later(move || step(st, generation)),
     }
 }
 
@@ -182,18 +128,15 @@ pub fn SearchResults(state: SearchState) -> impl IntoView {
                         "{} resistors, {} values each: {} combinations, at most {} evaluations",
                         w.resistors, w.values_per_resistor, w.combinations, w.max_evaluations
                     )}
-                    {move || st.remaining_s.get().filter(|_| st.progress.get().is_some()).map(|s| format!("; {} to go", seconds(s)))}
                 </p>
             }
         })
     };
     let running = move || {
-        st.progress.get().map(|p| {
+        st.status.get().is_some().then(|| {
             view! {
                 <div class="row" id="search-running">
-                    <progress id="search-progress" max="1" value=p.fraction().to_string()></progress>
-                    <span class="note">{format!("{} evaluations{}", p.evaluations, if p.unpruned_pass { " (full scan: these thresholds are not bilinear)" } else { "" })}</span>
-                    <button id="search-cancel" class="quiet" on:click=move |_| st.cancel()>"Cancel"</button>
+                    <super::progress::JobProgress id="search" status=st.status.into() on_cancel=Callback::new(move |_| st.cancel()) />
                 </div>
             }
         })

@@ -108,6 +108,27 @@ mod worker {
         Ok(())
     }
 
+    /// Runs a small Monte Carlo and a small search of the first template once, before the worker
+    /// says it is ready, so the engine has compiled their hot loops at full speed before the first
+    /// real study (a fresh worker's first run is otherwise slower). Results are dropped.
+    fn warm_up() {
+        let Some(r) = hysteron_core::catalog::templates().first().map(|s| s.record()) else { return };
+        let mut settings = r.tolerance.clone().unwrap_or_default();
+        settings.monte_carlo.trials = 3000;
+        let mc = Job::MonteCarlo { circuit: r.circuit.clone(), settings, trials: None };
+        let _ = Running::start(mc).and_then(|j| j.run_to_end(u64::MAX));
+        if let Ok(targets) = hysteron_core::overview::thresholds(&r.circuit) {
+            let search = Job::Search {
+                circuit: r.circuit.clone(),
+                targets,
+                settings: hysteron_core::search::SearchSettings { series: hysteron_core::eseries::ESeries::E24, ..Default::default() },
+                checks: r.checks,
+                combinations: None,
+            };
+            let _ = Running::start(search).and_then(|j| j.run_to_end(u64::MAX));
+        }
+    }
+
     pub fn start() {
         let Some(s) = scope() else { return };
         let on_message = Closure::<dyn FnMut(MessageEvent)>::new(move |ev: MessageEvent| {
@@ -117,6 +138,7 @@ mod worker {
         });
         s.set_onmessage(Some(on_message.as_ref().unchecked_ref()));
         on_message.forget();
+        warm_up();
         // Tell the page the module is ready for jobs.
         let o = js_sys::Object::new();
         set(&o, "kind", &"ready".into());
