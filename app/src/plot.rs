@@ -16,7 +16,7 @@ use web_sys::HtmlCanvasElement;
 mod canvas2d {
     use plotters::prelude::*;
     use plotters_backend::text_anchor::{HPos, VPos};
-    use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingErrorKind, FontTransform};
+    use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingErrorKind, FontStyle, FontTransform};
     use plotters_canvas::CanvasBackend as Shapes;
     use wasm_bindgen::JsCast;
     use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
@@ -58,12 +58,23 @@ mod canvas2d {
         pub fn with_canvas_object(canvas: HtmlCanvasElement) -> Option<Self> {
             let context: CanvasRenderingContext2d = canvas.get_context("2d").ok()??.dyn_into().ok()?;
             let shapes = Shapes::with_canvas_object(canvas)?;
+            // A text direction of its own: the default ("inherit") makes every text drawn or
+            // measured read the canvas element's computed style (web-sys binds the property only
+            // with a feature of its own).
+            let _ = js_sys::Reflect::set(context.as_ref(), &"direction".into(), &"ltr".into());
             // Whatever the context holds from an earlier drawing is set again on first use.
             Some(Canvas2d { shapes, context, font: std::cell::RefCell::new(String::new()), fill: String::new(), baseline: "", align: "" })
         }
 
+        /// Sets the font, written as the browser writes it back ("12px sans-serif", "bold 12px
+        /// sans-serif"): setting the font a canvas already has is then free, while any other text
+        /// makes the browser bring the page's styles up to date first (the font may depend on
+        /// them), a whole-page style pass in the middle of an edit.
         fn set_font<S: BackendTextStyle>(&self, style: &S) {
-            let font = format!("{} {}px {}", style.style().as_str(), style.size(), style.family().as_str());
+            let font = match style.style() {
+                FontStyle::Normal => format!("{}px {}", style.size(), style.family().as_str()),
+                other => format!("{} {}px {}", other.as_str(), style.size(), style.family().as_str()),
+            };
             let mut current = self.font.borrow_mut();
             if font != *current {
                 self.context.set_font(&font);
