@@ -63,7 +63,9 @@ mod canvas2d {
             // with a feature of its own).
             let _ = js_sys::Reflect::set(context.as_ref(), &"direction".into(), &"ltr".into());
             // Whatever the context holds from an earlier drawing is set again on first use.
-            Some(Canvas2d { shapes, context, font: std::cell::RefCell::new(String::new()), fill: String::new(), baseline: "", align: "" })
+            // The font the context has (from an earlier drawing): when it is the one wanted, it is not set at all.
+            let font = std::cell::RefCell::new(context.font());
+            Some(Canvas2d { shapes, context, font, fill: String::new(), baseline: "", align: "" })
         }
 
         /// Sets the font, written as the browser writes it back ("12px sans-serif", "bold 12px
@@ -427,6 +429,14 @@ mod redraw {
                     }
                 });
                 let obs = ResizeObserver::new(cb.as_ref().unchecked_ref()).ok()?;
+                // A window resize may reach a drawing (a section redrawing on `resize`) before the
+                // observer reports the new sizes: every kept size is read again after one. A
+                // capturing listener runs before the page's own listeners of the event.
+                let on_resize = Closure::<dyn FnMut()>::new(|| forget_size(None));
+                if let Some(w) = web_sys::window() {
+                    let _ = w.add_event_listener_with_callback_and_bool("resize", on_resize.as_ref().unchecked_ref(), true);
+                }
+                on_resize.forget();
                 *o = Some((obs, cb));
             }
             o.as_ref().map(|(obs, _)| obs.clone())
