@@ -15,6 +15,11 @@ pub mod view;
 
 /// Installs the readable panic banner and mounts the page into `<body>`.
 pub fn start() {
+    // With "hysteron-mounted" below, splits loading into fetching and compiling the module
+    // (navigation to this mark) and building the page (this mark to the next).
+    if let Some(p) = web_sys::window().and_then(|w| w.performance()) {
+        let _ = p.mark("hysteron-start");
+    }
     panic::install();
     leptos::mount::mount_to_body(view::App);
     // Lets browser timing runs read how long loading took (performance.getEntriesByName).

@@ -4,8 +4,204 @@
 use hysteron_core::topology::TransferCurve;
 use plotters::coord::ranged1d::Ranged;
 use plotters::prelude::*;
-use plotters_canvas::CanvasBackend;
+use canvas2d::Canvas2d as CanvasBackend;
 use web_sys::HtmlCanvasElement;
+
+/// The canvas backend the plots draw through: plotters-canvas for shapes, with text drawn and
+/// measured here. plotters measures text by adding a `<span>` to the page and reading its height
+/// (a forced layout of the whole page for every tick label), and plotters-canvas sets the
+/// context's font for every label (the browser parses it each time); here text is measured with
+/// the canvas's own `measureText`, and the font, colour and alignment are set only when they
+/// change. Drawing is otherwise identical.
+mod canvas2d {
+    use plotters::prelude::*;
+    use plotters_backend::text_anchor::{HPos, VPos};
+    use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingErrorKind, FontStyle, FontTransform};
+    use plotters_canvas::CanvasBackend as Shapes;
+    use wasm_bindgen::JsCast;
+    use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
+
+    /// A 2D canvas backend (see the module doc).
+    pub struct Canvas2d {
+        shapes: Shapes,
+        context: CanvasRenderingContext2d,
+        /// The font last set on the context (measuring text, which borrows the backend shared, sets it too).
+        font: std::cell::RefCell<String>,
+        fill: String,
+        baseline: &'static str,
+        align: &'static str,
+    }
+
+    /// An error of the canvas (a message from the browser).
+    #[derive(Debug)]
+    pub struct CanvasError(String);
+
+    impl std::fmt::Display for CanvasError {
+        fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+            f.write_str(&self.0)
+        }
+    }
+
+    impl std::error::Error for CanvasError {}
+
+    fn cast<E: std::fmt::Debug>(e: E) -> DrawingErrorKind<CanvasError> {
+        DrawingErrorKind::DrawingError(CanvasError(format!("{e:?}")))
+    }
+
+    fn colour(c: BackendColor) -> String {
+        let (r, g, b) = c.rgb;
+        format!("rgba({r},{g},{b},{})", c.alpha)
+    }
+
+    impl Canvas2d {
+        /// The backend for a canvas; `None` when it has no 2D context.
+        pub fn with_canvas_object(canvas: HtmlCanvasElement) -> Option<Self> {
+            let context: CanvasRenderingContext2d = canvas.get_context("2d").ok()??.dyn_into().ok()?;
+            let shapes = Shapes::with_canvas_object(canvas)?;
+            // A text direction of its own: the default ("inherit") makes every text drawn or
+            // measured read the canvas element's computed style (web-sys binds the property only
+            // with a feature of its own).
+            let _ = js_sys::Reflect::set(context.as_ref(), &"direction".into(), &"ltr".into());
+            // Whatever the context holds from an earlier drawing is set again on first use.
+            // The font the context has (from an earlier drawing): when it is the one wanted, it is not set at all.
+            let font = std::cell::RefCell::new(context.font());
+            Some(Canvas2d { shapes, context, font, fill: String::new(), baseline: "", align: "" })
+        }
+
+        /// Sets the font, written as the browser writes it back ("12px sans-serif", "bold 12px
+        /// sans-serif"): setting the font a canvas already has is then free, while any other text
+        /// makes the browser bring the page's styles up to date first (the font may depend on
+        /// them), a whole-page style pass in the middle of an edit.
+        fn set_font<S: BackendTextStyle>(&self, style: &S) {
+            let font = match style.style() {
+                FontStyle::Normal => format!("{}px {}", style.size(), style.family().as_str()),
+                other => format!("{} {}px {}", other.as_str(), style.size(), style.family().as_str()),
+            };
+            let mut current = self.font.borrow_mut();
+            if font != *current {
+                self.context.set_font(&font);
+                *current = font;
+            }
+        }
+    }
+
+    fn map<E: std::error::Error + Send + Sync>(e: DrawingErrorKind<E>) -> DrawingErrorKind<CanvasError> {
+        match e {
+            DrawingErrorKind::DrawingError(e) => DrawingErrorKind::DrawingError(CanvasError(e.to_string())),
+            DrawingErrorKind::FontError(e) => DrawingErrorKind::FontError(e),
+        }
+    }
+
+    impl DrawingBackend for Canvas2d {
+        type ErrorType = CanvasError;
+
+        fn get_size(&self) -> (u32, u32) {
+            self.shapes.get_size()
+        }
+
+        fn ensure_prepared(&mut self) -> Result<(), DrawingErrorKind<CanvasError>> {
+            Ok(())
+        }
+
+        fn present(&mut self) -> Result<(), DrawingErrorKind<CanvasError>> {
+            Ok(())
+        }
+
+        fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> Result<(), DrawingErrorKind<CanvasError>> {
+            self.fill.clear();
+            self.shapes.draw_pixel(point, color).map_err(map)
+        }
+
+        fn draw_line<S: BackendStyle>(&mut self, from: BackendCoord, to: BackendCoord, style: &S) -> Result<(), DrawingErrorKind<CanvasError>> {
+            self.shapes.draw_line(from, to, style).map_err(map)
+        }
+
+        fn draw_rect<S: BackendStyle>(&mut self, upper_left: BackendCoord, bottom_right: BackendCoord, style: &S, fill: bool) -> Result<(), DrawingErrorKind<CanvasError>> {
+            self.fill.clear();
+            self.shapes.draw_rect(upper_left, bottom_right, style, fill).map_err(map)
+        }
+
+        fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, path: I, style: &S) -> Result<(), DrawingErrorKind<CanvasError>> {
+            self.shapes.draw_path(path, style).map_err(map)
+        }
+
+        fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, vert: I, style: &S) -> Result<(), DrawingErrorKind<CanvasError>> {
+            self.fill.clear();
+            self.shapes.fill_polygon(vert, style).map_err(map)
+        }
+
+        fn draw_circle<S: BackendStyle>(&mut self, center: BackendCoord, radius: u32, style: &S, fill: bool) -> Result<(), DrawingErrorKind<CanvasError>> {
+            self.fill.clear();
+            self.shapes.draw_circle(center, radius, style, fill).map_err(map)
+        }
+
+        fn estimate_text_size<S: BackendTextStyle>(&self, text: &str, style: &S) -> Result<(u32, u32), DrawingErrorKind<CanvasError>> {
+            self.set_font(style);
+            // measureText through the object itself (web-sys binds it only with its TextMetrics feature).
+            let context: &wasm_bindgen::JsValue = self.context.as_ref();
+            let measure = js_sys::Reflect::get(context, &"measureText".into()).map_err(cast)?;
+            let m = measure.dyn_into::<js_sys::Function>().map_err(cast)?.call1(context, &text.into()).map_err(cast)?;
+            let number = |k: &str| js_sys::Reflect::get(&m, &k.into()).ok().and_then(|v| v.as_f64()).unwrap_or(f64::NAN);
+            let width = number("width");
+            let width = if width.is_finite() { width } else { text.chars().count() as f64 * style.size() * 0.6 };
+            let height = number("fontBoundingBoxAscent") + number("fontBoundingBoxDescent");
+            let height = if height.is_finite() && height > 0.0 { height } else { style.size() * 1.15 };
+            Ok((width.ceil().max(0.0) as u32, height.ceil() as u32))
+        }
+
+        fn draw_text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<CanvasError>> {
+            let color = style.color();
+            if color.alpha == 0.0 {
+                return Ok(());
+            }
+            let degree = match style.transform() {
+                FontTransform::None => 0.0,
+                FontTransform::Rotate90 => 90.0,
+                FontTransform::Rotate180 => 180.0,
+                FontTransform::Rotate270 => 270.0,
+            } / 180.0
+                * std::f64::consts::PI;
+            let baseline = match style.anchor().v_pos {
+                VPos::Top => "top",
+                VPos::Center => "middle",
+                VPos::Bottom => "bottom",
+            };
+            let align = match style.anchor().h_pos {
+                HPos::Left => "start",
+                HPos::Right => "end",
+                HPos::Center => "center",
+            };
+            // Set before a rotation's save(), so restore() keeps them.
+            if baseline != self.baseline {
+                self.context.set_text_baseline(baseline);
+                self.baseline = baseline;
+            }
+            if align != self.align {
+                self.context.set_text_align(align);
+                self.align = align;
+            }
+            let fill = colour(color);
+            if fill != self.fill {
+                self.context.set_fill_style_str(&fill);
+                self.fill = fill;
+            }
+            self.set_font(style);
+            let (mut x, mut y) = (f64::from(pos.0), f64::from(pos.1));
+            if degree != 0.0 {
+                self.context.save();
+                self.context.translate(x, y).map_err(cast)?;
+                self.context.rotate(degree).map_err(cast)?;
+                x = 0.0;
+                y = 0.0;
+            }
+            let drawn = self.context.fill_text(text, x, y).map_err(cast);
+            if degree != 0.0 {
+                self.context.restore();
+            }
+            drawn
+        }
+    }
+}
 
 /// Hysteron's palette for plots. The same colours are named as CSS variables in
 /// `static/style.css` (`--hy-teal`, `--hy-madder`, `--hy-slate`, `--hy-sand`, `--hy-grid`): keep the two
@@ -76,11 +272,20 @@ fn time_unit(t_max_s: f64) -> (f64, &'static str) {
 
 /// The CSS size of a canvas as laid out, and the device-pixel ratio; `None` while it is not shown
 /// (in a closed fold or a hidden block), when there is nothing sensible to draw at.
+/// The laid-out size is read once per canvas and kept until its `ResizeObserver` reports a change
+/// (see [`redraw`]): reading it after an edit changed the page would make the browser lay out the
+/// whole page at once, in the middle of the edit, instead of once before it paints.
 fn css_size(canvas: &HtmlCanvasElement) -> Option<(f64, f64, f64)> {
     let dpr = web_sys::window().map(|w| w.device_pixel_ratio()).unwrap_or(1.0);
     let dpr = if dpr.is_finite() && dpr > 0.0 { dpr } else { 1.0 };
-    let w = canvas.client_width() as f64;
-    let h = canvas.client_height() as f64;
+    let (w, h) = match redraw::known_size(canvas) {
+        Some(size) => size,
+        None => {
+            let size = (canvas.client_width() as f64, canvas.client_height() as f64);
+            redraw::keep_size(canvas, size);
+            size
+        }
+    };
     (w >= 1.0 && h >= 1.0).then_some((w, h, dpr))
 }
 
@@ -114,6 +319,36 @@ mod redraw {
         canvas: HtmlCanvasElement,
         draw: Draw,
         frame: Option<PlotFrame>,
+        /// Laid-out CSS size as last read, until the observer reports a change (only a shown
+        /// canvas's size is kept: a hidden one is read again each time).
+        size: Option<(f64, f64)>,
+    }
+
+    /// The kept CSS size of a drawn canvas.
+    pub fn known_size(canvas: &HtmlCanvasElement) -> Option<(f64, f64)> {
+        ENTRIES.with(|e| e.borrow().iter().find(|x| &x.canvas == canvas).and_then(|x| x.size))
+    }
+
+    /// Keeps a drawn canvas's CSS size as just read (nothing for a canvas not drawn through [`keep`]).
+    pub fn keep_size(canvas: &HtmlCanvasElement, size: (f64, f64)) {
+        if size.0 < 1.0 || size.1 < 1.0 {
+            return;
+        }
+        ENTRIES.with(|e| {
+            if let Ok(mut e) = e.try_borrow_mut() {
+                if let Some(x) = e.iter_mut().find(|x| &x.canvas == canvas) {
+                    x.size = Some(size);
+                }
+            }
+        });
+    }
+
+    fn forget_size(canvas: Option<&HtmlCanvasElement>) {
+        ENTRIES.with(|e| {
+            for x in e.borrow_mut().iter_mut().filter(|x| canvas.is_none_or(|c| &x.canvas == c)) {
+                x.size = None;
+            }
+        });
     }
 
     thread_local! {
@@ -130,6 +365,7 @@ mod redraw {
 
     /// Redraws every kept canvas whose backing store no longer matches its size × pixel ratio.
     fn redraw_stale() {
+        forget_size(None);
         let canvases: Vec<HtmlCanvasElement> = ENTRIES.with(|e| e.borrow().iter().map(|x| x.canvas.clone()).collect());
         for c in canvases.iter().filter(|c| stale(c)) {
             redraw(c);
@@ -186,12 +422,21 @@ mod redraw {
                     for e in entries.iter() {
                         let Ok(target) = js_sys::Reflect::get(&e, &"target".into()) else { continue };
                         let Ok(canvas) = target.dyn_into::<HtmlCanvasElement>() else { continue };
+                        forget_size(Some(&canvas));
                         if stale(&canvas) {
                             redraw(&canvas);
                         }
                     }
                 });
                 let obs = ResizeObserver::new(cb.as_ref().unchecked_ref()).ok()?;
+                // A window resize may reach a drawing (a section redrawing on `resize`) before the
+                // observer reports the new sizes: every kept size is read again after one. A
+                // capturing listener runs before the page's own listeners of the event.
+                let on_resize = Closure::<dyn FnMut()>::new(|| forget_size(None));
+                if let Some(w) = web_sys::window() {
+                    let _ = w.add_event_listener_with_callback_and_bool("resize", on_resize.as_ref().unchecked_ref(), true);
+                }
+                on_resize.forget();
                 *o = Some((obs, cb));
             }
             o.as_ref().map(|(obs, _)| obs.clone())
@@ -226,7 +471,7 @@ mod redraw {
                     true
                 }
                 None => {
-                    e.push(Entry { canvas: canvas.clone(), draw: draw.clone(), frame: None });
+                    e.push(Entry { canvas: canvas.clone(), draw: draw.clone(), frame: None, size: None });
                     false
                 }
             }

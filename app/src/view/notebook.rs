@@ -6,26 +6,35 @@ use super::state::{blank_record, Notebook};
 use crate::download::{file_stem, save_text};
 use leptos::prelude::*;
 
+/// One row of the list: id, name, topology, summary of the results, edit time (ms since the epoch).
+type Row = (String, String, String, String, f64);
+
 /// The list of saved designs.
 #[component]
 pub fn NotebookList() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let shown = Memo::new(move |_| {
+    // One row per shown design: (id, name, topology, summary, edit time). While an edit waits to
+    // be saved its snapshot is not computed yet: the row keeps the summary it showed.
+    let shown = Memo::new(move |prev: Option<&Vec<Row>>| {
         let f = nb.filter.get().to_lowercase();
         nb.entries.with(|es| {
             es.iter()
                 .filter(|e| f.is_empty() || e.record.name.to_lowercase().contains(&f))
                 .map(|e| {
-                    let summary = e
-                        .snapshot
-                        .as_ref()
-                        .map(|s| format!("VT+ {:.3} V · VT− {:.3} V", s.vt_upper_v, s.vt_lower_v))
-                        .unwrap_or_else(|| "no result".into());
+                    let summary = match &e.snapshot {
+                        Some(s) => format!("VT+ {:.3} V · VT− {:.3} V", s.vt_upper_v, s.vt_lower_v),
+                        None => prev
+                            .filter(|_| nb.is_unsaved(&e.id))
+                            .and_then(|p| p.iter().find(|r| r.0 == e.id))
+                            .map(|r| r.3.clone())
+                            .unwrap_or_else(|| "no result".into()),
+                    };
                     (e.id.clone(), e.record.name.clone(), e.record.circuit.title().to_string(), summary, e.saved_at_ms)
                 })
                 .collect::<Vec<_>>()
         })
     });
+    let ids = Memo::new(move |_| shown.with(|rows| rows.iter().map(|r| r.0.clone()).collect::<Vec<_>>()));
     view! {
         <nav class="notebook" aria-label="Notebook of saved designs">
             <div class="notebook-head">
@@ -56,23 +65,34 @@ pub fn NotebookList() -> impl IntoView {
                 </p>
             })}
             <ul class="design-list" id="design-list">
-                <For each=move || shown.get() key=|row| (row.0.clone(), row.1.clone(), row.3.clone(), row.4.to_bits()) let:row>
+                // Keyed by id alone: an edit updates the row's texts in place instead of making it again.
+                <For each=move || ids.get() key=|id| id.clone() let:id>
                     {
-                        let (id, name, topology, summary, saved) = row;
+                        let row = Memo::new({
+                            let id = id.clone();
+                            move |_| shown.with(|rows| rows.iter().find(|r| r.0 == id).cloned())
+                        });
+                        let part = move |f: fn(&Row) -> String| move || row.with(|r| r.as_ref().map(f).unwrap_or_default());
+                        // The edit time to the second (the text shows seconds): formatted again only when
+                        // that changes, not on every keystroke.
+                        let second = Memo::new(move |_| row.with(|r| r.as_ref().map(|r| (r.4 / 1000.0).floor())).unwrap_or(0.0));
+                        let when = move || {
+                            let saved = second.get() * 1000.0;
+                            String::from(js_sys::Date::new(&wasm_bindgen::JsValue::from_f64(saved)).to_locale_string("en-GB", &wasm_bindgen::JsValue::UNDEFINED))
+                        };
+                        let label = move || row.with(|r| r.as_ref().map(|r| r.1.clone()).unwrap_or_default());
                         let (id_open, id_dup, id_del, id_cls) = (id.clone(), id.clone(), id.clone(), id.clone());
-                        let when = js_sys::Date::new(&wasm_bindgen::JsValue::from_f64(saved)).to_locale_string("en-GB", &wasm_bindgen::JsValue::UNDEFINED);
-                        let label = name.clone();
                         view! {
                             <li class="design-item" class:open=move || nb.current.get().as_deref() == Some(id_cls.as_str()) data-id=id.clone()>
                                 <button class="design-pick" on:click=move |_| nb.open(&id_open)>
-                                    <span class="design-name">{name}</span>
-                                    <span class="design-meta">{topology} " · " {summary}</span>
-                                    <span class="design-meta">"edited " {String::from(when)}</span>
+                                    <span class="design-name">{part(|r| r.1.clone())}</span>
+                                    <span class="design-meta">{part(|r| r.2.clone())} " · " {part(|r| r.3.clone())}</span>
+                                    <span class="design-meta">"edited " {when}</span>
                                 </button>
                                 <span class="design-actions">
-                                    <button class="quiet small dup" title="Duplicate" aria-label=format!("Duplicate {label}")
+                                    <button class="quiet small dup" title="Duplicate" aria-label=move || format!("Duplicate {}", label())
                                         on:click=move |_| nb.duplicate(&id_dup)>"Copy"</button>
-                                    <button class="quiet small del" title="Delete" aria-label=format!("Delete {label}")
+                                    <button class="quiet small del" title="Delete" aria-label=move || format!("Delete {}", label())
                                         on:click=move |_| nb.delete(&id_del)>"Delete"</button>
                                 </span>
                             </li>

@@ -16,7 +16,7 @@ pub fn PartListSection() -> impl IntoView {
     let list = Memo::new(move |_| {
         nb.with_settled(|r| settled(r).parts.map_err(|e| e.to_string())).unwrap_or_else(|| Err("no design open".into()))
     });
-    let package = Signal::derive(move || nb.with_current(|r| r.parts.package).unwrap_or_default());
+    let package = Memo::new(move |_| nb.with_current(|r| r.parts.package).unwrap_or_default());
     let export = move |_| {
         if let (Some(Ok(b)), Some(name)) = (Some(list.get_untracked()), nb.with_current_untracked(|r| r.name.clone())) {
             let _ = save_text(&format!("{}-parts.csv", file_stem(&name)), "text/csv", &b.to_csv());

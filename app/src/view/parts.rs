@@ -20,7 +20,7 @@ fn ohms(v: f64) -> String {
 #[component]
 pub fn PartsSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let settings = Signal::derive(move || nb.with_current(|r| r.search.clone().unwrap_or_default()).unwrap_or_default());
+    let settings = Memo::new(move |_| nb.with_current(|r| r.search.clone().unwrap_or_default()).unwrap_or_default());
     let exact = RwSignal::new(None::<Result<Synthesis, String>>);
     let search = super::search::SearchState::new();
     // New targets make the exact answer stale; another design stops a running search. A search

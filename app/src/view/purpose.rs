@@ -46,11 +46,13 @@ fn range_problem(id: &str, c: &CheckSettings) -> Option<String> {
 #[component]
 pub fn PurposeSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let name = Signal::derive(move || nb.with_current(|r| r.name.clone()).unwrap_or_default());
-    let purpose = Signal::derive(move || nb.with_current(|r| r.purpose.clone()).unwrap_or_default());
-    let targets = Signal::derive(move || nb.with_current(|r| r.targets).flatten());
+    // Memos: an edit of another part of the design leaves these fields alone.
+    let name = Memo::new(move |_| nb.with_current(|r| r.name.clone()).unwrap_or_default());
+    let purpose = Memo::new(move |_| nb.with_current(|r| r.purpose.clone()).unwrap_or_default());
+    let targets = Memo::new(move |_| nb.with_current(|r| r.targets).flatten());
     let by_centre = RwSignal::new(false);
-    let t = move || targets.get().or_else(|| nb.with_current(super::state::starting_targets)).unwrap_or_else(default_targets);
+    let shown_targets = Memo::new(move |_| targets.get().or_else(|| nb.with_current(super::state::starting_targets)).unwrap_or_else(default_targets));
+    let t = move || shown_targets.get();
     let set_t = move |key: &'static str, f: Box<dyn Fn(&mut Targets)>| {
         nb.edit_keyed(key, move |r| {
             let mut t = r.targets.unwrap_or_else(|| super::state::starting_targets(r));
@@ -72,14 +74,14 @@ pub fn PurposeSection() -> impl IntoView {
     };
     let check = move |id: &'static str, label: &'static str, get: fn(&hysteron_core::analysis::CheckSettings) -> Option<f64>,
                       put: fn(&mut hysteron_core::analysis::CheckSettings, Option<f64>)| {
-        let value = Signal::derive(move || nb.with_current(|r| get(&r.checks)).flatten());
+        let value = Memo::new(move |_| nb.with_current(|r| get(&r.checks)).flatten());
         let on_value = Callback::new(move |v: Option<f64>| nb.edit_keyed(id, move |r| put(&mut r.checks, v)));
         let check = Callback::new(move |v: f64| {
             let mut candidate = nb.with_current_untracked(|r| r.checks.clone())?;
             put(&mut candidate, Some(v));
             range_problem(id, &candidate)
         });
-        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value on_value check /> }
+        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value=Signal::derive(move || value.get()) on_value check /> }
     };
     // With a current budget chosen there is no anchor value: the anchor field is empty (never "NaN").
     let anchor = Signal::derive(move || match t().impedance {
@@ -90,7 +92,7 @@ pub fn PurposeSection() -> impl IntoView {
         ImpedanceChoice::CurrentBudgetA(a) => Some(a),
         ImpedanceChoice::AnchorOhm(_) => None,
     });
-    let anchor_label = Signal::derive(move || {
+    let anchor_label = Memo::new(move |_| {
         use hysteron_core::topology::Circuit;
         nb.with_current(|r| r.circuit.anchor_description()).unwrap_or("")
     });

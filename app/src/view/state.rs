@@ -31,6 +31,13 @@ pub struct Notebook {
     pub settled: RwSignal<Option<DesignRecord>>,
     /// A design opened from a share link, shown read-only and not stored until the user keeps it.
     pub incoming: RwSignal<Incoming>,
+    /// The open design's record. It follows `entries` and `current`, but a save (which changes
+    /// only the revision and the snapshot) leaves it unchanged, so readers of the record do not
+    /// run again then.
+    record: Memo<Option<DesignRecord>>,
+    /// Ids of designs edited but not yet written to storage: an edit is saved once the page has
+    /// painted it (see [`Notebook::save_soon`]), and at once when the page is hidden or left.
+    unsaved: StoredValue<Vec<String>>,
 }
 
 /// A study whose result is kept with its design (see [`storage::Studies`]).
@@ -99,6 +106,10 @@ impl History {
     pub const LIMIT: usize = 200;
 }
 
+/// The longest an edit waits to be written to storage when no animation frame comes (a hidden
+/// tab), milliseconds.
+const SAVE_WITHIN_MS: i32 = 100;
+
 /// Milliseconds since the Unix epoch.
 pub fn now_ms() -> f64 {
     js_sys::Date::now()
@@ -160,9 +171,17 @@ impl Notebook {
             )),
             (None, None) => None,
         };
+        let entries = RwSignal::new(loaded.entries);
+        let current = RwSignal::new(current);
+        let record = Memo::new(move |_| {
+            let id = current.get()?;
+            entries.with(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
+        });
         let nb = Notebook {
-            entries: RwSignal::new(loaded.entries),
-            current: RwSignal::new(current),
+            entries,
+            current,
+            record,
+            unsaved: StoredValue::new(Vec::new()),
             set_aside: RwSignal::new(loaded.set_aside),
             banner: RwSignal::new(banner),
             persistent: RwSignal::new(loaded.unavailable.is_none()),
@@ -178,7 +197,55 @@ impl Notebook {
             nb.add(blank_record());
         }
         nb.keep_view(view.scroll_y);
+        nb.save_on_leave();
         nb
+    }
+
+    /// Writes pending edits when the page is hidden or left (a reload, a closed tab, another
+    /// app in front), so an edit made just before is never lost.
+    fn save_on_leave(&self) {
+        let nb = *self;
+        let hide = window_event_listener_untyped("pagehide", move |_| nb.save_pending());
+        let unload = window_event_listener_untyped("beforeunload", move |_| nb.save_pending());
+        let d = leptos::prelude::document();
+        let cb = wasm_bindgen::closure::Closure::<dyn FnMut()>::new(move || nb.save_pending());
+        let _ = d.add_event_listener_with_callback("visibilitychange", wasm_bindgen::JsCast::unchecked_ref(cb.as_ref()));
+        // The notebook lives as long as the page: this listener is never removed.
+        cb.forget();
+        on_cleanup(move || {
+            hide.remove();
+            unload.remove();
+        });
+    }
+
+    /// Marks a design for saving once the page has painted the edit: after the next animation
+    /// frame (or a short timer, where frames do not run, as in a hidden tab), on a task of its
+    /// own. Several edits before then are saved once.
+    pub fn save_soon(&self, id: &str) {
+        let mut first = false;
+        self.unsaved.update_value(|u| {
+            first = u.is_empty();
+            if !u.iter().any(|x| x == id) {
+                u.push(id.to_string());
+            }
+        });
+        if !first {
+            return;
+        }
+        let nb = *self;
+        let after_paint = wasm_bindgen::closure::Closure::once_into_js(move || crate::tick::later(move || nb.save_pending()));
+        if let Some(w) = web_sys::window() {
+            let _ = w.request_animation_frame(wasm_bindgen::JsCast::unchecked_ref(&after_paint));
+        }
+        crate::tick::after_ms(SAVE_WITHIN_MS, move || nb.save_pending());
+    }
+
+    /// Writes every edit not yet saved (nothing when there is none).
+    pub fn save_pending(&self) {
+        let ids = self.unsaved.try_update_value(std::mem::take).unwrap_or_default();
+        for id in ids {
+            self.persist_now(&id, true);
+        }
     }
 
     /// Remembers the open design and the scroll position for a reload of this tab, and brings
@@ -350,14 +417,16 @@ impl Notebook {
 
     fn replace_current(&self, record: DesignRecord) {
         let Some(id) = self.current.get_untracked() else { return };
+        // The snapshot (the figures kept for the bench) is computed when the design is saved,
+        // after the edit is painted; until then the design has none.
         self.entries.update(|es| {
             if let Some(e) = es.iter_mut().find(|e| e.id == id) {
-                e.snapshot = snapshot_of(&record);
+                e.snapshot = None;
                 e.record = record;
                 e.saved_at_ms = now_ms();
             }
         });
-        self.persist(&id);
+        self.save_soon(&id);
     }
 
     /// Steps the open design back one edit (Ctrl+Z).
@@ -484,6 +553,10 @@ impl Notebook {
     /// Takes in a change another tab made to storage (the `storage` event).
     pub fn external_change(&self, key: &str, new_value: Option<String>) {
         let Some(id) = key.strip_prefix("hysteron/design/") else { return };
+        // An edit of this tab not yet written goes first, so a conflict is seen and both are kept.
+        if self.is_unsaved(id) {
+            self.persist(id);
+        }
         match new_value {
             None => {
                 if self.current.get_untracked().as_deref() != Some(id) {
@@ -520,8 +593,12 @@ impl Notebook {
 
     /// Reads the open design's record.
     pub fn with_current<R>(&self, f: impl FnOnce(&DesignRecord) -> R) -> Option<R> {
-        let id = self.current.get()?;
-        self.entries.with(|es| es.iter().find(|e| e.id == id).map(|e| f(&e.record)))
+        self.record.with(|r| r.as_ref().map(f))
+    }
+
+    /// Whether an edit of the design `id` waits to be saved (its snapshot is not computed yet).
+    pub fn is_unsaved(&self, id: &str) -> bool {
+        self.unsaved.with_value(|u| u.iter().any(|x| x == id))
     }
 
     /// A save refused because another tab saved a newer revision: their version takes this
@@ -570,15 +647,37 @@ impl Notebook {
         }));
     }
 
-    /// Writes one design to storage, reporting failures in the banner.
+    /// Writes one design to storage now (with any edit of it still waiting), reporting failures
+    /// in the banner. Without storage (the page works in memory) only its snapshot is brought up to date.
     pub fn persist(&self, id: &str) {
+        let waiting = self.unsaved.try_update_value(|u| {
+            let before = u.len();
+            u.retain(|x| x != id);
+            u.len() != before
+        });
+        self.persist_now(id, waiting.unwrap_or(false));
+    }
+
+    /// Writes one design; `edited`: its snapshot is computed first (it was edited since the last save).
+    fn persist_now(&self, id: &str, edited: bool) {
+        if edited {
+            let snapshot = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| snapshot_of(&e.record)));
+            if let Some(snapshot) = snapshot {
+                self.entries.update(|es| {
+                    if let Some(e) = es.iter_mut().find(|e| e.id == id) {
+                        e.snapshot = snapshot;
+                    }
+                });
+            }
+        }
         if !self.persistent.get_untracked() {
             return;
         }
         let order = self.order();
         let Some(entry) = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).cloned()) else { return };
         match storage::save(&entry, &order) {
-            Ok(rev) => self.entries.update(|es| {
+            // Only the revision changes: nothing on the page shows it, so nothing runs again.
+            Ok(rev) => self.entries.update_untracked(|es| {
                 if let Some(e) = es.iter_mut().find(|e| e.id == id) {
                     e.revision = rev;
                 }
