@@ -7,7 +7,7 @@
 //! and one worker's run equals the one-call search. The parts travel through JSON, as they do
 //! between a worker and the page.
 
-use hysteron_core::analysis::{CheckSettings, Thresholds};
+use hysteron_core::analysis::Thresholds;
 use hysteron_core::eseries::ESeries;
 use hysteron_core::jobs::{merge, split, Job, JobOutput, Running};
 use hysteron_core::record::DesignRecord;
