@@ -20,8 +20,7 @@ fn w(x: f64) -> String {
     if x >= 1.0 { format!("{x:.3} W") } else { format!("{:.3} mW", x * 1e3) }
 }
 
-/// The network in schematic order, from the field terminal to the pin (the schematic does not
-/// draw it yet).
+/// The network in words, in schematic order from the field terminal to the pin.
 fn chain(n: &InputNetwork) -> String {
     let ohm = |x: f64| format_with_unit(x, 3, Unit::Ohm);
     let mut parts = vec!["field terminal".to_string()];
