@@ -132,7 +132,29 @@ pub async fn start_at(base: String) -> Session {
     s
 }
 
+/// chromedriver's extension command that runs a Chrome DevTools command (`goog/cdp/execute`).
+#[derive(Debug)]
+struct DevTools(serde_json::Value);
+
+impl fantoccini::wd::WebDriverCompatibleCommand for DevTools {
+    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
+        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
+    }
+    fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
+        (http::Method::POST, Some(self.0.to_string()))
+    }
+}
+
 impl Session {
+    /// Runs the Chrome DevTools command `cmd` with `params` through chromedriver (a screen size,
+    /// a screenshot, a script before every load…) and returns its result; panics when it fails.
+    pub async fn devtools(&self, cmd: &str, params: serde_json::Value) -> serde_json::Value {
+        self.client
+            .issue_cmd(DevTools(serde_json::json!({"cmd": cmd, "params": params})))
+            .await
+            .unwrap_or_else(|e| panic!("DevTools command {cmd}: {e}"))
+    }
+
     /// Waits (up to 20 s) for an element to appear. Long studies are folded (`<details>`): an element
     /// inside a closed fold has its folds opened first, as a user opens a study to reach its fields.
     pub async fn wait_for(&self, css: &str) -> fantoccini::elements::Element {

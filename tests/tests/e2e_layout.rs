@@ -7,29 +7,11 @@
 //! and run).
 
 use base64::Engine;
-use fantoccini::wd::WebDriverCompatibleCommand;
 use hysteron_tests::browser::{self, Session};
 use std::path::PathBuf;
 
-/// chromedriver's extension command that runs a Chrome DevTools command (here: emulate a screen
-/// size and pixel ratio, and capture the whole page).
-#[derive(Debug)]
-struct Cdp(serde_json::Value);
-
-impl WebDriverCompatibleCommand for Cdp {
-    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
-        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
-    }
-    fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
-        (http::Method::POST, Some(self.0.to_string()))
-    }
-}
-
 async fn cdp(s: &Session, cmd: &str, params: serde_json::Value) -> serde_json::Value {
-    s.client
-        .issue_cmd(Cdp(serde_json::json!({"cmd": cmd, "params": params})))
-        .await
-        .unwrap_or_else(|e| panic!("DevTools command {cmd}: {e}"))
+    s.devtools(cmd, params).await
 }
 
 /// Makes the page's viewport `width` × `height` CSS pixels at `dpr` device pixels per CSS pixel, and

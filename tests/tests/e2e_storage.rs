@@ -9,7 +9,6 @@
 //!   nothing stored is lost.
 //! - A set-aside (damaged) record can be downloaded as it is stored.
 
-use fantoccini::wd::WebDriverCompatibleCommand;
 use hysteron_tests::browser::{self, Session};
 use std::time::Duration;
 
@@ -112,34 +111,13 @@ async fn deleting_a_design_another_tab_changed_keeps_their_version() {
     s.close().await;
 }
 
-/// chromedriver's extension command that runs a Chrome DevTools command (here: a script that
-/// runs in every new document before the page's own).
-#[derive(Debug)]
-struct Cdp(serde_json::Value);
-
-impl WebDriverCompatibleCommand for Cdp {
-    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
-        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
-    }
-    fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
-        (http::Method::POST, Some(self.0.to_string()))
-    }
-}
-
 async fn before_every_load(s: &Session, source: &str) -> String {
-    let v = s
-        .client
-        .issue_cmd(Cdp(serde_json::json!({"cmd": "Page.addScriptToEvaluateOnNewDocument", "params": {"source": source}})))
-        .await
-        .expect("chromedriver runs the DevTools command");
+    let v = s.devtools("Page.addScriptToEvaluateOnNewDocument", serde_json::json!({"source": source})).await;
     v["identifier"].as_str().unwrap_or_default().to_string()
 }
 
 async fn stop_before_every_load(s: &Session, id: &str) {
-    s.client
-        .issue_cmd(Cdp(serde_json::json!({"cmd": "Page.removeScriptToEvaluateOnNewDocument", "params": {"identifier": id}})))
-        .await
-        .expect("remove the script");
+    s.devtools("Page.removeScriptToEvaluateOnNewDocument", serde_json::json!({"identifier": id})).await;
 }
 
 #[tokio::test(flavor = "multi_thread")]

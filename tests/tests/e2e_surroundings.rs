@@ -13,7 +13,6 @@ use hysteron_core::catalog;
 use hysteron_core::record::DesignRecord;
 use hysteron_core::topology::{Circuit, Topology};
 use base64::Engine;
-use fantoccini::wd::WebDriverCompatibleCommand;
 use hysteron_tests::browser::{self, Session};
 
 /// The sawmill demo as the catalog holds it.
@@ -151,25 +150,8 @@ async fn the_print_sheet_bench_steps_drive_the_field_terminal_with_field_windows
     s.close().await;
 }
 
-/// chromedriver's extension command that runs a Chrome DevTools command (a screen size and pixel
-/// ratio, a screenshot).
-#[derive(Debug)]
-struct Cdp(serde_json::Value);
-
-impl WebDriverCompatibleCommand for Cdp {
-    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
-        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
-    }
-    fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
-        (http::Method::POST, Some(self.0.to_string()))
-    }
-}
-
 async fn cdp(s: &Session, cmd: &str, params: serde_json::Value) -> serde_json::Value {
-    s.client
-        .issue_cmd(Cdp(serde_json::json!({"cmd": cmd, "params": params})))
-        .await
-        .unwrap_or_else(|e| panic!("DevTools command {cmd}: {e}"))
+    s.devtools(cmd, params).await
 }
 
 async fn viewport(s: &Session, width: u32, height: u32, dpr: f64) {
