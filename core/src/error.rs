@@ -109,12 +109,19 @@ pub fn positive(field: &str, value: f64) -> Result<f64, DesignError> {
 }
 
 /// Checks that a quantity is finite and not negative.
+#[inline]
 pub fn non_negative(field: &str, value: f64) -> Result<f64, DesignError> {
     if value.is_finite() && value >= 0.0 {
         Ok(value)
     } else {
-        Err(DesignError::invalid(field, format!("must be a finite number, zero or above (got {value})")))
+        Err(negative(field, value))
     }
+}
+
+#[cold]
+#[inline(never)]
+fn negative(field: &str, value: f64) -> DesignError {
+    DesignError::invalid(field, format!("must be a finite number, zero or above (got {value})"))
 }
 
 #[cfg(test)]

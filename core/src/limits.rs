@@ -60,6 +60,7 @@ pub enum Quantity {
 
 impl Quantity {
     /// The inclusive range (min, max) in base units.
+    #[inline]
     pub fn range(self) -> (f64, f64) {
         match self {
             Quantity::Resistance => (1e-6, 1e15),
@@ -120,6 +121,7 @@ impl Quantity {
     }
 
     /// Whether `value` is finite and inside [`Quantity::range`].
+    #[inline]
     pub fn admits(self, value: f64) -> bool {
         let (lo, hi) = self.range();
         value.is_finite() && (lo..=hi).contains(&value)
@@ -132,17 +134,33 @@ pub fn refusal(quantity: Quantity, value: f64) -> Option<String> {
     if quantity.admits(value) {
         return None;
     }
+    Some(refusal_words(quantity, value))
+}
+
+/// The words of a refusal (kept out of line: checks run per Monte Carlo trial and per search
+/// candidate, and the admitted path must stay a comparison).
+#[cold]
+#[inline(never)]
+fn refusal_words(quantity: Quantity, value: f64) -> String {
     let (lo, hi) = quantity.range();
     let got = if value.is_finite() { quantity.write(value) } else { "not a number".to_string() };
-    Some(format!("must be between {} and {} (got {got})", quantity.write(lo), quantity.write(hi)))
+    format!("must be between {} and {} (got {got})", quantity.write(lo), quantity.write(hi))
 }
 
 /// Checks one value: finite and inside its quantity's range. The error names `field` and the range.
+#[inline]
 pub fn check(quantity: Quantity, field: &str, value: f64) -> Result<f64, DesignError> {
-    match refusal(quantity, value) {
-        None => Ok(value),
-        Some(reason) => Err(DesignError::invalid(field, reason)),
+    if quantity.admits(value) {
+        Ok(value)
+    } else {
+        Err(refused(quantity, field, value))
     }
+}
+
+#[cold]
+#[inline(never)]
+fn refused(quantity: Quantity, field: &str, value: f64) -> DesignError {
+    DesignError::invalid(field, refusal_words(quantity, value))
 }
 
 /// The quantity a page field holds, from the unit symbol written beside it (`Ω`, `V`, `A`, `F`,

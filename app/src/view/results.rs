@@ -96,12 +96,13 @@ pub fn Results(figures: Figures) -> impl IntoView {
     // The field window (every tolerance over its full range) and the bench window (parts and
     // device spread at 25 °C and the nominal supply), computed on a compute worker once typing
     // pauses (`core::jobs::Job::Windows`, equal to `overview::record_windows`). The job carries
-    // only what the windows read, so an edit elsewhere (name, notes, signal) starts nothing.
+    // only what the windows read, so an edit elsewhere (name, notes, signal, Monte Carlo trials)
+    // starts nothing.
     let windows_job = Memo::new(move |_| {
         nb.with_settled(|r| {
             let mut only = hysteron_core::record::DesignRecord::new("", r.circuit.clone());
             only.checks = r.checks.clone();
-            only.tolerance = r.tolerance.clone();
+            only.tolerance = r.tolerance.as_ref().map(|t| t.without_monte_carlo());
             hysteron_core::jobs::Job::Windows { record: Box::new(only) }
         })
     });

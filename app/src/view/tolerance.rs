@@ -53,9 +53,13 @@ pub fn ToleranceSection() -> impl IntoView {
         })
     };
     // The worst case runs on a compute worker once typing pauses (`core::jobs::Job::WorstCase`,
-    // sliced by corners: progress and Cancel for a long one); GUM and the budget stay here.
+    // sliced by corners: progress and Cancel for a long one); GUM and the budget stay here. The job
+    // leaves out the Monte Carlo settings it does not read, so typing a trial count starts nothing.
     let wc_job = Memo::new(move |_| {
-        nb.with_settled(|r| hysteron_core::jobs::Job::WorstCase { circuit: r.circuit.clone(), settings: r.tolerance.clone().unwrap_or_default() })
+        nb.with_settled(|r| hysteron_core::jobs::Job::WorstCase {
+            circuit: r.circuit.clone(),
+            settings: r.tolerance.clone().unwrap_or_default().without_monte_carlo(),
+        })
     });
     let wc_run = crate::jobs::follow(wc_job);
     let quick = Memo::new(move |_| {

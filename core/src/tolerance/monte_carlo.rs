@@ -321,8 +321,10 @@ impl<C: Circuit> MonteCarloRun<C> {
         c.thresholds()
     }
 
-    fn evaluate(&self, values: &[f64]) -> Option<Thresholds> {
-        let c = self.circuit.with_parameters(&self.circuit_values(values)).ok()?;
+    /// The thresholds for drawn band values (`scratch` holds the circuit's values between calls).
+    fn evaluate(&self, values: &[f64], scratch: &mut Vec<f64>) -> Option<Thresholds> {
+        super::settings::circuit_values_into(&self.params, values, &self.tracks, scratch);
+        let c = self.circuit.with_parameters(scratch).ok()?;
         c.validate().ok()?;
         let t = c.thresholds().ok()?;
         (t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()).then_some(t)
@@ -348,9 +350,10 @@ impl<C: Circuit> MonteCarloRun<C> {
         };
         let check_spec = !self.spec.is_empty();
         let mut values = self.centres.clone();
+        let mut scratch = Vec::with_capacity(self.params.len());
         for index in start..end {
             self.draw(index, &mut values);
-            match self.evaluate(&values) {
+            match self.evaluate(&values, &mut scratch) {
                 Some(t) => {
                     p.vt_upper_v.push(t.vt_upper_v);
                     p.vt_lower_v.push(t.vt_lower_v);

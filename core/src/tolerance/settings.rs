@@ -329,6 +329,13 @@ impl ToleranceSettings {
         Ok(())
     }
 
+    /// These settings with the Monte Carlo run's own settings (trials, seed, bins) at their
+    /// defaults: what the worst case, GUM and the windows read. A study that follows the inputs
+    /// compares its job with this, so a change of trials does not start the corners again.
+    pub fn without_monte_carlo(&self) -> ToleranceSettings {
+        ToleranceSettings { monte_carlo: MonteCarloSettings::default(), ..self.clone() }
+    }
+
     /// The window applied to the yield and the worst-case verdict: `spec`, narrowed by the input
     /// type's window when one is chosen.
     pub fn effective_spec(&self) -> SpecWindow {
@@ -474,15 +481,19 @@ pub(crate) fn has_common_drift(bands: &[ParameterBand]) -> bool {
 /// same; with one (the last value, a relative change ε), every resistor that tracks is scaled by
 /// 1 + ε and the last value is dropped.
 pub(crate) fn circuit_values(params: &[Parameter], values: &[f64], tracks: &[bool]) -> Vec<f64> {
+    let mut out = Vec::with_capacity(params.len());
+    circuit_values_into(params, values, tracks, &mut out);
+    out
+}
+
+/// As [`circuit_values`], into `out` (cleared first), so a loop over trials reuses one buffer.
+pub(crate) fn circuit_values_into(params: &[Parameter], values: &[f64], tracks: &[bool], out: &mut Vec<f64>) {
+    out.clear();
     if values.len() == params.len() + 1 {
         let eps = values[params.len()];
-        values[..params.len()]
-            .iter()
-            .zip(tracks)
-            .map(|(v, t)| if *t { v * (1.0 + eps) } else { *v })
-            .collect()
+        out.extend(values[..params.len()].iter().zip(tracks).map(|(v, t)| if *t { v * (1.0 + eps) } else { *v }));
     } else {
-        values.to_vec()
+        out.extend_from_slice(values);
     }
 }
 
@@ -687,5 +698,17 @@ mod tests {
             Some(ToleranceBand::Limits([9900.0, 10100.0]))
         );
         assert_eq!(s.distribution, Distribution::Normal);
+    }
+
+    #[test]
+    fn corners_do_not_read_the_monte_carlo_settings() {
+        let mut a = ToleranceSettings::default();
+        a.monte_carlo.trials = 5_000;
+        a.monte_carlo.seed = 9;
+        a.resistor_tolerance_pct = 5.0;
+        let b = a.without_monte_carlo();
+        assert_eq!(b.monte_carlo, MonteCarloSettings::default());
+        assert_eq!(b.resistor_tolerance_pct, 5.0);
+        assert_eq!(b, ToleranceSettings { monte_carlo: MonteCarloSettings::default(), ..a.clone() });
     }
 }
