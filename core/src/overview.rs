@@ -109,6 +109,11 @@ pub struct Snapshot {
     /// absent in snapshots saved before it was kept, or when the design cannot be analysed.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub part_list: Option<Bom>,
+    /// VT+ and VT− at the field terminal, when the design has an input network that computes
+    /// (the figures the bench drives; [`Quick::field_terminal`]); absent otherwise and in
+    /// snapshots saved before it was kept.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub field_terminal: Option<Thresholds>,
     /// Version of the math that computed it.
     pub computed_by: String,
 }
@@ -132,8 +137,20 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
         curve,
         parts,
         part_list: analyse(c, &record.checks).and_then(|a| part_list(record, &a)).ok(),
+        field_terminal: crate::input_network::from_record::record_network(record).and_then(|r| r.ok()).map(|n| n.field),
         computed_by: env!("CARGO_PKG_VERSION").to_string(),
     })
+}
+
+impl Snapshot {
+    /// The one-line summary a list of saved designs shows: VT+ and VT− where the signal enters —
+    /// at the field terminal for a design with an input network, at the trigger's input otherwise.
+    pub fn summary(&self) -> String {
+        match &self.field_terminal {
+            Some(t) => format!("at the field terminal VT+ {:.3} V · VT− {:.3} V", t.vt_upper_v, t.vt_lower_v),
+            None => format!("VT+ {:.3} V · VT− {:.3} V", self.vt_upper_v, self.vt_lower_v),
+        }
+    }
 }
 
 /// The part list of a record from its analysis (made with the record's checks), with the parts of
@@ -516,6 +533,19 @@ mod tests {
         }
         let q = quick(&bad);
         assert!(matches!(q.field_terminal, Some(Err(_))) && q.analysis.is_ok());
+    }
+
+    #[test]
+    fn snapshot_summary_quotes_the_field_terminal_when_there_is_a_network() {
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record();
+        let snap = snapshot(&r).expect("the demo computes");
+        let field = quick(&r).field_terminal.expect("network").expect("computes");
+        assert_eq!(snap.field_terminal, Some(field));
+        let line = snap.summary();
+        assert!(line.starts_with("at the field terminal") && line.contains(&format!("{:.3}", field.vt_upper_v)), "{line}");
+        let plain = snapshot(&DesignRecord { input_network: None, ..r.clone() }).unwrap();
+        assert_eq!(plain.field_terminal, None);
+        assert_eq!(plain.summary(), format!("VT+ {:.3} V · VT− {:.3} V", plain.vt_upper_v, plain.vt_lower_v));
     }
 
     #[test]

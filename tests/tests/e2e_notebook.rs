@@ -27,6 +27,15 @@ async fn every_demo_scenario_opens_with_its_thresholds() {
         assert!((lo - expected.vt_lower_v).abs() < 1e-9, "{}: VT− {lo} vs {}", demo.key, expected.vt_lower_v);
         let name = s.js("return document.querySelector('#design-name').value").await;
         assert_eq!(name.as_str(), Some(demo.record().name.as_str()));
+        // The list row quotes the thresholds where the signal enters: at the field terminal when
+        // the design has an input network, at the trigger's input otherwise.
+        let record = demo.record();
+        let (where_, vt) = match hysteron_core::input_network::from_record::record_network(&record) {
+            Some(report) => ("at the field terminal VT+ ", report.expect("network computes").field),
+            None => ("VT+ ", expected),
+        };
+        let want = format!("{where_}{:.3} V · VT− {:.3} V", vt.vt_upper_v, vt.vt_lower_v);
+        s.wait_text("#design-list li.open .design-meta", &want, |t| t.contains(&want)).await;
         if demo.hazardous {
             let caution = s.text("#cautions").await;
             assert!(caution.contains("codes"), "{}: no safety caution shown", demo.key);

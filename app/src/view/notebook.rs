@@ -22,7 +22,7 @@ pub fn NotebookList() -> impl IntoView {
                 .filter(|e| f.is_empty() || e.record.name.to_lowercase().contains(&f))
                 .map(|e| {
                     let summary = match &e.snapshot {
-                        Some(s) => format!("VT+ {:.3} V · VT− {:.3} V", s.vt_upper_v, s.vt_lower_v),
+                        Some(s) => s.summary(),
                         None => prev
                             .filter(|_| nb.is_unsaved(&e.id))
                             .and_then(|p| p.iter().find(|r| r.0 == e.id))
