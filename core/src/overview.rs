@@ -362,6 +362,28 @@ pub struct Sheet {
     /// settings ([`dynamics_lines`]).
     #[serde(default)]
     pub dynamics: Vec<String>,
+    /// VT+ and VT− at the field terminal with their windows, for a record with an input network
+    /// that computes; `None` otherwise (the figures above are then where the signal enters).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub field_terminal: Option<TerminalFigures>,
+}
+
+/// The thresholds where the bench drives a design with an input network: at its field terminal.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TerminalFigures {
+    /// Nominal VT+ and VT− at the field terminal (under the output load; [`Quick::field_terminal`]).
+    pub thresholds: Thresholds,
+    /// The field and bench windows there ([`terminal_windows`]); `None` when the worst case fails.
+    pub windows: Option<Windows>,
+}
+
+/// The field-terminal figures of a record with an input network (`None` without one, or when
+/// the network cannot be analysed — its study then says why).
+pub fn terminal_figures(record: &DesignRecord, analysis: &Analysis) -> Option<TerminalFigures> {
+    let net = record.input_network.as_ref().filter(|n| n.has_parts())?;
+    let report = crate::input_network::from_record::record_network(record)?.ok()?;
+    let terminal = crate::input_network::terminal::AtFieldTerminal::new(crate::input_network::from_record::loaded_circuit(record), net.clone());
+    Some(TerminalFigures { thresholds: report.field, windows: terminal_windows(record, analysis, &terminal).ok() })
 }
 
 /// The output-dynamics and power-up studies of a record, each `None` when the record has no
@@ -451,7 +473,8 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
         Err(e) => format!("Input network: {e}"),
     });
     let dynamics = dynamics_lines(record);
-    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network, dynamics })
+    let field_terminal = terminal_figures(record, &analysis);
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network, dynamics, field_terminal })
 }
 
 /// The print sheet's longer studies.
@@ -533,6 +556,23 @@ mod tests {
         }
         let q = quick(&bad);
         assert!(matches!(q.field_terminal, Some(Err(_))) && q.analysis.is_ok());
+    }
+
+    #[test]
+    fn sheet_quotes_the_field_terminal_with_the_windows_the_bench_accepts_by() {
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record();
+        let sh = sheet(&r).unwrap();
+        let t = sh.field_terminal.as_ref().expect("the demo has a network");
+        assert_eq!(Some(t.thresholds), quick(&r).field_terminal.and_then(|x| x.ok()));
+        let w = t.windows.as_ref().expect("windows compute");
+        // The bench step's accept range for VT+ at the nominal supply is this bench window.
+        let b = &w.bench[0];
+        let (lo, hi) = b.vt_upper_v();
+        let step = format!("accept {:.3} V … {:.3} V", lo, hi);
+        assert!(sh.bench.steps.iter().any(|s| s.instruction.contains(&step)), "no bench step accepts by {step}");
+        assert!(lo < t.thresholds.vt_upper_v && t.thresholds.vt_upper_v < hi);
+        // Without a network there is no terminal block.
+        assert!(sheet(&DesignRecord { input_network: None, ..r.clone() }).unwrap().field_terminal.is_none());
     }
 
     #[test]

@@ -132,6 +132,21 @@ fn pdf_pages(pdf: &[u8], name: &str) -> u32 {
         .unwrap_or_else(|| panic!("pdfinfo gave no page count: {text}"))
 }
 
+/// The text of a PDF (pdftotext, poppler-utils), whitespace collapsed.
+fn pdf_text(pdf: &[u8], name: &str) -> String {
+    let path = std::env::temp_dir().join(format!("hysteron-{}-{name}-text.pdf", std::process::id()));
+    std::fs::write(&path, pdf).unwrap();
+    let out = std::process::Command::new("pdftotext").arg(&path).arg("-").output().expect("pdftotext (poppler-utils) runs");
+    let _ = std::fs::remove_file(&path);
+    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+/// The last `n` words of `text`, as one string.
+fn last_words(text: &str, n: usize) -> String {
+    let w: Vec<&str> = text.split_whitespace().collect();
+    w[w.len().saturating_sub(n)..].join(" ")
+}
+
 #[tokio::test(flavor = "multi_thread")]
 async fn every_demo_prints_on_one_page_of_a4_and_letter() {
     let s = browser::start().await;
@@ -151,6 +166,17 @@ async fn every_demo_prints_on_one_page_of_a4_and_letter() {
             let pages = pdf_pages(&pdf, &format!("{}-{label}", demo.key));
             report.push(format!("{} {label}: {pages}", demo.key));
             assert_eq!(pages, 1, "{} on {label} prints on {pages} pages", demo.key);
+            // One page, and nothing cut off at its foot: the last bench step, the troubleshooting
+            // and the notes are all on the paper.
+            let printed = pdf_text(&pdf, &format!("{}-{label}", demo.key));
+            let ends = s
+                .js("const q = c => { const e = document.querySelector(c); return e ? e.textContent : ''; }; \
+                     return [q('#sheet-bench-steps li:last-child'), q('#design-sheet .sheet-bench p:last-child'), q('#design-sheet .sheet-notes')];")
+                .await;
+            for end in ends.as_array().unwrap().iter().filter_map(|e| e.as_str()).filter(|e| !e.trim().is_empty()) {
+                let tail = last_words(end, 6);
+                assert!(printed.contains(&tail), "{} on {label}: the sheet is cut off — {tail:?} is not on the paper, which ends {:?}", demo.key, last_words(&printed, 12));
+            }
         }
     }
     println!("page counts: {}", report.join(", "));

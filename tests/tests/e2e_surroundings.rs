@@ -291,6 +291,14 @@ async fn the_print_sheet_draws_the_network_on_one_page() {
         "const i = document.querySelector('img.sheet-schematic'); return !!i && decodeURIComponent(i.src).includes('>FIELD</text>');",
     )
     .await;
+    // The figures table leads with the field terminal, where the bench drives the design; the
+    // pin's figures follow under their own heading.
+    let record = hysteron_core::catalog::demos().into_iter().find(|d| d.key == "sawmill-end-stop").unwrap().record();
+    let field = hysteron_core::input_network::from_record::record_network(&record).unwrap().unwrap().field;
+    let shown = s.js("return document.querySelector('#sheet-terminal-vt-upper').textContent;").await.as_str().unwrap_or_default().to_string();
+    assert_eq!(shown, format!("{:.3} V", field.vt_upper_v));
+    let groups = s.js("return [...document.querySelectorAll('#design-sheet tr.sheet-group')].map(r => r.textContent).join(' | ');").await;
+    assert_eq!(groups.as_str(), Some("At the field terminal (the bench drives it) | At the trigger's input pin"));
     let dir = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..").join("target").join("screenshots");
     std::fs::create_dir_all(&dir).expect("create target/screenshots");
     for (size, label) in [(PrintSize::A4, "a4"), (PrintSize::US_LETTER, "letter")] {

@@ -63,10 +63,24 @@ pub fn DesignSheet() -> impl IntoView {
             <p class="sheet-purpose">{move || with_shown(&|r| r.purpose.clone())}</p>
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
-                Ok(Sheet { analysis: a, windows, bench, parts, cautions, temperature, input_network, dynamics }) => {
+                Ok(Sheet { analysis: a, windows, bench, parts, cautions, temperature, input_network, dynamics, field_terminal }) => {
                 let wc = windows.as_ref().map(|w| w.field.clone());
                 let bw = windows.as_ref().and_then(|w| w.bench.first().cloned());
                 let range = |lo: f64, hi: f64| format!("{} … {}", v(lo), v(hi));
+                // With an input network the bench drives the field terminal: its figures lead, the
+                // pin's follow under their own heading.
+                let terminal_rows = field_terminal.map(|t| {
+                    let fw = t.windows.as_ref().map(|w| w.field.clone());
+                    let tb = t.windows.as_ref().and_then(|w| w.bench.first().cloned());
+                    let (up, lo) = (t.thresholds.vt_upper_v, t.thresholds.vt_lower_v);
+                    view! {
+                        <tr class="sheet-group"><th colspan="4">"At the field terminal (the bench drives it)"</th></tr>
+                        <tr><td>"VT+"</td><td id="sheet-terminal-vt-upper">{v(up)}</td><td>{fw.as_ref().map(|w| range(w.vt_upper.min.value_v, w.vt_upper.max.value_v))}</td><td>{tb.as_ref().map(|b| range(b.vt_upper_v().0, b.vt_upper_v().1))}</td></tr>
+                        <tr><td>"VT−"</td><td id="sheet-terminal-vt-lower">{v(lo)}</td><td>{fw.as_ref().map(|w| range(w.vt_lower.min.value_v, w.vt_lower.max.value_v))}</td><td>{tb.as_ref().map(|b| range(b.vt_lower_v().0, b.vt_lower_v().1))}</td></tr>
+                        <tr><td>"hysteresis"</td><td>{v(up - lo)}</td><td>{fw.as_ref().map(|w| range(w.hysteresis.min.value_v, w.hysteresis.max.value_v))}</td><td>{tb.as_ref().map(|b| range(b.worst_case.hysteresis.min.value_v, b.worst_case.hysteresis.max.value_v))}</td></tr>
+                        <tr class="sheet-group"><th colspan="4">"At the trigger's input pin"</th></tr>
+                    }
+                });
                 view! {
                     {(!cautions.is_empty()).then(|| view! {
                         <div class="sheet-caution"><strong>"Safety: "</strong>{cautions.iter().map(|c| c.message.clone()).collect::<Vec<_>>().join(" ")}
@@ -86,6 +100,7 @@ pub fn DesignSheet() -> impl IntoView {
                             <table class="grid sheet-table">
                                 <thead><tr><th></th><th>"nominal"</th><th>"field window"</th><th>{bw.as_ref().map(|b| format!("bench window ({:.0} °C, {})", b.temperature_c, v(b.supply_v))).unwrap_or_else(|| "bench window".into())}</th></tr></thead>
                                 <tbody>
+                                    {terminal_rows}
                                     <tr><td>"VT+"</td><td id="sheet-vt-upper">{v(a.vt_upper_v)}</td><td id="sheet-field-vt-upper">{wc.as_ref().map(|w| range(w.vt_upper.min.value_v, w.vt_upper.max.value_v))}</td><td id="sheet-bench-vt-upper">{bw.as_ref().map(|b| range(b.vt_upper_v().0, b.vt_upper_v().1))}</td></tr>
                                     <tr><td>"VT−"</td><td>{v(a.vt_lower_v)}</td><td>{wc.as_ref().map(|w| range(w.vt_lower.min.value_v, w.vt_lower.max.value_v))}</td><td>{bw.as_ref().map(|b| range(b.vt_lower_v().0, b.vt_lower_v().1))}</td></tr>
                                     <tr><td>"hysteresis"</td><td>{v(a.hysteresis_v)}</td><td>{wc.as_ref().map(|w| range(w.hysteresis.min.value_v, w.hysteresis.max.value_v))}</td><td>{bw.as_ref().map(|b| range(b.worst_case.hysteresis.min.value_v, b.worst_case.hysteresis.max.value_v))}</td></tr>
