@@ -77,5 +77,28 @@ fn bench(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, bench);
+criterion_group!(benches, bench, whole_chain);
 criterion_main!(benches);
+
+/// The whole signal test of the lathe tachometer demo at 1 M samples, as the compute worker runs it
+/// (`core::signal::output_edges::run_signal_chain`: generation, noise, design and baseline passes,
+/// edge matching, report). The browser's timed run covers the same chain at 10 M samples.
+fn whole_chain(c: &mut Criterion) {
+    let mut r = hysteron_core::catalog::demos().into_iter().find(|d| d.key == "lathe-tachometer").expect("demo").record();
+    let mut s = r.signal.clone().expect("the demo has a signal");
+    s.definition.sample_rate_hz = 1e6;
+    s.definition.duration_s = 1.0;
+    s.sweep = None;
+    r.signal = Some(s.clone());
+    let (design, front) = hysteron_core::input_network::from_record::signal_design(&r).expect("design");
+    let output = hysteron_core::overview::dynamics(&r).0.and_then(|x| x.ok());
+    let mut g = c.benchmark_group("signal_chain_1m");
+    g.sample_size(10).measurement_time(Duration::from_secs(6)).warm_up_time(Duration::from_secs(1));
+    g.bench_function("lathe_tachometer_whole_chain", |b| {
+        b.iter(|| {
+            let run = hysteron_core::signal::output_edges::run_signal_chain(&s, &design, None, front.as_ref(), output.as_ref()).expect("runs");
+            black_box(run.report.duration_s)
+        })
+    });
+    g.finish();
+}
