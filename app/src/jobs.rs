@@ -3,9 +3,7 @@
 //! calls back once with the result; [`JobHandle::cancel`] stops it at once (the workers running it
 //! are terminated). A job that `core::jobs::split` can cut (Monte Carlo by trials, the noise sweep
 //! by levels, a standard-value search without the distinct rule by ranges of combinations) is spread over `navigator.hardwareConcurrency` workers and merged in order with
-//! `core::jobs::merge_for_finish`, which gives exactly the single-run result for the same seed; a
-//! split Monte Carlo run's statistics (a pass over every trial) are then computed by one pooled
-//! worker (`Job::MonteCarloFinish`), not on the page's thread.
+//! `core::jobs::merge`, which gives exactly the single-run result for the same seed.
 //!
 //! Workers are kept in a small pool once their module has loaded ([`prewarm`] starts them in the
 //! background, [`pool_size`]: one per hardware thread plus [`SPARE_WORKERS`]; workers still
@@ -20,7 +18,7 @@
 //! inlined, and workers start from that. `<html data-compute>` says where studies run: `workers`
 //! once a worker has said it is ready, `page` once workers were refused.
 
-use hysteron_core::jobs::{merge_for_finish, split, Job, JobOutput, Merged, Progress, Running};
+use hysteron_core::jobs::{merge, split, Job, JobOutput, Progress, Running};
 use std::cell::{Cell, RefCell};
 use std::rc::Rc;
 use wasm_bindgen::prelude::*;
@@ -229,9 +227,6 @@ struct Shared {
     finished: bool,
     /// The job was moved onto the page (workers refused); worker messages are ignored from then on.
     on_page: bool,
-    /// Every part is in and one worker runs the last step (`core::jobs::Merged::Finish`, a split
-    /// Monte Carlo run's statistics); its result is the job's.
-    finishing: bool,
     note: Option<&'static str>,
     on_progress: Rc<dyn Fn(JobStatus)>,
     on_done: Option<Box<dyn FnOnce(Result<JobOutput, String>)>>,
@@ -291,8 +286,7 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
         "progress" => {
             let status = {
                 let mut s = shared.borrow_mut();
-                // The last step's progress would count the trials twice: the bar stays full.
-                if s.finished || s.finishing {
+                if s.finished {
                     return;
                 }
                 if let Some(u) = field(&data, "unit").as_string() {
@@ -323,9 +317,6 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
                 Ok(o) => o,
                 Err(e) => return finish(shared, Err(e)),
             };
-            if shared.borrow().finishing {
-                return finish(shared, Ok(output));
-            }
             let complete = {
                 let mut s = shared.borrow_mut();
                 let p = &mut s.parts[index];
@@ -347,33 +338,10 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
                     let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
                     (s.job.clone(), outputs)
                 };
-                match merge_for_finish(&job, outputs) {
-                    Ok(Merged::Done(o)) => finish(shared, Ok(o)),
-                    Ok(Merged::Finish(last)) => finish_on_worker(shared, *last),
-                    Err(e) => finish(shared, Err(e.to_string())),
-                }
+                finish(shared, merge(&job, outputs).map_err(|e| e.to_string()));
             }
         }
         _ => {}
-    }
-}
-
-/// Hands the last step of a split job (every part in) to a pooled worker, so the page's thread
-/// stays free; on the page at once when no worker can take it.
-fn finish_on_worker(shared: &Rc<RefCell<Shared>>, last: Job) {
-    let index = {
-        let mut s = shared.borrow_mut();
-        s.finishing = true;
-        s.parts.push(Part::default());
-        s.parts.len() - 1
-    };
-    let here = {
-        let (sh, job) = (shared.clone(), last.clone());
-        move || finish(&sh, Running::start(job).and_then(|r| r.finish()).map_err(|e| e.to_string()))
-    };
-    let sh = shared.clone();
-    if !acquire(move |w| send(&sh, index, last, w), here.clone()) {
-        here();
     }
 }
 
@@ -482,7 +450,6 @@ pub fn start(
         started_ms: crate::tick::now_ms(),
         finished: false,
         on_page: false,
-        finishing: false,
         note: None,
         on_progress: Rc::new(on_progress),
         on_done: Some(Box::new(on_done)),

@@ -166,19 +166,6 @@ pub enum Job {
         /// The debouncer's settings.
         settings: DebounceSettings,
     },
-    /// The statistics, histograms and yield of a Monte Carlo run whose trials are all done (the
-    /// parts of a split run merged in order; see [`merge_for_finish`]): the last step of a split
-    /// run, handed to a worker so the page's thread stays free. Its output is the whole run's,
-    /// exactly as [`merge`] gives it.
-    MonteCarloFinish {
-        /// The circuit.
-        circuit: Topology,
-        /// Bands, trials, seed, spec window.
-        settings: ToleranceSettings,
-        /// Every trial of the run, `0..trials` (its two value vectors travel apart, see
-        /// [`Job::take_arrays`]).
-        trials_run: MonteCarloPartial,
-    },
 }
 
 /// The points of a part of a noise sweep.
@@ -400,27 +387,6 @@ impl Running {
                     },
                     range.end - range.start,
                 )
-            }
-            Job::MonteCarloFinish {
-                circuit,
-                settings,
-                trials_run,
-            } => {
-                let run = MonteCarloRun::new(&circuit, &settings)?;
-                if trials_run.start != 0 || trials_run.end != run.trials() {
-                    return Err(invalid(format!(
-                        "the Monte Carlo run to finish covers trials {}..{}, not 0..{}: merge every part first",
-                        trials_run.start,
-                        trials_run.end,
-                        run.trials()
-                    )));
-                }
-                let range = PartRange { start: 0, end: run.trials() };
-                // The trials are done: the job starts complete, and finishing computes the statistics.
-                return Ok(Running {
-                    state: State::MonteCarlo { run: Box::new(run), range, whole: true, acc: trials_run },
-                    progress: Progress { done: range.end, total: range.end },
-                });
             }
             Job::Search {
                 circuit,
@@ -1066,38 +1032,6 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
     }
 }
 
-/// What is left once a split job's parts are in (see [`merge_for_finish`]).
-#[derive(Debug, Clone, PartialEq)]
-pub enum Merged {
-    /// The whole job's output.
-    Done(JobOutput),
-    /// One more job whose output is the whole job's: a split Monte Carlo run's trials merged, its
-    /// statistics still to compute ([`Job::MonteCarloFinish`]) — on a worker, off the page's thread.
-    Finish(Box<Job>),
-}
-
-/// As [`merge`], except that a split Monte Carlo run comes back as its [`Job::MonteCarloFinish`]:
-/// running that job gives exactly what [`merge`] gives (the same statistics of the same trials).
-pub fn merge_for_finish(job: &Job, outputs: Vec<JobOutput>) -> Result<Merged, DesignError> {
-    let Job::MonteCarlo { circuit, settings, trials: None } = job else {
-        return merge(job, outputs).map(Merged::Done);
-    };
-    let mut it = outputs.into_iter();
-    let mut acc = match it.next() {
-        Some(JobOutput::MonteCarloPart(p)) => p,
-        Some(whole @ JobOutput::MonteCarlo(_)) => return Ok(Merged::Done(whole)),
-        Some(_) => return Err(invalid("a Monte Carlo job got another job's output")),
-        None => return Err(invalid("no part outputs to merge: run the parts first")),
-    };
-    for o in it {
-        match o {
-            JobOutput::MonteCarloPart(p) => acc.merge(p)?,
-            _ => return Err(invalid("a Monte Carlo job got another job's output")),
-        }
-    }
-    Ok(Merged::Finish(Box::new(Job::MonteCarloFinish { circuit: circuit.clone(), settings: settings.clone(), trials_run: acc })))
-}
-
 /// Puts the outputs of the parts of `job` (made by [`split`], in the same order) back together into
 /// the output the whole job gives.
 pub fn merge(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
@@ -1225,9 +1159,6 @@ impl Job {
             Job::Signal {
                 capture: Some(c), ..
             } => vec![std::mem::take(&mut c.time_s), std::mem::take(&mut c.volts)],
-            Job::MonteCarloFinish { trials_run, .. } => {
-                vec![std::mem::take(&mut trials_run.vt_upper_v), std::mem::take(&mut trials_run.vt_lower_v)]
-            }
             _ => Vec::new(),
         }
     }
@@ -1235,18 +1166,12 @@ impl Job {
     /// Puts back what [`Job::take_arrays`] took.
     pub fn put_arrays(&mut self, arrays: Vec<Vec<f64>>) -> Result<(), DesignError> {
         let mut it = arrays.into_iter();
-        match self {
-            Job::Signal {
-                capture: Some(c), ..
-            } => {
-                c.time_s = next_array(&mut it)?;
-                c.volts = next_array(&mut it)?;
-            }
-            Job::MonteCarloFinish { trials_run, .. } => {
-                trials_run.vt_upper_v = next_array(&mut it)?;
-                trials_run.vt_lower_v = next_array(&mut it)?;
-            }
-            _ => {}
+        if let Job::Signal {
+            capture: Some(c), ..
+        } = self
+        {
+            c.time_s = next_array(&mut it)?;
+            c.volts = next_array(&mut it)?;
         }
         Ok(())
     }

@@ -4,7 +4,7 @@
 //! 7 parts and for uneven slice budgets, against the one-shot library functions; the parts travel
 //! through JSON with their arrays taken out, as they do between a worker and the page.
 
-use hysteron_core::jobs::{merge, merge_for_finish, split, Job, JobOutput, Merged, Running, DEFAULT_DISPLAY_POINTS};
+use hysteron_core::jobs::{merge, split, Job, JobOutput, Running, DEFAULT_DISPLAY_POINTS};
 use hysteron_core::record::DesignRecord;
 use hysteron_core::signal::generate::{Component, SignalDefinition};
 use hysteron_core::signal::noise::NoiseSource;
@@ -41,19 +41,6 @@ fn run_as_worker(job: Job, budget: u64) -> JobOutput {
     back
 }
 
-/// A job that starts complete (the statistics of merged trials) as a worker runs it: through JSON
-/// with its arrays apart, then finished.
-fn finish_as_worker(job: Job) -> JobOutput {
-    let mut job = job;
-    let arrays = job.take_arrays();
-    assert_eq!(arrays.len(), 2, "the trial values travel apart");
-    let mut back: Job = serde_json::from_str(&serde_json::to_string(&job).unwrap()).unwrap();
-    back.put_arrays(arrays).unwrap();
-    let running = Running::start(back).unwrap();
-    assert!(running.progress().is_done(), "the trials are done before the statistics");
-    running.finish().unwrap()
-}
-
 fn run_split(job: &Job, parts: usize, budget: u64) -> JobOutput {
     let outputs = split(job, parts).unwrap().into_iter().map(|j| run_as_worker(j, budget)).collect();
     merge(job, outputs).unwrap()
@@ -73,16 +60,6 @@ fn monte_carlo_in_n_parts_equals_one_run() {
             let JobOutput::MonteCarlo(m) = run_split(&job, parts, budget) else { panic!("{name}: not a Monte Carlo result") };
             // Whole-struct equality: yield, histograms, order statistics, means — bit for bit.
             assert_eq!(m, single, "{name}: {parts} parts, slices of {budget}");
-            // The page's way: the parts merged, the statistics finished by a worker.
-            let outputs = split(&job, parts).unwrap().into_iter().map(|j| run_as_worker(j, budget)).collect();
-            let finished = match merge_for_finish(&job, outputs).unwrap() {
-                Merged::Done(o) => {
-                    assert_eq!(parts, 1, "{name}: {parts} parts came back merged, not for a worker to finish");
-                    o
-                }
-                Merged::Finish(last) => finish_as_worker(*last),
-            };
-            assert_eq!(finished, JobOutput::MonteCarlo(single.clone()), "{name}: {parts} parts finished on a worker");
         }
         let parts = split(&job, 4).unwrap();
         assert_eq!(parts.len(), 4, "{name}");
@@ -107,15 +84,7 @@ fn monte_carlo_parts_cover_the_run_once_and_in_order() {
     // Parts merged out of order are refused.
     let mut outs: Vec<JobOutput> = parts.into_iter().map(|j| run_as_worker(j, 3)).collect();
     outs.swap(1, 2);
-    assert!(merge(&job, outs.clone()).is_err());
-    assert!(merge_for_finish(&job, outs).is_err());
-    // A finish job must cover the whole run.
-    let part = run_as_worker(Job::MonteCarlo { circuit: r.circuit.clone(), settings: r.tolerance.clone().map(|mut t| { t.monte_carlo.trials = 10; t }).unwrap_or_default(), trials: Some(hysteron_core::jobs::PartRange { start: 0, end: 5 }) }, 3);
-    let JobOutput::MonteCarloPart(half) = part else { panic!("not a part") };
-    let mut settings = r.tolerance.clone().unwrap_or_default();
-    settings.monte_carlo.trials = 10;
-    let err = Running::start(Job::MonteCarloFinish { circuit: r.circuit.clone(), settings, trials_run: half }).err().expect("half a run is refused");
-    assert!(err.to_string().contains("merge every part first"), "{err}");
+    assert!(merge(&job, outs).is_err());
 }
 
 fn signal_settings(samples_per_s: f64) -> SignalSettings {
