@@ -7,12 +7,39 @@
 //! a 1,000,000-sample signal pass, a 10,000,000-sample signal test watched by a long-task observer
 //! (PerformanceObserver "longtask": main-thread tasks over 50 ms; count, longest and wall time),
 //! the noise sweep of the 1 M-sample signal, and the page mounted again after a reload.
+//!
+//! The host's speed drifts (a virtual machine's neighbours: the same native Monte Carlo benchmark
+//! measured 8.8 ms and 11.6 ms an hour apart), so the run also times the same Monte Carlo natively
+//! in this test build (one thread; the math crate at opt-level 3 but with the test profile's debug
+//! assertions and overflow checks, so slower than a release build), on the record the page stored,
+//! and prints the browser's wall time as a ratio of it: a yardstick for comparing runs made at
+//! different times, not the WebAssembly-to-native ratio.
 
 use hysteron_tests::browser;
 
 fn percentile(sorted: &[f64], p: f64) -> f64 {
     let i = ((sorted.len() as f64 - 1.0) * p).round() as usize;
     sorted[i.min(sorted.len() - 1)]
+}
+
+/// The same Monte Carlo run natively, on one thread, on the record the page stored (best of three),
+/// in milliseconds; checks that it gives the yield the page shows.
+async fn native_monte_carlo_ms(s: &browser::Session) -> f64 {
+    let v = s
+        .js(r#"const open = document.querySelector('#design-list li.open').dataset.id;
+               return JSON.parse(localStorage.getItem('hysteron/design/' + open)).record;"#)
+        .await;
+    let record = hysteron_core::record::DesignRecord::from_value(v).expect("stored record reads back");
+    let settings = record.tolerance.clone().unwrap_or_default();
+    assert_eq!(settings.monte_carlo.trials, 100_000);
+    let mut best = f64::INFINITY;
+    for _ in 0..3 {
+        let t0 = std::time::Instant::now();
+        let r = hysteron_core::tolerance::monte_carlo::monte_carlo(&record.circuit, &settings).expect("native run");
+        best = best.min(t0.elapsed().as_secs_f64() * 1e3);
+        assert_eq!(r.trials, 100_000);
+    }
+    best
 }
 
 #[tokio::test(flavor = "multi_thread")]
@@ -64,6 +91,7 @@ async fn timed_runs_in_the_browser() {
     let summary = s.text("#mc-summary").await;
     assert!(summary.starts_with("100000 trials"), "{summary}");
     let mc_ms: f64 = summary.split(" in ").nth(1).and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
+    let native_mc_ms = native_monte_carlo_ms(&s).await;
 
     // E96 over 1 kΩ–1 MΩ for the three-resistor inverting form (the default range).
     s.wait_for("#search-series").await.select_by_value("E96").await.unwrap();
@@ -123,9 +151,10 @@ async fn timed_runs_in_the_browser() {
     println!(
         "browser timing ({workers} hardware threads): mounted {mounted_ms:.0} ms after navigation, {again_ms:.0} ms after a reload; \
          input→results p50 {p50:.2} ms, p95 {p95:.2} ms (60 edits); \
-         Monte Carlo 100k {mc_ms:.0} ms wall; E96 search {search_ms:.1} ms; 1M-sample signal {signal_ms:.0} ms; \
+         Monte Carlo 100k {mc_ms:.0} ms wall ({:.2}× the test build's native run, {native_mc_ms:.1} ms); E96 search {search_ms:.1} ms; 1M-sample signal {signal_ms:.0} ms; \
          noise sweep of the 1M-sample signal {sweep_ms:.0} ms; \
          10M-sample signal test {ten_m_ms:.0} ms (click to result shown {wall_ms:.0} ms), main-thread tasks over 50 ms: {} (longest {longest:.0} ms) {long:?}",
+        mc_ms / native_mc_ms,
         long.len()
     );
     s.close().await;
