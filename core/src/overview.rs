@@ -212,12 +212,33 @@ pub fn reading_windows(w: Option<&Windows>) -> ReadingWindows {
 /// of the trigger behind the network ([`terminal_windows`]), computed when `windows` are given
 /// (the tolerance study ran); the pin's `windows` serve the optional pin check.
 pub fn bench(record: &DesignRecord, analysis: &Analysis, windows: Option<&Windows>) -> BenchProcedure {
-    let pin = reading_windows(windows);
-    let Some(net) = record.input_network.as_ref().filter(|n| n.has_parts()) else {
-        return bench_procedure_from(&record.circuit, analysis, &record.checks, &pin);
-    };
+    bench_with(record, analysis, windows, field_terminal(record, analysis, windows))
+}
+
+/// The trigger behind a record's input network (when it has parts), with its windows at the field
+/// terminal (computed only when the pin's `windows` were: the bench quotes both or neither).
+fn field_terminal(
+    record: &DesignRecord,
+    analysis: &Analysis,
+    windows: Option<&Windows>,
+) -> Option<(crate::input_network::terminal::AtFieldTerminal, Option<Windows>)> {
+    let net = record.input_network.as_ref().filter(|n| n.has_parts())?;
     let terminal = crate::input_network::terminal::AtFieldTerminal::new(crate::input_network::from_record::loaded_circuit(record), net.clone());
     let field = windows.and_then(|_| terminal_windows(record, analysis, &terminal).ok());
+    Some((terminal, field))
+}
+
+/// [`bench`] with the field terminal already worked out ([`field_terminal`]).
+fn bench_with(
+    record: &DesignRecord,
+    analysis: &Analysis,
+    windows: Option<&Windows>,
+    terminal: Option<(crate::input_network::terminal::AtFieldTerminal, Option<Windows>)>,
+) -> BenchProcedure {
+    let pin = reading_windows(windows);
+    let Some((terminal, field)) = terminal else {
+        return bench_procedure_from(&record.circuit, analysis, &record.checks, &pin);
+    };
     match crate::bench::bench_procedure_through(&record.circuit, analysis, &record.checks, &pin, &terminal, &reading_windows(field.as_ref())) {
         Ok(p) => p,
         Err(e) => {
@@ -377,14 +398,6 @@ pub struct TerminalFigures {
     pub windows: Option<Windows>,
 }
 
-/// The field-terminal figures of a record with an input network (`None` without one, or when
-/// the network cannot be analysed — its study then says why).
-pub fn terminal_figures(record: &DesignRecord, analysis: &Analysis) -> Option<TerminalFigures> {
-    let net = record.input_network.as_ref().filter(|n| n.has_parts())?;
-    let report = crate::input_network::from_record::record_network(record)?.ok()?;
-    let terminal = crate::input_network::terminal::AtFieldTerminal::new(crate::input_network::from_record::loaded_circuit(record), net.clone());
-    Some(TerminalFigures { thresholds: report.field, windows: terminal_windows(record, analysis, &terminal).ok() })
-}
 
 /// The output-dynamics and power-up studies of a record, each `None` when the record has no
 /// settings for it.
@@ -464,7 +477,10 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     let analysis = analyse(&record.circuit, &record.checks)?;
     crate::finite::check("analysis", &analysis)?;
     let windows = windows(record, &analysis, None).ok();
-    let bench = bench(record, &analysis, windows.as_ref());
+    // The field terminal's windows are worked out once, for the bench steps and the figures table.
+    let terminal = field_terminal(record, &analysis, windows.as_ref());
+    let field_windows = terminal.as_ref().and_then(|(_, w)| w.clone());
+    let bench = bench_with(record, &analysis, windows.as_ref(), terminal);
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
     let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
@@ -473,7 +489,14 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
         Err(e) => format!("Input network: {e}"),
     });
     let dynamics = dynamics_lines(record);
-    let field_terminal = terminal_figures(record, &analysis);
+    // The nominal figures there are the network study's (`None` when it cannot be analysed: its
+    // line on the sheet says why).
+    let field_terminal = record
+        .input_network
+        .as_ref()
+        .filter(|n| n.has_parts())
+        .and_then(|_| crate::input_network::from_record::record_network(record)?.ok())
+        .map(|n| TerminalFigures { thresholds: n.field, windows: field_windows });
     Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network, dynamics, field_terminal })
 }
 

@@ -9,6 +9,7 @@ use super::share::{schematic_url, Incoming, StyleChoice};
 use super::state::Notebook;
 use crate::plot;
 use hysteron_core::overview::{curve, sheet, sheet_studies, Sheet, SheetStudies};
+use hysteron_core::tolerance::bench_window::Windows;
 use leptos::html::Canvas;
 use leptos::prelude::*;
 
@@ -64,20 +65,26 @@ pub fn DesignSheet() -> impl IntoView {
             {move || core_figures.get().map(|res| match res {
                 Err(e) => view! { <p class="error">{e}</p> }.into_any(),
                 Ok(Sheet { analysis: a, windows, bench, parts, cautions, temperature, input_network, dynamics, field_terminal }) => {
-                let wc = windows.as_ref().map(|w| w.field.clone());
                 let bw = windows.as_ref().and_then(|w| w.bench.first().cloned());
                 let range = |lo: f64, hi: f64| format!("{} … {}", v(lo), v(hi));
+                // Three rows (VT+, VT−, hysteresis): nominal, field window, bench window at the
+                // nominal supply; element ids start with `id`.
+                let rows = move |id: &'static str, up: f64, lo: f64, hyst: f64, w: Option<&Windows>| {
+                    let field = w.map(|w| w.field.clone());
+                    let bench = w.and_then(|w| w.bench.first().cloned());
+                    view! {
+                        <tr><td>"VT+"</td><td id=format!("{id}-vt-upper")>{v(up)}</td><td id=format!("{id}-field-vt-upper")>{field.as_ref().map(|w| range(w.vt_upper.min.value_v, w.vt_upper.max.value_v))}</td><td id=format!("{id}-bench-vt-upper")>{bench.as_ref().map(|b| range(b.vt_upper_v().0, b.vt_upper_v().1))}</td></tr>
+                        <tr><td>"VT−"</td><td id=format!("{id}-vt-lower")>{v(lo)}</td><td>{field.as_ref().map(|w| range(w.vt_lower.min.value_v, w.vt_lower.max.value_v))}</td><td>{bench.as_ref().map(|b| range(b.vt_lower_v().0, b.vt_lower_v().1))}</td></tr>
+                        <tr><td>"hysteresis"</td><td>{v(hyst)}</td><td>{field.as_ref().map(|w| range(w.hysteresis.min.value_v, w.hysteresis.max.value_v))}</td><td>{bench.as_ref().map(|b| range(b.worst_case.hysteresis.min.value_v, b.worst_case.hysteresis.max.value_v))}</td></tr>
+                    }
+                };
                 // With an input network the bench drives the field terminal: its figures lead, the
                 // pin's follow under their own heading.
                 let terminal_rows = field_terminal.map(|t| {
-                    let fw = t.windows.as_ref().map(|w| w.field.clone());
-                    let tb = t.windows.as_ref().and_then(|w| w.bench.first().cloned());
                     let (up, lo) = (t.thresholds.vt_upper_v, t.thresholds.vt_lower_v);
                     view! {
                         <tr class="sheet-group"><th colspan="4">"At the field terminal (the bench drives it)"</th></tr>
-                        <tr><td>"VT+"</td><td id="sheet-terminal-vt-upper">{v(up)}</td><td>{fw.as_ref().map(|w| range(w.vt_upper.min.value_v, w.vt_upper.max.value_v))}</td><td>{tb.as_ref().map(|b| range(b.vt_upper_v().0, b.vt_upper_v().1))}</td></tr>
-                        <tr><td>"VT−"</td><td id="sheet-terminal-vt-lower">{v(lo)}</td><td>{fw.as_ref().map(|w| range(w.vt_lower.min.value_v, w.vt_lower.max.value_v))}</td><td>{tb.as_ref().map(|b| range(b.vt_lower_v().0, b.vt_lower_v().1))}</td></tr>
-                        <tr><td>"hysteresis"</td><td>{v(up - lo)}</td><td>{fw.as_ref().map(|w| range(w.hysteresis.min.value_v, w.hysteresis.max.value_v))}</td><td>{tb.as_ref().map(|b| range(b.worst_case.hysteresis.min.value_v, b.worst_case.hysteresis.max.value_v))}</td></tr>
+                        {rows("sheet-terminal", up, lo, up - lo, t.windows.as_ref())}
                         <tr class="sheet-group"><th colspan="4">"At the trigger's input pin"</th></tr>
                     }
                 });
@@ -101,9 +108,7 @@ pub fn DesignSheet() -> impl IntoView {
                                 <thead><tr><th></th><th>"nominal"</th><th>"field window"</th><th>{bw.as_ref().map(|b| format!("bench window ({:.0} °C, {})", b.temperature_c, v(b.supply_v))).unwrap_or_else(|| "bench window".into())}</th></tr></thead>
                                 <tbody>
                                     {terminal_rows}
-                                    <tr><td>"VT+"</td><td id="sheet-vt-upper">{v(a.vt_upper_v)}</td><td id="sheet-field-vt-upper">{wc.as_ref().map(|w| range(w.vt_upper.min.value_v, w.vt_upper.max.value_v))}</td><td id="sheet-bench-vt-upper">{bw.as_ref().map(|b| range(b.vt_upper_v().0, b.vt_upper_v().1))}</td></tr>
-                                    <tr><td>"VT−"</td><td>{v(a.vt_lower_v)}</td><td>{wc.as_ref().map(|w| range(w.vt_lower.min.value_v, w.vt_lower.max.value_v))}</td><td>{bw.as_ref().map(|b| range(b.vt_lower_v().0, b.vt_lower_v().1))}</td></tr>
-                                    <tr><td>"hysteresis"</td><td>{v(a.hysteresis_v)}</td><td>{wc.as_ref().map(|w| range(w.hysteresis.min.value_v, w.hysteresis.max.value_v))}</td><td>{bw.as_ref().map(|b| range(b.worst_case.hysteresis.min.value_v, b.worst_case.hysteresis.max.value_v))}</td></tr>
+                                    {rows("sheet", a.vt_upper_v, a.vt_lower_v, a.hysteresis_v, windows.as_ref())}
                                 </tbody>
                             </table>
                             <p class="sheet-windows">"Field window: every tolerance over its full range (supply, temperature, device spread, parts). Bench window: part tolerances and device spread only, at room temperature and the supply the bench step sets — accept readings by this one."</p>
