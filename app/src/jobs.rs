@@ -306,42 +306,53 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
         }
         "result" => {
             let text = field(&data, "output").as_string().unwrap_or_default();
-            let arrays: Vec<Vec<f64>> = js_sys::Array::from(&field(&data, "arrays"))
-                .iter()
-                .map(|a| js_sys::Float64Array::from(a).to_vec())
-                .collect();
-            let output = serde_json::from_str::<JobOutput>(&text)
-                .map_err(|e| format!("the worker's result could not be read: {e}"))
-                .and_then(|mut o| o.put_arrays(arrays).map(|_| o).map_err(|e| e.to_string()));
-            let output = match output {
-                Ok(o) => o,
-                Err(e) => return finish(shared, Err(e)),
-            };
-            let complete = {
-                let mut s = shared.borrow_mut();
-                let p = &mut s.parts[index];
-                p.output = Some(output);
-                if let Some(t) = p.total {
-                    p.done = t;
-                }
-                if let Some(w) = p.worker.take() {
-                    w.set_onmessage(None);
-                    w.set_onerror(None);
-                    POOL.with(|pool| pool.borrow_mut().push(w));
-                }
-                p._on_message = None;
-                s.parts.iter().all(|p| p.output.is_some())
-            };
-            if complete {
-                let (job, outputs) = {
-                    let mut s = shared.borrow_mut();
-                    let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
-                    (s.job.clone(), outputs)
-                };
-                finish(shared, merge(&job, outputs).map_err(|e| e.to_string()));
-            }
+            let arrays = js_sys::Array::from(&field(&data, "arrays")).iter().map(js_sys::Float64Array::from).collect();
+            // A large result (a 10 M-sample signal study) is copied over several tasks.
+            let shared = shared.clone();
+            crate::transfer::copy_in_slices(arrays, move |arrays| take_result(&shared, index, &text, arrays));
         }
         _ => {}
+    }
+}
+
+/// A part's result, its arrays copied in: kept, its worker returned to the pool, and the job
+/// finished once every part has answered (nothing when the job was cancelled meanwhile).
+fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, text: &str, arrays: Vec<Vec<f64>>) {
+    {
+        let s = shared.borrow();
+        if s.finished || s.on_page || index >= s.parts.len() {
+            return;
+        }
+    }
+    let output = serde_json::from_str::<JobOutput>(text)
+        .map_err(|e| format!("the worker's result could not be read: {e}"))
+        .and_then(|mut o| o.put_arrays(arrays).map(|_| o).map_err(|e| e.to_string()));
+    let output = match output {
+        Ok(o) => o,
+        Err(e) => return finish(shared, Err(e)),
+    };
+    let complete = {
+        let mut s = shared.borrow_mut();
+        let p = &mut s.parts[index];
+        p.output = Some(output);
+        if let Some(t) = p.total {
+            p.done = t;
+        }
+        if let Some(w) = p.worker.take() {
+            w.set_onmessage(None);
+            w.set_onerror(None);
+            POOL.with(|pool| pool.borrow_mut().push(w));
+        }
+        p._on_message = None;
+        s.parts.iter().all(|p| p.output.is_some())
+    };
+    if complete {
+        let (job, outputs) = {
+            let mut s = shared.borrow_mut();
+            let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
+            (s.job.clone(), outputs)
+        };
+        finish(shared, merge(&job, outputs).map_err(|e| e.to_string()));
     }
 }
 

@@ -10,6 +10,7 @@ pub mod jobs;
 pub mod plot;
 pub mod storage;
 pub mod tick;
+pub mod transfer;
 pub mod view;
 
 
