@@ -63,3 +63,48 @@ impl Copying {
         true
     }
 }
+
+/// UTF-16 code units of a string converted per task (4 MiB of text at most).
+pub const TEXT_SLICE_UNITS: u32 = 1 << 21;
+
+/// Converts the browser's string `text` into a Rust `String`, [`TEXT_SLICE_UNITS`] code units per
+/// task, then calls `done` with it. A slice never ends between the two halves of a surrogate pair,
+/// so characters outside the Basic Multilingual Plane arrive whole.
+pub fn text_in_slices(text: &js_sys::JsString, done: impl FnOnce(String) + 'static) {
+    let mut state = TextCopy { text: text.clone(), at: 0, out: String::with_capacity(text.length() as usize) };
+    if state.step() {
+        done(state.out);
+    } else {
+        crate::tick::later(move || text_later(state, Box::new(done)));
+    }
+}
+
+fn text_later(mut state: TextCopy, done: Box<dyn FnOnce(String)>) {
+    if state.step() {
+        done(state.out);
+    } else {
+        crate::tick::later(move || text_later(state, done));
+    }
+}
+
+struct TextCopy {
+    text: js_sys::JsString,
+    at: u32,
+    out: String,
+}
+
+impl TextCopy {
+    /// Converts the next slice; whether the whole text is now converted.
+    fn step(&mut self) -> bool {
+        let len = self.text.length();
+        let mut end = self.at.saturating_add(TEXT_SLICE_UNITS).min(len);
+        if end < len && (f64::from(0xD800u16)..f64::from(0xDC00u16)).contains(&self.text.char_code_at(end - 1)) {
+            end -= 1; // keep a high surrogate with its low half
+        }
+        if let Some(part) = self.text.slice(self.at, end).as_string() {
+            self.out.push_str(&part);
+        }
+        self.at = end;
+        self.at >= len
+    }
+}

@@ -139,3 +139,68 @@ fn fields_refuse_values_outside_their_physical_range() {
     // A unit without a range of its own (a dimensionless gain) is not range-checked here.
     assert_eq!(parse_in_range("1e9", ""), Ok(1e9));
 }
+
+/// Waits for a callback-style operation: `start` gets the function to call with the result.
+async fn finished<T: 'static>(start: impl FnOnce(Box<dyn FnOnce(T)>)) -> T {
+    use std::cell::RefCell;
+    use std::rc::Rc;
+    let slot: Rc<RefCell<Option<T>>> = Rc::new(RefCell::new(None));
+    let mut resolve_fn = None;
+    let promise = js_sys::Promise::new(&mut |resolve, _reject| resolve_fn = Some(resolve));
+    let resolve = resolve_fn.expect("a Promise's executor runs at once");
+    let s = slot.clone();
+    start(Box::new(move |v| {
+        *s.borrow_mut() = Some(v);
+        let _ = resolve.call0(&wasm_bindgen::JsValue::NULL);
+    }));
+    let _ = wasm_bindgen_futures::JsFuture::from(promise).await;
+    let v = slot.borrow_mut().take();
+    v.expect("the callback ran")
+}
+
+#[wasm_bindgen_test]
+async fn large_arrays_arrive_whole_over_several_tasks() {
+    use hysteron_app::transfer::{copy_in_slices, SLICE_ELEMENTS};
+    // Two arrays that together need three slices, and an empty one between them.
+    let a: Vec<f64> = (0..SLICE_ELEMENTS + 17).map(|i| i as f64 * 0.5).collect();
+    let b: Vec<f64> = (0..SLICE_ELEMENTS + 3).map(|i| -(i as f64)).collect();
+    let js = |v: &[f64]| js_sys::Float64Array::from(v);
+    let arrays = vec![js(&a), js(&[]), js(&b)];
+    let tasks_before = std::rc::Rc::new(std::cell::Cell::new(true));
+    let t = tasks_before.clone();
+    let got = finished(move |done| {
+        copy_in_slices(arrays, move |v| done(v));
+        t.set(false); // still in the calling task
+    })
+    .await;
+    assert!(!tasks_before.get());
+    assert_eq!(got.len(), 3);
+    assert_eq!(got[0], a);
+    assert!(got[1].is_empty());
+    assert_eq!(got[2], b);
+}
+
+#[wasm_bindgen_test]
+fn small_arrays_arrive_in_the_same_task() {
+    let arrays = vec![js_sys::Float64Array::from(&[1.0, 2.0][..])];
+    let got = std::rc::Rc::new(std::cell::RefCell::new(None));
+    let g = got.clone();
+    hysteron_app::transfer::copy_in_slices(arrays, move |v| *g.borrow_mut() = Some(v));
+    // No await: a result within one slice is handed over at once.
+    assert_eq!(*got.borrow(), Some(vec![vec![1.0, 2.0]]));
+}
+
+#[wasm_bindgen_test]
+async fn text_in_slices_keeps_surrogate_pairs_whole() {
+    use hysteron_app::transfer::{text_in_slices, TEXT_SLICE_UNITS};
+    // A character outside the Basic Multilingual Plane (two UTF-16 units) straddles the first
+    // slice boundary; the text must come back unchanged, not with two replacement characters.
+    let mut text = "a".repeat(TEXT_SLICE_UNITS as usize - 1);
+    text.push('\u{1F50B}');
+    text.push_str("tail;1.5\n");
+    text.push_str(&"b".repeat(TEXT_SLICE_UNITS as usize + 5));
+    let js = js_sys::JsString::from(text.as_str());
+    let got = finished(move |done| text_in_slices(&js, move |s| done(s))).await;
+    assert_eq!(got.len(), text.len());
+    assert!(got == text, "the text changed on the way");
+}

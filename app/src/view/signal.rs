@@ -290,7 +290,8 @@ pub fn SignalSection() -> impl IntoView {
         import_progress.set(Some(0.0));
         let r2 = reader.clone();
         let onload = wasm_bindgen::closure::Closure::once_into_js(move || {
-            let text = r2.result().ok().and_then(|v| v.as_string()).unwrap_or_default();
+            // The text stays the browser's string: it goes to the worker without entering the page's memory.
+            let text = r2.result().ok().and_then(|v| v.dyn_into::<js_sys::JsString>().ok()).unwrap_or_else(|| js_sys::JsString::from(""));
             import_generation.update(|g| *g += 1);
             let ticket = (import_generation, import_generation.get_untracked());
             parse_slices(text, name, capture, import_status, import_progress, nb, ticket);
@@ -503,7 +504,7 @@ fn cancel_import() {
 /// Reads imported text on a compute worker (`crate::jobs`, `Job::CsvImport`; on the page in slices
 /// where workers are refused), reporting progress.
 fn parse_slices(
-    text: String,
+    text: js_sys::JsString,
     name: String,
     capture: RwSignal<Option<std::sync::Arc<Capture>>>,
     status: RwSignal<Option<Result<String, String>>>,
@@ -513,8 +514,9 @@ fn parse_slices(
 ) {
     cancel_import();
     let current = move || ticket.0.get_untracked() == ticket.1;
-    let handle = crate::jobs::start(
-        Job::CsvImport { text, options: CsvOptions::default() },
+    let handle = crate::jobs::start_import(
+        text,
+        CsvOptions::default(),
         move |st| {
             if current() {
                 progress.set(Some(st.fraction()));
