@@ -21,6 +21,27 @@ pub fn later(f: impl FnOnce() + 'static) {
     }
 }
 
+/// Runs `f` once the page has painted: after the next animation frame, on a task of its own (or
+/// after `fallback_ms`, where frames do not run, as in a hidden tab — whichever comes first runs
+/// `f`, once). Reading layout there (a scroll position, a size) costs no forced layout.
+pub fn after_paint(fallback_ms: i32, f: impl FnOnce() + 'static) {
+    let once = std::rc::Rc::new(std::cell::Cell::new(Some(Box::new(f) as Box<dyn FnOnce()>)));
+    let run = {
+        let once = once.clone();
+        move || {
+            if let Some(f) = once.take() {
+                f()
+            }
+        }
+    };
+    let run2 = run.clone();
+    let frame = wasm_bindgen::closure::Closure::once_into_js(move || later(run));
+    if let Some(w) = web_sys::window() {
+        let _ = w.request_animation_frame(frame.unchecked_ref());
+    }
+    after_ms(fallback_ms, run2);
+}
+
 /// Milliseconds from the page's time origin (performance.now()).
 pub fn now_ms() -> f64 {
     web_sys::window().and_then(|w| w.performance()).map(|p| p.now()).unwrap_or(0.0)

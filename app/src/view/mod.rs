@@ -26,8 +26,22 @@ use state::Notebook;
 /// How long edits must pause before the slower sections recompute, milliseconds.
 const SETTLE_MS: i32 = 120;
 
+/// Builds what it holds on a later turn of the event loop, after the rest of the design has shown
+/// (each `Later` on a turn of its own). Building every study and section with the design made
+/// opening one a single task of 55–110 ms on the test machine (long-task observer, four demos).
+#[component]
+fn Later(children: Children) -> impl IntoView {
+    let shown = RwSignal::new(false);
+    let kids = StoredValue::new_local(Some(children));
+    crate::tick::later(move || {
+        shown.try_set(true);
+    });
+    move || shown.get().then(|| kids.try_update_value(|k| k.take()).flatten().map(|c| c()))
+}
+
 /// A long study folded under one line: closed until the user opens it, so the design's inputs
-/// stay short; what it holds is rendered (and kept) whether open or not.
+/// stay short; what it holds is rendered (and kept) whether open or not, built just after the
+/// rest of the design ([`Later`]).
 #[component]
 fn Study(
     /// Element id of the fold.
@@ -41,7 +55,7 @@ fn Study(
     view! {
         <details class="study" id=id>
             <summary><span class="study-title">{title}</span><span class="study-hint">{hint}</span></summary>
-            {children()}
+            <Later>{children()}</Later>
         </details>
     }
 }
@@ -139,8 +153,8 @@ pub fn App() -> impl IntoView {
                                 <Study id="fold-application" title="Oscillator and debouncer" hint="RC timing on the thresholds">
                                     <application::ApplicationSection />
                                 </Study>
-                                <partlist::PartListSection />
-                                <share::ShareSection />
+                                <Later><partlist::PartListSection /></Later>
+                                <Later><share::ShareSection /></Later>
                             </div>
                         </div>
                     }.into_any()

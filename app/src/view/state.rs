@@ -233,11 +233,7 @@ impl Notebook {
             return;
         }
         let nb = *self;
-        let after_paint = wasm_bindgen::closure::Closure::once_into_js(move || crate::tick::later(move || nb.save_pending()));
-        if let Some(w) = web_sys::window() {
-            let _ = w.request_animation_frame(wasm_bindgen::JsCast::unchecked_ref(&after_paint));
-        }
-        crate::tick::after_ms(SAVE_WITHIN_MS, move || nb.save_pending());
+        crate::tick::after_paint(SAVE_WITHIN_MS, move || nb.save_pending());
     }
 
     /// Writes every edit not yet saved (nothing when there is none).
@@ -257,10 +253,12 @@ impl Notebook {
             let y = web_sys::window().and_then(|w| w.scroll_y().ok()).unwrap_or(0.0);
             storage::remember_view(&storage::View { open: current.get_untracked(), scroll_y: y });
         };
+        // Read the scroll position once the newly opened design has painted: read at once, it
+        // forced a layout of the whole new design (9 ms of a 68 ms task in a CPU profile).
         Effect::new(move |_| {
             current.track();
             if restored.get_value() {
-                remember();
+                crate::tick::after_paint(SAVE_WITHIN_MS, remember);
             }
         });
         if let Some(h) = web_sys::window().and_then(|w| w.history().ok()) {
