@@ -6,7 +6,9 @@
 //! analysis plus transfer-curve redraw), Monte Carlo 100,000 trials, the E96 three-decade search,
 //! a 1,000,000-sample signal pass, a 10,000,000-sample signal test watched by a long-task observer
 //! (PerformanceObserver "longtask": main-thread tasks over 50 ms; count, longest and wall time),
-//! the noise sweep of the 1 M-sample signal, and the page mounted again after a reload.
+//! the noise sweep of the 1 M-sample signal, a 1,000,000-row CSV import and the opening of every
+//! demo (both watched by the same observer; for the opening, also the click's own task), and the
+//! page mounted again after a reload.
 //!
 //! The host's speed drifts (a virtual machine's neighbours: the same native Monte Carlo benchmark
 //! measured 8.8 ms and 11.6 ms an hour apart), so the run also times the same Monte Carlo natively
@@ -141,6 +143,60 @@ async fn timed_runs_in_the_browser() {
         v.as_f64().ok_or(v.to_string())
     })
     .await;
+
+    // A 1,000,000-row CSV capture (about 40 MB) imported, watched by the long-task observer.
+    let dir = std::env::temp_dir().join(format!("hysteron-timing-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp folder");
+    let csv = dir.join("capture-1m.csv");
+    let mut text = String::from("time_s;volts\n");
+    for i in 0..1_000_000u32 {
+        let t = f64::from(i) * 1e-6;
+        text.push_str(&format!("{t:.6};{:.5}\n", 2.3 + 1.5 * (2.0 * std::f64::consts::PI * 5.0 * t).sin()));
+    }
+    std::fs::write(&csv, text).expect("write the capture");
+    s.js("window.__long = []; window.__t0 = performance.now(); return 0;").await;
+    s.wait_for("#csv-file").await.send_keys(csv.to_str().unwrap_or_default()).await.expect("choose the capture");
+    let import_ms = browser::wait_until("the 1 M-row import to finish", std::time::Duration::from_secs(120), || async {
+        let v = s.js("const e = document.querySelector('#csv-status'); return e && e.textContent.includes('1000000 samples') ? performance.now() - window.__t0 : null;").await;
+        v.as_f64().ok_or(v.to_string())
+    })
+    .await;
+    s.js("return new Promise(r => requestAnimationFrame(() => setTimeout(() => r(0), 200)));").await;
+    let import_long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
+    let _ = std::fs::remove_dir_all(&dir);
+
+    // Opening each demo: the length of the task that the click runs (to the next task), and the
+    // long tasks until the design has settled.
+    let mut opens = Vec::new();
+    s.js("window.__long = []; return 0;").await;
+    for demo in hysteron_core::catalog::demos() {
+        s.wait_for("#starter-choice").await.select_by_value(&format!("demo:{}", demo.key)).await.expect("choose a demo");
+        let ms = s
+            .client
+            .execute_async(
+                r#"const done = arguments[arguments.length - 1];
+                   const c = new MessageChannel(); let t0 = 0;
+                   c.port1.onmessage = () => done(performance.now() - t0);
+                   c.port2.postMessage(0);
+                   t0 = performance.now();
+                   document.querySelector('#add-starter').click();"#,
+                vec![],
+            )
+            .await
+            .expect("open a demo");
+        opens.push(ms.as_f64().unwrap_or(f64::NAN));
+        s.wait_js("the demo's results", "const o = document.querySelector('#vt-upper'); return o && o.dataset.value !== '' ? 1 : null;").await;
+        s.js("return new Promise(r => setTimeout(() => r(0), 400));").await;
+    }
+    let open_long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
+    opens.sort_by(|a, b| a.total_cmp(b));
+    println!(
+        "browser timing: 1M-row CSV import {import_ms:.0} ms, main-thread tasks over 50 ms: {import_long:?}; \
+         opening each of {} demos: click task median {:.1} ms, longest {:.1} ms; tasks over 50 ms meanwhile: {open_long:?}",
+        opens.len(),
+        percentile(&opens, 0.5),
+        opens.last().copied().unwrap_or(f64::NAN)
+    );
 
     // Page usable again after a reload (the files now come from the cache or the service worker).
     s.reload().await;
