@@ -8,7 +8,7 @@
 //! (PerformanceObserver "longtask": main-thread tasks over 50 ms; count, longest and wall time),
 //! the noise sweep of the 1 M-sample signal, a 1,000,000-row CSV import and the opening of every
 //! demo (both watched by the same observer; for the opening, also the click's own task), and the
-//! page mounted again after a reload.
+//! page mounted again after a reload; and the sizes of the two built modules, raw and compressed.
 //!
 //! The host's speed drifts (a virtual machine's neighbours: the same native Monte Carlo benchmark
 //! measured 8.8 ms and 11.6 ms an hour apart), so the run also times the same Monte Carlo natively
@@ -42,6 +42,23 @@ async fn native_monte_carlo_ms(s: &browser::Session) -> f64 {
         assert_eq!(r.trials, 100_000);
     }
     best
+}
+
+/// Raw and compressed sizes of the built page module and compute-worker module, bytes: DEFLATE at
+/// level 9 (miniz_oxide) plus gzip's 18 bytes of framing, within about 1 % of `gzip -9`.
+fn module_sizes() -> Vec<(String, usize, usize)> {
+    let dist = hysteron_tests::server::dist_dir();
+    let mut out = Vec::new();
+    for entry in std::fs::read_dir(&dist).expect("list dist/").flatten() {
+        let name = entry.file_name().to_string_lossy().to_string();
+        if name.ends_with("_bg.wasm") {
+            let bytes = std::fs::read(entry.path()).expect("read a module");
+            let packed = miniz_oxide::deflate::compress_to_vec(&bytes, 9).len() + 18;
+            out.push((name, bytes.len(), packed));
+        }
+    }
+    out.sort();
+    out
 }
 
 #[tokio::test(flavor = "multi_thread")]
@@ -213,5 +230,8 @@ async fn timed_runs_in_the_browser() {
         mc_ms / native_mc_ms,
         long.len()
     );
+    for (name, raw, packed) in module_sizes() {
+        println!("browser timing: module {name}: {raw} bytes, {packed} bytes compressed (gzip -9 equivalent)");
+    }
     s.close().await;
 }
