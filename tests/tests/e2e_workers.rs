@@ -149,3 +149,42 @@ async fn ten_million_sample_signal_test_leaves_the_page_thread_free() {
     assert!(longest < 1000.0, "the page froze for {longest:.0} ms during the 10 M-sample signal test: {long:?}");
     s.close().await;
 }
+
+/// Where the browser refuses workers (here: `Worker` throws, as a locked-down browser does), a CSV
+/// import still reads the whole file: its text is copied into the page a slice per task and parsed
+/// on the page in slices, giving as many samples as a native `core` parse of the same text; the page
+/// says where studies run. The long tasks meanwhile are printed for the record.
+#[tokio::test(flavor = "multi_thread")]
+async fn refused_workers_import_a_large_file_on_the_page_in_slices() {
+    // 300,000 rows (about 9 MB of text, over two of the page's text slices), with a character
+    // outside the Basic Multilingual Plane in the header, so a slice boundary falls inside the file
+    // and no character may be cut.
+    let dir = std::env::temp_dir().join(format!("hysteron-refused-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("capture.csv");
+    let mut text = String::from("time_s;volts \u{1F50B}\n");
+    for i in 0..300_000u32 {
+        let t = f64::from(i) * 1e-5;
+        text.push_str(&format!("{t:.5};{:.4}\n", 2.3 + 1.5 * (2.0 * std::f64::consts::PI * 5.0 * t).sin()));
+    }
+    std::fs::write(&path, &text).unwrap();
+    let native = hysteron_core::signal::csv::parse_csv(&text, &hysteron_core::signal::csv::CsvOptions::default()).expect("native parse");
+
+    let s = browser::start().await;
+    s.devtools(
+        "Page.addScriptToEvaluateOnNewDocument",
+        serde_json::json!({"source": "window.Worker = function () { throw new DOMException('workers are blocked here', 'SecurityError'); };"}),
+    )
+    .await;
+    s.reload().await;
+    s.add_starter("demo:lathe-tachometer").await;
+    s.js(OBSERVE_LONG_TASKS).await;
+    s.wait_for("#csv-file").await.send_keys(path.to_str().unwrap()).await.expect("choose the file");
+    let status = s.wait_text("#csv-status", "the import's result", |t| t.contains("samples")).await;
+    assert!(status.contains(&format!("Read {} samples", native.volts.len())), "{status}");
+    assert_eq!(s.js("return document.documentElement.dataset.compute || '';").await, serde_json::Value::from("page"));
+    let long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
+    println!("refused workers: 300,000-row import on the page; main-thread tasks over 50 ms: {long:?}");
+    let _ = std::fs::remove_dir_all(&dir);
+    s.close().await;
+}
