@@ -15,19 +15,26 @@ pub const SLICE_ELEMENTS: usize = 1 << 18;
 /// Copies `arrays` into vectors, [`SLICE_ELEMENTS`] values per task, then calls `done` with them
 /// (in the same task when all fit in one slice).
 pub fn copy_in_slices(arrays: Vec<Float64Array>, done: impl FnOnce(Vec<Vec<f64>>) + 'static) {
-    let mut copying = Copying::new(arrays);
-    if copying.step(SLICE_ELEMENTS) {
-        done(copying.out);
-    } else {
-        crate::tick::later(move || continue_later(copying, Box::new(done)));
-    }
+    run_sliced(Copying::new(arrays), Box::new(done));
 }
 
-fn continue_later(mut copying: Copying, done: Box<dyn FnOnce(Vec<Vec<f64>>)>) {
-    if copying.step(SLICE_ELEMENTS) {
-        done(copying.out);
+/// A copy made a slice at a time.
+trait Sliced: 'static {
+    /// What the finished copy gives.
+    type Out;
+    /// Copies the next slice; whether the copy is now complete.
+    fn step(&mut self) -> bool;
+    /// The finished copy.
+    fn into_out(self) -> Self::Out;
+}
+
+/// Runs the first slice in the calling task and each further one on a later task of its own,
+/// then hands the result to `done`.
+fn run_sliced<S: Sliced>(mut copy: S, done: Box<dyn FnOnce(S::Out)>) {
+    if copy.step() {
+        done(copy.into_out());
     } else {
-        crate::tick::later(move || continue_later(copying, done));
+        crate::tick::later(move || run_sliced(copy, done));
     }
 }
 
@@ -44,9 +51,14 @@ impl Copying {
         let out = lengths.iter().map(|&n| Vec::with_capacity(n)).collect();
         Copying { arrays, lengths, out }
     }
+}
 
-    /// Copies at most `budget` more values; whether every array is now complete.
-    fn step(&mut self, mut budget: usize) -> bool {
+impl Sliced for Copying {
+    type Out = Vec<Vec<f64>>;
+
+    /// Copies at most [`SLICE_ELEMENTS`] more values; whether every array is now complete.
+    fn step(&mut self) -> bool {
+        let mut budget = SLICE_ELEMENTS;
         for ((array, &len), v) in self.arrays.iter().zip(&self.lengths).zip(&mut self.out) {
             let start = v.len();
             let take = (len - start).min(budget);
@@ -62,6 +74,10 @@ impl Copying {
         }
         true
     }
+
+    fn into_out(self) -> Self::Out {
+        self.out
+    }
 }
 
 /// UTF-16 code units of a string converted per task (4 MiB of text at most).
@@ -71,20 +87,8 @@ pub const TEXT_SLICE_UNITS: u32 = 1 << 21;
 /// task, then calls `done` with it. A slice never ends between the two halves of a surrogate pair,
 /// so characters outside the Basic Multilingual Plane arrive whole.
 pub fn text_in_slices(text: &js_sys::JsString, done: impl FnOnce(String) + 'static) {
-    let mut state = TextCopy { text: text.clone(), at: 0, out: String::with_capacity(text.length() as usize) };
-    if state.step() {
-        done(state.out);
-    } else {
-        crate::tick::later(move || text_later(state, Box::new(done)));
-    }
-}
-
-fn text_later(mut state: TextCopy, done: Box<dyn FnOnce(String)>) {
-    if state.step() {
-        done(state.out);
-    } else {
-        crate::tick::later(move || text_later(state, done));
-    }
+    let copy = TextCopy { text: text.clone(), at: 0, out: String::with_capacity(text.length() as usize) };
+    run_sliced(copy, Box::new(done));
 }
 
 struct TextCopy {
@@ -93,18 +97,25 @@ struct TextCopy {
     out: String,
 }
 
-impl TextCopy {
+impl Sliced for TextCopy {
+    type Out = String;
+
     /// Converts the next slice; whether the whole text is now converted.
     fn step(&mut self) -> bool {
         let len = self.text.length();
         let mut end = self.at.saturating_add(TEXT_SLICE_UNITS).min(len);
         if end < len && (f64::from(0xD800u16)..f64::from(0xDC00u16)).contains(&self.text.char_code_at(end - 1)) {
-            end -= 1; // keep a high surrogate with its low half
+            // High surrogates are U+D800–U+DBFF (the Unicode Standard, §3.9, UTF-16): keep one with its low half.
+            end -= 1;
         }
         if let Some(part) = self.text.slice(self.at, end).as_string() {
             self.out.push_str(&part);
         }
         self.at = end;
         self.at >= len
+    }
+
+    fn into_out(self) -> Self::Out {
+        self.out
     }
 }

@@ -5,6 +5,7 @@
 //! headless Chromium through chromedriver with fantoccini.
 
 pub mod browser;
+pub mod captures;
 pub mod server;
 pub mod designs;
 pub mod mutate;

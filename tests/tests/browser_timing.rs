@@ -165,11 +165,7 @@ async fn timed_runs_in_the_browser() {
     let dir = std::env::temp_dir().join(format!("hysteron-timing-{}", std::process::id()));
     std::fs::create_dir_all(&dir).expect("temp folder");
     let csv = dir.join("capture-1m.csv");
-    let mut text = String::from("time_s;volts\n");
-    for i in 0..1_000_000u32 {
-        let t = f64::from(i) * 1e-6;
-        text.push_str(&format!("{t:.6};{:.5}\n", 2.3 + 1.5 * (2.0 * std::f64::consts::PI * 5.0 * t).sin()));
-    }
+    let text = hysteron_tests::captures::sine_capture_csv("time_s;volts", 1_000_000, 1e-6);
     std::fs::write(&csv, text).expect("write the capture");
     s.js("window.__long = []; window.__t0 = performance.now(); return 0;").await;
     s.wait_for("#csv-file").await.send_keys(csv.to_str().unwrap_or_default()).await.expect("choose the capture");

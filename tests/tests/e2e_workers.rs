@@ -156,17 +156,13 @@ async fn ten_million_sample_signal_test_leaves_the_page_thread_free() {
 /// says where studies run. The long tasks meanwhile are printed for the record.
 #[tokio::test(flavor = "multi_thread")]
 async fn refused_workers_import_a_large_file_on_the_page_in_slices() {
-    // 300,000 rows (about 9 MB of text, over two of the page's text slices), with a character
-    // outside the Basic Multilingual Plane in the header, so a slice boundary falls inside the file
+    // 300,000 rows (about 5 MB of text, three of the page's text slices), with a character
+    // outside the Basic Multilingual Plane in the header, so slice boundaries fall inside the file
     // and no character may be cut.
     let dir = std::env::temp_dir().join(format!("hysteron-refused-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let path = dir.join("capture.csv");
-    let mut text = String::from("time_s;volts \u{1F50B}\n");
-    for i in 0..300_000u32 {
-        let t = f64::from(i) * 1e-5;
-        text.push_str(&format!("{t:.5};{:.4}\n", 2.3 + 1.5 * (2.0 * std::f64::consts::PI * 5.0 * t).sin()));
-    }
+    let text = hysteron_tests::captures::sine_capture_csv("time_s;volts \u{1F50B}", 300_000, 1e-5);
     std::fs::write(&path, &text).unwrap();
     let native = hysteron_core::signal::csv::parse_csv(&text, &hysteron_core::signal::csv::CsvOptions::default()).expect("native parse");
 
