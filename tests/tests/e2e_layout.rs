@@ -86,9 +86,10 @@ async fn close_studies(s: &Session) {
 }
 
 /// Waits until the plots on screen have been drawn at their present size (the backing store is the
-/// CSS size × device-pixel ratio, to the pixel).
+/// CSS size × device-pixel ratio, to the pixel). A plot in a closed fold is not on screen (Chromium
+/// still gives it a client size) and is drawn only when its fold opens.
 async fn plots_fit(s: &Session, what: &str) {
-    let script = "const shown = [...document.querySelectorAll('canvas')].filter(c => c.clientWidth > 0 && c.clientHeight > 0); \
+    let script = "const shown = [...document.querySelectorAll('canvas')].filter(c => c.clientWidth > 0 && c.clientHeight > 0 && !c.closest('details:not([open])')); \
          const bad = shown.filter(c => c.width !== Math.round(c.clientWidth * devicePixelRatio) || c.height !== Math.round(c.clientHeight * devicePixelRatio)) \
              .map(c => (c.id || c.className) + ' ' + c.width + '×' + c.height + ' for ' + c.clientWidth + '×' + c.clientHeight + ' at ' + devicePixelRatio); \
          return { shown: shown.length, bad };";
@@ -319,5 +320,34 @@ async fn worst_case_table_shows_every_column_at_1400_px() {
         );
         close_studies(&s).await;
     }
+    s.close().await;
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn a_plot_in_a_closed_fold_is_drawn_when_the_fold_opens() {
+    // A study's plot built while its fold is closed is left undrawn (drawing it would only read a
+    // size of zero, after a forced layout); clicking the fold's title draws it at its CSS size ×
+    // device-pixel ratio, with ink on it.
+    let s = browser::start().await;
+    viewport(&s, 1400, 1000, 2.0).await;
+    s.add_starter("demo:lathe-tachometer").await;
+    s.wait_js("the temperature study to be built in its closed fold", "return !!document.querySelector('#temperature-plot');").await;
+    let folded = s.js("const c = document.querySelector('#temperature-plot'); return [c.closest('details').open, c.width];").await;
+    assert_eq!(folded, serde_json::json!([false, 0]), "the folded plot was drawn (or its fold was open): {folded}");
+    s.client
+        .find(fantoccini::Locator::Css("#fold-temperature > summary"))
+        .await
+        .expect("the temperature study's title")
+        .click()
+        .await
+        .expect("open the fold");
+    plots_fit(&s, "the temperature plot once its fold opened").await;
+    let ink = "const c = document.querySelector('#temperature-plot'); if (c.width === 0) return 0; \
+               const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data; let n = 0; \
+               for (let i = 0; i < d.length; i += 4) if (d[i + 3] > 0 && (d[i] < 200 || d[i + 2] < 200)) n++; return n;";
+    let inked = s.js(ink).await.as_u64().unwrap_or(0);
+    let size = s.js("const c = document.querySelector('#temperature-plot'); return [c.width, c.clientWidth];").await;
+    assert!(inked > 500, "the temperature plot has {inked} inked pixels once shown ({size})");
+    assert_eq!(size[0].as_f64(), size[1].as_f64().map(|w| (w * 2.0).round()), "backing store {size}");
     s.close().await;
 }

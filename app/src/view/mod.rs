@@ -26,14 +26,19 @@ use state::Notebook;
 /// How long edits must pause before the slower sections recompute, milliseconds.
 const SETTLE_MS: i32 = 120;
 
-/// Builds what it holds on a later turn of the event loop, after the rest of the design has shown
-/// (each `Later` on a turn of its own). Building every study and section with the design made
-/// opening one a single task of 55–110 ms on the test machine (long-task observer, four demos).
+/// Where no frame comes (a hidden tab), how long [`Later`] waits before building, milliseconds.
+const LATER_FALLBACK_MS: i32 = 50;
+
+/// Builds what it holds once the rest of the design has been painted, each `Later` on a task of its
+/// own. Building every study and section with the design made opening one a single task of
+/// 55–110 ms on the test machine (long-task observer, four demos); built on the tasks right after,
+/// but before the first frame, they held the first paint of a cold load back by about 70 ms (CPU
+/// profile and first-contentful-paint of a load with an emptied cache).
 #[component]
 fn Later(children: Children) -> impl IntoView {
     let shown = RwSignal::new(false);
     let kids = StoredValue::new_local(Some(children));
-    crate::tick::later(move || {
+    crate::tick::after_paint(LATER_FALLBACK_MS, move || {
         shown.try_set(true);
     });
     move || shown.get().then(|| kids.try_update_value(|k| k.take()).flatten().map(|c| c()))
