@@ -7,8 +7,9 @@
 //! a 1,000,000-sample signal pass, a 10,000,000-sample signal test watched by a long-task observer
 //! (PerformanceObserver "longtask": main-thread tasks over 50 ms; count, longest and wall time),
 //! the noise sweep of the 1 M-sample signal, a 1,000,000-row CSV import and the opening of every
-//! demo (both watched by the same observer; for the opening, also the click's own task), and the
-//! page mounted again after a reload; and the sizes of the two built modules, raw and compressed.
+//! demo (both watched by the same observer; for the opening, also the click's own task), the
+//! page mounted again after a reload, and a first visit with the cache and storage emptied (mounted
+//! and first contentful paint); and the sizes of the two built modules, raw and compressed.
 //!
 //! The host's speed drifts (a virtual machine's neighbours: the same native Monte Carlo benchmark
 //! measured 8.8 ms and 11.6 ms an hour apart), so the run also times the same Monte Carlo natively
@@ -42,6 +43,35 @@ async fn native_monte_carlo_ms(s: &browser::Session) -> f64 {
         assert_eq!(r.trials, 100_000);
     }
     best
+}
+
+/// A first visit, `n` times, with the browser already running: the page's origin's storage (the
+/// service worker and its cache included) and the HTTP cache are emptied, then the page is opened.
+/// Returns the medians of the mount mark and of the first contentful paint, ms after navigation.
+/// (The run's first navigation also pays for starting the browser's own processes.)
+async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64) {
+    let origin = s.base.trim_end_matches('/').to_string();
+    let (mut mounted, mut painted) = (Vec::new(), Vec::new());
+    for _ in 0..n {
+        s.devtools("Storage.clearDataForOrigin", serde_json::json!({"origin": origin, "storageTypes": "all"})).await;
+        s.devtools("Network.enable", serde_json::json!({})).await;
+        s.devtools("Network.clearBrowserCache", serde_json::json!({})).await;
+        s.client.goto("about:blank").await.expect("leave the page");
+        s.client.goto(&s.base).await.expect("open the page");
+        let v = browser::wait_until("the page to mount and paint", std::time::Duration::from_secs(20), || async {
+            let v = s
+                .js("const m = performance.getEntriesByName('hysteron-mounted')[0]; const p = performance.getEntriesByName('first-contentful-paint')[0]; \
+                     return m && p ? [m.startTime, p.startTime] : null;")
+                .await;
+            if v.is_array() { Ok(v) } else { Err(v.to_string()) }
+        })
+        .await;
+        mounted.push(v[0].as_f64().unwrap_or(f64::NAN));
+        painted.push(v[1].as_f64().unwrap_or(f64::NAN));
+    }
+    mounted.sort_by(|a, b| a.total_cmp(b));
+    painted.sort_by(|a, b| a.total_cmp(b));
+    (percentile(&mounted, 0.5), percentile(&painted, 0.5))
 }
 
 /// Raw and compressed sizes of the built page module and compute-worker module, bytes: DEFLATE at
@@ -225,6 +255,11 @@ async fn timed_runs_in_the_browser() {
          10M-sample signal test {ten_m_ms:.0} ms (click to result shown {wall_ms:.0} ms), main-thread tasks over 50 ms: {} (longest {longest:.0} ms) {long:?}",
         mc_ms / native_mc_ms,
         long.len()
+    );
+    let (cold_mounted, cold_paint) = cold_loads(&s, 3).await;
+    println!(
+        "browser timing: first visit with the cache and storage emptied (browser already running), median of 3: \
+         mounted {cold_mounted:.0} ms, first contentful paint {cold_paint:.0} ms after navigation"
     );
     for (name, raw, packed) in module_sizes() {
         println!("browser timing: module {name}: {raw} bytes, {packed} bytes compressed (gzip -9 equivalent)");
