@@ -32,7 +32,9 @@
 //!    of f's one-sided slope is known everywhere (from each error's sign and the model's
 //!    direction), and it runs −, 0, + along x; bisection on it, with the bracket ends kept on
 //!    series values, closes the bracket around the continuous optimum x* to two adjacent series
-//!    values in log2 M steps.
+//!    values in log2 M steps. The bisection starts by galloping out from the previous
+//!    combination's bracket (x* moves little from one value of the innermost resistor to the
+//!    next), which finds the same bracket in fewer slope signs.
 //! 4. **Series values on both sides.** From those two values the search walks outward on the
 //!    real circuit, offering each value to the top-N list, and stops on a side once a value is
 //!    worse than the current N-th best *and* not better than the value before it — by step 2
@@ -395,11 +397,52 @@ fn model_slope(obj: &Objective, mu: &Bilinear, ml: &Bilinear, x: f64) -> f64 {
 /// [grid[s−1], grid[s]]. Bisection on the slope sign keeps that bracket; because f is quasi-convex
 /// the sign runs −1 … −1, 0 …, +1 … along the sorted values, and log2 M halvings close the bracket
 /// to two adjacent series values — all the discrete problem needs of x*.
-fn model_bracket(obj: &Objective, mu: &Bilinear, ml: &Bilinear, grid: &[f64]) -> usize {
-    let (mut lo, mut hi) = (0, grid.len());
+///
+/// `hint` (any index) is where the search starts: the previous combination's bracket, usually a
+/// step or two away, found then in two or three slope signs instead of log2 M (see
+/// [`partition_from`]; the same index either way).
+fn model_bracket(obj: &Objective, mu: &Bilinear, ml: &Bilinear, grid: &[f64], hint: usize) -> usize {
+    partition_from(grid.len(), hint, |i| model_slope(obj, mu, ml, grid[i]) >= 0.0)
+}
+
+/// The smallest index in `0..m` where `rising` holds, or `m` if none, for a `rising` that is false
+/// up to some index and true from there on. Gallops from `hint` (steps 1, 2, 4, … towards the
+/// change) until the change is bracketed, then halves the bracket: exactly the index a bisection of
+/// the whole range gives, in about 2·log2(d + 1) calls for a change d indices from the hint
+/// (exponential search; Bentley and Yao, "An almost optimal algorithm for unbounded searching",
+/// 1976, from memory).
+fn partition_from(m: usize, hint: usize, rising: impl Fn(usize) -> bool) -> usize {
+    // The answer lies in lo..=hi.
+    let (mut lo, mut hi) = (0, m);
+    let h = hint.min(m);
+    if h < m && !rising(h) {
+        lo = h + 1;
+        let mut step = 1;
+        while lo < hi {
+            let probe = (lo - 1).saturating_add(step).min(hi - 1);
+            if rising(probe) {
+                hi = probe;
+                break;
+            }
+            lo = probe + 1;
+            step = step.saturating_mul(2);
+        }
+    } else {
+        hi = h;
+        let mut step = 1;
+        while lo < hi {
+            let probe = hi.saturating_sub(step).max(lo);
+            if !rising(probe) {
+                lo = probe + 1;
+                break;
+            }
+            hi = probe;
+            step = step.saturating_mul(2);
+        }
+    }
     while lo < hi {
         let mid = lo + (hi - lo) / 2;
-        if model_slope(obj, mu, ml, grid[mid]) >= 0.0 {
+        if rising(mid) {
             hi = mid;
         } else {
             lo = mid + 1;
@@ -488,6 +531,8 @@ struct Searcher<C: Circuit> {
     row: Vec<Option<Option<f64>>>,
     /// Monotone plan: grid index where the last row's bound was least; the next row starts there.
     row_guess: usize,
+    /// The last combination's bracket around x* (see [`model_bracket`]); the next one starts there.
+    bracket_guess: usize,
 }
 
 /// A fresh evaluation (for the model check) or a cached objective.
@@ -768,7 +813,8 @@ impl<C: Circuit> Searcher<C> {
         };
         let tol_u = 1e-9 * yu.iter().fold(0.0_f64, |a, y| a.max(y.abs())) + 1e-15;
         let tol_l = 1e-9 * yl.iter().fold(0.0_f64, |a, y| a.max(y.abs())) + 1e-15;
-        let s = model_bracket(&self.obj, &mu, &ml, &self.grid);
+        let s = model_bracket(&self.obj, &mu, &ml, &self.grid, self.bracket_guess);
+        self.bracket_guess = s;
         if self.prune {
             // By quasi-convexity the best series values of this combination are grid[s − 1] and
             // grid[s]. For a bilinear circuit the model is its exact function (to rounding), so
@@ -1101,6 +1147,7 @@ impl<C: Circuit> SearchJob<C> {
             plan,
             row: vec![None; m],
             row_guess: m / 2,
+            bracket_guess: m / 2,
         };
         Ok(SearchJob {
             st,
@@ -1435,6 +1482,29 @@ mod tests {
     use super::*;
     use crate::device::Comparator;
     use crate::topology::inverting::InvertingSchmitt;
+
+    #[test]
+    fn galloping_finds_the_same_change_as_halving_from_any_hint() {
+        // Every length up to 70, every place of the change (0..=m, m: never true) and every hint,
+        // also past the end: the same index as the standard library's binary partition point.
+        for m in 0..70usize {
+            for change in 0..=m {
+                let flags: Vec<bool> = (0..m).map(|i| i >= change).collect();
+                assert_eq!(flags.partition_point(|&f| !f), change);
+                for hint in 0..m + 3 {
+                    let calls = std::cell::Cell::new(0usize);
+                    let got = partition_from(m, hint, |i| {
+                        calls.set(calls.get() + 1);
+                        flags[i]
+                    });
+                    assert_eq!(got, change, "m {m}, change at {change}, hint {hint}");
+                    // Galloping costs about 2·log2(distance + 1) + 2 calls.
+                    let d = change.abs_diff(hint.min(m)) as f64;
+                    assert!(calls.get() as f64 <= 2.0 * (d + 1.0).log2() + 3.0, "m {m}, change {change}, hint {hint}: {} calls", calls.get());
+                }
+            }
+        }
+    }
 
     fn three_resistor() -> InvertingSchmitt {
         InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0))
