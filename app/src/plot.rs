@@ -490,8 +490,8 @@ mod redraw {
             }
         }
         if folded(canvas) {
-            // Not shown: drawing would only read a size of zero, after a forced layout (about 10 ms
-            // for each study's plot built while a design opens, in a CPU profile of a cold load).
+            // Not shown, yet Chromium gives it a client size: it used to be drawn, after a forced
+            // layout (about 10 ms for the folded temperature plot, in a CPU profile of a cold load).
             // A zero-width backing store makes the observer's report, when the fold opens, find the
             // canvas stale, so the latest drawing is made then.
             canvas.set_width(0);

@@ -1498,7 +1498,7 @@ mod tests {
                         flags[i]
                     });
                     assert_eq!(got, change, "m {m}, change at {change}, hint {hint}");
-                    // Galloping costs about 2·log2(distance + 1) + 2 calls.
+                    // Galloping costs at most about 2·log2(distance + 1) + 3 calls.
                     let d = change.abs_diff(hint.min(m)) as f64;
                     assert!(calls.get() as f64 <= 2.0 * (d + 1.0).log2() + 3.0, "m {m}, change {change}, hint {hint}: {} calls", calls.get());
                 }

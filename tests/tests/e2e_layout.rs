@@ -325,8 +325,8 @@ async fn worst_case_table_shows_every_column_at_1400_px() {
 
 #[tokio::test(flavor = "multi_thread")]
 async fn a_plot_in_a_closed_fold_is_drawn_when_the_fold_opens() {
-    // A study's plot built while its fold is closed is left undrawn (drawing it would only read a
-    // size of zero, after a forced layout); clicking the fold's title draws it at its CSS size ×
+    // A study's plot built while its fold is closed is left undrawn (Chromium still gives it a
+    // client size, so drawing it cost a forced layout for a plot nobody sees); clicking the fold's title draws it at its CSS size ×
     // device-pixel ratio, with ink on it.
     let s = browser::start().await;
     viewport(&s, 1400, 1000, 2.0).await;
