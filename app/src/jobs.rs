@@ -555,8 +555,37 @@ fn run_on_page(shared: &Rc<RefCell<Shared>>) {
     }
 }
 
-/// Runs `job` on the page in slices between frames (the job already moved there).
+/// Runs `job` on the page in slices between frames (the job already moved there). In the page built
+/// in pieces (`--cfg hysteron_split`) the code that runs jobs on the page is a piece of its own,
+/// fetched only here (the served page has its workers); a piece that cannot be fetched ends the job
+/// with an error.
 fn run_job_on_page(shared: &Rc<RefCell<Shared>>, job: Job) {
+    #[cfg(hysteron_split)]
+    {
+        let sh = shared.clone();
+        leptos::task::spawn_local(async move {
+            if run_on_page_piece(sh.clone(), job).await.is_err() {
+                finish(&sh, Err("The code that runs studies on the page could not be loaded (no network, or the page was updated since it opened): reload the page.".into()));
+            }
+        });
+    }
+    #[cfg(not(hysteron_split))]
+    let _ = run_on_page_piece(shared.clone(), job);
+}
+
+/// A piece of its own could not be fetched.
+struct PieceMissing;
+
+impl From<leptos::wasm_split::SplitLoaderError> for PieceMissing {
+    fn from(_: leptos::wasm_split::SplitLoaderError) -> Self {
+        PieceMissing
+    }
+}
+
+/// See [`run_job_on_page`].
+#[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(run_on_page, wasm_split_path = leptos::wasm_split, fallible))]
+fn run_on_page_piece(shared: Rc<RefCell<Shared>>, job: Job) -> Result<(), PieceMissing> {
+    let shared = &shared;
     match Running::start(job) {
         Err(e) => finish(shared, Err(e.to_string())),
         Ok(r) => {
@@ -575,6 +604,7 @@ fn run_job_on_page(shared: &Rc<RefCell<Shared>>, job: Job) {
             crate::tick::later(move || page_slice(sh, r, 1024));
         }
     }
+    Ok(())
 }
 
 /// One slice of a job on the page, then the next on a later turn of the event loop.

@@ -14,6 +14,7 @@
 mod csp;
 mod offline;
 mod single;
+mod split;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode};
@@ -26,6 +27,9 @@ const WASM_OPT_VERSION: &str = "version 132";
 /// The proptest seed every `cargo xtask test` run uses (proptest reads `PROPTEST_RNG_SEED`). Failures
 /// saved in the `*.proptest-regressions` files are replayed first, whatever the seed.
 const CI_PROPTEST_SEED: u64 = 20_261_202;
+/// Set for Trunk's builds: the page is compiled with split points and cut into pieces loaded on
+/// demand (`app/build.rs`, `split.rs`).
+const SPLIT_ENV: &str = "HYSTERON_SPLIT";
 /// How many times the usual number of cases `cargo xtask explore` runs by default.
 const EXPLORE_SCALE: u32 = 10;
 
@@ -44,7 +48,7 @@ fn main() -> ExitCode {
         // `--from-dist`: from the dist/ already built, without building again.
         Some("single-file") if args.get(1).map(String::as_str) == Some("--from-dist") => single::write_single_file(&root),
         Some("single-file") => setup_build_tools(&root).and_then(|_| build_page(&root)).and_then(|_| single::write_single_file(&root)),
-        Some("post-build") => csp::write_policy().and_then(|_| offline::write_service_worker()),
+        Some("post-build") => split::split_page(&root).and_then(|_| csp::write_policy()).and_then(|_| offline::write_service_worker()),
         _ => {
             eprintln!("usage: cargo xtask <serve|test|explore|build|setup>");
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
@@ -197,7 +201,7 @@ fn setup_browser() -> Result<(), String> {
 
 fn build_page(root: &Path) -> Result<(), String> {
     say("building the page with trunk (release)");
-    run(Command::new("trunk").args(["build", "--release"]).current_dir(root))
+    run(Command::new("trunk").args(["build", "--release"]).env(SPLIT_ENV, "1").current_dir(root))
 }
 
 fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
@@ -206,6 +210,7 @@ fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
     say(&format!("serving the page on http://127.0.0.1:{port}/ (Ctrl+C stops)"));
     run(Command::new("trunk")
         .args(["serve", "--release", "--address", "127.0.0.1", "--port", &port])
+        .env(SPLIT_ENV, "1")
         .current_dir(root))
 }
 

@@ -74,6 +74,7 @@ pub fn single_file(index: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) 
             }
             if let Some(glue) = loader_glue(body) {
                 let js = String::from_utf8(read(glue)?).map_err(|_| format!("single-file: {glue} is not UTF-8"))?;
+                let js = inline_pieces(&js, read)?;
                 let wasm = loader_wasm(body).ok_or("single-file: the loader names no .wasm")?;
                 let bytes = read(wasm)?;
                 out.push_str("<script type=\"module\">");
@@ -161,8 +162,85 @@ fn inline_worker(glue: &str, wasm: &[u8]) -> String {
     )
 }
 
+/// The glue with its imports of the pieces' link module (`import * as importN from "./hysteron-split-….js"`,
+/// one per imported function, in a page built in pieces, `split.rs`) replaced by that module's own
+/// text: its `export const`s become plain constants gathered into one object that each `importN`
+/// names, its import of the glue goes (the glue is the same script now), and each piece it fetches
+/// comes from base64 text in the file instead (`hysteronPiece`, a `Response` of type
+/// `application/wasm` for `instantiateStreaming`). A glue without such imports is returned as it is.
+fn inline_pieces(glue: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) -> Result<String, String> {
+    let mut path = None::<String>;
+    let mut bindings = Vec::new();
+    let mut kept = String::with_capacity(glue.len());
+    for line in glue.split_inclusive('\n') {
+        let Some(rest) = line.trim_end().strip_prefix("import * as ") else {
+            kept.push_str(line);
+            continue;
+        };
+        let (name, from) = rest.split_once(" from ").ok_or_else(|| format!("single-file: unexpected glue import {line:?}"))?;
+        let from = from.trim_end_matches(';');
+        let p = from.trim_matches(|c| c == '"' || c == '\'').to_string();
+        if p.len() + 2 != from.len() || path.as_ref().is_some_and(|q| *q != p) {
+            return Err(format!("single-file: the glue imports more than one module: {line:?}"));
+        }
+        path = Some(p);
+        bindings.push(name.to_string());
+    }
+    let Some(path) = path else { return Ok(glue.to_string()) };
+    let path = path.as_str();
+    let link = String::from_utf8(read(path)?).map_err(|_| format!("single-file: {path} is not UTF-8"))?;
+    let mut body = String::new();
+    let mut exports = Vec::new();
+    for l in link.lines() {
+        if l.starts_with("import ") {
+            if !l.contains("initSync") {
+                return Err(format!("single-file: the link module imports more than the glue's initSync: {l:?}"));
+            }
+            continue;
+        }
+        if let Some(rest) = l.strip_prefix("export const ") {
+            let export = rest.split_once(' ').map(|(n, _)| n).unwrap_or(rest);
+            exports.push(export.to_string());
+            body.push_str("const ");
+            body.push_str(rest);
+        } else if l.starts_with("export ") {
+            return Err(format!("single-file: unexpected export in the link module: {l:?}"));
+        } else {
+            body.push_str(l);
+        }
+        body.push('\n');
+    }
+    // Each `fetch(new URL("./x.wasm", import.meta.url))` reads the piece from the file instead.
+    let mut pieces = Vec::new();
+    let mut out = String::new();
+    let mut rest = body.as_str();
+    const FETCH: &str = "fetch(new URL(\"";
+    while let Some(i) = rest.find(FETCH) {
+        out.push_str(&rest[..i]);
+        let after = &rest[i + FETCH.len()..];
+        let (piece, tail) = after.split_once("\", import.meta.url))").ok_or("single-file: unexpected piece fetch in the link module")?;
+        out.push_str(&format!("hysteronPiece(\"{piece}\")"));
+        pieces.push(piece.to_string());
+        rest = tail;
+    }
+    out.push_str(rest);
+    if link.contains("</script") {
+        return Err("single-file: the link module contains </script".into());
+    }
+    let mut table = String::from("const hysteronPieces = {\n");
+    for p in &pieces {
+        table.push_str(&format!("  {}: '{}',\n", js_string(p), base64(&read(p)?)));
+    }
+    table.push_str("};\nfunction hysteronPiece(name) {\n  const bytes = Uint8Array.from(atob(hysteronPieces[name]), (c) => c.charCodeAt(0));\n  return Promise.resolve(new Response(bytes, { headers: { 'Content-Type': 'application/wasm' } }));\n}\n");
+    let mut names = format!("const hysteronSplit = {{ {} }};\n", exports.join(", "));
+    for b in &bindings {
+        names.push_str(&format!("const {b} = hysteronSplit;\n"));
+    }
+    Ok(format!("{table}{out}{names}{kept}"))
+}
+
 /// The glue module the Trunk loader imports (`import init, * as bindings from './x.js';`).
-fn loader_glue(body: &str) -> Option<&str> {
+pub fn loader_glue(body: &str) -> Option<&str> {
     let i = body.find("import init")?;
     let from = body[i..].find("from '")? + i + 6;
     let end = body[from..].find('\'')? + from;
@@ -170,7 +248,7 @@ fn loader_glue(body: &str) -> Option<&str> {
 }
 
 /// The .wasm the Trunk loader passes to `init`.
-fn loader_wasm(body: &str) -> Option<&str> {
+pub fn loader_wasm(body: &str) -> Option<&str> {
     let i = body.find("module_or_path: '")? + 17;
     let end = body[i..].find('\'')? + i;
     Some(&body[i..end])
@@ -279,6 +357,29 @@ mod tests {
         assert_eq!(out.matches("</script>").count(), 2, "the worker's text cannot end a script: {out}");
         // Without worker files the page is built alone (studies then run on the page).
         assert!(!single_file(INDEX, &read).unwrap().contains("hysteronWorkerUrl"));
+    }
+
+    #[test]
+    fn pieces_and_their_link_module_are_inlined() {
+        let split = |n: &str| match n {
+            "./app-3.js" => Ok(b"import * as import1 from \"./hysteron-split-9.js\"\nimport * as import2 from \"./hysteron-split-9.js\"\nasync function __wbg_init(m) {}\nfunction initSync(m) {}\nexport { __wbg_init as default }".to_vec()),
+            "./hysteron-split-9.js" => Ok(b"import { initSync } from \"./app-3.js\";\nfunction makeLoad(f) { return f; }\nexport const __wasm_split_load_a = makeLoad(() => {\n    const src = fetch(new URL(\"./hysteron-split_a-9.wasm\", import.meta.url));\n});".to_vec()),
+            "./hysteron-split_a-9.wasm" => Ok(b"\0asm\x01\0\0\x09".to_vec()),
+            other => read(other),
+        };
+        let out = single_file(INDEX, &split).unwrap();
+        for gone in ["import ", "export const", "import.meta.url", "hysteron-split-9.js"] {
+            assert!(!out.contains(gone), "{gone} left in {out}");
+        }
+        assert!(out.contains("const __wasm_split_load_a = makeLoad("), "{out}");
+        assert!(out.contains("const hysteronSplit = { __wasm_split_load_a };\nconst import1 = hysteronSplit;\nconst import2 = hysteronSplit;\n"), "{out}");
+        assert!(out.contains("const src = hysteronPiece(\"./hysteron-split_a-9.wasm\");"), "{out}");
+        assert!(out.contains(&format!("\"./hysteron-split_a-9.wasm\": '{}'", base64(b"\0asm\x01\0\0\x09"))), "{out}");
+        let other_import = |n: &str| match n {
+            "./hysteron-split-9.js" => Ok(b"import { x } from \"./elsewhere.js\";".to_vec()),
+            other => split(other),
+        };
+        assert!(single_file(INDEX, &other_import).unwrap_err().contains("more than the glue's initSync"));
     }
 
     #[test]

@@ -26,27 +26,85 @@ use state::Notebook;
 /// How long edits must pause before the slower sections recompute, milliseconds.
 const SETTLE_MS: i32 = 120;
 
-/// Where no frame comes (a hidden tab), how long [`Later`] waits before building, milliseconds.
+/// Where no frame comes (a hidden tab), how long [`Deferred`] waits before building, milliseconds.
 const LATER_FALLBACK_MS: i32 = 50;
 
-/// Builds what it holds once the rest of the design has been painted, each `Later` on a task of its
-/// own. Building every study and section with the design made opening one a single task of
-/// 55–110 ms on the test machine (long-task observer, four demos); built on the tasks right after,
-/// before the first frame, they held back the first paint of a load with an emptied cache (first
-/// contentful paint about 100 ms after the mount mark, about 78 ms once they waited; alternated runs).
+/// A deferred view's code could not be fetched (no network and no cached copy, or the page was
+/// rebuilt since it loaded and the old pieces are gone).
+#[derive(Debug, Clone, Copy)]
+struct PieceMissing;
+
+impl From<leptos::wasm_split::SplitLoaderError> for PieceMissing {
+    fn from(_: leptos::wasm_split::SplitLoaderError) -> Self {
+        PieceMissing
+    }
+}
+
+/// A view whose code may live in a module of its own, fetched when first wanted (see [`Deferred`]).
+type ViewLoad = fn() -> std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
+
+/// Declares `$name`, a [`ViewLoad`] for the view `$body`. In the split build (`--cfg hysteron_split`,
+/// set by `app/build.rs` for `cargo xtask build`) the view's code goes into a module of its own that
+/// is fetched on the first call (wasm-split through Leptos's re-export; `fallible`: a failed fetch is
+/// an error, not a panic, which would stop the whole page); otherwise (unit tests) it is a plain call.
+macro_rules! deferred_view {
+    ($name:ident, $body:expr) => {
+        fn $name() -> std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>> {
+            #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split($name, wasm_split_path = leptos::wasm_split, fallible))]
+            fn build() -> Result<AnyView, PieceMissing> {
+                Ok($body.into_any())
+            }
+            #[cfg(hysteron_split)]
+            return Box::pin(async { build().await });
+            #[cfg(not(hysteron_split))]
+            return Box::pin(async { build() });
+        }
+    };
+}
+
+deferred_view!(input_network_view, view! { <input_network::InputNetworkSection /> });
+deferred_view!(tolerance_view, view! { <tolerance::ToleranceSection /> });
+deferred_view!(temperature_view, view! { <temperature::TemperatureSection /> });
+deferred_view!(dynamics_view, view! { <output_dynamics::OutputDynamicsSection /> });
+deferred_view!(signal_view, view! { <signal::SignalSection /> });
+deferred_view!(application_view, view! { <application::ApplicationSection /> });
+deferred_view!(partlist_view, view! { <partlist::PartListSection /> });
+deferred_view!(share_view, view! { <share::ShareSection /> });
+deferred_view!(sheet_view, view! { <sheet::DesignSheet /> });
+
+/// Builds the view `load` gives once the rest of the design has painted, each on a task of its own,
+/// in this component's reactive owner (its context, its cleanup), once its code has arrived.
+/// Building every study and section with the design made opening one a single task of 55–110 ms on
+/// the test machine (long-task observer, four demos); built on the tasks right after, before the
+/// first frame, they held back the first paint of a load with an emptied cache (first contentful
+/// paint about 100 ms after the mount mark, about 78 ms once they waited; alternated runs).
 #[component]
-fn Later(children: Children) -> impl IntoView {
-    let shown = RwSignal::new(false);
-    let kids = StoredValue::new_local(Some(children));
+fn Deferred(load: ViewLoad) -> impl IntoView {
+    let ready = RwSignal::new(false);
+    let view = StoredValue::new_local(None::<AnyView>);
+    let owner = Owner::current();
     crate::tick::after_paint(LATER_FALLBACK_MS, move || {
-        shown.try_set(true);
+        let Some(owner) = owner else { return };
+        owner.with(|| {
+            leptos::task::spawn_local_scoped(async move {
+                let v = match load().await {
+                    Ok(v) => v,
+                    Err(PieceMissing) => view! {
+                        <p class="error" role="alert">"This part of the page could not be loaded (no network, or the page was updated since it opened). Reload the page to get it; your designs are kept."</p>
+                    }
+                    .into_any(),
+                };
+                view.try_set_value(Some(v));
+                ready.try_set(true);
+            })
+        });
     });
-    move || shown.get().then(|| kids.try_update_value(|k| k.take()).flatten().map(|c| c()))
+    move || ready.get().then(|| view.try_update_value(|v| v.take()).flatten())
 }
 
 /// A long study folded under one line: closed until the user opens it, so the design's inputs
 /// stay short; what it holds is rendered (and kept) whether open or not, built just after the
-/// rest of the design ([`Later`]).
+/// rest of the design ([`Deferred`]).
 #[component]
 fn Study(
     /// Element id of the fold.
@@ -55,12 +113,13 @@ fn Study(
     title: &'static str,
     /// What it holds, in a few words.
     hint: &'static str,
-    children: Children,
+    /// Its view.
+    load: ViewLoad,
 ) -> impl IntoView {
     view! {
         <details class="study" id=id>
             <summary><span class="study-title">{title}</span><span class="study-hint">{hint}</span></summary>
-            <Later>{children()}</Later>
+            <Deferred load />
         </details>
     }
 }
@@ -140,26 +199,14 @@ pub fn App() -> impl IntoView {
                                 <purpose::PurposeSection />
                                 <circuit::CircuitSection />
                                 <parts::PartsSection />
-                                <Study id="fold-input-network" title="Input network" hint="dropper, series resistor, clamp, RC filter; thresholds at the field terminal">
-                                    <input_network::InputNetworkSection />
-                                </Study>
-                                <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo">
-                                    <tolerance::ToleranceSection />
-                                </Study>
-                                <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K">
-                                    <temperature::TemperatureSection />
-                                </Study>
-                                <Study id="fold-dynamics" title="Output dynamics and power-up" hint="edges at the load, speed-up capacitor, state after a supply ramp">
-                                    <output_dynamics::OutputDynamicsSection />
-                                </Study>
-                                <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges">
-                                    <signal::SignalSection />
-                                </Study>
-                                <Study id="fold-application" title="Oscillator and debouncer" hint="RC timing on the thresholds">
-                                    <application::ApplicationSection />
-                                </Study>
-                                <Later><partlist::PartListSection /></Later>
-                                <Later><share::ShareSection /></Later>
+                                <Study id="fold-input-network" title="Input network" hint="dropper, series resistor, clamp, RC filter; thresholds at the field terminal" load=input_network_view />
+                                <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo" load=tolerance_view />
+                                <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K" load=temperature_view />
+                                <Study id="fold-dynamics" title="Output dynamics and power-up" hint="edges at the load, speed-up capacitor, state after a supply ramp" load=dynamics_view />
+                                <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges" load=signal_view />
+                                <Study id="fold-application" title="Oscillator and debouncer" hint="RC timing on the thresholds" load=application_view />
+                                <Deferred load=partlist_view />
+                                <Deferred load=share_view />
                             </div>
                         </div>
                     }.into_any()
@@ -168,6 +215,6 @@ pub fn App() -> impl IntoView {
                 }}
             </main>
         </div>
-        <sheet::DesignSheet />
+        <Deferred load=sheet_view />
     }
 }
