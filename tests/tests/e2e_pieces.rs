@@ -1,0 +1,68 @@
+//! Browser end-to-end: the page loaded in pieces (DEVELOPERS.md, "Loading in pieces"). The page's
+//! first module carries the design; the studies, the part list, the share section and the sheet
+//! arrive as pieces after the first paint. A piece that cannot be fetched leaves a message in its
+//! place and the rest of the page working — never a stopped page.
+
+use hysteron_tests::{browser, server};
+use std::path::PathBuf;
+
+/// The built files whose names mark them as pieces of the page.
+fn pieces() -> Vec<String> {
+    let mut out: Vec<String> = std::fs::read_dir(server::dist_dir())
+        .expect("list dist/")
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().to_string())
+        .filter(|n| n.ends_with(".wasm") && (n.starts_with("hysteron-split_") || n.starts_with("hysteron-chunk_")))
+        .collect();
+    out.sort();
+    out
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
+    let pieces = pieces();
+    assert!(
+        pieces.iter().any(|p| p.starts_with("hysteron-split_tolerance_view-")),
+        "the page was not built in pieces (cargo xtask build sets HYSTERON_SPLIT=1): {pieces:?}"
+    );
+
+    // The page as built: opening a demo brings every deferred section, fetched as pieces.
+    let s = browser::start().await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    for section in ["#tolerance", "#bom", "#signal-run"] {
+        s.wait_for(section).await;
+    }
+    let fetched = s.js("return performance.getEntriesByType('resource').map(e => e.name).filter(n => n.includes('hysteron-split_')).length").await;
+    assert!(fetched.as_u64().unwrap_or(0) >= 9, "pieces fetched: {fetched}");
+    s.close().await;
+
+    // A copy of the build without the tolerance study's piece (as after a rebuild while the page
+    // was open, or offline before the service worker kept it).
+    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-pieces-dist-{}", std::process::id()));
+    std::fs::remove_dir_all(&root).ok();
+    std::fs::create_dir_all(&root).expect("make the copy");
+    for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
+        let name = entry.file_name().to_string_lossy().to_string();
+        if entry.path().is_file() && !name.starts_with("hysteron-split_tolerance_view-") {
+            std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
+        }
+    }
+    let base = server::serve(root.clone()).await.expect("serve the copy");
+    let s = browser::start_at(base).await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    // The missing study says so where it would be, in words; everything else is there and works.
+    s.wait_for("#fold-tolerance summary").await.click().await.expect("open the tolerance fold");
+    let message = s.wait_text("#fold-tolerance .error[role=alert]", "the missing piece's message", |t| t.contains("could not be loaded")).await;
+    assert!(message.contains("Reload the page"), "{message}");
+    assert_eq!(s.js("return document.querySelectorAll('#tolerance').length").await, 0);
+    s.wait_for("#bom").await;
+    s.wait_for("#signal-run").await;
+    let vt = s.number("#vt-upper").await;
+    assert!(vt.is_finite(), "VT+ still shown: {vt}");
+    // The page still takes edits: a new R1 typed in moves VT+ (R1 3.3 kΩ → 4.7 kΩ).
+    s.type_into("#field-r1_ohm", "4k7").await;
+    let moved = s.wait_number_change("#vt-upper", vt).await;
+    assert!(moved.is_finite() && moved != vt, "VT+ {vt} → {moved}");
+    s.close().await;
+    std::fs::remove_dir_all(&root).ok();
+}
