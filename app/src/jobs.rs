@@ -573,18 +573,9 @@ fn run_job_on_page(shared: &Rc<RefCell<Shared>>, job: Job) {
     let _ = run_on_page_piece(shared.clone(), job);
 }
 
-/// A piece of its own could not be fetched.
-struct PieceMissing;
-
-impl From<leptos::wasm_split::SplitLoaderError> for PieceMissing {
-    fn from(_: leptos::wasm_split::SplitLoaderError) -> Self {
-        PieceMissing
-    }
-}
-
 /// See [`run_job_on_page`].
 #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(run_on_page, wasm_split_path = leptos::wasm_split, fallible))]
-fn run_on_page_piece(shared: Rc<RefCell<Shared>>, job: Job) -> Result<(), PieceMissing> {
+fn run_on_page_piece(shared: Rc<RefCell<Shared>>, job: Job) -> Result<(), crate::piece::PieceMissing> {
     let shared = &shared;
     match Running::start(job) {
         Err(e) => finish(shared, Err(e.to_string())),

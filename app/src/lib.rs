@@ -6,6 +6,7 @@
 pub mod download;
 pub mod fields;
 pub mod panic;
+pub mod piece;
 pub mod jobs;
 pub mod plot;
 pub mod storage;

@@ -21,6 +21,7 @@ mod temperature;
 pub mod state;
 
 use leptos::prelude::*;
+use crate::piece::PieceMissing;
 use state::Notebook;
 
 /// How long edits must pause before the slower sections recompute, milliseconds.
@@ -28,17 +29,6 @@ const SETTLE_MS: i32 = 120;
 
 /// Where no frame comes (a hidden tab), how long [`Deferred`] waits before building, milliseconds.
 const LATER_FALLBACK_MS: i32 = 50;
-
-/// A deferred view's code could not be fetched (no network and no cached copy, or the page was
-/// rebuilt since it loaded and the old pieces are gone).
-#[derive(Debug, Clone, Copy)]
-struct PieceMissing;
-
-impl From<leptos::wasm_split::SplitLoaderError> for PieceMissing {
-    fn from(_: leptos::wasm_split::SplitLoaderError) -> Self {
-        PieceMissing
-    }
-}
 
 /// A view whose code may live in a module of its own, fetched when first wanted (see [`Deferred`]).
 type ViewLoad = fn() -> std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
