@@ -30,8 +30,11 @@ const SETTLE_MS: i32 = 120;
 /// Where no frame comes (a hidden tab), how long [`Deferred`] waits before building, milliseconds.
 const LATER_FALLBACK_MS: i32 = 50;
 
+/// A view on its way: built once its code has arrived, or the piece that could not be fetched.
+type ViewFuture = std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
+
 /// A view whose code may live in a module of its own, fetched when first wanted (see [`Deferred`]).
-type ViewLoad = fn() -> std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
+type ViewLoad = fn() -> ViewFuture;
 
 /// Declares `$name`, a [`ViewLoad`] for the view `$body`. In the split build (`--cfg hysteron_split`,
 /// set by `app/build.rs` for `cargo xtask build`) the view's code goes into a module of its own that
@@ -39,7 +42,7 @@ type ViewLoad = fn() -> std::pin::Pin<Box<dyn std::future::Future<Output = Resul
 /// an error, not a panic, which would stop the whole page); otherwise (unit tests) it is a plain call.
 macro_rules! deferred_view {
     ($name:ident, $body:expr) => {
-        fn $name() -> std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>> {
+        fn $name() -> ViewFuture {
             #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split($name, wasm_split_path = leptos::wasm_split, fallible))]
             fn build() -> Result<AnyView, PieceMissing> {
                 Ok($body.into_any())
