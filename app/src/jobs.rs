@@ -3,7 +3,11 @@
 //! calls back once with the result; [`JobHandle::cancel`] stops it at once (the workers running it
 //! are terminated). A job that `core::jobs::split` can cut (Monte Carlo by trials, the noise sweep
 //! by levels, a standard-value search without the distinct rule by ranges of combinations) is spread over `navigator.hardwareConcurrency` workers and merged in order with
-//! `core::jobs::merge`, which gives exactly the single-run result for the same seed.
+//! the kind's own `core::jobs::merge_*`, which gives exactly the single-run result for the same seed.
+//!
+//! Each caller names what its job answers (`core::job_answers::Answers`, for instance
+//! `Answers::MONTE_CARLO`): the worker's result is read as that kind only, so a study's result
+//! code travels in the piece of the page that runs the study, not in the page's first module.
 //!
 //! Workers are kept in a small pool once their module has loaded ([`prewarm`] starts them in the
 //! background, [`pool_size`]: one per hardware thread plus [`SPARE_WORKERS`]; workers still
@@ -18,7 +22,8 @@
 //! inlined, and workers start from that. `<html data-compute>` says where studies run: `workers`
 //! once a worker has said it is ready, `page` once workers were refused.
 
-use hysteron_core::jobs::{merge, split, Job, JobOutput, Progress, Running};
+use hysteron_core::job_answers::Answers;
+use hysteron_core::jobs::{split, Job, JobOutput, Progress, Running};
 use std::cell::{Cell, RefCell};
 use std::rc::Rc;
 use wasm_bindgen::prelude::*;
@@ -221,6 +226,8 @@ struct Part {
 
 struct Shared {
     job: Job,
+    /// How the workers' answers to this job are read and merged.
+    answers: Answers,
     parts: Vec<Part>,
     unit: String,
     started_ms: f64,
@@ -308,10 +315,11 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
         }
         "result" => {
             let text = field(&data, "output").as_string().unwrap_or_default();
+            let kind = field(&data, "output_kind").as_string().unwrap_or_default();
             let arrays = js_sys::Array::from(&field(&data, "arrays")).iter().map(js_sys::Float64Array::from).collect();
             // A large result (a 10 M-sample signal study) is copied over several tasks.
             let shared = shared.clone();
-            crate::transfer::copy_in_slices(arrays, move |arrays| take_result(&shared, index, &text, arrays));
+            crate::transfer::copy_in_slices(arrays, move |arrays| take_result(&shared, index, &kind, &text, arrays));
         }
         _ => {}
     }
@@ -319,15 +327,15 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
 
 /// A part's result, its arrays copied in: kept, its worker returned to the pool, and the job
 /// finished once every part has answered (nothing when the job was cancelled meanwhile).
-fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, text: &str, arrays: Vec<Vec<f64>>) {
-    {
+fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &str, arrays: Vec<Vec<f64>>) {
+    let answers = {
         let s = shared.borrow();
         if s.finished || s.on_page || index >= s.parts.len() {
             return;
         }
-    }
-    let output = serde_json::from_str::<JobOutput>(text)
-        .map_err(|e| format!("the worker's result could not be read: {e}"))
+        s.answers
+    };
+    let output = (answers.read)(kind, text)
         .and_then(|mut o| o.put_arrays(arrays).map(|_| o).map_err(|e| e.to_string()));
     let output = match output {
         Ok(o) => o,
@@ -354,7 +362,7 @@ fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, text: &str, arrays: V
             let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
             (s.job.clone(), outputs)
         };
-        finish(shared, merge(&job, outputs).map_err(|e| e.to_string()));
+        finish(shared, (answers.merge)(&job, outputs).map_err(|e| e.to_string()));
     }
 }
 
@@ -450,14 +458,16 @@ impl JobHandle {
 }
 
 /// Starts `job`: spread over the workers when it can be split, otherwise on one worker; on the
-/// page in slices when workers are refused. `on_progress` gets the status after each slice;
-/// `on_done` gets the merged output or the error, once (never after [`JobHandle::cancel`]).
+/// page in slices when workers are refused. `answers` reads and merges what the workers send back
+/// (the [`Answers`] of the job's kind). `on_progress` gets the status after each slice; `on_done`
+/// gets the merged output or the error, once (never after [`JobHandle::cancel`]).
 pub fn start(
     job: Job,
+    answers: Answers,
     on_progress: impl Fn(JobStatus) + 'static,
     on_done: impl FnOnce(Result<JobOutput, String>) + 'static,
 ) -> JobHandle {
-    start_with(job, None, Box::new(on_progress), Box::new(on_done))
+    start_with(job, answers, None, Box::new(on_progress), Box::new(on_done))
 }
 
 /// Starts reading an imported file (`Job::CsvImport` with `options`) whose text is the browser's
@@ -472,11 +482,12 @@ pub fn start_import(
     on_done: impl FnOnce(Result<JobOutput, String>) + 'static,
 ) -> JobHandle {
     let job = Job::CsvImport { text: String::new(), options };
-    start_with(job, Some(text), Box::new(on_progress), Box::new(on_done))
+    start_with(job, Answers::CAPTURE, Some(text), Box::new(on_progress), Box::new(on_done))
 }
 
 fn start_with(
     job: Job,
+    answers: Answers,
     text: Option<js_sys::JsString>,
     on_progress: Box<dyn Fn(JobStatus)>,
     on_done: Box<dyn FnOnce(Result<JobOutput, String>)>,
@@ -486,6 +497,7 @@ fn start_with(
     let parts = split(&job, n).unwrap_or_else(|_| vec![job.clone()]);
     let shared = Rc::new(RefCell::new(Shared {
         job,
+        answers,
         parts: parts.iter().map(|_| Part::default()).collect(),
         unit: String::new(),
         started_ms: crate::tick::now_ms(),
@@ -639,8 +651,8 @@ pub struct Followed {
 pub const FOLLOW_QUIET_MS: f64 = 150.0;
 
 /// Runs `job` on the compute workers each time it changes (compared by value): the running one is
-/// cancelled and the new one started; `None` runs nothing.
-pub fn follow(job: leptos::prelude::Memo<Option<Job>>) -> Followed {
+/// cancelled and the new one started; `None` runs nothing. `answers` as in [`start`].
+pub fn follow(job: leptos::prelude::Memo<Option<Job>>, answers: Answers) -> Followed {
     use leptos::prelude::*;
     let result = RwSignal::new(None::<Result<JobOutput, String>>);
     let status = RwSignal::new(None::<JobStatus>);
@@ -658,6 +670,7 @@ pub fn follow(job: leptos::prelude::Memo<Option<Job>>) -> Followed {
         let Some(next) = next else { return };
         let handle = start(
             next,
+            answers,
             move |st| {
                 if st.now_ms - st.started_ms >= FOLLOW_QUIET_MS {
                     status.set(Some(st));

@@ -12,6 +12,7 @@ pub mod plot;
 pub mod storage;
 pub mod tick;
 pub mod transfer;
+pub mod unread;
 pub mod view;
 
 

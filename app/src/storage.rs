@@ -8,6 +8,7 @@
 use gloo_storage::{LocalStorage, Storage};
 use hysteron_core::record::DesignRecord;
 use serde::{Deserialize, Serialize};
+use crate::unread::Unread;
 
 /// Key of the ordered id list.
 pub const INDEX_KEY: &str = "hysteron/index";
@@ -58,20 +59,21 @@ pub struct Kept<T> {
     pub elapsed_ms: f64,
 }
 
-/// The study results kept with one design.
+/// The study results kept with one design, each as the JSON it was stored as ([`Unread`]): read
+/// into its type by the study that shows it, so the page's first module carries no code for them.
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 pub struct Studies {
     /// The last Monte Carlo run. (Another study kept here is one more optional field, read
     /// leniently in [`Studies::from_value`], and one more [`crate::view::state::Study`].)
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub monte_carlo: Option<Kept<hysteron_core::tolerance::monte_carlo::MonteCarloResult>>,
+    pub monte_carlo: Option<Kept<Unread<hysteron_core::tolerance::monte_carlo::MonteCarloResult>>>,
     /// The last signal test: its compact report only (counts, Rice's check, the sweep), never the
     /// samples, which are made again by running it.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub signal: Option<Kept<hysteron_core::signal::report::SignalReport>>,
+    pub signal: Option<Kept<Unread<hysteron_core::signal::report::SignalReport>>>,
     /// The last standard-value search, with the current budget it had to meet.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub search: Option<Kept<KeptSearch>>,
+    pub search: Option<Kept<Unread<KeptSearch>>>,
 }
 
 /// A standard-value search kept with its design.
@@ -97,7 +99,9 @@ impl Studies {
         }
     }
 
-    /// Reads stored study results; what cannot be read is dropped (it is recomputed on request).
+    /// Reads stored study results; one that is not a kept result at all (no inputs, no result) is
+    /// dropped (it is recomputed on request). A result of another shape is kept as it was and not
+    /// shown ([`Unread::read`]).
     pub fn from_value(v: &serde_json::Value) -> Studies {
         let Some(o) = v.as_object() else { return Studies::default() };
         let field = |k: &str| o.get(k).cloned().unwrap_or(serde_json::Value::Null);

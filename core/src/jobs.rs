@@ -1033,84 +1033,111 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
 }
 
 /// Puts the outputs of the parts of `job` (made by [`split`], in the same order) back together into
-/// the output the whole job gives.
+/// the output the whole job gives. (Each kind's own merge is public too, so that a page that reads
+/// one kind of answer carries only that kind's code: see [`crate::job_answers`].)
 pub fn merge(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    match job {
+        Job::MonteCarlo { trials: None, .. } => merge_monte_carlo(job, outputs),
+        Job::Search { combinations: None, .. } => merge_search(job, outputs),
+        Job::NoiseSweep { .. } => merge_sweep(job, outputs),
+        Job::Signal { .. } => merge_signal(job, outputs),
+        _ => merge_single(job, outputs),
+    }
+}
+
+fn first_output(outputs: Vec<JobOutput>) -> Result<(JobOutput, std::vec::IntoIter<JobOutput>), DesignError> {
     let mut it = outputs.into_iter();
     let first = it
         .next()
         .ok_or_else(|| invalid("no part outputs to merge: run the parts first"))?;
-    match job {
-        Job::MonteCarlo {
-            circuit,
-            settings,
-            trials: None,
-        } => {
-            let mut acc = match first {
-                JobOutput::MonteCarloPart(p) => p,
-                whole @ JobOutput::MonteCarlo(_) => return Ok(whole),
-                _ => return Err(invalid("a Monte Carlo job got another job's output")),
-            };
-            for o in it {
-                match o {
-                    JobOutput::MonteCarloPart(p) => acc.merge(p)?,
-                    _ => return Err(invalid("a Monte Carlo job got another job's output")),
-                }
-            }
-            let run = MonteCarloRun::new(circuit, settings)?;
-            Ok(JobOutput::MonteCarlo(run.finish(&acc)?))
+    Ok((first, it))
+}
+
+/// [`merge`] for a job that is never split: its one output.
+pub fn merge_single(_job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    first_output(outputs).map(|(first, _)| first)
+}
+
+/// [`merge`] for a Monte Carlo job: the parts' trials in order, then the statistics once.
+pub fn merge_monte_carlo(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    let Job::MonteCarlo { circuit, settings, trials: None } = job else {
+        return merge_single(job, outputs);
+    };
+    let (first, it) = first_output(outputs)?;
+    let mut acc = match first {
+        JobOutput::MonteCarloPart(p) => p,
+        whole @ JobOutput::MonteCarlo(_) => return Ok(whole),
+        _ => return Err(invalid("a Monte Carlo job got another job's output")),
+    };
+    for o in it {
+        match o {
+            JobOutput::MonteCarloPart(p) => acc.merge(p)?,
+            _ => return Err(invalid("a Monte Carlo job got another job's output")),
         }
-        Job::Search {
-            circuit,
-            targets,
-            settings,
-            checks,
-            combinations: None,
-        } => {
-            let mut reports = Vec::new();
-            for o in std::iter::once(first).chain(it) {
-                match o {
-                    whole @ JobOutput::Search(_) => return Ok(whole),
-                    JobOutput::SearchPart(r) => reports.push(r),
-                    _ => return Err(invalid("a search got another job's output")),
-                }
-            }
-            let whole = SearchJob::new(circuit, *targets, settings, checks)?;
-            Ok(JobOutput::Search(whole.merge(reports)?))
-        }
-        Job::NoiseSweep { .. } => {
-            let mut acc = match first {
-                JobOutput::SweepPart(p) => p,
-                _ => return Err(invalid("a noise sweep got another job's output")),
-            };
-            for o in it {
-                acc.merge(o)?;
-            }
-            Ok(JobOutput::SweepPart(acc))
-        }
-        Job::Signal { settings, .. } => {
-            let mut view = match first {
-                JobOutput::Signal(v) => v,
-                _ => return Err(invalid("a signal study got another job's output")),
-            };
-            let mut parts: Option<SweepPart> = None;
-            for o in it {
-                match &mut parts {
-                    None => match o {
-                        JobOutput::SweepPart(p) => parts = Some(p),
-                        _ => {
-                            return Err(invalid("a signal study's sweep got another job's output"))
-                        }
-                    },
-                    Some(acc) => acc.merge(o)?,
-                }
-            }
-            if let (Some(sw), Some(p)) = (&settings.sweep, parts) {
-                view.report.sweep = Some(finish_sweep(sw, p.points));
-            }
-            Ok(JobOutput::Signal(view))
-        }
-        _ => Ok(first),
     }
+    let run = MonteCarloRun::new(circuit, settings)?;
+    Ok(JobOutput::MonteCarlo(run.finish(&acc)?))
+}
+
+/// [`merge`] for a standard-value search: the parts' lists offered in range order to one list.
+pub fn merge_search(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    let Job::Search { circuit, targets, settings, checks, combinations: None } = job else {
+        return merge_single(job, outputs);
+    };
+    let (first, it) = first_output(outputs)?;
+    let mut reports = Vec::new();
+    for o in std::iter::once(first).chain(it) {
+        match o {
+            whole @ JobOutput::Search(_) => return Ok(whole),
+            JobOutput::SearchPart(r) => reports.push(r),
+            _ => return Err(invalid("a search got another job's output")),
+        }
+    }
+    let whole = SearchJob::new(circuit, *targets, settings, checks)?;
+    Ok(JobOutput::Search(whole.merge(reports)?))
+}
+
+/// [`merge`] for a noise sweep: the parts' levels in order.
+pub fn merge_sweep(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    if !matches!(job, Job::NoiseSweep { .. }) {
+        return merge_single(job, outputs);
+    }
+    let (first, it) = first_output(outputs)?;
+    let mut acc = match first {
+        JobOutput::SweepPart(p) => p,
+        _ => return Err(invalid("a noise sweep got another job's output")),
+    };
+    for o in it {
+        acc.merge(o)?;
+    }
+    Ok(JobOutput::SweepPart(acc))
+}
+
+/// [`merge`] for a signal study: its main pass, with the sweep's parts (when split) finished into
+/// its report.
+pub fn merge_signal(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
+    let Job::Signal { settings, .. } = job else {
+        return merge_single(job, outputs);
+    };
+    let (first, it) = first_output(outputs)?;
+    let mut view = match first {
+        JobOutput::Signal(v) => v,
+        _ => return Err(invalid("a signal study got another job's output")),
+    };
+    let mut parts: Option<SweepPart> = None;
+    for o in it {
+        match &mut parts {
+            None => match o {
+                JobOutput::SweepPart(p) => parts = Some(p),
+                _ => return Err(invalid("a signal study's sweep got another job's output")),
+            },
+            Some(acc) => acc.merge(o)?,
+        }
+    }
+    if let (Some(sw), Some(p)) = (&settings.sweep, parts) {
+        view.report.sweep = Some(finish_sweep(sw, p.points));
+    }
+    Ok(JobOutput::Signal(view))
 }
 
 impl SweepPart {
@@ -1178,6 +1205,25 @@ impl Job {
 }
 
 impl JobOutput {
+    /// The output's kind, as its JSON names it (the `kind` field serde writes for this variant);
+    /// a worker sends it beside the output so the page can read the output as its own type
+    /// ([`crate::job_answers`]).
+    pub fn kind(&self) -> &'static str {
+        match self {
+            JobOutput::MonteCarlo(_) => "monte_carlo",
+            JobOutput::MonteCarloPart(_) => "monte_carlo_part",
+            JobOutput::WorstCase(_) => "worst_case",
+            JobOutput::Windows(_) => "windows",
+            JobOutput::Signal(_) => "signal",
+            JobOutput::SweepPart(_) => "sweep_part",
+            JobOutput::Capture(_) => "capture",
+            JobOutput::Search(_) => "search",
+            JobOutput::SearchPart(_) => "search_part",
+            JobOutput::Oscillator(_) => "oscillator",
+            JobOutput::Debouncer(_) => "debouncer",
+        }
+    }
+
     /// Moves the large sample vectors out (Monte Carlo values, waveforms, capture samples), leaving
     /// them empty; [`JobOutput::put_arrays`] puts them back in the same order.
     pub fn take_arrays(&mut self) -> Vec<Vec<f64>> {

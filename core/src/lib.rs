@@ -41,6 +41,7 @@ pub mod spice;
 pub mod schematic;
 pub mod bench;
 pub mod jobs;
+pub mod job_answers;
 pub mod input_network;
 pub mod output_dynamics;
 pub mod power_up;

@@ -4,6 +4,7 @@
 //! 7 parts and for uneven slice budgets, against the one-shot library functions; the parts travel
 //! through JSON with their arrays taken out, as they do between a worker and the page.
 
+use hysteron_core::job_answers::Answers;
 use hysteron_core::jobs::{merge, split, Job, JobOutput, Running, DEFAULT_DISPLAY_POINTS};
 use hysteron_core::record::DesignRecord;
 use hysteron_core::signal::generate::{Component, SignalDefinition};
@@ -19,8 +20,10 @@ fn record(name: &str) -> DesignRecord {
     DesignRecord::from_json(&text).unwrap()
 }
 
-/// What a worker does: run in slices, then send the output as JSON plus its arrays.
-fn run_as_worker(job: Job, budget: u64) -> JobOutput {
+/// What a worker does: run in slices, then send the output as JSON plus its arrays and its kind;
+/// and what the page does with that: read it as the kind the job's [`Answers`] expect (checked
+/// equal to reading the whole `JobOutput` enum) and put the arrays back.
+fn run_as_worker(job: Job, budget: u64, answers: Answers) -> JobOutput {
     let text = serde_json::to_string(&job).unwrap();
     let mut job: Job = serde_json::from_str(&text).unwrap();
     let arrays = job.take_arrays();
@@ -36,14 +39,22 @@ fn run_as_worker(job: Job, budget: u64) -> JobOutput {
     assert!(steps >= 1);
     let mut out = running.finish().unwrap();
     let arrays = out.take_arrays();
-    let mut back: JobOutput = serde_json::from_str(&serde_json::to_string(&out).unwrap()).unwrap();
+    let json = serde_json::to_string(&out).unwrap();
+    let mut back = (answers.read)(out.kind(), &json).unwrap();
+    let whole: JobOutput = serde_json::from_str(&json).unwrap();
+    assert_eq!(back, whole, "read by its kind, the answer equals the whole enum read");
     back.put_arrays(arrays).unwrap();
     back
 }
 
-fn run_split(job: &Job, parts: usize, budget: u64) -> JobOutput {
-    let outputs = split(job, parts).unwrap().into_iter().map(|j| run_as_worker(j, budget)).collect();
-    merge(job, outputs).unwrap()
+/// The job split into `parts`, each run as a worker does, merged as the page does (the kind's own
+/// merge), and checked equal to the general [`merge`].
+fn run_split(job: &Job, parts: usize, budget: u64, answers: Answers) -> JobOutput {
+    let outputs: Vec<JobOutput> = split(job, parts).unwrap().into_iter().map(|j| run_as_worker(j, budget, answers)).collect();
+    let general = merge(job, outputs.clone()).unwrap();
+    let own = (answers.merge)(job, outputs).unwrap();
+    assert_eq!(own, general, "the kind's own merge equals the general one");
+    own
 }
 
 #[test]
@@ -57,7 +68,7 @@ fn monte_carlo_in_n_parts_equals_one_run() {
         let single = monte_carlo(&r.circuit, &settings).unwrap();
         let job = Job::MonteCarlo { circuit: r.circuit.clone(), settings: settings.clone(), trials: None };
         for (parts, budget) in [(1, 3001), (1, 7), (2, 500), (3, 1000), (4, 64), (7, 333)] {
-            let JobOutput::MonteCarlo(m) = run_split(&job, parts, budget) else { panic!("{name}: not a Monte Carlo result") };
+            let JobOutput::MonteCarlo(m) = run_split(&job, parts, budget, Answers::MONTE_CARLO) else { panic!("{name}: not a Monte Carlo result") };
             // Whole-struct equality: yield, histograms, order statistics, means — bit for bit.
             assert_eq!(m, single, "{name}: {parts} parts, slices of {budget}");
         }
@@ -82,9 +93,10 @@ fn monte_carlo_parts_cover_the_run_once_and_in_order() {
         .collect();
     assert_eq!(ranges, [(0, 2), (2, 5), (5, 7), (7, 10)]);
     // Parts merged out of order are refused.
-    let mut outs: Vec<JobOutput> = parts.into_iter().map(|j| run_as_worker(j, 3)).collect();
+    let mut outs: Vec<JobOutput> = parts.into_iter().map(|j| run_as_worker(j, 3, Answers::MONTE_CARLO)).collect();
     outs.swap(1, 2);
-    assert!(merge(&job, outs).is_err());
+    assert!(merge(&job, outs.clone()).is_err());
+    assert!((Answers::MONTE_CARLO.merge)(&job, outs).is_err());
 }
 
 fn signal_settings(samples_per_s: f64) -> SignalSettings {
@@ -117,13 +129,13 @@ fn signal_study_and_sweep_in_n_parts_equal_one_run() {
     assert_eq!(single.sweep.as_ref().map(|s| s.points.len()), Some(9));
     let job = Job::Signal { design: trigger(), settings: settings.clone(), capture: None, display_points: DEFAULT_DISPLAY_POINTS, output: None, front: None };
     for (parts, budget) in [(1, u64::MAX), (1, 1), (2, 40_000), (3, 1), (5, 1), (12, 100_000)] {
-        let JobOutput::Signal(view) = run_split(&job, parts, budget) else { panic!("not a signal study") };
+        let JobOutput::Signal(view) = run_split(&job, parts, budget, Answers::SIGNAL) else { panic!("not a signal study") };
         assert_eq!(view.report, single, "{parts} parts, budget {budget}");
     }
     // The sweep alone, split, equals the sweep inside the study.
     let sweep_job = Job::NoiseSweep { design: trigger(), settings, levels: None, front: None };
     for parts in [1, 2, 4, 9] {
-        let JobOutput::SweepPart(p) = run_split(&sweep_job, parts, 1) else { panic!("not a sweep") };
+        let JobOutput::SweepPart(p) = run_split(&sweep_job, parts, 1, Answers::NOISE_SWEEP) else { panic!("not a sweep") };
         assert_eq!((p.start, p.end), (0, 9));
         assert_eq!(Some(&p.points), single.sweep.as_ref().map(|s| &s.points), "{parts} parts");
     }

@@ -9,6 +9,7 @@
 
 use hysteron_core::analysis::Thresholds;
 use hysteron_core::eseries::ESeries;
+use hysteron_core::job_answers::Answers;
 use hysteron_core::jobs::{merge, split, Job, JobOutput, Running};
 use hysteron_core::record::DesignRecord;
 use hysteron_core::search::{search, SearchReport, SearchSettings};
@@ -18,7 +19,9 @@ fn record(name: &str) -> DesignRecord {
     DesignRecord::from_json(&text).unwrap()
 }
 
-/// What a worker does: read the job from JSON, run it in slices, send the output back as JSON.
+/// What a worker does: read the job from JSON, run it in slices, send the output back as JSON with
+/// its kind; the page reads it as a search's answer ([`Answers::SEARCH`], checked equal to reading
+/// the whole `JobOutput` enum).
 fn run_as_worker(job: Job, budget: u64) -> JobOutput {
     let mut job: Job = serde_json::from_str(&serde_json::to_string(&job).unwrap()).unwrap();
     let arrays = job.take_arrays();
@@ -32,14 +35,19 @@ fn run_as_worker(job: Job, budget: u64) -> JobOutput {
         assert!(p.done <= p.total && p.total == total, "{p:?}");
     }
     let out = running.finish().unwrap();
-    serde_json::from_str(&serde_json::to_string(&out).unwrap()).unwrap()
+    let json = serde_json::to_string(&out).unwrap();
+    let back = (Answers::SEARCH.read)(out.kind(), &json).unwrap();
+    assert_eq!(back, serde_json::from_str::<JobOutput>(&json).unwrap());
+    back
 }
 
 fn run_split(job: &Job, parts: usize, budget: u64) -> (usize, SearchReport) {
     let pieces = split(job, parts).unwrap();
     let n = pieces.len();
-    let outputs = pieces.into_iter().map(|j| run_as_worker(j, budget)).collect();
-    match merge(job, outputs).unwrap() {
+    let outputs: Vec<JobOutput> = pieces.into_iter().map(|j| run_as_worker(j, budget)).collect();
+    let own = (Answers::SEARCH.merge)(job, outputs.clone()).unwrap();
+    assert_eq!(own, merge(job, outputs).unwrap(), "the search's own merge equals the general one");
+    match own {
         JobOutput::Search(r) => (n, r),
         other => panic!("not a search report: {other:?}"),
     }

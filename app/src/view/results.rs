@@ -106,7 +106,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
             hysteron_core::jobs::Job::Windows { record: Box::new(only) }
         })
     });
-    let windows_run = crate::jobs::follow(windows_job);
+    let windows_run = crate::jobs::follow(windows_job, hysteron_core::job_answers::Answers::WINDOWS);
     let windows = Memo::new(move |_| {
         windows_run.result.with(|o| match o {
             Some(Ok(hysteron_core::jobs::JobOutput::Windows(w))) => Some((**w).clone()),

@@ -75,6 +75,7 @@ impl SearchState {
         let t0 = now_ms();
         let handle = crate::jobs::start(
             job,
+            hysteron_core::job_answers::Answers::SEARCH,
             move |status| self.status.set(Some(status)),
             move |out| {
                 let elapsed_ms = now_ms() - t0;
@@ -87,7 +88,7 @@ impl SearchState {
                     // change of the targets, then marked out of date).
                     Ok(JobOutput::Search(report)) => match keep {
                         Some((id, inputs)) => self.nb.keep_study(&id, move |s| {
-                            s.search = Some(Kept { inputs, result: KeptSearch { report, budget_a }, elapsed_ms })
+                            s.search = Some(Kept { inputs, result: crate::unread::Unread::new(KeptSearch { report, budget_a }), elapsed_ms })
                         }),
                         None => self.found.set(Some(Ok(report))),
                     },

@@ -245,6 +245,7 @@ pub fn SignalSection() -> impl IntoView {
         };
         let handle = crate::jobs::start(
             signal_job,
+            hysteron_core::job_answers::Answers::SIGNAL,
             move |status| progress.set(Some(status)),
             move |out| {
                 progress.set(None);
@@ -261,7 +262,7 @@ pub fn SignalSection() -> impl IntoView {
                     let elapsed_ms = crate::tick::now_ms() - t0;
                     // The report (not the samples) is kept with the design the run started on.
                     let result = r.report.clone();
-                    nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result, elapsed_ms }));
+                    nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result: crate::unread::Unread::new(result), elapsed_ms }));
                 }
                 run.set(Some(result));
             },

@@ -2,6 +2,7 @@
 
 use super::incoming::Incoming;
 use crate::storage::{self, Entry, Kept, SaveError, SetAside, Snapshot, Studies};
+use crate::unread::Unread;
 use hysteron_core::analysis::{ImpedanceChoice, Targets};
 use hysteron_core::device::Comparator;
 use hysteron_core::record::DesignRecord;
@@ -324,12 +325,15 @@ impl Notebook {
     }
 
     /// The kept result of a study of the open design, and whether it is still current.
-    pub fn study<T: Clone>(&self, study: Study, pick: fn(&Studies) -> &Option<Kept<T>>) -> Option<Shown<T>> {
+    /// (Generic over the result's type so that reading it happens in the piece of the page that
+    /// shows the study; see [`crate::unread`].)
+    pub fn study<T: Clone + serde::de::DeserializeOwned>(&self, study: Study, pick: fn(&Studies) -> &Option<Kept<Unread<T>>>) -> Option<Shown<T>> {
         let id = self.current.get()?;
         self.entries.with(|es| {
             let e = es.iter().find(|e| e.id == id)?;
             let k = pick(&e.studies).as_ref()?;
-            Some(Shown { result: k.result.clone(), elapsed_ms: k.elapsed_ms, current: k.inputs == study_inputs(study, &e.record) })
+            let result = k.result.read()?.clone();
+            Some(Shown { result, elapsed_ms: k.elapsed_ms, current: k.inputs == study_inputs(study, &e.record) })
         })
     }
 

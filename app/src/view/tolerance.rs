@@ -61,7 +61,7 @@ pub fn ToleranceSection() -> impl IntoView {
             settings: r.tolerance.clone().unwrap_or_default().without_monte_carlo(),
         })
     });
-    let wc_run = crate::jobs::follow(wc_job);
+    let wc_run = crate::jobs::follow(wc_job, hysteron_core::job_answers::Answers::WORST_CASE);
     let quick = Memo::new(move |_| {
         if wc_job.with(|j| j.is_none()) {
             return Err("no design open".into());
@@ -99,6 +99,7 @@ pub fn ToleranceSection() -> impl IntoView {
         // The result is kept with the design the run started on, even if another one is open now.
         let handle = crate::jobs::start(
             job,
+            hysteron_core::job_answers::Answers::MONTE_CARLO,
             move |status| st.progress.set(Some(status)),
             move |out| {
                 let elapsed_ms = crate::tick::now_ms() - t0;
@@ -106,7 +107,7 @@ pub fn ToleranceSection() -> impl IntoView {
                 st.progress.set(None);
                 match out {
                     Ok(hysteron_core::jobs::JobOutput::MonteCarlo(result)) => {
-                        nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result, elapsed_ms }))
+                        nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result: crate::unread::Unread::new(result), elapsed_ms }))
                     }
                     Ok(_) => st.error.set(Some("the worker returned another study's result".into())),
                     Err(e) => st.error.set(Some(e)),

@@ -9,7 +9,7 @@
 //!   taken out of the job into `text` (a string of its own, not escaped inside the JSON);
 //! - worker → page: `{ kind: "progress", done, total, unit }` once before the work starts (the
 //!   announced bound) and after each slice (at most every `slice_ms`), then
-//!   `{ kind: "result", output: "<JobOutput as JSON>", arrays: [Float64Array…] }` with the arrays
+//!   `{ kind: "result", output: "<JobOutput as JSON>", output_kind: "<JobOutput::kind>", arrays: [Float64Array…] }` with the arrays
 //!   transferred (not copied), or `{ kind: "error", message }`.
 //!
 //! Cancel: the page terminates the worker, which stops the work at once wherever it is.
@@ -103,6 +103,7 @@ mod worker {
         let o = js_sys::Object::new();
         set(&o, "kind", &"result".into());
         set(&o, "output", &json.into());
+        set(&o, "output_kind", &out.kind().into());
         set(&o, "arrays", &list);
         post(&o, Some(&transfer));
         Ok(())

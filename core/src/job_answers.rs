@@ -1,0 +1,181 @@
+//! How the page reads a worker's answer to one kind of job, and merges a split job's answers.
+//!
+//! A worker sends its [`JobOutput`] as JSON together with the output's kind
+//! ([`JobOutput::kind`]). Reading the whole [`JobOutput`] enum would put the JSON reading code of
+//! every study's result into whatever part of the page starts any job; instead each place that
+//! starts a job names the [`Answers`] for that job's kind (for instance
+//! [`Answers::MONTE_CARLO`]), which reads only the kinds that job can give and merges with that
+//! kind's own merge ([`crate::jobs::merge_monte_carlo`] …). A page built in pieces then carries a
+//! study's result code in the study's piece. A kind the job cannot give is an error with a
+//! message, never a guess.
+
+use crate::error::DesignError;
+use crate::jobs::{self, Job, JobOutput};
+use serde::de::DeserializeOwned;
+
+/// Reads one output from its kind and JSON text (the text is the whole [`JobOutput`]: the
+/// variant's fields with its `kind`).
+pub type ReadOutput = fn(kind: &str, json: &str) -> Result<JobOutput, String>;
+
+/// Merges the outputs of a job's parts (see [`crate::jobs::merge`]).
+pub type MergeOutputs = fn(&Job, Vec<JobOutput>) -> Result<JobOutput, DesignError>;
+
+/// What one kind of job answers, and how its parts' answers are put together.
+#[derive(Clone, Copy)]
+pub struct Answers {
+    /// Reads one answer.
+    pub read: ReadOutput,
+    /// Merges the parts' answers, in the order of [`crate::jobs::split`].
+    pub merge: MergeOutputs,
+}
+
+impl std::fmt::Debug for Answers {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("Answers")
+    }
+}
+
+/// The variant's fields read from `json`; the `kind` field beside them is ignored.
+fn fields<T: DeserializeOwned>(json: &str) -> Result<T, String> {
+    serde_json::from_str(json).map_err(|e| format!("the worker's result could not be read: {e}"))
+}
+
+fn unexpected(kind: &str, job: &str) -> String {
+    format!("the worker answered a {job} with a result of another kind ({kind:?})")
+}
+
+fn read_monte_carlo(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "monte_carlo" => fields(json).map(JobOutput::MonteCarlo),
+        "monte_carlo_part" => fields(json).map(JobOutput::MonteCarloPart),
+        other => Err(unexpected(other, "Monte Carlo run")),
+    }
+}
+
+fn read_worst_case(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "worst_case" => fields(json).map(JobOutput::WorstCase),
+        other => Err(unexpected(other, "worst case")),
+    }
+}
+
+fn read_windows(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "windows" => fields(json).map(|w| JobOutput::Windows(Box::new(w))),
+        other => Err(unexpected(other, "field and bench window")),
+    }
+}
+
+fn read_signal(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "signal" => fields(json).map(|s| JobOutput::Signal(Box::new(s))),
+        "sweep_part" => fields(json).map(JobOutput::SweepPart),
+        other => Err(unexpected(other, "signal test")),
+    }
+}
+
+fn read_sweep(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "sweep_part" => fields(json).map(JobOutput::SweepPart),
+        other => Err(unexpected(other, "noise sweep")),
+    }
+}
+
+fn read_capture(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "capture" => fields(json).map(JobOutput::Capture),
+        other => Err(unexpected(other, "file import")),
+    }
+}
+
+fn read_search(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "search" => fields(json).map(JobOutput::Search),
+        "search_part" => fields(json).map(JobOutput::SearchPart),
+        other => Err(unexpected(other, "standard-value search")),
+    }
+}
+
+fn read_oscillator(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "oscillator" => fields(json).map(JobOutput::Oscillator),
+        other => Err(unexpected(other, "oscillator simulation")),
+    }
+}
+
+fn read_debouncer(kind: &str, json: &str) -> Result<JobOutput, String> {
+    match kind {
+        "debouncer" => fields(json).map(JobOutput::Debouncer),
+        other => Err(unexpected(other, "debouncer simulation")),
+    }
+}
+
+impl Answers {
+    /// [`Job::MonteCarlo`]: a whole run or the parts of a split one.
+    pub const MONTE_CARLO: Answers = Answers { read: read_monte_carlo, merge: jobs::merge_monte_carlo };
+    /// [`Job::WorstCase`] (never split).
+    pub const WORST_CASE: Answers = Answers { read: read_worst_case, merge: jobs::merge_single };
+    /// [`Job::Windows`] (never split).
+    pub const WINDOWS: Answers = Answers { read: read_windows, merge: jobs::merge_single };
+    /// [`Job::Signal`]: the main pass, and the sweep's parts when split.
+    pub const SIGNAL: Answers = Answers { read: read_signal, merge: jobs::merge_signal };
+    /// [`Job::NoiseSweep`]: its levels, in parts when split.
+    pub const NOISE_SWEEP: Answers = Answers { read: read_sweep, merge: jobs::merge_sweep };
+    /// [`Job::CsvImport`] (never split).
+    pub const CAPTURE: Answers = Answers { read: read_capture, merge: jobs::merge_single };
+    /// [`Job::Search`]: a whole search or the parts of a split one.
+    pub const SEARCH: Answers = Answers { read: read_search, merge: jobs::merge_search };
+    /// [`Job::Oscillator`] (never split).
+    pub const OSCILLATOR: Answers = Answers { read: read_oscillator, merge: jobs::merge_single };
+    /// [`Job::Debouncer`] (never split).
+    pub const DEBOUNCER: Answers = Answers { read: read_debouncer, merge: jobs::merge_single };
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::jobs::Running;
+
+    fn run(job: Job) -> JobOutput {
+        let mut r = Running::start(job).unwrap();
+        while !r.progress().is_done() {
+            r.step(1 << 20).unwrap();
+        }
+        r.finish().unwrap()
+    }
+
+    /// Every output's kind is the tag serde writes for it, and reading it back by kind gives the
+    /// same output as reading the whole enum.
+    #[test]
+    fn an_answer_read_by_kind_equals_the_whole_enum_read() {
+        let record = crate::catalog::demos().into_iter().next().expect("a demo").record();
+        let circuit = record.circuit.clone();
+        let mut settings = crate::tolerance::ToleranceSettings::default();
+        settings.monte_carlo.trials = 200;
+        let cases = [
+            (Job::MonteCarlo { circuit: circuit.clone(), settings: settings.clone(), trials: None }, Answers::MONTE_CARLO),
+            (
+                Job::MonteCarlo { circuit: circuit.clone(), settings: settings.clone(), trials: Some(jobs::PartRange { start: 0, end: 50 }) },
+                Answers::MONTE_CARLO,
+            ),
+            (Job::WorstCase { circuit: circuit.clone(), settings: settings.clone() }, Answers::WORST_CASE),
+        ];
+        for (job, answers) in cases {
+            let out = run(job);
+            let json = serde_json::to_string(&out).unwrap();
+            let tag: serde_json::Value = serde_json::from_str(&json).unwrap();
+            assert_eq!(tag["kind"], out.kind(), "kind() is the serde tag");
+            let by_kind = (answers.read)(out.kind(), &json).unwrap();
+            let whole: JobOutput = serde_json::from_str(&json).unwrap();
+            assert_eq!(by_kind, whole);
+        }
+    }
+
+    #[test]
+    fn an_answer_of_another_kind_is_an_error_that_says_so() {
+        let e = (Answers::WINDOWS.read)("monte_carlo", "{}").unwrap_err();
+        assert!(e.contains("another kind") && e.contains("monte_carlo"), "{e}");
+        let e = (Answers::SEARCH.read)("search", "{\"kind\":\"search\"").unwrap_err();
+        assert!(e.contains("could not be read"), "{e}");
+    }
+}
