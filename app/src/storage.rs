@@ -343,3 +343,41 @@ pub fn remember_view(view: &View) {
         let _ = s.set_item(VIEW_KEY, &t);
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A kept study result written by another build (a shape this one cannot read) is kept through
+    /// a load and a save exactly as stored, and simply not shown; a readable one reads back.
+    #[test]
+    fn kept_results_survive_a_load_and_a_save_whether_readable_or_not() {
+        let stored = serde_json::json!({
+            "monte_carlo": { "inputs": "[1]", "result": { "yield_of_another_build": [1, 2, 3] }, "elapsed_ms": 12.5 },
+            "search": { "inputs": "[2]", "result": { "report": null, "budget_a": 1e-4 }, "elapsed_ms": 3.0 },
+            "signal": { "no_inputs": true }
+        });
+        let studies = Studies::from_value(&stored);
+        let mc = studies.monte_carlo.as_ref().expect("an unreadable result is kept");
+        assert_eq!(mc.result.read(), None, "and not shown");
+        assert!(studies.search.as_ref().expect("kept").result.read().is_none());
+        assert!(studies.signal.is_none(), "an entry that is not a kept result at all is dropped");
+        let written = studies.to_value();
+        assert_eq!(written["monte_carlo"], stored["monte_carlo"]);
+        assert_eq!(written["search"], stored["search"]);
+    }
+
+    #[test]
+    fn a_kept_monte_carlo_result_reads_back_as_kept() {
+        let record = hysteron_core::catalog::demos().into_iter().next().expect("a demo").record();
+        let mut settings = record.tolerance.clone().unwrap_or_default();
+        settings.monte_carlo.trials = 300;
+        let result = hysteron_core::tolerance::monte_carlo::monte_carlo(&record.circuit, &settings).expect("runs");
+        let kept = Kept { inputs: "x".into(), result: Unread::new(result.clone()), elapsed_ms: 4.0 };
+        let studies = Studies { monte_carlo: Some(kept), ..Studies::default() };
+        let text = serde_json::to_string(&studies.to_value()).unwrap();
+        let back = Studies::from_value(&serde_json::from_str(&text).unwrap());
+        assert_eq!(back.monte_carlo.as_ref().unwrap().result.read(), Some(&result));
+        assert_eq!(back, studies);
+    }
+}
