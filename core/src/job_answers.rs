@@ -44,71 +44,28 @@ fn unexpected(kind: &str, job: &str) -> String {
     format!("the worker answered a {job} with a result of another kind ({kind:?})")
 }
 
-fn read_monte_carlo(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "monte_carlo" => fields(json).map(JobOutput::MonteCarlo),
-        "monte_carlo_part" => fields(json).map(JobOutput::MonteCarloPart),
-        other => Err(unexpected(other, "Monte Carlo run")),
-    }
+/// Declares a reader: the output kinds one job can give, each with the variant that holds it; any
+/// other kind is an error naming the job.
+macro_rules! reader {
+    ($name:ident, $job:literal, $($kind:literal => $variant:expr),+ $(,)?) => {
+        fn $name(kind: &str, json: &str) -> Result<JobOutput, String> {
+            match kind {
+                $($kind => fields(json).map($variant),)+
+                other => Err(unexpected(other, $job)),
+            }
+        }
+    };
 }
 
-fn read_worst_case(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "worst_case" => fields(json).map(JobOutput::WorstCase),
-        other => Err(unexpected(other, "worst case")),
-    }
-}
-
-fn read_windows(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "windows" => fields(json).map(|w| JobOutput::Windows(Box::new(w))),
-        other => Err(unexpected(other, "field and bench window")),
-    }
-}
-
-fn read_signal(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "signal" => fields(json).map(|s| JobOutput::Signal(Box::new(s))),
-        "sweep_part" => fields(json).map(JobOutput::SweepPart),
-        other => Err(unexpected(other, "signal test")),
-    }
-}
-
-fn read_sweep(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "sweep_part" => fields(json).map(JobOutput::SweepPart),
-        other => Err(unexpected(other, "noise sweep")),
-    }
-}
-
-fn read_capture(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "capture" => fields(json).map(JobOutput::Capture),
-        other => Err(unexpected(other, "file import")),
-    }
-}
-
-fn read_search(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "search" => fields(json).map(JobOutput::Search),
-        "search_part" => fields(json).map(JobOutput::SearchPart),
-        other => Err(unexpected(other, "standard-value search")),
-    }
-}
-
-fn read_oscillator(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "oscillator" => fields(json).map(JobOutput::Oscillator),
-        other => Err(unexpected(other, "oscillator simulation")),
-    }
-}
-
-fn read_debouncer(kind: &str, json: &str) -> Result<JobOutput, String> {
-    match kind {
-        "debouncer" => fields(json).map(JobOutput::Debouncer),
-        other => Err(unexpected(other, "debouncer simulation")),
-    }
-}
+reader!(read_monte_carlo, "Monte Carlo run", "monte_carlo" => JobOutput::MonteCarlo, "monte_carlo_part" => JobOutput::MonteCarloPart);
+reader!(read_worst_case, "worst case", "worst_case" => JobOutput::WorstCase);
+reader!(read_windows, "field and bench window", "windows" => |w| JobOutput::Windows(Box::new(w)));
+reader!(read_signal, "signal test", "signal" => |s| JobOutput::Signal(Box::new(s)), "sweep_part" => JobOutput::SweepPart);
+reader!(read_sweep, "noise sweep", "sweep_part" => JobOutput::SweepPart);
+reader!(read_capture, "file import", "capture" => JobOutput::Capture);
+reader!(read_search, "standard-value search", "search" => JobOutput::Search, "search_part" => JobOutput::SearchPart);
+reader!(read_oscillator, "oscillator simulation", "oscillator" => JobOutput::Oscillator);
+reader!(read_debouncer, "debouncer simulation", "debouncer" => JobOutput::Debouncer);
 
 impl Answers {
     /// [`Job::MonteCarlo`]: a whole run or the parts of a split one.
