@@ -676,7 +676,7 @@ mod tests {
         assert_ne!(monte_carlo_fingerprint(7), monte_carlo_fingerprint(8));
     }
 
-    const PINNED_FINGERPRINT_SEED_7: u64 = 0x1fd5_9992_eb42_40dc;
+    const PINNED_FINGERPRINT_SEED_7: u64 = 0x1920_1c3e_1a25_1469;
 
     #[test]
     fn slices_merged_in_order_equal_one_run() {
