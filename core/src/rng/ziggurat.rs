@@ -14,7 +14,7 @@ pub(crate) const LAYERS: usize = 256;
 
 /// Right edge of the base strip for 256 layers, r = 3.6541528853610088 (Marsaglia & Tsang 2000,
 /// the value they give for n = 256).
-pub(crate) const TAIL_START: f64 = 3.654_152_885_361_008_8;
+pub(crate) const TAIL_START: f64 = 3.654_152_885_361_009;
 
 /// Layer edges `x` (x₀ … x₂₅₆, falling to 0) and the density at them, `f[i] = f(x[i])`.
 pub(crate) struct Tables {

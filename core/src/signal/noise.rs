@@ -136,6 +136,8 @@ fn one_pole() -> u8 {
 
 /// Highest number of low-pass stages a band-limited source may have.
 pub const MAX_POLES: u8 = 4;
+/// [`MAX_POLES`] as a stage count.
+const MAX_POLES_USIZE: usize = MAX_POLES as usize;
 
 impl NoiseSource {
     /// Checks the source's values for a signal sampled at `sample_rate_hz`.
@@ -400,9 +402,10 @@ impl NoiseGenerator {
                     }
                     cascade.state[0] = x;
                 } else {
-                    for v in out.iter_mut() {
-                        *v += cascade.state[cascade.n - 1];
-                        cascade.step(rng);
+                    match cascade.n {
+                        2 => cascade.add_output_to::<2>(out, rng),
+                        3 => cascade.add_output_to::<3>(out, rng),
+                        _ => cascade.add_output_to::<MAX_POLES_USIZE>(out, rng),
                     }
                 }
             }
@@ -589,7 +592,35 @@ impl PoleCascade {
 
     /// Advances the state by one sample interval.
     #[inline]
-    pub(crate) fn step(&mut self, rng: &mut Rng) {
+    /// Adds the last stage's output to each sample of `out`, stepping the cascade after each:
+    /// the same arithmetic as [`PoleCascade::step`] in the same order, with the stage count `N`
+    /// (which must equal `self.n`) known to the compiler so that the loops unroll.
+    fn add_output_to<const N: usize>(&mut self, out: &mut [f64], rng: &mut Rng) {
+        debug_assert_eq!(N, self.n);
+        let (phi, chol) = (self.phi, self.chol);
+        let mut state = self.state;
+        for v in out.iter_mut() {
+            *v += state[N - 1];
+            let mut w = [0.0; 4];
+            for x in w.iter_mut().take(N) {
+                *x = rng.normal();
+            }
+            let old = state;
+            for j in 0..N {
+                let mut s = 0.0;
+                for k in 0..=j {
+                    s += phi[j][k] * old[k] + chol[j][k] * w[k];
+                }
+                state[j] = s;
+            }
+        }
+        self.state = state;
+    }
+
+    /// One step of the cascade for any stage count: x ← Φx + Lw with w standard normal (the
+    /// reference [`PoleCascade::add_output_to`] is checked against).
+    #[cfg(test)]
+    fn step(&mut self, rng: &mut Rng) {
         let n = self.n;
         let mut w = [0.0; 4];
         for x in w.iter_mut().take(n) {
@@ -609,6 +640,28 @@ impl PoleCascade {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn unrolled_cascades_give_the_same_bits_as_the_general_step() {
+        for poles in 1..=MAX_POLES {
+            let source = NoiseSource::BandLimited {
+                rms_v: 0.1,
+                corner_hz: 2e3,
+                poles,
+            };
+            let mut fast = vec![0.25; 5000];
+            add_noise(&source, 11, 1e-5, &mut fast);
+            // The general step, sample by sample, from the same start.
+            let mut rng = Rng::new(11);
+            let mut cascade = PoleCascade::new(0.1, 2e3, poles, 1e-5);
+            cascade.start(&mut rng);
+            for (i, &got) in fast.iter().enumerate() {
+                let want = 0.25 + cascade.state[cascade.n - 1];
+                assert_eq!(got.to_bits(), want.to_bits(), "poles {poles}, sample {i}");
+                cascade.step(&mut rng);
+            }
+        }
+    }
 
     fn stats(x: &[f64]) -> (f64, f64) {
         let n = x.len() as f64;
