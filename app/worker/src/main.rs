@@ -127,9 +127,10 @@ mod worker {
         Ok(())
     }
 
-    /// Runs a small Monte Carlo and a small search of the first template once, before the worker
-    /// says it is ready, so the engine has compiled their hot loops at full speed before the first
-    /// real study (a fresh worker's first run is otherwise slower). Results are dropped.
+    /// Runs a small Monte Carlo and a small search of the first template and a short signal study
+    /// once, before the worker says it is ready, so the engine has compiled their hot loops at full
+    /// speed before the first real study (a fresh worker's first run is otherwise slower: a first
+    /// 1 M-sample signal study took about twice as long as the next one). Results are dropped.
     fn warm_up() {
         let Some(r) = hysteron_core::catalog::templates()
             .first()
@@ -158,6 +159,43 @@ mod worker {
             };
             let _ = Running::start(search).and_then(|j| j.run_to_end(u64::MAX));
         }
+        warm_up_signal();
+    }
+
+    /// A short signal study (the first demo that has one, 40,000 samples), so that the signal
+    /// chain's loops are compiled at full speed before the first real study too.
+    fn warm_up_signal() {
+        let Some(mut r) = hysteron_core::catalog::demos()
+            .into_iter()
+            .map(|d| d.record())
+            .find(|r| r.signal.is_some())
+        else {
+            return;
+        };
+        let Some(mut settings) = r.signal.take() else {
+            return;
+        };
+        settings.definition.sample_rate_hz = 200e3;
+        settings.definition.duration_s = 0.2;
+        settings.sweep = None;
+        r.signal = Some(settings.clone());
+        let Ok((design, front)) = hysteron_core::input_network::from_record::signal_design(&r)
+        else {
+            return;
+        };
+        let output = hysteron_core::overview::dynamics(&r)
+            .0
+            .and_then(|x| x.ok())
+            .map(Box::new);
+        let job = Job::Signal {
+            design,
+            settings,
+            capture: None,
+            display_points: 4000,
+            output,
+            front,
+        };
+        let _ = Running::start(job).and_then(|j| j.run_to_end(u64::MAX));
     }
 
     pub fn start() {
