@@ -162,38 +162,62 @@ mod worker {
         warm_up_signal();
     }
 
-    /// A short signal study (the first demo that has one, 40,000 samples), so that the signal
-    /// chain's loops are compiled at full speed before the first real study too.
+    /// A short signal study (40,000 samples of a noisy sine with hum and band-limited noise, the
+    /// kinds of source the demos use), so that the signal chain's loops are compiled at full speed
+    /// before the first real study too. Built here rather than read from a demo record, so the
+    /// worker does not carry the demo catalogue.
     fn warm_up_signal() {
-        let Some(mut r) = hysteron_core::catalog::demos()
-            .into_iter()
-            .map(|d| d.record())
-            .find(|r| r.signal.is_some())
-        else {
-            return;
+        use hysteron_core::analysis::{Sense, Thresholds};
+        use hysteron_core::signal::generate::{Component, SignalDefinition};
+        use hysteron_core::signal::noise::{MainsFrequency, NoiseSource};
+        use hysteron_core::signal::report::SignalSettings;
+        use hysteron_core::signal::trigger::TriggerDesign;
+        let settings = SignalSettings {
+            definition: SignalDefinition {
+                sample_rate_hz: 200e3,
+                duration_s: 0.2,
+                seed: 1,
+                components: vec![
+                    Component::Dc { level_v: 2.5 },
+                    Component::Sine {
+                        amplitude_v: 2.0,
+                        frequency_hz: 40.0,
+                        phase_deg: 0.0,
+                    },
+                ],
+                noise: vec![
+                    NoiseSource::Hum {
+                        mains: MainsFrequency::Hz50,
+                        amplitude_v: 0.05,
+                        phase_deg: 0.0,
+                        harmonics: vec![],
+                    },
+                    NoiseSource::BandLimited {
+                        rms_v: 0.03,
+                        corner_hz: 5e3,
+                        poles: 2,
+                    },
+                    NoiseSource::White { rms_v: 0.01 },
+                ],
+            },
+            ..Default::default()
         };
-        let Some(mut settings) = r.signal.take() else {
-            return;
+        let design = TriggerDesign {
+            thresholds: Thresholds {
+                vt_upper_v: 3.0,
+                vt_lower_v: 2.0,
+            },
+            output_high_v: 5.0,
+            output_low_v: 0.0,
+            sense: Sense::Inverting,
         };
-        settings.definition.sample_rate_hz = 200e3;
-        settings.definition.duration_s = 0.2;
-        settings.sweep = None;
-        r.signal = Some(settings.clone());
-        let Ok((design, front)) = hysteron_core::input_network::from_record::signal_design(&r)
-        else {
-            return;
-        };
-        let output = hysteron_core::overview::dynamics(&r)
-            .0
-            .and_then(|x| x.ok())
-            .map(Box::new);
         let job = Job::Signal {
             design,
             settings,
             capture: None,
             display_points: 4000,
-            output,
-            front,
+            output: None,
+            front: None,
         };
         let _ = Running::start(job).and_then(|j| j.run_to_end(u64::MAX));
     }
