@@ -61,11 +61,7 @@ pub fn format_value(value: f64, _unit: &str) -> String {
 /// otherwise the whole message.
 pub fn message_for(error: &DesignError, key: &str) -> String {
     match error {
-        DesignError::InvalidValue { field, reason }
-            if field == key || field.ends_with(&format!(".{key}")) =>
-        {
-            reason.clone()
-        }
+        DesignError::InvalidValue { field, reason } if field == key || field.ends_with(&format!(".{key}")) => reason.clone(),
         other => other.to_string(),
     }
 }
@@ -76,11 +72,7 @@ pub fn whole_number(v: f64, min: f64, max: f64) -> Option<String> {
     if v.fract() != 0.0 {
         Some(format!("must be a whole number (got {v})"))
     } else if v < min || v > max {
-        Some(format!(
-            "must be from {} to {}",
-            fmt_plain(min),
-            fmt_plain(max)
-        ))
+        Some(format!("must be from {} to {}", fmt_plain(min), fmt_plain(max)))
     } else {
         None
     }
@@ -151,11 +143,7 @@ fn number_field(
     });
     let accept = move |t: &str| -> Result<Option<f64>, String> {
         if t.trim().is_empty() {
-            return if optional {
-                Ok(None)
-            } else {
-                Err("enter a value".into())
-            };
+            return if optional { Ok(None) } else { Err("enter a value".into()) };
         }
         let v = match quantity {
             Some(q) => parse_quantity(t, q)?,

@@ -62,11 +62,7 @@ pub struct JobStatus {
 impl JobStatus {
     /// Fraction done, 0 to 1.
     pub fn fraction(&self) -> f64 {
-        Progress {
-            done: self.done,
-            total: self.total,
-        }
-        .fraction()
+        Progress { done: self.done, total: self.total }.fraction()
     }
 
     /// Milliseconds left, from the rate so far (`None` before any progress).
@@ -100,10 +96,7 @@ fn take_note() -> Option<&'static str> {
 
 /// Marks where studies run on `<html data-compute>` (`workers` or `page`).
 fn mark(place: &str) {
-    if let Some(e) = web_sys::window()
-        .and_then(|w| w.document())
-        .and_then(|d| d.document_element())
-    {
+    if let Some(e) = web_sys::window().and_then(|w| w.document()).and_then(|d| d.document_element()) {
         let _ = e.set_attribute("data-compute", place);
     }
 }
@@ -138,13 +131,8 @@ fn field(v: &JsValue, k: &str) -> JsValue {
 /// A fresh worker; `on_ready` runs when its module has loaded, `on_fail` (instead) when it cannot
 /// be started, reports an error before it is ready, or is not ready within [`READY_TIMEOUT_MS`].
 /// Returns false when the browser refused at once (`on_fail` has not run).
-fn spawn(
-    on_ready: impl FnOnce(web_sys::Worker) + 'static,
-    on_fail: impl FnOnce() + 'static,
-) -> bool {
-    let Ok(w) = web_sys::Worker::new(&worker_url()) else {
-        return false;
-    };
+fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce() + 'static) -> bool {
+    let Ok(w) = web_sys::Worker::new(&worker_url()) else { return false };
     // Exactly one of the two runs.
     let outcome: Rc<RefCell<Option<(Box<dyn FnOnce(web_sys::Worker)>, Box<dyn FnOnce()>)>>> =
         Rc::new(RefCell::new(Some((Box::new(on_ready), Box::new(on_fail)))));
@@ -258,11 +246,7 @@ impl Shared {
         let all_known = self.parts.iter().all(|p| p.total.is_some());
         JobStatus {
             done: self.parts.iter().map(|p| p.done).sum(),
-            total: if all_known {
-                self.parts.iter().filter_map(|p| p.total).sum()
-            } else {
-                0
-            },
+            total: if all_known { self.parts.iter().filter_map(|p| p.total).sum() } else { 0 },
             unit: self.unit.clone(),
             started_ms: self.started_ms,
             now_ms: crate::tick::now_ms(),
@@ -326,23 +310,16 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
             cb(status);
         }
         "error" => {
-            let m = field(&data, "message")
-                .as_string()
-                .unwrap_or_else(|| "the study failed in the worker".into());
+            let m = field(&data, "message").as_string().unwrap_or_else(|| "the study failed in the worker".into());
             finish(shared, Err(m));
         }
         "result" => {
             let text = field(&data, "output").as_string().unwrap_or_default();
             let kind = field(&data, "output_kind").as_string().unwrap_or_default();
-            let arrays = js_sys::Array::from(&field(&data, "arrays"))
-                .iter()
-                .map(js_sys::Float64Array::from)
-                .collect();
+            let arrays = js_sys::Array::from(&field(&data, "arrays")).iter().map(js_sys::Float64Array::from).collect();
             // A large result (a 10 M-sample signal study) is copied over several tasks.
             let shared = shared.clone();
-            crate::transfer::copy_in_slices(arrays, move |arrays| {
-                take_result(&shared, index, &kind, &text, arrays)
-            });
+            crate::transfer::copy_in_slices(arrays, move |arrays| take_result(&shared, index, &kind, &text, arrays));
         }
         _ => {}
     }
@@ -350,13 +327,7 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
 
 /// A part's result, its arrays copied in: kept, its worker returned to the pool, and the job
 /// finished once every part has answered (nothing when the job was cancelled meanwhile).
-fn take_result(
-    shared: &Rc<RefCell<Shared>>,
-    index: usize,
-    kind: &str,
-    text: &str,
-    arrays: Vec<Vec<f64>>,
-) {
+fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &str, arrays: Vec<Vec<f64>>) {
     let answers = {
         let s = shared.borrow();
         if s.finished || s.on_page || index >= s.parts.len() {
@@ -391,10 +362,7 @@ fn take_result(
             let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
             (s.job.clone(), outputs)
         };
-        finish(
-            shared,
-            (answers.merge)(&job, outputs).map_err(|e| e.to_string()),
-        );
+        finish(shared, (answers.merge)(&job, outputs).map_err(|e| e.to_string()));
     }
 }
 
@@ -404,23 +372,14 @@ fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Wo
         return;
     }
     let sh = shared.clone();
-    let cb = Closure::<dyn FnMut(web_sys::MessageEvent)>::new(move |ev: web_sys::MessageEvent| {
-        on_message(&sh, index, ev.data())
-    });
+    let cb = Closure::<dyn FnMut(web_sys::MessageEvent)>::new(move |ev: web_sys::MessageEvent| on_message(&sh, index, ev.data()));
     w.set_onmessage(Some(cb.as_ref().unchecked_ref()));
     // A worker that dies during the job (an uncaught error) ends the job with a message.
     let sh = shared.clone();
     let on_error = Closure::once_into_js(move |ev: web_sys::Event| {
         ev.prevent_default();
-        let why = field(&ev, "message")
-            .as_string()
-            .unwrap_or_else(|| "an error".into());
-        finish(
-            &sh,
-            Err(format!(
-                "the background worker stopped ({why}); run the study again"
-            )),
-        );
+        let why = field(&ev, "message").as_string().unwrap_or_else(|| "an error".into());
+        finish(&sh, Err(format!("the background worker stopped ({why}); run the study again")));
     });
     w.set_onerror(Some(on_error.unchecked_ref()));
     let arrays = job.take_arrays();
@@ -459,10 +418,7 @@ fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Wo
         s.parts[index]._on_message = Some(cb);
     }
     if w.post_message_with_transfer(&msg, &transfer).is_err() {
-        finish(
-            shared,
-            Err("the job could not be sent to the worker".into()),
-        );
+        finish(shared, Err("the job could not be sent to the worker".into()));
     }
 }
 
@@ -525,17 +481,8 @@ pub fn start_import(
     on_progress: impl Fn(JobStatus) + 'static,
     on_done: impl FnOnce(Result<JobOutput, String>) + 'static,
 ) -> JobHandle {
-    let job = Job::CsvImport {
-        text: String::new(),
-        options,
-    };
-    start_with(
-        job,
-        Answers::CAPTURE,
-        Some(text),
-        Box::new(on_progress),
-        Box::new(on_done),
-    )
+    let job = Job::CsvImport { text: String::new(), options };
+    start_with(job, Answers::CAPTURE, Some(text), Box::new(on_progress), Box::new(on_done))
 }
 
 fn start_with(
@@ -561,22 +508,17 @@ fn start_with(
         on_done: Some(on_done),
         text,
     }));
-    let handle = JobHandle {
-        shared: shared.clone(),
-    };
+    let handle = JobHandle { shared: shared.clone() };
     if refused {
         run_on_page(&shared);
         return handle;
     }
     for (i, part) in parts.into_iter().enumerate() {
         let (sh, sh2) = (shared.clone(), shared.clone());
-        if !acquire(
-            move |w| send(&sh, i, part, w),
-            move || {
-                refuse_workers();
-                run_on_page(&sh2);
-            },
-        ) {
+        if !acquire(move |w| send(&sh, i, part, w), move || {
+            refuse_workers();
+            run_on_page(&sh2);
+        }) {
             refuse_workers();
             run_on_page(&shared);
             break;
@@ -587,13 +529,7 @@ fn start_with(
 
 impl Default for Part {
     fn default() -> Part {
-        Part {
-            worker: None,
-            done: 0,
-            total: None,
-            output: None,
-            _on_message: None,
-        }
+        Part { worker: None, done: 0, total: None, output: None, _on_message: None }
     }
 }
 
@@ -651,10 +587,7 @@ fn run_job_on_page(shared: &Rc<RefCell<Shared>>, job: Job) {
 
 /// See [`run_job_on_page`].
 #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(run_on_page, wasm_split_path = leptos::wasm_split, fallible))]
-fn run_on_page_piece(
-    shared: Rc<RefCell<Shared>>,
-    job: Job,
-) -> Result<(), crate::piece::PieceMissing> {
+fn run_on_page_piece(shared: Rc<RefCell<Shared>>, job: Job) -> Result<(), crate::piece::PieceMissing> {
     let shared = &shared;
     match Running::start(job) {
         Err(e) => finish(shared, Err(e.to_string())),
@@ -753,9 +686,5 @@ pub fn follow(job: leptos::prelude::Memo<Option<Job>>, answers: Answers) -> Foll
             running.set_value(Some(handle));
         }
     });
-    Followed {
-        result,
-        status,
-        cancel: Callback::new(move |_| stop()),
-    }
+    Followed { result, status, cancel: Callback::new(move |_| stop()) }
 }

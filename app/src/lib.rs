@@ -5,15 +5,16 @@
 
 pub mod download;
 pub mod fields;
-pub mod jobs;
 pub mod panic;
 pub mod piece;
+pub mod jobs;
 pub mod plot;
 pub mod storage;
 pub mod tick;
 pub mod transfer;
 pub mod unread;
 pub mod view;
+
 
 /// Installs the readable panic banner and mounts the page into `<body>`.
 pub fn start() {

@@ -14,9 +14,7 @@ pub fn install() {
 
 /// Writes a fixed banner at the top of the page (as text, never as markup).
 pub fn show_banner(message: &str) {
-    let Some(doc) = web_sys::window().and_then(|w| w.document()) else {
-        return;
-    };
+    let Some(doc) = web_sys::window().and_then(|w| w.document()) else { return };
     let Some(body) = doc.body() else { return };
     if let Ok(el) = doc.create_element("div") {
         el.set_id("fatal-banner");

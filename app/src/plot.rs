@@ -1,10 +1,10 @@
 //! Drawing the series that `core` produces onto canvases with plotters-canvas, sized for the
 //! screen's device-pixel ratio so lines stay crisp on high-DPI screens.
 
-use canvas2d::Canvas2d as CanvasBackend;
 use hysteron_core::topology::TransferCurve;
 use plotters::coord::ranged1d::Ranged;
 use plotters::prelude::*;
+use canvas2d::Canvas2d as CanvasBackend;
 use web_sys::HtmlCanvasElement;
 
 /// The canvas backend the plots draw through: plotters-canvas for shapes, with text drawn and
@@ -16,10 +16,7 @@ use web_sys::HtmlCanvasElement;
 mod canvas2d {
     use plotters::prelude::*;
     use plotters_backend::text_anchor::{HPos, VPos};
-    use plotters_backend::{
-        BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingErrorKind, FontStyle,
-        FontTransform,
-    };
+    use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingErrorKind, FontStyle, FontTransform};
     use plotters_canvas::CanvasBackend as Shapes;
     use wasm_bindgen::JsCast;
     use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
@@ -59,8 +56,7 @@ mod canvas2d {
     impl Canvas2d {
         /// The backend for a canvas; `None` when it has no 2D context.
         pub fn with_canvas_object(canvas: HtmlCanvasElement) -> Option<Self> {
-            let context: CanvasRenderingContext2d =
-                canvas.get_context("2d").ok()??.dyn_into().ok()?;
+            let context: CanvasRenderingContext2d = canvas.get_context("2d").ok()??.dyn_into().ok()?;
             let shapes = Shapes::with_canvas_object(canvas)?;
             // A text direction of its own: the default ("inherit") makes every text drawn or
             // measured read the canvas element's computed style (web-sys binds the property only
@@ -69,14 +65,7 @@ mod canvas2d {
             // Whatever the context holds from an earlier drawing is set again on first use.
             // The font the context has (from an earlier drawing): when it is the one wanted, it is not set at all.
             let font = std::cell::RefCell::new(context.font());
-            Some(Canvas2d {
-                shapes,
-                context,
-                font,
-                fill: String::new(),
-                baseline: "",
-                align: "",
-            })
+            Some(Canvas2d { shapes, context, font, fill: String::new(), baseline: "", align: "" })
         }
 
         /// Sets the font, written as the browser writes it back ("12px sans-serif", "bold 12px
@@ -86,12 +75,7 @@ mod canvas2d {
         fn set_font<S: BackendTextStyle>(&self, style: &S) {
             let font = match style.style() {
                 FontStyle::Normal => format!("{}px {}", style.size(), style.family().as_str()),
-                other => format!(
-                    "{} {}px {}",
-                    other.as_str(),
-                    style.size(),
-                    style.family().as_str()
-                ),
+                other => format!("{} {}px {}", other.as_str(), style.size(), style.family().as_str()),
             };
             let mut current = self.font.borrow_mut();
             if font != *current {
@@ -101,13 +85,9 @@ mod canvas2d {
         }
     }
 
-    fn map<E: std::error::Error + Send + Sync>(
-        e: DrawingErrorKind<E>,
-    ) -> DrawingErrorKind<CanvasError> {
+    fn map<E: std::error::Error + Send + Sync>(e: DrawingErrorKind<E>) -> DrawingErrorKind<CanvasError> {
         match e {
-            DrawingErrorKind::DrawingError(e) => {
-                DrawingErrorKind::DrawingError(CanvasError(e.to_string()))
-            }
+            DrawingErrorKind::DrawingError(e) => DrawingErrorKind::DrawingError(CanvasError(e.to_string())),
             DrawingErrorKind::FontError(e) => DrawingErrorKind::FontError(e),
         }
     }
@@ -127,108 +107,49 @@ mod canvas2d {
             Ok(())
         }
 
-        fn draw_pixel(
-            &mut self,
-            point: BackendCoord,
-            color: BackendColor,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> Result<(), DrawingErrorKind<CanvasError>> {
             self.fill.clear();
             self.shapes.draw_pixel(point, color).map_err(map)
         }
 
-        fn draw_line<S: BackendStyle>(
-            &mut self,
-            from: BackendCoord,
-            to: BackendCoord,
-            style: &S,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn draw_line<S: BackendStyle>(&mut self, from: BackendCoord, to: BackendCoord, style: &S) -> Result<(), DrawingErrorKind<CanvasError>> {
             self.shapes.draw_line(from, to, style).map_err(map)
         }
 
-        fn draw_rect<S: BackendStyle>(
-            &mut self,
-            upper_left: BackendCoord,
-            bottom_right: BackendCoord,
-            style: &S,
-            fill: bool,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn draw_rect<S: BackendStyle>(&mut self, upper_left: BackendCoord, bottom_right: BackendCoord, style: &S, fill: bool) -> Result<(), DrawingErrorKind<CanvasError>> {
             self.fill.clear();
-            self.shapes
-                .draw_rect(upper_left, bottom_right, style, fill)
-                .map_err(map)
+            self.shapes.draw_rect(upper_left, bottom_right, style, fill).map_err(map)
         }
 
-        fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
-            &mut self,
-            path: I,
-            style: &S,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, path: I, style: &S) -> Result<(), DrawingErrorKind<CanvasError>> {
             self.shapes.draw_path(path, style).map_err(map)
         }
 
-        fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
-            &mut self,
-            vert: I,
-            style: &S,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, vert: I, style: &S) -> Result<(), DrawingErrorKind<CanvasError>> {
             self.fill.clear();
             self.shapes.fill_polygon(vert, style).map_err(map)
         }
 
-        fn draw_circle<S: BackendStyle>(
-            &mut self,
-            center: BackendCoord,
-            radius: u32,
-            style: &S,
-            fill: bool,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn draw_circle<S: BackendStyle>(&mut self, center: BackendCoord, radius: u32, style: &S, fill: bool) -> Result<(), DrawingErrorKind<CanvasError>> {
             self.fill.clear();
-            self.shapes
-                .draw_circle(center, radius, style, fill)
-                .map_err(map)
+            self.shapes.draw_circle(center, radius, style, fill).map_err(map)
         }
 
-        fn estimate_text_size<S: BackendTextStyle>(
-            &self,
-            text: &str,
-            style: &S,
-        ) -> Result<(u32, u32), DrawingErrorKind<CanvasError>> {
+        fn estimate_text_size<S: BackendTextStyle>(&self, text: &str, style: &S) -> Result<(u32, u32), DrawingErrorKind<CanvasError>> {
             self.set_font(style);
             // measureText through the object itself (web-sys binds it only with its TextMetrics feature).
             let context: &wasm_bindgen::JsValue = self.context.as_ref();
             let measure = js_sys::Reflect::get(context, &"measureText".into()).map_err(cast)?;
-            let m = measure
-                .dyn_into::<js_sys::Function>()
-                .map_err(cast)?
-                .call1(context, &text.into())
-                .map_err(cast)?;
-            let number = |k: &str| {
-                js_sys::Reflect::get(&m, &k.into())
-                    .ok()
-                    .and_then(|v| v.as_f64())
-                    .unwrap_or(f64::NAN)
-            };
+            let m = measure.dyn_into::<js_sys::Function>().map_err(cast)?.call1(context, &text.into()).map_err(cast)?;
+            let number = |k: &str| js_sys::Reflect::get(&m, &k.into()).ok().and_then(|v| v.as_f64()).unwrap_or(f64::NAN);
             let width = number("width");
-            let width = if width.is_finite() {
-                width
-            } else {
-                text.chars().count() as f64 * style.size() * 0.6
-            };
+            let width = if width.is_finite() { width } else { text.chars().count() as f64 * style.size() * 0.6 };
             let height = number("fontBoundingBoxAscent") + number("fontBoundingBoxDescent");
-            let height = if height.is_finite() && height > 0.0 {
-                height
-            } else {
-                style.size() * 1.15
-            };
+            let height = if height.is_finite() && height > 0.0 { height } else { style.size() * 1.15 };
             Ok((width.ceil().max(0.0) as u32, height.ceil() as u32))
         }
 
-        fn draw_text<S: BackendTextStyle>(
-            &mut self,
-            text: &str,
-            style: &S,
-            pos: BackendCoord,
-        ) -> Result<(), DrawingErrorKind<CanvasError>> {
+        fn draw_text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<CanvasError>> {
             let color = style.color();
             if color.alpha == 0.0 {
                 return Ok(());
@@ -355,14 +276,8 @@ fn time_unit(t_max_s: f64) -> (f64, &'static str) {
 /// (see [`redraw`]): reading it after an edit changed the page would make the browser lay out the
 /// whole page at once, in the middle of the edit, instead of once before it paints.
 fn css_size(canvas: &HtmlCanvasElement) -> Option<(f64, f64, f64)> {
-    let dpr = web_sys::window()
-        .map(|w| w.device_pixel_ratio())
-        .unwrap_or(1.0);
-    let dpr = if dpr.is_finite() && dpr > 0.0 {
-        dpr
-    } else {
-        1.0
-    };
+    let dpr = web_sys::window().map(|w| w.device_pixel_ratio()).unwrap_or(1.0);
+    let dpr = if dpr.is_finite() && dpr > 0.0 { dpr } else { 1.0 };
     let (w, h) = match redraw::known_size(canvas) {
         Some(size) => size,
         None => {
@@ -411,12 +326,7 @@ mod redraw {
 
     /// The kept CSS size of a drawn canvas.
     pub fn known_size(canvas: &HtmlCanvasElement) -> Option<(f64, f64)> {
-        ENTRIES.with(|e| {
-            e.borrow()
-                .iter()
-                .find(|x| &x.canvas == canvas)
-                .and_then(|x| x.size)
-        })
+        ENTRIES.with(|e| e.borrow().iter().find(|x| &x.canvas == canvas).and_then(|x| x.size))
     }
 
     /// Keeps a drawn canvas's CSS size as just read (nothing for a canvas not drawn through [`keep`]).
@@ -435,11 +345,7 @@ mod redraw {
 
     fn forget_size(canvas: Option<&HtmlCanvasElement>) {
         ENTRIES.with(|e| {
-            for x in e
-                .borrow_mut()
-                .iter_mut()
-                .filter(|x| canvas.is_none_or(|c| &x.canvas == c))
-            {
+            for x in e.borrow_mut().iter_mut().filter(|x| canvas.is_none_or(|c| &x.canvas == c)) {
                 x.size = None;
             }
         });
@@ -452,10 +358,7 @@ mod redraw {
 
     fn stale(canvas: &HtmlCanvasElement) -> bool {
         match super::css_size(canvas) {
-            Some((w, h, dpr)) => {
-                canvas.width() != (w * dpr).round() as u32
-                    || canvas.height() != (h * dpr).round() as u32
-            }
+            Some((w, h, dpr)) => canvas.width() != (w * dpr).round() as u32 || canvas.height() != (h * dpr).round() as u32,
             None => false,
         }
     }
@@ -463,8 +366,7 @@ mod redraw {
     /// Redraws every kept canvas whose backing store no longer matches its size × pixel ratio.
     fn redraw_stale() {
         forget_size(None);
-        let canvases: Vec<HtmlCanvasElement> =
-            ENTRIES.with(|e| e.borrow().iter().map(|x| x.canvas.clone()).collect());
+        let canvases: Vec<HtmlCanvasElement> = ENTRIES.with(|e| e.borrow().iter().map(|x| x.canvas.clone()).collect());
         for c in canvases.iter().filter(|c| stale(c)) {
             redraw(c);
         }
@@ -477,16 +379,11 @@ mod redraw {
         let Some(w) = web_sys::window() else { return };
         let query = format!("(resolution: {}dppx)", w.device_pixel_ratio());
         let call = |target: &JsValue, name: &str, args: &[JsValue]| -> Option<JsValue> {
-            let f = js_sys::Reflect::get(target, &name.into())
-                .ok()?
-                .dyn_into::<js_sys::Function>()
-                .ok()?;
+            let f = js_sys::Reflect::get(target, &name.into()).ok()?.dyn_into::<js_sys::Function>().ok()?;
             let args: js_sys::Array = args.iter().collect();
             f.apply(target, &args).ok()
         };
-        let Some(list) = call(&w, "matchMedia", &[query.into()]) else {
-            return;
-        };
+        let Some(list) = call(&w, "matchMedia", &[query.into()]) else { return };
         let on_change = Closure::once_into_js(move || {
             redraw_stale();
             watch_ratio();
@@ -511,10 +408,7 @@ mod redraw {
                 redraw_stale();
             }
         });
-        let _ = w.set_interval_with_callback_and_timeout_and_arguments_0(
-            tick.as_ref().unchecked_ref(),
-            250,
-        );
+        let _ = w.set_interval_with_callback_and_timeout_and_arguments_0(tick.as_ref().unchecked_ref(), 250);
         tick.forget();
     }
 
@@ -526,12 +420,8 @@ mod redraw {
                 poll_ratio();
                 let cb = Closure::<dyn FnMut(js_sys::Array)>::new(|entries: js_sys::Array| {
                     for e in entries.iter() {
-                        let Ok(target) = js_sys::Reflect::get(&e, &"target".into()) else {
-                            continue;
-                        };
-                        let Ok(canvas) = target.dyn_into::<HtmlCanvasElement>() else {
-                            continue;
-                        };
+                        let Ok(target) = js_sys::Reflect::get(&e, &"target".into()) else { continue };
+                        let Ok(canvas) = target.dyn_into::<HtmlCanvasElement>() else { continue };
                         forget_size(Some(&canvas));
                         if stale(&canvas) {
                             redraw(&canvas);
@@ -544,11 +434,7 @@ mod redraw {
                 // capturing listener runs before the page's own listeners of the event.
                 let on_resize = Closure::<dyn FnMut()>::new(|| forget_size(None));
                 if let Some(w) = web_sys::window() {
-                    let _ = w.add_event_listener_with_callback_and_bool(
-                        "resize",
-                        on_resize.as_ref().unchecked_ref(),
-                        true,
-                    );
+                    let _ = w.add_event_listener_with_callback_and_bool("resize", on_resize.as_ref().unchecked_ref(), true);
                 }
                 on_resize.forget();
                 *o = Some((obs, cb));
@@ -558,12 +444,7 @@ mod redraw {
     }
 
     fn redraw(canvas: &HtmlCanvasElement) {
-        let draw = ENTRIES.with(|e| {
-            e.borrow()
-                .iter()
-                .find(|x| &x.canvas == canvas)
-                .map(|x| x.draw.clone())
-        });
+        let draw = ENTRIES.with(|e| e.borrow().iter().find(|x| &x.canvas == canvas).map(|x| x.draw.clone()));
         if let Some(draw) = draw {
             let frame = draw(canvas);
             set_frame(canvas, frame);
@@ -590,12 +471,7 @@ mod redraw {
                     true
                 }
                 None => {
-                    e.push(Entry {
-                        canvas: canvas.clone(),
-                        draw: draw.clone(),
-                        frame: None,
-                        size: None,
-                    });
+                    e.push(Entry { canvas: canvas.clone(), draw: draw.clone(), frame: None, size: None });
                     false
                 }
             }
@@ -606,11 +482,8 @@ mod redraw {
                 // to another screen, browser zoom) redraws too; browsers without that box get the
                 // plain content box.
                 let opts = js_sys::Object::new();
-                let _ =
-                    js_sys::Reflect::set(&opts, &"box".into(), &"device-pixel-content-box".into());
-                let observe = js_sys::Reflect::get(&obs, &"observe".into())
-                    .ok()
-                    .and_then(|f| f.dyn_into::<js_sys::Function>().ok());
+                let _ = js_sys::Reflect::set(&opts, &"box".into(), &"device-pixel-content-box".into());
+                let observe = js_sys::Reflect::get(&obs, &"observe".into()).ok().and_then(|f| f.dyn_into::<js_sys::Function>().ok());
                 if observe.is_none_or(|f| f.call2(&obs, canvas, &opts).is_err()) {
                     obs.observe(canvas);
                 }
@@ -633,21 +506,12 @@ mod redraw {
     /// Whether the canvas lies inside a closed fold (`<details>` without `open`), so it is not
     /// shown. A selector match up the ancestors: no style or layout is computed.
     fn folded(canvas: &HtmlCanvasElement) -> bool {
-        canvas
-            .closest("details:not([open])")
-            .ok()
-            .flatten()
-            .is_some()
+        canvas.closest("details:not([open])").ok().flatten().is_some()
     }
 
     /// The frame of the canvas's latest drawing.
     pub fn frame(canvas: &HtmlCanvasElement) -> Option<PlotFrame> {
-        ENTRIES.with(|e| {
-            e.borrow()
-                .iter()
-                .find(|x| &x.canvas == canvas)
-                .and_then(|x| x.frame)
-        })
+        ENTRIES.with(|e| e.borrow().iter().find(|x| &x.canvas == canvas).and_then(|x| x.frame))
     }
 }
 
@@ -695,13 +559,7 @@ fn frame_of<DB: DrawingBackend, X: Ranged<ValueType = f64>, Y: Ranged<ValueType 
     dpr: f64,
 ) -> PlotFrame {
     let (rx, ry) = chart.plotting_area().get_pixel_range();
-    PlotFrame {
-        px_x: (rx.start, rx.end),
-        px_y: (ry.start, ry.end),
-        x,
-        y,
-        dpr,
-    }
+    PlotFrame { px_x: (rx.start, rx.end), px_y: (ry.start, ry.end), x, y, dpr }
 }
 
 fn err<E: std::fmt::Display>(e: E) -> String {
@@ -710,35 +568,18 @@ fn err<E: std::fmt::Display>(e: E) -> String {
 
 /// A legend strip above a chart: a short line in each colour followed by its name. `scale` is
 /// backing pixels per CSS pixel.
-fn legend<DB: DrawingBackend>(
-    area: &DrawingArea<DB, plotters::coord::Shift>,
-    items: &[(&str, RGBColor)],
-    scale: f64,
-) -> Result<(), String> {
-    let font = ("sans-serif", (FONT_PX * scale) as u32)
-        .into_font()
-        .color(&colours::INK);
+fn legend<DB: DrawingBackend>(area: &DrawingArea<DB, plotters::coord::Shift>, items: &[(&str, RGBColor)], scale: f64) -> Result<(), String> {
+    let font = ("sans-serif", (FONT_PX * scale) as u32).into_font().color(&colours::INK);
     let mut x = (46.0 * scale) as i32;
     let y = (area.dim_in_pixel().1 as f64 / 2.0) as i32;
     for (name, colour) in items {
         let len = (18.0 * scale) as i32;
-        area.draw(&PathElement::new(
-            vec![(x, y), (x + len, y)],
-            colour.stroke_width((3.0 * scale).max(1.0) as u32),
-        ))
-        .map_err(err)?;
+        area.draw(&PathElement::new(vec![(x, y), (x + len, y)], colour.stroke_width((3.0 * scale).max(1.0) as u32))).map_err(err)?;
         x += len + (6.0 * scale) as i32;
-        area.draw(&Text::new(
-            name.to_string(),
-            (x, y - (FONT_PX * scale * 0.55) as i32),
-            font.clone(),
-        ))
-        .map_err(err)?;
+        area.draw(&Text::new(name.to_string(), (x, y - (FONT_PX * scale * 0.55) as i32), font.clone())).map_err(err)?;
         // The canvas backend underestimates text widths: take a generous average glyph width.
         let estimate = (name.chars().count() as f64 * FONT_PX * 0.6 * scale) as u32;
-        let w = area
-            .estimate_text_size(name, &font)
-            .map_or(estimate, |(w, _)| w.max(estimate));
+        let w = area.estimate_text_size(name, &font).map_or(estimate, |(w, _)| w.max(estimate));
         x += w as i32 + (16.0 * scale) as i32;
     }
     Ok(())
@@ -747,10 +588,7 @@ fn legend<DB: DrawingBackend>(
 /// Draws the hysteresis loop at the canvas's on-screen size × device-pixel ratio: both branches
 /// (named in a legend), direction arrows, and the thresholds marked. Redrawn when the canvas
 /// changes size; `None` while the canvas is not shown.
-pub fn draw_transfer(
-    canvas: &HtmlCanvasElement,
-    curve: &TransferCurve,
-) -> Result<Option<PlotFrame>, String> {
+pub fn draw_transfer(canvas: &HtmlCanvasElement, curve: &TransferCurve) -> Result<Option<PlotFrame>, String> {
     let curve = curve.clone();
     let error = std::rc::Rc::new(std::cell::RefCell::new(None::<String>));
     let e2 = error.clone();
@@ -789,10 +627,7 @@ pub fn draw_kept(
         std::rc::Rc::new(move |c: &HtmlCanvasElement| {
             let (_, _, dpr) = fit_canvas(c)?;
             match paint(c, dpr) {
-                Ok(()) => Some(PlotFrame {
-                    dpr,
-                    ..PlotFrame::default()
-                }),
+                Ok(()) => Some(PlotFrame { dpr, ..PlotFrame::default() }),
                 Err(e) => {
                     *e2.borrow_mut() = Some(e);
                     None
@@ -806,22 +641,11 @@ pub fn draw_kept(
 
 /// Draws the transfer curve into a canvas of a fixed backing size (for the print sheet, whose
 /// canvas has no on-screen size to measure); `scale` multiplies line widths and fonts.
-pub fn draw_transfer_fixed(
-    canvas: &HtmlCanvasElement,
-    curve: &TransferCurve,
-    width: u32,
-    height: u32,
-    scale: f64,
-) -> Result<PlotFrame, String> {
+pub fn draw_transfer_fixed(canvas: &HtmlCanvasElement, curve: &TransferCurve, width: u32, height: u32, scale: f64) -> Result<PlotFrame, String> {
     canvas.set_width(width);
     canvas.set_height(height);
     let backend = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("plot: no 2D canvas")?;
-    transfer_on(
-        backend.into_drawing_area(),
-        curve,
-        scale,
-        (width as f64 / scale, height as f64 / scale),
-    )
+    transfer_on(backend.into_drawing_area(), curve, scale, (width as f64 / scale, height as f64 / scale))
 }
 
 /// The transfer curve as an SVG document (for the file export), 720 × 400 px.
@@ -837,11 +661,7 @@ pub fn transfer_svg(curve: &TransferCurve) -> Result<String, String> {
 /// The axis style shared by every chart: tick count from the axis length, labels from
 /// [`tick_text`], Hysteron's grid colour. `css` is the data area's approximate size in CSS pixels.
 fn mesh<DB: DrawingBackend>(
-    chart: &mut ChartContext<
-        '_,
-        DB,
-        Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
-    >,
+    chart: &mut ChartContext<'_, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>,
     x_desc: &str,
     y_desc: &str,
     x_span: (f64, f64, f64),
@@ -855,9 +675,7 @@ fn mesh<DB: DrawingBackend>(
     let (span_x, div_x, _) = x_span;
     let fx = move |v: &f64| tick_text(v / div_x, span_x / div_x, nx);
     let fy = move |v: &f64| tick_text(*v, y_span, ny);
-    let font = ("sans-serif", (FONT_PX * scale) as u32)
-        .into_font()
-        .color(&colours::INK);
+    let font = ("sans-serif", (FONT_PX * scale) as u32).into_font().color(&colours::INK);
     let mut m = chart.configure_mesh();
     m.x_labels(if x_labels { nx } else { 0 })
         .y_labels(ny)
@@ -882,22 +700,10 @@ fn transfer_on<DB: DrawingBackend>(
     css: (f64, f64),
 ) -> Result<PlotFrame, String> {
     root.fill(&WHITE).map_err(err)?;
-    let xs = curve
-        .rising
-        .iter()
-        .chain(curve.falling.iter())
-        .map(|p| p.vin_v);
-    let ys = curve
-        .rising
-        .iter()
-        .chain(curve.falling.iter())
-        .map(|p| p.vout_v);
-    let (mut x0, mut x1) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
-        (a.min(x), b.max(x))
-    });
-    let (mut y0, mut y1) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| {
-        (a.min(y), b.max(y))
-    });
+    let xs = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vin_v);
+    let ys = curve.rising.iter().chain(curve.falling.iter()).map(|p| p.vout_v);
+    let (mut x0, mut x1) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+    let (mut y0, mut y1) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| (a.min(y), b.max(y)));
     if !(x0.is_finite() && x1.is_finite() && y0.is_finite() && y1.is_finite()) {
         return Err("plot: nothing to draw".into());
     }
@@ -908,18 +714,9 @@ fn transfer_on<DB: DrawingBackend>(
     y0 -= py;
     y1 += py;
     let font_px = FONT_PX * dpr;
-    let font = ("sans-serif", font_px as u32)
-        .into_font()
-        .color(&colours::INK);
+    let font = ("sans-serif", font_px as u32).into_font().color(&colours::INK);
     let (head, body) = root.split_vertically((24.0 * dpr) as u32);
-    legend(
-        &head,
-        &[
-            ("rising input → VT+", colours::RISING),
-            ("falling input → VT−", colours::FALLING),
-        ],
-        dpr,
-    )?;
+    legend(&head, &[("rising input → VT+", colours::RISING), ("falling input → VT−", colours::FALLING)], dpr)?;
     let mut chart = ChartBuilder::on(&body)
         .margin_left((6.0 * dpr) as u32)
         .margin_right((14.0 * dpr) as u32)
@@ -930,25 +727,12 @@ fn transfer_on<DB: DrawingBackend>(
         .build_cartesian_2d(x0..x1, y0..y1)
         .map_err(err)?;
     let area_css = ((css.0 - 70.0).max(40.0), (css.1 - 70.0).max(40.0));
-    mesh(
-        &mut chart,
-        "input (V)",
-        "output (V)",
-        (x1 - x0, 1.0, 0.0),
-        y1 - y0,
-        area_css,
-        dpr,
-        true,
-    )?;
+    mesh(&mut chart, "input (V)", "output (V)", (x1 - x0, 1.0, 0.0), y1 - y0, area_css, dpr, true)?;
     let frame = frame_of(&chart, (x0, x1), (y0, y1), dpr);
     let stroke = (2.2 * dpr).max(1.0) as u32;
     // Threshold lines, each named at its top; the name of the threshold further right is put on
     // the right of its line so the two names never overlap.
-    let (lo_vt, hi_vt) = if curve.vt_lower_v <= curve.vt_upper_v {
-        (curve.vt_lower_v, curve.vt_upper_v)
-    } else {
-        (curve.vt_upper_v, curve.vt_lower_v)
-    };
+    let (lo_vt, hi_vt) = if curve.vt_lower_v <= curve.vt_upper_v { (curve.vt_lower_v, curve.vt_upper_v) } else { (curve.vt_upper_v, curve.vt_lower_v) };
     for (vt, name) in [(curve.vt_upper_v, "VT+"), (curve.vt_lower_v, "VT−")] {
         chart
             .draw_series(DashedLineSeries::new(
@@ -961,36 +745,18 @@ fn transfer_on<DB: DrawingBackend>(
         let right = vt == hi_vt && hi_vt != lo_vt;
         let label = format!("{name} {}", tick_text(vt, (x1 - x0) / 100.0, 1));
         let style = font.clone().pos(plotters::style::text_anchor::Pos::new(
-            if right {
-                plotters::style::text_anchor::HPos::Left
-            } else {
-                plotters::style::text_anchor::HPos::Right
-            },
+            if right { plotters::style::text_anchor::HPos::Left } else { plotters::style::text_anchor::HPos::Right },
             plotters::style::text_anchor::VPos::Top,
         ));
         let nudge = (x1 - x0) * 0.008 * if right { 1.0 } else { -1.0 };
-        chart
-            .draw_series(std::iter::once(Text::new(
-                format!("{label} V"),
-                (vt + nudge, y1 - py * 0.15),
-                style,
-            )))
-            .map_err(err)?;
+        chart.draw_series(std::iter::once(Text::new(format!("{label} V"), (vt + nudge, y1 - py * 0.15), style))).map_err(err)?;
     }
-    for (branch, colour) in [
-        (&curve.rising, colours::RISING),
-        (&curve.falling, colours::FALLING),
-    ] {
+    for (branch, colour) in [(&curve.rising, colours::RISING), (&curve.falling, colours::FALLING)] {
         let pts: Vec<(f64, f64)> = branch.iter().map(|p| (p.vin_v, p.vout_v)).collect();
-        chart
-            .draw_series(LineSeries::new(pts.clone(), colour.stroke_width(stroke)))
-            .map_err(err)?;
+        chart.draw_series(LineSeries::new(pts.clone(), colour.stroke_width(stroke))).map_err(err)?;
         // Direction marks: a filled triangle on the branch's first horizontal run (the part of the
         // loop only this branch traces), pointing the way the input moves.
-        if let Some(w) = pts
-            .windows(2)
-            .find(|w| (w[0].1 - w[1].1).abs() < 1e-12 && (w[1].0 - w[0].0).abs() > 1e-12)
-        {
+        if let Some(w) = pts.windows(2).find(|w| (w[0].1 - w[1].1).abs() < 1e-12 && (w[1].0 - w[0].0).abs() > 1e-12) {
             let ((xa, ya), (xb, _)) = (w[0], w[1]);
             let (lo, hi) = (xa.min(xb), xa.max(xb));
             let xm = lo + (hi - lo) * 0.5;
@@ -998,10 +764,7 @@ fn transfer_on<DB: DrawingBackend>(
             let dx = (x1 - x0) * 0.018 * dir;
             let dy = (y1 - y0) * 0.035;
             chart
-                .draw_series(std::iter::once(Polygon::new(
-                    vec![(xm + dx, ya), (xm - dx, ya + dy), (xm - dx, ya - dy)],
-                    colour.filled(),
-                )))
+                .draw_series(std::iter::once(Polygon::new(vec![(xm + dx, ya), (xm - dx, ya + dy), (xm - dx, ya - dy)], colour.filled())))
                 .map_err(err)?;
         }
     }
@@ -1029,16 +792,7 @@ pub fn draw_histogram(
         std::rc::Rc::new(move |c: &HtmlCanvasElement| {
             let (w, h, dpr) = fit_canvas(c)?;
             let backend = CanvasBackend::with_canvas_object(c.clone())?;
-            histogram_on(
-                backend.into_drawing_area(),
-                &hist,
-                &x_label,
-                spec_min,
-                spec_max,
-                dpr,
-                (w, h),
-            )
-            .ok()
+            histogram_on(backend.into_drawing_area(), &hist, &x_label, spec_min, spec_max, dpr, (w, h)).ok()
         }),
     ))
 }
@@ -1063,14 +817,7 @@ fn histogram_on<DB: DrawingBackend>(
     let ymax = hist.counts.iter().copied().max().unwrap_or(1).max(1) as f64 * 1.1;
     let body = if spec_min.is_some() || spec_max.is_some() {
         let (head, body) = root.split_vertically((22.0 * dpr) as u32);
-        legend(
-            &head,
-            &[
-                ("trials", colours::TEAL_LIGHT),
-                ("spec limit", colours::FALLING),
-            ],
-            dpr,
-        )?;
+        legend(&head, &[("trials", colours::TEAL_LIGHT), ("spec limit", colours::FALLING)], dpr)?;
         body
     } else {
         root.clone()
@@ -1084,32 +831,17 @@ fn histogram_on<DB: DrawingBackend>(
         .build_cartesian_2d((x0 - pad)..(x1 + pad), 0.0..ymax)
         .map_err(err)?;
     let area_css = ((css.0 - 70.0).max(40.0), (css.1 - 60.0).max(40.0));
-    mesh(
-        &mut chart,
-        x_label,
-        "trials",
-        (x1 - x0 + 2.0 * pad, 1.0, 0.0),
-        ymax,
-        area_css,
-        dpr,
-        true,
-    )?;
+    mesh(&mut chart, x_label, "trials", (x1 - x0 + 2.0 * pad, 1.0, 0.0), ymax, area_css, dpr, true)?;
     let frame = frame_of(&chart, (x0 - pad, x1 + pad), (0.0, ymax), dpr);
     chart
         .draw_series(hist.counts.iter().enumerate().map(|(i, &c)| {
             let a = hist.lower_v + i as f64 * hist.bin_width_v;
-            Rectangle::new(
-                [(a, 0.0), (a + hist.bin_width_v, c as f64)],
-                colours::TEAL_LIGHT.filled(),
-            )
+            Rectangle::new([(a, 0.0), (a + hist.bin_width_v, c as f64)], colours::TEAL_LIGHT.filled())
         }))
         .map_err(err)?;
     for v in [spec_min, spec_max].into_iter().flatten() {
         chart
-            .draw_series(LineSeries::new(
-                vec![(v, 0.0), (v, ymax)],
-                colours::FALLING.stroke_width((2.0 * dpr) as u32),
-            ))
+            .draw_series(LineSeries::new(vec![(v, 0.0), (v, ymax)], colours::FALLING.stroke_width((2.0 * dpr) as u32)))
             .map_err(err)?;
     }
     root.present().map_err(err)?;
@@ -1150,11 +882,7 @@ pub fn draw_time(
     if !(t1 > t0) || input.envelope.min_v.is_empty() {
         return Err("plot: nothing to draw".into());
     }
-    let own = |t: &Trace<'_>| OwnedTrace {
-        envelope: t.envelope.clone(),
-        colour: t.colour,
-        label: t.label.to_string(),
-    };
+    let own = |t: &Trace<'_>| OwnedTrace { envelope: t.envelope.clone(), colour: t.colour, label: t.label.to_string() };
     let input = own(&input);
     let outputs: Vec<OwnedTrace> = outputs.iter().map(own).collect();
     let marks = marks.to_vec();
@@ -1163,38 +891,18 @@ pub fn draw_time(
         std::rc::Rc::new(move |c: &HtmlCanvasElement| {
             let (w, h, dpr) = fit_canvas(c)?;
             let backend = CanvasBackend::with_canvas_object(c.clone())?;
-            time_on(
-                backend.into_drawing_area(),
-                t0,
-                t1,
-                &input,
-                &outputs,
-                thresholds,
-                &marks,
-                dpr,
-                (w, h),
-            )
-            .ok()
+            time_on(backend.into_drawing_area(), t0, t1, &input, &outputs, thresholds, &marks, dpr, (w, h)).ok()
         }),
     ))
 }
 
 fn envelope_points(e: &hysteron_core::signal::plot::Envelope) -> Vec<(f64, f64)> {
     // Each bucket as a vertical segment from its min to its max, joined bucket to bucket.
-    e.t_s
-        .iter()
-        .zip(e.min_v.iter().zip(&e.max_v))
-        .flat_map(|(&x, (&a, &b))| [(x, a), (x, b)])
-        .collect()
+    e.t_s.iter().zip(e.min_v.iter().zip(&e.max_v)).flat_map(|(&x, (&a, &b))| [(x, a), (x, b)]).collect()
 }
 
 fn range_of(e: &hysteron_core::signal::plot::Envelope) -> (f64, f64) {
-    e.min_v
-        .iter()
-        .zip(&e.max_v)
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), (x, y)| {
-            (a.min(*x), b.max(*y))
-        })
+    e.min_v.iter().zip(&e.max_v).fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), (x, y)| (a.min(*x), b.max(*y)))
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -1219,10 +927,7 @@ fn time_on<DB: DrawingBackend>(
     let pad = ((y1 - y0) * 0.1).max(1e-3);
     let (div, unit) = time_unit(t0.abs().max(t1.abs()));
     let time_desc = format!("time ({unit})");
-    let mut items: Vec<(&str, RGBColor)> = vec![
-        (input.label.as_str(), input.colour),
-        ("VT+ / VT−", colours::THRESHOLD),
-    ];
+    let mut items: Vec<(&str, RGBColor)> = vec![(input.label.as_str(), input.colour), ("VT+ / VT−", colours::THRESHOLD)];
     items.extend(outputs.iter().map(|o| (o.label.as_str(), o.colour)));
     let (head, body) = root.split_vertically((24.0 * dpr) as u32);
     legend(&head, &items, dpr)?;
@@ -1230,14 +935,8 @@ fn time_on<DB: DrawingBackend>(
     // lowest lane also carries the time axis.
     let body_h = body.dim_in_pixel().1 as f64;
     let axis_h = 40.0 * dpr;
-    let lane_h = if outputs.is_empty() {
-        0.0
-    } else {
-        ((body_h - axis_h) * 0.45 / outputs.len() as f64).max(30.0 * dpr)
-    };
-    let input_h =
-        (body_h - lane_h * outputs.len() as f64 - if outputs.is_empty() { 0.0 } else { axis_h })
-            .max(40.0 * dpr);
+    let lane_h = if outputs.is_empty() { 0.0 } else { ((body_h - axis_h) * 0.45 / outputs.len() as f64).max(30.0 * dpr) };
+    let input_h = (body_h - lane_h * outputs.len() as f64 - if outputs.is_empty() { 0.0 } else { axis_h }).max(40.0 * dpr);
     let mut splits = vec![input_h as i32];
     for i in 1..outputs.len() {
         splits.push((input_h + lane_h * i as f64) as i32);
@@ -1254,11 +953,7 @@ fn time_on<DB: DrawingBackend>(
         } else {
             let o = &outputs[i - 1];
             let (a, b) = range_of(&o.envelope);
-            let (a, b) = if a.is_finite() && b.is_finite() {
-                (a, b)
-            } else {
-                (0.0, 1.0)
-            };
+            let (a, b) = if a.is_finite() && b.is_finite() { (a, b) } else { (0.0, 1.0) };
             let p = ((b - a) * 0.2).max(0.05);
             (a - p, b + p, o)
         };
@@ -1271,63 +966,30 @@ fn time_on<DB: DrawingBackend>(
             .build_cartesian_2d(t0..t1, lo..hi)
             .map_err(err)?;
         let h_css = area.dim_in_pixel().1 as f64 / dpr;
-        let ny_css = if is_input {
-            h_css
-        } else {
-            h_css.min(TICK_SPACING_Y_PX * 2.0)
-        };
-        mesh(
-            &mut chart,
-            &time_desc,
-            if is_input { "input (V)" } else { "V" },
-            (t1 - t0, div, 0.0),
-            hi - lo,
-            (x_css, ny_css),
-            dpr,
-            last,
-        )?;
+        let ny_css = if is_input { h_css } else { h_css.min(TICK_SPACING_Y_PX * 2.0) };
+        mesh(&mut chart, &time_desc, if is_input { "input (V)" } else { "V" }, (t1 - t0, div, 0.0), hi - lo, (x_css, ny_css), dpr, last)?;
         if is_input {
             frame = Some(frame_of(&chart, (t0, t1), (lo, hi), dpr));
             for v in [thresholds.0, thresholds.1] {
                 chart
-                    .draw_series(DashedLineSeries::new(
-                        vec![(t0, v), (t1, v)],
-                        (5.0 * dpr) as u32,
-                        (4.0 * dpr) as u32,
-                        colours::THRESHOLD.stroke_width(dpr.max(1.0) as u32),
-                    ))
+                    .draw_series(DashedLineSeries::new(vec![(t0, v), (t1, v)], (5.0 * dpr) as u32, (4.0 * dpr) as u32, colours::THRESHOLD.stroke_width(dpr.max(1.0) as u32)))
                     .map_err(err)?;
             }
         }
-        chart
-            .draw_series(LineSeries::new(
-                envelope_points(&trace.envelope),
-                trace.colour.stroke_width((1.4 * dpr).max(1.0) as u32),
-            ))
-            .map_err(err)?;
+        chart.draw_series(LineSeries::new(envelope_points(&trace.envelope), trace.colour.stroke_width((1.4 * dpr).max(1.0) as u32))).map_err(err)?;
         if is_input {
             for &(x, colour) in marks {
                 if x >= t0 && x <= t1 {
                     chart
-                        .draw_series(std::iter::once(TriangleMarker::new(
-                            (x, hi - pad * 0.35),
-                            (4.0 * dpr) as i32,
-                            colour.filled(),
-                        )))
+                        .draw_series(std::iter::once(TriangleMarker::new((x, hi - pad * 0.35), (4.0 * dpr) as i32, colour.filled())))
                         .map_err(err)?;
                 }
             }
         } else {
             // The lane's name at its top left, in its colour.
-            let style = ("sans-serif", (FONT_PX * dpr) as u32)
-                .into_font()
-                .color(&trace.colour);
+            let style = ("sans-serif", (FONT_PX * dpr) as u32).into_font().color(&trace.colour);
             chart
-                .draw_series(std::iter::once(Text::new(
-                    trace.label.clone(),
-                    (t0 + (t1 - t0) * 0.01, hi),
-                    style,
-                )))
+                .draw_series(std::iter::once(Text::new(trace.label.clone(), (t0 + (t1 - t0) * 0.01, hi), style)))
                 .map_err(err)?;
         }
     }

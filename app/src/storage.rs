@@ -5,10 +5,10 @@
 //! record never blocks the others and two tabs editing different designs never overwrite each other.
 //! A record that cannot be read is set aside (left untouched in storage, listed with its message).
 
-use crate::unread::Unread;
 use gloo_storage::{LocalStorage, Storage};
 use hysteron_core::record::DesignRecord;
 use serde::{Deserialize, Serialize};
+use crate::unread::Unread;
 
 /// Key of the ordered id list.
 pub const INDEX_KEY: &str = "hysteron/index";
@@ -103,9 +103,7 @@ impl Studies {
     /// dropped (it is recomputed on request). A result of another shape is kept as it was and not
     /// shown ([`Unread::read`]).
     pub fn from_value(v: &serde_json::Value) -> Studies {
-        let Some(o) = v.as_object() else {
-            return Studies::default();
-        };
+        let Some(o) = v.as_object() else { return Studies::default() };
         let field = |k: &str| o.get(k).cloned().unwrap_or(serde_json::Value::Null);
         Studies {
             monte_carlo: serde_json::from_value(field("monte_carlo")).ok().flatten(),
@@ -166,12 +164,8 @@ pub fn readable() -> Result<web_sys::Storage, String> {
         .local_storage()
         .map_err(|_| "this browser refuses access to local storage".to_string())?
         .ok_or("this browser has no local storage")?;
-    storage
-        .length()
-        .map_err(|_| "local storage refuses reads".to_string())?;
-    storage
-        .get_item(INDEX_KEY)
-        .map_err(|_| "local storage refuses reads".to_string())?;
+    storage.length().map_err(|_| "local storage refuses reads".to_string())?;
+    storage.get_item(INDEX_KEY).map_err(|_| "local storage refuses reads".to_string())?;
     Ok(storage)
 }
 
@@ -186,11 +180,7 @@ pub fn available() -> Result<(), String> {
 }
 
 fn raw_get(key: &str) -> Option<String> {
-    web_sys::window()?
-        .local_storage()
-        .ok()??
-        .get_item(key)
-        .ok()?
+    web_sys::window()?.local_storage().ok()??.get_item(key).ok()?
 }
 
 /// Reads one design as stored now (another tab may have written it): `None` when absent.
@@ -201,66 +191,44 @@ pub fn read(id: &str) -> Option<Result<Entry, SetAside>> {
 
 /// The revision stored under `id` now, when there is a readable one.
 pub fn stored_revision(id: &str) -> Option<u64> {
-    serde_json::from_str::<StoredDesign>(&raw_get(&design_key(id))?)
-        .ok()
-        .map(|s| s.revision)
+    serde_json::from_str::<StoredDesign>(&raw_get(&design_key(id))?).ok().map(|s| s.revision)
 }
 
 /// Parses one stored design's text.
 pub fn parse_stored(key: &str, text: &str) -> Result<Entry, SetAside> {
-    let aside = |message: String| SetAside {
-        key: key.to_string(),
-        message,
-        raw: text.to_string(),
-    };
-    let stored: StoredDesign = serde_json::from_str(text)
-        .map_err(|e| aside(format!("the stored design is damaged ({e})")))?;
+    let aside = |message: String| SetAside { key: key.to_string(), message, raw: text.to_string() };
+    let stored: StoredDesign =
+        serde_json::from_str(text).map_err(|e| aside(format!("the stored design is damaged ({e})")))?;
     if stored.envelope_version > ENVELOPE_VERSION {
         return Err(aside(format!(
             "saved by a newer version of Hysteron (storage version {}); open it there or export it",
             stored.envelope_version
         )));
     }
-    let record =
-        DesignRecord::from_value(stored.record.clone()).map_err(|e| aside(e.to_string()))?;
+    let record = DesignRecord::from_value(stored.record.clone()).map_err(|e| aside(e.to_string()))?;
     let studies = Studies::from_value(&stored.studies);
-    Ok(Entry {
-        id: stored.id,
-        revision: stored.revision,
-        saved_at_ms: stored.saved_at_ms,
-        record,
-        snapshot: stored.snapshot,
-        studies,
-    })
+    Ok(Entry { id: stored.id, revision: stored.revision, saved_at_ms: stored.saved_at_ms, record, snapshot: stored.snapshot, studies })
 }
 
 /// Reads the whole notebook. Never fails: problems are reported per item.
 pub fn load() -> Loaded {
     if let Err(e) = readable() {
-        return Loaded {
-            unavailable: Some(e),
-            ..Loaded::default()
-        };
+        return Loaded { unavailable: Some(e), ..Loaded::default() };
     }
-    let mut loaded = Loaded {
-        read_only: available().err(),
-        ..Loaded::default()
-    };
+    let mut loaded = Loaded { read_only: available().err(), ..Loaded::default() };
     let ids: Vec<String> = match raw_get(INDEX_KEY) {
         None => Vec::new(),
-        Some(text) => {
-            match serde_json::from_str::<Vec<String>>(&text) {
-                Ok(ids) => ids,
-                Err(e) => {
-                    loaded.set_aside.push(SetAside {
+        Some(text) => match serde_json::from_str::<Vec<String>>(&text) {
+            Ok(ids) => ids,
+            Err(e) => {
+                loaded.set_aside.push(SetAside {
                     key: INDEX_KEY.into(),
                     message: format!("the notebook's list was damaged ({e}); designs were found by key instead"),
                     raw: text,
                 });
-                    scan_design_keys()
-                }
+                scan_design_keys()
             }
-        }
+        },
     };
     // Designs stored under a key but missing from the list (written by another tab) are found too.
     let mut all = ids;
@@ -282,9 +250,7 @@ pub fn load() -> Loaded {
 
 fn scan_design_keys() -> Vec<String> {
     let mut ids = Vec::new();
-    let Some(storage) = web_sys::window().and_then(|w| w.local_storage().ok().flatten()) else {
-        return ids;
-    };
+    let Some(storage) = web_sys::window().and_then(|w| w.local_storage().ok().flatten()) else { return ids };
     let n = storage.length().unwrap_or(0);
     for i in 0..n {
         if let Ok(Some(k)) = storage.key(i) {
@@ -312,15 +278,12 @@ pub fn save(entry: &Entry, order: &[String]) -> Result<u64, SaveError> {
         id: entry.id.clone(),
         revision,
         saved_at_ms: entry.saved_at_ms,
-        record: serde_json::to_value(&entry.record)
-            .map_err(|e| SaveError::Failed(e.to_string()))?,
+        record: serde_json::to_value(&entry.record).map_err(|e| SaveError::Failed(e.to_string()))?,
         snapshot: entry.snapshot.clone(),
         studies: entry.studies.to_value(),
     };
-    LocalStorage::set(&key, &stored)
-        .map_err(|e| SaveError::Failed(format!("could not save: {e}")))?;
-    LocalStorage::set(INDEX_KEY, order)
-        .map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))?;
+    LocalStorage::set(&key, &stored).map_err(|e| SaveError::Failed(format!("could not save: {e}")))?;
+    LocalStorage::set(INDEX_KEY, order).map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))?;
     Ok(revision)
 }
 
@@ -333,8 +296,7 @@ pub fn remove(id: &str, revision: u64, order: &[String]) -> Result<(), SaveError
         }
     }
     LocalStorage::delete(design_key(id));
-    LocalStorage::set(INDEX_KEY, order)
-        .map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))
+    LocalStorage::set(INDEX_KEY, order).map_err(|e| SaveError::Failed(format!("could not save the list: {e}")))
 }
 
 /// Why a save did not happen.
@@ -396,22 +358,10 @@ mod tests {
             "signal": { "no_inputs": true }
         });
         let studies = Studies::from_value(&stored);
-        let mc = studies
-            .monte_carlo
-            .as_ref()
-            .expect("an unreadable result is kept");
+        let mc = studies.monte_carlo.as_ref().expect("an unreadable result is kept");
         assert_eq!(mc.result.read(), None, "and not shown");
-        assert!(studies
-            .search
-            .as_ref()
-            .expect("kept")
-            .result
-            .read()
-            .is_none());
-        assert!(
-            studies.signal.is_none(),
-            "an entry that is not a kept result at all is dropped"
-        );
+        assert!(studies.search.as_ref().expect("kept").result.read().is_none());
+        assert!(studies.signal.is_none(), "an entry that is not a kept result at all is dropped");
         let written = studies.to_value();
         assert_eq!(written["monte_carlo"], stored["monte_carlo"]);
         assert_eq!(written["search"], stored["search"]);
@@ -419,30 +369,15 @@ mod tests {
 
     #[test]
     fn a_kept_monte_carlo_result_reads_back_as_kept() {
-        let record = hysteron_core::catalog::demos()
-            .into_iter()
-            .next()
-            .expect("a demo")
-            .record();
+        let record = hysteron_core::catalog::demos().into_iter().next().expect("a demo").record();
         let mut settings = record.tolerance.clone().unwrap_or_default();
         settings.monte_carlo.trials = 300;
-        let result = hysteron_core::tolerance::monte_carlo::monte_carlo(&record.circuit, &settings)
-            .expect("runs");
-        let kept = Kept {
-            inputs: "x".into(),
-            result: Unread::new(result.clone()),
-            elapsed_ms: 4.0,
-        };
-        let studies = Studies {
-            monte_carlo: Some(kept),
-            ..Studies::default()
-        };
+        let result = hysteron_core::tolerance::monte_carlo::monte_carlo(&record.circuit, &settings).expect("runs");
+        let kept = Kept { inputs: "x".into(), result: Unread::new(result.clone()), elapsed_ms: 4.0 };
+        let studies = Studies { monte_carlo: Some(kept), ..Studies::default() };
         let text = serde_json::to_string(&studies.to_value()).unwrap();
         let back = Studies::from_value(&serde_json::from_str(&text).unwrap());
-        assert_eq!(
-            back.monte_carlo.as_ref().unwrap().result.read(),
-            Some(&result)
-        );
+        assert_eq!(back.monte_carlo.as_ref().unwrap().result.read(), Some(&result));
         assert_eq!(back, studies);
     }
 }

@@ -15,8 +15,7 @@ pub fn later(f: impl FnOnce() + 'static) {
         }
         Err(_) => {
             if let Some(w) = web_sys::window() {
-                let _ =
-                    w.set_timeout_with_callback_and_timeout_and_arguments_0(cb.unchecked_ref(), 0);
+                let _ = w.set_timeout_with_callback_and_timeout_and_arguments_0(cb.unchecked_ref(), 0);
             }
         }
     }
@@ -45,10 +44,7 @@ pub fn after_paint(fallback_ms: i32, f: impl FnOnce() + 'static) {
 
 /// Milliseconds from the page's time origin (performance.now()).
 pub fn now_ms() -> f64 {
-    web_sys::window()
-        .and_then(|w| w.performance())
-        .map(|p| p.now())
-        .unwrap_or(0.0)
+    web_sys::window().and_then(|w| w.performance()).map(|p| p.now()).unwrap_or(0.0)
 }
 
 /// Runs `f` after `ms` milliseconds (a timer).

@@ -49,11 +49,7 @@ impl Copying {
     fn new(arrays: Vec<Float64Array>) -> Self {
         let lengths: Vec<usize> = arrays.iter().map(|a| a.length() as usize).collect();
         let out = lengths.iter().map(|&n| Vec::with_capacity(n)).collect();
-        Copying {
-            arrays,
-            lengths,
-            out,
-        }
+        Copying { arrays, lengths, out }
     }
 }
 
@@ -69,9 +65,7 @@ impl Sliced for Copying {
             if take > 0 {
                 v.resize(start + take, 0.0);
                 // Indices fit in u32: a typed array's length is a u32.
-                array
-                    .subarray(start as u32, (start + take) as u32)
-                    .copy_to(&mut v[start..]);
+                array.subarray(start as u32, (start + take) as u32).copy_to(&mut v[start..]);
                 budget -= take;
             }
             if v.len() < len {
@@ -93,11 +87,7 @@ pub const TEXT_SLICE_UNITS: u32 = 1 << 21;
 /// task, then calls `done` with it. A slice never ends between the two halves of a surrogate pair,
 /// so characters outside the Basic Multilingual Plane arrive whole.
 pub fn text_in_slices(text: &js_sys::JsString, done: impl FnOnce(String) + 'static) {
-    let copy = TextCopy {
-        text: text.clone(),
-        at: 0,
-        out: String::with_capacity(text.length() as usize),
-    };
+    let copy = TextCopy { text: text.clone(), at: 0, out: String::with_capacity(text.length() as usize) };
     run_sliced(copy, Box::new(done));
 }
 
@@ -114,10 +104,7 @@ impl Sliced for TextCopy {
     fn step(&mut self) -> bool {
         let len = self.text.length();
         let mut end = self.at.saturating_add(TEXT_SLICE_UNITS).min(len);
-        if end < len
-            && (f64::from(0xD800u16)..f64::from(0xDC00u16))
-                .contains(&self.text.char_code_at(end - 1))
-        {
+        if end < len && (f64::from(0xD800u16)..f64::from(0xDC00u16)).contains(&self.text.char_code_at(end - 1)) {
             // High surrogates are U+D800–U+DBFF (the Unicode Standard, §3.9, UTF-16): keep one with its low half.
             end -= 1;
         }

@@ -26,11 +26,7 @@ impl<T> Unread<T> {
     }
 
     fn from_json(json: serde_json::Value) -> Self {
-        Unread {
-            json,
-            read: Arc::new(OnceLock::new()),
-            _type: PhantomData,
-        }
+        Unread { json, read: Arc::new(OnceLock::new()), _type: PhantomData }
     }
 }
 
@@ -40,11 +36,7 @@ impl<T: Serialize> Unread<T> {
         let json = serde_json::to_value(&value).unwrap_or(serde_json::Value::Null);
         let read = OnceLock::new();
         let _ = read.set(Some(value));
-        Unread {
-            json,
-            read: Arc::new(read),
-            _type: PhantomData,
-        }
+        Unread { json, read: Arc::new(read), _type: PhantomData }
     }
 }
 
@@ -52,19 +44,13 @@ impl<T: DeserializeOwned> Unread<T> {
     /// The value, read from its JSON on the first call; `None` when the JSON is not a `T` (a
     /// result stored by another build): it is then not shown, and still kept as it was.
     pub fn read(&self) -> Option<&T> {
-        self.read
-            .get_or_init(|| serde_json::from_value(self.json.clone()).ok())
-            .as_ref()
+        self.read.get_or_init(|| serde_json::from_value(self.json.clone()).ok()).as_ref()
     }
 }
 
 impl<T> Clone for Unread<T> {
     fn clone(&self) -> Self {
-        Unread {
-            json: self.json.clone(),
-            read: self.read.clone(),
-            _type: PhantomData,
-        }
+        Unread { json: self.json.clone(), read: self.read.clone(), _type: PhantomData }
     }
 }
 

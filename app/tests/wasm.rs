@@ -23,10 +23,7 @@ fn thresholds_match_the_closed_form_in_wasm() {
 fn random_stream_is_bit_identical_to_native() {
     // The same values are pinned by the native unit tests in `core/src/rng/mod.rs` (xoshiro256++ seeded by
     // SplitMix64); here the stream and the normal deviates (which use libm) must match bit for bit.
-    assert_eq!(
-        hysteron_core::rng::normal_fingerprint(2026),
-        hysteron_core::rng::NORMAL_FINGERPRINT_SEED2026
-    );
+    assert_eq!(hysteron_core::rng::normal_fingerprint(2026), hysteron_core::rng::NORMAL_FINGERPRINT_SEED2026);
     let mut s = Rng::new(0);
     let first = s.next_u64();
     assert_eq!(first, hysteron_core_fingerprint_seed0());
@@ -36,10 +33,7 @@ fn random_stream_is_bit_identical_to_native() {
 fn monte_carlo_is_bit_identical_to_native() {
     // Pinned natively in core/src/tolerance/monte_carlo.rs (`fingerprint_is_pinned`): the same
     // seed gives the same trials, statistics and yield in the browser build.
-    assert_eq!(
-        hysteron_core::tolerance::monte_carlo_fingerprint(7),
-        0x1920_1c3e_1a25_1469
-    );
+    assert_eq!(hysteron_core::tolerance::monte_carlo_fingerprint(7), 0x1920_1c3e_1a25_1469);
 }
 
 /// First output of xoshiro256++ seeded with 0 through SplitMix64, as computed natively
@@ -63,15 +57,7 @@ fn stored(record: serde_json::Value) -> String {
 
 #[wasm_bindgen_test]
 fn damaged_records_are_set_aside_with_a_message() {
-    let good = DesignRecord::new(
-        "ok",
-        Topology::Inverting(InvertingSchmitt::single_supply(
-            1e3,
-            1e3,
-            1e3,
-            Comparator::ideal(5.0),
-        )),
-    );
+    let good = DesignRecord::new("ok", Topology::Inverting(InvertingSchmitt::single_supply(1e3, 1e3, 1e3, Comparator::ideal(5.0))));
     assert!(parse_stored("k", &stored(serde_json::to_value(&good).unwrap())).is_ok());
     let bad = parse_stored("k", "{not json").unwrap_err();
     assert!(bad.message.contains("damaged"));
@@ -91,15 +77,11 @@ fn timed_runs() {
     use hysteron_core::search::{search, SearchSettings};
     use hysteron_core::signal::generate::{Component, SignalDefinition};
     use hysteron_core::signal::noise::NoiseSource;
-    use hysteron_core::signal::timing::TriggerTiming;
     use hysteron_core::signal::trigger::{run_trigger, TimingModel, TriggerDesign};
+    use hysteron_core::signal::timing::TriggerTiming;
     use hysteron_core::tolerance::{monte_carlo, ToleranceSettings};
     let perf = web_sys::window().unwrap().performance().unwrap();
-    let demo = catalog::demos()
-        .into_iter()
-        .find(|d| d.key == "lathe-tachometer")
-        .unwrap()
-        .record();
+    let demo = catalog::demos().into_iter().find(|d| d.key == "lathe-tachometer").unwrap().record();
     let c = demo.circuit.clone();
 
     let mut s = ToleranceSettings::default();
@@ -109,18 +91,9 @@ fn timed_runs() {
     let mc_ms = perf.now() - t0;
     assert_eq!(mc.trials, 100_000);
 
-    let settings = SearchSettings {
-        series: hysteron_core::eseries::ESeries::E96,
-        ..SearchSettings::default()
-    };
+    let settings = SearchSettings { series: hysteron_core::eseries::ESeries::E96, ..SearchSettings::default() };
     let t0 = perf.now();
-    let rep = search(
-        &c,
-        demo.targets.unwrap().thresholds(),
-        &settings,
-        &demo.checks,
-    )
-    .unwrap();
+    let rep = search(&c, demo.targets.unwrap().thresholds(), &settings, &demo.checks).unwrap();
     let search_ms = perf.now() - t0;
     assert!(!rep.candidates.is_empty());
 
@@ -137,27 +110,14 @@ fn timed_runs() {
         sample_rate_hz: 1e6,
         duration_s: 1.0,
         seed: 3,
-        components: vec![
-            Component::Dc { level_v: 2.3 },
-            Component::Sine {
-                amplitude_v: 1.9,
-                frequency_hz: 60.0,
-                phase_deg: 0.0,
-            },
-        ],
+        components: vec![Component::Dc { level_v: 2.3 }, Component::Sine { amplitude_v: 1.9, frequency_hz: 60.0, phase_deg: 0.0 }],
         noise: vec![NoiseSource::White { rms_v: 0.025 }],
     };
     let design = TriggerDesign::from_circuit(&c).unwrap();
     let t0 = perf.now();
     let signal = def.generate().unwrap();
     let mut edges = Vec::new();
-    let out = run_trigger(
-        &design,
-        &TimingModel::new(&TriggerTiming::default()).unwrap(),
-        signal.time.view(),
-        &signal.buffers.noisy_v,
-        &mut edges,
-    );
+    let out = run_trigger(&design, &TimingModel::new(&TriggerTiming::default()).unwrap(), signal.time.view(), &signal.buffers.noisy_v, &mut edges);
     let pass_ms = perf.now() - t0;
     assert_eq!(signal.buffers.noisy_v.len(), 1_000_000);
     assert!(out.edges >= 100);
@@ -172,9 +132,7 @@ fn fields_refuse_values_outside_their_physical_range() {
     // Issue 13 reproducers: a supply of 1e300 V and a negative resistor are refused at the field,
     // with the range in words; ordinary values in engineering notation and RKM code pass.
     use hysteron_app::fields::parse_in_range;
-    assert!(parse_in_range("1e300", "V")
-        .unwrap_err()
-        .starts_with("must be between"));
+    assert!(parse_in_range("1e300", "V").unwrap_err().starts_with("must be between"));
     assert!(parse_in_range("-1k", "Ω").is_err());
     assert_eq!(parse_in_range("4k7", "Ω"), Ok(4700.0));
     assert_eq!(parse_in_range("12", "V"), Ok(12.0));

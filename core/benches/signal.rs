@@ -21,45 +21,22 @@ fn definition() -> SignalDefinition {
         sample_rate_hz: 1e6,
         duration_s: 1.0,
         seed: 1,
-        components: vec![
-            Component::Dc { level_v: 2.3 },
-            Component::Sine {
-                amplitude_v: 1.9,
-                frequency_hz: 60.0,
-                phase_deg: 0.0,
-            },
-        ],
+        components: vec![Component::Dc { level_v: 2.3 }, Component::Sine { amplitude_v: 1.9, frequency_hz: 60.0, phase_deg: 0.0 }],
         noise: vec![
-            NoiseSource::Hum {
-                mains: MainsFrequency::Hz50,
-                amplitude_v: 0.075,
-                phase_deg: 0.0,
-                harmonics: vec![],
-            },
+            NoiseSource::Hum { mains: MainsFrequency::Hz50, amplitude_v: 0.075, phase_deg: 0.0, harmonics: vec![] },
             NoiseSource::White { rms_v: 0.025 },
         ],
     }
 }
 
 fn design() -> TriggerDesign {
-    TriggerDesign {
-        thresholds: Thresholds {
-            vt_upper_v: 2.9,
-            vt_lower_v: 1.7,
-        },
-        output_high_v: 5.0,
-        output_low_v: 0.0,
-        sense: Sense::Inverting,
-    }
+    TriggerDesign { thresholds: Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 }, output_high_v: 5.0, output_low_v: 0.0, sense: Sense::Inverting }
 }
 
 fn timing() -> TimingModel {
     TimingModel::new(&TriggerTiming {
         delay: DelaySpec::Fixed { delay_s: 1e-6 },
-        output: OutputStage::PushPull {
-            rise_time_s: 50e-9,
-            fall_time_s: 50e-9,
-        },
+        output: OutputStage::PushPull { rise_time_s: 50e-9, fall_time_s: 50e-9 },
         ..Default::default()
     })
     .expect("valid timing")
@@ -73,9 +50,7 @@ fn bench(c: &mut Criterion) {
     let mut edges = Vec::with_capacity(1024);
     def.generate_into(&mut buffers).expect("valid signal");
     let mut g = c.benchmark_group("signal_1m");
-    g.sample_size(20)
-        .measurement_time(Duration::from_secs(6))
-        .warm_up_time(Duration::from_secs(1));
+    g.sample_size(20).measurement_time(Duration::from_secs(6)).warm_up_time(Duration::from_secs(1));
     g.bench_function("generate_noise_trigger", |b| {
         b.iter(|| {
             def.generate_into(&mut buffers).expect("valid signal");
@@ -84,24 +59,9 @@ fn bench(c: &mut Criterion) {
         })
     });
     g.bench_function("trigger_only", |b| {
-        b.iter(|| {
-            black_box(
-                run_trigger(
-                    &d,
-                    &t,
-                    def.time_base().view(),
-                    black_box(&buffers.noisy_v),
-                    &mut edges,
-                )
-                .edges,
-            )
-        })
+        b.iter(|| black_box(run_trigger(&d, &t, def.time_base().view(), black_box(&buffers.noisy_v), &mut edges).edges))
     });
-    let text = write_csv(
-        def.time_base().view(),
-        &buffers.noisy_v,
-        &CsvWriteOptions::default(),
-    );
+    let text = write_csv(def.time_base().view(), &buffers.noisy_v, &CsvWriteOptions::default());
     g.sample_size(10);
     g.bench_function("csv_read_1m_rows", |b| {
         b.iter(|| {
@@ -109,8 +69,7 @@ fn bench(c: &mut Criterion) {
             p.reserve(1_000_000);
             for piece in text.as_bytes().chunks(1 << 20) {
                 // ASCII text: every byte boundary is a character boundary.
-                p.feed(std::str::from_utf8(piece).expect("ascii"))
-                    .expect("readable");
+                p.feed(std::str::from_utf8(piece).expect("ascii")).expect("readable");
             }
             black_box(p.finish().expect("clean file").volts.len())
         })
@@ -125,33 +84,19 @@ criterion_main!(benches);
 /// (`core::signal::output_edges::run_signal_chain`: generation, noise, design and baseline passes,
 /// edge matching, report). The browser's timed run covers the same chain at 10 M samples.
 fn whole_chain(c: &mut Criterion) {
-    let mut r = hysteron_core::catalog::demos()
-        .into_iter()
-        .find(|d| d.key == "lathe-tachometer")
-        .expect("demo")
-        .record();
+    let mut r = hysteron_core::catalog::demos().into_iter().find(|d| d.key == "lathe-tachometer").expect("demo").record();
     let mut s = r.signal.clone().expect("the demo has a signal");
     s.definition.sample_rate_hz = 1e6;
     s.definition.duration_s = 1.0;
     s.sweep = None;
     r.signal = Some(s.clone());
-    let (design, front) =
-        hysteron_core::input_network::from_record::signal_design(&r).expect("design");
+    let (design, front) = hysteron_core::input_network::from_record::signal_design(&r).expect("design");
     let output = hysteron_core::overview::dynamics(&r).0.and_then(|x| x.ok());
     let mut g = c.benchmark_group("signal_chain_1m");
-    g.sample_size(10)
-        .measurement_time(Duration::from_secs(6))
-        .warm_up_time(Duration::from_secs(1));
+    g.sample_size(10).measurement_time(Duration::from_secs(6)).warm_up_time(Duration::from_secs(1));
     g.bench_function("lathe_tachometer_whole_chain", |b| {
         b.iter(|| {
-            let run = hysteron_core::signal::output_edges::run_signal_chain(
-                &s,
-                &design,
-                None,
-                front.as_ref(),
-                output.as_ref(),
-            )
-            .expect("runs");
+            let run = hysteron_core::signal::output_edges::run_signal_chain(&s, &design, None, front.as_ref(), output.as_ref()).expect("runs");
             black_box(run.report.duration_s)
         })
     });

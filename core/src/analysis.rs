@@ -25,10 +25,7 @@ impl Thresholds {
 
     /// Builds thresholds from a centre and a width.
     pub fn from_centre_width(centre_v: f64, width_v: f64) -> Self {
-        Thresholds {
-            vt_upper_v: centre_v + width_v / 2.0,
-            vt_lower_v: centre_v - width_v / 2.0,
-        }
+        Thresholds { vt_upper_v: centre_v + width_v / 2.0, vt_lower_v: centre_v - width_v / 2.0 }
     }
 }
 
@@ -159,10 +156,7 @@ pub struct Warning {
 impl Warning {
     /// Builds a warning.
     pub fn new(code: WarningCode, message: impl Into<String>) -> Self {
-        Warning {
-            code,
-            message: message.into(),
-        }
+        Warning { code, message: message.into() }
     }
 }
 
@@ -237,9 +231,7 @@ impl Targets {
         check(Quantity::Voltage, "targets.vt_upper_v", self.vt_upper_v)?;
         check(Quantity::Voltage, "targets.vt_lower_v", self.vt_lower_v)?;
         match self.impedance {
-            ImpedanceChoice::AnchorOhm(r) => {
-                check(Quantity::Resistance, "targets.impedance.anchor_ohm", r)?
-            }
+            ImpedanceChoice::AnchorOhm(r) => check(Quantity::Resistance, "targets.impedance.anchor_ohm", r)?,
             ImpedanceChoice::CurrentBudgetA(a) => {
                 crate::error::positive("targets.impedance.current_budget_a", a)?;
                 check(Quantity::Current, "targets.impedance.current_budget_a", a)?
@@ -250,10 +242,7 @@ impl Targets {
 
     /// The targets as a thresholds pair.
     pub fn thresholds(&self) -> Thresholds {
-        Thresholds {
-            vt_upper_v: self.vt_upper_v,
-            vt_lower_v: self.vt_lower_v,
-        }
+        Thresholds { vt_upper_v: self.vt_upper_v, vt_lower_v: self.vt_lower_v }
     }
 }
 
@@ -297,16 +286,8 @@ impl CheckSettings {
                 check(Quantity::Gain, field, ratio)?;
             }
         }
-        check(
-            Quantity::Percent,
-            "checks.resistor_tolerance",
-            self.resistor_tolerance * 100.0,
-        )?;
-        check(
-            Quantity::Voltage,
-            "checks.expected_recovery_v",
-            self.expected_recovery_v,
-        )?;
+        check(Quantity::Percent, "checks.resistor_tolerance", self.resistor_tolerance * 100.0)?;
+        check(Quantity::Voltage, "checks.expected_recovery_v", self.expected_recovery_v)?;
         check_optional(Quantity::Voltage, "checks.input_min_v", self.input_min_v)?;
         check_optional(Quantity::Voltage, "checks.input_max_v", self.input_max_v)?;
         check_optional(Quantity::Voltage, "checks.supply_min_v", self.supply_min_v)?;

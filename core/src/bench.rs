@@ -71,11 +71,7 @@ pub struct ReadingWindows {
 impl ReadingWindows {
     /// The bench window at `supply_v`, when known.
     pub fn bench_at(&self, supply_v: f64) -> ThresholdBounds {
-        self.bench
-            .iter()
-            .find(|b| b.supply_v == supply_v)
-            .map(|b| b.bounds)
-            .unwrap_or_default()
+        self.bench.iter().find(|b| b.supply_v == supply_v).map(|b| b.bounds).unwrap_or_default()
     }
 }
 
@@ -141,8 +137,7 @@ pub struct ExpectedReading {
 impl ExpectedReading {
     /// Whether a measured value lies in the bench window (always `true` without one).
     pub fn accepts(&self, measured_v: f64) -> bool {
-        self.bench_min_v.is_none_or(|m| measured_v >= m)
-            && self.bench_max_v.is_none_or(|m| measured_v <= m)
+        self.bench_min_v.is_none_or(|m| measured_v >= m) && self.bench_max_v.is_none_or(|m| measured_v <= m)
     }
 }
 
@@ -264,36 +259,12 @@ pub fn bench_procedure_from(
     let a = analysis;
     let supply = circuit.supply_v();
     let mut corners = vec![(supply, a.vt_upper_v, a.vt_lower_v)];
-    corners.extend(
-        a.supply_corners
-            .iter()
-            .filter(|c| c.supply_v != supply)
-            .map(|c| (c.supply_v, c.vt_upper_v, c.vt_lower_v)),
-    );
+    corners.extend(a.supply_corners.iter().filter(|c| c.supply_v != supply).map(|c| (c.supply_v, c.vt_upper_v, c.vt_lower_v)));
     // The ramp covers the thresholds at every supply of the range.
-    let highest = a
-        .supply_corners
-        .iter()
-        .map(|c| c.vt_upper_v.max(c.vt_lower_v))
-        .fold(a.vt_upper_v, f64::max);
-    let lowest = a
-        .supply_corners
-        .iter()
-        .map(|c| c.vt_upper_v.min(c.vt_lower_v))
-        .fold(a.vt_lower_v, f64::min);
+    let highest = a.supply_corners.iter().map(|c| c.vt_upper_v.max(c.vt_lower_v)).fold(a.vt_upper_v, f64::max);
+    let lowest = a.supply_corners.iter().map(|c| c.vt_upper_v.min(c.vt_lower_v)).fold(a.vt_lower_v, f64::min);
     let ramp = crate::spice::ramp_span_v(highest, lowest);
-    build(
-        circuit,
-        a,
-        checks,
-        windows,
-        &Primary {
-            corners,
-            hysteresis_v: a.hysteresis_v,
-            ramp,
-            through: None,
-        },
-    )
+    build(circuit, a, checks, windows, &Primary { corners, hysteresis_v: a.hysteresis_v, ramp, through: None })
 }
 
 /// The bench procedure of a design with an input network: the source drives the field terminal
@@ -319,14 +290,8 @@ pub fn bench_procedure_through(
         let t = terminal.with_supply(s).thresholds()?;
         corners.push((s, t.vt_upper_v, t.vt_lower_v));
     }
-    let highest = corners
-        .iter()
-        .map(|c| c.1.max(c.2))
-        .fold(f64::NEG_INFINITY, f64::max);
-    let lowest = corners
-        .iter()
-        .map(|c| c.1.min(c.2))
-        .fold(f64::INFINITY, f64::min);
+    let highest = corners.iter().map(|c| c.1.max(c.2)).fold(f64::NEG_INFINITY, f64::max);
+    let lowest = corners.iter().map(|c| c.1.min(c.2)).fold(f64::INFINITY, f64::min);
     let (mut lo, mut hi) = crate::spice::ramp_span_v(highest, lowest);
     // Inside the stated field span where the thresholds allow: the network is then driven as in
     // service, not beyond.
@@ -342,60 +307,31 @@ pub fn bench_procedure_through(
     // The source's current: through R_top into the dropper's node, else all of it into the clamp
     // (the trigger's own input current, nano- to microamperes, is left out).
     let source_current = |p: &crate::input_network::ClampPoint| match net.dropper {
-        Some(d) => {
-            (p.field_v - (p.clamp_node_v + p.clamp_current_a * net.series_ohm.unwrap_or(0.0)))
-                / d.top_ohm
-        }
+        Some(d) => (p.field_v - (p.clamp_node_v + p.clamp_current_a * net.series_ohm.unwrap_or(0.0))) / d.top_ohm,
         None => p.clamp_current_a,
     };
-    let clamped = points
-        .iter()
-        .filter(|p| p.clamp_current_a != 0.0)
-        .max_by(|a, b| a.clamp_current_a.abs().total_cmp(&b.clamp_current_a.abs()));
+    let clamped = points.iter().filter(|p| p.clamp_current_a != 0.0).max_by(|a, b| a.clamp_current_a.abs().total_cmp(&b.clamp_current_a.abs()));
     let rating = match net.clamp {
         Clamp::None => None,
         Clamp::RailDiodes { max_current_a, .. } => Some(max_current_a),
         Clamp::Tvs { peak_current_a, .. } => Some(peak_current_a),
     };
-    let tau = crate::input_network::analyse_network(
-        &terminal.circuit,
-        net,
-        checks,
-        &crate::bom::PartSettings::default(),
-    )
-    .ok()
-    .and_then(|r| r.filter.map(|f| f.time_constant_s));
+    let tau = crate::input_network::analyse_network(&terminal.circuit, net, checks, &crate::bom::PartSettings::default())
+        .ok()
+        .and_then(|r| r.filter.map(|f| f.time_constant_s));
     let summary = NetworkBench {
         gain: net.gain(),
         source_resistance_ohm: net.source_resistance_ohm(),
         time_constant_s: tau,
-        source_current_a: points
-            .iter()
-            .map(|p| source_current(p).abs())
-            .fold(0.0, f64::max),
+        source_current_a: points.iter().map(|p| source_current(p).abs()).fold(0.0, f64::max),
         clamp_at_v: clamped.map(|p| p.field_v),
         clamp_current_a: clamped.map(|p| p.clamp_current_a.abs()),
         clamp_rating_a: rating,
         field_span_v: span,
     };
     let hysteresis_v = corners[0].1 - corners[0].2;
-    let through = Through {
-        summary,
-        field_windows,
-        pin: (analysis.vt_upper_v, analysis.vt_lower_v),
-    };
-    Ok(build(
-        circuit,
-        analysis,
-        checks,
-        pin_windows,
-        &Primary {
-            corners,
-            hysteresis_v,
-            ramp: (lo, hi),
-            through: Some(through),
-        },
-    ))
+    let through = Through { summary, field_windows, pin: (analysis.vt_upper_v, analysis.vt_lower_v) };
+    Ok(build(circuit, analysis, checks, pin_windows, &Primary { corners, hysteresis_v, ramp: (lo, hi), through: Some(through) }))
 }
 
 /// The readings the procedure's ramps produce: at the circuit input, or at the field terminal.
@@ -455,31 +391,14 @@ fn build(
         Sense::Inverting => (a.output_high_v, a.output_low_v),
         Sense::NonInverting => (a.output_low_v, a.output_high_v),
     };
-    let input_name = if through.is_some() {
-        "field terminal".to_string()
-    } else {
-        circuit.input_name().to_string()
-    };
-    let primary_at = if through.is_some() {
-        ReadingPoint::FieldTerminal
-    } else {
-        ReadingPoint::Input
-    };
+    let input_name = if through.is_some() { "field terminal".to_string() } else { circuit.input_name().to_string() };
+    let primary_at = if through.is_some() { ReadingPoint::FieldTerminal } else { ReadingPoint::Input };
 
     let mut readings = Vec::new();
     let ramp_readings = {
-        let mut pair = |at: ReadingPoint,
-                        w: &ReadingWindows,
-                        supply_v: f64,
-                        up: f64,
-                        down: f64,
-                        nominal: bool| {
+        let mut pair = |at: ReadingPoint, w: &ReadingWindows, supply_v: f64, up: f64, down: f64, nominal: bool| {
             let bench = w.bench_at(supply_v);
-            let field = if nominal {
-                w.field
-            } else {
-                ThresholdBounds::default()
-            };
+            let field = if nominal { w.field } else { ThresholdBounds::default() };
             readings.push(ExpectedReading {
                 threshold: Threshold::Upper,
                 at,
@@ -510,14 +429,7 @@ fn build(
         }
         let ramp_readings = 2 * primary.corners.len();
         if let Some(t) = through {
-            pair(
-                ReadingPoint::Pin,
-                pin_windows,
-                supply,
-                t.pin.0,
-                t.pin.1,
-                true,
-            );
+            pair(ReadingPoint::Pin, pin_windows, supply, t.pin.0, t.pin.1, true);
         }
         ramp_readings
     };
@@ -533,30 +445,17 @@ fn build(
         "second voltmeter or an oscilloscope on OUT, to see the moment it switches".to_string(),
     ];
     if a.supply_corners.len() > 1 {
-        equipment.push(format!(
-            "supply for the circuit, set to {} and adjustable over the supply range",
-            v(supply)
-        ));
+        equipment.push(format!("supply for the circuit, set to {} and adjustable over the supply range", v(supply)));
     } else if let Some(name) = circuit.bench_supply_name() {
         equipment.push(format!("{name}, {}", v(supply)));
     } else {
         equipment.push(format!("supply for the circuit, {}", v(supply)));
     }
 
-    let word = |level: f64| {
-        if (level - a.output_high_v).abs() <= (level - a.output_low_v).abs() {
-            "high"
-        } else {
-            "low"
-        }
-    };
+    let word =
+        |level: f64| if (level - a.output_high_v).abs() <= (level - a.output_low_v).abs() { "high" } else { "low" };
     let mut steps = Vec::new();
-    let mut step = |instruction: String, reading: Option<usize>| {
-        steps.push(BenchStep {
-            instruction,
-            reading,
-        })
-    };
+    let mut step = |instruction: String, reading: Option<usize>| steps.push(BenchStep { instruction, reading });
     step(
         format!(
             "Set the circuit's supply to {} and check it at the device's supply pins.{}",
@@ -587,11 +486,7 @@ fn build(
         ),
     }
     // What the reading step calls the point read ("Read the input"; at the field terminal, "Read it").
-    let read = if through.is_some() {
-        "it".to_string()
-    } else {
-        format!("the {input_name}")
-    };
+    let read = if through.is_some() { "it".to_string() } else { format!("the {input_name}") };
     let mut idx = 0;
     for (k, chunk) in readings[..ramp_readings].chunks(2).enumerate() {
         let up = &chunk[0];
@@ -599,29 +494,13 @@ fn build(
         if k > 0 && through.is_some() {
             // At the field terminal the repeated ramps are stated briefly (the sheet keeps to one
             // page with the network's own lines on it).
+            step(format!("Set the supply to {} and repeat the two ramps.", v(up.supply_v)), None);
             step(
-                format!(
-                    "Set the supply to {} and repeat the two ramps.",
-                    v(up.supply_v)
-                ),
-                None,
-            );
-            step(
-                format!(
-                    "Raise it until OUT switches {} → {}: VT+, expected {}{}.",
-                    word(up.output_before_v),
-                    word(up.output_after_v),
-                    v(up.nominal_v),
-                    accept_text(up)
-                ),
+                format!("Raise it until OUT switches {} → {}: VT+, expected {}{}.", word(up.output_before_v), word(up.output_after_v), v(up.nominal_v), accept_text(up)),
                 Some(idx),
             );
             step(
-                format!(
-                    "Lower it until OUT switches back: VT−, expected {}{}.",
-                    v(down.nominal_v),
-                    accept_text(down)
-                ),
+                format!("Lower it until OUT switches back: VT−, expected {}{}.", v(down.nominal_v), accept_text(down)),
                 Some(idx + 1),
             );
             idx += 2;
@@ -629,11 +508,7 @@ fn build(
         }
         if k > 0 {
             step(
-                format!(
-                    "Set the circuit's supply to {} and repeat the two ramps.{}",
-                    v(up.supply_v),
-                    expected_at(up, down)
-                ),
+                format!("Set the circuit's supply to {} and repeat the two ramps.{}", v(up.supply_v), expected_at(up, down)),
                 None,
             );
         }
@@ -664,15 +539,8 @@ fn build(
         idx += 2;
     }
     if ramp_readings > 2 {
-        let windows = if through.is_some() {
-            String::new()
-        } else {
-            expected_at(&readings[0], &readings[1])
-        };
-        step(
-            format!("Return the supply to {}.{windows}", v(supply)),
-            None,
-        );
+        let windows = if through.is_some() { String::new() } else { expected_at(&readings[0], &readings[1]) };
+        step(format!("Return the supply to {}.{windows}", v(supply)), None);
     }
     if through.is_some() {
         let (up, down) = (&readings[ramp_readings], &readings[ramp_readings + 1]);
@@ -735,10 +603,7 @@ fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String 
     }
     match (n.clamp_at_v, n.clamp_current_a) {
         (Some(at), Some(i)) => {
-            let rating = n
-                .clamp_rating_a
-                .map(|r| format!(" (its rating: {})", amps(r)))
-                .unwrap_or_default();
+            let rating = n.clamp_rating_a.map(|r| format!(" (its rating: {})", amps(r))).unwrap_or_default();
             let wanted = (1.2 * n.source_current_a).max(1e-3);
             let limit = n.clamp_rating_a.map_or(wanted, |r| wanted.min(r));
             s.push_str(&format!(
@@ -748,11 +613,7 @@ fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String 
                 amps(i),
                 rating,
                 amps(limit),
-                if n.clamp_rating_a.is_some_and(|r| i > r) {
-                    ", below the clamp's rating, which the ramp's end would exceed"
-                } else {
-                    ""
-                }
+                if n.clamp_rating_a.is_some_and(|r| i > r) { ", below the clamp's rating, which the ramp's end would exceed" } else { "" }
             ));
         }
         _ => s.push_str(&format!(
@@ -764,11 +625,7 @@ fn network_notes(n: &NetworkBench, ramp_low_v: f64, ramp_high_v: f64) -> String 
     if let Some(tau) = n.time_constant_s {
         s.push_str(&format!(
             " Near each threshold wait {} after every step (filter τ = {}).",
-            crate::notation::format_with_unit(
-                (5.0 * tau).max(1e-3),
-                2,
-                crate::notation::Unit::Second
-            ),
+            crate::notation::format_with_unit((5.0 * tau).max(1e-3), 2, crate::notation::Unit::Second),
             crate::notation::format_with_unit(tau, 3, crate::notation::Unit::Second)
         ));
     }
@@ -809,11 +666,7 @@ fn expected_at(up: &ExpectedReading, down: &ExpectedReading) -> String {
     }
 }
 
-fn troubleshooting(
-    circuit: &Topology,
-    a: &crate::analysis::Analysis,
-    checks: &CheckSettings,
-) -> Vec<String> {
+fn troubleshooting(circuit: &Topology, a: &crate::analysis::Analysis, checks: &CheckSettings) -> Vec<String> {
     let mut t = vec![
         "OUT never switches: measure the supply at the device's pins, then the voltage at the node that sets the threshold (the reference or divider midpoint); a wrong value there points at a wrong resistor or rail.".to_string(),
         "Both readings shifted by the same amount: the reference, the divider ratio or the device's offset is off; measure the reference node with the input low and high.".to_string(),
@@ -845,11 +698,7 @@ impl BenchProcedure {
         }
         let _ = writeln!(o, "\nExpected readings ({})", self.input_name);
         // Pin rows (after the field terminal's) are named so; the column widens for them.
-        let w = if self.readings.iter().any(|r| r.at == ReadingPoint::Pin) {
-            10
-        } else {
-            6
-        };
+        let w = if self.readings.iter().any(|r| r.at == ReadingPoint::Pin) { 10 } else { 6 };
         let _ = writeln!(
             o,
             "  {:<w$} {:>10} {:>12} {:>25} {:>25}",
@@ -868,15 +717,7 @@ impl BenchProcedure {
             };
             let bench = range(r.bench_min_v, r.bench_max_v, "(run the tolerance study)");
             let field = range(r.field_min_v, r.field_max_v, "");
-            let _ = writeln!(
-                o,
-                "  {:<w$} {:>10} {:>12} {:>25} {:>25}",
-                name,
-                v(r.supply_v),
-                v(r.nominal_v),
-                bench,
-                field
-            );
+            let _ = writeln!(o, "  {:<w$} {:>10} {:>12} {:>25} {:>25}", name, v(r.supply_v), v(r.nominal_v), bench, field);
         }
         let _ = writeln!(
             o,
@@ -904,11 +745,7 @@ mod tests {
     use crate::catalog;
 
     fn lathe() -> crate::record::DesignRecord {
-        catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "lathe-tachometer")
-            .map(|s| s.record())
-            .unwrap()
+        catalog::demos().into_iter().find(|s| s.key == "lathe-tachometer").map(|s| s.record()).unwrap()
     }
 
     #[test]
@@ -921,16 +758,8 @@ mod tests {
         assert_eq!(p.readings[0].nominal_v, a.vt_upper_v);
         assert_eq!(p.readings[1].nominal_v, a.vt_lower_v);
         for c in &a.supply_corners {
-            let up = p
-                .readings
-                .iter()
-                .find(|x| x.supply_v == c.supply_v && x.threshold == Threshold::Upper)
-                .unwrap();
-            let lo = p
-                .readings
-                .iter()
-                .find(|x| x.supply_v == c.supply_v && x.threshold == Threshold::Lower)
-                .unwrap();
+            let up = p.readings.iter().find(|x| x.supply_v == c.supply_v && x.threshold == Threshold::Upper).unwrap();
+            let lo = p.readings.iter().find(|x| x.supply_v == c.supply_v && x.threshold == Threshold::Lower).unwrap();
             assert_eq!(up.nominal_v, c.vt_upper_v);
             assert_eq!(lo.nominal_v, c.vt_lower_v);
         }
@@ -944,24 +773,15 @@ mod tests {
     fn windows_come_from_the_study_and_set_the_step() {
         let r = lathe();
         let windows = ReadingWindows {
-            field: ThresholdBounds {
-                vt_upper_v: Some((2.72, 3.10)),
-                vt_lower_v: Some((1.55, 1.85)),
-            },
+            field: ThresholdBounds { vt_upper_v: Some((2.72, 3.10)), vt_lower_v: Some((1.55, 1.85)) },
             bench: vec![
                 SupplyBounds {
                     supply_v: 5.0,
-                    bounds: ThresholdBounds {
-                        vt_upper_v: Some((2.85, 2.95)),
-                        vt_lower_v: Some((1.66, 1.74)),
-                    },
+                    bounds: ThresholdBounds { vt_upper_v: Some((2.85, 2.95)), vt_lower_v: Some((1.66, 1.74)) },
                 },
                 SupplyBounds {
                     supply_v: 4.75,
-                    bounds: ThresholdBounds {
-                        vt_upper_v: Some((2.70, 2.80)),
-                        vt_lower_v: Some((1.57, 1.65)),
-                    },
+                    bounds: ThresholdBounds { vt_upper_v: Some((2.70, 2.80)), vt_lower_v: Some((1.57, 1.65)) },
                 },
             ],
         };
@@ -969,20 +789,10 @@ mod tests {
         let r0 = &p.readings[0];
         assert_eq!((r0.bench_min_v, r0.bench_max_v), (Some(2.85), Some(2.95)));
         assert_eq!((r0.field_min_v, r0.field_max_v), (Some(2.72), Some(3.10)));
-        assert_eq!(
-            (p.readings[1].bench_min_v, p.readings[1].bench_max_v),
-            (Some(1.66), Some(1.74))
-        );
+        assert_eq!((p.readings[1].bench_min_v, p.readings[1].bench_max_v), (Some(1.66), Some(1.74)));
         // A supply corner gets its own bench window and no field window (that is the nominal supply's).
-        let low = p
-            .readings
-            .iter()
-            .find(|x| x.supply_v == 4.75 && x.threshold == Threshold::Upper)
-            .unwrap();
-        assert_eq!(
-            (low.bench_min_v, low.bench_max_v, low.field_min_v),
-            (Some(2.70), Some(2.80), None)
-        );
+        let low = p.readings.iter().find(|x| x.supply_v == 4.75 && x.threshold == Threshold::Upper).unwrap();
+        assert_eq!((low.bench_min_v, low.bench_max_v, low.field_min_v), (Some(2.70), Some(2.80), None));
         let high = p.readings.iter().find(|x| x.supply_v == 5.25).unwrap();
         assert_eq!(high.bench_min_v, None);
         // The narrowest window is 80 mV: steps of 4 mV.
@@ -990,120 +800,51 @@ mod tests {
         // The technician accepts by the bench window, not the field window.
         assert!(r0.accepts(2.9) && !r0.accepts(2.96) && !r0.accepts(3.05));
         let text = p.to_text();
-        assert!(
-            text.contains("2.850 V … 2.950 V") && text.contains("2.720 V … 3.100 V"),
-            "{text}"
-        );
+        assert!(text.contains("2.850 V … 2.950 V") && text.contains("2.720 V … 3.100 V"), "{text}");
         assert!(text.contains(&format!("{:.3} V", r0.nominal_v)));
         // Every step that sets a supply states the window at that supply.
-        let sets: Vec<&BenchStep> = p
-            .steps
-            .iter()
-            .filter(|s| s.instruction.contains("supply to"))
-            .collect();
+        let sets: Vec<&BenchStep> = p.steps.iter().filter(|s| s.instruction.contains("supply to")).collect();
         assert_eq!(sets.len(), 4, "{sets:?}");
-        assert!(
-            sets[0].instruction.contains("VT+ 2.850 V … 2.950 V"),
-            "{}",
-            sets[0].instruction
-        );
-        assert!(sets.iter().any(|s| s.instruction.contains("4.750 V")
-            && s.instruction.contains("VT+ 2.700 V … 2.800 V")));
-        assert!(sets
-            .last()
-            .unwrap()
-            .instruction
-            .contains("VT− 1.660 V … 1.740 V"));
+        assert!(sets[0].instruction.contains("VT+ 2.850 V … 2.950 V"), "{}", sets[0].instruction);
+        assert!(sets.iter().any(|s| s.instruction.contains("4.750 V") && s.instruction.contains("VT+ 2.700 V … 2.800 V")));
+        assert!(sets.last().unwrap().instruction.contains("VT− 1.660 V … 1.740 V"));
     }
 
     #[test]
     fn a_network_design_drives_the_field_terminal_and_keeps_the_pin_for_reference() {
-        let r = catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "sawmill-end-stop")
-            .map(|s| s.record())
-            .unwrap();
+        let r = catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").map(|s| s.record()).unwrap();
         let a = analyse(&r.circuit, &r.checks).unwrap();
         let w = crate::overview::windows(&r, &a, None).unwrap();
         let p = crate::overview::bench(&r, &a, Some(&w));
-        let report = crate::input_network::from_record::record_network(&r)
-            .unwrap()
-            .unwrap();
+        let report = crate::input_network::from_record::record_network(&r).unwrap().unwrap();
         assert_eq!(p.input_name, "field terminal");
         let n = p.network.expect("the network's figures");
-        assert_eq!(
-            (n.gain, n.source_resistance_ohm),
-            (report.gain, report.source_resistance_ohm)
-        );
+        assert_eq!((n.gain, n.source_resistance_ohm), (report.gain, report.source_resistance_ohm));
         // Field readings first, at every supply; the nominal ones are the network report's.
-        let field: Vec<&ExpectedReading> = p
-            .readings
-            .iter()
-            .filter(|x| x.at == ReadingPoint::FieldTerminal)
-            .collect();
+        let field: Vec<&ExpectedReading> = p.readings.iter().filter(|x| x.at == ReadingPoint::FieldTerminal).collect();
         assert_eq!(field.len(), 2 * a.supply_corners.len());
-        assert_eq!(
-            (field[0].nominal_v, field[1].nominal_v),
-            (report.field.vt_upper_v, report.field.vt_lower_v)
-        );
+        assert_eq!((field[0].nominal_v, field[1].nominal_v), (report.field.vt_upper_v, report.field.vt_lower_v));
         for x in &field {
             let (lo, hi) = (x.bench_min_v.unwrap(), x.bench_max_v.unwrap());
-            assert!(
-                lo < x.nominal_v && x.nominal_v < hi && x.accepts(x.nominal_v),
-                "{x:?}"
-            );
+            assert!(lo < x.nominal_v && x.nominal_v < hi && x.accepts(x.nominal_v), "{x:?}");
         }
         assert!(field[0].field_min_v.unwrap() <= field[0].bench_min_v.unwrap());
         // The ramp covers every field threshold and stays inside the stated field span (0–26.4 V).
-        assert!(
-            p.ramp_low_v
-                < field
-                    .iter()
-                    .map(|x| x.nominal_v)
-                    .fold(f64::INFINITY, f64::min)
-        );
+        assert!(p.ramp_low_v < field.iter().map(|x| x.nominal_v).fold(f64::INFINITY, f64::min));
         assert!(p.ramp_high_v > field.iter().map(|x| x.nominal_v).fold(0.0, f64::max));
         assert!(p.ramp_low_v >= 0.0 && p.ramp_high_v <= 26.4);
         // The pin readings follow, at the nominal supply, with the pin's own windows.
-        let pin: Vec<&ExpectedReading> = p
-            .readings
-            .iter()
-            .filter(|x| x.at == ReadingPoint::Pin)
-            .collect();
+        let pin: Vec<&ExpectedReading> = p.readings.iter().filter(|x| x.at == ReadingPoint::Pin).collect();
         assert_eq!(pin.len(), 2);
-        assert_eq!(
-            (pin[0].nominal_v, pin[1].nominal_v),
-            (a.vt_upper_v, a.vt_lower_v)
-        );
-        assert_eq!(
-            (pin[0].bench_min_v, pin[0].bench_max_v),
-            (
-                Some(w.bench[0].vt_upper_v().0),
-                Some(w.bench[0].vt_upper_v().1)
-            )
-        );
-        assert_eq!(
-            p.steps.iter().filter(|x| x.reading.is_some()).count(),
-            p.readings.len()
-        );
+        assert_eq!((pin[0].nominal_v, pin[1].nominal_v), (a.vt_upper_v, a.vt_lower_v));
+        assert_eq!((pin[0].bench_min_v, pin[0].bench_max_v), (Some(w.bench[0].vt_upper_v().0), Some(w.bench[0].vt_upper_v().1)));
+        assert_eq!(p.steps.iter().filter(|x| x.reading.is_some()).count(), p.readings.len());
         let text = p.to_text();
-        assert!(
-            text.contains("Connect the source to the field terminal"),
-            "{text}"
-        );
-        assert!(
-            text.contains("VT+ at pin") && text.contains("Optional, at the pin, for reference"),
-            "{text}"
-        );
-        assert!(
-            text.contains("Source current up to") && text.contains("clamp off"),
-            "{text}"
-        );
+        assert!(text.contains("Connect the source to the field terminal"), "{text}");
+        assert!(text.contains("VT+ at pin") && text.contains("Optional, at the pin, for reference"), "{text}");
+        assert!(text.contains("Source current up to") && text.contains("clamp off"), "{text}");
         let (lo, hi) = (field[0].bench_min_v.unwrap(), field[0].bench_max_v.unwrap());
-        assert!(
-            text.contains(&format!("accept {} … {}", v(lo), v(hi))),
-            "{text}"
-        );
+        assert!(text.contains(&format!("accept {} … {}", v(lo), v(hi))), "{text}");
         // The filter's settling time is stated (τ = 10 nF × about 20 kΩ).
         assert!(text.contains("Near each threshold wait"), "{text}");
         println!("{text}");
@@ -1117,10 +858,7 @@ mod tests {
             assert!(p.troubleshooting.len() > 4, "{}", s.key);
             assert!(p.steps.iter().filter(|x| x.reading.is_some()).count() == p.readings.len());
             if r.circuit.name() == "supply_monitor" {
-                assert!(p
-                    .troubleshooting
-                    .iter()
-                    .any(|t| t.contains("load connected and disconnected")));
+                assert!(p.troubleshooting.iter().any(|t| t.contains("load connected and disconnected")));
                 assert!(!p.cautions.is_empty());
             }
             if r.circuit.name() == "open_drain" {

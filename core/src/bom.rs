@@ -14,11 +14,11 @@
 //!   typical thick-film chip and 0.25 W film values (common practice / from memory — check the
 //!   chosen part's datasheet).
 
-pub use crate::analysis::OutputStage;
 use crate::analysis::{Analysis, CheckSettings};
 use crate::error::DesignError;
 use crate::eseries::ESeries;
 use crate::notation::{format_rkm, format_with_unit, Unit};
+pub use crate::analysis::OutputStage;
 use crate::topology::{analyse, Circuit, ParameterKind};
 use serde::{Deserialize, Serialize};
 
@@ -47,13 +47,8 @@ pub enum Package {
 
 impl Package {
     /// Every package, smallest first.
-    pub const ALL: [Package; 5] = [
-        Package::Chip0402,
-        Package::Chip0603,
-        Package::Chip0805,
-        Package::Chip1206,
-        Package::ThroughHole0W25,
-    ];
+    pub const ALL: [Package; 5] =
+        [Package::Chip0402, Package::Chip0603, Package::Chip0805, Package::Chip1206, Package::ThroughHole0W25];
 
     /// Plain name for display and the CSV.
     pub fn label(self) -> &'static str {
@@ -92,13 +87,10 @@ impl Package {
 }
 
 /// How the package ratings are known, for the part list's "Rating" column and its notes.
-pub const PACKAGE_RATING_BASIS: &str =
-    "typical package rating at 70 °C (common practice; check the part's datasheet)";
+pub const PACKAGE_RATING_BASIS: &str = "typical package rating at 70 °C (common practice; check the part's datasheet)";
 
 /// Common resistor power ratings, watts, from which a suggestion is picked (common practice).
-pub const POWER_RATINGS_W: [f64; 11] = [
-    0.05, 0.0625, 0.1, 0.125, 0.25, 0.5, 0.75, 1.0, 2.0, 3.0, 5.0,
-];
+pub const POWER_RATINGS_W: [f64; 11] = [0.05, 0.0625, 0.1, 0.125, 0.25, 0.5, 0.75, 1.0, 2.0, 3.0, 5.0];
 
 /// What the part list is built with.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -127,6 +119,7 @@ impl Default for PartSettings {
         }
     }
 }
+
 
 /// One resistor of the part list.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -315,26 +308,14 @@ pub fn bom<C: Circuit>(
     settings: &PartSettings,
 ) -> Result<Bom, DesignError> {
     crate::error::positive("parts.tolerance_pct", settings.tolerance_pct)?;
-    crate::error::finite(
-        "parts.power_derating_factor",
-        settings.power_derating_factor,
-    )?;
+    crate::error::finite("parts.power_derating_factor", settings.power_derating_factor)?;
     if settings.power_derating_factor < 1.0 {
-        return Err(DesignError::invalid(
-            "parts.power_derating_factor",
-            "must be 1 or more (common practice: 2)",
-        ));
+        return Err(DesignError::invalid("parts.power_derating_factor", "must be 1 or more (common practice: 2)"));
     }
     // Worst stress per designator over the nominal analysis and the supply extremes.
-    let mut stress: Vec<(String, f64, f64)> = analysis
-        .resistors
-        .iter()
-        .map(|r| (r.designator.clone(), r.max_power_w, r.max_volts))
-        .collect();
-    for supply in [checks.supply_min_v, checks.supply_max_v]
-        .into_iter()
-        .flatten()
-    {
+    let mut stress: Vec<(String, f64, f64)> =
+        analysis.resistors.iter().map(|r| (r.designator.clone(), r.max_power_w, r.max_volts)).collect();
+    for supply in [checks.supply_min_v, checks.supply_max_v].into_iter().flatten() {
         if let Ok(a) = analyse(&circuit.with_supply(supply), checks) {
             for r in &a.resistors {
                 if let Some(s) = stress.iter_mut().find(|s| s.0 == r.designator) {
@@ -352,10 +333,7 @@ pub fn bom<C: Circuit>(
         let value = settings.series.nearest(p.value).ok_or_else(|| {
             DesignError::invalid(
                 &p.id,
-                format!(
-                    "must be a finite resistance above zero for the part list (got {})",
-                    p.value
-                ),
+                format!("must be a finite resistance above zero for the part list (got {})", p.value),
             )
         })?;
         let deviation_pct = (value - p.value) / p.value * 100.0;
@@ -364,16 +342,10 @@ pub fn bom<C: Circuit>(
             None => (None, None),
         };
         let package = settings.package;
-        let voltage_limit_v = (package.power_rating_w() * value)
-            .sqrt()
-            .min(package.max_working_voltage_v());
+        let voltage_limit_v = (package.power_rating_w() * value).sqrt().min(package.max_working_voltage_v());
         let suggested_rating_w = max_power_w.map(|pw| {
             let need = pw * settings.power_derating_factor;
-            POWER_RATINGS_W
-                .iter()
-                .copied()
-                .find(|&r| r >= need)
-                .unwrap_or(need)
+            POWER_RATINGS_W.iter().copied().find(|&r| r >= need).unwrap_or(need)
         });
         let mut notes = Vec::new();
         if deviation_pct.abs() > 1e-7 {
@@ -436,19 +408,8 @@ pub fn bom<C: Circuit>(
     }
 
     let mut device = device_line(circuit, analysis, circuit.output_stage());
-    device.notes.extend(transistor_notes(
-        circuit,
-        device.supply_max_v,
-        settings.power_derating_factor,
-    ));
-    Ok(Bom {
-        resistors,
-        device,
-        application: Vec::new(),
-        regulators: Vec::new(),
-        input_network: Vec::new(),
-        settings: *settings,
-    })
+    device.notes.extend(transistor_notes(circuit, device.supply_max_v, settings.power_derating_factor));
+    Ok(Bom { resistors, device, application: Vec::new(), regulators: Vec::new(), input_network: Vec::new(), settings: *settings })
 }
 
 /// Discrete transistors' VCEO, IC and power requirements at the highest supply, from the
@@ -478,33 +439,17 @@ fn transistor_notes<C: Circuit>(circuit: &C, supply_max_v: f64, derating: f64) -
 
 fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage) -> DeviceLine {
     let nominal = circuit.supply_v();
-    let supplies = analysis
-        .supply_corners
-        .iter()
-        .map(|c| c.supply_v)
-        .chain([nominal]);
+    let supplies = analysis.supply_corners.iter().map(|c| c.supply_v).chain([nominal]);
     let supply_min_v = supplies.clone().fold(f64::INFINITY, f64::min);
     let supply_max_v = supplies.fold(f64::NEG_INFINITY, f64::max);
-    let input_min_v = analysis
-        .device_inputs
-        .iter()
-        .map(|n| n.min_v)
-        .reduce(f64::min);
-    let input_max_v = analysis
-        .device_inputs
-        .iter()
-        .map(|n| n.max_v)
-        .reduce(f64::max);
+    let input_min_v = analysis.device_inputs.iter().map(|n| n.min_v).reduce(f64::min);
+    let input_max_v = analysis.device_inputs.iter().map(|n| n.max_v).reduce(f64::max);
     let negative_rail_v = circuit.negative_rail_v();
     let v = |x: f64| format_with_unit(x, 4, Unit::Volt);
     let mut notes = Vec::new();
     // One supply value reads "a single 5 V supply", a range "a single supply of 4.5 V to 5.5 V".
     let fixed = (supply_max_v - supply_min_v).abs() <= 1e-9 * supply_max_v.abs().max(1e-3);
-    let supply = if fixed {
-        format!("{} supply", v(supply_max_v))
-    } else {
-        format!("supply of {} to {}", v(supply_min_v), v(supply_max_v))
-    };
+    let supply = if fixed { format!("{} supply", v(supply_max_v)) } else { format!("supply of {} to {}", v(supply_min_v), v(supply_max_v)) };
     let rails = if negative_rail_v == 0.0 {
         format!("single {supply}")
     } else {
@@ -515,11 +460,7 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
     // requirements are the VCEO, IC and power lines (`transistor_notes`).
     let discrete = stage == OutputStage::DiscreteTransistors;
     if let (false, Some(lo), Some(hi)) = (discrete, input_min_v, input_max_v) {
-        notes.push(format!(
-            "input common-mode range must cover {} to {} (both output states)",
-            v(lo),
-            v(hi)
-        ));
+        notes.push(format!("input common-mode range must cover {} to {} (both output states)", v(lo), v(hi)));
         let (dev_lo, dev_hi) = circuit.device_input_range();
         if lo < dev_lo - 1e-9 || hi > dev_hi + 1e-9 {
             notes.push(format!(
@@ -549,11 +490,7 @@ fn device_line<C: Circuit>(circuit: &C, analysis: &Analysis, stage: OutputStage)
         ),
     });
     DeviceLine {
-        designator: if stage == OutputStage::DiscreteTransistors {
-            "Q1, Q2".into()
-        } else {
-            "U1".into()
-        },
+        designator: if stage == OutputStage::DiscreteTransistors { "Q1, Q2".into() } else { "U1".into() },
         stage,
         description: stage.description().into(),
         supply_min_v,
@@ -628,12 +565,7 @@ impl CsvRow {
 /// Notes with a suggested voltage rating first, when there is one.
 fn notes_with_voltage_rating(notes: &[String], suggested_voltage_v: Option<f64>) -> String {
     let rating = suggested_voltage_v.map(|v| format!("voltage rating at least {v} V"));
-    rating
-        .iter()
-        .chain(notes)
-        .cloned()
-        .collect::<Vec<_>>()
-        .join("; ")
+    rating.iter().chain(notes).cloned().collect::<Vec<_>>().join("; ")
 }
 
 impl Bom {
@@ -665,11 +597,7 @@ impl Bom {
             let resistor = p.kind == application::PartKind::Resistor;
             let row = CsvRow {
                 designator: p.designator.clone(),
-                part: format!(
-                    "{}, {}",
-                    if resistor { "resistor" } else { "capacitor" },
-                    p.label
-                ),
+                part: format!("{}, {}", if resistor { "resistor" } else { "capacitor" }, p.label),
                 value: p.value_rkm.clone().unwrap_or_else(|| p.value_text.clone()),
                 value_full: p.value_text.clone(),
                 series: p.series.to_string(),
@@ -679,11 +607,7 @@ impl Bom {
                 notes: notes_with_voltage_rating(&p.notes, p.suggested_voltage_v),
                 ..CsvRow::default()
             };
-            line(if resistor {
-                row.with_resistor_settings(&self.settings)
-            } else {
-                row
-            });
+            line(if resistor { row.with_resistor_settings(&self.settings) } else { row });
         }
         for p in &self.input_network {
             use NetworkPartKind as K;
@@ -704,11 +628,7 @@ impl Bom {
                 notes: notes_with_voltage_rating(&p.notes, p.suggested_voltage_v),
                 ..CsvRow::default()
             };
-            line(if p.kind == K::Resistor {
-                row.with_resistor_settings(&self.settings)
-            } else {
-                row
-            });
+            line(if p.kind == K::Resistor { row.with_resistor_settings(&self.settings) } else { row });
         }
         for r in &self.regulators {
             let voltage = crate::notation::format_with_unit(r.voltage_v, 4, Unit::Volt);
@@ -775,36 +695,20 @@ mod tests {
         let r1 = &b.resistors[0];
         let p = r1.max_power_w.unwrap();
         let node_p = (5.0 / 120.0) / (2.0 / 120.0 + 1.0 / 10e3);
-        assert!(
-            (p - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12,
-            "{p}"
-        );
+        assert!((p - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12, "{p}");
         assert_eq!(r1.suggested_rating_w, Some(0.125));
         // The package's own rating stays the 0603's 0.1 W (common practice), and it falls short.
-        assert_eq!(
-            (r1.package_rating_w, r1.rating_sufficient),
-            (0.1, Some(false))
-        );
+        assert_eq!((r1.package_rating_w, r1.rating_sufficient), (0.1, Some(false)));
         let cool = &b.resistors[2];
-        assert_eq!(
-            (cool.package_rating_w, cool.rating_sufficient),
-            (0.1, Some(true))
-        );
-        assert!(
-            r1.notes.iter().any(|n| n.contains("use 0805 or larger")),
-            "{:?}",
-            r1.notes
-        );
+        assert_eq!((cool.package_rating_w, cool.rating_sufficient), (0.1, Some(true)));
+        assert!(r1.notes.iter().any(|n| n.contains("use 0805 or larger")), "{:?}", r1.notes);
     }
 
     #[test]
     fn voltage_limit_is_the_lower_of_power_and_package() {
         // 0402: √(0.0625 W × 1 MΩ) = 250 V, package limit 50 V → 50 V; at 1 kΩ √62.5 = 7.9 V.
         let (c, a) = design(1e3, 1e6, 1e6, 5.0);
-        let s = PartSettings {
-            package: Package::Chip0402,
-            ..PartSettings::default()
-        };
+        let s = PartSettings { package: Package::Chip0402, ..PartSettings::default() };
         let b = bom(&c, &a, &CheckSettings::default(), &s).unwrap();
         assert!((b.resistors[0].voltage_limit_v - 62.5f64.sqrt()).abs() < 1e-12);
         assert_eq!(b.resistors[1].voltage_limit_v, 50.0);
@@ -814,52 +718,24 @@ mod tests {
     fn device_note_names_one_supply_once_and_a_range_as_a_range() {
         let (c, a) = design(10e3, 10e3, 20e3, 5.0);
         let fixed = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
-        assert!(
-            fixed
-                .device
-                .notes
-                .iter()
-                .any(|n| n == "must run from a single 5 V supply"),
-            "{:?}",
-            fixed.device.notes
-        );
-        let checks = CheckSettings {
-            supply_min_v: Some(4.5),
-            supply_max_v: Some(5.5),
-            ..CheckSettings::default()
-        };
+        assert!(fixed.device.notes.iter().any(|n| n == "must run from a single 5 V supply"), "{:?}", fixed.device.notes);
+        let checks = CheckSettings { supply_min_v: Some(4.5), supply_max_v: Some(5.5), ..CheckSettings::default() };
         let a2 = analyse(&c, &checks).unwrap();
         let ranged = bom(&c, &a2, &checks, &PartSettings::default()).unwrap();
-        assert!(
-            ranged
-                .device
-                .notes
-                .iter()
-                .any(|n| n == "must run from a single supply of 4.5 V to 5.5 V"),
-            "{:?}",
-            ranged.device.notes
-        );
+        assert!(ranged.device.notes.iter().any(|n| n == "must run from a single supply of 4.5 V to 5.5 V"), "{:?}", ranged.device.notes);
     }
 
     #[test]
     fn supply_range_raises_the_stress() {
         let (c, a) = design(10e3, 10e3, 20e3, 5.0);
-        let checks = CheckSettings {
-            supply_min_v: Some(4.5),
-            supply_max_v: Some(5.5),
-            ..CheckSettings::default()
-        };
+        let checks = CheckSettings { supply_min_v: Some(4.5), supply_max_v: Some(5.5), ..CheckSettings::default() };
         let a2 = analyse(&c, &checks).unwrap();
         let nominal = bom(&c, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
         let ranged = bom(&c, &a2, &checks, &PartSettings::default()).unwrap();
-        let ratio =
-            ranged.resistors[0].max_power_w.unwrap() / nominal.resistors[0].max_power_w.unwrap();
+        let ratio = ranged.resistors[0].max_power_w.unwrap() / nominal.resistors[0].max_power_w.unwrap();
         // Every voltage scales with the supply here, so power scales with its square.
         assert!((ratio - (5.5f64 / 5.0).powi(2)).abs() < 1e-9, "{ratio}");
-        assert_eq!(
-            (ranged.device.supply_min_v, ranged.device.supply_max_v),
-            (4.5, 5.5)
-        );
+        assert_eq!((ranged.device.supply_min_v, ranged.device.supply_max_v), (4.5, 5.5));
     }
 
     #[test]
@@ -871,47 +747,22 @@ mod tests {
             ("bjt_pair", OutputStage::DiscreteTransistors, "Q1, Q2"),
             ("cmos_buffer", OutputStage::LogicGate, "U1"),
         ] {
-            let r = crate::catalog::templates()
-                .into_iter()
-                .find(|s| s.key == key)
-                .unwrap()
-                .record();
+            let r = crate::catalog::templates().into_iter().find(|s| s.key == key).unwrap().record();
             let a = analyse(&r.circuit, &CheckSettings::default()).unwrap();
-            let b = bom(
-                &r.circuit,
-                &a,
-                &CheckSettings::default(),
-                &PartSettings::default(),
-            )
-            .unwrap();
-            assert_eq!(
-                (b.device.stage, b.device.designator.as_str()),
-                (stage, designator),
-                "{key}"
-            );
+            let b = bom(&r.circuit, &a, &CheckSettings::default(), &PartSettings::default()).unwrap();
+            assert_eq!((b.device.stage, b.device.designator.as_str()), (stage, designator), "{key}");
         }
     }
+
 
     #[test]
     fn bad_settings_are_typed_errors() {
         let (c, a) = design(10e3, 10e3, 20e3, 5.0);
-        let s = PartSettings {
-            tolerance_pct: 0.0,
-            ..PartSettings::default()
-        };
+        let s = PartSettings { tolerance_pct: 0.0, ..PartSettings::default() };
         assert!(bom(&c, &a, &CheckSettings::default(), &s).is_err());
-        let s = PartSettings {
-            power_derating_factor: 0.5,
-            ..PartSettings::default()
-        };
+        let s = PartSettings { power_derating_factor: 0.5, ..PartSettings::default() };
         assert!(bom(&c, &a, &CheckSettings::default(), &s).is_err());
-        assert_eq!(
-            serde_json::from_str::<PartSettings>("{}").unwrap(),
-            PartSettings::default()
-        );
-        assert_eq!(
-            serde_json::to_string(&Package::Chip0805).unwrap(),
-            "\"0805\""
-        );
+        assert_eq!(serde_json::from_str::<PartSettings>("{}").unwrap(), PartSettings::default());
+        assert_eq!(serde_json::to_string(&Package::Chip0805).unwrap(), "\"0805\"");
     }
 }

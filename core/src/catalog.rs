@@ -38,12 +38,7 @@ fn fallback() -> DesignRecord {
     use crate::topology::inverting::InvertingSchmitt;
     DesignRecord::new(
         "Untitled design",
-        Topology::Inverting(InvertingSchmitt::single_supply(
-            100e3,
-            100e3,
-            100e3,
-            Comparator::ideal(5.0),
-        )),
+        Topology::Inverting(InvertingSchmitt::single_supply(100e3, 100e3, 100e3, Comparator::ideal(5.0))),
     )
 }
 
@@ -51,13 +46,7 @@ fn fallback() -> DesignRecord {
 pub fn templates() -> Vec<Starter> {
     Topology::ENTRIES
         .iter()
-        .map(|e| Starter {
-            key: e.name,
-            title: e.title,
-            note: e.note,
-            hazardous: false,
-            json: e.template_json,
-        })
+        .map(|e| Starter { key: e.name, title: e.title, note: e.note, hazardous: false, json: e.template_json })
         .collect()
 }
 
@@ -68,11 +57,7 @@ pub fn demos() -> Vec<Starter> {
 
 /// The plain note on when to use a topology, by its record name (empty for an unknown name).
 pub fn topology_note(name: &str) -> &'static str {
-    Topology::ENTRIES
-        .iter()
-        .find(|e| e.name == name)
-        .map(|e| e.note)
-        .unwrap_or("")
+    Topology::ENTRIES.iter().find(|e| e.name == name).map(|e| e.note).unwrap_or("")
 }
 
 const DEMOS: &[Starter] = &[

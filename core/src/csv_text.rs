@@ -50,8 +50,7 @@ impl CsvText {
     pub fn finish(self) -> String {
         let bytes = self.writer.into_inner().unwrap_or_default();
         // Every field came in as UTF-8 and quoting adds only ASCII, so this never loses text.
-        String::from_utf8(bytes)
-            .unwrap_or_else(|e| String::from_utf8_lossy(e.as_bytes()).into_owned())
+        String::from_utf8(bytes).unwrap_or_else(|e| String::from_utf8_lossy(e.as_bytes()).into_owned())
     }
 }
 

@@ -24,12 +24,7 @@ pub struct Effects {
 
 impl Default for Effects {
     fn default() -> Self {
-        Effects {
-            output_headroom: true,
-            offset: true,
-            bias_current: true,
-            builtin_hysteresis: true,
-        }
+        Effects { output_headroom: true, offset: true, bias_current: true, builtin_hysteresis: true }
     }
 }
 
@@ -96,10 +91,7 @@ impl Default for Comparator {
 impl Comparator {
     /// An ideal rail-to-rail device on a single supply (no offset, no bias, inputs to both rails).
     pub fn ideal(supply_v: f64) -> Self {
-        Comparator {
-            supply_v,
-            ..Comparator::default()
-        }
+        Comparator { supply_v, ..Comparator::default() }
     }
 
     /// Checks every field for finiteness and sign, and the rails and output levels for consistency.
@@ -107,62 +99,21 @@ impl Comparator {
         use crate::limits::{check, Quantity};
         check(Quantity::Voltage, "supply_v", self.supply_v)?;
         check(Quantity::Voltage, "negative_rail_v", self.negative_rail_v)?;
-        non_negative(
-            "output_high_drop_v",
-            check(
-                Quantity::Voltage,
-                "output_high_drop_v",
-                self.output_high_drop_v,
-            )?,
-        )?;
-        non_negative(
-            "output_low_rise_v",
-            check(
-                Quantity::Voltage,
-                "output_low_rise_v",
-                self.output_low_rise_v,
-            )?,
-        )?;
+        non_negative("output_high_drop_v", check(Quantity::Voltage, "output_high_drop_v", self.output_high_drop_v)?)?;
+        non_negative("output_low_rise_v", check(Quantity::Voltage, "output_low_rise_v", self.output_low_rise_v)?)?;
         check(Quantity::Voltage, "offset_v", self.offset_v)?;
         check(Quantity::Current, "bias_plus_a", self.bias_plus_a)?;
         check(Quantity::Current, "bias_minus_a", self.bias_minus_a)?;
-        non_negative(
-            "builtin_hysteresis_v",
-            check(
-                Quantity::Voltage,
-                "builtin_hysteresis_v",
-                self.builtin_hysteresis_v,
-            )?,
-        )?;
-        check(
-            Quantity::Voltage,
-            "input_low_margin_v",
-            self.input_low_margin_v,
-        )?;
-        check(
-            Quantity::Voltage,
-            "input_high_margin_v",
-            self.input_high_margin_v,
-        )?;
+        non_negative("builtin_hysteresis_v", check(Quantity::Voltage, "builtin_hysteresis_v", self.builtin_hysteresis_v)?)?;
+        check(Quantity::Voltage, "input_low_margin_v", self.input_low_margin_v)?;
+        check(Quantity::Voltage, "input_high_margin_v", self.input_high_margin_v)?;
         non_negative(
             "offset_drift_v_per_k",
-            check(
-                Quantity::VoltageDrift,
-                "offset_drift_v_per_k",
-                self.offset_drift_v_per_k,
-            )?,
+            check(Quantity::VoltageDrift, "offset_drift_v_per_k", self.offset_drift_v_per_k)?,
         )?;
-        check(
-            Quantity::RelativeDrift,
-            "bias_tempco_pct_per_k",
-            self.bias_tempco_pct_per_k,
-        )?;
+        check(Quantity::RelativeDrift, "bias_tempco_pct_per_k", self.bias_tempco_pct_per_k)?;
         if self.source_resistance_ohm != 0.0 {
-            check(
-                Quantity::Resistance,
-                "source_resistance_ohm",
-                self.source_resistance_ohm,
-            )?;
+            check(Quantity::Resistance, "source_resistance_ohm", self.source_resistance_ohm)?;
         }
         if self.supply_v <= self.negative_rail_v {
             return Err(DesignError::inconsistent(format!(
@@ -200,44 +151,24 @@ impl Comparator {
 
     /// Input offset applied, volts (0 when the offset effect is off).
     pub fn offset_applied_v(&self) -> f64 {
-        if self.effects.offset {
-            self.offset_v
-        } else {
-            0.0
-        }
+        if self.effects.offset { self.offset_v } else { 0.0 }
     }
 
     /// IB+ applied, amperes.
     pub fn bias_plus_applied_a(&self) -> f64 {
-        if self.effects.bias_current {
-            self.bias_plus_a
-        } else {
-            0.0
-        }
+        if self.effects.bias_current { self.bias_plus_a } else { 0.0 }
     }
 
     /// IB− applied, amperes.
     pub fn bias_minus_applied_a(&self) -> f64 {
-        if self.effects.bias_current {
-            self.bias_minus_a
-        } else {
-            0.0
-        }
+        if self.effects.bias_current { self.bias_minus_a } else { 0.0 }
     }
 
     /// The switching offset in a given output state: VOS ∓ h/2. With the output high the device
     /// needs V(+) − V(−) to fall to VOS − h/2 (DOMAIN §0: built-in hysteresis as state-dependent VOS).
     pub fn switching_offset_v(&self, output_high: bool) -> f64 {
-        let half = if self.effects.builtin_hysteresis {
-            self.builtin_hysteresis_v / 2.0
-        } else {
-            0.0
-        };
-        if output_high {
-            self.offset_applied_v() - half
-        } else {
-            self.offset_applied_v() + half
-        }
+        let half = if self.effects.builtin_hysteresis { self.builtin_hysteresis_v / 2.0 } else { 0.0 };
+        if output_high { self.offset_applied_v() - half } else { self.offset_applied_v() + half }
     }
 
     /// The offset VOS as a tolerance parameter, with its drift of unknown sign.
@@ -302,12 +233,7 @@ mod tests {
 
     #[test]
     fn headroom_sets_output_levels_and_can_be_switched_off() {
-        let mut c = Comparator {
-            supply_v: 5.0,
-            output_high_drop_v: 0.2,
-            output_low_rise_v: 0.1,
-            ..Comparator::default()
-        };
+        let mut c = Comparator { supply_v: 5.0, output_high_drop_v: 0.2, output_low_rise_v: 0.1, ..Comparator::default() };
         assert!((c.output_high_v() - 4.8).abs() < 1e-12);
         assert!((c.output_low_v() - 0.1).abs() < 1e-12);
         c.effects.output_headroom = false;
@@ -317,25 +243,13 @@ mod tests {
 
     #[test]
     fn rejects_output_levels_that_cross() {
-        let c = Comparator {
-            supply_v: 1.0,
-            output_high_drop_v: 0.6,
-            output_low_rise_v: 0.5,
-            ..Comparator::default()
-        };
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        let c = Comparator { supply_v: 1.0, output_high_drop_v: 0.6, output_low_rise_v: 0.5, ..Comparator::default() };
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
     }
 
     #[test]
     fn builtin_hysteresis_is_a_state_dependent_offset() {
-        let c = Comparator {
-            builtin_hysteresis_v: 0.01,
-            offset_v: 0.002,
-            ..Comparator::default()
-        };
+        let c = Comparator { builtin_hysteresis_v: 0.01, offset_v: 0.002, ..Comparator::default() };
         assert!((c.switching_offset_v(true) - (-0.003)).abs() < 1e-15);
         assert!((c.switching_offset_v(false) - 0.007).abs() < 1e-15);
     }

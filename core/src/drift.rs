@@ -46,11 +46,7 @@ impl Drift {
         ];
         let lo = ends.iter().copied().fold(f64::INFINITY, f64::min);
         let hi = ends.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-        if self.is_none() || !(lo.is_finite() && hi.is_finite()) {
-            (0.0, 0.0)
-        } else {
-            (lo, hi)
-        }
+        if self.is_none() || !(lo.is_finite() && hi.is_finite()) { (0.0, 0.0) } else { (lo, hi) }
     }
 
     /// Whether no drift is modelled (or its coefficient is zero).

@@ -57,25 +57,17 @@ pub enum DesignError {
 impl DesignError {
     /// Shorthand for [`DesignError::InvalidValue`].
     pub fn invalid(field: &str, reason: impl Into<String>) -> Self {
-        DesignError::InvalidValue {
-            field: field.to_string(),
-            reason: reason.into(),
-        }
+        DesignError::InvalidValue { field: field.to_string(), reason: reason.into() }
     }
 
     /// Shorthand for [`DesignError::Inconsistent`].
     pub fn inconsistent(reason: impl Into<String>) -> Self {
-        DesignError::Inconsistent {
-            reason: reason.into(),
-        }
+        DesignError::Inconsistent { reason: reason.into() }
     }
 
     /// Shorthand for [`DesignError::Infeasible`].
     pub fn infeasible(reason: impl Into<String>, suggestion: impl Into<String>) -> Self {
-        DesignError::Infeasible {
-            reason: reason.into(),
-            suggestion: suggestion.into(),
-        }
+        DesignError::Infeasible { reason: reason.into(), suggestion: suggestion.into() }
     }
 }
 
@@ -112,10 +104,7 @@ pub fn positive(field: &str, value: f64) -> Result<f64, DesignError> {
     if value.is_finite() && value > 0.0 {
         Ok(value)
     } else {
-        Err(DesignError::invalid(
-            field,
-            format!("must be a finite number above zero (got {value})"),
-        ))
+        Err(DesignError::invalid(field, format!("must be a finite number above zero (got {value})")))
     }
 }
 
@@ -132,10 +121,7 @@ pub fn non_negative(field: &str, value: f64) -> Result<f64, DesignError> {
 #[cold]
 #[inline(never)]
 fn negative(field: &str, value: f64) -> DesignError {
-    DesignError::invalid(
-        field,
-        format!("must be a finite number, zero or above (got {value})"),
-    )
+    DesignError::invalid(field, format!("must be a finite number, zero or above (got {value})"))
 }
 
 #[cfg(test)]

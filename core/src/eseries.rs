@@ -20,23 +20,20 @@ use serde::{Deserialize, Serialize};
 use std::fmt;
 
 /// E24 values as two significant digits (×0.1 gives the mantissa 1.0 … 9.1). IEC 60063 (from memory).
-const E24_DIGITS: [u16; 24] = [
-    10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91,
-];
+const E24_DIGITS: [u16; 24] =
+    [10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91];
 
 /// E192 values as three significant digits (×0.01 gives the mantissa 1.00 … 9.88). IEC 60063 (from memory).
 const E192_DIGITS: [u16; 192] = [
-    100, 101, 102, 104, 105, 106, 107, 109, 110, 111, 113, 114, 115, 117, 118, 120, 121, 123, 124,
-    126, 127, 129, 130, 132, 133, 135, 137, 138, 140, 142, 143, 145, 147, 149, 150, 152, 154, 156,
-    158, 160, 162, 164, 165, 167, 169, 172, 174, 176, 178, 180, 182, 184, 187, 189, 191, 193, 196,
-    198, 200, 203, 205, 208, 210, 213, 215, 218, 221, 223, 226, 229, 232, 234, 237, 240, 243, 246,
-    249, 252, 255, 258, 261, 264, 267, 271, 274, 277, 280, 284, 287, 291, 294, 298, 301, 305, 309,
-    312, 316, 320, 324, 328, 332, 336, 340, 344, 348, 352, 357, 361, 365, 370, 374, 379, 383, 388,
-    392, 397, 402, 407, 412, 417, 422, 427, 432, 437, 442, 448, 453, 459, 464, 470, 475, 481, 487,
-    493, 499, 505, 511, 517, 523, 530, 536, 542, 549, 556, 562, 569, 576, 583, 590, 597, 604, 612,
-    619, 626, 634, 642, 649, 657, 665, 673, 681, 690, 698, 706, 715, 723, 732, 741, 750, 759, 768,
-    777, 787, 796, 806, 816, 825, 835, 845, 856, 866, 876, 887, 898, 909, 920, 931, 942, 953, 965,
-    976, 988,
+    100, 101, 102, 104, 105, 106, 107, 109, 110, 111, 113, 114, 115, 117, 118, 120, 121, 123, 124, 126, 127, 129, 130,
+    132, 133, 135, 137, 138, 140, 142, 143, 145, 147, 149, 150, 152, 154, 156, 158, 160, 162, 164, 165, 167, 169, 172,
+    174, 176, 178, 180, 182, 184, 187, 189, 191, 193, 196, 198, 200, 203, 205, 208, 210, 213, 215, 218, 221, 223, 226,
+    229, 232, 234, 237, 240, 243, 246, 249, 252, 255, 258, 261, 264, 267, 271, 274, 277, 280, 284, 287, 291, 294, 298,
+    301, 305, 309, 312, 316, 320, 324, 328, 332, 336, 340, 344, 348, 352, 357, 361, 365, 370, 374, 379, 383, 388, 392,
+    397, 402, 407, 412, 417, 422, 427, 432, 437, 442, 448, 453, 459, 464, 470, 475, 481, 487, 493, 499, 505, 511, 517,
+    523, 530, 536, 542, 549, 556, 562, 569, 576, 583, 590, 597, 604, 612, 619, 626, 634, 642, 649, 657, 665, 673, 681,
+    690, 698, 706, 715, 723, 732, 741, 750, 759, 768, 777, 787, 796, 806, 816, 825, 835, 845, 856, 866, 876, 887, 898,
+    909, 920, 931, 942, 953, 965, 976, 988,
 ];
 
 /// Relative tolerance within which two values count as the same series value (guards against a
@@ -87,23 +84,14 @@ impl std::str::FromStr for ESeries {
             .iter()
             .copied()
             .find(|e| e.per_decade().to_string() == digits)
-            .ok_or_else(|| {
-                format!("unknown series \"{t}\": use one of E3, E6, E12, E24, E48, E96, E192")
-            })
+            .ok_or_else(|| format!("unknown series \"{t}\": use one of E3, E6, E12, E24, E48, E96, E192"))
     }
 }
 
 impl ESeries {
     /// Every series, coarsest first.
-    pub const ALL: [ESeries; 7] = [
-        ESeries::E3,
-        ESeries::E6,
-        ESeries::E12,
-        ESeries::E24,
-        ESeries::E48,
-        ESeries::E96,
-        ESeries::E192,
-    ];
+    pub const ALL: [ESeries; 7] =
+        [ESeries::E3, ESeries::E6, ESeries::E12, ESeries::E24, ESeries::E48, ESeries::E96, ESeries::E192];
 
     /// Number of values per decade, N.
     pub fn per_decade(self) -> usize {
@@ -164,8 +152,7 @@ impl ESeries {
 
     /// The mantissas of one decade in [1, 10), ascending (E24: 1.0, 1.1 … 9.1).
     pub fn mantissas(self) -> impl Iterator<Item = f64> {
-        self.digits()
-            .map(move |d| digits_value(d, -(self.significant_digits() as i32 - 1)))
+        self.digits().map(move |d| digits_value(d, -(self.significant_digits() as i32 - 1)))
     }
 
     /// The series value with table digits `digits` in the decade [10^decade, 10^(decade+1)).
@@ -245,8 +232,7 @@ impl ESeries {
     pub fn next_up(self, x: f64) -> Option<f64> {
         let (lo, hi) = self.bracket(x)?;
         if lo == hi {
-            self.bracket(hi * (1.0 + 4.0 * SAME_VALUE_REL))
-                .map(|(_, h)| h)
+            self.bracket(hi * (1.0 + 4.0 * SAME_VALUE_REL)).map(|(_, h)| h)
         } else {
             Some(hi)
         }
@@ -257,8 +243,7 @@ impl ESeries {
     pub fn next_down(self, x: f64) -> Option<f64> {
         let (lo, hi) = self.bracket(x)?;
         if lo == hi {
-            self.bracket(lo * (1.0 - 4.0 * SAME_VALUE_REL))
-                .map(|(l, _)| l)
+            self.bracket(lo * (1.0 - 4.0 * SAME_VALUE_REL)).map(|(l, _)| l)
         } else {
             Some(lo)
         }
@@ -297,13 +282,10 @@ pub(crate) fn digits_value(digits: u16, exp: i32) -> f64 {
 /// 10^k for k ≥ 0: exact up to 10^22 (a double holds every such power exactly), approximate beyond.
 fn pow10(k: i32) -> f64 {
     const EXACT: [f64; 23] = [
-        1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
-        1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
+        1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19,
+        1e20, 1e21, 1e22,
     ];
-    usize::try_from(k)
-        .ok()
-        .and_then(|i| EXACT.get(i).copied())
-        .unwrap_or_else(|| 10f64.powi(k))
+    usize::try_from(k).ok().and_then(|i| EXACT.get(i).copied()).unwrap_or_else(|| 10f64.powi(k))
 }
 
 #[cfg(test)]
@@ -359,10 +341,7 @@ mod tests {
     #[test]
     fn serde_names_are_lower_case() {
         assert_eq!(serde_json::to_string(&ESeries::E24).unwrap(), "\"e24\"");
-        assert_eq!(
-            serde_json::from_str::<ESeries>("\"e192\"").unwrap(),
-            ESeries::E192
-        );
+        assert_eq!(serde_json::from_str::<ESeries>("\"e192\"").unwrap(), ESeries::E192);
         assert_eq!("E96".parse::<ESeries>(), Ok(ESeries::E96));
         assert!("E25".parse::<ESeries>().is_err());
     }

@@ -3,9 +3,9 @@
 
 use crate::analysis::Analysis;
 use crate::bom::Bom;
+use crate::search::SearchReport;
 use crate::error::DesignError;
 use crate::record::{DesignRecord, RecordError};
-use crate::search::SearchReport;
 use crate::tolerance::{tolerance_report, ToleranceReport};
 use crate::topology::{analyse, sensitivities};
 use serde::{Deserialize, Serialize};
@@ -113,12 +113,7 @@ pub use crate::overview::thresholds;
 /// (with search settings too) the standard-value search.
 pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let mut errors = Vec::new();
-    let mut fail = |study: &str, error: DesignError| {
-        errors.push(StudyError {
-            study: study.into(),
-            error,
-        })
-    };
+    let mut fail = |study: &str, error: DesignError| errors.push(StudyError { study: study.into(), error });
     let analysis = match analyse(&record.circuit, &record.checks) {
         Ok(a) => Some(a),
         Err(e) => {
@@ -131,12 +126,7 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         match sensitivities(&record.circuit) {
             Ok(s) => Some(
                 s.into_iter()
-                    .map(|(p, up, lo)| Sensitivity {
-                        id: p.id,
-                        designator: p.designator,
-                        d_vt_upper: up,
-                        d_vt_lower: lo,
-                    })
+                    .map(|(p, up, lo)| Sensitivity { id: p.id, designator: p.designator, d_vt_upper: up, d_vt_lower: lo })
                     .collect(),
             ),
             Err(e) => {
@@ -148,47 +138,36 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         None
     };
     let sens = crate::finite::keep("sensitivities", sens, &mut fail);
-    let synthesis =
-        record
-            .targets
-            .as_ref()
-            .and_then(|t| match crate::overview::synthesis(record, t) {
-                Ok(s) => Some(s),
-                Err(e) => {
-                    fail("synthesis", e);
-                    None
-                }
-            });
+    let synthesis = record.targets.as_ref().and_then(|t| {
+        match crate::overview::synthesis(record, t) {
+            Ok(s) => Some(s),
+            Err(e) => {
+                fail("synthesis", e);
+                None
+            }
+        }
+    });
     let synthesis = crate::finite::keep("synthesis", synthesis, &mut fail);
-    let tolerance =
-        record
-            .tolerance
-            .as_ref()
-            .and_then(|s| match tolerance_report(&record.circuit, s) {
-                Ok(r) => Some(r),
-                Err(e) => {
-                    fail("tolerance", e);
-                    None
-                }
-            });
+    let tolerance = record.tolerance.as_ref().and_then(|s| match tolerance_report(&record.circuit, s) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            fail("tolerance", e);
+            None
+        }
+    });
     let tolerance = crate::finite::keep("tolerance", tolerance, &mut fail);
     let windows = match (&tolerance, &analysis) {
-        (Some(t), Some(a)) => crate::overview::windows(record, a, Some(&t.worst_case))
-            .map_err(|e| fail("bench_window", e))
-            .ok(),
+        (Some(t), Some(a)) => crate::overview::windows(record, a, Some(&t.worst_case)).map_err(|e| fail("bench_window", e)).ok(),
         _ => None,
     };
     let windows = crate::finite::keep("bench_window", windows, &mut fail);
-    let signal =
-        record.signal.as_ref().and_then(
-            |s| match crate::input_network::from_record::record_signal(record, s) {
-                Ok(r) => Some(r),
-                Err(e) => {
-                    fail("signal", e);
-                    None
-                }
-            },
-        );
+    let signal = record.signal.as_ref().and_then(|s| match crate::input_network::from_record::record_signal(record, s) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            fail("signal", e);
+            None
+        }
+    });
     let signal = crate::finite::keep("signal", signal, &mut fail);
     let application = record.application.as_ref().and_then(|a| {
         match crate::signal::report::evaluate_record_application(&record.circuit, a) {
@@ -205,19 +184,13 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
         }
     });
     let application = crate::finite::keep("application", application, &mut fail);
-    let bom = analysis.as_ref().and_then(|a| {
-        crate::overview::part_list(record, a)
-            .map_err(|e| fail("bom", e))
-            .ok()
-    });
+    let bom = analysis.as_ref().and_then(|a| crate::overview::part_list(record, a).map_err(|e| fail("bom", e)).ok());
     let bom = crate::finite::keep("bom", bom, &mut fail);
     let search = match (&record.targets, &record.search) {
         (Some(t), Some(_)) => {
             // The page's job, stepped to the end within the search's evaluation budget.
             crate::overview::standard_values_job(record, t, synthesis.as_ref())
-                .and_then(|mut job| {
-                    crate::search::run_job(&mut job, crate::search::MAX_EVALUATIONS)
-                })
+                .and_then(|mut job| crate::search::run_job(&mut job, crate::search::MAX_EVALUATIONS))
                 .map_err(|e| fail("search", e))
                 .ok()
         }
@@ -229,38 +202,21 @@ pub fn evaluate(record: &DesignRecord) -> Evaluation {
     let exports = {
         let (spice, bench) = match &analysis {
             Some(a) => (
-                crate::overview::spice(record)
-                    .map_err(|e| fail("exports", e))
-                    .ok(),
+                crate::overview::spice(record).map_err(|e| fail("exports", e)).ok(),
                 Some(crate::overview::bench(record, a, windows.as_ref())),
             ),
             None => (None, None),
         };
-        let bench = bench.and_then(|b| {
-            crate::finite::check("bench", &b)
-                .map_err(|e| fail("exports", e))
-                .ok()
-                .map(|()| b)
-        });
-        Some(Exports {
-            link: crate::share::encode_link(record),
-            spice,
-            bench,
-        })
+        let bench = bench.and_then(|b| crate::finite::check("bench", &b).map_err(|e| fail("exports", e)).ok().map(|()| b));
+        Some(Exports { link: crate::share::encode_link(record), spice, bench })
     };
-    let temperature = analysis.as_ref().and_then(|_| {
-        crate::overview::temperature(record)
-            .map_err(|e| fail("temperature", e))
-            .ok()
-    });
-    let temperature_summary = temperature
+    let temperature = analysis
         .as_ref()
-        .map(|t| crate::overview::temperature_line(record, t));
-    let input_network = crate::input_network::from_record::record_network(record)
-        .and_then(|r| r.map_err(|e| fail("input_network", e)).ok());
+        .and_then(|_| crate::overview::temperature(record).map_err(|e| fail("temperature", e)).ok());
+    let temperature_summary = temperature.as_ref().map(|t| crate::overview::temperature_line(record, t));
+    let input_network = crate::input_network::from_record::record_network(record).and_then(|r| r.map_err(|e| fail("input_network", e)).ok());
     let (output_dynamics, power_up) = crate::overview::dynamics(record);
-    let output_dynamics =
-        output_dynamics.and_then(|r| r.map_err(|e| fail("output_dynamics", e)).ok());
+    let output_dynamics = output_dynamics.and_then(|r| r.map_err(|e| fail("output_dynamics", e)).ok());
     let output_dynamics = crate::finite::keep("output_dynamics", output_dynamics, &mut fail);
     let power_up = power_up.and_then(|r| r.map_err(|e| fail("power_up", e)).ok());
     let power_up = crate::finite::keep("power_up", power_up, &mut fail);
@@ -308,9 +264,7 @@ pub enum RecordResult {
 /// text is not JSON at all; every record gets its own result or its own error.
 pub fn evaluate_json(text: &str) -> Result<Vec<RecordResult>, RecordError> {
     let value: serde_json::Value =
-        serde_json::from_str(text).map_err(|e| RecordError::Malformed {
-            message: e.to_string(),
-        })?;
+        serde_json::from_str(text).map_err(|e| RecordError::Malformed { message: e.to_string() })?;
     let items = match value {
         serde_json::Value::Array(items) => items,
         other => vec![other],
@@ -320,11 +274,7 @@ pub fn evaluate_json(text: &str) -> Result<Vec<RecordResult>, RecordError> {
         .enumerate()
         .map(|(index, v)| match DesignRecord::from_value(v) {
             Ok(r) => RecordResult::Ok(Box::new(evaluate(&r))),
-            Err(error) => RecordResult::Error {
-                index,
-                message: error.to_string(),
-                error,
-            },
+            Err(error) => RecordResult::Error { index, message: error.to_string(), error },
         })
         .collect())
 }
@@ -362,10 +312,7 @@ mod tests {
         let x = e.exports.unwrap();
         assert_eq!(crate::share::decode_link(&x.link).unwrap(), r);
         assert!(x.spice.unwrap().ends_with(".end\n"));
-        assert_eq!(
-            x.bench.unwrap().readings[0].nominal_v,
-            e.analysis.unwrap().vt_upper_v
-        );
+        assert_eq!(x.bench.unwrap().readings[0].nominal_v, e.analysis.unwrap().vt_upper_v);
         // A broken circuit: the analysis error is reported once, the link still made.
         let mut bad = r.clone();
         if let Topology::Inverting(c) = &mut bad.circuit {

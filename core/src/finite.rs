@@ -22,11 +22,7 @@ pub struct NonFinite {
 
 impl fmt::Display for NonFinite {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "{} is not a finite number (got {})",
-            self.path, self.value
-        )
+        write!(f, "{} is not a finite number (got {})", self.path, self.value)
     }
 }
 
@@ -63,19 +59,13 @@ pub fn first_non_finite<T: Serialize + ?Sized>(root: &str, value: &T) -> Option<
 pub fn check<T: Serialize + ?Sized>(root: &str, value: &T) -> Result<(), DesignError> {
     match first_non_finite(root, value) {
         None => Ok(()),
-        Some(found) => Err(DesignError::NotFinite {
-            quantity: found.path,
-        }),
+        Some(found) => Err(DesignError::NotFinite { quantity: found.path }),
     }
 }
 
 /// Passes `value` through when it is finite everywhere; otherwise hands the error to `fail` under
 /// `study` and returns `None`. The one-line form [`crate::evaluate::evaluate`] applies to each study.
-pub fn keep<T: Serialize>(
-    study: &str,
-    value: Option<T>,
-    fail: &mut impl FnMut(&str, DesignError),
-) -> Option<T> {
+pub fn keep<T: Serialize>(study: &str, value: Option<T>, fail: &mut impl FnMut(&str, DesignError)) -> Option<T> {
     let v = value?;
     match check(study, &v) {
         Ok(()) => Some(v),
@@ -122,10 +112,7 @@ impl Walker {
         if v.is_finite() {
             Ok(())
         } else {
-            Err(Stop::Found(NonFinite {
-                path: self.path_text(),
-                value: v,
-            }))
+            Err(Stop::Found(NonFinite { path: self.path_text(), value: v }))
         }
     }
 }
@@ -203,12 +190,7 @@ impl<'a> Walker {
             }
             None => 0,
         };
-        Compound {
-            walker: self,
-            index: 0,
-            pushed,
-            pending_key: None,
-        }
+        Compound { walker: self, index: 0, pushed, pending_key: None }
     }
 }
 
@@ -295,11 +277,7 @@ impl<'a> ser::Serializer for &'a mut Walker {
     fn serialize_unit_variant(self, _: &'static str, _: u32, _: &'static str) -> Result<(), Stop> {
         Ok(())
     }
-    fn serialize_newtype_struct<T: Serialize + ?Sized>(
-        self,
-        _: &'static str,
-        value: &T,
-    ) -> Result<(), Stop> {
+    fn serialize_newtype_struct<T: Serialize + ?Sized>(self, _: &'static str, value: &T) -> Result<(), Stop> {
         value.serialize(self)
     }
     fn serialize_newtype_variant<T: Serialize + ?Sized>(
@@ -415,11 +393,7 @@ impl ser::SerializeMap for Compound<'_> {
 impl ser::SerializeStruct for Compound<'_> {
     type Ok = ();
     type Error = Stop;
-    fn serialize_field<T: Serialize + ?Sized>(
-        &mut self,
-        key: &'static str,
-        value: &T,
-    ) -> Result<(), Stop> {
+    fn serialize_field<T: Serialize + ?Sized>(&mut self, key: &'static str, value: &T) -> Result<(), Stop> {
         self.field(key, value)
     }
     fn end(self) -> Result<(), Stop> {
@@ -430,11 +404,7 @@ impl ser::SerializeStruct for Compound<'_> {
 impl ser::SerializeStructVariant for Compound<'_> {
     type Ok = ();
     type Error = Stop;
-    fn serialize_field<T: Serialize + ?Sized>(
-        &mut self,
-        key: &'static str,
-        value: &T,
-    ) -> Result<(), Stop> {
+    fn serialize_field<T: Serialize + ?Sized>(&mut self, key: &'static str, value: &T) -> Result<(), Stop> {
         self.field(key, value)
     }
     fn end(self) -> Result<(), Stop> {
@@ -479,10 +449,7 @@ mod tests {
 
     fn outer() -> Outer {
         Outer {
-            vt_upper: Spread {
-                min: Bound { value_v: 1.0 },
-                max: Bound { value_v: 2.0 },
-            },
+            vt_upper: Spread { min: Bound { value_v: 1.0 }, max: Bound { value_v: 2.0 } },
             list: vec![Some(1.0), None],
             choice: Choice::AnchorOhm(1e3),
             tagged: Tagged::Level { level_v: 0.0 },
@@ -495,10 +462,7 @@ mod tests {
         assert_eq!(first_non_finite("x", &outer()), None);
         assert_eq!(check("x", &outer()), Ok(()));
         // Huge and tiny numbers are finite: only NaN and ±∞ are refused here (ranges are limits.rs's job).
-        assert_eq!(
-            check("x", &[f64::MAX, f64::MIN_POSITIVE, 5e-324, -0.0]),
-            Ok(())
-        );
+        assert_eq!(check("x", &[f64::MAX, f64::MIN_POSITIVE, 5e-324, -0.0]), Ok(()));
     }
 
     #[test]
@@ -506,49 +470,17 @@ mod tests {
         let mut o = outer();
         o.vt_upper.max.value_v = f64::INFINITY;
         let e = check("worst_case", &o).unwrap_err();
-        assert_eq!(
-            e,
-            DesignError::NotFinite {
-                quantity: "worst_case.vt_upper.max.value_v".into()
-            }
-        );
-        assert!(
-            e.to_string()
-                .starts_with("worst_case.vt_upper.max.value_v is not a finite number"),
-            "{e}"
-        );
+        assert_eq!(e, DesignError::NotFinite { quantity: "worst_case.vt_upper.max.value_v".into() });
+        assert!(e.to_string().starts_with("worst_case.vt_upper.max.value_v is not a finite number"), "{e}");
 
         type Case = (fn(&mut Outer), &'static str);
         let cases: Vec<Case> = vec![
             (|o| o.list[1] = Some(f64::NAN), "r.list[1]"),
-            (
-                |o| o.choice = Choice::AnchorOhm(f64::NEG_INFINITY),
-                "r.choice.AnchorOhm",
-            ),
-            (
-                |o| o.choice = Choice::Pair(1.0, f64::NAN),
-                "r.choice.Pair[1]",
-            ),
-            (
-                |o| o.choice = Choice::Named { level_v: f64::NAN },
-                "r.choice.Named.level_v",
-            ),
-            (
-                |o| {
-                    o.tagged = Tagged::Level {
-                        level_v: f64::INFINITY,
-                    }
-                },
-                "r.tagged.level_v",
-            ),
-            (
-                |o| {
-                    o.table
-                        .insert("b".into(), (0.0, f32::NAN))
-                        .map_or((), |_| ())
-                },
-                "r.table.b[1]",
-            ),
+            (|o| o.choice = Choice::AnchorOhm(f64::NEG_INFINITY), "r.choice.AnchorOhm"),
+            (|o| o.choice = Choice::Pair(1.0, f64::NAN), "r.choice.Pair[1]"),
+            (|o| o.choice = Choice::Named { level_v: f64::NAN }, "r.choice.Named.level_v"),
+            (|o| o.tagged = Tagged::Level { level_v: f64::INFINITY }, "r.tagged.level_v"),
+            (|o| o.table.insert("b".into(), (0.0, f32::NAN)).map_or((), |_| ()), "r.table.b[1]"),
         ];
         for (mutate, path) in cases {
             let mut o = outer();
@@ -564,19 +496,11 @@ mod tests {
     fn keep_reports_under_the_study_and_drops_the_result() {
         let mut errors = Vec::new();
         let mut fail = |s: &str, e: DesignError| errors.push((s.to_string(), e));
-        assert_eq!(
-            keep("signal", Some(vec![1.0, 2.0]), &mut fail),
-            Some(vec![1.0, 2.0])
-        );
+        assert_eq!(keep("signal", Some(vec![1.0, 2.0]), &mut fail), Some(vec![1.0, 2.0]));
         assert_eq!(keep("signal", Some(vec![1.0, f64::NAN]), &mut fail), None);
         assert_eq!(keep::<f64>("signal", None, &mut fail), None);
         assert_eq!(errors.len(), 1);
         assert_eq!(errors[0].0, "signal");
-        assert_eq!(
-            errors[0].1,
-            DesignError::NotFinite {
-                quantity: "signal[1]".into()
-            }
-        );
+        assert_eq!(errors[0].1, DesignError::NotFinite { quantity: "signal[1]".into() });
     }
 }

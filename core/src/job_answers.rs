@@ -69,50 +69,23 @@ reader!(read_debouncer, "debouncer simulation", "debouncer" => JobOutput::Deboun
 
 impl Answers {
     /// [`Job::MonteCarlo`]: a whole run or the parts of a split one.
-    pub const MONTE_CARLO: Answers = Answers {
-        read: read_monte_carlo,
-        merge: jobs::merge_monte_carlo,
-    };
+    pub const MONTE_CARLO: Answers = Answers { read: read_monte_carlo, merge: jobs::merge_monte_carlo };
     /// [`Job::WorstCase`] (never split).
-    pub const WORST_CASE: Answers = Answers {
-        read: read_worst_case,
-        merge: jobs::merge_single,
-    };
+    pub const WORST_CASE: Answers = Answers { read: read_worst_case, merge: jobs::merge_single };
     /// [`Job::Windows`] (never split).
-    pub const WINDOWS: Answers = Answers {
-        read: read_windows,
-        merge: jobs::merge_single,
-    };
+    pub const WINDOWS: Answers = Answers { read: read_windows, merge: jobs::merge_single };
     /// [`Job::Signal`]: the main pass, and the sweep's parts when split.
-    pub const SIGNAL: Answers = Answers {
-        read: read_signal,
-        merge: jobs::merge_signal,
-    };
+    pub const SIGNAL: Answers = Answers { read: read_signal, merge: jobs::merge_signal };
     /// [`Job::NoiseSweep`]: its levels, in parts when split.
-    pub const NOISE_SWEEP: Answers = Answers {
-        read: read_sweep,
-        merge: jobs::merge_sweep,
-    };
+    pub const NOISE_SWEEP: Answers = Answers { read: read_sweep, merge: jobs::merge_sweep };
     /// [`Job::CsvImport`] (never split).
-    pub const CAPTURE: Answers = Answers {
-        read: read_capture,
-        merge: jobs::merge_single,
-    };
+    pub const CAPTURE: Answers = Answers { read: read_capture, merge: jobs::merge_single };
     /// [`Job::Search`]: a whole search or the parts of a split one.
-    pub const SEARCH: Answers = Answers {
-        read: read_search,
-        merge: jobs::merge_search,
-    };
+    pub const SEARCH: Answers = Answers { read: read_search, merge: jobs::merge_search };
     /// [`Job::Oscillator`] (never split).
-    pub const OSCILLATOR: Answers = Answers {
-        read: read_oscillator,
-        merge: jobs::merge_single,
-    };
+    pub const OSCILLATOR: Answers = Answers { read: read_oscillator, merge: jobs::merge_single };
     /// [`Job::Debouncer`] (never split).
-    pub const DEBOUNCER: Answers = Answers {
-        read: read_debouncer,
-        merge: jobs::merge_single,
-    };
+    pub const DEBOUNCER: Answers = Answers { read: read_debouncer, merge: jobs::merge_single };
 }
 
 #[cfg(test)]
@@ -132,38 +105,17 @@ mod tests {
     /// same output as reading the whole enum.
     #[test]
     fn an_answer_read_by_kind_equals_the_whole_enum_read() {
-        let record = crate::catalog::demos()
-            .into_iter()
-            .next()
-            .expect("a demo")
-            .record();
+        let record = crate::catalog::demos().into_iter().next().expect("a demo").record();
         let circuit = record.circuit.clone();
         let mut settings = crate::tolerance::ToleranceSettings::default();
         settings.monte_carlo.trials = 200;
         let cases = [
+            (Job::MonteCarlo { circuit: circuit.clone(), settings: settings.clone(), trials: None }, Answers::MONTE_CARLO),
             (
-                Job::MonteCarlo {
-                    circuit: circuit.clone(),
-                    settings: settings.clone(),
-                    trials: None,
-                },
+                Job::MonteCarlo { circuit: circuit.clone(), settings: settings.clone(), trials: Some(jobs::PartRange { start: 0, end: 50 }) },
                 Answers::MONTE_CARLO,
             ),
-            (
-                Job::MonteCarlo {
-                    circuit: circuit.clone(),
-                    settings: settings.clone(),
-                    trials: Some(jobs::PartRange { start: 0, end: 50 }),
-                },
-                Answers::MONTE_CARLO,
-            ),
-            (
-                Job::WorstCase {
-                    circuit: circuit.clone(),
-                    settings: settings.clone(),
-                },
-                Answers::WORST_CASE,
-            ),
+            (Job::WorstCase { circuit: circuit.clone(), settings: settings.clone() }, Answers::WORST_CASE),
         ];
         for (job, answers) in cases {
             let out = run(job);
@@ -179,10 +131,7 @@ mod tests {
     #[test]
     fn an_answer_of_another_kind_is_an_error_that_says_so() {
         let e = (Answers::WINDOWS.read)("monte_carlo", "{}").unwrap_err();
-        assert!(
-            e.contains("another kind") && e.contains("monte_carlo"),
-            "{e}"
-        );
+        assert!(e.contains("another kind") && e.contains("monte_carlo"), "{e}");
         let e = (Answers::SEARCH.read)("search", "{\"kind\":\"search\"").unwrap_err();
         assert!(e.contains("could not be read"), "{e}");
     }

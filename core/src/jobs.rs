@@ -42,10 +42,7 @@
 //!   it (the default) is not split and runs whole on one worker. Progress counts combinations of
 //!   the enumerated resistors.
 
-use crate::analysis::{CheckSettings, Thresholds};
 use crate::error::DesignError;
-use crate::record::DesignRecord;
-use crate::search::{SearchJob, SearchReport, SearchSettings};
 use crate::signal::csv::{Capture, CsvOptions, CsvParser};
 use crate::signal::debounce::{simulate_debounce, DebounceSettings, DebounceSimulation};
 use crate::signal::oscillator::{simulate_oscillator, OscillatorSettings, OscillatorSimulation};
@@ -53,10 +50,13 @@ use crate::signal::report::{SignalRun, SignalSettings, SignalSource};
 use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
-use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
 use crate::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
 use crate::tolerance::worst_case::{CornerScan, WorstCase, WorstCaseRun, SEARCH_GRID};
+use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
 use crate::tolerance::ToleranceSettings;
+use crate::record::DesignRecord;
+use crate::analysis::{CheckSettings, Thresholds};
+use crate::search::{SearchJob, SearchReport, SearchSettings};
 use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
 
@@ -685,8 +685,7 @@ impl Running {
                 self.progress.done = if p.finished {
                     self.progress.total
                 } else {
-                    p.combinations_done
-                        .min(self.progress.total.saturating_sub(1))
+                    p.combinations_done.min(self.progress.total.saturating_sub(1))
                 };
             }
         }
@@ -777,24 +776,14 @@ impl SignalState {
         if self.run.is_none() {
             let mut s = self.settings.clone();
             s.sweep = None;
-            let run = crate::signal::output_edges::run_signal_chain(
-                &s,
-                &self.design,
-                self.capture.as_ref(),
-                self.front.as_ref(),
-                self.output.as_deref(),
-            )?;
+            let run = crate::signal::output_edges::run_signal_chain(&s, &self.design, self.capture.as_ref(), self.front.as_ref(), self.output.as_deref())?;
             if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
                 let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
                 if self.front.is_some() {
                     // The run's waveforms are after the network; the sweep needs them before it.
                     let mut b = crate::signal::generate::SignalBuffers::default();
                     self.settings.definition.generate_into(&mut b)?;
-                    self.raw_base = Some(if sw.keep_other_noise {
-                        b.noisy_v
-                    } else {
-                        b.clean_v
-                    });
+                    self.raw_base = Some(if sw.keep_other_noise { b.noisy_v } else { b.clean_v });
                 }
                 self.sweep = Some((*sw, runner));
             }
@@ -1049,18 +1038,14 @@ pub fn split(job: &Job, parts: usize) -> Result<Vec<Job>, DesignError> {
 pub fn merge(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
     match job {
         Job::MonteCarlo { trials: None, .. } => merge_monte_carlo(job, outputs),
-        Job::Search {
-            combinations: None, ..
-        } => merge_search(job, outputs),
+        Job::Search { combinations: None, .. } => merge_search(job, outputs),
         Job::NoiseSweep { .. } => merge_sweep(job, outputs),
         Job::Signal { .. } => merge_signal(job, outputs),
         _ => merge_single(job, outputs),
     }
 }
 
-fn first_output(
-    outputs: Vec<JobOutput>,
-) -> Result<(JobOutput, std::vec::IntoIter<JobOutput>), DesignError> {
+fn first_output(outputs: Vec<JobOutput>) -> Result<(JobOutput, std::vec::IntoIter<JobOutput>), DesignError> {
     let mut it = outputs.into_iter();
     let first = it
         .next()
@@ -1075,12 +1060,7 @@ pub fn merge_single(_job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, De
 
 /// [`merge`] for a Monte Carlo job: the parts' trials in order, then the statistics once.
 pub fn merge_monte_carlo(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
-    let Job::MonteCarlo {
-        circuit,
-        settings,
-        trials: None,
-    } = job
-    else {
+    let Job::MonteCarlo { circuit, settings, trials: None } = job else {
         return merge_single(job, outputs);
     };
     let (first, it) = first_output(outputs)?;
@@ -1101,14 +1081,7 @@ pub fn merge_monte_carlo(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput
 
 /// [`merge`] for a standard-value search: the parts' lists offered in range order to one list.
 pub fn merge_search(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
-    let Job::Search {
-        circuit,
-        targets,
-        settings,
-        checks,
-        combinations: None,
-    } = job
-    else {
+    let Job::Search { circuit, targets, settings, checks, combinations: None } = job else {
         return merge_single(job, outputs);
     };
     let (first, it) = first_output(outputs)?;
@@ -1308,8 +1281,8 @@ impl JobOutput {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::signal::csv::parse_csv;
     use crate::signal::report::run_signal;
+    use crate::signal::csv::parse_csv;
 
     fn design() -> TriggerDesign {
         TriggerDesign {
@@ -1346,18 +1319,13 @@ mod tests {
         // Every starter (the two-transistor pair included, and the CMOS buffer whose clamped
         // level sends the search inside the bands), sliced in odd budgets: bit-identical to
         // tolerance::worst_case, with the corners and the conclusion announced before the work.
-        let starters = crate::catalog::demos()
-            .into_iter()
-            .chain(crate::catalog::templates());
+        let starters = crate::catalog::demos().into_iter().chain(crate::catalog::templates());
         let mut checked = 0;
         for st in starters {
             let r = st.record();
             let settings = r.tolerance.clone().unwrap_or_default();
             let whole = crate::tolerance::worst_case(&r.circuit, &settings);
-            let job = Job::WorstCase {
-                circuit: r.circuit.clone(),
-                settings: settings.clone(),
-            };
+            let job = Job::WorstCase { circuit: r.circuit.clone(), settings: settings.clone() };
             let running = match Running::start(job) {
                 Ok(running) => running,
                 Err(e) => {
@@ -1368,25 +1336,14 @@ mod tests {
             assert_eq!(running.unit(), "circuit evaluations");
             let total = running.progress().total;
             let wc = whole.unwrap_or_else(|e| panic!("{}: {e}", st.key));
-            let corners = if wc.method == crate::tolerance::worst_case::WorstCaseMethod::Corners {
-                1u64 << wc.varied_parameters
-            } else {
-                0
-            };
-            assert_eq!(
-                total,
-                corners + conclusion_weight(wc.varied_parameters),
-                "{}",
-                st.key
-            );
+            let corners = if wc.method == crate::tolerance::worst_case::WorstCaseMethod::Corners { 1u64 << wc.varied_parameters } else { 0 };
+            assert_eq!(total, corners + conclusion_weight(wc.varied_parameters), "{}", st.key);
             for budget in [1u64, 7, 1 << 20] {
-                let JobOutput::WorstCase(sliced) = Running::start(Job::WorstCase {
-                    circuit: r.circuit.clone(),
-                    settings: settings.clone(),
-                })
-                .unwrap()
-                .run_to_end(budget)
-                .unwrap() else {
+                let JobOutput::WorstCase(sliced) = Running::start(Job::WorstCase { circuit: r.circuit.clone(), settings: settings.clone() })
+                    .unwrap()
+                    .run_to_end(budget)
+                    .unwrap()
+                else {
                     panic!("not a worst case")
                 };
                 assert_eq!(sliced, wc, "{} in slices of {budget}", st.key);
@@ -1401,10 +1358,7 @@ mod tests {
         for st in crate::catalog::demos() {
             let r = st.record();
             let whole = crate::overview::record_windows(&r);
-            let out = Running::start(Job::Windows {
-                record: Box::new(r.clone()),
-            })
-            .and_then(|j| j.run_to_end(1));
+            let out = Running::start(Job::Windows { record: Box::new(r.clone()) }).and_then(|j| j.run_to_end(1));
             match (out, whole) {
                 (Ok(JobOutput::Windows(w)), Ok(whole)) => assert_eq!(*w, whole, "{}", st.key),
                 (Err(a), Err(b)) => assert_eq!(a, b, "{}", st.key),

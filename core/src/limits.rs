@@ -143,16 +143,8 @@ pub fn refusal(quantity: Quantity, value: f64) -> Option<String> {
 #[inline(never)]
 fn refusal_words(quantity: Quantity, value: f64) -> String {
     let (lo, hi) = quantity.range();
-    let got = if value.is_finite() {
-        quantity.write(value)
-    } else {
-        "not a number".to_string()
-    };
-    format!(
-        "must be between {} and {} (got {got})",
-        quantity.write(lo),
-        quantity.write(hi)
-    )
+    let got = if value.is_finite() { quantity.write(value) } else { "not a number".to_string() };
+    format!("must be between {} and {} (got {got})", quantity.write(lo), quantity.write(hi))
 }
 
 /// Checks one value: finite and inside its quantity's range. The error names `field` and the range.
@@ -189,11 +181,7 @@ pub fn for_unit_symbol(symbol: &str) -> Option<Quantity> {
 }
 
 /// Checks an optional value (a part that may be left out).
-pub fn check_optional(
-    quantity: Quantity,
-    field: &str,
-    value: Option<f64>,
-) -> Result<Option<f64>, DesignError> {
+pub fn check_optional(quantity: Quantity, field: &str, value: Option<f64>) -> Result<Option<f64>, DesignError> {
     value.map(|v| check(quantity, field, v)).transpose()
 }
 
@@ -208,10 +196,7 @@ mod tests {
         assert!(check(Quantity::Voltage, "supply_v", 1e300).is_err());
         assert!(check(Quantity::Current, "bias_plus_a", 1e308).is_err());
         assert_eq!(check(Quantity::Resistance, "r1_ohm", 4.7e3), Ok(4.7e3));
-        assert_eq!(
-            check(Quantity::Voltage, "negative_rail_v", -12.0),
-            Ok(-12.0)
-        );
+        assert_eq!(check(Quantity::Voltage, "negative_rail_v", -12.0), Ok(-12.0));
     }
 
     #[test]
@@ -219,17 +204,13 @@ mod tests {
         assert_eq!(for_unit_symbol("V"), Some(Quantity::Voltage));
         assert_eq!(for_unit_symbol("Ω"), Some(Quantity::Resistance));
         assert_eq!(for_unit_symbol("°C"), None);
-        assert!(refusal(Quantity::Voltage, 1e300)
-            .unwrap()
-            .starts_with("must be between"));
+        assert!(refusal(Quantity::Voltage, 1e300).unwrap().starts_with("must be between"));
         assert_eq!(refusal(Quantity::Voltage, 5.0), None);
     }
 
     #[test]
     fn message_names_the_field_and_the_range() {
-        let e = check(Quantity::Resistance, "r1_ohm", -1.0)
-            .unwrap_err()
-            .to_string();
+        let e = check(Quantity::Resistance, "r1_ohm", -1.0).unwrap_err().to_string();
         assert!(e.starts_with("r1_ohm: must be between"), "{e}");
         assert!(e.contains("1 µΩ") && e.contains("got -1 Ω"), "{e}");
     }

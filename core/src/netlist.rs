@@ -284,9 +284,7 @@ impl NetRegulator {
     /// The regulator's designator.
     pub fn designator(&self) -> &str {
         match self {
-            NetRegulator::Zener { designator, .. } | NetRegulator::Shunt { designator, .. } => {
-                designator
-            }
+            NetRegulator::Zener { designator, .. } | NetRegulator::Shunt { designator, .. } => designator,
         }
     }
 }
@@ -325,9 +323,7 @@ impl Netlist {
         self.sources
             .iter()
             .find(|s| {
-                (s.node_plus == node
-                    && s.role != SourceRole::Input
-                    && s.role != SourceRole::Dropout)
+                (s.node_plus == node && s.role != SourceRole::Input && s.role != SourceRole::Dropout)
                     || (s.node_minus == node && s.role == SourceRole::Dropout)
             })
             .map(|s| s.label.clone())
@@ -347,9 +343,7 @@ impl Netlist {
 
     /// The part-list resistors only.
     pub fn part_list(&self) -> impl Iterator<Item = &NetResistor> {
-        self.resistors
-            .iter()
-            .filter(|r| r.role == ResistorRole::PartList)
+        self.resistors.iter().filter(|r| r.role == ResistorRole::PartList)
     }
 }
 
@@ -385,13 +379,7 @@ impl NetBuilder {
     /// Starts a netlist for the topology named `topology` (its record name); `parts` are its
     /// part-list resistors in parameter order, where designators are looked up by parameter id.
     pub fn new(topology: &str, parts: Vec<PartDesignator>) -> Self {
-        NetBuilder {
-            net: Netlist {
-                topology: topology.into(),
-                ..Netlist::default()
-            },
-            parts,
-        }
+        NetBuilder { net: Netlist { topology: topology.into(), ..Netlist::default() }, parts }
     }
 
     /// The designator of the resistor parameter `id` (e.g. `rf_ohm` → `R3`); the id in capitals
@@ -407,13 +395,7 @@ impl NetBuilder {
     /// Adds a part-list resistor by parameter id.
     pub fn part(&mut self, id: &str, node_a: &str, node_b: &str, resistance_ohm: f64) -> &mut Self {
         let designator = self.designator(id);
-        self.resistor(
-            designator,
-            node_a,
-            node_b,
-            resistance_ohm,
-            ResistorRole::PartList,
-        )
+        self.resistor(designator, node_a, node_b, resistance_ohm, ResistorRole::PartList)
     }
 
     /// Adds any resistor.
@@ -436,14 +418,7 @@ impl NetBuilder {
     }
 
     /// Adds a voltage source to ground, unless one with the same name exists. Returns the node.
-    pub fn source(
-        &mut self,
-        name: &str,
-        node: &str,
-        volts: f64,
-        role: SourceRole,
-        label: String,
-    ) -> String {
+    pub fn source(&mut self, name: &str, node: &str, volts: f64, role: SourceRole, label: String) -> String {
         if !self.net.sources.iter().any(|s| s.name == name) {
             self.net.sources.push(NetSource {
                 name: name.into(),
@@ -479,13 +454,7 @@ impl NetBuilder {
 
     /// The positive supply: source VCC on net `vcc`. `label` is e.g. "VCC" or "VDD".
     pub fn supply(&mut self, supply_v: f64, label: &str) -> String {
-        self.source(
-            "VCC",
-            SUPPLY_NET,
-            supply_v,
-            SourceRole::Supply,
-            format!("{label} {}", volts_text(supply_v)),
-        )
+        self.source("VCC", SUPPLY_NET, supply_v, SourceRole::Supply, format!("{label} {}", volts_text(supply_v)))
     }
 
     /// The negative rail: ground when it is 0 V, else source VEE on net `vee`.
@@ -528,13 +497,7 @@ impl NetBuilder {
     pub fn input(&mut self, volts: f64, source_resistance_ohm: f64, label: &str) {
         if source_resistance_ohm > 0.0 {
             self.source("VIN", SOURCE_NET, volts, SourceRole::Input, label.into());
-            self.resistor(
-                "RS".into(),
-                SOURCE_NET,
-                INPUT_NET,
-                source_resistance_ohm,
-                ResistorRole::SourceResistance,
-            );
+            self.resistor("RS".into(), SOURCE_NET, INPUT_NET, source_resistance_ohm, ResistorRole::SourceResistance);
         } else {
             self.source("VIN", INPUT_NET, volts, SourceRole::Input, label.into());
         }
@@ -601,21 +564,14 @@ impl NetBuilder {
             match r.role {
                 ResistorRole::PartList => (
                     0,
-                    self.parts
-                        .iter()
-                        .position(|p| p.designator == r.designator)
-                        .unwrap_or(usize::MAX),
+                    self.parts.iter().position(|p| p.designator == r.designator).unwrap_or(usize::MAX),
                 ),
                 ResistorRole::SourceResistance => (1, 0),
                 ResistorRole::Load => (2, 0),
             }
         };
-        let mut keyed: Vec<((usize, usize), NetResistor)> = self
-            .net
-            .resistors
-            .drain(..)
-            .map(|r| (order(&r), r))
-            .collect();
+        let mut keyed: Vec<((usize, usize), NetResistor)> =
+            self.net.resistors.drain(..).map(|r| (order(&r), r)).collect();
         keyed.sort_by_key(|(k, _)| *k);
         self.net.resistors = keyed.into_iter().map(|(_, r)| r).collect();
         self.net
@@ -650,10 +606,7 @@ mod tests {
         let parts = ["ra_ohm", "rb_ohm", "rf_ohm"]
             .iter()
             .zip(["R1", "R2", "R3"])
-            .map(|(id, d)| PartDesignator {
-                id: id.to_string(),
-                designator: d.to_string(),
-            })
+            .map(|(id, d)| PartDesignator { id: id.to_string(), designator: d.to_string() })
             .collect();
         let mut b = NetBuilder::new("toy", parts);
         b.resistor("RLOAD".into(), OUTPUT_NET, GROUND, 10e3, ResistorRole::Load);
@@ -662,11 +615,7 @@ mod tests {
         b.part("ra_ohm", SUPPLY_NET, "p", 10e3);
         b.part("rx_ohm", "p", GROUND, 1e3);
         let net = b.finish();
-        let order: Vec<&str> = net
-            .resistors
-            .iter()
-            .map(|r| r.designator.as_str())
-            .collect();
+        let order: Vec<&str> = net.resistors.iter().map(|r| r.designator.as_str()).collect();
         // Listed parts in parameter order, an unlisted id (in capitals) after them, then RS and RLOAD.
         assert_eq!(order, ["R1", "R3", "RX", "RS", "RLOAD"]);
         assert_eq!(net.part_list().count(), 3);

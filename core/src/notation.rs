@@ -225,10 +225,7 @@ impl<'a> Cursor<'a> {
 
     fn unexpected(&self) -> NotationError {
         match self.peek() {
-            Some(found) => NotationError::Unexpected {
-                found,
-                position: self.pos,
-            },
+            Some(found) => NotationError::Unexpected { found, position: self.pos },
             None => NotationError::MissingDigits { position: self.pos },
         }
     }
@@ -362,24 +359,13 @@ impl DecimalText {
 }
 
 /// Builds the double for sign, digits and a power of ten, correctly rounded.
-fn make_value(
-    neg: bool,
-    int: &str,
-    frac: &str,
-    exp10: i64,
-    digits_at: usize,
-) -> Result<f64, NotationError> {
+fn make_value(neg: bool, int: &str, frac: &str, exp10: i64, digits_at: usize) -> Result<f64, NotationError> {
     if int.len() + frac.len() > MAX_DIGITS {
         // The 41st digit; a point or code letter sits between the integer and fraction digits.
         let gap = usize::from(int.len() < MAX_DIGITS);
-        return Err(NotationError::TooManyDigits {
-            position: digits_at + MAX_DIGITS + gap,
-        });
+        return Err(NotationError::TooManyDigits { position: digits_at + MAX_DIGITS + gap });
     }
-    let mut t = DecimalText {
-        buf: [0; 64],
-        len: 0,
-    };
+    let mut t = DecimalText { buf: [0; 64], len: 0 };
     if neg {
         t.push(b'-');
     }
@@ -433,10 +419,7 @@ pub fn parse(text: &str) -> Result<Parsed, NotationError> {
                     return Err(NotationError::AmbiguousMilli { position: cur.pos });
                 }
                 if let Some(found) = sign {
-                    return Err(NotationError::Unexpected {
-                        found,
-                        position: sign_at,
-                    });
+                    return Err(NotationError::Unexpected { found, position: sign_at });
                 }
                 return parse_rkm(&mut cur, int, exp, digits_at);
             }
@@ -453,11 +436,7 @@ pub fn parse(text: &str) -> Result<Parsed, NotationError> {
     }
     if int.is_empty() && frac.is_empty() {
         return Err(match cur.peek() {
-            Some(c)
-                if point_at.is_none() && prefix_exp(c).is_none() && rkm_letter_exp(c).is_none() =>
-            {
-                cur.unexpected()
-            }
+            Some(c) if point_at.is_none() && prefix_exp(c).is_none() && rkm_letter_exp(c).is_none() => cur.unexpected(),
             _ => NotationError::MissingDigits { position: cur.pos },
         });
     }
@@ -508,21 +487,11 @@ pub fn parse(text: &str) -> Result<Parsed, NotationError> {
     }
     let unit = finish_unit(&mut cur)?;
     let value = make_value(neg, int, frac, exp10, digits_at)?;
-    Ok(Parsed {
-        value,
-        unit,
-        tolerance_pct: None,
-        notation: Notation::Engineering,
-    })
+    Ok(Parsed { value, unit, tolerance_pct: None, notation: Notation::Engineering })
 }
 
 /// The RKM branch of [`parse`]: the cursor is on the decimal letter.
-fn parse_rkm(
-    cur: &mut Cursor<'_>,
-    int: &str,
-    exp: i32,
-    digits_at: usize,
-) -> Result<Parsed, NotationError> {
+fn parse_rkm(cur: &mut Cursor<'_>, int: &str, exp: i32, digits_at: usize) -> Result<Parsed, NotationError> {
     cur.bump();
     let frac = cur.digits();
     if int.is_empty() && frac.is_empty() {
@@ -539,20 +508,12 @@ fn parse_rkm(
     }
     if let Some(c) = cur.peek() {
         if c.is_ascii_digit() || c == '.' || rkm_letter_exp(c).is_some() {
-            return Err(NotationError::SecondMultiplier {
-                found: c,
-                position: cur.pos,
-            });
+            return Err(NotationError::SecondMultiplier { found: c, position: cur.pos });
         }
     }
     let unit = finish_unit(cur)?;
     let value = make_value(false, int, frac, i64::from(exp), digits_at)?;
-    Ok(Parsed {
-        value,
-        unit,
-        tolerance_pct,
-        notation: Notation::Rkm,
-    })
+    Ok(Parsed { value, unit, tolerance_pct, notation: Notation::Rkm })
 }
 
 /// Reads just the value of a text (see [`parse`]).
@@ -611,13 +572,7 @@ pub fn format_with_unit(value: f64, significant_digits: u8, unit: Unit) -> Strin
 }
 
 fn format_parts(value: f64, significant_digits: u8, unit: &str) -> String {
-    let space_unit = |s: String| {
-        if unit.is_empty() {
-            s
-        } else {
-            format!("{s} {unit}")
-        }
-    };
+    let space_unit = |s: String| if unit.is_empty() { s } else { format!("{s} {unit}") };
     if !value.is_finite() {
         return space_unit(format!("{value}"));
     }
@@ -634,11 +589,7 @@ fn format_parts(value: f64, significant_digits: u8, unit: &str) -> String {
         return space_unit(format!("{sign}{mant}e{exp}"));
     };
     let (i, f) = place_point(&digits, (exp - exp3) as usize + 1);
-    let number = if f.is_empty() {
-        format!("{sign}{i}")
-    } else {
-        format!("{sign}{i}.{f}")
-    };
+    let number = if f.is_empty() { format!("{sign}{i}") } else { format!("{sign}{i}.{f}") };
     if prefix.is_empty() && unit.is_empty() {
         number
     } else {
@@ -653,9 +604,7 @@ fn format_parts(value: f64, significant_digits: u8, unit: &str) -> String {
 pub fn format_rkm(value_ohm: f64, significant_digits: u8) -> Result<String, NotationError> {
     if !value_ohm.is_finite() || value_ohm < 0.0 {
         return Err(NotationError::NotWritable {
-            reason: format!(
-                "an RKM code needs a finite resistance of zero or more (got {value_ohm})"
-            ),
+            reason: format!("an RKM code needs a finite resistance of zero or more (got {value_ohm})"),
         });
     }
     if value_ohm == 0.0 {
@@ -728,10 +677,7 @@ mod tests {
         assert_eq!(v("4K99"), 4990.0);
         assert_eq!(v("1K0"), 1000.0);
         let p = parse("4K7K").unwrap();
-        assert_eq!(
-            (p.value, p.tolerance_pct, p.notation),
-            (4700.0, Some(10.0), Notation::Rkm)
-        );
+        assert_eq!((p.value, p.tolerance_pct, p.notation), (4700.0, Some(10.0), Notation::Rkm));
         let p = parse("10KF").unwrap();
         assert_eq!((p.value, p.tolerance_pct, p.unit), (10e3, Some(1.0), None));
         assert_eq!(parse("4K7J").unwrap().tolerance_pct, Some(5.0));
@@ -742,55 +688,16 @@ mod tests {
     fn junk_names_position_and_character() {
         assert_eq!(parse(""), Err(NotationError::Empty));
         assert_eq!(parse("   "), Err(NotationError::Empty));
-        assert_eq!(
-            parse("4.7x"),
-            Err(NotationError::Unexpected {
-                found: 'x',
-                position: 4
-            })
-        );
-        assert_eq!(
-            parse("4.7x").unwrap_err().to_string(),
-            "unexpected 'x' at position 4"
-        );
-        assert_eq!(
-            parse("k"),
-            Err(NotationError::MissingDigits { position: 1 })
-        );
-        assert_eq!(
-            parse("1e"),
-            Err(NotationError::MissingExponent { position: 2 })
-        );
-        assert_eq!(
-            parse("4m7"),
-            Err(NotationError::AmbiguousMilli { position: 2 })
-        );
-        assert_eq!(
-            parse("4K7K7"),
-            Err(NotationError::SecondMultiplier {
-                found: '7',
-                position: 5
-            })
-        );
-        assert_eq!(
-            parse("4.7K7"),
-            Err(NotationError::DecimalPointInRkm { position: 2 })
-        );
-        assert_eq!(
-            parse("4K7.5"),
-            Err(NotationError::DecimalPointInRkm { position: 4 })
-        );
-        assert_eq!(
-            parse("-4K7"),
-            Err(NotationError::Unexpected {
-                found: '-',
-                position: 1
-            })
-        );
-        assert_eq!(
-            parse("R"),
-            Err(NotationError::MissingDigits { position: 2 })
-        );
+        assert_eq!(parse("4.7x"), Err(NotationError::Unexpected { found: 'x', position: 4 }));
+        assert_eq!(parse("4.7x").unwrap_err().to_string(), "unexpected 'x' at position 4");
+        assert_eq!(parse("k"), Err(NotationError::MissingDigits { position: 1 }));
+        assert_eq!(parse("1e"), Err(NotationError::MissingExponent { position: 2 }));
+        assert_eq!(parse("4m7"), Err(NotationError::AmbiguousMilli { position: 2 }));
+        assert_eq!(parse("4K7K7"), Err(NotationError::SecondMultiplier { found: '7', position: 5 }));
+        assert_eq!(parse("4.7K7"), Err(NotationError::DecimalPointInRkm { position: 2 }));
+        assert_eq!(parse("4K7.5"), Err(NotationError::DecimalPointInRkm { position: 4 }));
+        assert_eq!(parse("-4K7"), Err(NotationError::Unexpected { found: '-', position: 1 }));
+        assert_eq!(parse("R"), Err(NotationError::MissingDigits { position: 2 }));
         assert_eq!(parse("1e999"), Err(NotationError::OutOfRange));
         assert_eq!(parse("1e-999"), Err(NotationError::OutOfRange));
         assert!(parse("1..2").is_err());
@@ -798,24 +705,9 @@ mod tests {
         assert!(parse("4K7KK").is_err());
         assert!(parse("NaN").is_err());
         assert!(parse("inf").is_err());
-        assert!(matches!(
-            parse(&"1".repeat(60)),
-            Err(NotationError::TooManyDigits { position: 41 })
-        ));
-        assert_eq!(
-            parse("5 Vx"),
-            Err(NotationError::Unexpected {
-                found: 'x',
-                position: 4
-            })
-        );
-        assert_eq!(
-            parse("2µ2x"),
-            Err(NotationError::Unexpected {
-                found: 'x',
-                position: 4
-            })
-        );
+        assert!(matches!(parse(&"1".repeat(60)), Err(NotationError::TooManyDigits { position: 41 })));
+        assert_eq!(parse("5 Vx"), Err(NotationError::Unexpected { found: 'x', position: 4 }));
+        assert_eq!(parse("2µ2x"), Err(NotationError::Unexpected { found: 'x', position: 4 }));
     }
 
     #[test]
@@ -861,11 +753,7 @@ pub fn format_rkm_padded(value_ohm: f64, significant_digits: u8) -> Result<Strin
     let lone_digit_then_letter = code.len() == 2
         && code.starts_with(|c: char| c.is_ascii_digit())
         && code.ends_with(|c: char| "KMGT".contains(c));
-    Ok(if lone_digit_then_letter {
-        format!("{code}0")
-    } else {
-        code
-    })
+    Ok(if lone_digit_then_letter { format!("{code}0") } else { code })
 }
 
 #[cfg(test)]
@@ -917,10 +805,7 @@ pub fn format_significant(value: f64, significant_digits: u8) -> String {
         return String::new();
     }
     let digits = usize::from(significant_digits.clamp(1, 17)) - 1;
-    format!("{value:.digits$e}")
-        .parse::<f64>()
-        .map(|r| r.to_string())
-        .unwrap_or_default()
+    format!("{value:.digits$e}").parse::<f64>().map(|r| r.to_string()).unwrap_or_default()
 }
 
 #[cfg(test)]

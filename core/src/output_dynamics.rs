@@ -38,6 +38,7 @@ use serde::{Deserialize, Serialize};
 
 pub use crate::topology::output_load::{comparator_with_levels, OutputLoad};
 
+
 fn default_node_capacitance_f() -> f64 {
     5e-12
 }
@@ -107,79 +108,34 @@ impl OutputDynamicsSettings {
         if let Some(sr) = self.slew_rate_v_per_us {
             check(Quantity::SlewRate, "output_dynamics.slew_rate_v_per_us", sr)?;
         }
-        zero_or(
-            Quantity::Resistance,
-            "output_dynamics.output_resistance_ohm",
-            self.output_resistance_ohm,
-        )?;
+        zero_or(Quantity::Resistance, "output_dynamics.output_resistance_ohm", self.output_resistance_ohm)?;
         if let Some(rl) = self.load_resistance_ohm {
-            check(
-                Quantity::Resistance,
-                "output_dynamics.load_resistance_ohm",
-                rl,
-            )?;
+            check(Quantity::Resistance, "output_dynamics.load_resistance_ohm", rl)?;
         }
-        zero_or(
-            Quantity::Capacitance,
-            "output_dynamics.load_capacitance_f",
-            self.load_capacitance_f,
-        )?;
+        zero_or(Quantity::Capacitance, "output_dynamics.load_capacitance_f", self.load_capacitance_f)?;
         if let Some(c) = self.speedup_capacitance_f {
-            check(
-                Quantity::Capacitance,
-                "output_dynamics.speedup_capacitance_f",
-                c,
-            )?;
+            check(Quantity::Capacitance, "output_dynamics.speedup_capacitance_f", c)?;
         }
-        check(
-            Quantity::Capacitance,
-            "output_dynamics.node_capacitance_f",
-            self.node_capacitance_f,
-        )?;
+        check(Quantity::Capacitance, "output_dynamics.node_capacitance_f", self.node_capacitance_f)?;
         if let Some(t) = self.propagation_delay_s {
             check(Quantity::Duration, "output_dynamics.propagation_delay_s", t)?;
         }
-        zero_or(
-            Quantity::Capacitance,
-            "output_dynamics.stray_capacitance_f",
-            self.stray_capacitance_f,
-        )?;
-        zero_or(
-            Quantity::Resistance,
-            "output_dynamics.input_source_resistance_ohm",
-            self.input_source_resistance_ohm,
-        )?;
-        check(
-            Quantity::Slope,
-            "output_dynamics.input_slope_v_per_s",
-            self.input_slope_v_per_s,
-        )?;
+        zero_or(Quantity::Capacitance, "output_dynamics.stray_capacitance_f", self.stray_capacitance_f)?;
+        zero_or(Quantity::Resistance, "output_dynamics.input_source_resistance_ohm", self.input_source_resistance_ohm)?;
+        check(Quantity::Slope, "output_dynamics.input_slope_v_per_s", self.input_slope_v_per_s)?;
         if self.input_slope_v_per_s < 0.0 {
-            return Err(DesignError::invalid(
-                "output_dynamics.input_slope_v_per_s",
-                "give the slope's magnitude (0 or more)",
-            ));
+            return Err(DesignError::invalid("output_dynamics.input_slope_v_per_s", "give the slope's magnitude (0 or more)"));
         }
-        check(
-            Quantity::Voltage,
-            "output_dynamics.noise_rms_v",
-            self.noise_rms_v,
-        )?;
+        check(Quantity::Voltage, "output_dynamics.noise_rms_v", self.noise_rms_v)?;
         if self.noise_rms_v < 0.0 {
-            return Err(DesignError::invalid(
-                "output_dynamics.noise_rms_v",
-                "must be 0 or more",
-            ));
+            return Err(DesignError::invalid("output_dynamics.noise_rms_v", "must be 0 or more"));
         }
         Ok(())
     }
 
     /// The output's source resistance and load.
     pub fn load(&self) -> OutputLoad {
-        OutputLoad {
-            output_resistance_ohm: self.output_resistance_ohm,
-            load_resistance_ohm: self.load_resistance_ohm,
-        }
+        OutputLoad { output_resistance_ohm: self.output_resistance_ohm, load_resistance_ohm: self.load_resistance_ohm }
     }
 
     /// Slew rate in volts per second, `None` when not slew-limited.
@@ -202,9 +158,7 @@ pub fn lagged_ramp(t_s: f64, ramp_s: f64, tau_s: f64) -> f64 {
             if t_s <= ramp_s {
                 (t_s + tau_s * libm::expm1(-t_s / tau_s)) / ramp_s
             } else {
-                1.0 + (tau_s / ramp_s)
-                    * libm::exp(-(t_s - ramp_s) / tau_s)
-                    * libm::expm1(-ramp_s / tau_s)
+                1.0 + (tau_s / ramp_s) * libm::exp(-(t_s - ramp_s) / tau_s) * libm::expm1(-ramp_s / tau_s)
             }
         }
     }
@@ -362,18 +316,11 @@ pub fn feedback_resistor(circuit: &Topology) -> Option<(String, f64)> {
         Topology::SupplyMonitor(_) => "rh_ohm",
         _ => return None,
     };
-    circuit
-        .parameters()
-        .into_iter()
-        .find(|p| p.id == id)
-        .map(|p| (p.designator.unwrap_or_default(), p.value))
+    circuit.parameters().into_iter().find(|p| p.id == id).map(|p| (p.designator.unwrap_or_default(), p.value))
 }
 
 /// Evaluates the output dynamics of `circuit` with `settings`.
-pub fn output_dynamics(
-    circuit: &Topology,
-    settings: &OutputDynamicsSettings,
-) -> Result<OutputDynamicsReport, DesignError> {
+pub fn output_dynamics(circuit: &Topology, settings: &OutputDynamicsSettings) -> Result<OutputDynamicsReport, DesignError> {
     settings.validate()?;
     circuit.validate()?;
     let nominal = circuit.thresholds()?;
@@ -442,21 +389,11 @@ pub fn output_dynamics(
         Topology::OpenDrain(c) => {
             // Rising: the transistor lets go and the pull-up (with the load) charges CL — no slew
             // limit. Falling: the transistor (sink resistance + Ro) pulls down at the slew rate.
-            let rpu = crate::topology::parallel(&[
-                Some(c.rpu_ohm),
-                c.rl_ohm,
-                settings.load_resistance_ohm,
-            ]);
+            let rpu = crate::topology::parallel(&[Some(c.rpu_ohm), c.rl_ohm, settings.load_resistance_ohm]);
             let rsink = c.sink_resistance_ohm + settings.output_resistance_ohm;
-            let rdown = crate::topology::parallel(&[
-                Some(rpu),
-                if rsink > 0.0 { Some(rsink) } else { None },
-            ]);
+            let rdown = crate::topology::parallel(&[Some(rpu), if rsink > 0.0 { Some(rsink) } else { None }]);
             let rdown = if rsink > 0.0 { rdown } else { 0.0 };
-            (
-                EdgeTiming::new(swing, 0.0, rpu * cl),
-                EdgeTiming::new(swing, ramp, rdown * cl),
-            )
+            (EdgeTiming::new(swing, 0.0, rpu * cl), EdgeTiming::new(swing, ramp, rdown * cl))
         }
         _ => {
             let (_, _, rs) = load.thevenin(voh, vol);
@@ -470,9 +407,7 @@ pub fn output_dynamics(
     // Speed-up capacitor.
     let feedback = feedback_resistor(circuit);
     let cp = settings.node_capacitance_f;
-    let suggested_f = feedback
-        .as_ref()
-        .and_then(|(_, rf)| if edge > 0.0 { Some(edge / rf) } else { None });
+    let suggested_f = feedback.as_ref().and_then(|(_, rf)| if edge > 0.0 { Some(edge / rf) } else { None });
     let fitted = settings.speedup_capacitance_f;
     let (node_step_v, hold_s) = match (&feedback, fitted) {
         (Some((_, rf)), Some(cs)) => (Some(swing * cs / (cs + cp)), Some(rf * (cs + cp))),
@@ -493,14 +428,7 @@ pub fn output_dynamics(
             "rule: {d}·Cs equal to the output's 10–90 % edge time (common practice); Cs makes the feedback node jump with the output edge, speeding the regenerative transition and holding the input off the new threshold for up to Rf·(Cs+Cp); it also couples output ringing back into the node.{limitation}"
         ),
     };
-    let speedup = SpeedUp {
-        feedback,
-        suggested_f,
-        fitted_f: fitted,
-        node_step_v,
-        hold_s,
-        note,
-    };
+    let speedup = SpeedUp { feedback, suggested_f, fitted_f: fitted, node_step_v, hold_s, note };
 
     // Slow-input chatter.
     let s = settings.input_slope_v_per_s;
@@ -542,15 +470,7 @@ pub fn output_dynamics(
             ),
         ));
     }
-    Ok(OutputDynamicsReport {
-        load: load_effect,
-        rise,
-        fall,
-        propagation_delay_s: tpd,
-        speedup,
-        chatter,
-        warnings,
-    })
+    Ok(OutputDynamicsReport { load: load_effect, rise, fall, propagation_delay_s: tpd, speedup, chatter, warnings })
 }
 
 /// The SPICE deck of `circuit` with its output dynamics: the behavioural output switches drive an
@@ -559,11 +479,7 @@ pub fn output_dynamics(
 /// resistor. The slew rate is not represented (SPICE3's switch has no slew limit; stated in the
 /// deck): a transient of this deck shows the RC part of the edges only. The thresholds in the
 /// deck's comments are the loaded ones when the topology models the load.
-pub fn spice_deck(
-    circuit: &Topology,
-    title: &str,
-    settings: &OutputDynamicsSettings,
-) -> Result<String, DesignError> {
+pub fn spice_deck(circuit: &Topology, title: &str, settings: &OutputDynamicsSettings) -> Result<String, DesignError> {
     use crate::netlist::Netlisted;
     use crate::spice::{ramp_span_v, write_deck};
     settings.validate()?;
@@ -584,11 +500,7 @@ pub fn spice_deck(
 /// Puts the output dynamics into a design's netlist `net` (the behavioural switch drives
 /// `out_src`, RO joins it to the output) and returns the deck lines for RO, RL, CL and the
 /// speed-up capacitor, to append before `.end`.
-pub fn dress(
-    circuit: &Topology,
-    settings: &OutputDynamicsSettings,
-    net: &mut crate::netlist::Netlist,
-) -> String {
+pub fn dress(circuit: &Topology, settings: &OutputDynamicsSettings, net: &mut crate::netlist::Netlist) -> String {
     use crate::netlist::{ActiveDevice, OUTPUT_NET};
     use crate::spice::spice_number as n;
     let ro = settings.output_resistance_ohm;
@@ -596,10 +508,7 @@ pub fn dress(
     if ro > 0.0 {
         for d in net.devices.iter_mut() {
             match d {
-                ActiveDevice::Comparator { output, .. }
-                | ActiveDevice::LogicGate { output, .. }
-                    if output == OUTPUT_NET =>
-                {
+                ActiveDevice::Comparator { output, .. } | ActiveDevice::LogicGate { output, .. } if output == OUTPUT_NET => {
                     *output = "out_src".into();
                     driven = true;
                 }
@@ -612,37 +521,19 @@ pub fn dress(
         extra.push_str(&format!("* Device slew rate {sr} V/us is not represented here (the SW switch has no slew limit).\n"));
     }
     if driven {
-        extra.push_str(&format!(
-            "* RO: output resistance of the device (not a part)\nRO out_src {OUTPUT_NET} {}\n",
-            n(ro)
-        ));
+        extra.push_str(&format!("* RO: output resistance of the device (not a part)\nRO out_src {OUTPUT_NET} {}\n", n(ro)));
     } else if ro > 0.0 {
-        extra.push_str(
-            "* The output resistance is not represented: the output is not a behavioural switch.\n",
-        );
+        extra.push_str("* The output resistance is not represented: the output is not a behavioural switch.\n");
     }
     if let Some(rl) = settings.load_resistance_ohm {
-        extra.push_str(&format!(
-            "* RL: load resistance (not a part)\nRL {OUTPUT_NET} 0 {}\n",
-            n(rl)
-        ));
+        extra.push_str(&format!("* RL: load resistance (not a part)\nRL {OUTPUT_NET} 0 {}\n", n(rl)));
     }
     if settings.load_capacitance_f > 0.0 {
-        extra.push_str(&format!(
-            "* CL: load capacitance (not a part)\nCL {OUTPUT_NET} 0 {}\n",
-            n(settings.load_capacitance_f)
-        ));
+        extra.push_str(&format!("* CL: load capacitance (not a part)\nCL {OUTPUT_NET} 0 {}\n", n(settings.load_capacitance_f)));
     }
-    if let (Some(cs), Some((designator, _))) =
-        (settings.speedup_capacitance_f, feedback_resistor(circuit))
-    {
+    if let (Some(cs), Some((designator, _))) = (settings.speedup_capacitance_f, feedback_resistor(circuit)) {
         if let Some(r) = net.resistors.iter().find(|r| r.designator == designator) {
-            extra.push_str(&format!(
-                "* CS: speed-up capacitor across the feedback resistor {designator}\nCS {} {} {}\n",
-                r.node_a,
-                r.node_b,
-                n(cs)
-            ));
+            extra.push_str(&format!("* CS: speed-up capacitor across the feedback resistor {designator}\nCS {} {} {}\n", r.node_a, r.node_b, n(cs)));
         }
     }
     extra
@@ -652,30 +543,15 @@ pub fn dress(
 pub fn summary_line(r: &OutputDynamicsReport) -> String {
     use crate::notation::{format_with_unit, Unit};
     let t = |x: f64| format_with_unit(x, 3, Unit::Second);
-    let mut s = format!(
-        "output edges at the load: rise {} , fall {} (10–90 %, exact slew-limited RC)",
-        t(r.rise.t10_90_s),
-        t(r.fall.t10_90_s)
-    );
+    let mut s = format!("output edges at the load: rise {} , fall {} (10–90 %, exact slew-limited RC)", t(r.rise.t10_90_s), t(r.fall.t10_90_s));
     s = s.replace(" ,", ",");
     if r.load.modelled {
-        s.push_str(&format!(
-            "; load moves VT+ {:+.2} mV, VT− {:+.2} mV",
-            r.load.shift_upper_v * 1e3,
-            r.load.shift_lower_v * 1e3
-        ));
+        s.push_str(&format!("; load moves VT+ {:+.2} mV, VT− {:+.2} mV", r.load.shift_upper_v * 1e3, r.load.shift_lower_v * 1e3));
     }
     if let Some(c) = r.speedup.suggested_f {
-        s.push_str(&format!(
-            "; speed-up capacitor about {}",
-            format_with_unit(c, 2, Unit::Farad)
-        ));
+        s.push_str(&format!("; speed-up capacitor about {}", format_with_unit(c, 2, Unit::Farad)));
     }
-    s.push_str(if r.chatter.passes {
-        "; slow-input chatter check passes"
-    } else {
-        "; slow-input chatter check FAILS"
-    });
+    s.push_str(if r.chatter.passes { "; slow-input chatter check passes" } else { "; slow-input chatter check FAILS" });
     s
 }
 
@@ -703,15 +579,9 @@ mod tests {
 
     #[test]
     fn settings_are_checked() {
-        let s = OutputDynamicsSettings {
-            load_capacitance_f: -1.0,
-            ..Default::default()
-        };
+        let s = OutputDynamicsSettings { load_capacitance_f: -1.0, ..Default::default() };
         assert!(s.validate().is_err());
-        let s = OutputDynamicsSettings {
-            slew_rate_v_per_us: Some(f64::NAN),
-            ..Default::default()
-        };
+        let s = OutputDynamicsSettings { slew_rate_v_per_us: Some(f64::NAN), ..Default::default() };
         assert!(s.validate().is_err());
         assert!(OutputDynamicsSettings::default().validate().is_ok());
     }

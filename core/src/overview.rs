@@ -13,21 +13,16 @@
 //! change to either is one line here.
 
 use crate::analysis::{Analysis, ImpedanceChoice, Targets, Thresholds};
-use crate::bench::{
-    bench_procedure_from, bench_supplies, BenchProcedure, ReadingWindows, SupplyBounds,
-    ThresholdBounds,
-};
+use crate::bench::{bench_procedure_from, bench_supplies, BenchProcedure, ReadingWindows, SupplyBounds, ThresholdBounds};
 use crate::bom::Bom;
 use crate::error::DesignError;
 use crate::record::DesignRecord;
-use crate::safety::{cautions, Caution};
 use crate::search::{search, SearchJob, SearchReport, SearchSettings};
+use crate::safety::{cautions, Caution};
 use crate::signal::report::SignalReport;
 use crate::tolerance::bench_window::{bench_window, windows as both_windows, Windows};
 use crate::tolerance::{monte_carlo, temperature_sweep, TemperatureSweep, WorstCase};
-use crate::topology::{
-    analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve,
-};
+use crate::topology::{analyse, synthesise, transfer_curve, Circuit, ParameterKind, Topology, TransferCurve};
 use serde::{Deserialize, Serialize};
 
 /// The smallest margin drawn either side of the thresholds, volts: a circuit with little or no
@@ -81,8 +76,7 @@ pub fn quick(record: &DesignRecord) -> Quick {
     Quick {
         analysis: analyse(&record.circuit, &record.checks),
         curve: curve(&record.circuit).ok(),
-        field_terminal: crate::input_network::from_record::record_network(record)
-            .map(|r| r.map(|n| n.field)),
+        field_terminal: crate::input_network::from_record::record_network(record).map(|r| r.map(|n| n.field)),
     }
 }
 
@@ -134,11 +128,7 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
         .parameters()
         .into_iter()
         .filter(|p| p.kind == ParameterKind::Resistor)
-        .map(|p| SnapshotPart {
-            designator: p.designator.unwrap_or_default(),
-            label: p.label,
-            value: p.value,
-        })
+        .map(|p| SnapshotPart { designator: p.designator.unwrap_or_default(), label: p.label, value: p.value })
         .collect();
     Some(Snapshot {
         vt_upper_v: t.vt_upper_v,
@@ -146,12 +136,8 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
         hysteresis_v: t.hysteresis_v(),
         curve,
         parts,
-        part_list: analyse(c, &record.checks)
-            .and_then(|a| part_list(record, &a))
-            .ok(),
-        field_terminal: crate::input_network::from_record::record_network(record)
-            .and_then(|r| r.ok())
-            .map(|n| n.field),
+        part_list: analyse(c, &record.checks).and_then(|a| part_list(record, &a)).ok(),
+        field_terminal: crate::input_network::from_record::record_network(record).and_then(|r| r.ok()).map(|n| n.field),
         computed_by: env!("CARGO_PKG_VERSION").to_string(),
     })
 }
@@ -161,14 +147,8 @@ impl Snapshot {
     /// at the field terminal for a design with an input network, at the trigger's input otherwise.
     pub fn summary(&self) -> String {
         match &self.field_terminal {
-            Some(t) => format!(
-                "at the field terminal VT+ {:.3} V · VT− {:.3} V",
-                t.vt_upper_v, t.vt_lower_v
-            ),
-            None => format!(
-                "VT+ {:.3} V · VT− {:.3} V",
-                self.vt_upper_v, self.vt_lower_v
-            ),
+            Some(t) => format!("at the field terminal VT+ {:.3} V · VT− {:.3} V", t.vt_upper_v, t.vt_lower_v),
+            None => format!("VT+ {:.3} V · VT− {:.3} V", self.vt_upper_v, self.vt_lower_v),
         }
     }
 }
@@ -178,25 +158,12 @@ impl Snapshot {
 pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, DesignError> {
     let mut b = crate::bom::bom(&record.circuit, analysis, &record.checks, &record.parts)?;
     let used: Vec<String> = b.resistors.iter().map(|r| r.designator.clone()).collect();
-    b.application = crate::bom::application::application_parts(
-        record.application.as_ref(),
-        analysis,
-        &used,
-        &record.parts,
-    )?;
-    b.regulators =
-        crate::topology::reference::regulator_lines(&record.circuit, &record.checks, &record.parts);
-    if let (Some(net), Some(Ok(report))) = (
-        record.input_network.as_ref(),
-        crate::input_network::from_record::record_network(record),
-    ) {
-        let used: Vec<String> = used
-            .into_iter()
-            .chain(b.application.iter().map(|p| p.designator.clone()))
-            .chain(b.regulators.iter().map(|r| r.designator.clone()))
-            .collect();
-        b.input_network =
-            crate::input_network::parts::network_parts(&report, net, &used, &record.parts);
+    b.application =
+        crate::bom::application::application_parts(record.application.as_ref(), analysis, &used, &record.parts)?;
+    b.regulators = crate::topology::reference::regulator_lines(&record.circuit, &record.checks, &record.parts);
+    if let (Some(net), Some(Ok(report))) = (record.input_network.as_ref(), crate::input_network::from_record::record_network(record)) {
+        let used: Vec<String> = used.into_iter().chain(b.application.iter().map(|p| p.designator.clone())).chain(b.regulators.iter().map(|r| r.designator.clone())).collect();
+        b.input_network = crate::input_network::parts::network_parts(&report, net, &used, &record.parts);
     }
     Ok(b)
 }
@@ -212,11 +179,7 @@ pub fn bounds_of(worst: Option<&WorstCase>) -> ThresholdBounds {
 /// Both named windows of a record with its tolerance settings (defaults when it has none): the
 /// field window (`field`, the worst case as stated; computed unless given) and the bench window at
 /// every supply its bench procedure sets (see [`crate::tolerance::bench_window`]).
-pub fn windows(
-    record: &DesignRecord,
-    analysis: &Analysis,
-    field: Option<&WorstCase>,
-) -> Result<Windows, DesignError> {
+pub fn windows(record: &DesignRecord, analysis: &Analysis, field: Option<&WorstCase>) -> Result<Windows, DesignError> {
     let settings = record.tolerance.clone().unwrap_or_default();
     let supplies = bench_supplies(&record.circuit, analysis);
     match field {
@@ -226,10 +189,7 @@ pub fn windows(
                 .iter()
                 .map(|&s| bench_window(&record.circuit, &settings, s))
                 .collect::<Result<Vec<_>, _>>()?;
-            Ok(Windows {
-                field: f.clone(),
-                bench,
-            })
+            Ok(Windows { field: f.clone(), bench })
         }
     }
 }
@@ -241,10 +201,7 @@ pub fn reading_windows(w: Option<&Windows>) -> ReadingWindows {
         bench: w
             .bench
             .iter()
-            .map(|b| SupplyBounds {
-                supply_v: b.supply_v,
-                bounds: bounds_of(Some(&b.worst_case)),
-            })
+            .map(|b| SupplyBounds { supply_v: b.supply_v, bounds: bounds_of(Some(&b.worst_case)) })
             .collect(),
     })
 }
@@ -254,17 +211,8 @@ pub fn reading_windows(w: Option<&Windows>) -> ReadingWindows {
 /// drives the field terminal ([`crate::bench::bench_procedure_through`]); its windows are those
 /// of the trigger behind the network ([`terminal_windows`]), computed when `windows` are given
 /// (the tolerance study ran); the pin's `windows` serve the optional pin check.
-pub fn bench(
-    record: &DesignRecord,
-    analysis: &Analysis,
-    windows: Option<&Windows>,
-) -> BenchProcedure {
-    bench_with(
-        record,
-        analysis,
-        windows,
-        field_terminal(record, analysis, windows),
-    )
+pub fn bench(record: &DesignRecord, analysis: &Analysis, windows: Option<&Windows>) -> BenchProcedure {
+    bench_with(record, analysis, windows, field_terminal(record, analysis, windows))
 }
 
 /// The trigger behind a record's input network (when it has parts), with its windows at the field
@@ -273,15 +221,9 @@ fn field_terminal(
     record: &DesignRecord,
     analysis: &Analysis,
     windows: Option<&Windows>,
-) -> Option<(
-    crate::input_network::terminal::AtFieldTerminal,
-    Option<Windows>,
-)> {
+) -> Option<(crate::input_network::terminal::AtFieldTerminal, Option<Windows>)> {
     let net = record.input_network.as_ref().filter(|n| n.has_parts())?;
-    let terminal = crate::input_network::terminal::AtFieldTerminal::new(
-        crate::input_network::from_record::loaded_circuit(record),
-        net.clone(),
-    );
+    let terminal = crate::input_network::terminal::AtFieldTerminal::new(crate::input_network::from_record::loaded_circuit(record), net.clone());
     let field = windows.and_then(|_| terminal_windows(record, analysis, &terminal).ok());
     Some((terminal, field))
 }
@@ -291,23 +233,13 @@ fn bench_with(
     record: &DesignRecord,
     analysis: &Analysis,
     windows: Option<&Windows>,
-    terminal: Option<(
-        crate::input_network::terminal::AtFieldTerminal,
-        Option<Windows>,
-    )>,
+    terminal: Option<(crate::input_network::terminal::AtFieldTerminal, Option<Windows>)>,
 ) -> BenchProcedure {
     let pin = reading_windows(windows);
     let Some((terminal, field)) = terminal else {
         return bench_procedure_from(&record.circuit, analysis, &record.checks, &pin);
     };
-    match crate::bench::bench_procedure_through(
-        &record.circuit,
-        analysis,
-        &record.checks,
-        &pin,
-        &terminal,
-        &reading_windows(field.as_ref()),
-    ) {
+    match crate::bench::bench_procedure_through(&record.circuit, analysis, &record.checks, &pin, &terminal, &reading_windows(field.as_ref())) {
         Ok(p) => p,
         Err(e) => {
             let mut p = bench_procedure_from(&record.circuit, analysis, &record.checks, &pin);
@@ -327,11 +259,7 @@ pub fn terminal_windows(
     terminal: &crate::input_network::terminal::AtFieldTerminal,
 ) -> Result<Windows, DesignError> {
     let settings = record.tolerance.clone().unwrap_or_default();
-    both_windows(
-        terminal,
-        &settings,
-        &bench_supplies(&record.circuit, analysis),
-    )
+    both_windows(terminal, &settings, &bench_supplies(&record.circuit, analysis))
 }
 
 /// The outcome of synthesis: the circuit that reaches the targets and its analysis.
@@ -359,12 +287,7 @@ pub fn standard_values(
     synthesised: Option<&Synthesis>,
 ) -> Result<SearchReport, DesignError> {
     let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
-    search(
-        start,
-        targets.thresholds(),
-        &search_settings(record, targets),
-        &record.checks,
-    )
+    search(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
 }
 
 /// The search settings a record asks for: its own (defaults when it has none), with the targets'
@@ -388,12 +311,7 @@ pub fn standard_values_job(
     synthesised: Option<&Synthesis>,
 ) -> Result<SearchJob<Topology>, DesignError> {
     let start = synthesised.map_or(&record.circuit, |s| &s.circuit);
-    SearchJob::new(
-        start,
-        targets.thresholds(),
-        &search_settings(record, targets),
-        &record.checks,
-    )
+    SearchJob::new(start, targets.thresholds(), &search_settings(record, targets), &record.checks)
 }
 
 /// VT+ and VT− versus temperature over the record's operating range, with the drift in V/K
@@ -480,6 +398,7 @@ pub struct TerminalFigures {
     pub windows: Option<Windows>,
 }
 
+
 /// The output-dynamics and power-up studies of a record, each `None` when the record has no
 /// settings for it.
 #[allow(clippy::type_complexity)]
@@ -490,14 +409,8 @@ pub fn dynamics(
     Option<Result<crate::power_up::PowerUpReport, DesignError>>,
 ) {
     (
-        record
-            .output_dynamics
-            .as_ref()
-            .map(|s| crate::output_dynamics::output_dynamics(&record.circuit, s)),
-        record
-            .power_up
-            .as_ref()
-            .map(|s| crate::power_up::power_up(&record.circuit, s)),
+        record.output_dynamics.as_ref().map(|s| crate::output_dynamics::output_dynamics(&record.circuit, s)),
+        record.power_up.as_ref().map(|s| crate::power_up::power_up(&record.circuit, s)),
     )
 }
 
@@ -539,9 +452,7 @@ pub fn spice(record: &DesignRecord) -> Result<String, DesignError> {
         }
     }
     let parts = match &record.input_network {
-        Some(_) => {
-            part_list(record, &crate::topology::analyse(circuit, &record.checks)?)?.input_network
-        }
+        Some(_) => part_list(record, &crate::topology::analyse(circuit, &record.checks)?)?.input_network,
         None => Vec::new(),
     };
     if let Some(d) = crate::input_network::spice::dress(record, &parts, &mut net)? {
@@ -572,14 +483,11 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
     let bench = bench_with(record, &analysis, windows.as_ref(), terminal);
     crate::finite::check("bench", &bench)?;
     let parts = part_list(record, &analysis).ok();
-    let temperature = temperature(record)
-        .ok()
-        .map(|t| temperature_line(record, &t));
-    let input_network =
-        crate::input_network::from_record::record_network(record).map(|r| match r {
-            Ok(r) => crate::input_network::sheet_line(&r),
-            Err(e) => format!("Input network: {e}"),
-        });
+    let temperature = temperature(record).ok().map(|t| temperature_line(record, &t));
+    let input_network = crate::input_network::from_record::record_network(record).map(|r| match r {
+        Ok(r) => crate::input_network::sheet_line(&r),
+        Err(e) => format!("Input network: {e}"),
+    });
     let dynamics = dynamics_lines(record);
     // The nominal figures there are the network study's (`None` when it cannot be analysed: its
     // line on the sheet says why).
@@ -588,21 +496,8 @@ pub fn sheet(record: &DesignRecord) -> Result<Sheet, DesignError> {
         .as_ref()
         .filter(|n| n.has_parts())
         .and_then(|_| crate::input_network::from_record::record_network(record)?.ok())
-        .map(|n| TerminalFigures {
-            thresholds: n.field,
-            windows: field_windows,
-        });
-    Ok(Sheet {
-        bench,
-        parts,
-        cautions: cautions(record),
-        windows,
-        analysis,
-        temperature,
-        input_network,
-        dynamics,
-        field_terminal,
-    })
+        .map(|n| TerminalFigures { thresholds: n.field, windows: field_windows });
+    Ok(Sheet { bench, parts, cautions: cautions(record), windows, analysis, temperature, input_network, dynamics, field_terminal })
 }
 
 /// The print sheet's longer studies.
@@ -620,13 +515,9 @@ pub struct SheetStudies {
 pub fn sheet_studies(record: &DesignRecord, max_trials: u64) -> SheetStudies {
     let mut settings = record.tolerance.clone().unwrap_or_default();
     settings.monte_carlo.trials = settings.monte_carlo.trials.min(max_trials);
-    let spec_yield = monte_carlo(&record.circuit, &settings)
-        .ok()
-        .and_then(|m| m.spec_yield.map(|y| (y.fraction, m.trials)));
-    let signal = record
-        .signal
-        .as_ref()
-        .and_then(|s| crate::input_network::from_record::record_signal(record, s).ok());
+    let spec_yield =
+        monte_carlo(&record.circuit, &settings).ok().and_then(|m| m.spec_yield.map(|y| (y.fraction, m.trials)));
+    let signal = record.signal.as_ref().and_then(|s| crate::input_network::from_record::record_signal(record, s).ok());
     SheetStudies { spec_yield, signal }
 }
 
@@ -636,39 +527,17 @@ mod tests {
     use crate::catalog::templates;
 
     fn inverting() -> DesignRecord {
-        templates()
-            .into_iter()
-            .find(|t| t.record().circuit.name() == "inverting")
-            .unwrap()
-            .record()
+        templates().into_iter().find(|t| t.record().circuit.name() == "inverting").unwrap().record()
     }
 
     #[test]
     fn curve_window_is_the_hysteresis_or_half_a_volt_each_side() {
         // Wide loop: the margin is the hysteresis itself.
-        assert_eq!(
-            curve_window(&Thresholds {
-                vt_upper_v: 4.0,
-                vt_lower_v: 1.0
-            }),
-            (-2.0, 7.0)
-        );
+        assert_eq!(curve_window(&Thresholds { vt_upper_v: 4.0, vt_lower_v: 1.0 }), (-2.0, 7.0));
         // Narrow loop: half a volt each side.
-        assert_eq!(
-            curve_window(&Thresholds {
-                vt_upper_v: 2.1,
-                vt_lower_v: 2.0
-            }),
-            (1.5, 2.6)
-        );
+        assert_eq!(curve_window(&Thresholds { vt_upper_v: 2.1, vt_lower_v: 2.0 }), (1.5, 2.6));
         // An inverted pair (VT+ below VT−, as a miswired design may give) still widens outward by |ΔV|.
-        assert_eq!(
-            curve_window(&Thresholds {
-                vt_upper_v: 1.0,
-                vt_lower_v: 3.0
-            }),
-            (1.0, 3.0)
-        );
+        assert_eq!(curve_window(&Thresholds { vt_upper_v: 1.0, vt_lower_v: 3.0 }), (1.0, 3.0));
     }
 
     #[test]
@@ -681,14 +550,7 @@ mod tests {
         assert_eq!(q.curve.as_ref(), Some(&s.curve));
         let (from_v, _) = curve_window(&thresholds(&r.circuit).unwrap());
         assert_eq!(s.curve.rising.first().map(|p| p.vin_v), Some(from_v));
-        assert_eq!(
-            s.parts.len(),
-            r.circuit
-                .parameters()
-                .iter()
-                .filter(|p| p.kind == ParameterKind::Resistor)
-                .count()
-        );
+        assert_eq!(s.parts.len(), r.circuit.parameters().iter().filter(|p| p.kind == ParameterKind::Resistor).count());
         // The whole part list is kept too, the same as the settled path builds it.
         assert_eq!(s.part_list.as_ref(), settled(&r).parts.as_ref().ok());
         // A snapshot stored before the part list was kept still reads.
@@ -700,37 +562,16 @@ mod tests {
 
     #[test]
     fn quick_carries_the_field_terminal_thresholds_of_the_input_network() {
-        let r = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "sawmill-end-stop")
-            .unwrap()
-            .record();
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record();
         let q = quick(&r);
-        let field = q
-            .field_terminal
-            .clone()
-            .expect("the demo has a network")
-            .unwrap();
+        let field = q.field_terminal.clone().expect("the demo has a network").unwrap();
         // The same figures as the Input network study (under the output load), not the pin's.
-        let report = crate::input_network::from_record::record_network(&r)
-            .unwrap()
-            .unwrap();
+        let report = crate::input_network::from_record::record_network(&r).unwrap().unwrap();
         assert_eq!(field, report.field);
         let pin = q.analysis.as_ref().unwrap();
-        assert!(
-            field.vt_upper_v > 3.0 * pin.vt_upper_v,
-            "field {field:?}, pin {}",
-            pin.vt_upper_v
-        );
+        assert!(field.vt_upper_v > 3.0 * pin.vt_upper_v, "field {field:?}, pin {}", pin.vt_upper_v);
         // Without a network the field terminal is the pin: nothing extra.
-        assert_eq!(
-            quick(&DesignRecord {
-                input_network: None,
-                ..r.clone()
-            })
-            .field_terminal,
-            None
-        );
+        assert_eq!(quick(&DesignRecord { input_network: None, ..r.clone() }).field_terminal, None);
         // A network that cannot be analysed reports its error, and the pin figures stay.
         let mut bad = r.clone();
         if let Some(n) = bad.input_network.as_mut() {
@@ -742,69 +583,32 @@ mod tests {
 
     #[test]
     fn sheet_quotes_the_field_terminal_with_the_windows_the_bench_accepts_by() {
-        let r = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "sawmill-end-stop")
-            .unwrap()
-            .record();
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record();
         let sh = sheet(&r).unwrap();
         let t = sh.field_terminal.as_ref().expect("the demo has a network");
-        assert_eq!(
-            Some(t.thresholds),
-            quick(&r).field_terminal.and_then(|x| x.ok())
-        );
+        assert_eq!(Some(t.thresholds), quick(&r).field_terminal.and_then(|x| x.ok()));
         let w = t.windows.as_ref().expect("windows compute");
         // The bench step's accept range for VT+ at the nominal supply is this bench window.
         let b = &w.bench[0];
         let (lo, hi) = b.vt_upper_v();
         let step = format!("accept {:.3} V … {:.3} V", lo, hi);
-        assert!(
-            sh.bench.steps.iter().any(|s| s.instruction.contains(&step)),
-            "no bench step accepts by {step}"
-        );
+        assert!(sh.bench.steps.iter().any(|s| s.instruction.contains(&step)), "no bench step accepts by {step}");
         assert!(lo < t.thresholds.vt_upper_v && t.thresholds.vt_upper_v < hi);
         // Without a network there is no terminal block.
-        assert!(sheet(&DesignRecord {
-            input_network: None,
-            ..r.clone()
-        })
-        .unwrap()
-        .field_terminal
-        .is_none());
+        assert!(sheet(&DesignRecord { input_network: None, ..r.clone() }).unwrap().field_terminal.is_none());
     }
 
     #[test]
     fn snapshot_summary_quotes_the_field_terminal_when_there_is_a_network() {
-        let r = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "sawmill-end-stop")
-            .unwrap()
-            .record();
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record();
         let snap = snapshot(&r).expect("the demo computes");
-        let field = quick(&r)
-            .field_terminal
-            .expect("network")
-            .expect("computes");
+        let field = quick(&r).field_terminal.expect("network").expect("computes");
         assert_eq!(snap.field_terminal, Some(field));
         let line = snap.summary();
-        assert!(
-            line.starts_with("at the field terminal")
-                && line.contains(&format!("{:.3}", field.vt_upper_v)),
-            "{line}"
-        );
-        let plain = snapshot(&DesignRecord {
-            input_network: None,
-            ..r.clone()
-        })
-        .unwrap();
+        assert!(line.starts_with("at the field terminal") && line.contains(&format!("{:.3}", field.vt_upper_v)), "{line}");
+        let plain = snapshot(&DesignRecord { input_network: None, ..r.clone() }).unwrap();
         assert_eq!(plain.field_terminal, None);
-        assert_eq!(
-            plain.summary(),
-            format!(
-                "VT+ {:.3} V · VT− {:.3} V",
-                plain.vt_upper_v, plain.vt_lower_v
-            )
-        );
+        assert_eq!(plain.summary(), format!("VT+ {:.3} V · VT− {:.3} V", plain.vt_upper_v, plain.vt_lower_v));
     }
 
     #[test]
@@ -826,23 +630,12 @@ mod tests {
         let r = inverting();
         let s = sheet(&r).unwrap();
         let w = s.windows.as_ref().unwrap();
-        let upper = s
-            .bench
-            .readings
-            .iter()
-            .find(|x| x.nominal_v == s.analysis.vt_upper_v)
-            .unwrap();
+        let upper = s.bench.readings.iter().find(|x| x.nominal_v == s.analysis.vt_upper_v).unwrap();
         let (lo, hi) = w.bench[0].vt_upper_v();
         assert_eq!(w.bench[0].supply_v, r.circuit.supply_v());
         assert!(upper.accepts(lo) && upper.accepts(hi));
         assert_eq!((upper.bench_min_v, upper.bench_max_v), (Some(lo), Some(hi)));
-        assert_eq!(
-            (upper.field_min_v, upper.field_max_v),
-            (
-                Some(w.field.vt_upper.min.value_v),
-                Some(w.field.vt_upper.max.value_v)
-            )
-        );
+        assert_eq!((upper.field_min_v, upper.field_max_v), (Some(w.field.vt_upper.min.value_v), Some(w.field.vt_upper.max.value_v)));
         // The field window (±5 % supply, 0–70 °C drift by default) is wider than the bench window.
         assert!(w.field.vt_upper.min.value_v < lo && hi < w.field.vt_upper.max.value_v);
         assert!(s.parts.is_some());

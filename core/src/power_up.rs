@@ -42,12 +42,7 @@ pub struct PowerUpSettings {
 
 impl Default for PowerUpSettings {
     fn default() -> Self {
-        PowerUpSettings {
-            ramp_time_s: 1e-3,
-            minimum_supply_v: 1.8,
-            reference_time_constant_s: None,
-            input_time_constant_s: None,
-        }
+        PowerUpSettings { ramp_time_s: 1e-3, minimum_supply_v: 1.8, reference_time_constant_s: None, input_time_constant_s: None }
     }
 }
 
@@ -60,11 +55,7 @@ impl PowerUpSettings {
     /// Checks every value against [`crate::limits`].
     pub fn validate(&self) -> Result<(), DesignError> {
         check(Quantity::Duration, "power_up.ramp_time_s", self.ramp_time_s)?;
-        check(
-            Quantity::Voltage,
-            "power_up.minimum_supply_v",
-            self.minimum_supply_v,
-        )?;
+        check(Quantity::Voltage, "power_up.minimum_supply_v", self.minimum_supply_v)?;
         if let Some(t) = self.reference_time_constant_s {
             check(Quantity::Duration, "power_up.reference_time_constant_s", t)?;
         }
@@ -122,10 +113,7 @@ pub struct PowerUpReport {
 }
 
 /// The power-up study of `circuit` (see the module doc for the model).
-pub fn power_up<C: Circuit>(
-    circuit: &C,
-    settings: &PowerUpSettings,
-) -> Result<PowerUpReport, DesignError> {
+pub fn power_up<C: Circuit>(circuit: &C, settings: &PowerUpSettings) -> Result<PowerUpReport, DesignError> {
     settings.validate()?;
     circuit.validate()?;
     let nominal = circuit.supply_v();
@@ -140,41 +128,25 @@ pub fn power_up<C: Circuit>(
     for i in 0..=SUPPLY_STEPS {
         let v = vmin + (nominal - vmin) * i as f64 / SUPPLY_STEPS as f64;
         let c = circuit.with_supply(v);
-        c.validate().map_err(|e| {
-            DesignError::inconsistent(format!(
-                "the design cannot be evaluated at {v:.3} V during the ramp: {e}"
-            ))
-        })?;
+        c.validate().map_err(|e| DesignError::inconsistent(format!("the design cannot be evaluated at {v:.3} V during the ramp: {e}")))?;
         let t = c.thresholds()?;
         if !(t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()) {
-            return Err(DesignError::NotFinite {
-                quantity: format!("power_up thresholds at {v} V"),
-            });
+            return Err(DesignError::NotFinite { quantity: format!("power_up thresholds at {v} V") });
         }
         bands.push((t.vt_lower_v, t.vt_upper_v));
     }
     let (fin_lo, fin_hi) = bands[SUPPLY_STEPS];
     let max_lower = bands.iter().map(|b| b.0).fold(f64::NEG_INFINITY, f64::max);
     let min_upper = bands.iter().map(|b| b.1).fold(f64::INFINITY, f64::min);
-    let not_guaranteed_v = if max_lower <= min_upper {
-        Some([max_lower, min_upper])
-    } else {
-        None
-    };
+    let not_guaranteed_v = if max_lower <= min_upper { Some([max_lower, min_upper]) } else { None };
 
     let (input_low_state, input_high_state) = match circuit.sense() {
         Sense::Inverting => (OutputState::High, OutputState::Low),
         Sense::NonInverting => (OutputState::Low, OutputState::High),
     };
     // Input grid over every threshold of the ramp, with a margin of a tenth of the span.
-    let lo = bands
-        .iter()
-        .map(|b| b.0.min(b.1))
-        .fold(f64::INFINITY, f64::min);
-    let hi = bands
-        .iter()
-        .map(|b| b.0.max(b.1))
-        .fold(f64::NEG_INFINITY, f64::max);
+    let lo = bands.iter().map(|b| b.0.min(b.1)).fold(f64::INFINITY, f64::min);
+    let hi = bands.iter().map(|b| b.0.max(b.1)).fold(f64::NEG_INFINITY, f64::max);
     let span = (hi - lo).max(1e-3);
     let (g0, g1) = (lo - 0.1 * span, hi + 0.1 * span);
     let mut regions: Vec<PowerUpRegion> = Vec::new();
@@ -192,42 +164,23 @@ pub fn power_up<C: Circuit>(
             }
         }
         let state = if states[0] == states[1] {
-            Some(if states[0] {
-                input_high_state
-            } else {
-                input_low_state
-            })
+            Some(if states[0] { input_high_state } else { input_low_state })
         } else {
             None
         };
         match regions.last_mut() {
             Some(r) if r.state == state => r.to_v = vin,
-            _ => regions.push(PowerUpRegion {
-                from_v: vin,
-                to_v: vin,
-                state,
-            }),
+            _ => regions.push(PowerUpRegion { from_v: vin, to_v: vin, state }),
         }
     }
 
     let hysteresis = (fin_hi - fin_lo).abs();
     let mut lags = Vec::new();
-    for (node, tau) in [
-        ("reference", settings.reference_time_constant_s),
-        ("input", settings.input_time_constant_s),
-    ] {
+    for (node, tau) in [("reference", settings.reference_time_constant_s), ("input", settings.input_time_constant_s)] {
         if let Some(tau) = tau {
-            let lag_v = if settings.ramp_time_s > 0.0 {
-                nominal / settings.ramp_time_s * tau
-            } else {
-                nominal
-            };
+            let lag_v = if settings.ramp_time_s > 0.0 { nominal / settings.ramp_time_s * tau } else { nominal };
             let matters = lag_v >= 0.1 * hysteresis || settings.ramp_time_s < 5.0 * tau;
-            lags.push(RampLag {
-                node: node.into(),
-                lag_v,
-                matters,
-            });
+            lags.push(RampLag { node: node.into(), lag_v, matters });
         }
     }
     let name = |s: OutputState| match s {

@@ -12,8 +12,8 @@
 
 use crate::analysis::{CheckSettings, Targets};
 use crate::bom::PartSettings;
-use crate::error::DesignError;
 use crate::search::SearchSettings;
+use crate::error::DesignError;
 use crate::tolerance::ToleranceSettings;
 use crate::topology::Topology;
 use serde::{Deserialize, Serialize};
@@ -39,16 +39,10 @@ pub fn migrate(value: serde_json::Value, from: u32) -> Result<serde_json::Value,
 }
 
 /// [`migrate`] over any list of steps (the tests run the mechanism on steps of their own).
-fn migrate_with(
-    steps: &[Step],
-    mut value: serde_json::Value,
-    from: u32,
-) -> Result<serde_json::Value, RecordError> {
+fn migrate_with(steps: &[Step], mut value: serde_json::Value, from: u32) -> Result<serde_json::Value, RecordError> {
     let newest = 1 + steps.len() as u32;
     if from == 0 || from > newest {
-        return Err(RecordError::Malformed {
-            message: format!("schema_version {from} cannot be migrated"),
-        });
+        return Err(RecordError::Malformed { message: format!("schema_version {from} cannot be migrated") });
     }
     for step in &steps[(from - 1) as usize..] {
         value = step(value)?;
@@ -64,52 +58,16 @@ fn migrate_with(
 /// [`NUMBER_SUFFIXES`] they are where [`read_number_texts`] reads text as a number. When a migration
 /// step renames a numeric field, keep the old name here too (the texts are read before migrating).
 pub const NUMBER_FIELDS: &[&str] = &[
-    "beta",
-    "beta_f",
-    "beta_f_limits",
-    "beta_r",
-    "beta_temperature_exponent",
-    "bias_error_fraction",
-    "centre",
-    "corner_limit",
-    "cycles",
-    "divider_current_ratio",
-    "drift_half_width",
-    "duty",
-    "exponent",
-    "fail_above_false_edges_per_edge",
-    "falling_phase_deg",
-    "fixed",
-    "fraction",
-    "half_width",
-    "high_fraction",
-    "histogram_bins",
-    "is_temperature_exponent",
-    "oscillator_cycles",
-    "order",
-    "phase_deg",
-    "power_derating_factor",
-    "pullup_ratio_limit",
-    "relative_amplitude",
-    "resistor_tolerance",
-    "rising_phase_deg",
-    "samples",
-    "seed",
-    "slew_rate_v_per_us",
-    "steps",
-    "target_false_edges_per_edge",
-    "temperature_max_c",
-    "temperature_min_c",
-    "time_column",
-    "top_n",
-    "trials",
-    "voltage_column",
+    "beta", "beta_f", "beta_f_limits", "beta_r", "beta_temperature_exponent", "bias_error_fraction", "centre", "corner_limit", "cycles", "divider_current_ratio",
+    "drift_half_width", "duty", "exponent", "fail_above_false_edges_per_edge", "falling_phase_deg", "fixed",
+    "fraction", "half_width", "high_fraction", "histogram_bins", "is_temperature_exponent", "oscillator_cycles", "order", "phase_deg",
+    "power_derating_factor", "pullup_ratio_limit", "relative_amplitude", "resistor_tolerance",
+    "rising_phase_deg", "samples", "seed", "slew_rate_v_per_us", "steps", "target_false_edges_per_edge", "temperature_max_c",
+    "temperature_min_c", "time_column", "top_n", "trials", "voltage_column",
 ];
 
 /// Unit suffixes of numeric field names (`rf_ohm`, `supply_v`, `ib_a`, `c_f`, `delay_s`...).
-pub const NUMBER_SUFFIXES: &[&str] = &[
-    "_ohm", "_v", "_mv", "_a", "_f", "_s", "_hz", "_w", "_k", "_c", "_pct", "_deg",
-];
+pub const NUMBER_SUFFIXES: &[&str] = &["_ohm", "_v", "_mv", "_a", "_f", "_s", "_hz", "_w", "_k", "_c", "_pct", "_deg"];
 
 /// Field names that end like a unit but hold text (`rail_a` names the rail resistor A returns to).
 const TEXT_FIELDS: &[&str] = &["rail_a"];
@@ -161,19 +119,12 @@ fn path_text(path: &[PathStep<'_>]) -> String {
 }
 
 /// Walks the value; the path is built only when a text fails (no allocation per field).
-fn read_texts_under<'a>(
-    value: &'a mut serde_json::Value,
-    path: &mut Vec<PathStep<'a>>,
-    numeric: bool,
-) -> Result<(), RecordError> {
+fn read_texts_under<'a>(value: &'a mut serde_json::Value, path: &mut Vec<PathStep<'a>>, numeric: bool) -> Result<(), RecordError> {
     use serde_json::Value;
     match value {
         Value::String(text) if numeric => {
             *value = number_of_text(text).map_err(|reason| {
-                RecordError::Invalid(DesignError::invalid(
-                    &path_text(path),
-                    format!("\"{text}\" is not a number ({reason})"),
-                ))
+                RecordError::Invalid(DesignError::invalid(&path_text(path), format!("\"{text}\" is not a number ({reason})")))
             })?;
             Ok(())
         }
@@ -206,15 +157,9 @@ fn number_of_text(text: &str) -> Result<serde_json::Value, String> {
     const SAFE: f64 = 9_007_199_254_740_992.0; // 2^53: every integer up to here is exact in f64
     if x.fract() == 0.0 && x.abs() <= SAFE {
         // Cast is exact: x is whole and within ±2^53.
-        return Ok(if x >= 0.0 {
-            (x as u64).into()
-        } else {
-            (x as i64).into()
-        });
+        return Ok(if x >= 0.0 { (x as u64).into() } else { (x as i64).into() });
     }
-    serde_json::Number::from_f64(x)
-        .map(serde_json::Value::Number)
-        .ok_or_else(|| "it is not finite".into())
+    serde_json::Number::from_f64(x).map(serde_json::Value::Number).ok_or_else(|| "it is not finite".into())
 }
 
 /// One design: its name and notes, circuit, targets and the settings of every study.
@@ -337,50 +282,31 @@ impl DesignRecord {
     /// ([`read_number_texts`]), migrates an older schema ([`migrate`]), names an unknown topology,
     /// then deserialises.
     pub fn from_value(mut value: serde_json::Value) -> Result<Self, RecordError> {
-        let obj = value.as_object().ok_or_else(|| RecordError::Malformed {
-            message: "a design record must be a JSON object".into(),
-        })?;
+        let obj = value
+            .as_object()
+            .ok_or_else(|| RecordError::Malformed { message: "a design record must be a JSON object".into() })?;
         let version = match obj.get("schema_version") {
             Some(v) => v
                 .as_u64()
                 .and_then(|v| u32::try_from(v).ok())
-                .ok_or_else(|| RecordError::Malformed {
-                    message: "schema_version must be a whole number".into(),
-                })?,
-            None => {
-                return Err(RecordError::Malformed {
-                    message: "missing field `schema_version`".into(),
-                })
-            }
+                .ok_or_else(|| RecordError::Malformed { message: "schema_version must be a whole number".into() })?,
+            None => return Err(RecordError::Malformed { message: "missing field `schema_version`".into() }),
         };
         if version > SCHEMA_VERSION {
-            return Err(RecordError::FutureVersion {
-                found: version,
-                supported: SCHEMA_VERSION,
-            });
+            return Err(RecordError::FutureVersion { found: version, supported: SCHEMA_VERSION });
         }
         if version == 0 {
-            return Err(RecordError::Malformed {
-                message: "schema_version 0 does not exist".into(),
-            });
+            return Err(RecordError::Malformed { message: "schema_version 0 does not exist".into() });
         }
         read_number_texts(&mut value)?;
         let value = migrate(value, version)?;
-        if let Some(name) = value
-            .get("circuit")
-            .and_then(|c| c.get("topology"))
-            .and_then(|t| t.as_str())
-        {
+        if let Some(name) = value.get("circuit").and_then(|c| c.get("topology")).and_then(|t| t.as_str()) {
             if !Topology::NAMES.contains(&name) {
-                return Err(RecordError::UnknownTopology {
-                    name: name.to_string(),
-                });
+                return Err(RecordError::UnknownTopology { name: name.to_string() });
             }
         }
         let mut record: DesignRecord =
-            serde_json::from_value(value).map_err(|e| RecordError::Malformed {
-                message: e.to_string(),
-            })?;
+            serde_json::from_value(value).map_err(|e| RecordError::Malformed { message: e.to_string() })?;
         record.schema_version = SCHEMA_VERSION;
         Ok(record)
     }
@@ -388,9 +314,7 @@ impl DesignRecord {
     /// Reads a record from JSON text.
     pub fn from_json(text: &str) -> Result<Self, RecordError> {
         let value: serde_json::Value =
-            serde_json::from_str(text).map_err(|e| RecordError::Malformed {
-                message: e.to_string(),
-            })?;
+            serde_json::from_str(text).map_err(|e| RecordError::Malformed { message: e.to_string() })?;
         Self::from_value(value)
     }
 
@@ -408,15 +332,7 @@ mod tests {
     use crate::topology::Circuit;
 
     fn sample() -> DesignRecord {
-        DesignRecord::new(
-            "t",
-            Topology::Inverting(InvertingSchmitt::single_supply(
-                10e3,
-                10e3,
-                20e3,
-                Comparator::ideal(5.0),
-            )),
-        )
+        DesignRecord::new("t", Topology::Inverting(InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0))))
     }
 
     #[test]
@@ -429,10 +345,7 @@ mod tests {
     fn future_version_is_refused() {
         let mut v = serde_json::to_value(sample()).unwrap();
         v["schema_version"] = 99.into();
-        assert!(matches!(
-            DesignRecord::from_value(v),
-            Err(RecordError::FutureVersion { found: 99, .. })
-        ));
+        assert!(matches!(DesignRecord::from_value(v), Err(RecordError::FutureVersion { found: 99, .. })));
     }
 
     #[test]
@@ -445,14 +358,8 @@ mod tests {
 
     #[test]
     fn malformed_json_is_reported() {
-        assert!(matches!(
-            DesignRecord::from_json("{"),
-            Err(RecordError::Malformed { .. })
-        ));
-        assert!(matches!(
-            DesignRecord::from_json("[]"),
-            Err(RecordError::Malformed { .. })
-        ));
+        assert!(matches!(DesignRecord::from_json("{"), Err(RecordError::Malformed { .. })));
+        assert!(matches!(DesignRecord::from_json("[]"), Err(RecordError::Malformed { .. })));
     }
 
     // --- numbers written as text (issue: the command line said "invalid type: string, expected f64")
@@ -460,26 +367,13 @@ mod tests {
     #[test]
     fn numbers_read_in_the_page_notations() {
         // Values from the notation's own rules (engineering prefixes; IEC 60062 RKM code, from memory).
-        let cases = [
-            ("4k7", 4700.0),
-            ("4K7", 4700.0),
-            ("100n", 100e-9),
-            ("2M2", 2.2e6),
-            ("R47", 0.47),
-            ("10 k", 10e3),
-        ];
+        let cases = [("4k7", 4700.0), ("4K7", 4700.0), ("100n", 100e-9), ("2M2", 2.2e6), ("R47", 0.47), ("10 k", 10e3)];
         for (text, want) in cases {
             let mut v = serde_json::to_value(sample()).unwrap();
             v["circuit"]["rf_ohm"] = text.into();
             let r = DesignRecord::from_value(v).unwrap_or_else(|e| panic!("{text}: {e}"));
-            let Topology::Inverting(c) = &r.circuit else {
-                panic!("topology changed")
-            };
-            assert!(
-                (c.rf_ohm - want).abs() <= 1e-12 * want,
-                "{text} read as {}",
-                c.rf_ohm
-            );
+            let Topology::Inverting(c) = &r.circuit else { panic!("topology changed") };
+            assert!((c.rf_ohm - want).abs() <= 1e-12 * want, "{text} read as {}", c.rf_ohm);
         }
     }
 
@@ -490,14 +384,9 @@ mod tests {
         v["notes"] = "100n".into();
         v["purpose"] = "2M2".into();
         let r = DesignRecord::from_value(v).unwrap();
-        assert_eq!(
-            (r.name.as_str(), r.notes.as_str(), r.purpose.as_str()),
-            ("4k7", "100n", "2M2")
-        );
+        assert_eq!((r.name.as_str(), r.notes.as_str(), r.purpose.as_str()), ("4k7", "100n", "2M2"));
         // rail_a ends like an ampere field but names a rail.
-        assert!(
-            !is_number_field("rail_a") && !is_number_field("topology") && is_number_field("ib_a")
-        );
+        assert!(!is_number_field("rail_a") && !is_number_field("topology") && is_number_field("ib_a"));
     }
 
     #[test]
@@ -516,18 +405,13 @@ mod tests {
         let mut v = serde_json::to_value(sample()).unwrap();
         v["circuit"]["rf_ohm"] = "4q7".into();
         let e = DesignRecord::from_value(v).unwrap_err();
-        let RecordError::Invalid(DesignError::InvalidValue { field, reason }) = &e else {
-            panic!("{e:?}")
-        };
+        let RecordError::Invalid(DesignError::InvalidValue { field, reason }) = &e else { panic!("{e:?}") };
         assert_eq!(field, "circuit.rf_ohm");
         assert!(reason.contains("\"4q7\""), "{reason}");
         // A number too large for f64 is refused too.
         let mut v = serde_json::to_value(sample()).unwrap();
         v["circuit"]["rf_ohm"] = "1e999".into();
-        assert!(matches!(
-            DesignRecord::from_value(v),
-            Err(RecordError::Invalid(_))
-        ));
+        assert!(matches!(DesignRecord::from_value(v), Err(RecordError::Invalid(_))));
     }
 
     // --- migration
@@ -544,12 +428,9 @@ mod tests {
 
     /// Test step 2 → 3: `remarks` gets a prefix (to see the order the steps run in).
     fn tag_remarks(mut v: serde_json::Value) -> Result<serde_json::Value, RecordError> {
-        let text = v["remarks"]
-            .as_str()
-            .map(|s| format!("v3: {s}"))
-            .ok_or_else(|| RecordError::Malformed {
-                message: "remarks missing".into(),
-            })?;
+        let text = v["remarks"].as_str().map(|s| format!("v3: {s}")).ok_or_else(|| RecordError::Malformed {
+            message: "remarks missing".into(),
+        })?;
         v["remarks"] = text.into();
         Ok(v)
     }
@@ -559,10 +440,7 @@ mod tests {
         let steps: &[Step] = &[rename_notes, tag_remarks];
         let v1 = serde_json::json!({"schema_version": 1, "notes": "n"});
         let out = migrate_with(steps, v1, 1).unwrap();
-        assert_eq!(
-            out,
-            serde_json::json!({"schema_version": 3, "remarks": "v3: n"})
-        );
+        assert_eq!(out, serde_json::json!({"schema_version": 3, "remarks": "v3: n"}));
         // A version-2 record skips the first step.
         let v2 = serde_json::json!({"schema_version": 2, "remarks": "r"});
         assert_eq!(migrate_with(steps, v2, 2).unwrap()["remarks"], "v3: r");

@@ -71,12 +71,7 @@ pub struct DesignVoltage {
 impl DesignVoltage {
     fn dc(source: impl Into<String>, v: f64) -> Self {
         let v = if v.is_finite() { v.abs() } else { 0.0 };
-        DesignVoltage {
-            source: source.into(),
-            steady_v: v,
-            alternating_rms_v: 0.0,
-            peak_v: v,
-        }
+        DesignVoltage { source: source.into(), steady_v: v, alternating_rms_v: 0.0, peak_v: v }
     }
 
     /// Whether this voltage exceeds the extra-low-voltage limits ([`ELV_DC_V`] steady or peak,
@@ -92,10 +87,7 @@ impl DesignVoltage {
 
     fn describe(&self) -> String {
         if self.alternating_rms_v > 0.0 {
-            format!(
-                "{}: {:.1} V r.m.s. alternating, {:.1} V peak",
-                self.source, self.alternating_rms_v, self.peak_v
-            )
+            format!("{}: {:.1} V r.m.s. alternating, {:.1} V peak", self.source, self.alternating_rms_v, self.peak_v)
         } else {
             format!("{}: {:.1} V", self.source, self.peak_v)
         }
@@ -127,11 +119,7 @@ fn range_voltage(source: &str, lo: Option<f64>, hi: Option<f64>) -> Option<Desig
 /// components and hum (r.m.s. values added, an upper bound for any phases).
 fn signal_voltage(settings: &crate::signal::report::SignalSettings) -> DesignVoltage {
     let def = &settings.definition;
-    let dur = if def.duration_s.is_finite() {
-        def.duration_s.max(0.0)
-    } else {
-        0.0
-    };
+    let dur = if def.duration_s.is_finite() { def.duration_s.max(0.0) } else { 0.0 };
     let (mut level, mut wander, mut rms, mut peak) = (0.0_f64, 0.0_f64, 0.0_f64, 0.0_f64);
     let mut periodic = |amp: f64, crest: f64| {
         if amp.is_finite() {
@@ -145,11 +133,7 @@ fn signal_voltage(settings: &crate::signal::report::SignalSettings) -> DesignVol
             Component::Sine { amplitude_v, .. } => periodic(amplitude_v, std::f64::consts::SQRT_2),
             Component::Triangle { amplitude_v, .. } => periodic(amplitude_v, 3f64.sqrt()),
             Component::Square { amplitude_v, .. } => periodic(amplitude_v, 1.0),
-            Component::Ramp {
-                slope_v_per_s,
-                start_s,
-                stop_s,
-            } => {
+            Component::Ramp { slope_v_per_s, start_s, stop_s } => {
                 let end = stop_s.unwrap_or(dur).min(dur);
                 wander += (slope_v_per_s * (end - start_s).max(0.0)).abs();
             }
@@ -158,29 +142,15 @@ fn signal_voltage(settings: &crate::signal::report::SignalSettings) -> DesignVol
         }
     }
     for n in &def.noise {
-        if let NoiseSource::Hum {
-            amplitude_v,
-            harmonics,
-            ..
-        } = n
-        {
+        if let NoiseSource::Hum { amplitude_v, harmonics, .. } = n {
             periodic(*amplitude_v, std::f64::consts::SQRT_2);
             for h in harmonics {
                 periodic(amplitude_v * h.relative_amplitude, std::f64::consts::SQRT_2);
             }
         }
     }
-    let steady = if level.is_finite() && wander.is_finite() {
-        level.abs() + wander
-    } else {
-        0.0
-    };
-    DesignVoltage {
-        source: "signal".into(),
-        steady_v: steady,
-        alternating_rms_v: rms,
-        peak_v: steady + peak,
-    }
+    let steady = if level.is_finite() && wander.is_finite() { level.abs() + wander } else { 0.0 };
+    DesignVoltage { source: "signal".into(), steady_v: steady, alternating_rms_v: rms, peak_v: steady + peak }
 }
 
 /// Every voltage the design states or reaches (see the module documentation), from the record
@@ -198,48 +168,27 @@ pub fn design_voltages(record: &DesignRecord, analysis: Option<&Analysis>) -> Ve
 }
 
 /// The voltages that the circuit, its check settings and its analysis give (no signal settings).
-fn circuit_voltages(
-    circuit: &Topology,
-    analysis: Option<&Analysis>,
-    checks: &CheckSettings,
-) -> Vec<DesignVoltage> {
+fn circuit_voltages(circuit: &Topology, analysis: Option<&Analysis>, checks: &CheckSettings) -> Vec<DesignVoltage> {
     let mut out = Vec::new();
     out.push(DesignVoltage::dc("supply", circuit.supply_v()));
-    out.push(DesignVoltage::dc(
-        "negative rail",
-        circuit.negative_rail_v(),
-    ));
+    out.push(DesignVoltage::dc("negative rail", circuit.negative_rail_v()));
     for p in circuit.parameters() {
         if matches!(p.kind, ParameterKind::Supply | ParameterKind::Reference) {
             out.push(DesignVoltage::dc(p.label.clone(), p.value));
         }
     }
-    out.extend(range_voltage(
-        "input range",
-        checks.input_min_v,
-        checks.input_max_v,
-    ));
-    out.extend(range_voltage(
-        "supply range",
-        checks.supply_min_v,
-        checks.supply_max_v,
-    ));
+    out.extend(range_voltage("input range", checks.input_min_v, checks.input_max_v));
+    out.extend(range_voltage("supply range", checks.supply_min_v, checks.supply_max_v));
     if let Ok(t) = circuit.thresholds() {
         out.push(DesignVoltage::dc("VT+", t.vt_upper_v));
         out.push(DesignVoltage::dc("VT−", t.vt_lower_v));
     }
     if let Some(a) = analysis {
         for r in &a.resistors {
-            out.push(DesignVoltage::dc(
-                format!("across {}", r.designator),
-                r.max_volts,
-            ));
+            out.push(DesignVoltage::dc(format!("across {}", r.designator), r.max_volts));
         }
         for n in &a.device_inputs {
-            out.push(DesignVoltage::dc(
-                format!("node {}", n.name),
-                n.min_v.abs().max(n.max_v.abs()),
-            ));
+            out.push(DesignVoltage::dc(format!("node {}", n.name), n.min_v.abs().max(n.max_v.abs())));
         }
         for c in &a.supply_corners {
             out.push(DesignVoltage::dc("supply corner", c.supply_v));
@@ -256,11 +205,7 @@ fn worst_above(voltages: &[DesignVoltage]) -> Option<&DesignVoltage> {
     voltages
         .iter()
         .filter(|v| v.above_extra_low_voltage())
-        .max_by(|a, b| {
-            a.peak_v
-                .total_cmp(&b.peak_v)
-                .then(a.alternating_rms_v.total_cmp(&b.alternating_rms_v))
-        })
+        .max_by(|a, b| a.peak_v.total_cmp(&b.peak_v).then(a.alternating_rms_v.total_cmp(&b.alternating_rms_v)))
 }
 
 fn mentions(text: &str, words: &[&str]) -> bool {
@@ -285,14 +230,7 @@ fn names_mains_voltage(text: &str) -> bool {
             while j < b.len() && b[j] == b' ' {
                 j += 1;
             }
-            if (100.0..=480.0).contains(&n)
-                && j < b.len()
-                && b[j] == b'v'
-                && (j + 1 == b.len()
-                    || !b[j + 1].is_ascii_alphabetic()
-                    || t[j..].starts_with("vac")
-                    || t[j..].starts_with("vrms"))
-            {
+            if (100.0..=480.0).contains(&n) && j < b.len() && b[j] == b'v' && (j + 1 == b.len() || !b[j + 1].is_ascii_alphabetic() || t[j..].starts_with("vac") || t[j..].starts_with("vrms")) {
                 return true;
             }
         } else {
@@ -326,19 +264,7 @@ pub fn cautions_with(record: &DesignRecord, analysis: Option<&Analysis>) -> Vec<
             ),
         });
     }
-    if matches!(record.circuit, Topology::SupplyMonitor(_))
-        || mentions(
-            &text,
-            &[
-                "battery",
-                "batteries",
-                "cell",
-                "pack",
-                "lead-acid",
-                "lithium",
-            ],
-        )
-    {
+    if matches!(record.circuit, Topology::SupplyMonitor(_)) || mentions(&text, &["battery", "batteries", "cell", "pack", "lead-acid", "lithium"]) {
         out.push(Caution {
             kind: CautionKind::Battery,
             message: "Batteries deliver very large short-circuit currents even at low voltage. Fuse or current-limit each sense lead at the pack, where it leaves the battery; guard against reverse polarity and hot-plug surges, and rate the divider for the full pack voltage plus transients. Series strings can exceed extra-low voltage. Follow the battery maker's instructions and local codes.".into(),
@@ -347,17 +273,7 @@ pub fn cautions_with(record: &DesignRecord, analysis: Option<&Analysis>) -> Vec<
     let mains_by_value = voltages.iter().any(DesignVoltage::mains_derived);
     if mains_by_value
         || names_mains_voltage(&text)
-        || mentions(
-            &text,
-            &[
-                "mains",
-                "zero crossing",
-                "zero-crossing",
-                "line voltage",
-                "dropper",
-                "ac line",
-            ],
-        )
+        || mentions(&text, &["mains", "zero crossing", "zero-crossing", "line voltage", "dropper", "ac line"])
     {
         out.push(Caution {
             kind: CautionKind::Mains,
@@ -387,24 +303,13 @@ pub struct BenchSafety {
 /// its analysis and the extra test voltages the procedure reaches (ramp ends). Above the
 /// extra-low-voltage limits the procedure needs an isolation transformer or a differential
 /// probe, a current-limited source for the input and the circuit, and no live work.
-pub fn bench_safety(
-    circuit: &Topology,
-    analysis: &Analysis,
-    checks: &CheckSettings,
-    test_voltages_v: &[f64],
-) -> BenchSafety {
+pub fn bench_safety(circuit: &Topology, analysis: &Analysis, checks: &CheckSettings, test_voltages_v: &[f64]) -> BenchSafety {
     let mut voltages = circuit_voltages(circuit, Some(analysis), checks);
     for &v in test_voltages_v {
         voltages.push(DesignVoltage::dc("test ramp", v));
     }
     let Some(w) = worst_above(&voltages) else {
-        return BenchSafety {
-            above_extra_low_voltage: false,
-            worst: None,
-            input_source: None,
-            equipment: Vec::new(),
-            cautions: Vec::new(),
-        };
+        return BenchSafety { above_extra_low_voltage: false, worst: None, input_source: None, equipment: Vec::new(), cautions: Vec::new() };
     };
     let worst = w.describe();
     BenchSafety {
@@ -429,43 +334,22 @@ mod tests {
 
     #[test]
     fn battery_demo_gets_the_battery_caution() {
-        let r = catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "cabin-battery")
-            .unwrap()
-            .record();
+        let r = catalog::demos().into_iter().find(|s| s.key == "cabin-battery").unwrap().record();
         assert!(cautions(&r).iter().any(|c| c.kind == CautionKind::Battery));
     }
 
     #[test]
     fn a_low_voltage_logic_design_gets_none() {
-        let r = catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "lathe-tachometer")
-            .unwrap()
-            .record();
+        let r = catalog::demos().into_iter().find(|s| s.key == "lathe-tachometer").unwrap().record();
         assert!(cautions(&r).is_empty());
     }
 
     #[test]
     fn mains_voltage_in_words_is_a_hint() {
-        for t in [
-            "fed from 240 V",
-            "230VAC line",
-            "a 220 v heater",
-            "line voltage sense",
-            "120 Vrms",
-        ] {
+        for t in ["fed from 240 V", "230VAC line", "a 220 v heater", "line voltage sense", "120 Vrms"] {
             assert!(names_mains_voltage(t) || t.contains("line voltage"), "{t}");
         }
-        for t in [
-            "24 V valve",
-            "1200 V",
-            "5 V logic",
-            "230 mV",
-            "2.30 V",
-            "100 VA transformer",
-        ] {
+        for t in ["24 V valve", "1200 V", "5 V logic", "230 mV", "2.30 V", "100 VA transformer"] {
             assert!(!names_mains_voltage(t), "{t}");
         }
     }
@@ -474,9 +358,7 @@ mod tests {
     fn ranges_of_both_polarities_are_alternating() {
         let v = range_voltage("input range", Some(-40.0), Some(40.0)).unwrap();
         // 40 V peak sine: 28.3 V r.m.s. > 25 V, though below 60 V d.c.
-        assert!(
-            (v.alternating_rms_v - 40.0 / 2f64.sqrt()).abs() < 1e-12 && v.above_extra_low_voltage()
-        );
+        assert!((v.alternating_rms_v - 40.0 / 2f64.sqrt()).abs() < 1e-12 && v.above_extra_low_voltage());
         let v = range_voltage("input range", Some(0.0), Some(48.0)).unwrap();
         assert!(v.alternating_rms_v == 0.0 && !v.above_extra_low_voltage());
         assert!(range_voltage("x", None, None).is_none());
@@ -484,15 +366,9 @@ mod tests {
 
     #[test]
     fn above_elv_is_flagged() {
-        let mut r = catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "lathe-tachometer")
-            .unwrap()
-            .record();
+        let mut r = catalog::demos().into_iter().find(|s| s.key == "lathe-tachometer").unwrap().record();
         r.checks.input_max_v = Some(325.0);
-        assert!(cautions(&r)
-            .iter()
-            .any(|c| c.kind == CautionKind::AboveExtraLowVoltage));
+        assert!(cautions(&r).iter().any(|c| c.kind == CautionKind::AboveExtraLowVoltage));
         r.purpose = "mains zero crossing".into();
         assert!(cautions(&r).iter().any(|c| c.kind == CautionKind::Mains));
     }

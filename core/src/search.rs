@@ -280,12 +280,7 @@ impl Objective {
                 1.0
             }
         };
-        Objective {
-            tu: t.vt_upper_v,
-            tl: t.vt_lower_v,
-            su: norm(t.vt_upper_v),
-            sl: norm(t.vt_lower_v),
-        }
+        Objective { tu: t.vt_upper_v, tl: t.vt_lower_v, su: norm(t.vt_upper_v), sl: norm(t.vt_lower_v) }
     }
 
     fn errors(&self, yu: f64, yl: f64) -> (f64, f64) {
@@ -303,13 +298,7 @@ impl Objective {
 #[derive(Debug, Clone, Copy)]
 enum Bilinear {
     Constant(f64),
-    Mobius {
-        a: f64,
-        b: f64,
-        c: f64,
-        d: f64,
-        dir: f64,
-    },
+    Mobius { a: f64, b: f64, c: f64, d: f64, dir: f64 },
 }
 
 impl Bilinear {
@@ -412,16 +401,8 @@ fn model_slope(obj: &Objective, mu: &Bilinear, ml: &Bilinear, x: f64) -> f64 {
 /// `hint` (any index) is where the search starts: the previous combination's bracket, usually a
 /// step or two away, found then in two or three slope signs instead of log2 M (see
 /// [`partition_from`]; the same index either way).
-fn model_bracket(
-    obj: &Objective,
-    mu: &Bilinear,
-    ml: &Bilinear,
-    grid: &[f64],
-    hint: usize,
-) -> usize {
-    partition_from(grid.len(), hint, |i| {
-        model_slope(obj, mu, ml, grid[i]) >= 0.0
-    })
+fn model_bracket(obj: &Objective, mu: &Bilinear, ml: &Bilinear, grid: &[f64], hint: usize) -> usize {
+    partition_from(grid.len(), hint, |i| model_slope(obj, mu, ml, grid[i]) >= 0.0)
 }
 
 /// The smallest index in `0..m` where `rising` holds, or `m` if none, for a `rising` that is false
@@ -567,9 +548,7 @@ impl<C: Circuit> Searcher<C> {
         if self.top.len() < self.top_n {
             f64::INFINITY
         } else {
-            self.top
-                .last()
-                .map_or(f64::INFINITY, |e| e.f + tie_tol(e.f))
+            self.top.last().map_or(f64::INFINITY, |e| e.f + tie_tol(e.f))
         }
     }
 
@@ -579,32 +558,21 @@ impl<C: Circuit> Searcher<C> {
 
     /// The tie-break Σ|ln(Ri/Ri,start)| of resistor values given in `slots` order.
     fn closeness_of(&self, resistors_ohm: impl Iterator<Item = f64>) -> f64 {
-        resistors_ohm
-            .zip(&self.ln_start)
-            .map(|(v, l)| (v.ln() - l).abs())
-            .sum()
+        resistors_ohm.zip(&self.ln_start).map(|(v, l)| (v.ln() - l).abs()).sum()
     }
 
     /// Evaluates grid value `i` for the solved resistor in the current combination and offers it.
     fn eval(&mut self, i: usize) -> Eval {
         if self.stamp[i] == self.combo {
             let f = self.fcache[i];
-            return if f.is_nan() {
-                Eval::Failed
-            } else {
-                Eval::Cached(f)
-            };
+            return if f.is_nan() { Eval::Failed } else { Eval::Cached(f) };
         }
         self.stamp[i] = self.combo;
         self.fcache[i] = f64::NAN;
         self.values[self.solved] = self.grid[i];
         self.evaluations += 1;
-        let Ok(c) = self.template.with_parameters(&self.values) else {
-            return Eval::Failed;
-        };
-        let Ok(t) = c.thresholds() else {
-            return Eval::Failed;
-        };
+        let Ok(c) = self.template.with_parameters(&self.values) else { return Eval::Failed };
+        let Ok(t) = c.thresholds() else { return Eval::Failed };
         if !(t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()) {
             return Eval::Failed;
         }
@@ -620,12 +588,8 @@ impl<C: Circuit> Searcher<C> {
             return;
         }
         let closeness = self.closeness();
-        let Some(twin) = self.place_for(f, closeness, &t, |e| {
-            self.slots
-                .iter()
-                .zip(&e.resistors_ohm)
-                .all(|(&s, &v)| self.values[s] == v)
-        }) else {
+        let Some(twin) = self.place_for(f, closeness, &t, |e| self.slots.iter().zip(&e.resistors_ohm).all(|(&s, &v)| self.values[s] == v))
+        else {
             return;
         };
         let mut current_a = None;
@@ -634,43 +598,21 @@ impl<C: Circuit> Searcher<C> {
                 return;
             }
             match analyse(c, &self.checks) {
-                Ok(a) if a.quiescent_current_a <= budget * (1.0 + 1e-12) => {
-                    current_a = Some(a.quiescent_current_a)
-                }
+                Ok(a) if a.quiescent_current_a <= budget * (1.0 + 1e-12) => current_a = Some(a.quiescent_current_a),
                 _ => return,
             }
         }
         let resistors_ohm = self.slots.iter().map(|&s| self.values[s]).collect();
-        self.insert(
-            twin,
-            Entry {
-                f,
-                closeness,
-                resistors_ohm,
-                thresholds: t,
-                current_a,
-            },
-        );
+        self.insert(twin, Entry { f, closeness, resistors_ohm, thresholds: t, current_a });
     }
 
     /// The list rules before the current budget: `None` when a newcomer (objective `f`, tie-break
     /// `closeness`, thresholds `t`) cannot enter — the list is full of better ones, `same` finds it
     /// listed already (a restarted pass, or a part's list offered twice), or a listed twin is
     /// better —; else the index of the twin it replaces, if any.
-    fn place_for(
-        &self,
-        f: f64,
-        closeness: f64,
-        t: &Thresholds,
-        same: impl Fn(&Entry) -> bool,
-    ) -> Option<Option<usize>> {
+    fn place_for(&self, f: f64, closeness: f64, t: &Thresholds, same: impl Fn(&Entry) -> bool) -> Option<Option<usize>> {
         let full = self.top.len() >= self.top_n;
-        if full
-            && !self
-                .top
-                .last()
-                .is_some_and(|last| better(f, closeness, last))
-        {
+        if full && !self.top.last().is_some_and(|last| better(f, closeness, last)) {
             return None;
         }
         if self.top.iter().any(same) {
@@ -678,9 +620,7 @@ impl<C: Circuit> Searcher<C> {
         }
         // The same alternative as a listed one: only the better of the two stays.
         let twin = if self.distinct {
-            self.top
-                .iter()
-                .position(|e| same_alternative(&self.obj, &e.thresholds, t))
+            self.top.iter().position(|e| same_alternative(&self.obj, &e.thresholds, t))
         } else {
             None
         };
@@ -695,11 +635,7 @@ impl<C: Circuit> Searcher<C> {
         if let Some(j) = twin {
             self.top.remove(j);
         }
-        let pos = self
-            .top
-            .iter()
-            .position(|x| better(e.f, e.closeness, x))
-            .unwrap_or(self.top.len());
+        let pos = self.top.iter().position(|x| better(e.f, e.closeness, x)).unwrap_or(self.top.len());
         self.top.insert(pos, e);
         self.top.truncate(self.top_n);
     }
@@ -710,9 +646,7 @@ impl<C: Circuit> Searcher<C> {
         if e.f > self.entry_bar() {
             return;
         }
-        let Some(twin) = self.place_for(e.f, e.closeness, &e.thresholds, |x| {
-            x.resistors_ohm == e.resistors_ohm
-        }) else {
+        let Some(twin) = self.place_for(e.f, e.closeness, &e.thresholds, |x| x.resistors_ohm == e.resistors_ohm) else {
             return;
         };
         self.insert(twin, e);
@@ -726,12 +660,9 @@ impl<C: Circuit> Searcher<C> {
             Sense::Inverting => (OutputState::High, OutputState::Low),
             Sense::NonInverting => (OutputState::Low, OutputState::High),
         };
-        [(t.vt_upper_v, low_state), (t.vt_lower_v, high_state)]
-            .iter()
-            .any(|&(vin, state)| {
-                c.operating_point(vin, state)
-                    .is_ok_and(|op| op.network_current_a.abs() > budget * (1.0 + 1e-12))
-            })
+        [(t.vt_upper_v, low_state), (t.vt_lower_v, high_state)].iter().any(|&(vin, state)| {
+            c.operating_point(vin, state).is_ok_and(|op| op.network_current_a.abs() > budget * (1.0 + 1e-12))
+        })
     }
 
     /// Evaluates the circuit at the current `values` and offers it; `None` when it does not switch
@@ -753,8 +684,7 @@ impl<C: Circuit> Searcher<C> {
     /// is held to (1e-9 of the thresholds, for rounding).
     fn load_bound(&self, t: &Thresholds) -> (f64, f64) {
         let (eu, el) = self.obj.errors(t.vt_upper_v, t.vt_lower_v);
-        let slack =
-            1e-9 * (t.vt_upper_v.abs() / self.obj.su).max(t.vt_lower_v.abs() / self.obj.sl) + 1e-15;
+        let slack = 1e-9 * (t.vt_upper_v.abs() / self.obj.su).max(t.vt_lower_v.abs() / self.obj.sl) + 1e-15;
         (el.abs().max((-eu).max(0.0)), slack)
     }
 
@@ -810,9 +740,7 @@ impl<C: Circuit> Searcher<C> {
         let mut prev: Option<f64> = None;
         let mut at_start = None;
         for i in start..m {
-            let Some(b) = self.monotone_point(i) else {
-                continue;
-            };
+            let Some(b) = self.monotone_point(i) else { continue };
             note(b, i, &mut best);
             if i == start {
                 at_start = Some(b);
@@ -825,9 +753,7 @@ impl<C: Circuit> Searcher<C> {
         }
         let mut prev = at_start;
         for i in (0..start).rev() {
-            let Some(b) = self.monotone_point(i) else {
-                continue;
-            };
+            let Some(b) = self.monotone_point(i) else { continue };
             note(b, i, &mut best);
             let slack = 1e-9 * b.abs() + 1e-15;
             if b > self.entry_bar() + slack && prev.is_some_and(|p| b > p + slack) {
@@ -896,28 +822,17 @@ impl<C: Circuit> Searcher<C> {
             // the model is held to, no value of this combination can enter: skip the walk.
             let model_f = |i: usize| {
                 let x = self.grid[i];
-                self.obj.worst(&Thresholds {
-                    vt_upper_v: mu.eval(x),
-                    vt_lower_v: ml.eval(x),
-                })
+                self.obj.worst(&Thresholds { vt_upper_v: mu.eval(x), vt_lower_v: ml.eval(x) })
             };
-            let best = if s > 0 { model_f(s - 1) } else { f64::INFINITY }.min(if s < m {
-                model_f(s)
-            } else {
-                f64::INFINITY
-            });
+            let best =
+                if s > 0 { model_f(s - 1) } else { f64::INFINITY }.min(if s < m { model_f(s) } else { f64::INFINITY });
             let margin = (tol_u / self.obj.su).max(tol_l / self.obj.sl);
             if best - margin > self.entry_bar() {
                 return;
             }
         }
 
-        let models = Models {
-            mu,
-            ml,
-            tol_u,
-            tol_l,
-        };
+        let models = Models { mu, ml, tol_u, tol_l };
         // Walk outward from the two values around x*: rightward over s, s+1, … (the value inside
         // s is s − 1) and leftward over s − 1, s − 2, … (the value inside s − 1 is s).
         let mut inner_of_s = None;
@@ -930,9 +845,7 @@ impl<C: Circuit> Searcher<C> {
         let mut inner_of_left = None;
         let mut prev = inner_of_s;
         for i in s..m {
-            let Some(f) = self.checked(i, &models) else {
-                return self.exhaustive();
-            };
+            let Some(f) = self.checked(i, &models) else { return self.exhaustive() };
             if i == s {
                 inner_of_left = Some(f);
             }
@@ -944,9 +857,7 @@ impl<C: Circuit> Searcher<C> {
         let mut prev = inner_of_left;
         for i in (0..s).rev() {
             // s − 1 is cached from above; the stop rule is the same mirrored.
-            let Some(f) = self.checked(i, &models) else {
-                return self.exhaustive();
-            };
+            let Some(f) = self.checked(i, &models) else { return self.exhaustive() };
             if f > self.entry_bar() && prev.is_some_and(|p| f >= p) {
                 break;
             }
@@ -962,9 +873,7 @@ impl<C: Circuit> Searcher<C> {
     /// safety net (walk checks, restart) covers these models as well.
     fn fit_probe_models(&mut self) {
         self.probe_models = None;
-        let (Some(inner), m) = (self.inner, self.grid.len()) else {
-            return;
-        };
+        let (Some(inner), m) = (self.inner, self.grid.len()) else { return };
         if m < 4 {
             return;
         }
@@ -978,10 +887,7 @@ impl<C: Circuit> Searcher<C> {
             for (k, &x) in xs.iter().enumerate() {
                 self.values[inner] = x;
                 self.evaluations += 1;
-                let t = self
-                    .template
-                    .with_parameters(&self.values)
-                    .and_then(|c| c.thresholds());
+                let t = self.template.with_parameters(&self.values).and_then(|c| c.thresholds());
                 match t {
                     Ok(t) if t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite() => {
                         yu[k] = t.vt_upper_v;
@@ -1013,8 +919,8 @@ impl<C: Circuit> Searcher<C> {
         match self.eval(i) {
             Eval::Fresh(t, f) => {
                 let x = self.grid[i];
-                let ok = (t.vt_upper_v - m.mu.eval(x)).abs() <= m.tol_u
-                    && (t.vt_lower_v - m.ml.eval(x)).abs() <= m.tol_l;
+                let ok =
+                    (t.vt_upper_v - m.mu.eval(x)).abs() <= m.tol_u && (t.vt_lower_v - m.ml.eval(x)).abs() <= m.tol_l;
                 if !ok {
                     self.model_failed = true;
                 }
@@ -1141,16 +1047,8 @@ impl<C: Circuit> SearchJob<C> {
         checks: &CheckSettings,
     ) -> Result<Self, DesignError> {
         settings.validate()?;
-        crate::limits::check(
-            crate::limits::Quantity::Voltage,
-            "targets.vt_upper_v",
-            targets.vt_upper_v,
-        )?;
-        crate::limits::check(
-            crate::limits::Quantity::Voltage,
-            "targets.vt_lower_v",
-            targets.vt_lower_v,
-        )?;
+        crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_upper_v", targets.vt_upper_v)?;
+        crate::limits::check(crate::limits::Quantity::Voltage, "targets.vt_lower_v", targets.vt_lower_v)?;
         if targets.vt_upper_v <= targets.vt_lower_v {
             return Err(DesignError::infeasible(
                 format!(
@@ -1167,39 +1065,24 @@ impl<C: Circuit> SearchJob<C> {
             ));
         }
         if settings.top_n == 0 || settings.top_n > MAX_TOP_N {
-            return Err(DesignError::invalid(
-                "search.top_n",
-                format!("must be between 1 and {MAX_TOP_N}"),
-            ));
+            return Err(DesignError::invalid("search.top_n", format!("must be between 1 and {MAX_TOP_N}")));
         }
         circuit.validate()?;
         let params = circuit.parameters();
-        let slots: Vec<usize> = params
-            .iter()
-            .enumerate()
-            .filter(|(_, p)| p.kind == ParameterKind::Resistor && !p.held_in_search)
-            .map(|(i, _)| i)
-            .collect();
+        let slots: Vec<usize> =
+            params.iter().enumerate().filter(|(_, p)| p.kind == ParameterKind::Resistor && !p.held_in_search).map(|(i, _)| i).collect();
         let Some(&last) = slots.last() else {
             return Err(DesignError::Parameter {
                 reason: "this circuit has no resistors for the search to choose".into(),
             });
         };
-        let is_resistor = |i: usize| {
-            params
-                .get(i)
-                .is_some_and(|p| p.kind == ParameterKind::Resistor && !p.held_in_search)
-        };
+        let is_resistor = |i: usize| params.get(i).is_some_and(|p| p.kind == ParameterKind::Resistor && !p.held_in_search);
         let plan = circuit
             .monotone_structure()
-            .filter(|p| {
-                p.monotone != p.output_load && is_resistor(p.monotone) && is_resistor(p.output_load)
-            })
+            .filter(|p| p.monotone != p.output_load && is_resistor(p.monotone) && is_resistor(p.output_load))
             .map(|p| (p.monotone, p.output_load));
         let solved = plan.map_or(last, |(monotone, _)| monotone);
-        let grid = settings
-            .series
-            .values_between(settings.r_min_ohm, settings.r_max_ohm);
+        let grid = settings.series.values_between(settings.r_min_ohm, settings.r_max_ohm);
         if grid.is_empty() {
             return Err(DesignError::invalid(
                 "search.r_max_ohm",
@@ -1211,17 +1094,12 @@ impl<C: Circuit> SearchJob<C> {
         }
         let m = grid.len();
         let others: Vec<usize> = match plan {
-            Some((monotone, load)) => slots
-                .iter()
-                .copied()
-                .filter(|&i| i != monotone && i != load)
-                .collect(),
+            Some((monotone, load)) => slots.iter().copied().filter(|&i| i != monotone && i != load).collect(),
             None => slots[..slots.len() - 1].to_vec(),
         };
         let enumerated = others.len();
-        let combinations = (0..enumerated).try_fold(1u64, |acc, _| {
-            acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS)
-        });
+        let combinations = (0..enumerated)
+            .try_fold(1u64, |acc, _| acc.checked_mul(m as u64).filter(|&c| c <= MAX_COMBINATIONS));
         let Some(combinations) = combinations else {
             return Err(DesignError::infeasible(
                 format!(
@@ -1234,29 +1112,16 @@ impl<C: Circuit> SearchJob<C> {
                 "narrow the resistance range or choose a coarser series",
             ));
         };
-        let runs = if enumerated > 0 {
-            combinations / m as u64
-        } else {
-            0
-        };
+        let runs = if enumerated > 0 { combinations / m as u64 } else { 0 };
         let max_evaluations = match plan {
             // Every value of the monotone resistor and of the output load, once each.
             Some(_) => combinations.saturating_mul(m as u64 * m as u64),
             None => 2 * combinations * m as u64 + 9 * runs,
         };
-        let workload = Workload {
-            resistors: slots.len(),
-            values_per_resistor: m,
-            combinations,
-            max_evaluations,
-        };
+        let workload = Workload { resistors: slots.len(), values_per_resistor: m, combinations, max_evaluations };
         let values: Vec<f64> = params.iter().map(|p| p.value).collect();
         let ln_start = slots.iter().map(|&s| values[s].ln()).collect();
-        let inner = if enumerated > 0 && plan.is_none() {
-            Some(slots[0])
-        } else {
-            None
-        };
+        let inner = if enumerated > 0 && plan.is_none() { Some(slots[0]) } else { None };
         let st = Searcher {
             template: circuit.clone(),
             checks: checks.clone(),
@@ -1338,15 +1203,9 @@ impl<C: Circuit> SearchJob<C> {
         let n = self.workload.combinations;
         let m = self.st.grid.len() as u64;
         let runs = n / m.max(1);
-        let (unit, count) = if runs >= parts as u64 && n.is_multiple_of(m.max(1)) {
-            (m, runs)
-        } else {
-            (1, n)
-        };
+        let (unit, count) = if runs >= parts as u64 && n.is_multiple_of(m.max(1)) { (m, runs) } else { (1, n) };
         let k = (parts.max(1) as u64).min(count.max(1));
-        (0..k)
-            .map(|i| (count * i / k * unit, count * (i + 1) / k * unit))
-            .collect()
+        (0..k).map(|i| (count * i / k * unit, count * (i + 1) / k * unit)).collect()
     }
 
     /// Puts the reports of the parts of this (whole, unstepped) search back together, in
@@ -1357,10 +1216,7 @@ impl<C: Circuit> SearchJob<C> {
         let solved_id = self.params[self.st.solved].id.clone();
         let (mut evaluations, mut exhaustive) = (0u64, 0u64);
         for part in parts {
-            if part.solved_id != solved_id
-                || part.values_per_resistor != self.st.grid.len()
-                || part.series != self.settings.series
-            {
+            if part.solved_id != solved_id || part.values_per_resistor != self.st.grid.len() || part.series != self.settings.series {
                 return Err(DesignError::Parameter {
                     reason: "a search part comes from another search: merge the parts of one split search".into(),
                 });
@@ -1378,10 +1234,7 @@ impl<C: Circuit> SearchJob<C> {
                     f: c.worst_error_rel,
                     closeness,
                     resistors_ohm: c.parts.iter().map(|p| p.value_ohm).collect(),
-                    thresholds: Thresholds {
-                        vt_upper_v: c.vt_upper_v,
-                        vt_lower_v: c.vt_lower_v,
-                    },
+                    thresholds: Thresholds { vt_upper_v: c.vt_upper_v, vt_lower_v: c.vt_lower_v },
                     current_a: c.quiescent_current_a,
                 });
             }
@@ -1429,20 +1282,14 @@ impl<C: Circuit> SearchJob<C> {
         } else {
             let rate = spent_in_pass as f64 / self.done_in_pass as f64;
             let rest = (rate * remaining as f64).ceil();
-            self.st.evaluations.saturating_add(if rest.is_finite() {
-                rest as u64
-            } else {
-                u64::MAX
-            })
+            self.st.evaluations.saturating_add(if rest.is_finite() { rest as u64 } else { u64::MAX })
         };
         Progress {
             combinations_done: self.done_in_pass,
             combinations,
             evaluations: self.st.evaluations,
             unpruned_pass: !self.st.prune,
-            estimated_evaluations: estimated
-                .min(self.workload.max_evaluations)
-                .max(self.st.evaluations),
+            estimated_evaluations: estimated.min(self.workload.max_evaluations).max(self.st.evaluations),
             finished: self.finished,
         }
     }
@@ -1450,13 +1297,7 @@ impl<C: Circuit> SearchJob<C> {
     /// The best combinations found: the search's answer once [`Progress::finished`]; before that,
     /// the best of the combinations seen so far.
     pub fn finish(&self) -> SearchReport {
-        report(
-            &self.st,
-            &self.params,
-            self.targets,
-            &self.settings,
-            self.workload.combinations,
-        )
+        report(&self.st, &self.params, self.targets, &self.settings, self.workload.combinations)
     }
 
     /// One combination of the enumerated resistors: its best solved values offered to the list,
@@ -1545,16 +1386,9 @@ const RUN_SLICE: u64 = 10_000;
 /// loop behind [`search`] and the command line (`evaluate`), so they give the page's answer or, when
 /// the budget is spent first, an error that says so (how far it came, and what to change). The page
 /// steps the same job to the end without a budget, with progress and Cancel.
-pub fn run_job<C: Circuit>(
-    job: &mut SearchJob<C>,
-    max_evaluations: u64,
-) -> Result<SearchReport, DesignError> {
+pub fn run_job<C: Circuit>(job: &mut SearchJob<C>, max_evaluations: u64) -> Result<SearchReport, DesignError> {
     loop {
-        let p = job.step(
-            RUN_SLICE
-                .min(max_evaluations.saturating_sub(job.progress().evaluations))
-                .max(1),
-        );
+        let p = job.step(RUN_SLICE.min(max_evaluations.saturating_sub(job.progress().evaluations)).max(1));
         if p.finished {
             return Ok(job.finish());
         }
@@ -1604,9 +1438,7 @@ fn report<C: Circuit>(
                     .ok()
                     .map(|a| a.quiescent_current_a)
             });
-            let (eu, el) = st
-                .obj
-                .errors(e.thresholds.vt_upper_v, e.thresholds.vt_lower_v);
+            let (eu, el) = st.obj.errors(e.thresholds.vt_upper_v, e.thresholds.vt_lower_v);
             Candidate {
                 parts,
                 vt_upper_v: e.thresholds.vt_upper_v,
@@ -1637,13 +1469,9 @@ pub fn apply<C: Circuit>(circuit: &C, candidate: &Candidate) -> Result<C, Design
     let params = circuit.parameters();
     let mut values: Vec<f64> = params.iter().map(|p| p.value).collect();
     for part in &candidate.parts {
-        let i =
-            params
-                .iter()
-                .position(|p| p.id == part.id)
-                .ok_or_else(|| DesignError::Parameter {
-                    reason: format!("this circuit has no parameter \"{}\" to set", part.id),
-                })?;
+        let i = params.iter().position(|p| p.id == part.id).ok_or_else(|| DesignError::Parameter {
+            reason: format!("this circuit has no parameter \"{}\" to set", part.id),
+        })?;
         values[i] = part.value_ohm;
     }
     circuit.with_parameters(&values)
@@ -1672,11 +1500,7 @@ mod tests {
                     assert_eq!(got, change, "m {m}, change at {change}, hint {hint}");
                     // Galloping costs at most about 2·log2(distance + 1) + 3 calls.
                     let d = change.abs_diff(hint.min(m)) as f64;
-                    assert!(
-                        calls.get() as f64 <= 2.0 * (d + 1.0).log2() + 3.0,
-                        "m {m}, change {change}, hint {hint}: {} calls",
-                        calls.get()
-                    );
+                    assert!(calls.get() as f64 <= 2.0 * (d + 1.0).log2() + 3.0, "m {m}, change {change}, hint {hint}: {} calls", calls.get());
                 }
             }
         }
@@ -1699,22 +1523,10 @@ mod tests {
     #[test]
     fn finds_an_exact_combination_when_one_exists() {
         // 10k/10k/20k gives exactly 3 V / 2 V (DOMAIN §1a rail-to-rail form), all E24 values.
-        let s = SearchSettings {
-            top_n: 3,
-            r_min_ohm: 1e3,
-            r_max_ohm: 100e3,
-            ..SearchSettings::default()
-        };
-        let r = search(
-            &three_resistor(),
-            Thresholds {
-                vt_upper_v: 3.0,
-                vt_lower_v: 2.0,
-            },
-            &s,
-            &CheckSettings::default(),
-        )
-        .unwrap();
+        let s = SearchSettings { top_n: 3, r_min_ohm: 1e3, r_max_ohm: 100e3, ..SearchSettings::default() };
+        let r =
+            search(&three_resistor(), Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 }, &s, &CheckSettings::default())
+                .unwrap();
         let best = &r.candidates[0];
         assert!(best.worst_error_rel < 1e-12, "{best:?}");
         // The tie-break prefers the starting design's own impedance level.
@@ -1728,20 +1540,10 @@ mod tests {
     #[test]
     fn current_budget_is_respected() {
         let budget = 30e-6;
-        let s = SearchSettings {
-            current_budget_a: Some(budget),
-            ..SearchSettings::default()
-        };
-        let r = search(
-            &three_resistor(),
-            Thresholds {
-                vt_upper_v: 2.9,
-                vt_lower_v: 1.7,
-            },
-            &s,
-            &CheckSettings::default(),
-        )
-        .unwrap();
+        let s = SearchSettings { current_budget_a: Some(budget), ..SearchSettings::default() };
+        let r =
+            search(&three_resistor(), Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 }, &s, &CheckSettings::default())
+                .unwrap();
         assert_eq!(r.candidates.len(), 10);
         for c in &r.candidates {
             assert!(c.quiescent_current_a.unwrap() <= budget * (1.0 + 1e-12));
@@ -1751,54 +1553,27 @@ mod tests {
     #[test]
     fn settings_are_checked() {
         let c = three_resistor();
-        let t = Thresholds {
-            vt_upper_v: 3.0,
-            vt_lower_v: 2.0,
-        };
+        let t = Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 };
         let ck = CheckSettings::default();
         let bad = |s: SearchSettings| search(&c, t, &s, &ck).unwrap_err();
         assert!(matches!(
-            bad(SearchSettings {
-                r_min_ohm: 0.0,
-                ..Default::default()
-            }),
+            bad(SearchSettings { r_min_ohm: 0.0, ..Default::default() }),
             DesignError::InvalidValue { .. }
         ));
         assert!(matches!(
-            bad(SearchSettings {
-                r_max_ohm: 10.0,
-                ..Default::default()
-            }),
+            bad(SearchSettings { r_max_ohm: 10.0, ..Default::default() }),
+            DesignError::InvalidValue { .. }
+        ));
+        assert!(matches!(bad(SearchSettings { top_n: 0, ..Default::default() }), DesignError::InvalidValue { .. }));
+        assert!(matches!(
+            bad(SearchSettings { r_min_ohm: 1.01e3, r_max_ohm: 1.05e3, ..Default::default() }),
             DesignError::InvalidValue { .. }
         ));
         assert!(matches!(
-            bad(SearchSettings {
-                top_n: 0,
-                ..Default::default()
-            }),
-            DesignError::InvalidValue { .. }
-        ));
-        assert!(matches!(
-            bad(SearchSettings {
-                r_min_ohm: 1.01e3,
-                r_max_ohm: 1.05e3,
-                ..Default::default()
-            }),
-            DesignError::InvalidValue { .. }
-        ));
-        assert!(matches!(
-            bad(SearchSettings {
-                series: ESeries::E192,
-                r_min_ohm: 1.0,
-                r_max_ohm: 1e9,
-                ..Default::default()
-            }),
+            bad(SearchSettings { series: ESeries::E192, r_min_ohm: 1.0, r_max_ohm: 1e9, ..Default::default() }),
             DesignError::Infeasible { .. }
         ));
-        let nan = Thresholds {
-            vt_upper_v: f64::NAN,
-            vt_lower_v: 2.0,
-        };
+        let nan = Thresholds { vt_upper_v: f64::NAN, vt_lower_v: 2.0 };
         assert!(search(&c, nan, &SearchSettings::default(), &ck).is_err());
     }
 
@@ -1807,10 +1582,7 @@ mod tests {
         let s = SearchSettings::default();
         let ck = CheckSettings::default();
         for (u, l) in [(1.7, 2.9), (2.0, 2.0)] {
-            let t = Thresholds {
-                vt_upper_v: u,
-                vt_lower_v: l,
-            };
+            let t = Thresholds { vt_upper_v: u, vt_lower_v: l };
             let e = search(&three_resistor(), t, &s, &ck).unwrap_err();
             assert!(matches!(e, DesignError::Infeasible { .. }), "{e:?}");
             assert!(e.to_string().contains("must be above"), "{e}");
@@ -1821,59 +1593,26 @@ mod tests {
     /// The non-inverting Schmitt with a reference divider and an ideal device: its thresholds depend
     /// on R1/R2 and Ra/Rb only through ratios, so every ratio has many scaled twins in E24.
     fn divider_reference() -> crate::topology::noninverting::NonInvertingSchmitt {
-        crate::topology::noninverting::NonInvertingSchmitt::with_divider(
-            10e3,
-            47e3,
-            10e3,
-            10e3,
-            Comparator::ideal(5.0),
-        )
+        crate::topology::noninverting::NonInvertingSchmitt::with_divider(10e3, 47e3, 10e3, 10e3, Comparator::ideal(5.0))
     }
 
     #[test]
     fn alternatives_are_distinct_not_scaled_copies() {
-        let t = Thresholds {
-            vt_upper_v: 2.9,
-            vt_lower_v: 2.1,
-        };
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 2.1 };
         let ck = CheckSettings::default();
-        let base = SearchSettings {
-            r_min_ohm: 1e3,
-            r_max_ohm: 100e3,
-            top_n: 10,
-            ..SearchSettings::default()
-        };
-        let copies = search(
-            &divider_reference(),
-            t,
-            &SearchSettings {
-                distinct: false,
-                ..base.clone()
-            },
-            &ck,
-        )
-        .unwrap();
+        let base = SearchSettings { r_min_ohm: 1e3, r_max_ohm: 100e3, top_n: 10, ..SearchSettings::default() };
+        let copies = search(&divider_reference(), t, &SearchSettings { distinct: false, ..base.clone() }, &ck).unwrap();
         let distinct = search(&divider_reference(), t, &base, &ck).unwrap();
         let obj = Objective::new(t);
         let same = |a: &Candidate, b: &Candidate| {
             same_alternative(
                 &obj,
-                &Thresholds {
-                    vt_upper_v: a.vt_upper_v,
-                    vt_lower_v: a.vt_lower_v,
-                },
-                &Thresholds {
-                    vt_upper_v: b.vt_upper_v,
-                    vt_lower_v: b.vt_lower_v,
-                },
+                &Thresholds { vt_upper_v: a.vt_upper_v, vt_lower_v: a.vt_lower_v },
+                &Thresholds { vt_upper_v: b.vt_upper_v, vt_lower_v: b.vt_lower_v },
             )
         };
         // Without the rule the list is crowded by twins of its best entry (the complaint) …
-        let twins_of_best = copies
-            .candidates
-            .iter()
-            .filter(|c| same(c, &copies.candidates[0]))
-            .count();
+        let twins_of_best = copies.candidates.iter().filter(|c| same(c, &copies.candidates[0])).count();
         assert!(twins_of_best >= 2, "{copies:#?}");
         // … with it, every pair of listed alternatives differs in VT+ or VT− by more than 10 ppm.
         assert_eq!(distinct.candidates.len(), 10);
@@ -1883,35 +1622,19 @@ mod tests {
             }
         }
         // The best entry is still the best there is, and the list stays ordered.
-        assert_eq!(
-            distinct.candidates[0].worst_error_rel,
-            copies.candidates[0].worst_error_rel
-        );
-        assert!(distinct
-            .candidates
-            .windows(2)
-            .all(|w| w[0].worst_error_rel <= w[1].worst_error_rel + 1e-15));
+        assert_eq!(distinct.candidates[0].worst_error_rel, copies.candidates[0].worst_error_rel);
+        assert!(distinct.candidates.windows(2).all(|w| w[0].worst_error_rel <= w[1].worst_error_rel + 1e-15));
     }
 
     #[test]
     fn a_job_in_slices_ends_as_one_search_does() {
-        let t = Thresholds {
-            vt_upper_v: 2.9,
-            vt_lower_v: 1.7,
-        };
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 };
         let ck = CheckSettings::default();
-        let s = SearchSettings {
-            series: ESeries::E12,
-            current_budget_a: Some(100e-6),
-            ..SearchSettings::default()
-        };
+        let s = SearchSettings { series: ESeries::E12, current_budget_a: Some(100e-6), ..SearchSettings::default() };
         let whole = search(&three_resistor(), t, &s, &ck).unwrap();
         let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
         let w = job.workload();
-        assert_eq!(
-            (w.resistors, w.values_per_resistor, w.combinations),
-            (3, 37, 37 * 37)
-        );
+        assert_eq!((w.resistors, w.values_per_resistor, w.combinations), (3, 37, 37 * 37));
         assert_eq!(w.max_evaluations, 2 * 37 * 37 * 37 + 9 * 37);
         let mut slices = 0;
         let mut last = job.progress();
@@ -1919,10 +1642,7 @@ mod tests {
         while !last.finished {
             let p = job.step(7);
             assert!(p.evaluations >= last.evaluations && p.evaluations <= w.max_evaluations);
-            assert!(
-                p.estimated_evaluations >= p.evaluations
-                    && p.estimated_evaluations <= w.max_evaluations
-            );
+            assert!(p.estimated_evaluations >= p.evaluations && p.estimated_evaluations <= w.max_evaluations);
             assert!((0.0..=1.0).contains(&p.fraction()));
             last = p;
             slices += 1;
@@ -1935,15 +1655,9 @@ mod tests {
 
     #[test]
     fn a_spent_budget_gives_an_error_that_says_so() {
-        let t = Thresholds {
-            vt_upper_v: 2.9,
-            vt_lower_v: 1.7,
-        };
+        let t = Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 };
         let ck = CheckSettings::default();
-        let s = SearchSettings {
-            series: ESeries::E96,
-            ..SearchSettings::default()
-        };
+        let s = SearchSettings { series: ESeries::E96, ..SearchSettings::default() };
         let mut job = SearchJob::new(&three_resistor(), t, &s, &ck).unwrap();
         let e = run_job(&mut job, 50).unwrap_err();
         assert!(matches!(e, DesignError::NotConverged { .. }), "{e:?}");
@@ -1968,14 +1682,7 @@ mod tests {
         // 100 evaluations in 0.5 s: 300 more take 1.5 s.
         assert!((p.remaining_s(0.5).unwrap() - 1.5).abs() < 1e-12);
         assert_eq!(p.fraction(), 0.25);
-        assert_eq!(
-            Progress {
-                evaluations: 0,
-                ..p
-            }
-            .remaining_s(0.5),
-            None
-        );
+        assert_eq!(Progress { evaluations: 0, ..p }.remaining_s(0.5), None);
         assert_eq!(p.remaining_s(f64::NAN), None);
     }
 
@@ -1983,8 +1690,7 @@ mod tests {
     fn settings_default_from_empty_json() {
         let s: SearchSettings = serde_json::from_str("{}").unwrap();
         assert_eq!(s, SearchSettings::default());
-        let s: SearchSettings =
-            serde_json::from_str(r#"{"series":"e96","current_budget_a":1e-4}"#).unwrap();
+        let s: SearchSettings = serde_json::from_str(r#"{"series":"e96","current_budget_a":1e-4}"#).unwrap();
         assert_eq!((s.series, s.current_budget_a), (ESeries::E96, Some(1e-4)));
     }
 }

@@ -150,10 +150,7 @@ fn pack(bytes: &[u8]) -> String {
     let mut packed = Vec::with_capacity(HEADER_BYTES + bytes.len() / 2);
     packed.extend_from_slice(&(bytes.len() as u32).to_be_bytes());
     packed.extend_from_slice(&crc32fast::hash(bytes).to_be_bytes());
-    packed.extend_from_slice(&miniz_oxide::deflate::compress_to_vec(
-        bytes,
-        COMPRESSION_LEVEL,
-    ));
+    packed.extend_from_slice(&miniz_oxide::deflate::compress_to_vec(bytes, COMPRESSION_LEVEL));
     let mut out = String::with_capacity(LINK_PREFIX.len() + packed.len() * 4 / 3 + 4);
     out.push_str(LINK_PREFIX);
     BASE64URL.encode_string(&packed, &mut out);
@@ -179,9 +176,7 @@ const BASE64URL: GeneralPurpose = GeneralPurpose::new(
 pub fn decode_link(text: &str) -> Result<DesignRecord, LinkError> {
     let json = unpack(text)?;
     let value: serde_json::Value =
-        serde_json::from_slice(&json).map_err(|e| RecordError::Malformed {
-            message: e.to_string(),
-        })?;
+        serde_json::from_slice(&json).map_err(|e| RecordError::Malformed { message: e.to_string() })?;
     Ok(DesignRecord::from_value(value)?)
 }
 
@@ -193,17 +188,11 @@ fn unpack(text: &str) -> Result<Vec<u8>, LinkError> {
         None => text,
     };
     if fragment.len() > MAX_LINK_CHARS {
-        return Err(LinkError::TooLarge {
-            size: fragment.len(),
-            limit: MAX_LINK_CHARS,
-        });
+        return Err(LinkError::TooLarge { size: fragment.len(), limit: MAX_LINK_CHARS });
     }
     let (version, payload) = split_version(fragment)?;
     if version > LINK_VERSION {
-        return Err(LinkError::FutureVersion {
-            found: version,
-            supported: LINK_VERSION,
-        });
+        return Err(LinkError::FutureVersion { found: version, supported: LINK_VERSION });
     }
     // Version 1 is the only one so far; an older version would be unpacked here to the same JSON.
     let packed = BASE64URL.decode(payload).map_err(|e| LinkError::Corrupt {
@@ -211,38 +200,25 @@ fn unpack(text: &str) -> Result<Vec<u8>, LinkError> {
             base64::DecodeError::InvalidByte(..) | base64::DecodeError::InvalidPadding => {
                 "the link contains a character that does not belong to it".into()
             }
-            base64::DecodeError::InvalidLength(_) => {
-                "the link's length is impossible for its encoding".into()
-            }
-            base64::DecodeError::InvalidLastSymbol(..) => {
-                "the link's last character is not a valid ending".into()
-            }
+            base64::DecodeError::InvalidLength(_) => "the link's length is impossible for its encoding".into(),
+            base64::DecodeError::InvalidLastSymbol(..) => "the link's last character is not a valid ending".into(),
         },
     })?;
     if packed.len() < HEADER_BYTES {
-        return Err(LinkError::Corrupt {
-            reason: "the link is too short to hold a design".into(),
-        });
+        return Err(LinkError::Corrupt { reason: "the link is too short to hold a design".into() });
     }
     let declared = u32::from_be_bytes([packed[0], packed[1], packed[2], packed[3]]) as usize;
     let expected_crc = u32::from_be_bytes([packed[4], packed[5], packed[6], packed[7]]);
     if declared > MAX_RECORD_BYTES {
-        return Err(LinkError::TooLarge {
-            size: declared,
-            limit: MAX_RECORD_BYTES,
-        });
+        return Err(LinkError::TooLarge { size: declared, limit: MAX_RECORD_BYTES });
     }
     let data = &packed[HEADER_BYTES..];
     let json = inflate_exact(data, declared).map_err(|reason| LinkError::Corrupt { reason })?;
     if crc32fast::hash(&json) != expected_crc {
-        return Err(LinkError::Corrupt {
-            reason: "checksum mismatch".into(),
-        });
+        return Err(LinkError::Corrupt { reason: "checksum mismatch".into() });
     }
     if padding_bits_set(data, declared, &json) {
-        return Err(LinkError::Corrupt {
-            reason: "the link carries bits after the end of its data".into(),
-        });
+        return Err(LinkError::Corrupt { reason: "the link carries bits after the end of its data".into() });
     }
     Ok(json)
 }
@@ -257,33 +233,21 @@ fn inflate_exact(data: &[u8], declared: usize) -> Result<Vec<u8>, String> {
     // One spare byte tells "unpacks to more than declared" apart from "exactly declared".
     let mut out = vec![0u8; declared + 1];
     let mut inflater = Box::<DecompressorOxide>::default();
-    let (status, consumed, written) = decompress(
-        &mut inflater,
-        data,
-        &mut out,
-        0,
-        inflate_flags::TINFL_FLAG_USING_NON_WRAPPING_OUTPUT_BUF,
-    );
+    let (status, consumed, written) =
+        decompress(&mut inflater, data, &mut out, 0, inflate_flags::TINFL_FLAG_USING_NON_WRAPPING_OUTPUT_BUF);
     match status {
         TINFLStatus::Done => {}
-        TINFLStatus::HasMoreOutput => {
-            return Err("the data unpacks to more than it declares".into())
-        }
+        TINFLStatus::HasMoreOutput => return Err("the data unpacks to more than it declares".into()),
         TINFLStatus::NeedsMoreInput | TINFLStatus::FailedCannotMakeProgress => {
             return Err("the compressed data ends early".into())
         }
         _ => return Err("the compressed data is invalid".into()),
     }
     if written != declared {
-        return Err(format!(
-            "the data unpacks to {written} bytes, not the {declared} it declares"
-        ));
+        return Err(format!("the data unpacks to {written} bytes, not the {declared} it declares"));
     }
     if consumed != data.len() {
-        return Err(format!(
-            "{} bytes follow the end of the compressed data",
-            data.len() - consumed
-        ));
+        return Err(format!("{} bytes follow the end of the compressed data", data.len() - consumed));
     }
     out.truncate(written);
     Ok(out)
@@ -296,9 +260,7 @@ fn inflate_exact(data: &[u8], declared: usize) -> Result<Vec<u8>, String> {
 /// lower bit is then part of the stream), so this costs at most one extra inflation per set
 /// padding bit plus one.
 fn padding_bits_set(data: &[u8], declared: usize, json: &[u8]) -> bool {
-    let Some(&last) = data.last() else {
-        return false;
-    };
+    let Some(&last) = data.last() else { return false };
     let mut altered = data.to_vec();
     let end = altered.len() - 1;
     for bit in (0..8).rev() {
@@ -380,16 +342,10 @@ mod tests {
         assert_eq!(BASE64URL.encode("foobar"), "Zm9vYmFy");
         assert_eq!(BASE64URL.encode("fooba"), "Zm9vYmE");
         assert_eq!(BASE64URL.encode([0xFB, 0xFF]), "-_8");
-        assert!(
-            BASE64URL.decode("Zh").is_err(),
-            "non-zero tail bits are not canonical"
-        );
+        assert!(BASE64URL.decode("Zh").is_err(), "non-zero tail bits are not canonical");
         assert!(BASE64URL.decode("Z").is_err());
         assert!(BASE64URL.decode("Zm+v").is_err());
-        assert!(
-            BASE64URL.decode("Zm8=").is_err(),
-            "padding is an alteration"
-        );
+        assert!(BASE64URL.decode("Zm8=").is_err(), "padding is an alteration");
     }
 
     #[test]
@@ -404,21 +360,13 @@ mod tests {
             let mut s = String::from(LINK_PREFIX);
             BASE64URL.encode_string(&p, &mut s);
             match decode_link(&s) {
-                Err(LinkError::Corrupt { reason }) => {
-                    assert!(reason.contains("follow the end"), "{reason}")
-                }
+                Err(LinkError::Corrupt { reason }) => assert!(reason.contains("follow the end"), "{reason}"),
                 other => panic!("{} appended bytes: {other:?}", extra.len()),
             }
         }
         // Appended characters and padding are refused as well.
-        assert!(matches!(
-            decode_link(&format!("{link}=")),
-            Err(LinkError::Corrupt { .. })
-        ));
-        assert!(matches!(
-            decode_link(&format!("{link}AAAA")),
-            Err(LinkError::Corrupt { .. })
-        ));
+        assert!(matches!(decode_link(&format!("{link}=")), Err(LinkError::Corrupt { .. })));
+        assert!(matches!(decode_link(&format!("{link}AAAA")), Err(LinkError::Corrupt { .. })));
     }
 
     #[test]
@@ -459,26 +407,13 @@ mod tests {
                     let mut l = String::from(LINK_PREFIX);
                     BASE64URL.encode_string(&p, &mut l);
                     if let Ok(got) = decode_link(&l) {
-                        assert_eq!(
-                            got, record,
-                            "{}: flip at byte {i} bit {bit} opened another design",
-                            s.key
-                        );
-                        assert!(
-                            i >= HEADER_BYTES && i + 1 < packed.len(),
-                            "{}: flip at byte {i} bit {bit}",
-                            s.key
-                        );
+                        assert_eq!(got, record, "{}: flip at byte {i} bit {bit} opened another design", s.key);
+                        assert!(i >= HEADER_BYTES && i + 1 < packed.len(), "{}: flip at byte {i} bit {bit}", s.key);
                         opened += 1;
                     }
                 }
             }
-            assert!(
-                opened * 1000 <= packed.len() * 8,
-                "{}: {opened} of {} flips opened",
-                s.key,
-                packed.len() * 8
-            );
+            assert!(opened * 1000 <= packed.len() * 8, "{}: {opened} of {} flips opened", s.key, packed.len() * 8);
         }
     }
 
@@ -488,14 +423,9 @@ mod tests {
             let r = s.record();
             let link = encode_link(&r);
             assert!(link.starts_with(LINK_PREFIX));
-            assert!(link
-                .bytes()
-                .all(|b| b.is_ascii_alphanumeric() || b == b'-' || b == b'_' || b == b'.'));
+            assert!(link.bytes().all(|b| b.is_ascii_alphanumeric() || b == b'-' || b == b'_' || b == b'.'));
             assert_eq!(decode_link(&link).unwrap(), r, "{}", s.key);
-            assert_eq!(
-                decode_link(&format!("https://example.org/#{link}")).unwrap(),
-                r
-            );
+            assert_eq!(decode_link(&format!("https://example.org/#{link}")).unwrap(), r);
         }
     }
 
@@ -506,23 +436,14 @@ mod tests {
         assert_eq!(decode_link(""), Err(LinkError::NotALink));
         assert!(matches!(
             decode_link(&link.replacen("h1.", "h7.", 1)),
-            Err(LinkError::FutureVersion {
-                found: 7,
-                supported: 1
-            })
+            Err(LinkError::FutureVersion { found: 7, supported: 1 })
         ));
-        assert!(matches!(
-            decode_link(&link[..link.len() - 5]),
-            Err(LinkError::Corrupt { .. })
-        ));
+        assert!(matches!(decode_link(&link[..link.len() - 5]), Err(LinkError::Corrupt { .. })));
         // A flipped character in the middle: checksum or inflate failure.
         let mut bytes = link.clone().into_bytes();
         let i = bytes.len() / 2;
         bytes[i] = if bytes[i] == b'A' { b'B' } else { b'A' };
-        assert!(matches!(
-            decode_link(std::str::from_utf8(&bytes).unwrap()),
-            Err(LinkError::Corrupt { .. })
-        ));
+        assert!(matches!(decode_link(std::str::from_utf8(&bytes).unwrap()), Err(LinkError::Corrupt { .. })));
     }
 
     #[test]
@@ -532,10 +453,7 @@ mod tests {
         let deflated = miniz_oxide::deflate::compress_to_vec(&zeros, 6);
         let crc = crc32fast::hash(&zeros);
         let link = link_of(zeros.len() as u32, crc, &deflated);
-        assert!(matches!(
-            decode_link(&link),
-            Err(LinkError::TooLarge { .. })
-        ));
+        assert!(matches!(decode_link(&link), Err(LinkError::TooLarge { .. })));
         // Declared small but inflating to more: stopped at the declared length.
         let link = link_of(1000, crc, &deflated);
         assert!(matches!(decode_link(&link), Err(LinkError::Corrupt { .. })));
@@ -547,17 +465,7 @@ mod tests {
         v["schema_version"] = 42.into();
         let json = serde_json::to_string(&v).unwrap();
         let deflated = miniz_oxide::deflate::compress_to_vec(json.as_bytes(), 6);
-        let link = link_of(
-            json.len() as u32,
-            crc32fast::hash(json.as_bytes()),
-            &deflated,
-        );
-        assert!(matches!(
-            decode_link(&link),
-            Err(LinkError::Record(RecordError::FutureVersion {
-                found: 42,
-                ..
-            }))
-        ));
+        let link = link_of(json.len() as u32, crc32fast::hash(json.as_bytes()), &deflated);
+        assert!(matches!(decode_link(&link), Err(LinkError::Record(RecordError::FutureVersion { found: 42, .. }))));
     }
 }

@@ -37,11 +37,7 @@ pub const OUTPUT_OFF_OHM: f64 = 1e12;
 /// in lower case with up to twelve significant digits: 100k, 4.7k, 2.5, 1n, -5, 1meg.
 pub fn spice_number(value: f64) -> String {
     if value == 0.0 || !value.is_finite() {
-        return if value.is_finite() {
-            "0".into()
-        } else {
-            format!("{value}")
-        };
+        return if value.is_finite() { "0".into() } else { format!("{value}") };
     }
     const SCALES: [(f64, &str); 9] = [
         (1e12, "t"),
@@ -55,41 +51,25 @@ pub fn spice_number(value: f64) -> String {
         (1e-12, "p"),
     ];
     let a = value.abs();
-    let (scale, suffix) = SCALES
-        .iter()
-        .copied()
-        .find(|(s, _)| a >= *s * (1.0 - 1e-12))
-        .unwrap_or((1e-15, "f"));
+    let (scale, suffix) = SCALES.iter().copied().find(|(s, _)| a >= *s * (1.0 - 1e-12)).unwrap_or((1e-15, "f"));
     let mantissa = value / scale;
     // Twelve significant digits: reads back within 1e-12 relative, and 1e-14/1e-15 prints "10".
     let decimals = (11 - mantissa.abs().log10().floor() as i32).clamp(0, 15) as usize;
     let text = format!("{mantissa:.decimals$}");
-    let text = if text.contains('.') {
-        text.trim_end_matches('0').trim_end_matches('.')
-    } else {
-        &text
-    };
+    let text = if text.contains('.') { text.trim_end_matches('0').trim_end_matches('.') } else { &text };
     format!("{text}{suffix}")
 }
 
 /// Replaces characters that would break a SPICE line (newlines, control characters) with spaces.
 fn one_line(text: &str) -> String {
-    text.chars()
-        .map(|c| if c.is_control() { ' ' } else { c })
-        .collect::<String>()
-        .trim()
-        .to_string()
+    text.chars().map(|c| if c.is_control() { ' ' } else { c }).collect::<String>().trim().to_string()
 }
 
 /// The range a slow test ramp should cover: from below VT− to above VT+ by half the hysteresis
 /// plus 5 % of the larger threshold magnitude (at least 50 mV), volts.
 pub fn ramp_span_v(vt_upper_v: f64, vt_lower_v: f64) -> (f64, f64) {
-    let margin = 0.5 * (vt_upper_v - vt_lower_v).abs()
-        + 0.05 * vt_upper_v.abs().max(vt_lower_v.abs()).max(1.0);
-    (
-        vt_lower_v.min(vt_upper_v) - margin,
-        vt_upper_v.max(vt_lower_v) + margin,
-    )
+    let margin = 0.5 * (vt_upper_v - vt_lower_v).abs() + 0.05 * vt_upper_v.abs().max(vt_lower_v.abs()).max(1.0);
+    (vt_lower_v.min(vt_upper_v) - margin, vt_upper_v.max(vt_lower_v) + margin)
 }
 
 /// Writes the circuit as a SPICE3 deck titled `title`. Fails when the circuit is invalid (a
@@ -123,20 +103,8 @@ pub fn write_deck(
     let n = spice_number;
     let mut o = String::new();
     let title = one_line(title);
-    let _ = writeln!(
-        o,
-        "{}",
-        if title.is_empty() {
-            "Hysteron design".to_string()
-        } else {
-            title
-        }
-    );
-    let _ = writeln!(
-        o,
-        "* Exported by Hysteron: generic SPICE3 syntax; topology {}",
-        net.topology
-    );
+    let _ = writeln!(o, "{}", if title.is_empty() { "Hysteron design".to_string() } else { title });
+    let _ = writeln!(o, "* Exported by Hysteron: generic SPICE3 syntax; topology {}", net.topology);
     let _ = writeln!(
         o,
         "* Expected thresholds: VT+ = {} (rising input), VT- = {} (falling input)",
@@ -184,14 +152,7 @@ pub fn write_deck(
                 short(ramp_lo_v)
             );
         } else {
-            let _ = writeln!(
-                o,
-                "{} {} {} DC {}",
-                s.name,
-                s.node_plus,
-                s.node_minus,
-                n(s.volts)
-            );
+            let _ = writeln!(o, "{} {} {} DC {}", s.name, s.node_plus, s.node_minus, n(s.volts));
         }
     }
     o.push('\n');
@@ -200,45 +161,24 @@ pub fn write_deck(
         match r.role {
             ResistorRole::PartList => {}
             ResistorRole::SourceResistance => {
-                let _ = writeln!(
-                    o,
-                    "* {}: the signal source's own resistance (not a part)",
-                    r.designator
-                );
+                let _ = writeln!(o, "* {}: the signal source's own resistance (not a part)", r.designator);
             }
             ResistorRole::Load => {
                 let _ = writeln!(o, "* {}: external load (not a part)", r.designator);
             }
         }
-        let _ = writeln!(
-            o,
-            "{} {} {} {}",
-            r.designator,
-            r.node_a,
-            r.node_b,
-            n(r.resistance_ohm)
-        );
+        let _ = writeln!(o, "{} {} {} {}", r.designator, r.node_a, r.node_b, n(r.resistance_ohm));
     }
     if !net.current_sources.is_empty() {
         o.push('\n');
         let _ = writeln!(o, "* Input bias currents (positive into the pin)");
         for i in &net.current_sources {
-            let _ = writeln!(
-                o,
-                "{} {} {} DC {}",
-                i.name,
-                i.node_from,
-                i.node_to,
-                n(i.amps)
-            );
+            let _ = writeln!(o, "{} {} {} DC {}", i.name, i.node_from, i.node_to, n(i.amps));
         }
     }
     if !net.regulators.is_empty() {
         o.push('\n');
-        let _ = writeln!(
-            o,
-            "* Reference regulators: the piecewise-linear models Hysteron computes with"
-        );
+        let _ = writeln!(o, "* Reference regulators: the piecewise-linear models Hysteron computes with");
         for r in &net.regulators {
             regulator_lines(&mut o, r);
         }
@@ -278,9 +218,7 @@ fn ohms(v: f64) -> String {
 /// `v` rounded to four significant digits (ramp limits, the signal's DC value, the temperature:
 /// their exact digits carry no meaning).
 fn rounded(v: f64) -> f64 {
-    format!("{v:.*e}", usize::from(SHORT_DIGITS - 1))
-        .parse::<f64>()
-        .unwrap_or(v)
+    format!("{v:.*e}", usize::from(SHORT_DIGITS - 1)).parse::<f64>().unwrap_or(v)
 }
 
 /// A number for an element line rounded to four significant digits, in SPICE notation.
@@ -293,14 +231,7 @@ fn short(v: f64) -> String {
 fn regulator_lines(o: &mut String, r: &crate::netlist::NetRegulator) {
     let n = spice_number;
     match r {
-        crate::netlist::NetRegulator::Zener {
-            designator,
-            cathode,
-            anode,
-            vz_v,
-            source_v,
-            slope_ohm,
-        } => {
+        crate::netlist::NetRegulator::Zener { designator, cathode, anode, vz_v, source_v, slope_ohm } => {
             let _ = writeln!(
                 o,
                 "* {designator}: zener {} (Vz0 {}, rz {}); a diode model D with BV and IBV may replace it",
@@ -339,11 +270,7 @@ fn regulator_lines(o: &mut String, r: &crate::netlist::NetRegulator) {
                 n(*impedance_ohm)
             );
             if *ref_current_a != 0.0 {
-                let _ = writeln!(
-                    o,
-                    "I{designator}REF {reference} {anode} DC {}",
-                    n(*ref_current_a)
-                );
+                let _ = writeln!(o, "I{designator}REF {reference} {anode} DC {}", n(*ref_current_a));
             }
         }
     }
@@ -384,21 +311,14 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                 "* VOS = {}, built-in hysteresis h = {}. Output switch on-resistance {}, off {}.",
                 volts(*offset_v),
                 volts(*hysteresis_v),
-                ohms(if output_high_drop_v.is_some() {
-                    OUTPUT_ON_OHM
-                } else {
-                    on_ohm(*sink_resistance_ohm)
-                }),
+                ohms(if output_high_drop_v.is_some() { OUTPUT_ON_OHM } else { on_ohm(*sink_resistance_ohm) }),
                 ohms(OUTPUT_OFF_OHM)
             );
             match output_high_drop_v {
                 Some(drop) => {
                     let _ = writeln!(o, "* Output high = V({positive_supply}) - {}, output low = V({negative_supply}) + {} (push-pull).", volts(*drop), volts(*output_low_rise_v));
                     let _ = writeln!(o, "V{u}H {u}_hi {positive_supply} DC {}", n(-drop));
-                    let _ = writeln!(
-                        o,
-                        "S{u}H {output} {u}_hi {non_inverting} {inverting} SW{u}H"
-                    );
+                    let _ = writeln!(o, "S{u}H {output} {u}_hi {non_inverting} {inverting} SW{u}H");
                     let _ = writeln!(
                         models,
                         ".model SW{u}H SW(VT={} VH={} RON={} ROFF={})",
@@ -412,20 +332,9 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                     let _ = writeln!(o, "* Open-drain/open-collector output: it only pulls low, to V({negative_supply}) + {} through RDS(on) = {}.", volts(*output_low_rise_v), ohms(on_ohm(*sink_resistance_ohm)));
                 }
             }
-            let _ = writeln!(
-                o,
-                "V{u}L {u}_lo {negative_supply} DC {}",
-                n(*output_low_rise_v)
-            );
-            let _ = writeln!(
-                o,
-                "S{u}L {output} {u}_lo {inverting} {non_inverting} SW{u}L"
-            );
-            let ron = if output_high_drop_v.is_some() {
-                OUTPUT_ON_OHM
-            } else {
-                on_ohm(*sink_resistance_ohm)
-            };
+            let _ = writeln!(o, "V{u}L {u}_lo {negative_supply} DC {}", n(*output_low_rise_v));
+            let _ = writeln!(o, "S{u}L {output} {u}_lo {inverting} {non_inverting} SW{u}L");
+            let ron = if output_high_drop_v.is_some() { OUTPUT_ON_OHM } else { on_ohm(*sink_resistance_ohm) };
             let _ = writeln!(
                 models,
                 ".model SW{u}L SW(VT={} VH={} RON={} ROFF={})",
@@ -448,19 +357,13 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
         } => {
             let u = designator;
             let (vt, vh, what) = match *threshold {
-                GateThreshold::Single { switching_v } => (
-                    switching_v,
-                    0.0,
-                    format!("switches at VM = {}", volts(switching_v)),
-                ),
+                GateThreshold::Single { switching_v } => {
+                    (switching_v, 0.0, format!("switches at VM = {}", volts(switching_v)))
+                }
                 GateThreshold::Schmitt { upper_v, lower_v } => (
                     0.5 * (upper_v + lower_v),
                     0.5 * (upper_v - lower_v),
-                    format!(
-                        "Schmitt input: VT+ = {}, VT- = {}",
-                        volts(upper_v),
-                        volts(lower_v)
-                    ),
+                    format!("Schmitt input: VT+ = {}, VT- = {}", volts(upper_v), volts(lower_v)),
                 ),
             };
             let kind = if *inverting { "inverter" } else { "buffer" };
@@ -475,11 +378,7 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                 volts(*output_high_v),
                 volts(*output_low_v)
             );
-            let (rise_level, fall_level) = if *inverting {
-                ("lo", "hi")
-            } else {
-                ("hi", "lo")
-            };
+            let (rise_level, fall_level) = if *inverting { ("lo", "hi") } else { ("hi", "lo") };
             let _ = writeln!(o, "V{u}H {u}_hi {ground} DC {}", n(*output_high_v));
             let _ = writeln!(o, "V{u}L {u}_lo {ground} DC {}", n(*output_low_v));
             // The "rising" switch closes above VT+VH; the "falling" one closes below VT−VH
@@ -503,26 +402,13 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                 n(OUTPUT_OFF_OHM)
             );
         }
-        ActiveDevice::Npn {
-            designator,
-            collector,
-            base,
-            emitter,
-            model,
-        } => {
+        ActiveDevice::Npn { designator, collector, base, emitter, model } => {
             let _ = writeln!(
                 o,
                 "* {designator}: NPN, SPICE bipolar model: DC from IS, BF, BR (transport Ebers-Moll) with their"
             );
-            let _ = writeln!(
-                o,
-                "* temperature laws (XTI, EG, XTB); CJE, CJC, TF only shape the transient."
-            );
-            let _ = writeln!(
-                o,
-                "* the hand analysis assumed VBE = {}.",
-                volts(model.vbe_v)
-            );
+            let _ = writeln!(o, "* temperature laws (XTI, EG, XTB); CJE, CJC, TF only shape the transient.");
+            let _ = writeln!(o, "* the hand analysis assumed VBE = {}.", volts(model.vbe_v));
             let _ = writeln!(o, "{designator} {collector} {base} {emitter} QNPN");
             if !models.contains(".model QNPN") {
                 let celsius = |k: f64| short(k - 273.15);
@@ -530,11 +416,7 @@ fn device_lines(o: &mut String, models: &mut String, d: &ActiveDevice) {
                     models,
                     "* IS, BF, BR hold at TNOM; SPICE rescales them to the junction temperature TEMP."
                 );
-                let _ = writeln!(
-                    models,
-                    ".options TNOM={}",
-                    celsius(model.nominal_temperature_k)
-                );
+                let _ = writeln!(models, ".options TNOM={}", celsius(model.nominal_temperature_k));
                 let _ = writeln!(models, ".temp {}", celsius(model.temperature_k));
                 let _ = writeln!(
                     models,
@@ -609,11 +491,7 @@ mod tests {
         for s in catalog::templates().into_iter().chain(catalog::demos()) {
             let r = s.record();
             let deck = to_spice(&r.circuit, "ascii title").unwrap();
-            assert!(
-                deck.is_ascii(),
-                "{}: a non-ASCII character in the deck",
-                s.key
-            );
+            assert!(deck.is_ascii(), "{}: a non-ASCII character in the deck", s.key);
         }
     }
 

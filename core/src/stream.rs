@@ -53,11 +53,7 @@ where
 {
     let mut summary = StreamSummary::default();
     let mut stopped: Option<E> = None;
-    let top = Top {
-        sink: &mut sink,
-        summary: &mut summary,
-        stopped: &mut stopped,
-    };
+    let top = Top { sink: &mut sink, summary: &mut summary, stopped: &mut stopped };
     let read = de.deserialize_any(top).and_then(|()| de.end());
     if let Some(e) = stopped {
         return Err(StreamError::Sink(e));
@@ -65,9 +61,7 @@ where
     match read {
         Ok(()) => Ok(summary),
         Err(e) if e.is_io() => Err(StreamError::Read(e.to_string())),
-        Err(e) => Err(StreamError::Input(RecordError::Malformed {
-            message: e.to_string(),
-        })),
+        Err(e) => Err(StreamError::Input(RecordError::Malformed { message: e.to_string() })),
     }
 }
 
@@ -86,11 +80,7 @@ where
     fn deliver(&mut self, index: usize, value: Value) -> bool {
         let result = match DesignRecord::from_value(value) {
             Ok(r) => RecordResult::Ok(Box::new(evaluate(&r))),
-            Err(error) => RecordResult::Error {
-                index,
-                message: error.to_string(),
-                error,
-            },
+            Err(error) => RecordResult::Error { index, message: error.to_string(), error },
         };
         self.summary.records += 1;
         self.summary.failed += failed(&result) as usize;
@@ -104,11 +94,7 @@ where
     }
 
     fn single<Er: de::Error>(mut self, value: Value) -> Result<(), Er> {
-        if self.deliver(0, value) {
-            Ok(())
-        } else {
-            Err(Er::custom("output closed"))
-        }
+        if self.deliver(0, value) { Ok(()) } else { Err(Er::custom("output closed")) }
     }
 }
 
@@ -204,10 +190,7 @@ mod tests {
     fn not_json_trailing_text_and_truncation_stop_with_input_errors() {
         for text in ["{ not json", "", "[1, 2", "{} {}", "[] x"] {
             let (r, _) = collect(text);
-            assert!(
-                matches!(r, Err(StreamError::Input(RecordError::Malformed { .. }))),
-                "{text}: {r:?}"
-            );
+            assert!(matches!(r, Err(StreamError::Input(RecordError::Malformed { .. }))), "{text}: {r:?}");
         }
         // Elements before a syntax error were delivered.
         let (r, got) = collect(&format!("[{}, oops]", template()));
@@ -222,11 +205,7 @@ mod tests {
         let mut seen = 0;
         let r = evaluate_stream(&mut de, |_| {
             seen += 1;
-            if seen == 2 {
-                Err("closed")
-            } else {
-                Ok(())
-            }
+            if seen == 2 { Err("closed") } else { Ok(()) }
         });
         assert!(matches!(r, Err(StreamError::Sink("closed"))));
         assert_eq!(seen, 2);

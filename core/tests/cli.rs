@@ -26,11 +26,7 @@ fn run(args: &[&str], stdin: &str) -> Output {
 }
 
 fn fixture(name: &str) -> String {
-    std::fs::read_to_string(format!(
-        "{}/../tests/fixtures/records/{name}.json",
-        env!("CARGO_MANIFEST_DIR")
-    ))
-    .unwrap()
+    std::fs::read_to_string(format!("{}/../tests/fixtures/records/{name}.json", env!("CARGO_MANIFEST_DIR"))).unwrap()
 }
 
 fn results(out: &Output) -> Vec<serde_json::Value> {
@@ -39,20 +35,8 @@ fn results(out: &Output) -> Vec<serde_json::Value> {
 
 #[test]
 fn every_fixture_evaluates_from_a_file_and_from_stdin() {
-    let names = [
-        "inverting",
-        "non_inverting",
-        "open_drain",
-        "plain_comparator",
-        "supply_monitor",
-        "cmos_buffer",
-        "schmitt_gate",
-        "bjt_pair",
-    ];
-    let all: Vec<serde_json::Value> = names
-        .iter()
-        .map(|n| serde_json::from_str(&fixture(n)).unwrap())
-        .collect();
+    let names = ["inverting", "non_inverting", "open_drain", "plain_comparator", "supply_monitor", "cmos_buffer", "schmitt_gate", "bjt_pair"];
+    let all: Vec<serde_json::Value> = names.iter().map(|n| serde_json::from_str(&fixture(n)).unwrap()).collect();
     let out = run(&["-"], &serde_json::to_string(&all).unwrap());
     let r = results(&out);
     assert_eq!(r.len(), names.len());
@@ -61,10 +45,7 @@ fn every_fixture_evaluates_from_a_file_and_from_stdin() {
         assert!(ok["analysis"]["vt_upper_v"].as_f64().is_some(), "{n}");
         assert_eq!(ok["topology"].as_str(), Some(*n));
     }
-    let path = format!(
-        "{}/../tests/fixtures/records/supply_monitor.json",
-        env!("CARGO_MANIFEST_DIR")
-    );
+    let path = format!("{}/../tests/fixtures/records/supply_monitor.json", env!("CARGO_MANIFEST_DIR"));
     let out = run(&[&path], "");
     assert_eq!(results(&out).len(), 1);
 }
@@ -74,10 +55,7 @@ fn malformed_json_exits_2_with_a_message() {
     let out = run(&[], "{ not json");
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(
-        err.contains("not a readable design record") && err.contains("line 1"),
-        "{err}"
-    );
+    assert!(err.contains("not a readable design record") && err.contains("line 1"), "{err}");
     assert!(out.stdout.is_empty());
 }
 
@@ -100,10 +78,7 @@ fn unknown_topology_is_named_per_record_and_exits_1() {
     let r = results(&out);
     assert!(r[0].get("ok").is_some());
     let msg = r[1]["error"]["message"].as_str().unwrap();
-    assert!(
-        msg.contains("tube_flipflop") && msg.contains("inverting"),
-        "{msg}"
-    );
+    assert!(msg.contains("tube_flipflop") && msg.contains("inverting"), "{msg}");
     assert_eq!(r[1]["error"]["index"].as_u64(), Some(1));
 }
 
@@ -115,10 +90,7 @@ fn out_of_range_values_and_future_versions_are_reported() {
     assert_eq!(out.status.code(), Some(1));
     let r = results(&out);
     let errors = r[0]["ok"]["errors"].as_array().unwrap();
-    let analysis = errors
-        .iter()
-        .find(|e| e["study"] == "analysis")
-        .expect("analysis error");
+    let analysis = errors.iter().find(|e| e["study"] == "analysis").expect("analysis error");
     assert_eq!(analysis["error"]["kind"].as_str(), Some("invalid_value"));
     // Analysis errors name the field as the page shows it: the resistor's designator (issue 12).
     assert_eq!(analysis["error"]["field"].as_str(), Some("R2"));
@@ -127,10 +99,7 @@ fn out_of_range_values_and_future_versions_are_reported() {
     f["schema_version"] = 42.into();
     let out = run(&[], &f.to_string());
     assert_eq!(out.status.code(), Some(1));
-    assert!(results(&out)[0]["error"]["message"]
-        .as_str()
-        .unwrap()
-        .contains("newer version"));
+    assert!(results(&out)[0]["error"]["message"].as_str().unwrap().contains("newer version"));
 
     let mut t: serde_json::Value = serde_json::from_str(&fixture("non_inverting")).unwrap();
     t["targets"]["vt_upper_v"] = 1.0.into();
@@ -138,11 +107,7 @@ fn out_of_range_values_and_future_versions_are_reported() {
     let out = run(&[], &t.to_string());
     assert_eq!(out.status.code(), Some(1));
     let errs = results(&out)[0]["ok"]["errors"].as_array().unwrap().clone();
-    assert!(
-        errs.iter()
-            .any(|e| e["study"] == "synthesis" && e["error"]["kind"] == "infeasible"),
-        "{errs:?}"
-    );
+    assert!(errs.iter().any(|e| e["study"] == "synthesis" && e["error"]["kind"] == "infeasible"), "{errs:?}");
 }
 
 #[test]
@@ -188,47 +153,26 @@ fn closed_output_exits_quietly_with_status_0() {
 fn a_long_array_streams_with_every_result_in_order() {
     // Every seventh element is not a readable record: its error carries its own index.
     let n = 700;
-    let all: Vec<serde_json::Value> = (0..n)
-        .map(|i| {
-            if i % 7 == 3 {
-                serde_json::json!({ "name": i })
-            } else {
-                quick_record(i)
-            }
-        })
-        .collect();
+    let all: Vec<serde_json::Value> =
+        (0..n).map(|i| if i % 7 == 3 { serde_json::json!({ "name": i }) } else { quick_record(i) }).collect();
     let input = serde_json::to_string(&all).unwrap();
     let out = run(&[], &input);
-    assert_eq!(
-        out.status.code(),
-        Some(1),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    assert_eq!(out.status.code(), Some(1), "{}", String::from_utf8_lossy(&out.stderr));
     let r = results(&out);
     assert_eq!(r.len(), n);
     for (i, v) in r.iter().enumerate() {
         if i % 7 == 3 {
             assert_eq!(v["error"]["index"].as_u64(), Some(i as u64), "{v}");
         } else {
-            assert_eq!(
-                v["ok"]["name"].as_str(),
-                Some(format!("design {i}").as_str())
-            );
+            assert_eq!(v["ok"]["name"].as_str(), Some(format!("design {i}").as_str()));
             assert!(v["ok"]["analysis"]["vt_upper_v"].as_f64().is_some());
         }
     }
     // Byte for byte what the whole list gives, evaluated at once and written by serde_json's pretty
     // printer (the output format before streaming).
-    let whole =
-        serde_json::to_string_pretty(&hysteron_core::evaluate::evaluate_json(&input).unwrap())
-            .unwrap()
-            + "\n";
+    let whole = serde_json::to_string_pretty(&hysteron_core::evaluate::evaluate_json(&input).unwrap()).unwrap() + "\n";
     let streamed = String::from_utf8(out.stdout).unwrap();
-    let first_difference = whole
-        .bytes()
-        .zip(streamed.bytes())
-        .position(|(a, b)| a != b);
+    let first_difference = whole.bytes().zip(streamed.bytes()).position(|(a, b)| a != b);
     assert!(
         whole == streamed,
         "streamed output ({} bytes) differs from the whole list ({} bytes), first at byte {first_difference:?}",
@@ -271,17 +215,12 @@ fn each_result_is_written_before_the_next_record_is_read() {
         }
         String::from_utf8(seen).unwrap()
     });
-    let first = rx
-        .recv_timeout(std::time::Duration::from_secs(60))
-        .expect("first result before the input ended");
+    let first = rx.recv_timeout(std::time::Duration::from_secs(60)).expect("first result before the input ended");
     assert!(first.contains("\"design 0\""), "{first}");
     write!(stdin, "{}]", quick_record(1)).unwrap();
     drop(stdin);
     let all = reader.join().unwrap();
-    assert!(
-        all.contains("\"design 1\"") && all.ends_with("\n]\n"),
-        "{all}"
-    );
+    assert!(all.contains("\"design 1\"") && all.ends_with("\n]\n"), "{all}");
     assert_eq!(child.wait().unwrap().code(), Some(0));
 }
 
@@ -291,15 +230,9 @@ fn input_that_breaks_off_mid_array_exits_2_after_the_results_before_it() {
     let out = run(&[], &text);
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(
-        err.contains("not a readable design record") && err.contains("EOF"),
-        "{err}"
-    );
+    assert!(err.contains("not a readable design record") && err.contains("EOF"), "{err}");
     let stdout = String::from_utf8_lossy(&out.stdout);
-    assert!(
-        stdout.contains("\"design 1\"") && !stdout.trim_end().ends_with(']'),
-        "{stdout}"
-    );
+    assert!(stdout.contains("\"design 1\"") && !stdout.trim_end().ends_with(']'), "{stdout}");
     // Text after a complete record is refused the same way.
     let out = run(&[], &format!("{} trailing", quick_record(0)));
     assert_eq!(out.status.code(), Some(2));

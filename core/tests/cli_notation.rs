@@ -13,12 +13,7 @@ fn run(stdin: &str) -> Output {
         .stderr(Stdio::piped())
         .spawn()
         .expect("start hysteron");
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(stdin.as_bytes())
-        .unwrap();
+    child.stdin.take().unwrap().write_all(stdin.as_bytes()).unwrap();
     child.wait_with_output().unwrap()
 }
 
@@ -38,10 +33,7 @@ fn inverting(ra: &str, rb: &str, rf: &str, supply: &str) -> String {
 /// VT+ = Vs·Rb/(Rb + Ra‖Rf), VT− = Vs·(Rb‖Rf)/(Ra + Rb‖Rf).
 fn closed_form(ra: f64, rb: f64, rf: f64, vs: f64) -> (f64, f64) {
     let par = |x: f64, y: f64| x * y / (x + y);
-    (
-        vs * rb / (rb + par(ra, rf)),
-        vs * par(rb, rf) / (ra + par(rb, rf)),
-    )
+    (vs * rb / (rb + par(ra, rf)), vs * par(rb, rf) / (ra + par(rb, rf)))
 }
 
 #[test]
@@ -54,16 +46,11 @@ fn resistors_and_supply_written_as_text_are_read() {
     for ((ra, rb, rf, vs), (a, b, f, v)) in cases {
         let out = run(&inverting(ra, rb, rf, vs));
         let r = results(&out);
-        let ok = r[0]
-            .get("ok")
-            .unwrap_or_else(|| panic!("{ra} {rb} {rf}: {}", r[0]));
+        let ok = r[0].get("ok").unwrap_or_else(|| panic!("{ra} {rb} {rf}: {}", r[0]));
         let (up, lo) = closed_form(a, b, f, v);
         let got_up = ok["analysis"]["vt_upper_v"].as_f64().unwrap();
         let got_lo = ok["analysis"]["vt_lower_v"].as_f64().unwrap();
-        assert!(
-            (got_up - up).abs() < 1e-9 && (got_lo - lo).abs() < 1e-9,
-            "{ra} {rb} {rf}: {got_up} {got_lo} vs {up} {lo}"
-        );
+        assert!((got_up - up).abs() < 1e-9 && (got_lo - lo).abs() < 1e-9, "{ra} {rb} {rf}: {got_up} {got_lo} vs {up} {lo}");
         // The name stays text even though it looks like a value.
         assert_eq!(ok["name"], "4k7 divider");
     }
@@ -72,16 +59,12 @@ fn resistors_and_supply_written_as_text_are_read() {
 #[test]
 fn counts_in_study_settings_read_as_text_too() {
     // "1k" trials and a seed as text in the tolerance settings.
-    let mut v: serde_json::Value =
-        serde_json::from_str(&inverting("10k", "10k", "20k", "5")).unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&inverting("10k", "10k", "20k", "5")).unwrap();
     v["tolerance"] = serde_json::json!({"monte_carlo": {"trials": "1k", "seed": "7"}});
     let out = run(&v.to_string());
     let r = results(&out);
     assert!(r[0].get("ok").is_some(), "{}", r[0]);
-    assert_eq!(
-        r[0]["ok"]["tolerance"]["monte_carlo"]["trials"].as_u64(),
-        Some(1000)
-    );
+    assert_eq!(r[0]["ok"]["tolerance"]["monte_carlo"]["trials"].as_u64(), Some(1000));
 }
 
 #[test]
@@ -90,9 +73,6 @@ fn a_text_that_is_no_number_names_field_and_text() {
     assert_eq!(out.status.code(), Some(1));
     let r = results(&out);
     let msg = r[0]["error"]["message"].as_str().unwrap();
-    assert!(
-        msg.contains("circuit.rb_ohm") && msg.contains("\"4q7\""),
-        "{msg}"
-    );
+    assert!(msg.contains("circuit.rb_ohm") && msg.contains("\"4q7\""), "{msg}");
     assert!(!msg.contains("expected f64"), "{msg}");
 }

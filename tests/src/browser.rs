@@ -55,10 +55,7 @@ where
         match probe().await {
             Ok(v) => return v,
             Err(last) if start.elapsed() >= timeout => {
-                panic!(
-                    "timed out after {:.1} s waiting for {what}; last seen: {last}",
-                    timeout.as_secs_f64()
-                )
+                panic!("timed out after {:.1} s waiting for {what}; last seen: {last}", timeout.as_secs_f64())
             }
             Err(_) => tokio::time::sleep(POLL).await,
         }
@@ -82,10 +79,7 @@ const OPEN_RECORD_JS: &str = "const li = document.querySelector('#design-list li
     const r = raw ? JSON.parse(raw).record : null;";
 
 fn free_port() -> u16 {
-    std::net::TcpListener::bind("127.0.0.1:0")
-        .and_then(|l| l.local_addr())
-        .map(|a| a.port())
-        .unwrap_or(9515)
+    std::net::TcpListener::bind("127.0.0.1:0").and_then(|l| l.local_addr()).map(|a| a.port()).unwrap_or(9515)
 }
 
 /// Starts the server for `dist/`, chromedriver and a fresh headless Chromium profile, and opens the page.
@@ -97,9 +91,7 @@ pub async fn start() -> Session {
         "the page is not built ({}/index.html missing): run `cargo xtask test`, which builds it first",
         dist.display()
     );
-    let base = crate::server::serve(dist)
-        .await
-        .expect("start the static server");
+    let base = crate::server::serve(dist).await.expect("start the static server");
     start_at(base).await
 }
 
@@ -112,9 +104,7 @@ pub async fn start_at(base: String) -> Session {
         .stderr(Stdio::null())
         .kill_on_drop(true)
         .spawn()
-        .expect(
-            "start chromedriver (Debian package chromium-driver; `cargo xtask test` installs it)",
-        );
+        .expect("start chromedriver (Debian package chromium-driver; `cargo xtask test` installs it)");
     let profile = std::env::temp_dir().join(format!("hysteron-e2e-{}-{port}", std::process::id()));
     std::fs::create_dir_all(&profile).ok();
     let caps = serde_json::json!({
@@ -128,30 +118,15 @@ pub async fn start_at(base: String) -> Session {
             ]
         }
     });
-    let caps: serde_json::Map<String, serde_json::Value> =
-        caps.as_object().cloned().unwrap_or_default();
+    let caps: serde_json::Map<String, serde_json::Value> = caps.as_object().cloned().unwrap_or_default();
     let url = format!("http://127.0.0.1:{port}");
     // chromedriver takes a moment to listen on its port: wait until a session can be made.
     let (caps, url) = (&caps, &url);
-    let client = wait_until(
-        "a browser session through chromedriver",
-        WAIT,
-        move || async move {
-            ClientBuilder::rustls()
-                .expect("tls")
-                .capabilities(caps.clone())
-                .connect(url)
-                .await
-                .map_err(|e| e.to_string())
-        },
-    )
+    let client = wait_until("a browser session through chromedriver", WAIT, move || async move {
+        ClientBuilder::rustls().expect("tls").capabilities(caps.clone()).connect(url).await.map_err(|e| e.to_string())
+    })
     .await;
-    let s = Session {
-        client,
-        base,
-        _driver: driver,
-        _profile: tempdir::Dir(profile),
-    };
+    let s = Session { client, base, _driver: driver, _profile: tempdir::Dir(profile) };
     s.client.goto(&s.base).await.expect("open the page");
     s.wait_for("#design").await;
     s
@@ -162,15 +137,8 @@ pub async fn start_at(base: String) -> Session {
 struct DevTools(serde_json::Value);
 
 impl fantoccini::wd::WebDriverCompatibleCommand for DevTools {
-    fn endpoint(
-        &self,
-        base: &url::Url,
-        session: Option<&str>,
-    ) -> Result<url::Url, url::ParseError> {
-        base.join(&format!(
-            "session/{}/goog/cdp/execute",
-            session.unwrap_or_default()
-        ))
+    fn endpoint(&self, base: &url::Url, session: Option<&str>) -> Result<url::Url, url::ParseError> {
+        base.join(&format!("session/{}/goog/cdp/execute", session.unwrap_or_default()))
     }
     fn method_and_body(&self, _: &url::Url) -> (http::Method, Option<String>) {
         (http::Method::POST, Some(self.0.to_string()))
@@ -214,9 +182,7 @@ impl Session {
             if i > 0 {
                 tokio::time::sleep(KEY_DELAY).await;
             }
-            el.send_keys(&c.to_string())
-                .await
-                .unwrap_or_else(|e| panic!("type {c:?} into {css}: {e}"));
+            el.send_keys(&c.to_string()).await.unwrap_or_else(|e| panic!("type {c:?} into {css}: {e}"));
         }
         // Every key arrived: the field holds the text, or the page re-showed the same number in its
         // own notation (e.g. "1M" as "1 M").
@@ -225,54 +191,31 @@ impl Session {
             use hysteron_core::notation::parse_value;
             matches!((parse_value(a), parse_value(b)), (Ok(x), Ok(y)) if (x - y).abs() <= 1e-12 * x.abs().max(y.abs()))
         };
-        assert!(
-            value == text || same_number(&value, text),
-            "{css} holds {value:?} after typing {text:?}"
-        );
+        assert!(value == text || same_number(&value, text), "{css} holds {value:?} after typing {text:?}");
     }
 
     /// The `data-value` of an output element, parsed as a number.
     pub async fn number(&self, css: &str) -> f64 {
         let el = self.wait_for(css).await;
-        let v = el
-            .attr("data-value")
-            .await
-            .expect("read attribute")
-            .unwrap_or_default();
+        let v = el.attr("data-value").await.expect("read attribute").unwrap_or_default();
         v.parse().unwrap_or(f64::NAN)
     }
 
     /// Waits until `data-value` of `css` is within `tol` of `expected`; returns the value read.
     pub async fn wait_number(&self, css: &str, expected: f64, tol: f64) -> f64 {
-        wait_until(
-            &format!("{css} to show {expected} ± {tol}"),
-            WAIT,
-            move || async move {
-                let v = self.number(css).await;
-                if (v - expected).abs() <= tol {
-                    Ok(v)
-                } else {
-                    Err(v.to_string())
-                }
-            },
-        )
+        wait_until(&format!("{css} to show {expected} ± {tol}"), WAIT, move || async move {
+            let v = self.number(css).await;
+            if (v - expected).abs() <= tol { Ok(v) } else { Err(v.to_string()) }
+        })
         .await
     }
 
     /// Waits until `data-value` of `css` is a number other than `from` (the page recomputed).
     pub async fn wait_number_change(&self, css: &str, from: f64) -> f64 {
-        wait_until(
-            &format!("{css} to change from {from}"),
-            WAIT,
-            move || async move {
-                let v = self.number(css).await;
-                if v.is_finite() && v != from {
-                    Ok(v)
-                } else {
-                    Err(v.to_string())
-                }
-            },
-        )
+        wait_until(&format!("{css} to change from {from}"), WAIT, move || async move {
+            let v = self.number(css).await;
+            if v.is_finite() && v != from { Ok(v) } else { Err(v.to_string()) }
+        })
         .await
     }
 
@@ -281,11 +224,7 @@ impl Session {
         let test = &test;
         wait_until(&format!("{css} to read {what}"), WAIT, move || async move {
             let t = self.text(css).await;
-            if test(&t) {
-                Ok(t)
-            } else {
-                Err(format!("{t:?}"))
-            }
+            if test(&t) { Ok(t) } else { Err(format!("{t:?}")) }
         })
         .await
     }
@@ -295,11 +234,7 @@ impl Session {
     pub async fn wait_js(&self, what: &str, predicate: &str) -> serde_json::Value {
         wait_until(what, WAIT, move || async move {
             let v = self.js(predicate).await;
-            if truthy(&v) {
-                Ok(v)
-            } else {
-                Err(v.to_string())
-            }
+            if truthy(&v) { Ok(v) } else { Err(v.to_string()) }
         })
         .await
     }
@@ -310,45 +245,27 @@ impl Session {
     pub async fn wait_stored(&self, predicate: &str) {
         let script = format!("{OPEN_RECORD_JS} if (!r) return null; try {{ return !!({predicate}); }} catch (e) {{ return String(e); }}");
         let script = &script;
-        wait_until(
-            &format!("the open design to be stored with {predicate}"),
-            WAIT,
-            move || async move {
-                match self.js(script).await {
-                    serde_json::Value::Bool(true) => Ok(()),
-                    other => Err(other.to_string()),
-                }
-            },
-        )
+        wait_until(&format!("the open design to be stored with {predicate}"), WAIT, move || async move {
+            match self.js(script).await {
+                serde_json::Value::Bool(true) => Ok(()),
+                other => Err(other.to_string()),
+            }
+        })
         .await
     }
 
     /// Adds a design from a starter (`demo:<key>` or a template value) and waits until it is the open
     /// design, new in the list, with its results shown.
     pub async fn add_starter(&self, value: &str) {
-        let before = self
-            .js("return [...document.querySelectorAll('#design-list li')].map(li => li.dataset.id)")
-            .await;
-        self.wait_for("#starter-choice")
-            .await
-            .select_by_value(value)
-            .await
-            .unwrap_or_else(|e| panic!("choose {value}: {e}"));
-        self.wait_for("#add-starter")
-            .await
-            .click()
-            .await
-            .expect("add the starter");
+        let before = self.js("return [...document.querySelectorAll('#design-list li')].map(li => li.dataset.id)").await;
+        self.wait_for("#starter-choice").await.select_by_value(value).await.unwrap_or_else(|e| panic!("choose {value}: {e}"));
+        self.wait_for("#add-starter").await.click().await.expect("add the starter");
         let script = format!(
             "const before = {before}; const li = document.querySelector('#design-list li.open'); \
              const out = document.querySelector('#vt-upper'); \
              return !!li && !before.includes(li.dataset.id) && !!out && out.dataset.value !== '';"
         );
-        self.wait_js(
-            &format!("the starter {value} to open with its results"),
-            &script,
-        )
-        .await;
+        self.wait_js(&format!("the starter {value} to open with its results"), &script).await;
     }
 
     /// The visible text of an element.
@@ -358,10 +275,7 @@ impl Session {
 
     /// Runs JavaScript in the page and returns its JSON result.
     pub async fn js(&self, script: &str) -> serde_json::Value {
-        self.client
-            .execute(script, vec![])
-            .await
-            .unwrap_or_else(|e| panic!("script failed: {e}\n{script}"))
+        self.client.execute(script, vec![]).await.unwrap_or_else(|e| panic!("script failed: {e}\n{script}"))
     }
 
     /// Reloads the page and waits for it to mount again.

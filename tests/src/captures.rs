@@ -6,10 +6,7 @@ pub fn sine_capture_csv(header: &str, rows: u32, step_s: f64) -> String {
     let mut text = format!("{header}\n");
     for i in 0..rows {
         let t = f64::from(i) * step_s;
-        text.push_str(&format!(
-            "{t:.6};{:.5}\n",
-            2.3 + 1.5 * (2.0 * std::f64::consts::PI * 5.0 * t).sin()
-        ));
+        text.push_str(&format!("{t:.6};{:.5}\n", 2.3 + 1.5 * (2.0 * std::f64::consts::PI * 5.0 * t).sin()));
     }
     text
 }

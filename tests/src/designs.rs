@@ -32,14 +32,8 @@ pub fn variety() -> Vec<(String, Topology)> {
         output_low_rise_v: 0.08,
         ..Comparator::ideal(5.0)
     };
-    let split = Comparator {
-        negative_rail_v: -5.0,
-        ..real
-    };
-    v.push((
-        "inverting split".into(),
-        Topology::Inverting(InvertingSchmitt::split_supply(10e3, 47e3, split)),
-    ));
+    let split = Comparator { negative_rail_v: -5.0, ..real };
+    v.push(("inverting split".into(), Topology::Inverting(InvertingSchmitt::split_supply(10e3, 47e3, split))));
     v.push((
         "inverting fixed".into(),
         Topology::Inverting(InvertingSchmitt {
@@ -50,15 +44,11 @@ pub fn variety() -> Vec<(String, Topology)> {
     ));
     v.push((
         "non-inverting fixed".into(),
-        Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(
-            10e3, 100e3, 1.2, real,
-        )),
+        Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, real)),
     ));
     v.push((
         "non-inverting split".into(),
-        Topology::NonInverting(NonInvertingSchmitt::with_divider(
-            10e3, 100e3, 33e3, 47e3, split,
-        )),
+        Topology::NonInverting(NonInvertingSchmitt::with_divider(10e3, 100e3, 33e3, 47e3, split)),
     ));
     v.push((
         "open-drain non-inverting".into(),
@@ -66,13 +56,7 @@ pub fn variety() -> Vec<(String, Topology)> {
             rl_ohm: Some(47e3),
             sink_resistance_ohm: 25.0,
             pullup_rail: Rail::Fixed(3.3),
-            ..OpenDrainSchmitt::non_inverting(
-                10e3,
-                100e3,
-                Reference::divider(20e3, 30e3),
-                4.7e3,
-                real,
-            )
+            ..OpenDrainSchmitt::non_inverting(10e3, 100e3, Reference::divider(20e3, 30e3), 4.7e3, real)
         }),
     ));
     v.push((
@@ -85,28 +69,11 @@ pub fn variety() -> Vec<(String, Topology)> {
     ));
     let mut mon = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, real);
     mon.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 0.3 };
-    v.push((
-        "monitor self-supplied".into(),
-        Topology::SupplyMonitor(mon.clone()),
-    ));
-    mon.output = MonitorOutput::OpenDrain {
-        rpu_ohm: 10e3,
-        pullup_rail: Rail::Fixed(3.3),
-    };
-    v.push((
-        "monitor self-supplied open-drain".into(),
-        Topology::SupplyMonitor(mon),
-    ));
-    let gate = CmosGate {
-        supply_v: 3.3,
-        output_high_drop_v: 0.05,
-        output_low_v: 0.04,
-        ..CmosGate::default()
-    };
-    v.push((
-        "cmos".into(),
-        Topology::CmosBuffer(CmosBufferSchmitt::new(10e3, 47e3, gate)),
-    ));
+    v.push(("monitor self-supplied".into(), Topology::SupplyMonitor(mon.clone())));
+    mon.output = MonitorOutput::OpenDrain { rpu_ohm: 10e3, pullup_rail: Rail::Fixed(3.3) };
+    v.push(("monitor self-supplied open-drain".into(), Topology::SupplyMonitor(mon)));
+    let gate = CmosGate { supply_v: 3.3, output_high_drop_v: 0.05, output_low_v: 0.04, ..CmosGate::default() };
+    v.push(("cmos".into(), Topology::CmosBuffer(CmosBufferSchmitt::new(10e3, 47e3, gate))));
     v.push((
         "cmos r3".into(),
         Topology::CmosBuffer(CmosBufferSchmitt {
@@ -115,20 +82,14 @@ pub fn variety() -> Vec<(String, Topology)> {
             ..CmosBufferSchmitt::new(10e3, 47e3, gate)
         }),
     ));
-    v.push((
-        "gate bare".into(),
-        Topology::SchmittGate(SchmittGate::bare(SchmittInput::default())),
-    ));
+    v.push(("gate bare".into(), Topology::SchmittGate(SchmittGate::bare(SchmittInput::default()))));
     v.push((
         "gate network".into(),
         Topology::SchmittGate(SchmittGate {
             ra_ohm: Some(47e3),
             rb_ohm: Some(100e3),
             rc_ohm: Some(220e3),
-            gate: SchmittInput {
-                inverting: false,
-                ..SchmittInput::default()
-            },
+            gate: SchmittInput { inverting: false, ..SchmittInput::default() },
         }),
     ));
     v.push((

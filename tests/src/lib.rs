@@ -6,12 +6,12 @@
 
 pub mod browser;
 pub mod captures;
+pub mod server;
 pub mod designs;
 pub mod mutate;
 pub mod ngspice;
 pub mod nodal;
 pub mod sampling;
-pub mod server;
 
 /// Number of cases for a property test: `base` in CI and ordinary runs, `base` times the whole number
 /// in `HYSTERON_PROPTEST_SCALE` when exploring (`cargo xtask explore` sets it, with a fresh seed).
@@ -20,9 +20,6 @@ pub mod server;
 /// random — in `cargo xtask explore`). Failures found are saved in the test's
 /// `*.proptest-regressions` file and replayed first on every run.
 pub fn proptest_cases(base: u32) -> u32 {
-    let scale = std::env::var("HYSTERON_PROPTEST_SCALE")
-        .ok()
-        .and_then(|s| s.trim().parse::<u32>().ok())
-        .unwrap_or(1);
+    let scale = std::env::var("HYSTERON_PROPTEST_SCALE").ok().and_then(|s| s.trim().parse::<u32>().ok()).unwrap_or(1);
     base.saturating_mul(scale.max(1))
 }

@@ -9,37 +9,14 @@ use serde_json::Value;
 /// The values a numeric field is set to. JSON cannot hold ±∞ or NaN, so the extremes are the
 /// largest and the smallest magnitudes a double holds, zero, and values just outside the ranges of
 /// `core::limits`.
-pub const EXTREMES: [f64; 14] = [
-    0.0,
-    5e-324,
-    -5e-324,
-    1e308,
-    -1e308,
-    1e-300,
-    1e300,
-    -1.0,
-    2.2250738585072014e-308,
-    1e12,
-    -1e12,
-    1e-15,
-    1e5,
-    9007199254740993.0,
-];
+pub const EXTREMES: [f64; 14] =
+    [0.0, 5e-324, -5e-324, 1e308, -1e308, 1e-300, 1e300, -1.0, 2.2250738585072014e-308, 1e12, -1e12, 1e-15, 1e5, 9007199254740993.0];
 
 /// Fields whose value sets how much work a study does (samples, trials, corners, sweep levels,
 /// simulated cycles): they are only ever mutated downwards, so one input's time stays bounded
 /// (the upward bounds of these are checked by the studies' own limits and tests).
-pub const WORK_FIELDS: [&str; 9] = [
-    "duration_s",
-    "sample_rate_hz",
-    "trials",
-    "corner_limit",
-    "histogram_bins",
-    "steps",
-    "oscillator_cycles",
-    "bounce_toggles",
-    "top_n",
-];
+pub const WORK_FIELDS: [&str; 9] =
+    ["duration_s", "sample_rate_hz", "trials", "corner_limit", "histogram_bins", "steps", "oscillator_cycles", "bounce_toggles", "top_n"];
 
 /// One segment of a path into a JSON value.
 #[derive(Debug, Clone, PartialEq)]
@@ -156,12 +133,10 @@ pub fn check_finite(e: &Evaluation) -> Result<(), String> {
         return Err(format!("guard: {found}"));
     }
     let value = serde_json::to_value(e).map_err(|x| format!("serialise: {x}"))?;
-    let back: Evaluation = serde_json::from_value(value.clone())
-        .map_err(|x| format!("JSON round trip fails (a null where a number belongs?): {x}"))?;
+    let back: Evaluation =
+        serde_json::from_value(value.clone()).map_err(|x| format!("JSON round trip fails (a null where a number belongs?): {x}"))?;
     if &back != e {
-        return Err(format!(
-            "JSON round trip changes the result (a non-finite number became null): {value}"
-        ));
+        return Err(format!("JSON round trip changes the result (a non-finite number became null): {value}"));
     }
     Ok(())
 }

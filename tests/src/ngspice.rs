@@ -20,10 +20,7 @@ fn run_dir() -> Option<PathBuf> {
 
 /// True when ngspice can be started; otherwise prints that the comparison is skipped.
 pub fn available() -> bool {
-    let ok = std::process::Command::new("ngspice")
-        .arg("--version")
-        .output()
-        .is_ok();
+    let ok = std::process::Command::new("ngspice").arg("--version").output().is_ok();
     if !ok {
         println!("skipped: ngspice is not installed (`cargo xtask setup` installs it; Debian package ngspice)");
     }
@@ -36,22 +33,11 @@ pub fn available() -> bool {
 /// reports a failure.
 pub fn run(deck: &str, control: &str) -> Option<(String, PathBuf)> {
     let dir = run_dir()?;
-    let body = deck
-        .trim_end()
-        .strip_suffix(".end")
-        .unwrap_or(deck.trim_end());
+    let body = deck.trim_end().strip_suffix(".end").unwrap_or(deck.trim_end());
     let control = control.replace("{dir}", &dir.display().to_string());
     let cir = dir.join("deck.cir");
-    std::fs::write(
-        &cir,
-        format!("{body}\n.control\n{control}\nquit\n.endc\n.end\n"),
-    )
-    .ok()?;
-    let out = match std::process::Command::new("ngspice")
-        .arg("-b")
-        .arg(&cir)
-        .output()
-    {
+    std::fs::write(&cir, format!("{body}\n.control\n{control}\nquit\n.endc\n.end\n")).ok()?;
+    let out = match std::process::Command::new("ngspice").arg("-b").arg(&cir).output() {
         Ok(o) => o,
         Err(e) => {
             println!("skipped: ngspice cannot be run ({e}); `cargo xtask setup` installs it (Debian package ngspice)");
@@ -59,12 +45,7 @@ pub fn run(deck: &str, control: &str) -> Option<(String, PathBuf)> {
         }
     };
     let text = String::from_utf8_lossy(&out.stdout).to_string();
-    assert!(
-        out.status.success(),
-        "ngspice failed on {}:\n{text}\n{}",
-        cir.display(),
-        String::from_utf8_lossy(&out.stderr)
-    );
+    assert!(out.status.success(), "ngspice failed on {}:\n{text}\n{}", cir.display(), String::from_utf8_lossy(&out.stderr));
     Some((text, dir))
 }
 
@@ -72,19 +53,12 @@ pub fn run(deck: &str, control: &str) -> Option<(String, PathBuf)> {
 /// `wrdata` writes for `vectors` (e.g. `v(out) v(field)`): the sweep variable or time first, then one
 /// column per vector. `None` when ngspice cannot be run.
 pub fn table(deck: &str, analysis: &str, vectors: &str) -> Option<Vec<Vec<f64>>> {
-    let (_, dir) = run(
-        deck,
-        &format!("set wr_singlescale\n{analysis}\nwrdata {{dir}}/data.txt {vectors}"),
-    )?;
+    let (_, dir) = run(deck, &format!("set wr_singlescale\n{analysis}\nwrdata {{dir}}/data.txt {vectors}"))?;
     let data = dir.join("data.txt");
     let rows = std::fs::read_to_string(&data).unwrap_or_else(|e| panic!("{}: {e}", data.display()));
     Some(
         rows.lines()
-            .map(|l| {
-                l.split_whitespace()
-                    .filter_map(|x| x.parse::<f64>().ok())
-                    .collect::<Vec<f64>>()
-            })
+            .map(|l| l.split_whitespace().filter_map(|x| x.parse::<f64>().ok()).collect::<Vec<f64>>())
             .filter(|r| !r.is_empty())
             .collect(),
     )
@@ -94,12 +68,7 @@ pub fn table(deck: &str, analysis: &str, vectors: &str) -> Option<Vec<Vec<f64>>>
 pub fn dc_sweep(deck: &str, from: f64, to: f64) -> Option<Vec<(f64, f64)>> {
     let step = if to > from { 1e-3 } else { -1e-3 };
     let rows = table(deck, &format!("dc VIN {from} {to} {step}"), "v(out)")?;
-    Some(
-        rows.iter()
-            .filter(|r| r.len() >= 2)
-            .map(|r| (r[0], r[1]))
-            .collect(),
-    )
+    Some(rows.iter().filter(|r| r.len() >= 2).map(|r| (r[0], r[1])).collect())
 }
 
 /// The value printed by ngspice's `print v(node)` ("v(n) = 3.000000e+00").
@@ -107,9 +76,7 @@ pub fn printed(text: &str, name: &str) -> f64 {
     text.lines()
         .find_map(|l| {
             let (k, v) = l.split_once('=')?;
-            (k.trim() == name)
-                .then(|| v.trim().parse::<f64>().ok())
-                .flatten()
+            (k.trim() == name).then(|| v.trim().parse::<f64>().ok()).flatten()
         })
         .unwrap_or_else(|| panic!("no {name} in:\n{text}"))
 }
@@ -119,8 +86,7 @@ pub fn printed(text: &str, name: &str) -> f64 {
 pub fn crossing_after(rows: &[(f64, f64)], level: f64, after: f64) -> Option<f64> {
     rows.windows(2).find_map(|w| {
         let ((x0, y0), (x1, y1)) = (w[0], w[1]);
-        (x0 >= after && (y0 - level) * (y1 - level) <= 0.0 && y0 != y1)
-            .then(|| x0 + (level - y0) * (x1 - x0) / (y1 - y0))
+        (x0 >= after && (y0 - level) * (y1 - level) <= 0.0 && y0 != y1).then(|| x0 + (level - y0) * (x1 - x0) / (y1 - y0))
     })
 }
 

@@ -41,9 +41,7 @@ impl Nodal {
     /// with no path to a held one), which is a mistake in the test that built it.
     pub fn solve(&self) -> Vec<f64> {
         const R0: f64 = 1e4;
-        let unknown: Vec<usize> = (0..self.known.len())
-            .filter(|&i| self.known[i].is_none())
-            .collect();
+        let unknown: Vec<usize> = (0..self.known.len()).filter(|&i| self.known[i].is_none()).collect();
         let row = |node: usize| unknown.iter().position(|&u| u == node);
         let n = unknown.len();
         let mut g = DMatrix::<f64>::zeros(n, n);

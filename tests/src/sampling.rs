@@ -9,10 +9,7 @@ pub struct Lcg(pub u64);
 impl Lcg {
     /// The next value, uniform in [0, 1).
     pub fn next_f64(&mut self) -> f64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
+        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
         (self.0 >> 11) as f64 / (1u64 << 53) as f64
     }
 
@@ -51,16 +48,8 @@ pub fn random_comparator(g: &mut Lcg, split: bool) -> Comparator {
         offset_v: g.uniform(-5e-3, 5e-3),
         bias_plus_a: g.uniform(-100e-9, 100e-9),
         bias_minus_a: g.uniform(-100e-9, 100e-9),
-        builtin_hysteresis_v: if g.chance(0.5) {
-            0.0
-        } else {
-            g.uniform(0.0, 0.01)
-        },
-        source_resistance_ohm: if g.chance(0.3) {
-            0.0
-        } else {
-            g.uniform(0.0, 5e3)
-        },
+        builtin_hysteresis_v: if g.chance(0.5) { 0.0 } else { g.uniform(0.0, 0.01) },
+        source_resistance_ohm: if g.chance(0.3) { 0.0 } else { g.uniform(0.0, 5e3) },
         ..Comparator::default()
     }
 }

@@ -7,9 +7,7 @@ use tokio::net::TcpListener;
 
 /// The workspace's `dist/` folder.
 pub fn dist_dir() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("..")
-        .join("dist")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("..").join("dist")
 }
 
 fn mime(path: &Path) -> &'static str {
@@ -38,9 +36,7 @@ pub async fn serve_stoppable(root: PathBuf) -> std::io::Result<(String, tokio::t
     let port = listener.local_addr()?.port();
     let accept = tokio::spawn(async move {
         loop {
-            let Ok((mut sock, _)) = listener.accept().await else {
-                continue;
-            };
+            let Ok((mut sock, _)) = listener.accept().await else { continue };
             let root = root.clone();
             tokio::spawn(async move {
                 let mut buf = vec![0u8; 8192];

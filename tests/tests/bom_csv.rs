@@ -27,10 +27,7 @@ fn parse_rfc4180(text: &str) -> Vec<Vec<String>> {
                     field.push('"');
                 } else {
                     quoted = false;
-                    assert!(
-                        matches!(chars.peek(), Some(',') | Some('\r') | None),
-                        "text after a closing quote"
-                    );
+                    assert!(matches!(chars.peek(), Some(',') | Some('\r') | None), "text after a closing quote");
                 }
             } else {
                 field.push(c);
@@ -61,10 +58,7 @@ fn parse_rfc4180(text: &str) -> Vec<Vec<String>> {
         }
     }
     assert!(!quoted, "unterminated quoted field");
-    assert!(
-        record.is_empty() && field.is_empty(),
-        "last record lacks its CRLF"
-    );
+    assert!(record.is_empty() && field.is_empty(), "last record lacks its CRLF");
     records
 }
 
@@ -96,17 +90,11 @@ fn csv_reads_back_field_for_field() {
     // (output low: P = (5/120)/(1/120 + 1/113 + 1/10k) = 2.411 V) dissipates 55.9 mW; 2× that
     // (common practice) needs the 0.125 W rating.
     let node_p = (5.0 / 120.0) / (1.0 / 120.0 + 1.0 / 113.0 + 1.0 / 10e3);
-    assert!(
-        (b.resistors[0].max_power_w.unwrap() - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs()
-            < 1e-12
-    );
+    assert!((b.resistors[0].max_power_w.unwrap() - (5.0 - node_p) * (5.0 - node_p) / 120.0).abs() < 1e-12);
     assert_eq!(rows[2][2], "110R");
     assert!(rows[2][12].contains("rounded"));
     assert_eq!(rows[1][8], "0.125");
-    assert!(
-        rows[1][12].contains(','),
-        "a note with a comma exercises the quoting"
-    );
+    assert!(rows[1][12].contains(','), "a note with a comma exercises the quoting");
     let device = rows.last().unwrap();
     assert_eq!(device[0], "U1");
     assert!(device[1].contains("push-pull"));
@@ -125,9 +113,7 @@ fn json_entry_point_carries_bom_and_search() {
         "search": {"series": "e24", "top_n": 3}
     }"#;
     let out = evaluate_json(record).unwrap();
-    let RecordResult::Ok(e) = &out[0] else {
-        panic!("{out:?}")
-    };
+    let RecordResult::Ok(e) = &out[0] else { panic!("{out:?}") };
     assert!(e.errors.is_empty(), "{:?}", e.errors);
     let b = e.bom.as_ref().unwrap();
     assert_eq!(b.settings.series.to_string(), "E96");
@@ -143,8 +129,6 @@ fn json_entry_point_carries_bom_and_search() {
     // A record without the new fields still loads, with a part list and no search.
     let old = r#"{"schema_version":1,"name":"a","circuit":{"topology":"inverting","ra_ohm":10000,"rail_a":"supply","rb_ohm":10000,"rail_b":"ground","rf_ohm":20000,"device":{"supply_v":5}}}"#;
     let out = evaluate_json(old).unwrap();
-    let RecordResult::Ok(e) = &out[0] else {
-        panic!("{out:?}")
-    };
+    let RecordResult::Ok(e) = &out[0] else { panic!("{out:?}") };
     assert!(e.bom.is_some() && e.search.is_none());
 }

@@ -29,20 +29,16 @@ fn percentile(sorted: &[f64], p: f64) -> f64 {
 /// in milliseconds; checks that it gives the yield the page shows.
 async fn native_monte_carlo_ms(s: &browser::Session) -> f64 {
     let v = s
-        .js(
-            r#"const open = document.querySelector('#design-list li.open').dataset.id;
-               return JSON.parse(localStorage.getItem('hysteron/design/' + open)).record;"#,
-        )
+        .js(r#"const open = document.querySelector('#design-list li.open').dataset.id;
+               return JSON.parse(localStorage.getItem('hysteron/design/' + open)).record;"#)
         .await;
-    let record =
-        hysteron_core::record::DesignRecord::from_value(v).expect("stored record reads back");
+    let record = hysteron_core::record::DesignRecord::from_value(v).expect("stored record reads back");
     let settings = record.tolerance.clone().unwrap_or_default();
     assert_eq!(settings.monte_carlo.trials, 100_000);
     let mut best = f64::INFINITY;
     for _ in 0..3 {
         let t0 = std::time::Instant::now();
-        let r = hysteron_core::tolerance::monte_carlo::monte_carlo(&record.circuit, &settings)
-            .expect("native run");
+        let r = hysteron_core::tolerance::monte_carlo::monte_carlo(&record.circuit, &settings).expect("native run");
         best = best.min(t0.elapsed().as_secs_f64() * 1e3);
         assert_eq!(r.trials, 100_000);
     }
@@ -57,14 +53,9 @@ async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64) {
     let origin = s.base.trim_end_matches('/').to_string();
     let (mut mounted, mut painted) = (Vec::new(), Vec::new());
     for _ in 0..n {
-        s.devtools(
-            "Storage.clearDataForOrigin",
-            serde_json::json!({"origin": origin, "storageTypes": "all"}),
-        )
-        .await;
+        s.devtools("Storage.clearDataForOrigin", serde_json::json!({"origin": origin, "storageTypes": "all"})).await;
         s.devtools("Network.enable", serde_json::json!({})).await;
-        s.devtools("Network.clearBrowserCache", serde_json::json!({}))
-            .await;
+        s.devtools("Network.clearBrowserCache", serde_json::json!({})).await;
         s.client.goto("about:blank").await.expect("leave the page");
         s.client.goto(&s.base).await.expect("open the page");
         let v = browser::wait_until("the page to mount and paint", std::time::Duration::from_secs(20), || async {
@@ -138,111 +129,62 @@ async fn timed_runs_in_the_browser() {
         )
         .await
         .expect("latency script");
-    let mut lat: Vec<f64> = times
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|v| v.as_f64().unwrap_or(-1.0))
-        .collect();
-    assert!(
-        lat.iter().all(|&x| x >= 0.0),
-        "some edits did not update the results within one task: {lat:?}"
-    );
+    let mut lat: Vec<f64> = times.as_array().unwrap().iter().map(|v| v.as_f64().unwrap_or(-1.0)).collect();
+    assert!(lat.iter().all(|&x| x >= 0.0), "some edits did not update the results within one task: {lat:?}");
     lat.sort_by(|a, b| a.total_cmp(b));
     let (p50, p95) = (percentile(&lat, 0.5), percentile(&lat, 0.95));
 
     // Monte Carlo, 100,000 trials, in slices.
     s.type_into("#mc-trials", "100k").await;
-    s.wait_stored("r.tolerance.monte_carlo.trials === 100000")
-        .await;
+    s.wait_stored("r.tolerance.monte_carlo.trials === 100000").await;
     s.wait_for("#mc-run").await.click().await.unwrap();
     let summary = s.text("#mc-summary").await;
     assert!(summary.starts_with("100000 trials"), "{summary}");
-    let mc_ms: f64 = summary
-        .split(" in ")
-        .nth(1)
-        .and_then(|x| x.split(" ms").next())
-        .and_then(|x| x.trim().parse().ok())
-        .unwrap_or(f64::NAN);
+    let mc_ms: f64 = summary.split(" in ").nth(1).and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
     let native_mc_ms = native_monte_carlo_ms(&s).await;
 
     // E96 over 1 kΩ–1 MΩ for the three-resistor inverting form (the default range).
-    s.wait_for("#search-series")
-        .await
-        .select_by_value("E96")
-        .await
-        .unwrap();
+    s.wait_for("#search-series").await.select_by_value("E96").await.unwrap();
     s.wait_for("#find-parts").await.click().await.unwrap();
     let note = s.text("#search-summary").await;
     assert!(note.contains("E96"), "{note}");
-    let search_ms: f64 = note
-        .rsplit('(')
-        .next()
-        .and_then(|x| x.split(" ms").next())
-        .and_then(|x| x.trim().parse().ok())
-        .unwrap_or(f64::NAN);
+    let search_ms: f64 = note.rsplit('(').next().and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
 
     // A 1,000,000-sample signal pass (generation, noise, design and baseline triggers).
     s.type_into("#sig-rate", "1M").await;
     s.type_into("#sig-duration", "1").await;
-    s.wait_stored("r.signal.sample_rate_hz === 1e6 && r.signal.duration_s === 1")
-        .await;
+    s.wait_stored("r.signal.sample_rate_hz === 1e6 && r.signal.duration_s === 1").await;
     s.wait_for("#signal-run").await.click().await.unwrap();
     let el = s.wait_for("#signal-time").await;
-    let signal_ms: f64 = el
-        .attr("data-ms")
-        .await
-        .unwrap()
-        .unwrap_or_default()
-        .parse()
-        .unwrap_or(f64::NAN);
+    let signal_ms: f64 = el.attr("data-ms").await.unwrap().unwrap_or_default().parse().unwrap_or(f64::NAN);
     let text = el.text().await.unwrap_or_default();
     assert!(text.starts_with("1000000 samples"), "{text}");
 
     // A 10,000,000-sample signal test, watched by a long-task observer.
     s.type_into("#sig-rate", "10M").await;
-    s.wait_stored("r.signal.sample_rate_hz === 1e7 && r.signal.duration_s === 1")
-        .await;
+    s.wait_stored("r.signal.sample_rate_hz === 1e7 && r.signal.duration_s === 1").await;
     let supported = s
         .js(r#"window.__long = [];
                new PerformanceObserver(l => { for (const e of l.getEntries()) window.__long.push(e.duration); })
                  .observe({ type: 'longtask' });
                return PerformanceObserver.supportedEntryTypes.includes('longtask');"#)
         .await;
-    assert_eq!(
-        supported,
-        serde_json::Value::Bool(true),
-        "long-task entries unsupported"
-    );
-    s.js(
-        "window.__t0 = performance.now(); document.querySelector('#signal-run').click(); return 0;",
-    )
-    .await;
+    assert_eq!(supported, serde_json::Value::Bool(true), "long-task entries unsupported");
+    s.js("window.__t0 = performance.now(); document.querySelector('#signal-run').click(); return 0;").await;
     let wall_ms = browser::wait_until("the 10 M-sample signal test to finish", std::time::Duration::from_secs(120), || async {
         let v = s.js("const e = document.querySelector('#signal-time'); return e && e.textContent.startsWith('10000000 samples') && !document.querySelector('#signal-progress') ? performance.now() - window.__t0 : null;").await;
         v.as_f64().ok_or(v.to_string())
     })
     .await;
-    let ten_m_ms: f64 = s
-        .wait_for("#signal-time")
-        .await
-        .attr("data-ms")
-        .await
-        .unwrap()
-        .unwrap_or_default()
-        .parse()
-        .unwrap_or(f64::NAN);
+    let ten_m_ms: f64 = s.wait_for("#signal-time").await.attr("data-ms").await.unwrap().unwrap_or_default().parse().unwrap_or(f64::NAN);
     // Let the result's drawing run before reading the observer.
-    s.js("return new Promise(r => requestAnimationFrame(() => setTimeout(() => r(0), 200)));")
-        .await;
-    let long: Vec<f64> =
-        serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
+    s.js("return new Promise(r => requestAnimationFrame(() => setTimeout(() => r(0), 200)));").await;
+    let long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
     let longest = long.iter().cloned().fold(0.0, f64::max);
 
     // The noise sweep of the 1 M-sample signal (spread over the workers by level).
     s.type_into("#sig-rate", "1M").await;
-    s.wait_stored("r.signal.sample_rate_hz === 1e6 && r.signal.duration_s === 1")
-        .await;
+    s.wait_stored("r.signal.sample_rate_hz === 1e6 && r.signal.duration_s === 1").await;
     s.wait_for("#signal-sweep").await.click().await.unwrap();
     let sweep_ms = browser::wait_until("the noise sweep to finish", std::time::Duration::from_secs(120), || async {
         let v = s.js("const e = document.querySelector('#sweep'); const t = document.querySelector('#signal-time'); return e && t && t.textContent.startsWith('1000000 samples') && !document.querySelector('#signal-progress') ? +t.dataset.ms : null;").await;
@@ -256,22 +198,15 @@ async fn timed_runs_in_the_browser() {
     let csv = dir.join("capture-1m.csv");
     let text = hysteron_tests::captures::sine_capture_csv("time_s;volts", 1_000_000, 1e-6);
     std::fs::write(&csv, text).expect("write the capture");
-    s.js("window.__long = []; window.__t0 = performance.now(); return 0;")
-        .await;
-    s.wait_for("#csv-file")
-        .await
-        .send_keys(csv.to_str().unwrap_or_default())
-        .await
-        .expect("choose the capture");
+    s.js("window.__long = []; window.__t0 = performance.now(); return 0;").await;
+    s.wait_for("#csv-file").await.send_keys(csv.to_str().unwrap_or_default()).await.expect("choose the capture");
     let import_ms = browser::wait_until("the 1 M-row import to finish", std::time::Duration::from_secs(120), || async {
         let v = s.js("const e = document.querySelector('#csv-status'); return e && e.textContent.includes('1000000 samples') ? performance.now() - window.__t0 : null;").await;
         v.as_f64().ok_or(v.to_string())
     })
     .await;
-    s.js("return new Promise(r => requestAnimationFrame(() => setTimeout(() => r(0), 200)));")
-        .await;
-    let import_long: Vec<f64> =
-        serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
+    s.js("return new Promise(r => requestAnimationFrame(() => setTimeout(() => r(0), 200)));").await;
+    let import_long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
     let _ = std::fs::remove_dir_all(&dir);
 
     // Opening each demo: the length of the task that the click runs (to the next task), and the
@@ -279,11 +214,7 @@ async fn timed_runs_in_the_browser() {
     let mut opens = Vec::new();
     s.js("window.__long = []; return 0;").await;
     for demo in hysteron_core::catalog::demos() {
-        s.wait_for("#starter-choice")
-            .await
-            .select_by_value(&format!("demo:{}", demo.key))
-            .await
-            .expect("choose a demo");
+        s.wait_for("#starter-choice").await.select_by_value(&format!("demo:{}", demo.key)).await.expect("choose a demo");
         let ms = s
             .client
             .execute_async(
@@ -299,11 +230,9 @@ async fn timed_runs_in_the_browser() {
             .expect("open a demo");
         opens.push(ms.as_f64().unwrap_or(f64::NAN));
         s.wait_js("the demo's results", "const o = document.querySelector('#vt-upper'); return o && o.dataset.value !== '' ? 1 : null;").await;
-        s.js("return new Promise(r => setTimeout(() => r(0), 400));")
-            .await;
+        s.js("return new Promise(r => setTimeout(() => r(0), 400));").await;
     }
-    let open_long: Vec<f64> =
-        serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
+    let open_long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();
     opens.sort_by(|a, b| a.total_cmp(b));
     println!(
         "browser timing: 1M-row CSV import {import_ms:.0} ms, main-thread tasks over 50 ms: {import_long:?}; \
@@ -336,8 +265,7 @@ async fn timed_runs_in_the_browser() {
     let (mut piece_raw, mut piece_packed, mut pieces) = (0, 0, 0);
     for (name, raw, packed) in module_sizes() {
         if name.starts_with("hysteron-split_") || name.starts_with("hysteron-chunk_") {
-            (piece_raw, piece_packed, pieces) =
-                (piece_raw + raw, piece_packed + packed, pieces + 1);
+            (piece_raw, piece_packed, pieces) = (piece_raw + raw, piece_packed + packed, pieces + 1);
         } else {
             println!("browser timing: module {name}: {raw} bytes, {packed} bytes compressed (gzip -9 equivalent)");
         }

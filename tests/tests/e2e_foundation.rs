@@ -8,10 +8,7 @@ use hysteron_tests::browser;
 /// from memory): VT+ = VCC·Rb/(Rb + Ra‖Rf), VT− = VCC·(Rb‖Rf)/(Ra + Rb‖Rf).
 fn closed_form(vcc: f64, ra: f64, rb: f64, rf: f64) -> (f64, f64) {
     let par = |a: f64, b: f64| a * b / (a + b);
-    (
-        vcc * rb / (rb + par(ra, rf)),
-        vcc * par(rb, rf) / (ra + par(rb, rf)),
-    )
+    (vcc * rb / (rb + par(ra, rf)), vcc * par(rb, rf) / (ra + par(rb, rf)))
 }
 
 #[tokio::test(flavor = "multi_thread")]
@@ -26,14 +23,8 @@ async fn typed_parts_give_thresholds_and_persist() {
     let (up, lo) = closed_form(5.0, 4.7e3, 10e3, 22e3);
     let got_up = s.wait_number("#vt-upper", up, 1e-9).await;
     let got_lo = s.wait_number("#vt-lower", lo, 1e-9).await;
-    assert!(
-        (got_up - up).abs() < 1e-9,
-        "VT+ shown {got_up}, expected {up}"
-    );
-    assert!(
-        (got_lo - lo).abs() < 1e-9,
-        "VT− shown {got_lo}, expected {lo}"
-    );
+    assert!((got_up - up).abs() < 1e-9, "VT+ shown {got_up}, expected {up}");
+    assert!((got_lo - lo).abs() < 1e-9, "VT− shown {got_lo}, expected {lo}");
     let width = s.number("#hysteresis").await;
     assert!((width - (up - lo)).abs() < 1e-9);
 
@@ -51,10 +42,7 @@ async fn typed_parts_give_thresholds_and_persist() {
         .await;
     let rising = coloured[0].as_u64().unwrap_or(0);
     let falling = coloured[1].as_u64().unwrap_or(0);
-    assert!(
-        rising > 200 && falling > 200,
-        "transfer curve not drawn: {rising} teal (rising), {falling} madder (falling) pixels"
-    );
+    assert!(rising > 200 && falling > 200, "transfer curve not drawn: {rising} teal (rising), {falling} madder (falling) pixels");
 
     // Editing a part redraws the curve: the VT+ line moves, so the picture changes.
     let picture = r#"const c = document.querySelector('#transfer-plot');
@@ -65,10 +53,7 @@ async fn typed_parts_give_thresholds_and_persist() {
     let (up47, _) = closed_form(5.0, 4.7e3, 10e3, 47e3);
     s.wait_number("#vt-upper", up47, 1e-9).await;
     let after = s.js(picture).await;
-    assert_ne!(
-        before, after,
-        "the transfer curve did not change after an edit"
-    );
+    assert_ne!(before, after, "the transfer curve did not change after an edit");
     s.type_into("#field-rf_ohm", "22k").await;
     s.wait_number("#vt-upper", up, 1e-9).await;
 
@@ -77,26 +62,16 @@ async fn typed_parts_give_thresholds_and_persist() {
     let msg = s.text("#field-rf_ohm-error").await;
     assert!(!msg.is_empty(), "no message at the field for bad input");
     let unchanged = s.number("#vt-upper").await;
-    let field = s
-        .js("return document.querySelector('#field-rf_ohm').value")
-        .await;
-    assert!(
-        (unchanged - up).abs() < 1e-9,
-        "bad input changed VT+ to {unchanged} (field holds {field}, message {msg:?})"
-    );
+    let field = s.js("return document.querySelector('#field-rf_ohm').value").await;
+    assert!((unchanged - up).abs() < 1e-9, "bad input changed VT+ to {unchanged} (field holds {field}, message {msg:?})");
 
     // The design persisted: after a reload the same thresholds come back from local storage.
     s.type_into("#field-rf_ohm", "22k").await;
     s.wait_number("#vt-upper", up, 1e-9).await;
     s.reload().await;
     let after = s.wait_number("#vt-upper", up, 1e-9).await;
-    assert!(
-        (after - up).abs() < 1e-9,
-        "after reload VT+ is {after}, expected {up}"
-    );
-    let stored = s
-        .js("return Object.keys(localStorage).filter(k => k.startsWith('hysteron/design/')).length")
-        .await;
+    assert!((after - up).abs() < 1e-9, "after reload VT+ is {after}, expected {up}");
+    let stored = s.js("return Object.keys(localStorage).filter(k => k.startsWith('hysteron/design/')).length").await;
     assert_eq!(stored.as_u64(), Some(1));
     s.close().await;
 }

@@ -18,12 +18,7 @@ async fn cdp(s: &Session, cmd: &str, params: serde_json::Value) -> serde_json::V
 /// waits until the page sees that size.
 async fn viewport(s: &Session, width: u32, height: u32, dpr: f64) {
     // Phones draw scrollbars over the page: the layout width is the whole screen width.
-    cdp(
-        s,
-        "Emulation.setScrollbarsHidden",
-        serde_json::json!({"hidden": true}),
-    )
-    .await;
+    cdp(s, "Emulation.setScrollbarsHidden", serde_json::json!({"hidden": true})).await;
     cdp(
         s,
         "Emulation.setDeviceMetricsOverride",
@@ -38,26 +33,16 @@ async fn viewport(s: &Session, width: u32, height: u32, dpr: f64) {
 }
 
 fn screenshot_dir() -> PathBuf {
-    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("..")
-        .join("target")
-        .join("screenshots");
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..").join("target").join("screenshots");
     std::fs::create_dir_all(&dir).expect("create target/screenshots");
     dir
 }
 
 /// Saves the whole page (beyond the viewport) as a PNG.
 async fn screenshot(s: &Session, name: &str) {
-    let shot = cdp(
-        s,
-        "Page.captureScreenshot",
-        serde_json::json!({"format": "png", "captureBeyondViewport": true}),
-    )
-    .await;
+    let shot = cdp(s, "Page.captureScreenshot", serde_json::json!({"format": "png", "captureBeyondViewport": true})).await;
     let data = shot["data"].as_str().unwrap_or_default();
-    let png = base64::engine::general_purpose::STANDARD
-        .decode(data)
-        .expect("screenshot is base64");
+    let png = base64::engine::general_purpose::STANDARD.decode(data).expect("screenshot is base64");
     assert!(png.len() > 1000, "screenshot {name} is empty");
     std::fs::write(screenshot_dir().join(format!("{name}.png")), png).expect("write screenshot");
 }
@@ -87,8 +72,7 @@ const OVERFLOW_JS: &str = r#"
 
 /// Opens every folded study and waits until the worst-case table and the part list are shown.
 async fn open_studies(s: &Session) {
-    s.js("document.querySelectorAll('details.study').forEach(d => d.open = true); return true;")
-        .await;
+    s.js("document.querySelectorAll('details.study').forEach(d => d.open = true); return true;").await;
     s.wait_js(
         "the worst-case table and the part list to be shown",
         "const a = document.querySelector('#worst-case, #tolerance-error'); const b = document.querySelector('#bom, #bom-error'); \
@@ -109,20 +93,10 @@ async fn plots_fit(s: &Session, what: &str) {
          const bad = shown.filter(c => c.width !== Math.round(c.clientWidth * devicePixelRatio) || c.height !== Math.round(c.clientHeight * devicePixelRatio)) \
              .map(c => (c.id || c.className) + ' ' + c.width + '×' + c.height + ' for ' + c.clientWidth + '×' + c.clientHeight + ' at ' + devicePixelRatio); \
          return { shown: shown.length, bad };";
-    browser::wait_until(
-        &format!("the plots to be drawn at CSS size × devicePixelRatio ({what})"),
-        browser::WAIT,
-        || async {
-            let v = s.js(script).await;
-            if v["shown"].as_u64().unwrap_or(0) > 0
-                && v["bad"].as_array().is_some_and(|b| b.is_empty())
-            {
-                Ok(())
-            } else {
-                Err(v.to_string())
-            }
-        },
-    )
+    browser::wait_until(&format!("the plots to be drawn at CSS size × devicePixelRatio ({what})"), browser::WAIT, || async {
+        let v = s.js(script).await;
+        if v["shown"].as_u64().unwrap_or(0) > 0 && v["bad"].as_array().is_some_and(|b| b.is_empty()) { Ok(()) } else { Err(v.to_string()) }
+    })
     .await;
 }
 
@@ -157,12 +131,7 @@ async fn no_element_wider_than_a_phone_screen_and_screenshots_of_every_demo() {
                  return [...document.querySelectorAll('table.grid td, .key-value')].filter(td => !td.classList.contains('notes') && !td.hasAttribute('colspan') \
                  && /\\d/.test(td.textContent) && td.getClientRects().length > 0 && lines(td) > 1).map(td => td.textContent).slice(0, 5);")
             .await;
-        assert_eq!(
-            broken,
-            serde_json::json!([]),
-            "{}: values wrapped across lines",
-            demo.key
-        );
+        assert_eq!(broken, serde_json::json!([]), "{}: values wrapped across lines", demo.key);
         close_studies(&s).await;
     }
     s.close().await;
@@ -179,11 +148,7 @@ fn in_view_js(css: &str) -> String {
 
 async fn assert_in_view(s: &Session, css: &str, context: &str) {
     let v = s.js(&in_view_js(css)).await;
-    assert_eq!(
-        v,
-        serde_json::Value::Bool(true),
-        "{css} not wholly in view {context}: {v}"
-    );
+    assert_eq!(v, serde_json::Value::Bool(true), "{css} not wholly in view {context}: {v}");
 }
 
 #[tokio::test(flavor = "multi_thread")]
@@ -194,25 +159,11 @@ async fn results_and_curve_stay_in_view_while_editing() {
     // Fields from the top of the inputs to the bottom: the part list's package choice, a tolerance
     // field (inside its fold) and the last circuit field. Each is focused the way a user reaches it
     // (the page scrolls to it); the key results and the curve must stay wholly in view.
-    for css in [
-        "#field-supply_v",
-        "#tol-resistor",
-        "#bom-package",
-        "#mc-trials",
-    ] {
+    for css in ["#field-supply_v", "#tol-resistor", "#bom-package", "#mc-trials"] {
         let el = s.wait_for(css).await;
-        s.js(&format!(
-            "document.querySelector('{css}').scrollIntoView({{block: 'center'}}); return true;"
-        ))
-        .await;
-        el.click()
-            .await
-            .unwrap_or_else(|e| panic!("click {css}: {e}"));
-        s.wait_js(
-            &format!("{css} to have the focus"),
-            &format!("return document.activeElement === document.querySelector('{css}');"),
-        )
-        .await;
+        s.js(&format!("document.querySelector('{css}').scrollIntoView({{block: 'center'}}); return true;")).await;
+        el.click().await.unwrap_or_else(|e| panic!("click {css}: {e}"));
+        s.wait_js(&format!("{css} to have the focus"), &format!("return document.activeElement === document.querySelector('{css}');")).await;
         let scrolled = s.js("return window.scrollY;").await;
         let context = format!("with {css} focused at 1400 × 1000 (page scrolled to {scrolled})");
         assert_in_view(&s, "#key-figures", &context).await;
@@ -229,25 +180,17 @@ async fn results_and_curve_stay_in_view_while_editing() {
     // field far down is focused.
     viewport(&s, 390, 844, 2.0).await;
     let el = s.wait_for("#mc-trials").await;
-    s.js("document.querySelector('#mc-trials').scrollIntoView({block: 'center'}); return true;")
-        .await;
+    s.js("document.querySelector('#mc-trials').scrollIntoView({block: 'center'}); return true;").await;
     el.click().await.expect("click the trials field");
     let context = "with #mc-trials focused at 390 × 844";
     assert_in_view(&s, "#key-strip", context).await;
     let strip = s.text("#key-strip").await;
-    assert!(
-        strip.contains("VT+") && strip.contains("VT−") && strip.contains("hysteresis"),
-        "{strip}"
-    );
+    assert!(strip.contains("VT+") && strip.contains("VT−") && strip.contains("hysteresis"), "{strip}");
     assert_in_view(&s, "#mc-trials", context).await;
     let covered = s
         .js("const f = document.querySelector('#mc-trials').getBoundingClientRect(); const k = document.querySelector('#key-strip').getBoundingClientRect(); return f.top < k.bottom;")
         .await;
-    assert_eq!(
-        covered,
-        serde_json::Value::Bool(false),
-        "the key strip covers the focused field"
-    );
+    assert_eq!(covered, serde_json::Value::Bool(false), "the key strip covers the focused field");
     s.close().await;
 }
 
@@ -259,43 +202,21 @@ async fn plots_are_drawn_at_screen_size_times_pixel_ratio() {
     let size = "const c = document.querySelector('#transfer-plot'); return [c.width, c.height, c.clientWidth, c.clientHeight];";
     plots_fit(&s, "transfer curve at 1400 px, ratio 2").await;
     let wide = s.js(size).await;
-    assert!(
-        wide[2].as_f64().unwrap_or(0.0) >= 300.0,
-        "the transfer curve is only {wide} wide"
-    );
+    assert!(wide[2].as_f64().unwrap_or(0.0) >= 300.0, "the transfer curve is only {wide} wide");
     // A narrower window: the curve is redrawn at its new size, not stretched.
     viewport(&s, 700, 900, 1.5).await;
     plots_fit(&s, "transfer curve at 700 px, ratio 1.5").await;
     let narrow = s.js(size).await;
-    assert_ne!(
-        wide[2], narrow[2],
-        "the curve kept its width when the window narrowed"
-    );
+    assert_ne!(wide[2], narrow[2], "the curve kept its width when the window narrowed");
 
     // Histograms appear (in the opened tolerance fold) at their own size.
     viewport(&s, 1400, 1000, 2.0).await;
-    s.wait_for("#mc-run")
-        .await
-        .click()
-        .await
-        .expect("run Monte Carlo");
-    s.wait_js(
-        "the histograms to be shown",
-        "const c = document.querySelector('#hist-vt-upper'); return c && c.clientWidth > 0;",
-    )
-    .await;
+    s.wait_for("#mc-run").await.click().await.expect("run Monte Carlo");
+    s.wait_js("the histograms to be shown", "const c = document.querySelector('#hist-vt-upper'); return c && c.clientWidth > 0;").await;
     plots_fit(&s, "histograms").await;
     // The time view of the signal test, with its lanes.
-    s.wait_for("#signal-run")
-        .await
-        .click()
-        .await
-        .expect("run the signal test");
-    s.wait_js(
-        "the time view to be shown",
-        "const c = document.querySelector('#time-plot'); return c && c.clientWidth > 0;",
-    )
-    .await;
+    s.wait_for("#signal-run").await.click().await.expect("run the signal test");
+    s.wait_js("the time view to be shown", "const c = document.querySelector('#time-plot'); return c && c.clientWidth > 0;").await;
     plots_fit(&s, "time view").await;
     // Zooming redraws at the same backing size (no stretched bitmap).
     s.wait_for("#zoom-in").await.click().await.expect("zoom in");
@@ -317,16 +238,8 @@ async fn plots_follow_a_change_of_the_pixel_ratio_alone() {
     viewport(&s, 1400, 1000, 1.0).await;
     s.add_starter("demo:lathe-tachometer").await;
     // A second plot kind with its own redraw: the Monte Carlo histograms.
-    s.wait_for("#mc-run")
-        .await
-        .click()
-        .await
-        .expect("run Monte Carlo");
-    s.wait_js(
-        "the histograms to be shown",
-        "const c = document.querySelector('#hist-vt-upper'); return c && c.clientWidth > 0;",
-    )
-    .await;
+    s.wait_for("#mc-run").await.click().await.expect("run Monte Carlo");
+    s.wait_js("the histograms to be shown", "const c = document.querySelector('#hist-vt-upper'); return c && c.clientWidth > 0;").await;
     plots_fit(&s, "ratio 1").await;
     let size = "return ['#transfer-plot', '#hist-vt-upper'].map(q => { const c = document.querySelector(q); return [c.width, c.height, c.clientWidth, c.clientHeight]; });";
     let at_one = s.js(size).await;
@@ -335,17 +248,9 @@ async fn plots_follow_a_change_of_the_pixel_ratio_alone() {
         plots_fit(&s, &format!("ratio {dpr} at the same window size")).await;
         let now = s.js(size).await;
         for k in 0..2 {
-            assert_eq!(
-                now[k][2], at_one[k][2],
-                "plot {k}: the CSS width changed with the ratio alone"
-            );
+            assert_eq!(now[k][2], at_one[k][2], "plot {k}: the CSS width changed with the ratio alone");
             let css_w = now[k][2].as_f64().unwrap_or(0.0);
-            assert_eq!(
-                now[k][0].as_f64(),
-                Some((css_w * dpr).round()),
-                "plot {k} at ratio {dpr}: {}",
-                now[k]
-            );
+            assert_eq!(now[k][0].as_f64(), Some((css_w * dpr).round()), "plot {k} at ratio {dpr}: {}", now[k]);
         }
     }
     s.close().await;
@@ -358,8 +263,7 @@ async fn part_list_shows_every_column_at_1400_px_and_fits_at_390_px() {
         viewport(&s, 1400, 1000, 1.0).await;
         s.add_starter(&format!("demo:{demo}")).await;
         open_studies(&s).await;
-        s.js("document.querySelector('#bom').scrollIntoView(); return 1;")
-            .await;
+        s.js("document.querySelector('#bom').scrollIntoView(); return 1;").await;
         // No column scrolls out of view: the table needs no sideways scrolling in its box, and
         // every heading lies inside the card.
         let seen = s
@@ -368,8 +272,7 @@ async fn part_list_shows_every_column_at_1400_px_and_fits_at_390_px() {
                  return { scroll: t.scrollWidth, client: t.clientWidth, out };")
             .await;
         assert!(
-            seen["scroll"].as_f64() <= seen["client"].as_f64().map(|c| c + 1.0)
-                && seen["out"].as_array().is_some_and(|o| o.is_empty()),
+            seen["scroll"].as_f64() <= seen["client"].as_f64().map(|c| c + 1.0) && seen["out"].as_array().is_some_and(|o| o.is_empty()),
             "{demo}: at 1400 px the part list scrolls or hides columns: {seen}"
         );
         // The oscillator's and debouncer's lines are no taller than a resistor's line.
@@ -377,36 +280,19 @@ async fn part_list_shows_every_column_at_1400_px_and_fits_at_390_px() {
             .js("const h = q => [...document.querySelectorAll(q)].map(r => r.getBoundingClientRect().height); \
                  return { r: h('#bom tr.bom-line'), a: h('#bom tr.bom-app-line') };")
             .await;
-        let max = |k: &str| {
-            heights[k]
-                .as_array()
-                .map(|a| a.iter().filter_map(|x| x.as_f64()).fold(0.0, f64::max))
-                .unwrap_or(0.0)
-        };
-        let min_r = heights["r"]
-            .as_array()
-            .map(|a| {
-                a.iter()
-                    .filter_map(|x| x.as_f64())
-                    .fold(f64::INFINITY, f64::min)
-            })
-            .unwrap_or(0.0);
-        assert!(
-            max("a") <= 1.2 * min_r,
-            "{demo}: application lines are tall ({heights})"
-        );
+        let max = |k: &str| heights[k].as_array().map(|a| a.iter().filter_map(|x| x.as_f64()).fold(0.0, f64::max)).unwrap_or(0.0);
+        let min_r = heights["r"].as_array().map(|a| a.iter().filter_map(|x| x.as_f64()).fold(f64::INFINITY, f64::min)).unwrap_or(0.0);
+        assert!(max("a") <= 1.2 * min_r, "{demo}: application lines are tall ({heights})");
         screenshot(&s, &format!("{demo}-partlist-1400")).await;
 
         // At phone width the page is no wider than the screen.
         viewport(&s, 390, 844, 2.0).await;
         let seen = s.js(OVERFLOW_JS).await;
         assert!(
-            seen["bad"].as_array().is_some_and(|b| b.is_empty())
-                && seen["scroll"].as_f64() <= seen["width"].as_f64(),
+            seen["bad"].as_array().is_some_and(|b| b.is_empty()) && seen["scroll"].as_f64() <= seen["width"].as_f64(),
             "{demo}: at 390 px: {seen}"
         );
-        s.js("document.querySelector('#bom').scrollIntoView(); return 1;")
-            .await;
+        s.js("document.querySelector('#bom').scrollIntoView(); return 1;").await;
         screenshot(&s, &format!("{demo}-partlist-390")).await;
         close_studies(&s).await;
     }
@@ -445,17 +331,9 @@ async fn a_plot_in_a_closed_fold_is_drawn_when_the_fold_opens() {
     let s = browser::start().await;
     viewport(&s, 1400, 1000, 2.0).await;
     s.add_starter("demo:lathe-tachometer").await;
-    s.wait_js(
-        "the temperature study to be built in its closed fold",
-        "return !!document.querySelector('#temperature-plot');",
-    )
-    .await;
+    s.wait_js("the temperature study to be built in its closed fold", "return !!document.querySelector('#temperature-plot');").await;
     let folded = s.js("const c = document.querySelector('#temperature-plot'); return [c.closest('details').open, c.width];").await;
-    assert_eq!(
-        folded,
-        serde_json::json!([false, 0]),
-        "the folded plot was drawn (or its fold was open): {folded}"
-    );
+    assert_eq!(folded, serde_json::json!([false, 0]), "the folded plot was drawn (or its fold was open): {folded}");
     s.client
         .find(fantoccini::Locator::Css("#fold-temperature > summary"))
         .await
@@ -469,14 +347,7 @@ async fn a_plot_in_a_closed_fold_is_drawn_when_the_fold_opens() {
                for (let i = 0; i < d.length; i += 4) if (d[i + 3] > 0 && (d[i] < 200 || d[i + 2] < 200)) n++; return n;";
     let inked = s.js(ink).await.as_u64().unwrap_or(0);
     let size = s.js("const c = document.querySelector('#temperature-plot'); return [c.width, c.clientWidth];").await;
-    assert!(
-        inked > 500,
-        "the temperature plot has {inked} inked pixels once shown ({size})"
-    );
-    assert_eq!(
-        size[0].as_f64(),
-        size[1].as_f64().map(|w| (w * 2.0).round()),
-        "backing store {size}"
-    );
+    assert!(inked > 500, "the temperature plot has {inked} inked pixels once shown ({size})");
+    assert_eq!(size[0].as_f64(), size[1].as_f64().map(|w| (w * 2.0).round()), "backing store {size}");
     s.close().await;
 }

@@ -12,10 +12,7 @@ async fn add_starter(s: &Session, value: &str) {
 }
 
 async fn list_len(s: &Session) -> usize {
-    s.js("return document.querySelectorAll('#design-list li').length")
-        .await
-        .as_u64()
-        .unwrap_or(0) as usize
+    s.js("return document.querySelectorAll('#design-list li').length").await.as_u64().unwrap_or(0) as usize
 }
 
 #[tokio::test(flavor = "multi_thread")]
@@ -26,48 +23,22 @@ async fn every_demo_scenario_opens_with_its_thresholds() {
         add_starter(&s, &format!("demo:{}", demo.key)).await;
         let up = s.wait_number("#vt-upper", expected.vt_upper_v, 1e-9).await;
         let lo = s.wait_number("#vt-lower", expected.vt_lower_v, 1e-9).await;
-        assert!(
-            (up - expected.vt_upper_v).abs() < 1e-9,
-            "{}: VT+ {up} vs {}",
-            demo.key,
-            expected.vt_upper_v
-        );
-        assert!(
-            (lo - expected.vt_lower_v).abs() < 1e-9,
-            "{}: VT− {lo} vs {}",
-            demo.key,
-            expected.vt_lower_v
-        );
-        let name = s
-            .js("return document.querySelector('#design-name').value")
-            .await;
+        assert!((up - expected.vt_upper_v).abs() < 1e-9, "{}: VT+ {up} vs {}", demo.key, expected.vt_upper_v);
+        assert!((lo - expected.vt_lower_v).abs() < 1e-9, "{}: VT− {lo} vs {}", demo.key, expected.vt_lower_v);
+        let name = s.js("return document.querySelector('#design-name').value").await;
         assert_eq!(name.as_str(), Some(demo.record().name.as_str()));
         // The list row quotes the thresholds where the signal enters: at the field terminal when
         // the design has an input network, at the trigger's input otherwise.
         let record = demo.record();
-        let (where_, vt) = match hysteron_core::input_network::from_record::record_network(&record)
-        {
-            Some(report) => (
-                "at the field terminal VT+ ",
-                report.expect("network computes").field,
-            ),
+        let (where_, vt) = match hysteron_core::input_network::from_record::record_network(&record) {
+            Some(report) => ("at the field terminal VT+ ", report.expect("network computes").field),
             None => ("VT+ ", expected),
         };
-        let want = format!(
-            "{where_}{:.3} V · VT− {:.3} V",
-            vt.vt_upper_v, vt.vt_lower_v
-        );
-        s.wait_text("#design-list li.open .design-meta", &want, |t| {
-            t.contains(&want)
-        })
-        .await;
+        let want = format!("{where_}{:.3} V · VT− {:.3} V", vt.vt_upper_v, vt.vt_lower_v);
+        s.wait_text("#design-list li.open .design-meta", &want, |t| t.contains(&want)).await;
         if demo.hazardous {
             let caution = s.text("#cautions").await;
-            assert!(
-                caution.contains("codes"),
-                "{}: no safety caution shown",
-                demo.key
-            );
+            assert!(caution.contains("codes"), "{}: no safety caution shown", demo.key);
         }
     }
     // The blank design plus one per demo.
@@ -84,11 +55,7 @@ async fn delete_undo_and_edit_undo_redo() {
     // Delete the open design, then bring it back.
     let del = s.wait_for("#design-list li.open button.del").await;
     del.click().await.unwrap();
-    s.wait_js(
-        "delete to remove the design from the list",
-        "return document.querySelectorAll('#design-list li').length === 1",
-    )
-    .await;
+    s.wait_js("delete to remove the design from the list", "return document.querySelectorAll('#design-list li').length === 1").await;
     s.wait_for("#undo-delete").await.click().await.unwrap();
     s.wait_js(
         "undo to restore the deleted design",
@@ -107,18 +74,10 @@ async fn delete_undo_and_edit_undo_redo() {
     let body = s.wait_for("body").await;
     body.send_keys(&format!("{}z", Key::Control)).await.ok();
     let undone = s.wait_number("#vt-upper", before, 1e-12).await;
-    assert!(
-        (undone - before).abs() < 1e-12,
-        "Ctrl+Z gave {undone}, expected {before}"
-    );
-    body.send_keys(&format!("{}{}z", Key::Control, Key::Shift))
-        .await
-        .ok();
+    assert!((undone - before).abs() < 1e-12, "Ctrl+Z gave {undone}, expected {before}");
+    body.send_keys(&format!("{}{}z", Key::Control, Key::Shift)).await.ok();
     let redone = s.wait_number("#vt-upper", after, 1e-12).await;
-    assert!(
-        (redone - after).abs() < 1e-12,
-        "Ctrl+Shift+Z gave {redone}, expected {after}"
-    );
+    assert!((redone - after).abs() < 1e-12, "Ctrl+Shift+Z gave {redone}, expected {after}");
     s.close().await;
 }
 
@@ -131,14 +90,9 @@ async fn damaged_record_is_set_aside_and_the_rest_keeps_working() {
     s.js("localStorage.setItem('hysteron/design/zzbroken', '{\"envelope_version\":1, \"id\": \"zzbroken\", oops'); return 1;").await;
     s.reload().await;
     let aside = s.text("#set-aside").await;
-    assert!(
-        aside.contains("zzbroken") && aside.contains("damaged"),
-        "no message for the damaged record: {aside}"
-    );
+    assert!(aside.contains("zzbroken") && aside.contains("damaged"), "no message for the damaged record: {aside}");
     // The damaged text is still in storage, untouched.
-    let raw = s
-        .js("return localStorage.getItem('hysteron/design/zzbroken')")
-        .await;
+    let raw = s.js("return localStorage.getItem('hysteron/design/zzbroken')").await;
     assert!(raw.as_str().unwrap_or("").ends_with("oops"));
     // The good designs still load and still compute.
     assert_eq!(list_len(&s).await, 2);
@@ -156,19 +110,14 @@ async fn saved_figures_that_differ_from_todays_math_are_shown_side_by_side() {
     let s = browser::start().await;
     s.wait_for("#field-rf_ohm").await;
     // Rewrite the saved snapshot as if an older version had computed other thresholds.
-    s.js(
-        r#"const k = Object.keys(localStorage).find(k => k.startsWith('hysteron/design/'));
+    s.js(r#"const k = Object.keys(localStorage).find(k => k.startsWith('hysteron/design/'));
             const d = JSON.parse(localStorage.getItem(k));
             d.snapshot.vt_upper_v = 9.876; d.snapshot.computed_by = '0.0.1';
-            localStorage.setItem(k, JSON.stringify(d)); return 1;"#,
-    )
-    .await;
+            localStorage.setItem(k, JSON.stringify(d)); return 1;"#)
+        .await;
     s.reload().await;
     let msg = s.text("#saved-differs").await;
-    assert!(
-        msg.contains("9.8760") && msg.contains("0.0.1"),
-        "comparison not shown: {msg}"
-    );
+    assert!(msg.contains("9.8760") && msg.contains("0.0.1"), "comparison not shown: {msg}");
     s.close().await;
 }
 

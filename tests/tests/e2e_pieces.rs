@@ -12,10 +12,7 @@ fn pieces() -> Vec<String> {
         .expect("list dist/")
         .flatten()
         .map(|e| e.file_name().to_string_lossy().to_string())
-        .filter(|n| {
-            n.ends_with(".wasm")
-                && (n.starts_with("hysteron-split_") || n.starts_with("hysteron-chunk_"))
-        })
+        .filter(|n| n.ends_with(".wasm") && (n.starts_with("hysteron-split_") || n.starts_with("hysteron-chunk_")))
         .collect();
     out.sort();
     out
@@ -25,9 +22,7 @@ fn pieces() -> Vec<String> {
 async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
     let pieces = pieces();
     assert!(
-        pieces
-            .iter()
-            .any(|p| p.starts_with("hysteron-split_tolerance_view-")),
+        pieces.iter().any(|p| p.starts_with("hysteron-split_tolerance_view-")),
         "the page was not built in pieces (cargo xtask build sets HYSTERON_SPLIT=1): {pieces:?}"
     );
 
@@ -38,22 +33,15 @@ async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
         s.wait_for(section).await;
     }
     let fetched = s.js("return performance.getEntriesByType('resource').map(e => e.name).filter(n => n.includes('hysteron-split_')).length").await;
-    assert!(
-        fetched.as_u64().unwrap_or(0) >= 9,
-        "pieces fetched: {fetched}"
-    );
+    assert!(fetched.as_u64().unwrap_or(0) >= 9, "pieces fetched: {fetched}");
     s.close().await;
 
     // A copy of the build without the tolerance study's piece (as after a rebuild while the page
     // was open, or offline before the service worker kept it).
-    let root: PathBuf =
-        std::env::temp_dir().join(format!("hysteron-pieces-dist-{}", std::process::id()));
+    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-pieces-dist-{}", std::process::id()));
     std::fs::remove_dir_all(&root).ok();
     std::fs::create_dir_all(&root).expect("make the copy");
-    for entry in std::fs::read_dir(server::dist_dir())
-        .expect("list dist/")
-        .flatten()
-    {
+    for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
         let name = entry.file_name().to_string_lossy().to_string();
         if entry.path().is_file() && !name.starts_with("hysteron-split_tolerance_view-") {
             std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
@@ -63,24 +51,10 @@ async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
     let s = browser::start_at(base).await;
     s.add_starter("demo:sawmill-end-stop").await;
     // The missing study says so where it would be, in words; everything else is there and works.
-    s.wait_for("#fold-tolerance summary")
-        .await
-        .click()
-        .await
-        .expect("open the tolerance fold");
-    let message = s
-        .wait_text(
-            "#fold-tolerance .error[role=alert]",
-            "the missing piece's message",
-            |t| t.contains("could not be loaded"),
-        )
-        .await;
+    s.wait_for("#fold-tolerance summary").await.click().await.expect("open the tolerance fold");
+    let message = s.wait_text("#fold-tolerance .error[role=alert]", "the missing piece's message", |t| t.contains("could not be loaded")).await;
     assert!(message.contains("Reload the page"), "{message}");
-    assert_eq!(
-        s.js("return document.querySelectorAll('#tolerance').length")
-            .await,
-        0
-    );
+    assert_eq!(s.js("return document.querySelectorAll('#tolerance').length").await, 0);
     s.wait_for("#bom").await;
     s.wait_for("#signal-run").await;
     let vt = s.number("#vt-upper").await;

@@ -29,10 +29,7 @@ async fn stored(s: &Session) -> String {
 
 async fn add_lathe(s: &Session) {
     let select = s.wait_for("#starter-choice").await;
-    select
-        .select_by_value("demo:lathe-tachometer")
-        .await
-        .expect("choose starter");
+    select.select_by_value("demo:lathe-tachometer").await.expect("choose starter");
     s.wait_for("#add-starter").await.click().await.expect("add");
     s.wait_for("#field-rf_ohm").await;
     tokio::time::sleep(Duration::from_millis(200)).await;
@@ -62,31 +59,16 @@ async fn concurrent_edits_in_two_tabs_keep_both_versions() {
     s.js("const f = document.querySelector('#field-rf_ohm'); f.value = '33k'; f.dispatchEvent(new Event('input', { bubbles: true })); return 1;").await;
     tokio::time::sleep(Duration::from_millis(400)).await;
     let all = stored(&s).await;
-    assert!(
-        all.contains("\"Lathe (edited in the other tab)\",150000"),
-        "their version was not kept: {all}"
-    );
-    assert!(
-        all.contains("(this tab's version)\",33000"),
-        "this tab's edit was lost: {all}"
-    );
+    assert!(all.contains("\"Lathe (edited in the other tab)\",150000"), "their version was not kept: {all}");
+    assert!(all.contains("(this tab's version)\",33000"), "this tab's edit was lost: {all}");
     let banner = s.text("#storage-banner").await;
-    assert!(
-        banner.contains("Both versions are kept") && banner.contains("this tab's version"),
-        "{banner}"
-    );
+    assert!(banner.contains("Both versions are kept") && banner.contains("this tab's version"), "{banner}");
     let names = list_names(&s).await;
-    assert!(
-        names.contains("Lathe (edited in the other tab)") && names.contains("this tab's version"),
-        "{names}"
-    );
+    assert!(names.contains("Lathe (edited in the other tab)") && names.contains("this tab's version"), "{names}");
     // Both survive a reload.
     s.reload().await;
     let names = list_names(&s).await;
-    assert!(
-        names.contains("Lathe (edited in the other tab)") && names.contains("this tab's version"),
-        "{names}"
-    );
+    assert!(names.contains("Lathe (edited in the other tab)") && names.contains("this tab's version"), "{names}");
     s.close().await;
 }
 
@@ -96,27 +78,20 @@ async fn two_real_tabs_editing_the_same_design_keep_both_versions() {
     add_lathe(&s).await;
     let first = s.client.window().await.unwrap();
     let second = s.client.new_window(true).await.unwrap();
-    s.client
-        .switch_to_window(second.handle.clone())
-        .await
-        .unwrap();
+    s.client.switch_to_window(second.handle.clone()).await.unwrap();
     s.client.goto(&s.base).await.unwrap();
     s.wait_for("#design-name").await;
     // Open the lathe design in tab two and rename it there.
     s.js("[...document.querySelectorAll('#design-list .design-pick')].find(b => b.textContent.includes('Lathe')).click(); return 1;").await;
     s.wait_for("#field-rf_ohm").await;
-    s.type_into("#design-name", "Lathe renamed in tab two")
-        .await;
+    s.type_into("#design-name", "Lathe renamed in tab two").await;
     tokio::time::sleep(Duration::from_millis(300)).await;
     // Tab one edits; whether or not it has heard of tab two's save, nothing may be lost.
     s.client.switch_to_window(first).await.unwrap();
     s.type_into("#field-rf_ohm", "47k").await;
     tokio::time::sleep(Duration::from_millis(400)).await;
     let all = stored(&s).await;
-    assert!(
-        all.contains("Lathe renamed in tab two"),
-        "tab two's rename was lost: {all}"
-    );
+    assert!(all.contains("Lathe renamed in tab two"), "tab two's rename was lost: {all}");
     assert!(all.contains(",47000,"), "tab one's edit was lost: {all}");
     s.close().await;
 }
@@ -126,41 +101,23 @@ async fn deleting_a_design_another_tab_changed_keeps_their_version() {
     let s = browser::start().await;
     add_lathe(&s).await;
     their_save(&s, "Lathe (kept by the other tab)").await;
-    s.wait_for("#design-list li.open button.del")
-        .await
-        .click()
-        .await
-        .unwrap();
+    s.wait_for("#design-list li.open button.del").await.click().await.unwrap();
     tokio::time::sleep(Duration::from_millis(300)).await;
     let all = stored(&s).await;
-    assert!(
-        all.contains("Lathe (kept by the other tab)"),
-        "their newer version was deleted: {all}"
-    );
+    assert!(all.contains("Lathe (kept by the other tab)"), "their newer version was deleted: {all}");
     let banner = s.text("#storage-banner").await;
     assert!(banner.contains("was not deleted"), "{banner}");
-    assert!(list_names(&s)
-        .await
-        .contains("Lathe (kept by the other tab)"));
+    assert!(list_names(&s).await.contains("Lathe (kept by the other tab)"));
     s.close().await;
 }
 
 async fn before_every_load(s: &Session, source: &str) -> String {
-    let v = s
-        .devtools(
-            "Page.addScriptToEvaluateOnNewDocument",
-            serde_json::json!({"source": source}),
-        )
-        .await;
+    let v = s.devtools("Page.addScriptToEvaluateOnNewDocument", serde_json::json!({"source": source})).await;
     v["identifier"].as_str().unwrap_or_default().to_string()
 }
 
 async fn stop_before_every_load(s: &Session, id: &str) {
-    s.devtools(
-        "Page.removeScriptToEvaluateOnNewDocument",
-        serde_json::json!({"identifier": id}),
-    )
-    .await;
+    s.devtools("Page.removeScriptToEvaluateOnNewDocument", serde_json::json!({"identifier": id})).await;
 }
 
 #[tokio::test(flavor = "multi_thread")]
@@ -185,17 +142,9 @@ async fn unreadable_storage_at_load_is_said_and_loses_nothing() {
     // Storage readable again: everything is still there, unchanged.
     stop_before_every_load(&s, &id).await;
     s.reload().await;
-    assert_eq!(
-        stored(&s).await,
-        before,
-        "stored designs changed while storage was unreadable"
-    );
+    assert_eq!(stored(&s).await, before, "stored designs changed while storage was unreadable");
     assert!(list_names(&s).await.contains("Lathe"));
-    assert!(s
-        .js("return document.querySelector('#storage-unreadable') === null")
-        .await
-        .as_bool()
-        .unwrap_or(false));
+    assert!(s.js("return document.querySelector('#storage-unreadable') === null").await.as_bool().unwrap_or(false));
     s.close().await;
 }
 
@@ -215,10 +164,7 @@ async fn full_storage_at_load_is_said_and_loses_nothing() {
     s.reload().await;
     let banner = s.text("#storage-banner").await;
     assert!(banner.contains("refuses writes"), "{banner}");
-    assert!(
-        list_names(&s).await.contains("Lathe"),
-        "stored designs not shown when storage is full"
-    );
+    assert!(list_names(&s).await.contains("Lathe"), "stored designs not shown when storage is full");
     // An edit either fits (a design rewritten in place needs no new space) or the page says it was
     // not saved; either way every stored design is still there.
     s.js("[...document.querySelectorAll('#design-list .design-pick')].find(b => b.textContent.includes('Lathe')).click(); return 1;").await;
@@ -226,21 +172,12 @@ async fn full_storage_at_load_is_said_and_loses_nothing() {
     tokio::time::sleep(Duration::from_millis(300)).await;
     let after = stored(&s).await;
     let banner = s.text("#storage-banner").await;
-    assert!(
-        after.contains("\"Lathe spindle tachometer\",68000") || banner.contains("could not save"),
-        "{after} / {banner}"
-    );
+    assert!(after.contains("\"Lathe spindle tachometer\",68000") || banner.contains("could not save"), "{after} / {banner}");
     // Space freed: every design stored before is still there (with the edit when it was saved).
     s.js("Object.keys(localStorage).filter(k => k.startsWith('filler/')).forEach(k => localStorage.removeItem(k)); return 1;").await;
     s.reload().await;
     assert_eq!(stored(&s).await, after);
-    let names = |t: &str| {
-        serde_json::from_str::<Vec<serde_json::Value>>(t)
-            .unwrap()
-            .iter()
-            .map(|d| d[0].clone())
-            .collect::<Vec<_>>()
-    };
+    let names = |t: &str| serde_json::from_str::<Vec<serde_json::Value>>(t).unwrap().iter().map(|d| d[0].clone()).collect::<Vec<_>>();
     assert_eq!(names(&after), names(&before));
     s.close().await;
 }
@@ -249,21 +186,12 @@ async fn full_storage_at_load_is_said_and_loses_nothing() {
 async fn a_set_aside_record_can_be_downloaded_as_stored() {
     let s = browser::start().await;
     let damaged = "{\"envelope_version\":1, \"id\": \"zzbroken\", oops";
-    s.js(&format!(
-        "localStorage.setItem('hysteron/design/zzbroken', {damaged:?}); return 1;"
-    ))
-    .await;
+    s.js(&format!("localStorage.setItem('hysteron/design/zzbroken', {damaged:?}); return 1;")).await;
     let future = r#"{"envelope_version":99,"id":"zzfuture","revision":1,"saved_at_ms":0,"record":{},"snapshot":null}"#;
-    s.js(&format!(
-        "localStorage.setItem('hysteron/design/zzfuture', {future:?}); return 1;"
-    ))
-    .await;
+    s.js(&format!("localStorage.setItem('hysteron/design/zzfuture', {future:?}); return 1;")).await;
     s.reload().await;
     let aside = s.text("#set-aside").await;
-    assert!(
-        aside.contains("zzbroken") && aside.contains("zzfuture"),
-        "{aside}"
-    );
+    assert!(aside.contains("zzbroken") && aside.contains("zzfuture"), "{aside}");
     // Catch the downloaded files' contents.
     s.js("window.__files = []; const make = URL.createObjectURL; URL.createObjectURL = b => { window.__files.push(b); return make(b); }; return 1;").await;
     s.js("document.querySelectorAll('#set-aside .set-aside-download').forEach(b => b.click()); return 1;").await;
@@ -273,13 +201,7 @@ async fn a_set_aside_record_can_be_downloaded_as_stored() {
         .await
         .expect("read the downloads");
     let texts: Vec<String> = serde_json::from_value(texts).unwrap();
-    assert!(
-        texts.contains(&damaged.to_string()),
-        "damaged item not downloaded as stored: {texts:?}"
-    );
-    assert!(
-        texts.contains(&future.to_string()),
-        "newer-version item not downloaded as stored: {texts:?}"
-    );
+    assert!(texts.contains(&damaged.to_string()), "damaged item not downloaded as stored: {texts:?}");
+    assert!(texts.contains(&future.to_string()), "newer-version item not downloaded as stored: {texts:?}");
     s.close().await;
 }

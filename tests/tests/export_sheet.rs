@@ -22,9 +22,7 @@ fn parse_rkm(code: &str) -> Option<f64> {
     let (int, rest) = code.split_at(pos);
     let letter = rest.chars().next()?;
     let frac = &rest[1..];
-    if int.is_empty() && frac.is_empty()
-        || !int.chars().chain(frac.chars()).all(|c| c.is_ascii_digit())
-    {
+    if int.is_empty() && frac.is_empty() || !int.chars().chain(frac.chars()).all(|c| c.is_ascii_digit()) {
         return None;
     }
     let mult = match letter {
@@ -34,28 +32,18 @@ fn parse_rkm(code: &str) -> Option<f64> {
         'G' => 1e9,
         _ => 1e12,
     };
-    let number: f64 = format!(
-        "{}.{}",
-        if int.is_empty() { "0" } else { int },
-        if frac.is_empty() { "0" } else { frac }
-    )
-    .parse()
-    .ok()?;
+    let number: f64 =
+        format!("{}.{}", if int.is_empty() { "0" } else { int }, if frac.is_empty() { "0" } else { frac })
+            .parse()
+            .ok()?;
     Some(number * mult)
 }
 
 fn texts(svg: &str) -> Vec<String> {
-    let doc =
-        roxmltree::Document::parse(svg).unwrap_or_else(|e| panic!("not well-formed XML: {e}"));
+    let doc = roxmltree::Document::parse(svg).unwrap_or_else(|e| panic!("not well-formed XML: {e}"));
     assert_eq!(doc.root_element().tag_name().name(), "svg");
-    assert_eq!(
-        doc.root_element().tag_name().namespace(),
-        Some("http://www.w3.org/2000/svg")
-    );
-    doc.descendants()
-        .filter(|n| n.has_tag_name("text"))
-        .map(|n| n.text().unwrap_or("").to_string())
-        .collect()
+    assert_eq!(doc.root_element().tag_name().namespace(), Some("http://www.w3.org/2000/svg"));
+    doc.descendants().filter(|n| n.has_tag_name("text")).map(|n| n.text().unwrap_or("").to_string()).collect()
 }
 
 #[test]
@@ -73,40 +61,25 @@ fn rkm_reader_follows_the_standard_examples() {
 #[test]
 fn every_schematic_is_xml_with_every_designator_and_value() {
     for (key, c) in variety() {
-        let parts: Vec<_> = c
-            .parameters()
-            .into_iter()
-            .filter(|p| p.designator.is_some())
-            .collect();
-        let devices: Vec<String> = c
-            .netlist()
-            .devices
-            .iter()
-            .map(|d| d.designator().to_string())
-            .collect();
+        let parts: Vec<_> = c.parameters().into_iter().filter(|p| p.designator.is_some()).collect();
+        let devices: Vec<String> = c.netlist().devices.iter().map(|d| d.designator().to_string()).collect();
         for style in [SymbolStyle::Iec60617, SymbolStyle::Ieee315] {
             let t = texts(&render_svg(&c, style));
             for p in &parts {
                 let d = p.designator.as_deref().unwrap();
-                let at = t
-                    .iter()
-                    .position(|x| x == d)
-                    .unwrap_or_else(|| panic!("{key} {style:?}: {d} not drawn"));
+                let at = t.iter().position(|x| x == d).unwrap_or_else(|| panic!("{key} {style:?}: {d} not drawn"));
                 // The value is written right after the designator.
                 let value = &t[at + 1];
                 match style {
                     SymbolStyle::Iec60617 => {
-                        let ohm = parse_rkm(value)
-                            .unwrap_or_else(|| panic!("{key}: {value} is not an RKM code"));
+                        let ohm = parse_rkm(value).unwrap_or_else(|| panic!("{key}: {value} is not an RKM code"));
                         assert!(
                             (ohm - p.value).abs() <= 5e-4 * p.value,
                             "{key}: {d} drawn as {value}, part {}",
                             p.value
                         );
                     }
-                    SymbolStyle::Ieee315 => {
-                        assert_eq!(value, &engineering_ohms(p.value), "{key}: {d}")
-                    }
+                    SymbolStyle::Ieee315 => assert_eq!(value, &engineering_ohms(p.value), "{key}: {d}"),
                 }
             }
             for d in &devices {
@@ -128,20 +101,10 @@ fn markup_in_the_design_name_stays_text() {
             let svg = render_svg_titled(&c, style, name);
             assert!(!svg.contains("<script"), "{key}: raw markup in the SVG");
             let doc = roxmltree::Document::parse(&svg).unwrap();
-            assert!(doc
-                .descendants()
-                .all(|n| !n.has_tag_name("script") && !n.has_tag_name("b")));
+            assert!(doc.descendants().all(|n| !n.has_tag_name("script") && !n.has_tag_name("b")));
             // The heading reads back to exactly the name; the <title> starts with it.
-            assert!(
-                doc.descendants()
-                    .any(|n| n.has_tag_name("text") && n.text() == Some(name)),
-                "{key}"
-            );
-            let title = doc
-                .descendants()
-                .find(|n| n.has_tag_name("title"))
-                .and_then(|n| n.text())
-                .unwrap();
+            assert!(doc.descendants().any(|n| n.has_tag_name("text") && n.text() == Some(name)), "{key}");
+            let title = doc.descendants().find(|n| n.has_tag_name("title")).and_then(|n| n.text()).unwrap();
             assert!(title.starts_with(name));
         }
     }
@@ -159,11 +122,7 @@ fn bench_readings_are_the_analysis_thresholds_for_every_design() {
         let p = bench_procedure(&c, &checks, &ReadingWindows::default()).unwrap();
         assert_eq!(p.readings.len(), 6, "{key}: nominal and both supply ends");
         for corner in &a.supply_corners {
-            let at: Vec<_> = p
-                .readings
-                .iter()
-                .filter(|r| r.supply_v == corner.supply_v)
-                .collect();
+            let at: Vec<_> = p.readings.iter().filter(|r| r.supply_v == corner.supply_v).collect();
             assert_eq!(at.len(), 2, "{key}");
             assert_eq!(at[0].nominal_v, corner.vt_upper_v, "{key}");
             assert_eq!(at[1].nominal_v, corner.vt_lower_v, "{key}");
@@ -184,8 +143,7 @@ fn bench_readings_are_the_analysis_thresholds_for_every_design() {
         );
         let text = p.to_text();
         assert!(
-            text.contains(&format!("{:.3} V", a.vt_upper_v))
-                && text.contains(&format!("{:.3} V", a.vt_lower_v)),
+            text.contains(&format!("{:.3} V", a.vt_upper_v)) && text.contains(&format!("{:.3} V", a.vt_lower_v)),
             "{key}"
         );
     }

@@ -16,11 +16,7 @@ use hysteron_core::tolerance::monte_carlo::monte_carlo;
 use hysteron_core::tolerance::{SpecWindow, ToleranceSettings};
 
 fn record(name: &str) -> DesignRecord {
-    let text = std::fs::read_to_string(format!(
-        "{}/fixtures/records/{name}.json",
-        env!("CARGO_MANIFEST_DIR")
-    ))
-    .unwrap();
+    let text = std::fs::read_to_string(format!("{}/fixtures/records/{name}.json", env!("CARGO_MANIFEST_DIR"))).unwrap();
     DesignRecord::from_json(&text).unwrap()
 }
 
@@ -46,10 +42,7 @@ fn run_as_worker(job: Job, budget: u64, answers: Answers) -> JobOutput {
     let json = serde_json::to_string(&out).unwrap();
     let mut back = (answers.read)(out.kind(), &json).unwrap();
     let whole: JobOutput = serde_json::from_str(&json).unwrap();
-    assert_eq!(
-        back, whole,
-        "read by its kind, the answer equals the whole enum read"
-    );
+    assert_eq!(back, whole, "read by its kind, the answer equals the whole enum read");
     back.put_arrays(arrays).unwrap();
     back
 }
@@ -57,11 +50,7 @@ fn run_as_worker(job: Job, budget: u64, answers: Answers) -> JobOutput {
 /// The job split into `parts`, each run as a worker does, merged as the page does (the kind's own
 /// merge), and checked equal to the general [`merge`].
 fn run_split(job: &Job, parts: usize, budget: u64, answers: Answers) -> JobOutput {
-    let outputs: Vec<JobOutput> = split(job, parts)
-        .unwrap()
-        .into_iter()
-        .map(|j| run_as_worker(j, budget, answers))
-        .collect();
+    let outputs: Vec<JobOutput> = split(job, parts).unwrap().into_iter().map(|j| run_as_worker(j, budget, answers)).collect();
     let general = merge(job, outputs.clone()).unwrap();
     let own = (answers.merge)(job, outputs).unwrap();
     assert_eq!(own, general, "the kind's own merge equals the general one");
@@ -75,21 +64,11 @@ fn monte_carlo_in_n_parts_equals_one_run() {
         let mut settings: ToleranceSettings = r.tolerance.clone().unwrap_or_default();
         settings.monte_carlo.trials = 3001;
         settings.monte_carlo.seed = 20_261_202;
-        settings.spec = SpecWindow {
-            hysteresis_min_v: Some(0.0),
-            ..settings.spec
-        };
+        settings.spec = SpecWindow { hysteresis_min_v: Some(0.0), ..settings.spec };
         let single = monte_carlo(&r.circuit, &settings).unwrap();
-        let job = Job::MonteCarlo {
-            circuit: r.circuit.clone(),
-            settings: settings.clone(),
-            trials: None,
-        };
+        let job = Job::MonteCarlo { circuit: r.circuit.clone(), settings: settings.clone(), trials: None };
         for (parts, budget) in [(1, 3001), (1, 7), (2, 500), (3, 1000), (4, 64), (7, 333)] {
-            let JobOutput::MonteCarlo(m) = run_split(&job, parts, budget, Answers::MONTE_CARLO)
-            else {
-                panic!("{name}: not a Monte Carlo result")
-            };
+            let JobOutput::MonteCarlo(m) = run_split(&job, parts, budget, Answers::MONTE_CARLO) else { panic!("{name}: not a Monte Carlo result") };
             // Whole-struct equality: yield, histograms, order statistics, means — bit for bit.
             assert_eq!(m, single, "{name}: {parts} parts, slices of {budget}");
         }
@@ -103,27 +82,18 @@ fn monte_carlo_parts_cover_the_run_once_and_in_order() {
     let r = record("inverting");
     let mut settings = r.tolerance.clone().unwrap_or_default();
     settings.monte_carlo.trials = 10;
-    let job = Job::MonteCarlo {
-        circuit: r.circuit.clone(),
-        settings,
-        trials: None,
-    };
+    let job = Job::MonteCarlo { circuit: r.circuit.clone(), settings, trials: None };
     let parts = split(&job, 4).unwrap();
     let ranges: Vec<_> = parts
         .iter()
         .map(|j| match j {
-            Job::MonteCarlo {
-                trials: Some(t), ..
-            } => (t.start, t.end),
+            Job::MonteCarlo { trials: Some(t), .. } => (t.start, t.end),
             _ => panic!("not a part"),
         })
         .collect();
     assert_eq!(ranges, [(0, 2), (2, 5), (5, 7), (7, 10)]);
     // Parts merged out of order are refused.
-    let mut outs: Vec<JobOutput> = parts
-        .into_iter()
-        .map(|j| run_as_worker(j, 3, Answers::MONTE_CARLO))
-        .collect();
+    let mut outs: Vec<JobOutput> = parts.into_iter().map(|j| run_as_worker(j, 3, Answers::MONTE_CARLO)).collect();
     outs.swap(1, 2);
     assert!(merge(&job, outs.clone()).is_err());
     assert!((Answers::MONTE_CARLO.merge)(&job, outs).is_err());
@@ -135,27 +105,17 @@ fn signal_settings(samples_per_s: f64) -> SignalSettings {
             sample_rate_hz: samples_per_s,
             duration_s: 0.2,
             seed: 11,
-            components: vec![Component::Sine {
-                amplitude_v: 1.0,
-                frequency_hz: 50.0,
-                phase_deg: 0.0,
-            }],
+            components: vec![Component::Sine { amplitude_v: 1.0, frequency_hz: 50.0, phase_deg: 0.0 }],
             noise: vec![NoiseSource::White { rms_v: 0.05 }],
         },
-        sweep: Some(SweepSettings {
-            steps: 9,
-            ..Default::default()
-        }),
+        sweep: Some(SweepSettings { steps: 9, ..Default::default() }),
         ..Default::default()
     }
 }
 
 fn trigger() -> TriggerDesign {
     TriggerDesign {
-        thresholds: hysteron_core::analysis::Thresholds {
-            vt_upper_v: 0.2,
-            vt_lower_v: -0.2,
-        },
+        thresholds: hysteron_core::analysis::Thresholds { vt_upper_v: 0.2, vt_lower_v: -0.2 },
         output_high_v: 5.0,
         output_low_v: 0.0,
         sense: hysteron_core::analysis::Sense::NonInverting,
@@ -167,44 +127,17 @@ fn signal_study_and_sweep_in_n_parts_equal_one_run() {
     let settings = signal_settings(2e5);
     let single = evaluate_signal(&settings, &trigger(), None).unwrap();
     assert_eq!(single.sweep.as_ref().map(|s| s.points.len()), Some(9));
-    let job = Job::Signal {
-        design: trigger(),
-        settings: settings.clone(),
-        capture: None,
-        display_points: DEFAULT_DISPLAY_POINTS,
-        output: None,
-        front: None,
-    };
-    for (parts, budget) in [
-        (1, u64::MAX),
-        (1, 1),
-        (2, 40_000),
-        (3, 1),
-        (5, 1),
-        (12, 100_000),
-    ] {
-        let JobOutput::Signal(view) = run_split(&job, parts, budget, Answers::SIGNAL) else {
-            panic!("not a signal study")
-        };
+    let job = Job::Signal { design: trigger(), settings: settings.clone(), capture: None, display_points: DEFAULT_DISPLAY_POINTS, output: None, front: None };
+    for (parts, budget) in [(1, u64::MAX), (1, 1), (2, 40_000), (3, 1), (5, 1), (12, 100_000)] {
+        let JobOutput::Signal(view) = run_split(&job, parts, budget, Answers::SIGNAL) else { panic!("not a signal study") };
         assert_eq!(view.report, single, "{parts} parts, budget {budget}");
     }
     // The sweep alone, split, equals the sweep inside the study.
-    let sweep_job = Job::NoiseSweep {
-        design: trigger(),
-        settings,
-        levels: None,
-        front: None,
-    };
+    let sweep_job = Job::NoiseSweep { design: trigger(), settings, levels: None, front: None };
     for parts in [1, 2, 4, 9] {
-        let JobOutput::SweepPart(p) = run_split(&sweep_job, parts, 1, Answers::NOISE_SWEEP) else {
-            panic!("not a sweep")
-        };
+        let JobOutput::SweepPart(p) = run_split(&sweep_job, parts, 1, Answers::NOISE_SWEEP) else { panic!("not a sweep") };
         assert_eq!((p.start, p.end), (0, 9));
-        assert_eq!(
-            Some(&p.points),
-            single.sweep.as_ref().map(|s| &s.points),
-            "{parts} parts"
-        );
+        assert_eq!(Some(&p.points), single.sweep.as_ref().map(|s| &s.points), "{parts} parts");
     }
 }
 
@@ -212,14 +145,7 @@ fn signal_study_and_sweep_in_n_parts_equal_one_run() {
 fn progress_is_announced_before_the_start_and_reaches_the_total() {
     let settings = signal_settings(1e5);
     let samples = settings.definition.validate().unwrap() as u64;
-    let job = Job::Signal {
-        design: trigger(),
-        settings,
-        capture: None,
-        display_points: 1000,
-        output: None,
-        front: None,
-    };
+    let job = Job::Signal { design: trigger(), settings, capture: None, display_points: 1000, output: None, front: None };
     let mut r = Running::start(job).unwrap();
     let p0 = r.progress();
     assert_eq!(p0.done, 0);
@@ -229,15 +155,9 @@ fn progress_is_announced_before_the_start_and_reaches_the_total() {
     while !r.progress().is_done() {
         seen.push(r.step(1).unwrap().done);
     }
-    assert_eq!(
-        seen.len(),
-        1 + 1 + 9,
-        "one step for the main pass, one per level"
-    );
+    assert_eq!(seen.len(), 1 + 1 + 9, "one step for the main pass, one per level");
     assert!(seen.windows(2).all(|w| w[0] < w[1]));
-    let JobOutput::Signal(v) = r.finish().unwrap() else {
-        panic!("not a signal study")
-    };
+    let JobOutput::Signal(v) = r.finish().unwrap() else { panic!("not a signal study") };
     assert!(v.signal_v.len() <= 1000);
     assert_eq!(v.report.samples as u64, samples);
 }

@@ -20,16 +20,9 @@ use hysteron_tests::sampling::{random_comparator, Lcg};
 const SEED: u64 = 0x7E3C_11A5;
 
 fn settings_variants(g: &mut Lcg) -> Vec<ToleranceSettings> {
-    let base = ToleranceSettings {
-        distribution: Distribution::Uniform,
-        ..ToleranceSettings::default()
-    };
+    let base = ToleranceSettings { distribution: Distribution::Uniform, ..ToleranceSettings::default() };
     vec![
-        ToleranceSettings {
-            temperature_min_c: 25.0,
-            temperature_max_c: 25.0,
-            ..base.clone()
-        },
+        ToleranceSettings { temperature_min_c: 25.0, temperature_max_c: 25.0, ..base.clone() },
         base.clone(),
         ToleranceSettings {
             resistor_tolerance_pct: 5.0,
@@ -59,13 +52,7 @@ fn drifting(mut d: Comparator, g: &mut Lcg) -> Comparator {
 }
 
 /// Checks one design; returns whether its worst case said it is not monotone.
-fn check(
-    name: &str,
-    c: &Topology,
-    s: &ToleranceSettings,
-    trials: u64,
-    failures: &mut Vec<String>,
-) -> bool {
+fn check(name: &str, c: &Topology, s: &ToleranceSettings, trials: u64, failures: &mut Vec<String>) -> bool {
     let wc = match worst_case(c, s) {
         Ok(w) => w,
         // A design whose corners are invalid has no worst case to test; its own tests cover that.
@@ -73,12 +60,8 @@ fn check(
     };
     let mut s = s.clone();
     s.monte_carlo.trials = trials;
-    let Ok(run) = MonteCarloRun::new(c, &s) else {
-        return wc.non_monotone;
-    };
-    let Ok(p) = run.run(0, trials) else {
-        return wc.non_monotone;
-    };
+    let Ok(run) = MonteCarloRun::new(c, &s) else { return wc.non_monotone };
+    let Ok(p) = run.run(0, trials) else { return wc.non_monotone };
     let slack = |lo: f64, hi: f64| 1e-9 * lo.abs().max(hi.abs()).max(1.0);
     let inside = |x: f64, e: &hysteron_core::tolerance::worst_case::Extremes| {
         let sl = slack(e.min.value_v, e.max.value_v);
@@ -112,11 +95,7 @@ fn every_uniform_monte_carlo_draw_lies_inside_the_worst_case() {
     for k in 0..6 {
         let split = k % 2 == 1;
         let d = drifting(random_comparator(&mut g, split), &mut g);
-        let (ra, rb, rf) = (
-            g.log_uniform(1e3, 1e6),
-            g.log_uniform(1e3, 1e6),
-            g.log_uniform(1e3, 1e6),
-        );
+        let (ra, rb, rf) = (g.log_uniform(1e3, 1e6), g.log_uniform(1e3, 1e6), g.log_uniform(1e3, 1e6));
         let inv = if split {
             InvertingSchmitt::split_supply(rb, rf, d)
         } else {
@@ -124,17 +103,8 @@ fn every_uniform_monte_carlo_draw_lies_inside_the_worst_case() {
         };
         designs.push((format!("random inverting {k}"), Topology::Inverting(inv)));
         let (r1, r2) = (g.log_uniform(1e3, 1e5), g.log_uniform(1e4, 1e6));
-        let non = NonInvertingSchmitt::with_divider(
-            r1,
-            r2,
-            g.log_uniform(1e3, 1e5),
-            g.log_uniform(1e3, 1e5),
-            d,
-        );
-        designs.push((
-            format!("random non-inverting {k}"),
-            Topology::NonInverting(non),
-        ));
+        let non = NonInvertingSchmitt::with_divider(r1, r2, g.log_uniform(1e3, 1e5), g.log_uniform(1e3, 1e5), d);
+        designs.push((format!("random non-inverting {k}"), Topology::NonInverting(non)));
     }
     let mut topologies_seen = std::collections::BTreeSet::new();
     let mut non_monotone = Vec::new();
@@ -145,34 +115,17 @@ fn every_uniform_monte_carlo_draw_lies_inside_the_worst_case() {
         topologies_seen.insert(c.name());
         for (j, mut s) in settings_variants(&mut g).into_iter().enumerate() {
             s.monte_carlo.seed = g.0 ^ j as u64;
-            if check(
-                &format!("{name} / settings {j}"),
-                c,
-                &s,
-                trials,
-                &mut failures,
-            ) {
+            if check(&format!("{name} / settings {j}"), c, &s, trials, &mut failures) {
                 non_monotone.push(c.name());
             }
         }
     }
     // Every registered topology took part.
     for n in Topology::NAMES {
-        assert!(
-            topologies_seen.contains(n),
-            "no design of topology {n} was checked"
-        );
+        assert!(topologies_seen.contains(n), "no design of topology {n} was checked");
     }
-    assert!(
-        failures.is_empty(),
-        "{} failures:\n{}",
-        failures.len(),
-        failures.join("\n")
-    );
+    assert!(failures.is_empty(), "{} failures:\n{}", failures.len(), failures.join("\n"));
     // The CMOS buffer's switching point is clamped to its supply-dependent VIL…VIH window, so its
     // VT− peaks inside the supply band: the worst case must have said so (and searched).
-    assert!(
-        non_monotone.contains(&"cmos_buffer"),
-        "non-monotone cases: {non_monotone:?}"
-    );
+    assert!(non_monotone.contains(&"cmos_buffer"), "non-monotone cases: {non_monotone:?}");
 }

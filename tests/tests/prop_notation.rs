@@ -3,8 +3,7 @@
 //! parsing (shortest round-trip `{:e}`, correctly rounded), and IEC 60062 for the RKM code.
 
 use hysteron_core::notation::{
-    format_engineering, format_rkm, format_with_unit, parse, parse_value, Notation, NotationError,
-    Unit,
+    format_engineering, format_rkm, format_with_unit, parse, parse_value, Notation, NotationError, Unit,
 };
 use proptest::prelude::*;
 

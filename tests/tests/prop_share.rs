@@ -28,10 +28,7 @@ use serde_json::Value;
 
 fn fixture_records() -> Vec<DesignRecord> {
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures/records");
-    let mut paths: Vec<_> = std::fs::read_dir(&dir)
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .collect();
+    let mut paths: Vec<_> = std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).collect();
     paths.sort();
     paths
         .into_iter()
@@ -41,11 +38,8 @@ fn fixture_records() -> Vec<DesignRecord> {
 }
 
 fn seeds() -> Vec<DesignRecord> {
-    let mut v: Vec<DesignRecord> = catalog::templates()
-        .into_iter()
-        .chain(catalog::demos())
-        .map(|s| s.record())
-        .collect();
+    let mut v: Vec<DesignRecord> =
+        catalog::templates().into_iter().chain(catalog::demos()).map(|s| s.record()).collect();
     v.extend(fixture_records());
     v
 }
@@ -206,38 +200,25 @@ fn a_bit_flip_in_every_position_of_a_link_is_caught_or_harmless() {
             let mut s = String::from(LINK_PREFIX);
             base64url_encode(&p, &mut s);
             match decode_link(&s) {
-                Ok(r) => assert_eq!(
-                    r, record,
-                    "flip at byte {i} bit {bit} opened a different design"
-                ),
+                Ok(r) => assert_eq!(r, record, "flip at byte {i} bit {bit} opened a different design"),
                 Err(_) => caught += 1,
             }
         }
     }
     // Only flips that inflate to the very same JSON (a back-reference moved to an identical
     // earlier string) may go unnoticed; padding bits after the stream are checked too.
-    assert!(
-        caught >= packed.len() * 8 - 7,
-        "{caught} of {}",
-        packed.len() * 8
-    );
+    assert!(caught >= packed.len() * 8 - 7, "{caught} of {}", packed.len() * 8);
 }
 
 #[test]
 fn golden_links_of_link_version_1_keep_opening() {
     // Written by this version; a later version must still open them to the same records.
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures");
-    for name in [
-        "non_inverting",
-        "open_drain",
-        "plain_comparator",
-        "supply_monitor",
-    ] {
+    for name in ["non_inverting", "open_drain", "plain_comparator", "supply_monitor"] {
         let link = std::fs::read_to_string(dir.join(format!("links/{name}.h1.txt"))).unwrap();
-        let expected = DesignRecord::from_json(
-            &std::fs::read_to_string(dir.join(format!("records/{name}.json"))).unwrap(),
-        )
-        .unwrap();
+        let expected =
+            DesignRecord::from_json(&std::fs::read_to_string(dir.join(format!("records/{name}.json"))).unwrap())
+                .unwrap();
         assert_eq!(decode_link(&link), Ok(expected), "{name}");
     }
 }
@@ -249,17 +230,8 @@ fn encoded_lengths_of_templates_and_demos() {
         let r = s.record();
         let json = serde_json::to_string(&r).unwrap();
         let link = encode_link(&r);
-        println!(
-            "{:<22} json {:>5} B  link {:>5} chars",
-            s.key,
-            json.len(),
-            link.len()
-        );
+        println!("{:<22} json {:>5} B  link {:>5} chars", s.key, json.len(), link.len());
         assert!(link.len() < 2000, "{}: {} characters", s.key, link.len());
-        assert!(
-            link.len() < json.len(),
-            "{}: the link is not shorter than the JSON",
-            s.key
-        );
+        assert!(link.len() < json.len(), "{}: the link is not shorter than the JSON", s.key);
     }
 }

@@ -7,31 +7,16 @@ use hysteron_core::evaluate::evaluate;
 use hysteron_core::record::{DesignRecord, SCHEMA_VERSION};
 use serde_json::Value;
 
-const TOPOLOGIES: [&str; 8] = [
-    "inverting",
-    "non_inverting",
-    "open_drain",
-    "plain_comparator",
-    "supply_monitor",
-    "cmos_buffer",
-    "schmitt_gate",
-    "bjt_pair",
-];
+const TOPOLOGIES: [&str; 8] =
+    ["inverting", "non_inverting", "open_drain", "plain_comparator", "supply_monitor", "cmos_buffer", "schmitt_gate", "bjt_pair"];
 
 fn raw(name: &str) -> Value {
-    let path = format!(
-        "{}/fixtures/records_v1/{name}.json",
-        env!("CARGO_MANIFEST_DIR")
-    );
-    serde_json::from_str(&std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{path}: {e}")))
-        .unwrap()
+    let path = format!("{}/fixtures/records_v1/{name}.json", env!("CARGO_MANIFEST_DIR"));
+    serde_json::from_str(&std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{path}: {e}"))).unwrap()
 }
 
 fn num(v: &Value, path: &str) -> f64 {
-    path.split('.')
-        .fold(v, |v, k| &v[k])
-        .as_f64()
-        .unwrap_or_else(|| panic!("{path} is not a number"))
+    path.split('.').fold(v, |v, k| &v[k]).as_f64().unwrap_or_else(|| panic!("{path} is not a number"))
 }
 
 fn par(x: f64, y: f64) -> f64 {
@@ -46,19 +31,8 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
         "inverting" => {
             // §1a, rail-to-rail (ideal device, Ra to the supply, Rb to ground):
             // VT+ = VCC·Rb/(Rb + Ra‖Rf), VT− = VCC·(Rb‖Rf)/(Ra + Rb‖Rf).
-            let (ra, rb, rf, vs) = (
-                num(c, "ra_ohm"),
-                num(c, "rb_ohm"),
-                num(c, "rf_ohm"),
-                num(c, "device.supply_v"),
-            );
-            (
-                (
-                    vs * rb / (rb + par(ra, rf)),
-                    vs * par(rb, rf) / (ra + par(rb, rf)),
-                ),
-                1e-12,
-            )
+            let (ra, rb, rf, vs) = (num(c, "ra_ohm"), num(c, "rb_ohm"), num(c, "rf_ohm"), num(c, "device.supply_v"));
+            ((vs * rb / (rb + par(ra, rf)), vs * par(rb, rf) / (ra + par(rb, rf))), 1e-12)
         }
         "non_inverting" => {
             // §1b: m = R1/R2 with R1 → R1 + Rs; Vref = VS·Rb/(Ra+Rb) + VOS;
@@ -66,17 +40,11 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
             // The bias-current terms (1 pA through tens of kΩ, below 1e-7 V) are inside the tolerance.
             let d = &c["device"];
             let vs = num(d, "supply_v");
-            let (voh, vol) = (
-                vs - num(d, "output_high_drop_v"),
-                num(d, "negative_rail_v") + num(d, "output_low_rise_v"),
-            );
+            let (voh, vol) = (vs - num(d, "output_high_drop_v"), num(d, "negative_rail_v") + num(d, "output_low_rise_v"));
             let m = (num(c, "r1_ohm") + num(d, "source_resistance_ohm")) / num(c, "r2_ohm");
             let (ra, rb) = (num(c, "reference.ra_ohm"), num(c, "reference.rb_ohm"));
             let vref = vs * rb / (ra + rb) + num(d, "offset_v");
-            (
-                (vref * (1.0 + m) - m * vol, vref * (1.0 + m) - m * voh),
-                1e-6,
-            )
+            ((vref * (1.0 + m) - m * vol, vref * (1.0 + m) - m * voh), 1e-6)
         }
         "open_drain" => {
             // §1c, inverting: the load RL turns the pull-up into Vpu·RL/(Rpu+RL) behind Rpu‖RL;
@@ -88,12 +56,7 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
             let d = &c["device"];
             let vs = num(d, "supply_v");
             let (ra, rb, rf) = (num(p, "ra_ohm"), num(p, "rb_ohm"), num(p, "rf_ohm"));
-            let (rpu0, rl, vpu0, rs) = (
-                num(c, "rpu_ohm"),
-                num(c, "rl_ohm"),
-                num(c, "pullup_rail.fixed"),
-                num(c, "sink_resistance_ohm"),
-            );
+            let (rpu0, rl, vpu0, rs) = (num(c, "rpu_ohm"), num(c, "rl_ohm"), num(c, "pullup_rail.fixed"), num(c, "sink_resistance_ohm"));
             let (vpu, rpu) = (vpu0 * rl / (rpu0 + rl), par(rpu0, rl));
             let (vth, rth) = (vs * rb / (ra + rb), par(ra, rb));
             let vol = (vpu / rpu + vth / (rth + rf)) / (1.0 / rpu + 1.0 / (rth + rf) + 1.0 / rs);
@@ -107,11 +70,7 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
             // of built-in hysteresis (trip points VREF + VOS ± VHYST/2, from memory).
             // The bias current (10 pA through Ra‖Rb, about 1e-7 V) is inside the tolerance.
             let d = &c["device"];
-            let (ra, rb, vs) = (
-                num(c, "reference.ra_ohm"),
-                num(c, "reference.rb_ohm"),
-                num(d, "supply_v"),
-            );
+            let (ra, rb, vs) = (num(c, "reference.ra_ohm"), num(c, "reference.rb_ohm"), num(d, "supply_v"));
             let centre = vs * rb / (ra + rb) + num(d, "offset_v");
             let h = num(d, "builtin_hysteresis_v");
             ((centre + h / 2.0, centre - h / 2.0), 1e-6)
@@ -148,10 +107,7 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
             // Horowitz & Hill §1.2.3, from memory): VT± = VT±gate(typ)·(Ra+Rb)/Rb.
             let g = &c["gate"];
             let a = (num(c, "ra_ohm") + num(c, "rb_ohm")) / num(c, "rb_ohm");
-            (
-                (a * num(g, "vt_upper.typ_v"), a * num(g, "vt_lower.typ_v")),
-                1e-12,
-            )
+            ((a * num(g, "vt_upper.typ_v"), a * num(g, "vt_lower.typ_v")), 1e-12)
         }
         "bjt_pair" => {
             // §1f hand analysis with finite β (α = β/(β+1)): K = R2/(RC1+R1+R2), RB2 = (RC1+R1)‖R2;
@@ -161,12 +117,7 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
             // figure mainly through VBE at the fold (§1f's example: 0.16 V at 4.7 V): 0.25 V allowed.
             let t = &c["transistor"];
             let (vcc, vbe, beta) = (num(c, "supply_v"), num(t, "vbe_v"), num(t, "beta_f"));
-            let (r1, r2, rc1, re) = (
-                num(c, "r1_ohm"),
-                num(c, "r2_ohm"),
-                num(c, "rc1_ohm"),
-                num(c, "re_ohm"),
-            );
+            let (r1, r2, rc1, re) = (num(c, "r1_ohm"), num(c, "r2_ohm"), num(c, "rc1_ohm"), num(c, "re_ohm"));
             let alpha = beta / (beta + 1.0);
             let k = r2 / (rc1 + r1 + r2);
             let rb2 = par(rc1 + r1, r2);
@@ -181,9 +132,7 @@ fn closed_form(name: &str, r: &Value) -> ((f64, f64), f64) {
 
 fn thresholds_of(record: &DesignRecord) -> (f64, f64) {
     let e = evaluate(record);
-    let a = e
-        .analysis
-        .unwrap_or_else(|| panic!("{}: {:?}", record.name, e.errors));
+    let a = e.analysis.unwrap_or_else(|| panic!("{}: {:?}", record.name, e.errors));
     (a.vt_upper_v, a.vt_lower_v)
 }
 
@@ -192,33 +141,20 @@ fn every_topology_has_a_frozen_version_1_record() {
     let dir = format!("{}/fixtures/records_v1", env!("CARGO_MANIFEST_DIR"));
     let mut found: Vec<String> = std::fs::read_dir(&dir)
         .unwrap()
-        .filter_map(|e| {
-            e.ok()?
-                .file_name()
-                .to_str()?
-                .strip_suffix(".json")
-                .map(String::from)
-        })
+        .filter_map(|e| e.ok()?.file_name().to_str()?.strip_suffix(".json").map(String::from))
         .collect();
     found.sort();
     let mut want: Vec<String> = TOPOLOGIES.iter().map(|s| s.to_string()).collect();
     want.sort();
     assert_eq!(found, want);
-    assert_eq!(
-        hysteron_core::topology::Topology::NAMES.len(),
-        TOPOLOGIES.len(),
-        "a new topology needs its v1 record here"
-    );
+    assert_eq!(hysteron_core::topology::Topology::NAMES.len(), TOPOLOGIES.len(), "a new topology needs its v1 record here");
 }
 
 #[test]
 fn version_1_records_read_evaluate_and_give_the_closed_form_thresholds() {
     for name in TOPOLOGIES {
         let v = raw(name);
-        assert_eq!(
-            v["schema_version"], 1,
-            "{name}: the fixture must stay at version 1"
-        );
+        assert_eq!(v["schema_version"], 1, "{name}: the fixture must stay at version 1");
         assert_eq!(v["circuit"]["topology"], name);
         let record = DesignRecord::from_value(v.clone()).unwrap_or_else(|e| panic!("{name}: {e}"));
         assert_eq!(record.schema_version, SCHEMA_VERSION, "{name}");
@@ -234,11 +170,7 @@ fn version_1_records_read_evaluate_and_give_the_closed_form_thresholds() {
         );
         // The whole evaluation succeeds study by study as it did when the record was written.
         let e = evaluate(&record);
-        assert!(
-            e.bom.is_some() && e.exports.as_ref().is_some_and(|x| x.bench.is_some()),
-            "{name}: {:?}",
-            e.errors
-        );
+        assert!(e.bom.is_some() && e.exports.as_ref().is_some_and(|x| x.bench.is_some()), "{name}: {:?}", e.errors);
     }
 }
 
@@ -250,8 +182,5 @@ fn the_bjt_hand_model_matches_its_closed_form_exactly() {
     v["circuit"]["model"] = "hand".into();
     let ((up, lo), _) = closed_form("bjt_pair", &v);
     let got = thresholds_of(&DesignRecord::from_value(v).unwrap());
-    assert!(
-        (got.0 - up).abs() < 1e-9 && (got.1 - lo).abs() < 1e-9,
-        "{got:?} vs {up} {lo}"
-    );
+    assert!((got.0 - up).abs() < 1e-9 && (got.1 - lo).abs() < 1e-9, "{got:?} vs {up} {lo}");
 }

@@ -19,11 +19,7 @@ use hysteron_core::tolerance::ToleranceSettings;
 use hysteron_core::topology::inverting::InvertingSchmitt;
 
 fn lathe() -> hysteron_core::record::DesignRecord {
-    catalog::demos()
-        .into_iter()
-        .find(|s| s.key == "lathe-tachometer")
-        .expect("lathe demo")
-        .record()
+    catalog::demos().into_iter().find(|s| s.key == "lathe-tachometer").expect("lathe demo").record()
 }
 
 #[test]
@@ -37,25 +33,11 @@ fn lathe_bench_window_lies_inside_the_field_window_at_most_half_as_wide() {
     assert_eq!(nominal.supply_v, 5.0);
     assert_eq!(nominal.temperature_c, 25.0);
     for (name, field, bench) in [
-        (
-            "VT+",
-            (w.field.vt_upper.min.value_v, w.field.vt_upper.max.value_v),
-            nominal.vt_upper_v(),
-        ),
-        (
-            "VT−",
-            (w.field.vt_lower.min.value_v, w.field.vt_lower.max.value_v),
-            nominal.vt_lower_v(),
-        ),
+        ("VT+", (w.field.vt_upper.min.value_v, w.field.vt_upper.max.value_v), nominal.vt_upper_v()),
+        ("VT−", (w.field.vt_lower.min.value_v, w.field.vt_lower.max.value_v), nominal.vt_lower_v()),
     ] {
-        assert!(
-            field.0 <= bench.0 && bench.1 <= field.1,
-            "{name}: bench {bench:?} not inside field {field:?}"
-        );
-        assert!(
-            bench.1 - bench.0 <= 0.5 * (field.1 - field.0),
-            "{name}: bench {bench:?} wider than half of field {field:?}"
-        );
+        assert!(field.0 <= bench.0 && bench.1 <= field.1, "{name}: bench {bench:?} not inside field {field:?}");
+        assert!(bench.1 - bench.0 <= 0.5 * (field.1 - field.0), "{name}: bench {bench:?} wider than half of field {field:?}");
     }
     // Every supply the procedure sets has its own window (4.75 V and 5.25 V from the record's range).
     let supplies: Vec<f64> = w.bench.iter().map(|b| b.supply_v).collect();
@@ -63,24 +45,15 @@ fn lathe_bench_window_lies_inside_the_field_window_at_most_half_as_wide() {
     // The bench procedure in the result accepts by the bench window and quotes the field window.
     let bench = e.exports.and_then(|x| x.bench).expect("bench procedure");
     let up = &bench.readings[0];
-    assert_eq!(
-        (up.bench_min_v, up.bench_max_v),
-        (Some(nominal.vt_upper_v().0), Some(nominal.vt_upper_v().1))
-    );
+    assert_eq!((up.bench_min_v, up.bench_max_v), (Some(nominal.vt_upper_v().0), Some(nominal.vt_upper_v().1)));
     assert_eq!(up.field_min_v, Some(w.field.vt_upper.min.value_v));
-    assert!(bench
-        .readings
-        .iter()
-        .all(|x| x.bench_min_v.is_some() && x.bench_max_v.is_some()));
+    assert!(bench.readings.iter().all(|x| x.bench_min_v.is_some() && x.bench_max_v.is_some()));
 }
 
 /// The closed form of DOMAIN §1a, rail-to-rail (VA = VOH = VCC, VOL = 0).
 fn closed_form(vcc: f64, ra: f64, rb: f64, rf: f64) -> (f64, f64) {
     let par = |a: f64, b: f64| a * b / (a + b);
-    (
-        vcc * rb / (rb + par(ra, rf)),
-        vcc * par(rb, rf) / (ra + par(rb, rf)),
-    )
+    (vcc * rb / (rb + par(ra, rf)), vcc * par(rb, rf) / (ra + par(rb, rf)))
 }
 
 #[test]
@@ -101,32 +74,17 @@ fn resistor_only_bench_window_equals_the_closed_form_divider_extremes() {
     for vcc in [4.5, 5.0, 5.5] {
         let w = bench_window(&c, &field, vcc).unwrap();
         // Every vertex of the ±2 % resistor box at exactly `vcc`, by hand.
-        let (mut up, mut lo) = (
-            (f64::INFINITY, f64::NEG_INFINITY),
-            (f64::INFINITY, f64::NEG_INFINITY),
-        );
+        let (mut up, mut lo) = ((f64::INFINITY, f64::NEG_INFINITY), (f64::INFINITY, f64::NEG_INFINITY));
         for mask in 0..8u32 {
-            let pick = |r: f64, bit: u32| {
-                if mask >> bit & 1 == 1 {
-                    r * 1.02
-                } else {
-                    r * 0.98
-                }
-            };
+            let pick = |r: f64, bit: u32| if mask >> bit & 1 == 1 { r * 1.02 } else { r * 0.98 };
             let (u, l) = closed_form(vcc, pick(ra, 0), pick(rb, 1), pick(rf, 2));
             up = (up.0.min(u), up.1.max(u));
             lo = (lo.0.min(l), lo.1.max(l));
         }
         let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b.abs().max(1.0);
         let (bu, bl) = (w.vt_upper_v(), w.vt_lower_v());
-        assert!(
-            close(bu.0, up.0) && close(bu.1, up.1),
-            "VT+ at {vcc} V: {bu:?} vs {up:?}"
-        );
-        assert!(
-            close(bl.0, lo.0) && close(bl.1, lo.1),
-            "VT− at {vcc} V: {bl:?} vs {lo:?}"
-        );
+        assert!(close(bu.0, up.0) && close(bu.1, up.1), "VT+ at {vcc} V: {bu:?} vs {up:?}");
+        assert!(close(bl.0, lo.0) && close(bl.1, lo.1), "VT− at {vcc} V: {bl:?} vs {lo:?}");
     }
     // The field window at 5 V is wider: it adds the supply band and the drift.
     let both = windows(&c, &field, &[5.0]).unwrap();

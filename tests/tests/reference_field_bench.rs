@@ -62,19 +62,12 @@ fn closed_form(r: &[f64; 8], vcc: f64) -> (f64, f64) {
 /// Lowest and highest (VT+, VT−) over every corner: each resistor at (1 ± `rel`), the supply at
 /// each of `supplies`.
 fn brute_force(nominal: &[f64; 8], rel: f64, supplies: &[f64]) -> ((f64, f64), (f64, f64)) {
-    let (mut up, mut down) = (
-        (f64::INFINITY, f64::NEG_INFINITY),
-        (f64::INFINITY, f64::NEG_INFINITY),
-    );
+    let (mut up, mut down) = ((f64::INFINITY, f64::NEG_INFINITY), (f64::INFINITY, f64::NEG_INFINITY));
     for &vcc in supplies {
         for mask in 0u32..256 {
             let mut r = *nominal;
             for (i, x) in r.iter_mut().enumerate() {
-                *x *= if mask >> i & 1 == 1 {
-                    1.0 + rel
-                } else {
-                    1.0 - rel
-                };
+                *x *= if mask >> i & 1 == 1 { 1.0 + rel } else { 1.0 - rel };
             }
             let (u, d) = closed_form(&r, vcc);
             up = (up.0.min(u), up.1.max(u));
@@ -97,17 +90,8 @@ fn field_terminal_windows_equal_the_brute_force_over_every_corner() {
     let w = overview::windows(&record, &a, None).unwrap();
     let p = overview::bench(&record, &a, Some(&w));
     assert_eq!(p.input_name, "field terminal");
-    let field: Vec<_> = p
-        .readings
-        .iter()
-        .filter(|r| r.at == ReadingPoint::FieldTerminal)
-        .collect();
-    assert_eq!(
-        field.len(),
-        6,
-        "nominal supply and both ends of 4.75–5.25 V: {:?}",
-        p.readings
-    );
+    let field: Vec<_> = p.readings.iter().filter(|r| r.at == ReadingPoint::FieldTerminal).collect();
+    assert_eq!(field.len(), 6, "nominal supply and both ends of 4.75–5.25 V: {:?}", p.readings);
     for r in &field {
         // The nominal reading is the closed form at nominal values and this supply.
         let (u, d) = closed_form(&NOMINAL, r.supply_v);
@@ -116,63 +100,31 @@ fn field_terminal_windows_equal_the_brute_force_over_every_corner() {
             Threshold::Upper => (u, u_lo, u_hi),
             Threshold::Lower => (d, d_lo, d_hi),
         };
-        assert!(
-            close(r.nominal_v, nominal),
-            "{:?} at {} V: {} vs closed form {nominal}",
-            r.threshold,
-            r.supply_v,
-            r.nominal_v
-        );
+        assert!(close(r.nominal_v, nominal), "{:?} at {} V: {} vs closed form {nominal}", r.threshold, r.supply_v, r.nominal_v);
         let (b_lo, b_hi) = (r.bench_min_v.unwrap(), r.bench_max_v.unwrap());
-        assert!(
-            close(b_lo, lo) && close(b_hi, hi),
-            "{:?} at {} V: bench window {b_lo}…{b_hi}, brute force {lo}…{hi}",
-            r.threshold,
-            r.supply_v
-        );
+        assert!(close(b_lo, lo) && close(b_hi, hi), "{:?} at {} V: bench window {b_lo}…{b_hi}, brute force {lo}…{hi}", r.threshold, r.supply_v);
     }
     // The field window (nominal supply rows): resistors ±(1 % + 0.45 %), supply ±5 %.
     let ((u_lo, u_hi), (d_lo, d_hi)) = brute_force(&NOMINAL, 0.01 + 100e-6 * 45.0, &[4.75, 5.25]);
     for (r, (lo, hi)) in field[..2].iter().zip([(u_lo, u_hi), (d_lo, d_hi)]) {
         let (f_lo, f_hi) = (r.field_min_v.unwrap(), r.field_max_v.unwrap());
-        assert!(
-            close(f_lo, lo) && close(f_hi, hi),
-            "{:?}: field window {f_lo}…{f_hi}, brute force {lo}…{hi}",
-            r.threshold
-        );
+        assert!(close(f_lo, lo) && close(f_hi, hi), "{:?}: field window {f_lo}…{f_hi}, brute force {lo}…{hi}", r.threshold);
     }
     // The network widens the window beyond the pin's mapped through the nominal network alone:
     // its own tolerances count (the pin window × 1/g would be narrower).
-    let pin_up = p
-        .readings
-        .iter()
-        .find(|r| r.at == ReadingPoint::Pin && r.threshold == Threshold::Upper)
-        .unwrap();
+    let pin_up = p.readings.iter().find(|r| r.at == ReadingPoint::Pin && r.threshold == Threshold::Upper).unwrap();
     let g = 12.0 / 59.0;
     let mapped = (pin_up.bench_max_v.unwrap() - pin_up.bench_min_v.unwrap()) / g;
     assert!(field[0].bench_max_v.unwrap() - field[0].bench_min_v.unwrap() > mapped);
     // The command line's result (the record's evaluation) carries the same procedure.
     let e = hysteron_core::evaluate::evaluate(&record);
-    let cli = e
-        .exports
-        .and_then(|x| x.bench)
-        .expect("bench procedure in the result");
+    let cli = e.exports.and_then(|x| x.bench).expect("bench procedure in the result");
     assert_eq!(cli.readings, p.readings);
     assert_eq!(cli.network, p.network);
     // The text names the field terminal and prints the field windows.
     let text = p.to_text();
-    assert!(
-        text.contains("Connect the source to the field terminal"),
-        "{text}"
-    );
-    assert!(
-        text.contains(&format!(
-            "{:.3} V … {:.3} V",
-            field[0].bench_min_v.unwrap(),
-            field[0].bench_max_v.unwrap()
-        )),
-        "{text}"
-    );
+    assert!(text.contains("Connect the source to the field terminal"), "{text}");
+    assert!(text.contains(&format!("{:.3} V … {:.3} V", field[0].bench_min_v.unwrap(), field[0].bench_max_v.unwrap())), "{text}");
 }
 
 #[test]
@@ -181,9 +133,7 @@ fn a_ramp_into_the_clamp_states_the_clamp_current_and_its_rating() {
     // without a dropper and with a low series resistor, the lower clamp conducts at the ramp's
     // bottom. The current is (Vin − (Vneg − Vf))/R_series (common practice for input protection).
     // Vr = 5 V·10k/110k = 0.455 V puts VT− below 0 V at the field terminal.
-    let mut record =
-        DesignRecord::from_json(&RECORD.replace("\"ra_ohm\": 10000", "\"ra_ohm\": 100000"))
-            .unwrap();
+    let mut record = DesignRecord::from_json(&RECORD.replace("\"ra_ohm\": 10000", "\"ra_ohm\": 100000")).unwrap();
     let net = record.input_network.as_mut().unwrap();
     net.dropper = None;
     net.series_ohm = Some(1000.0);
@@ -192,25 +142,12 @@ fn a_ramp_into_the_clamp_states_the_clamp_current_and_its_rating() {
     let a = analyse(&record.circuit, &record.checks).unwrap();
     let p = overview::bench(&record, &a, None);
     let n = p.network.unwrap();
-    assert!(
-        p.ramp_low_v < -0.3,
-        "the ramp starts below the clamp level: {}",
-        p.ramp_low_v
-    );
+    assert!(p.ramp_low_v < -0.3, "the ramp starts below the clamp level: {}", p.ramp_low_v);
     let expected = (-0.3 - p.ramp_low_v) / 1000.0;
     assert_eq!(n.clamp_at_v, Some(p.ramp_low_v));
-    assert!(
-        (n.clamp_current_a.unwrap() - expected).abs() < 1e-12,
-        "{:?} vs {expected}",
-        n.clamp_current_a
-    );
+    assert!((n.clamp_current_a.unwrap() - expected).abs() < 1e-12, "{:?} vs {expected}", n.clamp_current_a);
     let text = p.to_text();
-    assert!(
-        text.contains("the clamp conducts")
-            && text.contains("its rating: 200 mA")
-            && text.contains(": limit "),
-        "{text}"
-    );
+    assert!(text.contains("the clamp conducts") && text.contains("its rating: 200 mA") && text.contains(": limit "), "{text}");
     // Without the tolerance study the readings carry no window and say so.
     assert!(p.readings.iter().all(|r| r.bench_min_v.is_none()));
     assert!(text.contains("(run the tolerance study)"));
@@ -218,32 +155,17 @@ fn a_ramp_into_the_clamp_states_the_clamp_current_and_its_rating() {
 
 #[test]
 fn designs_without_a_network_keep_their_procedure_and_stored_form() {
-    for s in hysteron_core::catalog::templates()
-        .into_iter()
-        .chain(hysteron_core::catalog::demos())
-    {
+    for s in hysteron_core::catalog::templates().into_iter().chain(hysteron_core::catalog::demos()) {
         let r = s.record();
         if r.input_network.as_ref().is_some_and(|n| n.has_parts()) {
             continue;
         }
         let a = analyse(&r.circuit, &r.checks).unwrap();
         let p = overview::bench(&r, &a, None);
-        assert!(
-            p.network.is_none() && p.readings.iter().all(|x| x.at == ReadingPoint::Input),
-            "{}",
-            s.key
-        );
+        assert!(p.network.is_none() && p.readings.iter().all(|x| x.at == ReadingPoint::Input), "{}", s.key);
         let json = serde_json::to_value(&p).unwrap();
         assert!(json.get("network").is_none(), "{}", s.key);
-        assert!(
-            json["readings"]
-                .as_array()
-                .unwrap()
-                .iter()
-                .all(|x| x.get("at").is_none()),
-            "{}",
-            s.key
-        );
+        assert!(json["readings"].as_array().unwrap().iter().all(|x| x.get("at").is_none()), "{}", s.key);
         assert_eq!(p.input_name, r.circuit.input_name(), "{}", s.key);
     }
 }

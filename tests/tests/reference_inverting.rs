@@ -26,6 +26,7 @@ use proptest::prelude::*;
 
 use hysteron_tests::sampling::{close, random_comparator as random_device, Lcg};
 
+
 fn rail_v(rail: Rail, d: &Comparator) -> f64 {
     match rail {
         Rail::Supply => d.supply_v,
@@ -83,33 +84,18 @@ fn nodal_thresholds(c: &InvertingSchmitt) -> (f64, f64) {
         -f0 * 10.0 / (f1 - f0)
     };
     let h = d.builtin_hysteresis_v;
-    (
-        crossing(voh, d.offset_v - h / 2.0),
-        crossing(vol, d.offset_v + h / 2.0),
-    )
+    (crossing(voh, d.offset_v - h / 2.0), crossing(vol, d.offset_v + h / 2.0))
 }
 
 fn assert_matches_nodal(c: &InvertingSchmitt) {
     let t = c.thresholds().unwrap();
     let (up, lo) = nodal_thresholds(c);
-    assert!(
-        close(t.vt_upper_v, up, 1e-9),
-        "VT+ {} vs nodal {up} for {c:?}",
-        t.vt_upper_v
-    );
-    assert!(
-        close(t.vt_lower_v, lo, 1e-9),
-        "VT− {} vs nodal {lo} for {c:?}",
-        t.vt_lower_v
-    );
+    assert!(close(t.vt_upper_v, up, 1e-9), "VT+ {} vs nodal {up} for {c:?}", t.vt_upper_v);
+    assert!(close(t.vt_lower_v, lo, 1e-9), "VT− {} vs nodal {lo} for {c:?}", t.vt_lower_v);
 }
 
 fn ideal_split(v: f64) -> Comparator {
-    Comparator {
-        supply_v: v,
-        negative_rail_v: -v,
-        ..Comparator::ideal(v)
-    }
+    Comparator { supply_v: v, negative_rail_v: -v, ..Comparator::ideal(v) }
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -121,17 +107,10 @@ fn split_supply_matches_sedra_smith() {
     // Sedra & Smith, bistable circuit with the input on the inverting side (from memory):
     // β = R1/(R1 + R2), VT+ = β·L+, VT− = β·L−. Saturation levels ±13 V on ±15 V rails,
     // R1 = 10 kΩ, R2 = 100 kΩ: VT± = ±13/11 V.
-    let d = Comparator {
-        output_high_drop_v: 2.0,
-        output_low_rise_v: 2.0,
-        ..ideal_split(15.0)
-    };
+    let d = Comparator { output_high_drop_v: 2.0, output_low_rise_v: 2.0, ..ideal_split(15.0) };
     let c = InvertingSchmitt::split_supply(10e3, 100e3, d);
     let t = c.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, 13.0 / 11.0, 1e-12) && close(t.vt_lower_v, -13.0 / 11.0, 1e-12),
-        "{t:?}"
-    );
+    assert!(close(t.vt_upper_v, 13.0 / 11.0, 1e-12) && close(t.vt_lower_v, -13.0 / 11.0, 1e-12), "{t:?}");
     // Width β(L+ − L−) = 26/11 V.
     assert!(close(t.vt_upper_v - t.vt_lower_v, 26.0 / 11.0, 1e-12));
 }
@@ -140,29 +119,12 @@ fn split_supply_matches_sedra_smith() {
 fn reference_form_matches_the_shifted_bistable() {
     // Same text, R1 returned to a reference VR instead of ground (from memory): the thresholds are
     // VR·R2/(R1 + R2) + β·L±. VR = 2 V, R1 = 22 kΩ, R2 = 220 kΩ, L± = ±12 V.
-    let d = Comparator {
-        output_high_drop_v: 3.0,
-        output_low_rise_v: 3.0,
-        ..ideal_split(15.0)
-    };
-    let c = InvertingSchmitt {
-        ra_ohm: None,
-        rail_a: Rail::Supply,
-        rb_ohm: Some(22e3),
-        rail_b: Rail::Fixed(2.0),
-        rf_ohm: 220e3,
-        device: d,
-    };
+    let d = Comparator { output_high_drop_v: 3.0, output_low_rise_v: 3.0, ..ideal_split(15.0) };
+    let c = InvertingSchmitt { ra_ohm: None, rail_a: Rail::Supply, rb_ohm: Some(22e3), rail_b: Rail::Fixed(2.0), rf_ohm: 220e3, device: d };
     let t = c.thresholds().unwrap();
     let beta = 22.0 / 242.0;
-    assert!(
-        close(t.vt_upper_v, 2.0 * (1.0 - beta) + beta * 12.0, 1e-12),
-        "{t:?}"
-    );
-    assert!(
-        close(t.vt_lower_v, 2.0 * (1.0 - beta) - beta * 12.0, 1e-12),
-        "{t:?}"
-    );
+    assert!(close(t.vt_upper_v, 2.0 * (1.0 - beta) + beta * 12.0, 1e-12), "{t:?}");
+    assert!(close(t.vt_lower_v, 2.0 * (1.0 - beta) - beta * 12.0, 1e-12), "{t:?}");
 }
 
 #[test]
@@ -170,30 +132,15 @@ fn single_supply_matches_the_three_resistor_form() {
     // Rail-to-rail output on one supply (DOMAIN §1a, after Sedra & Smith and Maxim application note
     // 3616, from memory): VT+ = VCC·Rb/(Rb + Ra‖Rf), VT− = VCC·(Rb‖Rf)/(Ra + Rb‖Rf).
     let par = |a: f64, b: f64| a * b / (a + b);
-    for (ra, rb, rf, vcc) in [
-        (100e3, 100e3, 100e3, 5.0),
-        (47e3, 33e3, 470e3, 3.3),
-        (10e3, 22e3, 1e6, 12.0),
-    ] {
+    for (ra, rb, rf, vcc) in [(100e3, 100e3, 100e3, 5.0), (47e3, 33e3, 470e3, 3.3), (10e3, 22e3, 1e6, 12.0)] {
         let c = InvertingSchmitt::single_supply(ra, rb, rf, Comparator::ideal(vcc));
         let t = c.thresholds().unwrap();
-        assert!(
-            close(t.vt_upper_v, vcc * rb / (rb + par(ra, rf)), 1e-12),
-            "{t:?}"
-        );
-        assert!(
-            close(t.vt_lower_v, vcc * par(rb, rf) / (ra + par(rb, rf)), 1e-12),
-            "{t:?}"
-        );
+        assert!(close(t.vt_upper_v, vcc * rb / (rb + par(ra, rf)), 1e-12), "{t:?}");
+        assert!(close(t.vt_lower_v, vcc * par(rb, rf) / (ra + par(rb, rf)), 1e-12), "{t:?}");
     }
     // 100 k / 100 k / 100 k on 5 V: the familiar 10/3 V and 5/3 V.
-    let t = InvertingSchmitt::single_supply(100e3, 100e3, 100e3, Comparator::ideal(5.0))
-        .thresholds()
-        .unwrap();
-    assert!(
-        close(t.vt_upper_v, 10.0 / 3.0, 1e-12) && close(t.vt_lower_v, 5.0 / 3.0, 1e-12),
-        "{t:?}"
-    );
+    let t = InvertingSchmitt::single_supply(100e3, 100e3, 100e3, Comparator::ideal(5.0)).thresholds().unwrap();
+    assert!(close(t.vt_upper_v, 10.0 / 3.0, 1e-12) && close(t.vt_lower_v, 5.0 / 3.0, 1e-12), "{t:?}");
 }
 
 #[test]
@@ -212,14 +159,8 @@ fn non_idealities_shift_as_published() {
     let t = c.thresholds().unwrap();
     let rp = 1.0 / (1.0 / ra + 1.0 / rb + 1.0 / rf);
     let shift = -2e-3 - 50e-9 * rp + (-20e-9) * 4.7e3;
-    assert!(
-        close(t.vt_upper_v, t0.vt_upper_v + shift + 3e-3, 1e-12),
-        "{t:?} vs {t0:?}"
-    );
-    assert!(
-        close(t.vt_lower_v, t0.vt_lower_v + shift - 3e-3, 1e-12),
-        "{t:?} vs {t0:?}"
-    );
+    assert!(close(t.vt_upper_v, t0.vt_upper_v + shift + 3e-3, 1e-12), "{t:?} vs {t0:?}");
+    assert!(close(t.vt_lower_v, t0.vt_lower_v + shift - 3e-3, 1e-12), "{t:?} vs {t0:?}");
 }
 
 #[test]
@@ -229,23 +170,12 @@ fn synthesis_matches_the_published_formulas() {
     // Ra = Rth(VA − VB)/(Vth − VB), Rb = Rth(VA − VB)/(VA − Vth).
     let (vcc, up, lo, rf) = (5.0, 3.0, 2.0, 100e3);
     let template = InvertingSchmitt::single_supply(1.0, 1.0, 1.0, Comparator::ideal(vcc));
-    let c = template
-        .synthesise_with_anchor(
-            Thresholds {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-            },
-            rf,
-        )
-        .unwrap();
+    let c = template.synthesise_with_anchor(Thresholds { vt_upper_v: up, vt_lower_v: lo }, rf).unwrap();
     let k = (up - lo) / vcc;
     let vth = (lo * vcc - up * 0.0) / (vcc - 0.0 - (up - lo));
     let rth = rf * k / (1.0 - k);
     assert!(close(c.ra_ohm.unwrap(), rth * vcc / vth, 1e-12), "{c:?}");
-    assert!(
-        close(c.rb_ohm.unwrap(), rth * vcc / (vcc - vth), 1e-12),
-        "{c:?}"
-    );
+    assert!(close(c.rb_ohm.unwrap(), rth * vcc / (vcc - vth), 1e-12), "{c:?}");
     assert_eq!(c.rf_ohm, rf);
 }
 
@@ -253,13 +183,10 @@ fn synthesis_matches_the_published_formulas() {
 // (b) Independent nodal solution over random designs.
 // ---------------------------------------------------------------------------------------------
 
+
 /// Split supply, reference at ground: only Rb, to 0 V, on ± rails.
 fn random_split(g: &mut Lcg) -> InvertingSchmitt {
-    InvertingSchmitt::split_supply(
-        g.log_uniform(1e3, 1e6),
-        g.log_uniform(1e3, 1e7),
-        random_device(g, true),
-    )
+    InvertingSchmitt::split_supply(g.log_uniform(1e3, 1e6), g.log_uniform(1e3, 1e7), random_device(g, true))
 }
 
 /// Reference form: only Rb, returned to a fixed reference, on one or two supplies.
@@ -294,17 +221,9 @@ fn random_single(g: &mut Lcg) -> InvertingSchmitt {
     c
 }
 
-fn valid_designs(
-    seed: u64,
-    count: usize,
-    mut make: impl FnMut(&mut Lcg) -> InvertingSchmitt,
-) -> Vec<InvertingSchmitt> {
+fn valid_designs(seed: u64, count: usize, mut make: impl FnMut(&mut Lcg) -> InvertingSchmitt) -> Vec<InvertingSchmitt> {
     let mut g = Lcg(seed);
-    let out: Vec<InvertingSchmitt> = (0..20 * count)
-        .map(|_| make(&mut g))
-        .filter(|c| c.validate().is_ok())
-        .take(count)
-        .collect();
+    let out: Vec<InvertingSchmitt> = (0..20 * count).map(|_| make(&mut g)).filter(|c| c.validate().is_ok()).take(count).collect();
     assert_eq!(out.len(), count, "generator produced too few valid designs");
     out
 }
@@ -343,18 +262,8 @@ fn operating_point_agrees_with_nodal_solution() {
         ] {
             let (p, m) = nodal_inputs(&c, vin, vo);
             let op = c.operating_point(vin, state).unwrap();
-            let node_p = op
-                .device_inputs
-                .iter()
-                .find(|n| n.name.contains("node P"))
-                .unwrap()
-                .volts;
-            let signal = op
-                .device_inputs
-                .iter()
-                .find(|n| n.name.contains("signal"))
-                .unwrap()
-                .volts;
+            let node_p = op.device_inputs.iter().find(|n| n.name.contains("node P")).unwrap().volts;
+            let signal = op.device_inputs.iter().find(|n| n.name.contains("signal")).unwrap().volts;
             assert!(close(node_p, p, 1e-9), "{node_p} vs {p}");
             assert!(close(signal, m, 1e-9), "{signal} vs {m}");
         }
@@ -366,18 +275,10 @@ fn operating_point_agrees_with_nodal_solution() {
 // ---------------------------------------------------------------------------------------------
 
 fn round_trips(template: &InvertingSchmitt, targets: Thresholds, anchor: f64) -> InvertingSchmitt {
-    let d = template
-        .synthesise_with_anchor(targets, anchor)
-        .unwrap_or_else(|e| panic!("{e} for {targets:?} {template:?}"));
+    let d = template.synthesise_with_anchor(targets, anchor).unwrap_or_else(|e| panic!("{e} for {targets:?} {template:?}"));
     let t = d.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, targets.vt_upper_v, 1e-9),
-        "{t:?} vs {targets:?}"
-    );
-    assert!(
-        close(t.vt_lower_v, targets.vt_lower_v, 1e-9),
-        "{t:?} vs {targets:?}"
-    );
+    assert!(close(t.vt_upper_v, targets.vt_upper_v, 1e-9), "{t:?} vs {targets:?}");
+    assert!(close(t.vt_lower_v, targets.vt_lower_v, 1e-9), "{t:?} vs {targets:?}");
     d
 }
 
@@ -490,35 +391,18 @@ fn fixture_inverting() {
     let text = include_str!("../fixtures/records/inverting.json");
     let record = DesignRecord::from_json(text).unwrap();
     assert_eq!(record.circuit.name(), "inverting");
-    assert_eq!(
-        DesignRecord::from_json(&record.to_json()).unwrap(),
-        record,
-        "JSON round trip"
-    );
+    assert_eq!(DesignRecord::from_json(&record.to_json()).unwrap(), record, "JSON round trip");
     let e = evaluate(&record);
     assert!(e.errors.is_empty(), "{:?}", e.errors);
     let a = e.analysis.as_ref().unwrap();
-    let Topology::Inverting(c) = &record.circuit else {
-        panic!("wrong topology")
-    };
+    let Topology::Inverting(c) = &record.circuit else { panic!("wrong topology") };
     let (up, lo) = nodal_thresholds(c);
-    assert!(
-        close(a.vt_upper_v, up, 1e-9) && close(a.vt_lower_v, lo, 1e-9),
-        "{a:?}"
-    );
+    assert!(close(a.vt_upper_v, up, 1e-9) && close(a.vt_lower_v, lo, 1e-9), "{a:?}");
     assert!(e.sensitivities.as_ref().is_some_and(|s| !s.is_empty()));
     let s = e.synthesis.as_ref().expect("synthesis");
     let t = record.targets.unwrap().thresholds();
-    assert!(
-        close(s.analysis.vt_upper_v, t.vt_upper_v, 1e-9)
-            && close(s.analysis.vt_lower_v, t.vt_lower_v, 1e-9)
-    );
-    let Topology::Inverting(sc) = &s.circuit else {
-        panic!("wrong topology")
-    };
+    assert!(close(s.analysis.vt_upper_v, t.vt_upper_v, 1e-9) && close(s.analysis.vt_lower_v, t.vt_lower_v, 1e-9));
+    let Topology::Inverting(sc) = &s.circuit else { panic!("wrong topology") };
     let (up, lo) = nodal_thresholds(sc);
-    assert!(
-        close(up, t.vt_upper_v, 1e-9) && close(lo, t.vt_lower_v, 1e-9),
-        "nodal {up} {lo} vs {t:?}"
-    );
+    assert!(close(up, t.vt_upper_v, 1e-9) && close(lo, t.vt_lower_v, 1e-9), "nodal {up} {lo} vs {t:?}");
 }

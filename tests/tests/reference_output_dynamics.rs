@@ -12,6 +12,7 @@
 //! (f) when ngspice is installed, a transient of the exported deck with Ro and CL gives the
 //!     10–90 % edge time within 3 % of Hysteron's.
 
+use hysteron_tests::ngspice;
 use hysteron_core::analysis::OutputState;
 use hysteron_core::device::Comparator;
 use hysteron_core::output_dynamics::{
@@ -22,17 +23,13 @@ use hysteron_core::record::DesignRecord;
 use hysteron_core::topology::inverting::InvertingSchmitt;
 use hysteron_core::topology::noninverting::NonInvertingSchmitt;
 use hysteron_core::topology::{Circuit, Topology};
-use hysteron_tests::ngspice;
-use hysteron_tests::nodal::Nodal;
 use hysteron_tests::sampling::{close, Lcg};
+use hysteron_tests::nodal::Nodal;
+
 
 /// An ideal device on `supply` with rail-to-rail outputs, except for the output headroom given.
 fn device(supply: f64, drop_high: f64, rise_low: f64) -> Comparator {
-    Comparator {
-        output_high_drop_v: drop_high,
-        output_low_rise_v: rise_low,
-        ..Comparator::ideal(supply)
-    }
+    Comparator { output_high_drop_v: drop_high, output_low_rise_v: rise_low, ..Comparator::ideal(supply) }
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -45,27 +42,12 @@ fn inverting_thresholds_under_load_match_nodal_analysis() {
     for _ in 0..200 {
         let supply = g.uniform(3.0, 15.0);
         let d = device(supply, g.uniform(0.0, 0.3), g.uniform(0.0, 0.3));
-        let (ra, rb, rf) = (
-            g.log_uniform(1e3, 1e6),
-            g.log_uniform(1e3, 1e6),
-            g.log_uniform(1e3, 1e6),
-        );
+        let (ra, rb, rf) = (g.log_uniform(1e3, 1e6), g.log_uniform(1e3, 1e6), g.log_uniform(1e3, 1e6));
         let c = InvertingSchmitt::single_supply(ra, rb, rf, d);
         let ro = g.log_uniform(1.0, 1e3);
-        let rl = if g.chance(0.7) {
-            Some(g.log_uniform(100.0, 1e5))
-        } else {
-            None
-        };
-        let load = OutputLoad {
-            output_resistance_ohm: ro,
-            load_resistance_ohm: rl,
-        };
-        let loaded = c
-            .with_output_load(&load)
-            .expect("the inverting topology models the load")
-            .thresholds()
-            .unwrap();
+        let rl = if g.chance(0.7) { Some(g.log_uniform(100.0, 1e5)) } else { None };
+        let load = OutputLoad { output_resistance_ohm: ro, load_resistance_ohm: rl };
+        let loaded = c.with_output_load(&load).expect("the inverting topology models the load").thresholds().unwrap();
         // Nodal analysis: device level → Ro → O; O → RL → 0 V; O → Rf → P; P → Ra → VCC; P → Rb → 0 V.
         // With an ideal device (no VOS, no bias) the threshold is V(P).
         let p_at = |level: f64| {
@@ -85,18 +67,8 @@ fn inverting_thresholds_under_load_match_nodal_analysis() {
             n.solve()[p]
         };
         let (voh, vol) = (d.output_high_v(), d.output_low_v());
-        assert!(
-            close(loaded.vt_upper_v, p_at(voh), 1e-9),
-            "VT+ {} vs nodal {}",
-            loaded.vt_upper_v,
-            p_at(voh)
-        );
-        assert!(
-            close(loaded.vt_lower_v, p_at(vol), 1e-9),
-            "VT− {} vs nodal {}",
-            loaded.vt_lower_v,
-            p_at(vol)
-        );
+        assert!(close(loaded.vt_upper_v, p_at(voh), 1e-9), "VT+ {} vs nodal {}", loaded.vt_upper_v, p_at(voh));
+        assert!(close(loaded.vt_lower_v, p_at(vol), 1e-9), "VT− {} vs nodal {}", loaded.vt_lower_v, p_at(vol));
     }
 }
 
@@ -110,20 +82,9 @@ fn non_inverting_thresholds_under_load_match_nodal_analysis() {
         let (r1, r2) = (g.log_uniform(1e3, 1e5), g.log_uniform(1e4, 1e6));
         let c = NonInvertingSchmitt::with_fixed_reference(r1, r2, vref, d);
         let ro = g.log_uniform(1.0, 1e3);
-        let rl = if g.chance(0.7) {
-            Some(g.log_uniform(100.0, 1e5))
-        } else {
-            None
-        };
-        let load = OutputLoad {
-            output_resistance_ohm: ro,
-            load_resistance_ohm: rl,
-        };
-        let loaded = c
-            .with_output_load(&load)
-            .expect("the non-inverting topology models the load")
-            .thresholds()
-            .unwrap();
+        let rl = if g.chance(0.7) { Some(g.log_uniform(100.0, 1e5)) } else { None };
+        let load = OutputLoad { output_resistance_ohm: ro, load_resistance_ohm: rl };
+        let loaded = c.with_output_load(&load).expect("the non-inverting topology models the load").thresholds().unwrap();
         // Nodal analysis: VIN → R1 → P; P → R2 → O; O → Ro → device level; O → RL → 0 V. The
         // network is linear in VIN, so the input that puts P at Vref follows from two solves.
         let p_for = |vin: f64, level: f64| {
@@ -147,18 +108,8 @@ fn non_inverting_thresholds_under_load_match_nodal_analysis() {
         };
         // Rising input trips with the output low; falling input with the output high.
         let (voh, vol) = (d.output_high_v(), d.output_low_v());
-        assert!(
-            close(loaded.vt_upper_v, threshold(vol), 1e-8),
-            "VT+ {} vs nodal {}",
-            loaded.vt_upper_v,
-            threshold(vol)
-        );
-        assert!(
-            close(loaded.vt_lower_v, threshold(voh), 1e-8),
-            "VT− {} vs nodal {}",
-            loaded.vt_lower_v,
-            threshold(voh)
-        );
+        assert!(close(loaded.vt_upper_v, threshold(vol), 1e-8), "VT+ {} vs nodal {}", loaded.vt_upper_v, threshold(vol));
+        assert!(close(loaded.vt_lower_v, threshold(voh), 1e-8), "VT− {} vs nodal {}", loaded.vt_lower_v, threshold(voh));
     }
 }
 
@@ -169,14 +120,7 @@ fn topologies_without_a_modelled_load_say_so() {
         .map(|t| t.record())
         .find(|r| matches!(r.circuit, Topology::SchmittGate(_)))
         .expect("a Schmitt-gate template");
-    let rep = output_dynamics(
-        &r.circuit,
-        &OutputDynamicsSettings {
-            output_resistance_ohm: 50.0,
-            ..Default::default()
-        },
-    )
-    .unwrap();
+    let rep = output_dynamics(&r.circuit, &OutputDynamicsSettings { output_resistance_ohm: 50.0, ..Default::default() }).unwrap();
     assert!(!rep.load.modelled);
     assert!(rep.load.note.contains("not modelled"), "{}", rep.load.note);
 }
@@ -187,13 +131,7 @@ fn topologies_without_a_modelled_load_say_so() {
 
 /// RK4 integration of dv/dt = (vs(t) − v)/τ with vs a ramp of duration T: the 10 % and 90 % times.
 fn integrated_10_90(ramp: f64, tau: f64) -> f64 {
-    let vs = |t: f64| {
-        if ramp > 0.0 {
-            (t / ramp).clamp(0.0, 1.0)
-        } else {
-            1.0
-        }
-    };
+    let vs = |t: f64| if ramp > 0.0 { (t / ramp).clamp(0.0, 1.0) } else { 1.0 };
     let f = |t: f64, v: f64| (vs(t) - v) / tau;
     let end = ramp + 30.0 * tau;
     let steps = 2_000_000;
@@ -229,10 +167,7 @@ fn edge_time_matches_its_closed_form_limits_and_a_numerical_integration() {
     for (ramp, tau) in [(1e-6, 0.1e-6), (1e-6, 0.5e-6), (1e-6, 1e-6), (0.2e-6, 1e-6)] {
         let exact = EdgeTiming::new(1.0, ramp, tau).t10_90_s;
         let rk4 = integrated_10_90(ramp, tau);
-        assert!(
-            (exact - rk4).abs() < 1e-4 * exact,
-            "ramp {ramp} τ {tau}: {exact} vs {rk4}"
-        );
+        assert!((exact - rk4).abs() < 1e-4 * exact, "ramp {ramp} τ {tau}: {exact} vs {rk4}");
         // The root-sum-square estimate is an approximation only: within 15 % here.
         let rss = EdgeTiming::new(1.0, ramp, tau).rss_estimate_s;
         assert!((rss - exact).abs() < 0.15 * exact, "rss {rss} vs {exact}");
@@ -244,22 +179,10 @@ fn edge_time_matches_its_closed_form_limits_and_a_numerical_integration() {
 fn datasheet_class_slew_rate_gives_the_expected_edge() {
     // From memory: LM358-class op-amps slew about 0.5 V/µs; a 5 V rail-to-rail swing then takes
     // 10 µs, and its 10–90 % edge 8 µs (0.8·swing/SR).
-    let c = Topology::Inverting(InvertingSchmitt::single_supply(
-        100e3,
-        100e3,
-        100e3,
-        Comparator::ideal(5.0),
-    ));
-    let s = OutputDynamicsSettings {
-        slew_rate_v_per_us: Some(0.5),
-        ..Default::default()
-    };
+    let c = Topology::Inverting(InvertingSchmitt::single_supply(100e3, 100e3, 100e3, Comparator::ideal(5.0)));
+    let s = OutputDynamicsSettings { slew_rate_v_per_us: Some(0.5), ..Default::default() };
     let r = output_dynamics(&c, &s).unwrap();
-    assert!(
-        (r.rise.t10_90_s - 8e-6).abs() < 1e-11,
-        "{}",
-        r.rise.t10_90_s
-    );
+    assert!((r.rise.t10_90_s - 8e-6).abs() < 1e-11, "{}", r.rise.t10_90_s);
     assert!((r.fall.t10_90_s - 8e-6).abs() < 1e-11);
     // Speed-up capacitor rule (common practice): Rf·Cs equal to the edge time → 8 µs / 100 kΩ = 80 pF.
     let cs = r.speedup.suggested_f.unwrap();
@@ -273,60 +196,27 @@ fn datasheet_class_slew_rate_gives_the_expected_edge() {
 #[test]
 fn chatter_check_follows_its_stated_criterion() {
     // VT+ 3 V, VT− 2 V: hysteresis 1 V (closed form, DOMAIN §1a rail-to-rail).
-    let c = Topology::Inverting(InvertingSchmitt::single_supply(
-        10e3,
-        10e3,
-        20e3,
-        Comparator::ideal(5.0),
-    ));
-    let base = OutputDynamicsSettings {
-        slew_rate_v_per_us: Some(1.0),
-        noise_rms_v: 0.1,
-        ..Default::default()
-    };
+    let c = Topology::Inverting(InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0)));
+    let base = OutputDynamicsSettings { slew_rate_v_per_us: Some(1.0), noise_rms_v: 0.1, ..Default::default() };
     // 6.6 × 0.1 V = 0.66 V of noise p-p < 1 V: passes on a d.c.-slow input.
     let r = output_dynamics(&c, &base).unwrap();
     assert!(r.chatter.passes && r.warnings.is_empty(), "{:?}", r.chatter);
     assert!((r.chatter.margin_v - (1.0 - 0.66)).abs() < 1e-9);
     // Noise 0.2 V RMS → 1.32 V p-p > 1 V: the slow input chatters, and the warning says why.
-    let noisy = OutputDynamicsSettings {
-        noise_rms_v: 0.2,
-        ..base
-    };
+    let noisy = OutputDynamicsSettings { noise_rms_v: 0.2, ..base };
     let r = output_dynamics(&c, &noisy).unwrap();
     assert!(!r.chatter.passes);
-    assert!(
-        r.warnings[0].message.contains("slow input")
-            && r.warnings[0].message.contains("noise peak-to-peak"),
-        "{}",
-        r.warnings[0].message
-    );
+    assert!(r.warnings[0].message.contains("slow input") && r.warnings[0].message.contains("noise peak-to-peak"), "{}", r.warnings[0].message);
     // The same noise with a fast input: it moves s·(tpd + t10–90) = 1e6 V/s × (1 µs + 4 µs) = 5 V
     // during the switching, so it is past the other threshold and the check passes.
-    let fast = OutputDynamicsSettings {
-        input_slope_v_per_s: 1e6,
-        propagation_delay_s: Some(1e-6),
-        ..noisy
-    };
+    let fast = OutputDynamicsSettings { input_slope_v_per_s: 1e6, propagation_delay_s: Some(1e-6), ..noisy };
     let r = output_dynamics(&c, &fast).unwrap();
-    assert!(
-        (r.chatter.input_progress_v - 5.0).abs() < 1e-6,
-        "{}",
-        r.chatter.input_progress_v
-    );
+    assert!((r.chatter.input_progress_v - 5.0).abs() < 1e-6, "{}", r.chatter.input_progress_v);
     assert!(r.chatter.passes);
     // Output edge coupled through 1 pF into a 1 MΩ source: capped by the divider 5 V·1/(1+5) pF.
-    let coupled = OutputDynamicsSettings {
-        stray_capacitance_f: 1e-12,
-        input_source_resistance_ohm: 1e6,
-        ..base
-    };
+    let coupled = OutputDynamicsSettings { stray_capacitance_f: 1e-12, input_source_resistance_ohm: 1e6, ..base };
     let r = output_dynamics(&c, &coupled).unwrap();
-    assert!(
-        (r.chatter.coupled_v - 5.0 / 6.0).abs() < 1e-9,
-        "{}",
-        r.chatter.coupled_v
-    );
+    assert!((r.chatter.coupled_v - 5.0 / 6.0).abs() < 1e-9, "{}", r.chatter.coupled_v);
     assert!(!r.chatter.passes);
 }
 
@@ -338,10 +228,7 @@ fn chatter_check_follows_its_stated_criterion() {
 /// VT+ = Vs·Rb/(Rb + Ra‖Rf), VT− = Vs·(Rb‖Rf)/(Ra + Rb‖Rf).
 fn closed_form(vs: f64, ra: f64, rb: f64, rf: f64) -> (f64, f64) {
     let par = |a: f64, b: f64| a * b / (a + b);
-    (
-        vs * rb / (rb + par(ra, rf)),
-        vs * par(rb, rf) / (ra + par(rb, rf)),
-    )
+    (vs * rb / (rb + par(ra, rf)), vs * par(rb, rf) / (ra + par(rb, rf)))
 }
 
 #[test]
@@ -349,54 +236,32 @@ fn power_up_matches_the_closed_form_of_the_supply_referenced_thresholds() {
     let (ra, rb, rf) = (10e3, 10e3, 20e3);
     let c = InvertingSchmitt::single_supply(ra, rb, rf, Comparator::ideal(5.0));
     // Minimum supply 4 V: VT+(4 V) = 2.4 V, VT−(5 V) = 2 V → not guaranteed from 2 V to 2.4 V.
-    let s = PowerUpSettings {
-        minimum_supply_v: 4.0,
-        ..Default::default()
-    };
+    let s = PowerUpSettings { minimum_supply_v: 4.0, ..Default::default() };
     let r = power_up(&c, &s).unwrap();
     let (up_min, _) = closed_form(4.0, ra, rb, rf);
     let (up_nom, lo_nom) = closed_form(5.0, ra, rb, rf);
     let [a, b] = r.not_guaranteed_v.expect("a band remains");
-    assert!(
-        (a - lo_nom).abs() < 1e-12 && (b - up_min).abs() < 1e-12,
-        "{a} {b}"
-    );
+    assert!((a - lo_nom).abs() < 1e-12 && (b - up_min).abs() < 1e-12, "{a} {b}");
     assert_eq!(r.final_band_v, [lo_nom, up_nom]);
     // Inverting: an input below VT− leaves the output high, above VT+ low.
-    assert_eq!(
-        (r.state_below, r.state_above),
-        (OutputState::High, OutputState::Low)
-    );
+    assert_eq!((r.state_below, r.state_above), (OutputState::High, OutputState::Low));
     // The grid tracking agrees with the band, within one grid step.
     let step = r.regions.iter().map(|x| x.to_v).fold(f64::MIN, f64::max) - r.regions[0].from_v;
     let step = step / (hysteron_core::power_up::INPUT_POINTS - 1) as f64;
     let open: Vec<_> = r.regions.iter().filter(|x| x.state.is_none()).collect();
     assert_eq!(open.len(), 1);
-    assert!(
-        (open[0].from_v - lo_nom).abs() <= step + 1e-12
-            && (open[0].to_v - up_min).abs() <= step + 1e-12
-    );
+    assert!((open[0].from_v - lo_nom).abs() <= step + 1e-12 && (open[0].to_v - up_min).abs() <= step + 1e-12);
     // Inputs from 2.4 V up to VT+(5 V) = 3 V were above VT+ early in the ramp: guaranteed low.
-    assert!(r.regions.iter().any(|x| x.state == Some(OutputState::Low)
-        && x.from_v <= up_min + step
-        && x.to_v > up_nom));
+    assert!(r.regions.iter().any(|x| x.state == Some(OutputState::Low) && x.from_v <= up_min + step && x.to_v > up_nom));
 
     // Minimum supply 3 V: VT+(3 V) = 1.8 V < VT−(5 V) = 2 V: every input gets a guaranteed state;
     // an input of 1.9 V is forced "input high" (output low) at 3 V, then below VT−(5 V) = 2 V
     // forces it back: the last forcing wins, output high.
-    let s = PowerUpSettings {
-        minimum_supply_v: 3.0,
-        ..Default::default()
-    };
+    let s = PowerUpSettings { minimum_supply_v: 3.0, ..Default::default() };
     let r = power_up(&c, &s).unwrap();
     assert!(r.not_guaranteed_v.is_none());
     assert!(r.regions.iter().all(|x| x.state.is_some()));
-    let at = |v: f64| {
-        r.regions
-            .iter()
-            .find(|x| x.from_v <= v && v <= x.to_v)
-            .and_then(|x| x.state)
-    };
+    let at = |v: f64| r.regions.iter().find(|x| x.from_v <= v && v <= x.to_v).and_then(|x| x.state);
     assert_eq!(at(1.9), Some(OutputState::High));
     assert_eq!(at(2.5), Some(OutputState::Low));
 }
@@ -405,30 +270,16 @@ fn power_up_matches_the_closed_form_of_the_supply_referenced_thresholds() {
 fn power_up_says_when_the_ramp_time_matters() {
     let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0));
     // A 1 ms ramp of 5 V with a 100 µs reference filter: lag (5 V / 1 ms)·100 µs = 0.5 V (closed form).
-    let s = PowerUpSettings {
-        ramp_time_s: 1e-3,
-        minimum_supply_v: 3.0,
-        reference_time_constant_s: Some(1e-4),
-        input_time_constant_s: None,
-    };
+    let s = PowerUpSettings { ramp_time_s: 1e-3, minimum_supply_v: 3.0, reference_time_constant_s: Some(1e-4), input_time_constant_s: None };
     let r = power_up(&c, &s).unwrap();
     assert!((r.lags[0].lag_v - 0.5).abs() < 1e-12 && r.lags[0].matters);
     // A 1 s ramp: 0.5 mV of lag, well below a tenth of the 1 V hysteresis.
-    let s = PowerUpSettings {
-        ramp_time_s: 1.0,
-        ..s
-    };
+    let s = PowerUpSettings { ramp_time_s: 1.0, ..s };
     let r = power_up(&c, &s).unwrap();
     assert!(!r.lags[0].matters);
     // A minimum supply above the nominal one is refused with the field named.
-    let bad = PowerUpSettings {
-        minimum_supply_v: 6.0,
-        ..s
-    };
-    assert!(power_up(&c, &bad)
-        .unwrap_err()
-        .to_string()
-        .contains("power_up.minimum_supply_v"));
+    let bad = PowerUpSettings { minimum_supply_v: 6.0, ..s };
+    assert!(power_up(&c, &bad).unwrap_err().to_string().contains("power_up.minimum_supply_v"));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -453,19 +304,10 @@ fn old_records_load_unchanged_and_new_sections_reach_the_result() {
     let e = hysteron_core::evaluate::evaluate(&r);
     assert!(e.errors.is_empty(), "{:?}", e.errors);
     let od = e.output_dynamics.unwrap();
-    assert!(
-        od.load.modelled && od.load.shift_upper_v < 0.0,
-        "{:?}",
-        od.load
-    );
+    assert!(od.load.modelled && od.load.shift_upper_v < 0.0, "{:?}", od.load);
     assert!(e.power_up.is_some());
     let deck = e.exports.unwrap().spice.unwrap();
-    assert!(
-        deck.contains("\nRO out_src out 100\n")
-            && deck.contains("\nCL out 0 1n\n")
-            && deck.contains("\nRL out 0 10k\n"),
-        "{deck}"
-    );
+    assert!(deck.contains("\nRO out_src out 100\n") && deck.contains("\nCL out 0 1n\n") && deck.contains("\nRL out 0 10k\n"), "{deck}");
     let sheet = hysteron_core::overview::sheet(&r).unwrap();
     assert_eq!(sheet.dynamics.len(), 2);
 }
@@ -482,61 +324,23 @@ fn ngspice_transient_gives_the_rc_edge_time() {
     // Ro 100 Ω, CL 1 nF: τ = 100 ns, 10–90 % = 219.7 ns. Tolerance 3 %: the deck's switch adds its
     // 1 Ω on-resistance (1 %), the feedback network loads the output (100 Ω against 20 kΩ, 0.5 %)
     // and the time step of 1 ns with linear interpolation.
-    let c = Topology::Inverting(InvertingSchmitt::single_supply(
-        10e3,
-        10e3,
-        20e3,
-        Comparator::ideal(5.0),
-    ));
-    let s = OutputDynamicsSettings {
-        output_resistance_ohm: 100.0,
-        load_capacitance_f: 1e-9,
-        ..Default::default()
-    };
+    let c = Topology::Inverting(InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0)));
+    let s = OutputDynamicsSettings { output_resistance_ohm: 100.0, load_capacitance_f: 1e-9, ..Default::default() };
     let ours = output_dynamics(&c, &s).unwrap();
     let deck = spice_deck(&c, "edge check", &s).unwrap();
     // Replace the slow triangle with fast steps: up at 1 µs, down at 5 µs.
     let body: String = deck
         .lines()
         .filter(|l| !l.starts_with(".end"))
-        .map(|l| {
-            if l.starts_with("VIN ") {
-                format!(
-                    "{} PWL(0 0 1u 0 1.001u 5 5u 5 5.001u 0)",
-                    l.split(" DC ").next().unwrap()
-                )
-            } else {
-                l.to_string()
-            }
-        })
+        .map(|l| if l.starts_with("VIN ") { format!("{} PWL(0 0 1u 0 1.001u 5 5u 5 5.001u 0)", l.split(" DC ").next().unwrap()) } else { l.to_string() })
         .collect::<Vec<_>>()
         .join("\n");
-    let Some(rows) = ngspice::table(&format!("{body}\n.end\n"), "tran 1n 10u 0 1n", "v(out)")
-    else {
-        return;
-    };
-    let rows: Vec<(f64, f64)> = rows
-        .iter()
-        .filter(|r| r.len() >= 2)
-        .map(|r| (r[0], r[1]))
-        .collect();
+    let Some(rows) = ngspice::table(&format!("{body}\n.end\n"), "tran 1n 10u 0 1n", "v(out)") else { return };
+    let rows: Vec<(f64, f64)> = rows.iter().filter(|r| r.len() >= 2).map(|r| (r[0], r[1])).collect();
     // Falling edge (input steps up at 1 µs), then rising (input steps down at 5 µs); levels 0/5 V.
-    let fall = ngspice::crossing_after(&rows, 0.5, 1e-6).unwrap()
-        - ngspice::crossing_after(&rows, 4.5, 1e-6).unwrap();
-    let rise = ngspice::crossing_after(&rows, 4.5, 5e-6).unwrap()
-        - ngspice::crossing_after(&rows, 0.5, 5e-6).unwrap();
-    println!(
-        "ngspice fall {fall:e} s, rise {rise:e} s; Hysteron {:e} s",
-        ours.rise.t10_90_s
-    );
-    assert!(
-        (fall - ours.fall.t10_90_s).abs() < 0.03 * ours.fall.t10_90_s,
-        "fall {fall} vs {}",
-        ours.fall.t10_90_s
-    );
-    assert!(
-        (rise - ours.rise.t10_90_s).abs() < 0.03 * ours.rise.t10_90_s,
-        "rise {rise} vs {}",
-        ours.rise.t10_90_s
-    );
+    let fall = ngspice::crossing_after(&rows, 0.5, 1e-6).unwrap() - ngspice::crossing_after(&rows, 4.5, 1e-6).unwrap();
+    let rise = ngspice::crossing_after(&rows, 4.5, 5e-6).unwrap() - ngspice::crossing_after(&rows, 0.5, 5e-6).unwrap();
+    println!("ngspice fall {fall:e} s, rise {rise:e} s; Hysteron {:e} s", ours.rise.t10_90_s);
+    assert!((fall - ours.fall.t10_90_s).abs() < 0.03 * ours.fall.t10_90_s, "fall {fall} vs {}", ours.fall.t10_90_s);
+    assert!((rise - ours.rise.t10_90_s).abs() < 0.03 * ours.rise.t10_90_s, "rise {rise} vs {}", ours.rise.t10_90_s);
 }

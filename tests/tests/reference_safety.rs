@@ -10,9 +10,7 @@ use hysteron_core::safety::{cautions, CautionKind, ELV_AC_RMS_V, ELV_DC_V};
 
 /// An inverting Schmitt trigger on 5 V with the given check settings and signal settings (JSON).
 fn comparator(checks: &str, signal: Option<&str>) -> DesignRecord {
-    let signal = signal
-        .map(|s| format!(r#","signal":{s}"#))
-        .unwrap_or_default();
+    let signal = signal.map(|s| format!(r#","signal":{s}"#)).unwrap_or_default();
     DesignRecord::from_json(&format!(
         r#"{{"schema_version":1,"name":"record","circuit":{{"topology":"inverting","ra_ohm":100000,"rail_a":"supply","rb_ohm":100000,"rail_b":"ground","rf_ohm":200000,"device":{{"supply_v":5}}}},"checks":{checks}{signal}}}"#
     ))
@@ -32,9 +30,7 @@ fn kinds(r: &DesignRecord) -> Vec<CautionKind> {
 }
 
 fn sine_signal(amplitude_v: f64) -> String {
-    format!(
-        r#"{{"sample_rate_hz":10000,"duration_s":0.1,"components":[{{"kind":"sine","amplitude_v":{amplitude_v},"frequency_hz":50}}],"noise":[]}}"#
-    )
+    format!(r#"{{"sample_rate_hz":10000,"duration_s":0.1,"components":[{{"kind":"sine","amplitude_v":{amplitude_v},"frequency_hz":50}}],"noise":[]}}"#)
 }
 
 #[test]
@@ -50,10 +46,7 @@ fn limits_are_the_common_practice_values() {
 fn mains_derived_amplitude_is_marked() {
     let r = comparator("{}", Some(&sine_signal(230.0 * 2f64.sqrt())));
     let k = kinds(&r);
-    assert!(
-        k.contains(&CautionKind::AboveExtraLowVoltage) && k.contains(&CautionKind::Mains),
-        "{k:?}"
-    );
+    assert!(k.contains(&CautionKind::AboveExtraLowVoltage) && k.contains(&CautionKind::Mains), "{k:?}");
 }
 
 /// 352 V peak at the input (an input range of ±352 V): marked, and the bench procedure asks for
@@ -63,48 +56,19 @@ fn mains_derived_amplitude_is_marked() {
 fn peak_352_v_is_marked_and_its_bench_procedure_is_isolated() {
     let r = comparator(r#"{"input_min_v":-352,"input_max_v":352}"#, None);
     let k = kinds(&r);
-    assert!(
-        k.contains(&CautionKind::AboveExtraLowVoltage) && k.contains(&CautionKind::Mains),
-        "{k:?}"
-    );
+    assert!(k.contains(&CautionKind::AboveExtraLowVoltage) && k.contains(&CautionKind::Mains), "{k:?}");
     let e = evaluate(&r);
-    let bench = e
-        .exports
-        .as_ref()
-        .and_then(|x| x.bench.as_ref())
-        .expect("a bench procedure");
-    let text = format!(
-        "{} {}",
-        bench.equipment.join(" | "),
-        bench.cautions.join(" | ")
-    )
-    .to_lowercase();
-    assert!(
-        text.contains("isolation transformer") && text.contains("differential probe"),
-        "{text}"
-    );
+    let bench = e.exports.as_ref().and_then(|x| x.bench.as_ref()).expect("a bench procedure");
+    let text = format!("{} {}", bench.equipment.join(" | "), bench.cautions.join(" | ")).to_lowercase();
+    assert!(text.contains("isolation transformer") && text.contains("differential probe"), "{text}");
     assert!(text.contains("current-limited"), "{text}");
-    assert!(
-        !text.contains("one hand")
-            && !bench.equipment[0]
-                .to_lowercase()
-                .contains("function generator set to"),
-        "{text}"
-    );
-    assert!(e
-        .cautions
-        .iter()
-        .any(|c| c.kind == CautionKind::AboveExtraLowVoltage));
+    assert!(!text.contains("one hand") && !bench.equipment[0].to_lowercase().contains("function generator set to"), "{text}");
+    assert!(e.cautions.iter().any(|c| c.kind == CautionKind::AboveExtraLowVoltage));
     // Through the JSON entry point too.
     let json = serde_json::to_string(&r).unwrap();
     let out = evaluate_json(&json).unwrap();
-    let RecordResult::Ok(e) = &out[0] else {
-        panic!("{out:?}")
-    };
-    assert!(e
-        .cautions
-        .iter()
-        .any(|c| c.kind == CautionKind::AboveExtraLowVoltage));
+    let RecordResult::Ok(e) = &out[0] else { panic!("{out:?}") };
+    assert!(e.cautions.iter().any(|c| c.kind == CautionKind::AboveExtraLowVoltage));
 }
 
 /// 48 V d.c. and 24 V d.c. inputs are below 60 V d.c.: not marked, and the bench procedure has no
@@ -117,11 +81,7 @@ fn dc_48_v_and_24_v_are_not_marked() {
         let e = evaluate(&r);
         assert!(e.cautions.is_empty());
         let bench = e.exports.unwrap().bench.unwrap();
-        assert!(
-            bench.cautions.is_empty()
-                && !bench.equipment.join(" ").contains("isolation transformer"),
-            "{hi} V"
-        );
+        assert!(bench.cautions.is_empty() && !bench.equipment.join(" ").contains("isolation transformer"), "{hi} V");
     }
 }
 
@@ -142,15 +102,8 @@ fn alternating_signal_uses_the_ac_limit() {
 fn fourteen_cell_battery_gets_the_battery_caution() {
     let r = monitor(14.0 * 3.0, 14.0 * 4.2);
     let c = cautions(&r);
-    assert_eq!(
-        c.iter().map(|c| c.kind).collect::<Vec<_>>(),
-        vec![CautionKind::Battery],
-        "{c:?}"
-    );
+    assert_eq!(c.iter().map(|c| c.kind).collect::<Vec<_>>(), vec![CautionKind::Battery], "{c:?}");
     assert!(c[0].message.contains("at the pack"));
     let k = kinds(&monitor(14.0 * 3.0, 14.0 * 4.35));
-    assert!(
-        k.contains(&CautionKind::Battery) && k.contains(&CautionKind::AboveExtraLowVoltage),
-        "{k:?}"
-    );
+    assert!(k.contains(&CautionKind::Battery) && k.contains(&CautionKind::AboveExtraLowVoltage), "{k:?}");
 }

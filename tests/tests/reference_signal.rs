@@ -3,33 +3,17 @@
 //! CSV import (line-numbered errors, exact round trips, chunked reading of a million rows).
 
 use hysteron_core::analysis::{Sense, Thresholds};
-use hysteron_core::signal::csv::{
-    parse_csv, write_csv, CsvError, CsvIssueKind, CsvOptions, CsvParser, CsvWriteOptions,
-    DecimalMark, Separator,
-};
+use hysteron_core::signal::csv::{parse_csv, write_csv, CsvError, CsvIssueKind, CsvOptions, CsvParser, CsvWriteOptions, DecimalMark, Separator};
 use hysteron_core::signal::generate::{Component, SignalDefinition};
 use hysteron_core::signal::noise::{NoiseSource, SpikePolarity};
-use hysteron_core::signal::oscillator::{
-    op_amp_thresholds, relaxation_oscillator, simulate_oscillator, OscillatorForm,
-    OscillatorSettings,
-};
-use hysteron_core::signal::trigger::{
-    compare_edges, default_match_window_s, run_trigger, EdgeDirection, TimingModel, TriggerDesign,
-};
+use hysteron_core::signal::oscillator::{op_amp_thresholds, relaxation_oscillator, simulate_oscillator, OscillatorForm, OscillatorSettings};
+use hysteron_core::signal::trigger::{compare_edges, default_match_window_s, run_trigger, EdgeDirection, TimingModel, TriggerDesign};
 use hysteron_core::signal::Times;
 use proptest::prelude::*;
 use std::f64::consts::PI;
 
 fn trigger(up: f64, lo: f64, sense: Sense) -> TriggerDesign {
-    TriggerDesign {
-        thresholds: Thresholds {
-            vt_upper_v: up,
-            vt_lower_v: lo,
-        },
-        output_high_v: 5.0,
-        output_low_v: 0.0,
-        sense,
-    }
+    TriggerDesign { thresholds: Thresholds { vt_upper_v: up, vt_lower_v: lo }, output_high_v: 5.0, output_low_v: 0.0, sense }
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -59,11 +43,7 @@ fn upcrossing_rate_matches_rice() {
         duration_s: n as f64 / fs,
         seed: 2024,
         components: vec![Component::Dc { level_v: mean }],
-        noise: vec![NoiseSource::BandLimited {
-            rms_v: sigma,
-            corner_hz: fc,
-            poles: 4,
-        }],
+        noise: vec![NoiseSource::BandLimited { rms_v: sigma, corner_hz: fc, poles: 4 }],
     };
     let g = def.generate().unwrap();
     let v = &g.buffers.noisy_v;
@@ -84,18 +64,9 @@ fn upcrossing_rate_matches_rice() {
     let mut edges = Vec::new();
     for &z in &[-1.0, 0.0, 0.5, 1.0, 1.5, 2.0] {
         let u = mean + z * sigma;
-        let out = run_trigger(
-            &trigger(u, u, Sense::NonInverting),
-            &TimingModel::ideal(),
-            g.time.view(),
-            v,
-            &mut edges,
-        );
+        let out = run_trigger(&trigger(u, u, Sense::NonInverting), &TimingModel::ideal(), g.time.view(), v, &mut edges);
         let mut per_block = vec![0.0; blocks];
-        for e in edges
-            .iter()
-            .filter(|e| e.direction == EdgeDirection::Rising)
-        {
+        for e in edges.iter().filter(|e| e.direction == EdgeDirection::Rising) {
             let b = ((e.crossing_s / block_len) as usize).min(blocks - 1);
             per_block[b] += 1.0;
         }
@@ -111,12 +82,7 @@ fn upcrossing_rate_matches_rice() {
             "level {z}σ: {total} up-crossings, Rice predicts {rice:.1} (allowed ±{allowed:.1})"
         );
         // The library's own formula agrees with the quadrature to 1e-6.
-        let lib = hysteron_core::signal::rice::upcrossing_rate_hz(
-            u,
-            mean,
-            sigma,
-            sigma * 2.0 * PI * fc / 5f64.sqrt(),
-        ) * duration;
+        let lib = hysteron_core::signal::rice::upcrossing_rate_hz(u, mean, sigma, sigma * 2.0 * PI * fc / 5f64.sqrt()) * duration;
         assert!((lib / rice - 1.0).abs() < 1e-6);
     }
 }
@@ -135,36 +101,18 @@ fn op_amp_astable_matches_textbook_period() {
     let vsat = 12.0;
     let e = std::f64::consts::E;
     let beta_e = (e - 1.0) / (e + 1.0);
-    for &(r1, r2) in &[
-        (10e3, 10e3),
-        (10e3, 47e3),
-        (100e3, 100e3 * (1.0 - beta_e) / beta_e),
-    ] {
+    for &(r1, r2) in &[(10e3, 10e3), (10e3, 47e3), (100e3, 100e3 * (1.0 - beta_e) / beta_e)] {
         let beta: f64 = r1 / (r1 + r2);
         let textbook = 2.0 * r * c * ((1.0 + beta) / (1.0 - beta)).ln();
         let t = op_amp_thresholds(r1, r2, vsat, -vsat).unwrap();
-        let d = TriggerDesign {
-            thresholds: t,
-            output_high_v: vsat,
-            output_low_v: -vsat,
-            sense: Sense::Inverting,
-        };
-        let s = OscillatorSettings {
-            form: OscillatorForm::OpAmp,
-            r_ohm: r,
-            c_f: c,
-            ..Default::default()
-        };
+        let d = TriggerDesign { thresholds: t, output_high_v: vsat, output_low_v: -vsat, sense: Sense::Inverting };
+        let s = OscillatorSettings { form: OscillatorForm::OpAmp, r_ohm: r, c_f: c, ..Default::default() };
         let closed = relaxation_oscillator(&d, &s).unwrap();
         assert!((closed.period_s / textbook - 1.0).abs() < 1e-12, "β {beta}");
         assert!((closed.duty - 0.5).abs() < 1e-12);
         assert!((closed.beta.unwrap() - beta).abs() < 1e-15);
         let sim = simulate_oscillator(&d, &s, 4).unwrap();
-        assert!(
-            (sim.period_s / textbook - 1.0).abs() < 1e-9,
-            "β {beta}: simulated {}",
-            sim.period_s
-        );
+        assert!((sim.period_s / textbook - 1.0).abs() < 1e-9, "β {beta}: simulated {}", sim.period_s);
         if (beta - beta_e).abs() < 1e-12 {
             assert!((textbook - 2.0 * r * c).abs() < 1e-15);
         }
@@ -182,20 +130,8 @@ fn schmitt_inverter_astable_matches_textbook_period() {
     for &(up, lo) in &[(1.9f64, 1.1f64), (3.3 * 0.5 * 1.4, 3.3 * 0.5 * 0.6)] {
         let th: f64 = r * c * ((vdd - lo) / (vdd - up)).ln();
         let tl: f64 = r * c * (up / lo).ln();
-        let d = TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-            },
-            output_high_v: vdd,
-            output_low_v: 0.0,
-            sense: Sense::Inverting,
-        };
-        let s = OscillatorSettings {
-            r_ohm: r,
-            c_f: c,
-            ..Default::default()
-        };
+        let d = TriggerDesign { thresholds: Thresholds { vt_upper_v: up, vt_lower_v: lo }, output_high_v: vdd, output_low_v: 0.0, sense: Sense::Inverting };
+        let s = OscillatorSettings { r_ohm: r, c_f: c, ..Default::default() };
         let closed = relaxation_oscillator(&d, &s).unwrap();
         assert!((closed.t_high_s / th - 1.0).abs() < 1e-12);
         assert!((closed.t_low_s / tl - 1.0).abs() < 1e-12);
@@ -204,10 +140,7 @@ fn schmitt_inverter_astable_matches_textbook_period() {
         assert!((sim.duty - th / (th + tl)).abs() < 1e-9);
         if ((up + lo) - vdd).abs() < 1e-12 {
             let beta: f64 = 0.4;
-            assert!(
-                ((th + tl) / (2.0 * r * c * ((1.0 + beta) / (1.0 - beta)).ln()) - 1.0).abs()
-                    < 1e-12
-            );
+            assert!(((th + tl) / (2.0 * r * c * ((1.0 + beta) / (1.0 - beta)).ln()) - 1.0).abs() < 1e-12);
         }
     }
 }
@@ -216,25 +149,12 @@ fn schmitt_inverter_astable_matches_textbook_period() {
 // False edges
 // ---------------------------------------------------------------------------------------------
 
-fn sine_def(
-    amplitude: f64,
-    centre: f64,
-    freq: f64,
-    seed: u64,
-    noise: Vec<NoiseSource>,
-) -> SignalDefinition {
+fn sine_def(amplitude: f64, centre: f64, freq: f64, seed: u64, noise: Vec<NoiseSource>) -> SignalDefinition {
     SignalDefinition {
         sample_rate_hz: 100e3,
         duration_s: 0.05,
         seed,
-        components: vec![
-            Component::Dc { level_v: centre },
-            Component::Sine {
-                amplitude_v: amplitude,
-                frequency_hz: freq,
-                phase_deg: 0.0,
-            },
-        ],
+        components: vec![Component::Dc { level_v: centre }, Component::Sine { amplitude_v: amplitude, frequency_hz: freq, phase_deg: 0.0 }],
         noise,
     }
 }
@@ -351,9 +271,7 @@ fn record_with_signal_and_applications_evaluates() {
         "sweep":{"steps":5}},
       "application":{"oscillator":{"r_ohm":10000,"c_f":1e-7},"debounce":{"supply_v":5,"bounce_s":0.004,"target_delay_s":0.01}}}"#;
     let out = hysteron_core::evaluate::evaluate_json(text).unwrap();
-    let hysteron_core::evaluate::RecordResult::Ok(e) = &out[0] else {
-        panic!("{out:?}")
-    };
+    let hysteron_core::evaluate::RecordResult::Ok(e) = &out[0] else { panic!("{out:?}") };
     assert!(e.errors.is_empty(), "{:?}", e.errors);
     let s = e.signal.as_ref().unwrap();
     // Thresholds 3.0/2.0 V (the record's circuit), 1 V of hysteresis against 150 mV p-p hum + noise.
@@ -367,10 +285,7 @@ fn record_with_signal_and_applications_evaluates() {
     assert!((osc.closed_form.period_s - 2.0 * 1e-3 * 1.5f64.ln()).abs() < 1e-12);
     assert!((osc.simulated_period_s.unwrap() / osc.closed_form.period_s - 1.0).abs() < 1e-9);
     let deb = a.debounce.unwrap();
-    assert_eq!(
-        (deb.simulated_press_edges, deb.simulated_release_edges),
-        (Some(1), Some(1))
-    );
+    assert_eq!((deb.simulated_press_edges, deb.simulated_release_edges), (Some(1), Some(1)));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -383,97 +298,31 @@ fn record_with_signal_and_applications_evaluates() {
 fn malformed_csv_files_give_line_numbered_errors() {
     use CsvIssueKind::*;
     let cases: Vec<(&str, Vec<(usize, CsvIssueKind)>)> = vec![
-        (
-            "time,volts\n0,1\n1,abc\n2,3\n",
-            vec![(3, NotANumber { column: 2 })],
-        ),
-        (
-            "0,1\n1\n2,3\n",
-            vec![(
-                2,
-                FieldCount {
-                    found: 1,
-                    expected: 2,
-                },
-            )],
-        ),
-        (
-            "0,1\n1,2,3\n2,3\n",
-            vec![(
-                2,
-                FieldCount {
-                    found: 3,
-                    expected: 2,
-                },
-            )],
-        ),
-        (
-            "0,1\n1,NaN\n2,inf\n3,-infinity\n4,5\n",
-            vec![
-                (2, NotFinite { column: 2 }),
-                (3, NotFinite { column: 2 }),
-                (4, NotFinite { column: 2 }),
-            ],
-        ),
+        ("time,volts\n0,1\n1,abc\n2,3\n", vec![(3, NotANumber { column: 2 })]),
+        ("0,1\n1\n2,3\n", vec![(2, FieldCount { found: 1, expected: 2 })]),
+        ("0,1\n1,2,3\n2,3\n", vec![(2, FieldCount { found: 3, expected: 2 })]),
+        ("0,1\n1,NaN\n2,inf\n3,-infinity\n4,5\n", vec![(2, NotFinite { column: 2 }), (3, NotFinite { column: 2 }), (4, NotFinite { column: 2 })]),
         ("0,1\n2,1\n1,1\n3,1\n", vec![(3, TimeNotIncreasing)]),
         ("0,1\n1,1\n1,2\n2,1\n", vec![(3, TimeNotIncreasing)]),
         ("0,1\n1,\n2,3\n", vec![(2, NotANumber { column: 2 })]),
         ("0,1\n,1\n2,3\n", vec![(2, NotANumber { column: 1 })]),
         ("0,1\n1,1.2.3\n2,3\n", vec![(2, NotANumber { column: 2 })]),
-        (
-            "t;v\n0;1,5\n1;2,5\n2;3.5\n3;4,5\n",
-            vec![(4, NotANumber { column: 2 })],
-        ),
-        (
-            "t;v\n0.0;1.0\n1.0,2.0\n2.0;3.0\n",
-            vec![(
-                3,
-                FieldCount {
-                    found: 1,
-                    expected: 2,
-                },
-            )],
-        ),
-        (
-            "0\t1\n1\t\"x\"\n2\t3\n",
-            vec![(2, NotANumber { column: 2 })],
-        ),
+        ("t;v\n0;1,5\n1;2,5\n2;3.5\n3;4,5\n", vec![(4, NotANumber { column: 2 })]),
+        ("t;v\n0.0;1.0\n1.0,2.0\n2.0;3.0\n", vec![(3, FieldCount { found: 1, expected: 2 })]),
+        ("0\t1\n1\t\"x\"\n2\t3\n", vec![(2, NotANumber { column: 2 })]),
         ("0,1\n1,1\r\n,\n3,4\n", vec![(3, NotANumber { column: 1 })]),
-        (
-            "# scope export\ntime,ch1\n0,1\n1,2\nEND\n",
-            vec![(
-                5,
-                FieldCount {
-                    found: 1,
-                    expected: 2,
-                },
-            )],
-        ),
+        ("# scope export\ntime,ch1\n0,1\n1,2\nEND\n", vec![(5, FieldCount { found: 1, expected: 2 })]),
     ];
     for (text, expected) in cases {
         let err = parse_csv(text, &CsvOptions::default()).unwrap_err();
-        let CsvError::BadLines { issues, .. } = &err else {
-            panic!("{text:?}: {err:?}")
-        };
+        let CsvError::BadLines { issues, .. } = &err else { panic!("{text:?}: {err:?}") };
         let got: Vec<(usize, CsvIssueKind)> = issues.iter().map(|i| (i.line, i.kind)).collect();
         assert_eq!(got, expected, "{text:?}");
         assert!(err.to_string().contains(&format!("line {}", expected[0].0)));
-        let lenient = parse_csv(
-            text,
-            &CsvOptions {
-                strict: false,
-                ..Default::default()
-            },
-        )
-        .unwrap();
+        let lenient = parse_csv(text, &CsvOptions { strict: false, ..Default::default() }).unwrap();
         assert_eq!(lenient.skipped.len(), expected.len());
-        let data_lines =
-            text.lines().filter(|l| !l.trim().is_empty()).count() - lenient.format.header_lines;
-        assert_eq!(
-            lenient.volts.len() + lenient.skipped.len(),
-            data_lines,
-            "{text:?}: no row may vanish"
-        );
+        let data_lines = text.lines().filter(|l| !l.trim().is_empty()).count() - lenient.format.header_lines;
+        assert_eq!(lenient.volts.len() + lenient.skipped.len(), data_lines, "{text:?}: no row may vanish");
     }
 }
 
@@ -481,51 +330,18 @@ fn malformed_csv_files_give_line_numbered_errors() {
 /// separator and decimal-mark combination, and reading in random pieces gives the same capture.
 #[test]
 fn csv_round_trip_of_generated_data_is_exact() {
-    let mut def = sine_def(
-        1.3,
-        2.5,
-        123.0,
-        77,
-        vec![
-            NoiseSource::White { rms_v: 0.01 },
-            NoiseSource::BandLimited {
-                rms_v: 1e-7,
-                corner_hz: 10.0,
-                poles: 2,
-            },
-        ],
-    );
+    let mut def = sine_def(1.3, 2.5, 123.0, 77, vec![NoiseSource::White { rms_v: 0.01 }, NoiseSource::BandLimited { rms_v: 1e-7, corner_hz: 10.0, poles: 2 }]);
     def.duration_s = 0.2;
     let g = def.generate().unwrap();
     let v = &g.buffers.noisy_v;
-    for (separator, decimal) in [
-        (Separator::Comma, DecimalMark::Point),
-        (Separator::Semicolon, DecimalMark::Comma),
-        (Separator::Tab, DecimalMark::Comma),
-        (Separator::Semicolon, DecimalMark::Point),
-    ] {
-        let text = write_csv(
-            g.time.view(),
-            v,
-            &CsvWriteOptions {
-                separator,
-                decimal,
-                ..Default::default()
-            },
-        );
+    for (separator, decimal) in [(Separator::Comma, DecimalMark::Point), (Separator::Semicolon, DecimalMark::Comma), (Separator::Tab, DecimalMark::Comma), (Separator::Semicolon, DecimalMark::Point)] {
+        let text = write_csv(g.time.view(), v, &CsvWriteOptions { separator, decimal, ..Default::default() });
         let c = parse_csv(&text, &CsvOptions::default()).unwrap();
-        assert_eq!(
-            (c.format.separator, c.format.decimal, c.format.header_lines),
-            (separator, decimal, 1)
-        );
+        assert_eq!((c.format.separator, c.format.decimal, c.format.header_lines), (separator, decimal, 1));
         assert_eq!(c.volts.len(), v.len());
         for (i, x) in v.iter().enumerate() {
             assert_eq!(c.volts[i].to_bits(), x.to_bits(), "row {i}");
-            assert_eq!(
-                c.time_s[i].to_bits(),
-                g.time.view().at(i).to_bits(),
-                "row {i}"
-            );
+            assert_eq!(c.time_s[i].to_bits(), g.time.view().at(i).to_bits(), "row {i}");
         }
     }
 }

@@ -40,12 +40,7 @@ struct Net {
 
 impl Net {
     fn new() -> Self {
-        Net {
-            nodes: 1,
-            resistors: vec![],
-            sources: vec![],
-            draws: vec![],
-        }
+        Net { nodes: 1, resistors: vec![], sources: vec![], draws: vec![] }
     }
     fn node(&mut self) -> usize {
         self.nodes += 1;
@@ -124,11 +119,7 @@ impl Net {
 /// The comparator flips when V(+) − V(−) reaches VOS ∓ h/2 (DOMAIN §0: built-in hysteresis is a
 /// state-dependent offset; with the output high it must fall to VOS − h/2).
 fn trip_offset(d: &Comparator, high: bool) -> f64 {
-    if high {
-        d.offset_v - d.builtin_hysteresis_v / 2.0
-    } else {
-        d.offset_v + d.builtin_hysteresis_v / 2.0
-    }
+    if high { d.offset_v - d.builtin_hysteresis_v / 2.0 } else { d.offset_v + d.builtin_hysteresis_v / 2.0 }
 }
 
 fn rail_v(rail: Rail, d: &Comparator) -> f64 {
@@ -158,12 +149,7 @@ fn crossing(diff: impl Fn(f64) -> f64) -> f64 {
 fn add_reference(net: &mut Net, r: &Reference, d: &Comparator) -> usize {
     match *r {
         Reference::Direct { rail } => net.fixed(rail_v(rail, d)),
-        Reference::Divider {
-            ra_ohm,
-            rail_a,
-            rb_ohm,
-            rail_b,
-        } => {
+        Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
             let a = net.fixed(rail_v(rail_a, d));
             let b = net.fixed(rail_v(rail_b, d));
             let x = net.node();
@@ -173,9 +159,7 @@ fn add_reference(net: &mut Net, r: &Reference, d: &Comparator) -> usize {
         }
         // The random designs here use rails and dividers; the zener and the shunt reference have
         // their own nodal checks in reference_zener_shunt.rs.
-        Reference::Zener(_) | Reference::Shunt(_) => {
-            panic!("no nodal model for {r:?} in this file")
-        }
+        Reference::Zener(_) | Reference::Shunt(_) => panic!("no nodal model for {r:?} in this file"),
     }
 }
 
@@ -229,13 +213,7 @@ fn nodal_open_drain(c: &OpenDrainSchmitt) -> (f64, f64) {
         let src = net.fixed(vin);
         let o = add_open_drain_output(&mut net, c, high);
         match c.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                rf_ohm,
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
                 let minus = net.series(src, d.source_resistance_ohm);
                 net.draw(minus, d.bias_minus_a);
                 let p = net.node();
@@ -252,11 +230,7 @@ fn nodal_open_drain(c: &OpenDrainSchmitt) -> (f64, f64) {
                 let v = net.solve();
                 v[p] - v[minus] - trip_offset(d, high)
             }
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
                 let mid = net.series(src, d.source_resistance_ohm);
                 let p = net.node();
                 net.r(mid, p, r1_ohm);
@@ -271,12 +245,8 @@ fn nodal_open_drain(c: &OpenDrainSchmitt) -> (f64, f64) {
     };
     match c.polarity {
         // Inverting: output high (transistor off) below VT+.
-        OpenDrainPolarity::Inverting { .. } => {
-            (crossing(|x| diff(x, true)), crossing(|x| diff(x, false)))
-        }
-        OpenDrainPolarity::NonInverting { .. } => {
-            (crossing(|x| diff(x, false)), crossing(|x| diff(x, true)))
-        }
+        OpenDrainPolarity::Inverting { .. } => (crossing(|x| diff(x, true)), crossing(|x| diff(x, false))),
+        OpenDrainPolarity::NonInverting { .. } => (crossing(|x| diff(x, false)), crossing(|x| diff(x, true))),
     }
 }
 
@@ -322,13 +292,7 @@ fn nodal_monitor(c: &SupplyMonitor) -> (f64, f64) {
             net.v(o, GND, vol(d));
         } else {
             match (c.output, c.comparator_supply) {
-                (
-                    MonitorOutput::OpenDrain {
-                        rpu_ohm,
-                        pullup_rail,
-                    },
-                    _,
-                ) => {
+                (MonitorOutput::OpenDrain { rpu_ohm, pullup_rail }, _) => {
                     let pu = net.fixed(rail_v(pullup_rail, d));
                     net.r(pu, o, rpu_ohm);
                 }
@@ -349,6 +313,7 @@ fn nodal_monitor(c: &SupplyMonitor) -> (f64, f64) {
 // Random designs.
 // ---------------------------------------------------------------------------------------------
 
+
 fn random_rail(g: &mut Lcg, split: bool) -> Rail {
     match (g.next_f64() * 4.0) as u32 {
         0 => Rail::Supply,
@@ -360,9 +325,7 @@ fn random_rail(g: &mut Lcg, split: bool) -> Rail {
 
 fn random_reference(g: &mut Lcg, split: bool) -> Reference {
     if g.chance(0.3) {
-        Reference::Direct {
-            rail: random_rail(g, split),
-        }
+        Reference::Direct { rail: random_rail(g, split) }
     } else {
         Reference::Divider {
             ra_ohm: g.log_uniform(1e3, 1e6),
@@ -405,17 +368,9 @@ fn random_open_drain(g: &mut Lcg) -> OpenDrainSchmitt {
     OpenDrainSchmitt {
         polarity,
         rpu_ohm: g.log_uniform(100.0, 1e5),
-        pullup_rail: if g.chance(0.5) {
-            Rail::Supply
-        } else {
-            Rail::Fixed(g.uniform(1.8, 12.0))
-        },
+        pullup_rail: if g.chance(0.5) { Rail::Supply } else { Rail::Fixed(g.uniform(1.8, 12.0)) },
         rl_ohm: g.chance(0.4).then(|| g.log_uniform(1e3, 1e6)),
-        sink_resistance_ohm: if g.chance(0.5) {
-            0.0
-        } else {
-            g.uniform(1.0, 200.0)
-        },
+        sink_resistance_ohm: if g.chance(0.5) { 0.0 } else { g.uniform(1.0, 200.0) },
         device,
     }
 }
@@ -423,11 +378,7 @@ fn random_open_drain(g: &mut Lcg) -> OpenDrainSchmitt {
 fn random_plain(g: &mut Lcg) -> PlainComparator {
     let split = g.chance(0.3);
     PlainComparator {
-        sense: if g.chance(0.5) {
-            Sense::NonInverting
-        } else {
-            Sense::Inverting
-        },
+        sense: if g.chance(0.5) { Sense::NonInverting } else { Sense::Inverting },
         reference: random_reference(g, split),
         device: random_device(g, split),
     }
@@ -444,30 +395,17 @@ fn random_monitor(g: &mut Lcg) -> SupplyMonitor {
         device,
     );
     if g.chance(0.5) {
-        m.comparator_supply = MonitorSupply::FromMonitoredRail {
-            dropout_v: g.uniform(0.0, 1.0),
-        };
+        m.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: g.uniform(0.0, 1.0) };
     }
     if g.chance(0.5) {
-        let rail = if g.chance(0.5) {
-            Rail::Supply
-        } else {
-            Rail::Fixed(g.uniform(1.8, 12.0))
-        };
-        m.output = MonitorOutput::OpenDrain {
-            rpu_ohm: g.log_uniform(1e3, 1e6),
-            pullup_rail: rail,
-        };
+        let rail = if g.chance(0.5) { Rail::Supply } else { Rail::Fixed(g.uniform(1.8, 12.0)) };
+        m.output = MonitorOutput::OpenDrain { rpu_ohm: g.log_uniform(1e3, 1e6), pullup_rail: rail };
     }
     m
 }
 
 /// Draws `count` valid designs (the generators can produce an invalid one, e.g. a pull-up below VOL).
-fn valid_designs<C: Circuit>(
-    seed: u64,
-    count: usize,
-    mut make: impl FnMut(&mut Lcg) -> C,
-) -> Vec<C> {
+fn valid_designs<C: Circuit>(seed: u64, count: usize, mut make: impl FnMut(&mut Lcg) -> C) -> Vec<C> {
     let mut g = Lcg(seed);
     let mut out = Vec::new();
     let mut tries = 0;
@@ -484,18 +422,8 @@ fn valid_designs<C: Circuit>(
 
 fn assert_matches_nodal<C: Circuit + std::fmt::Debug>(c: &C, nodal: (f64, f64)) {
     let t = c.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, nodal.0, 1e-9),
-        "VT+ {} vs nodal {} for {c:?}",
-        t.vt_upper_v,
-        nodal.0
-    );
-    assert!(
-        close(t.vt_lower_v, nodal.1, 1e-9),
-        "VT− {} vs nodal {} for {c:?}",
-        t.vt_lower_v,
-        nodal.1
-    );
+    assert!(close(t.vt_upper_v, nodal.0, 1e-9), "VT+ {} vs nodal {} for {c:?}", t.vt_upper_v, nodal.0);
+    assert!(close(t.vt_lower_v, nodal.1, 1e-9), "VT− {} vs nodal {} for {c:?}", t.vt_lower_v, nodal.1);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -507,29 +435,12 @@ fn non_inverting_matches_sedra_smith() {
     // Sedra & Smith, Microelectronic Circuits, bistable circuit with the input on the non-inverting
     // side (from memory): with the reference at 0 V, VT+ = −L−·R1/R2 and VT− = −L+·R1/R2.
     // Saturation levels L± = ±13 V on ±15 V rails, R1 = 10 kΩ, R2 = 100 kΩ: VT± = ±1.3 V.
-    let d = Comparator {
-        supply_v: 15.0,
-        negative_rail_v: -15.0,
-        output_high_drop_v: 2.0,
-        output_low_rise_v: 2.0,
-        ..Comparator::default()
-    };
-    let c = NonInvertingSchmitt {
-        r1_ohm: 10e3,
-        r2_ohm: 100e3,
-        reference: Reference::Direct { rail: Rail::Ground },
-        device: d,
-    };
+    let d = Comparator { supply_v: 15.0, negative_rail_v: -15.0, output_high_drop_v: 2.0, output_low_rise_v: 2.0, ..Comparator::default() };
+    let c = NonInvertingSchmitt { r1_ohm: 10e3, r2_ohm: 100e3, reference: Reference::Direct { rail: Rail::Ground }, device: d };
     let t = c.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, 1.3, 1e-12) && close(t.vt_lower_v, -1.3, 1e-12),
-        "{t:?}"
-    );
+    assert!(close(t.vt_upper_v, 1.3, 1e-12) && close(t.vt_lower_v, -1.3, 1e-12), "{t:?}");
     // Same text, shifted by a reference VR on the inverting input: both thresholds move by VR(1 + R1/R2).
-    let shifted = NonInvertingSchmitt {
-        reference: Reference::fixed(1.0),
-        ..c
-    };
+    let shifted = NonInvertingSchmitt { reference: Reference::fixed(1.0), ..c };
     let t2 = shifted.thresholds().unwrap();
     assert!(close(t2.vt_upper_v - t.vt_upper_v, 1.1, 1e-12), "{t2:?}");
     assert!(close(t2.vt_lower_v - t.vt_lower_v, 1.1, 1e-12));
@@ -545,14 +456,8 @@ fn open_drain_matches_the_series_pullup_treatment() {
     let par = |a: f64, b: f64| a * b / (a + b);
     let c = OpenDrainSchmitt::inverting(ra, rb, rf, rpu, Comparator::ideal(5.0));
     let t = c.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, 5.0 * rb / (rb + par(ra, rf + rpu)), 1e-12),
-        "{t:?}"
-    );
-    assert!(
-        close(t.vt_lower_v, 5.0 * par(rb, rf) / (ra + par(rb, rf)), 1e-12),
-        "{t:?}"
-    );
+    assert!(close(t.vt_upper_v, 5.0 * rb / (rb + par(ra, rf + rpu)), 1e-12), "{t:?}");
+    assert!(close(t.vt_lower_v, 5.0 * par(rb, rf) / (ra + par(rb, rf)), 1e-12), "{t:?}");
 }
 
 #[test]
@@ -560,12 +465,7 @@ fn plain_comparator_matches_divider_and_datasheet_definition() {
     // Voltage-divider rule (Horowitz & Hill, The Art of Electronics, §1.2.3, from memory): Vth = VCC·Rb/(Ra+Rb).
     // Comparator datasheets define the trip points as VREF + VOS ± VHYST/2 (e.g. the TLV3201 family's
     // hysteresis definition, from memory).
-    let d = Comparator {
-        supply_v: 3.3,
-        offset_v: 0.001,
-        builtin_hysteresis_v: 0.004,
-        ..Comparator::default()
-    };
+    let d = Comparator { supply_v: 3.3, offset_v: 0.001, builtin_hysteresis_v: 0.004, ..Comparator::default() };
     let c = PlainComparator::non_inverting_with_divider(20e3, 10e3, d);
     let t = c.thresholds().unwrap();
     assert!(close(t.vt_upper_v, 1.1 + 0.001 + 0.002, 1e-12), "{t:?}");
@@ -583,19 +483,13 @@ fn supply_monitor_limits_match_published_forms() {
     let t = c.thresholds().unwrap();
     let m = rt / rh;
     assert!(close(t.vt_upper_v, vref * (1.0 + m), 1e-9), "{t:?}");
-    assert!(
-        close(t.vt_lower_v, vref * (1.0 + m) - m * 5.0, 1e-9),
-        "{t:?}"
-    );
+    assert!(close(t.vt_lower_v, vref * (1.0 + m) - m * 5.0, 1e-9), "{t:?}");
     // With Rh → ∞ the trip point is the divider's: VREF(1 + Rtop/Rbot) (voltage-divider rule,
     // Horowitz & Hill §1.2.3, from memory).
     let c = SupplyMonitor::undervoltage(360e3, 100e3, 1e15, 1.2, Comparator::ideal(5.0));
     c.validate().unwrap();
     let t = c.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, 1.2 * 4.6, 1e-9) && close(t.vt_lower_v, 1.2 * 4.6, 1e-9),
-        "{t:?}"
-    );
+    assert!(close(t.vt_upper_v, 1.2 * 4.6, 1e-9) && close(t.vt_lower_v, 1.2 * 4.6, 1e-9), "{t:?}");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -648,19 +542,10 @@ fn operating_points_agree_with_nodal_solution() {
             net.r(o, p, c.r2_ohm);
             let v = net.solve();
             let op = c.operating_point(vin, state).unwrap();
-            let node_p = op
-                .device_inputs
-                .iter()
-                .find(|n| n.name.contains("node P"))
-                .unwrap()
-                .volts;
+            let node_p = op.device_inputs.iter().find(|n| n.name.contains("node P")).unwrap().volts;
             assert!(close(node_p, v[p], 1e-9), "{node_p} vs {}", v[p]);
             let i_in = (v[mid] - v[p]) / c.r1_ohm;
-            assert!(
-                (op.input_current_a - i_in).abs() <= 1e-9 * i_in.abs() + 1e-18,
-                "{} vs {i_in}",
-                op.input_current_a
-            );
+            assert!((op.input_current_a - i_in).abs() <= 1e-9 * i_in.abs() + 1e-18, "{} vs {i_in}", op.input_current_a);
         }
     }
     for c in valid_designs(0x5eed_0007, 100, random_monitor) {
@@ -678,14 +563,7 @@ fn operating_points_agree_with_nodal_solution() {
             net.r(o, p, c.rh_ohm);
             match (high, c.output, c.comparator_supply) {
                 (false, _, _) => net.v(o, GND, vol(d)),
-                (
-                    true,
-                    MonitorOutput::OpenDrain {
-                        rpu_ohm,
-                        pullup_rail,
-                    },
-                    _,
-                ) => {
+                (true, MonitorOutput::OpenDrain { rpu_ohm, pullup_rail }, _) => {
                     let pu = net.fixed(rail_v(pullup_rail, d));
                     net.r(pu, o, rpu_ohm);
                 }
@@ -696,12 +574,7 @@ fn operating_points_agree_with_nodal_solution() {
             }
             let v = net.solve();
             let op = c.operating_point(vbat, state).unwrap();
-            let node_p = op
-                .device_inputs
-                .iter()
-                .find(|n| n.name.contains("node P"))
-                .unwrap()
-                .volts;
+            let node_p = op.device_inputs.iter().find(|n| n.name.contains("node P")).unwrap().volts;
             assert!(close(node_p, v[p], 1e-9), "{node_p} vs {}", v[p]);
         }
     }
@@ -712,18 +585,10 @@ fn operating_points_agree_with_nodal_solution() {
 // ---------------------------------------------------------------------------------------------
 
 fn round_trips<C: Circuit + std::fmt::Debug>(template: &C, targets: Thresholds, anchor: f64) {
-    let d = template
-        .synthesise_with_anchor(targets, anchor)
-        .unwrap_or_else(|e| panic!("{e} for {targets:?} {template:?}"));
+    let d = template.synthesise_with_anchor(targets, anchor).unwrap_or_else(|e| panic!("{e} for {targets:?} {template:?}"));
     let t = d.thresholds().unwrap();
-    assert!(
-        close(t.vt_upper_v, targets.vt_upper_v, 1e-9),
-        "{t:?} vs {targets:?}"
-    );
-    assert!(
-        close(t.vt_lower_v, targets.vt_lower_v, 1e-9),
-        "{t:?} vs {targets:?}"
-    );
+    assert!(close(t.vt_upper_v, targets.vt_upper_v, 1e-9), "{t:?} vs {targets:?}");
+    assert!(close(t.vt_lower_v, targets.vt_lower_v, 1e-9), "{t:?} vs {targets:?}");
 }
 
 /// Wild targets: either a design that reaches them, or a typed error; never NaN or a panic.
@@ -731,11 +596,7 @@ fn never_nan<C: Circuit + std::fmt::Debug>(template: &C, targets: Thresholds, an
     match template.synthesise_with_anchor(targets, anchor) {
         Ok(d) => {
             let t = d.thresholds().unwrap();
-            assert!(
-                close(t.vt_upper_v, targets.vt_upper_v, 1e-9)
-                    && close(t.vt_lower_v, targets.vt_lower_v, 1e-9),
-                "{t:?} vs {targets:?}"
-            );
+            assert!(close(t.vt_upper_v, targets.vt_upper_v, 1e-9) && close(t.vt_lower_v, targets.vt_lower_v, 1e-9), "{t:?} vs {targets:?}");
             let p: Vec<f64> = d.parameters().iter().map(|p| p.value).collect();
             assert!(p.iter().all(|x| x.is_finite()));
         }
@@ -745,9 +606,7 @@ fn never_nan<C: Circuit + std::fmt::Debug>(template: &C, targets: Thresholds, an
 
 fn infeasible(r: Result<impl std::fmt::Debug, DesignError>) {
     match r {
-        Err(DesignError::Infeasible { reason, suggestion }) => {
-            assert!(!reason.is_empty() && !suggestion.is_empty())
-        }
+        Err(DesignError::Infeasible { reason, suggestion }) => assert!(!reason.is_empty() && !suggestion.is_empty()),
         other => panic!("expected an infeasible error, got {other:?}"),
     }
 }
@@ -949,26 +808,13 @@ fn check_fixture(text: &str, topology: &str) {
     assert!(e.sensitivities.as_ref().is_some_and(|s| !s.is_empty()));
     let s = e.synthesis.as_ref().expect("synthesis");
     let t = record.targets.unwrap();
-    assert!(
-        close(s.analysis.vt_upper_v, t.vt_upper_v, 1e-9),
-        "{topology}: {} vs {}",
-        s.analysis.vt_upper_v,
-        t.vt_upper_v
-    );
-    assert!(
-        close(s.analysis.vt_lower_v, t.vt_lower_v, 1e-9),
-        "{topology}: {} vs {}",
-        s.analysis.vt_lower_v,
-        t.vt_lower_v
-    );
+    assert!(close(s.analysis.vt_upper_v, t.vt_upper_v, 1e-9), "{topology}: {} vs {}", s.analysis.vt_upper_v, t.vt_upper_v);
+    assert!(close(s.analysis.vt_lower_v, t.vt_lower_v, 1e-9), "{topology}: {} vs {}", s.analysis.vt_lower_v, t.vt_lower_v);
 }
 
 #[test]
 fn fixture_non_inverting() {
-    check_fixture(
-        include_str!("../fixtures/records/non_inverting.json"),
-        "non_inverting",
-    );
+    check_fixture(include_str!("../fixtures/records/non_inverting.json"), "non_inverting");
 }
 
 #[test]
@@ -977,20 +823,12 @@ fn fixture_open_drain() {
     check_fixture(text, "open_drain");
     // The 10 k pull-up against a 470 k feedback resistor is within the tenth rule: no loading warning.
     let e = evaluate(&DesignRecord::from_json(text).unwrap());
-    assert!(e
-        .analysis
-        .unwrap()
-        .warnings
-        .iter()
-        .all(|w| w.code != WarningCode::PullupLoading));
+    assert!(e.analysis.unwrap().warnings.iter().all(|w| w.code != WarningCode::PullupLoading));
 }
 
 #[test]
 fn fixture_plain_comparator() {
-    check_fixture(
-        include_str!("../fixtures/records/plain_comparator.json"),
-        "plain_comparator",
-    );
+    check_fixture(include_str!("../fixtures/records/plain_comparator.json"), "plain_comparator");
 }
 
 #[test]
@@ -998,15 +836,10 @@ fn fixture_supply_monitor() {
     let text = include_str!("../fixtures/records/supply_monitor.json");
     check_fixture(text, "supply_monitor");
     let record = DesignRecord::from_json(text).unwrap();
-    let Topology::SupplyMonitor(m) = &record.circuit else {
-        panic!("wrong topology")
-    };
+    let Topology::SupplyMonitor(m) = &record.circuit else { panic!("wrong topology") };
     assert!(matches!(m.output, MonitorOutput::OpenDrain { .. }));
     // The synthesised guard releases 1.2 V above its trip, more than the 0.4 V recovery: no cycling warning.
     let e = evaluate(&record);
     let w = &e.synthesis.unwrap().analysis.warnings;
-    assert!(
-        w.iter().all(|w| w.code != WarningCode::ReleaseTooClose),
-        "{w:?}"
-    );
+    assert!(w.iter().all(|w| w.code != WarningCode::ReleaseTooClose), "{w:?}");
 }

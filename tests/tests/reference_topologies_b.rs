@@ -93,10 +93,7 @@ fn cmos_buffer_matches_the_noninverting_bistable_formula() {
             output_low_v: uniform(&mut rng, 0.0, 0.1 * vdd),
             ..CmosGate::default()
         };
-        let (r1, r2) = (
-            log_uniform(&mut rng, 1e3, 1e6),
-            log_uniform(&mut rng, 1e3, 1e7),
-        );
+        let (r1, r2) = (log_uniform(&mut rng, 1e3, 1e6), log_uniform(&mut rng, 1e3, 1e7));
         let c = CmosBufferSchmitt::new(r1, r2, gate);
         let t = c.thresholds().unwrap();
         let vm = gate.switching_point_v();
@@ -115,54 +112,23 @@ fn schmitt_gate_matches_the_divider_formulas() {
     for _ in 0..200 {
         let gate = SchmittInput {
             supply_v: uniform(&mut rng, 2.0, 6.0),
-            vt_upper: DatasheetRange {
-                min_v: 0.0,
-                typ_v: 0.0,
-                max_v: 0.0,
-            },
-            vt_lower: DatasheetRange {
-                min_v: 0.0,
-                typ_v: 0.0,
-                max_v: 0.0,
-            },
+            vt_upper: DatasheetRange { min_v: 0.0, typ_v: 0.0, max_v: 0.0 },
+            vt_lower: DatasheetRange { min_v: 0.0, typ_v: 0.0, max_v: 0.0 },
             ..SchmittInput::default()
         };
         let vdd = gate.supply_v;
-        let (lo, hi) = (
-            uniform(&mut rng, 0.2, 0.45) * vdd,
-            uniform(&mut rng, 0.5, 0.8) * vdd,
-        );
+        let (lo, hi) = (uniform(&mut rng, 0.2, 0.45) * vdd, uniform(&mut rng, 0.5, 0.8) * vdd);
         let gate = SchmittInput {
-            vt_upper: DatasheetRange {
-                min_v: hi,
-                typ_v: hi,
-                max_v: hi,
-            },
-            vt_lower: DatasheetRange {
-                min_v: lo,
-                typ_v: lo,
-                max_v: lo,
-            },
+            vt_upper: DatasheetRange { min_v: hi, typ_v: hi, max_v: hi },
+            vt_lower: DatasheetRange { min_v: lo, typ_v: lo, max_v: lo },
             ..gate
         };
-        let (ra, rb, rc) = (
-            log_uniform(&mut rng, 1e3, 1e6),
-            log_uniform(&mut rng, 1e3, 1e6),
-            log_uniform(&mut rng, 1e3, 1e6),
-        );
-        let only_b = SchmittGate {
-            ra_ohm: Some(ra),
-            rb_ohm: Some(rb),
-            ..SchmittGate::bare(gate)
-        };
+        let (ra, rb, rc) = (log_uniform(&mut rng, 1e3, 1e6), log_uniform(&mut rng, 1e3, 1e6), log_uniform(&mut rng, 1e3, 1e6));
+        let only_b = SchmittGate { ra_ohm: Some(ra), rb_ohm: Some(rb), ..SchmittGate::bare(gate) };
         let t = only_b.thresholds().unwrap();
         assert!(close(t.vt_upper_v, hi * (ra + rb) / rb, 1e-12));
         assert!(close(t.vt_lower_v, lo * (ra + rb) / rb, 1e-12));
-        let only_c = SchmittGate {
-            ra_ohm: Some(ra),
-            rc_ohm: Some(rc),
-            ..SchmittGate::bare(gate)
-        };
+        let only_c = SchmittGate { ra_ohm: Some(ra), rc_ohm: Some(rc), ..SchmittGate::bare(gate) };
         let t = only_c.thresholds().unwrap();
         // Solve Vx = (Vin·Rc + VDD·Ra)/(Ra+Rc) for Vin.
         assert!(close(t.vt_upper_v, (hi * (ra + rc) - vdd * ra) / rc, 1e-12));
@@ -214,16 +180,8 @@ fn random_cmos(rng: &mut Rng) -> CmosBufferSchmitt {
         ..CmosGate::default()
     };
     let r3 = (rng.uniform() < 0.7).then(|| log_uniform(rng, 1e3, 1e7));
-    let rail = if rng.uniform() < 0.5 {
-        BiasRail::Ground
-    } else {
-        BiasRail::Supply
-    };
-    CmosBufferSchmitt {
-        r3_ohm: r3,
-        r3_rail: rail,
-        ..CmosBufferSchmitt::new(log_uniform(rng, 1e3, 1e6), log_uniform(rng, 1e3, 1e7), gate)
-    }
+    let rail = if rng.uniform() < 0.5 { BiasRail::Ground } else { BiasRail::Supply };
+    CmosBufferSchmitt { r3_ohm: r3, r3_rail: rail, ..CmosBufferSchmitt::new(log_uniform(rng, 1e3, 1e6), log_uniform(rng, 1e3, 1e7), gate) }
 }
 
 /// Node X of the CMOS buffer network by MNA: nodes 1 = input, 2 = X, 3 = output, 4 = bias rail.
@@ -257,11 +215,7 @@ fn cmos_buffer_agrees_with_an_independent_nodal_solution() {
         let vin = uniform(&mut rng, -1.0, c.gate.supply_v + 1.0);
         for (state, vo) in [(OutputState::High, voh), (OutputState::Low, vol)] {
             let op = c.operating_point(vin, state).unwrap();
-            assert!(close(
-                op.device_inputs[0].volts,
-                cmos_node_x(&c, vin, vo),
-                1e-9
-            ));
+            assert!(close(op.device_inputs[0].volts, cmos_node_x(&c, vin, vo), 1e-9));
         }
     }
 }
@@ -272,16 +226,8 @@ fn random_gate(rng: &mut Rng) -> SchmittGate {
     let hi = uniform(rng, 0.5, 0.8) * vdd;
     let gate = SchmittInput {
         supply_v: vdd,
-        vt_upper: DatasheetRange {
-            min_v: 0.9 * hi,
-            typ_v: hi,
-            max_v: 1.1 * hi,
-        },
-        vt_lower: DatasheetRange {
-            min_v: 0.9 * lo,
-            typ_v: lo,
-            max_v: 1.1 * lo,
-        },
+        vt_upper: DatasheetRange { min_v: 0.9 * hi, typ_v: hi, max_v: 1.1 * hi },
+        vt_lower: DatasheetRange { min_v: 0.9 * lo, typ_v: lo, max_v: 1.1 * lo },
         ..SchmittInput::default()
     };
     SchmittGate {
@@ -372,10 +318,7 @@ impl IndependentPair {
         let ic = is * (ef - er) - is / self.br * (er - 1.0);
         let ib = is / self.bf * (ef - 1.0) + is / self.br * (er - 1.0);
         // d/d(vbe), d/d(vbc)
-        let (dic_f, dic_r) = (
-            is * ef / self.vt,
-            -is * er / self.vt * (1.0 + 1.0 / self.br),
-        );
+        let (dic_f, dic_r) = (is * ef / self.vt, -is * er / self.vt * (1.0 + 1.0 / self.br));
         let (dib_f, dib_r) = (is * ef / (self.bf * self.vt), is * er / (self.br * self.vt));
         let grad = |df: f64, dr: f64| [df + dr, -dr, -df]; // with respect to (vb, vc, ve)
         let gc = grad(dic_f, dic_r);
@@ -431,14 +374,7 @@ impl IndependentPair {
     /// Damped Newton at a fixed input: no node moves more than 50 mV per iteration. `shunt_s` adds a
     /// conductance from every node to its value in `anchor` (the backward-Euler term of a
     /// capacitor, C/Δt; zero for a plain DC solve).
-    fn newton(
-        &self,
-        vin: f64,
-        mut x: Vector4<f64>,
-        anchor: &Vector4<f64>,
-        shunt_s: f64,
-        max_iter: usize,
-    ) -> Option<Vector4<f64>> {
+    fn newton(&self, vin: f64, mut x: Vector4<f64>, anchor: &Vector4<f64>, shunt_s: f64, max_iter: usize) -> Option<Vector4<f64>> {
         for _ in 0..max_iter {
             let (f, j) = self.kcl(vin, &x);
             let g = f + (x - anchor) * shunt_s;
@@ -489,19 +425,14 @@ impl IndependentPair {
         x = self.solve(0.0, x).expect("solution at 0 V");
         let n = (vin / 0.01).ceil() as usize;
         for i in 1..=n {
-            x = self
-                .solve(vin * i as f64 / n as f64, x)
-                .expect("continuation from 0 V");
+            x = self.solve(vin * i as f64 / n as f64, x).expect("continuation from 0 V");
         }
         x
     }
 }
 
 fn domain_example(model: BjtModel) -> EmitterCoupledSchmitt {
-    let mut c = EmitterCoupledSchmitt {
-        model,
-        ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3)
-    };
+    let mut c = EmitterCoupledSchmitt { model, ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) };
     // DOMAIN §1f's transistor: IS and βF entered at, and operating at, 300 K.
     c.transistor.temperature_k = 300.0;
     c.transistor.nominal_temperature_k = 300.0;
@@ -562,17 +493,10 @@ fn bjt_fold_points_satisfy_kcl_and_are_singular() {
         for n in folds {
             let x = Vector4::new(n.ve_v, n.vc1_v, n.vb2_v, n.vc2_v);
             let (f, j) = p.kcl(n.vin_v, &x);
-            assert!(
-                f.amax() < 1e-9 * i_scale,
-                "KCL residual {:e} A at {n:?}",
-                f.amax()
-            );
+            assert!(f.amax() < 1e-9 * i_scale, "KCL residual {:e} A at {n:?}", f.amax());
             let sv = j.singular_values();
             let cond = sv.min() / sv.max();
-            assert!(
-                cond < 1e-6 * cond_regular,
-                "not a fold: σmin/σmax {cond:e} vs regular {cond_regular:e}"
-            );
+            assert!(cond < 1e-6 * cond_regular, "not a fold: σmin/σmax {cond:e} vs regular {cond_regular:e}");
         }
     }
 }
@@ -595,12 +519,7 @@ fn bjt_brute_force_sweep_jumps_at_the_reported_thresholds() {
         let mut up_jump = None;
         while vin < t.vt_upper_v + span {
             let next = vin + step;
-            let nx = p.solve(next, x).unwrap_or_else(|| {
-                panic!(
-                    "sweep solve at {next} (VT+ {}) from {x:?} design {c:?}",
-                    t.vt_upper_v
-                )
-            });
+            let nx = p.solve(next, x).unwrap_or_else(|| panic!("sweep solve at {next} (VT+ {}) from {x:?} design {c:?}", t.vt_upper_v));
             if up_jump.is_none() && (nx[C2] - x[C2]).abs() > jump {
                 up_jump = Some(next);
             }
@@ -618,21 +537,10 @@ fn bjt_brute_force_sweep_jumps_at_the_reported_thresholds() {
             x = nx;
             vin = next;
         }
-        let (up, down) = (
-            up_jump.expect("no upward jump"),
-            down_jump.expect("no downward jump"),
-        );
+        let (up, down) = (up_jump.expect("no upward jump"), down_jump.expect("no downward jump"));
         // The jump is seen at the first sample beyond the fold.
-        assert!(
-            up >= t.vt_upper_v - 1e-9 && up - t.vt_upper_v <= 2e-3,
-            "up jump {up} vs VT+ {}",
-            t.vt_upper_v
-        );
-        assert!(
-            down <= t.vt_lower_v + 1e-9 && t.vt_lower_v - down <= 2e-3,
-            "down jump {down} vs VT− {}",
-            t.vt_lower_v
-        );
+        assert!(up >= t.vt_upper_v - 1e-9 && up - t.vt_upper_v <= 2e-3, "up jump {up} vs VT+ {}", t.vt_upper_v);
+        assert!(down <= t.vt_lower_v + 1e-9 && t.vt_lower_v - down <= 2e-3, "down jump {down} vs VT− {}", t.vt_lower_v);
     }
 }
 
@@ -664,16 +572,8 @@ fn bjt_hand_and_ebers_moll_agree_once_vbe_is_made_consistent() {
         // VT−: Q1 conducts, Q2 turns on at the fold current: VE = (K·VCC − VBE2,f)/(1 + α·K·RC1/RE).
         let ve = (k * c.supply_v - vbe_fold) / (1.0 + alpha * k * c.rc1_ohm / c.re_ohm);
         let lower = ve + vbe_at(alpha * ve / c.re_ohm);
-        assert!(
-            (upper - em.vt_upper_v).abs() < 1.5 * vt,
-            "VT+ {upper} vs {}",
-            em.vt_upper_v
-        );
-        assert!(
-            (lower - em.vt_lower_v).abs() < 1.5 * vt,
-            "VT− {lower} vs {}",
-            em.vt_lower_v
-        );
+        assert!((upper - em.vt_upper_v).abs() < 1.5 * vt, "VT+ {upper} vs {}", em.vt_upper_v);
+        assert!((lower - em.vt_lower_v).abs() < 1.5 * vt, "VT− {lower} vs {}", em.vt_lower_v);
         // The plain hand model with one VBE (the conducting device's) misses by much more.
         let mut hand = c.clone();
         hand.model = BjtModel::Hand;
@@ -687,15 +587,9 @@ fn bjt_hand_and_ebers_moll_agree_once_vbe_is_made_consistent() {
 fn bjt_domain_example_in_both_models() {
     // DOMAIN §1f example (values [D], derived by DOMAIN's authors; a consistency check only).
     let h = domain_example(BjtModel::Hand).thresholds().unwrap();
-    assert!(
-        (h.vt_upper_v - 4.6992).abs() < 1e-4 && (h.vt_lower_v - 2.5154).abs() < 1e-4,
-        "{h:?}"
-    );
+    assert!((h.vt_upper_v - 4.6992).abs() < 1e-4 && (h.vt_lower_v - 2.5154).abs() < 1e-4, "{h:?}");
     let e = domain_example(BjtModel::EbersMoll).thresholds().unwrap();
-    assert!(
-        (e.vt_upper_v - 4.5403).abs() < 1e-4 && (e.vt_lower_v - 2.5843).abs() < 1e-4,
-        "{e:?}"
-    );
+    assert!((e.vt_upper_v - 4.5403).abs() < 1e-4 && (e.vt_lower_v - 2.5843).abs() < 1e-4, "{e:?}");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -853,18 +747,9 @@ proptest! {
 #[test]
 fn example_records_evaluate_without_errors() {
     for (name, text) in [
-        (
-            "cmos_buffer",
-            include_str!("../fixtures/records/cmos_buffer.json"),
-        ),
-        (
-            "schmitt_gate",
-            include_str!("../fixtures/records/schmitt_gate.json"),
-        ),
-        (
-            "bjt_pair",
-            include_str!("../fixtures/records/bjt_pair.json"),
-        ),
+        ("cmos_buffer", include_str!("../fixtures/records/cmos_buffer.json")),
+        ("schmitt_gate", include_str!("../fixtures/records/schmitt_gate.json")),
+        ("bjt_pair", include_str!("../fixtures/records/bjt_pair.json")),
     ] {
         let record = DesignRecord::from_json(text).unwrap_or_else(|e| panic!("{name}: {e}"));
         assert_eq!(record.circuit.name(), name);
@@ -875,12 +760,7 @@ fn example_records_evaluate_without_errors() {
         let s = ev.synthesis.as_ref().unwrap();
         let t = record.targets.unwrap();
         let rel = if name == "bjt_pair" { 1e-6 } else { 1e-9 };
-        assert!(
-            close(s.analysis.vt_upper_v, t.vt_upper_v, rel)
-                && close(s.analysis.vt_lower_v, t.vt_lower_v, rel),
-            "{name}: {:?}",
-            s.analysis
-        );
+        assert!(close(s.analysis.vt_upper_v, t.vt_upper_v, rel) && close(s.analysis.vt_lower_v, t.vt_lower_v, rel), "{name}: {:?}", s.analysis);
         // The record survives a JSON round trip unchanged.
         assert_eq!(DesignRecord::from_json(&record.to_json()).unwrap(), record);
     }

@@ -74,31 +74,10 @@ fn parse_value(text: &str) -> Option<f64> {
 
 #[derive(Debug, Clone)]
 enum Element {
-    R {
-        name: String,
-        a: String,
-        b: String,
-        ohm: f64,
-    },
-    V {
-        name: String,
-        p: String,
-        n: String,
-        volts: f64,
-    },
-    I {
-        p: String,
-        n: String,
-        amps: f64,
-    },
-    S {
-        name: String,
-        a: String,
-        b: String,
-        cp: String,
-        cn: String,
-        model: String,
-    },
+    R { name: String, a: String, b: String, ohm: f64 },
+    V { name: String, p: String, n: String, volts: f64 },
+    I { p: String, n: String, amps: f64 },
+    S { name: String, a: String, b: String, cp: String, cn: String, model: String },
     Q,
     /// A behavioural source (the zener's or shunt reference's current law).
     B,
@@ -129,10 +108,7 @@ fn parse_deck(text: &str) -> Deck {
         }
         lines.push(raw.to_string());
     }
-    let mut deck = Deck {
-        title: lines.first().cloned().unwrap_or_default(),
-        ..Deck::default()
-    };
+    let mut deck = Deck { title: lines.first().cloned().unwrap_or_default(), ..Deck::default() };
     for line in lines.iter().skip(1) {
         let l = line.trim().to_ascii_lowercase();
         if l.is_empty() || l.starts_with('*') {
@@ -157,18 +133,9 @@ fn parse_deck(text: &str) -> Deck {
                 }
                 .unwrap_or_else(|| panic!("no DC value in {line}"));
                 if f[0].starts_with('v') {
-                    deck.elements.push(Element::V {
-                        name: f[0].into(),
-                        p: f[1].into(),
-                        n: f[2].into(),
-                        volts: dc,
-                    });
+                    deck.elements.push(Element::V { name: f[0].into(), p: f[1].into(), n: f[2].into(), volts: dc });
                 } else {
-                    deck.elements.push(Element::I {
-                        p: f[1].into(),
-                        n: f[2].into(),
-                        amps: dc,
-                    });
+                    deck.elements.push(Element::I { p: f[1].into(), n: f[2].into(), amps: dc });
                 }
             }
             's' => deck.elements.push(Element::S {
@@ -190,8 +157,7 @@ fn parse_deck(text: &str) -> Deck {
                                 .and_then(|k| parse_value(f[k + 1]))
                                 .unwrap_or_else(|| panic!("{key} missing in {line}"))
                         };
-                        deck.switch_models
-                            .insert(f[1].into(), (get("vt"), get("vh"), get("ron"), get("roff")));
+                        deck.switch_models.insert(f[1].into(), (get("vt"), get("vh"), get("ron"), get("roff")));
                     }
                 }
                 ".end" => deck.ended = true,
@@ -251,12 +217,7 @@ impl<'a> Solver<'a> {
                 Element::Q | Element::B => {}
             }
         }
-        Solver {
-            deck,
-            nodes,
-            vsources,
-            switches,
-        }
+        Solver { deck, nodes, vsources, switches }
     }
 
     /// Node voltages for an input voltage and the switch states (closed = true).
@@ -281,19 +242,10 @@ impl<'a> Solver<'a> {
         let mut k_switch = 0;
         for e in &self.deck.elements {
             match e {
-                Element::R {
-                    a: p, b: q, ohm, ..
-                } => conductance(p, q, 1.0 / ohm, &mut a),
-                Element::S {
-                    a: p, b: q, model, ..
-                } => {
+                Element::R { a: p, b: q, ohm, .. } => conductance(p, q, 1.0 / ohm, &mut a),
+                Element::S { a: p, b: q, model, .. } => {
                     let (_, _, ron, roff) = self.deck.switch_models[model];
-                    conductance(
-                        p,
-                        q,
-                        1.0 / if closed[k_switch] { ron } else { roff },
-                        &mut a,
-                    );
+                    conductance(p, q, 1.0 / if closed[k_switch] { ron } else { roff }, &mut a);
                     k_switch += 1;
                 }
                 Element::I { p, n: q, amps } => {
@@ -309,13 +261,7 @@ impl<'a> Solver<'a> {
             }
         }
         for (k, &ei) in self.vsources.iter().enumerate() {
-            if let Element::V {
-                name,
-                p,
-                n: q,
-                volts,
-            } = &self.deck.elements[ei]
-            {
+            if let Element::V { name, p, n: q, volts } = &self.deck.elements[ei] {
                 let row = n + k;
                 if let Some(i) = idx(p) {
                     a[(row, i)] = 1.0;
@@ -329,8 +275,7 @@ impl<'a> Solver<'a> {
             }
         }
         let x = a.lu().solve(&z).expect("singular MNA matrix");
-        let mut out: HashMap<String, f64> =
-            self.nodes.iter().map(|(k, &i)| (k.clone(), x[i])).collect();
+        let mut out: HashMap<String, f64> = self.nodes.iter().map(|(k, &i)| (k.clone(), x[i])).collect();
         out.insert("0".into(), 0.0);
         out
     }
@@ -436,25 +381,9 @@ fn spice_numbers_read_back_by_the_scale_factor_rules() {
     assert_eq!(parse_value("1mil"), Some(25.4e-6));
     assert_eq!(parse_value("abc"), None);
     // Our writer's output reads back to within twelve significant digits.
-    for x in [
-        1.0,
-        4.7e3,
-        68e3,
-        1e6,
-        2.5e-8,
-        1e-14,
-        0.02,
-        3.3,
-        123456.789,
-        9.99999e-13,
-        7.5e12,
-    ] {
+    for x in [1.0, 4.7e3, 68e3, 1e6, 2.5e-8, 1e-14, 0.02, 3.3, 123456.789, 9.99999e-13, 7.5e12] {
         let y = parse_value(&spice_number(x)).unwrap();
-        assert!(
-            (y - x).abs() <= 1e-12 * x.abs(),
-            "{x} -> {} -> {y}",
-            spice_number(x)
-        );
+        assert!((y - x).abs() <= 1e-12 * x.abs(), "{x} -> {} -> {y}", spice_number(x));
     }
 }
 
@@ -474,64 +403,31 @@ fn every_part_is_in_the_deck_with_its_designator_nodes_and_value() {
                 _ => None,
             })
             .collect();
-        let parts: Vec<_> = c
-            .parameters()
-            .into_iter()
-            .filter(|p| p.designator.is_some())
-            .collect();
+        let parts: Vec<_> = c.parameters().into_iter().filter(|p| p.designator.is_some()).collect();
         for p in &parts {
             let d = p.designator.clone().unwrap().to_ascii_lowercase();
             let found: Vec<_> = resistors.iter().filter(|r| *r.0 == d).collect();
             assert_eq!(found.len(), 1, "{key}: {d} appears {} times", found.len());
             let (_, a, b, ohm) = found[0];
-            assert!(
-                (ohm - p.value).abs() <= 1e-12 * p.value,
-                "{key}: {d} = {ohm}, part list {}",
-                p.value
-            );
-            let n = net
-                .resistors
-                .iter()
-                .find(|r| r.designator.to_ascii_lowercase() == d)
-                .unwrap();
-            assert_eq!(
-                (a.as_str(), b.as_str()),
-                (n.node_a.as_str(), n.node_b.as_str()),
-                "{key}: {d} nodes"
-            );
+            assert!((ohm - p.value).abs() <= 1e-12 * p.value, "{key}: {d} = {ohm}, part list {}", p.value);
+            let n = net.resistors.iter().find(|r| r.designator.to_ascii_lowercase() == d).unwrap();
+            assert_eq!((a.as_str(), b.as_str()), (n.node_a.as_str(), n.node_b.as_str()), "{key}: {d} nodes");
         }
         // Nothing else but the source resistance and an external load.
         for r in &resistors {
-            let listed = parts
-                .iter()
-                .any(|p| p.designator.as_deref().unwrap().eq_ignore_ascii_case(r.0));
-            assert!(
-                listed || r.0 == "rs" || r.0 == "rload",
-                "{key}: unexpected resistor {}",
-                r.0
-            );
+            let listed = parts.iter().any(|p| p.designator.as_deref().unwrap().eq_ignore_ascii_case(r.0));
+            assert!(listed || r.0 == "rs" || r.0 == "rload", "{key}: unexpected resistor {}", r.0);
         }
         // Every active device is present: switches for U1, Q lines for the transistors.
-        let q = deck
-            .elements
-            .iter()
-            .filter(|e| matches!(e, Element::Q))
-            .count();
-        let s = deck
-            .elements
-            .iter()
-            .filter(|e| matches!(e, Element::S { .. }))
-            .count();
+        let q = deck.elements.iter().filter(|e| matches!(e, Element::Q)).count();
+        let s = deck.elements.iter().filter(|e| matches!(e, Element::S { .. })).count();
         match c {
             Topology::BjtPair(_) => assert_eq!(q, 2, "{key}"),
             _ => assert!(s >= 1, "{key}: no behavioural switch"),
         }
         for e in &deck.elements {
             if let Element::S { name, model, .. } = e {
-                assert!(
-                    deck.switch_models.contains_key(model),
-                    "{key}: {name} uses undefined model {model}"
-                );
+                assert!(deck.switch_models.contains_key(model), "{key}: {name} uses undefined model {model}");
             }
         }
     }
@@ -557,15 +453,7 @@ fn the_deck_switches_where_the_analysis_says() {
         // The behavioural output has 1 Ω on-resistance and 1 TΩ off-resistance, which the analysis
         // does not have: their effect is below 1e-4 of the swing for these networks (≥ 4.7 kΩ).
         let tol = 1e-4 * (1.0 + t.vt_upper_v.abs());
-        assert!(
-            (up - t.vt_upper_v).abs() < tol,
-            "{key}: deck VT+ {up}, analysis {}",
-            t.vt_upper_v
-        );
-        assert!(
-            (down - t.vt_lower_v).abs() < tol,
-            "{key}: deck VT- {down}, analysis {}",
-            t.vt_lower_v
-        );
+        assert!((up - t.vt_upper_v).abs() < tol, "{key}: deck VT+ {up}, analysis {}", t.vt_upper_v);
+        assert!((down - t.vt_lower_v).abs() < tol, "{key}: deck VT- {down}, analysis {}", t.vt_lower_v);
     }
 }

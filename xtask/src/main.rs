@@ -46,15 +46,9 @@ fn main() -> ExitCode {
         // Trunk's post-build hook: the policy first (it changes index.html), then the service worker's
         // file list and version (a hash over every built file).
         // `--from-dist`: from the dist/ already built, without building again.
-        Some("single-file") if args.get(1).map(String::as_str) == Some("--from-dist") => {
-            single::write_single_file(&root)
-        }
-        Some("single-file") => setup_build_tools(&root)
-            .and_then(|_| build_page(&root))
-            .and_then(|_| single::write_single_file(&root)),
-        Some("post-build") => split::split_page(&root)
-            .and_then(|_| csp::write_policy())
-            .and_then(|_| offline::write_service_worker()),
+        Some("single-file") if args.get(1).map(String::as_str) == Some("--from-dist") => single::write_single_file(&root),
+        Some("single-file") => setup_build_tools(&root).and_then(|_| build_page(&root)).and_then(|_| single::write_single_file(&root)),
+        Some("post-build") => split::split_page(&root).and_then(|_| csp::write_policy()).and_then(|_| offline::write_service_worker()),
         _ => {
             eprintln!("usage: cargo xtask <serve|test|explore|build|setup>");
             eprintln!("  serve   install what is missing, build the page, serve it on http://127.0.0.1:8080");
@@ -86,14 +80,8 @@ fn say(msg: &str) {
 /// Runs a command, echoing it; fails with its exit status.
 fn run(cmd: &mut Command) -> Result<(), String> {
     say(&format!("running: {cmd:?}"));
-    let status = cmd
-        .status()
-        .map_err(|e| format!("cannot start {cmd:?}: {e}"))?;
-    if status.success() {
-        Ok(())
-    } else {
-        Err(format!("{cmd:?} failed with {status}"))
-    }
+    let status = cmd.status().map_err(|e| format!("cannot start {cmd:?}: {e}"))?;
+    if status.success() { Ok(()) } else { Err(format!("{cmd:?} failed with {status}")) }
 }
 
 /// The first line a command prints with `--version`, if it runs.
@@ -102,30 +90,21 @@ fn version_of(program: &str, arg: &str) -> Option<String> {
     if !out.status.success() {
         return None;
     }
-    let text =
-        String::from_utf8_lossy(&out.stdout).to_string() + &String::from_utf8_lossy(&out.stderr);
+    let text = String::from_utf8_lossy(&out.stdout).to_string() + &String::from_utf8_lossy(&out.stderr);
     text.lines().next().map(|l| l.trim().to_string())
 }
 
 /// The version of a package recorded in Cargo.lock.
 fn locked_version(root: &Path, package: &str) -> Result<String, String> {
-    let lock = std::fs::read_to_string(root.join("Cargo.lock"))
-        .map_err(|e| format!("cannot read Cargo.lock: {e}"))?;
+    let lock = std::fs::read_to_string(root.join("Cargo.lock")).map_err(|e| format!("cannot read Cargo.lock: {e}"))?;
     let needle = format!("name = \"{package}\"\nversion = \"");
-    let start = lock
-        .find(&needle)
-        .ok_or_else(|| format!("{package} is not in Cargo.lock"))?
-        + needle.len();
+    let start = lock.find(&needle).ok_or_else(|| format!("{package} is not in Cargo.lock"))? + needle.len();
     let end = lock[start..].find('"').ok_or("Cargo.lock is malformed")? + start;
     Ok(lock[start..end].to_string())
 }
 
 fn is_root() -> bool {
-    Command::new("id")
-        .arg("-u")
-        .output()
-        .map(|o| String::from_utf8_lossy(&o.stdout).trim() == "0")
-        .unwrap_or(false)
+    Command::new("id").arg("-u").output().map(|o| String::from_utf8_lossy(&o.stdout).trim() == "0").unwrap_or(false)
 }
 
 fn setup_build_tools(root: &Path) -> Result<(), String> {
@@ -147,31 +126,18 @@ fn setup_build_tools(root: &Path) -> Result<(), String> {
         Some(v) if v.contains(TRUNK_VERSION) => say(&format!("trunk: present ({v})")),
         other => {
             say(&format!("installing trunk {TRUNK_VERSION} (found: {other:?}); this takes about 12 minutes on 2 cores"));
-            run(Command::new("cargo").args([
-                "install",
-                "--locked",
-                &format!("trunk@{TRUNK_VERSION}"),
-            ]))?;
+            run(Command::new("cargo").args(["install", "--locked", &format!("trunk@{TRUNK_VERSION}")]))?;
         }
     }
 
     let wb = locked_version(root, "wasm-bindgen")?;
-    say(&format!(
-        "checking wasm-bindgen-cli {wb} (the version in Cargo.lock)"
-    ));
+    say(&format!("checking wasm-bindgen-cli {wb} (the version in Cargo.lock)"));
     match version_of("wasm-bindgen", "--version") {
         Some(v) if v.ends_with(&wb) => say(&format!("wasm-bindgen: present ({v})")),
         other => {
-            say(&format!(
-                "installing wasm-bindgen-cli {wb} (found: {other:?}); about 4 minutes"
-            ));
+            say(&format!("installing wasm-bindgen-cli {wb} (found: {other:?}); about 4 minutes"));
             // `--locked` fails for this crate on the registry mirror (its lock names a yanked version).
-            run(Command::new("cargo").args([
-                "install",
-                "wasm-bindgen-cli",
-                "--version",
-                &format!("={wb}"),
-            ]))?;
+            run(Command::new("cargo").args(["install", "wasm-bindgen-cli", "--version", &format!("={wb}")]))?;
         }
     }
 
@@ -179,14 +145,9 @@ fn setup_build_tools(root: &Path) -> Result<(), String> {
     match version_of("wasm-opt", "--version") {
         Some(v) if v.contains(WASM_OPT_VERSION) => say(&format!("wasm-opt: present ({v})")),
         other => {
-            say(&format!(
-                "installing {BINARYEN_NPM} with npm (found: {other:?})"
-            ));
+            say(&format!("installing {BINARYEN_NPM} with npm (found: {other:?})"));
             if version_of("npm", "--version").is_none() {
-                return Err(
-                    "npm is needed to install binaryen 132 (wasm-opt): install Node.js and npm"
-                        .into(),
-                );
+                return Err("npm is needed to install binaryen 132 (wasm-opt): install Node.js and npm".into());
             }
             run(Command::new("npm").args(["install", "-g", BINARYEN_NPM]))?;
             match version_of("wasm-opt", "--version") {
@@ -212,10 +173,7 @@ fn apt_install(packages: &[&str]) -> Result<(), String> {
     }
     say(&format!("installing {} with apt-get", packages.join(", ")));
     run(Command::new("apt-get").arg("update").arg("-q"))?;
-    run(Command::new("apt-get")
-        .args(["install", "-y", "-q"])
-        .args(packages)
-        .env("DEBIAN_FRONTEND", "noninteractive"))
+    run(Command::new("apt-get").args(["install", "-y", "-q"]).args(packages).env("DEBIAN_FRONTEND", "noninteractive"))
 }
 
 fn setup_browser() -> Result<(), String> {
@@ -243,27 +201,15 @@ fn setup_browser() -> Result<(), String> {
 
 fn build_page(root: &Path) -> Result<(), String> {
     say("building the page with trunk (release)");
-    run(Command::new("trunk")
-        .args(["build", "--release"])
-        .env(SPLIT_ENV, "1")
-        .current_dir(root))
+    run(Command::new("trunk").args(["build", "--release"]).env(SPLIT_ENV, "1").current_dir(root))
 }
 
 fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
     setup_build_tools(root)?;
     let port = rest.first().cloned().unwrap_or_else(|| "8080".into());
-    say(&format!(
-        "serving the page on http://127.0.0.1:{port}/ (Ctrl+C stops)"
-    ));
+    say(&format!("serving the page on http://127.0.0.1:{port}/ (Ctrl+C stops)"));
     run(Command::new("trunk")
-        .args([
-            "serve",
-            "--release",
-            "--address",
-            "127.0.0.1",
-            "--port",
-            &port,
-        ])
+        .args(["serve", "--release", "--address", "127.0.0.1", "--port", &port])
         .env(SPLIT_ENV, "1")
         .current_dir(root))
 }
@@ -276,27 +222,13 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     say("native tests: unit, property, reference and browser end-to-end");
     say(&format!("property tests use the fixed seed PROPTEST_RNG_SEED={CI_PROPTEST_SEED} (fresh seeds: cargo xtask explore)"));
     run(Command::new("cargo")
-        .args([
-            "test",
-            "--workspace",
-            "--exclude",
-            "hysteron-app",
-            "--no-fail-fast",
-        ])
+        .args(["test", "--workspace", "--exclude", "hysteron-app", "--no-fail-fast"])
         .env("PROPTEST_RNG_SEED", CI_PROPTEST_SEED.to_string())
         .env_remove("HYSTERON_PROPTEST_SCALE")
         .current_dir(root))?;
     say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
     run(Command::new("cargo")
-        .args([
-            "test",
-            "-p",
-            "hysteron-app",
-            "--target",
-            "wasm32-unknown-unknown",
-            "--",
-            "--nocapture",
-        ])
+        .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown", "--", "--nocapture"])
         .env("CHROMEDRIVER", "chromedriver")
         .env("WASM_BINDGEN_TEST_TIMEOUT", "120")
         .current_dir(root))?;
@@ -307,8 +239,7 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
 /// The test files under `tests/tests/` that hold property tests (a `proptest!` block).
 fn property_test_files(root: &Path) -> Result<Vec<String>, String> {
     let dir = root.join("tests").join("tests");
-    let entries =
-        std::fs::read_dir(&dir).map_err(|e| format!("cannot list {}: {e}", dir.display()))?;
+    let entries = std::fs::read_dir(&dir).map_err(|e| format!("cannot list {}: {e}", dir.display()))?;
     let mut names = Vec::new();
     for entry in entries.flatten() {
         let path = entry.path();
@@ -340,37 +271,23 @@ fn fresh_seed() -> u64 {
 /// `cargo xtask explore [SCALE] [SEED]`: the property tests with a fresh seed and more cases.
 fn explore(root: &Path, rest: &[String]) -> Result<(), String> {
     let scale = match rest.first() {
-        Some(s) => s
-            .parse::<u32>()
-            .ok()
-            .filter(|&n| n >= 1)
-            .ok_or_else(|| format!("SCALE must be a whole number ≥ 1, got {s:?}"))?,
+        Some(s) => s.parse::<u32>().ok().filter(|&n| n >= 1).ok_or_else(|| format!("SCALE must be a whole number ≥ 1, got {s:?}"))?,
         None => EXPLORE_SCALE,
     };
     let seed = match rest.get(1) {
-        Some(s) => s
-            .parse::<u64>()
-            .map_err(|_| format!("SEED must be a whole number, got {s:?}"))?,
+        Some(s) => s.parse::<u64>().map_err(|_| format!("SEED must be a whole number, got {s:?}"))?,
         None => fresh_seed(),
     };
     let files = property_test_files(root)?;
-    say(&format!(
-        "exploring {} property test files with seed {seed} and {scale}× the usual cases",
-        files.len()
-    ));
-    say(&format!(
-        "repeat this run with: cargo xtask explore {scale} {seed}"
-    ));
+    say(&format!("exploring {} property test files with seed {seed} and {scale}× the usual cases", files.len()));
+    say(&format!("repeat this run with: cargo xtask explore {scale} {seed}"));
     say("a failure is saved in tests/tests/<file>.proptest-regressions: commit it, and every run replays it first");
     let mut cmd = Command::new("cargo");
     cmd.args(["test", "-p", "hysteron-tests"]);
     for f in &files {
         cmd.args(["--test", f]);
     }
-    run(cmd
-        .env("PROPTEST_RNG_SEED", seed.to_string())
-        .env("HYSTERON_PROPTEST_SCALE", scale.to_string())
-        .current_dir(root))?;
+    run(cmd.env("PROPTEST_RNG_SEED", seed.to_string()).env("HYSTERON_PROPTEST_SCALE", scale.to_string()).current_dir(root))?;
     say(&format!("no failure with seed {seed}"));
     Ok(())
 }

@@ -16,27 +16,15 @@ pub const WORKER: &str = "sw.js";
 
 /// Reads the files under `$TRUNK_STAGING_DIR`, writes the filled-in `sw.js` there.
 pub fn write_service_worker() -> Result<(), String> {
-    let dir = std::env::var("TRUNK_STAGING_DIR").map_err(|_| {
-        "offline: run as a Trunk post_build hook (TRUNK_STAGING_DIR unset)".to_string()
-    })?;
+    let dir = std::env::var("TRUNK_STAGING_DIR").map_err(|_| "offline: run as a Trunk post_build hook (TRUNK_STAGING_DIR unset)".to_string())?;
     let dir = Path::new(&dir);
     let files = built_files(dir)?;
     let worker_path = dir.join(WORKER);
-    let template = std::fs::read_to_string(&worker_path).map_err(|e| {
-        format!(
-            "offline: cannot read {} (is static/sw.js copied by app/index.html?): {e}",
-            worker_path.display()
-        )
-    })?;
+    let template = std::fs::read_to_string(&worker_path)
+        .map_err(|e| format!("offline: cannot read {} (is static/sw.js copied by app/index.html?): {e}", worker_path.display()))?;
     let out = fill_worker(&template, &files)?;
-    std::fs::write(&worker_path, out)
-        .map_err(|e| format!("offline: cannot write {}: {e}", worker_path.display()))?;
-    println!(
-        "[xtask] offline: {} files listed in {} (version {})",
-        files.len(),
-        worker_path.display(),
-        version(&files)
-    );
+    std::fs::write(&worker_path, out).map_err(|e| format!("offline: cannot write {}: {e}", worker_path.display()))?;
+    println!("[xtask] offline: {} files listed in {} (version {})", files.len(), worker_path.display(), version(&files));
     Ok(())
 }
 
@@ -45,27 +33,20 @@ pub fn built_files(dir: &Path) -> Result<Vec<(String, Vec<u8>)>, String> {
     let mut out = Vec::new();
     let mut stack = vec![dir.to_path_buf()];
     while let Some(d) = stack.pop() {
-        let entries = std::fs::read_dir(&d)
-            .map_err(|e| format!("offline: cannot list {}: {e}", d.display()))?;
+        let entries = std::fs::read_dir(&d).map_err(|e| format!("offline: cannot list {}: {e}", d.display()))?;
         for entry in entries {
-            let path = entry
-                .map_err(|e| format!("offline: cannot list {}: {e}", d.display()))?
-                .path();
+            let path = entry.map_err(|e| format!("offline: cannot list {}: {e}", d.display()))?.path();
             if path.is_dir() {
                 stack.push(path);
                 continue;
             }
             let rel = path.strip_prefix(dir).map_err(|e| e.to_string())?;
-            let rel: Vec<String> = rel
-                .components()
-                .map(|c| c.as_os_str().to_string_lossy().into_owned())
-                .collect();
+            let rel: Vec<String> = rel.components().map(|c| c.as_os_str().to_string_lossy().into_owned()).collect();
             let rel = rel.join("/");
             if rel == WORKER {
                 continue;
             }
-            let body = std::fs::read(&path)
-                .map_err(|e| format!("offline: cannot read {}: {e}", path.display()))?;
+            let body = std::fs::read(&path).map_err(|e| format!("offline: cannot read {}: {e}", path.display()))?;
             out.push((rel, body));
         }
     }
@@ -82,42 +63,25 @@ pub fn version(files: &[(String, Vec<u8>)]) -> String {
         all.extend_from_slice(&(body.len() as u64).to_le_bytes());
         all.extend_from_slice(body);
     }
-    crate::csp::sha256(&all)
-        .iter()
-        .take(8)
-        .map(|b| format!("{b:02x}"))
-        .collect()
+    crate::csp::sha256(&all).iter().take(8).map(|b| format!("{b:02x}")).collect()
 }
 
 /// The worker template with the version and the file list filled in. A template without both marks
 /// is refused (the worker would keep nothing, or never change).
 pub fn fill_worker(template: &str, files: &[(String, Vec<u8>)]) -> Result<String, String> {
     if !template.contains(VERSION_MARK) || !template.contains(FILES_MARK) {
-        return Err(format!(
-            "offline: {WORKER} lacks {VERSION_MARK} or {FILES_MARK}; was it filled in already?"
-        ));
+        return Err(format!("offline: {WORKER} lacks {VERSION_MARK} or {FILES_MARK}; was it filled in already?"));
     }
     let list: Vec<String> = files
         .iter()
         .map(|(name, _)| {
             // Names are Trunk's output names (letters, digits, '-', '_', '.', '/'); anything else is
             // escaped so the list stays one valid JavaScript string each.
-            let escaped: String = name
-                .chars()
-                .map(|c| {
-                    if c.is_ascii_alphanumeric() || "-_./".contains(c) {
-                        c.to_string()
-                    } else {
-                        format!("\\u{{{:x}}}", c as u32)
-                    }
-                })
-                .collect();
+            let escaped: String = name.chars().map(|c| if c.is_ascii_alphanumeric() || "-_./".contains(c) { c.to_string() } else { format!("\\u{{{:x}}}", c as u32) }).collect();
             format!("'{escaped}'")
         })
         .collect();
-    Ok(template
-        .replace(VERSION_MARK, &version(files))
-        .replace(FILES_MARK, &list.join(", ")))
+    Ok(template.replace(VERSION_MARK, &version(files)).replace(FILES_MARK, &list.join(", ")))
 }
 
 #[cfg(test)]
@@ -125,27 +89,14 @@ mod tests {
     use super::*;
 
     fn files(pairs: &[(&str, &str)]) -> Vec<(String, Vec<u8>)> {
-        pairs
-            .iter()
-            .map(|(n, b)| (n.to_string(), b.as_bytes().to_vec()))
-            .collect()
+        pairs.iter().map(|(n, b)| (n.to_string(), b.as_bytes().to_vec())).collect()
     }
 
     #[test]
     fn worker_lists_every_file_with_the_version() {
         let fs = files(&[("index.html", "<html>"), ("app-1a2b.wasm", "\0asm")]);
-        let out = fill_worker(
-            "const VERSION = '__HYSTERON_VERSION__';\nconst FILES = ['__HYSTERON_FILES__'];",
-            &fs,
-        )
-        .unwrap();
-        assert_eq!(
-            out,
-            format!(
-                "const VERSION = '{}';\nconst FILES = ['index.html', 'app-1a2b.wasm'];",
-                version(&fs)
-            )
-        );
+        let out = fill_worker("const VERSION = '__HYSTERON_VERSION__';\nconst FILES = ['__HYSTERON_FILES__'];", &fs).unwrap();
+        assert_eq!(out, format!("const VERSION = '{}';\nconst FILES = ['index.html', 'app-1a2b.wasm'];", version(&fs)));
         assert_eq!(version(&fs).len(), 16);
     }
 
@@ -155,10 +106,7 @@ mod tests {
         assert_ne!(base, version(&files(&[("index.html", "<html>b")])));
         assert_ne!(base, version(&files(&[("index.htm", "<html>a")])));
         // Moving a byte from one file's end to the next file's name is a different build too.
-        assert_ne!(
-            version(&files(&[("a", "xy"), ("b", "")])),
-            version(&files(&[("a", "x"), ("yb", "")]))
-        );
+        assert_ne!(version(&files(&[("a", "xy"), ("b", "")])), version(&files(&[("a", "x"), ("yb", "")])));
     }
 
     #[test]
@@ -170,11 +118,7 @@ mod tests {
 
     #[test]
     fn odd_names_stay_one_javascript_string() {
-        let out = fill_worker(
-            "'__HYSTERON_VERSION__' ['__HYSTERON_FILES__']",
-            &files(&[("a'b.js", "")]),
-        )
-        .unwrap();
+        let out = fill_worker("'__HYSTERON_VERSION__' ['__HYSTERON_FILES__']", &files(&[("a'b.js", "")])).unwrap();
         assert!(out.ends_with("['a\\u{27}b.js']"), "{out}");
     }
 
@@ -185,15 +129,8 @@ mod tests {
         std::fs::write(dir.join("index.html"), "i").unwrap();
         std::fs::write(dir.join("sw.js"), "w").unwrap();
         std::fs::write(dir.join("snippets/x/m.js"), "m").unwrap();
-        let got: Vec<String> = built_files(&dir)
-            .unwrap()
-            .into_iter()
-            .map(|(n, _)| n)
-            .collect();
+        let got: Vec<String> = built_files(&dir).unwrap().into_iter().map(|(n, _)| n).collect();
         std::fs::remove_dir_all(&dir).ok();
-        assert_eq!(
-            got,
-            vec!["index.html".to_string(), "snippets/x/m.js".to_string()]
-        );
+        assert_eq!(got, vec!["index.html".to_string(), "snippets/x/m.js".to_string()]);
     }
 }

@@ -26,35 +26,20 @@ pub const OUT_FILE: &str = "hysteron.html";
 /// Reads `<root>/dist`, writes `<root>/dist-single/hysteron.html`.
 pub fn write_single_file(root: &Path) -> Result<(), String> {
     let dist = root.join("dist");
-    let index = std::fs::read_to_string(dist.join("index.html")).map_err(|e| {
-        format!(
-            "single-file: cannot read {}/index.html (build the page first): {e}",
-            dist.display()
-        )
-    })?;
+    let index = std::fs::read_to_string(dist.join("index.html"))
+        .map_err(|e| format!("single-file: cannot read {}/index.html (build the page first): {e}", dist.display()))?;
     let read = |name: &str| -> Result<Vec<u8>, String> {
         let rel = name.trim_start_matches("./");
         if rel.contains("..") || rel.contains(':') {
             return Err(format!("single-file: {name:?} is not a file of the build"));
         }
-        std::fs::read(dist.join(rel))
-            .map_err(|e| format!("single-file: cannot read {}: {e}", dist.join(rel).display()))
+        std::fs::read(dist.join(rel)).map_err(|e| format!("single-file: cannot read {}: {e}", dist.join(rel).display()))
     };
     let html = single_file(&index, &read)?;
     let out = root.join(OUT_DIR);
-    std::fs::create_dir_all(&out)
-        .map_err(|e| format!("single-file: cannot make {}: {e}", out.display()))?;
-    std::fs::write(out.join(OUT_FILE), &html).map_err(|e| {
-        format!(
-            "single-file: cannot write {}: {e}",
-            out.join(OUT_FILE).display()
-        )
-    })?;
-    println!(
-        "[xtask] single-file: {} ({} bytes)",
-        out.join(OUT_FILE).display(),
-        html.len()
-    );
+    std::fs::create_dir_all(&out).map_err(|e| format!("single-file: cannot make {}: {e}", out.display()))?;
+    std::fs::write(out.join(OUT_FILE), &html).map_err(|e| format!("single-file: cannot write {}: {e}", out.join(OUT_FILE).display()))?;
+    println!("[xtask] single-file: {} ({} bytes)", out.join(OUT_FILE).display(), html.len());
     Ok(())
 }
 
@@ -67,53 +52,34 @@ fn attr<'a>(tag: &'a str, name: &str) -> Option<&'a str> {
 }
 
 /// `index.html` of the build turned into one file; `read` gives a built file's bytes by its href.
-pub fn single_file(
-    index: &str,
-    read: &dyn Fn(&str) -> Result<Vec<u8>, String>,
-) -> Result<String, String> {
+pub fn single_file(index: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) -> Result<String, String> {
     let mut out = String::with_capacity(index.len());
     let mut rest = index;
     let mut loaders = 0;
     loop {
-        let next = [
-            rest.find("<link "),
-            rest.find("<meta "),
-            rest.find("<script"),
-        ]
-        .into_iter()
-        .flatten()
-        .min();
+        let next = [rest.find("<link "), rest.find("<meta "), rest.find("<script")].into_iter().flatten().min();
         let Some(i) = next else {
             out.push_str(rest);
             break;
         };
         out.push_str(&rest[..i]);
         let after = &rest[i..];
-        let open_end = after
-            .find('>')
-            .ok_or("single-file: unterminated tag in index.html")?
-            + 1;
+        let open_end = after.find('>').ok_or("single-file: unterminated tag in index.html")? + 1;
         let tag = &after[..open_end];
         if tag.starts_with("<script") {
-            let close = after
-                .find("</script>")
-                .ok_or("single-file: unterminated script in index.html")?;
+            let close = after.find("</script>").ok_or("single-file: unterminated script in index.html")?;
             let body = &after[open_end..close];
             if attr(tag, "src").is_some() {
-                return Err(format!(
-                    "single-file: external script {tag} is not supported"
-                ));
+                return Err(format!("single-file: external script {tag} is not supported"));
             }
             if let Some(glue) = loader_glue(body) {
-                let js = String::from_utf8(read(glue)?)
-                    .map_err(|_| format!("single-file: {glue} is not UTF-8"))?;
+                let js = String::from_utf8(read(glue)?).map_err(|_| format!("single-file: {glue} is not UTF-8"))?;
                 let js = inline_pieces(&js, read)?;
                 let wasm = loader_wasm(body).ok_or("single-file: the loader names no .wasm")?;
                 let bytes = read(wasm)?;
                 out.push_str("<script type=\"module\">");
                 if let (Ok(glue), Ok(wasm)) = (read(WORKER_GLUE), read(WORKER_WASM)) {
-                    let glue = String::from_utf8(glue)
-                        .map_err(|_| format!("single-file: {WORKER_GLUE} is not UTF-8"))?;
+                    let glue = String::from_utf8(glue).map_err(|_| format!("single-file: {WORKER_GLUE} is not UTF-8"))?;
                     out.push_str(&inline_worker(&glue, &wasm));
                 }
                 out.push_str(&inline_loader(&js, &bytes)?);
@@ -135,8 +101,7 @@ pub fn single_file(
         match attr(tag, "rel") {
             Some("stylesheet") => {
                 let href = attr(tag, "href").ok_or("single-file: style sheet without href")?;
-                let css = String::from_utf8(read(href)?)
-                    .map_err(|_| format!("single-file: {href} is not UTF-8"))?;
+                let css = String::from_utf8(read(href)?).map_err(|_| format!("single-file: {href} is not UTF-8"))?;
                 if css.contains("</style") {
                     return Err(format!("single-file: {href} contains </style"));
                 }
@@ -146,15 +111,8 @@ pub fn single_file(
             }
             Some("icon") => {
                 let href = attr(tag, "href").ok_or("single-file: icon without href")?;
-                let kind = if href.ends_with(".svg") {
-                    "image/svg+xml"
-                } else {
-                    "image/png"
-                };
-                out.push_str(&format!(
-                    "<link rel=\"icon\" href=\"data:{kind};base64,{}\">",
-                    base64(&read(href)?)
-                ));
+                let kind = if href.ends_with(".svg") { "image/svg+xml" } else { "image/png" };
+                out.push_str(&format!("<link rel=\"icon\" href=\"data:{kind};base64,{}\">", base64(&read(href)?)));
             }
             // Loads that cannot happen from disk, and would only be refused there.
             Some("modulepreload") | Some("preload") | Some("manifest") => {}
@@ -162,9 +120,7 @@ pub fn single_file(
         }
     }
     if loaders != 1 {
-        return Err(format!(
-            "single-file: expected one Trunk loader script in index.html, found {loaders}"
-        ));
+        return Err(format!("single-file: expected one Trunk loader script in index.html, found {loaders}"));
     }
     with_policy(&out)
 }
@@ -212,10 +168,7 @@ fn inline_worker(glue: &str, wasm: &[u8]) -> String {
 /// names, its import of the glue goes (the glue is the same script now), and each piece it fetches
 /// comes from base64 text in the file instead (`hysteronPiece`, a `Response` of type
 /// `application/wasm` for `instantiateStreaming`). A glue without such imports is returned as it is.
-fn inline_pieces(
-    glue: &str,
-    read: &dyn Fn(&str) -> Result<Vec<u8>, String>,
-) -> Result<String, String> {
+fn inline_pieces(glue: &str, read: &dyn Fn(&str) -> Result<Vec<u8>, String>) -> Result<String, String> {
     let mut path = None::<String>;
     let mut bindings = Vec::new();
     let mut kept = String::with_capacity(glue.len());
@@ -224,33 +177,24 @@ fn inline_pieces(
             kept.push_str(line);
             continue;
         };
-        let (name, from) = rest
-            .split_once(" from ")
-            .ok_or_else(|| format!("single-file: unexpected glue import {line:?}"))?;
+        let (name, from) = rest.split_once(" from ").ok_or_else(|| format!("single-file: unexpected glue import {line:?}"))?;
         let from = from.trim_end_matches(';');
         let p = from.trim_matches(|c| c == '"' || c == '\'').to_string();
         if p.len() + 2 != from.len() || path.as_ref().is_some_and(|q| *q != p) {
-            return Err(format!(
-                "single-file: the glue imports more than one module: {line:?}"
-            ));
+            return Err(format!("single-file: the glue imports more than one module: {line:?}"));
         }
         path = Some(p);
         bindings.push(name.to_string());
     }
-    let Some(path) = path else {
-        return Ok(glue.to_string());
-    };
+    let Some(path) = path else { return Ok(glue.to_string()) };
     let path = path.as_str();
-    let link =
-        String::from_utf8(read(path)?).map_err(|_| format!("single-file: {path} is not UTF-8"))?;
+    let link = String::from_utf8(read(path)?).map_err(|_| format!("single-file: {path} is not UTF-8"))?;
     let mut body = String::new();
     let mut exports = Vec::new();
     for l in link.lines() {
         if l.starts_with("import ") {
             if !l.contains("initSync") {
-                return Err(format!(
-                    "single-file: the link module imports more than the glue's initSync: {l:?}"
-                ));
+                return Err(format!("single-file: the link module imports more than the glue's initSync: {l:?}"));
             }
             continue;
         }
@@ -260,9 +204,7 @@ fn inline_pieces(
             body.push_str("const ");
             body.push_str(rest);
         } else if l.starts_with("export ") {
-            return Err(format!(
-                "single-file: unexpected export in the link module: {l:?}"
-            ));
+            return Err(format!("single-file: unexpected export in the link module: {l:?}"));
         } else {
             body.push_str(l);
         }
@@ -276,9 +218,7 @@ fn inline_pieces(
     while let Some(i) = rest.find(FETCH) {
         out.push_str(&rest[..i]);
         let after = &rest[i + FETCH.len()..];
-        let (piece, tail) = after
-            .split_once("\", import.meta.url))")
-            .ok_or("single-file: unexpected piece fetch in the link module")?;
+        let (piece, tail) = after.split_once("\", import.meta.url))").ok_or("single-file: unexpected piece fetch in the link module")?;
         out.push_str(&format!("hysteronPiece(\"{piece}\")"));
         pieces.push(piece.to_string());
         rest = tail;
@@ -325,9 +265,7 @@ fn inline_loader(glue: &str, wasm: &[u8]) -> Result<String, String> {
         return Err("single-file: the JS glue contains </script".into());
     }
     if glue.lines().any(|l| l.trim_start().starts_with("import ")) {
-        return Err(
-            "single-file: the JS glue imports other modules; inlining them is not supported".into(),
-        );
+        return Err("single-file: the JS glue imports other modules; inlining them is not supported".into());
     }
     Ok(format!(
         "{glue}\nconst hysteronWasm = Uint8Array.from(atob('{}'), (c) => c.charCodeAt(0));\n\
@@ -345,13 +283,8 @@ fn hashes(html: &str, element: &str) -> Result<Vec<String>, String> {
     while let Some(i) = rest.find(&open) {
         let after = &rest[i..];
         let open_end = after.find('>').ok_or("single-file: unterminated tag")? + 1;
-        let end = after
-            .find(&close)
-            .ok_or_else(|| format!("single-file: unterminated {element}"))?;
-        out.push(format!(
-            "'sha256-{}'",
-            base64(&sha256(&after.as_bytes()[open_end..end]))
-        ));
+        let end = after.find(&close).ok_or_else(|| format!("single-file: unterminated {element}"))?;
+        out.push(format!("'sha256-{}'", base64(&sha256(&after.as_bytes()[open_end..end]))));
         rest = &after[end + close.len()..];
     }
     Ok(out)
@@ -366,15 +299,8 @@ fn with_policy(html: &str) -> Result<String, String> {
     let policy = format!(
         "default-src 'none'; script-src 'wasm-unsafe-eval' {scripts}; style-src {styles}; worker-src blob:; img-src data: blob:; object-src 'none'; base-uri 'none'; form-action 'none'"
     );
-    let head = html
-        .find("<head>")
-        .ok_or("single-file: no <head> in index.html")?
-        + 6;
-    Ok(format!(
-        "{}\n  <meta http-equiv=\"Content-Security-Policy\" content=\"{policy}\">{}",
-        &html[..head],
-        &html[head..]
-    ))
+    let head = html.find("<head>").ok_or("single-file: no <head> in index.html")? + 6;
+    Ok(format!("{}\n  <meta http-equiv=\"Content-Security-Policy\" content=\"{policy}\">{}", &html[..head], &html[head..]))
 }
 
 #[cfg(test)]
@@ -387,9 +313,7 @@ mod tests {
         Ok(match name {
             "./style-1.css" => b"body{color:red}".to_vec(),
             "./icon-2.svg" => b"<svg/>".to_vec(),
-            "./app-3.js" => {
-                b"async function __wbg_init(m) {}\nexport { __wbg_init as default }".to_vec()
-            }
+            "./app-3.js" => b"async function __wbg_init(m) {}\nexport { __wbg_init as default }".to_vec(),
             "./app-3_bg.wasm" => b"\0asm\x01\0\0\0".to_vec(),
             other => return Err(format!("unexpected read of {other}")),
         })
@@ -399,32 +323,13 @@ mod tests {
     fn every_file_is_inlined_and_no_load_remains() {
         let out = single_file(INDEX, &read).unwrap();
         assert!(out.contains("<style>body{color:red}</style>"), "{out}");
-        assert!(
-            out.contains(&format!(
-                "href=\"data:image/svg+xml;base64,{}\"",
-                base64(b"<svg/>")
-            )),
-            "{out}"
-        );
-        assert!(
-            out.contains(&format!("atob('{}')", base64(b"\0asm\x01\0\0\0"))),
-            "{out}"
-        );
+        assert!(out.contains(&format!("href=\"data:image/svg+xml;base64,{}\"", base64(b"<svg/>"))), "{out}");
+        assert!(out.contains(&format!("atob('{}')", base64(b"\0asm\x01\0\0\0"))), "{out}");
         assert!(out.contains("export { __wbg_init as default }"), "{out}");
-        for gone in [
-            "href=\"./",
-            "manifest",
-            "preload",
-            "import init",
-            "default-src 'self'",
-            "integrity=",
-        ] {
+        for gone in ["href=\"./", "manifest", "preload", "import init", "default-src 'self'", "integrity="] {
             assert!(!out.contains(gone), "{gone} left in {out}");
         }
-        assert!(
-            out.contains("<script>if (1) {}</script>"),
-            "other inline scripts stay: {out}"
-        );
+        assert!(out.contains("<script>if (1) {}</script>"), "other inline scripts stay: {out}");
     }
 
     #[test]
@@ -433,15 +338,8 @@ mod tests {
         assert!(out.starts_with("<!DOCTYPE html>\n<html><head>\n  <meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; "));
         assert_eq!(out.matches("Content-Security-Policy").count(), 1);
         assert!(out.contains(&format!("'sha256-{}'", base64(&sha256(b"if (1) {}")))));
-        assert!(out.contains(&format!(
-            "style-src 'sha256-{}';",
-            base64(&sha256(b"body{color:red}"))
-        )));
-        assert_eq!(
-            out.matches("'sha256-").count(),
-            3,
-            "two scripts and one style: {out}"
-        );
+        assert!(out.contains(&format!("style-src 'sha256-{}';", base64(&sha256(b"body{color:red}")))));
+        assert_eq!(out.matches("'sha256-").count(), 3, "two scripts and one style: {out}");
         assert!(!out.contains("'unsafe-inline'") && !out.contains("'self'"));
     }
 
@@ -454,80 +352,40 @@ mod tests {
         };
         let out = single_file(INDEX, &with_worker).unwrap();
         assert!(out.contains("globalThis.hysteronWorkerUrl = URL.createObjectURL(new Blob([\"let wasm_bindgen = 1; // \\\"\\x3c/script>\\\"\\n\""), "{out}");
-        assert!(
-            out.contains(&format!("atob('{}')", base64(b"\0asm\x02\0\0\0"))),
-            "{out}"
-        );
+        assert!(out.contains(&format!("atob('{}')", base64(b"\0asm\x02\0\0\0"))), "{out}");
         assert!(out.contains("worker-src blob:;"), "{out}");
-        assert_eq!(
-            out.matches("</script>").count(),
-            2,
-            "the worker's text cannot end a script: {out}"
-        );
+        assert_eq!(out.matches("</script>").count(), 2, "the worker's text cannot end a script: {out}");
         // Without worker files the page is built alone (studies then run on the page).
-        assert!(!single_file(INDEX, &read)
-            .unwrap()
-            .contains("hysteronWorkerUrl"));
+        assert!(!single_file(INDEX, &read).unwrap().contains("hysteronWorkerUrl"));
     }
 
     #[test]
     fn pieces_and_their_link_module_are_inlined() {
-        let split = |n: &str| {
-            match n {
+        let split = |n: &str| match n {
             "./app-3.js" => Ok(b"import * as import1 from \"./hysteron-split-9.js\"\nimport * as import2 from \"./hysteron-split-9.js\"\nasync function __wbg_init(m) {}\nfunction initSync(m) {}\nexport { __wbg_init as default }".to_vec()),
             "./hysteron-split-9.js" => Ok(b"import { initSync } from \"./app-3.js\";\nfunction makeLoad(f) { return f; }\nexport const __wasm_split_load_a = makeLoad(() => {\n    const src = fetch(new URL(\"./hysteron-split_a-9.wasm\", import.meta.url));\n});".to_vec()),
             "./hysteron-split_a-9.wasm" => Ok(b"\0asm\x01\0\0\x09".to_vec()),
             other => read(other),
-        }
         };
         let out = single_file(INDEX, &split).unwrap();
-        for gone in [
-            "import ",
-            "export const",
-            "import.meta.url",
-            "hysteron-split-9.js",
-        ] {
+        for gone in ["import ", "export const", "import.meta.url", "hysteron-split-9.js"] {
             assert!(!out.contains(gone), "{gone} left in {out}");
         }
-        assert!(
-            out.contains("const __wasm_split_load_a = makeLoad("),
-            "{out}"
-        );
+        assert!(out.contains("const __wasm_split_load_a = makeLoad("), "{out}");
         assert!(out.contains("const hysteronSplit = { __wasm_split_load_a };\nconst import1 = hysteronSplit;\nconst import2 = hysteronSplit;\n"), "{out}");
-        assert!(
-            out.contains("const src = hysteronPiece(\"./hysteron-split_a-9.wasm\");"),
-            "{out}"
-        );
-        assert!(
-            out.contains(&format!(
-                "\"./hysteron-split_a-9.wasm\": '{}'",
-                base64(b"\0asm\x01\0\0\x09")
-            )),
-            "{out}"
-        );
+        assert!(out.contains("const src = hysteronPiece(\"./hysteron-split_a-9.wasm\");"), "{out}");
+        assert!(out.contains(&format!("\"./hysteron-split_a-9.wasm\": '{}'", base64(b"\0asm\x01\0\0\x09"))), "{out}");
         let other_import = |n: &str| match n {
             "./hysteron-split-9.js" => Ok(b"import { x } from \"./elsewhere.js\";".to_vec()),
             other => split(other),
         };
-        assert!(single_file(INDEX, &other_import)
-            .unwrap_err()
-            .contains("more than the glue's initSync"));
+        assert!(single_file(INDEX, &other_import).unwrap_err().contains("more than the glue's initSync"));
     }
 
     #[test]
     fn missing_loader_or_file_is_an_error() {
-        assert!(
-            single_file("<html><head></head><body></body></html>", &read)
-                .unwrap_err()
-                .contains("loader")
-        );
-        let no_css = |n: &str| {
-            if n.ends_with(".css") {
-                Err("gone".to_string())
-            } else {
-                read(n)
-            }
-        };
+        assert!(single_file("<html><head></head><body></body></html>", &read).unwrap_err().contains("loader"));
+        let no_css = |n: &str| if n.ends_with(".css") { Err("gone".to_string()) } else { read(n) };
         assert_eq!(single_file(INDEX, &no_css).unwrap_err(), "gone");
     }
 }

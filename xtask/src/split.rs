@@ -32,31 +32,18 @@ const PAGE: &str = "hysteron-app";
 
 /// Runs the split step on `$TRUNK_STAGING_DIR` for the profile Trunk built (`$TRUNK_PROFILE`).
 pub fn split_page(root: &Path) -> Result<(), String> {
-    let staging = PathBuf::from(std::env::var("TRUNK_STAGING_DIR").map_err(|_| {
-        "split: run as a Trunk post_build hook (TRUNK_STAGING_DIR unset)".to_string()
-    })?);
+    let staging = PathBuf::from(std::env::var("TRUNK_STAGING_DIR").map_err(|_| "split: run as a Trunk post_build hook (TRUNK_STAGING_DIR unset)".to_string())?);
     let profile = std::env::var("TRUNK_PROFILE").unwrap_or_else(|_| "release".into());
-    let target = std::env::var("CARGO_TARGET_DIR")
-        .map(PathBuf::from)
-        .unwrap_or_else(|_| root.join("target"));
-    let raw_path = target
-        .join("wasm32-unknown-unknown")
-        .join(&profile)
-        .join(format!("{PAGE}.wasm"));
-    let raw = std::fs::read(&raw_path).map_err(|e| {
-        format!(
-            "split: cannot read the page's raw module {}: {e}",
-            raw_path.display()
-        )
-    })?;
+    let target = std::env::var("CARGO_TARGET_DIR").map(PathBuf::from).unwrap_or_else(|_| root.join("target"));
+    let raw_path = target.join("wasm32-unknown-unknown").join(&profile).join(format!("{PAGE}.wasm"));
+    let raw = std::fs::read(&raw_path).map_err(|e| format!("split: cannot read the page's raw module {}: {e}", raw_path.display()))?;
     if !raw.windows(PLACEHOLDER.len()).any(|w| w == PLACEHOLDER) {
         println!("[xtask] split: the page has no split points (built without HYSTERON_SPLIT=1): left as one module");
         return Ok(());
     }
     let work = target.join("hysteron-split");
     let _ = std::fs::remove_dir_all(&work);
-    std::fs::create_dir_all(&work)
-        .map_err(|e| format!("split: cannot make {}: {e}", work.display()))?;
+    std::fs::create_dir_all(&work).map_err(|e| format!("split: cannot make {}: {e}", work.display()))?;
     let main_raw = work.join("main.wasm");
     let split = {
         let mut opts = wasm_split_cli_support::Options::new(&raw);
@@ -64,21 +51,12 @@ pub fn split_page(root: &Path) -> Result<(), String> {
         opts.main_out_path = &main_raw;
         opts.link_name = LINK;
         opts.main_module = GLUE;
-        wasm_split_cli_support::transform(opts)
-            .map_err(|e| format!("split: wasm-split failed: {e:#}"))?
+        wasm_split_cli_support::transform(opts).map_err(|e| format!("split: wasm-split failed: {e:#}"))?
     };
     // wasm-bindgen on the main piece, as Trunk calls it, keeping the linker's exports: the pieces
     // import the function table (`__indirect_function_table`), which wasm-bindgen drops otherwise.
     let bindgen = work.join("bindgen");
-    crate::run(
-        Command::new("wasm-bindgen")
-            .arg("--target=web")
-            .arg(format!("--out-dir={}", bindgen.display()))
-            .arg(format!("--out-name={PAGE}"))
-            .arg("--no-typescript")
-            .arg("--keep-lld-exports")
-            .arg(&main_raw),
-    )?;
+    crate::run(Command::new("wasm-bindgen").arg("--target=web").arg(format!("--out-dir={}", bindgen.display())).arg(format!("--out-name={PAGE}")).arg("--no-typescript").arg("--keep-lld-exports").arg(&main_raw))?;
     let release = profile == "release";
     let main_wasm = bindgen.join(format!("{PAGE}_bg.wasm"));
     if release {
@@ -88,18 +66,12 @@ pub fn split_page(root: &Path) -> Result<(), String> {
     }
     let mut pieces: Vec<(String, Vec<u8>)> = Vec::new();
     for path in &split.split_modules {
-        let stem = path
-            .file_stem()
-            .and_then(|s| s.to_str())
-            .ok_or("split: a piece without a name")?
-            .to_string();
+        let stem = path.file_stem().and_then(|s| s.to_str()).ok_or("split: a piece without a name")?.to_string();
         pieces.push((stem, read(path)?));
     }
     pieces.sort();
-    let glue = String::from_utf8(read(&bindgen.join(format!("{PAGE}.js")))?)
-        .map_err(|_| "split: the glue is not UTF-8")?;
-    let link = String::from_utf8(read(&work.join(LINK.trim_start_matches("./")))?)
-        .map_err(|_| "split: the link module is not UTF-8")?;
+    let glue = String::from_utf8(read(&bindgen.join(format!("{PAGE}.js")))?).map_err(|_| "split: the glue is not UTF-8")?;
+    let link = String::from_utf8(read(&work.join(LINK.trim_start_matches("./")))?).map_err(|_| "split: the link module is not UTF-8")?;
     let main_bytes = read(&main_wasm)?;
     let hash = build_hash(&main_bytes, &pieces, &glue, &link);
     let names = Names::new(&hash);
@@ -108,20 +80,10 @@ pub fn split_page(root: &Path) -> Result<(), String> {
 
     // Trunk's unsplit page out, the pieces in.
     let index_path = staging.join("index.html");
-    let index = std::fs::read_to_string(&index_path)
-        .map_err(|e| format!("split: cannot read {}: {e}", index_path.display()))?;
-    let old_glue = crate::single::loader_glue(&index)
-        .ok_or("split: index.html has no Trunk loader")?
-        .trim_start_matches("./")
-        .to_string();
-    let old_wasm = crate::single::loader_wasm(&index)
-        .ok_or("split: the loader names no .wasm")?
-        .trim_start_matches("./")
-        .to_string();
-    let write = |name: &str, bytes: &[u8]| {
-        std::fs::write(staging.join(name), bytes)
-            .map_err(|e| format!("split: cannot write {name}: {e}"))
-    };
+    let index = std::fs::read_to_string(&index_path).map_err(|e| format!("split: cannot read {}: {e}", index_path.display()))?;
+    let old_glue = crate::single::loader_glue(&index).ok_or("split: index.html has no Trunk loader")?.trim_start_matches("./").to_string();
+    let old_wasm = crate::single::loader_wasm(&index).ok_or("split: the loader names no .wasm")?.trim_start_matches("./").to_string();
+    let write = |name: &str, bytes: &[u8]| std::fs::write(staging.join(name), bytes).map_err(|e| format!("split: cannot write {name}: {e}"));
     write(&names.glue, glue.as_bytes())?;
     write(&names.main, &main_bytes)?;
     write(&names.link, link.as_bytes())?;
@@ -129,24 +91,18 @@ pub fn split_page(root: &Path) -> Result<(), String> {
         write(&names.piece(stem), bytes)?;
     }
     for old in [&old_glue, &old_wasm] {
-        std::fs::remove_file(staging.join(old))
-            .map_err(|e| format!("split: cannot remove Trunk's {old}: {e}"))?;
+        std::fs::remove_file(staging.join(old)).map_err(|e| format!("split: cannot remove Trunk's {old}: {e}"))?;
     }
     let index = repoint_index(&index, &old_glue, &names.glue, glue.as_bytes())?;
     let index = repoint_index(&index, &old_wasm, &names.main, &main_bytes)?;
-    std::fs::write(&index_path, index)
-        .map_err(|e| format!("split: cannot write {}: {e}", index_path.display()))?;
+    std::fs::write(&index_path, index).map_err(|e| format!("split: cannot write {}: {e}", index_path.display()))?;
     let total: usize = pieces.iter().map(|(_, b)| b.len()).sum();
     println!(
         "[xtask] split: main module {} bytes, {} pieces loaded on demand {} bytes ({})",
         main_bytes.len(),
         pieces.len(),
         total,
-        pieces
-            .iter()
-            .map(|(s, b)| format!("{s} {}", b.len()))
-            .collect::<Vec<_>>()
-            .join(", ")
+        pieces.iter().map(|(s, b)| format!("{s} {}", b.len())).collect::<Vec<_>>().join(", ")
     );
     Ok(())
 }
@@ -159,44 +115,24 @@ fn read(path: &Path) -> Result<Vec<u8>, String> {
 /// time as the machine has cores.
 fn optimise_all(paths: &[PathBuf]) -> Result<(), String> {
     let next = std::sync::atomic::AtomicUsize::new(0);
-    let cores = std::thread::available_parallelism()
-        .map(|n| n.get())
-        .unwrap_or(1);
+    let cores = std::thread::available_parallelism().map(|n| n.get()).unwrap_or(1);
     std::thread::scope(|scope| {
         let workers: Vec<_> = (0..cores)
             .map(|_| {
                 scope.spawn(|| -> Result<(), String> {
-                    while let Some(path) =
-                        paths.get(next.fetch_add(1, std::sync::atomic::Ordering::Relaxed))
-                    {
+                    while let Some(path) = paths.get(next.fetch_add(1, std::sync::atomic::Ordering::Relaxed)) {
                         let out = path.with_extension("opt.wasm");
-                        let done = Command::new("wasm-opt")
-                            .arg(format!("--output={}", out.display()))
-                            .arg("-Oz")
-                            .arg(path)
-                            .output()
-                            .map_err(|e| format!("split: cannot start wasm-opt: {e}"))?;
+                        let done = Command::new("wasm-opt").arg(format!("--output={}", out.display())).arg("-Oz").arg(path).output().map_err(|e| format!("split: cannot start wasm-opt: {e}"))?;
                         if !done.status.success() {
-                            return Err(format!(
-                                "split: wasm-opt failed on {}: {}",
-                                path.display(),
-                                String::from_utf8_lossy(&done.stderr)
-                            ));
+                            return Err(format!("split: wasm-opt failed on {}: {}", path.display(), String::from_utf8_lossy(&done.stderr)));
                         }
-                        std::fs::rename(&out, path)
-                            .map_err(|e| format!("split: cannot move {}: {e}", out.display()))?;
+                        std::fs::rename(&out, path).map_err(|e| format!("split: cannot move {}: {e}", out.display()))?;
                     }
                     Ok(())
                 })
             })
             .collect();
-        workers
-            .into_iter()
-            .map(|w| {
-                w.join()
-                    .unwrap_or_else(|_| Err("split: a wasm-opt thread panicked".into()))
-            })
-            .collect::<Result<Vec<()>, String>>()
+        workers.into_iter().map(|w| w.join().unwrap_or_else(|_| Err("split: a wasm-opt thread panicked".into()))).collect::<Result<Vec<()>, String>>()
     })?;
     println!("[xtask] split: wasm-opt -Oz on {} modules", paths.len());
     Ok(())
@@ -205,18 +141,11 @@ fn optimise_all(paths: &[PathBuf]) -> Result<(), String> {
 /// One hash of every piece (16 hex digits of SHA-256), so the names of one build go together.
 fn build_hash(main: &[u8], pieces: &[(String, Vec<u8>)], glue: &str, link: &str) -> String {
     let mut all = Vec::new();
-    for part in [main, glue.as_bytes(), link.as_bytes()].into_iter().chain(
-        pieces
-            .iter()
-            .flat_map(|(s, b)| [s.as_bytes(), b.as_slice()]),
-    ) {
+    for part in [main, glue.as_bytes(), link.as_bytes()].into_iter().chain(pieces.iter().flat_map(|(s, b)| [s.as_bytes(), b.as_slice()])) {
         all.extend_from_slice(&(part.len() as u64).to_le_bytes());
         all.extend_from_slice(part);
     }
-    sha256(&all)[..8]
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
+    sha256(&all)[..8].iter().map(|b| format!("{b:02x}")).collect()
 }
 
 /// The hashed file names of one build.
@@ -254,9 +183,7 @@ fn rewrite_glue(glue: &str, names: &Names) -> Result<String, String> {
         out = out.replace(&from, &format!("from {q}./{}{q}", names.link));
     }
     if found == 0 {
-        return Err(format!(
-            "split: the glue does not import the link module {LINK}; wasm-bindgen changed?"
-        ));
+        return Err(format!("split: the glue does not import the link module {LINK}; wasm-bindgen changed?"));
     }
     Ok(out)
 }
@@ -265,9 +192,7 @@ fn rewrite_glue(glue: &str, names: &Names) -> Result<String, String> {
 fn rewrite_link(link: &str, pieces: &[(String, Vec<u8>)], names: &Names) -> Result<String, String> {
     let from = format!("from \"{GLUE}\"");
     if link.matches(&from).count() != 1 {
-        return Err(format!(
-            "split: the link module should import the glue once ({from}); wasm-split changed?"
-        ));
+        return Err(format!("split: the link module should import the glue once ({from}); wasm-split changed?"));
     }
     let mut out = link.replace(&from, &format!("from \"./{}\"", names.glue));
     for (stem, _) in pieces {
@@ -298,10 +223,7 @@ fn repoint_index(index: &str, old: &str, new: &str, bytes: &[u8]) -> Result<Stri
             let mut t = tag.replace(old, new);
             if let Some(s) = t.find(" integrity=\"") {
                 let v = s + 12;
-                let e = t[v..]
-                    .find('"')
-                    .map(|e| e + v)
-                    .ok_or("split: unterminated integrity attribute")?;
+                let e = t[v..].find('"').map(|e| e + v).ok_or("split: unterminated integrity attribute")?;
                 t.replace_range(v..e, &integrity);
             }
             out.push_str(&t);
@@ -320,17 +242,12 @@ mod tests {
 
     #[test]
     fn index_is_repointed_with_new_integrity() {
-        let index =
-            "<link rel=\"modulepreload\" href=\"./hysteron-app-old.js\" integrity=\"sha384-AAA\">\
+        let index = "<link rel=\"modulepreload\" href=\"./hysteron-app-old.js\" integrity=\"sha384-AAA\">\
                      <script type=\"module\">import init from './hysteron-app-old.js';</script>";
-        let out =
-            repoint_index(index, "hysteron-app-old.js", "hysteron-app-new.js", b"abc").unwrap();
+        let out = repoint_index(index, "hysteron-app-old.js", "hysteron-app-new.js", b"abc").unwrap();
         assert!(!out.contains("old"));
         // SHA-256 of "abc" in base64 (FIPS 180-4 example value, from memory, as base64).
-        assert!(
-            out.contains("integrity=\"sha256-ungWv48Bz+pBQUDeXa4iI7ADYaOWF3qctBD/YfIAFa0=\""),
-            "{out}"
-        );
+        assert!(out.contains("integrity=\"sha256-ungWv48Bz+pBQUDeXa4iI7ADYaOWF3qctBD/YfIAFa0=\""), "{out}");
         assert!(out.contains("import init from './hysteron-app-new.js';"));
     }
 
@@ -339,16 +256,8 @@ mod tests {
         let names = Names::new("0123456789abcdef");
         let glue = "import * as import1 from \"./hysteron-split.js\"\nimport * as import2 from \"./hysteron-split.js\"\n\"./hysteron-split.js\": import1,";
         let g = rewrite_glue(glue, &names).unwrap();
-        assert_eq!(
-            g.matches("from \"./hysteron-split-0123456789abcdef.js\"")
-                .count(),
-            2,
-            "{g}"
-        );
-        assert!(
-            g.contains("\"./hysteron-split.js\": import1,"),
-            "the wasm import's module name stays"
-        );
+        assert_eq!(g.matches("from \"./hysteron-split-0123456789abcdef.js\"").count(), 2, "{g}");
+        assert!(g.contains("\"./hysteron-split.js\": import1,"), "the wasm import's module name stays");
         assert!(rewrite_glue("no import", &names).is_err());
         let link = "import { initSync } from \"./hysteron-app.js\";\nfetch(new URL(\"./split_a.wasm\", import.meta.url))";
         let pieces = vec![("split_a".to_string(), vec![0u8])];
@@ -362,14 +271,8 @@ mod tests {
     fn the_hash_changes_with_any_piece() {
         let p = vec![("split_a".to_string(), vec![1u8, 2])];
         let q = vec![("split_a".to_string(), vec![1u8, 3])];
-        assert_ne!(
-            build_hash(b"m", &p, "g", "l"),
-            build_hash(b"m", &q, "g", "l")
-        );
-        assert_ne!(
-            build_hash(b"m", &p, "g", "l"),
-            build_hash(b"m", &p, "g2", "l")
-        );
+        assert_ne!(build_hash(b"m", &p, "g", "l"), build_hash(b"m", &q, "g", "l"));
+        assert_ne!(build_hash(b"m", &p, "g", "l"), build_hash(b"m", &p, "g2", "l"));
         assert_eq!(build_hash(b"m", &p, "g", "l").len(), 16);
     }
 }

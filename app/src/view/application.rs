@@ -29,42 +29,18 @@ pub fn ApplicationSection() -> impl IntoView {
         nb.with_current(|r| {
             let a = r.application?;
             let d = TriggerDesign::from_circuit(&r.circuit).map_err(|e| e.to_string());
-            let osc = a.oscillator.map(|o| {
-                d.clone()
-                    .and_then(|d| relaxation_oscillator(&d, &o).map_err(|e| e.to_string()))
-            });
-            let deb = a.debounce.map(|b| {
-                d.clone()
-                    .and_then(|d| rc_debounce(&d, &b).map_err(|e| e.to_string()))
-            });
+            let osc = a.oscillator.map(|o| d.clone().and_then(|d| relaxation_oscillator(&d, &o).map_err(|e| e.to_string())));
+            let deb = a.debounce.map(|b| d.clone().and_then(|d| rc_debounce(&d, &b).map_err(|e| e.to_string())));
             Some((osc, deb))
         })
         .flatten()
     });
-    let osc_field = move |id: &'static str,
-                          label: &'static str,
-                          unit: &'static str,
-                          get: fn(&OscillatorSettings) -> f64,
-                          put: fn(&mut OscillatorSettings, f64)| {
-        let value = Signal::derive(move || {
-            app.get()
-                .and_then(|a| a.oscillator)
-                .map(|o| get(&o))
-                .unwrap_or(f64::NAN)
-        });
+    let osc_field = move |id: &'static str, label: &'static str, unit: &'static str, get: fn(&OscillatorSettings) -> f64, put: fn(&mut OscillatorSettings, f64)| {
+        let value = Signal::derive(move || app.get().and_then(|a| a.oscillator).map(|o| get(&o)).unwrap_or(f64::NAN));
         view! { <QuantityField id=id.to_string() label=label.to_string() unit value on_value=Callback::new(move |v| edit(id, Box::new(move |a| if let Some(o) = a.oscillator.as_mut() { put(o, v) }))) /> }
     };
-    let deb_field = move |id: &'static str,
-                          label: &'static str,
-                          unit: &'static str,
-                          get: fn(&DebounceSettings) -> f64,
-                          put: fn(&mut DebounceSettings, f64)| {
-        let value = Signal::derive(move || {
-            app.get()
-                .and_then(|a| a.debounce)
-                .map(|o| get(&o))
-                .unwrap_or(f64::NAN)
-        });
+    let deb_field = move |id: &'static str, label: &'static str, unit: &'static str, get: fn(&DebounceSettings) -> f64, put: fn(&mut DebounceSettings, f64)| {
+        let value = Signal::derive(move || app.get().and_then(|a| a.debounce).map(|o| get(&o)).unwrap_or(f64::NAN));
         view! { <QuantityField id=id.to_string() label=label.to_string() unit value on_value=Callback::new(move |v| edit(id, Box::new(move |a| if let Some(o) = a.debounce.as_mut() { put(o, v) }))) /> }
     };
     view! {

@@ -17,23 +17,13 @@ pub fn CircuitSection() -> impl IntoView {
     // The list of fields changes only when the topology's parameter set changes.
     let fields = Memo::new(move |_| {
         nb.with_current(|r| {
-            r.circuit
-                .parameters()
-                .into_iter()
-                .map(|p| (p.id, p.designator, p.label, p.unit.symbol()))
-                .collect::<Vec<_>>()
+            r.circuit.parameters().into_iter().map(|p| (p.id, p.designator, p.label, p.unit.symbol())).collect::<Vec<_>>()
         })
         .unwrap_or_default()
     });
-    let topology = Memo::new(move |_| {
-        nb.with_current(|r| r.circuit.name().to_string())
-            .unwrap_or_default()
-    });
+    let topology = Memo::new(move |_| nb.with_current(|r| r.circuit.name().to_string()).unwrap_or_default());
     let choose = move |name: String| {
-        if let Some(t) = catalog::templates()
-            .into_iter()
-            .find(|s| s.record().circuit.name() == name)
-        {
+        if let Some(t) = catalog::templates().into_iter().find(|s| s.record().circuit.name() == name) {
             let circuit = t.record().circuit;
             nb.edit(move |r| r.circuit = circuit);
         }
@@ -42,24 +32,13 @@ pub fn CircuitSection() -> impl IntoView {
     // and the reference's datasheet values that are not parameters; core converts and checks.
     let ref_kind = Memo::new(move |_| nb.with_current(|r| r.circuit.reference_kind()).flatten());
     let ref_fields = Memo::new(move |_| {
-        nb.with_current(|r| {
-            r.circuit
-                .reference()
-                .map(|(x, _)| x.fields())
-                .unwrap_or_default()
-        })
-        .unwrap_or_default()
+        nb.with_current(|r| r.circuit.reference().map(|(x, _)| x.fields()).unwrap_or_default()).unwrap_or_default()
     });
     let json_text = RwSignal::new(String::new());
     let json_error = RwSignal::new(None::<String>);
     let json_open = RwSignal::new(false);
     let load_json = move || {
-        json_text.set(
-            nb.with_current_untracked(|r| {
-                serde_json::to_string_pretty(&r.circuit).unwrap_or_default()
-            })
-            .unwrap_or_default(),
-        );
+        json_text.set(nb.with_current_untracked(|r| serde_json::to_string_pretty(&r.circuit).unwrap_or_default()).unwrap_or_default());
         json_error.set(None);
     };
     let apply_json = move |_| {

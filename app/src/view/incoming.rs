@@ -17,17 +17,13 @@ pub enum Incoming {
 
 /// Reads a shared design from the URL fragment, if any.
 pub fn incoming() -> Incoming {
-    let hash = web_sys::window()
-        .and_then(|w| w.location().hash().ok())
-        .unwrap_or_default();
+    let hash = web_sys::window().and_then(|w| w.location().hash().ok()).unwrap_or_default();
     let payload = hash.trim_start_matches('#');
     if payload.is_empty() {
         return Incoming::None;
     }
     match decode_link(payload) {
         Ok(r) => Incoming::Design(Box::new(r)),
-        Err(e) => Incoming::Broken(format!(
-            "This link could not be opened: {e}. Nothing in your notebook was changed."
-        )),
+        Err(e) => Incoming::Broken(format!("This link could not be opened: {e}. Nothing in your notebook was changed.")),
     }
 }

@@ -17,11 +17,7 @@ fn a(x: f64) -> String {
 }
 
 fn w(x: f64) -> String {
-    if x >= 1.0 {
-        format!("{x:.3} W")
-    } else {
-        format!("{:.3} mW", x * 1e3)
-    }
+    if x >= 1.0 { format!("{x:.3} W") } else { format!("{:.3} mW", x * 1e3) }
 }
 
 /// The network in words, in schematic order from the field terminal to the pin.
@@ -29,30 +25,18 @@ fn chain(n: &InputNetwork) -> String {
     let ohm = |x: f64| format_with_unit(x, 3, Unit::Ohm);
     let mut parts = vec!["field terminal".to_string()];
     if let Some(d) = n.dropper {
-        parts.push(format!(
-            "dropper {} / {} to ground",
-            ohm(d.top_ohm),
-            ohm(d.bottom_ohm)
-        ));
+        parts.push(format!("dropper {} / {} to ground", ohm(d.top_ohm), ohm(d.bottom_ohm)));
     }
     if let Some(r) = n.series_ohm {
         parts.push(format!("series {}", ohm(r)));
     }
     match n.clamp {
-        Clamp::RailDiodes { forward_v, .. } => {
-            parts.push(format!("diodes to both rails (Vf {})", v(forward_v)))
-        }
-        Clamp::Tvs { standoff_v, .. } => {
-            parts.push(format!("TVS to ground ({} standoff)", v(standoff_v)))
-        }
+        Clamp::RailDiodes { forward_v, .. } => parts.push(format!("diodes to both rails (Vf {})", v(forward_v))),
+        Clamp::Tvs { standoff_v, .. } => parts.push(format!("TVS to ground ({} standoff)", v(standoff_v))),
         Clamp::None => {}
     }
     if let Some(f) = n.filter {
-        parts.push(format!(
-            "filter {} with {} to ground",
-            ohm(f.r_ohm),
-            format_with_unit(f.c_f, 3, Unit::Farad)
-        ));
+        parts.push(format!("filter {} with {} to ground", ohm(f.r_ohm), format_with_unit(f.c_f, 3, Unit::Farad)));
     }
     parts.push("trigger input".into());
     if parts.len() == 2 {
@@ -65,11 +49,7 @@ fn chain(n: &InputNetwork) -> String {
 #[component]
 pub fn InputNetworkSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let net = Memo::new(move |_| {
-        nb.with_current(|r| r.input_network.clone())
-            .flatten()
-            .unwrap_or_default()
-    });
+    let net = Memo::new(move |_| nb.with_current(|r| r.input_network.clone()).flatten().unwrap_or_default());
     let edit = move |key: &'static str, f: Box<dyn Fn(&mut InputNetwork)>| {
         nb.edit_keyed(key, move |r| {
             let mut n = r.input_network.clone().unwrap_or_default();
@@ -81,28 +61,19 @@ pub fn InputNetworkSection() -> impl IntoView {
         nb.with_settled(|r| {
             // The record's own report (under the output load when it has output dynamics), as the
             // CLI result and the sheet give it.
-            hysteron_core::input_network::from_record::record_network(r)
-                .map(|x| x.map_err(|e| e.to_string()))
+            hysteron_core::input_network::from_record::record_network(r).map(|x| x.map_err(|e| e.to_string()))
         })
         .flatten()
     });
-    let opt = move |id: &'static str,
-                    label: &'static str,
-                    unit: &'static str,
-                    get: fn(&InputNetwork) -> Option<f64>,
-                    put: fn(&mut InputNetwork, Option<f64>)| {
+    let opt = move |id: &'static str, label: &'static str, unit: &'static str, get: fn(&InputNetwork) -> Option<f64>, put: fn(&mut InputNetwork, Option<f64>)| {
         view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit
-        value=Signal::derive(move || get(&net.get()))
-        on_value=Callback::new(move |x| edit(id, Box::new(move |n| put(n, x)))) /> }
+            value=Signal::derive(move || get(&net.get()))
+            on_value=Callback::new(move |x| edit(id, Box::new(move |n| put(n, x)))) /> }
     };
-    let req = move |id: &'static str,
-                    label: &'static str,
-                    unit: &'static str,
-                    get: fn(&InputNetwork) -> f64,
-                    put: fn(&mut InputNetwork, f64)| {
+    let req = move |id: &'static str, label: &'static str, unit: &'static str, get: fn(&InputNetwork) -> f64, put: fn(&mut InputNetwork, f64)| {
         view! { <QuantityField id=id.to_string() label=label.to_string() unit
-        value=Signal::derive(move || get(&net.get()))
-        on_value=Callback::new(move |x| edit(id, Box::new(move |n| put(n, x)))) /> }
+            value=Signal::derive(move || get(&net.get()))
+            on_value=Callback::new(move |x| edit(id, Box::new(move |n| put(n, x)))) /> }
     };
     let clamp_kind = move || match net.get().clamp {
         Clamp::None => "none",

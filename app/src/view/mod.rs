@@ -9,19 +9,19 @@ mod output_dynamics;
 pub mod partlist;
 mod parts;
 pub mod progress;
+mod share;
+mod sheet;
 mod purpose;
 mod results;
 mod search;
-mod share;
-mod sheet;
 mod signal;
 mod starters;
-pub mod state;
-mod temperature;
 mod tolerance;
+mod temperature;
+pub mod state;
 
-use crate::piece::PieceMissing;
 use leptos::prelude::*;
+use crate::piece::PieceMissing;
 use state::Notebook;
 
 /// How long edits must pause before the slower sections recompute, milliseconds.
@@ -31,8 +31,7 @@ const SETTLE_MS: i32 = 120;
 const LATER_FALLBACK_MS: i32 = 50;
 
 /// A view on its way: built once its code has arrived, or the piece that could not be fetched.
-type ViewFuture =
-    std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
+type ViewFuture = std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
 
 /// A view whose code may live in a module of its own, fetched when first wanted (see [`Deferred`]).
 type ViewLoad = fn() -> ViewFuture;
@@ -56,24 +55,12 @@ macro_rules! deferred_view {
     };
 }
 
-deferred_view!(
-    input_network_view,
-    view! { <input_network::InputNetworkSection /> }
-);
+deferred_view!(input_network_view, view! { <input_network::InputNetworkSection /> });
 deferred_view!(tolerance_view, view! { <tolerance::ToleranceSection /> });
-deferred_view!(
-    temperature_view,
-    view! { <temperature::TemperatureSection /> }
-);
-deferred_view!(
-    dynamics_view,
-    view! { <output_dynamics::OutputDynamicsSection /> }
-);
+deferred_view!(temperature_view, view! { <temperature::TemperatureSection /> });
+deferred_view!(dynamics_view, view! { <output_dynamics::OutputDynamicsSection /> });
 deferred_view!(signal_view, view! { <signal::SignalSection /> });
-deferred_view!(
-    application_view,
-    view! { <application::ApplicationSection /> }
-);
+deferred_view!(application_view, view! { <application::ApplicationSection /> });
 deferred_view!(partlist_view, view! { <partlist::PartListSection /> });
 deferred_view!(share_view, view! { <share::ShareSection /> });
 deferred_view!(sheet_view, view! { <sheet::DesignSheet /> });
@@ -105,11 +92,7 @@ fn Deferred(load: ViewLoad) -> impl IntoView {
             })
         });
     });
-    move || {
-        ready
-            .get()
-            .then(|| view.try_update_value(|v| v.take()).flatten())
-    }
+    move || ready.get().then(|| view.try_update_value(|v| v.take()).flatten())
 }
 
 /// A long study folded under one line: closed until the user opens it, so the design's inputs
@@ -139,9 +122,7 @@ fn Study(
 pub fn App() -> impl IntoView {
     let nb = Notebook::load();
     provide_context(nb);
-    provide_context(share::StyleChoice(RwSignal::new(
-        hysteron_core::schematic::SymbolStyle::Iec60617,
-    )));
+    provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
     let incoming = nb.incoming;
     // Copy the open design into `settled` once edits pause for a moment (immediately when another
     // design is opened), so the slower sections recompute once per pause, not once per keystroke.
@@ -164,8 +145,7 @@ pub fn App() -> impl IntoView {
         id
     });
     // A link pasted into this tab changes only the fragment: read it again.
-    let hash =
-        window_event_listener_untyped("hashchange", move |_| incoming.set(share::incoming()));
+    let hash = window_event_listener_untyped("hashchange", move |_| incoming.set(share::incoming()));
     // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) step the open design's edits back and forward.
     let keys = window_event_listener(leptos::ev::keydown, move |ev| {
         let ctrl = ev.ctrl_key() || ev.meta_key();

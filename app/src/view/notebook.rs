@@ -29,19 +29,12 @@ pub fn NotebookList() -> impl IntoView {
                             .map(|r| r.3.clone())
                             .unwrap_or_else(|| "no result".into()),
                     };
-                    (
-                        e.id.clone(),
-                        e.record.name.clone(),
-                        e.record.circuit.title().to_string(),
-                        summary,
-                        e.saved_at_ms,
-                    )
+                    (e.id.clone(), e.record.name.clone(), e.record.circuit.title().to_string(), summary, e.saved_at_ms)
                 })
                 .collect::<Vec<_>>()
         })
     });
-    let ids =
-        Memo::new(move |_| shown.with(|rows| rows.iter().map(|r| r.0.clone()).collect::<Vec<_>>()));
+    let ids = Memo::new(move |_| shown.with(|rows| rows.iter().map(|r| r.0.clone()).collect::<Vec<_>>()));
     view! {
         <nav class="notebook" aria-label="Notebook of saved designs">
             <div class="notebook-head">

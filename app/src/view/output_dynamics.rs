@@ -32,39 +32,27 @@ pub fn OutputDynamicsSection() -> impl IntoView {
     let results = Memo::new(move |_| {
         nb.with_settled(|r| {
             let (od, pu) = hysteron_core::overview::dynamics(r);
-            (
-                od.map(|x| x.map_err(|e| e.to_string())),
-                pu.map(|x| x.map_err(|e| e.to_string())),
-            )
+            (od.map(|x| x.map_err(|e| e.to_string())), pu.map(|x| x.map_err(|e| e.to_string())))
         })
         .unwrap_or((None, None))
     });
-    let edit = move |key: &'static str,
-                     f: fn(&mut OutputDynamicsSettings, Option<f64>),
-                     v: Option<f64>| {
+    let edit = move |key: &'static str, f: fn(&mut OutputDynamicsSettings, Option<f64>), v: Option<f64>| {
         nb.edit_keyed(key, move |r| {
             let mut s = r.output_dynamics.unwrap_or_default();
             f(&mut s, v);
             r.output_dynamics = Some(s);
         })
     };
-    let edit_power =
-        move |key: &'static str, f: fn(&mut PowerUpSettings, Option<f64>), v: Option<f64>| {
-            nb.edit_keyed(key, move |r| {
-                let mut s = r.power_up.unwrap_or_default();
-                f(&mut s, v);
-                r.power_up = Some(s);
-            })
-        };
-    let get = move |f: fn(&OutputDynamicsSettings) -> f64| {
-        Signal::derive(move || f(&settings.get().unwrap_or_default()))
+    let edit_power = move |key: &'static str, f: fn(&mut PowerUpSettings, Option<f64>), v: Option<f64>| {
+        nb.edit_keyed(key, move |r| {
+            let mut s = r.power_up.unwrap_or_default();
+            f(&mut s, v);
+            r.power_up = Some(s);
+        })
     };
-    let get_opt = move |f: fn(&OutputDynamicsSettings) -> Option<f64>| {
-        Signal::derive(move || settings.get().and_then(|s| f(&s)))
-    };
-    let get_power = move |f: fn(&PowerUpSettings) -> f64| {
-        Signal::derive(move || f(&power.get().unwrap_or_default()))
-    };
+    let get = move |f: fn(&OutputDynamicsSettings) -> f64| Signal::derive(move || f(&settings.get().unwrap_or_default()));
+    let get_opt = move |f: fn(&OutputDynamicsSettings) -> Option<f64>| Signal::derive(move || settings.get().and_then(|s| f(&s)));
+    let get_power = move |f: fn(&PowerUpSettings) -> f64| Signal::derive(move || f(&power.get().unwrap_or_default()));
     view! {
         <section class="card" aria-labelledby="dynamics-heading" id="output-dynamics">
             <h2 id="dynamics-heading">"Output dynamics and power-up"</h2>

@@ -7,33 +7,19 @@ use hysteron_core::bom::{Package, PACKAGE_RATING_BASIS};
 use hysteron_core::overview::settled;
 use leptos::prelude::*;
 
-const PACKAGES: [Package; 5] = [
-    Package::Chip0402,
-    Package::Chip0603,
-    Package::Chip0805,
-    Package::Chip1206,
-    Package::ThroughHole0W25,
-];
+const PACKAGES: [Package; 5] = [Package::Chip0402, Package::Chip0603, Package::Chip0805, Package::Chip1206, Package::ThroughHole0W25];
 
 /// The part list section.
 #[component]
 pub fn PartListSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let list = Memo::new(move |_| {
-        nb.with_settled(|r| settled(r).parts.map_err(|e| e.to_string()))
-            .unwrap_or_else(|| Err("no design open".into()))
+        nb.with_settled(|r| settled(r).parts.map_err(|e| e.to_string())).unwrap_or_else(|| Err("no design open".into()))
     });
     let package = Memo::new(move |_| nb.with_current(|r| r.parts.package).unwrap_or_default());
     let export = move |_| {
-        if let (Some(Ok(b)), Some(name)) = (
-            Some(list.get_untracked()),
-            nb.with_current_untracked(|r| r.name.clone()),
-        ) {
-            let _ = save_text(
-                &format!("{}-parts.csv", file_stem(&name)),
-                "text/csv",
-                &b.to_csv(),
-            );
+        if let (Some(Ok(b)), Some(name)) = (Some(list.get_untracked()), nb.with_current_untracked(|r| r.name.clone())) {
+            let _ = save_text(&format!("{}-parts.csv", file_stem(&name)), "text/csv", &b.to_csv());
         }
     };
     view! {

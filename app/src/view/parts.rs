@@ -4,21 +4,13 @@
 use super::state::Notebook;
 use crate::fields::QuantityField;
 use hysteron_core::eseries::ESeries;
-use hysteron_core::notation::{format_with_unit, Unit};
 use hysteron_core::overview::{synthesis, Synthesis};
+use hysteron_core::notation::{format_with_unit, Unit};
 use hysteron_core::search::SearchSettings;
 use hysteron_core::topology::{Circuit, ParameterKind};
 use leptos::prelude::*;
 
-const SERIES: [ESeries; 7] = [
-    ESeries::E3,
-    ESeries::E6,
-    ESeries::E12,
-    ESeries::E24,
-    ESeries::E48,
-    ESeries::E96,
-    ESeries::E192,
-];
+const SERIES: [ESeries; 7] = [ESeries::E3, ESeries::E6, ESeries::E12, ESeries::E24, ESeries::E48, ESeries::E96, ESeries::E192];
 
 fn ohms(v: f64) -> String {
     format_with_unit(v, 4, Unit::Ohm)
@@ -28,10 +20,7 @@ fn ohms(v: f64) -> String {
 #[component]
 pub fn PartsSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let settings = Memo::new(move |_| {
-        nb.with_current(|r| r.search.clone().unwrap_or_default())
-            .unwrap_or_default()
-    });
+    let settings = Memo::new(move |_| nb.with_current(|r| r.search.clone().unwrap_or_default()).unwrap_or_default());
     let exact = RwSignal::new(None::<Result<Synthesis, String>>);
     let search = super::search::SearchState::new();
     // New targets make the exact answer stale; another design stops a running search. A search
@@ -49,13 +38,9 @@ pub fn PartsSection() -> impl IntoView {
         search.reset();
     });
     let run = move |_| {
-        let Some(record) = nb.with_current_untracked(|r| r.clone()) else {
-            return;
-        };
+        let Some(record) = nb.with_current_untracked(|r| r.clone()) else { return };
         let Some(targets) = record.targets else {
-            exact.set(Some(Err(
-                "enter the thresholds wanted (Purpose and targets) first".into(),
-            )));
+            exact.set(Some(Err("enter the thresholds wanted (Purpose and targets) first".into())));
             return;
         };
         let syn = synthesis(&record, &targets);
@@ -80,10 +65,7 @@ pub fn PartsSection() -> impl IntoView {
             });
         }
     };
-    let range_field = move |id: &'static str,
-                            label: &'static str,
-                            get: fn(&SearchSettings) -> f64,
-                            put: fn(&mut SearchSettings, f64)| {
+    let range_field = move |id: &'static str, label: &'static str, get: fn(&SearchSettings) -> f64, put: fn(&mut SearchSettings, f64)| {
         let value = Signal::derive(move || get(&settings.get()));
         let on_value = Callback::new(move |v: f64| {
             nb.edit_keyed(id, move |r| {
@@ -98,15 +80,9 @@ pub fn PartsSection() -> impl IntoView {
             put(&mut st, v);
             (st.r_min_ohm >= st.r_max_ohm).then(|| {
                 if id == "search-r-min" {
-                    format!(
-                        "must be below the largest resistor ({})",
-                        ohms(st.r_max_ohm)
-                    )
+                    format!("must be below the largest resistor ({})", ohms(st.r_max_ohm))
                 } else {
-                    format!(
-                        "must be above the smallest resistor ({})",
-                        ohms(st.r_min_ohm)
-                    )
+                    format!("must be above the smallest resistor ({})", ohms(st.r_min_ohm))
                 }
             })
         });

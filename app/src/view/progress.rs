@@ -32,12 +32,7 @@ fn describe(s: &JobStatus) -> String {
         Some(_) => ", under a second left".to_string(),
         None => String::new(),
     };
-    format!(
-        "{} of {} {} {place}{left}",
-        count(s.done),
-        count(s.total),
-        s.unit
-    )
+    format!("{} of {} {} {place}{left}", count(s.done), count(s.total), s.unit)
 }
 
 /// Progress of a running study with its Cancel button; shows nothing while `status` is `None`.

@@ -8,11 +8,7 @@ use hysteron_core::safety::cautions;
 use leptos::prelude::*;
 
 fn default_targets() -> Targets {
-    Targets {
-        vt_upper_v: 3.0,
-        vt_lower_v: 2.0,
-        impedance: ImpedanceChoice::AnchorOhm(100e3),
-    }
+    Targets { vt_upper_v: 3.0, vt_lower_v: 2.0, impedance: ImpedanceChoice::AnchorOhm(100e3) }
 }
 
 fn volts(v: f64) -> String {
@@ -37,22 +33,10 @@ fn targets_problem(id: &str, t: &Targets) -> Option<String> {
 fn range_problem(id: &str, c: &CheckSettings) -> Option<String> {
     let order = |lo: Option<f64>, hi: Option<f64>| matches!((lo, hi), (Some(a), Some(b)) if a > b);
     match id {
-        "check-supply-min" if order(c.supply_min_v, c.supply_max_v) => Some(format!(
-            "must not be above the supply maximum ({})",
-            volts(c.supply_max_v?)
-        )),
-        "check-supply-max" if order(c.supply_min_v, c.supply_max_v) => Some(format!(
-            "must not be below the supply minimum ({})",
-            volts(c.supply_min_v?)
-        )),
-        "check-input-min" if order(c.input_min_v, c.input_max_v) => Some(format!(
-            "must not be above the highest input ({})",
-            volts(c.input_max_v?)
-        )),
-        "check-input-max" if order(c.input_min_v, c.input_max_v) => Some(format!(
-            "must not be below the lowest input ({})",
-            volts(c.input_min_v?)
-        )),
+        "check-supply-min" if order(c.supply_min_v, c.supply_max_v) => Some(format!("must not be above the supply maximum ({})", volts(c.supply_max_v?))),
+        "check-supply-max" if order(c.supply_min_v, c.supply_max_v) => Some(format!("must not be below the supply minimum ({})", volts(c.supply_min_v?))),
+        "check-input-min" if order(c.input_min_v, c.input_max_v) => Some(format!("must not be above the highest input ({})", volts(c.input_max_v?))),
+        "check-input-max" if order(c.input_min_v, c.input_max_v) => Some(format!("must not be below the lowest input ({})", volts(c.input_min_v?))),
         "check-recovery" if c.expected_recovery_v < 0.0 => Some("must not be negative".to_string()),
         _ => None,
     }
@@ -67,28 +51,18 @@ pub fn PurposeSection() -> impl IntoView {
     let purpose = Memo::new(move |_| nb.with_current(|r| r.purpose.clone()).unwrap_or_default());
     let targets = Memo::new(move |_| nb.with_current(|r| r.targets).flatten());
     let by_centre = RwSignal::new(false);
-    let shown_targets = Memo::new(move |_| {
-        targets
-            .get()
-            .or_else(|| nb.with_current(super::state::starting_targets))
-            .unwrap_or_else(default_targets)
-    });
+    let shown_targets = Memo::new(move |_| targets.get().or_else(|| nb.with_current(super::state::starting_targets)).unwrap_or_else(default_targets));
     let t = move || shown_targets.get();
     let set_t = move |key: &'static str, f: Box<dyn Fn(&mut Targets)>| {
         nb.edit_keyed(key, move |r| {
-            let mut t = r
-                .targets
-                .unwrap_or_else(|| super::state::starting_targets(r));
+            let mut t = r.targets.unwrap_or_else(|| super::state::starting_targets(r));
             f(&mut t);
             r.targets = Some(t);
         })
     };
     // Each threshold field refuses a value that would put VT+ at or below VT− (or a width of zero
     // or less), and says so beside itself in the words on screen.
-    let thresholds_field = move |id: &'static str,
-                                 label: &'static str,
-                                 get: fn(&Targets) -> f64,
-                                 put: fn(&mut Targets, f64)| {
+    let thresholds_field = move |id: &'static str, label: &'static str, get: fn(&Targets) -> f64, put: fn(&mut Targets, f64)| {
         let value = Signal::derive(move || get(&t()));
         let on_value = Callback::new(move |v: f64| set_t(id, Box::new(move |t| put(t, v))));
         let check = Callback::new(move |v: f64| {
@@ -98,22 +72,17 @@ pub fn PurposeSection() -> impl IntoView {
         });
         view! { <QuantityField id=id.to_string() label=label.to_string() unit="V" value on_value check /> }
     };
-    let check =
-        move |id: &'static str,
-              label: &'static str,
-              get: fn(&hysteron_core::analysis::CheckSettings) -> Option<f64>,
-              put: fn(&mut hysteron_core::analysis::CheckSettings, Option<f64>)| {
-            let value = Memo::new(move |_| nb.with_current(|r| get(&r.checks)).flatten());
-            let on_value = Callback::new(move |v: Option<f64>| {
-                nb.edit_keyed(id, move |r| put(&mut r.checks, v))
-            });
-            let check = Callback::new(move |v: f64| {
-                let mut candidate = nb.with_current_untracked(|r| r.checks.clone())?;
-                put(&mut candidate, Some(v));
-                range_problem(id, &candidate)
-            });
-            view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value=Signal::derive(move || value.get()) on_value check /> }
-        };
+    let check = move |id: &'static str, label: &'static str, get: fn(&hysteron_core::analysis::CheckSettings) -> Option<f64>,
+                      put: fn(&mut hysteron_core::analysis::CheckSettings, Option<f64>)| {
+        let value = Memo::new(move |_| nb.with_current(|r| get(&r.checks)).flatten());
+        let on_value = Callback::new(move |v: Option<f64>| nb.edit_keyed(id, move |r| put(&mut r.checks, v)));
+        let check = Callback::new(move |v: f64| {
+            let mut candidate = nb.with_current_untracked(|r| r.checks.clone())?;
+            put(&mut candidate, Some(v));
+            range_problem(id, &candidate)
+        });
+        view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value=Signal::derive(move || value.get()) on_value check /> }
+    };
     // With a current budget chosen there is no anchor value: the anchor field is empty (never "NaN").
     let anchor = Signal::derive(move || match t().impedance {
         ImpedanceChoice::AnchorOhm(r) => Some(r),
@@ -125,8 +94,7 @@ pub fn PurposeSection() -> impl IntoView {
     });
     let anchor_label = Memo::new(move |_| {
         use hysteron_core::topology::Circuit;
-        nb.with_current(|r| r.circuit.anchor_description())
-            .unwrap_or("")
+        nb.with_current(|r| r.circuit.anchor_description()).unwrap_or("")
     });
     let caution_list = Memo::new(move |_| nb.with_settled(cautions).unwrap_or_default());
     view! {

@@ -49,17 +49,9 @@ impl Figures {
             })
         });
         let terminal = Memo::new(move |_| {
-            quick.with(|q| {
-                q.as_ref()
-                    .and_then(|q| q.field_terminal.clone())
-                    .map(|t| t.map_err(|e| e.to_string()))
-            })
+            quick.with(|q| q.as_ref().and_then(|q| q.field_terminal.clone()).map(|t| t.map_err(|e| e.to_string())))
         });
-        Self {
-            quick,
-            analysis,
-            terminal,
-        }
+        Self { quick, analysis, terminal }
     }
 }
 
@@ -100,11 +92,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
     let analysis = figures.analysis;
     let terminal = figures.terminal;
     let has_network = Memo::new(move |_| terminal.with(|t| t.is_some()));
-    let curve = Memo::new(move |_| {
-        figures
-            .quick
-            .with(|q| q.as_ref().and_then(|q| q.curve.clone()))
-    });
+    let curve = Memo::new(move |_| figures.quick.with(|q| q.as_ref().and_then(|q| q.curve.clone())));
     // The field window (every tolerance over its full range) and the bench window (parts and
     // device spread at 25 °C and the nominal supply), computed on a compute worker once typing
     // pauses (`core::jobs::Job::Windows`, equal to `overview::record_windows`). The job carries
@@ -115,24 +103,17 @@ pub fn Results(figures: Figures) -> impl IntoView {
             let mut only = hysteron_core::record::DesignRecord::new("", r.circuit.clone());
             only.checks = r.checks.clone();
             only.tolerance = r.tolerance.as_ref().map(|t| t.without_monte_carlo());
-            hysteron_core::jobs::Job::Windows {
-                record: Box::new(only),
-            }
+            hysteron_core::jobs::Job::Windows { record: Box::new(only) }
         })
     });
-    let windows_run =
-        crate::jobs::follow(windows_job, hysteron_core::job_answers::Answers::WINDOWS);
+    let windows_run = crate::jobs::follow(windows_job, hysteron_core::job_answers::Answers::WINDOWS);
     let windows = Memo::new(move |_| {
         windows_run.result.with(|o| match o {
             Some(Ok(hysteron_core::jobs::JobOutput::Windows(w))) => Some((**w).clone()),
             _ => None,
         })
     });
-    let spec = Memo::new(move |_| {
-        nb.with_current(|r| r.tolerance.as_ref().map(|t| t.spec))
-            .flatten()
-            .unwrap_or_default()
-    });
+    let spec = Memo::new(move |_| nb.with_current(|r| r.tolerance.as_ref().map(|t| t.spec)).flatten().unwrap_or_default());
     // The figures saved with the design are its record for the bench: if today's math gives other
     // numbers (a newer version, say), say so and show both rather than silently changing them.
     let saved = Memo::new(move |_| nb.with_current_entry(|e| e.snapshot.clone()).flatten());
@@ -160,9 +141,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
         let el = canvas.get();
         if drawn_before.is_none() {
             crate::tick::after_paint(100, move || {
-                if let (Some(Some(el)), Some(Some(c))) =
-                    (canvas.try_get_untracked(), curve.try_get_untracked())
-                {
+                if let (Some(Some(el)), Some(Some(c))) = (canvas.try_get_untracked(), curve.try_get_untracked()) {
                     plot_error.try_set(plot::draw_transfer(&el, &c).err());
                 }
             });
@@ -171,51 +150,29 @@ pub fn Results(figures: Figures) -> impl IntoView {
         }
     });
     let on_move = move |ev: leptos::ev::MouseEvent| {
-        let v = canvas
-            .get_untracked()
-            .and_then(|c| plot::current_frame(&c))
-            .and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
-        hover.set(
-            v.map(|(x, y)| format!("input {x:.3} V, output {y:.3} V"))
-                .unwrap_or_default(),
-        );
+        let v = canvas.get_untracked().and_then(|c| plot::current_frame(&c)).and_then(|f| f.value_at(ev.offset_x() as f64, ev.offset_y() as f64));
+        hover.set(v.map(|(x, y)| format!("input {x:.3} V, output {y:.3} V")).unwrap_or_default());
     };
     let value = move |f: fn(&Analysis) -> f64| move || analysis.with(|a| a.as_ref().map(f).ok());
     // One key figure: its name, what it means, the value, and its windows where there are any.
     type Window = fn(&SpecWindow) -> (Option<f64>, Option<f64>);
     type Bench = fn(&WorstCase) -> (f64, f64);
-    let key = move |id: &'static str,
-                    name: &'static str,
-                    note: &'static str,
-                    f: fn(&Analysis) -> f64,
-                    at_terminal: fn(&Thresholds) -> f64,
-                    spec_of: Window,
-                    bench_of: Bench| {
+    let key = move |id: &'static str, name: &'static str, note: &'static str, f: fn(&Analysis) -> f64, at_terminal: fn(&Thresholds) -> f64, spec_of: Window, bench_of: Bench| {
         let v = value(f);
         // With an input network the figure at the field terminal leads (`#{id}-terminal`); the
         // pin's figure (`#{id}`, as without a network) follows it, smaller.
-        let t =
-            move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().ok()).map(at_terminal));
-        let terminal_error =
-            move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().err()).is_some());
-        let spec_text = move || {
-            spec.with(|s| {
-                let (lo, hi) = spec_of(s);
-                window_text(lo, hi)
-            })
-        };
+        let t = move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().ok()).map(at_terminal));
+        let terminal_error = move || terminal.with(|t| t.as_ref().and_then(|t| t.as_ref().err()).is_some());
+        let spec_text = move || spec.with(|s| {
+            let (lo, hi) = spec_of(s);
+            window_text(lo, hi)
+        });
         let outside = move || {
             let (lo, hi) = spec.with(spec_of);
             v().is_some_and(|x| lo.is_some_and(|l| x < l) || hi.is_some_and(|h| x > h))
         };
         let field_range = move || windows.with(|w| w.as_ref().map(|w| bench_of(&w.field)));
-        let bench_range = move || {
-            windows.with(|w| {
-                w.as_ref()
-                    .and_then(|w| w.bench.first())
-                    .map(|b| bench_of(&b.worst_case))
-            })
-        };
+        let bench_range = move || windows.with(|w| w.as_ref().and_then(|w| w.bench.first()).map(|b| bench_of(&b.worst_case)));
         view! {
             <div class="key-figure" id=format!("key-{id}") class:with-network=move || has_network.get()>
                 <span class="key-name">{name}</span>

@@ -65,13 +65,8 @@ impl SearchState {
     /// settings are checked and the work bound shown at once; invalid targets show only the error.
     pub fn start(self, record: &DesignRecord, targets: &Targets, synthesised: Option<&Synthesis>) {
         self.reset();
-        self.budget_a
-            .set(search_settings(record, targets).current_budget_a);
-        let keep = self
-            .nb
-            .current
-            .get_untracked()
-            .map(|id| (id, study_inputs(Study::Search, record)));
+        self.budget_a.set(search_settings(record, targets).current_budget_a);
+        let keep = self.nb.current.get_untracked().map(|id| (id, study_inputs(Study::Search, record)));
         let (job, workload) = match hysteron_core::jobs::search_job(record, targets, synthesised) {
             Err(e) => return self.found.set(Some(Err(e.to_string()))),
             Ok(j) => j,
@@ -93,17 +88,11 @@ impl SearchState {
                     // change of the targets, then marked out of date).
                     Ok(JobOutput::Search(report)) => match keep {
                         Some((id, inputs)) => self.nb.keep_study(&id, move |s| {
-                            s.search = Some(Kept {
-                                inputs,
-                                result: crate::unread::Unread::new(KeptSearch { report, budget_a }),
-                                elapsed_ms,
-                            })
+                            s.search = Some(Kept { inputs, result: crate::unread::Unread::new(KeptSearch { report, budget_a }), elapsed_ms })
                         }),
                         None => self.found.set(Some(Ok(report))),
                     },
-                    Ok(_) => self.found.set(Some(Err(
-                        "the worker returned another study's result".into(),
-                    ))),
+                    Ok(_) => self.found.set(Some(Err("the worker returned another study's result".into()))),
                     Err(e) => self.found.set(Some(Err(e))),
                 }
             },
@@ -155,25 +144,13 @@ pub fn SearchResults(state: SearchState) -> impl IntoView {
     };
     // The search kept with the open design, and whether its inputs are still the design's.
     let kept = Memo::new(move |_| nb.study(Study::Search, |s| &s.search));
-    let error = move || {
-        st.found
-            .get()
-            .and_then(|r| r.err())
-            .map(|e| view! { <p class="error" id="search-error" role="alert">{e}</p> })
-    };
+    let error = move || st.found.get().and_then(|r| r.err()).map(|e| view! { <p class="error" id="search-error" role="alert">{e}</p> });
     let results = move || {
         // An error hides every list; a result not kept (no stored design) shows as found.
         let shown = match st.found.get() {
             Some(Err(_)) => None,
-            Some(Ok(rep)) => Some((
-                rep,
-                st.budget_a.get_untracked(),
-                st.elapsed_ms.get_untracked().unwrap_or(0.0),
-                true,
-            )),
-            None => kept
-                .get()
-                .map(|k| (k.result.report, k.result.budget_a, k.elapsed_ms, k.current)),
+            Some(Ok(rep)) => Some((rep, st.budget_a.get_untracked(), st.elapsed_ms.get_untracked().unwrap_or(0.0), true)),
+            None => kept.get().map(|k| (k.result.report, k.result.budget_a, k.elapsed_ms, k.current)),
         };
         shown.map(|(rep, budget, elapsed_ms, current)| {
             {

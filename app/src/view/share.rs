@@ -15,10 +15,7 @@ use wasm_bindgen::JsCast;
 /// SVG escapes every text it contains).
 pub fn schematic_url(record: &DesignRecord, style: SymbolStyle) -> String {
     let svg = render_design_svg(record, style, true);
-    format!(
-        "data:image/svg+xml;charset=utf-8,{}",
-        String::from(js_sys::encode_uri_component(&svg))
-    )
+    format!("data:image/svg+xml;charset=utf-8,{}", String::from(js_sys::encode_uri_component(&svg)))
 }
 
 /// The page's address without its fragment.
@@ -50,30 +47,21 @@ pub fn ShareSection() -> impl IntoView {
             message.set(Some(Ok(format!("Link made ({} characters) and copied. It carries the whole design in the part after #, which browsers never send to a server.", url.len()))));
         }
     };
-    let stem = move || {
-        nb.with_current_untracked(|r| file_stem(&r.name))
-            .unwrap_or_else(|| "design".into())
-    };
+    let stem = move || nb.with_current_untracked(|r| file_stem(&r.name)).unwrap_or_else(|| "design".into());
     let save_json = move |_| {
         if let Some(json) = nb.with_current_untracked(|r| r.to_json()) {
-            let _ = save_text(
-                &format!("{}.hysteron.json", stem()),
-                "application/json",
-                &json,
-            );
+            let _ = save_text(&format!("{}.hysteron.json", stem()), "application/json", &json);
         }
     };
-    let save_spice = move |_| match nb.with_current_untracked(hysteron_core::overview::spice) {
-        Some(Ok(deck)) => {
-            let _ = save_text(&format!("{}.cir", stem()), "text/plain", &deck);
+    let save_spice = move |_| {
+        match nb.with_current_untracked(hysteron_core::overview::spice) {
+            Some(Ok(deck)) => { let _ = save_text(&format!("{}.cir", stem()), "text/plain", &deck); }
+            Some(Err(e)) => message.set(Some(Err(format!("no netlist: {e}")))),
+            None => {}
         }
-        Some(Err(e)) => message.set(Some(Err(format!("no netlist: {e}")))),
-        None => {}
     };
     let save_svg = move |_| {
-        if let Some(svg) =
-            nb.with_current_untracked(|r| render_design_svg(r, style.get_untracked(), true))
-        {
+        if let Some(svg) = nb.with_current_untracked(|r| render_design_svg(r, style.get_untracked(), true)) {
             let _ = save_text(&format!("{}-schematic.svg", stem()), "image/svg+xml", &svg);
         }
     };
@@ -83,9 +71,7 @@ pub fn ShareSection() -> impl IntoView {
             plot::transfer_svg(&c)
         });
         match svg {
-            Some(Ok(s)) => {
-                let _ = save_text(&format!("{}-transfer.svg", stem()), "image/svg+xml", &s);
-            }
+            Some(Ok(s)) => { let _ = save_text(&format!("{}-transfer.svg", stem()), "image/svg+xml", &s); }
             Some(Err(e)) => message.set(Some(Err(e))),
             None => {}
         }
@@ -96,11 +82,7 @@ pub fn ShareSection() -> impl IntoView {
             .and_then(|d| d.get_element_by_id("transfer-plot"))
             .and_then(|e| e.dyn_into::<web_sys::HtmlCanvasElement>().ok());
         if let Some(url) = canvas.and_then(|c| c.to_data_url_with_type("image/png").ok()) {
-            if let Some(a) = web_sys::window()
-                .and_then(|w| w.document())
-                .and_then(|d| d.create_element("a").ok())
-                .and_then(|a| a.dyn_into::<web_sys::HtmlAnchorElement>().ok())
-            {
+            if let Some(a) = web_sys::window().and_then(|w| w.document()).and_then(|d| d.create_element("a").ok()).and_then(|a| a.dyn_into::<web_sys::HtmlAnchorElement>().ok()) {
                 a.set_href(&url);
                 a.set_download(&format!("{}-transfer.png", stem()));
                 a.click();
@@ -109,33 +91,18 @@ pub fn ShareSection() -> impl IntoView {
     };
     let import_error = RwSignal::new(None::<String>);
     let on_import = move |ev: leptos::ev::Event| {
-        let Some(input) = ev
-            .target()
-            .and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok())
-        else {
-            return;
-        };
-        let Some(file) = input.files().and_then(|f| f.get(0)) else {
-            return;
-        };
-        let Ok(reader) = web_sys::FileReader::new() else {
-            return;
-        };
+        let Some(input) = ev.target().and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok()) else { return };
+        let Some(file) = input.files().and_then(|f| f.get(0)) else { return };
+        let Ok(reader) = web_sys::FileReader::new() else { return };
         let r2 = reader.clone();
         let onload = wasm_bindgen::closure::Closure::once_into_js(move || {
-            let text = r2
-                .result()
-                .ok()
-                .and_then(|v| v.as_string())
-                .unwrap_or_default();
+            let text = r2.result().ok().and_then(|v| v.as_string()).unwrap_or_default();
             match DesignRecord::from_json(&text) {
                 Ok(record) => {
                     import_error.set(None);
                     nb.add_unique(record);
                 }
-                Err(e) => import_error.set(Some(format!(
-                    "That file is not a design Hysteron can open: {e}"
-                ))),
+                Err(e) => import_error.set(Some(format!("That file is not a design Hysteron can open: {e}"))),
             }
         });
         reader.set_onload(Some(onload.unchecked_ref()));
@@ -176,8 +143,7 @@ pub fn ShareSection() -> impl IntoView {
 fn clear_fragment() {
     if let Some(w) = web_sys::window() {
         if let Ok(h) = w.history() {
-            let _ =
-                h.replace_state_with_url(&wasm_bindgen::JsValue::NULL, "", Some(&page_address()));
+            let _ = h.replace_state_with_url(&wasm_bindgen::JsValue::NULL, "", Some(&page_address()));
         }
     }
 }
@@ -187,8 +153,7 @@ fn clear_fragment() {
 pub fn SharedDesign(incoming: RwSignal<Incoming>) -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let style = expect_context::<StyleChoice>().0;
-    move || {
-        match incoming.get() {
+    move || match incoming.get() {
         Incoming::None => ().into_any(),
         Incoming::Broken(msg) => view! {
             <div class="banner" role="alert" id="link-error">{msg}
@@ -223,6 +188,5 @@ pub fn SharedDesign(incoming: RwSignal<Incoming>) -> impl IntoView {
                 </section>
             }.into_any()
         }
-    }
     }
 }

@@ -28,11 +28,8 @@ pub fn DesignSheet() -> impl IntoView {
         Incoming::Design(r) => Some(*r),
         _ => nb.with_current(|r| r.clone()),
     });
-    let with_shown = move |f: &dyn Fn(&hysteron_core::record::DesignRecord) -> String| {
-        shown.with(|r| r.as_ref().map(f)).unwrap_or_default()
-    };
-    let on_print =
-        window_event_listener_untyped("beforeprint", move |_| printing.update(|n| *n += 1));
+    let with_shown = move |f: &dyn Fn(&hysteron_core::record::DesignRecord) -> String| shown.with(|r| r.as_ref().map(f)).unwrap_or_default();
+    let on_print = window_event_listener_untyped("beforeprint", move |_| printing.update(|n| *n += 1));
     on_cleanup(move || on_print.remove());
     let core_figures = Memo::new(move |_| {
         if printing.get() == 0 {
@@ -56,10 +53,7 @@ pub fn DesignSheet() -> impl IntoView {
             let _ = plot::draw_transfer_fixed(&el, &c, 1000, 420, 2.0);
         }
     });
-    let today = String::from(js_sys::Date::new_0().to_iso_string())
-        .chars()
-        .take(10)
-        .collect::<String>();
+    let today = String::from(js_sys::Date::new_0().to_iso_string()).chars().take(10).collect::<String>();
     let v = |x: f64| format!("{x:.3} V");
     view! {
         <article class="sheet" id="design-sheet" aria-label="Design sheet for printing">

@@ -3,14 +3,14 @@
 //! the waveforms with zoom and pan. All simulation is `core::signal`'s.
 
 use super::state::{study_inputs, Notebook, Study};
+use crate::storage::Kept;
 use crate::fields::QuantityField;
 use crate::plot::{self, colours, Trace};
-use crate::storage::Kept;
-use hysteron_core::jobs::{Job, JobOutput, DEFAULT_DISPLAY_POINTS};
 use hysteron_core::signal::csv::{Capture, CsvOptions};
 use hysteron_core::signal::generate::{Component, SignalDefinition};
 use hysteron_core::signal::noise::NoiseSource;
 use hysteron_core::signal::plot::{downsample_min_max, Envelope};
+use hysteron_core::jobs::{Job, JobOutput, DEFAULT_DISPLAY_POINTS};
 use hysteron_core::signal::report::{SignalRun, SignalSettings, SignalSource};
 use hysteron_core::signal::sweep::SweepSettings;
 use leptos::html::Canvas;
@@ -24,11 +24,7 @@ type PartField = (&'static str, &'static str, &'static str);
 fn part_fields(kind: &str) -> &'static [PartField] {
     match kind {
         "dc" => &[("level_v", "Level", "V")],
-        "sine" | "triangle" => &[
-            ("amplitude_v", "Amplitude (peak)", "V"),
-            ("frequency_hz", "Frequency", "Hz"),
-            ("phase_deg", "Phase", "°"),
-        ],
+        "sine" | "triangle" => &[("amplitude_v", "Amplitude (peak)", "V"), ("frequency_hz", "Frequency", "Hz"), ("phase_deg", "Phase", "°")],
         "square" => &[
             ("amplitude_v", "Amplitude (peak)", "V"),
             ("frequency_hz", "Frequency", "Hz"),
@@ -36,63 +32,26 @@ fn part_fields(kind: &str) -> &'static [PartField] {
             ("duty", "Duty cycle (0 to 1)", ""),
             ("rise_time_s", "Edge time", "s"),
         ],
-        "ramp" => &[
-            ("slope_v_per_s", "Slope", "V/s"),
-            ("start_s", "Starts at", "s"),
-        ],
-        "rc_approach" => &[
-            ("step_v", "Step", "V"),
-            ("time_constant_s", "Time constant τ", "s"),
-            ("start_s", "Starts at", "s"),
-        ],
+        "ramp" => &[("slope_v_per_s", "Slope", "V/s"), ("start_s", "Starts at", "s")],
+        "rc_approach" => &[("step_v", "Step", "V"), ("time_constant_s", "Time constant τ", "s"), ("start_s", "Starts at", "s")],
         "drift" => &[("rate_v_per_s", "Drift rate", "V/s")],
         "white" => &[("rms_v", "RMS", "V")],
-        "band_limited" => &[
-            ("rms_v", "RMS", "V"),
-            ("corner_hz", "Corner frequency", "Hz"),
-        ],
-        "hum" => &[
-            ("amplitude_v", "Amplitude of the fundamental (peak)", "V"),
-            ("phase_deg", "Phase", "°"),
-        ],
-        "spikes" => &[
-            ("rate_hz", "Mean rate", "Hz"),
-            ("amplitude_v", "Height", "V"),
-            ("decay_s", "Decay time constant", "s"),
-        ],
+        "band_limited" => &[("rms_v", "RMS", "V"), ("corner_hz", "Corner frequency", "Hz")],
+        "hum" => &[("amplitude_v", "Amplitude of the fundamental (peak)", "V"), ("phase_deg", "Phase", "°")],
+        "spikes" => &[("rate_hz", "Mean rate", "Hz"), ("amplitude_v", "Height", "V"), ("decay_s", "Decay time constant", "s")],
         _ => &[],
     }
 }
 
 /// A choice of a signal part (record key, label, the options as record value and words).
-type PartChoice = (
-    &'static str,
-    &'static str,
-    &'static [(&'static str, &'static str)],
-);
+type PartChoice = (&'static str, &'static str, &'static [(&'static str, &'static str)]);
 
 /// The choices of a signal part (enumerations in the record), shown as drop-down lists.
 fn part_choices(kind: &str) -> &'static [PartChoice] {
     match kind {
-        "hum" => &[(
-            "mains",
-            "Mains frequency",
-            &[("hz50", "50 Hz"), ("hz60", "60 Hz")],
-        )],
-        "spikes" => &[(
-            "polarity",
-            "Polarity",
-            &[
-                ("random", "either sign"),
-                ("positive", "positive"),
-                ("negative", "negative"),
-            ],
-        )],
-        "band_limited" => &[(
-            "poles",
-            "Low-pass stages",
-            &[("1", "1 (RC)"), ("2", "2"), ("3", "3"), ("4", "4")],
-        )],
+        "hum" => &[("mains", "Mains frequency", &[("hz50", "50 Hz"), ("hz60", "60 Hz")])],
+        "spikes" => &[("polarity", "Polarity", &[("random", "either sign"), ("positive", "positive"), ("negative", "negative")])],
+        "band_limited" => &[("poles", "Low-pass stages", &[("1", "1 (RC)"), ("2", "2"), ("3", "3"), ("4", "4")])],
         _ => &[],
     }
 }
@@ -116,16 +75,9 @@ fn kind_title(kind: &str) -> &'static str {
 }
 
 /// Writes `value` at `key` of item `i` and reads the list back as `T`s.
-fn with_value<T: serde::de::DeserializeOwned>(
-    all: &[serde_json::Value],
-    i: usize,
-    key: &str,
-    value: serde_json::Value,
-) -> Option<(Vec<serde_json::Value>, Vec<T>)> {
+fn with_value<T: serde::de::DeserializeOwned>(all: &[serde_json::Value], i: usize, key: &str, value: serde_json::Value) -> Option<(Vec<serde_json::Value>, Vec<T>)> {
     let mut all = all.to_vec();
-    all.get_mut(i)?
-        .as_object_mut()?
-        .insert(key.to_string(), value);
+    all.get_mut(i)?.as_object_mut()?.insert(key.to_string(), value);
     let typed = serde_json::from_value::<Vec<T>>(serde_json::Value::Array(all.clone())).ok()?;
     Some((all, typed))
 }
@@ -146,16 +98,7 @@ where
     T: serde::de::DeserializeOwned + Send + Sync + 'static,
 {
     let kinds = Memo::new(move |_| {
-        items.with(|v| {
-            v.iter()
-                .map(|o| {
-                    o.get("kind")
-                        .and_then(|k| k.as_str())
-                        .unwrap_or("?")
-                        .to_string()
-                })
-                .collect::<Vec<_>>()
-        })
+        items.with(|v| v.iter().map(|o| o.get("kind").and_then(|k| k.as_str()).unwrap_or("?").to_string()).collect::<Vec<_>>())
     });
     view! {
         <ul class="signal-list">
@@ -217,9 +160,7 @@ where
 }
 
 fn to_values<T: serde::Serialize>(v: &[T]) -> Vec<serde_json::Value> {
-    v.iter()
-        .filter_map(|x| serde_json::to_value(x).ok())
-        .collect()
+    v.iter().filter_map(|x| serde_json::to_value(x).ok()).collect()
 }
 
 /// The signal test section.
@@ -240,11 +181,7 @@ pub fn SignalSection() -> impl IntoView {
     let import_generation = RwSignal::new(0u64);
     let run = RwSignal::new(None::<Result<std::sync::Arc<SignalRun>, String>>);
     let has_settings = Memo::new(move |_| settings.with(|s| s.is_some()));
-    let sample_rate = Signal::derive(move || {
-        settings
-            .with(|s| s.as_ref().map(|s| s.definition.sample_rate_hz))
-            .unwrap_or(f64::NAN)
-    });
+    let sample_rate = Signal::derive(move || settings.with(|s| s.as_ref().map(|s| s.definition.sample_rate_hz)).unwrap_or(f64::NAN));
     // A sample rate or duration is refused at its field when the signal cannot be built with it.
     let definition_check = move |key: &'static str, put: fn(&mut SignalDefinition, f64)| {
         Callback::new(move |v: f64| -> Option<String> {
@@ -259,71 +196,40 @@ pub fn SignalSection() -> impl IntoView {
     let view_window = RwSignal::new((0.0_f64, 0.0_f64));
     let progress = RwSignal::new(None::<crate::jobs::JobStatus>);
     let job = StoredValue::new_local(None::<crate::jobs::JobHandle>);
-    let components = Signal::derive(move || {
-        settings
-            .get()
-            .map(|s| to_values(&s.definition.components))
-            .unwrap_or_default()
-    });
-    let noise = Signal::derive(move || {
-        settings
-            .get()
-            .map(|s| to_values(&s.definition.noise))
-            .unwrap_or_default()
-    });
+    let components = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.components)).unwrap_or_default());
+    let noise = Signal::derive(move || settings.get().map(|s| to_values(&s.definition.noise)).unwrap_or_default());
     let write_components = Callback::new(move |v: Vec<serde_json::Value>| {
         if let Ok(c) = serde_json::from_value::<Vec<Component>>(serde_json::Value::Array(v)) {
-            edit(
-                "sig-components",
-                Box::new(move |s| s.definition.components = c.clone()),
-            );
+            edit("sig-components", Box::new(move |s| s.definition.components = c.clone()));
         }
     });
     let write_noise = Callback::new(move |v: Vec<serde_json::Value>| {
         if let Ok(n) = serde_json::from_value::<Vec<NoiseSource>>(serde_json::Value::Array(v)) {
-            edit(
-                "sig-noise",
-                Box::new(move |s| s.definition.noise = n.clone()),
-            );
+            edit("sig-noise", Box::new(move |s| s.definition.noise = n.clone()));
         }
     });
-    let add_component = move |c: Component| {
-        edit(
-            "",
-            Box::new(move |s| s.definition.components.push(c.clone())),
-        )
-    };
-    let add_noise =
-        move |n: NoiseSource| edit("", Box::new(move |s| s.definition.noise.push(n.clone())));
+    let add_component = move |c: Component| edit("", Box::new(move |s| s.definition.components.push(c.clone())));
+    let add_noise = move |n: NoiseSource| edit("", Box::new(move |s| s.definition.noise.push(n.clone())));
 
     // The last run's report kept with the design (it survives a reload), and whether the design
     // still gives the inputs it was computed from.
     let kept = Memo::new(move |_| nb.study(Study::Signal, |s| &s.signal));
     let simulate = move || {
-        let Some(record) = nb.with_current_untracked(|r| r.clone()) else {
-            return;
-        };
-        let Some(id) = nb.current.get_untracked() else {
-            return;
-        };
+        let Some(record) = nb.with_current_untracked(|r| r.clone()) else { return };
+        let Some(id) = nb.current.get_untracked() else { return };
         let inputs = study_inputs(Study::Signal, &record);
-        let Some(s) = record.signal.clone() else {
-            return;
-        };
+        let Some(s) = record.signal.clone() else { return };
         let imported = matches!(s.source, SignalSource::ImportedCapture { .. });
         let cap = capture.get_untracked();
         if imported && cap.is_none() {
-            run.set(Some(Err(
-                "import the capture file again: captures are not stored with the design".into(),
-            )));
+            run.set(Some(Err("import the capture file again: captures are not stored with the design".into())));
             return;
         }
         // At the field terminal, through the input network's clamp and filter, when it has one.
-        let (design, front) =
-            match hysteron_core::input_network::from_record::signal_design(&record) {
-                Ok(d) => d,
-                Err(e) => return run.set(Some(Err(e.to_string()))),
-            };
+        let (design, front) = match hysteron_core::input_network::from_record::signal_design(&record) {
+            Ok(d) => d,
+            Err(e) => return run.set(Some(Err(e.to_string()))),
+        };
         // The study runs on the compute workers (`crate::jobs`), its sweep spread over them.
         if let Some(h) = job.try_update_value(|j| j.take()).flatten() {
             h.cancel();
@@ -334,10 +240,7 @@ pub fn SignalSection() -> impl IntoView {
             settings: s,
             capture: cap.as_deref().cloned(),
             display_points: DEFAULT_DISPLAY_POINTS,
-            output: hysteron_core::overview::dynamics(&record)
-                .0
-                .and_then(|r| r.ok())
-                .map(Box::new),
+            output: hysteron_core::overview::dynamics(&record).0.and_then(|r| r.ok()).map(Box::new),
             front,
         };
         let handle = crate::jobs::start(
@@ -359,13 +262,7 @@ pub fn SignalSection() -> impl IntoView {
                     let elapsed_ms = crate::tick::now_ms() - t0;
                     // The report (not the samples) is kept with the design the run started on.
                     let result = r.report.clone();
-                    nb.keep_study(&id, move |s| {
-                        s.signal = Some(Kept {
-                            inputs,
-                            result: crate::unread::Unread::new(result),
-                            elapsed_ms,
-                        })
-                    });
+                    nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result: crate::unread::Unread::new(result), elapsed_ms }));
                 }
                 run.set(Some(result));
             },
@@ -381,52 +278,24 @@ pub fn SignalSection() -> impl IntoView {
         progress.set(None);
     });
     let sweep = move |_| {
-        edit(
-            "",
-            Box::new(|s| {
-                if s.sweep.is_none() {
-                    s.sweep = Some(SweepSettings::default())
-                }
-            }),
-        );
+        edit("", Box::new(|s| if s.sweep.is_none() { s.sweep = Some(SweepSettings::default()) }));
         simulate();
     };
     // Import: read the file as text, then parse it slice by slice with a progress bar.
     let on_file = move |ev: leptos::ev::Event| {
-        let Some(input) = ev
-            .target()
-            .and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok())
-        else {
-            return;
-        };
-        let Some(file) = input.files().and_then(|f| f.get(0)) else {
-            return;
-        };
+        let Some(input) = ev.target().and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok()) else { return };
+        let Some(file) = input.files().and_then(|f| f.get(0)) else { return };
         let name = file.name();
-        let Ok(reader) = web_sys::FileReader::new() else {
-            return;
-        };
+        let Ok(reader) = web_sys::FileReader::new() else { return };
         import_status.set(None);
         import_progress.set(Some(0.0));
         let r2 = reader.clone();
         let onload = wasm_bindgen::closure::Closure::once_into_js(move || {
             // The text stays the browser's string: it goes to the worker without entering the page's memory.
-            let text = r2
-                .result()
-                .ok()
-                .and_then(|v| v.dyn_into::<js_sys::JsString>().ok())
-                .unwrap_or_else(|| js_sys::JsString::from(""));
+            let text = r2.result().ok().and_then(|v| v.dyn_into::<js_sys::JsString>().ok()).unwrap_or_else(|| js_sys::JsString::from(""));
             import_generation.update(|g| *g += 1);
             let ticket = (import_generation, import_generation.get_untracked());
-            parse_slices(
-                text,
-                name,
-                capture,
-                import_status,
-                import_progress,
-                nb,
-                ticket,
-            );
+            parse_slices(text, name, capture, import_status, import_progress, nb, ticket);
         });
         reader.set_onload(Some(onload.unchecked_ref()));
         if reader.read_as_text(&file).is_err() {
@@ -439,9 +308,7 @@ pub fn SignalSection() -> impl IntoView {
     Effect::new(move |_| {
         let (t0, t1) = view_window.get();
         run.with(|r| {
-            let (Some(Ok(r)), Some(c)) = (r.as_ref(), canvas.get()) else {
-                return;
-            };
+            let (Some(Ok(r)), Some(c)) = (r.as_ref(), canvas.get()) else { return };
             let times = r.time.view();
             let buckets = 900;
             let mut input = Envelope::default();
@@ -452,38 +319,14 @@ pub fn SignalSection() -> impl IntoView {
             downsample_min_max(times, &r.baseline_output_v, t0, t1, buckets, &mut out_b);
             let t = r.report.design.thresholds;
             // The input on its volts axis; each output in a lane of its own below it.
-            let input = Trace {
-                envelope: &input,
-                colour: colours::INK,
-                label: "input",
-            };
+            let input = Trace { envelope: &input, colour: colours::INK, label: "input" };
             let outputs = [
-                Trace {
-                    envelope: &out_d,
-                    colour: colours::RISING,
-                    label: "this design",
-                },
-                Trace {
-                    envelope: &out_b,
-                    colour: colours::FALLING,
-                    label: "plain comparator",
-                },
+                Trace { envelope: &out_d, colour: colours::RISING, label: "this design" },
+                Trace { envelope: &out_b, colour: colours::FALLING, label: "plain comparator" },
             ];
-            let marks: Vec<_> = r
-                .baseline_edges
-                .iter()
-                .map(|e| (e.mid_s, colours::FALLING))
-                .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING)))
-                .collect();
-            let _ = plot::draw_time(
-                &c,
-                t0,
-                t1,
-                input,
-                &outputs,
-                (t.vt_upper_v, t.vt_lower_v),
-                &marks,
-            );
+            let marks: Vec<_> = r.baseline_edges.iter().map(|e| (e.mid_s, colours::FALLING))
+                .chain(r.design_edges.iter().map(|e| (e.mid_s, colours::RISING))).collect();
+            let _ = plot::draw_time(&c, t0, t1, input, &outputs, (t.vt_upper_v, t.vt_lower_v), &marks);
         });
     });
     let zoom = move |factor: f64| {
@@ -494,19 +337,15 @@ pub fn SignalSection() -> impl IntoView {
             *b = m + h;
         })
     };
-    let pan = move |frac: f64| {
-        view_window.update(|(a, b)| {
-            let d = (*b - *a) * frac;
-            *a += d;
-            *b += d;
-        })
-    };
+    let pan = move |frac: f64| view_window.update(|(a, b)| {
+        let d = (*b - *a) * frac;
+        *a += d;
+        *b += d;
+    });
     let full = move |_| {
-        run.with_untracked(|r| {
-            if let Some(Ok(r)) = r {
-                let n = r.signal_v.len();
-                view_window.set((r.time.view().at(0), r.time.view().at(n.saturating_sub(1))));
-            }
+        run.with_untracked(|r| if let Some(Ok(r)) = r {
+            let n = r.signal_v.len();
+            view_window.set((r.time.view().at(0), r.time.view().at(n.saturating_sub(1))));
         })
     };
     view! {
@@ -698,15 +537,7 @@ fn parse_slices(
                         c.volts.len(),
                         name,
                         c.format.describe(),
-                        if c.skipped_count == 0 {
-                            String::new()
-                        } else {
-                            format!(
-                                " {} lines were not samples; see the list (first {}).",
-                                c.skipped_count,
-                                c.skipped.len()
-                            )
-                        }
+                        if c.skipped_count == 0 { String::new() } else { format!(" {} lines were not samples; see the list (first {}).", c.skipped_count, c.skipped.len()) }
                     ))));
                     capture.set(Some(std::sync::Arc::new(c)));
                     let n = name.clone();
@@ -716,9 +547,7 @@ fn parse_slices(
                         r.signal = Some(s);
                     });
                 }
-                Ok(_) => status.set(Some(Err(
-                    "the worker returned another study's result".into()
-                ))),
+                Ok(_) => status.set(Some(Err("the worker returned another study's result".into()))),
             }
         },
     );
@@ -726,3 +555,4 @@ fn parse_slices(
         IMPORT_JOB.with(|j| *j.borrow_mut() = Some(handle));
     }
 }
+

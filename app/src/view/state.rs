@@ -57,9 +57,7 @@ pub enum Study {
 /// design gives the same text. Settings left at their defaults read the same as written defaults.
 pub fn study_inputs(study: Study, r: &DesignRecord) -> String {
     let v = match study {
-        Study::MonteCarlo => {
-            serde_json::to_value((&r.circuit, r.tolerance.clone().unwrap_or_default()))
-        }
+        Study::MonteCarlo => serde_json::to_value((&r.circuit, r.tolerance.clone().unwrap_or_default())),
         Study::Signal => serde_json::to_value((&r.circuit, &r.signal)),
         Study::Search => {
             use hysteron_core::topology::{Circuit, ParameterKind};
@@ -70,13 +68,7 @@ pub fn study_inputs(study: Study, r: &DesignRecord) -> String {
                 .filter(|p| p.kind != ParameterKind::Resistor)
                 .map(|p| (p.id, p.value))
                 .collect();
-            serde_json::to_value((
-                &r.targets,
-                r.search.clone().unwrap_or_default(),
-                r.circuit.name(),
-                fixed,
-                &r.checks,
-            ))
+            serde_json::to_value((&r.targets, r.search.clone().unwrap_or_default(), r.circuit.name(), fixed, &r.checks))
         }
     };
     v.map(|v| v.to_string()).unwrap_or_default()
@@ -126,11 +118,7 @@ pub fn now_ms() -> f64 {
 
 /// A fresh id that sorts by creation time.
 pub fn new_id() -> String {
-    format!(
-        "d{:x}{:04x}",
-        now_ms() as u64,
-        (js_sys::Math::random() * 65535.0) as u32
-    )
+    format!("d{:x}{:04x}", now_ms() as u64, (js_sys::Math::random() * 65535.0) as u32)
 }
 
 /// Computes what is kept beside a design when it is saved (see [`hysteron_core::overview::snapshot`]).
@@ -142,12 +130,7 @@ pub fn snapshot_of(record: &DesignRecord) -> Option<Snapshot> {
 pub fn blank_record() -> DesignRecord {
     let mut r = DesignRecord::new(
         "Untitled design",
-        Topology::Inverting(InvertingSchmitt::single_supply(
-            100e3,
-            100e3,
-            100e3,
-            Comparator::ideal(5.0),
-        )),
+        Topology::Inverting(InvertingSchmitt::single_supply(100e3, 100e3, 100e3, Comparator::ideal(5.0))),
     );
     r.targets = Some(starting_targets(&r));
     r
@@ -164,11 +147,7 @@ pub fn starting_targets(r: &DesignRecord) -> Targets {
     let (vt_upper_v, vt_lower_v) = hysteron_core::overview::thresholds(&r.circuit)
         .map(|t| (t.vt_upper_v, t.vt_lower_v))
         .unwrap_or((3.0, 2.0));
-    Targets {
-        vt_upper_v,
-        vt_lower_v,
-        impedance: ImpedanceChoice::AnchorOhm(STARTING_ANCHOR_OHM),
-    }
+    Targets { vt_upper_v, vt_lower_v, impedance: ImpedanceChoice::AnchorOhm(STARTING_ANCHOR_OHM) }
 }
 
 impl Notebook {
@@ -181,11 +160,7 @@ impl Notebook {
             .open
             .filter(|id| loaded.entries.iter().any(|e| &e.id == id))
             .or_else(|| {
-                loaded
-                    .entries
-                    .iter()
-                    .max_by(|a, b| a.saved_at_ms.total_cmp(&b.saved_at_ms))
-                    .map(|e| e.id.clone())
+                loaded.entries.iter().max_by(|a, b| a.saved_at_ms.total_cmp(&b.saved_at_ms)).map(|e| e.id.clone())
             });
         let incoming = super::incoming::incoming();
         let banner = match (&loaded.unavailable, &loaded.read_only) {
@@ -219,9 +194,7 @@ impl Notebook {
         };
         // An empty notebook starts with a blank design, unless a shared design is being shown:
         // opening a link stores nothing until the user keeps it.
-        if nb.entries.with_untracked(|e| e.is_empty())
-            && !matches!(nb.incoming.get_untracked(), Incoming::Design(_))
-        {
+        if nb.entries.with_untracked(|e| e.is_empty()) && !matches!(nb.incoming.get_untracked(), Incoming::Design(_)) {
             nb.add(blank_record());
         }
         nb.keep_view(view.scroll_y);
@@ -237,10 +210,7 @@ impl Notebook {
         let unload = window_event_listener_untyped("beforeunload", move |_| nb.save_pending());
         let d = leptos::prelude::document();
         let cb = wasm_bindgen::closure::Closure::<dyn FnMut()>::new(move || nb.save_pending());
-        let _ = d.add_event_listener_with_callback(
-            "visibilitychange",
-            wasm_bindgen::JsCast::unchecked_ref(cb.as_ref()),
-        );
+        let _ = d.add_event_listener_with_callback("visibilitychange", wasm_bindgen::JsCast::unchecked_ref(cb.as_ref()));
         // The notebook lives as long as the page: this listener is never removed.
         cb.forget();
         on_cleanup(move || {
@@ -269,10 +239,7 @@ impl Notebook {
 
     /// Writes every edit not yet saved (nothing when there is none).
     pub fn save_pending(&self) {
-        let ids = self
-            .unsaved
-            .try_update_value(std::mem::take)
-            .unwrap_or_default();
+        let ids = self.unsaved.try_update_value(std::mem::take).unwrap_or_default();
         for id in ids {
             self.persist_now(&id, true);
         }
@@ -284,13 +251,8 @@ impl Notebook {
         let current = self.current;
         let restored = StoredValue::new(false);
         let remember = move || {
-            let y = web_sys::window()
-                .and_then(|w| w.scroll_y().ok())
-                .unwrap_or(0.0);
-            storage::remember_view(&storage::View {
-                open: current.get_untracked(),
-                scroll_y: y,
-            });
+            let y = web_sys::window().and_then(|w| w.scroll_y().ok()).unwrap_or(0.0);
+            storage::remember_view(&storage::View { open: current.get_untracked(), scroll_y: y });
         };
         // Read the scroll position once the newly opened design has painted: read at once, it
         // forced a layout of the whole new design (9 ms of a 68 ms task in a CPU profile).
@@ -332,11 +294,7 @@ impl Notebook {
             });
         };
         let scroll = window_event_listener_untyped("scroll", move |_| on_scroll());
-        let hide = window_event_listener_untyped("pagehide", move |_| {
-            if restored.get_value() {
-                remember()
-            }
-        });
+        let hide = window_event_listener_untyped("pagehide", move |_| if restored.get_value() { remember() });
         on_cleanup(move || {
             scroll.remove();
             hide.remove();
@@ -352,15 +310,10 @@ impl Notebook {
                 return name.to_string();
             }
             let (base, from) = match name.strip_suffix(')').and_then(|s| s.rsplit_once(" (")) {
-                Some((b, n)) if n.parse::<u32>().is_ok_and(|n| n >= 2) => {
-                    (b.to_string(), n.parse::<u32>().unwrap_or(1) + 1)
-                }
+                Some((b, n)) if n.parse::<u32>().is_ok_and(|n| n >= 2) => (b.to_string(), n.parse::<u32>().unwrap_or(1) + 1),
                 _ => (name.to_string(), 2),
             };
-            (from..)
-                .map(|i| format!("{base} ({i})"))
-                .find(|n| !taken(n))
-                .unwrap_or_else(|| name.to_string())
+            (from..).map(|i| format!("{base} ({i})")).find(|n| !taken(n)).unwrap_or_else(|| name.to_string())
         })
     }
 
@@ -374,21 +327,13 @@ impl Notebook {
     /// The kept result of a study of the open design, and whether it is still current.
     /// (Generic over the result's type so that reading it happens in the piece of the page that
     /// shows the study; see [`crate::unread`].)
-    pub fn study<T: Clone + serde::de::DeserializeOwned>(
-        &self,
-        study: Study,
-        pick: fn(&Studies) -> &Option<Kept<Unread<T>>>,
-    ) -> Option<Shown<T>> {
+    pub fn study<T: Clone + serde::de::DeserializeOwned>(&self, study: Study, pick: fn(&Studies) -> &Option<Kept<Unread<T>>>) -> Option<Shown<T>> {
         let id = self.current.get()?;
         self.entries.with(|es| {
             let e = es.iter().find(|e| e.id == id)?;
             let k = pick(&e.studies).as_ref()?;
             let result = k.result.read()?.clone();
-            Some(Shown {
-                result,
-                elapsed_ms: k.elapsed_ms,
-                current: k.inputs == study_inputs(study, &e.record),
-            })
+            Some(Shown { result, elapsed_ms: k.elapsed_ms, current: k.inputs == study_inputs(study, &e.record) })
         })
     }
 
@@ -410,20 +355,17 @@ impl Notebook {
     /// Whether the open design has an edit to undo.
     pub fn can_undo(&self) -> bool {
         let id = self.current.get();
-        self.history
-            .with(|h| Some(&h.id) == id.as_ref() && !h.undo.is_empty())
+        self.history.with(|h| Some(&h.id) == id.as_ref() && !h.undo.is_empty())
     }
 
     /// Whether the open design has an undone edit to redo.
     pub fn can_redo(&self) -> bool {
         let id = self.current.get();
-        self.history
-            .with(|h| Some(&h.id) == id.as_ref() && !h.redo.is_empty())
+        self.history.with(|h| Some(&h.id) == id.as_ref() && !h.redo.is_empty())
     }
 
     fn order(&self) -> Vec<String> {
-        self.entries
-            .with_untracked(|es| es.iter().map(|e| e.id.clone()).collect())
+        self.entries.with_untracked(|es| es.iter().map(|e| e.id.clone()).collect())
     }
 
     /// Adds a design, opens it and saves it.
@@ -431,14 +373,7 @@ impl Notebook {
         let id = new_id();
         let snapshot = snapshot_of(&record);
         self.entries.update(|es| {
-            es.push(Entry {
-                id: id.clone(),
-                revision: 0,
-                saved_at_ms: now_ms(),
-                record,
-                snapshot,
-                studies: Studies::default(),
-            })
+            es.push(Entry { id: id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot, studies: Studies::default() })
         });
         self.current.set(Some(id.clone()));
         self.persist(&id);
@@ -448,12 +383,8 @@ impl Notebook {
     /// Applies an edit to the open design, records it for undo, recomputes its snapshot and saves it.
     /// `key` names what was edited, so that quick successive edits of one field merge into one step.
     pub fn edit_keyed(&self, key: &str, f: impl FnOnce(&mut DesignRecord)) {
-        let Some(id) = self.current.get_untracked() else {
-            return;
-        };
-        let Some(before) = self
-            .entries
-            .with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
+        let Some(id) = self.current.get_untracked() else { return };
+        let Some(before) = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
         else {
             return;
         };
@@ -464,16 +395,10 @@ impl Notebook {
         }
         self.history.update(|h| {
             if h.id != id {
-                *h = History {
-                    id: id.clone(),
-                    ..History::default()
-                };
+                *h = History { id: id.clone(), ..History::default() };
             }
             let now = now_ms();
-            let merge = !key.is_empty()
-                && h.last_key == key
-                && now - h.last_ms < History::MERGE_MS
-                && !h.undo.is_empty();
+            let merge = !key.is_empty() && h.last_key == key && now - h.last_ms < History::MERGE_MS && !h.undo.is_empty();
             if !merge {
                 h.undo.push(before);
                 if h.undo.len() > History::LIMIT {
@@ -493,9 +418,7 @@ impl Notebook {
     }
 
     fn replace_current(&self, record: DesignRecord) {
-        let Some(id) = self.current.get_untracked() else {
-            return;
-        };
+        let Some(id) = self.current.get_untracked() else { return };
         // The snapshot (the figures kept for the bench) is computed when the design is saved,
         // after the edit is painted; until then the design has none.
         self.entries.update(|es| {
@@ -510,12 +433,8 @@ impl Notebook {
 
     /// Steps the open design back one edit (Ctrl+Z).
     pub fn undo(&self) {
-        let Some(id) = self.current.get_untracked() else {
-            return;
-        };
-        let Some(now) = self.with_current_untracked(|r| r.clone()) else {
-            return;
-        };
+        let Some(id) = self.current.get_untracked() else { return };
+        let Some(now) = self.with_current_untracked(|r| r.clone()) else { return };
         let mut prev = None;
         self.history.update(|h| {
             if h.id == id {
@@ -533,12 +452,8 @@ impl Notebook {
 
     /// Re-applies an undone edit (Ctrl+Shift+Z or Ctrl+Y).
     pub fn redo(&self) {
-        let Some(id) = self.current.get_untracked() else {
-            return;
-        };
-        let Some(now) = self.with_current_untracked(|r| r.clone()) else {
-            return;
-        };
+        let Some(id) = self.current.get_untracked() else { return };
+        let Some(now) = self.with_current_untracked(|r| r.clone()) else { return };
         let mut next = None;
         self.history.update(|h| {
             if h.id == id {
@@ -564,15 +479,13 @@ impl Notebook {
     /// Reads the open design's whole notebook entry (record, snapshot, revision).
     pub fn with_current_entry<R>(&self, f: impl FnOnce(&Entry) -> R) -> Option<R> {
         let id = self.current.get()?;
-        self.entries
-            .with(|es| es.iter().find(|e| e.id == id).map(f))
+        self.entries.with(|es| es.iter().find(|e| e.id == id).map(f))
     }
 
     /// Reads the open design's record without tracking.
     pub fn with_current_untracked<R>(&self, f: impl FnOnce(&DesignRecord) -> R) -> Option<R> {
         let id = self.current.get_untracked()?;
-        self.entries
-            .with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| f(&e.record)))
+        self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| f(&e.record)))
     }
 
     /// Opens a design.
@@ -582,9 +495,7 @@ impl Notebook {
 
     /// Copies a design under a new name and opens the copy.
     pub fn duplicate(&self, id: &str) {
-        let Some(mut record) = self
-            .entries
-            .with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
+        let Some(mut record) = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| e.record.clone()))
         else {
             return;
         };
@@ -600,9 +511,7 @@ impl Notebook {
                 removed = Some((es.remove(i), i));
             }
         });
-        let Some((entry, index)) = removed else {
-            return;
-        };
+        let Some((entry, index)) = removed else { return };
         if self.persistent.get_untracked() {
             match storage::remove(&entry.id, entry.revision, &self.order()) {
                 Ok(()) => {}
@@ -613,23 +522,17 @@ impl Notebook {
                         _ => entry.clone(),
                     };
                     let name = shown.record.name.clone();
-                    self.entries
-                        .update(|es| es.insert(index.min(es.len()), shown));
+                    self.entries.update(|es| es.insert(index.min(es.len()), shown));
                     self.banner.set(Some(format!(
                         "\"{name}\" was not deleted: another tab saved a newer version (revision {theirs}), shown here now. Delete it again if you still want it gone."
                     )));
                     return;
                 }
-                Err(SaveError::Failed(e)) => self
-                    .banner
-                    .set(Some(format!("{e}. The page keeps working in memory."))),
+                Err(SaveError::Failed(e)) => self.banner.set(Some(format!("{e}. The page keeps working in memory."))),
             }
         }
         if self.current.get_untracked().as_deref() == Some(id) {
-            let next = self.entries.with_untracked(|es| {
-                es.get(index.min(es.len().saturating_sub(1)))
-                    .map(|e| e.id.clone())
-            });
+            let next = self.entries.with_untracked(|es| es.get(index.min(es.len().saturating_sub(1))).map(|e| e.id.clone()));
             self.current.set(next);
         }
         self.deleted.set(Some((entry, index)));
@@ -637,9 +540,7 @@ impl Notebook {
 
     /// Brings back the last deleted design at its old place.
     pub fn undo_delete(&self) {
-        let Some((mut entry, index)) = self.deleted.get_untracked() else {
-            return;
-        };
+        let Some((mut entry, index)) = self.deleted.get_untracked() else { return };
         self.deleted.set(None);
         entry.revision = 0;
         let id = entry.id.clone();
@@ -653,9 +554,7 @@ impl Notebook {
 
     /// Takes in a change another tab made to storage (the `storage` event).
     pub fn external_change(&self, key: &str, new_value: Option<String>) {
-        let Some(id) = key.strip_prefix("hysteron/design/") else {
-            return;
-        };
+        let Some(id) = key.strip_prefix("hysteron/design/") else { return };
         // An edit of this tab not yet written goes first, so a conflict is seen and both are kept.
         if self.is_unsaved(id) {
             self.persist(id);
@@ -670,16 +569,15 @@ impl Notebook {
                 Ok(theirs) => {
                     let open = self.current.get_untracked().as_deref() == Some(id);
                     let mut known = false;
-                    self.entries
-                        .update(|es| match es.iter_mut().find(|e| e.id == id) {
-                            Some(e) => {
-                                known = true;
-                                if theirs.revision > e.revision {
-                                    *e = theirs.clone();
-                                }
+                    self.entries.update(|es| match es.iter_mut().find(|e| e.id == id) {
+                        Some(e) => {
+                            known = true;
+                            if theirs.revision > e.revision {
+                                *e = theirs.clone();
                             }
-                            None => es.push(theirs.clone()),
-                        });
+                        }
+                        None => es.push(theirs.clone()),
+                    });
                     if known && open {
                         self.banner.set(Some(format!(
                             "\"{}\" was changed in another tab; this tab now shows that version.",
@@ -711,10 +609,7 @@ impl Notebook {
     fn keep_conflict_copy(&self, ours: Entry, theirs_revision: u64) {
         let id = ours.id.clone();
         let theirs = storage::read(&id);
-        let index = self
-            .entries
-            .with_untracked(|es| es.iter().position(|e| e.id == id))
-            .unwrap_or(0);
+        let index = self.entries.with_untracked(|es| es.iter().position(|e| e.id == id)).unwrap_or(0);
         let their_name = match &theirs {
             Some(Ok(t)) => t.record.name.clone(),
             _ => ours.record.name.clone(),
@@ -733,14 +628,7 @@ impl Notebook {
         let mut record = ours.record;
         record.name = format!("{} (this tab's version)", record.name);
         let copy_name = record.name.clone();
-        let copy = Entry {
-            id: copy_id.clone(),
-            revision: 0,
-            saved_at_ms: now_ms(),
-            record,
-            snapshot: ours.snapshot,
-            studies: ours.studies,
-        };
+        let copy = Entry { id: copy_id.clone(), revision: 0, saved_at_ms: now_ms(), record, snapshot: ours.snapshot, studies: ours.studies };
         self.entries.update(|es| {
             let i = (index + 1).min(es.len());
             es.insert(i, copy);
@@ -749,9 +637,7 @@ impl Notebook {
             self.current.set(Some(copy_id.clone()));
         }
         self.persist(&copy_id);
-        let saved = self
-            .entries
-            .with_untracked(|es| es.iter().any(|e| e.id == copy_id && e.revision > 0));
+        let saved = self.entries.with_untracked(|es| es.iter().any(|e| e.id == copy_id && e.revision > 0));
         self.banner.set(Some(if saved {
             format!(
                 "\"{their_name}\" was changed in another tab at the same time (revision {theirs_revision}). Both versions are kept: theirs as \"{their_name}\", this tab's as \"{copy_name}\", which is open now."
@@ -777,11 +663,7 @@ impl Notebook {
     /// Writes one design; `edited`: its snapshot is computed first (it was edited since the last save).
     fn persist_now(&self, id: &str, edited: bool) {
         if edited {
-            let snapshot = self.entries.with_untracked(|es| {
-                es.iter()
-                    .find(|e| e.id == id)
-                    .map(|e| snapshot_of(&e.record))
-            });
+            let snapshot = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).map(|e| snapshot_of(&e.record)));
             if let Some(snapshot) = snapshot {
                 self.entries.update(|es| {
                     if let Some(e) = es.iter_mut().find(|e| e.id == id) {
@@ -794,12 +676,7 @@ impl Notebook {
             return;
         }
         let order = self.order();
-        let Some(entry) = self
-            .entries
-            .with_untracked(|es| es.iter().find(|e| e.id == id).cloned())
-        else {
-            return;
-        };
+        let Some(entry) = self.entries.with_untracked(|es| es.iter().find(|e| e.id == id).cloned()) else { return };
         match storage::save(&entry, &order) {
             // Only the revision changes: nothing on the page shows it, so nothing runs again.
             Ok(rev) => self.entries.update_untracked(|es| {

@@ -35,21 +35,9 @@ fn paint(canvas: &HtmlCanvasElement, s: &TemperatureSweep, dpr: f64) -> Result<(
         (Some(a), Some(b)) => (a.temperature_c, b.temperature_c),
         _ => return Err("plot: no points".into()),
     };
-    let (x0, x1) = if last > first {
-        (first, last)
-    } else {
-        (first - 1.0, first + 1.0)
-    };
-    let y0 = s
-        .points
-        .iter()
-        .map(|p| p.vt_lower_min_v.min(p.vt_upper_min_v))
-        .fold(f64::INFINITY, f64::min);
-    let y1 = s
-        .points
-        .iter()
-        .map(|p| p.vt_upper_max_v.max(p.vt_lower_max_v))
-        .fold(f64::NEG_INFINITY, f64::max);
+    let (x0, x1) = if last > first { (first, last) } else { (first - 1.0, first + 1.0) };
+    let y0 = s.points.iter().map(|p| p.vt_lower_min_v.min(p.vt_upper_min_v)).fold(f64::INFINITY, f64::min);
+    let y1 = s.points.iter().map(|p| p.vt_upper_max_v.max(p.vt_lower_max_v)).fold(f64::NEG_INFINITY, f64::max);
     if !(y0.is_finite() && y1.is_finite()) {
         return Err("plot: nothing to draw".into());
     }
@@ -82,14 +70,8 @@ fn paint(canvas: &HtmlCanvasElement, s: &TemperatureSweep, dpr: f64) -> Result<(
         (|p| p.vt_lower_max_v, colours::FALLING, thin),
     ];
     for (pick, colour, width) in series {
-        let pts: Vec<(f64, f64)> = s
-            .points
-            .iter()
-            .map(|p| (p.temperature_c, pick(p)))
-            .collect();
-        chart
-            .draw_series(LineSeries::new(pts, colour.stroke_width(width)))
-            .map_err(|e| err(&e))?;
+        let pts: Vec<(f64, f64)> = s.points.iter().map(|p| (p.temperature_c, pick(p))).collect();
+        chart.draw_series(LineSeries::new(pts, colour.stroke_width(width))).map_err(|e| err(&e))?;
     }
     root.present().map_err(|e| err(&e))?;
     Ok(())
@@ -100,30 +82,17 @@ fn paint(canvas: &HtmlCanvasElement, s: &TemperatureSweep, dpr: f64) -> Result<(
 pub fn TemperatureSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
     let sweep = Memo::new(move |_| {
-        nb.with_settled(|r| temperature(r).map_err(|e| e.to_string()))
-            .unwrap_or_else(|| Err("no design open".into()))
+        nb.with_settled(|r| temperature(r).map_err(|e| e.to_string())).unwrap_or_else(|| Err("no design open".into()))
     });
-    let drift = Memo::new(move |_| {
-        nb.with_current(|r| device_drift(&r.circuit))
-            .unwrap_or_default()
-    });
+    let drift = Memo::new(move |_| nb.with_current(|r| device_drift(&r.circuit)).unwrap_or_default());
     let tracking = Memo::new(move |_| {
-        nb.with_current(|r| {
-            r.tolerance
-                .as_ref()
-                .and_then(|t| t.resistor_tracking_ppm_per_k)
-        })
-        .flatten()
+        nb.with_current(|r| r.tolerance.as_ref().and_then(|t| t.resistor_tracking_ppm_per_k)).flatten()
     });
-    let set_drift = move |key: &'static str, d: DeviceDrift| {
-        nb.edit_keyed(key, move |r| set_device_drift(&mut r.circuit, d))
-    };
+    let set_drift = move |key: &'static str, d: DeviceDrift| nb.edit_keyed(key, move |r| set_device_drift(&mut r.circuit, d));
     let canvas: NodeRef<Canvas> = NodeRef::new();
     // Redrawn on every window resize too, so the plot follows its box at any width.
     let resized = RwSignal::new(0_u32);
-    let listener = window_event_listener(leptos::ev::resize, move |_| {
-        resized.update(|n| *n = n.wrapping_add(1))
-    });
+    let listener = window_event_listener(leptos::ev::resize, move |_| resized.update(|n| *n = n.wrapping_add(1)));
     on_cleanup(move || listener.remove());
     Effect::new(move |_| {
         resized.track();

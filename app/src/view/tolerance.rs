@@ -7,11 +7,11 @@
 //! date instead of removing it.
 
 use super::state::{study_inputs, Notebook, Study};
+use crate::storage::Kept;
 use crate::fields::{OptionalQuantityField, QuantityField};
 use crate::plot;
-use crate::storage::Kept;
-use hysteron_core::error::DesignError;
 use hysteron_core::tolerance::input_standard::{check_input_types_with_current, InputType};
+use hysteron_core::error::DesignError;
 use hysteron_core::tolerance::settings::MAX_TRIALS;
 use hysteron_core::tolerance::{error_budget, gum, Distribution, SpecWindow, ToleranceSettings};
 use leptos::html::Canvas;
@@ -44,10 +44,7 @@ fn volts(v: f64) -> String {
 #[component]
 pub fn ToleranceSection() -> impl IntoView {
     let nb = expect_context::<Notebook>();
-    let settings = Memo::new(move |_| {
-        nb.with_current(|r| r.tolerance.clone().unwrap_or_default())
-            .unwrap_or_default()
-    });
+    let settings = Memo::new(move |_| nb.with_current(|r| r.tolerance.clone().unwrap_or_default()).unwrap_or_default());
     let edit = move |key: &'static str, f: Box<dyn Fn(&mut ToleranceSettings)>| {
         nb.edit_keyed(key, move |r| {
             let mut s = r.tolerance.clone().unwrap_or_default();
@@ -61,11 +58,7 @@ pub fn ToleranceSection() -> impl IntoView {
     let wc_job = Memo::new(move |_| {
         nb.with_settled(|r| hysteron_core::jobs::Job::WorstCase {
             circuit: r.circuit.clone(),
-            settings: r
-                .tolerance
-                .clone()
-                .unwrap_or_default()
-                .without_monte_carlo(),
+            settings: r.tolerance.clone().unwrap_or_default().without_monte_carlo(),
         })
     });
     let wc_run = crate::jobs::follow(wc_job, hysteron_core::job_answers::Answers::WORST_CASE);
@@ -83,12 +76,8 @@ pub fn ToleranceSection() -> impl IntoView {
             let s = r.tolerance.clone().unwrap_or_default();
             let g = gum(&r.circuit, &s).map_err(|e| e.to_string())?;
             let b = error_budget(&r.circuit, &s).map_err(|e| e.to_string())?;
-            let types = check_input_types_with_current(
-                &r.circuit,
-                wc.vt_upper.max.value_v,
-                wc.vt_lower.min.value_v,
-            )
-            .map_err(|e| e.to_string())?;
+            let types = check_input_types_with_current(&r.circuit, wc.vt_upper.max.value_v, wc.vt_lower.min.value_v)
+                .map_err(|e| e.to_string())?;
             Ok::<_, String>(Some((wc, g, b, types)))
         })
         .unwrap_or_else(|| Err("no design open".into()))
@@ -101,21 +90,11 @@ pub fn ToleranceSection() -> impl IntoView {
     // The run kept with the open design, and whether the design still gives its inputs.
     let kept = Memo::new(move |_| nb.study(Study::MonteCarlo, |s| &s.monte_carlo));
     let start = move |_| {
-        let Some(id) = nb.current.get_untracked() else {
-            return;
-        };
-        let Some((circuit, inputs)) =
-            nb.with_current_untracked(|r| (r.circuit.clone(), study_inputs(Study::MonteCarlo, r)))
-        else {
-            return;
-        };
+        let Some(id) = nb.current.get_untracked() else { return };
+        let Some((circuit, inputs)) = nb.with_current_untracked(|r| (r.circuit.clone(), study_inputs(Study::MonteCarlo, r))) else { return };
         stop(st);
         st.error.set(None);
-        let job = hysteron_core::jobs::Job::MonteCarlo {
-            circuit,
-            settings: settings.get_untracked(),
-            trials: None,
-        };
+        let job = hysteron_core::jobs::Job::MonteCarlo { circuit, settings: settings.get_untracked(), trials: None };
         let t0 = crate::tick::now_ms();
         // The result is kept with the design the run started on, even if another one is open now.
         let handle = crate::jobs::start(
@@ -128,17 +107,9 @@ pub fn ToleranceSection() -> impl IntoView {
                 st.progress.set(None);
                 match out {
                     Ok(hysteron_core::jobs::JobOutput::MonteCarlo(result)) => {
-                        nb.keep_study(&id, move |s| {
-                            s.monte_carlo = Some(Kept {
-                                inputs,
-                                result: crate::unread::Unread::new(result),
-                                elapsed_ms,
-                            })
-                        })
+                        nb.keep_study(&id, move |s| s.monte_carlo = Some(Kept { inputs, result: crate::unread::Unread::new(result), elapsed_ms }))
                     }
-                    Ok(_) => st
-                        .error
-                        .set(Some("the worker returned another study's result".into())),
+                    Ok(_) => st.error.set(Some("the worker returned another study's result".into())),
                     Err(e) => st.error.set(Some(e)),
                 }
             },
@@ -150,60 +121,36 @@ pub fn ToleranceSection() -> impl IntoView {
     let cancel = Callback::new(move |_| stop(st));
     // A settings field refuses a value that makes the settings invalid, with core's reason, when the
     // reason is about one of `own` (the record names of what this field edits).
-    let settings_check = move |own: &'static [&'static str],
-                               put: fn(&mut ToleranceSettings, f64)| {
+    let settings_check = move |own: &'static [&'static str], put: fn(&mut ToleranceSettings, f64)| {
         Callback::new(move |v: f64| -> Option<String> {
             let mut candidate = settings.get_untracked();
             put(&mut candidate, v);
             candidate.validate().err().and_then(|e| match &e {
-                DesignError::InvalidValue { field, reason }
-                    if own.iter().any(|k| field.ends_with(k)) =>
-                {
-                    Some(reason.clone())
-                }
+                DesignError::InvalidValue { field, reason } if own.iter().any(|k| field.ends_with(k)) => Some(reason.clone()),
                 _ => None,
             })
         })
     };
-    let setting = move |id: &'static str,
-                        label: &'static str,
-                        unit: &'static str,
-                        own: &'static [&'static str],
-                        get: fn(&ToleranceSettings) -> f64,
-                        put: fn(&mut ToleranceSettings, f64)| {
+    let setting = move |id: &'static str, label: &'static str, unit: &'static str, own: &'static [&'static str],
+                        get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
         let value = Signal::derive(move || get(&settings.get()));
         view! { <QuantityField id=id.to_string() label=label.to_string() unit value check=settings_check(own, put)
-        on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
+            on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(s, v)))) /> }
     };
-    let pct = move |id: &'static str,
-                    label: &'static str,
-                    own: &'static [&'static str],
-                    get: fn(&ToleranceSettings) -> f64,
-                    put: fn(&mut ToleranceSettings, f64)| {
+    let pct = move |id: &'static str, label: &'static str, own: &'static [&'static str], get: fn(&ToleranceSettings) -> f64, put: fn(&mut ToleranceSettings, f64)| {
         setting(id, label, "%", own, get, put)
     };
     // A spec bound is refused when it would cross its partner ("VT+ at least" above "VT+ at most").
-    let spec = move |id: &'static str,
-                     label: &'static str,
-                     partner: &'static str,
-                     is_min: bool,
-                     get: fn(&SpecWindow) -> Option<f64>,
-                     put: fn(&mut SpecWindow, Option<f64>),
-                     other: fn(&SpecWindow) -> Option<f64>| {
+    let spec = move |id: &'static str, label: &'static str, partner: &'static str, is_min: bool,
+                     get: fn(&SpecWindow) -> Option<f64>, put: fn(&mut SpecWindow, Option<f64>), other: fn(&SpecWindow) -> Option<f64>| {
         let value = Signal::derive(move || get(&settings.get().spec));
         let check = Callback::new(move |v: f64| -> Option<String> {
             let o = other(&settings.get_untracked().spec)?;
             let crossed = if is_min { v > o } else { v < o };
-            crossed.then(|| {
-                format!(
-                    "must not be {} {partner} ({})",
-                    if is_min { "above" } else { "below" },
-                    volts(o)
-                )
-            })
+            crossed.then(|| format!("must not be {} {partner} ({})", if is_min { "above" } else { "below" }, volts(o)))
         });
         view! { <OptionalQuantityField id=id.to_string() label=label.to_string() unit="V" value check
-        on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
+            on_value=Callback::new(move |v| edit(id, Box::new(move |s| put(&mut s.spec, v)))) /> }
     };
     let hist_canvases: [NodeRef<Canvas>; 3] = [NodeRef::new(), NodeRef::new(), NodeRef::new()];
     Effect::new(move |_| {
@@ -211,24 +158,9 @@ pub fn ToleranceSection() -> impl IntoView {
         kept.with(|r| {
             if let Some(mc) = r.as_ref().map(|k| &k.result) {
                 let sets = [
-                    (
-                        &mc.vt_upper.histogram,
-                        "VT+ (V)",
-                        s.spec.vt_upper_min_v,
-                        s.spec.vt_upper_max_v,
-                    ),
-                    (
-                        &mc.vt_lower.histogram,
-                        "VT− (V)",
-                        s.spec.vt_lower_min_v,
-                        s.spec.vt_lower_max_v,
-                    ),
-                    (
-                        &mc.hysteresis.histogram,
-                        "hysteresis (V)",
-                        s.spec.hysteresis_min_v,
-                        s.spec.hysteresis_max_v,
-                    ),
+                    (&mc.vt_upper.histogram, "VT+ (V)", s.spec.vt_upper_min_v, s.spec.vt_upper_max_v),
+                    (&mc.vt_lower.histogram, "VT− (V)", s.spec.vt_lower_min_v, s.spec.vt_lower_max_v),
+                    (&mc.hysteresis.histogram, "hysteresis (V)", s.spec.hysteresis_min_v, s.spec.hysteresis_max_v),
                 ];
                 for (node, (h, label, lo, hi)) in hist_canvases.iter().zip(sets) {
                     if let Some(c) = node.get() {

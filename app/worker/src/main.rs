@@ -24,16 +24,11 @@ mod worker {
     use web_sys::{DedicatedWorkerGlobalScope, MessageEvent};
 
     fn scope() -> Option<DedicatedWorkerGlobalScope> {
-        js_sys::global()
-            .dyn_into::<DedicatedWorkerGlobalScope>()
-            .ok()
+        js_sys::global().dyn_into::<DedicatedWorkerGlobalScope>().ok()
     }
 
     fn now_ms() -> f64 {
-        scope()
-            .and_then(|s| s.performance())
-            .map(|p| p.now())
-            .unwrap_or(0.0)
+        scope().and_then(|s| s.performance()).map(|p| p.now()).unwrap_or(0.0)
     }
 
     fn set(o: &js_sys::Object, k: &str, v: &JsValue) {
@@ -66,27 +61,15 @@ mod worker {
     }
 
     fn arrays_in(v: &JsValue) -> Vec<Vec<f64>> {
-        js_sys::Array::from(v)
-            .iter()
-            .map(|a| js_sys::Float64Array::from(a).to_vec())
-            .collect()
+        js_sys::Array::from(v).iter().map(|a| js_sys::Float64Array::from(a).to_vec()).collect()
     }
 
     fn run(data: JsValue) -> Result<(), String> {
-        let get = |k: &str| {
-            js_sys::Reflect::get(&data, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED)
-        };
-        let text = get("job")
-            .as_string()
-            .ok_or("the job message has no job: send {job, arrays}")?;
-        let slice_ms = get("slice_ms")
-            .as_f64()
-            .filter(|x| *x > 0.0)
-            .unwrap_or(30.0);
-        let mut job: Job =
-            serde_json::from_str(&text).map_err(|e| format!("the job is not readable: {e}"))?;
-        job.put_arrays(arrays_in(&get("arrays")))
-            .map_err(|e| e.to_string())?;
+        let get = |k: &str| js_sys::Reflect::get(&data, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED);
+        let text = get("job").as_string().ok_or("the job message has no job: send {job, arrays}")?;
+        let slice_ms = get("slice_ms").as_f64().filter(|x| *x > 0.0).unwrap_or(30.0);
+        let mut job: Job = serde_json::from_str(&text).map_err(|e| format!("the job is not readable: {e}"))?;
+        job.put_arrays(arrays_in(&get("arrays"))).map_err(|e| e.to_string())?;
         if let (Job::CsvImport { text, .. }, Some(t)) = (&mut job, get("text").as_string()) {
             *text = t;
         }
@@ -108,8 +91,7 @@ mod worker {
         }
         let mut out: JobOutput = running.finish().map_err(|e| e.to_string())?;
         let arrays = out.take_arrays();
-        let json = serde_json::to_string(&out)
-            .map_err(|e| format!("the result could not be written: {e}"))?;
+        let json = serde_json::to_string(&out).map_err(|e| format!("the result could not be written: {e}"))?;
         let list = js_sys::Array::new();
         let transfer = js_sys::Array::new();
         for a in arrays {
@@ -132,28 +114,16 @@ mod worker {
     /// speed before the first real study (a fresh worker's first run is otherwise slower: a first
     /// 1 M-sample signal study took about twice as long as the next one). Results are dropped.
     fn warm_up() {
-        let Some(r) = hysteron_core::catalog::templates()
-            .first()
-            .map(|s| s.record())
-        else {
-            return;
-        };
+        let Some(r) = hysteron_core::catalog::templates().first().map(|s| s.record()) else { return };
         let mut settings = r.tolerance.clone().unwrap_or_default();
         settings.monte_carlo.trials = 3000;
-        let mc = Job::MonteCarlo {
-            circuit: r.circuit.clone(),
-            settings,
-            trials: None,
-        };
+        let mc = Job::MonteCarlo { circuit: r.circuit.clone(), settings, trials: None };
         let _ = Running::start(mc).and_then(|j| j.run_to_end(u64::MAX));
         if let Ok(targets) = hysteron_core::overview::thresholds(&r.circuit) {
             let search = Job::Search {
                 circuit: r.circuit.clone(),
                 targets,
-                settings: hysteron_core::search::SearchSettings {
-                    series: hysteron_core::eseries::ESeries::E24,
-                    ..Default::default()
-                },
+                settings: hysteron_core::search::SearchSettings { series: hysteron_core::eseries::ESeries::E24, ..Default::default() },
                 checks: r.checks,
                 combinations: None,
             };
@@ -177,48 +147,22 @@ mod worker {
                 sample_rate_hz: 200e3,
                 duration_s: 0.2,
                 seed: 1,
-                components: vec![
-                    Component::Dc { level_v: 2.5 },
-                    Component::Sine {
-                        amplitude_v: 2.0,
-                        frequency_hz: 40.0,
-                        phase_deg: 0.0,
-                    },
-                ],
+                components: vec![Component::Dc { level_v: 2.5 }, Component::Sine { amplitude_v: 2.0, frequency_hz: 40.0, phase_deg: 0.0 }],
                 noise: vec![
-                    NoiseSource::Hum {
-                        mains: MainsFrequency::Hz50,
-                        amplitude_v: 0.05,
-                        phase_deg: 0.0,
-                        harmonics: vec![],
-                    },
-                    NoiseSource::BandLimited {
-                        rms_v: 0.03,
-                        corner_hz: 5e3,
-                        poles: 2,
-                    },
+                    NoiseSource::Hum { mains: MainsFrequency::Hz50, amplitude_v: 0.05, phase_deg: 0.0, harmonics: vec![] },
+                    NoiseSource::BandLimited { rms_v: 0.03, corner_hz: 5e3, poles: 2 },
                     NoiseSource::White { rms_v: 0.01 },
                 ],
             },
             ..Default::default()
         };
         let design = TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: 3.0,
-                vt_lower_v: 2.0,
-            },
+            thresholds: Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.0 },
             output_high_v: 5.0,
             output_low_v: 0.0,
             sense: Sense::Inverting,
         };
-        let job = Job::Signal {
-            design,
-            settings,
-            capture: None,
-            display_points: 4000,
-            output: None,
-            front: None,
-        };
+        let job = Job::Signal { design, settings, capture: None, display_points: 4000, output: None, front: None };
         let _ = Running::start(job).and_then(|j| j.run_to_end(u64::MAX));
     }
 

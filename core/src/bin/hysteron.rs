@@ -34,11 +34,7 @@ struct ArrayWriter<W: Write> {
 impl<W: Write> ArrayWriter<W> {
     fn element(&mut self, result: &RecordResult) -> std::io::Result<()> {
         let text = serde_json::to_vec_pretty(result).map_err(std::io::Error::other)?;
-        self.out.write_all(if self.written == 0 {
-            b"[\n  "
-        } else {
-            b",\n  "
-        })?;
+        self.out.write_all(if self.written == 0 { b"[\n  " } else { b",\n  " })?;
         // Indent the element one level: JSON text has raw newlines only between tokens (never
         // inside strings, where they are escaped), so every line break is followed by two spaces.
         for (i, line) in text.split(|&b| b == b'\n').enumerate() {
@@ -52,8 +48,7 @@ impl<W: Write> ArrayWriter<W> {
     }
 
     fn finish(&mut self) -> std::io::Result<()> {
-        self.out
-            .write_all(if self.written == 0 { b"[]\n" } else { b"\n]\n" })?;
+        self.out.write_all(if self.written == 0 { b"[]\n" } else { b"\n]\n" })?;
         self.out.flush()
     }
 }
@@ -73,10 +68,7 @@ fn main() -> ExitCode {
         return ExitCode::SUCCESS;
     }
     if args.len() > 1 {
-        complain(&format!(
-            "expected at most one file argument, got {}",
-            args.len()
-        ));
+        complain(&format!("expected at most one file argument, got {}", args.len()));
         return ExitCode::from(2);
     }
     let (input, source): (Box<dyn Read>, String) = match args.first().map(String::as_str) {
@@ -90,10 +82,7 @@ fn main() -> ExitCode {
         },
     };
     let mut de = serde_json::Deserializer::from_reader(BufReader::with_capacity(1 << 16, input));
-    let mut writer = ArrayWriter {
-        out: BufWriter::with_capacity(1 << 16, std::io::stdout().lock()),
-        written: 0,
-    };
+    let mut writer = ArrayWriter { out: BufWriter::with_capacity(1 << 16, std::io::stdout().lock()), written: 0 };
     let outcome = evaluate_stream(&mut de, |result| writer.element(&result));
     let write_error = |e: std::io::Error| {
         if e.kind() == ErrorKind::BrokenPipe {

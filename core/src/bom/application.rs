@@ -24,9 +24,8 @@ use crate::signal::report::ApplicationSettings;
 use serde::{Deserialize, Serialize};
 
 /// Common capacitor voltage ratings, volts (common practice).
-pub const CAPACITOR_VOLTAGE_RATINGS_V: [f64; 12] = [
-    4.0, 6.3, 10.0, 16.0, 25.0, 35.0, 50.0, 63.0, 100.0, 250.0, 400.0, 630.0,
-];
+pub const CAPACITOR_VOLTAGE_RATINGS_V: [f64; 12] =
+    [4.0, 6.3, 10.0, 16.0, 25.0, 35.0, 50.0, 63.0, 100.0, 250.0, 400.0, 630.0];
 
 /// The series capacitor values are rounded to.
 pub const CAPACITOR_SERIES: ESeries = ESeries::E12;
@@ -90,27 +89,13 @@ struct Builder<'a> {
 }
 
 impl Builder<'_> {
-    fn resistor(
-        &mut self,
-        application: &str,
-        label: &str,
-        field: &str,
-        ohm: f64,
-        volts: f64,
-    ) -> Result<(), DesignError> {
+    fn resistor(&mut self, application: &str, label: &str, field: &str, ohm: f64, volts: f64) -> Result<(), DesignError> {
         let value = self.settings.series.nearest(ohm).ok_or_else(|| {
-            DesignError::invalid(
-                field,
-                format!("must be a finite resistance above zero for the part list (got {ohm})"),
-            )
+            DesignError::invalid(field, format!("must be a finite resistance above zero for the part list (got {ohm})"))
         })?;
         let power = volts * volts / value;
         let need = power * self.settings.power_derating_factor;
-        let rating = POWER_RATINGS_W
-            .iter()
-            .copied()
-            .find(|&r| r >= need)
-            .unwrap_or(need);
+        let rating = POWER_RATINGS_W.iter().copied().find(|&r| r >= need).unwrap_or(need);
         let mut notes = rounding_note(ohm, value, self.settings.series, Unit::Ohm);
         if rating > self.settings.package.power_rating_w() {
             notes.push(format!(
@@ -139,27 +124,12 @@ impl Builder<'_> {
         Ok(())
     }
 
-    fn capacitor(
-        &mut self,
-        application: &str,
-        label: &str,
-        field: &str,
-        farad: f64,
-        volts: f64,
-        bipolar: bool,
-    ) -> Result<(), DesignError> {
+    fn capacitor(&mut self, application: &str, label: &str, field: &str, farad: f64, volts: f64, bipolar: bool) -> Result<(), DesignError> {
         let value = CAPACITOR_SERIES.nearest(farad).ok_or_else(|| {
-            DesignError::invalid(
-                field,
-                format!("must be a finite capacitance above zero for the part list (got {farad})"),
-            )
+            DesignError::invalid(field, format!("must be a finite capacitance above zero for the part list (got {farad})"))
         })?;
         let need = 2.0 * volts;
-        let rating = CAPACITOR_VOLTAGE_RATINGS_V
-            .iter()
-            .copied()
-            .find(|&r| r >= need)
-            .unwrap_or(need);
+        let rating = CAPACITOR_VOLTAGE_RATINGS_V.iter().copied().find(|&r| r >= need).unwrap_or(need);
         let mut notes = rounding_note(farad, value, CAPACITOR_SERIES, Unit::Farad);
         notes.push(if bipolar {
             "its voltage changes sign: use a non-polarised capacitor (film or C0G/NP0 ceramic)".to_string()
@@ -207,26 +177,13 @@ pub fn application_parts(
     used: &[String],
     settings: &PartSettings,
 ) -> Result<Vec<ApplicationPart>, DesignError> {
-    let Some(app) = application else {
-        return Ok(Vec::new());
-    };
-    let mut b = Builder {
-        settings,
-        next_r: next_number(used, 'R'),
-        next_c: next_number(used, 'C'),
-        out: Vec::new(),
-    };
+    let Some(app) = application else { return Ok(Vec::new()) };
+    let mut b = Builder { settings, next_r: next_number(used, 'R'), next_c: next_number(used, 'C'), out: Vec::new() };
     if let Some(o) = &app.oscillator {
         let (voh, vol) = (analysis.output_high_v, analysis.output_low_v);
         let (up, lo) = (analysis.vt_upper_v, analysis.vt_lower_v);
         let across_r = (voh - lo).abs().max((up - vol).abs());
-        b.resistor(
-            "oscillator",
-            "oscillator timing resistor R",
-            "application.oscillator.r_ohm",
-            o.r_ohm,
-            across_r,
-        )?;
+        b.resistor("oscillator", "oscillator timing resistor R", "application.oscillator.r_ohm", o.r_ohm, across_r)?;
         b.capacitor(
             "oscillator",
             "oscillator timing capacitor C",
@@ -238,28 +195,9 @@ pub fn application_parts(
     }
     if let Some(d) = &app.debounce {
         let vdd = d.supply_v.abs();
-        b.resistor(
-            "debouncer",
-            "debouncer pull-up R1 (to the switch)",
-            "application.debounce.r1_ohm",
-            d.r1_ohm,
-            vdd,
-        )?;
-        b.resistor(
-            "debouncer",
-            "debouncer series R2 (switch to C)",
-            "application.debounce.r2_ohm",
-            d.r2_ohm,
-            vdd,
-        )?;
-        b.capacitor(
-            "debouncer",
-            "debouncer capacitor C",
-            "application.debounce.c_f",
-            d.c_f,
-            vdd,
-            false,
-        )?;
+        b.resistor("debouncer", "debouncer pull-up R1 (to the switch)", "application.debounce.r1_ohm", d.r1_ohm, vdd)?;
+        b.resistor("debouncer", "debouncer series R2 (switch to C)", "application.debounce.r2_ohm", d.r2_ohm, vdd)?;
+        b.capacitor("debouncer", "debouncer capacitor C", "application.debounce.c_f", d.c_f, vdd, false)?;
     }
     Ok(b.out)
 }
@@ -270,19 +208,14 @@ mod tests {
     use crate::topology::analyse;
 
     fn demo(key: &str) -> crate::record::DesignRecord {
-        crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == key)
-            .unwrap()
-            .record()
+        crate::catalog::demos().into_iter().find(|s| s.key == key).unwrap().record()
     }
 
     #[test]
     fn the_debouncer_adds_two_resistors_and_a_capacitor_with_their_stresses() {
         let r = demo("rain-gauge");
         let a = analyse(&r.circuit, &r.checks).unwrap();
-        let p =
-            application_parts(r.application.as_ref(), &a, &[], &PartSettings::default()).unwrap();
+        let p = application_parts(r.application.as_ref(), &a, &[], &PartSettings::default()).unwrap();
         let names: Vec<&str> = p.iter().map(|x| x.designator.as_str()).collect();
         assert_eq!(names, ["R1", "R2", "C1"]);
         // R1 = 10 kΩ across 3.3 V while the switch is closed: 1.089 mW; 2× → 0.05 W rating.
@@ -298,8 +231,7 @@ mod tests {
         let r = demo("beehive-clock");
         let a = analyse(&r.circuit, &r.checks).unwrap();
         let used = vec!["R1".to_string(), "R2".to_string()];
-        let p =
-            application_parts(r.application.as_ref(), &a, &used, &PartSettings::default()).unwrap();
+        let p = application_parts(r.application.as_ref(), &a, &used, &PartSettings::default()).unwrap();
         assert_eq!(p[0].designator, "R3");
         assert_eq!(p[1].designator, "C1");
         let expect = (a.output_high_v - a.vt_lower_v).max(a.vt_upper_v - a.output_low_v);
@@ -311,9 +243,7 @@ mod tests {
     fn no_application_means_no_parts_and_a_bad_value_is_a_typed_error() {
         let r = demo("rain-gauge");
         let a = analyse(&r.circuit, &r.checks).unwrap();
-        assert!(application_parts(None, &a, &[], &PartSettings::default())
-            .unwrap()
-            .is_empty());
+        assert!(application_parts(None, &a, &[], &PartSettings::default()).unwrap().is_empty());
         let mut app = r.application.clone().unwrap();
         if let Some(d) = app.debounce.as_mut() {
             d.c_f = -1.0;

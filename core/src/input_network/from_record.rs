@@ -11,12 +11,7 @@ use crate::topology::Circuit;
 /// The record's input-network study: `None` when the record has no network (or an empty one).
 pub fn record_network(record: &DesignRecord) -> Option<Result<NetworkReport, DesignError>> {
     let net = record.input_network.as_ref().filter(|n| n.has_parts())?;
-    Some(analyse_network(
-        &loaded_circuit(record),
-        net,
-        &record.checks,
-        &record.parts,
-    ))
+    Some(analyse_network(&loaded_circuit(record), net, &record.checks, &record.parts))
 }
 
 /// The record's circuit as the input network sees it: under its output load when the record has
@@ -42,10 +37,7 @@ pub fn record_signal(
 ) -> Result<crate::signal::report::SignalReport, DesignError> {
     match signal_design(record)? {
         (_, None) => crate::signal::report::evaluate_record_signal(&record.circuit, settings),
-        (design, Some(front)) => {
-            crate::signal::report::run_signal_through(settings, &design, None, &front, false)
-                .map(|r| r.report)
-        }
+        (design, Some(front)) => crate::signal::report::run_signal_through(settings, &design, None, &front, false).map(|r| r.report),
     }
 }
 
@@ -54,26 +46,15 @@ pub fn record_signal(
 /// circuit's own thresholds and no front end. The page's signal job and [`record_signal`] use it.
 pub fn signal_design(
     record: &DesignRecord,
-) -> Result<
-    (
-        crate::signal::trigger::TriggerDesign,
-        Option<noise::FrontEnd>,
-    ),
-    DesignError,
-> {
+) -> Result<(crate::signal::trigger::TriggerDesign, Option<noise::FrontEnd>), DesignError> {
     let design = crate::signal::trigger::TriggerDesign::from_circuit(&record.circuit)?;
     match record.input_network.as_ref().filter(|n| n.has_parts()) {
         None => Ok((design, None)),
         Some(net) => {
-            let report =
-                analyse_network(&loaded_circuit(record), net, &record.checks, &record.parts)?;
-            let front = noise::FrontEnd::of(
-                &report,
-                net,
-                record.circuit.negative_rail_v(),
-                record.circuit.supply_v(),
-            );
+            let report = analyse_network(&loaded_circuit(record), net, &record.checks, &record.parts)?;
+            let front = noise::FrontEnd::of(&report, net, record.circuit.negative_rail_v(), record.circuit.supply_v());
             Ok((design.with_thresholds(report.field), Some(front)))
         }
     }
 }
+

@@ -49,11 +49,11 @@
 //! **Δ = τ·(1 − e^{−(t0 + Δ)/τ})**, which tends to **Δ = τ** once t0 ≫ τ (the steady-state
 //! lag). The phase lag at frequency f is atan(2πfτ) and the amplitude ratio 1/√(1 + (2πfτ)²).
 
-pub mod from_record;
 pub mod noise;
 pub mod parts;
-pub mod spice;
+pub mod from_record;
 pub mod terminal;
+pub mod spice;
 
 use crate::analysis::{CheckSettings, OutputState, Sense, Thresholds};
 use crate::bom::PartSettings;
@@ -139,16 +139,8 @@ impl InputNetwork {
     /// rules (a clamp needs resistance in front of it; a TVS's standoff ≤ breakdown < clamping).
     pub fn validate(&self) -> Result<(), DesignError> {
         if let Some(d) = &self.dropper {
-            check(
-                Quantity::Resistance,
-                "input_network.dropper.top_ohm",
-                d.top_ohm,
-            )?;
-            check(
-                Quantity::Resistance,
-                "input_network.dropper.bottom_ohm",
-                d.bottom_ohm,
-            )?;
+            check(Quantity::Resistance, "input_network.dropper.top_ohm", d.top_ohm)?;
+            check(Quantity::Resistance, "input_network.dropper.bottom_ohm", d.bottom_ohm)?;
         }
         if let Some(r) = self.series_ohm {
             check(Quantity::Resistance, "input_network.series_ohm", r)?;
@@ -159,47 +151,15 @@ impl InputNetwork {
         }
         match self.clamp {
             Clamp::None => {}
-            Clamp::RailDiodes {
-                forward_v,
-                max_current_a,
-            } => {
-                positive_in(
-                    Quantity::Voltage,
-                    "input_network.clamp.forward_v",
-                    forward_v,
-                )?;
-                positive_in(
-                    Quantity::Current,
-                    "input_network.clamp.max_current_a",
-                    max_current_a,
-                )?;
+            Clamp::RailDiodes { forward_v, max_current_a } => {
+                positive_in(Quantity::Voltage, "input_network.clamp.forward_v", forward_v)?;
+                positive_in(Quantity::Current, "input_network.clamp.max_current_a", max_current_a)?;
             }
-            Clamp::Tvs {
-                standoff_v,
-                breakdown_v,
-                clamping_v,
-                peak_current_a,
-            } => {
-                positive_in(
-                    Quantity::Voltage,
-                    "input_network.clamp.standoff_v",
-                    standoff_v,
-                )?;
-                positive_in(
-                    Quantity::Voltage,
-                    "input_network.clamp.breakdown_v",
-                    breakdown_v,
-                )?;
-                positive_in(
-                    Quantity::Voltage,
-                    "input_network.clamp.clamping_v",
-                    clamping_v,
-                )?;
-                positive_in(
-                    Quantity::Current,
-                    "input_network.clamp.peak_current_a",
-                    peak_current_a,
-                )?;
+            Clamp::Tvs { standoff_v, breakdown_v, clamping_v, peak_current_a } => {
+                positive_in(Quantity::Voltage, "input_network.clamp.standoff_v", standoff_v)?;
+                positive_in(Quantity::Voltage, "input_network.clamp.breakdown_v", breakdown_v)?;
+                positive_in(Quantity::Voltage, "input_network.clamp.clamping_v", clamping_v)?;
+                positive_in(Quantity::Current, "input_network.clamp.peak_current_a", peak_current_a)?;
                 if standoff_v > breakdown_v {
                     return Err(DesignError::invalid(
                         "input_network.clamp.standoff_v",
@@ -231,10 +191,7 @@ impl InputNetwork {
         }
         if let (Some(lo), Some(hi)) = (self.field_min_v, self.field_max_v) {
             if lo >= hi {
-                return Err(DesignError::invalid(
-                    "input_network.field_min_v",
-                    "must be below input_network.field_max_v",
-                ));
+                return Err(DesignError::invalid("input_network.field_min_v", "must be below input_network.field_max_v"));
             }
         }
         if let Some(t) = self.slowest_edge_s {
@@ -248,23 +205,17 @@ impl InputNetwork {
 
     /// Whether the network holds any part (an empty network is the field terminal wired to the pin).
     pub fn has_parts(&self) -> bool {
-        self.dropper.is_some()
-            || self.series_ohm.is_some()
-            || self.clamp != Clamp::None
-            || self.filter.is_some()
+        self.dropper.is_some() || self.series_ohm.is_some() || self.clamp != Clamp::None || self.filter.is_some()
     }
 
     /// The dropper's ratio g = R_bottom/(R_top + R_bottom); 1 without a dropper.
     pub fn gain(&self) -> f64 {
-        self.dropper
-            .map_or(1.0, |d| d.bottom_ohm / (d.top_ohm + d.bottom_ohm))
+        self.dropper.map_or(1.0, |d| d.bottom_ohm / (d.top_ohm + d.bottom_ohm))
     }
 
     /// The dropper's Thevenin resistance R_top‖R_bottom, ohms (0 without a dropper).
     pub fn dropper_resistance_ohm(&self) -> f64 {
-        self.dropper.map_or(0.0, |d| {
-            d.top_ohm * d.bottom_ohm / (d.top_ohm + d.bottom_ohm)
-        })
+        self.dropper.map_or(0.0, |d| d.top_ohm * d.bottom_ohm / (d.top_ohm + d.bottom_ohm))
     }
 
     /// The resistance in front of the clamp node: R_top‖R_bottom + R_series, ohms.
@@ -283,9 +234,7 @@ impl InputNetwork {
     pub fn clamp_levels_v(&self, negative_rail_v: f64, supply_v: f64) -> (f64, f64) {
         match self.clamp {
             Clamp::None => (f64::NEG_INFINITY, f64::INFINITY),
-            Clamp::RailDiodes { forward_v, .. } => {
-                (negative_rail_v - forward_v, supply_v + forward_v)
-            }
+            Clamp::RailDiodes { forward_v, .. } => (negative_rail_v - forward_v, supply_v + forward_v),
             Clamp::Tvs { breakdown_v, .. } => (-breakdown_v, breakdown_v),
         }
     }
@@ -309,12 +258,7 @@ impl InputNetwork {
                     (0.0, v, 0.0)
                 }
             }
-            Clamp::Tvs {
-                breakdown_v,
-                clamping_v,
-                peak_current_a,
-                ..
-            } => {
+            Clamp::Tvs { breakdown_v, clamping_v, peak_current_a, .. } => {
                 let rd = (clamping_v - breakdown_v) / peak_current_a;
                 if v.abs() > breakdown_v {
                     let i = (v.abs() - breakdown_v) / (rc + rd);
@@ -330,10 +274,7 @@ impl InputNetwork {
         let rs = self.series_ohm.unwrap_or(0.0);
         let vd = node_v + current_a * rs;
         let (top_w, bottom_w) = match self.dropper {
-            Some(d) => (
-                (field_v - vd).powi(2) / d.top_ohm,
-                vd.powi(2) / d.bottom_ohm,
-            ),
+            Some(d) => ((field_v - vd).powi(2) / d.top_ohm, vd.powi(2) / d.bottom_ohm),
             None => (0.0, 0.0),
         };
         ClampPoint {
@@ -442,11 +383,7 @@ impl NetworkReport {
     /// The worst clamp point: the larger clamp current of the highest and lowest input and the
     /// surge.
     pub fn worst(&self) -> ClampPoint {
-        let mut w = if self.at_max.clamp_current_a.abs() >= self.at_min.clamp_current_a.abs() {
-            self.at_max
-        } else {
-            self.at_min
-        };
+        let mut w = if self.at_max.clamp_current_a.abs() >= self.at_min.clamp_current_a.abs() { self.at_max } else { self.at_min };
         if let Some((a, b)) = self.at_surge {
             for p in [a, b] {
                 if p.clamp_current_a.abs() > w.clamp_current_a.abs() {
@@ -471,12 +408,7 @@ pub fn state_before(sense: Sense, rising: bool) -> OutputState {
 const SLOPE_STEP_V: f64 = 1e-3;
 
 /// The trip of one threshold through the network, exactly as the module documentation derives.
-fn trip<C: Circuit>(
-    circuit: &C,
-    net: &InputNetwork,
-    pin_v: f64,
-    state: OutputState,
-) -> Result<Trip, DesignError> {
+fn trip<C: Circuit>(circuit: &C, net: &InputNetwork, pin_v: f64, state: OutputState) -> Result<Trip, DesignError> {
     let op = circuit.operating_point(pin_v, state)?;
     let iin = op.input_current_a;
     let rs = net.source_resistance_ohm();
@@ -564,20 +496,12 @@ pub fn analyse_network(
     let sense = circuit.sense();
     let mut upper = trip(circuit, net, pin.vt_upper_v, state_before(sense, true))?;
     let mut lower = trip(circuit, net, pin.vt_lower_v, state_before(sense, false))?;
-    let field = Thresholds {
-        vt_upper_v: upper.field_v,
-        vt_lower_v: lower.field_v,
-    };
+    let field = Thresholds { vt_upper_v: upper.field_v, vt_lower_v: lower.field_v };
     let (neg, sup) = (circuit.negative_rail_v(), circuit.supply_v());
     let (lo_v, hi_v) = field_span_v(net, checks, sup);
     let at_max = net.clamp_at(hi_v, neg, sup);
     let at_min = net.clamp_at(lo_v, neg, sup);
-    let at_surge = net.surge_v.map(|s| {
-        (
-            net.clamp_at(s.abs(), neg, sup),
-            net.clamp_at(-s.abs(), neg, sup),
-        )
-    });
+    let at_surge = net.surge_v.map(|s| (net.clamp_at(s.abs(), neg, sup), net.clamp_at(-s.abs(), neg, sup)));
     let mut warnings = Vec::new();
 
     // Filter: delay at the slowest edge, phase lag, capacitor voltage.
@@ -589,11 +513,7 @@ pub fn analyse_network(
                 if let (Some(tau), Some(s)) = (t.time_constant_s, slope) {
                     // The edge starts at rest at one end of the span; t0 is when the unfiltered
                     // ramp reaches the field threshold.
-                    let t0 = if rising {
-                        (t.field_v - lo_v) / s
-                    } else {
-                        (hi_v - t.field_v) / s
-                    };
+                    let t0 = if rising { (t.field_v - lo_v) / s } else { (hi_v - t.field_v) / s };
                     if t0 > 0.0 && t.field_v > lo_v && t.field_v < hi_v {
                         t.edge_delay_s = Some(ramp_delay_s(tau, t0));
                     } else {
@@ -604,18 +524,11 @@ pub fn analyse_network(
                     }
                 }
             }
-            let tau = upper
-                .time_constant_s
-                .unwrap_or(0.0)
-                .max(lower.time_constant_s.unwrap_or(0.0));
+            let tau = upper.time_constant_s.unwrap_or(0.0).max(lower.time_constant_s.unwrap_or(0.0));
             let (cl, ch) = net.clamp_levels_v(neg, sup);
             let gains = [net.gain() * hi_v, net.gain() * lo_v];
-            let cap_max = gains
-                .iter()
-                .map(|v| v.max(cl).min(ch).abs())
-                .fold(0.0, f64::max);
-            let surge_cap =
-                at_surge.map_or(0.0, |(a, b)| a.clamp_node_v.abs().max(b.clamp_node_v.abs()));
+            let cap_max = gains.iter().map(|v| v.max(cl).min(ch).abs()).fold(0.0, f64::max);
+            let surge_cap = at_surge.map_or(0.0, |(a, b)| a.clamp_node_v.abs().max(b.clamp_node_v.abs()));
             Some(FilterFigures {
                 time_constant_s: tau,
                 corner_hz: 1.0 / (2.0 * std::f64::consts::PI * tau),
@@ -730,21 +643,10 @@ pub fn sheet_line(report: &NetworkReport) -> String {
         ));
     }
     if let Some(f) = &report.filter {
-        s.push_str(&format!(
-            "; filter corner {}",
-            format_with_unit(f.corner_hz, 3, Unit::Hertz)
-        ));
-        let d = report
-            .upper
-            .edge_delay_s
-            .into_iter()
-            .chain(report.lower.edge_delay_s)
-            .fold(None, |m: Option<f64>, d| Some(m.map_or(d, |m| m.max(d))));
+        s.push_str(&format!("; filter corner {}", format_with_unit(f.corner_hz, 3, Unit::Hertz)));
+        let d = report.upper.edge_delay_s.into_iter().chain(report.lower.edge_delay_s).fold(None, |m: Option<f64>, d| Some(m.map_or(d, |m| m.max(d))));
         if let Some(d) = d {
-            s.push_str(&format!(
-                ", delay up to {} at the slowest edge",
-                format_with_unit(d, 3, Unit::Second)
-            ));
+            s.push_str(&format!(", delay up to {} at the slowest edge", format_with_unit(d, 3, Unit::Second)));
         }
     }
     s.push('.');

@@ -37,11 +37,7 @@ pub fn white_through_filter(rms_v: f64, bandwidth_hz: f64, corner_hz: f64) -> (f
     let s0 = rms_v * (fc * at / b).sqrt();
     // B − fc·atan(B/fc) loses digits when B ≪ fc; the series B³/(3fc²) − B⁵/(5fc⁴) is used there.
     let x = b / fc;
-    let rest = if x < 1e-3 {
-        b * x * x * (1.0 / 3.0 - x * x / 5.0)
-    } else {
-        b - fc * at
-    };
+    let rest = if x < 1e-3 { b * x * x * (1.0 / 3.0 - x * x / 5.0) } else { b - fc * at };
     let s1 = 2.0 * PI * rms_v * fc * (rest.max(0.0) / b).sqrt();
     (finite_or_zero(s0), finite_or_zero(s1))
 }
@@ -66,12 +62,7 @@ fn pole_area(poles: u8) -> f64 {
 
 /// σ0 and σ1 of band-limited noise (RMS `rms_v`, `poles` poles at `noise_corner_hz`) after a
 /// one-pole filter at `corner_hz`, by Simpson's rule on a logarithmic grid.
-pub fn poles_through_filter(
-    rms_v: f64,
-    noise_corner_hz: f64,
-    poles: u8,
-    corner_hz: f64,
-) -> (f64, f64) {
+pub fn poles_through_filter(rms_v: f64, noise_corner_hz: f64, poles: u8, corner_hz: f64) -> (f64, f64) {
     let (fn_, fc) = (noise_corner_hz, corner_hz);
     if !(rms_v > 0.0) || !(fn_ > 0.0) || !(fc > 0.0) || !rms_v.is_finite() || poles == 0 {
         return (0.0, 0.0);
@@ -86,13 +77,7 @@ pub fn poles_through_filter(
     let h = (b - a) / STEPS as f64;
     let (mut m0, mut m2) = (0.0, 0.0);
     for i in 0..=STEPS {
-        let w = if i == 0 || i == STEPS {
-            1.0
-        } else if i % 2 == 1 {
-            4.0
-        } else {
-            2.0
-        };
+        let w = if i == 0 || i == STEPS { 1.0 } else if i % 2 == 1 { 4.0 } else { 2.0 };
         let f = (a + i as f64 * h).exp();
         let g = s(f) * f; // df = f·dx
         m0 += w * g;
@@ -100,10 +85,7 @@ pub fn poles_through_filter(
     }
     m0 = m0 * h / 3.0 + s(0.0) * lo;
     m2 = m2 * h / 3.0;
-    (
-        finite_or_zero(m0.sqrt()),
-        finite_or_zero(2.0 * PI * m2.sqrt()),
-    )
+    (finite_or_zero(m0.sqrt()), finite_or_zero(2.0 * PI * m2.sqrt()))
 }
 
 /// What the input network does to the samples before the trigger, in field-terminal volts.
@@ -120,12 +102,7 @@ pub struct FrontEnd {
 impl FrontEnd {
     /// The front end of a network report: the larger time constant of the two trips and the
     /// clamp node's levels divided by the dropper's ratio.
-    pub fn of(
-        report: &super::NetworkReport,
-        net: &super::InputNetwork,
-        negative_rail_v: f64,
-        supply_v: f64,
-    ) -> FrontEnd {
+    pub fn of(report: &super::NetworkReport, net: &super::InputNetwork, negative_rail_v: f64, supply_v: f64) -> FrontEnd {
         let (cl, ch) = net.clamp_levels_v(negative_rail_v, supply_v);
         let g = net.gain();
         FrontEnd {
@@ -175,35 +152,12 @@ impl FrontEnd {
     pub fn moments(&self, source: &NoiseSource, bandwidth_hz: f64) -> Option<(f64, f64)> {
         use crate::signal::rice::{spectral_moments, Spectrum};
         match (source, self.corner_hz()) {
-            (&NoiseSource::White { rms_v }, Some(fc)) => {
-                Some(white_through_filter(rms_v, bandwidth_hz, fc))
+            (&NoiseSource::White { rms_v }, Some(fc)) => Some(white_through_filter(rms_v, bandwidth_hz, fc)),
+            (&NoiseSource::BandLimited { rms_v, corner_hz, poles }, Some(fc)) => Some(poles_through_filter(rms_v, corner_hz, poles, fc)),
+            (&NoiseSource::White { rms_v }, None) => Some(spectral_moments(rms_v, Spectrum::Flat { bandwidth_hz })),
+            (&NoiseSource::BandLimited { rms_v, corner_hz, poles }, None) => {
+                Some(spectral_moments(rms_v, Spectrum::Poles { corner_hz, poles, bandwidth_hz }))
             }
-            (
-                &NoiseSource::BandLimited {
-                    rms_v,
-                    corner_hz,
-                    poles,
-                },
-                Some(fc),
-            ) => Some(poles_through_filter(rms_v, corner_hz, poles, fc)),
-            (&NoiseSource::White { rms_v }, None) => {
-                Some(spectral_moments(rms_v, Spectrum::Flat { bandwidth_hz }))
-            }
-            (
-                &NoiseSource::BandLimited {
-                    rms_v,
-                    corner_hz,
-                    poles,
-                },
-                None,
-            ) => Some(spectral_moments(
-                rms_v,
-                Spectrum::Poles {
-                    corner_hz,
-                    poles,
-                    bandwidth_hz,
-                },
-            )),
             _ => None,
         }
     }

@@ -14,6 +14,7 @@ use crate::bom::application::CAPACITOR_VOLTAGE_RATINGS_V;
 use crate::bom::{NetworkPart, NetworkPartKind, PartSettings, POWER_RATINGS_W};
 use crate::notation::{format_with_unit, Unit};
 
+
 fn next_number(used: &[String], letter: &str) -> usize {
     used.iter()
         .filter_map(|d| d.strip_prefix(letter).and_then(|n| n.parse::<usize>().ok()))
@@ -27,12 +28,7 @@ fn pick(ratings: &[f64], need: f64) -> Option<f64> {
 }
 
 /// The network's part-list lines, numbered after `used` designators.
-pub fn network_parts(
-    report: &NetworkReport,
-    net: &InputNetwork,
-    used: &[String],
-    settings: &PartSettings,
-) -> Vec<NetworkPart> {
+pub fn network_parts(report: &NetworkReport, net: &InputNetwork, used: &[String], settings: &PartSettings) -> Vec<NetworkPart> {
     let mut out = Vec::new();
     let mut r_next = next_number(used, "R");
     let c_next = next_number(used, "C");
@@ -40,20 +36,13 @@ pub fn network_parts(
     let normal = [report.at_max, report.at_min];
     let surge: Vec<_> = report.at_surge.map(|(a, b)| vec![a, b]).unwrap_or_default();
     let derate = settings.power_derating_factor.max(1.0);
-    let mut resistor = |out: &mut Vec<NetworkPart>,
-                        label: &str,
-                        ohm: f64,
-                        power: &dyn Fn(&super::ClampPoint) -> f64| {
+    let mut resistor = |out: &mut Vec<NetworkPart>, label: &str, ohm: f64, power: &dyn Fn(&super::ClampPoint) -> f64| {
         let w = normal.iter().map(power).fold(0.0, f64::max);
         let ws = (!surge.is_empty()).then(|| surge.iter().map(power).fold(0.0, f64::max));
         let mut notes = Vec::new();
         let suggested = pick(&POWER_RATINGS_W, w * derate);
         if suggested.is_none() {
-            notes.push(format!(
-                "needs more than {} W ({}× the worst dissipation)",
-                POWER_RATINGS_W[POWER_RATINGS_W.len() - 1],
-                derate
-            ));
+            notes.push(format!("needs more than {} W ({}× the worst dissipation)", POWER_RATINGS_W[POWER_RATINGS_W.len() - 1], derate));
         }
         if let Some(ws) = ws {
             if ws > settings.package.power_rating_w() {
@@ -78,68 +67,27 @@ pub fn network_parts(
         r_next += 1;
     };
     if let Some(d) = net.dropper {
-        resistor(
-            &mut out,
-            "input dropper, top (from the field terminal)",
-            d.top_ohm,
-            &|p| p.dropper_top_power_w,
-        );
-        resistor(
-            &mut out,
-            "input dropper, bottom (to ground)",
-            d.bottom_ohm,
-            &|p| p.dropper_bottom_power_w,
-        );
+        resistor(&mut out, "input dropper, top (from the field terminal)", d.top_ohm, &|p| p.dropper_top_power_w);
+        resistor(&mut out, "input dropper, bottom (to ground)", d.bottom_ohm, &|p| p.dropper_bottom_power_w);
     }
     if let Some(r) = net.series_ohm {
-        resistor(
-            &mut out,
-            "input series resistor (limits the clamp current)",
-            r,
-            &|p| p.series_power_w,
-        );
+        resistor(&mut out, "input series resistor (limits the clamp current)", r, &|p| p.series_power_w);
     }
     if let Some(f) = net.filter {
         // The filter resistor carries only the trigger's input current in steady state.
-        let i = report
-            .upper
-            .input_current_a
-            .abs()
-            .max(report.lower.input_current_a.abs());
-        resistor(&mut out, "input filter resistor", f.r_ohm, &|_| {
-            i * i * f.r_ohm
-        });
+        let i = report.upper.input_current_a.abs().max(report.lower.input_current_a.abs());
+        resistor(&mut out, "input filter resistor", f.r_ohm, &|_| i * i * f.r_ohm);
     }
-    let worst_current = |pts: &[super::ClampPoint]| {
-        pts.iter()
-            .map(|p| p.clamp_current_a.abs())
-            .fold(0.0, f64::max)
-    };
-    let clamp_power =
-        |pts: &[super::ClampPoint]| pts.iter().map(|p| p.clamp_power_w).fold(0.0, f64::max);
+    let worst_current = |pts: &[super::ClampPoint]| pts.iter().map(|p| p.clamp_current_a.abs()).fold(0.0, f64::max);
+    let clamp_power = |pts: &[super::ClampPoint]| pts.iter().map(|p| p.clamp_power_w).fold(0.0, f64::max);
     let i_normal = worst_current(&normal);
     let i_surge = worst_current(&surge);
     match net.clamp {
         Clamp::None => {}
-        Clamp::RailDiodes {
-            forward_v,
-            max_current_a,
-        } => {
-            for (which, label) in [
-                ("upper", "clamp diode to the supply"),
-                ("lower", "clamp diode to the negative rail"),
-            ] {
+        Clamp::RailDiodes { forward_v, max_current_a } => {
+            for (which, label) in [("upper", "clamp diode to the supply"), ("lower", "clamp diode to the negative rail")] {
                 let pick_pts = |pts: &[super::ClampPoint]| -> Vec<super::ClampPoint> {
-                    pts.iter()
-                        .copied()
-                        .filter(|p| {
-                            if which == "upper" {
-                                p.clamp_current_a > 0.0
-                            } else {
-                                p.clamp_current_a < 0.0
-                            }
-                        })
-                        .collect()
+                    pts.iter().copied().filter(|p| if which == "upper" { p.clamp_current_a > 0.0 } else { p.clamp_current_a < 0.0 }).collect()
                 };
                 let (n, s) = (pick_pts(&normal), pick_pts(&surge));
                 let i = worst_current(&n).max(worst_current(&s));
@@ -149,10 +97,7 @@ pub fn network_parts(
                     derate
                 )];
                 if i > max_current_a {
-                    notes.push(format!(
-                        "the stated rating {} is exceeded",
-                        format_with_unit(max_current_a, 3, Unit::Ampere)
-                    ));
+                    notes.push(format!("the stated rating {} is exceeded", format_with_unit(max_current_a, 3, Unit::Ampere)));
                 }
                 out.push(NetworkPart {
                     designator: format!("D{d_next}"),
@@ -171,12 +116,7 @@ pub fn network_parts(
                 d_next += 1;
             }
         }
-        Clamp::Tvs {
-            standoff_v,
-            breakdown_v,
-            clamping_v,
-            peak_current_a,
-        } => {
+        Clamp::Tvs { standoff_v, breakdown_v, clamping_v, peak_current_a } => {
             let i = i_normal.max(i_surge);
             let mut notes = vec![format!(
                 "bidirectional; breakdown {breakdown_v} V, clamping {clamping_v} V at {}",

@@ -13,9 +13,7 @@
 //! at a reachable threshold).
 
 use super::{state_before, InputNetwork};
-use crate::analysis::{
-    Analysis, CheckSettings, OperatingPoint, OutputStage, OutputState, Sense, Thresholds, Warning,
-};
+use crate::analysis::{Analysis, CheckSettings, OperatingPoint, OutputStage, OutputState, Sense, Thresholds, Warning};
 use crate::error::DesignError;
 use crate::topology::{Circuit, Parameter, ParameterKind, Topology};
 
@@ -48,26 +46,14 @@ impl AtFieldTerminal {
     fn resistors(&self) -> Vec<(&'static str, &'static str, f64)> {
         let mut out = Vec::new();
         if let Some(d) = self.net.dropper {
-            out.push((
-                "input_network.dropper.top_ohm",
-                "input dropper, top",
-                d.top_ohm,
-            ));
-            out.push((
-                "input_network.dropper.bottom_ohm",
-                "input dropper, bottom",
-                d.bottom_ohm,
-            ));
+            out.push(("input_network.dropper.top_ohm", "input dropper, top", d.top_ohm));
+            out.push(("input_network.dropper.bottom_ohm", "input dropper, bottom", d.bottom_ohm));
         }
         if let Some(r) = self.net.series_ohm {
             out.push(("input_network.series_ohm", "input series resistor", r));
         }
         if let Some(f) = self.net.filter {
-            out.push((
-                "input_network.filter.r_ohm",
-                "input filter resistor",
-                f.r_ohm,
-            ));
+            out.push(("input_network.filter.r_ohm", "input filter resistor", f.r_ohm));
         }
         out
     }
@@ -100,16 +86,10 @@ impl Circuit for AtFieldTerminal {
     /// x + Rs·Iin(x) = g·vin (the network with the capacitor charged and the clamp off), by
     /// Newton's method with a numerical slope (one step for the comparators, whose input current
     /// is affine in the pin voltage). Fails when it does not converge.
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let rs = self.net.source_resistance_ohm();
         let target = self.net.gain() * vin_v;
-        let f = |x: f64| -> Result<f64, DesignError> {
-            Ok(x + rs * self.circuit.operating_point(x, state)?.input_current_a - target)
-        };
+        let f = |x: f64| -> Result<f64, DesignError> { Ok(x + rs * self.circuit.operating_point(x, state)?.input_current_a - target) };
         let mut x = target;
         for _ in 0..PIN_SOLVE_STEPS {
             let fx = f(x)?;
@@ -133,22 +113,12 @@ impl Circuit for AtFieldTerminal {
         let mut p = self.circuit.parameters();
         let first = p
             .iter()
-            .filter_map(|q| {
-                q.designator
-                    .as_deref()
-                    .and_then(|d| d.strip_prefix('R'))
-                    .and_then(|n| n.parse::<usize>().ok())
-            })
+            .filter_map(|q| q.designator.as_deref().and_then(|d| d.strip_prefix('R')).and_then(|n| n.parse::<usize>().ok()))
             .max()
             .unwrap_or(0)
             + 1;
         for (k, (id, label, value)) in self.resistors().into_iter().enumerate() {
-            p.push(Parameter::resistor(
-                id,
-                &format!("R{}", first + k),
-                label,
-                value,
-            ));
+            p.push(Parameter::resistor(id, &format!("R{}", first + k), label, value));
         }
         p
     }
@@ -176,11 +146,7 @@ impl Circuit for AtFieldTerminal {
     }
 
     /// Refused: synthesis works on the trigger itself (its targets are pin thresholds).
-    fn synthesise_with_anchor(
-        &self,
-        _targets: Thresholds,
-        _anchor_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, _targets: Thresholds, _anchor_ohm: f64) -> Result<Self, DesignError> {
         Err(DesignError::inconsistent(
             "synthesis works on the trigger at its pin: set the targets there, the input network maps them to the field terminal",
         ))
@@ -195,10 +161,7 @@ impl Circuit for AtFieldTerminal {
     }
 
     fn with_supply(&self, supply_v: f64) -> Self {
-        AtFieldTerminal {
-            circuit: self.circuit.with_supply(supply_v),
-            net: self.net.clone(),
-        }
+        AtFieldTerminal { circuit: self.circuit.with_supply(supply_v), net: self.net.clone() }
     }
 
     fn checks(&self, settings: &CheckSettings) -> Vec<Warning> {
@@ -242,11 +205,7 @@ mod tests {
     use crate::input_network::{analyse_network, from_record};
 
     fn sawmill() -> crate::record::DesignRecord {
-        crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "sawmill-end-stop")
-            .map(|s| s.record())
-            .unwrap()
+        crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").map(|s| s.record()).unwrap()
     }
 
     #[test]
@@ -256,35 +215,21 @@ mod tests {
         let c = AtFieldTerminal::new(from_record::loaded_circuit(&r), net.clone());
         let report = analyse_network(&c.circuit, &net, &r.checks, &r.parts).unwrap();
         let t = c.thresholds().unwrap();
-        assert_eq!(
-            (t.vt_upper_v, t.vt_lower_v),
-            (report.field.vt_upper_v, report.field.vt_lower_v)
-        );
+        assert_eq!((t.vt_upper_v, t.vt_lower_v), (report.field.vt_upper_v, report.field.vt_lower_v));
         let p = c.parameters();
         assert_eq!(p.iter().filter(|q| is_network_parameter(q)).count(), 4);
         let values: Vec<f64> = p.iter().map(|q| q.value).collect();
         assert_eq!(c.with_parameters(&values).unwrap(), c);
         // A larger series resistor adds to Rs: the field thresholds move apart from the pin's.
         let mut v2 = values.clone();
-        let i = p
-            .iter()
-            .position(|q| q.id == "input_network.series_ohm")
-            .unwrap();
+        let i = p.iter().position(|q| q.id == "input_network.series_ohm").unwrap();
         v2[i] *= 2.0;
         let t2 = c.with_parameters(&v2).unwrap().thresholds().unwrap();
         assert!(t2.hysteresis_v() > t.hysteresis_v());
         // The operating point at the field threshold puts the pin at its own threshold.
         let state = state_before(c.sense(), true);
         let op = c.operating_point(t.vt_upper_v, state).unwrap();
-        let direct = c
-            .circuit
-            .operating_point(report.pin.vt_upper_v, state)
-            .unwrap();
-        assert!(
-            (op.input_current_a - direct.input_current_a).abs() < 1e-12,
-            "{} {}",
-            op.input_current_a,
-            direct.input_current_a
-        );
+        let direct = c.circuit.operating_point(report.pin.vt_upper_v, state).unwrap();
+        assert!((op.input_current_a - direct.input_current_a).abs() < 1e-12, "{} {}", op.input_current_a, direct.input_current_a);
     }
 }

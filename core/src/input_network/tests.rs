@@ -3,37 +3,20 @@ use crate::device::Comparator;
 use crate::topology::noninverting::NonInvertingSchmitt;
 
 fn noninv() -> Topology {
-    Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(
-        10e3,
-        100e3,
-        2.5,
-        Comparator::ideal(5.0),
-    ))
+    Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 2.5, Comparator::ideal(5.0)))
 }
 
 #[test]
 fn an_empty_network_changes_nothing() {
     let c = noninv();
-    let r = analyse_network(
-        &c,
-        &InputNetwork::default(),
-        &CheckSettings::default(),
-        &PartSettings::default(),
-    )
-    .unwrap();
+    let r = analyse_network(&c, &InputNetwork::default(), &CheckSettings::default(), &PartSettings::default()).unwrap();
     assert_eq!(r.pin, r.field);
     assert_eq!(r.gain, 1.0);
 }
 
 #[test]
 fn a_clamp_without_series_resistance_is_refused() {
-    let n = InputNetwork {
-        clamp: Clamp::RailDiodes {
-            forward_v: 0.3,
-            max_current_a: 0.01,
-        },
-        ..Default::default()
-    };
+    let n = InputNetwork { clamp: Clamp::RailDiodes { forward_v: 0.3, max_current_a: 0.01 }, ..Default::default() };
     let e = n.validate().unwrap_err().to_string();
     assert!(e.contains("series resistor"), "{e}");
 }
@@ -42,12 +25,7 @@ fn a_clamp_without_series_resistance_is_refused() {
 fn tvs_ratings_must_be_ordered() {
     let n = InputNetwork {
         series_ohm: Some(1e3),
-        clamp: Clamp::Tvs {
-            standoff_v: 30.0,
-            breakdown_v: 28.0,
-            clamping_v: 40.0,
-            peak_current_a: 1.0,
-        },
+        clamp: Clamp::Tvs { standoff_v: 30.0, breakdown_v: 28.0, clamping_v: 40.0, peak_current_a: 1.0 },
         ..Default::default()
     };
     assert!(n.validate().is_err());
@@ -72,11 +50,5 @@ fn old_records_load_without_a_network_and_a_network_round_trips() {
     let back = crate::record::DesignRecord::from_value(v).unwrap();
     let n = back.input_network.unwrap();
     assert_eq!(n.series_ohm, Some(10e3));
-    assert_eq!(
-        n.filter,
-        Some(RcFilter {
-            r_ohm: 1e3,
-            c_f: 100e-9
-        })
-    );
+    assert_eq!(n.filter, Some(RcFilter { r_ohm: 1e3, c_f: 100e-9 }));
 }

@@ -31,21 +31,13 @@ impl Rng {
     /// A generator whose whole stream is fixed by `seed`.
     pub fn new(seed: u64) -> Self {
         let mut sm = seed;
-        let s = [
-            splitmix64(&mut sm),
-            splitmix64(&mut sm),
-            splitmix64(&mut sm),
-            splitmix64(&mut sm),
-        ];
+        let s = [splitmix64(&mut sm), splitmix64(&mut sm), splitmix64(&mut sm), splitmix64(&mut sm)];
         Rng { s }
     }
 
     /// The next 64 random bits.
     pub fn next_u64(&mut self) -> u64 {
-        let result = self.s[0]
-            .wrapping_add(self.s[3])
-            .rotate_left(23)
-            .wrapping_add(self.s[0]);
+        let result = self.s[0].wrapping_add(self.s[3]).rotate_left(23).wrapping_add(self.s[0]);
         let t = self.s[1] << 17;
         self.s[2] ^= self.s[0];
         self.s[3] ^= self.s[1];
@@ -162,10 +154,7 @@ mod tests {
             let q = 0.5 * libm::erfc(p / std::f64::consts::SQRT_2);
             let se = (q * (1.0 - q) / n as f64).sqrt();
             let f = *c as f64 / n as f64;
-            assert!(
-                (f - q).abs() < 5.0 * se + 1e-7,
-                "P(Z > {p}): {f} vs {q} (se {se})"
-            );
+            assert!((f - q).abs() < 5.0 * se + 1e-7, "P(Z > {p}): {f} vs {q} (se {se})");
         }
     }
 
@@ -189,11 +178,7 @@ mod tests {
             let se = (q * (1.0 - q) / n as f64).sqrt();
             for c in [upper[k], lower[k]] {
                 let f = c as f64 / n as f64;
-                assert!(
-                    (f - q).abs() < 5.0 * se,
-                    "P(|Z| > {}) one side: {f} vs {q} (se {se})",
-                    points[k]
-                );
+                assert!((f - q).abs() < 5.0 * se, "P(|Z| > {}) one side: {f} vs {q} (se {se})", points[k]);
             }
         }
     }
@@ -211,9 +196,7 @@ mod tests {
             .enumerate()
             .map(|(i, x)| {
                 let p = 0.5 * libm::erfc(-x / std::f64::consts::SQRT_2);
-                (p - i as f64 / n as f64)
-                    .abs()
-                    .max(((i + 1) as f64 / n as f64 - p).abs())
+                (p - i as f64 / n as f64).abs().max(((i + 1) as f64 / n as f64 - p).abs())
             })
             .fold(0.0, f64::max);
         assert!(d < 1.628 / (n as f64).sqrt(), "KS D = {d}");
@@ -247,9 +230,7 @@ mod fingerprint {
 /// `exp` and `log` decide.
 pub fn normal_fingerprint(seed: u64) -> u64 {
     let mut r = Rng::new(seed);
-    (0..200_000).fold(0u64, |acc, i| {
-        acc ^ r.normal().to_bits().rotate_left(i % 64)
-    })
+    (0..200_000).fold(0u64, |acc, i| acc ^ r.normal().to_bits().rotate_left(i % 64))
 }
 
 /// [`normal_fingerprint`] of seed 2026 as computed natively (x86_64, glibc host).

@@ -12,8 +12,7 @@
 //! [`render_design_svg`] is the record-level entry point the page and the files use.
 
 use super::sheet::{
-    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin,
-    SchematicLayout, Wire,
+    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire,
 };
 use super::svg::{render_layout_svg, SymbolStyle};
 use crate::bom::application::{ApplicationPart, PartKind};
@@ -32,11 +31,7 @@ pub const SWITCH_NET: &str = "switch";
 /// list's designators and series values). With `titled`, the design's name heads the sheet.
 /// A design whose part list cannot be made (its analysis fails) is drawn without those parts.
 pub fn render_design_svg(record: &DesignRecord, style: SymbolStyle, titled: bool) -> String {
-    render_layout_svg(
-        &design_layout(record),
-        style,
-        titled.then_some(record.name.as_str()),
-    )
+    render_layout_svg(&design_layout(record), style, titled.then_some(record.name.as_str()))
 }
 
 /// The sheet of a whole design record: the trigger as its topology draws it, the input network
@@ -80,37 +75,15 @@ impl Placer<'_> {
     }
 
     fn label(&mut self, text: &str, at: GridPoint, kind: LabelKind, toward: Direction, net: &str) {
-        self.s.labels.push(NetLabel {
-            text: text.into(),
-            at,
-            kind,
-            toward,
-            net: net.into(),
-        });
+        self.s.labels.push(NetLabel { text: text.into(), at, kind, toward, net: net.into() });
     }
 
     /// A two-pin part from `at` going `direction` (Right or Down) by four units, pin 1 on `net_a`.
-    fn part(
-        &mut self,
-        p: &ApplicationPart,
-        at: GridPoint,
-        direction: Direction,
-        nets: (&str, &str),
-        text_side: Direction,
-    ) {
-        let end = if direction == Direction::Right {
-            gp(at.x + 4, at.y)
-        } else {
-            gp(at.x, at.y + 4)
-        };
+    fn part(&mut self, p: &ApplicationPart, at: GridPoint, direction: Direction, nets: (&str, &str), text_side: Direction) {
+        let end = if direction == Direction::Right { gp(at.x + 4, at.y) } else { gp(at.x, at.y + 4) };
         let symbol = match p.kind {
-            PartKind::Resistor => PartSymbol::Resistor {
-                resistance_ohm: p.value,
-                in_part_list: true,
-            },
-            PartKind::Capacitor => PartSymbol::Capacitor {
-                capacitance_f: p.value,
-            },
+            PartKind::Resistor => PartSymbol::Resistor { resistance_ohm: p.value, in_part_list: true },
+            PartKind::Capacitor => PartSymbol::Capacitor { capacitance_f: p.value },
         };
         self.s.parts.push(PlacedPart {
             designator: p.designator.clone(),
@@ -119,16 +92,8 @@ impl Placer<'_> {
             direction,
             text_side,
             pins: vec![
-                PlacedPin {
-                    name: "1".into(),
-                    at,
-                    net: nets.0.into(),
-                },
-                PlacedPin {
-                    name: "2".into(),
-                    at: end,
-                    net: nets.1.into(),
-                },
+                PlacedPin { name: "1".into(), at, net: nets.0.into() },
+                PlacedPin { name: "2".into(), at: end, net: nets.1.into() },
             ],
         });
     }
@@ -137,22 +102,11 @@ impl Placer<'_> {
 /// Adds the oscillator's and debouncer's parts (`parts`, as [`crate::bom::application::application_parts`]
 /// made them) below the trigger on `layout`, widening and lengthening the sheet to hold them.
 /// Parts of a group that is not complete (a part list made without it) are left out.
-pub fn add_application_parts(
-    layout: &mut SchematicLayout,
-    parts: &[ApplicationPart],
-    settings: &ApplicationSettings,
-) {
+pub fn add_application_parts(layout: &mut SchematicLayout, parts: &[ApplicationPart], settings: &ApplicationSettings) {
     let find = |application: &str, kind: PartKind, nth: usize| {
-        parts
-            .iter()
-            .filter(|p| p.application == application && p.kind == kind)
-            .nth(nth)
+        parts.iter().filter(|p| p.application == application && p.kind == kind).nth(nth)
     };
-    let oscillator = match (
-        settings.oscillator,
-        find("oscillator", PartKind::Resistor, 0),
-        find("oscillator", PartKind::Capacitor, 0),
-    ) {
+    let oscillator = match (settings.oscillator, find("oscillator", PartKind::Resistor, 0), find("oscillator", PartKind::Capacitor, 0)) {
         (Some(_), Some(r), Some(c)) => Some((r, c)),
         _ => None,
     };
@@ -170,11 +124,7 @@ pub fn add_application_parts(
     }
     let base = layout.height;
     // The row the resistors to IN sit on: below the debouncer's R1 when there is one.
-    let row = if debouncer.is_some() {
-        base + 6
-    } else {
-        base + 2
-    };
+    let row = if debouncer.is_some() { base + 6 } else { base + 2 };
     let mut x = 6;
     let mut pl = Placer { s: layout };
     if let Some((r, c)) = oscillator {
@@ -182,43 +132,13 @@ pub fn add_application_parts(
         //            C
         //           0 V
         pl.wire(gp(x, row), gp(x + 2, row));
-        pl.label(
-            "OUT",
-            gp(x, row),
-            LabelKind::Output,
-            Direction::Left,
-            OUTPUT_NET,
-        );
-        pl.part(
-            r,
-            gp(x + 2, row),
-            Direction::Right,
-            (OUTPUT_NET, INPUT_NET),
-            Direction::Up,
-        );
+        pl.label("OUT", gp(x, row), LabelKind::Output, Direction::Left, OUTPUT_NET);
+        pl.part(r, gp(x + 2, row), Direction::Right, (OUTPUT_NET, INPUT_NET), Direction::Up);
         pl.wire(gp(x + 6, row), gp(x + 14, row));
-        pl.part(
-            c,
-            gp(x + 10, row),
-            Direction::Down,
-            (INPUT_NET, GROUND),
-            Direction::Right,
-        );
+        pl.part(c, gp(x + 10, row), Direction::Down, (INPUT_NET, GROUND), Direction::Right);
         pl.junction(gp(x + 10, row));
-        pl.label(
-            "0 V",
-            gp(x + 10, row + 4),
-            LabelKind::Ground,
-            Direction::Down,
-            GROUND,
-        );
-        pl.label(
-            "IN",
-            gp(x + 14, row),
-            LabelKind::Input,
-            Direction::Right,
-            INPUT_NET,
-        );
+        pl.label("0 V", gp(x + 10, row + 4), LabelKind::Ground, Direction::Down, GROUND);
+        pl.label("IN", gp(x + 14, row), LabelKind::Input, Direction::Right, INPUT_NET);
         x += 24;
     }
     if let Some((supply_v, r1, r2, c)) = debouncer {
@@ -229,60 +149,18 @@ pub fn add_application_parts(
         //            0 V
         let s_at = gp(x + 2, row);
         let rail = format!("VDD {}", format_with_unit(supply_v, 3, Unit::Volt));
-        pl.label(
-            &rail,
-            gp(x + 2, row - 4),
-            LabelKind::Rail,
-            Direction::Up,
-            DEBOUNCE_RAIL_NET,
-        );
-        pl.part(
-            r1,
-            gp(x + 2, row - 4),
-            Direction::Down,
-            (DEBOUNCE_RAIL_NET, SWITCH_NET),
-            Direction::Right,
-        );
+        pl.label(&rail, gp(x + 2, row - 4), LabelKind::Rail, Direction::Up, DEBOUNCE_RAIL_NET);
+        pl.part(r1, gp(x + 2, row - 4), Direction::Down, (DEBOUNCE_RAIL_NET, SWITCH_NET), Direction::Right);
         pl.wire(s_at, gp(x + 2, row + 2));
-        pl.label(
-            "SWITCH",
-            gp(x + 2, row + 2),
-            LabelKind::Input,
-            Direction::Down,
-            SWITCH_NET,
-        );
+        pl.label("SWITCH", gp(x + 2, row + 2), LabelKind::Input, Direction::Down, SWITCH_NET);
         pl.wire(s_at, gp(x + 4, row));
         pl.junction(s_at);
-        pl.part(
-            r2,
-            gp(x + 4, row),
-            Direction::Right,
-            (SWITCH_NET, INPUT_NET),
-            Direction::Up,
-        );
+        pl.part(r2, gp(x + 4, row), Direction::Right, (SWITCH_NET, INPUT_NET), Direction::Up);
         pl.wire(gp(x + 8, row), gp(x + 16, row));
-        pl.part(
-            c,
-            gp(x + 12, row),
-            Direction::Down,
-            (INPUT_NET, GROUND),
-            Direction::Right,
-        );
+        pl.part(c, gp(x + 12, row), Direction::Down, (INPUT_NET, GROUND), Direction::Right);
         pl.junction(gp(x + 12, row));
-        pl.label(
-            "0 V",
-            gp(x + 12, row + 4),
-            LabelKind::Ground,
-            Direction::Down,
-            GROUND,
-        );
-        pl.label(
-            "IN",
-            gp(x + 16, row),
-            LabelKind::Input,
-            Direction::Right,
-            INPUT_NET,
-        );
+        pl.label("0 V", gp(x + 12, row + 4), LabelKind::Ground, Direction::Down, GROUND);
+        pl.label("IN", gp(x + 16, row), LabelKind::Input, Direction::Right, INPUT_NET);
         x += 24;
     }
     layout.width = layout.width.max(x);
@@ -295,11 +173,7 @@ mod tests {
     use crate::schematic::SymbolStyle;
 
     fn demo(key: &str) -> DesignRecord {
-        crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == key)
-            .unwrap()
-            .record()
+        crate::catalog::demos().into_iter().find(|s| s.key == key).unwrap().record()
     }
 
     fn application_parts(r: &DesignRecord) -> Vec<ApplicationPart> {
@@ -316,24 +190,13 @@ mod tests {
             for style in [SymbolStyle::Iec60617, SymbolStyle::Ieee315] {
                 let svg = render_design_svg(&r, style, true);
                 for p in &parts {
-                    assert!(
-                        svg.contains(&format!(">{}</text>", p.designator)),
-                        "{key}: {} missing",
-                        p.designator
-                    );
+                    assert!(svg.contains(&format!(">{}</text>", p.designator)), "{key}: {} missing", p.designator);
                     let value = match (p.kind, style) {
                         (PartKind::Capacitor, _) => format_with_unit(p.value, 3, Unit::Farad),
-                        (PartKind::Resistor, SymbolStyle::Iec60617) => {
-                            crate::schematic::rkm(p.value)
-                        }
-                        (PartKind::Resistor, SymbolStyle::Ieee315) => {
-                            crate::schematic::engineering_ohms(p.value)
-                        }
+                        (PartKind::Resistor, SymbolStyle::Iec60617) => crate::schematic::rkm(p.value),
+                        (PartKind::Resistor, SymbolStyle::Ieee315) => crate::schematic::engineering_ohms(p.value),
                     };
-                    assert!(
-                        svg.contains(&format!(">{}</text>", crate::schematic::xml_escape(&value))),
-                        "{key}: {value} missing"
-                    );
+                    assert!(svg.contains(&format!(">{}</text>", crate::schematic::xml_escape(&value))), "{key}: {value} missing");
                 }
             }
             // The trigger's own drawing is unchanged above the added parts.
@@ -358,16 +221,8 @@ mod tests {
     fn the_added_parts_connect_what_their_nets_name_and_stay_on_the_sheet() {
         for key in ["beehive-clock", "rain-gauge"] {
             let r = demo(key);
-            let mut layout = SchematicLayout {
-                width: 46,
-                height: 20,
-                ..Default::default()
-            };
-            add_application_parts(
-                &mut layout,
-                &application_parts(&r),
-                r.application.as_ref().unwrap(),
-            );
+            let mut layout = SchematicLayout { width: 46, height: 20, ..Default::default() };
+            add_application_parts(&mut layout, &application_parts(&r), r.application.as_ref().unwrap());
             let on_wire = |p: GridPoint, w: &Wire| {
                 let (x0, x1) = (w.from.x.min(w.to.x), w.from.x.max(w.to.x));
                 let (y0, y1) = (w.from.y.min(w.to.y), w.from.y.max(w.to.y));
@@ -376,25 +231,11 @@ mod tests {
             for part in &layout.parts {
                 for pin in &part.pins {
                     // Each pin meets a wire or a label of its own net, and no label of another net.
-                    let labels: Vec<&NetLabel> =
-                        layout.labels.iter().filter(|l| l.at == pin.at).collect();
-                    assert!(
-                        labels.iter().all(|l| l.net == pin.net),
-                        "{key}: {} pin {}",
-                        part.designator,
-                        pin.name
-                    );
+                    let labels: Vec<&NetLabel> = layout.labels.iter().filter(|l| l.at == pin.at).collect();
+                    assert!(labels.iter().all(|l| l.net == pin.net), "{key}: {} pin {}", part.designator, pin.name);
                     let wired = layout.wires.iter().any(|w| on_wire(pin.at, w));
-                    assert!(
-                        wired || !labels.is_empty(),
-                        "{key}: {} pin {} is left open",
-                        part.designator,
-                        pin.name
-                    );
-                    assert!(
-                        pin.at.x >= 0 && pin.at.x <= layout.width && pin.at.y <= layout.height,
-                        "{key}: off the sheet"
-                    );
+                    assert!(wired || !labels.is_empty(), "{key}: {} pin {} is left open", part.designator, pin.name);
+                    assert!(pin.at.x >= 0 && pin.at.x <= layout.width && pin.at.y <= layout.height, "{key}: off the sheet");
                 }
             }
             // Pins of different nets never touch the same wire.

@@ -9,12 +9,11 @@
 //! no slot go to a spare row at the bottom with both ends labelled, so every part is always drawn.
 
 use super::sheet::{
-    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin,
-    SchematicLayout, Wire,
+    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire,
 };
 use crate::netlist::{
-    ActiveDevice, GateThreshold, NetRegulator, NetResistor, Netlist, ResistorRole, SourceRole,
-    GROUND, INPUT_NET, OUTPUT_NET, SOURCE_NET,
+    ActiveDevice, GateThreshold, NetRegulator, NetResistor, Netlist, ResistorRole, SourceRole, GROUND, INPUT_NET,
+    OUTPUT_NET, SOURCE_NET,
 };
 
 impl SchematicLayout {
@@ -52,26 +51,12 @@ impl SchematicLayout {
             Direction::Down => gp(at.x, at.y + 4),
             Direction::Up => gp(at.x, at.y - 4),
         };
-        let (a, b) = if first_net == r.node_a {
-            (&r.node_a, &r.node_b)
-        } else {
-            (&r.node_b, &r.node_a)
-        };
+        let (a, b) = if first_net == r.node_a { (&r.node_a, &r.node_b) } else { (&r.node_b, &r.node_a) };
         // Store with the anchor at the top or left pin.
         let (anchor, dir, pins) = match direction {
-            Direction::Right | Direction::Down => {
-                (at, direction, vec![pin("1", at, a), pin("2", end, b)])
-            }
-            Direction::Left => (
-                end,
-                Direction::Right,
-                vec![pin("1", end, b), pin("2", at, a)],
-            ),
-            Direction::Up => (
-                end,
-                Direction::Down,
-                vec![pin("1", end, b), pin("2", at, a)],
-            ),
+            Direction::Right | Direction::Down => (at, direction, vec![pin("1", at, a), pin("2", end, b)]),
+            Direction::Left => (end, Direction::Right, vec![pin("1", end, b), pin("2", at, a)]),
+            Direction::Up => (end, Direction::Down, vec![pin("1", end, b), pin("2", at, a)]),
         };
         self.parts.push(PlacedPart {
             designator: r.designator.clone(),
@@ -96,39 +81,23 @@ impl SchematicLayout {
         } else if node == OUTPUT_NET {
             LabelKind::Output
         } else {
-            match net.sources.iter().find(|s| {
-                s.node_plus == node || (s.node_minus == node && s.role == SourceRole::Dropout)
-            }) {
+            match net
+                .sources
+                .iter()
+                .find(|s| s.node_plus == node || (s.node_minus == node && s.role == SourceRole::Dropout))
+            {
                 Some(s) if s.role == SourceRole::Reference => LabelKind::Reference,
                 Some(_) => LabelKind::Rail,
                 None => LabelKind::Reference,
             }
         };
-        let toward = if kind == LabelKind::Ground {
-            Direction::Down
-        } else {
-            toward
-        };
-        self.labels.push(NetLabel {
-            text: net.net_label(node),
-            at,
-            kind,
-            toward,
-            net: node.to_string(),
-        });
+        let toward = if kind == LabelKind::Ground { Direction::Down } else { toward };
+        self.labels.push(NetLabel { text: net.net_label(node), at, kind, toward, net: node.to_string() });
     }
 }
 
 fn pin(name: &str, at: GridPoint, net: &str) -> PlacedPin {
-    PlacedPin {
-        name: name.into(),
-        at,
-        net: if net == SOURCE_NET {
-            INPUT_NET.into()
-        } else {
-            net.into()
-        },
-    }
+    PlacedPin { name: name.into(), at, net: if net == SOURCE_NET { INPUT_NET.into() } else { net.into() } }
 }
 
 /// The other end of a resistor from `node`.
@@ -148,24 +117,11 @@ fn touches(r: &NetResistor, node: &str) -> bool {
 /// Expects one [`ActiveDevice::Comparator`] or [`ActiveDevice::LogicGate`]; anything else is
 /// placed in the spare row.
 pub fn auto_layout(net: &Netlist) -> SchematicLayout {
-    let mut s = SchematicLayout {
-        width: 46,
-        height: 31,
-        ..Default::default()
-    };
-    let resistors: Vec<&NetResistor> = net
-        .resistors
-        .iter()
-        .filter(|r| r.role != ResistorRole::SourceResistance)
-        .collect();
+    let mut s = SchematicLayout { width: 46, height: 31, ..Default::default() };
+    let resistors: Vec<&NetResistor> =
+        net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance).collect();
     let mut placed = vec![false; resistors.len()];
-    let norm = |n: &str| {
-        if n == SOURCE_NET {
-            INPUT_NET.to_string()
-        } else {
-            n.to_string()
-        }
-    };
+    let norm = |n: &str| if n == SOURCE_NET { INPUT_NET.to_string() } else { n.to_string() };
 
     let device_at = gp(22, 10);
     let (p_node, n_node, p_pin_y) = match net.devices.first() {
@@ -181,9 +137,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         }) => {
             s.parts.push(PlacedPart {
                 designator: designator.clone(),
-                symbol: PartSymbol::Comparator {
-                    open_drain: output_high_drop_v.is_none(),
-                },
+                symbol: PartSymbol::Comparator { open_drain: output_high_drop_v.is_none() },
                 at: device_at,
                 direction: Direction::Right,
                 text_side: Direction::Up,
@@ -199,16 +153,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
             s.terminal(net, negative_supply, gp(26, 18), Direction::Down);
             (norm(non_inverting), Some(norm(inverting)), 12)
         }
-        Some(ActiveDevice::LogicGate {
-            designator,
-            input,
-            output,
-            supply,
-            ground,
-            threshold,
-            inverting,
-            ..
-        }) => {
+        Some(ActiveDevice::LogicGate { designator, input, output, supply, ground, threshold, inverting, .. }) => {
             s.parts.push(PlacedPart {
                 designator: designator.clone(),
                 symbol: PartSymbol::LogicGate {
@@ -263,12 +208,8 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         }
         // Rails: highest voltage up, the other down; a third on the left if it is free.
         rails.sort_by(|&a, &b| {
-            let va = net
-                .fixed_node_v(&norm(other(resistors[a], &p_node)))
-                .unwrap_or(0.0);
-            let vb = net
-                .fixed_node_v(&norm(other(resistors[b], &p_node)))
-                .unwrap_or(0.0);
+            let va = net.fixed_node_v(&norm(other(resistors[a], &p_node))).unwrap_or(0.0);
+            let vb = net.fixed_node_v(&norm(other(resistors[b], &p_node))).unwrap_or(0.0);
             vb.total_cmp(&va)
         });
         let (mut up_used, mut down_used) = (false, false);
@@ -300,17 +241,10 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
             s.junction(p_at);
         }
         // Feedback from the output over the top.
-        if let Some(i) = resistors
-            .iter()
-            .position(|r| touches(r, &p_node) && touches(r, OUTPUT_NET) && p_node != OUTPUT_NET)
+        if let Some(i) =
+            resistors.iter().position(|r| touches(r, &p_node) && touches(r, OUTPUT_NET) && p_node != OUTPUT_NET)
         {
-            s.resistor(
-                resistors[i],
-                gp(27, 4),
-                Direction::Left,
-                OUTPUT_NET,
-                Direction::Up,
-            );
+            s.resistor(resistors[i], gp(27, 4), Direction::Left, OUTPUT_NET, Direction::Up);
             s.path(&[gp(23, 4), gp(19, 4), gp(19, py)]);
             s.path(&[gp(27, 4), gp(32, 4), gp(32, 14)]);
             s.junction(gp(19, py));
@@ -333,9 +267,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
             let mut down_used = false;
             // A zener or shunt reference on N goes down from it (the shunt's R1 and R2 beside it).
             let regulator = net.regulators.iter().find(|g| match g {
-                NetRegulator::Zener { cathode, .. } | NetRegulator::Shunt { cathode, .. } => {
-                    cathode == n_node
-                }
+                NetRegulator::Zener { cathode, .. } | NetRegulator::Shunt { cathode, .. } => cathode == n_node,
             });
             let ref_pin = match regulator {
                 Some(NetRegulator::Shunt { reference, .. }) => Some(reference.clone()),
@@ -351,12 +283,8 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
                 .collect();
             // Lowest voltage (ground) down, the rest to the left.
             mine.sort_by(|&a, &b| {
-                let va = net
-                    .fixed_node_v(&norm(other(resistors[a], n_node)))
-                    .unwrap_or(f64::INFINITY);
-                let vb = net
-                    .fixed_node_v(&norm(other(resistors[b], n_node)))
-                    .unwrap_or(f64::INFINITY);
+                let va = net.fixed_node_v(&norm(other(resistors[a], n_node))).unwrap_or(f64::INFINITY);
+                let vb = net.fixed_node_v(&norm(other(resistors[b], n_node))).unwrap_or(f64::INFINITY);
                 va.total_cmp(&vb)
             });
             for i in mine {
@@ -365,10 +293,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
                 if o == OUTPUT_NET {
                     continue;
                 }
-                if !down_used
-                    && regulator.is_none()
-                    && (o == GROUND || net.fixed_node_v(&o).is_some_and(|v| v <= 0.0))
-                {
+                if !down_used && regulator.is_none() && (o == GROUND || net.fixed_node_v(&o).is_some_and(|v| v <= 0.0)) {
                     s.wire(n_at, gp(20, 24));
                     s.resistor(r, gp(20, 24), Direction::Down, n_node, Direction::Right);
                     s.terminal(net, &o, gp(20, 28), Direction::Down);
@@ -389,29 +314,13 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
                 down_used = true;
                 if let Some(pin_net) = &ref_pin {
                     // R1 from N to the right and down to the reference pin, R2 on to ground.
-                    let r1 = resistors
-                        .iter()
-                        .position(|r| touches(r, n_node) && touches(r, pin_net));
-                    let r2 = resistors
-                        .iter()
-                        .position(|r| touches(r, pin_net) && !touches(r, n_node));
+                    let r1 = resistors.iter().position(|r| touches(r, n_node) && touches(r, pin_net));
+                    let r2 = resistors.iter().position(|r| touches(r, pin_net) && !touches(r, n_node));
                     if let (Some(i1), Some(i2)) = (r1, r2) {
                         s.wire(n_at, gp(25, 22));
-                        s.resistor(
-                            resistors[i1],
-                            gp(25, 22),
-                            Direction::Down,
-                            n_node,
-                            Direction::Left,
-                        );
+                        s.resistor(resistors[i1], gp(25, 22), Direction::Down, n_node, Direction::Left);
                         s.wire(gp(22, 26), gp(25, 26));
-                        s.resistor(
-                            resistors[i2],
-                            gp(25, 26),
-                            Direction::Right,
-                            pin_net,
-                            Direction::Down,
-                        );
+                        s.resistor(resistors[i2], gp(25, 26), Direction::Right, pin_net, Direction::Down);
                         s.terminal(net, GROUND, gp(29, 26), Direction::Down);
                         s.junction(gp(25, 26));
                         s.junction(n_at);
@@ -462,9 +371,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
         if !s.parts.iter().any(|p| p.designator == g.designator()) {
             let at = gp(8, s.height + 1);
             let cathode = match g {
-                NetRegulator::Zener { cathode, .. } | NetRegulator::Shunt { cathode, .. } => {
-                    cathode.clone()
-                }
+                NetRegulator::Zener { cathode, .. } | NetRegulator::Shunt { cathode, .. } => cathode.clone(),
             };
             place_regulator(&mut s, net, g, at);
             s.terminal(net, &cathode, at, Direction::Up);
@@ -479,13 +386,7 @@ pub fn auto_layout(net: &Netlist) -> SchematicLayout {
 fn place_regulator(s: &mut SchematicLayout, net: &Netlist, g: &NetRegulator, at: GridPoint) {
     let bottom = gp(at.x, at.y + 4);
     match g {
-        NetRegulator::Zener {
-            designator,
-            cathode,
-            anode,
-            vz_v,
-            ..
-        } => {
+        NetRegulator::Zener { designator, cathode, anode, vz_v, .. } => {
             s.parts.push(PlacedPart {
                 designator: designator.clone(),
                 symbol: PartSymbol::Zener { voltage_v: *vz_v },
@@ -496,24 +397,11 @@ fn place_regulator(s: &mut SchematicLayout, net: &Netlist, g: &NetRegulator, at:
             });
             s.terminal(net, anode, bottom, Direction::Down);
         }
-        NetRegulator::Shunt {
-            designator,
-            cathode,
-            anode,
-            reference,
-            vref_v,
-            ..
-        } => {
+        NetRegulator::Shunt { designator, cathode, anode, reference, vref_v, .. } => {
             // The drawn value is the programmed cathode voltage when the netlist's programming
             // resistors are found; else Vref.
-            let r1 = net
-                .resistors
-                .iter()
-                .find(|r| touches(r, cathode) && touches(r, reference));
-            let r2 = net
-                .resistors
-                .iter()
-                .find(|r| touches(r, reference) && !touches(r, cathode));
+            let r1 = net.resistors.iter().find(|r| touches(r, cathode) && touches(r, reference));
+            let r2 = net.resistors.iter().find(|r| touches(r, reference) && !touches(r, cathode));
             let voltage_v = match (r1, r2) {
                 (Some(a), Some(b)) => vref_v * (1.0 + a.resistance_ohm / b.resistance_ohm),
                 _ => *vref_v,
@@ -524,11 +412,7 @@ fn place_regulator(s: &mut SchematicLayout, net: &Netlist, g: &NetRegulator, at:
                 at,
                 direction: Direction::Down,
                 text_side: Direction::Left,
-                pins: vec![
-                    pin("k", at, cathode),
-                    pin("a", bottom, anode),
-                    pin("ref", gp(at.x + 2, at.y + 2), reference),
-                ],
+                pins: vec![pin("k", at, cathode), pin("a", bottom, anode), pin("ref", gp(at.x + 2, at.y + 2), reference)],
             });
             s.terminal(net, anode, bottom, Direction::Down);
         }
@@ -576,30 +460,13 @@ fn spare_row(s: &mut SchematicLayout, net: &Netlist, resistors: &[&NetResistor],
 
 /// The placement of the emitter-coupled two-transistor trigger.
 pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
-    let mut s = SchematicLayout {
-        width: 46,
-        height: 31,
-        ..Default::default()
-    };
-    let resistors: Vec<&NetResistor> = net
-        .resistors
-        .iter()
-        .filter(|r| r.role != ResistorRole::SourceResistance)
-        .collect();
+    let mut s = SchematicLayout { width: 46, height: 31, ..Default::default() };
+    let resistors: Vec<&NetResistor> =
+        net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance).collect();
     let mut placed = vec![false; resistors.len()];
-    let find = |a: &str, b: &str| {
-        resistors
-            .iter()
-            .position(|r| touches(r, a) && touches(r, b) && a != b)
-    };
+    let find = |a: &str, b: &str| resistors.iter().position(|r| touches(r, a) && touches(r, b) && a != b);
     let mut devices = net.devices.iter().filter_map(|d| match d {
-        ActiveDevice::Npn {
-            designator,
-            collector,
-            base,
-            emitter,
-            ..
-        } => Some((designator, collector, base, emitter)),
+        ActiveDevice::Npn { designator, collector, base, emitter, .. } => Some((designator, collector, base, emitter)),
         _ => None,
     });
     let (q1, q2) = (devices.next(), devices.next());
@@ -624,12 +491,8 @@ pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
     npn(&mut s, q1, gp(10, 12));
     npn(&mut s, q2, gp(26, 12));
     let (c1, b2, e) = (q1.1.as_str(), q2.2.as_str(), q1.3.as_str());
-    let supply = net
-        .sources
-        .iter()
-        .find(|x| x.role == SourceRole::Supply)
-        .map(|x| x.node_plus.clone())
-        .unwrap_or_default();
+    let supply =
+        net.sources.iter().find(|x| x.role == SourceRole::Supply).map(|x| x.node_plus.clone()).unwrap_or_default();
     // Supply bus.
     s.path(&[gp(14, 4), gp(22, 4), gp(30, 4)]);
     s.wire(gp(22, 2), gp(22, 4));
@@ -640,39 +503,21 @@ pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
     s.terminal(net, INPUT_NET, gp(6, 15), Direction::Left);
     // RC1, R1, R2.
     if let Some(i) = find(&supply, c1) {
-        s.resistor(
-            resistors[i],
-            gp(14, 6),
-            Direction::Down,
-            &supply,
-            Direction::Left,
-        );
+        s.resistor(resistors[i], gp(14, 6), Direction::Down, &supply, Direction::Left);
         s.wire(gp(14, 4), gp(14, 6));
         s.path(&[gp(14, 10), gp(14, 12)]);
         placed[i] = true;
     }
     if let Some(i) = find(c1, b2) {
         s.wire(gp(14, 10), gp(17, 10));
-        s.resistor(
-            resistors[i],
-            gp(17, 10),
-            Direction::Right,
-            c1,
-            Direction::Up,
-        );
+        s.resistor(resistors[i], gp(17, 10), Direction::Right, c1, Direction::Up);
         s.path(&[gp(21, 10), gp(24, 10), gp(24, 15), gp(26, 15)]);
         s.junction(gp(14, 10));
         placed[i] = true;
     }
     if let Some(i) = find(b2, GROUND) {
         s.wire(gp(24, 15), gp(24, 16));
-        s.resistor(
-            resistors[i],
-            gp(24, 16),
-            Direction::Down,
-            b2,
-            Direction::Left,
-        );
+        s.resistor(resistors[i], gp(24, 16), Direction::Down, b2, Direction::Left);
         s.terminal(net, GROUND, gp(24, 20), Direction::Down);
         s.junction(gp(24, 15));
         placed[i] = true;
@@ -680,26 +525,14 @@ pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
     // RC2 and the output.
     if let Some(i) = find(&supply, OUTPUT_NET) {
         s.wire(gp(30, 4), gp(30, 6));
-        s.resistor(
-            resistors[i],
-            gp(30, 6),
-            Direction::Down,
-            &supply,
-            Direction::Right,
-        );
+        s.resistor(resistors[i], gp(30, 6), Direction::Down, &supply, Direction::Right);
         placed[i] = true;
     }
     s.wire(gp(30, 10), gp(30, 12));
     s.wire(gp(30, 10), gp(38, 10));
     s.junction(gp(30, 10));
     if let Some(i) = find(OUTPUT_NET, GROUND) {
-        s.resistor(
-            resistors[i],
-            gp(35, 10),
-            Direction::Down,
-            OUTPUT_NET,
-            Direction::Right,
-        );
+        s.resistor(resistors[i], gp(35, 10), Direction::Down, OUTPUT_NET, Direction::Right);
         s.terminal(net, GROUND, gp(35, 14), Direction::Down);
         s.junction(gp(35, 10));
         placed[i] = true;
@@ -708,13 +541,7 @@ pub fn bjt_layout(net: &Netlist) -> SchematicLayout {
     // Shared emitter and RE.
     s.path(&[gp(14, 18), gp(14, 24), gp(20, 24), gp(30, 24), gp(30, 18)]);
     if let Some(i) = find(e, GROUND) {
-        s.resistor(
-            resistors[i],
-            gp(20, 24),
-            Direction::Down,
-            e,
-            Direction::Right,
-        );
+        s.resistor(resistors[i], gp(20, 24), Direction::Down, e, Direction::Right);
         s.terminal(net, GROUND, gp(20, 28), Direction::Down);
         s.junction(gp(20, 24));
         placed[i] = true;

@@ -24,13 +24,9 @@ pub mod svg;
 pub use application::{design_layout, render_design_svg};
 pub use layout::{auto_layout, bjt_layout};
 pub use sheet::{
-    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin,
-    SchematicLayout, Wire,
+    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire,
 };
-pub use svg::{
-    engineering_ohms, part_extents, render_layout_svg, rkm, xml_escape, Extent, SymbolStyle,
-    GRID_PX, VALUE_DIGITS,
-};
+pub use svg::{engineering_ohms, part_extents, render_layout_svg, rkm, xml_escape, Extent, SymbolStyle, GRID_PX, VALUE_DIGITS};
 
 use crate::netlist::Netlisted;
 use crate::topology::Topology;
@@ -52,6 +48,7 @@ pub fn render_svg(circuit: &Topology, style: SymbolStyle) -> String {
 pub fn render_svg_titled(circuit: &Topology, style: SymbolStyle, title: &str) -> String {
     render_layout_svg(&circuit.schematic(), style, Some(title))
 }
+
 
 #[cfg(test)]
 mod tests {
@@ -85,8 +82,7 @@ mod tests {
     fn on_wire(p: GridPoint, w: &Wire) -> bool {
         let (x0, x1) = (w.from.x.min(w.to.x), w.from.x.max(w.to.x));
         let (y0, y1) = (w.from.y.min(w.to.y), w.from.y.max(w.to.y));
-        (x0 == x1 && p.x == x0 && (y0..=y1).contains(&p.y))
-            || (y0 == y1 && p.y == y0 && (x0..=x1).contains(&p.x))
+        (x0 == x1 && p.x == x0 && (y0..=y1).contains(&p.y)) || (y0 == y1 && p.y == y0 && (x0..=x1).contains(&p.x))
     }
 
     /// Checks that the drawing connects exactly what the netlist connects: pins on the same net
@@ -125,29 +121,16 @@ mod tests {
         for a in &pins {
             for b in &pins {
                 let same = g.find(a.at) == g.find(b.at);
-                assert_eq!(
-                    same,
-                    a.net == b.net,
-                    "{key}: pin {} on {} vs pin {} on {}",
-                    a.name,
-                    a.net,
-                    b.name,
-                    b.net
-                );
+                assert_eq!(same, a.net == b.net, "{key}: pin {} on {} vs pin {} on {}", a.name, a.net, b.name, b.net);
             }
             // Every pin is connected to something: a wire, a label or another pin.
-            let linked = layout.wires.iter().any(|w| on_wire(a.at, w))
-                || layout.labels.iter().any(|l| l.at == a.at);
+            let linked = layout.wires.iter().any(|w| on_wire(a.at, w)) || layout.labels.iter().any(|l| l.at == a.at);
             assert!(linked, "{key}: pin {} at {:?} is left open", a.name, a.at);
         }
         for l in &layout.labels {
             for p in &pins {
                 if g.find(l.at) == g.find(p.at) {
-                    assert_eq!(
-                        l.net, p.net,
-                        "{key}: label {} touches pin on {}",
-                        l.text, p.net
-                    );
+                    assert_eq!(l.net, p.net, "{key}: label {} touches pin on {}", l.text, p.net);
                 }
             }
         }
@@ -171,32 +154,21 @@ mod tests {
         use crate::topology::schmitt_gate::{SchmittGate, SchmittInput};
         use crate::topology::supply_monitor::{MonitorOutput, MonitorSupply, SupplyMonitor};
         use crate::topology::{bjt_pair::EmitterCoupledSchmitt, inverting::InvertingSchmitt};
-        let dev = Comparator {
-            source_resistance_ohm: 1e3,
-            bias_plus_a: 1e-9,
-            ..Comparator::ideal(5.0)
-        };
+        let dev = Comparator { source_resistance_ohm: 1e3, bias_plus_a: 1e-9, ..Comparator::ideal(5.0) };
         let mut v: Vec<(String, Topology)> = catalog::templates()
             .into_iter()
             .chain(catalog::demos())
             .map(|s| (s.key.to_string(), s.record().circuit))
             .collect();
         // The reference as a part: zener and adjustable shunt reference on the (−) input.
-        let ni =
-            NonInvertingSchmitt::with_divider(10e3, 100e3, 47e3, 47e3, Comparator::ideal(12.0));
+        let ni = NonInvertingSchmitt::with_divider(10e3, 100e3, 47e3, 47e3, Comparator::ideal(12.0));
         for r in [
             Reference::Zener(crate::topology::reference::ZenerReference::default()),
             Reference::Shunt(crate::topology::reference::ShuntReference::default()),
         ] {
-            let t = Topology::NonInverting(NonInvertingSchmitt {
-                reference: r,
-                ..ni.clone()
-            });
+            let t = Topology::NonInverting(NonInvertingSchmitt { reference: r, ..ni.clone() });
             v.push((format!("ni-{}", r.kind()), t.clone()));
-            let plain = Topology::Plain(PlainComparator {
-                reference: r,
-                ..PlainComparator::non_inverting_with_divider(47e3, 47e3, Comparator::ideal(12.0))
-            });
+            let plain = Topology::Plain(PlainComparator { reference: r, ..PlainComparator::non_inverting_with_divider(47e3, 47e3, Comparator::ideal(12.0)) });
             v.push((format!("plain-{}", r.kind()), plain));
         }
         v.push((
@@ -204,10 +176,7 @@ mod tests {
             Topology::Inverting(InvertingSchmitt::split_supply(
                 10e3,
                 47e3,
-                Comparator {
-                    negative_rail_v: -5.0,
-                    ..dev
-                },
+                Comparator { negative_rail_v: -5.0, ..dev },
             )),
         ));
         v.push((
@@ -220,21 +189,13 @@ mod tests {
         ));
         v.push((
             "ni-fixed".into(),
-            Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(
-                10e3, 100e3, 1.2, dev,
-            )),
+            Topology::NonInverting(NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 1.2, dev)),
         ));
         v.push((
             "od-ni".into(),
             Topology::OpenDrain(OpenDrainSchmitt {
                 rl_ohm: Some(47e3),
-                ..OpenDrainSchmitt::non_inverting(
-                    10e3,
-                    100e3,
-                    Reference::divider(20e3, 30e3),
-                    4.7e3,
-                    dev,
-                )
+                ..OpenDrainSchmitt::non_inverting(10e3, 100e3, Reference::divider(20e3, 30e3), 4.7e3, dev)
             }),
         ));
         v.push((
@@ -256,15 +217,9 @@ mod tests {
         let mut mon = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, dev);
         mon.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 0.2 };
         v.push(("mon-self".into(), Topology::SupplyMonitor(mon.clone())));
-        mon.output = MonitorOutput::OpenDrain {
-            rpu_ohm: 10e3,
-            pullup_rail: Rail::Supply,
-        };
+        mon.output = MonitorOutput::OpenDrain { rpu_ohm: 10e3, pullup_rail: Rail::Supply };
         v.push(("mon-self-od".into(), Topology::SupplyMonitor(mon)));
-        v.push((
-            "cmos".into(),
-            Topology::CmosBuffer(CmosBufferSchmitt::new(10e3, 47e3, CmosGate::default())),
-        ));
+        v.push(("cmos".into(), Topology::CmosBuffer(CmosBufferSchmitt::new(10e3, 47e3, CmosGate::default()))));
         v.push((
             "cmos-r3".into(),
             Topology::CmosBuffer(CmosBufferSchmitt {
@@ -273,10 +228,7 @@ mod tests {
                 ..CmosBufferSchmitt::new(10e3, 47e3, CmosGate::default())
             }),
         ));
-        v.push((
-            "gate-bare".into(),
-            Topology::SchmittGate(SchmittGate::bare(SchmittInput::default())),
-        ));
+        v.push(("gate-bare".into(), Topology::SchmittGate(SchmittGate::bare(SchmittInput::default()))));
         v.push((
             "gate-net".into(),
             Topology::SchmittGate(SchmittGate {
@@ -303,17 +255,8 @@ mod tests {
             check_connectivity(&key, &layout);
             let net = c.netlist();
             let drawn: Vec<&str> = layout.parts.iter().map(|p| p.designator.as_str()).collect();
-            for r in net
-                .resistors
-                .iter()
-                .filter(|r| r.role != ResistorRole::SourceResistance)
-            {
-                assert_eq!(
-                    drawn.iter().filter(|d| **d == r.designator).count(),
-                    1,
-                    "{key}: {}",
-                    r.designator
-                );
+            for r in net.resistors.iter().filter(|r| r.role != ResistorRole::SourceResistance) {
+                assert_eq!(drawn.iter().filter(|d| **d == r.designator).count(), 1, "{key}: {}", r.designator);
             }
             // All parts found a slot: the sheet kept its standard height.
             assert!(layout.height <= 31, "{key}: a part went to the spare row");
@@ -321,12 +264,7 @@ mod tests {
                 assert!(drawn.contains(&d.designator()), "{key}: {}", d.designator());
             }
             for g in &net.regulators {
-                assert_eq!(
-                    drawn.iter().filter(|d| **d == g.designator()).count(),
-                    1,
-                    "{key}: {}",
-                    g.designator()
-                );
+                assert_eq!(drawn.iter().filter(|d| **d == g.designator()).count(), 1, "{key}: {}", g.designator());
             }
         }
     }

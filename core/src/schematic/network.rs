@@ -16,10 +16,7 @@
 //! trigger's width so the drawing keeps its scale in a narrow column; the positions follow the
 //! written texts ([`super::svg::part_extents`]) so that no text runs into the next part.
 
-use super::sheet::{
-    gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin,
-    SchematicLayout, Wire,
-};
+use super::sheet::{gp, Direction, GridPoint, LabelKind, NetLabel, PartSymbol, PlacedPart, PlacedPin, SchematicLayout, Wire};
 use super::svg::{part_extents, SymbolStyle};
 use crate::bom::{NetworkPart, NetworkPartKind};
 use crate::input_network::{Clamp, InputNetwork};
@@ -46,12 +43,7 @@ pub struct ClampRails {
 impl ClampRails {
     /// The supply and the negative rail of a trigger's netlist.
     pub fn of(net: &Netlist) -> Self {
-        let find = |role: SourceRole| {
-            net.sources
-                .iter()
-                .find(|s| s.role == role)
-                .map(|s| (s.node_plus.clone(), s.label.clone()))
-        };
+        let find = |role: SourceRole| net.sources.iter().find(|s| s.role == role).map(|s| (s.node_plus.clone(), s.label.clone()));
         ClampRails {
             upper: find(SourceRole::Supply).unwrap_or_else(|| (SUPPLY_NET.into(), "VCC".into())),
             lower: find(SourceRole::NegativeRail).unwrap_or_else(|| (GROUND.into(), "0 V".into())),
@@ -85,15 +77,8 @@ fn stages<'a>(net: &InputNetwork, parts: &'a [NetworkPart]) -> Option<Vec<Stage<
     if net.series_ohm.is_some() {
         out.push(Stage::Along(next_r()?));
     }
-    let filter_r = if net.filter.is_some() {
-        Some(next_r()?)
-    } else {
-        None
-    };
-    let diodes: Vec<&NetworkPart> = parts
-        .iter()
-        .filter(|p| p.kind == NetworkPartKind::Diode)
-        .collect();
+    let filter_r = if net.filter.is_some() { Some(next_r()?) } else { None };
+    let diodes: Vec<&NetworkPart> = parts.iter().filter(|p| p.kind == NetworkPartKind::Diode).collect();
     let tvs = parts.iter().find(|p| p.kind == NetworkPartKind::Tvs);
     match net.clamp {
         Clamp::None => {}
@@ -105,35 +90,22 @@ fn stages<'a>(net: &InputNetwork, parts: &'a [NetworkPart]) -> Option<Vec<Stage<
     }
     if let Some(r) = filter_r {
         out.push(Stage::Along(r));
-        let c = parts
-            .iter()
-            .find(|p| p.kind == NetworkPartKind::Capacitor)?;
+        let c = parts.iter().find(|p| p.kind == NetworkPartKind::Capacitor)?;
         out.push(Stage::ToGround(c));
     }
     Some(out)
 }
 
 fn pin(name: &str, at: GridPoint, net: &str) -> PlacedPin {
-    PlacedPin {
-        name: name.into(),
-        at,
-        net: net.into(),
-    }
+    PlacedPin { name: name.into(), at, net: net.into() }
 }
 
 fn symbol(p: &NetworkPart) -> PartSymbol {
     match p.kind {
-        NetworkPartKind::Resistor => PartSymbol::Resistor {
-            resistance_ohm: p.value,
-            in_part_list: true,
-        },
-        NetworkPartKind::Capacitor => PartSymbol::Capacitor {
-            capacitance_f: p.value,
-        },
+        NetworkPartKind::Resistor => PartSymbol::Resistor { resistance_ohm: p.value, in_part_list: true },
+        NetworkPartKind::Capacitor => PartSymbol::Capacitor { capacitance_f: p.value },
         NetworkPartKind::Diode => PartSymbol::Diode { forward_v: p.value },
-        NetworkPartKind::Tvs => PartSymbol::Tvs {
-            standoff_v: p.value,
-        },
+        NetworkPartKind::Tvs => PartSymbol::Tvs { standoff_v: p.value },
     }
 }
 
@@ -158,11 +130,7 @@ fn half_text(part: &PlacedPart) -> f64 {
 
 /// Draws the network alone: a sheet whose row starts with the field terminal and ends with the
 /// "IN" flag. `None` when the part lines do not fit the network.
-pub fn network_layout(
-    net: &InputNetwork,
-    parts: &[NetworkPart],
-    rails: &ClampRails,
-) -> Option<SchematicLayout> {
+pub fn network_layout(net: &InputNetwork, parts: &[NetworkPart], rails: &ClampRails) -> Option<SchematicLayout> {
     let stages = stages(net, parts)?;
     let mut s = SchematicLayout::default();
     let y = ROW;
@@ -173,23 +141,14 @@ pub fn network_layout(
     // Whether the current node has its downward (and upward) slot taken.
     let mut down_used = true;
     let mut up_used = true;
-    s.labels.push(NetLabel {
-        text: FIELD_LABEL.into(),
-        at: gp(x, y),
-        kind: LabelKind::Input,
-        toward: Direction::Left,
-        net: FIELD_NET.into(),
-    });
+    s.labels.push(NetLabel { text: FIELD_LABEL.into(), at: gp(x, y), kind: LabelKind::Input, toward: Direction::Left, net: FIELD_NET.into() });
     let mut along_seen = 0;
     // Moves to a new node at column `to` or beyond, wiring it from the current one.
     let mut junctions: Vec<GridPoint> = Vec::new();
     let mut wires: Vec<Wire> = Vec::new();
     let place_node = |x: &mut i32, to: i32, wires: &mut Vec<Wire>| {
         if to > *x {
-            wires.push(Wire {
-                from: gp(*x, y),
-                to: gp(to, y),
-            });
+            wires.push(Wire { from: gp(*x, y), to: gp(to, y) });
             *x = to;
         }
     };
@@ -211,10 +170,7 @@ pub fn network_layout(
                 let start = (x + 1).max((free + 0.5 + half - 2.0).ceil() as i32);
                 place_node(&mut x, start, &mut wires);
                 part.at = gp(start, y);
-                part.pins = vec![
-                    pin("1", gp(start, y), &node),
-                    pin("2", gp(start + 4, y), &next),
-                ];
+                part.pins = vec![pin("1", gp(start, y), &node), pin("2", gp(start + 4, y), &next)];
                 free = right_edge(&part);
                 s.parts.push(part);
                 x = start + 4;
@@ -239,13 +195,7 @@ pub fn network_layout(
                     text_side: Direction::Right,
                     pins: vec![pin("1", gp(x, y), &node), pin("2", gp(x, y + 4), GROUND)],
                 };
-                s.labels.push(NetLabel {
-                    text: "0 V".into(),
-                    at: gp(x, y + 4),
-                    kind: LabelKind::Ground,
-                    toward: Direction::Down,
-                    net: GROUND.into(),
-                });
+                s.labels.push(NetLabel { text: "0 V".into(), at: gp(x, y + 4), kind: LabelKind::Ground, toward: Direction::Down, net: GROUND.into() });
                 junctions.push(gp(x, y));
                 free = right_edge(&part);
                 s.parts.push(part);
@@ -266,18 +216,9 @@ pub fn network_layout(
                     at: gp(x, y - 4),
                     direction: Direction::Down,
                     text_side: Direction::Right,
-                    pins: vec![
-                        pin("k", gp(x, y - 4), &rails.upper.0),
-                        pin("a", gp(x, y), &node),
-                    ],
+                    pins: vec![pin("k", gp(x, y - 4), &rails.upper.0), pin("a", gp(x, y), &node)],
                 };
-                s.labels.push(NetLabel {
-                    text: rails.upper.1.clone(),
-                    at: gp(x, y - 4),
-                    kind: LabelKind::Rail,
-                    toward: Direction::Up,
-                    net: rails.upper.0.clone(),
-                });
+                s.labels.push(NetLabel { text: rails.upper.1.clone(), at: gp(x, y - 4), kind: LabelKind::Rail, toward: Direction::Up, net: rails.upper.0.clone() });
                 // Lower diode: cathode at the node, anode at the negative rail.
                 let lower = PlacedPart {
                     designator: down.designator.clone(),
@@ -285,23 +226,10 @@ pub fn network_layout(
                     at: gp(x, y),
                     direction: Direction::Down,
                     text_side: Direction::Right,
-                    pins: vec![
-                        pin("k", gp(x, y), &node),
-                        pin("a", gp(x, y + 4), &rails.lower.0),
-                    ],
+                    pins: vec![pin("k", gp(x, y), &node), pin("a", gp(x, y + 4), &rails.lower.0)],
                 };
-                let (kind, text) = if rails.lower.0 == GROUND {
-                    (LabelKind::Ground, "0 V".to_string())
-                } else {
-                    (LabelKind::Rail, rails.lower.1.clone())
-                };
-                s.labels.push(NetLabel {
-                    text,
-                    at: gp(x, y + 4),
-                    kind,
-                    toward: Direction::Down,
-                    net: rails.lower.0.clone(),
-                });
+                let (kind, text) = if rails.lower.0 == GROUND { (LabelKind::Ground, "0 V".to_string()) } else { (LabelKind::Rail, rails.lower.1.clone()) };
+                s.labels.push(NetLabel { text, at: gp(x, y + 4), kind, toward: Direction::Down, net: rails.lower.0.clone() });
                 junctions.push(gp(x, y));
                 free = right_edge(&upper).max(right_edge(&lower));
                 s.parts.push(upper);
@@ -321,19 +249,10 @@ pub fn network_layout(
     }
     let end = (x + 2).max((free + 1.0).ceil() as i32);
     place_node(&mut x, end, &mut wires);
-    s.labels.push(NetLabel {
-        text: "IN".into(),
-        at: gp(x, y),
-        kind: LabelKind::Input,
-        toward: Direction::Right,
-        net: INPUT_NET.into(),
-    });
+    s.labels.push(NetLabel { text: "IN".into(), at: gp(x, y), kind: LabelKind::Input, toward: Direction::Right, net: INPUT_NET.into() });
     // A node joins three wires (a junction dot) only where the row runs on past a part to 0 V
     // or the rails; the last node's part ends the row at a corner-free tee as well.
-    s.junctions = junctions
-        .into_iter()
-        .filter(|j| wires.iter().any(|w| w.from == *j))
-        .collect();
+    s.junctions = junctions.into_iter().filter(|j| wires.iter().any(|w| w.from == *j)).collect();
     s.wires = wires;
     s.width = x + 5;
     s.height = BOTTOM.ceil() as i32;
@@ -343,12 +262,7 @@ pub fn network_layout(
 /// Adds the network above the trigger's drawing: the trigger moves down below the network's row
 /// and the sheet widens when the row needs more room. Returns whether the network was drawn
 /// (`false` when the part lines do not fit the network).
-pub fn add_network(
-    layout: &mut SchematicLayout,
-    net: &InputNetwork,
-    parts: &[NetworkPart],
-    rails: &ClampRails,
-) -> bool {
+pub fn add_network(layout: &mut SchematicLayout, net: &InputNetwork, parts: &[NetworkPart], rails: &ClampRails) -> bool {
     let Some(row) = network_layout(net, parts, rails) else {
         return false;
     };
@@ -361,10 +275,7 @@ pub fn add_network(
         top = top.min(l.at.y as f64 - if l.toward == Direction::Up { 2.0 } else { 0.5 });
     }
     for p in &layout.parts {
-        for e in [SymbolStyle::Iec60617, SymbolStyle::Ieee315]
-            .into_iter()
-            .flat_map(|s| part_extents(p, s))
-        {
+        for e in [SymbolStyle::Iec60617, SymbolStyle::Ieee315].into_iter().flat_map(|s| part_extents(p, s)) {
             top = top.min(e.y0);
         }
     }
@@ -408,11 +319,7 @@ mod tests {
     use crate::schematic::{design_layout, render_design_svg};
 
     fn sawmill() -> DesignRecord {
-        crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "sawmill-end-stop")
-            .unwrap()
-            .record()
+        crate::catalog::demos().into_iter().find(|s| s.key == "sawmill-end-stop").unwrap().record()
     }
 
     /// The sawmill demo as it is, and its network in other shapes (a TVS, filter only, dropper
@@ -420,107 +327,42 @@ mod tests {
     fn cases() -> Vec<(String, DesignRecord)> {
         let base = sawmill();
         let net = base.input_network.clone().unwrap();
-        let tvs = Clamp::Tvs {
-            standoff_v: 33.0,
-            breakdown_v: 36.7,
-            clamping_v: 53.3,
-            peak_current_a: 11.3,
-        };
+        let tvs = Clamp::Tvs { standoff_v: 33.0, breakdown_v: 36.7, clamping_v: 53.3, peak_current_a: 11.3 };
         let shapes = [
             ("as-is", net.clone()),
-            (
-                "tvs",
-                InputNetwork {
-                    clamp: tvs,
-                    ..net.clone()
-                },
-            ),
-            (
-                "filter-only",
-                InputNetwork {
-                    dropper: None,
-                    series_ohm: None,
-                    clamp: Clamp::None,
-                    ..net.clone()
-                },
-            ),
-            (
-                "dropper-only",
-                InputNetwork {
-                    series_ohm: None,
-                    clamp: Clamp::None,
-                    filter: None,
-                    ..net.clone()
-                },
-            ),
+            ("tvs", InputNetwork { clamp: tvs, ..net.clone() }),
+            ("filter-only", InputNetwork { dropper: None, series_ohm: None, clamp: Clamp::None, ..net.clone() }),
+            ("dropper-only", InputNetwork { series_ohm: None, clamp: Clamp::None, filter: None, ..net.clone() }),
             (
                 "series-clamp",
-                InputNetwork {
-                    dropper: None,
-                    filter: None,
-                    field_max_v: Some(12.0),
-                    surge_v: Some(60.0),
-                    ..net.clone()
-                },
+                InputNetwork { dropper: None, filter: None, field_max_v: Some(12.0), surge_v: Some(60.0), ..net.clone() },
             ),
             (
                 "dropper-tvs-filter",
                 InputNetwork {
-                    dropper: Some(Dropper {
-                        top_ohm: 100e3,
-                        bottom_ohm: 22e3,
-                    }),
+                    dropper: Some(Dropper { top_ohm: 100e3, bottom_ohm: 22e3 }),
                     series_ohm: None,
                     clamp: tvs,
-                    filter: Some(RcFilter {
-                        r_ohm: 4.7e3,
-                        c_f: 22e-9,
-                    }),
+                    filter: Some(RcFilter { r_ohm: 4.7e3, c_f: 22e-9 }),
                     ..net.clone()
                 },
             ),
         ];
         let mut out: Vec<(String, DesignRecord)> = shapes
             .iter()
-            .map(|(k, n)| {
-                (
-                    format!("sawmill-{k}"),
-                    DesignRecord {
-                        input_network: Some(n.clone()),
-                        ..base.clone()
-                    },
-                )
-            })
+            .map(|(k, n)| (format!("sawmill-{k}"), DesignRecord { input_network: Some(n.clone()), ..base.clone() }))
             .collect();
         // The as-is network on other topologies (a negative rail among them: the lower clamp
         // returns to VEE) and on the demos with an oscillator or debouncer.
         for (key, circuit) in crate::schematic::tests::variants() {
-            if [
-                "inv-split",
-                "bjt",
-                "gate-net",
-                "cmos",
-                "mon-self",
-                "plain-inv",
-            ]
-            .contains(&key.as_str())
-            {
-                let mut r = DesignRecord {
-                    circuit,
-                    input_network: Some(net.clone()),
-                    output_dynamics: None,
-                    ..base.clone()
-                };
+            if ["inv-split", "bjt", "gate-net", "cmos", "mon-self", "plain-inv"].contains(&key.as_str()) {
+                let mut r = DesignRecord { circuit, input_network: Some(net.clone()), output_dynamics: None, ..base.clone() };
                 r.checks = crate::analysis::CheckSettings::default();
                 out.push((key, r));
             }
         }
         for key in ["beehive-clock", "rain-gauge"] {
-            let mut r = crate::catalog::demos()
-                .into_iter()
-                .find(|s| s.key == key)
-                .unwrap()
-                .record();
+            let mut r = crate::catalog::demos().into_iter().find(|s| s.key == key).unwrap().record();
             r.input_network = Some(net.clone());
             out.push((key.into(), r));
         }
@@ -539,48 +381,24 @@ mod tests {
             assert!(!parts.is_empty(), "{key}: the network has parts");
             let layout = design_layout(&r);
             for p in &parts {
-                let drawn: Vec<&PlacedPart> = layout
-                    .parts
-                    .iter()
-                    .filter(|q| q.designator == p.designator)
-                    .collect();
-                assert_eq!(
-                    drawn.len(),
-                    1,
-                    "{key}: {} drawn {} times",
-                    p.designator,
-                    drawn.len()
-                );
+                let drawn: Vec<&PlacedPart> = layout.parts.iter().filter(|q| q.designator == p.designator).collect();
+                assert_eq!(drawn.len(), 1, "{key}: {} drawn {} times", p.designator, drawn.len());
                 assert_eq!(drawn[0].symbol, symbol(p), "{key}: {}", p.designator);
             }
             for style in [SymbolStyle::Iec60617, SymbolStyle::Ieee315] {
                 let svg = render_design_svg(&r, style, true);
                 for p in &parts {
-                    assert_eq!(
-                        svg.matches(&format!(">{}</text>", p.designator)).count(),
-                        1,
-                        "{key}: {}",
-                        p.designator
-                    );
+                    assert_eq!(svg.matches(&format!(">{}</text>", p.designator)).count(), 1, "{key}: {}", p.designator);
                     // Capacitors, diodes and TVS carry the part list's own words; resistors the
                     // style's resistor notation, as every resistor of the sheet.
                     let value = match (p.kind, style) {
                         (NetworkPartKind::Resistor, SymbolStyle::Iec60617) => rkm(p.value),
-                        (NetworkPartKind::Resistor, SymbolStyle::Ieee315) => {
-                            engineering_ohms(p.value)
-                        }
+                        (NetworkPartKind::Resistor, SymbolStyle::Ieee315) => engineering_ohms(p.value),
                         _ => p.value_text.clone(),
                     };
-                    assert!(
-                        svg.contains(&format!(">{}</text>", xml_escape(&value))),
-                        "{key}: {value} of {} missing",
-                        p.designator
-                    );
+                    assert!(svg.contains(&format!(">{}</text>", xml_escape(&value))), "{key}: {value} of {} missing", p.designator);
                 }
-                assert!(
-                    svg.contains(&format!(">{FIELD_LABEL}</text>")),
-                    "{key}: the field terminal is labelled"
-                );
+                assert!(svg.contains(&format!(">{FIELD_LABEL}</text>")), "{key}: the field terminal is labelled");
             }
         }
     }
@@ -593,18 +411,9 @@ mod tests {
             // The row's last node is the trigger's input: the filter capacitor (or the last part)
             // touches the "in" net, and the field terminal's net reaches only the first resistor.
             let parts = network_parts_of(&r);
-            let on_in = layout
-                .parts
-                .iter()
-                .filter(|p| parts.iter().any(|q| q.designator == p.designator))
-                .any(|p| p.pins.iter().any(|q| q.net == INPUT_NET));
+            let on_in = layout.parts.iter().filter(|p| parts.iter().any(|q| q.designator == p.designator)).any(|p| p.pins.iter().any(|q| q.net == INPUT_NET));
             assert!(on_in, "{key}: the network reaches the input");
-            let field_pins = layout
-                .parts
-                .iter()
-                .flat_map(|p| &p.pins)
-                .filter(|q| q.net == FIELD_NET)
-                .count();
+            let field_pins = layout.parts.iter().flat_map(|p| &p.pins).filter(|q| q.net == FIELD_NET).count();
             assert_eq!(field_pins, 1, "{key}");
         }
     }
@@ -616,44 +425,27 @@ mod tests {
             let layout = design_layout(&r);
             let parts = network_parts_of(&r);
             for style in [SymbolStyle::Iec60617, SymbolStyle::Ieee315] {
-                let boxes: Vec<(&str, Vec<crate::schematic::Extent>)> = layout
-                    .parts
-                    .iter()
-                    .map(|p| (p.designator.as_str(), part_extents(p, style)))
-                    .collect();
+                let boxes: Vec<(&str, Vec<crate::schematic::Extent>)> =
+                    layout.parts.iter().map(|p| (p.designator.as_str(), part_extents(p, style))).collect();
                 for (i, (a, ea)) in boxes.iter().enumerate() {
                     for (b, eb) in &boxes[i + 1..] {
                         // Every pair that holds a network part; the trigger's own parts are
                         // checked among themselves below.
-                        if !parts
-                            .iter()
-                            .any(|p| p.designator == *a || p.designator == *b)
-                        {
+                        if !parts.iter().any(|p| p.designator == *a || p.designator == *b) {
                             continue;
                         }
                         checked += 1;
                         for x in ea {
                             for y in eb {
-                                assert!(
-                                    !x.overlaps(y),
-                                    "{key} {style:?}: {a} {x:?} runs into {b} {y:?}"
-                                );
+                                assert!(!x.overlaps(y), "{key} {style:?}: {a} {x:?} runs into {b} {y:?}");
                             }
                         }
                     }
                 }
                 // The network's texts stay on the sheet and clear the wires they do not end on.
-                for p in layout
-                    .parts
-                    .iter()
-                    .filter(|p| parts.iter().any(|q| q.designator == p.designator))
-                {
+                for p in layout.parts.iter().filter(|p| parts.iter().any(|q| q.designator == p.designator)) {
                     for e in part_extents(p, style) {
-                        assert!(
-                            e.x0 >= 0.0 && e.x1 <= layout.width as f64 && e.y0 >= 0.0,
-                            "{key}: {} off the sheet {e:?}",
-                            p.designator
-                        );
+                        assert!(e.x0 >= 0.0 && e.x1 <= layout.width as f64 && e.y0 >= 0.0, "{key}: {} off the sheet {e:?}", p.designator);
                     }
                 }
             }
@@ -666,40 +458,18 @@ mod tests {
         // The check can fail: two resistors one unit apart, and a text over a body.
         let r = |d: &str, x: i32, y: i32, dir: Direction| PlacedPart {
             designator: d.into(),
-            symbol: PartSymbol::Resistor {
-                resistance_ohm: 4.7e3,
-                in_part_list: true,
-            },
+            symbol: PartSymbol::Resistor { resistance_ohm: 4.7e3, in_part_list: true },
             at: gp(x, y),
             direction: dir,
             text_side: Direction::Right,
             pins: vec![],
         };
         let hits = |a: &PlacedPart, b: &PlacedPart| {
-            part_extents(a, SymbolStyle::Iec60617).iter().any(|x| {
-                part_extents(b, SymbolStyle::Iec60617)
-                    .iter()
-                    .any(|y| x.overlaps(y))
-            })
+            part_extents(a, SymbolStyle::Iec60617).iter().any(|x| part_extents(b, SymbolStyle::Iec60617).iter().any(|y| x.overlaps(y)))
         };
-        assert!(hits(
-            &r("R1", 0, 0, Direction::Right),
-            &r("R2", 2, 0, Direction::Right)
-        ));
-        assert!(
-            hits(
-                &r("R1", 10, 0, Direction::Down),
-                &r("R2", 11, 2, Direction::Down)
-            ),
-            "value text over the neighbour"
-        );
-        assert!(
-            !hits(
-                &r("R1", 0, 0, Direction::Right),
-                &r("R2", 4, 0, Direction::Right)
-            ),
-            "end to end only touch"
-        );
+        assert!(hits(&r("R1", 0, 0, Direction::Right), &r("R2", 2, 0, Direction::Right)));
+        assert!(hits(&r("R1", 10, 0, Direction::Down), &r("R2", 11, 2, Direction::Down)), "value text over the neighbour");
+        assert!(!hits(&r("R1", 0, 0, Direction::Right), &r("R2", 4, 0, Direction::Right)), "end to end only touch");
     }
 
     #[test]
@@ -712,18 +482,12 @@ mod tests {
         let dy = with.parts[n].at.y - plain.parts[0].at.y;
         assert!(dy > 0);
         for (a, b) in plain.parts.iter().zip(&with.parts[n..]) {
-            assert_eq!(
-                (a.designator.as_str(), a.at.x, a.at.y + dy),
-                (b.designator.as_str(), b.at.x, b.at.y)
-            );
+            assert_eq!((a.designator.as_str(), a.at.x, a.at.y + dy), (b.designator.as_str(), b.at.x, b.at.y));
         }
         // The whole drawing keeps the trigger's width: it stays legible in a narrow column.
         assert_eq!(with.width, plain.width);
         // Without a network the record draws as before.
-        let bare = DesignRecord {
-            input_network: None,
-            ..r.clone()
-        };
+        let bare = DesignRecord { input_network: None, ..r.clone() };
         assert_eq!(design_layout(&bare), plain);
     }
 
@@ -731,10 +495,7 @@ mod tests {
     fn part_lines_for_another_network_draw_nothing() {
         let r = sawmill();
         let parts = network_parts_of(&r);
-        let other = InputNetwork {
-            dropper: None,
-            ..r.input_network.clone().unwrap()
-        };
+        let other = InputNetwork { dropper: None, ..r.input_network.clone().unwrap() };
         let rails = ClampRails::of(&r.circuit.netlist());
         assert!(network_layout(&other, &parts[..parts.len() - 1], &rails).is_none());
         let mut layout = r.circuit.schematic();
@@ -751,15 +512,8 @@ mod tests {
         let dir = std::env::var("HYSTERON_SVG_DIR").unwrap_or_else(|_| "target/schematics".into());
         std::fs::create_dir_all(&dir).unwrap();
         for (key, r) in cases() {
-            for (tag, style) in [
-                ("iec", SymbolStyle::Iec60617),
-                ("ieee", SymbolStyle::Ieee315),
-            ] {
-                std::fs::write(
-                    format!("{dir}/{key}-{tag}.svg"),
-                    render_design_svg(&r, style, true),
-                )
-                .unwrap();
+            for (tag, style) in [("iec", SymbolStyle::Iec60617), ("ieee", SymbolStyle::Ieee315)] {
+                std::fs::write(format!("{dir}/{key}-{tag}.svg"), render_design_svg(&r, style, true)).unwrap();
             }
         }
     }

@@ -77,11 +77,7 @@ fn px(v: f64) -> String {
 }
 
 /// Renders any layout as a standalone SVG document.
-pub fn render_layout_svg(
-    layout: &SchematicLayout,
-    style: SymbolStyle,
-    title: Option<&str>,
-) -> String {
+pub fn render_layout_svg(layout: &SchematicLayout, style: SymbolStyle, title: Option<&str>) -> String {
     let top = if title.is_some() { 2.0 } else { 0.0 };
     let (w, h) = (layout.width as f64, layout.height as f64 + top);
     let mut o = String::new();
@@ -131,12 +127,7 @@ pub fn render_layout_svg(
         );
     }
     for j in &layout.junctions {
-        let _ = write!(
-            o,
-            r##"<circle cx="{}" cy="{}" r="2.6" fill="#000"/>"##,
-            px(j.x as f64),
-            px(j.y as f64)
-        );
+        let _ = write!(o, r##"<circle cx="{}" cy="{}" r="2.6" fill="#000"/>"##, px(j.x as f64), px(j.y as f64));
     }
     for part in &layout.parts {
         draw_part(&mut o, part, style);
@@ -159,38 +150,23 @@ fn text(o: &mut String, x: f64, y: f64, anchor: &str, content: &str) {
 }
 
 fn polyline(o: &mut String, points: &[(f64, f64)], extra: &str) {
-    let pts: Vec<String> = points
-        .iter()
-        .map(|(x, y)| format!("{},{}", px(*x), px(*y)))
-        .collect();
+    let pts: Vec<String> = points.iter().map(|(x, y)| format!("{},{}", px(*x), px(*y))).collect();
     let _ = write!(o, r#"<polyline points="{}"{extra}/>"#, pts.join(" "));
 }
 
 fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
     let (x, y) = (part.at.x as f64, part.at.y as f64);
     match part.symbol {
-        PartSymbol::Resistor {
-            resistance_ohm,
-            in_part_list,
-        } => {
+        PartSymbol::Resistor { resistance_ohm, in_part_list } => {
             let value = match style {
                 SymbolStyle::Iec60617 => rkm(resistance_ohm),
                 SymbolStyle::Ieee315 => engineering_ohms(resistance_ohm),
             };
             let horizontal = part.direction == Direction::Right;
             // Local frame: along = 0..4, across = 0.
-            let at = |along: f64, across: f64| {
-                if horizontal {
-                    (x + along, y + across)
-                } else {
-                    (x + across, y + along)
-                }
-            };
-            let dash = if in_part_list {
-                ""
-            } else {
-                r#" stroke-dasharray="3 2""#
-            };
+            let at =
+                |along: f64, across: f64| if horizontal { (x + along, y + across) } else { (x + across, y + along) };
+            let dash = if in_part_list { "" } else { r#" stroke-dasharray="3 2""# };
             polyline(o, &[at(0.0, 0.0), at(0.8, 0.0)], "");
             polyline(o, &[at(3.2, 0.0), at(4.0, 0.0)], "");
             match style {
@@ -231,16 +207,7 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             }
         }
         PartSymbol::Comparator { open_drain } => {
-            polyline(
-                o,
-                &[
-                    (x + 1.0, y + 1.0),
-                    (x + 1.0, y + 7.0),
-                    (x + 7.0, y + 4.0),
-                    (x + 1.0, y + 1.0),
-                ],
-                "",
-            );
+            polyline(o, &[(x + 1.0, y + 1.0), (x + 1.0, y + 7.0), (x + 7.0, y + 4.0), (x + 1.0, y + 1.0)], "");
             polyline(o, &[(x, y + 2.0), (x + 1.0, y + 2.0)], "");
             polyline(o, &[(x, y + 6.0), (x + 1.0, y + 6.0)], "");
             polyline(o, &[(x + 7.0, y + 4.0), (x + 8.0, y + 4.0)], "");
@@ -251,17 +218,7 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             if open_drain {
                 // Open-circuit (open-collector/open-drain) output mark: a diamond with a bar below.
                 let (cx, cy) = (x + 4.4, y + 4.0);
-                polyline(
-                    o,
-                    &[
-                        (cx, cy - 0.5),
-                        (cx + 0.5, cy),
-                        (cx, cy + 0.5),
-                        (cx - 0.5, cy),
-                        (cx, cy - 0.5),
-                    ],
-                    "",
-                );
+                polyline(o, &[(cx, cy - 0.5), (cx + 0.5, cy), (cx, cy + 0.5), (cx - 0.5, cy), (cx, cy - 0.5)], "");
                 polyline(o, &[(cx - 0.5, cy + 0.8), (cx + 0.5, cy + 0.8)], "");
             }
             text(o, x + 5.4, y + 1.2, "start", &part.designator);
@@ -284,16 +241,7 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
                     (x + 7.0, x + 4.0)
                 }
                 SymbolStyle::Ieee315 => {
-                    polyline(
-                        o,
-                        &[
-                            (x + 1.0, y + 1.0),
-                            (x + 1.0, y + 7.0),
-                            (x + 7.0, y + 4.0),
-                            (x + 1.0, y + 1.0),
-                        ],
-                        "",
-                    );
+                    polyline(o, &[(x + 1.0, y + 1.0), (x + 1.0, y + 7.0), (x + 7.0, y + 4.0), (x + 1.0, y + 1.0)], "");
                     polyline(o, &[(x + 4.0, y + 1.0), (x + 4.0, y + 2.5)], "");
                     polyline(o, &[(x + 4.0, y + 7.0), (x + 4.0, y + 5.5)], "");
                     (x + 7.0, x + 3.0)
@@ -302,33 +250,11 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             if schmitt {
                 // Hysteresis sign: two offset steps forming a loop.
                 let (cx, cy) = (mark_x, y + 4.3);
-                polyline(
-                    o,
-                    &[
-                        (cx - 1.5, cy + 0.6),
-                        (cx + 0.5, cy + 0.6),
-                        (cx + 0.5, cy - 0.6),
-                    ],
-                    "",
-                );
-                polyline(
-                    o,
-                    &[
-                        (cx - 0.5, cy + 0.6),
-                        (cx - 0.5, cy - 0.6),
-                        (cx + 1.5, cy - 0.6),
-                    ],
-                    "",
-                );
+                polyline(o, &[(cx - 1.5, cy + 0.6), (cx + 0.5, cy + 0.6), (cx + 0.5, cy - 0.6)], "");
+                polyline(o, &[(cx - 0.5, cy + 0.6), (cx - 0.5, cy - 0.6), (cx + 1.5, cy - 0.6)], "");
             }
             if inverting {
-                let _ = write!(
-                    o,
-                    r#"<circle cx="{}" cy="{}" r="{}"/>"#,
-                    px(out_start + 0.4),
-                    px(y + 4.0),
-                    px(0.4)
-                );
+                let _ = write!(o, r#"<circle cx="{}" cy="{}" r="{}"/>"#, px(out_start + 0.4), px(y + 4.0), px(0.4));
                 polyline(o, &[(out_start + 0.8, y + 4.0), (x + 8.0, y + 4.0)], "");
             } else {
                 polyline(o, &[(out_start, y + 4.0), (x + 8.0, y + 4.0)], "");
@@ -336,13 +262,7 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
             text(o, x + 5.4, y + 0.4, "start", &part.designator);
         }
         PartSymbol::Npn => {
-            let _ = write!(
-                o,
-                r#"<circle cx="{}" cy="{}" r="{}"/>"#,
-                px(x + 3.0),
-                px(y + 3.0),
-                px(2.2)
-            );
+            let _ = write!(o, r#"<circle cx="{}" cy="{}" r="{}"/>"#, px(x + 3.0), px(y + 3.0), px(2.2));
             polyline(o, &[(x, y + 3.0), (x + 2.0, y + 3.0)], "");
             let _ = write!(
                 o,
@@ -352,22 +272,10 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
                 px(x + 2.0),
                 px(y + 4.2)
             );
-            polyline(
-                o,
-                &[(x + 2.0, y + 2.4), (x + 4.0, y + 1.2), (x + 4.0, y)],
-                "",
-            );
-            polyline(
-                o,
-                &[(x + 2.0, y + 3.6), (x + 4.0, y + 4.8), (x + 4.0, y + 6.0)],
-                "",
-            );
+            polyline(o, &[(x + 2.0, y + 2.4), (x + 4.0, y + 1.2), (x + 4.0, y)], "");
+            polyline(o, &[(x + 2.0, y + 3.6), (x + 4.0, y + 4.8), (x + 4.0, y + 6.0)], "");
             // Emitter arrow pointing away from the base.
-            polyline(
-                o,
-                &[(x + 3.1, y + 4.75), (x + 3.7, y + 4.6), (x + 3.5, y + 4.05)],
-                r##" fill="#000""##,
-            );
+            polyline(o, &[(x + 3.1, y + 4.75), (x + 3.7, y + 4.6), (x + 3.5, y + 4.05)], r##" fill="#000""##);
             text(o, x + 5.6, y + 3.4, "start", &part.designator);
         }
         PartSymbol::Zener { voltage_v } => {
@@ -396,18 +304,12 @@ fn draw_part(o: &mut String, part: &PlacedPart, style: SymbolStyle) {
 
 /// A clamp diode's value as the part list writes it: its forward drop ("Vf 300 mV").
 pub fn diode_value(forward_v: f64) -> String {
-    format!(
-        "Vf {}",
-        notation::format_with_unit(forward_v, 3, Unit::Volt)
-    )
+    format!("Vf {}", notation::format_with_unit(forward_v, 3, Unit::Volt))
 }
 
 /// A TVS diode's value as the part list writes it: its standoff voltage ("standoff 33 V").
 pub fn tvs_value(standoff_v: f64) -> String {
-    format!(
-        "standoff {}",
-        notation::format_with_unit(standoff_v, 3, Unit::Volt)
-    )
+    format!("standoff {}", notation::format_with_unit(standoff_v, 3, Unit::Volt))
 }
 
 /// Where the designator and value of a vertical diode-like part go: beside its body, on its
@@ -431,16 +333,7 @@ fn side_text(o: &mut String, part: &PlacedPart, value: &str) {
 fn draw_diode(o: &mut String, x: f64, y: f64) {
     polyline(o, &[(x, y), (x, y + 1.4)], "");
     polyline(o, &[(x, y + 2.6), (x, y + 4.0)], "");
-    polyline(
-        o,
-        &[
-            (x - 0.7, y + 2.6),
-            (x + 0.7, y + 2.6),
-            (x, y + 1.4),
-            (x - 0.7, y + 2.6),
-        ],
-        "",
-    );
+    polyline(o, &[(x - 0.7, y + 2.6), (x + 0.7, y + 2.6), (x, y + 1.4), (x - 0.7, y + 2.6)], "");
     polyline(o, &[(x - 0.7, y + 1.4), (x + 0.7, y + 1.4)], "");
 }
 
@@ -449,42 +342,13 @@ fn draw_diode(o: &mut String, x: f64, y: f64) {
 fn draw_tvs(o: &mut String, x: f64, y: f64, style: SymbolStyle) {
     polyline(o, &[(x, y), (x, y + 0.9)], "");
     polyline(o, &[(x, y + 3.1), (x, y + 4.0)], "");
-    polyline(
-        o,
-        &[
-            (x - 0.7, y + 0.9),
-            (x + 0.7, y + 0.9),
-            (x, y + 2.0),
-            (x - 0.7, y + 0.9),
-        ],
-        "",
-    );
-    polyline(
-        o,
-        &[
-            (x - 0.7, y + 3.1),
-            (x + 0.7, y + 3.1),
-            (x, y + 2.0),
-            (x - 0.7, y + 3.1),
-        ],
-        "",
-    );
+    polyline(o, &[(x - 0.7, y + 0.9), (x + 0.7, y + 0.9), (x, y + 2.0), (x - 0.7, y + 0.9)], "");
+    polyline(o, &[(x - 0.7, y + 3.1), (x + 0.7, y + 3.1), (x, y + 2.0), (x - 0.7, y + 3.1)], "");
     match style {
-        SymbolStyle::Iec60617 => polyline(
-            o,
-            &[(x - 0.7, y + 2.0), (x + 0.7, y + 2.0), (x + 0.7, y + 2.4)],
-            "",
-        ),
-        SymbolStyle::Ieee315 => polyline(
-            o,
-            &[
-                (x - 0.9, y + 1.6),
-                (x - 0.7, y + 2.0),
-                (x + 0.7, y + 2.0),
-                (x + 0.9, y + 2.4),
-            ],
-            "",
-        ),
+        SymbolStyle::Iec60617 => polyline(o, &[(x - 0.7, y + 2.0), (x + 0.7, y + 2.0), (x + 0.7, y + 2.4)], ""),
+        SymbolStyle::Ieee315 => {
+            polyline(o, &[(x - 0.9, y + 1.6), (x - 0.7, y + 2.0), (x + 0.7, y + 2.0), (x + 0.9, y + 2.4)], "")
+        }
     }
 }
 
@@ -511,10 +375,7 @@ impl Extent {
 /// The estimated width of a text line at the drawing's 11 px sans-serif, grid units: about
 /// 0.6 em per character, half that for a space (an upper estimate for digits and capitals).
 pub fn text_width(content: &str) -> f64 {
-    content
-        .chars()
-        .map(|c| if c == ' ' { 0.3 } else { 0.6 })
-        .sum()
+    content.chars().map(|c| if c == ' ' { 0.3 } else { 0.6 }).sum()
 }
 
 /// The box of a text line drawn at baseline (x, y) with its anchor, grid units.
@@ -525,12 +386,7 @@ fn text_extent(x: f64, y: f64, anchor: &str, content: &str) -> Extent {
         "end" => x - w,
         _ => x,
     };
-    Extent {
-        x0,
-        y0: y - 0.8,
-        x1: x0 + w,
-        y1: y + 0.2,
-    }
+    Extent { x0, y0: y - 0.8, x1: x0 + w, y1: y + 0.2 }
 }
 
 /// The boxes a part covers on the sheet, grid units: its body (between its pins, leads
@@ -541,19 +397,9 @@ pub fn part_extents(part: &PlacedPart, style: SymbolStyle) -> Vec<Extent> {
     let horizontal = part.direction == Direction::Right;
     let two_pin = |across: f64| {
         if horizontal {
-            Extent {
-                x0: x,
-                y0: y - across,
-                x1: x + 4.0,
-                y1: y + across,
-            }
+            Extent { x0: x, y0: y - across, x1: x + 4.0, y1: y + across }
         } else {
-            Extent {
-                x0: x - across,
-                y0: y,
-                x1: x + across,
-                y1: y + 4.0,
-            }
+            Extent { x0: x - across, y0: y, x1: x + across, y1: y + 4.0 }
         }
     };
     let texts = |out: &mut Vec<Extent>, lines: &[(f64, f64, &str, &str)]| {
@@ -571,124 +417,50 @@ pub fn part_extents(part: &PlacedPart, style: SymbolStyle) -> Vec<Extent> {
             };
             out.push(two_pin(0.45));
             match part.text_side {
-                Direction::Up | Direction::Down if horizontal => texts(
-                    &mut out,
-                    &[
-                        (x + 2.0, y - 0.8, "middle", d),
-                        (x + 2.0, y + 1.5, "middle", &value),
-                    ],
-                ),
-                Direction::Left => texts(
-                    &mut out,
-                    &[
-                        (x - 0.8, y + 1.8, "end", d),
-                        (x - 0.8, y + 2.9, "end", &value),
-                    ],
-                ),
-                _ => texts(
-                    &mut out,
-                    &[
-                        (x + 0.8, y + 1.8, "start", d),
-                        (x + 0.8, y + 2.9, "start", &value),
-                    ],
-                ),
+                Direction::Up | Direction::Down if horizontal => {
+                    texts(&mut out, &[(x + 2.0, y - 0.8, "middle", d), (x + 2.0, y + 1.5, "middle", &value)])
+                }
+                Direction::Left => texts(&mut out, &[(x - 0.8, y + 1.8, "end", d), (x - 0.8, y + 2.9, "end", &value)]),
+                _ => texts(&mut out, &[(x + 0.8, y + 1.8, "start", d), (x + 0.8, y + 2.9, "start", &value)]),
             }
         }
         PartSymbol::Capacitor { capacitance_f } => {
             let value = notation::format_with_unit(capacitance_f, 3, Unit::Farad);
             out.push(two_pin(0.9));
             match part.text_side {
-                Direction::Up | Direction::Down if horizontal => texts(
-                    &mut out,
-                    &[
-                        (x + 2.0, y - 1.3, "middle", d),
-                        (x + 2.0, y + 2.0, "middle", &value),
-                    ],
-                ),
-                Direction::Left => texts(
-                    &mut out,
-                    &[
-                        (x - 1.2, y + 1.8, "end", d),
-                        (x - 1.2, y + 2.9, "end", &value),
-                    ],
-                ),
-                _ => texts(
-                    &mut out,
-                    &[
-                        (x + 1.2, y + 1.8, "start", d),
-                        (x + 1.2, y + 2.9, "start", &value),
-                    ],
-                ),
+                Direction::Up | Direction::Down if horizontal => {
+                    texts(&mut out, &[(x + 2.0, y - 1.3, "middle", d), (x + 2.0, y + 2.0, "middle", &value)])
+                }
+                Direction::Left => texts(&mut out, &[(x - 1.2, y + 1.8, "end", d), (x - 1.2, y + 2.9, "end", &value)]),
+                _ => texts(&mut out, &[(x + 1.2, y + 1.8, "start", d), (x + 1.2, y + 2.9, "start", &value)]),
             }
         }
         PartSymbol::Diode { forward_v } => {
             out.push(two_pin(0.7));
             let (tx, ty, anchor) = side_text_at(part);
-            texts(
-                &mut out,
-                &[
-                    (tx, ty, anchor, d),
-                    (tx, ty + 1.1, anchor, &diode_value(forward_v)),
-                ],
-            );
+            texts(&mut out, &[(tx, ty, anchor, d), (tx, ty + 1.1, anchor, &diode_value(forward_v))]);
         }
         PartSymbol::Tvs { standoff_v } => {
             out.push(two_pin(0.9));
             let (tx, ty, anchor) = side_text_at(part);
-            texts(
-                &mut out,
-                &[
-                    (tx, ty, anchor, d),
-                    (tx, ty + 1.1, anchor, &tvs_value(standoff_v)),
-                ],
-            );
+            texts(&mut out, &[(tx, ty, anchor, d), (tx, ty + 1.1, anchor, &tvs_value(standoff_v))]);
         }
         PartSymbol::Zener { voltage_v } | PartSymbol::ShuntReference { voltage_v } => {
-            let right = if matches!(part.symbol, PartSymbol::ShuntReference { .. }) {
-                2.0
-            } else {
-                0.9
-            };
-            out.push(Extent {
-                x0: x - 0.9,
-                y0: y,
-                x1: x + right,
-                y1: y + 4.0,
-            });
+            let right = if matches!(part.symbol, PartSymbol::ShuntReference { .. }) { 2.0 } else { 0.9 };
+            out.push(Extent { x0: x - 0.9, y0: y, x1: x + right, y1: y + 4.0 });
             let value = voltage_value(voltage_v, style);
-            texts(
-                &mut out,
-                &[
-                    (x - 1.0, y + 1.8, "end", d),
-                    (x - 1.0, y + 2.9, "end", &value),
-                ],
-            );
+            texts(&mut out, &[(x - 1.0, y + 1.8, "end", d), (x - 1.0, y + 2.9, "end", &value)]);
         }
         PartSymbol::Comparator { .. } => {
-            out.push(Extent {
-                x0: x,
-                y0: y,
-                x1: x + 8.0,
-                y1: y + 8.0,
-            });
+            out.push(Extent { x0: x, y0: y, x1: x + 8.0, y1: y + 8.0 });
             texts(&mut out, &[(x + 5.4, y + 1.2, "start", d)]);
         }
         PartSymbol::LogicGate { .. } => {
-            out.push(Extent {
-                x0: x,
-                y0: y,
-                x1: x + 8.0,
-                y1: y + 8.0,
-            });
+            out.push(Extent { x0: x, y0: y, x1: x + 8.0, y1: y + 8.0 });
             texts(&mut out, &[(x + 5.4, y + 0.4, "start", d)]);
         }
         PartSymbol::Npn => {
-            out.push(Extent {
-                x0: x,
-                y0: y,
-                x1: x + 5.2,
-                y1: y + 6.0,
-            });
+            out.push(Extent { x0: x, y0: y, x1: x + 5.2, y1: y + 6.0 });
             texts(&mut out, &[(x + 5.6, y + 3.4, "start", d)]);
         }
     }
@@ -702,34 +474,16 @@ fn draw_capacitor(o: &mut String, part: &PlacedPart, capacitance_f: f64, style: 
     let (x, y) = (part.at.x as f64, part.at.y as f64);
     let horizontal = part.direction == Direction::Right;
     // Local frame: along = 0..4 from the first pin, across = perpendicular.
-    let at = |along: f64, across: f64| {
-        if horizontal {
-            (x + along, y + across)
-        } else {
-            (x + across, y + along)
-        }
-    };
+    let at = |along: f64, across: f64| if horizontal { (x + along, y + across) } else { (x + across, y + along) };
     let (gap_a, gap_b) = (1.75, 2.25);
     polyline(o, &[at(0.0, 0.0), at(gap_a, 0.0)], "");
     polyline(o, &[at(gap_b, 0.0), at(4.0, 0.0)], "");
-    polyline(
-        o,
-        &[at(gap_a, -0.9), at(gap_a, 0.9)],
-        r#" stroke-width="2""#,
-    );
+    polyline(o, &[at(gap_a, -0.9), at(gap_a, 0.9)], r#" stroke-width="2""#);
     match style {
-        SymbolStyle::Iec60617 => polyline(
-            o,
-            &[at(gap_b, -0.9), at(gap_b, 0.9)],
-            r#" stroke-width="2""#,
-        ),
+        SymbolStyle::Iec60617 => polyline(o, &[at(gap_b, -0.9), at(gap_b, 0.9)], r#" stroke-width="2""#),
         SymbolStyle::Ieee315 => {
             // The curved plate bows away from the straight one.
-            let (a, c, b) = (
-                at(gap_b + 0.35, -0.9),
-                at(gap_b - 0.15, 0.0),
-                at(gap_b + 0.35, 0.9),
-            );
+            let (a, c, b) = (at(gap_b + 0.35, -0.9), at(gap_b - 0.15, 0.0), at(gap_b + 0.35, 0.9));
             let _ = write!(
                 o,
                 r#"<path d="M{} {} Q{} {} {} {}" stroke-width="2"/>"#,
@@ -779,32 +533,12 @@ pub fn voltage_value(v: f64, style: SymbolStyle) -> String {
 fn draw_breakdown_diode(o: &mut String, x: f64, y: f64, style: SymbolStyle) {
     polyline(o, &[(x, y), (x, y + 1.4)], "");
     polyline(o, &[(x, y + 2.6), (x, y + 4.0)], "");
-    polyline(
-        o,
-        &[
-            (x - 0.7, y + 2.6),
-            (x + 0.7, y + 2.6),
-            (x, y + 1.4),
-            (x - 0.7, y + 2.6),
-        ],
-        "",
-    );
+    polyline(o, &[(x - 0.7, y + 2.6), (x + 0.7, y + 2.6), (x, y + 1.4), (x - 0.7, y + 2.6)], "");
     match style {
-        SymbolStyle::Iec60617 => polyline(
-            o,
-            &[(x - 0.7, y + 1.4), (x + 0.7, y + 1.4), (x + 0.7, y + 1.8)],
-            "",
-        ),
-        SymbolStyle::Ieee315 => polyline(
-            o,
-            &[
-                (x - 0.9, y + 1.0),
-                (x - 0.7, y + 1.4),
-                (x + 0.7, y + 1.4),
-                (x + 0.9, y + 1.8),
-            ],
-            "",
-        ),
+        SymbolStyle::Iec60617 => polyline(o, &[(x - 0.7, y + 1.4), (x + 0.7, y + 1.4), (x + 0.7, y + 1.8)], ""),
+        SymbolStyle::Ieee315 => {
+            polyline(o, &[(x - 0.9, y + 1.0), (x - 0.7, y + 1.4), (x + 0.7, y + 1.4), (x + 0.9, y + 1.8)], "")
+        }
     }
 }
 
@@ -928,9 +662,6 @@ mod tests {
 
     #[test]
     fn escaping_covers_markup_characters() {
-        assert_eq!(
-            xml_escape("<a & 'b'> \"c\"\u{1}"),
-            "&lt;a &amp; &apos;b&apos;&gt; &quot;c&quot;"
-        );
+        assert_eq!(xml_escape("<a & 'b'> \"c\"\u{1}"), "&lt;a &amp; &apos;b&apos;&gt; &quot;c&quot;");
     }
 }

@@ -51,6 +51,7 @@ pub const KEPT_ISSUES: usize = 20;
 /// Longest line read, bytes; a longer line is a malformed row (only its start is kept).
 pub const MAX_LINE_BYTES: usize = 64 * 1024;
 
+
 const CANDIDATES: [(Separator, DecimalMark); 5] = [
     (Separator::Comma, DecimalMark::Point),
     (Separator::Semicolon, DecimalMark::Point),
@@ -68,9 +69,7 @@ enum FieldError {
 /// Whether the mantissa of a decimal number text has a digit other than zero (so a value of zero
 /// means the exponent underflowed).
 fn nonzero_mantissa(text: &[u8]) -> bool {
-    text.iter()
-        .take_while(|&&b| b != b'e' && b != b'E')
-        .any(|b| (b'1'..=b'9').contains(b))
+    text.iter().take_while(|&&b| b != b'e' && b != b'E').any(|b| (b'1'..=b'9').contains(b))
 }
 
 /// Parses one field as a number. Decimal commas are swapped into a stack buffer (no allocation).
@@ -111,12 +110,7 @@ fn parse_field(field: &str, decimal: DecimalMark) -> Result<f64, FieldError> {
 /// Whether the line reads as a data row under the format: the fields at `cols` (time and
 /// voltage; other columns may hold anything, as in exports that put settings beside the data) are
 /// finite numbers. Returns the field count and whether every field is a number.
-fn numeric_row(
-    line: &str,
-    sep: Separator,
-    dec: DecimalMark,
-    cols: (usize, usize),
-) -> Option<(usize, bool)> {
+fn numeric_row(line: &str, sep: Separator, dec: DecimalMark, cols: (usize, usize)) -> Option<(usize, bool)> {
     let mut n = 0;
     let mut found = 0;
     let mut all = true;
@@ -170,18 +164,13 @@ impl CsvParser {
             // Bounded by limits.rs's durations, so row × step stays finite for MAX_SAMPLES rows.
             if !(step > 0.0 && crate::limits::Quantity::Duration.admits(step)) {
                 let (_, hi) = crate::limits::Quantity::Duration.range();
-                return Err(CsvError::InvalidOption {
-                    field: "time_step_s".into(),
-                    reason: format!("must be above zero and at most {hi} s (got {step})"),
-                });
+                return Err(CsvError::InvalidOption { field: "time_step_s".into(), reason: format!("must be above zero and at most {hi} s (got {step})") });
             }
             // Every row time i·step (i below MAX_SAMPLES) must be finite and strictly increasing.
             if !(step * MAX_SAMPLES as f64).is_finite() {
                 return Err(CsvError::InvalidOption {
                     field: "time_step_s".into(),
-                    reason: format!(
-                        "is too large: {MAX_SAMPLES} rows of {step} s overflow a double"
-                    ),
+                    reason: format!("is too large: {MAX_SAMPLES} rows of {step} s overflow a double"),
                 });
             }
         } else if options.time_column == options.voltage_column {
@@ -190,9 +179,7 @@ impl CsvParser {
                 reason: "must differ from time_column".into(),
             });
         }
-        if options.separator == Some(Separator::Comma)
-            && options.decimal == Some(DecimalMark::Comma)
-        {
+        if options.separator == Some(Separator::Comma) && options.decimal == Some(DecimalMark::Comma) {
             return Err(CsvError::InvalidOption {
                 field: "decimal".into(),
                 reason: "a decimal comma needs a semicolon or tab separator".into(),
@@ -208,12 +195,10 @@ impl CsvParser {
             Some(_) => options.voltage_column,
             None => options.time_column.max(options.voltage_column),
         };
-        let needed = last_column
-            .checked_add(1)
-            .ok_or_else(|| CsvError::InvalidOption {
-                field: "voltage_column".into(),
-                reason: format!("column index {last_column} is too large"),
-            })?;
+        let needed = last_column.checked_add(1).ok_or_else(|| CsvError::InvalidOption {
+            field: "voltage_column".into(),
+            reason: format!("column index {last_column} is too large"),
+        })?;
         Ok(CsvParser {
             options,
             format: None,
@@ -260,10 +245,7 @@ impl CsvParser {
             let (head, tail) = piece.split_at(cut);
             self.pending.push_str(head);
             self.pending_lines += head.bytes().filter(|&b| b == b'\n').count();
-            if self.pending_lines >= DETECT_LINES
-                || !tail.is_empty()
-                || self.pending.len() >= DETECT_BYTES
-            {
+            if self.pending_lines >= DETECT_LINES || !tail.is_empty() || self.pending.len() >= DETECT_BYTES {
                 self.detect(false)?;
                 let text = std::mem::take(&mut self.pending);
                 self.consume(&text);
@@ -280,11 +262,7 @@ impl CsvParser {
 
     /// Progress so far.
     pub fn progress(&self) -> CsvProgress {
-        CsvProgress {
-            lines: self.line_no,
-            rows: self.volts.len(),
-            issues: self.issue_count,
-        }
+        CsvProgress { lines: self.line_no, rows: self.volts.len(), issues: self.issue_count }
     }
 
     /// Ends the file: reads any last line without a newline and returns the capture.
@@ -309,16 +287,10 @@ impl CsvParser {
         }
         let format = self.format.take().ok_or(CsvError::Empty)?;
         if self.issue_count > 0 && self.options.strict {
-            return Err(CsvError::BadLines {
-                issues: self.issues,
-                count: self.issue_count,
-                format: Box::new(format),
-            });
+            return Err(CsvError::BadLines { issues: self.issues, count: self.issue_count, format: Box::new(format) });
         }
         if self.volts.is_empty() {
-            return Err(CsvError::NoData {
-                header_lines: format.header_lines,
-            });
+            return Err(CsvError::NoData { header_lines: format.header_lines });
         }
         Ok(Capture {
             time_s: self.time_s,
@@ -342,12 +314,7 @@ impl CsvParser {
 
     fn detect(&mut self, at_end: bool) -> Result<(), CsvError> {
         let total = self.pending.split('\n').count();
-        let mut lines: Vec<&str> = self
-            .pending
-            .split('\n')
-            .take(DETECT_LINES)
-            .map(clean_line)
-            .collect();
+        let mut lines: Vec<&str> = self.pending.split('\n').take(DETECT_LINES).map(clean_line).collect();
         // Before the end of the file the last piece may be a partial line: leave it out.
         if !at_end && lines.len() == total && !self.pending.ends_with('\n') && lines.len() > 1 {
             lines.pop();
@@ -359,10 +326,7 @@ impl CsvParser {
         let candidates: Vec<(Separator, DecimalMark)> = CANDIDATES
             .iter()
             .copied()
-            .filter(|(s, d)| {
-                self.options.separator.is_none_or(|x| x == *s)
-                    && self.options.decimal.is_none_or(|x| x == *d)
-            })
+            .filter(|(s, d)| self.options.separator.is_none_or(|x| x == *s) && self.options.decimal.is_none_or(|x| x == *d))
             .chain(
                 // A hand-set pair outside the candidate list (e.g. tab with a point is listed; comma with a comma is refused in new()).
                 match (self.options.separator, self.options.decimal) {
@@ -414,11 +378,7 @@ impl CsvParser {
         }
         let (_, separator, decimal, first, columns) = match best {
             Some(b) => b,
-            None => {
-                return Err(CsvError::NoNumericData {
-                    lines_checked: lines.len(),
-                })
-            }
+            None => return Err(CsvError::NoNumericData { lines_checked: lines.len() }),
         };
         let header_lines = match (fixed_start, self.options.header) {
             (Some(n), _) => n,
@@ -431,19 +391,8 @@ impl CsvParser {
             (_, None, HeaderMode::Yes) => "a header as set".to_string(),
             (n, None, _) => {
                 let (a, b) = self.cols();
-                let columns = if a == b {
-                    format!("column {}", a + 1)
-                } else {
-                    format!("columns {} and {}", a + 1, b + 1)
-                };
-                let line: String = lines
-                    .first()
-                    .copied()
-                    .unwrap_or("")
-                    .trim()
-                    .chars()
-                    .take(40)
-                    .collect();
+                let columns = if a == b { format!("column {}", a + 1) } else { format!("columns {} and {}", a + 1, b + 1) };
+                let line: String = lines.first().copied().unwrap_or("").trim().chars().take(40).collect();
                 format!(
                     "header assumed: the first {} does not read as numbers in {columns} under the detected format (line 1: \"{line}\"); set the header to `no` to read it as data",
                     if n == 1 { "line".to_string() } else { format!("{n} lines") }
@@ -467,8 +416,7 @@ impl CsvParser {
             time_step_s: self.options.time_step_s,
             separator_detected: self.options.separator.is_none(),
             decimal_detected: self.options.decimal.is_none(),
-            header_detected: self.options.header_lines.is_none()
-                && self.options.header == HeaderMode::Auto,
+            header_detected: self.options.header_lines.is_none() && self.options.header == HeaderMode::Auto,
             header_reason,
         });
         Ok(())
@@ -518,11 +466,7 @@ impl CsvParser {
     fn record_issue(&mut self, kind: CsvIssueKind, line: &str) {
         self.issue_count = self.issue_count.saturating_add(1);
         if self.issues.len() < KEPT_ISSUES {
-            self.issues.push(CsvIssue {
-                line: self.line_no,
-                kind,
-                text: Snippet::new(line),
-            });
+            self.issues.push(CsvIssue { line: self.line_no, kind, text: Snippet::new(line) });
         }
     }
 
@@ -546,11 +490,7 @@ impl CsvParser {
             return;
         }
         let (sep, dec) = (format.separator.byte(), format.decimal);
-        let tcol = if format.time_step_s.is_some() {
-            usize::MAX
-        } else {
-            format.time_column
-        };
+        let tcol = if format.time_step_s.is_some() { usize::MAX } else { format.time_column };
         let vcol = format.voltage_column;
         let mut count = 0usize;
         let mut t = None;
@@ -582,10 +522,7 @@ impl CsvParser {
         }
         let expected = format.columns.max(self.needed);
         let as_u32 = |n: usize| u32::try_from(n).unwrap_or(u32::MAX);
-        let field_count = CsvIssueKind::FieldCount {
-            found: as_u32(count),
-            expected: as_u32(expected),
-        };
+        let field_count = CsvIssueKind::FieldCount { found: as_u32(count), expected: as_u32(expected) };
         if count != format.columns || count < self.needed {
             problem = Some(field_count);
         }

@@ -126,10 +126,7 @@ fn check(design: &TriggerDesign, s: &DebounceSettings) -> Result<(), DesignError
 }
 
 /// Press and release delays in closed form, and parts for a target delay.
-pub fn rc_debounce(
-    design: &TriggerDesign,
-    s: &DebounceSettings,
-) -> Result<DebounceResult, DesignError> {
+pub fn rc_debounce(design: &TriggerDesign, s: &DebounceSettings) -> Result<DebounceResult, DesignError> {
     check(design, s)?;
     let t = design.thresholds;
     let vdd = s.supply_v;
@@ -151,10 +148,7 @@ pub fn rc_debounce(
         positive("debounce.target_delay_s", td)?;
         if td < s.bounce_s {
             return Err(DesignError::infeasible(
-                format!(
-                    "a {td} s debounce delay is shorter than the {} s bounce",
-                    s.bounce_s
-                ),
+                format!("a {td} s debounce delay is shorter than the {} s bounce", s.bounce_s),
                 "ask for a delay longer than the bounce",
             ));
         }
@@ -192,10 +186,7 @@ pub struct DebounceSimulation {
 }
 
 /// Simulates one press and one release with a seeded random bounce.
-pub fn simulate_debounce(
-    design: &TriggerDesign,
-    s: &DebounceSettings,
-) -> Result<DebounceSimulation, DesignError> {
+pub fn simulate_debounce(design: &TriggerDesign, s: &DebounceSettings) -> Result<DebounceSimulation, DesignError> {
     check(design, s)?;
     let t = design.thresholds;
     let vdd = s.supply_v;
@@ -217,9 +208,7 @@ pub fn simulate_debounce(
     let toggles = (s.bounce_toggles.min(1000) as usize).div_ceil(2) * 2;
     let mut rng = Rng::new(s.seed);
     let mut draw = |start: f64| -> Vec<f64> {
-        let mut v: Vec<f64> = (0..toggles)
-            .map(|_| start + rng.uniform() * s.bounce_s)
-            .collect();
+        let mut v: Vec<f64> = (0..toggles).map(|_| start + rng.uniform() * s.bounce_s).collect();
         v.sort_by(f64::total_cmp);
         v
     };
@@ -248,11 +237,7 @@ pub fn simulate_debounce(
     let mut step_count = 0usize;
     let mut v = vdd;
     let mut input_high = true; // at rest the node sits at VDD, above VT+
-    let mut trace = vec![TracePoint {
-        t_s: 0.0,
-        input_v: v,
-        output_v: high_out(input_high),
-    }];
+    let mut trace = vec![TracePoint { t_s: 0.0, input_v: v, output_v: high_out(input_high) }];
     let (mut press_edges, mut release_edges) = (0usize, 0usize);
     let (mut press_delay, mut release_delay) = (None, None);
     let mut now = 0.0_f64;
@@ -260,45 +245,23 @@ pub fn simulate_debounce(
         let (t0, closed) = w[0];
         let t1 = w[1].0;
         now = now.max(t0);
-        let (target, tau) = if closed {
-            (0.0, tau_closed)
-        } else {
-            (vdd, tau_open)
-        };
+        let (target, tau) = if closed { (0.0, tau_closed) } else { (vdd, tau_open) };
         let f = move |x: f64| (target - x) / tau;
         while now < t1 {
-            let ev = if input_high {
-                Event {
-                    level_v: t.vt_lower_v,
-                    upward: false,
-                }
-            } else {
-                Event {
-                    level_v: t.vt_upper_v,
-                    upward: true,
-                }
-            };
+            let ev = if input_high { Event { level_v: t.vt_lower_v, upward: false } } else { Event { level_v: t.vt_upper_v, upward: true } };
             let base = now;
             let out_v = high_out(input_high);
             let a = advance(&f, v, t1 - now, h, Some(ev), |dt, x| {
                 step_count += 1;
                 if step_count.is_multiple_of(stride) {
-                    trace.push(TracePoint {
-                        t_s: base + dt,
-                        input_v: x,
-                        output_v: out_v,
-                    });
+                    trace.push(TracePoint { t_s: base + dt, input_v: x, output_v: out_v });
                 }
             })?;
             v = a.v;
             if a.hit {
                 now += a.elapsed_s;
                 input_high = !input_high;
-                trace.push(TracePoint {
-                    t_s: now,
-                    input_v: v,
-                    output_v: high_out(input_high),
-                });
+                trace.push(TracePoint { t_s: now, input_v: v, output_v: high_out(input_high) });
                 if now < release_at {
                     press_edges += 1;
                     press_delay.get_or_insert(now);
@@ -328,24 +291,13 @@ mod tests {
     use crate::analysis::{Sense, Thresholds};
 
     fn schmitt(up: f64, lo: f64) -> TriggerDesign {
-        TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-            },
-            output_high_v: 3.3,
-            output_low_v: 0.0,
-            sense: Sense::Inverting,
-        }
+        TriggerDesign { thresholds: Thresholds { vt_upper_v: up, vt_lower_v: lo }, output_high_v: 3.3, output_low_v: 0.0, sense: Sense::Inverting }
     }
 
     #[test]
     fn closed_form_matches_simulation_without_bounce() {
         let d = schmitt(1.9, 1.1);
-        let s = DebounceSettings {
-            bounce_s: 0.0,
-            ..Default::default()
-        };
+        let s = DebounceSettings { bounce_s: 0.0, ..Default::default() };
         let c = rc_debounce(&d, &s).unwrap();
         let sim = simulate_debounce(&d, &s).unwrap();
         assert_eq!((sim.press_edges, sim.release_edges), (1, 1));
@@ -356,11 +308,7 @@ mod tests {
     #[test]
     fn parts_for_target_meet_it_and_outlast_bounce() {
         let d = schmitt(1.9, 1.1);
-        let s = DebounceSettings {
-            target_delay_s: Some(10e-3),
-            bounce_s: 4e-3,
-            ..Default::default()
-        };
+        let s = DebounceSettings { target_delay_s: Some(10e-3), bounce_s: 4e-3, ..Default::default() };
         let r = rc_debounce(&d, &s).unwrap();
         let s2 = DebounceSettings {
             r1_ohm: r.r1_for_target_ohm.unwrap(),
@@ -375,33 +323,15 @@ mod tests {
         assert!(back.outlasts_bounce);
         let sim = simulate_debounce(&d, &s2).unwrap();
         assert_eq!((sim.press_edges, sim.release_edges), (1, 1), "{sim:?}");
-        assert!(rc_debounce(
-            &d,
-            &DebounceSettings {
-                target_delay_s: Some(1e-3),
-                ..s
-            }
-        )
-        .is_err());
+        assert!(rc_debounce(&d, &DebounceSettings { target_delay_s: Some(1e-3), ..s }).is_err());
     }
 
     #[test]
     fn too_short_a_delay_follows_the_bounce() {
         // 10 µs delay against a 4 ms bounce: the output chatters.
         let d = schmitt(1.9, 1.1);
-        let s = DebounceSettings {
-            r1_ohm: 100.0,
-            r2_ohm: 100.0,
-            c_f: 100e-9,
-            bounce_s: 4e-3,
-            ..Default::default()
-        };
+        let s = DebounceSettings { r1_ohm: 100.0, r2_ohm: 100.0, c_f: 100e-9, bounce_s: 4e-3, ..Default::default() };
         let sim = simulate_debounce(&d, &s).unwrap();
-        assert!(
-            sim.press_edges > 1 && sim.release_edges > 1,
-            "{} {}",
-            sim.press_edges,
-            sim.release_edges
-        );
+        assert!(sim.press_edges > 1 && sim.release_edges > 1, "{} {}", sim.press_edges, sim.release_edges);
     }
 }

@@ -107,14 +107,10 @@ fn slope(field: &str, v: f64) -> Result<(), DesignError> {
     if v.is_finite() && v.abs() <= MAX_SLOPE_V_PER_S {
         Ok(())
     } else {
-        Err(DesignError::invalid(
-            field,
-            format!(
-                "must be between −{MAX_SLOPE_V_PER_S:e} and {MAX_SLOPE_V_PER_S:e} V/s (got {v})"
-            ),
-        ))
+        Err(DesignError::invalid(field, format!("must be between −{MAX_SLOPE_V_PER_S:e} and {MAX_SLOPE_V_PER_S:e} V/s (got {v})")))
     }
 }
+
 
 impl Component {
     /// Checks the component for a signal sampled at `sample_rate_hz`.
@@ -132,40 +128,21 @@ impl Component {
             Ok(())
         };
         match *self {
-            Component::Dc { level_v } => {
-                limit(Quantity::Voltage, "components.level_v", level_v).map(|_| ())
-            }
-            Component::Sine {
-                amplitude_v,
-                frequency_hz,
-                phase_deg,
-            }
-            | Component::Triangle {
-                amplitude_v,
-                frequency_hz,
-                phase_deg,
-            } => {
+            Component::Dc { level_v } => limit(Quantity::Voltage, "components.level_v", level_v).map(|_| ()),
+            Component::Sine { amplitude_v, frequency_hz, phase_deg }
+            | Component::Triangle { amplitude_v, frequency_hz, phase_deg } => {
                 limit(Quantity::Voltage, "components.amplitude_v", amplitude_v)?;
                 phase("components.phase_deg", phase_deg)?;
                 finite("components.phase_deg", phase_deg)?;
                 freq(frequency_hz)
             }
-            Component::Square {
-                amplitude_v,
-                frequency_hz,
-                phase_deg,
-                duty,
-                rise_time_s,
-            } => {
+            Component::Square { amplitude_v, frequency_hz, phase_deg, duty, rise_time_s } => {
                 limit(Quantity::Voltage, "components.amplitude_v", amplitude_v)?;
                 phase("components.phase_deg", phase_deg)?;
                 finite("components.phase_deg", phase_deg)?;
                 freq(frequency_hz)?;
                 if !(duty > 0.0 && duty < 1.0) {
-                    return Err(DesignError::invalid(
-                        "components.duty",
-                        format!("must be between 0 and 1, exclusive (got {duty})"),
-                    ));
+                    return Err(DesignError::invalid("components.duty", format!("must be between 0 and 1, exclusive (got {duty})")));
                 }
                 crate::error::non_negative("components.rise_time_s", rise_time_s)?;
                 limit(Quantity::Duration, "components.rise_time_s", rise_time_s)?;
@@ -182,36 +159,21 @@ impl Component {
                 }
                 Ok(())
             }
-            Component::Ramp {
-                slope_v_per_s,
-                start_s,
-                stop_s,
-            } => {
+            Component::Ramp { slope_v_per_s, start_s, stop_s } => {
                 slope("components.slope_v_per_s", slope_v_per_s)?;
                 limit(Quantity::Duration, "components.start_s", start_s)?;
                 if let Some(s) = stop_s {
                     limit(Quantity::Duration, "components.stop_s", s)?;
                     if s < start_s {
-                        return Err(DesignError::invalid(
-                            "components.stop_s",
-                            "must not be before start_s",
-                        ));
+                        return Err(DesignError::invalid("components.stop_s", "must not be before start_s"));
                     }
                 }
                 Ok(())
             }
-            Component::RcApproach {
-                step_v,
-                time_constant_s,
-                start_s,
-            } => {
+            Component::RcApproach { step_v, time_constant_s, start_s } => {
                 limit(Quantity::Voltage, "components.step_v", step_v)?;
                 positive("components.time_constant_s", time_constant_s)?;
-                limit(
-                    Quantity::Duration,
-                    "components.time_constant_s",
-                    time_constant_s,
-                )?;
+                limit(Quantity::Duration, "components.time_constant_s", time_constant_s)?;
                 limit(Quantity::Duration, "components.start_s", start_s).map(|_| ())
             }
             Component::Drift { rate_v_per_s } => slope("components.rate_v_per_s", rate_v_per_s),
@@ -223,46 +185,21 @@ impl Component {
     pub fn value_at(&self, t_s: f64) -> f64 {
         match *self {
             Component::Dc { level_v } => level_v,
-            Component::Sine {
-                amplitude_v,
-                frequency_hz,
-                phase_deg,
-            } => {
+            Component::Sine { amplitude_v, frequency_hz, phase_deg } => {
                 let p = frac(frequency_hz * t_s + phase_deg / 360.0);
                 amplitude_v * libm::sin(2.0 * PI * p)
             }
-            Component::Triangle {
-                amplitude_v,
-                frequency_hz,
-                phase_deg,
-            } => amplitude_v * triangle(frac(frequency_hz * t_s + phase_deg / 360.0)),
-            Component::Square {
-                amplitude_v,
-                frequency_hz,
-                phase_deg,
-                duty,
-                rise_time_s,
-            } => {
-                amplitude_v
-                    * square(
-                        frac(frequency_hz * t_s + phase_deg / 360.0),
-                        duty,
-                        rise_time_s * frequency_hz,
-                    )
+            Component::Triangle { amplitude_v, frequency_hz, phase_deg } => {
+                amplitude_v * triangle(frac(frequency_hz * t_s + phase_deg / 360.0))
             }
-            Component::Ramp {
-                slope_v_per_s,
-                start_s,
-                stop_s,
-            } => {
+            Component::Square { amplitude_v, frequency_hz, phase_deg, duty, rise_time_s } => {
+                amplitude_v * square(frac(frequency_hz * t_s + phase_deg / 360.0), duty, rise_time_s * frequency_hz)
+            }
+            Component::Ramp { slope_v_per_s, start_s, stop_s } => {
                 let end = stop_s.unwrap_or(f64::INFINITY);
                 slope_v_per_s * (t_s.clamp(start_s, end.max(start_s)) - start_s)
             }
-            Component::RcApproach {
-                step_v,
-                time_constant_s,
-                start_s,
-            } => {
+            Component::RcApproach { step_v, time_constant_s, start_s } => {
                 if t_s < start_s {
                     0.0
                 } else {
@@ -330,11 +267,7 @@ impl Default for SignalDefinition {
             seed: 1,
             components: vec![
                 Component::Dc { level_v: 2.5 },
-                Component::Sine {
-                    amplitude_v: 2.0,
-                    frequency_hz: 100.0,
-                    phase_deg: 0.0,
-                },
+                Component::Sine { amplitude_v: 2.0, frequency_hz: 100.0, phase_deg: 0.0 },
             ],
             noise: vec![NoiseSource::White { rms_v: 0.05 }],
         }
@@ -368,10 +301,7 @@ impl SignalDefinition {
         limit(Quantity::Duration, "duration_s", self.duration_s)?;
         let n = (self.duration_s * self.sample_rate_hz).round();
         if n < 2.0 {
-            return Err(DesignError::invalid(
-                "duration_s",
-                "the record must hold at least two samples: lengthen it or raise the sample rate",
-            ));
+            return Err(DesignError::invalid("duration_s", "the record must hold at least two samples: lengthen it or raise the sample rate"));
         }
         if n > MAX_SAMPLES as f64 {
             return Err(DesignError::invalid(
@@ -395,10 +325,7 @@ impl SignalDefinition {
 
     /// The uniform time base starting at 0.
     pub fn time_base(&self) -> TimeBase {
-        TimeBase::Uniform {
-            start_s: 0.0,
-            step_s: self.step_s(),
-        }
+        TimeBase::Uniform { start_s: 0.0, step_s: self.step_s() }
     }
 
     /// Writes the sum of the components into `out` (overwriting it). Call [`Self::validate`] first.
@@ -424,11 +351,7 @@ impl SignalDefinition {
         let n = gen.samples();
         buffers.clean_v.resize(n, 0.0);
         buffers.noisy_v.resize(n, 0.0);
-        for (c, v) in buffers
-            .clean_v
-            .chunks_mut(BLOCK)
-            .zip(buffers.noisy_v.chunks_mut(BLOCK))
-        {
+        for (c, v) in buffers.clean_v.chunks_mut(BLOCK).zip(buffers.noisy_v.chunks_mut(BLOCK)) {
             gen.next_block(c, v);
         }
         Ok(())
@@ -438,10 +361,7 @@ impl SignalDefinition {
     pub fn generate(&self) -> Result<GeneratedSignal, DesignError> {
         let mut buffers = SignalBuffers::default();
         self.generate_into(&mut buffers)?;
-        Ok(GeneratedSignal {
-            time: self.time_base(),
-            buffers,
-        })
+        Ok(GeneratedSignal { time: self.time_base(), buffers })
     }
 }
 
@@ -452,35 +372,16 @@ pub fn fill_component(c: &Component, step_s: f64, first_index: usize, out: &mut 
     let t_at = |k: usize| (first_index + k) as f64 * step_s;
     match *c {
         Component::Dc { level_v } => out.iter_mut().for_each(|v| *v += level_v),
-        Component::Sine {
-            amplitude_v,
-            frequency_hz,
-            phase_deg,
-        } => add_sinusoid(
-            out,
-            first_index,
-            step_s,
-            amplitude_v,
-            frequency_hz,
-            phase_deg.to_radians(),
-        ),
-        Component::Triangle {
-            amplitude_v,
-            frequency_hz,
-            phase_deg,
-        } => {
+        Component::Sine { amplitude_v, frequency_hz, phase_deg } => {
+            add_sinusoid(out, first_index, step_s, amplitude_v, frequency_hz, phase_deg.to_radians())
+        }
+        Component::Triangle { amplitude_v, frequency_hz, phase_deg } => {
             let p0 = phase_deg / 360.0;
             for (k, v) in out.iter_mut().enumerate() {
                 *v += amplitude_v * triangle(frac(frequency_hz * t_at(k) + p0));
             }
         }
-        Component::Square {
-            amplitude_v,
-            frequency_hz,
-            phase_deg,
-            duty,
-            rise_time_s,
-        } => {
+        Component::Square { amplitude_v, frequency_hz, phase_deg, duty, rise_time_s } => {
             let p0 = phase_deg / 360.0;
             let r = rise_time_s * frequency_hz;
             for (k, v) in out.iter_mut().enumerate() {
@@ -492,11 +393,7 @@ pub fn fill_component(c: &Component, step_s: f64, first_index: usize, out: &mut 
                 *v += c.value_at(t_at(k));
             }
         }
-        Component::RcApproach {
-            step_v,
-            time_constant_s,
-            start_s,
-        } => {
+        Component::RcApproach { step_v, time_constant_s, start_s } => {
             let decay = libm::exp(-step_s / time_constant_s);
             let mut k = 0;
             while k < out.len() {
@@ -545,18 +442,9 @@ impl<'a> SignalGenerator<'a> {
     pub fn new(definition: &'a SignalDefinition) -> Result<Self, DesignError> {
         let samples = definition.validate()?;
         let step = definition.step_s();
-        let noise = definition
-            .noise
-            .iter()
-            .enumerate()
-            .map(|(i, s)| NoiseGenerator::new(s, source_seed(definition.seed, i), step))
-            .collect();
-        Ok(SignalGenerator {
-            definition,
-            noise,
-            index: 0,
-            samples,
-        })
+        let noise =
+            definition.noise.iter().enumerate().map(|(i, s)| NoiseGenerator::new(s, source_seed(definition.seed, i), step)).collect();
+        Ok(SignalGenerator { definition, noise, index: 0, samples })
     }
 
     /// Samples in the whole record.
@@ -594,46 +482,18 @@ mod tests {
     use super::*;
 
     fn def(components: Vec<Component>) -> SignalDefinition {
-        SignalDefinition {
-            sample_rate_hz: 1e5,
-            duration_s: 0.05,
-            seed: 1,
-            components,
-            noise: vec![],
-        }
+        SignalDefinition { sample_rate_hz: 1e5, duration_s: 0.05, seed: 1, components, noise: vec![] }
     }
 
     #[test]
     fn fill_matches_direct_evaluation() {
         let comps = vec![
             Component::Dc { level_v: 1.0 },
-            Component::Sine {
-                amplitude_v: 2.0,
-                frequency_hz: 123.0,
-                phase_deg: 30.0,
-            },
-            Component::Triangle {
-                amplitude_v: 0.5,
-                frequency_hz: 77.0,
-                phase_deg: 10.0,
-            },
-            Component::Square {
-                amplitude_v: 0.3,
-                frequency_hz: 50.0,
-                phase_deg: 0.0,
-                duty: 0.3,
-                rise_time_s: 1e-3,
-            },
-            Component::Ramp {
-                slope_v_per_s: 10.0,
-                start_s: 0.01,
-                stop_s: Some(0.02),
-            },
-            Component::RcApproach {
-                step_v: -1.0,
-                time_constant_s: 3e-3,
-                start_s: 0.005,
-            },
+            Component::Sine { amplitude_v: 2.0, frequency_hz: 123.0, phase_deg: 30.0 },
+            Component::Triangle { amplitude_v: 0.5, frequency_hz: 77.0, phase_deg: 10.0 },
+            Component::Square { amplitude_v: 0.3, frequency_hz: 50.0, phase_deg: 0.0, duty: 0.3, rise_time_s: 1e-3 },
+            Component::Ramp { slope_v_per_s: 10.0, start_s: 0.01, stop_s: Some(0.02) },
+            Component::RcApproach { step_v: -1.0, time_constant_s: 3e-3, start_s: 0.005 },
             Component::Drift { rate_v_per_s: 0.5 },
         ];
         let d = def(comps.clone());
@@ -641,11 +501,7 @@ mod tests {
         for i in (0..g.buffers.clean_v.len()).step_by(37) {
             let t = i as f64 / 1e5;
             let direct: f64 = comps.iter().map(|c| c.value_at(t)).sum();
-            assert!(
-                (g.buffers.clean_v[i] - direct).abs() < 1e-12,
-                "sample {i}: {} vs {direct}",
-                g.buffers.clean_v[i]
-            );
+            assert!((g.buffers.clean_v[i] - direct).abs() < 1e-12, "sample {i}: {} vs {direct}", g.buffers.clean_v[i]);
         }
         assert_eq!(g.buffers.clean_v, g.buffers.noisy_v);
     }
@@ -653,59 +509,27 @@ mod tests {
     #[test]
     fn shapes_hit_their_defining_points() {
         // Sine: quarter period → peak. Triangle: quarter → +A, three quarters → −A. Square: mid-edge at 0.
-        let s = Component::Sine {
-            amplitude_v: 2.0,
-            frequency_hz: 10.0,
-            phase_deg: 0.0,
-        };
+        let s = Component::Sine { amplitude_v: 2.0, frequency_hz: 10.0, phase_deg: 0.0 };
         assert!((s.value_at(0.025) - 2.0).abs() < 1e-12);
-        let t = Component::Triangle {
-            amplitude_v: 1.0,
-            frequency_hz: 10.0,
-            phase_deg: 0.0,
-        };
+        let t = Component::Triangle { amplitude_v: 1.0, frequency_hz: 10.0, phase_deg: 0.0 };
         assert!((t.value_at(0.025) - 1.0).abs() < 1e-12 && (t.value_at(0.075) + 1.0).abs() < 1e-12);
-        let q = Component::Square {
-            amplitude_v: 1.0,
-            frequency_hz: 10.0,
-            phase_deg: 0.0,
-            duty: 0.5,
-            rise_time_s: 0.01,
-        };
+        let q = Component::Square { amplitude_v: 1.0, frequency_hz: 10.0, phase_deg: 0.0, duty: 0.5, rise_time_s: 0.01 };
         assert!(q.value_at(0.0).abs() < 1e-12);
         assert!((q.value_at(0.0025) - 0.5).abs() < 1e-9);
         assert!((q.value_at(0.02) - 1.0).abs() < 1e-12);
         assert!(q.value_at(0.05).abs() < 1e-9);
         assert!((q.value_at(0.07) + 1.0).abs() < 1e-12);
-        let rc = Component::RcApproach {
-            step_v: 1.0,
-            time_constant_s: 1.0,
-            start_s: 0.0,
-        };
+        let rc = Component::RcApproach { step_v: 1.0, time_constant_s: 1.0, start_s: 0.0 };
         assert!((rc.value_at(1.0) - (1.0 - (-1.0f64).exp())).abs() < 1e-15);
     }
 
     #[test]
     fn validation_catches_bad_values() {
-        assert!(def(vec![Component::Sine {
-            amplitude_v: 1.0,
-            frequency_hz: 6e4,
-            phase_deg: 0.0
-        }])
-        .validate()
-        .is_err());
-        assert!(def(vec![Component::Square {
-            amplitude_v: 1.0,
-            frequency_hz: 100.0,
-            phase_deg: 0.0,
-            duty: 0.5,
-            rise_time_s: 0.006
-        }])
-        .validate()
-        .is_err());
-        assert!(def(vec![Component::Dc { level_v: f64::NAN }])
+        assert!(def(vec![Component::Sine { amplitude_v: 1.0, frequency_hz: 6e4, phase_deg: 0.0 }]).validate().is_err());
+        assert!(def(vec![Component::Square { amplitude_v: 1.0, frequency_hz: 100.0, phase_deg: 0.0, duty: 0.5, rise_time_s: 0.006 }])
             .validate()
             .is_err());
+        assert!(def(vec![Component::Dc { level_v: f64::NAN }]).validate().is_err());
         let mut d = def(vec![]);
         d.duration_s = 1e6;
         assert!(d.validate().is_err());
@@ -716,22 +540,9 @@ mod tests {
     #[test]
     fn blocks_of_any_size_give_the_same_signal() {
         let mut d = SignalDefinition::default();
-        d.components.push(Component::RcApproach {
-            step_v: 1.0,
-            time_constant_s: 1e-3,
-            start_s: 0.0123,
-        });
-        d.noise.push(NoiseSource::BandLimited {
-            rms_v: 0.1,
-            corner_hz: 500.0,
-            poles: 3,
-        });
-        d.noise.push(NoiseSource::Spikes {
-            rate_hz: 300.0,
-            amplitude_v: 1.0,
-            decay_s: 1e-4,
-            polarity: Default::default(),
-        });
+        d.components.push(Component::RcApproach { step_v: 1.0, time_constant_s: 1e-3, start_s: 0.0123 });
+        d.noise.push(NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 500.0, poles: 3 });
+        d.noise.push(NoiseSource::Spikes { rate_hz: 300.0, amplitude_v: 1.0, decay_s: 1e-4, polarity: Default::default() });
         let whole = d.generate().unwrap();
         for block in [RESYNC, 3 * RESYNC, 1000] {
             let mut gen = SignalGenerator::new(&d).unwrap();
@@ -743,14 +554,8 @@ mod tests {
             for i in 0..n {
                 // Bit-identical for blocks at multiples of RESYNC; within 1e-13 otherwise (re-anchored phasors).
                 let tol = if block % RESYNC == 0 { 0.0 } else { 1e-13 };
-                assert!(
-                    (c[i] - whole.buffers.clean_v[i]).abs() <= tol,
-                    "block {block} sample {i}"
-                );
-                assert!(
-                    (v[i] - whole.buffers.noisy_v[i]).abs() <= tol,
-                    "block {block} sample {i}"
-                );
+                assert!((c[i] - whole.buffers.clean_v[i]).abs() <= tol, "block {block} sample {i}");
+                assert!((v[i] - whole.buffers.noisy_v[i]).abs() <= tol, "block {block} sample {i}");
             }
         }
     }
@@ -758,11 +563,7 @@ mod tests {
     #[test]
     fn same_seed_same_signal() {
         let mut d = SignalDefinition::default();
-        d.noise.push(NoiseSource::BandLimited {
-            rms_v: 0.1,
-            corner_hz: 500.0,
-            poles: 2,
-        });
+        d.noise.push(NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 500.0, poles: 2 });
         let a = d.generate().unwrap();
         let b = d.generate().unwrap();
         assert_eq!(a, b);

@@ -69,16 +69,16 @@ use serde::{Deserialize, Serialize};
 pub use crate::analysis::{Sense, Thresholds};
 
 pub mod csv;
+pub mod sinusoid;
 pub mod debounce;
 pub mod generate;
 pub mod noise;
 pub mod ode;
 pub mod oscillator;
-pub mod output_edges;
 pub mod plot;
 pub mod report;
+pub mod output_edges;
 pub mod rice;
-pub mod sinusoid;
 pub mod sweep;
 pub mod timing;
 pub mod trigger;
@@ -122,10 +122,7 @@ impl TimeBase {
     /// A borrowed view for the simulation functions.
     pub fn view(&self) -> Times<'_> {
         match self {
-            TimeBase::Uniform { start_s, step_s } => Times::Uniform {
-                start_s: *start_s,
-                step_s: *step_s,
-            },
+            TimeBase::Uniform { start_s, step_s } => Times::Uniform { start_s: *start_s, step_s: *step_s },
             TimeBase::Samples { times_s } => Times::Samples(times_s),
         }
     }
@@ -205,10 +202,7 @@ mod tests {
 
     #[test]
     fn index_lookup_on_both_time_bases() {
-        let u = Times::Uniform {
-            start_s: 1.0,
-            step_s: 0.5,
-        };
+        let u = Times::Uniform { start_s: 1.0, step_s: 0.5 };
         assert_eq!(u.index_at_or_after(0.0, 10), 0);
         assert_eq!(u.index_at_or_after(1.0, 10), 0);
         assert_eq!(u.index_at_or_after(1.1, 10), 1);
@@ -227,11 +221,6 @@ mod tests {
         assert!(Times::Samples(&t).validate(3).is_err());
         assert!(Times::Samples(&t).validate(2).is_ok());
         assert!(Times::Samples(&t).validate(4).is_err());
-        assert!(Times::Uniform {
-            start_s: 0.0,
-            step_s: 0.0
-        }
-        .validate(3)
-        .is_err());
+        assert!(Times::Uniform { start_s: 0.0, step_s: 0.0 }.validate(3).is_err());
     }
 }

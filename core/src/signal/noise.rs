@@ -60,11 +60,7 @@ pub struct Harmonic {
 
 impl Default for Harmonic {
     fn default() -> Self {
-        Harmonic {
-            order: 3,
-            relative_amplitude: 0.2,
-            phase_deg: 0.0,
-        }
+        Harmonic { order: 3, relative_amplitude: 0.2, phase_deg: 0.0 }
     }
 }
 
@@ -148,11 +144,7 @@ impl NoiseSource {
                 non_negative_finite("noise.rms_v", *rms_v)?;
                 limit(Quantity::Voltage, "noise.rms_v", *rms_v).map(|_| ())
             }
-            NoiseSource::BandLimited {
-                rms_v,
-                corner_hz,
-                poles,
-            } => {
+            NoiseSource::BandLimited { rms_v, corner_hz, poles } => {
                 non_negative_finite("noise.rms_v", *rms_v)?;
                 limit(Quantity::Voltage, "noise.rms_v", *rms_v)?;
                 positive("noise.corner_hz", *corner_hz)?;
@@ -165,27 +157,15 @@ impl NoiseSource {
                 }
                 Ok(())
             }
-            NoiseSource::Hum {
-                mains,
-                amplitude_v,
-                phase_deg,
-                harmonics,
-            } => {
+            NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } => {
                 non_negative_finite("noise.amplitude_v", *amplitude_v)?;
                 limit(Quantity::Voltage, "noise.amplitude_v", *amplitude_v)?;
                 super::sinusoid::phase("noise.phase_deg", *phase_deg)?;
                 for h in harmonics {
                     if h.order == 0 {
-                        return Err(DesignError::invalid(
-                            "noise.harmonics.order",
-                            "must be 1 or more",
-                        ));
+                        return Err(DesignError::invalid("noise.harmonics.order", "must be 1 or more"));
                     }
-                    limit(
-                        Quantity::Gain,
-                        "noise.harmonics.relative_amplitude",
-                        h.relative_amplitude.abs().max(1e-3),
-                    )?;
+                    limit(Quantity::Gain, "noise.harmonics.relative_amplitude", h.relative_amplitude.abs().max(1e-3))?;
                     super::sinusoid::phase("noise.harmonics.phase_deg", h.phase_deg)?;
                     let f = mains.hz() * h.order as f64;
                     if f >= nyquist {
@@ -201,21 +181,12 @@ impl NoiseSource {
                 if mains.hz() >= nyquist {
                     return Err(DesignError::invalid(
                         "sample_rate_hz",
-                        format!(
-                            "hum at {} Hz needs a sample rate above {} Hz",
-                            mains.hz(),
-                            2.0 * mains.hz()
-                        ),
+                        format!("hum at {} Hz needs a sample rate above {} Hz", mains.hz(), 2.0 * mains.hz()),
                     ));
                 }
                 Ok(())
             }
-            NoiseSource::Spikes {
-                rate_hz,
-                amplitude_v,
-                decay_s,
-                ..
-            } => {
+            NoiseSource::Spikes { rate_hz, amplitude_v, decay_s, .. } => {
                 non_negative_finite("noise.rate_hz", *rate_hz)?;
                 if *rate_hz > sample_rate_hz {
                     return Err(DesignError::invalid(
@@ -236,23 +207,12 @@ impl NoiseSource {
     /// spikes (not Gaussian). See [`super::rice::spectral_moments`] for the formulas.
     pub fn gaussian_moments(&self, sample_rate_hz: f64) -> Option<(f64, f64)> {
         match *self {
-            NoiseSource::White { rms_v } => Some(super::rice::spectral_moments(
+            NoiseSource::White { rms_v } => {
+                Some(super::rice::spectral_moments(rms_v, super::rice::Spectrum::Flat { bandwidth_hz: sample_rate_hz / 2.0 }))
+            }
+            NoiseSource::BandLimited { rms_v, corner_hz, poles } => Some(super::rice::spectral_moments(
                 rms_v,
-                super::rice::Spectrum::Flat {
-                    bandwidth_hz: sample_rate_hz / 2.0,
-                },
-            )),
-            NoiseSource::BandLimited {
-                rms_v,
-                corner_hz,
-                poles,
-            } => Some(super::rice::spectral_moments(
-                rms_v,
-                super::rice::Spectrum::Poles {
-                    corner_hz,
-                    poles,
-                    bandwidth_hz: sample_rate_hz / 2.0,
-                },
+                super::rice::Spectrum::Poles { corner_hz, poles, bandwidth_hz: sample_rate_hz / 2.0 },
             )),
             _ => None,
         }
@@ -262,9 +222,7 @@ impl NoiseSource {
     pub fn with_rms(&self, new_rms_v: f64) -> NoiseSource {
         let mut s = self.clone();
         match &mut s {
-            NoiseSource::White { rms_v } | NoiseSource::BandLimited { rms_v, .. } => {
-                *rms_v = new_rms_v
-            }
+            NoiseSource::White { rms_v } | NoiseSource::BandLimited { rms_v, .. } => *rms_v = new_rms_v,
             _ => {}
         }
         s
@@ -292,28 +250,10 @@ pub struct NoiseGenerator {
 #[derive(Debug, Clone)]
 enum NoiseState {
     Silent,
-    White {
-        rms_v: f64,
-        rng: Rng,
-    },
-    Band {
-        cascade: Box<PoleCascade>,
-        rng: Rng,
-    },
-    Hum {
-        parts: Vec<(f64, f64, f64)>,
-    },
-    Spikes {
-        rng: Rng,
-        level: f64,
-        next_s: f64,
-        decay: f64,
-        decay_s: f64,
-        amplitude_v: f64,
-        floor: f64,
-        mean_gap_s: f64,
-        polarity: SpikePolarity,
-    },
+    White { rms_v: f64, rng: Rng },
+    Band { cascade: Box<PoleCascade>, rng: Rng },
+    Hum { parts: Vec<(f64, f64, f64)> },
+    Spikes { rng: Rng, level: f64, next_s: f64, decay: f64, decay_s: f64, amplitude_v: f64, floor: f64, mean_gap_s: f64, polarity: SpikePolarity },
 }
 
 impl NoiseGenerator {
@@ -322,41 +262,21 @@ impl NoiseGenerator {
     pub fn new(source: &NoiseSource, seed: u64, step_s: f64) -> Self {
         let mut rng = Rng::new(seed);
         let state = match source {
-            NoiseSource::White { rms_v } if *rms_v > 0.0 => {
-                NoiseState::White { rms_v: *rms_v, rng }
-            }
-            NoiseSource::BandLimited {
-                rms_v,
-                corner_hz,
-                poles,
-            } if *rms_v > 0.0 => {
+            NoiseSource::White { rms_v } if *rms_v > 0.0 => NoiseState::White { rms_v: *rms_v, rng },
+            NoiseSource::BandLimited { rms_v, corner_hz, poles } if *rms_v > 0.0 => {
                 let mut cascade = Box::new(PoleCascade::new(*rms_v, *corner_hz, *poles, step_s));
                 cascade.start(&mut rng);
                 NoiseState::Band { cascade, rng }
             }
-            NoiseSource::Hum {
-                mains,
-                amplitude_v,
-                phase_deg,
-                harmonics,
-            } if *amplitude_v != 0.0 => {
+            NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } if *amplitude_v != 0.0 => {
                 let f = mains.hz();
                 let mut parts = vec![(*amplitude_v, f, phase_deg.to_radians())];
                 for h in harmonics {
-                    parts.push((
-                        amplitude_v * h.relative_amplitude,
-                        f * h.order as f64,
-                        h.phase_deg.to_radians(),
-                    ));
+                    parts.push((amplitude_v * h.relative_amplitude, f * h.order as f64, h.phase_deg.to_radians()));
                 }
                 NoiseState::Hum { parts }
             }
-            NoiseSource::Spikes {
-                rate_hz,
-                amplitude_v,
-                decay_s,
-                polarity,
-            } if *rate_hz > 0.0 && *amplitude_v != 0.0 => {
+            NoiseSource::Spikes { rate_hz, amplitude_v, decay_s, polarity } if *rate_hz > 0.0 && *amplitude_v != 0.0 => {
                 let mean_gap_s = 1.0 / rate_hz;
                 let next_s = rng.exponential(mean_gap_s);
                 NoiseState::Spikes {
@@ -373,11 +293,7 @@ impl NoiseGenerator {
             }
             _ => NoiseState::Silent,
         };
-        NoiseGenerator {
-            state,
-            index: 0,
-            step_s,
-        }
+        NoiseGenerator { state, index: 0, step_s }
     }
 
     /// Adds the next `out.len()` samples of noise to `out`. Allocation-free.
@@ -414,17 +330,7 @@ impl NoiseGenerator {
                     add_sinusoid(out, first, step_s, a, f, p);
                 }
             }
-            NoiseState::Spikes {
-                rng,
-                level,
-                next_s,
-                decay,
-                decay_s,
-                amplitude_v,
-                floor,
-                mean_gap_s,
-                polarity,
-            } => {
+            NoiseState::Spikes { rng, level, next_s, decay, decay_s, amplitude_v, floor, mean_gap_s, polarity } => {
                 for (k, v) in out.iter_mut().enumerate() {
                     let i = first + k;
                     let t = i as f64 * step_s;
@@ -518,12 +424,7 @@ fn cholesky(a: &[[f64; 4]; 4], n: usize) -> [[f64; 4]; 4] {
     let mut l = [[0.0; 4]; 4];
     for i in 0..n {
         for j in 0..=i {
-            let s = a[i][j]
-                - l[i][..j]
-                    .iter()
-                    .zip(&l[j][..j])
-                    .map(|(x, y)| x * y)
-                    .sum::<f64>();
+            let s = a[i][j] - l[i][..j].iter().zip(&l[j][..j]).map(|(x, y)| x * y).sum::<f64>();
             if i == j {
                 l[i][i] = if s > 0.0 { s.sqrt() } else { 0.0 };
             } else {
@@ -552,8 +453,7 @@ impl PoleCascade {
         // c_jk = m!/(2^{m+1}·j!·k!): ∫₀^x u^m e^{−2u} du = m!/2^{m+1}·P(m+1, 2x).
         let c = |j: usize, k: usize| {
             let m = (j + k) as u32;
-            factorial(m)
-                / (libm::pow(2.0, (m + 1) as f64) * factorial(j as u32) * factorial(k as u32))
+            factorial(m) / (libm::pow(2.0, (m + 1) as f64) * factorial(j as u32) * factorial(k as u32))
         };
         let c_out = c(n - 1, n - 1);
         let scale = rms_v * rms_v / c_out;
@@ -566,13 +466,7 @@ impl PoleCascade {
                 q_inf[j][k] = scale * c(j, k);
             }
         }
-        PoleCascade {
-            n,
-            phi,
-            chol: cholesky(&q, n),
-            chol_stationary: cholesky(&q_inf, n),
-            state: [0.0; 4],
-        }
+        PoleCascade { n, phi, chol: cholesky(&q, n), chol_stationary: cholesky(&q_inf, n), state: [0.0; 4] }
     }
 
     /// Draws the state from the stationary distribution (so the noise has its full RMS from the first sample).
@@ -644,11 +538,7 @@ mod tests {
     #[test]
     fn unrolled_cascades_give_the_same_bits_as_the_general_step() {
         for poles in 1..=MAX_POLES {
-            let source = NoiseSource::BandLimited {
-                rms_v: 0.1,
-                corner_hz: 2e3,
-                poles,
-            };
+            let source = NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 2e3, poles };
             let mut fast = vec![0.25; 5000];
             add_noise(&source, 11, 1e-5, &mut fast);
             // The general step, sample by sample, from the same start.
@@ -674,15 +564,9 @@ mod tests {
     fn incomplete_gamma_matches_closed_forms() {
         // P(1, y) = 1 − e^{−y}; P(2, y) = 1 − e^{−y}(1 + y) (Abramowitz & Stegun 6.5.13, from memory).
         for &y in &[1e-6_f64, 0.01, 0.5, 3.0, 40.0, 200.0] {
-            assert!(
-                (gamma_p_int(1, y) - (1.0 - (-y).exp())).abs()
-                    < 1e-14 * (1.0 + 1.0 / y.min(1.0)) * y.min(1.0)
-            );
+            assert!((gamma_p_int(1, y) - (1.0 - (-y).exp())).abs() < 1e-14 * (1.0 + 1.0 / y.min(1.0)) * y.min(1.0));
             let p2 = 1.0 - (-y).exp() * (1.0 + y);
-            assert!(
-                (gamma_p_int(2, y) - p2).abs() < 1e-12 * p2.max(1e-300) + 1e-15,
-                "{y}"
-            );
+            assert!((gamma_p_int(2, y) - p2).abs() < 1e-12 * p2.max(1e-300) + 1e-15, "{y}");
         }
         // Small-y limit P(a, y) ≈ y^a/a!.
         assert!((gamma_p_int(5, 1e-4) / (1e-20 / 120.0) - 1.0).abs() < 1e-4);
@@ -704,16 +588,7 @@ mod tests {
         // Corner 1 kHz at 100 kHz: ωΔ = 0.0628, lag-10 correlation 0.5335.
         for poles in 1..=4u8 {
             let mut v = vec![0.0; 400_000];
-            add_noise(
-                &NoiseSource::BandLimited {
-                    rms_v: 0.1,
-                    corner_hz: 1000.0,
-                    poles,
-                },
-                11,
-                1e-5,
-                &mut v,
-            );
+            add_noise(&NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 1000.0, poles }, 11, 1e-5, &mut v);
             let (m, s) = stats(&v);
             // Correlated samples: effective count ≈ n·(ωΔ)/2 ≈ 12 000, so σ's standard error ≈ 0.1/√(2·12 000) ≈ 0.0007;
             // more poles correlate longer, so allow 5 %.
@@ -721,9 +596,7 @@ mod tests {
             assert!((s - 0.1).abs() < 0.005, "poles {poles}: rms {s}");
             if poles == 1 {
                 let k = 10;
-                let r: f64 = v.windows(k + 1).map(|w| w[0] * w[k]).sum::<f64>()
-                    / (v.len() - k) as f64
-                    / (s * s);
+                let r: f64 = v.windows(k + 1).map(|w| w[0] * w[k]).sum::<f64>() / (v.len() - k) as f64 / (s * s);
                 let expect = (-2.0 * std::f64::consts::PI * 1000.0 * 1e-5 * k as f64).exp();
                 assert!((r - expect).abs() < 0.03, "{r} vs {expect}");
             }
@@ -737,16 +610,7 @@ mod tests {
         let fs = 50_000.0;
         let fc = 500.0;
         let mut v = vec![0.0; 1_000_000];
-        add_noise(
-            &NoiseSource::BandLimited {
-                rms_v: 1.0,
-                corner_hz: fc,
-                poles: 2,
-            },
-            5,
-            1.0 / fs,
-            &mut v,
-        );
+        add_noise(&NoiseSource::BandLimited { rms_v: 1.0, corner_hz: fc, poles: 2 }, 5, 1.0 / fs, &mut v);
         let k = (fs / (2.0 * std::f64::consts::PI * fc)).round() as usize;
         let tau = k as f64 / fs;
         let w = 2.0 * std::f64::consts::PI * fc * tau;
@@ -760,12 +624,7 @@ mod tests {
     fn same_seed_same_noise_and_sources_independent() {
         let src = [
             NoiseSource::White { rms_v: 0.1 },
-            NoiseSource::Spikes {
-                rate_hz: 1000.0,
-                amplitude_v: 1.0,
-                decay_s: 1e-5,
-                polarity: SpikePolarity::Random,
-            },
+            NoiseSource::Spikes { rate_hz: 1000.0, amplitude_v: 1.0, decay_s: 1e-5, polarity: SpikePolarity::Random },
         ];
         let run = |s: &NoiseSource, i: usize| {
             let mut v = vec![0.0; 5000];
@@ -784,12 +643,7 @@ mod tests {
         // e^−0.1 of the amplitude, since a spike decays for less than one 1 µs step before it is sampled).
         let mut v = vec![0.0; 1_000_000];
         add_noise(
-            &NoiseSource::Spikes {
-                rate_hz: 2000.0,
-                amplitude_v: 1.0,
-                decay_s: 1e-5,
-                polarity: SpikePolarity::Positive,
-            },
+            &NoiseSource::Spikes { rate_hz: 2000.0, amplitude_v: 1.0, decay_s: 1e-5, polarity: SpikePolarity::Positive },
             source_seed(1, 0),
             1e-6,
             &mut v,
@@ -800,22 +654,13 @@ mod tests {
 
     #[test]
     fn hum_peak_and_validation() {
-        let h = NoiseSource::Hum {
-            mains: MainsFrequency::Hz60,
-            amplitude_v: 0.075,
-            phase_deg: 0.0,
-            harmonics: vec![],
-        };
+        let h = NoiseSource::Hum { mains: MainsFrequency::Hz60, amplitude_v: 0.075, phase_deg: 0.0, harmonics: vec![] };
         let mut v = vec![0.0; 100_000];
         add_noise(&h, 0, 1e-5, &mut v);
         let max = v.iter().cloned().fold(f64::MIN, f64::max);
         assert!((max - 0.075).abs() < 1e-4);
         assert!(h.validate(100.0).is_err());
-        let bad = NoiseSource::BandLimited {
-            rms_v: 0.1,
-            corner_hz: 10.0,
-            poles: 7,
-        };
+        let bad = NoiseSource::BandLimited { rms_v: 0.1, corner_hz: 10.0, poles: 7 };
         assert!(bad.validate(1e3).is_err());
     }
 }

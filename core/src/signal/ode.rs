@@ -64,9 +64,7 @@ pub fn advance<F: Fn(f64) -> f64>(
     mut on_step: impl FnMut(f64, f64),
 ) -> Result<Advance, DesignError> {
     if !(duration_s >= 0.0) || !duration_s.is_finite() || !(max_step_s > 0.0) {
-        return Err(DesignError::NotConverged {
-            reason: "integration interval or step is not a positive finite number".into(),
-        });
+        return Err(DesignError::NotConverged { reason: "integration interval or step is not a positive finite number".into() });
     }
     let steps = (duration_s / max_step_s).ceil();
     if steps > MAX_STEPS as f64 {
@@ -94,27 +92,17 @@ pub fn advance<F: Fn(f64) -> f64>(
                 t += hi;
                 let vh = rk4_step(f, v, hi);
                 on_step(t, vh);
-                return Ok(Advance {
-                    elapsed_s: t,
-                    v: vh,
-                    hit: true,
-                });
+                return Ok(Advance { elapsed_s: t, v: vh, hit: true });
             }
         }
         v = next;
         t += h;
         on_step(t, v);
         if !v.is_finite() {
-            return Err(DesignError::NotConverged {
-                reason: "the simulated voltage left the finite range".into(),
-            });
+            return Err(DesignError::NotConverged { reason: "the simulated voltage left the finite range".into() });
         }
     }
-    Ok(Advance {
-        elapsed_s: duration_s,
-        v,
-        hit: false,
-    })
+    Ok(Advance { elapsed_s: duration_s, v, hit: false })
 }
 
 #[cfg(test)]
@@ -126,24 +114,9 @@ mod tests {
         // dv/dt = (1 − v)/τ from 0 reaches 0.5 at τ·ln 2.
         let tau = 1e-3;
         let f = |v: f64| (1.0 - v) / tau;
-        let a = advance(
-            &f,
-            0.0,
-            10.0 * tau,
-            tau / 100.0,
-            Some(Event {
-                level_v: 0.5,
-                upward: true,
-            }),
-            |_, _| {},
-        )
-        .unwrap();
+        let a = advance(&f, 0.0, 10.0 * tau, tau / 100.0, Some(Event { level_v: 0.5, upward: true }), |_, _| {}).unwrap();
         assert!(a.hit);
-        assert!(
-            (a.elapsed_s - tau * 2f64.ln()).abs() < 1e-12,
-            "{}",
-            a.elapsed_s
-        );
+        assert!((a.elapsed_s - tau * 2f64.ln()).abs() < 1e-12, "{}", a.elapsed_s);
         let b = advance(&f, 0.0, tau, tau / 100.0, None, |_, _| {}).unwrap();
         // RK4's local error for e^−x is about x⁵/120: 100 steps of x = 0.01 leave ~1e-10.
         assert!((b.v - (1.0 - (-1.0f64).exp())).abs() < 1e-9);

@@ -108,19 +108,11 @@ pub struct OscillatorResult {
 
 /// The thresholds of the op-amp form with R1 from (+) to 0 V and R2 from (+) to the output:
 /// VT+ = β·VOH, VT− = β·VOL, β = R1/(R1+R2) (DOMAIN §1a split-supply form).
-pub fn op_amp_thresholds(
-    r1_ohm: f64,
-    r2_ohm: f64,
-    output_high_v: f64,
-    output_low_v: f64,
-) -> Result<Thresholds, DesignError> {
+pub fn op_amp_thresholds(r1_ohm: f64, r2_ohm: f64, output_high_v: f64, output_low_v: f64) -> Result<Thresholds, DesignError> {
     positive("r1_ohm", r1_ohm)?;
     positive("r2_ohm", r2_ohm)?;
     let beta = r1_ohm / (r1_ohm + r2_ohm);
-    Ok(Thresholds {
-        vt_upper_v: beta * output_high_v,
-        vt_lower_v: beta * output_low_v,
-    })
+    Ok(Thresholds { vt_upper_v: beta * output_high_v, vt_lower_v: beta * output_low_v })
 }
 
 fn check(design: &TriggerDesign, s: &OscillatorSettings) -> Result<(), DesignError> {
@@ -130,22 +122,10 @@ fn check(design: &TriggerDesign, s: &OscillatorSettings) -> Result<(), DesignErr
     limit(Quantity::Capacitance, "oscillator.c_f", s.c_f)?;
     non_negative("oscillator.output_resistance_ohm", s.output_resistance_ohm)?;
     if s.output_resistance_ohm != 0.0 {
-        limit(
-            Quantity::Resistance,
-            "oscillator.output_resistance_ohm",
-            s.output_resistance_ohm,
-        )?;
+        limit(Quantity::Resistance, "oscillator.output_resistance_ohm", s.output_resistance_ohm)?;
     }
-    limit(
-        Quantity::Duration,
-        "oscillator.delay_low_to_high_s",
-        s.delay_low_to_high_s,
-    )?;
-    limit(
-        Quantity::Duration,
-        "oscillator.delay_high_to_low_s",
-        s.delay_high_to_low_s,
-    )?;
+    limit(Quantity::Duration, "oscillator.delay_low_to_high_s", s.delay_low_to_high_s)?;
+    limit(Quantity::Duration, "oscillator.delay_high_to_low_s", s.delay_high_to_low_s)?;
     if let Some(f) = s.target_frequency_hz {
         limit(Quantity::Frequency, "oscillator.target_frequency_hz", f)?;
     }
@@ -178,38 +158,23 @@ fn half_periods(design: &TriggerDesign, rc: f64, tplh: f64, tphl: f64) -> (f64, 
 }
 
 /// Period, frequency and duty in closed form, and R or C for a target frequency.
-pub fn relaxation_oscillator(
-    design: &TriggerDesign,
-    s: &OscillatorSettings,
-) -> Result<OscillatorResult, DesignError> {
+pub fn relaxation_oscillator(design: &TriggerDesign, s: &OscillatorSettings) -> Result<OscillatorResult, DesignError> {
     check(design, s)?;
     let r = s.r_ohm + s.output_resistance_ohm;
     let (tplh, tphl) = (s.delay_low_to_high_s, s.delay_high_to_low_s);
     let (th, tl) = half_periods(design, r * s.c_f, tplh, tphl);
     let period = th + tl;
     let t = design.thresholds;
-    let symmetric = (design.output_low_v + design.output_high_v).abs()
-        <= 1e-12 * design.output_high_v.abs()
+    let symmetric = (design.output_low_v + design.output_high_v).abs() <= 1e-12 * design.output_high_v.abs()
         && (t.vt_upper_v + t.vt_lower_v).abs() <= 1e-12 * t.vt_upper_v.abs();
-    let beta = if symmetric {
-        Some(t.vt_upper_v / design.output_high_v)
-    } else {
-        None
-    };
+    let beta = if symmetric { Some(t.vt_upper_v / design.output_high_v) } else { None };
     let (mut r_for, mut c_for) = (None, None);
     if let Some(f) = s.target_frequency_hz {
         positive("oscillator.target_frequency_hz", f)?;
         let target = 1.0 / f;
         if target <= tplh + tphl {
             return Err(DesignError::infeasible(
-                format!(
-                    "a {f} Hz period is not longer than the two propagation delays ({})",
-                    crate::notation::format_with_unit(
-                        tplh + tphl,
-                        4,
-                        crate::notation::Unit::Second
-                    )
-                ),
+                format!("a {f} Hz period is not longer than the two propagation delays ({})", crate::notation::format_with_unit(tplh + tphl, 4, crate::notation::Unit::Second)),
                 "lower the target frequency or use a faster device",
             ));
         }
@@ -283,11 +248,7 @@ pub struct OscillatorSimulation {
 
 /// Integrates dv/dt = (Vout − v)/(RC) by Runge–Kutta from a capacitor at 0 V (clamped into the
 /// output swing) with the output high, for `cycles` full cycles (2 to 200), 400 steps per RC.
-pub fn simulate_oscillator(
-    design: &TriggerDesign,
-    s: &OscillatorSettings,
-    cycles: usize,
-) -> Result<OscillatorSimulation, DesignError> {
+pub fn simulate_oscillator(design: &TriggerDesign, s: &OscillatorSettings, cycles: usize) -> Result<OscillatorSimulation, DesignError> {
     check(design, s)?;
     let cycles = cycles.clamp(2, 200);
     let tau = (s.r_ohm + s.output_resistance_ohm) * s.c_f;
@@ -295,72 +256,34 @@ pub fn simulate_oscillator(
     let (voh, vol) = (design.output_high_v, design.output_low_v);
     let h = tau / 400.0;
     // Longest phase: from VOL all the way to VT+ and more; bounded by the closed form with margin.
-    let guard = 50.0
-        * tau
-        * (1.0 + libm::log((voh - vol) / (voh - t.vt_upper_v).min(t.vt_lower_v - vol)).abs());
+    let guard = 50.0 * tau * (1.0 + libm::log((voh - vol) / (voh - t.vt_upper_v).min(t.vt_lower_v - vol)).abs());
     let mut trace = Vec::new();
     let mut now = 0.0;
     let mut v = 0.0_f64.clamp(vol, voh);
     let mut high = true;
     let mut switch_times = Vec::with_capacity(2 * cycles + 1); // output-change instants
-    trace.push(TracePoint {
-        t_s: 0.0,
-        input_v: v,
-        output_v: voh,
-    });
+    trace.push(TracePoint { t_s: 0.0, input_v: v, output_v: voh });
     for _ in 0..2 * cycles {
         let out = if high { voh } else { vol };
         let f = move |x: f64| (out - x) / tau;
-        let ev = if high {
-            Event {
-                level_v: t.vt_upper_v,
-                upward: true,
-            }
-        } else {
-            Event {
-                level_v: t.vt_lower_v,
-                upward: false,
-            }
-        };
+        let ev = if high { Event { level_v: t.vt_upper_v, upward: true } } else { Event { level_v: t.vt_lower_v, upward: false } };
         let base = now;
-        let a = advance(&f, v, guard, h, Some(ev), |dt, x| {
-            trace.push(TracePoint {
-                t_s: base + dt,
-                input_v: x,
-                output_v: out,
-            })
-        })?;
+        let a = advance(&f, v, guard, h, Some(ev), |dt, x| trace.push(TracePoint { t_s: base + dt, input_v: x, output_v: out }))?;
         if !a.hit {
-            return Err(DesignError::NotConverged {
-                reason: "the capacitor never reached the threshold in the simulation".into(),
-            });
+            return Err(DesignError::NotConverged { reason: "the capacitor never reached the threshold in the simulation".into() });
         }
         now += a.elapsed_s;
         v = a.v;
-        let delay = if high {
-            s.delay_high_to_low_s
-        } else {
-            s.delay_low_to_high_s
-        };
+        let delay = if high { s.delay_high_to_low_s } else { s.delay_low_to_high_s };
         if delay > 0.0 {
             let base = now;
-            let b = advance(&f, v, delay, h, None, |dt, x| {
-                trace.push(TracePoint {
-                    t_s: base + dt,
-                    input_v: x,
-                    output_v: out,
-                })
-            })?;
+            let b = advance(&f, v, delay, h, None, |dt, x| trace.push(TracePoint { t_s: base + dt, input_v: x, output_v: out }))?;
             now += b.elapsed_s;
             v = b.v;
         }
         high = !high;
         switch_times.push(now);
-        trace.push(TracePoint {
-            t_s: now,
-            input_v: v,
-            output_v: if high { voh } else { vol },
-        });
+        trace.push(TracePoint { t_s: now, input_v: v, output_v: if high { voh } else { vol } });
     }
     // switch_times[0] ends the first high phase; [2k+1] end low phases, [2k] end high phases.
     let first_high = switch_times[0];
@@ -388,66 +311,30 @@ mod tests {
     use super::*;
 
     fn gate(up: f64, lo: f64, vdd: f64) -> TriggerDesign {
-        TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-            },
-            output_high_v: vdd,
-            output_low_v: 0.0,
-            sense: Sense::Inverting,
-        }
+        TriggerDesign { thresholds: Thresholds { vt_upper_v: up, vt_lower_v: lo }, output_high_v: vdd, output_low_v: 0.0, sense: Sense::Inverting }
     }
 
     #[test]
     fn simulation_agrees_with_closed_form_including_delays() {
         let d = gate(2.9, 1.7, 5.0);
-        let s = OscillatorSettings {
-            r_ohm: 10e3,
-            c_f: 100e-9,
-            delay_low_to_high_s: 20e-6,
-            delay_high_to_low_s: 50e-6,
-            ..Default::default()
-        };
+        let s = OscillatorSettings { r_ohm: 10e3, c_f: 100e-9, delay_low_to_high_s: 20e-6, delay_high_to_low_s: 50e-6, ..Default::default() };
         let c = relaxation_oscillator(&d, &s).unwrap();
         let sim = simulate_oscillator(&d, &s, 4).unwrap();
-        assert!(
-            (sim.period_s / c.period_s - 1.0).abs() < 1e-9,
-            "{} {}",
-            sim.period_s,
-            c.period_s
-        );
+        assert!((sim.period_s / c.period_s - 1.0).abs() < 1e-9, "{} {}", sim.period_s, c.period_s);
         assert!((sim.duty - c.duty).abs() < 1e-9);
         assert!(sim.first_high_s > sim.t_high_s);
         // Short delays add about tPHL·(VOH−VOL)/(VT+−VOL) + tPLH·(VOH−VOL)/(VOH−VT−) (derived here):
         // 50 µs·5/2.9 + 20 µs·5/3.3 = 116.5 µs, well above the plain tPLH + tPHL = 70 µs.
-        let ideal = relaxation_oscillator(
-            &d,
-            &OscillatorSettings {
-                delay_low_to_high_s: 0.0,
-                delay_high_to_low_s: 0.0,
-                ..s
-            },
-        )
-        .unwrap();
+        let ideal = relaxation_oscillator(&d, &OscillatorSettings { delay_low_to_high_s: 0.0, delay_high_to_low_s: 0.0, ..s }).unwrap();
         let first_order = 50e-6 * 5.0 / 2.9 + 20e-6 * 5.0 / 3.3;
-        assert!(
-            ((c.period_s - ideal.period_s) / first_order - 1.0).abs() < 0.02,
-            "{}",
-            c.period_s - ideal.period_s
-        );
+        assert!(((c.period_s - ideal.period_s) / first_order - 1.0).abs() < 0.02, "{}", c.period_s - ideal.period_s);
     }
 
     #[test]
     fn target_frequency_round_trips() {
         let d = gate(2.0, 1.0, 3.3);
         for solve_for in [SolveFor::Resistor, SolveFor::Capacitor] {
-            let s = OscillatorSettings {
-                target_frequency_hz: Some(1.0),
-                solve_for,
-                delay_high_to_low_s: 1e-3,
-                ..Default::default()
-            };
+            let s = OscillatorSettings { target_frequency_hz: Some(1.0), solve_for, delay_high_to_low_s: 1e-3, ..Default::default() };
             let r = relaxation_oscillator(&d, &s).unwrap();
             let s2 = OscillatorSettings {
                 r_ohm: r.r_for_target_ohm.unwrap_or(s.r_ohm),
@@ -465,11 +352,7 @@ mod tests {
         let mut d = gate(2.0, 1.0, 3.3);
         d.sense = Sense::NonInverting;
         assert!(relaxation_oscillator(&d, &OscillatorSettings::default()).is_err());
-        assert!(
-            relaxation_oscillator(&gate(3.4, 1.0, 3.3), &OscillatorSettings::default()).is_err()
-        );
-        assert!(
-            relaxation_oscillator(&gate(1.0, 1.0, 3.3), &OscillatorSettings::default()).is_err()
-        );
+        assert!(relaxation_oscillator(&gate(3.4, 1.0, 3.3), &OscillatorSettings::default()).is_err());
+        assert!(relaxation_oscillator(&gate(1.0, 1.0, 3.3), &OscillatorSettings::default()).is_err());
     }
 }

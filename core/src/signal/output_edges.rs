@@ -42,11 +42,7 @@ impl State {
                 (rho, dt.min(gap / rho))
             };
             let tau = self.law.tau_s;
-            let u_end = if span < dt {
-                self.target
-            } else {
-                self.u + rho * span
-            };
+            let u_end = if span < dt { self.target } else { self.u + rho * span };
             self.v = if tau > 0.0 {
                 let k = libm::exp(-span / tau);
                 self.u + rho * span - rho * tau + (self.v - self.u + rho * tau) * k
@@ -75,21 +71,12 @@ pub fn render_loaded_output(
     let (high, low) = (report.load.output_high_v, report.load.output_low_v);
     let level = |h: bool| if h { high } else { low };
     let law = |e: &crate::output_dynamics::EdgeTiming| Law {
-        rate_v_per_s: if e.ramp_s > 0.0 {
-            e.swing_v / e.ramp_s
-        } else {
-            f64::INFINITY
-        },
+        rate_v_per_s: if e.ramp_s > 0.0 { e.swing_v / e.ramp_s } else { f64::INFINITY },
         tau_s: e.tau_s,
     };
     let (rise, fall) = (law(&report.rise), law(&report.fall));
     let start = level(initial_output_high);
-    let mut s = State {
-        u: start,
-        v: start,
-        target: start,
-        law: rise,
-    };
+    let mut s = State { u: start, v: start, target: start, law: rise };
     let mut k = 0;
     let mut t_prev = times.at(0);
     for (i, o) in out.iter_mut().enumerate() {
@@ -113,11 +100,7 @@ pub fn render_loaded_output(
 /// Replaces the design's simulated output of a full-resolution `run` by the output at the load
 /// (the hook the signal study calls when the record has output dynamics). The edges, counts and
 /// timing figures are those of the trigger itself and stay as they are.
-pub fn apply_output_dynamics(
-    run: &mut SignalRun,
-    design: &TriggerDesign,
-    report: &OutputDynamicsReport,
-) {
+pub fn apply_output_dynamics(run: &mut SignalRun, design: &TriggerDesign, report: &OutputDynamicsReport) {
     let _ = design;
     let initial = run.report.design.outcome.initial_output_high;
     let times = run.time.view();
@@ -135,39 +118,13 @@ mod tests {
 
     #[test]
     fn one_edge_follows_the_closed_form_and_an_interrupted_edge_stays_continuous() {
-        let c = Topology::Inverting(InvertingSchmitt::single_supply(
-            10e3,
-            10e3,
-            20e3,
-            crate::device::Comparator::ideal(5.0),
-        ));
-        let s = OutputDynamicsSettings {
-            slew_rate_v_per_us: Some(5.0),
-            output_resistance_ohm: 100.0,
-            load_capacitance_f: 5e-9,
-            ..Default::default()
-        };
+        let c = Topology::Inverting(InvertingSchmitt::single_supply(10e3, 10e3, 20e3, crate::device::Comparator::ideal(5.0)));
+        let s = OutputDynamicsSettings { slew_rate_v_per_us: Some(5.0), output_resistance_ohm: 100.0, load_capacitance_f: 5e-9, ..Default::default() };
         let r = output_dynamics(&c, &s).unwrap();
-        let edge = |start_s: f64, direction| Edge {
-            crossing_s: start_s,
-            start_s,
-            mid_s: start_s,
-            direction,
-            slope_v_per_s: 0.0,
-            overdrive_v: 0.0,
-        };
-        let times = Times::Uniform {
-            start_s: 0.0,
-            step_s: 1e-8,
-        };
+        let edge = |start_s: f64, direction| Edge { crossing_s: start_s, start_s, mid_s: start_s, direction, slope_v_per_s: 0.0, overdrive_v: 0.0 };
+        let times = Times::Uniform { start_s: 0.0, step_s: 1e-8 };
         let mut out = vec![0.0; 400];
-        render_loaded_output(
-            &r,
-            times,
-            true,
-            &[edge(1e-6, EdgeDirection::Falling)],
-            &mut out,
-        );
+        render_loaded_output(&r, times, true, &[edge(1e-6, EdgeDirection::Falling)], &mut out);
         // Falling from 5 V: v = 5 − 5·y(t − 1 µs) with y the lagged ramp (ramp 1 µs, τ 0.5 µs).
         for (i, v) in out.iter().enumerate() {
             let t = i as f64 * 1e-8;
@@ -176,20 +133,8 @@ mod tests {
         }
         // A rising edge 0.3 µs into the fall: the output turns without a jump and settles at 5 V.
         let mut out = vec![0.0; 1000];
-        render_loaded_output(
-            &r,
-            times,
-            true,
-            &[
-                edge(1e-6, EdgeDirection::Falling),
-                edge(1.3e-6, EdgeDirection::Rising),
-            ],
-            &mut out,
-        );
-        let worst = out
-            .windows(2)
-            .map(|w| (w[1] - w[0]).abs())
-            .fold(0.0, f64::max);
+        render_loaded_output(&r, times, true, &[edge(1e-6, EdgeDirection::Falling), edge(1.3e-6, EdgeDirection::Rising)], &mut out);
+        let worst = out.windows(2).map(|w| (w[1] - w[0]).abs()).fold(0.0, f64::max);
         assert!(worst < 5.0 * 1e-8 / 0.5e-6 + 1e-9, "largest step {worst}");
         assert!((out[999] - 5.0).abs() < 1e-3, "{}", out[999]);
     }

@@ -44,12 +44,7 @@ pub fn downsample_min_max(
     out.t_s.clear();
     out.min_v.clear();
     out.max_v.clear();
-    if volts.is_empty()
-        || buckets == 0
-        || !(t_end_s >= t_start_s)
-        || !t_start_s.is_finite()
-        || !t_end_s.is_finite()
-    {
+    if volts.is_empty() || buckets == 0 || !(t_end_s >= t_start_s) || !t_start_s.is_finite() || !t_end_s.is_finite() {
         return;
     }
     let n = volts.len();
@@ -73,11 +68,7 @@ pub fn downsample_min_max(
     let mut current: Option<usize> = None;
     for (i, &v) in volts.iter().enumerate().take(i1).skip(i0) {
         let t = times.at(i);
-        let b = if width > 0.0 {
-            (((t - t_start_s) / width) as usize).min(buckets - 1)
-        } else {
-            0
-        };
+        let b = if width > 0.0 { (((t - t_start_s) / width) as usize).min(buckets - 1) } else { 0 };
         if current == Some(b) {
             let k = out.min_v.len() - 1;
             if v < out.min_v[k] {
@@ -104,10 +95,7 @@ mod tests {
         let mut v = vec![0.0; 1_000_000];
         v[123_457] = 5.0;
         v[999_999] = -1.0;
-        let times = Times::Uniform {
-            start_s: 0.0,
-            step_s: 1e-6,
-        };
+        let times = Times::Uniform { start_s: 0.0, step_s: 1e-6 };
         let mut e = Envelope::default();
         downsample_min_max(times, &v, 0.0, 1.0, 800, &mut e);
         assert_eq!(e.len(), 800);

@@ -7,17 +7,13 @@ use super::csv::Capture;
 use super::debounce::{rc_debounce, simulate_debounce, DebounceResult, DebounceSettings};
 use super::generate::{Component, SignalBuffers, SignalDefinition};
 use super::noise::NoiseSource;
-use super::oscillator::{
-    relaxation_oscillator, simulate_oscillator, OscillatorResult, OscillatorSettings,
-};
+use super::oscillator::{relaxation_oscillator, simulate_oscillator, OscillatorResult, OscillatorSettings};
 use super::rice;
 use super::sweep::{run_sweep, SweepContext, SweepResult, SweepSettings};
-use super::timing::{
-    logic_dwell_in, zero_crossing_error, DwellStats, TriggerTiming, ZeroCrossingError,
-};
+use super::timing::{logic_dwell_in, zero_crossing_error, DwellStats, TriggerTiming, ZeroCrossingError};
 use super::trigger::{
-    compare_edges, default_match_window_s, render_output, run_trigger, Edge, EdgeComparison,
-    EdgeDirection, TimingModel, TriggerDesign, TriggerOutcome,
+    compare_edges, default_match_window_s, render_output, run_trigger, Edge, EdgeComparison, EdgeDirection, TimingModel,
+    TriggerDesign, TriggerOutcome,
 };
 use super::TimeBase;
 use crate::analysis::Thresholds;
@@ -77,20 +73,9 @@ impl StudySettings {
     /// Checks every value against its physical range (`crate::limits`).
     pub fn validate(&self) -> Result<(), DesignError> {
         use crate::limits::{check as limit, check_optional, Quantity};
-        check_optional(
-            Quantity::Voltage,
-            "study.baseline_level_v",
-            self.baseline_level_v,
-        )?;
-        check_optional(
-            Quantity::Duration,
-            "study.match_window_s",
-            self.match_window_s,
-        )?;
-        crate::error::non_negative(
-            "study.target_false_edges_per_edge",
-            self.target_false_edges_per_edge,
-        )?;
+        check_optional(Quantity::Voltage, "study.baseline_level_v", self.baseline_level_v)?;
+        check_optional(Quantity::Duration, "study.match_window_s", self.match_window_s)?;
+        crate::error::non_negative("study.target_false_edges_per_edge", self.target_false_edges_per_edge)?;
         if let Some(l) = self.logic_input {
             limit(Quantity::Voltage, "study.logic_input.vil_v", l.vil_v)?;
             limit(Quantity::Voltage, "study.logic_input.vih_v", l.vih_v)?;
@@ -267,12 +252,7 @@ pub struct SignalRun {
     pub report: SignalReport,
 }
 
-fn summary(
-    design: &TriggerDesign,
-    outcome: TriggerOutcome,
-    edges: &[Edge],
-    comparison: Option<EdgeComparison>,
-) -> TriggerSummary {
+fn summary(design: &TriggerDesign, outcome: TriggerOutcome, edges: &[Edge], comparison: Option<EdgeComparison>) -> TriggerSummary {
     let (mut sum, mut max) = (0.0_f64, 0.0_f64);
     for e in edges {
         let d = e.start_s - e.crossing_s;
@@ -283,19 +263,14 @@ fn summary(
         thresholds: design.thresholds,
         outcome,
         comparison,
-        mean_delay_s: if edges.is_empty() {
-            0.0
-        } else {
-            sum / edges.len() as f64
-        },
+        mean_delay_s: if edges.is_empty() { 0.0 } else { sum / edges.len() as f64 },
         max_delay_s: max,
     }
 }
 
 /// Input direction of an edge (rising input crosses VT+), from the design's sense.
 fn input_rising(design: &TriggerDesign, e: &Edge) -> bool {
-    (e.direction == EdgeDirection::Rising)
-        == matches!(design.sense, crate::analysis::Sense::NonInverting)
+    (e.direction == EdgeDirection::Rising) == matches!(design.sense, crate::analysis::Sense::NonInverting)
 }
 
 /// The sine and DC level when the components are one sine plus DC levels only.
@@ -305,11 +280,7 @@ fn single_sine(components: &[Component]) -> Option<(f64, f64, f64)> {
     for c in components {
         match *c {
             Component::Dc { level_v } => dc += level_v,
-            Component::Sine {
-                amplitude_v,
-                frequency_hz,
-                ..
-            } => {
+            Component::Sine { amplitude_v, frequency_hz, .. } => {
                 if sine.is_some() {
                     return None;
                 }
@@ -325,22 +296,10 @@ fn single_sine(components: &[Component]) -> Option<(f64, f64, f64)> {
 /// it; band-limited: its poles, one pole cut at it; see [`rice`]); `None` for hum and spikes.
 fn physical_moments(source: &NoiseSource, bandwidth_hz: f64) -> Option<(f64, f64)> {
     match *source {
-        NoiseSource::White { rms_v } => Some(rice::spectral_moments(
-            rms_v,
-            rice::Spectrum::Flat { bandwidth_hz },
-        )),
-        NoiseSource::BandLimited {
-            rms_v,
-            corner_hz,
-            poles,
-        } => Some(rice::spectral_moments(
-            rms_v,
-            rice::Spectrum::Poles {
-                corner_hz,
-                poles,
-                bandwidth_hz,
-            },
-        )),
+        NoiseSource::White { rms_v } => Some(rice::spectral_moments(rms_v, rice::Spectrum::Flat { bandwidth_hz })),
+        NoiseSource::BandLimited { rms_v, corner_hz, poles } => {
+            Some(rice::spectral_moments(rms_v, rice::Spectrum::Poles { corner_hz, poles, bandwidth_hz }))
+        }
         _ => None,
     }
 }
@@ -349,19 +308,9 @@ fn physical_moments(source: &NoiseSource, bandwidth_hz: f64) -> Option<(f64, f64
 fn interference_terms(noise: &[NoiseSource]) -> Vec<rice::Sinusoid> {
     let mut out = Vec::new();
     for n in noise {
-        if let NoiseSource::Hum {
-            mains,
-            amplitude_v,
-            phase_deg,
-            harmonics,
-        } = n
-        {
+        if let NoiseSource::Hum { mains, amplitude_v, phase_deg, harmonics } = n {
             let f = mains.hz();
-            out.push(rice::Sinusoid {
-                amplitude_v: *amplitude_v,
-                frequency_hz: f,
-                phase_rad: phase_deg.to_radians(),
-            });
+            out.push(rice::Sinusoid { amplitude_v: *amplitude_v, frequency_hz: f, phase_rad: phase_deg.to_radians() });
             for h in harmonics {
                 out.push(rice::Sinusoid {
                     amplitude_v: amplitude_v * h.relative_amplitude,
@@ -378,11 +327,7 @@ fn interference_terms(noise: &[NoiseSource]) -> Vec<rice::Sinusoid> {
 /// Runs the signal study with waveforms, for the page. With `capture` the imported samples are
 /// used (no intended edges, noise figures, Rice check or sweep: a capture has no noise-free
 /// version); otherwise the signal is generated from the settings.
-pub fn run_signal(
-    settings: &SignalSettings,
-    design: &TriggerDesign,
-    capture: Option<&Capture>,
-) -> Result<SignalRun, DesignError> {
+pub fn run_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalRun, DesignError> {
     run_inner(settings, design, capture, true, None)
 }
 
@@ -401,11 +346,7 @@ pub fn run_signal_through(
 }
 
 /// The signal study's summary, without keeping the waveforms.
-pub fn evaluate_signal(
-    settings: &SignalSettings,
-    design: &TriggerDesign,
-    capture: Option<&Capture>,
-) -> Result<SignalReport, DesignError> {
+pub fn evaluate_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalReport, DesignError> {
     run_inner(settings, design, capture, false, None).map(|r| r.report)
 }
 
@@ -430,28 +371,16 @@ fn run_inner(
     let (time, clean, signal): (TimeBase, Option<Vec<f64>>, Vec<f64>) = match capture {
         Some(c) => {
             if c.volts.len() < 2 {
-                return Err(DesignError::invalid(
-                    "capture",
-                    "the capture needs at least two samples",
-                ));
+                return Err(DesignError::invalid("capture", "the capture needs at least two samples"));
             }
             c.times().validate(c.volts.len())?;
             if let Some(bad) = c.volts.iter().find(|v| !v.is_finite()) {
-                return Err(DesignError::invalid(
-                    "capture",
-                    format!("the capture holds a non-finite value ({bad})"),
-                ));
+                return Err(DesignError::invalid("capture", format!("the capture holds a non-finite value ({bad})")));
             }
             notes.push(
                 "imported capture: no noise-free version, so the design's false edges, the noise figures, the Rice check and the sweep are not available; the plain comparator's edges are counted against the design's edges".into(),
             );
-            (
-                TimeBase::Samples {
-                    times_s: c.time_s.clone(),
-                },
-                None,
-                c.volts.clone(),
-            )
+            (TimeBase::Samples { times_s: c.time_s.clone() }, None, c.volts.clone())
         }
         None => {
             if let SignalSource::ImportedCapture { name } = &settings.source {
@@ -469,11 +398,7 @@ fn run_inner(
     let times = time.view();
     // The noise sweep adds its noise before the network: it keeps the base unfiltered.
     let sweep_base: Option<Vec<f64>> = match (front, &settings.sweep, &clean) {
-        (Some(_), Some(sw), Some(c)) => Some(if sw.keep_other_noise {
-            signal.clone()
-        } else {
-            c.clone()
-        }),
+        (Some(_), Some(sw), Some(c)) => Some(if sw.keep_other_noise { signal.clone() } else { c.clone() }),
         _ => None,
     };
     if let Some(f) = front {
@@ -502,34 +427,20 @@ fn run_inner(
     if let Some(clean) = &clean {
         run_trigger(design, &timing, times, clean, &mut intended);
         run_trigger(&baseline, &timing, times, clean, &mut intended_baseline);
-        window = study
-            .match_window_s
-            .unwrap_or_else(|| default_match_window_s(&intended, duration));
-        window_base = study
-            .match_window_s
-            .unwrap_or_else(|| default_match_window_s(&intended_baseline, duration));
+        window = study.match_window_s.unwrap_or_else(|| default_match_window_s(&intended, duration));
+        window_base = study.match_window_s.unwrap_or_else(|| default_match_window_s(&intended_baseline, duration));
         cmp_design = Some(compare_edges(&design_edges, &intended, window));
-        cmp_base = Some(compare_edges(
-            &baseline_edges,
-            &intended_baseline,
-            window_base,
-        ));
+        cmp_base = Some(compare_edges(&baseline_edges, &intended_baseline, window_base));
     } else if !design_edges.is_empty() {
         // A capture has no noise-free version: the plain comparator's edges are counted against
         // the design's own edges instead, so its chatter still shows as false edges.
-        window_base = study
-            .match_window_s
-            .unwrap_or_else(|| default_match_window_s(&design_edges, duration));
+        window_base = study.match_window_s.unwrap_or_else(|| default_match_window_s(&design_edges, duration));
         cmp_base = Some(compare_edges(&baseline_edges, &design_edges, window_base));
     }
 
     // Noise figures, at the physical noise bandwidth (not the sample rate).
     let def = &settings.definition;
-    let bandwidth_hz = crate::limits::check(
-        crate::limits::Quantity::Frequency,
-        "study.noise_bandwidth_hz",
-        study.noise_bandwidth_hz,
-    )?;
+    let bandwidth_hz = crate::limits::check(crate::limits::Quantity::Frequency, "study.noise_bandwidth_hz", study.noise_bandwidth_hz)?;
     let (s0, s1) = rice::combine_moments(def.noise.iter().filter_map(|s| match front {
         Some(f) => f.moments(s, bandwidth_hz),
         None => physical_moments(s, bandwidth_hz),
@@ -552,11 +463,7 @@ fn run_inner(
     });
 
     // Slopes at the intended edges (or the actual ones for a capture).
-    let slope_source: &[Edge] = if clean.is_some() {
-        &intended
-    } else {
-        &design_edges
-    };
+    let slope_source: &[Edge] = if clean.is_some() { &intended } else { &design_edges };
     let slowest = |rising_input: bool| {
         slope_source
             .iter()
@@ -567,10 +474,7 @@ fn run_inner(
     };
     let (su, sl) = (slowest(true), slowest(false));
     let noise_rms = if clean.is_some() { s0 } else { 0.0 };
-    let jitter = |s: Option<f64>| {
-        s.filter(|_| noise_rms > 0.0)
-            .map(|s| super::timing::jitter_rms_s(noise_rms, s))
-    };
+    let jitter = |s: Option<f64>| s.filter(|_| noise_rms > 0.0).map(|s| super::timing::jitter_rms_s(noise_rms, s));
     let slow_any = match (su, sl) {
         (Some(a), Some(b)) => Some(a.min(b)),
         (a, b) => a.or(b),
@@ -601,19 +505,14 @@ fn run_inner(
             match rice::min_hysteresis_with_interference(target, su, sl, s0, s1, &interference) {
                 Some(need) => {
                     let h_min = need.total_v;
-                    let trial = design.with_thresholds(Thresholds::from_centre_width(
-                        design.thresholds.centre_v(),
-                        h_min,
-                    ));
+                    let trial = design.with_thresholds(Thresholds::from_centre_width(design.thresholds.centre_v(), h_min));
                     let mut trial_intended = Vec::new();
                     let mut trial_edges = Vec::new();
                     if let Some(clean) = &clean {
                         run_trigger(&trial, &timing, times, clean, &mut trial_intended);
                     }
                     run_trigger(&trial, &timing, times, &signal, &mut trial_edges);
-                    let w = study
-                        .match_window_s
-                        .unwrap_or_else(|| default_match_window_s(&trial_intended, duration));
+                    let w = study.match_window_s.unwrap_or_else(|| default_match_window_s(&trial_intended, duration));
                     let c = compare_edges(&trial_edges, &trial_intended, w);
                     let h = design.thresholds.hysteresis_v();
                     let margin = h - need.interference_v;
@@ -628,45 +527,26 @@ fn run_inner(
                         min_hysteresis_v: h_min,
                         design_hysteresis_v: h,
                         design_meets_target: h >= h_min,
-                        design_bound_false_edges_per_edge: (margin > 0.0
-                            || need.interference_v == 0.0)
-                            .then(|| {
-                                rice::false_edges_per_edge_bound(
-                                    margin.max(0.0),
-                                    slope,
-                                    s0,
-                                    need.sigma1_effective_v_per_s,
-                                )
-                            })
+                        design_bound_false_edges_per_edge: (margin > 0.0 || need.interference_v == 0.0)
+                            .then(|| rice::false_edges_per_edge_bound(margin.max(0.0), slope, s0, need.sigma1_effective_v_per_s))
                             .filter(|b| b.is_finite()),
                         simulated_at_min: c,
-                        simulated_false_edges_per_edge_at_min: c.false_edges as f64
-                            / c.intended_edges.max(1) as f64,
+                        simulated_false_edges_per_edge_at_min: c.false_edges as f64 / c.intended_edges.max(1) as f64,
                     });
                 }
-                None => notes.push(format!(
-                    "minimum hysteresis not computed: the target {target} must be above zero"
-                )),
+                None => notes.push(format!("minimum hysteresis not computed: the target {target} must be above zero")),
             }
-            if def
-                .noise
-                .iter()
-                .any(|n| matches!(n, NoiseSource::Spikes { .. }))
-            {
+            if def.noise.iter().any(|n| matches!(n, NoiseSource::Spikes { .. })) {
                 notes.push("the minimum hysteresis does not cover impulse spikes (neither Gaussian nor periodic): keep the hysteresis above the spike height or filter them".into());
             }
         } else {
             notes.push("minimum hysteresis not computed: the signal has no Gaussian noise (white or band-limited) and no hum".into());
         }
     } else if clean.is_some() {
-        notes.push(
-            "minimum hysteresis not computed: the noise-free signal crosses no threshold".into(),
-        );
+        notes.push("minimum hysteresis not computed: the noise-free signal crosses no threshold".into());
     }
 
-    let logic_dwell = study
-        .logic_input
-        .map(|l| logic_dwell_in(times, clean.as_deref().unwrap_or(&signal), l.vil_v, l.vih_v));
+    let logic_dwell = study.logic_input.map(|l| logic_dwell_in(times, clean.as_deref().unwrap_or(&signal), l.vil_v, l.vih_v));
 
     let sweep = match (&settings.sweep, &clean) {
         (Some(sw), Some(clean_v)) => {
@@ -695,11 +575,7 @@ fn run_inner(
 
     let report = SignalReport {
         samples: n,
-        sample_rate_hz: if duration > 0.0 {
-            (n - 1) as f64 / duration
-        } else {
-            0.0
-        },
+        sample_rate_hz: if duration > 0.0 { (n - 1) as f64 / duration } else { 0.0 },
         duration_s: duration,
         baseline_level_v: baseline_level,
         noise,
@@ -715,22 +591,8 @@ fn run_inner(
     if keep {
         design_output_v = vec![0.0; n];
         baseline_output_v = vec![0.0; n];
-        render_output(
-            design,
-            &timing,
-            times,
-            design_out.initial_output_high,
-            &design_edges,
-            &mut design_output_v,
-        );
-        render_output(
-            &baseline,
-            &timing,
-            times,
-            base_out.initial_output_high,
-            &baseline_edges,
-            &mut baseline_output_v,
-        );
+        render_output(design, &timing, times, design_out.initial_output_high, &design_edges, &mut design_output_v);
+        render_output(&baseline, &timing, times, base_out.initial_output_high, &baseline_edges, &mut baseline_output_v);
     }
     Ok(SignalRun {
         time,
@@ -747,10 +609,7 @@ fn run_inner(
 }
 
 /// The signal study of a design record's circuit (the JSON entry point's path).
-pub fn evaluate_record_signal(
-    circuit: &Topology,
-    settings: &SignalSettings,
-) -> Result<SignalReport, DesignError> {
+pub fn evaluate_record_signal(circuit: &Topology, settings: &SignalSettings) -> Result<SignalReport, DesignError> {
     let design = TriggerDesign::from_circuit(circuit)?;
     evaluate_signal(settings, &design, None)
 }
@@ -771,12 +630,7 @@ pub struct ApplicationSettings {
 
 impl Default for ApplicationSettings {
     fn default() -> Self {
-        ApplicationSettings {
-            oscillator: None,
-            debounce: None,
-            simulate: true,
-            oscillator_cycles: 5,
-        }
+        ApplicationSettings { oscillator: None, debounce: None, simulate: true, oscillator_cycles: 5 }
     }
 }
 
@@ -818,10 +672,7 @@ pub struct ApplicationReport {
 }
 
 /// Evaluates the applications on a design; each part that fails gives its study name and error.
-pub fn evaluate_application(
-    design: &TriggerDesign,
-    settings: &ApplicationSettings,
-) -> (ApplicationReport, Vec<(String, DesignError)>) {
+pub fn evaluate_application(design: &TriggerDesign, settings: &ApplicationSettings) -> (ApplicationReport, Vec<(String, DesignError)>) {
     let mut errors = Vec::new();
     let mut report = ApplicationReport::default();
     if let Some(o) = &settings.oscillator {
@@ -892,10 +743,7 @@ mod tests {
 
     fn design() -> TriggerDesign {
         TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: 2.9,
-                vt_lower_v: 1.7,
-            },
+            thresholds: Thresholds { vt_upper_v: 2.9, vt_lower_v: 1.7 },
             output_high_v: 5.0,
             output_low_v: 0.0,
             sense: Sense::Inverting,
@@ -904,13 +752,7 @@ mod tests {
 
     #[test]
     fn default_settings_evaluate_and_serialise() {
-        let s = SignalSettings {
-            sweep: Some(SweepSettings {
-                steps: 4,
-                ..Default::default()
-            }),
-            ..Default::default()
-        };
+        let s = SignalSettings { sweep: Some(SweepSettings { steps: 4, ..Default::default() }), ..Default::default() };
         let r = evaluate_signal(&s, &design(), None).unwrap();
         assert_eq!(r.samples, 5000);
         let c = r.design.comparison.unwrap();
@@ -939,21 +781,10 @@ mod tests {
                 seed: 7,
                 components: vec![
                     Component::Dc { level_v: 2.3 },
-                    Component::Square {
-                        amplitude_v: 1.9,
-                        frequency_hz: 60.0,
-                        phase_deg: 0.0,
-                        duty: 0.5,
-                        rise_time_s: 2e-3,
-                    },
+                    Component::Square { amplitude_v: 1.9, frequency_hz: 60.0, phase_deg: 0.0, duty: 0.5, rise_time_s: 2e-3 },
                 ],
                 noise: vec![
-                    NoiseSource::Hum {
-                        mains: Default::default(),
-                        amplitude_v: 0.075,
-                        phase_deg: 0.0,
-                        harmonics: vec![],
-                    },
+                    NoiseSource::Hum { mains: Default::default(), amplitude_v: 0.075, phase_deg: 0.0, harmonics: vec![] },
                     NoiseSource::White { rms_v: 0.025 },
                 ],
             },
@@ -969,12 +800,7 @@ mod tests {
 
     #[test]
     fn capture_in_record_without_samples_is_an_error() {
-        let s = SignalSettings {
-            source: SignalSource::ImportedCapture {
-                name: "scope.csv".into(),
-            },
-            ..Default::default()
-        };
+        let s = SignalSettings { source: SignalSource::ImportedCapture { name: "scope.csv".into() }, ..Default::default() };
         let e = evaluate_signal(&s, &design(), None).unwrap_err();
         assert!(e.to_string().contains("scope.csv"));
     }

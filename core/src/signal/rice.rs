@@ -108,18 +108,10 @@ pub enum Spectrum {
 /// σ0 (= `rms_v`) and σ1 (volts per second) of Gaussian noise with the given spectrum. See the
 /// module documentation for the formulas. Non-finite or negative inputs give σ1 = 0.
 pub fn spectral_moments(rms_v: f64, spectrum: Spectrum) -> (f64, f64) {
-    let s0 = if rms_v.is_finite() && rms_v > 0.0 {
-        rms_v
-    } else {
-        0.0
-    };
+    let s0 = if rms_v.is_finite() && rms_v > 0.0 { rms_v } else { 0.0 };
     let ratio = match spectrum {
         Spectrum::Flat { bandwidth_hz } => 2.0 * PI * bandwidth_hz / 3f64.sqrt(),
-        Spectrum::Poles {
-            corner_hz,
-            poles,
-            bandwidth_hz,
-        } => {
+        Spectrum::Poles { corner_hz, poles, bandwidth_hz } => {
             if poles >= 2 {
                 2.0 * PI * corner_hz / ((2 * poles as i32 - 3) as f64).sqrt()
             } else {
@@ -135,9 +127,7 @@ pub fn spectral_moments(rms_v: f64, spectrum: Spectrum) -> (f64, f64) {
 
 /// Combines independent Gaussian sources: σ0² and σ1² add.
 pub fn combine_moments(parts: impl IntoIterator<Item = (f64, f64)>) -> (f64, f64) {
-    let (a, b) = parts
-        .into_iter()
-        .fold((0.0, 0.0), |(a, b), (s0, s1)| (a + s0 * s0, b + s1 * s1));
+    let (a, b) = parts.into_iter().fold((0.0, 0.0), |(a, b), (s0, s1)| (a + s0 * s0, b + s1 * s1));
     (a.sqrt(), b.sqrt())
 }
 
@@ -169,12 +159,7 @@ pub fn wrong_way_crossings_no_hysteresis(slope_v_per_s: f64, sigma1_v_per_s: f64
 /// Upper bound on the false edges per intended edge for a hysteresis `hysteresis_v` crossed at
 /// `slope_v_per_s` through Gaussian noise (σ0, σ1): 2·(2σ1/(s√(2π)))·Q(H/(2σ0)).
 /// Infinite for a flat (zero-slope) input.
-pub fn false_edges_per_edge_bound(
-    hysteresis_v: f64,
-    slope_v_per_s: f64,
-    sigma0_v: f64,
-    sigma1_v_per_s: f64,
-) -> f64 {
+pub fn false_edges_per_edge_bound(hysteresis_v: f64, slope_v_per_s: f64, sigma0_v: f64, sigma1_v_per_s: f64) -> f64 {
     let s = slope_v_per_s.abs();
     if !(sigma0_v > 0.0) || !(sigma1_v_per_s > 0.0) {
         return 0.0;
@@ -182,20 +167,14 @@ pub fn false_edges_per_edge_bound(
     if !(s > 0.0) {
         return f64::INFINITY;
     }
-    2.0 * (2.0 * sigma1_v_per_s / (s * (2.0 * PI).sqrt()))
-        * q_function(hysteresis_v.max(0.0) / (2.0 * sigma0_v))
+    2.0 * (2.0 * sigma1_v_per_s / (s * (2.0 * PI).sqrt())) * q_function(hysteresis_v.max(0.0) / (2.0 * sigma0_v))
 }
 
 /// The smallest hysteresis that keeps the bound of [`false_edges_per_edge_bound`] at or below
 /// `target_per_edge` false edges per intended edge: H = 2σ0·Q⁻¹(N·s√(2π)/(2σ1)) with N = target/2.
 /// Returns 0 when even no hysteresis meets the target, and `None` for a flat input (s = 0) or a
 /// target that is not above zero.
-pub fn min_hysteresis_v(
-    target_per_edge: f64,
-    slope_v_per_s: f64,
-    sigma0_v: f64,
-    sigma1_v_per_s: f64,
-) -> Option<f64> {
+pub fn min_hysteresis_v(target_per_edge: f64, slope_v_per_s: f64, sigma0_v: f64, sigma1_v_per_s: f64) -> Option<f64> {
     let s = slope_v_per_s.abs();
     if !(target_per_edge > 0.0) || !target_per_edge.is_finite() || !(s > 0.0) || !s.is_finite() {
         return None;
@@ -235,31 +214,19 @@ const POINTS_PER_CYCLE: f64 = 256.0;
 const MAX_CYCLES_PER_PERIOD: f64 = 1000.0;
 
 fn usable(terms: &[Sinusoid]) -> impl Iterator<Item = &Sinusoid> {
-    terms.iter().filter(|t| {
-        t.amplitude_v.is_finite()
-            && t.amplitude_v != 0.0
-            && t.frequency_hz.is_finite()
-            && t.frequency_hz > 0.0
-            && t.phase_rad.is_finite()
-    })
+    terms.iter().filter(|t| t.amplitude_v.is_finite() && t.amplitude_v != 0.0 && t.frequency_hz.is_finite() && t.frequency_hz > 0.0 && t.phase_rad.is_finite())
 }
 
 /// The largest slope of the interference, Σ 2πfᵢ|Aᵢ|, volts per second (an upper bound on max|ḋ|).
 pub fn interference_slope_max_v_per_s(terms: &[Sinusoid]) -> f64 {
-    usable(terms)
-        .map(|t| 2.0 * PI * t.frequency_hz * t.amplitude_v.abs())
-        .sum()
+    usable(terms).map(|t| 2.0 * PI * t.frequency_hz * t.amplitude_v.abs()).sum()
 }
 
 /// The common base frequency of the terms (their greatest common divisor, to 1 mHz), `None` when
 /// they have none within [`MAX_CYCLES_PER_PERIOD`] cycles of the highest frequency.
 fn base_frequency_hz(terms: &[Sinusoid]) -> Option<(f64, f64)> {
     fn gcd(a: u64, b: u64) -> u64 {
-        if b == 0 {
-            a
-        } else {
-            gcd(b, a % b)
-        }
+        if b == 0 { a } else { gcd(b, a % b) }
     }
     let mut g = 0u64;
     let mut f_max = 0.0_f64;
@@ -292,9 +259,7 @@ pub fn reverse_excursion_v(terms: &[Sinusoid], slope_v_per_s: f64) -> f64 {
     if !slope_v_per_s.is_finite() {
         return peak_to_peak;
     }
-    let Some((f0, f_max)) = base_frequency_hz(terms) else {
-        return peak_to_peak;
-    };
+    let Some((f0, f_max)) = base_frequency_hz(terms) else { return peak_to_peak };
     if slope_v_per_s.abs() >= interference_slope_max_v_per_s(terms) {
         return 0.0; // e(t) never falls: the signal outruns the interference everywhere.
     }
@@ -377,37 +342,17 @@ pub fn min_hysteresis_with_interference(
     sigma1_v_per_s: f64,
     terms: &[Sinusoid],
 ) -> Option<HysteresisNeed> {
-    let up = slope_up_v_per_s
-        .map(f64::abs)
-        .filter(|s| *s > 0.0 && s.is_finite());
-    let down = slope_down_v_per_s
-        .map(f64::abs)
-        .filter(|s| *s > 0.0 && s.is_finite());
+    let up = slope_up_v_per_s.map(f64::abs).filter(|s| *s > 0.0 && s.is_finite());
+    let down = slope_down_v_per_s.map(f64::abs).filter(|s| *s > 0.0 && s.is_finite());
     let slowest = match (up, down) {
         (Some(a), Some(b)) => a.min(b),
         (a, b) => a.or(b)?,
     };
-    let interference_v = up
-        .map_or(0.0, |s| reverse_excursion_v(terms, s))
-        .max(down.map_or(0.0, |s| reverse_excursion_v(terms, -s)));
-    let s1 = if sigma1_v_per_s.is_finite() && sigma1_v_per_s > 0.0 {
-        sigma1_v_per_s
-    } else {
-        0.0
-    };
-    let sigma1_effective_v_per_s = if s1 > 0.0 {
-        s1 + (PI / 2.0).sqrt() * interference_slope_max_v_per_s(terms)
-    } else {
-        0.0
-    };
-    let gaussian_v =
-        min_hysteresis_v(target_per_edge, slowest, sigma0_v, sigma1_effective_v_per_s)?;
-    Some(HysteresisNeed {
-        interference_v,
-        gaussian_v,
-        sigma1_effective_v_per_s,
-        total_v: interference_v + gaussian_v,
-    })
+    let interference_v = up.map_or(0.0, |s| reverse_excursion_v(terms, s)).max(down.map_or(0.0, |s| reverse_excursion_v(terms, -s)));
+    let s1 = if sigma1_v_per_s.is_finite() && sigma1_v_per_s > 0.0 { sigma1_v_per_s } else { 0.0 };
+    let sigma1_effective_v_per_s = if s1 > 0.0 { s1 + (PI / 2.0).sqrt() * interference_slope_max_v_per_s(terms) } else { 0.0 };
+    let gaussian_v = min_hysteresis_v(target_per_edge, slowest, sigma0_v, sigma1_effective_v_per_s)?;
+    Some(HysteresisNeed { interference_v, gaussian_v, sigma1_effective_v_per_s, total_v: interference_v + gaussian_v })
 }
 
 #[cfg(test)]
@@ -431,39 +376,13 @@ mod tests {
     #[test]
     fn flat_and_two_pole_zero_level_rates() {
         // Flat to B: ν⁺(μ) = B/√3 (DOMAIN §4). Two poles: ν⁺(μ) = fc.
-        let (s0, s1) = spectral_moments(
-            0.3,
-            Spectrum::Flat {
-                bandwidth_hz: 1000.0,
-            },
-        );
+        let (s0, s1) = spectral_moments(0.3, Spectrum::Flat { bandwidth_hz: 1000.0 });
         assert!((upcrossing_rate_hz(0.0, 0.0, s0, s1) - 1000.0 / 3f64.sqrt()).abs() < 1e-9);
-        let (s0, s1) = spectral_moments(
-            0.3,
-            Spectrum::Poles {
-                corner_hz: 250.0,
-                poles: 2,
-                bandwidth_hz: 1e9,
-            },
-        );
+        let (s0, s1) = spectral_moments(0.3, Spectrum::Poles { corner_hz: 250.0, poles: 2, bandwidth_hz: 1e9 });
         assert!((upcrossing_rate_hz(0.0, 0.0, s0, s1) - 250.0).abs() < 1e-9);
         // One pole: σ1 grows as √B.
-        let (_, a) = spectral_moments(
-            1.0,
-            Spectrum::Poles {
-                corner_hz: 1.0,
-                poles: 1,
-                bandwidth_hz: 1e4,
-            },
-        );
-        let (_, b) = spectral_moments(
-            1.0,
-            Spectrum::Poles {
-                corner_hz: 1.0,
-                poles: 1,
-                bandwidth_hz: 4e4,
-            },
-        );
+        let (_, a) = spectral_moments(1.0, Spectrum::Poles { corner_hz: 1.0, poles: 1, bandwidth_hz: 1e4 });
+        let (_, b) = spectral_moments(1.0, Spectrum::Poles { corner_hz: 1.0, poles: 1, bandwidth_hz: 4e4 });
         assert!((b / a - 2.0).abs() < 1e-3);
     }
 
@@ -479,14 +398,7 @@ mod tests {
             b += f * f * s * h;
             f += h;
         }
-        let (s0, s1) = spectral_moments(
-            1.0,
-            Spectrum::Poles {
-                corner_hz: 1.0,
-                poles: 4,
-                bandwidth_hz: 0.0,
-            },
-        );
+        let (s0, s1) = spectral_moments(1.0, Spectrum::Poles { corner_hz: 1.0, poles: 4, bandwidth_hz: 0.0 });
         assert!(((s1 / s0 / (2.0 * PI)).powi(2) - b / a).abs() < 1e-6);
     }
 
@@ -502,41 +414,17 @@ mod tests {
 
     #[test]
     fn excursion_of_one_sine_matches_its_closed_form() {
-        for &(a, f, s, ph) in &[
-            (0.15, 50.0, 6.0, 0.0),
-            (0.15, 60.0, 30.0, 1.0),
-            (1.0, 50.0, 0.0, 2.0),
-            (0.1, 50.0, 31.0, 0.3),
-            (0.1, 50.0, 40.0, 0.0),
-        ] {
-            let t = [Sinusoid {
-                amplitude_v: a,
-                frequency_hz: f,
-                phase_rad: ph,
-            }];
+        for &(a, f, s, ph) in &[(0.15, 50.0, 6.0, 0.0), (0.15, 60.0, 30.0, 1.0), (1.0, 50.0, 0.0, 2.0), (0.1, 50.0, 31.0, 0.3), (0.1, 50.0, 40.0, 0.0)] {
+            let t = [Sinusoid { amplitude_v: a, frequency_hz: f, phase_rad: ph }];
             let want = one_sine_excursion(a, f, s);
             for sign in [1.0, -1.0] {
                 let got = reverse_excursion_v(&t, sign * s);
-                assert!(
-                    (got - want).abs() < 1e-6 * a,
-                    "{a} {f} {s}: {got} vs {want}"
-                );
+                assert!((got - want).abs() < 1e-6 * a, "{a} {f} {s}: {got} vs {want}");
             }
         }
         assert_eq!(reverse_excursion_v(&[], 1.0), 0.0);
         // No common period within the limit: the peak-to-peak bound.
-        let odd = [
-            Sinusoid {
-                amplitude_v: 0.1,
-                frequency_hz: 50.0,
-                phase_rad: 0.0,
-            },
-            Sinusoid {
-                amplitude_v: 0.1,
-                frequency_hz: 50.0 * 2f64.sqrt(),
-                phase_rad: 0.0,
-            },
-        ];
+        let odd = [Sinusoid { amplitude_v: 0.1, frequency_hz: 50.0, phase_rad: 0.0 }, Sinusoid { amplitude_v: 0.1, frequency_hz: 50.0 * 2f64.sqrt(), phase_rad: 0.0 }];
         assert_eq!(reverse_excursion_v(&odd, 1.0), 0.4);
     }
 
@@ -545,21 +433,9 @@ mod tests {
         // Hum with a third harmonic and a 60 Hz term (common period 0.1 s): a plain double loop
         // over a fine grid agrees with the drawdown search.
         let t = [
-            Sinusoid {
-                amplitude_v: 0.15,
-                frequency_hz: 50.0,
-                phase_rad: 0.0,
-            },
-            Sinusoid {
-                amplitude_v: 0.03,
-                frequency_hz: 150.0,
-                phase_rad: 0.7,
-            },
-            Sinusoid {
-                amplitude_v: 0.02,
-                frequency_hz: 60.0,
-                phase_rad: -0.4,
-            },
+            Sinusoid { amplitude_v: 0.15, frequency_hz: 50.0, phase_rad: 0.0 },
+            Sinusoid { amplitude_v: 0.03, frequency_hz: 150.0, phase_rad: 0.7 },
+            Sinusoid { amplitude_v: 0.02, frequency_hz: 60.0, phase_rad: -0.4 },
         ];
         for &s in &[2.0_f64, -5.0, 20.0] {
             let d = |x: f64| t.iter().map(|w| w.value_at(x)).sum::<f64>();
@@ -574,20 +450,13 @@ mod tests {
                 }
             }
             let got = reverse_excursion_v(&t, s);
-            assert!(
-                got >= brute - 1e-9 && got - brute < 2e-4,
-                "{s}: {got} vs {brute}"
-            );
+            assert!(got >= brute - 1e-9 && got - brute < 2e-4, "{s}: {got} vs {brute}");
         }
     }
 
     #[test]
     fn recommendation_adds_the_interference() {
-        let t = [Sinusoid {
-            amplitude_v: 0.15,
-            frequency_hz: 50.0,
-            phase_rad: 0.0,
-        }];
+        let t = [Sinusoid { amplitude_v: 0.15, frequency_hz: 50.0, phase_rad: 0.0 }];
         let (s0, s1) = spectral_moments(0.01, Spectrum::Flat { bandwidth_hz: 1e6 });
         let n = min_hysteresis_with_interference(1e-3, Some(6.0), Some(8.0), s0, s1, &t).unwrap();
         assert!((n.interference_v - one_sine_excursion(0.15, 50.0, 6.0)).abs() < 1e-6);
@@ -596,10 +465,7 @@ mod tests {
         assert_eq!(n.total_v, n.interference_v + n.gaussian_v);
         // Without interference it is Rice's Gaussian term alone.
         let g = min_hysteresis_with_interference(1e-3, Some(6.0), None, s0, s1, &[]).unwrap();
-        assert_eq!(
-            (g.interference_v, g.total_v),
-            (0.0, min_hysteresis_v(1e-3, 6.0, s0, s1).unwrap())
-        );
+        assert_eq!((g.interference_v, g.total_v), (0.0, min_hysteresis_v(1e-3, 6.0, s0, s1).unwrap()));
         assert!(min_hysteresis_with_interference(1e-3, None, None, s0, s1, &t).is_none());
     }
 

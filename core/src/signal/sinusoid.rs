@@ -13,10 +13,7 @@ pub fn phase(field: &str, v: f64) -> Result<(), DesignError> {
     if v.is_finite() && v.abs() <= MAX_PHASE_DEG {
         Ok(())
     } else {
-        Err(DesignError::invalid(
-            field,
-            format!("must be between −{MAX_PHASE_DEG} and {MAX_PHASE_DEG} degrees (got {v})"),
-        ))
+        Err(DesignError::invalid(field, format!("must be between −{MAX_PHASE_DEG} and {MAX_PHASE_DEG} degrees (got {v})")))
     }
 }
 
@@ -32,14 +29,7 @@ pub(crate) fn frac(x: f64) -> f64 {
 /// Adds A·sin(2πf·t + φ) at t = (first_index + k)·step for k = 0.. to `out`, by a rotating
 /// phasor re-anchored to `libm::sin`/`cos` at the first sample and at every absolute index that is
 /// a multiple of [`RESYNC`]. Allocation-free.
-pub(crate) fn add_sinusoid(
-    out: &mut [f64],
-    first_index: usize,
-    step_s: f64,
-    amplitude_v: f64,
-    frequency_hz: f64,
-    phase_rad: f64,
-) {
+pub(crate) fn add_sinusoid(out: &mut [f64], first_index: usize, step_s: f64, amplitude_v: f64, frequency_hz: f64, phase_rad: f64) {
     if amplitude_v == 0.0 {
         return;
     }

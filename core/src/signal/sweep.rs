@@ -19,9 +19,7 @@
 use super::generate::SignalDefinition;
 use super::noise::{add_noise, source_seed, NoiseSource};
 use super::rice;
-use super::trigger::{
-    compare_edges, run_trigger, Edge, EdgeComparison, TimingModel, TriggerDesign,
-};
+use super::trigger::{compare_edges, run_trigger, Edge, EdgeComparison, TimingModel, TriggerDesign};
 use crate::error::{positive, DesignError};
 use serde::{Deserialize, Serialize};
 
@@ -102,32 +100,19 @@ pub struct SweepResult {
 
 /// The levels the sweep visits, for a design of hysteresis `hysteresis_v`.
 pub fn sweep_levels(s: &SweepSettings, hysteresis_v: f64) -> Result<Vec<f64>, DesignError> {
-    let h = if hysteresis_v > 0.0 {
-        hysteresis_v
-    } else {
-        0.3
-    };
+    let h = if hysteresis_v > 0.0 { hysteresis_v } else { 0.3 };
     let lo = s.min_rms_v.unwrap_or(h / 300.0);
     let hi = s.max_rms_v.unwrap_or(h);
     positive("sweep.min_rms_v", lo)?;
     positive("sweep.max_rms_v", hi)?;
     crate::limits::check(crate::limits::Quantity::Voltage, "sweep.min_rms_v", lo)?;
     crate::limits::check(crate::limits::Quantity::Voltage, "sweep.max_rms_v", hi)?;
-    crate::error::non_negative(
-        "sweep.fail_above_false_edges_per_edge",
-        s.fail_above_false_edges_per_edge,
-    )?;
+    crate::error::non_negative("sweep.fail_above_false_edges_per_edge", s.fail_above_false_edges_per_edge)?;
     if hi < lo {
-        return Err(DesignError::invalid(
-            "sweep.max_rms_v",
-            "must not be below min_rms_v",
-        ));
+        return Err(DesignError::invalid("sweep.max_rms_v", "must not be below min_rms_v"));
     }
     if s.steps == 0 || s.steps > 200 {
-        return Err(DesignError::invalid(
-            "sweep.steps",
-            format!("must be 1 to 200 (got {})", s.steps),
-        ));
+        return Err(DesignError::invalid("sweep.steps", format!("must be 1 to 200 (got {})", s.steps)));
     }
     if s.steps == 1 {
         return Ok(vec![lo]);
@@ -183,29 +168,16 @@ pub struct SweepRunner {
 
 impl SweepRunner {
     /// Validates the settings and generates the unit noise for a signal of `samples` samples.
-    pub fn new(
-        ctx: &SweepContext<'_>,
-        settings: &SweepSettings,
-        samples: usize,
-    ) -> Result<Self, DesignError> {
+    pub fn new(ctx: &SweepContext<'_>, settings: &SweepSettings, samples: usize) -> Result<Self, DesignError> {
         let def = ctx.definition;
         let levels = sweep_levels(settings, ctx.design.thresholds.hysteresis_v())?;
         let unit = match settings.noise {
             SweepNoise::White => NoiseSource::White { rms_v: 1.0 },
-            SweepNoise::BandLimited { corner_hz, poles } => NoiseSource::BandLimited {
-                rms_v: 1.0,
-                corner_hz,
-                poles,
-            },
+            SweepNoise::BandLimited { corner_hz, poles } => NoiseSource::BandLimited { rms_v: 1.0, corner_hz, poles },
         };
         unit.validate(def.sample_rate_hz)?;
         let mut unit_v = vec![0.0; samples];
-        add_noise(
-            &unit,
-            source_seed(def.seed, def.noise.len()),
-            def.step_s(),
-            &mut unit_v,
-        );
+        add_noise(&unit, source_seed(def.seed, def.noise.len()), def.step_s(), &mut unit_v);
         // Gaussian moments per volt of sweep noise, plus the kept sources' own, as the trigger
         // sees them: flat to half the sample rate, through the network's filter when there is one.
         let moments = |s: &NoiseSource| match &ctx.front {
@@ -214,23 +186,13 @@ impl SweepRunner {
         };
         let (s0_filtered, s1_unit) = moments(&unit).unwrap_or((1.0, 0.0));
         // Without a filter the level is the RMS the trigger sees (σ0 per volt is 1, as before).
-        let s0_unit = if ctx.front.is_some_and(|f| f.corner_hz().is_some()) {
-            s0_filtered
-        } else {
-            1.0
-        };
+        let s0_unit = if ctx.front.is_some_and(|f| f.corner_hz().is_some()) { s0_filtered } else { 1.0 };
         let kept = if settings.keep_other_noise {
             rice::combine_moments(def.noise.iter().filter_map(moments))
         } else {
             (0.0, 0.0)
         };
-        Ok(SweepRunner {
-            levels,
-            unit_v,
-            s0_unit,
-            s1_unit,
-            kept,
-        })
+        Ok(SweepRunner { levels, unit_v, s0_unit, s1_unit, kept })
     }
 
     /// The RMS levels, volts, ascending.
@@ -250,13 +212,7 @@ impl SweepRunner {
         edges: &mut Vec<Edge>,
     ) -> Result<SweepPoint, DesignError> {
         let Some(&level) = self.levels.get(index) else {
-            return Err(DesignError::invalid(
-                "sweep.steps",
-                format!(
-                    "level {index} is not among the {} levels",
-                    self.levels.len()
-                ),
-            ));
+            return Err(DesignError::invalid("sweep.steps", format!("level {index} is not among the {} levels", self.levels.len())));
         };
         let def = ctx.definition;
         scratch_v.resize(base_v.len(), 0.0);
@@ -266,45 +222,21 @@ impl SweepRunner {
         if let Some(f) = &ctx.front {
             f.apply(def.time_base().view(), scratch_v);
         }
-        run_trigger(
-            &ctx.design,
-            &ctx.timing,
-            def.time_base().view(),
-            scratch_v,
-            edges,
-        );
+        run_trigger(&ctx.design, &ctx.timing, def.time_base().view(), scratch_v, edges);
         let design = compare_edges(edges, ctx.intended, ctx.window_s);
-        run_trigger(
-            &ctx.baseline,
-            &ctx.timing,
-            def.time_base().view(),
-            scratch_v,
-            edges,
-        );
+        run_trigger(&ctx.baseline, &ctx.timing, def.time_base().view(), scratch_v, edges);
         let baseline = compare_edges(edges, ctx.intended_baseline, ctx.window_baseline_s);
         let h = ctx.design.thresholds.hysteresis_v();
-        let (s0, s1) =
-            rice::combine_moments([(level * self.s0_unit, level * self.s1_unit), self.kept]);
-        let bound: f64 = ctx
-            .intended
-            .iter()
-            .map(|e| rice::false_edges_per_edge_bound(h, e.slope_v_per_s, s0, s1))
-            .sum();
-        let expected: f64 = ctx
-            .intended_baseline
-            .iter()
-            .map(|e| 2.0 * rice::wrong_way_crossings_no_hysteresis(e.slope_v_per_s, s1))
-            .sum();
+        let (s0, s1) = rice::combine_moments([(level * self.s0_unit, level * self.s1_unit), self.kept]);
+        let bound: f64 = ctx.intended.iter().map(|e| rice::false_edges_per_edge_bound(h, e.slope_v_per_s, s0, s1)).sum();
+        let expected: f64 =
+            ctx.intended_baseline.iter().map(|e| 2.0 * rice::wrong_way_crossings_no_hysteresis(e.slope_v_per_s, s1)).sum();
         Ok(SweepPoint {
             noise_rms_v: level,
             design,
             baseline,
             design_bound_false_edges: if bound.is_finite() { bound } else { f64::MAX },
-            baseline_expected_false_edges: if expected.is_finite() {
-                expected
-            } else {
-                f64::MAX
-            },
+            baseline_expected_false_edges: if expected.is_finite() { expected } else { f64::MAX },
         })
     }
 }
@@ -314,19 +246,9 @@ impl SweepRunner {
 pub fn finish_sweep(settings: &SweepSettings, points: Vec<SweepPoint>) -> SweepResult {
     let per = |c: &EdgeComparison| c.false_edges as f64 / c.intended_edges.max(1) as f64;
     let limit = settings.fail_above_false_edges_per_edge;
-    let design_fails_at_rms_v = points
-        .iter()
-        .find(|p| per(&p.design) > limit)
-        .map(|p| p.noise_rms_v);
-    let baseline_fails_at_rms_v = points
-        .iter()
-        .find(|p| per(&p.baseline) > limit)
-        .map(|p| p.noise_rms_v);
-    SweepResult {
-        points,
-        design_fails_at_rms_v,
-        baseline_fails_at_rms_v,
-    }
+    let design_fails_at_rms_v = points.iter().find(|p| per(&p.design) > limit).map(|p| p.noise_rms_v);
+    let baseline_fails_at_rms_v = points.iter().find(|p| per(&p.baseline) > limit).map(|p| p.noise_rms_v);
+    SweepResult { points, design_fails_at_rms_v, baseline_fails_at_rms_v }
 }
 
 /// Runs the sweep. `base_v` is the signal the sweep noise is added to (the noise-free sum, or the
@@ -352,28 +274,13 @@ mod tests {
 
     #[test]
     fn levels_are_spaced_as_asked() {
-        let s = SweepSettings {
-            min_rms_v: Some(1e-3),
-            max_rms_v: Some(1.0),
-            steps: 4,
-            ..Default::default()
-        };
+        let s = SweepSettings { min_rms_v: Some(1e-3), max_rms_v: Some(1.0), steps: 4, ..Default::default() };
         let l = sweep_levels(&s, 0.5).unwrap();
         assert_eq!(l.len(), 4);
         assert!((l[1] - 1e-2).abs() < 1e-15 && (l[3] - 1.0).abs() < 1e-12);
-        let s = SweepSettings {
-            logarithmic: false,
-            ..s
-        };
+        let s = SweepSettings { logarithmic: false, ..s };
         assert!((sweep_levels(&s, 0.5).unwrap()[1] - 0.334).abs() < 1e-12);
         assert!(sweep_levels(&SweepSettings { steps: 0, ..s }, 0.5).is_err());
-        assert!(sweep_levels(
-            &SweepSettings {
-                min_rms_v: Some(2.0),
-                ..s
-            },
-            0.5
-        )
-        .is_err());
+        assert!(sweep_levels(&SweepSettings { min_rms_v: Some(2.0), ..s }, 0.5).is_err());
     }
 }

@@ -74,33 +74,15 @@ impl DelayModel {
         match *spec {
             DelaySpec::Fixed { delay_s } => {
                 limit(Quantity::Duration, "timing.delay.delay_s", delay_s)?;
-                Ok(DelayModel {
-                    reference_delay_s: delay_s,
-                    reference_overdrive_v: 1.0,
-                    exponent: 0.0,
-                    min_overdrive_v: 0.0,
-                })
+                Ok(DelayModel { reference_delay_s: delay_s, reference_overdrive_v: 1.0, exponent: 0.0, min_overdrive_v: 0.0 })
             }
-            DelaySpec::TwoPoint {
-                overdrive_a_v,
-                delay_a_s,
-                overdrive_b_v,
-                delay_b_s,
-            } => {
+            DelaySpec::TwoPoint { overdrive_a_v, delay_a_s, overdrive_b_v, delay_b_s } => {
                 positive("timing.delay.overdrive_a_v", overdrive_a_v)?;
                 positive("timing.delay.overdrive_b_v", overdrive_b_v)?;
                 positive("timing.delay.delay_a_s", delay_a_s)?;
                 positive("timing.delay.delay_b_s", delay_b_s)?;
-                limit(
-                    Quantity::Voltage,
-                    "timing.delay.overdrive_a_v",
-                    overdrive_a_v,
-                )?;
-                limit(
-                    Quantity::Voltage,
-                    "timing.delay.overdrive_b_v",
-                    overdrive_b_v,
-                )?;
+                limit(Quantity::Voltage, "timing.delay.overdrive_a_v", overdrive_a_v)?;
+                limit(Quantity::Voltage, "timing.delay.overdrive_b_v", overdrive_b_v)?;
                 limit(Quantity::Duration, "timing.delay.delay_a_s", delay_a_s)?;
                 limit(Quantity::Duration, "timing.delay.delay_b_s", delay_b_s)?;
                 if overdrive_a_v == overdrive_b_v {
@@ -116,8 +98,7 @@ impl DelayModel {
                         min_overdrive_v: 0.0,
                     });
                 }
-                let alpha =
-                    libm::log(delay_a_s / delay_b_s) / libm::log(overdrive_b_v / overdrive_a_v);
+                let alpha = libm::log(delay_a_s / delay_b_s) / libm::log(overdrive_b_v / overdrive_a_v);
                 if alpha < 0.0 {
                     return Err(DesignError::inconsistent(
                         "the delay grows with overdrive in these figures: check that each delay is paired with its overdrive",
@@ -144,11 +125,7 @@ impl DelayModel {
         if self.exponent == 0.0 {
             return self.reference_delay_s;
         }
-        let v = if overdrive_v > self.min_overdrive_v {
-            overdrive_v
-        } else {
-            self.min_overdrive_v
-        };
+        let v = if overdrive_v > self.min_overdrive_v { overdrive_v } else { self.min_overdrive_v };
         self.reference_delay_s * libm::pow(v / self.reference_overdrive_v, -self.exponent)
     }
 }
@@ -178,10 +155,7 @@ pub enum OutputStage {
 
 impl Default for OutputStage {
     fn default() -> Self {
-        OutputStage::PushPull {
-            rise_time_s: 0.0,
-            fall_time_s: 0.0,
-        }
+        OutputStage::PushPull { rise_time_s: 0.0, fall_time_s: 0.0 }
     }
 }
 
@@ -215,26 +189,15 @@ impl OutputStage {
     /// Checks the values.
     pub fn validate(&self) -> Result<(), DesignError> {
         match *self {
-            OutputStage::PushPull {
-                rise_time_s,
-                fall_time_s,
-            } => {
+            OutputStage::PushPull { rise_time_s, fall_time_s } => {
                 limit(Quantity::Duration, "timing.output.rise_time_s", rise_time_s)?;
                 limit(Quantity::Duration, "timing.output.fall_time_s", fall_time_s)?;
             }
-            OutputStage::OpenDrain {
-                pullup_ohm,
-                load_capacitance_f,
-                fall_time_s,
-            } => {
+            OutputStage::OpenDrain { pullup_ohm, load_capacitance_f, fall_time_s } => {
                 limit(Quantity::Resistance, "timing.output.pullup_ohm", pullup_ohm)?;
                 non_negative("timing.output.load_capacitance_f", load_capacitance_f)?;
                 if load_capacitance_f != 0.0 {
-                    limit(
-                        Quantity::Capacitance,
-                        "timing.output.load_capacitance_f",
-                        load_capacitance_f,
-                    )?;
+                    limit(Quantity::Capacitance, "timing.output.load_capacitance_f", load_capacitance_f)?;
                 }
                 limit(Quantity::Duration, "timing.output.fall_time_s", fall_time_s)?;
             }
@@ -245,28 +208,13 @@ impl OutputStage {
     /// The (rising, falling) transition shapes.
     pub fn shapes(&self) -> (TransitionShape, TransitionShape) {
         match *self {
-            OutputStage::PushPull {
-                rise_time_s,
-                fall_time_s,
-            } => (
-                TransitionShape::Linear {
-                    duration_s: rise_time_s / 0.8,
-                },
-                TransitionShape::Linear {
-                    duration_s: fall_time_s / 0.8,
-                },
+            OutputStage::PushPull { rise_time_s, fall_time_s } => (
+                TransitionShape::Linear { duration_s: rise_time_s / 0.8 },
+                TransitionShape::Linear { duration_s: fall_time_s / 0.8 },
             ),
-            OutputStage::OpenDrain {
-                pullup_ohm,
-                load_capacitance_f,
-                fall_time_s,
-            } => (
-                TransitionShape::Exponential {
-                    tau_s: pullup_ohm * load_capacitance_f,
-                },
-                TransitionShape::Linear {
-                    duration_s: fall_time_s / 0.8,
-                },
+            OutputStage::OpenDrain { pullup_ohm, load_capacitance_f, fall_time_s } => (
+                TransitionShape::Exponential { tau_s: pullup_ohm * load_capacitance_f },
+                TransitionShape::Linear { duration_s: fall_time_s / 0.8 },
             ),
         }
     }
@@ -297,18 +245,11 @@ pub struct OpenDrainRise {
 
 /// The rise of an open-drain output from the pull-up and the load (RC charging law,
 /// t = τ·ln[(V∞−V0)/(V∞−Vth)], shared/DOMAIN.md §1e; 10–90 % = τ·ln 9).
-pub fn open_drain_rise(
-    pullup_ohm: f64,
-    load_capacitance_f: f64,
-) -> Result<OpenDrainRise, DesignError> {
+pub fn open_drain_rise(pullup_ohm: f64, load_capacitance_f: f64) -> Result<OpenDrainRise, DesignError> {
     positive("pullup_ohm", pullup_ohm)?;
     non_negative("load_capacitance_f", load_capacitance_f)?;
     let tau = pullup_ohm * load_capacitance_f;
-    Ok(OpenDrainRise {
-        tau_s: tau,
-        rise_10_90_s: tau * libm::log(9.0),
-        to_mid_s: tau * std::f64::consts::LN_2,
-    })
+    Ok(OpenDrainRise { tau_s: tau, rise_10_90_s: tau * libm::log(9.0), to_mid_s: tau * std::f64::consts::LN_2 })
 }
 
 /// Time for an RC node heading from `v0_v` toward `v_final_v` to reach `v_level_v`:
@@ -325,11 +266,7 @@ pub fn rc_time_to_level_s(v0_v: f64, v_final_v: f64, v_level_v: f64, tau_s: f64)
     let r = num / den;
     if !(r >= 1.0) || !r.is_finite() {
         // Level behind the start (r < 1: already past; treat as 0 only when exactly there) or never reached.
-        return if (v_level_v - v0_v) * num <= 0.0 {
-            Some(0.0)
-        } else {
-            None
-        };
+        return if (v_level_v - v0_v) * num <= 0.0 { Some(0.0) } else { None };
     }
     Some(tau_s * libm::log(r))
 }
@@ -411,13 +348,7 @@ pub fn logic_dwell_linear_s(vil_v: f64, vih_v: f64, slope_v_per_s: f64) -> f64 {
 
 /// Time an RC edge from `v0_v` toward `v_final_v` spends between VIL and VIH, seconds
 /// (difference of the two RC crossing times); `None` when it does not cross both.
-pub fn logic_dwell_rc_s(
-    vil_v: f64,
-    vih_v: f64,
-    v0_v: f64,
-    v_final_v: f64,
-    tau_s: f64,
-) -> Option<f64> {
+pub fn logic_dwell_rc_s(vil_v: f64, vih_v: f64, v0_v: f64, v_final_v: f64, tau_s: f64) -> Option<f64> {
     let a = rc_time_to_level_s(v0_v, v_final_v, vil_v, tau_s)?;
     let b = rc_time_to_level_s(v0_v, v_final_v, vih_v, tau_s)?;
     Some((a - b).abs())
@@ -440,26 +371,11 @@ pub struct DwellStats {
 /// (crossing times interpolated linearly). Excursions that enter and leave on the same side are
 /// not transits. Allocation-free.
 pub fn logic_dwell_in(times: Times<'_>, volts: &[f64], vil_v: f64, vih_v: f64) -> DwellStats {
-    let (lo, hi) = if vil_v <= vih_v {
-        (vil_v, vih_v)
-    } else {
-        (vih_v, vil_v)
-    };
-    let mut stats = DwellStats {
-        min_dwell_s: f64::INFINITY,
-        ..DwellStats::default()
-    };
+    let (lo, hi) = if vil_v <= vih_v { (vil_v, vih_v) } else { (vih_v, vil_v) };
+    let mut stats = DwellStats { min_dwell_s: f64::INFINITY, ..DwellStats::default() };
     let mut sum = 0.0;
     // side: −1 below, +1 above, 0 inside; entry: (time, side entered from).
-    let side = |v: f64| {
-        if v < lo {
-            -1i8
-        } else if v > hi {
-            1
-        } else {
-            0
-        }
-    };
+    let side = |v: f64| if v < lo { -1i8 } else if v > hi { 1 } else { 0 };
     let mut last_side = match volts.first() {
         Some(&v) => side(v),
         None => return DwellStats::default(),
@@ -468,11 +384,7 @@ pub fn logic_dwell_in(times: Times<'_>, volts: &[f64], vil_v: f64, vih_v: f64) -
     let cross = |i: usize, level: f64| {
         let (v0, v1) = (volts[i - 1], volts[i]);
         let (t0, t1) = (times.at(i - 1), times.at(i));
-        let f = if v1 != v0 {
-            ((level - v0) / (v1 - v0)).clamp(0.0, 1.0)
-        } else {
-            1.0
-        };
+        let f = if v1 != v0 { ((level - v0) / (v1 - v0)).clamp(0.0, 1.0) } else { 1.0 };
         t0 + f * (t1 - t0)
     };
     for (i, &v) in volts.iter().enumerate().skip(1) {
@@ -513,24 +425,14 @@ mod tests {
 
     #[test]
     fn two_point_delay_passes_through_both_points() {
-        let m = DelayModel::new(&DelaySpec::TwoPoint {
-            overdrive_a_v: 0.005,
-            delay_a_s: 1.3e-6,
-            overdrive_b_v: 0.1,
-            delay_b_s: 0.3e-6,
-        })
-        .unwrap();
+        let m = DelayModel::new(&DelaySpec::TwoPoint { overdrive_a_v: 0.005, delay_a_s: 1.3e-6, overdrive_b_v: 0.1, delay_b_s: 0.3e-6 })
+            .unwrap();
         assert!((m.delay_s(0.005) / 1.3e-6 - 1.0).abs() < 1e-12);
         assert!((m.delay_s(0.1) / 0.3e-6 - 1.0).abs() < 1e-12);
         assert!(m.delay_s(0.05) < 1.3e-6 && m.delay_s(0.05) > 0.3e-6);
         assert_eq!(m.delay_s(0.0), m.delay_s(0.0005));
-        assert!(DelayModel::new(&DelaySpec::TwoPoint {
-            overdrive_a_v: 0.005,
-            delay_a_s: 0.3e-6,
-            overdrive_b_v: 0.1,
-            delay_b_s: 1.3e-6
-        })
-        .is_err());
+        assert!(DelayModel::new(&DelaySpec::TwoPoint { overdrive_a_v: 0.005, delay_a_s: 0.3e-6, overdrive_b_v: 0.1, delay_b_s: 1.3e-6 })
+            .is_err());
     }
 
     #[test]
@@ -547,32 +449,12 @@ mod tests {
     #[test]
     fn zero_crossing_small_offset_is_offset_over_slope() {
         // For a small offset, the lag ≈ VT+/(2πfA) (DOMAIN §6: threshold offset ÷ slope).
-        let z = zero_crossing_error(
-            10.0,
-            50.0,
-            0.0,
-            Thresholds {
-                vt_upper_v: 0.01,
-                vt_lower_v: -0.01,
-            },
-            0.0,
-        )
-        .unwrap();
+        let z = zero_crossing_error(10.0, 50.0, 0.0, Thresholds { vt_upper_v: 0.01, vt_lower_v: -0.01 }, 0.0).unwrap();
         let approx = 0.01 / (2.0 * PI * 50.0 * 10.0);
         assert!((z.rising_time_s / approx - 1.0).abs() < 1e-6);
         assert!((z.falling_time_s / approx - 1.0).abs() < 1e-6);
         assert!((z.high_fraction - 0.5).abs() < 1e-12);
-        assert!(zero_crossing_error(
-            1.0,
-            50.0,
-            0.0,
-            Thresholds {
-                vt_upper_v: 1.0,
-                vt_lower_v: 0.0
-            },
-            0.0
-        )
-        .is_err());
+        assert!(zero_crossing_error(1.0, 50.0, 0.0, Thresholds { vt_upper_v: 1.0, vt_lower_v: 0.0 }, 0.0).is_err());
     }
 
     #[test]
@@ -581,15 +463,7 @@ mod tests {
         assert!((logic_dwell_linear_s(1.5, 3.5, 5000.0) - 4e-4).abs() < 1e-15);
         let n = 1001;
         let v: Vec<f64> = (0..n).map(|i| 5.0 * i as f64 / 1000.0).collect();
-        let s = logic_dwell_in(
-            Times::Uniform {
-                start_s: 0.0,
-                step_s: 1e-6,
-            },
-            &v,
-            1.5,
-            3.5,
-        );
+        let s = logic_dwell_in(Times::Uniform { start_s: 0.0, step_s: 1e-6 }, &v, 1.5, 3.5);
         assert_eq!(s.transits, 1);
         assert!((s.max_dwell_s - 4e-4).abs() < 1e-12);
         // An RC edge: τ·ln[(V∞−VIL)/(V∞−VIH)].

@@ -55,33 +55,19 @@ impl TriggerDesign {
         circuit.validate()?;
         let thresholds = circuit.thresholds()?;
         let (output_high_v, output_low_v) = circuit.output_levels()?;
-        let d = TriggerDesign {
-            thresholds,
-            output_high_v,
-            output_low_v,
-            sense: circuit.sense(),
-        };
+        let d = TriggerDesign { thresholds, output_high_v, output_low_v, sense: circuit.sense() };
         d.validate()?;
         Ok(d)
     }
 
     /// The plain comparator at `level_v` with the same output levels and sense (the baseline).
     pub fn comparator(&self, level_v: f64) -> TriggerDesign {
-        TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: level_v,
-                vt_lower_v: level_v,
-            },
-            ..*self
-        }
+        TriggerDesign { thresholds: Thresholds { vt_upper_v: level_v, vt_lower_v: level_v }, ..*self }
     }
 
     /// The same output stage with other thresholds.
     pub fn with_thresholds(&self, thresholds: Thresholds) -> TriggerDesign {
-        TriggerDesign {
-            thresholds,
-            ..*self
-        }
+        TriggerDesign { thresholds, ..*self }
     }
 
     /// Checks that the values are finite and VT+ ≥ VT−.
@@ -165,23 +151,13 @@ impl TimingModel {
         timing.output.validate()?;
         let delay = DelayModel::new(&timing.delay)?;
         let (rise, fall) = timing.output.shapes();
-        Ok(TimingModel {
-            delay,
-            rise,
-            fall,
-            initial_state: timing.initial_state,
-        })
+        Ok(TimingModel { delay, rise, fall, initial_state: timing.initial_state })
     }
 
     /// No delay, instant edges, automatic initial state.
     pub fn ideal() -> Self {
         TimingModel {
-            delay: DelayModel {
-                reference_delay_s: 0.0,
-                reference_overdrive_v: 1.0,
-                exponent: 0.0,
-                min_overdrive_v: 0.0,
-            },
+            delay: DelayModel { reference_delay_s: 0.0, reference_overdrive_v: 1.0, exponent: 0.0, min_overdrive_v: 0.0 },
             rise: TransitionShape::Linear { duration_s: 0.0 },
             fall: TransitionShape::Linear { duration_s: 0.0 },
             initial_state: InitialState::Auto,
@@ -231,42 +207,20 @@ pub fn run_trigger(
     let (mut rising, mut falling) = (0usize, 0usize);
 
     if volts.is_empty() {
-        return TriggerOutcome {
-            initial_output_high,
-            final_output_high: initial_output_high,
-            edges: 0,
-            rising: 0,
-            falling: 0,
-        };
+        return TriggerOutcome { initial_output_high, final_output_high: initial_output_high, edges: 0, rising: 0, falling: 0 };
     }
     // Records the switch whose threshold crossing lies between samples i − 1 and i.
-    let switch_at = |i: usize,
-                     edges: &mut Vec<Edge>,
-                     input_high: bool,
-                     last_start: &mut f64|
-     -> (EdgeDirection, f64, f64) {
+    let switch_at = |i: usize, edges: &mut Vec<Edge>, input_high: bool, last_start: &mut f64| -> (EdgeDirection, f64, f64) {
         let (v, prev) = (volts[i], volts[i - 1]);
         let level = if input_high { up } else { lo };
         let (t0, t1) = (times.at(i - 1), times.at(i));
         let dv = v - prev;
-        let f = if dv != 0.0 {
-            ((level - prev) / dv).clamp(0.0, 1.0)
-        } else {
-            1.0
-        };
+        let f = if dv != 0.0 { ((level - prev) / dv).clamp(0.0, 1.0) } else { 1.0 };
         let crossing = t0 + f * (t1 - t0);
         let slope = if t1 > t0 { dv / (t1 - t0) } else { 0.0 };
-        let direction = if input_high == high_follows {
-            EdgeDirection::Rising
-        } else {
-            EdgeDirection::Falling
-        };
+        let direction = if input_high == high_follows { EdgeDirection::Rising } else { EdgeDirection::Falling };
         let exc = if input_high { v - up } else { lo - v };
-        let start = if overdrive {
-            crossing
-        } else {
-            (crossing + fixed_delay).max(*last_start)
-        };
+        let start = if overdrive { crossing } else { (crossing + fixed_delay).max(*last_start) };
         if !overdrive {
             *last_start = start;
         }
@@ -301,11 +255,7 @@ pub fn run_trigger(
     } else {
         for (i, &v) in volts.iter().enumerate().skip(1) {
             if let Some(p) = pending.as_mut() {
-                let exc = if p.upward {
-                    v - p.threshold_v
-                } else {
-                    p.threshold_v - v
-                };
+                let exc = if p.upward { v - p.threshold_v } else { p.threshold_v - v };
                 if exc > p.overdrive_v {
                     p.overdrive_v = exc;
                 }
@@ -350,13 +300,7 @@ pub fn run_trigger(
     }
 }
 
-fn resolve(
-    edges: &mut [Edge],
-    p: &Pending,
-    delay_s: f64,
-    timing: &TimingModel,
-    last_start: &mut f64,
-) {
+fn resolve(edges: &mut [Edge], p: &Pending, delay_s: f64, timing: &TimingModel, last_start: &mut f64) {
     if let Some(e) = edges.get_mut(p.index) {
         let start = (p.crossing_s + delay_s).max(*last_start);
         *last_start = start;
@@ -457,10 +401,7 @@ pub struct EdgeComparison {
 /// The default matching window: half the smallest gap between consecutive intended edges, or
 /// `duration_s` when there are fewer than two.
 pub fn default_match_window_s(intended: &[Edge], duration_s: f64) -> f64 {
-    let gap = intended
-        .windows(2)
-        .map(|w| (w[1].start_s - w[0].start_s).abs())
-        .fold(f64::INFINITY, f64::min);
+    let gap = intended.windows(2).map(|w| (w[1].start_s - w[0].start_s).abs()).fold(f64::INFINITY, f64::min);
     if gap.is_finite() {
         0.5 * gap
     } else {
@@ -470,11 +411,7 @@ pub fn default_match_window_s(intended: &[Edge], duration_s: f64) -> f64 {
 
 /// Counts false and missed edges of `actual` against `intended` within ± `window_s`. Allocation-free.
 pub fn compare_edges(actual: &[Edge], intended: &[Edge], window_s: f64) -> EdgeComparison {
-    let w = if window_s.is_finite() && window_s >= 0.0 {
-        window_s
-    } else {
-        0.0
-    };
+    let w = if window_s.is_finite() && window_s >= 0.0 { window_s } else { 0.0 };
     let mut j = 0;
     let mut matched = 0;
     for e in intended {
@@ -510,15 +447,7 @@ mod tests {
     use std::f64::consts::PI;
 
     fn design(up: f64, lo: f64, sense: Sense) -> TriggerDesign {
-        TriggerDesign {
-            thresholds: Thresholds {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-            },
-            output_high_v: 5.0,
-            output_low_v: 0.0,
-            sense,
-        }
+        TriggerDesign { thresholds: Thresholds { vt_upper_v: up, vt_lower_v: lo }, output_high_v: 5.0, output_low_v: 0.0, sense }
     }
 
     fn sine(noise: f64) -> SignalDefinition {
@@ -526,16 +455,8 @@ mod tests {
             sample_rate_hz: 1e5,
             duration_s: 0.1,
             seed: 4,
-            components: vec![Component::Sine {
-                amplitude_v: 1.0,
-                frequency_hz: 50.0,
-                phase_deg: 0.0,
-            }],
-            noise: if noise > 0.0 {
-                vec![NoiseSource::White { rms_v: noise }]
-            } else {
-                vec![]
-            },
+            components: vec![Component::Sine { amplitude_v: 1.0, frequency_hz: 50.0, phase_deg: 0.0 }],
+            noise: if noise > 0.0 { vec![NoiseSource::White { rms_v: noise }] } else { vec![] },
         }
     }
 
@@ -546,44 +467,21 @@ mod tests {
         let g = sine(0.0).generate().unwrap();
         let d = design(0.5, -0.3, Sense::NonInverting);
         let mut edges = Vec::new();
-        let o = run_trigger(
-            &d,
-            &TimingModel::ideal(),
-            g.time.view(),
-            &g.buffers.clean_v,
-            &mut edges,
-        );
+        let o = run_trigger(&d, &TimingModel::ideal(), g.time.view(), &g.buffers.clean_v, &mut edges);
         assert_eq!(o.edges, 10);
         assert_eq!(o.rising, 5);
         let t_up = (0.5f64).asin() / (2.0 * PI * 50.0);
         let t_dn = (PI + (0.3f64).asin()) / (2.0 * PI * 50.0);
         for (k, e) in edges.iter().enumerate() {
             let period = (k / 2) as f64 * 0.02;
-            let expect = if e.direction == EdgeDirection::Rising {
-                t_up
-            } else {
-                t_dn
-            } + period;
-            assert!(
-                (e.crossing_s - expect).abs() < 1e-8,
-                "{k}: {} vs {expect}",
-                e.crossing_s
-            );
+            let expect = if e.direction == EdgeDirection::Rising { t_up } else { t_dn } + period;
+            assert!((e.crossing_s - expect).abs() < 1e-8, "{k}: {} vs {expect}", e.crossing_s);
         }
         // Inverting sense flips directions only.
         let mut e2 = Vec::new();
-        run_trigger(
-            &design(0.5, -0.3, Sense::Inverting),
-            &TimingModel::ideal(),
-            g.time.view(),
-            &g.buffers.clean_v,
-            &mut e2,
-        );
+        run_trigger(&design(0.5, -0.3, Sense::Inverting), &TimingModel::ideal(), g.time.view(), &g.buffers.clean_v, &mut e2);
         assert_eq!(e2.len(), edges.len());
-        assert!(e2
-            .iter()
-            .zip(&edges)
-            .all(|(a, b)| a.direction != b.direction && a.crossing_s == b.crossing_s));
+        assert!(e2.iter().zip(&edges).all(|(a, b)| a.direction != b.direction && a.crossing_s == b.crossing_s));
     }
 
     #[test]
@@ -617,28 +515,16 @@ mod tests {
         let d = design(0.5, -0.5, Sense::NonInverting);
         let timing = TriggerTiming {
             delay: DelaySpec::Fixed { delay_s: 1e-3 },
-            output: OutputStage::PushPull {
-                rise_time_s: 0.8e-3,
-                fall_time_s: 0.4e-3,
-            },
+            output: OutputStage::PushPull { rise_time_s: 0.8e-3, fall_time_s: 0.4e-3 },
             ..Default::default()
         };
         let m = TimingModel::new(&timing).unwrap();
         let mut edges = Vec::new();
         let o = run_trigger(&d, &m, g.time.view(), &g.buffers.clean_v, &mut edges);
-        assert!(edges
-            .iter()
-            .all(|e| (e.start_s - e.crossing_s - 1e-3).abs() < 1e-15));
+        assert!(edges.iter().all(|e| (e.start_s - e.crossing_s - 1e-3).abs() < 1e-15));
         assert!((edges[0].mid_s - edges[0].start_s - 0.5e-3).abs() < 1e-15);
         let mut out = vec![0.0; g.buffers.clean_v.len()];
-        render_output(
-            &d,
-            &m,
-            g.time.view(),
-            o.initial_output_high,
-            &edges,
-            &mut out,
-        );
+        render_output(&d, &m, g.time.view(), o.initial_output_high, &edges, &mut out);
         // Half-way through the first rise (1 ms linear 0–100 %), the output is at 2.5 V.
         let i = ((edges[0].mid_s) * 1e5).round() as usize;
         assert!((out[i] - 2.5).abs() < 0.03, "{}", out[i]);
@@ -666,28 +552,15 @@ mod tests {
             _ if v0 == target => target,
             TransitionShape::Linear { duration_s } => {
                 let step = swing / duration_s * (t - t0);
-                if target > v0 {
-                    (v0 + step).min(target)
-                } else {
-                    (v0 - step).max(target)
-                }
+                if target > v0 { (v0 + step).min(target) } else { (v0 - step).max(target) }
             }
             TransitionShape::Exponential { tau_s } => {
                 let x = (t - t0) / tau_s;
-                if x > 40.0 {
-                    target
-                } else {
-                    target - (target - v0) * libm::exp(-x)
-                }
+                if x > 40.0 { target } else { target - (target - v0) * libm::exp(-x) }
             }
         };
         let level = |h: bool| if h { d.output_high_v } else { d.output_low_v };
-        let (mut t0, mut v0, mut target, mut shape) = (
-            f64::NEG_INFINITY,
-            level(o.initial_output_high),
-            level(o.initial_output_high),
-            m.rise,
-        );
+        let (mut t0, mut v0, mut target, mut shape) = (f64::NEG_INFINITY, level(o.initial_output_high), level(o.initial_output_high), m.rise);
         let mut k = 0;
         let mut settled_samples = 0;
         for (i, &got) in out.iter().enumerate() {
@@ -703,39 +576,22 @@ mod tests {
             assert_eq!(got.to_bits(), want.to_bits(), "sample {i}: {got} vs {want}");
             settled_samples += (want == target) as usize;
         }
-        assert!(
-            settled_samples > out.len() / 10 && settled_samples < out.len(),
-            "{settled_samples} of {}",
-            out.len()
-        );
+        assert!(settled_samples > out.len() / 10 && settled_samples < out.len(), "{settled_samples} of {}", out.len());
     }
 
     #[test]
     fn overdrive_delay_is_longer_for_slow_edges() {
         // Two-point law from 5 mV → 1 µs to 100 mV → 0.2 µs. A slow sine builds overdrive slowly,
         // a fast one quickly, so the slow one's delay is longer.
-        let spec = DelaySpec::TwoPoint {
-            overdrive_a_v: 0.005,
-            delay_a_s: 1e-6,
-            overdrive_b_v: 0.1,
-            delay_b_s: 0.2e-6,
-        };
-        let m = TimingModel::new(&TriggerTiming {
-            delay: spec,
-            ..Default::default()
-        })
-        .unwrap();
+        let spec = DelaySpec::TwoPoint { overdrive_a_v: 0.005, delay_a_s: 1e-6, overdrive_b_v: 0.1, delay_b_s: 0.2e-6 };
+        let m = TimingModel::new(&TriggerTiming { delay: spec, ..Default::default() }).unwrap();
         let d = design(0.0, 0.0, Sense::NonInverting);
         let delay_for = |f: f64| {
             let s = SignalDefinition {
                 sample_rate_hz: 1e8,
                 duration_s: 3e-4,
                 seed: 1,
-                components: vec![Component::Sine {
-                    amplitude_v: 1.0,
-                    frequency_hz: f,
-                    phase_deg: -90.0,
-                }],
+                components: vec![Component::Sine { amplitude_v: 1.0, frequency_hz: f, phase_deg: -90.0 }],
                 noise: vec![],
             };
             let g = s.generate().unwrap();
@@ -747,10 +603,7 @@ mod tests {
         let fast = delay_for(1e5);
         assert!(slow > fast, "{slow} {fast}");
         // Fixed point of t = delay(slope·t): about 0.92 µs and 0.18 µs for these slopes.
-        assert!(
-            (slow - 0.92e-6).abs() < 0.05e-6 && (fast - 0.184e-6).abs() < 0.02e-6,
-            "{slow} {fast}"
-        );
+        assert!((slow - 0.92e-6).abs() < 0.05e-6 && (fast - 0.184e-6).abs() < 0.02e-6, "{slow} {fast}");
     }
 
     #[test]
@@ -759,11 +612,7 @@ mod tests {
             crossing_s: t,
             start_s: t,
             mid_s: t,
-            direction: if r {
-                EdgeDirection::Rising
-            } else {
-                EdgeDirection::Falling
-            },
+            direction: if r { EdgeDirection::Rising } else { EdgeDirection::Falling },
             slope_v_per_s: 0.0,
             overdrive_v: 0.0,
         };

@@ -16,9 +16,7 @@
 //! field window whenever the thresholds are monotonic in each parameter (the worst case's own
 //! condition; DOMAIN §2).
 
-use super::settings::{
-    ParameterTolerance, ToleranceBand, ToleranceSettings, REFERENCE_TEMPERATURE_C,
-};
+use super::settings::{ParameterTolerance, ToleranceBand, ToleranceSettings, REFERENCE_TEMPERATURE_C};
 use super::worst_case::{worst_case, WorstCase};
 use crate::error::DesignError;
 use crate::topology::{Circuit, ParameterKind};
@@ -39,18 +37,12 @@ pub struct BenchWindow {
 impl BenchWindow {
     /// `(min, max)` of VT+, volts.
     pub fn vt_upper_v(&self) -> (f64, f64) {
-        (
-            self.worst_case.vt_upper.min.value_v,
-            self.worst_case.vt_upper.max.value_v,
-        )
+        (self.worst_case.vt_upper.min.value_v, self.worst_case.vt_upper.max.value_v)
     }
 
     /// `(min, max)` of VT−, volts.
     pub fn vt_lower_v(&self) -> (f64, f64) {
-        (
-            self.worst_case.vt_lower.min.value_v,
-            self.worst_case.vt_lower.max.value_v,
-        )
+        (self.worst_case.vt_lower.min.value_v, self.worst_case.vt_lower.max.value_v)
     }
 }
 
@@ -73,11 +65,7 @@ pub fn bench_settings<C: Circuit>(circuit: &C, settings: &ToleranceSettings) -> 
     s.supply_tolerance_pct = 0.0;
     s.temperature_min_c = REFERENCE_TEMPERATURE_C;
     s.temperature_max_c = REFERENCE_TEMPERATURE_C;
-    for p in circuit
-        .parameters()
-        .into_iter()
-        .filter(|p| p.kind == ParameterKind::Supply)
-    {
+    for p in circuit.parameters().into_iter().filter(|p| p.kind == ParameterKind::Supply) {
         s.overrides.retain(|o| o.id != p.id);
         s.overrides.push(ParameterTolerance {
             id: p.id,
@@ -100,11 +88,7 @@ pub fn bench_window<C: Circuit>(
     crate::error::finite("supply_v", supply_v)?;
     let at_supply = circuit.with_supply(supply_v);
     let worst_case = worst_case(&at_supply, &bench_settings(&at_supply, settings))?;
-    let w = BenchWindow {
-        supply_v,
-        temperature_c: REFERENCE_TEMPERATURE_C,
-        worst_case,
-    };
+    let w = BenchWindow { supply_v, temperature_c: REFERENCE_TEMPERATURE_C, worst_case };
     crate::finite::check("bench_window", &w)?;
     Ok(w)
 }
@@ -133,21 +117,13 @@ mod tests {
     use crate::topology::inverting::InvertingSchmitt;
 
     fn lathe() -> crate::record::DesignRecord {
-        crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "lathe-tachometer")
-            .map(|s| s.record())
-            .unwrap()
+        crate::catalog::demos().into_iter().find(|s| s.key == "lathe-tachometer").map(|s| s.record()).unwrap()
     }
 
     #[test]
     fn settings_close_the_supply_band_and_hold_25_c() {
         let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0));
-        let mut field = ToleranceSettings {
-            temperature_min_c: -40.0,
-            temperature_max_c: 85.0,
-            ..Default::default()
-        };
+        let mut field = ToleranceSettings { temperature_min_c: -40.0, temperature_max_c: 85.0, ..Default::default() };
         field.overrides.push(ParameterTolerance {
             id: "supply_v".into(),
             band: Some(ToleranceBand::Limits([4.5, 5.5])),
@@ -183,24 +159,10 @@ mod tests {
         let par = |a: f64, b: f64| a * b / (a + b);
         let hi = 5.5 * 10.1e3 / (10.1e3 + par(9.9e3, 19.8e3));
         let lo = 5.5 * 9.9e3 / (9.9e3 + par(10.1e3, 20.2e3));
-        assert!(
-            (w.vt_upper_v().1 - hi).abs() < 1e-12,
-            "{:?} {hi}",
-            w.vt_upper_v()
-        );
-        assert!(
-            (w.vt_upper_v().0 - lo).abs() < 1e-12,
-            "{:?} {lo}",
-            w.vt_upper_v()
-        );
+        assert!((w.vt_upper_v().1 - hi).abs() < 1e-12, "{:?} {hi}", w.vt_upper_v());
+        assert!((w.vt_upper_v().0 - lo).abs() < 1e-12, "{:?} {lo}", w.vt_upper_v());
         assert_eq!(w.supply_v, 5.5);
-        assert!(w
-            .worst_case
-            .vt_upper
-            .max
-            .corner
-            .iter()
-            .all(|c| c.id != "supply_v"));
+        assert!(w.worst_case.vt_upper.max.corner.iter().all(|c| c.id != "supply_v"));
     }
 
     #[test]
@@ -211,15 +173,9 @@ mod tests {
         assert_eq!(w.bench.len(), 3);
         let (f_lo, f_hi) = (w.field.vt_upper.min.value_v, w.field.vt_upper.max.value_v);
         let (b_lo, b_hi) = w.bench[0].vt_upper_v();
-        assert!(
-            f_lo < b_lo && b_hi < f_hi,
-            "field {f_lo}…{f_hi}, bench {b_lo}…{b_hi}"
-        );
+        assert!(f_lo < b_lo && b_hi < f_hi, "field {f_lo}…{f_hi}, bench {b_lo}…{b_hi}");
         // The reproducer: parts alone at 25 °C and 5 V give about 2.877–2.945 V.
-        assert!(
-            (b_lo - 2.877).abs() < 0.01 && (b_hi - 2.945).abs() < 0.01,
-            "{b_lo} {b_hi}"
-        );
+        assert!((b_lo - 2.877).abs() < 0.01 && (b_hi - 2.945).abs() < 0.01, "{b_lo} {b_hi}");
         // At a supply corner the window moves with the supply (VT+ ∝ VCC for this divider).
         assert!(w.bench[1].vt_upper_v().1 < w.bench[2].vt_upper_v().0);
     }

@@ -204,12 +204,8 @@ pub fn check_input_type(t: InputType, vt_upper_max_v: f64, vt_lower_min_v: f64) 
 
 /// The lowest and highest input current over both output states at one input voltage, amperes.
 fn current_range<C: Circuit>(circuit: &C, vin_v: f64) -> Result<(f64, f64), DesignError> {
-    let hi = circuit
-        .operating_point(vin_v, OutputState::High)?
-        .input_current_a;
-    let lo = circuit
-        .operating_point(vin_v, OutputState::Low)?
-        .input_current_a;
+    let hi = circuit.operating_point(vin_v, OutputState::High)?.input_current_a;
+    let lo = circuit.operating_point(vin_v, OutputState::Low)?.input_current_a;
     if !hi.is_finite() || !lo.is_finite() {
         return Err(DesignError::NotFinite {
             quantity: "input current at an IEC 61131-2 region boundary".into(),
@@ -249,9 +245,7 @@ pub fn check_input_type_with_current<C: Circuit>(
             ma(l.on_current_max_a)
         ));
     }
-    let at_vt_lower_min_a = if vt_lower_min_v > l.off_max_v
-        && vt_lower_min_v < l.off_low_current_max_v
-    {
+    let at_vt_lower_min_a = if vt_lower_min_v > l.off_max_v && vt_lower_min_v < l.off_low_current_max_v {
         let (i_a, _) = current_range(circuit, vt_lower_min_v)?;
         if i_a <= l.off_current_max_a {
             k.failures.push(format!(
@@ -371,9 +365,7 @@ mod tests {
 
     fn failures(c: &crate::topology::Topology, t: InputType, vt_lower_min_v: f64) -> Vec<String> {
         // VT+ 10 V and the given VT− pass every type's voltage limits when VT− ≥ 5 V.
-        check_input_type_with_current(c, t, 10.0, vt_lower_min_v)
-            .unwrap()
-            .failures
+        check_input_type_with_current(c, t, 10.0, vt_lower_min_v).unwrap().failures
     }
 
     #[test]
@@ -387,10 +379,7 @@ mod tests {
         ] {
             let low = input_drawing(0.95 * limit_ma * 1e-3, on_min_v, true);
             let f = failures(&low, t, 9.0);
-            let want = format!(
-                "at {on_min_v} V: {} needs at least {limit_ma} mA when ON",
-                t.name()
-            );
+            let want = format!("at {on_min_v} V: {} needs at least {limit_ma} mA when ON", t.name());
             assert!(f.iter().any(|s| s.contains(&want)), "{t:?}: {f:?}");
             let ok = input_drawing(1.05 * limit_ma * 1e-3, on_min_v, true);
             let f = failures(&ok, t, 9.0);
@@ -402,21 +391,14 @@ mod tests {
     fn on_current_maximum_per_type() {
         // IEC 61131-2, from memory, check the edition (DOMAIN §8): ON current at most 15 mA
         // (Types 1 and 3) or 30 mA (Type 2), up to 30 V.
-        for (t, limit_ma) in [
-            (InputType::Type1, 15.0),
-            (InputType::Type2, 30.0),
-            (InputType::Type3, 15.0),
-        ] {
+        for (t, limit_ma) in [(InputType::Type1, 15.0), (InputType::Type2, 30.0), (InputType::Type3, 15.0)] {
             let high = input_drawing(1.05 * limit_ma * 1e-3, 30.0, false);
             let f = failures(&high, t, 9.0);
             let want = format!("at 30 V: {} allows at most {limit_ma} mA when ON", t.name());
             assert!(f.iter().any(|s| s.contains(&want)), "{t:?}: {f:?}");
             let ok = input_drawing(0.95 * limit_ma * 1e-3, 30.0, false);
             let f = failures(&ok, t, 9.0);
-            assert!(
-                !f.iter().any(|s| s.contains("allows at most")),
-                "{t:?}: {f:?}"
-            );
+            assert!(!f.iter().any(|s| s.contains("allows at most")), "{t:?}: {f:?}");
         }
     }
 
@@ -426,11 +408,7 @@ mod tests {
         // (Type 1), up to 11 V at ≤ 2 mA (Type 2), up to 11 V at ≤ 1.5 mA (Type 3). A worst-case
         // VT− of 9 V inside that region must come with more current than the limit.
         let vt_lower_v = 9.0;
-        for (t, limit_ma) in [
-            (InputType::Type1, 0.5),
-            (InputType::Type2, 2.0),
-            (InputType::Type3, 1.5),
-        ] {
+        for (t, limit_ma) in [(InputType::Type1, 0.5), (InputType::Type2, 2.0), (InputType::Type3, 1.5)] {
             let starved = input_drawing(0.9 * limit_ma * 1e-3, vt_lower_v, true);
             let f = failures(&starved, t, vt_lower_v);
             assert!(f.iter().any(|s| s.contains("may stay ON")), "{t:?}: {f:?}");
@@ -446,10 +424,7 @@ mod tests {
 
     #[test]
     fn greenhouse_demo_conforms_or_names_the_failing_limit() {
-        let s = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "greenhouse-valve")
-            .unwrap();
+        let s = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap();
         let c = s.record().circuit;
         let mut settings = ToleranceSettings::default();
         settings.check_input_types = true;
@@ -463,16 +438,10 @@ mod tests {
         let t1 = &r.input_types[0];
         let (i15_a, _) = current_range(&c, 15.0).unwrap();
         let named = t1.failures.iter().any(|s| {
-            s.contains(&format!(
-                "draws {} at 15 V: Type 1 needs at least 2 mA when ON",
-                ma(i15_a)
-            ))
+            s.contains(&format!("draws {} at 15 V: Type 1 needs at least 2 mA when ON", ma(i15_a)))
         });
         assert_eq!(i15_a < 2e-3, named, "{:?}", t1.failures);
         let voltage_ok = t1.on_margin_v >= 0.0 && t1.off_margin_v >= 0.0;
-        assert_eq!(
-            voltage_ok,
-            !t1.failures.iter().any(|s| s.contains("worst-case VT"))
-        );
+        assert_eq!(voltage_ok, !t1.failures.iter().any(|s| s.contains("worst-case VT")));
     }
 }

@@ -176,20 +176,14 @@ impl<C: Circuit> Prepared<C> {
             DesignError::inconsistent(format!("the circuit is not valid at the centre of its tolerance bands ({e}): check the bands"))
         })?;
         let tracks = settings::tracking_mask(&params, settings);
-        let centred =
-            circuit.with_parameters(&settings::circuit_values(&params, &centres, &tracks))?;
+        let centred = circuit.with_parameters(&settings::circuit_values(&params, &centres, &tracks))?;
         let sens = sensitivities(&centred)?;
         let mut d_upper: Vec<f64> = sens.iter().map(|s| s.1).collect();
         let mut d_lower: Vec<f64> = sens.iter().map(|s| s.2).collect();
         if settings::has_common_drift(&bands) {
             // ∂VT/∂ε for Ri → Ri·(1 + ε): Σ ∂VT/∂Ri · Ri over the tracking resistors.
             let chain = |d: &[f64]| -> f64 {
-                d.iter()
-                    .zip(&sens)
-                    .zip(&tracks)
-                    .filter(|(_, t)| **t)
-                    .map(|((d, s), _)| d * s.0.value)
-                    .sum()
+                d.iter().zip(&sens).zip(&tracks).filter(|(_, t)| **t).map(|((d, s), _)| d * s.0.value).sum()
             };
             let (u, l) = (chain(&d_upper), chain(&d_lower));
             d_upper.push(u);
@@ -240,10 +234,7 @@ fn checked_thresholds<C: Circuit>(c: &C) -> Result<Thresholds, DesignError> {
 /// tracking resistor network ([`settings::COMMON_RESISTOR_DRIFT_ID`]), applied to every resistor.
 pub(crate) fn evaluate<C: Circuit>(circuit: &C, values: &[f64]) -> Result<Figures, DesignError> {
     let params = circuit.parameters();
-    let tracks: Vec<bool> = params
-        .iter()
-        .map(|p| p.kind == crate::topology::ParameterKind::Resistor)
-        .collect();
+    let tracks: Vec<bool> = params.iter().map(|p| p.kind == crate::topology::ParameterKind::Resistor).collect();
     let c = circuit.with_parameters(&settings::circuit_values(&params, values, &tracks))?;
     c.validate()?;
     Ok(Figures::from_thresholds(checked_thresholds(&c)?))

@@ -224,10 +224,7 @@ fn magnitude(field: &str, x: f64) -> Result<f64, DesignError> {
     if x.is_finite() && x.abs() <= widest {
         Ok(x)
     } else {
-        Err(DesignError::invalid(
-            field,
-            format!("must be a finite number of magnitude at most {widest:e} (got {x})"),
-        ))
+        Err(DesignError::invalid(field, format!("must be a finite number of magnitude at most {widest:e} (got {x})")))
     }
 }
 
@@ -251,23 +248,13 @@ impl ToleranceSettings {
             "tolerance.output_level_tolerance_v",
             self.output_level_tolerance_v,
         )?;
-        limit(
-            Quantity::Voltage,
-            "tolerance.output_level_tolerance_v",
-            self.output_level_tolerance_v,
-        )?;
+        limit(Quantity::Voltage, "tolerance.output_level_tolerance_v", self.output_level_tolerance_v)?;
         if let Some(v) = self.offset_v {
             non_negative("tolerance.offset_v", v)?;
             limit(Quantity::Voltage, "tolerance.offset_v", v)?;
         }
-        tempco(
-            "tolerance.resistor_tempco_ppm_per_k",
-            self.resistor_tempco_ppm_per_k,
-        )?;
-        tempco(
-            "tolerance.reference_tempco_ppm_per_k",
-            self.reference_tempco_ppm_per_k,
-        )?;
+        tempco("tolerance.resistor_tempco_ppm_per_k", self.resistor_tempco_ppm_per_k)?;
+        tempco("tolerance.reference_tempco_ppm_per_k", self.reference_tempco_ppm_per_k)?;
         if let Some(t) = self.resistor_tracking_ppm_per_k {
             limit(Quantity::Tempco, "tolerance.resistor_tracking_ppm_per_k", t)?;
         }
@@ -346,10 +333,7 @@ impl ToleranceSettings {
     /// defaults: what the worst case, GUM and the windows read. A study that follows the inputs
     /// compares its job with this, so a change of trials does not start the corners again.
     pub fn without_monte_carlo(&self) -> ToleranceSettings {
-        ToleranceSettings {
-            monte_carlo: MonteCarloSettings::default(),
-            ..self.clone()
-        }
+        ToleranceSettings { monte_carlo: MonteCarloSettings::default(), ..self.clone() }
     }
 
     /// The window applied to the yield and the worst-case verdict: `spec`, narrowed by the input
@@ -466,10 +450,7 @@ pub fn resolve_bands(
     let common = settings.resistor_tempco_ppm_per_k * 1e-6 * excursion_k;
     let any_tracking_resistor = params.iter().any(|p| {
         p.kind == ParameterKind::Resistor
-            && settings
-                .overrides
-                .iter()
-                .all(|o| o.id != p.id || o.tempco_ppm_per_k.is_none())
+            && settings.overrides.iter().all(|o| o.id != p.id || o.tempco_ppm_per_k.is_none())
     });
     if tracking.is_some() && common > 0.0 && any_tracking_resistor {
         let p = Parameter::device(
@@ -493,9 +474,7 @@ pub fn resolve_bands(
 
 /// Whether the bands end with the common drift input of a tracking network.
 pub(crate) fn has_common_drift(bands: &[ParameterBand]) -> bool {
-    bands
-        .last()
-        .is_some_and(|b| b.parameter.id == COMMON_RESISTOR_DRIFT_ID)
+    bands.last().is_some_and(|b| b.parameter.id == COMMON_RESISTOR_DRIFT_ID)
 }
 
 /// The circuit's parameter values from band values: without a common drift input they are the
@@ -508,22 +487,11 @@ pub(crate) fn circuit_values(params: &[Parameter], values: &[f64], tracks: &[boo
 }
 
 /// As [`circuit_values`], into `out` (cleared first), so a loop over trials reuses one buffer.
-pub(crate) fn circuit_values_into(
-    params: &[Parameter],
-    values: &[f64],
-    tracks: &[bool],
-    out: &mut Vec<f64>,
-) {
+pub(crate) fn circuit_values_into(params: &[Parameter], values: &[f64], tracks: &[bool], out: &mut Vec<f64>) {
     out.clear();
     if values.len() == params.len() + 1 {
         let eps = values[params.len()];
-        out.extend(values[..params.len()].iter().zip(tracks).map(|(v, t)| {
-            if *t {
-                v * (1.0 + eps)
-            } else {
-                *v
-            }
-        }));
+        out.extend(values[..params.len()].iter().zip(tracks).map(|(v, t)| if *t { v * (1.0 + eps) } else { *v }));
     } else {
         out.extend_from_slice(values);
     }
@@ -535,10 +503,7 @@ pub(crate) fn tracking_mask(params: &[Parameter], settings: &ToleranceSettings) 
         .iter()
         .map(|p| {
             p.kind == ParameterKind::Resistor
-                && settings
-                    .overrides
-                    .iter()
-                    .all(|o| o.id != p.id || o.tempco_ppm_per_k.is_none())
+                && settings.overrides.iter().all(|o| o.id != p.id || o.tempco_ppm_per_k.is_none())
         })
         .collect()
 }
@@ -555,16 +520,11 @@ fn default_band(p: &Parameter, s: &ToleranceSettings) -> ToleranceBand {
         } else {
             DEFAULT_OFFSET_V
         })),
-        ParameterKind::BiasCurrent => ToleranceBand::Limits(if p.value >= 0.0 {
-            [0.0, p.value]
-        } else {
-            [p.value, 0.0]
-        }),
+        ParameterKind::BiasCurrent => ToleranceBand::Limits(if p.value >= 0.0 { [0.0, p.value] } else { [p.value, 0.0] }),
         // A device's own temperature (a junction, kelvin) spans the operating range.
-        ParameterKind::Device if p.unit == Unit::Kelvin => ToleranceBand::Limits([
-            s.temperature_min_c + KELVIN_AT_0_C,
-            s.temperature_max_c + KELVIN_AT_0_C,
-        ]),
+        ParameterKind::Device if p.unit == Unit::Kelvin => {
+            ToleranceBand::Limits([s.temperature_min_c + KELVIN_AT_0_C, s.temperature_max_c + KELVIN_AT_0_C])
+        }
         ParameterKind::Device => ToleranceBand::Percent(0.0),
     }
 }
@@ -577,9 +537,7 @@ fn centre_and_half_width(p: &Parameter, band: ToleranceBand) -> Result<(f64, f64
             ParameterKind::Offset => (-a, a),
             // Output levels are magnitudes measured from a rail, and a bias current keeps its
             // known direction: the band stops at zero.
-            ParameterKind::OutputLevel | ParameterKind::BiasCurrent if v >= 0.0 => {
-                ((v - a).max(0.0), v + a)
-            }
+            ParameterKind::OutputLevel | ParameterKind::BiasCurrent if v >= 0.0 => ((v - a).max(0.0), v + a),
             ParameterKind::OutputLevel | ParameterKind::BiasCurrent => (v - a, (v + a).min(0.0)),
             _ => (v - a, v + a),
         },
@@ -751,12 +709,6 @@ mod tests {
         let b = a.without_monte_carlo();
         assert_eq!(b.monte_carlo, MonteCarloSettings::default());
         assert_eq!(b.resistor_tolerance_pct, 5.0);
-        assert_eq!(
-            b,
-            ToleranceSettings {
-                monte_carlo: MonteCarloSettings::default(),
-                ..a.clone()
-            }
-        );
+        assert_eq!(b, ToleranceSettings { monte_carlo: MonteCarloSettings::default(), ..a.clone() });
     }
 }

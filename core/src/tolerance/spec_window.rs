@@ -94,12 +94,7 @@ impl SpecWindow {
     /// Checks every stated bound for finiteness and each pair for order. Errors name each bound as
     /// the page shows it ("VT+ at least", "VT+ at most"…).
     pub fn validate(&self) -> Result<(), DesignError> {
-        let names = [
-            ("VT+", "vt_upper"),
-            ("VT−", "vt_lower"),
-            ("hysteresis", "hysteresis"),
-            ("centre", "centre"),
-        ];
+        let names = [("VT+", "vt_upper"), ("VT−", "vt_lower"), ("hysteresis", "hysteresis"), ("centre", "centre")];
         for ((name, _), (lo, hi)) in names.iter().zip(self.bounds()) {
             let (min_name, max_name) = (format!("{name} at least"), format!("{name} at most"));
             if let Some(lo) = lo {

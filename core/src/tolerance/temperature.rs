@@ -74,11 +74,7 @@ impl TemperatureSweep {
     /// One line for the print sheet and the command line: the drift of both thresholds in mV/K
     /// over the range.
     pub fn summary(&self, settings: &ToleranceSettings) -> String {
-        let mv = |x: Option<f64>| {
-            x.map_or("—".to_string(), |v| {
-                crate::notation::format_fixed(v * 1e3, 3)
-            })
-        };
+        let mv = |x: Option<f64>| x.map_or("—".to_string(), |v| crate::notation::format_fixed(v * 1e3, 3));
         format!(
             "temperature {} °C to {} °C: VT+ drifts {} mV/K (at most ±{} mV/K), VT− {} mV/K (at most ±{} mV/K)",
             settings.temperature_min_c,
@@ -156,10 +152,7 @@ enum Move {
 
 /// The sweep of VT± over the settings' temperature range (see the module notes). Fails when the
 /// settings are invalid or the circuit is invalid at some temperature of the range.
-pub fn temperature_sweep<C: Circuit>(
-    circuit: &C,
-    settings: &ToleranceSettings,
-) -> Result<TemperatureSweep, DesignError> {
+pub fn temperature_sweep<C: Circuit>(circuit: &C, settings: &ToleranceSettings) -> Result<TemperatureSweep, DesignError> {
     settings.validate()?;
     circuit.validate()?;
     let params = circuit.parameters();
@@ -168,40 +161,23 @@ pub fn temperature_sweep<C: Circuit>(
     let moves: Vec<Move> = params
         .iter()
         .map(|p| {
-            let own_tc = settings
-                .overrides
-                .iter()
-                .find(|o| o.id == p.id)
-                .and_then(|o| o.tempco_ppm_per_k);
+            let own_tc = settings.overrides.iter().find(|o| o.id == p.id).and_then(|o| o.tempco_ppm_per_k);
             match (p.kind, own_tc) {
                 (ParameterKind::Device, _) if p.unit == Unit::Kelvin => Move::Junction,
-                (ParameterKind::Resistor, Some(tc)) => Move::Resistor {
-                    own_ppm: tc,
-                    common: false,
-                },
+                (ParameterKind::Resistor, Some(tc)) => Move::Resistor { own_ppm: tc, common: false },
                 (ParameterKind::Resistor, None) => match tracking {
-                    Some(t) => Move::Resistor {
-                        own_ppm: 0.5 * t,
-                        common: true,
-                    },
-                    None => Move::Resistor {
-                        own_ppm: settings.resistor_tempco_ppm_per_k,
-                        common: false,
-                    },
+                    Some(t) => Move::Resistor { own_ppm: 0.5 * t, common: true },
+                    None => Move::Resistor { own_ppm: settings.resistor_tempco_ppm_per_k, common: false },
                 },
-                (ParameterKind::Reference, tc) => Move::Own(Drift::Unknown(
-                    p.value.abs() * tc.unwrap_or(settings.reference_tempco_ppm_per_k) * 1e-6,
-                )),
+                (ParameterKind::Reference, tc) => {
+                    Move::Own(Drift::Unknown(p.value.abs() * tc.unwrap_or(settings.reference_tempco_ppm_per_k) * 1e-6))
+                }
                 (_, Some(tc)) => Move::Own(Drift::Unknown(p.value.abs() * tc * 1e-6)),
                 (_, None) => Move::Own(p.drift),
             }
         })
         .collect();
-    let common_ppm = if tracking.is_some() {
-        settings.resistor_tempco_ppm_per_k
-    } else {
-        0.0
-    };
+    let common_ppm = if tracking.is_some() { settings.resistor_tempco_ppm_per_k } else { 0.0 };
     let sens = sensitivities(circuit)?;
     // Sensitivity of each threshold to the common coefficient: Σ ∂VT/∂Ri · Ri over tracking resistors.
     let common_sens = |upper: bool| -> f64 {
@@ -229,11 +205,7 @@ pub fn temperature_sweep<C: Circuit>(
                     Move::Own(drift) => v + drift.shift(v, dt, s),
                     Move::Resistor { own_ppm, common } => {
                         let alpha = s * own_ppm + if common { c_sign * common_ppm } else { 0.0 };
-                        if dir == 0.0 {
-                            v
-                        } else {
-                            v * (1.0 + alpha * 1e-6 * dt)
-                        }
+                        if dir == 0.0 { v } else { v * (1.0 + alpha * 1e-6 * dt) }
                     }
                 }
             })
@@ -247,24 +219,17 @@ pub fn temperature_sweep<C: Circuit>(
         if t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite() {
             Ok((t.vt_upper_v, t.vt_lower_v))
         } else {
-            Err(DesignError::NotConverged {
-                reason: format!("the thresholds are not finite at {t_c} °C"),
-            })
+            Err(DesignError::NotConverged { reason: format!("the thresholds are not finite at {t_c} °C") })
         }
     };
 
     let (t_lo, t_hi) = (settings.temperature_min_c, settings.temperature_max_c);
     let mut temps: Vec<f64> = if t_hi > t_lo {
-        (0..SWEEP_POINTS)
-            .map(|k| t_lo + (t_hi - t_lo) * k as f64 / (SWEEP_POINTS - 1) as f64)
-            .collect()
+        (0..SWEEP_POINTS).map(|k| t_lo + (t_hi - t_lo) * k as f64 / (SWEEP_POINTS - 1) as f64).collect()
     } else {
         vec![t_lo]
     };
-    if t_lo < REFERENCE_TEMPERATURE_C
-        && REFERENCE_TEMPERATURE_C < t_hi
-        && !temps.contains(&REFERENCE_TEMPERATURE_C)
-    {
+    if t_lo < REFERENCE_TEMPERATURE_C && REFERENCE_TEMPERATURE_C < t_hi && !temps.contains(&REFERENCE_TEMPERATURE_C) {
         temps.push(REFERENCE_TEMPERATURE_C);
         temps.sort_by(f64::total_cmp);
     }
@@ -292,16 +257,14 @@ pub fn temperature_sweep<C: Circuit>(
     let slope = |a: f64, b: f64| (span > 0.0).then(|| (b - a) / span);
     // Room temperature as the sweep sees it (a device with a temperature of its own, such as a
     // junction entered at 27 °C, is at 25 °C here like every other point).
-    let (room_upper_v, room_lower_v) =
-        thresholds_at(&values_at(0.0, 0.0, true), REFERENCE_TEMPERATURE_C)?;
+    let (room_upper_v, room_lower_v) = thresholds_at(&values_at(0.0, 0.0, true), REFERENCE_TEMPERATURE_C)?;
     let bound = |pick: fn(&TemperaturePoint) -> (f64, f64), at_room: f64| -> Option<f64> {
         points
             .iter()
             .filter(|p| (p.temperature_c - REFERENCE_TEMPERATURE_C).abs() > 1e-9)
             .map(|p| {
                 let (lo, hi) = pick(p);
-                (lo - at_room).abs().max((hi - at_room).abs())
-                    / (p.temperature_c - REFERENCE_TEMPERATURE_C).abs()
+                (lo - at_room).abs().max((hi - at_room).abs()) / (p.temperature_c - REFERENCE_TEMPERATURE_C).abs()
             })
             .reduce(f64::max)
     };
@@ -364,10 +327,7 @@ mod tests {
     #[test]
     fn offset_drift_moves_both_thresholds_by_its_coefficient() {
         // VT± = P ∓ VOS: an offset drift d moves each threshold by ∓d·ΔT, so the bound is d.
-        let d = Comparator {
-            offset_drift_v_per_k: 5e-6,
-            ..Comparator::ideal(5.0)
-        };
+        let d = Comparator { offset_drift_v_per_k: 5e-6, ..Comparator::ideal(5.0) };
         let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, d);
         let s = temperature_sweep(&c, &settings(0.0, None)).unwrap();
         assert_eq!(s.vt_upper_drift_v_per_k, Some(0.0));
@@ -382,20 +342,14 @@ mod tests {
         let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0));
         let free = temperature_sweep(&c, &settings(100.0, None)).unwrap();
         let tracked = temperature_sweep(&c, &settings(100.0, Some(5.0))).unwrap();
-        let (f, t) = (
-            free.vt_upper_drift_bound_v_per_k.unwrap(),
-            tracked.vt_upper_drift_bound_v_per_k.unwrap(),
-        );
+        let (f, t) = (free.vt_upper_drift_bound_v_per_k.unwrap(), tracked.vt_upper_drift_bound_v_per_k.unwrap());
         assert!(t > 0.0 && t < f / 10.0, "{t} {f}");
     }
 
     #[test]
     fn gate_threshold_coefficient_is_the_nominal_drift() {
         // Bare gate: VT± are the gate's own, so both move by the coefficient exactly.
-        let g = SchmittInput {
-            threshold_tempco_v_per_k: -2e-3,
-            ..SchmittInput::default()
-        };
+        let g = SchmittInput { threshold_tempco_v_per_k: -2e-3, ..SchmittInput::default() };
         let s = temperature_sweep(&SchmittGate::bare(g), &settings(100.0, None)).unwrap();
         assert!((s.vt_upper_drift_v_per_k.unwrap() + 2e-3).abs() < 1e-12);
         assert!((s.vt_lower_drift_v_per_k.unwrap() + 2e-3).abs() < 1e-12);
@@ -406,11 +360,7 @@ mod tests {
     #[test]
     fn a_single_temperature_gives_no_drift_figure() {
         let c = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, Comparator::ideal(5.0));
-        let s = ToleranceSettings {
-            temperature_min_c: 25.0,
-            temperature_max_c: 25.0,
-            ..ToleranceSettings::default()
-        };
+        let s = ToleranceSettings { temperature_min_c: 25.0, temperature_max_c: 25.0, ..ToleranceSettings::default() };
         let r = temperature_sweep(&c, &s).unwrap();
         assert_eq!(r.points.len(), 1);
         assert_eq!(r.vt_upper_drift_v_per_k, None);

@@ -143,13 +143,7 @@ pub fn worst_case_corners<C: Circuit>(
 ) -> Result<WorstCase, DesignError> {
     let prep = Prepared::new(circuit, settings)?;
     let (ext, evals) = corners(&prep, super::settings::MAX_CORNER_LIMIT)?;
-    Ok(assemble(
-        &prep,
-        WorstCaseMethod::Corners,
-        to_values(&prep, &ext),
-        evals,
-        None,
-    ))
+    Ok(assemble(&prep, WorstCaseMethod::Corners, to_values(&prep, &ext), evals, None))
 }
 
 /// Worst case by the sensitivity-sign method alone (without the search inside the bands).
@@ -195,13 +189,7 @@ fn conclude<C: Circuit>(
 ) -> Result<WorstCase, DesignError> {
     let Some(scan) = scan else {
         let (found, evals, moved) = search_inside(prep, to_values(prep, sign));
-        let mut wc = assemble(
-            prep,
-            WorstCaseMethod::SensitivitySign,
-            found,
-            sign_evals + evals,
-            None,
-        );
+        let mut wc = assemble(prep, WorstCaseMethod::SensitivitySign, found, sign_evals + evals, None);
         wc.non_monotone = moved;
         return Ok(wc);
     };
@@ -219,13 +207,7 @@ fn conclude<C: Circuit>(
         centre_v: gap(3),
     };
     let (found, evals, moved) = search_inside(prep, to_values(prep, &corner));
-    let mut wc = assemble(
-        prep,
-        WorstCaseMethod::Corners,
-        found,
-        corner_evals + sign_evals + evals,
-        Some(shortfall),
-    );
+    let mut wc = assemble(prep, WorstCaseMethod::Corners, found, corner_evals + sign_evals + evals, Some(shortfall));
     wc.non_monotone = moved;
     Ok(wc)
 }
@@ -296,12 +278,7 @@ impl<C: Circuit> WorstCaseRun<C> {
         settings.validate()?;
         let prep = Prepared::new(circuit, settings)?;
         let (sign, sign_evals) = sign_method(&prep)?;
-        Ok(WorstCaseRun {
-            prep,
-            corner_limit: settings.corner_limit,
-            sign,
-            sign_evals,
-        })
+        Ok(WorstCaseRun { prep, corner_limit: settings.corner_limit, sign, sign_evals })
     }
 
     /// Number of parameters with a band wider than zero.
@@ -324,10 +301,7 @@ impl<C: Circuit> WorstCaseRun<C> {
     pub fn scan(&self, start: u64, end: u64) -> Result<CornerScan, DesignError> {
         if start > end || end > self.corners() {
             return Err(DesignError::Parameter {
-                reason: format!(
-                    "corners {start}..{end} are not inside 0..{}",
-                    self.corners()
-                ),
+                reason: format!("corners {start}..{end} are not inside 0..{}", self.corners()),
             });
         }
         if self.corners() == 0 {
@@ -346,10 +320,7 @@ impl<C: Circuit> WorstCaseRun<C> {
         }
         if scan.start != 0 || scan.end != count {
             return Err(DesignError::Parameter {
-                reason: format!(
-                    "the worst case needs every corner: the scan covers {}..{} of 0..{count}",
-                    scan.start, scan.end
-                ),
+                reason: format!("the worst case needs every corner: the scan covers {}..{} of 0..{count}", scan.start, scan.end),
             });
         }
         conclude(&self.prep, &self.sign, self.sign_evals, Some(scan))
@@ -373,10 +344,7 @@ fn to_values<C: Circuit>(prep: &Prepared<C>, found: &Found) -> FoundValues {
 /// The search inside the bands (module notes) from each extreme in `found`. Returns the improved
 /// extremes, the evaluations made and whether any extreme moved. Points where the circuit is
 /// invalid are skipped: the search only looks for larger excursions among valid circuits.
-fn search_inside<C: Circuit>(
-    prep: &Prepared<C>,
-    mut found: FoundValues,
-) -> (FoundValues, u64, bool) {
+fn search_inside<C: Circuit>(prep: &Prepared<C>, mut found: FoundValues) -> (FoundValues, u64, bool) {
     let varied = prep.varied();
     let mut evals = 0u64;
     let mut moved = false;
@@ -388,28 +356,18 @@ fn search_inside<C: Circuit>(
             let tiny = |g: f64| 1e-12 * g.abs().max(1e-3);
             let eval = |x: &[f64], evals: &mut u64| -> Option<f64> {
                 *evals += 1;
-                evaluate(&prep.circuit, x)
-                    .ok()
-                    .map(|f| sign * f.as_array()[q])
-                    .filter(|g| g.is_finite())
+                evaluate(&prep.circuit, x).ok().map(|f| sign * f.as_array()[q]).filter(|g| g.is_finite())
             };
             for _ in 0..SEARCH_SWEEPS {
                 let mut improved = false;
                 for &i in &varied {
                     let b = &prep.bands[i];
-                    let (lo, hi) = (
-                        b.centre - b.total_half_width(),
-                        b.centre + b.total_half_width(),
-                    );
+                    let (lo, hi) = (b.centre - b.total_half_width(), b.centre + b.total_half_width());
                     let step = (hi - lo) / SEARCH_GRID as f64;
                     let keep = x[i];
                     let mut cand = (g_best, keep);
                     for j in 0..=SEARCH_GRID {
-                        x[i] = if j == SEARCH_GRID {
-                            hi
-                        } else {
-                            lo + step * j as f64
-                        };
+                        x[i] = if j == SEARCH_GRID { hi } else { lo + step * j as f64 };
                         if let Some(g) = eval(x, &mut evals) {
                             if g > cand.0 + tiny(cand.0) {
                                 cand = (g, x[i]);
@@ -432,11 +390,7 @@ fn search_inside<C: Circuit>(
                             if g2 > cand.0 {
                                 cand = (g2, p2);
                             }
-                            if g1 >= g2 {
-                                c = p2
-                            } else {
-                                a = p1
-                            }
+                            if g1 >= g2 { c = p2 } else { a = p1 }
                         }
                         g_best = cand.0;
                         x[i] = cand.1;
@@ -496,12 +450,7 @@ fn corners<C: Circuit>(prep: &Prepared<C>, limit: usize) -> Result<(Found, u64),
 }
 
 /// Evaluates corners `[start, end)` (see [`CornerScan`]).
-fn scan_corners<C: Circuit>(
-    prep: &Prepared<C>,
-    limit: usize,
-    start: u64,
-    end: u64,
-) -> Result<CornerScan, DesignError> {
+fn scan_corners<C: Circuit>(prep: &Prepared<C>, limit: usize, start: u64, end: u64) -> Result<CornerScan, DesignError> {
     let varied = prep.varied();
     let n = varied.len();
     if n > limit {
@@ -546,8 +495,7 @@ fn found_of<C: Circuit>(prep: &Prepared<C>, scan: &CornerScan) -> Found {
         }
         s
     };
-    scan.best
-        .map(|[lo, hi]| [(lo.0, to_sides(lo.1)), (hi.0, to_sides(hi.1))])
+    scan.best.map(|[lo, hi]| [(lo.0, to_sides(lo.1)), (hi.0, to_sides(hi.1))])
 }
 
 fn sign_method<C: Circuit>(prep: &Prepared<C>) -> Result<(Found, u64), DesignError> {
@@ -714,30 +662,14 @@ mod tests {
         // supply in use, so with VM at its upper limit VT− rises with VDD until 0.7·VDD stops
         // clamping VM, then falls: its maximum lies inside the supply band, not at a corner.
         use crate::topology::cmos_buffer::{CmosBufferSchmitt, CmosGate};
-        let c = CmosBufferSchmitt::new(
-            10e3,
-            47e3,
-            CmosGate {
-                supply_v: 3.3,
-                ..CmosGate::default()
-            },
-        );
-        let s = ToleranceSettings {
-            temperature_min_c: 25.0,
-            temperature_max_c: 25.0,
-            ..Default::default()
-        };
+        let c = CmosBufferSchmitt::new(10e3, 47e3, CmosGate { supply_v: 3.3, ..CmosGate::default() });
+        let s = ToleranceSettings { temperature_min_c: 25.0, temperature_max_c: 25.0, ..Default::default() };
         let corners_only = worst_case_corners(&c, &s).unwrap();
         let wc = worst_case(&c, &s).unwrap();
         assert!(wc.non_monotone);
         assert!(wc.vt_lower.max.value_v > corners_only.vt_lower.max.value_v + 1e-3);
         // The peak sits where 0.7·VDD meets VM: the supply at its centre here, inside the band.
-        assert!(wc
-            .vt_lower
-            .max
-            .corner
-            .iter()
-            .any(|c| matches!(c.side, Side::Inside | Side::Centre)));
+        assert!(wc.vt_lower.max.corner.iter().any(|c| matches!(c.side, Side::Inside | Side::Centre)));
     }
 
     #[test]
@@ -749,10 +681,7 @@ mod tests {
         let wc = worst_case(&design(), &s).unwrap();
         assert_eq!(wc.method, WorstCaseMethod::SensitivitySign);
         assert_eq!(wc.sign_method_shortfall, None);
-        assert_eq!(
-            wc.evaluations,
-            8 + 8 * wc.varied_parameters as u64 * (SEARCH_GRID as u64 + 1)
-        );
+        assert_eq!(wc.evaluations, 8 + 8 * wc.varied_parameters as u64 * (SEARCH_GRID as u64 + 1));
         assert!(!wc.non_monotone);
     }
 

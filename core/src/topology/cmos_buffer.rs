@@ -14,13 +14,13 @@
 //! Only VIL < VM < VIH is guaranteed by logic datasheets, so both thresholds move together by
 //! (1 + R1/R2 + R1/R3)·ΔVM while the width stays fixed (DOMAIN §1d; the check says so with numbers).
 
-use super::logic::{clamp_warning, logic_input_range};
-use super::{expect_len, Circuit, Described, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop,
-    Sense, Thresholds, Warning, WarningCode,
+    Analysis, OutputStage,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{finite, non_negative, positive, DesignError};
+use super::logic::{clamp_warning, logic_input_range};
 use serde::{Deserialize, Serialize};
 
 /// A logic-gate voltage level, entered either as a fraction of the supply or in volts.
@@ -56,10 +56,7 @@ impl GateLevel {
         match *self {
             GateLevel::Fraction(f) => {
                 if !(f.is_finite() && (0.0..=1.0).contains(&f)) {
-                    return Err(DesignError::invalid(
-                        field,
-                        format!("a fraction of the supply must lie between 0 and 1 (got {f})"),
-                    ));
+                    return Err(DesignError::invalid(field, format!("a fraction of the supply must lie between 0 and 1 (got {f})")));
                 }
             }
             GateLevel::Volts(v) => {
@@ -143,18 +140,11 @@ impl CmosGate {
         self.input_high_min.validate("gate.input_high_min")?;
         non_negative("gate.output_high_drop_v", self.output_high_drop_v)?;
         non_negative("gate.output_low_v", self.output_low_v)?;
-        let (vil, vm, vih, vdd) = (
-            self.input_low_max_v(),
-            self.switching_point_v(),
-            self.input_high_min_v(),
-            self.supply_v,
-        );
+        let (vil, vm, vih, vdd) = (self.input_low_max_v(), self.switching_point_v(), self.input_high_min_v(), self.supply_v);
         if !(vm > 0.0 && vm < vdd) {
             return Err(DesignError::invalid(
                 "gate.switching_point",
-                format!(
-                    "the switching point ({vm:.4} V) must lie between 0 V and VDD ({vdd:.4} V)"
-                ),
+                format!("the switching point ({vm:.4} V) must lie between 0 V and VDD ({vdd:.4} V)"),
             ));
         }
         // A tolerance corner puts VM exactly on VIL or VIH; stored as a fraction of VDD it can land
@@ -197,13 +187,7 @@ pub struct CmosBufferSchmitt {
 impl CmosBufferSchmitt {
     /// The two-resistor form (no R3) around a gate.
     pub fn new(r1_ohm: f64, r2_ohm: f64, gate: CmosGate) -> Self {
-        CmosBufferSchmitt {
-            r1_ohm,
-            r2_ohm,
-            r3_ohm: None,
-            r3_rail: BiasRail::Ground,
-            gate,
-        }
+        CmosBufferSchmitt { r1_ohm, r2_ohm, r3_ohm: None, r3_rail: BiasRail::Ground, gate }
     }
 
     /// Voltage of the rail R3 returns to.
@@ -277,11 +261,7 @@ impl Circuit for CmosBufferSchmitt {
         Sense::NonInverting
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let vo = match state {
             OutputState::High => self.gate.output_high_v(),
             OutputState::Low => self.gate.output_low_v,
@@ -289,34 +269,19 @@ impl Circuit for CmosBufferSchmitt {
         let x = self.node_x_v(vin_v, vo);
         let (d1, d2, d3) = self.designators();
         let mut resistors = vec![
-            ResistorDrop {
-                designator: d1,
-                resistance_ohm: self.r1_ohm,
-                volts: vin_v - x,
-            },
-            ResistorDrop {
-                designator: d2,
-                resistance_ohm: self.r2_ohm,
-                volts: vo - x,
-            },
+            ResistorDrop { designator: d1, resistance_ohm: self.r1_ohm, volts: vin_v - x },
+            ResistorDrop { designator: d2, resistance_ohm: self.r2_ohm, volts: vo - x },
         ];
         let mut network = ((vo - x) / self.r2_ohm).abs();
         if let (Some(r3), Some(d)) = (self.r3_ohm, d3) {
-            resistors.push(ResistorDrop {
-                designator: d,
-                resistance_ohm: r3,
-                volts: x - self.bias_v(),
-            });
+            resistors.push(ResistorDrop { designator: d, resistance_ohm: r3, volts: x - self.bias_v() });
             network += ((x - self.bias_v()) / r3).abs();
         }
         Ok(OperatingPoint {
             resistors,
             input_current_a: (vin_v - x) / self.r1_ohm,
             network_current_a: network,
-            device_inputs: vec![NodeVoltage {
-                name: "gate input (node X)".into(),
-                volts: x,
-            }],
+            device_inputs: vec![NodeVoltage { name: "gate input (node X)".into(), volts: x }],
         })
     }
 
@@ -328,40 +293,15 @@ impl Circuit for CmosBufferSchmitt {
             Parameter::resistor("r2_ohm", &d2, "feedback resistor", self.r2_ohm),
         ];
         if let (Some(r3), Some(d)) = (self.r3_ohm, d3) {
-            v.push(Parameter::resistor(
-                "r3_ohm",
-                &d,
-                "centre-shifting resistor",
-                r3,
-            ));
+            v.push(Parameter::resistor("r3_ohm", &d, "centre-shifting resistor", r3));
         }
-        v.push(Parameter::quantity(
-            "supply_v",
-            "supply VDD",
-            g.supply_v,
-            ParameterKind::Supply,
-        ));
+        v.push(Parameter::quantity("supply_v", "supply VDD", g.supply_v, ParameterKind::Supply));
         v.push(
-            Parameter::quantity(
-                "switching_point_v",
-                "gate switching point VM",
-                g.switching_point_v(),
-                ParameterKind::DeviceThreshold,
-            )
-            .with_limits(g.input_low_max_v(), g.input_high_min_v()),
+            Parameter::quantity("switching_point_v", "gate switching point VM", g.switching_point_v(), ParameterKind::DeviceThreshold)
+                .with_limits(g.input_low_max_v(), g.input_high_min_v()),
         );
-        v.push(Parameter::quantity(
-            "output_high_drop_v",
-            "VDD − VOH",
-            g.output_high_drop_v,
-            ParameterKind::OutputLevel,
-        ));
-        v.push(Parameter::quantity(
-            "output_low_v",
-            "VOL",
-            g.output_low_v,
-            ParameterKind::OutputLevel,
-        ));
+        v.push(Parameter::quantity("output_high_drop_v", "VDD − VOH", g.output_high_drop_v, ParameterKind::OutputLevel));
+        v.push(Parameter::quantity("output_low_v", "VOL", g.output_low_v, ParameterKind::OutputLevel));
         v
     }
 
@@ -379,11 +319,7 @@ impl Circuit for CmosBufferSchmitt {
         // The datasheet guarantees VM within [VIL, VIH] at the supply in use: when the supply moves
         // those levels (given as fractions of VDD), a VM drawn against the nominal levels is kept inside.
         let (vil, vih) = (c.gate.input_low_max_v(), c.gate.input_high_min_v());
-        let vm = if vil <= vih {
-            next().max(vil).min(vih)
-        } else {
-            next()
-        };
+        let vm = if vil <= vih { next().max(vil).min(vih) } else { next() };
         c.gate.switching_point = self.gate.switching_point.with_volts(vm, c.gate.supply_v);
         c.gate.output_high_drop_v = next();
         c.gate.output_low_v = next();
@@ -404,11 +340,7 @@ impl Circuit for CmosBufferSchmitt {
     /// DOMAIN §1d synthesis with R2 as the anchor: R1 = R2·ΔV/(VOH − VOL);
     /// s = VT+ − VM − (R1/R2)(VM − VOL); s = 0: no R3; s > 0: R3 = R1·VM/s to 0 V;
     /// s < 0: R3 = R1(VM − VDD)/s to VDD.
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        r2_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, r2_ohm: f64) -> Result<Self, DesignError> {
         self.gate.validate()?;
         finite("targets.vt_upper_v", targets.vt_upper_v)?;
         finite("targets.vt_lower_v", targets.vt_lower_v)?;
@@ -416,10 +348,7 @@ impl Circuit for CmosBufferSchmitt {
         let width = targets.vt_upper_v - targets.vt_lower_v;
         if width <= 0.0 {
             return Err(DesignError::infeasible(
-                format!(
-                    "VT+ ({:.4} V) must be above VT− ({:.4} V)",
-                    targets.vt_upper_v, targets.vt_lower_v
-                ),
+                format!("VT+ ({:.4} V) must be above VT− ({:.4} V)", targets.vt_upper_v, targets.vt_lower_v),
                 "swap the targets; for a single threshold use the gate without feedback",
             ));
         }
@@ -470,12 +399,7 @@ impl Circuit for CmosBufferSchmitt {
         let mut w = Vec::new();
         let Ok(t) = self.thresholds() else { return w };
         let g = &self.gate;
-        let (vil, vm, vih, vdd) = (
-            g.input_low_max_v(),
-            g.switching_point_v(),
-            g.input_high_min_v(),
-            g.supply_v,
-        );
+        let (vil, vm, vih, vdd) = (g.input_low_max_v(), g.switching_point_v(), g.input_high_min_v(), g.supply_v);
         let voh = g.output_high_v();
         let vol = g.output_low_v;
         if vih > vil {
@@ -495,11 +419,7 @@ impl Circuit for CmosBufferSchmitt {
             ));
         }
         if t.vt_upper_v > vdd || t.vt_lower_v < 0.0 {
-            let (name, v, rail, word) = if t.vt_upper_v > vdd {
-                ("VT+", t.vt_upper_v, vdd, "above VDD")
-            } else {
-                ("VT−", t.vt_lower_v, 0.0, "below ground")
-            };
+            let (name, v, rail, word) = if t.vt_upper_v > vdd { ("VT+", t.vt_upper_v, vdd, "above VDD") } else { ("VT−", t.vt_lower_v, 0.0, "below ground") };
             w.push(Warning::new(
                 WarningCode::ThresholdOutsideRange,
                 format!(
@@ -511,14 +431,7 @@ impl Circuit for CmosBufferSchmitt {
         let vin_lo = settings.input_min_v.unwrap_or(t.vt_lower_v.min(0.0));
         let vin_hi = settings.input_max_v.unwrap_or(t.vt_upper_v.max(vdd));
         let rth = 1.0 / self.g_x();
-        w.extend(clamp_warning(
-            self.node_x_v(vin_lo, vol),
-            self.node_x_v(vin_hi, voh),
-            vin_lo,
-            vin_hi,
-            vdd,
-            rth,
-        ));
+        w.extend(clamp_warning(self.node_x_v(vin_lo, vol), self.node_x_v(vin_hi, voh), vin_lo, vin_hi, vdd, rth));
         w
     }
 
@@ -571,19 +484,13 @@ mod tests {
     #[test]
     fn r3_to_ground_raises_the_band_without_changing_width() {
         let base = CmosBufferSchmitt::new(10e3, 47e3, gate5());
-        let shifted = CmosBufferSchmitt {
-            r3_ohm: Some(33e3),
-            ..base.clone()
-        };
+        let shifted = CmosBufferSchmitt { r3_ohm: Some(33e3), ..base.clone() };
         let (a, b) = (base.thresholds().unwrap(), shifted.thresholds().unwrap());
         // R3 to 0 V adds R1·VM/R3 to both thresholds (DOMAIN §1d).
         let shift = 10e3 * 2.5 / 33e3;
         assert!((b.vt_upper_v - a.vt_upper_v - shift).abs() < 1e-12);
         assert!((b.vt_lower_v - a.vt_lower_v - shift).abs() < 1e-12);
-        let to_vdd = CmosBufferSchmitt {
-            r3_rail: BiasRail::Supply,
-            ..shifted
-        };
+        let to_vdd = CmosBufferSchmitt { r3_rail: BiasRail::Supply, ..shifted };
         let c = to_vdd.thresholds().unwrap();
         assert!((c.vt_upper_v - a.vt_upper_v + shift).abs() < 1e-12);
     }
@@ -594,11 +501,7 @@ mod tests {
         g.output_high_drop_v = 0.1;
         g.output_low_v = 0.05;
         g.switching_point = GateLevel::Volts(2.2);
-        let c = CmosBufferSchmitt {
-            r3_ohm: Some(100e3),
-            r3_rail: BiasRail::Supply,
-            ..CmosBufferSchmitt::new(12e3, 56e3, g)
-        };
+        let c = CmosBufferSchmitt { r3_ohm: Some(100e3), r3_rail: BiasRail::Supply, ..CmosBufferSchmitt::new(12e3, 56e3, g) };
         let t = c.thresholds().unwrap();
         assert!((c.node_x_v(t.vt_upper_v, 0.05) - 2.2).abs() < 1e-12);
         assert!((c.node_x_v(t.vt_lower_v, 4.9) - 2.2).abs() < 1e-12);
@@ -606,25 +509,9 @@ mod tests {
 
     #[test]
     fn synthesis_round_trip_all_three_r3_cases() {
-        let template = CmosBufferSchmitt::new(
-            1.0,
-            1.0,
-            CmosGate {
-                output_low_v: 0.1,
-                output_high_drop_v: 0.2,
-                ..gate5()
-            },
-        );
-        for (up, lo, rail) in [
-            (3.4, 1.9, BiasRail::Ground),
-            (2.2, 0.8, BiasRail::Supply),
-            (6.0, 4.0, BiasRail::Ground),
-        ] {
-            let targets = Targets {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-                impedance: ImpedanceChoice::AnchorOhm(47e3),
-            };
+        let template = CmosBufferSchmitt::new(1.0, 1.0, CmosGate { output_low_v: 0.1, output_high_drop_v: 0.2, ..gate5() });
+        for (up, lo, rail) in [(3.4, 1.9, BiasRail::Ground), (2.2, 0.8, BiasRail::Supply), (6.0, 4.0, BiasRail::Ground)] {
+            let targets = Targets { vt_upper_v: up, vt_lower_v: lo, impedance: ImpedanceChoice::AnchorOhm(47e3) };
             let d = synthesise(&template, &targets).unwrap();
             let t = d.thresholds().unwrap();
             assert!((t.vt_upper_v - up).abs() < 1e-9 * up, "{t:?}");
@@ -635,11 +522,7 @@ mod tests {
         // Targets with s = 0 exactly: VT+ = VM + m(VM − VOL) with m = ΔV/(VOH − VOL).
         let m = 1.0 / 4.7;
         let up = 2.5 + m * (2.5 - 0.1);
-        let targets = Targets {
-            vt_upper_v: up,
-            vt_lower_v: up - m * 4.7,
-            impedance: ImpedanceChoice::AnchorOhm(47e3),
-        };
+        let targets = Targets { vt_upper_v: up, vt_lower_v: up - m * 4.7, impedance: ImpedanceChoice::AnchorOhm(47e3) };
         let d = synthesise(&template, &targets).unwrap();
         assert_eq!(d.r3_ohm, None);
     }
@@ -647,15 +530,7 @@ mod tests {
     #[test]
     fn infeasible_and_invalid_targets_are_typed() {
         let template = CmosBufferSchmitt::new(1.0, 1.0, gate5());
-        let e = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 2.0,
-                    vt_lower_v: 3.0,
-                },
-                1e4,
-            )
-            .unwrap_err();
+        let e = template.synthesise_with_anchor(Thresholds { vt_upper_v: 2.0, vt_lower_v: 3.0 }, 1e4).unwrap_err();
         match e {
             DesignError::Infeasible { reason, suggestion } => {
                 assert!(reason.contains("above"));
@@ -663,82 +538,40 @@ mod tests {
             }
             other => panic!("{other:?}"),
         }
-        let e = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: f64::NAN,
-                    vt_lower_v: 1.0,
-                },
-                1e4,
-            )
-            .unwrap_err();
+        let e = template.synthesise_with_anchor(Thresholds { vt_upper_v: f64::NAN, vt_lower_v: 1.0 }, 1e4).unwrap_err();
         assert!(matches!(e, DesignError::InvalidValue { .. }));
     }
 
     #[test]
     fn invalid_parts_and_levels_are_typed_errors() {
         let mut c = CmosBufferSchmitt::new(0.0, 1e3, gate5());
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.r1_ohm = 1e3;
         c.r3_ohm = Some(f64::INFINITY);
         assert!(c.validate().is_err());
         c.r3_ohm = None;
         c.gate.switching_point = GateLevel::Fraction(0.8); // above VIH = 0.7·VDD
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
         c.gate.switching_point = GateLevel::Fraction(1.5);
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
-        c.gate = CmosGate {
-            output_high_drop_v: 4.0,
-            output_low_v: 1.5,
-            ..gate5()
-        };
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        c.gate = CmosGate { output_high_drop_v: 4.0, output_low_v: 1.5, ..gate5() };
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
     }
 
     #[test]
     fn parameters_round_trip_and_carry_the_guaranteed_band() {
-        let c = CmosBufferSchmitt {
-            r3_ohm: Some(82e3),
-            ..CmosBufferSchmitt::new(
-                10e3,
-                47e3,
-                CmosGate {
-                    supply_v: 3.3,
-                    ..gate5()
-                },
-            )
-        };
+        let c = CmosBufferSchmitt { r3_ohm: Some(82e3), ..CmosBufferSchmitt::new(10e3, 47e3, CmosGate { supply_v: 3.3, ..gate5() }) };
         let p = c.parameters();
         let vm = p.iter().find(|p| p.id == "switching_point_v").unwrap();
         assert_eq!(vm.limits, Some([0.3 * 3.3, 0.7 * 3.3]));
-        assert_eq!(
-            p.iter()
-                .filter_map(|p| p.designator.clone())
-                .collect::<Vec<_>>(),
-            ["R1", "R2", "R3"]
-        );
+        assert_eq!(p.iter().filter_map(|p| p.designator.clone()).collect::<Vec<_>>(), ["R1", "R2", "R3"]);
         let values: Vec<f64> = p.iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&values).unwrap(), c);
         assert!(c.with_parameters(&values[1..]).is_err());
         // Moving VM moves both thresholds by (1 + R1/R2 + R1/R3)·ΔVM.
         let mut moved = values.clone();
         moved[4] += 0.1;
-        let (a, b) = (
-            c.thresholds().unwrap(),
-            c.with_parameters(&moved).unwrap().thresholds().unwrap(),
-        );
+        let (a, b) = (c.thresholds().unwrap(), c.with_parameters(&moved).unwrap().thresholds().unwrap());
         let gain = 1.0 + 10.0 / 47.0 + 10.0 / 82.0;
         assert!((b.vt_upper_v - a.vt_upper_v - 0.1 * gain).abs() < 1e-9);
         assert!((b.hysteresis_v() - a.hysteresis_v()).abs() < 1e-12);
@@ -748,25 +581,13 @@ mod tests {
     fn checks_report_spread_and_clamping() {
         let c = CmosBufferSchmitt::new(10e3, 15e3, gate5()); // VT± = 2.5(1 ± 0.667): 4.17 / 0.83 V
         let w = c.checks(&CheckSettings::default());
-        assert!(w
-            .iter()
-            .any(|w| w.code == WarningCode::GateThresholdSpread && w.message.contains("1.667")));
-        assert!(!w
-            .iter()
-            .any(|w| w.code == WarningCode::ThresholdOutsideRange));
+        assert!(w.iter().any(|w| w.code == WarningCode::GateThresholdSpread && w.message.contains("1.667")));
+        assert!(!w.iter().any(|w| w.code == WarningCode::ThresholdOutsideRange));
         let wide = CmosBufferSchmitt::new(10e3, 8e3, gate5()); // VT+ = 2.5(1 + 1.25) = 5.625 V
         let w = wide.checks(&CheckSettings::default());
-        assert!(
-            w.iter()
-                .any(|w| w.code == WarningCode::ThresholdOutsideRange),
-            "{w:?}"
-        );
+        assert!(w.iter().any(|w| w.code == WarningCode::ThresholdOutsideRange), "{w:?}");
         // Vin = 5.625 V with the output high puts X at (5.625/10k + 5/8k)/(1/10k + 1/8k) > 5 V.
-        assert!(
-            w.iter()
-                .any(|w| w.code == WarningCode::CommonModeRange && w.message.contains("clamp")),
-            "{w:?}"
-        );
+        assert!(w.iter().any(|w| w.code == WarningCode::CommonModeRange && w.message.contains("clamp")), "{w:?}");
         let a = analyse(&wide, &CheckSettings::default()).unwrap();
         assert_eq!(a.sense, Sense::NonInverting);
     }
@@ -776,14 +597,7 @@ mod tests {
         let c = CmosBufferSchmitt::new(10e3, 47e3, gate5());
         let t = c.with_supply(3.3).thresholds().unwrap();
         assert!((t.vt_upper_v - 1.65 * (1.0 + 10.0 / 47.0)).abs() < 1e-12);
-        let fixed = CmosBufferSchmitt::new(
-            10e3,
-            47e3,
-            CmosGate {
-                switching_point: GateLevel::Volts(2.5),
-                ..gate5()
-            },
-        );
+        let fixed = CmosBufferSchmitt::new(10e3, 47e3, CmosGate { switching_point: GateLevel::Volts(2.5), ..gate5() });
         assert!((fixed.with_supply(4.5).gate.switching_point_v() - 2.5).abs() < 1e-15);
     }
 }
@@ -793,8 +607,8 @@ impl crate::netlist::Netlisted for CmosBufferSchmitt {
     /// R1 from the input to node `x` (the buffer's input), R2 from the output to `x`, optional R3
     /// from `x` to its rail; the buffer U1 switches at VM.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use super::netlisting::{builder, input_centre_v};
         use crate::netlist::{ActiveDevice, GateThreshold, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let g = &self.gate;
         let mut b = builder("cmos_buffer", self);
         let vdd = b.supply(g.supply_v, "VDD");
@@ -814,9 +628,7 @@ impl crate::netlist::Netlisted for CmosBufferSchmitt {
             output: OUTPUT_NET.into(),
             supply: vdd,
             ground: GROUND.into(),
-            threshold: GateThreshold::Single {
-                switching_v: g.switching_point_v(),
-            },
+            threshold: GateThreshold::Single { switching_v: g.switching_point_v() },
             inverting: false,
             output_high_v: g.output_high_v(),
             output_low_v: g.output_low_v,

@@ -25,11 +25,7 @@ pub(crate) fn divider_fraction(ra_ohm: f64, rb_ohm: f64) -> f64 {
 /// The last step of every synthesis: the design must pass its own validation and reproduce the
 /// targets to 1e-9 (relative to the larger target, 1 mV floor); extreme anchors or targets that
 /// leave the floating-point range or lose that accuracy give a typed error instead of a bad design.
-pub(crate) fn verified<C: Circuit>(
-    design: C,
-    targets: Thresholds,
-    anchor_ohm: f64,
-) -> Result<C, DesignError> {
+pub(crate) fn verified<C: Circuit>(design: C, targets: Thresholds, anchor_ohm: f64) -> Result<C, DesignError> {
     let unusable = |why: String| {
         DesignError::infeasible(
             format!("with the anchor at {anchor_ohm:.4e} Ω the targets need {why}"),
@@ -37,16 +33,10 @@ pub(crate) fn verified<C: Circuit>(
         )
     };
     if let Err(e) = design.validate() {
-        return Err(unusable(format!(
-            "part values outside the usable range ({e})"
-        )));
+        return Err(unusable(format!("part values outside the usable range ({e})")));
     }
     let t = design.thresholds()?;
-    let scale = targets
-        .vt_upper_v
-        .abs()
-        .max(targets.vt_lower_v.abs())
-        .max(1e-3);
+    let scale = targets.vt_upper_v.abs().max(targets.vt_lower_v.abs()).max(1e-3);
     let ok = |got: f64, want: f64| got.is_finite() && (got - want).abs() <= 1e-9 * scale;
     if ok(t.vt_upper_v, targets.vt_upper_v) && ok(t.vt_lower_v, targets.vt_lower_v) {
         Ok(design)
@@ -97,40 +87,19 @@ pub(crate) fn quadratic_roots(a: f64, b: f64, c: f64) -> [Option<f64>; 2] {
 }
 
 /// The root that satisfies `ok`; with two such roots, the one nearer `hint`.
-pub(crate) fn pick_root(
-    roots: [Option<f64>; 2],
-    hint: f64,
-    ok: impl Fn(f64) -> bool,
-) -> Option<f64> {
-    let good: Vec<f64> = roots
-        .iter()
-        .flatten()
-        .copied()
-        .filter(|x| x.is_finite() && ok(*x))
-        .collect();
+pub(crate) fn pick_root(roots: [Option<f64>; 2], hint: f64, ok: impl Fn(f64) -> bool) -> Option<f64> {
+    let good: Vec<f64> = roots.iter().flatten().copied().filter(|x| x.is_finite() && ok(*x)).collect();
     match good.as_slice() {
         [] => None,
         [x] => Some(*x),
-        [x, y, ..] => Some(
-            if (x - hint).abs() <= (y - hint).abs() || !hint.is_finite() {
-                *x
-            } else {
-                *y
-            },
-        ),
+        [x, y, ..] => Some(if (x - hint).abs() <= (y - hint).abs() || !hint.is_finite() { *x } else { *y }),
     }
 }
 
 /// The input-referred switching point of a non-inverting stage: the input voltage at which node P
 /// (fed by R1s from the input and by S from an output Thevenin source `vx_v`, drawing IB+) reaches
 /// `p_v`. From KCL at P: Vin = P·(1 + R1s/S) − Vx·R1s/S + IB+·R1s (DOMAIN §1b, §1c).
-pub(crate) fn noninverting_switch_v(
-    p_v: f64,
-    vx_v: f64,
-    r1s_ohm: f64,
-    s_ohm: f64,
-    ib_plus_a: f64,
-) -> f64 {
+pub(crate) fn noninverting_switch_v(p_v: f64, vx_v: f64, r1s_ohm: f64, s_ohm: f64, ib_plus_a: f64) -> f64 {
     let m = r1s_ohm / s_ohm;
     p_v * (1.0 + m) - vx_v * m + ib_plus_a * r1s_ohm
 }
@@ -141,50 +110,20 @@ pub(crate) fn device_parameter_count(with_bias_minus: bool) -> usize {
 }
 
 /// Appends the device quantities in a fixed order: VCC − VOH, VOL − VEE, VOS, IB+, [IB−], h.
-pub(crate) fn push_device_parameters(
-    d: &Comparator,
-    with_bias_minus: bool,
-    v: &mut Vec<Parameter>,
-) {
-    v.push(Parameter::quantity(
-        "output_high_drop_v",
-        "VCC − VOH",
-        d.output_high_drop_v,
-        ParameterKind::OutputLevel,
-    ));
-    v.push(Parameter::quantity(
-        "output_low_rise_v",
-        "VOL − VEE",
-        d.output_low_rise_v,
-        ParameterKind::OutputLevel,
-    ));
+pub(crate) fn push_device_parameters(d: &Comparator, with_bias_minus: bool, v: &mut Vec<Parameter>) {
+    v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
+    v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
     v.push(offset_parameter(d));
-    v.push(bias_parameter(
-        "bias_plus_a",
-        "bias current IB+",
-        d.bias_plus_a,
-        d,
-    ));
+    v.push(bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
     if with_bias_minus {
-        v.push(bias_parameter(
-            "bias_minus_a",
-            "bias current IB−",
-            d.bias_minus_a,
-            d,
-        ));
+        v.push(bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
     }
     v.push(builtin_hysteresis_parameter(d));
 }
 
 /// The offset VOS as a parameter, with the device's offset drift (sign unknown).
 pub(crate) fn offset_parameter(d: &Comparator) -> Parameter {
-    Parameter::quantity(
-        "offset_v",
-        "input offset VOS",
-        d.offset_v,
-        ParameterKind::Offset,
-    )
-    .with_drift(d.offset_drift())
+    Parameter::quantity("offset_v", "input offset VOS", d.offset_v, ParameterKind::Offset).with_drift(d.offset_drift())
 }
 
 /// A bias current as a parameter, with the device's bias-current temperature dependence.
@@ -196,23 +135,11 @@ pub(crate) fn bias_parameter(id: &str, label: &str, value_a: f64, d: &Comparator
 /// varies from part to part, so it takes the device-threshold band (datasheets give it as
 /// min/typ/max; ±10 % by default).
 pub(crate) fn builtin_hysteresis_parameter(d: &Comparator) -> Parameter {
-    Parameter {
-        unit: Unit::Volt,
-        ..Parameter::quantity(
-            "builtin_hysteresis_v",
-            "built-in hysteresis h",
-            d.builtin_hysteresis_v,
-            ParameterKind::DeviceThreshold,
-        )
-    }
+    Parameter { unit: Unit::Volt, ..Parameter::quantity("builtin_hysteresis_v", "built-in hysteresis h", d.builtin_hysteresis_v, ParameterKind::DeviceThreshold) }
 }
 
 /// Reads the device quantities back in the order of [`push_device_parameters`].
-pub(crate) fn take_device_parameters(
-    d: &mut Comparator,
-    with_bias_minus: bool,
-    next: &mut dyn FnMut() -> f64,
-) {
+pub(crate) fn take_device_parameters(d: &mut Comparator, with_bias_minus: bool, next: &mut dyn FnMut() -> f64) {
     d.output_high_drop_v = next();
     d.output_low_rise_v = next();
     d.offset_v = next();
@@ -256,15 +183,9 @@ pub(crate) fn bias_error_check_with<C: Circuit>(
     settings: &CheckSettings,
     w: &mut Vec<Warning>,
 ) {
-    let (Ok(t), Ok(t0)) = (circuit.thresholds(), without_bias.thresholds()) else {
-        return;
-    };
-    let bias_err = (t.vt_upper_v - t0.vt_upper_v)
-        .abs()
-        .max((t.vt_lower_v - t0.vt_lower_v).abs());
-    let Ok(s) = sensitivities(circuit) else {
-        return;
-    };
+    let (Ok(t), Ok(t0)) = (circuit.thresholds(), without_bias.thresholds()) else { return };
+    let bias_err = (t.vt_upper_v - t0.vt_upper_v).abs().max((t.vt_lower_v - t0.vt_lower_v).abs());
+    let Ok(s) = sensitivities(circuit) else { return };
     let tol_err: f64 = s
         .iter()
         .filter(|(p, _, _)| p.kind == ParameterKind::Resistor)
@@ -277,13 +198,7 @@ pub(crate) fn bias_error_check_with<C: Circuit>(
 /// DOMAIN §6: warns when the bias-current error `bias_err` (volts) exceeds the settings' fraction of
 /// the resistor-tolerance error `tol_err` (volts). `terms` names where the error comes from, as
 /// " (IB × node resistance …)", or is empty.
-pub(crate) fn bias_error_warning(
-    bias_err: f64,
-    tol_err: f64,
-    settings: &CheckSettings,
-    terms: &str,
-    w: &mut Vec<Warning>,
-) {
+pub(crate) fn bias_error_warning(bias_err: f64, tol_err: f64, settings: &CheckSettings, terms: &str, w: &mut Vec<Warning>) {
     if bias_err > 0.0 && bias_err > settings.bias_error_fraction * tol_err {
         w.push(Warning::new(
             WarningCode::BiasCurrentError,
@@ -334,9 +249,7 @@ macro_rules! comparator_rails {
             _analysis: &$crate::analysis::Analysis,
             _checks: &$crate::analysis::CheckSettings,
         ) -> Vec<String> {
-            vec![$crate::topology::comparator::common_mode_hint(
-                self.device_input_range(),
-            )]
+            vec![$crate::topology::comparator::common_mode_hint(self.device_input_range())]
         }
     };
 }

@@ -48,11 +48,7 @@ mod tests {
     use crate::topology::analyse;
 
     fn node(min_v: f64, max_v: f64) -> NodeRange {
-        NodeRange {
-            name: "node P".into(),
-            min_v,
-            max_v,
-        }
+        NodeRange { name: "node P".into(), min_v, max_v }
     }
 
     #[test]
@@ -60,82 +56,39 @@ mod tests {
         assert!(rail_warnings(&[node(-0.3, 5.3)], 5.0, 0.0).is_empty());
         let w = rail_warnings(&[node(-0.5, 7.5)], 5.0, 0.0);
         assert_eq!(w.len(), 2);
-        assert!(
-            w[0].message.contains("node P")
-                && w[0].message.contains("7.500 V")
-                && w[0].message.contains("5.000 V"),
-            "{}",
-            w[0].message
-        );
-        assert!(
-            w[1].message.contains("-0.500 V") && w[1].message.contains("0.000 V"),
-            "{}",
-            w[1].message
-        );
+        assert!(w[0].message.contains("node P") && w[0].message.contains("7.500 V") && w[0].message.contains("5.000 V"), "{}", w[0].message);
+        assert!(w[1].message.contains("-0.500 V") && w[1].message.contains("0.000 V"), "{}", w[1].message);
     }
 
     #[test]
     fn the_greenhouse_demo_warns_that_node_p_passes_the_5_v_rail() {
         // 30 V on the 24 V input: node P = (30/5.6k + 4.9/9.1k)/(1/5.6k + 1/2k + 1/9.1k) = 7.48 V
         // (nodal sum by hand, output high), on a comparator supplied from 5 V.
-        let r = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "greenhouse-valve")
-            .unwrap()
-            .record();
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap().record();
         let a = analyse(&r.circuit, &r.checks).unwrap();
         let p = (30.0 / 5.6e3 + 4.9 / 9.1e3) / (1.0 / 5.6e3 + 1.0 / 2e3 + 1.0 / 9.1e3);
-        let w: Vec<&Warning> = a
-            .warnings
-            .iter()
-            .filter(|w| w.message.contains("supply rail"))
-            .collect();
+        let w: Vec<&Warning> = a.warnings.iter().filter(|w| w.message.contains("supply rail")).collect();
         assert_eq!(w.len(), 1, "{:?}", a.warnings);
-        assert!(
-            w[0].message.contains("node P")
-                && w[0].message.contains(&format!("{p:.3} V"))
-                && w[0].message.contains("5.000 V"),
-            "{}",
-            w[0].message
-        );
+        assert!(w[0].message.contains("node P") && w[0].message.contains(&format!("{p:.3} V")) && w[0].message.contains("5.000 V"), "{}", w[0].message);
     }
 
     #[test]
     fn the_greenhouse_demo_gives_node_p_one_message() {
         // Node P passes both the device's input range and its supply rail: one warning, not two.
-        let r = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "greenhouse-valve")
-            .unwrap()
-            .record();
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap().record();
         let a = analyse(&r.circuit, &r.checks).unwrap();
-        let about_p: Vec<&Warning> = a
-            .warnings
-            .iter()
-            .filter(|w| w.message.contains("node P"))
-            .collect();
+        let about_p: Vec<&Warning> = a.warnings.iter().filter(|w| w.message.contains("node P")).collect();
         assert_eq!(about_p.len(), 1, "{:?}", a.warnings);
         // Below the input range but inside the rail margin, the common-mode warning still stands.
         let mut low = r.clone();
         if let crate::topology::Topology::SupplyMonitor(m) = &mut low.circuit {
             m.device.input_high_margin_v = 2.0; // inputs reach only to 3 V
         }
-        let checks = CheckSettings {
-            input_max_v: Some(20.0),
-            ..r.checks
-        };
+        let checks = CheckSettings { input_max_v: Some(20.0), ..r.checks };
         let a = analyse(&low.circuit, &checks).unwrap();
-        let about_p: Vec<&Warning> = a
-            .warnings
-            .iter()
-            .filter(|w| w.message.contains("node P"))
-            .collect();
+        let about_p: Vec<&Warning> = a.warnings.iter().filter(|w| w.message.contains("node P")).collect();
         assert_eq!(about_p.len(), 1, "{:?}", a.warnings);
-        assert!(
-            about_p[0].message.contains("input range"),
-            "{}",
-            about_p[0].message
-        );
+        assert!(about_p[0].message.contains("input range"), "{}", about_p[0].message);
     }
 
     #[test]
@@ -148,23 +101,10 @@ mod tests {
 
     #[test]
     fn a_divider_that_stays_inside_the_rails_gives_no_rail_warning() {
-        let r = crate::catalog::demos()
-            .into_iter()
-            .find(|s| s.key == "greenhouse-valve")
-            .unwrap()
-            .record();
+        let r = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap().record();
         // Up to 20 V the node stays below 5.3 V: (20/5.6k + 4.9/9.1k)/7.885e-4 = 5.21 V.
-        let checks = CheckSettings {
-            input_max_v: Some(20.0),
-            ..r.checks
-        };
+        let checks = CheckSettings { input_max_v: Some(20.0), ..r.checks };
         let a = analyse(&r.circuit, &checks).unwrap();
-        assert!(
-            a.warnings
-                .iter()
-                .all(|w| !w.message.contains("supply rail")),
-            "{:?}",
-            a.warnings
-        );
+        assert!(a.warnings.iter().all(|w| !w.message.contains("supply rail")), "{:?}", a.warnings);
     }
 }

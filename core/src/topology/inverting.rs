@@ -12,13 +12,12 @@
 //! P = Rp·(VA/Ra + VB/Rb + VO/Rf − IB+) and the device switches when P − V(−) = VOS (∓h/2),
 //! with V(−) = Vin − IB−·Rs. Hence VT+ (VO = VOH) and VT− (VO = VOL) = P − VOS ± h/2 + IB−·Rs.
 
-use super::comparator::{resistance, verified};
-use super::{expect_len, parallel, Circuit, Described, Parameter, ParameterKind};
+use super::{Described, expect_len, parallel, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds,
-    Warning, WarningCode,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
+use super::comparator::{resistance, verified};
 use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
@@ -42,36 +41,20 @@ pub struct InvertingSchmitt {
 impl InvertingSchmitt {
     /// The single-supply three-resistor form: Ra to the supply, Rb to ground, Rf from the output.
     pub fn single_supply(ra_ohm: f64, rb_ohm: f64, rf_ohm: f64, device: Comparator) -> Self {
-        InvertingSchmitt {
-            ra_ohm: Some(ra_ohm),
-            rail_a: Rail::Supply,
-            rb_ohm: Some(rb_ohm),
-            rail_b: Rail::Ground,
-            rf_ohm,
-            device,
-        }
+        InvertingSchmitt { ra_ohm: Some(ra_ohm), rail_a: Rail::Supply, rb_ohm: Some(rb_ohm), rail_b: Rail::Ground, rf_ohm, device }
     }
 
     /// The split-supply two-resistor form with the reference at ground: R1 (here Rb) to 0 V, Rf feedback.
     pub fn split_supply(r1_ohm: f64, rf_ohm: f64, device: Comparator) -> Self {
-        InvertingSchmitt {
-            ra_ohm: None,
-            rail_a: Rail::Supply,
-            rb_ohm: Some(r1_ohm),
-            rail_b: Rail::Ground,
-            rf_ohm,
-            device,
-        }
+        InvertingSchmitt { ra_ohm: None, rail_a: Rail::Supply, rb_ohm: Some(r1_ohm), rail_b: Rail::Ground, rf_ohm, device }
     }
 
     fn va(&self) -> f64 {
-        self.rail_a
-            .volts(self.device.supply_v, self.device.negative_rail_v)
+        self.rail_a.volts(self.device.supply_v, self.device.negative_rail_v)
     }
 
     fn vb(&self) -> f64 {
-        self.rail_b
-            .volts(self.device.supply_v, self.device.negative_rail_v)
+        self.rail_b.volts(self.device.supply_v, self.device.negative_rail_v)
     }
 
     /// Designators assigned in order Ra, Rb, Rf over the fitted resistors.
@@ -102,8 +85,7 @@ impl InvertingSchmitt {
 
     /// Input-referred error that does not depend on the divider: −VOS(state) + IB−·Rs.
     fn input_error(&self, output_high: bool) -> f64 {
-        -self.device.switching_offset_v(output_high)
-            + self.device.bias_minus_applied_a() * self.device.source_resistance_ohm
+        -self.device.switching_offset_v(output_high) + self.device.bias_minus_applied_a() * self.device.source_resistance_ohm
     }
 }
 
@@ -146,11 +128,7 @@ impl Circuit for InvertingSchmitt {
         Sense::Inverting
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let vo = match state {
             OutputState::High => self.device.output_high_v(),
             OutputState::Low => self.device.output_low_v(),
@@ -160,26 +138,14 @@ impl Circuit for InvertingSchmitt {
         let mut resistors = Vec::new();
         let mut currents = Vec::new();
         if let (Some(r), Some(d)) = (self.ra_ohm, da) {
-            resistors.push(ResistorDrop {
-                designator: d,
-                resistance_ohm: r,
-                volts: self.va() - p,
-            });
+            resistors.push(ResistorDrop { designator: d, resistance_ohm: r, volts: self.va() - p });
             currents.push((self.va() - p) / r);
         }
         if let (Some(r), Some(d)) = (self.rb_ohm, db) {
-            resistors.push(ResistorDrop {
-                designator: d,
-                resistance_ohm: r,
-                volts: p - self.vb(),
-            });
+            resistors.push(ResistorDrop { designator: d, resistance_ohm: r, volts: p - self.vb() });
             currents.push((self.vb() - p) / r);
         }
-        resistors.push(ResistorDrop {
-            designator: df,
-            resistance_ohm: self.rf_ohm,
-            volts: vo - p,
-        });
+        resistors.push(ResistorDrop { designator: df, resistance_ohm: self.rf_ohm, volts: vo - p });
         currents.push((vo - p) / self.rf_ohm);
         let ib_minus = self.device.bias_minus_applied_a();
         Ok(OperatingPoint {
@@ -187,14 +153,8 @@ impl Circuit for InvertingSchmitt {
             input_current_a: ib_minus,
             network_current_a: currents.iter().map(|i| i.abs()).sum::<f64>() / 2.0,
             device_inputs: vec![
-                NodeVoltage {
-                    name: "inverting input (signal)".into(),
-                    volts: vin_v - ib_minus * self.device.source_resistance_ohm,
-                },
-                NodeVoltage {
-                    name: "non-inverting input (node P)".into(),
-                    volts: p,
-                },
+                NodeVoltage { name: "inverting input (signal)".into(), volts: vin_v - ib_minus * self.device.source_resistance_ohm },
+                NodeVoltage { name: "non-inverting input (node P)".into(), volts: p },
             ],
         })
     }
@@ -203,81 +163,26 @@ impl Circuit for InvertingSchmitt {
         let (da, db, df) = self.designators();
         let mut v = Vec::new();
         if let (Some(r), Some(d)) = (self.ra_ohm, da) {
-            v.push(Parameter::resistor(
-                "ra_ohm",
-                &d,
-                "divider resistor to rail A",
-                r,
-            ));
+            v.push(Parameter::resistor("ra_ohm", &d, "divider resistor to rail A", r));
         }
         if let (Some(r), Some(d)) = (self.rb_ohm, db) {
-            v.push(Parameter::resistor(
-                "rb_ohm",
-                &d,
-                "divider resistor to rail B",
-                r,
-            ));
+            v.push(Parameter::resistor("rb_ohm", &d, "divider resistor to rail B", r));
         }
-        v.push(Parameter::resistor(
-            "rf_ohm",
-            &df,
-            "feedback resistor",
-            self.rf_ohm,
-        ));
+        v.push(Parameter::resistor("rf_ohm", &df, "feedback resistor", self.rf_ohm));
         let d = &self.device;
-        v.push(Parameter::quantity(
-            "supply_v",
-            "supply",
-            d.supply_v,
-            ParameterKind::Supply,
-        ));
-        v.push(Parameter::quantity(
-            "negative_rail_v",
-            "negative rail",
-            d.negative_rail_v,
-            ParameterKind::Supply,
-        ));
+        v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
         if let Rail::Fixed(x) = self.rail_a {
-            v.push(Parameter::quantity(
-                "rail_a",
-                "rail A reference",
-                x,
-                ParameterKind::Reference,
-            ));
+            v.push(Parameter::quantity("rail_a", "rail A reference", x, ParameterKind::Reference));
         }
         if let Rail::Fixed(x) = self.rail_b {
-            v.push(Parameter::quantity(
-                "rail_b",
-                "rail B reference",
-                x,
-                ParameterKind::Reference,
-            ));
+            v.push(Parameter::quantity("rail_b", "rail B reference", x, ParameterKind::Reference));
         }
-        v.push(Parameter::quantity(
-            "output_high_drop_v",
-            "VCC − VOH",
-            d.output_high_drop_v,
-            ParameterKind::OutputLevel,
-        ));
-        v.push(Parameter::quantity(
-            "output_low_rise_v",
-            "VOL − VEE",
-            d.output_low_rise_v,
-            ParameterKind::OutputLevel,
-        ));
+        v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
+        v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
         v.push(super::comparator::offset_parameter(d));
-        v.push(super::comparator::bias_parameter(
-            "bias_plus_a",
-            "bias current IB+",
-            d.bias_plus_a,
-            d,
-        ));
-        v.push(super::comparator::bias_parameter(
-            "bias_minus_a",
-            "bias current IB−",
-            d.bias_minus_a,
-            d,
-        ));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
+        v.push(super::comparator::bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
         v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
@@ -322,21 +227,13 @@ impl Circuit for InvertingSchmitt {
     fn with_output_load(&self, load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         let (h, l, rs) = load.thevenin(self.device.output_high_v(), self.device.output_low_v());
         let device = crate::topology::output_load::comparator_with_levels(&self.device, h, l);
-        Some(InvertingSchmitt {
-            rf_ohm: self.rf_ohm + rs,
-            device,
-            ..self.clone()
-        })
+        Some(InvertingSchmitt { rf_ohm: self.rf_ohm + rs, device, ..self.clone() })
     }
 
     /// DOMAIN §1a synthesis, extended to invert the offset and bias terms exactly:
     /// k = ΔP/(VOH − VOL), Rth = Rf·k/(1−k), Vth = (P − k·VO)/(1−k) + IB+·Rth,
     /// Ra = Rth(VA−VB)/(Vth−VB), Rb = Rth(VA−VB)/(VA−Vth).
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        rf_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, rf_ohm: f64) -> Result<Self, DesignError> {
         self.device.validate()?;
         let voh = self.device.output_high_v();
         let vol = self.device.output_low_v();
@@ -344,10 +241,7 @@ impl Circuit for InvertingSchmitt {
         let p_lo = targets.vt_lower_v - self.input_error(false);
         if targets.vt_upper_v <= targets.vt_lower_v {
             return Err(DesignError::infeasible(
-                format!(
-                    "VT+ ({:.4} V) must be above VT− ({:.4} V)",
-                    targets.vt_upper_v, targets.vt_lower_v
-                ),
+                format!("VT+ ({:.4} V) must be above VT− ({:.4} V)", targets.vt_upper_v, targets.vt_lower_v),
                 "swap the targets or use a plain comparator for a single threshold",
             ));
         }
@@ -495,13 +389,7 @@ mod tests {
     #[test]
     fn split_supply_is_beta_times_output() {
         // Sedra & Smith bistable section (from memory): VT± = β·L±, β = R1/(R1+R2).
-        let dev = Comparator {
-            supply_v: 12.0,
-            negative_rail_v: -12.0,
-            output_high_drop_v: 1.0,
-            output_low_rise_v: 1.0,
-            ..Comparator::default()
-        };
+        let dev = Comparator { supply_v: 12.0, negative_rail_v: -12.0, output_high_drop_v: 1.0, output_low_rise_v: 1.0, ..Comparator::default() };
         let c = InvertingSchmitt::split_supply(10e3, 90e3, dev);
         let t = c.thresholds().unwrap();
         assert!((t.vt_upper_v - 1.1).abs() < 1e-12);
@@ -515,12 +403,8 @@ mod tests {
         dev.bias_plus_a = 100e-9;
         dev.bias_minus_a = 50e-9;
         dev.source_resistance_ohm = 1e3;
-        let ideal = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, rr(5.0))
-            .thresholds()
-            .unwrap();
-        let real = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, dev)
-            .thresholds()
-            .unwrap();
+        let ideal = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, rr(5.0)).thresholds().unwrap();
+        let real = InvertingSchmitt::single_supply(10e3, 10e3, 20e3, dev).thresholds().unwrap();
         let rp = 1.0 / (1.0 / 10e3 + 1.0 / 10e3 + 1.0 / 20e3);
         let shift = -0.005 - 100e-9 * rp + 50e-9 * 1e3;
         assert!((real.vt_upper_v - ideal.vt_upper_v - shift).abs() < 1e-12);
@@ -541,11 +425,7 @@ mod tests {
             ..Comparator::default()
         };
         let template = InvertingSchmitt::single_supply(1.0, 1.0, 1.0, dev);
-        let targets = Targets {
-            vt_upper_v: 2.9,
-            vt_lower_v: 1.7,
-            impedance: ImpedanceChoice::AnchorOhm(100e3),
-        };
+        let targets = Targets { vt_upper_v: 2.9, vt_lower_v: 1.7, impedance: ImpedanceChoice::AnchorOhm(100e3) };
         let d = synthesise(&template, &targets).unwrap();
         let t = d.thresholds().unwrap();
         assert!((t.vt_upper_v - 2.9).abs() < 1e-9);
@@ -556,11 +436,7 @@ mod tests {
     #[test]
     fn synthesis_rejects_width_beyond_swing() {
         let template = InvertingSchmitt::single_supply(1.0, 1.0, 1.0, rr(5.0));
-        let targets = Targets {
-            vt_upper_v: 5.5,
-            vt_lower_v: -0.5,
-            impedance: ImpedanceChoice::AnchorOhm(1e5),
-        };
+        let targets = Targets { vt_upper_v: 5.5, vt_lower_v: -0.5, impedance: ImpedanceChoice::AnchorOhm(1e5) };
         let e = synthesise(&template, &targets).unwrap_err();
         assert!(matches!(e, DesignError::Infeasible { .. }), "{e}");
     }
@@ -568,11 +444,7 @@ mod tests {
     #[test]
     fn synthesis_rejects_reference_outside_rails() {
         let template = InvertingSchmitt::single_supply(1.0, 1.0, 1.0, rr(5.0));
-        let targets = Targets {
-            vt_upper_v: 5.2,
-            vt_lower_v: 4.5,
-            impedance: ImpedanceChoice::AnchorOhm(1e5),
-        };
+        let targets = Targets { vt_upper_v: 5.2, vt_lower_v: 4.5, impedance: ImpedanceChoice::AnchorOhm(1e5) };
         let e = synthesise(&template, &targets).unwrap_err();
         assert!(e.to_string().contains("non-inverting"), "{e}");
     }
@@ -580,28 +452,17 @@ mod tests {
     #[test]
     fn current_budget_is_met() {
         let template = InvertingSchmitt::single_supply(1.0, 1.0, 1.0, rr(5.0));
-        let targets = Targets {
-            vt_upper_v: 2.9,
-            vt_lower_v: 1.7,
-            impedance: ImpedanceChoice::CurrentBudgetA(50e-6),
-        };
+        let targets = Targets { vt_upper_v: 2.9, vt_lower_v: 1.7, impedance: ImpedanceChoice::CurrentBudgetA(50e-6) };
         let d = synthesise(&template, &targets).unwrap();
         let a = analyse(&d, &CheckSettings::default()).unwrap();
-        assert!(
-            (a.quiescent_current_a - 50e-6).abs() < 1e-9,
-            "{}",
-            a.quiescent_current_a
-        );
+        assert!((a.quiescent_current_a - 50e-6).abs() < 1e-9, "{}", a.quiescent_current_a);
         assert!((a.vt_upper_v - 2.9).abs() < 1e-9);
     }
 
     #[test]
     fn invalid_parts_are_typed_errors() {
         let mut c = InvertingSchmitt::single_supply(10e3, 10e3, 0.0, rr(5.0));
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.rf_ohm = f64::NAN;
         assert!(c.validate().is_err());
         c.rf_ohm = 1e3;
@@ -612,10 +473,7 @@ mod tests {
 
     #[test]
     fn parameters_round_trip() {
-        let c = InvertingSchmitt {
-            rail_b: Rail::Fixed(1.2),
-            ..InvertingSchmitt::single_supply(10e3, 22e3, 47e3, rr(5.0))
-        };
+        let c = InvertingSchmitt { rail_b: Rail::Fixed(1.2), ..InvertingSchmitt::single_supply(10e3, 22e3, 47e3, rr(5.0)) };
         let p: Vec<f64> = c.parameters().iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&p).unwrap(), c);
         assert!(c.with_parameters(&p[1..]).is_err());
@@ -626,37 +484,19 @@ mod tests {
 impl crate::netlist::Netlisted for InvertingSchmitt {
     /// Signal on (−); node `p` on (+) with Ra to rail A, Rb to rail B and Rf from the output.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use super::netlisting::{builder, input_centre_v};
         use crate::netlist::{SourceRole, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let d = &self.device;
         let mut b = builder("inverting", self);
         let vcc = b.supply(d.supply_v, "VCC");
         let vee = b.negative(d.negative_rail_v);
-        b.input(
-            input_centre_v(self, (d.negative_rail_v, d.supply_v)),
-            d.source_resistance_ohm,
-            "IN",
-        );
+        b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
         if let Some(r) = self.ra_ohm {
-            let n = b.rail(
-                self.rail_a,
-                d.supply_v,
-                d.negative_rail_v,
-                "VRA",
-                "rail_a",
-                SourceRole::Reference,
-            );
+            let n = b.rail(self.rail_a, d.supply_v, d.negative_rail_v, "VRA", "rail_a", SourceRole::Reference);
             b.part("ra_ohm", &n, "p", r);
         }
         if let Some(r) = self.rb_ohm {
-            let n = b.rail(
-                self.rail_b,
-                d.supply_v,
-                d.negative_rail_v,
-                "VRB",
-                "rail_b",
-                SourceRole::Reference,
-            );
+            let n = b.rail(self.rail_b, d.supply_v, d.negative_rail_v, "VRB", "rail_b", SourceRole::Reference);
             b.part("rb_ohm", "p", &n, r);
         }
         b.part("rf_ohm", OUTPUT_NET, "p", self.rf_ohm);

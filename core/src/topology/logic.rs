@@ -5,22 +5,11 @@ use crate::analysis::{Warning, WarningCode};
 
 /// Warns when a gate input node leaves the rails over the input span, with the clamp current the
 /// network lets through (Norton current of node X into a clamp at the rail: overshoot / Rth).
-pub(crate) fn clamp_warning(
-    x_low_v: f64,
-    x_high_v: f64,
-    vin_low_v: f64,
-    vin_high_v: f64,
-    supply_v: f64,
-    rth_ohm: f64,
-) -> Vec<Warning> {
+pub(crate) fn clamp_warning(x_low_v: f64, x_high_v: f64, vin_low_v: f64, vin_high_v: f64, supply_v: f64, rth_ohm: f64) -> Vec<Warning> {
     let mut w = Vec::new();
     let mut push = |x: f64, vin: f64, rail: f64, word: &str| {
         let over = (x - rail).abs();
-        let current = if rth_ohm > 0.0 {
-            format!("about {:.3} mA", over / rth_ohm * 1e3)
-        } else {
-            "a current limited only by the signal source".into()
-        };
+        let current = if rth_ohm > 0.0 { format!("about {:.3} mA", over / rth_ohm * 1e3) } else { "a current limited only by the signal source".into() };
         w.push(Warning::new(
             WarningCode::CommonModeRange,
             format!(
@@ -42,3 +31,4 @@ pub(crate) fn clamp_warning(
 pub(crate) fn logic_input_range(supply_v: f64) -> (f64, f64) {
     (-0.5, supply_v + 0.5)
 }
+

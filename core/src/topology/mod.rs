@@ -13,20 +13,20 @@ use crate::error::DesignError;
 use crate::notation::Unit;
 use serde::{Deserialize, Serialize};
 
-pub mod bjt_pair;
-pub mod cmos_buffer;
-pub mod comparator;
-pub mod input_rails;
 pub mod inverting;
-pub mod logic;
-pub mod netlisting;
 pub mod noninverting;
 pub mod open_drain;
-pub mod output_load;
 pub mod plain;
-pub mod reference;
-pub mod schmitt_gate;
 pub mod supply_monitor;
+pub mod cmos_buffer;
+pub mod schmitt_gate;
+pub mod bjt_pair;
+pub mod netlisting;
+pub mod comparator;
+pub mod reference;
+pub mod input_rails;
+pub mod output_load;
+pub mod logic;
 #[cfg(test)]
 mod toy;
 
@@ -114,26 +114,13 @@ impl Parameter {
             | ParameterKind::Offset
             | ParameterKind::DeviceThreshold => Unit::Volt,
         };
-        Parameter {
-            id: id.to_string(),
-            designator: None,
-            label: label.to_string(),
-            value,
-            kind,
-            unit,
-            limits: None,
-            drift: Drift::None,
-            held_in_search: false,
-        }
+        Parameter { id: id.to_string(), designator: None, label: label.to_string(), value, kind, unit, limits: None, drift: Drift::None, held_in_search: false }
     }
 
     /// A device property ([`ParameterKind::Device`]) with its unit stated (current gain: ratio,
     /// saturation current: ampere, temperature: kelvin, sink resistance: ohm...).
     pub fn device(id: &str, label: &str, value: f64, unit: Unit) -> Self {
-        Parameter {
-            unit,
-            ..Parameter::quantity(id, label, value, ParameterKind::Device)
-        }
+        Parameter { unit, ..Parameter::quantity(id, label, value, ParameterKind::Device) }
     }
 
     /// The same parameter with its temperature drift attached.
@@ -171,11 +158,7 @@ pub trait Circuit: Clone {
     fn sense(&self) -> Sense;
 
     /// Nodal solution of the network for an input voltage and an output state.
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError>;
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError>;
 
     /// The quantities that tolerance, sensitivity and search may vary, in a fixed order.
     fn parameters(&self) -> Vec<Parameter>;
@@ -185,11 +168,7 @@ pub trait Circuit: Clone {
 
     /// Part values that reach the targets, keeping this design's rails, device and form.
     /// The anchor resistor is `anchor_ohm` (see [`Circuit::anchor_description`]).
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        anchor_ohm: f64,
-    ) -> Result<Self, DesignError>;
+    fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError>;
 
     /// Which resistor the designer's impedance choice sets during synthesis, in plain words.
     fn anchor_description(&self) -> &'static str;
@@ -324,16 +303,12 @@ pub const INPUT_RANGE_MARGIN_V: f64 = 0.01;
 /// Runs the full forward analysis: thresholds, levels, stresses, ranges and every check.
 pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Analysis, DesignError> {
     settings.validate()?;
-    circuit
-        .validate()
-        .map_err(|e| named_on_screen(e, &circuit.parameters()))?;
+    circuit.validate().map_err(|e| named_on_screen(e, &circuit.parameters()))?;
     let t = circuit.thresholds()?;
     let (voh, vol) = circuit.output_levels()?;
     let neg = circuit.negative_rail_v();
     let vin_lo = settings.input_min_v.unwrap_or(neg.min(t.vt_lower_v));
-    let vin_hi = settings
-        .input_max_v
-        .unwrap_or(circuit.supply_v().max(t.vt_upper_v));
+    let vin_hi = settings.input_max_v.unwrap_or(circuit.supply_v().max(t.vt_upper_v));
     // The output state that can exist at each input: below VT− only the "input low" state, above
     // VT+ only the "input high" state, in between both.
     let (state_input_low, state_input_high) = match circuit.sense() {
@@ -378,11 +353,7 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
                     x.min_v = x.min_v.min(n.volts);
                     x.max_v = x.max_v.max(n.volts);
                 }
-                None => nodes.push(NodeRange {
-                    name: n.name.clone(),
-                    min_v: n.volts,
-                    max_v: n.volts,
-                }),
+                None => nodes.push(NodeRange { name: n.name.clone(), min_v: n.volts, max_v: n.volts }),
             }
         }
         // Small-signal input resistance: dV/dI by a central difference in the same state.
@@ -451,15 +422,8 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
                 WarningCode::Note,
                 format!("the design cannot be evaluated over the whole supply range: {e}"),
             ));
-            supply_corners(
-                circuit,
-                &CheckSettings {
-                    supply_min_v: None,
-                    supply_max_v: None,
-                    ..*settings
-                },
-            )
-            .unwrap_or_default()
+            supply_corners(circuit, &CheckSettings { supply_min_v: None, supply_max_v: None, ..*settings })
+                .unwrap_or_default()
         }
     };
     Ok(Analysis {
@@ -481,10 +445,7 @@ pub fn analyse<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Anal
 
 /// Thresholds at the supply's minimum, nominal and maximum (DOMAIN §6: a band set by an output tied
 /// to the rail scales with the rail).
-pub fn supply_corners<C: Circuit>(
-    circuit: &C,
-    settings: &CheckSettings,
-) -> Result<Vec<SupplyCorner>, DesignError> {
+pub fn supply_corners<C: Circuit>(circuit: &C, settings: &CheckSettings) -> Result<Vec<SupplyCorner>, DesignError> {
     let nominal = circuit.supply_v();
     let mut supplies = vec![];
     if let Some(v) = settings.supply_min_v {
@@ -500,11 +461,7 @@ pub fn supply_corners<C: Circuit>(
             let c = circuit.with_supply(s);
             c.validate()?;
             let t = c.thresholds()?;
-            Ok(SupplyCorner {
-                supply_v: s,
-                vt_upper_v: t.vt_upper_v,
-                vt_lower_v: t.vt_lower_v,
-            })
+            Ok(SupplyCorner { supply_v: s, vt_upper_v: t.vt_upper_v, vt_lower_v: t.vt_lower_v })
         })
         .collect()
 }
@@ -520,10 +477,7 @@ pub fn named_on_screen(error: DesignError, parameters: &[Parameter]) -> DesignEr
                 .find(|p| p.id == field)
                 .map(|p| p.designator.clone().unwrap_or_else(|| p.label.clone()))
                 .unwrap_or(field);
-            DesignError::InvalidValue {
-                field: name,
-                reason,
-            }
+            DesignError::InvalidValue { field: name, reason }
         }
         other => other,
     }
@@ -575,11 +529,7 @@ pub fn sensitivities<C: Circuit>(circuit: &C) -> Result<Vec<(Parameter, f64, f64
     let mut out = Vec::with_capacity(params.len());
     let mut values = base.clone();
     for (i, p) in params.into_iter().enumerate() {
-        let h = if base[i] != 0.0 {
-            base[i].abs() * 1e-6
-        } else {
-            1e-9
-        };
+        let h = if base[i] != 0.0 { base[i].abs() * 1e-6 } else { 1e-9 };
         values[i] = base[i] + h;
         let up = circuit.with_parameters(&values)?.thresholds()?;
         values[i] = base[i] - h;
@@ -618,11 +568,7 @@ pub struct TransferCurve {
 
 /// Builds the ideal-switching transfer curve from the thresholds and output levels between
 /// `vin_min_v` and `vin_max_v` (each branch is a step; vertical segments mark the switching).
-pub fn transfer_curve<C: Circuit>(
-    circuit: &C,
-    vin_min_v: f64,
-    vin_max_v: f64,
-) -> Result<TransferCurve, DesignError> {
+pub fn transfer_curve<C: Circuit>(circuit: &C, vin_min_v: f64, vin_max_v: f64) -> Result<TransferCurve, DesignError> {
     let t = circuit.thresholds()?;
     let (voh, vol) = circuit.output_levels()?;
     let (before, after) = match circuit.sense() {
@@ -633,18 +579,8 @@ pub fn transfer_curve<C: Circuit>(
     let hi = vin_max_v.max(t.vt_upper_v);
     let p = |vin_v, vout_v| CurvePoint { vin_v, vout_v };
     Ok(TransferCurve {
-        rising: vec![
-            p(lo, before),
-            p(t.vt_upper_v, before),
-            p(t.vt_upper_v, after),
-            p(hi, after),
-        ],
-        falling: vec![
-            p(hi, after),
-            p(t.vt_lower_v, after),
-            p(t.vt_lower_v, before),
-            p(lo, before),
-        ],
+        rising: vec![p(lo, before), p(t.vt_upper_v, before), p(t.vt_upper_v, after), p(hi, after)],
+        falling: vec![p(hi, after), p(t.vt_lower_v, after), p(t.vt_lower_v, before), p(lo, before)],
         vt_upper_v: t.vt_upper_v,
         vt_lower_v: t.vt_lower_v,
     })
@@ -783,18 +719,12 @@ pub fn expect_len(values: &[f64], n: usize) -> Result<(), DesignError> {
     if values.len() == n {
         Ok(())
     } else {
-        Err(DesignError::Parameter {
-            reason: format!("expected {n} parameter values, got {}", values.len()),
-        })
+        Err(DesignError::Parameter { reason: format!("expected {n} parameter values, got {}", values.len()) })
     }
 }
 
 /// Parallel combination of resistances, ohms; `None` entries (not fitted) are skipped.
 pub fn parallel(rs: &[Option<f64>]) -> f64 {
     let g: f64 = rs.iter().flatten().map(|r| 1.0 / r).sum();
-    if g > 0.0 {
-        1.0 / g
-    } else {
-        f64::INFINITY
-    }
+    if g > 0.0 { 1.0 / g } else { f64::INFINITY }
 }

@@ -17,12 +17,7 @@ pub fn part_designators<C: Circuit>(circuit: &C) -> Vec<PartDesignator> {
     circuit
         .parameters()
         .into_iter()
-        .filter_map(|p| {
-            p.designator.map(|designator| PartDesignator {
-                id: p.id,
-                designator,
-            })
-        })
+        .filter_map(|p| p.designator.map(|designator| PartDesignator { id: p.id, designator }))
         .collect()
 }
 
@@ -52,30 +47,15 @@ mod tests {
         for s in catalog::templates().into_iter().chain(catalog::demos()) {
             let c = s.record().circuit;
             let net = c.netlist();
-            let parts: Vec<_> = c
-                .parameters()
-                .into_iter()
-                .filter(|p| p.designator.is_some())
-                .collect();
+            let parts: Vec<_> = c.parameters().into_iter().filter(|p| p.designator.is_some()).collect();
             let listed: Vec<_> = net.part_list().collect();
             assert_eq!(listed.len(), parts.len(), "{}", s.key);
             for (p, r) in parts.iter().zip(&listed) {
-                assert_eq!(
-                    p.designator.as_deref(),
-                    Some(r.designator.as_str()),
-                    "{}",
-                    s.key
-                );
+                assert_eq!(p.designator.as_deref(), Some(r.designator.as_str()), "{}", s.key);
                 assert_eq!(p.value, r.resistance_ohm, "{}", s.key);
                 assert_ne!(r.node_a, r.node_b, "{}: {} shorted", s.key, r.designator);
             }
-            assert_eq!(
-                net.sources
-                    .iter()
-                    .filter(|s| s.role == SourceRole::Input)
-                    .count(),
-                1
-            );
+            assert_eq!(net.sources.iter().filter(|s| s.role == SourceRole::Input).count(), 1);
             assert!(!net.devices.is_empty());
         }
     }
@@ -85,12 +65,7 @@ mod tests {
         for s in catalog::templates() {
             let c = s.record().circuit;
             let t = c.thresholds().unwrap();
-            let vin = c
-                .netlist()
-                .sources
-                .into_iter()
-                .find(|s| s.role == SourceRole::Input)
-                .unwrap();
+            let vin = c.netlist().sources.into_iter().find(|s| s.role == SourceRole::Input).unwrap();
             assert_eq!(vin.volts, t.centre_v(), "{}", s.key);
         }
     }

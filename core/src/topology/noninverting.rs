@@ -9,17 +9,16 @@
 //! N = Vth,ref − IB−·Rref, the device switches when P − N = VOS ± h/2, which gives
 //! VT+ = (N + VOS + h/2)(1+m) − m·VOL + IB+·R1s and VT− = (N + VOS − h/2)(1+m) − m·VOH + IB+·R1s.
 
-use super::comparator::{
-    device_parameter_count, divider_current_check, divider_fraction, noninverting_switch_v,
-    push_device_parameters, resistance, take_device_parameters, verified, Designators,
-};
-use super::{expect_len, Circuit, Described, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds,
-    Warning,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning,
 };
 use crate::device::Comparator;
 use crate::error::DesignError;
+use super::comparator::{
+    device_parameter_count, divider_current_check, divider_fraction, noninverting_switch_v, push_device_parameters,
+    resistance, take_device_parameters, verified, Designators,
+};
 use serde::{Deserialize, Serialize};
 
 /// The reference network now lives with the other comparator helpers; this path stays for callers.
@@ -40,34 +39,13 @@ pub struct NonInvertingSchmitt {
 
 impl NonInvertingSchmitt {
     /// The usual single-supply form: R1, R2 and a reference divider from the supply to ground.
-    pub fn with_divider(
-        r1_ohm: f64,
-        r2_ohm: f64,
-        ra_ohm: f64,
-        rb_ohm: f64,
-        device: Comparator,
-    ) -> Self {
-        NonInvertingSchmitt {
-            r1_ohm,
-            r2_ohm,
-            reference: Reference::divider(ra_ohm, rb_ohm),
-            device,
-        }
+    pub fn with_divider(r1_ohm: f64, r2_ohm: f64, ra_ohm: f64, rb_ohm: f64, device: Comparator) -> Self {
+        NonInvertingSchmitt { r1_ohm, r2_ohm, reference: Reference::divider(ra_ohm, rb_ohm), device }
     }
 
     /// R1 and R2 with the inverting input tied to a fixed reference of `reference_v`.
-    pub fn with_fixed_reference(
-        r1_ohm: f64,
-        r2_ohm: f64,
-        reference_v: f64,
-        device: Comparator,
-    ) -> Self {
-        NonInvertingSchmitt {
-            r1_ohm,
-            r2_ohm,
-            reference: Reference::fixed(reference_v),
-            device,
-        }
+    pub fn with_fixed_reference(r1_ohm: f64, r2_ohm: f64, reference_v: f64, device: Comparator) -> Self {
+        NonInvertingSchmitt { r1_ohm, r2_ohm, reference: Reference::fixed(reference_v), device }
     }
 
     /// R1 + Rs: the input resistor plus the source resistance, ohms.
@@ -77,27 +55,18 @@ impl NonInvertingSchmitt {
 
     /// The inverting-input node N = Vth,ref − IB−·Rref.
     fn node_n(&self) -> f64 {
-        self.reference.node_v(
-            self.device.supply_v,
-            self.device.negative_rail_v,
-            self.device.bias_minus_applied_a(),
-        )
+        self.reference.node_v(self.device.supply_v, self.device.negative_rail_v, self.device.bias_minus_applied_a())
     }
 
     /// Output level in a state.
     fn vo(&self, high: bool) -> f64 {
-        if high {
-            self.device.output_high_v()
-        } else {
-            self.device.output_low_v()
-        }
+        if high { self.device.output_high_v() } else { self.device.output_low_v() }
     }
 
     /// Node P for input `vin_v` and output `vo_v`: P = (Vin/R1s + VO/R2 − IB+)·(R1s‖R2).
     fn node_p(&self, vin_v: f64, vo_v: f64) -> f64 {
         let r1s = self.r1s();
-        (vin_v / r1s + vo_v / self.r2_ohm - self.device.bias_plus_applied_a())
-            / (1.0 / r1s + 1.0 / self.r2_ohm)
+        (vin_v / r1s + vo_v / self.r2_ohm - self.device.bias_plus_applied_a()) / (1.0 / r1s + 1.0 / self.r2_ohm)
     }
 }
 
@@ -115,24 +84,9 @@ impl Circuit for NonInvertingSchmitt {
         let n = self.node_n();
         let (r1s, ibp) = (self.r1s(), self.device.bias_plus_applied_a());
         // Output low while the input is below VT+; output high while above VT−.
-        let up = noninverting_switch_v(
-            n + self.device.switching_offset_v(false),
-            self.vo(false),
-            r1s,
-            self.r2_ohm,
-            ibp,
-        );
-        let lo = noninverting_switch_v(
-            n + self.device.switching_offset_v(true),
-            self.vo(true),
-            r1s,
-            self.r2_ohm,
-            ibp,
-        );
-        Ok(Thresholds {
-            vt_upper_v: up,
-            vt_lower_v: lo,
-        })
+        let up = noninverting_switch_v(n + self.device.switching_offset_v(false), self.vo(false), r1s, self.r2_ohm, ibp);
+        let lo = noninverting_switch_v(n + self.device.switching_offset_v(true), self.vo(true), r1s, self.r2_ohm, ibp);
+        Ok(Thresholds { vt_upper_v: up, vt_lower_v: lo })
     }
 
     fn output_levels(&self) -> Result<(f64, f64), DesignError> {
@@ -143,11 +97,7 @@ impl Circuit for NonInvertingSchmitt {
         Sense::NonInverting
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let vo = self.vo(state == OutputState::High);
         let p = self.node_p(vin_v, vo);
         let n = self.node_n();
@@ -156,23 +106,10 @@ impl Circuit for NonInvertingSchmitt {
         let i_fb = (vo - p) / self.r2_ohm;
         let mut seq = Designators::default();
         let mut resistors = vec![
-            ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: self.r1_ohm,
-                volts: i_in * self.r1_ohm,
-            },
-            ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: self.r2_ohm,
-                volts: vo - p,
-            },
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.r1_ohm, volts: i_in * self.r1_ohm },
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.r2_ohm, volts: vo - p },
         ];
-        let (drops, i_ref) = self.reference.drops(
-            &mut seq,
-            self.device.supply_v,
-            self.device.negative_rail_v,
-            n,
-        );
+        let (drops, i_ref) = self.reference.drops(&mut seq, self.device.supply_v, self.device.negative_rail_v, n);
         resistors.extend(drops);
         Ok(OperatingPoint {
             resistors,
@@ -180,14 +117,8 @@ impl Circuit for NonInvertingSchmitt {
             // Current sourced by the rails: the reference divider and the output feeding R2.
             network_current_a: i_ref + i_fb.abs(),
             device_inputs: vec![
-                NodeVoltage {
-                    name: "non-inverting input (node P)".into(),
-                    volts: p,
-                },
-                NodeVoltage {
-                    name: "inverting input (reference)".into(),
-                    volts: n,
-                },
+                NodeVoltage { name: "non-inverting input (node P)".into(), volts: p },
+                NodeVoltage { name: "inverting input (reference)".into(), volts: n },
             ],
         })
     }
@@ -200,28 +131,15 @@ impl Circuit for NonInvertingSchmitt {
         ];
         self.reference.push_resistors(&mut seq, &mut v);
         let d = &self.device;
-        v.push(Parameter::quantity(
-            "supply_v",
-            "supply",
-            d.supply_v,
-            ParameterKind::Supply,
-        ));
-        v.push(Parameter::quantity(
-            "negative_rail_v",
-            "negative rail",
-            d.negative_rail_v,
-            ParameterKind::Supply,
-        ));
+        v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
         self.reference.push_rails(&mut v);
         push_device_parameters(d, self.reference.has_resistance(), &mut v);
         v
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
-        let n = 2
-            + 2
-            + self.reference.parameter_count()
-            + device_parameter_count(self.reference.has_resistance());
+        let n = 2 + 2 + self.reference.parameter_count() + device_parameter_count(self.reference.has_resistance());
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
@@ -240,31 +158,20 @@ impl Circuit for NonInvertingSchmitt {
     fn with_output_load(&self, load: &crate::topology::output_load::OutputLoad) -> Option<Self> {
         let (h, l, rs) = load.thevenin(self.device.output_high_v(), self.device.output_low_v());
         let device = crate::topology::output_load::comparator_with_levels(&self.device, h, l);
-        Some(NonInvertingSchmitt {
-            r2_ohm: self.r2_ohm + rs,
-            device,
-            ..self.clone()
-        })
+        Some(NonInvertingSchmitt { r2_ohm: self.r2_ohm + rs, device, ..self.clone() })
     }
 
     /// DOMAIN §1b synthesis, extended to invert offset, bias and built-in hysteresis exactly:
     /// m = (ΔV − h)/(VOH − VOL + h), R1 = m·R2 − Rs,
     /// N = (VT+ − IB+·R1s + m·VOL)/(1+m) − VOS − h/2, then the reference is set to N.
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        r2_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, r2_ohm: f64) -> Result<Self, DesignError> {
         self.device.validate()?;
         self.reference.validate()?;
         resistance("anchor_ohm", r2_ohm)?;
         let d = &self.device;
         let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(up.is_finite() && lo.is_finite()) {
-            return Err(DesignError::invalid(
-                "targets",
-                "VT+ and VT− must be finite numbers",
-            ));
+            return Err(DesignError::invalid("targets", "VT+ and VT− must be finite numbers"));
         }
         if up <= lo {
             return Err(DesignError::infeasible(
@@ -302,23 +209,9 @@ impl Circuit for NonInvertingSchmitt {
                 "move the targets' centre, or use a device whose inputs reach that voltage",
             ));
         }
-        let reference = self.reference.synthesise_for(
-            n,
-            d.bias_minus_applied_a(),
-            d.supply_v,
-            d.negative_rail_v,
-            "inverting input (reference)",
-        )?;
-        verified(
-            NonInvertingSchmitt {
-                r1_ohm: r1,
-                r2_ohm,
-                reference,
-                device: self.device,
-            },
-            targets,
-            r2_ohm,
-        )
+        let reference =
+            self.reference.synthesise_for(n, d.bias_minus_applied_a(), d.supply_v, d.negative_rail_v, "inverting input (reference)")?;
+        verified(NonInvertingSchmitt { r1_ohm: r1, r2_ohm, reference, device: self.device }, targets, r2_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {
@@ -331,34 +224,19 @@ impl Circuit for NonInvertingSchmitt {
         let m = self.r1s() / self.r2_ohm;
         let (vref, rref) = self.reference.thevenin(d.supply_v, d.negative_rail_v);
         // Bias error: IB+·R1s plus IB−·Rref scaled by (1+m) (DOMAIN §1b).
-        let bias_err = d.bias_plus_applied_a().abs() * self.r1s()
-            + d.bias_minus_applied_a().abs() * rref * (1.0 + m);
+        let bias_err = d.bias_plus_applied_a().abs() * self.r1s() + d.bias_minus_applied_a().abs() * rref * (1.0 + m);
         // Resistor-tolerance error of VT+ (DOMAIN §2, sensitivities b): |∂VT/∂R1|·R1 = |∂VT/∂R2|·R2 = m|Vref − VOL|,
         // through the divider (1+m)·|VA − VB|·Ra·Rb/(Ra+Rb)² for each of Ra and Rb.
         let mut tol_err = 2.0 * m * (vref - d.output_low_v()).abs();
-        if let Reference::Divider {
-            ra_ohm,
-            rail_a,
-            rb_ohm,
-            rail_b,
-        } = self.reference
-        {
-            let span = (rail_a.volts(d.supply_v, d.negative_rail_v)
-                - rail_b.volts(d.supply_v, d.negative_rail_v))
-            .abs();
+        if let Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } = self.reference {
+            let span = (rail_a.volts(d.supply_v, d.negative_rail_v) - rail_b.volts(d.supply_v, d.negative_rail_v)).abs();
             let x = divider_fraction(ra_ohm, rb_ohm);
             tol_err += 2.0 * (1.0 + m) * span * x * (1.0 - x);
         }
         tol_err *= settings.resistor_tolerance;
         let terms = " (IB+ × (R1+Rs) and IB− × reference resistance × (1+R1/R2))";
         super::comparator::bias_error_warning(bias_err, tol_err, settings, terms, &mut w);
-        divider_current_check(
-            &self.reference,
-            d,
-            settings,
-            d.bias_minus_applied_a(),
-            &mut w,
-        );
+        divider_current_check(&self.reference, d, settings, d.bias_minus_applied_a(), &mut w);
         w
     }
 }
@@ -429,48 +307,25 @@ mod tests {
     #[test]
     fn synthesis_round_trip_with_nonidealities_keeps_divider_total() {
         let template = NonInvertingSchmitt::with_divider(1.0, 1.0, 60e3, 40e3, real_device());
-        let targets = Targets {
-            vt_upper_v: 2.9,
-            vt_lower_v: 1.7,
-            impedance: ImpedanceChoice::AnchorOhm(220e3),
-        };
+        let targets = Targets { vt_upper_v: 2.9, vt_lower_v: 1.7, impedance: ImpedanceChoice::AnchorOhm(220e3) };
         let d = synthesise(&template, &targets).unwrap();
         let t = d.thresholds().unwrap();
         assert!((t.vt_upper_v - 2.9).abs() < 1e-9 * 2.9);
         assert!((t.vt_lower_v - 1.7).abs() < 1e-9 * 1.7);
         assert_eq!(d.r2_ohm, 220e3);
         match d.reference {
-            Reference::Divider { ra_ohm, rb_ohm, .. } => {
-                assert!((ra_ohm + rb_ohm - 100e3).abs() < 1e-6)
-            }
+            Reference::Divider { ra_ohm, rb_ohm, .. } => assert!((ra_ohm + rb_ohm - 100e3).abs() < 1e-6),
             _ => panic!("reference kind changed"),
         }
     }
 
     #[test]
     fn direct_reference_needs_the_right_voltage() {
-        let template =
-            NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
+        let template = NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
         // Centred on 2.5 V with rail outputs: Vref = 2.5 V works (DOMAIN §1b synthesis).
-        let ok = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 2.75,
-                    vt_lower_v: 2.25,
-                },
-                100e3,
-            )
-            .unwrap();
+        let ok = template.synthesise_with_anchor(Thresholds { vt_upper_v: 2.75, vt_lower_v: 2.25 }, 100e3).unwrap();
         assert!((ok.r1_ohm - 10e3).abs() < 1e-6);
-        let e = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 3.0,
-                    vt_lower_v: 2.8,
-                },
-                100e3,
-            )
-            .unwrap_err();
+        let e = template.synthesise_with_anchor(Thresholds { vt_upper_v: 3.0, vt_lower_v: 2.8 }, 100e3).unwrap_err();
         match e {
             DesignError::Infeasible { reason, suggestion } => {
                 assert!(reason.contains("tied directly"));
@@ -483,17 +338,7 @@ mod tests {
     #[test]
     fn infeasible_targets_are_typed() {
         let template = NonInvertingSchmitt::with_divider(1.0, 1.0, 50e3, 50e3, real_device());
-        let e = |up: f64, lo: f64| {
-            template
-                .synthesise_with_anchor(
-                    Thresholds {
-                        vt_upper_v: up,
-                        vt_lower_v: lo,
-                    },
-                    1e5,
-                )
-                .unwrap_err()
-        };
+        let e = |up: f64, lo: f64| template.synthesise_with_anchor(Thresholds { vt_upper_v: up, vt_lower_v: lo }, 1e5).unwrap_err();
         assert!(matches!(e(1.0, 2.0), DesignError::Infeasible { .. }));
         // Narrower than the built-in hysteresis.
         assert!(matches!(e(2.502, 2.5), DesignError::Infeasible { .. }));
@@ -503,15 +348,7 @@ mod tests {
         let mut d = real_device();
         d.source_resistance_ohm = 1e6;
         let t2 = NonInvertingSchmitt::with_divider(1.0, 1.0, 50e3, 50e3, d);
-        let e2 = t2
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 2.6,
-                    vt_lower_v: 2.4,
-                },
-                1e5,
-            )
-            .unwrap_err();
+        let e2 = t2.synthesise_with_anchor(Thresholds { vt_upper_v: 2.6, vt_lower_v: 2.4 }, 1e5).unwrap_err();
         assert!(e2.to_string().contains("source resistance"), "{e2}");
     }
 
@@ -527,38 +364,19 @@ mod tests {
 
     #[test]
     fn invalid_parts_are_typed_errors() {
-        let mut c =
-            NonInvertingSchmitt::with_divider(10e3, 0.0, 10e3, 10e3, Comparator::ideal(5.0));
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        let mut c = NonInvertingSchmitt::with_divider(10e3, 0.0, 10e3, 10e3, Comparator::ideal(5.0));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.r2_ohm = 1e3;
-        c.reference = Reference::Divider {
-            ra_ohm: f64::NAN,
-            rail_a: Rail::Supply,
-            rb_ohm: 1e3,
-            rail_b: Rail::Ground,
-        };
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
-        c.reference = Reference::Direct {
-            rail: Rail::Fixed(f64::INFINITY),
-        };
+        c.reference = Reference::Divider { ra_ohm: f64::NAN, rail_a: Rail::Supply, rb_ohm: 1e3, rail_b: Rail::Ground };
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        c.reference = Reference::Direct { rail: Rail::Fixed(f64::INFINITY) };
         assert!(c.validate().is_err());
     }
 
     #[test]
     fn parameters_round_trip() {
         let c = NonInvertingSchmitt {
-            reference: Reference::Divider {
-                ra_ohm: 30e3,
-                rail_a: Rail::Fixed(3.3),
-                rb_ohm: 20e3,
-                rail_b: Rail::Ground,
-            },
+            reference: Reference::Divider { ra_ohm: 30e3, rail_a: Rail::Fixed(3.3), rb_ohm: 20e3, rail_b: Rail::Ground },
             ..NonInvertingSchmitt::with_divider(10e3, 100e3, 1.0, 1.0, real_device())
         };
         let p = c.parameters();
@@ -575,20 +393,10 @@ mod tests {
     #[test]
     fn out_of_range_parts_are_refused() {
         let c = NonInvertingSchmitt::with_fixed_reference(1e16, 1e5, 2.5, Comparator::ideal(5.0));
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
-        let template =
-            NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
-        let t = Thresholds {
-            vt_upper_v: 2.75,
-            vt_lower_v: 2.25,
-        };
-        assert!(matches!(
-            template.synthesise_with_anchor(t, 1e300),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        let template = NonInvertingSchmitt::with_fixed_reference(1.0, 1.0, 2.5, Comparator::ideal(5.0));
+        let t = Thresholds { vt_upper_v: 2.75, vt_lower_v: 2.25 };
+        assert!(matches!(template.synthesise_with_anchor(t, 1e300), Err(DesignError::InvalidValue { .. })));
         // A valid anchor of 1 µΩ needs R1 = 0.1 µΩ, below the smallest resistance: refused by the final check.
         let e = template.synthesise_with_anchor(t, 1e-6).unwrap_err();
         assert!(matches!(e, DesignError::Infeasible { .. }), "{e}");
@@ -598,16 +406,10 @@ mod tests {
     fn json_shape() {
         let c = NonInvertingSchmitt::with_fixed_reference(10e3, 100e3, 2.5, Comparator::ideal(5.0));
         let v = serde_json::to_value(&c).unwrap();
-        assert_eq!(
-            v["reference"],
-            serde_json::json!({"kind": "direct", "rail": {"fixed": 2.5}})
-        );
+        assert_eq!(v["reference"], serde_json::json!({"kind": "direct", "rail": {"fixed": 2.5}}));
         let back: NonInvertingSchmitt = serde_json::from_value(v).unwrap();
         assert_eq!(back, c);
-        let d: Reference = serde_json::from_str(
-            r#"{"kind":"divider","ra_ohm":1e4,"rail_a":"supply","rb_ohm":2e4,"rail_b":"ground"}"#,
-        )
-        .unwrap();
+        let d: Reference = serde_json::from_str(r#"{"kind":"divider","ra_ohm":1e4,"rail_a":"supply","rb_ohm":2e4,"rail_b":"ground"}"#).unwrap();
         assert_eq!(d, Reference::divider(1e4, 2e4));
     }
 }
@@ -616,17 +418,13 @@ mod tests {
 impl crate::netlist::Netlisted for NonInvertingSchmitt {
     /// Signal through R1 to node `p` on (+), R2 from the output to `p`, the reference on (−).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use super::netlisting::{builder, input_centre_v};
         use crate::netlist::{INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let d = &self.device;
         let mut b = builder("non_inverting", self);
         let vcc = b.supply(d.supply_v, "VCC");
         let vee = b.negative(d.negative_rail_v);
-        b.input(
-            input_centre_v(self, (d.negative_rail_v, d.supply_v)),
-            d.source_resistance_ohm,
-            "IN",
-        );
+        b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
         b.part("r1_ohm", INPUT_NET, "p", self.r1_ohm);
         b.part("r2_ohm", OUTPUT_NET, "p", self.r2_ohm);
         let n = reference_network(&mut b, &self.reference, d, "n");
@@ -654,12 +452,7 @@ pub fn reference_network(
     let (vs, vn) = (device.supply_v, device.negative_rail_v);
     match *reference {
         Reference::Direct { rail } => b.rail(rail, vs, vn, "VREF", "ref", SourceRole::Reference),
-        Reference::Divider {
-            ra_ohm,
-            rail_a,
-            rb_ohm,
-            rail_b,
-        } => {
+        Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
             let a = b.rail(rail_a, vs, vn, "VRA", "rail_a", SourceRole::Reference);
             let c = b.rail(rail_b, vs, vn, "VRB", "rail_b", SourceRole::Reference);
             b.part("ra_ohm", &a, node, ra_ohm);

@@ -19,13 +19,14 @@
 //! currents and built-in hysteresis enter as in the push-pull forms.
 
 use super::comparator::{
-    bias_error_check_with, divider_current_check, divider_fraction, noninverting_switch_v, par2,
-    pick_root, quadratic_roots, resistance, verified, Designators, Reference,
+    bias_error_check_with, divider_current_check,
+    divider_fraction, noninverting_switch_v, par2, pick_root, quadratic_roots, resistance, verified, Designators,
+    Reference,
 };
-use super::{expect_len, parallel, Circuit, Described, Parameter, ParameterKind};
+use super::{Described, expect_len, parallel, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop,
-    Sense, Thresholds, Warning, WarningCode,
+    Analysis, OutputStage,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use crate::error::{non_negative, DesignError};
@@ -85,13 +86,7 @@ type Source = (f64, f64);
 
 impl OpenDrainSchmitt {
     /// Inverting form on a single supply: Ra to the supply, Rb to ground, Rf, pull-up Rpu to the supply.
-    pub fn inverting(
-        ra_ohm: f64,
-        rb_ohm: f64,
-        rf_ohm: f64,
-        rpu_ohm: f64,
-        device: Comparator,
-    ) -> Self {
+    pub fn inverting(ra_ohm: f64, rb_ohm: f64, rf_ohm: f64, rpu_ohm: f64, device: Comparator) -> Self {
         OpenDrainSchmitt {
             polarity: OpenDrainPolarity::Inverting {
                 ra_ohm: Some(ra_ohm),
@@ -109,19 +104,9 @@ impl OpenDrainSchmitt {
     }
 
     /// Non-inverting form: R1, R2, a reference on (−), pull-up Rpu to the supply.
-    pub fn non_inverting(
-        r1_ohm: f64,
-        r2_ohm: f64,
-        reference: Reference,
-        rpu_ohm: f64,
-        device: Comparator,
-    ) -> Self {
+    pub fn non_inverting(r1_ohm: f64, r2_ohm: f64, reference: Reference, rpu_ohm: f64, device: Comparator) -> Self {
         OpenDrainSchmitt {
-            polarity: OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            },
+            polarity: OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference },
             rpu_ohm,
             pullup_rail: Rail::Supply,
             rl_ohm: None,
@@ -142,10 +127,7 @@ impl OpenDrainSchmitt {
     /// Pull-up with the load folded in: (Vpu·RL/(Rpu+RL), Rpu‖RL) (DOMAIN §1c).
     fn pullup_source(&self) -> Source {
         match self.rl_ohm {
-            Some(rl) => (
-                self.vpu() * divider_fraction(self.rpu_ohm, rl),
-                par2(self.rpu_ohm, rl),
-            ),
+            Some(rl) => (self.vpu() * divider_fraction(self.rpu_ohm, rl), par2(self.rpu_ohm, rl)),
             None => (self.vpu(), self.rpu_ohm),
         }
     }
@@ -179,20 +161,12 @@ impl OpenDrainSchmitt {
 
     /// Input-referred error of the inverting form that does not depend on the network: −VOS(state) + IB−·Rs.
     fn input_error(&self, high: bool) -> f64 {
-        -self.device.switching_offset_v(high)
-            + self.device.bias_minus_applied_a() * self.device.source_resistance_ohm
+        -self.device.switching_offset_v(high) + self.device.bias_minus_applied_a() * self.device.source_resistance_ohm
     }
 
     /// Node P of the inverting form for an output source: P = Rp·(VA/Ra + VB/Rb + Vx/(Rf+Rx) − IB+).
     fn inverting_node_p(&self, src: Source) -> f64 {
-        let OpenDrainPolarity::Inverting {
-            ra_ohm,
-            rail_a,
-            rb_ohm,
-            rail_b,
-            rf_ohm,
-        } = self.polarity
-        else {
+        let OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } = self.polarity else {
             return f64::NAN;
         };
         let s = rf_ohm + src.1;
@@ -209,11 +183,7 @@ impl OpenDrainSchmitt {
 
     /// The reference node N of the non-inverting form.
     fn node_n(&self, reference: &Reference) -> f64 {
-        reference.node_v(
-            self.device.supply_v,
-            self.device.negative_rail_v,
-            self.device.bias_minus_applied_a(),
-        )
+        reference.node_v(self.device.supply_v, self.device.negative_rail_v, self.device.bias_minus_applied_a())
     }
 
     /// Thresholds for given output sources in the high and low states.
@@ -224,29 +194,13 @@ impl OpenDrainSchmitt {
                 vt_upper_v: self.inverting_node_p(high) + self.input_error(true),
                 vt_lower_v: self.inverting_node_p(low) + self.input_error(false),
             },
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
                 let n = self.node_n(&reference);
                 let r1s = r1_ohm + d.source_resistance_ohm;
                 let ibp = d.bias_plus_applied_a();
                 Thresholds {
-                    vt_upper_v: noninverting_switch_v(
-                        n + d.switching_offset_v(false),
-                        low.0,
-                        r1s,
-                        r2_ohm + low.1,
-                        ibp,
-                    ),
-                    vt_lower_v: noninverting_switch_v(
-                        n + d.switching_offset_v(true),
-                        high.0,
-                        r1s,
-                        r2_ohm + high.1,
-                        ibp,
-                    ),
+                    vt_upper_v: noninverting_switch_v(n + d.switching_offset_v(false), low.0, r1s, r2_ohm + low.1, ibp),
+                    vt_lower_v: noninverting_switch_v(n + d.switching_offset_v(true), high.0, r1s, r2_ohm + high.1, ibp),
                 }
             }
         }
@@ -259,8 +213,7 @@ impl OpenDrainSchmitt {
             OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, .. } => {
                 let r1s = r1_ohm + self.device.source_resistance_ohm;
                 let s = r2_ohm + src.1;
-                (vin_v / r1s + src.0 / s - self.device.bias_plus_applied_a())
-                    / (1.0 / r1s + 1.0 / s)
+                (vin_v / r1s + src.0 / s - self.device.bias_plus_applied_a()) / (1.0 / r1s + 1.0 / s)
             }
         }
     }
@@ -289,13 +242,7 @@ impl OpenDrainSchmitt {
 
     fn polarity_parameter_count(&self) -> usize {
         match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                ..
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, .. } => {
                 ra_ohm.is_some() as usize
                     + rb_ohm.is_some() as usize
                     + 1
@@ -313,13 +260,7 @@ impl Circuit for OpenDrainSchmitt {
     fn validate(&self) -> Result<(), DesignError> {
         self.device.validate()?;
         match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                rf_ohm,
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
                 if let Some(r) = ra_ohm {
                     resistance("polarity.ra_ohm", r)?;
                 }
@@ -335,11 +276,7 @@ impl Circuit for OpenDrainSchmitt {
                     ));
                 }
             }
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
                 resistance("polarity.r1_ohm", r1_ohm)?;
                 resistance("polarity.r2_ohm", r2_ohm)?;
                 reference.validate()?;
@@ -373,10 +310,7 @@ impl Circuit for OpenDrainSchmitt {
     fn output_levels(&self) -> Result<(f64, f64), DesignError> {
         let hi = self.output_source(true);
         let lo = self.output_source(false);
-        Ok((
-            self.output_node(self.switching_p(true), hi),
-            self.output_node(self.switching_p(false), lo),
-        ))
+        Ok((self.output_node(self.switching_p(true), hi), self.output_node(self.switching_p(false), lo)))
     }
 
     fn sense(&self) -> Sense {
@@ -386,11 +320,7 @@ impl Circuit for OpenDrainSchmitt {
         }
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let src = self.output_source(state == OutputState::High);
         let p = self.node_p(vin_v, src);
         let o = self.output_node(p, src);
@@ -401,101 +331,46 @@ impl Circuit for OpenDrainSchmitt {
         let input_current_a;
         let device_inputs;
         match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                rf_ohm,
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
                 if let Some(r) = ra_ohm {
                     let va = self.rail(rail_a);
-                    resistors.push(ResistorDrop {
-                        designator: seq.next_name(),
-                        resistance_ohm: r,
-                        volts: va - p,
-                    });
+                    resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: r, volts: va - p });
                     sourced += ((va - p) / r).max(0.0);
                 }
                 if let Some(r) = rb_ohm {
                     let vb = self.rail(rail_b);
-                    resistors.push(ResistorDrop {
-                        designator: seq.next_name(),
-                        resistance_ohm: r,
-                        volts: p - vb,
-                    });
+                    resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: r, volts: p - vb });
                     sourced += ((vb - p) / r).max(0.0);
                 }
-                resistors.push(ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: rf_ohm,
-                    volts: o - p,
-                });
+                resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: rf_ohm, volts: o - p });
                 input_current_a = d.bias_minus_applied_a();
                 device_inputs = vec![
-                    NodeVoltage {
-                        name: "inverting input (signal)".into(),
-                        volts: vin_v - input_current_a * d.source_resistance_ohm,
-                    },
-                    NodeVoltage {
-                        name: "non-inverting input (node P)".into(),
-                        volts: p,
-                    },
+                    NodeVoltage { name: "inverting input (signal)".into(), volts: vin_v - input_current_a * d.source_resistance_ohm },
+                    NodeVoltage { name: "non-inverting input (node P)".into(), volts: p },
                 ];
             }
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
                 let i_in = (vin_v - p) / (r1_ohm + d.source_resistance_ohm);
-                resistors.push(ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: r1_ohm,
-                    volts: i_in * r1_ohm,
-                });
-                resistors.push(ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: r2_ohm,
-                    volts: o - p,
-                });
+                resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: r1_ohm, volts: i_in * r1_ohm });
+                resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: r2_ohm, volts: o - p });
                 let n = self.node_n(&reference);
                 let (drops, i_ref) = reference.drops(&mut seq, d.supply_v, d.negative_rail_v, n);
                 resistors.extend(drops);
                 sourced += i_ref;
                 input_current_a = i_in;
                 device_inputs = vec![
-                    NodeVoltage {
-                        name: "non-inverting input (node P)".into(),
-                        volts: p,
-                    },
-                    NodeVoltage {
-                        name: "inverting input (reference)".into(),
-                        volts: n,
-                    },
+                    NodeVoltage { name: "non-inverting input (node P)".into(), volts: p },
+                    NodeVoltage { name: "inverting input (reference)".into(), volts: n },
                 ];
             }
         }
         let vpu = self.vpu();
-        resistors.push(ResistorDrop {
-            designator: seq.next_name(),
-            resistance_ohm: self.rpu_ohm,
-            volts: vpu - o,
-        });
+        resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: self.rpu_ohm, volts: vpu - o });
         sourced += ((vpu - o) / self.rpu_ohm).max(0.0);
         if let Some(rl) = self.rl_ohm {
-            resistors.push(ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: rl,
-                volts: o,
-            });
+            resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: rl, volts: o });
         }
-        Ok(OperatingPoint {
-            resistors,
-            input_current_a,
-            network_current_a: sourced,
-            device_inputs,
-        })
+        Ok(OperatingPoint { resistors, input_current_a, network_current_a: sourced, device_inputs })
     }
 
     fn parameters(&self) -> Vec<Parameter> {
@@ -503,135 +378,45 @@ impl Circuit for OpenDrainSchmitt {
         let mut v = Vec::new();
         let mut rails = Vec::new();
         match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                rf_ohm,
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
                 if let Some(r) = ra_ohm {
-                    v.push(Parameter::resistor(
-                        "ra_ohm",
-                        &seq.next_name(),
-                        "divider resistor to rail A",
-                        r,
-                    ));
+                    v.push(Parameter::resistor("ra_ohm", &seq.next_name(), "divider resistor to rail A", r));
                 }
                 if let Some(r) = rb_ohm {
-                    v.push(Parameter::resistor(
-                        "rb_ohm",
-                        &seq.next_name(),
-                        "divider resistor to rail B",
-                        r,
-                    ));
+                    v.push(Parameter::resistor("rb_ohm", &seq.next_name(), "divider resistor to rail B", r));
                 }
-                v.push(Parameter::resistor(
-                    "rf_ohm",
-                    &seq.next_name(),
-                    "feedback resistor",
-                    rf_ohm,
-                ));
+                v.push(Parameter::resistor("rf_ohm", &seq.next_name(), "feedback resistor", rf_ohm));
                 if let Rail::Fixed(x) = rail_a {
-                    rails.push(Parameter::quantity(
-                        "rail_a",
-                        "rail A reference",
-                        x,
-                        ParameterKind::Reference,
-                    ));
+                    rails.push(Parameter::quantity("rail_a", "rail A reference", x, ParameterKind::Reference));
                 }
                 if let Rail::Fixed(x) = rail_b {
-                    rails.push(Parameter::quantity(
-                        "rail_b",
-                        "rail B reference",
-                        x,
-                        ParameterKind::Reference,
-                    ));
+                    rails.push(Parameter::quantity("rail_b", "rail B reference", x, ParameterKind::Reference));
                 }
             }
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
-                v.push(Parameter::resistor(
-                    "r1_ohm",
-                    &seq.next_name(),
-                    "input resistor",
-                    r1_ohm,
-                ));
-                v.push(Parameter::resistor(
-                    "r2_ohm",
-                    &seq.next_name(),
-                    "feedback resistor",
-                    r2_ohm,
-                ));
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
+                v.push(Parameter::resistor("r1_ohm", &seq.next_name(), "input resistor", r1_ohm));
+                v.push(Parameter::resistor("r2_ohm", &seq.next_name(), "feedback resistor", r2_ohm));
                 reference.push_resistors(&mut seq, &mut v);
                 reference.push_rails(&mut rails);
             }
         }
-        v.push(Parameter::resistor(
-            "rpu_ohm",
-            &seq.next_name(),
-            "pull-up resistor",
-            self.rpu_ohm,
-        ));
+        v.push(Parameter::resistor("rpu_ohm", &seq.next_name(), "pull-up resistor", self.rpu_ohm));
         if let Some(rl) = self.rl_ohm {
-            v.push(Parameter::resistor(
-                "rl_ohm",
-                &seq.next_name(),
-                "load resistor",
-                rl,
-            ));
+            v.push(Parameter::resistor("rl_ohm", &seq.next_name(), "load resistor", rl));
         }
         let d = &self.device;
-        v.push(Parameter::quantity(
-            "supply_v",
-            "supply",
-            d.supply_v,
-            ParameterKind::Supply,
-        ));
-        v.push(Parameter::quantity(
-            "negative_rail_v",
-            "negative rail",
-            d.negative_rail_v,
-            ParameterKind::Supply,
-        ));
+        v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
         if let Rail::Fixed(x) = self.pullup_rail {
-            v.push(Parameter::quantity(
-                "pullup_v",
-                "pull-up rail",
-                x,
-                ParameterKind::Supply,
-            ));
+            v.push(Parameter::quantity("pullup_v", "pull-up rail", x, ParameterKind::Supply));
         }
         v.extend(rails);
-        v.push(Parameter::quantity(
-            "output_low_rise_v",
-            "VOL − VEE",
-            d.output_low_rise_v,
-            ParameterKind::OutputLevel,
-        ));
-        v.push(Parameter::device(
-            "sink_resistance_ohm",
-            "output sink resistance",
-            self.sink_resistance_ohm,
-            Unit::Ohm,
-        ));
+        v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
+        v.push(Parameter::device("sink_resistance_ohm", "output sink resistance", self.sink_resistance_ohm, Unit::Ohm));
         v.push(super::comparator::offset_parameter(d));
-        v.push(super::comparator::bias_parameter(
-            "bias_plus_a",
-            "bias current IB+",
-            d.bias_plus_a,
-            d,
-        ));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
         if self.has_bias_minus() {
-            v.push(super::comparator::bias_parameter(
-                "bias_minus_a",
-                "bias current IB−",
-                d.bias_minus_a,
-                d,
-            ));
+            v.push(super::comparator::bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
         }
         v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
@@ -651,12 +436,7 @@ impl Circuit for OpenDrainSchmitt {
         let mut c = self.clone();
         // Resistors, in the order of `parameters`.
         match &mut c.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rb_ohm,
-                rf_ohm,
-                ..
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rb_ohm, rf_ohm, .. } => {
                 if ra_ohm.is_some() {
                     *ra_ohm = Some(next());
                 }
@@ -665,11 +445,7 @@ impl Circuit for OpenDrainSchmitt {
                 }
                 *rf_ohm = next();
             }
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
                 *r1_ohm = next();
                 *r2_ohm = next();
                 reference.take_resistors(&mut next);
@@ -713,11 +489,7 @@ impl Circuit for OpenDrainSchmitt {
             (Some(a), Some(b)) => Some(a * b / (a + b)),
             (a, b) => a.or(b),
         };
-        Some(OpenDrainSchmitt {
-            sink_resistance_ohm: self.sink_resistance_ohm + load.output_resistance_ohm,
-            rl_ohm,
-            ..self.clone()
-        })
+        Some(OpenDrainSchmitt { sink_resistance_ohm: self.sink_resistance_ohm + load.output_resistance_ohm, rl_ohm, ..self.clone() })
     }
 
     /// DOMAIN §1c synthesis with the pull-up, load and sink resistance kept from the template and
@@ -727,17 +499,10 @@ impl Circuit for OpenDrainSchmitt {
     /// Non-inverting (choose R2): R1s is the positive root of a·u² + b·u + c = 0 with
     /// a = Vx+ − Vx− + h − IB+(S+ − S−), b = S−(Vx+ + h − VT+) + S+(VT− + h − Vx−), c = −S+·S−(ΔV − h),
     /// which reduces to DOMAIN's quadratic without offsets; then N = [(VT+ − IB+·u)S− + Vx−·u]/(S− + u) − VOS − h/2.
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        anchor_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
         let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(up.is_finite() && lo.is_finite()) {
-            return Err(DesignError::invalid(
-                "targets",
-                "VT+ and VT− must be finite numbers",
-            ));
+            return Err(DesignError::invalid("targets", "VT+ and VT− must be finite numbers"));
         }
         resistance("anchor_ohm", anchor_ohm)?;
         // Validate the template's rails, pull-up and device with its own resistors.
@@ -753,13 +518,7 @@ impl Circuit for OpenDrainSchmitt {
         let (vl, rxl) = self.output_source(false);
         let mut out = self.clone();
         match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                ..
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, .. } => {
                 let rf = anchor_ohm;
                 let ph = up - self.input_error(true);
                 let pl = lo - self.input_error(false);
@@ -802,10 +561,7 @@ impl Circuit for OpenDrainSchmitt {
                         } else if (va - vth).abs() <= tol {
                             (Some(rth), None)
                         } else {
-                            (
-                                Some(rth * (va - vb) / (vth - vb)),
-                                Some(rth * (va - vb) / (va - vth)),
-                            )
+                            (Some(rth * (va - vb) / (vth - vb)), Some(rth * (va - vb) / (va - vth)))
                         }
                     }
                     (a, _) => {
@@ -816,20 +572,10 @@ impl Circuit for OpenDrainSchmitt {
                                 "fit both divider resistors (three-resistor form) or return the resistor to a reference of that voltage",
                             ));
                         }
-                        if a {
-                            (Some(rth), None)
-                        } else {
-                            (None, Some(rth))
-                        }
+                        if a { (Some(rth), None) } else { (None, Some(rth)) }
                     }
                 };
-                out.polarity = OpenDrainPolarity::Inverting {
-                    ra_ohm: new_ra,
-                    rail_a,
-                    rb_ohm: new_rb,
-                    rail_b,
-                    rf_ohm: rf,
-                };
+                out.polarity = OpenDrainPolarity::Inverting { ra_ohm: new_ra, rail_a, rb_ohm: new_rb, rail_b, rf_ohm: rf };
             }
             OpenDrainPolarity::NonInverting { reference, .. } => {
                 let r2 = anchor_ohm;
@@ -882,11 +628,7 @@ impl Circuit for OpenDrainSchmitt {
                     d.negative_rail_v,
                     "inverting input (reference)",
                 )?;
-                out.polarity = OpenDrainPolarity::NonInverting {
-                    r1_ohm: r1,
-                    r2_ohm: r2,
-                    reference,
-                };
+                out.polarity = OpenDrainPolarity::NonInverting { r1_ohm: r1, r2_ohm: r2, reference };
             }
         }
         verified(out, targets, anchor_ohm)
@@ -930,35 +672,12 @@ impl Circuit for OpenDrainSchmitt {
         }
         bias_error_check(self, settings, &mut w);
         match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm: Some(ra),
-                rail_a,
-                rb_ohm: Some(rb),
-                rail_b,
-                ..
-            } => {
-                let div = Reference::Divider {
-                    ra_ohm: ra,
-                    rail_a,
-                    rb_ohm: rb,
-                    rail_b,
-                };
-                divider_current_check(
-                    &div,
-                    &self.device,
-                    settings,
-                    self.device.bias_plus_applied_a(),
-                    &mut w,
-                );
+            OpenDrainPolarity::Inverting { ra_ohm: Some(ra), rail_a, rb_ohm: Some(rb), rail_b, .. } => {
+                let div = Reference::Divider { ra_ohm: ra, rail_a, rb_ohm: rb, rail_b };
+                divider_current_check(&div, &self.device, settings, self.device.bias_plus_applied_a(), &mut w);
             }
             OpenDrainPolarity::NonInverting { reference, .. } => {
-                divider_current_check(
-                    &reference,
-                    &self.device,
-                    settings,
-                    self.device.bias_minus_applied_a(),
-                    &mut w,
-                );
+                divider_current_check(&reference, &self.device, settings, self.device.bias_minus_applied_a(), &mut w);
             }
             _ => {}
         }
@@ -999,11 +718,7 @@ mod tests {
     use crate::topology::{analyse, synthesise};
 
     fn open_drain_device() -> Comparator {
-        Comparator {
-            supply_v: 5.0,
-            output_low_rise_v: 0.1,
-            ..Comparator::default()
-        }
+        Comparator { supply_v: 5.0, output_low_rise_v: 0.1, ..Comparator::default() }
     }
 
     fn real_device() -> Comparator {
@@ -1041,13 +756,7 @@ mod tests {
         // DOMAIN §1c: VT+ = [Vref(R1+R2) − VOL·R1]/R2; VT− = [Vref(R1+R2+Rpu) − Vpu·R1]/(R2+Rpu);
         // VOH,eff = Vpu − (Vpu−VT−)·Rpu/(R1+R2+Rpu).
         let (r1, r2, rpu, vref, vpu) = (10e3, 100e3, 4.7e3, 2.5, 5.0);
-        let c = OpenDrainSchmitt::non_inverting(
-            r1,
-            r2,
-            Reference::fixed(vref),
-            rpu,
-            open_drain_device(),
-        );
+        let c = OpenDrainSchmitt::non_inverting(r1, r2, Reference::fixed(vref), rpu, open_drain_device());
         let t = c.thresholds().unwrap();
         assert!((t.vt_upper_v - (vref * (r1 + r2) - 0.1 * r1) / r2).abs() < 1e-12);
         let vtm = (vref * (r1 + r2 + rpu) - vpu * r1) / (r2 + rpu);
@@ -1075,33 +784,14 @@ mod tests {
         // DOMAIN §1c: R1 = positive root of (Vpu−VOL)R1² + [(VT−−VOL)(R2+Rpu) + (Vpu−VT+)R2]R1 − ΔV·R2(R2+Rpu) = 0,
         // then Vref = (VT+·R2 + VOL·R1)/(R1+R2).
         let (r2, rpu, vpu, vol) = (100e3, 10e3, 5.0, 0.1);
-        let template = OpenDrainSchmitt::non_inverting(
-            1.0,
-            1.0,
-            Reference::divider(50e3, 50e3),
-            rpu,
-            open_drain_device(),
-        );
+        let template = OpenDrainSchmitt::non_inverting(1.0, 1.0, Reference::divider(50e3, 50e3), rpu, open_drain_device());
         let (up, lo) = (3.0, 2.0);
-        let d = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: up,
-                    vt_lower_v: lo,
-                },
-                r2,
-            )
-            .unwrap();
+        let d = template.synthesise_with_anchor(Thresholds { vt_upper_v: up, vt_lower_v: lo }, r2).unwrap();
         let a = vpu - vol;
         let b = (lo - vol) * (r2 + rpu) + (vpu - up) * r2;
         let c = -(up - lo) * r2 * (r2 + rpu);
         let r1 = (-b + (b * b - 4.0 * a * c).sqrt()) / (2.0 * a);
-        let OpenDrainPolarity::NonInverting {
-            r1_ohm, reference, ..
-        } = d.polarity
-        else {
-            panic!()
-        };
+        let OpenDrainPolarity::NonInverting { r1_ohm, reference, .. } = d.polarity else { panic!() };
         assert!((r1_ohm - r1).abs() < 1e-9 * r1);
         let vref = (up * r2 + vol * r1) / (r1 + r2);
         assert!((reference.node_v(5.0, 0.0, 0.0) - vref).abs() < 1e-12);
@@ -1113,22 +803,12 @@ mod tests {
             let mut template = if pol == 0 {
                 OpenDrainSchmitt::inverting(1.0, 1.0, 1.0, 4.7e3, real_device())
             } else {
-                OpenDrainSchmitt::non_inverting(
-                    1.0,
-                    1.0,
-                    Reference::divider(33e3, 67e3),
-                    4.7e3,
-                    real_device(),
-                )
+                OpenDrainSchmitt::non_inverting(1.0, 1.0, Reference::divider(33e3, 67e3), 4.7e3, real_device())
             };
             template.rl_ohm = Some(47e3);
             template.sink_resistance_ohm = 60.0;
             template.pullup_rail = Rail::Fixed(3.3);
-            let targets = Targets {
-                vt_upper_v: 2.1,
-                vt_lower_v: 1.4,
-                impedance: ImpedanceChoice::AnchorOhm(150e3),
-            };
+            let targets = Targets { vt_upper_v: 2.1, vt_lower_v: 1.4, impedance: ImpedanceChoice::AnchorOhm(150e3) };
             let d = synthesise(&template, &targets).unwrap();
             let t = d.thresholds().unwrap();
             assert!((t.vt_upper_v - 2.1).abs() < 1e-9 * 2.1, "{pol}: {t:?}");
@@ -1142,62 +822,35 @@ mod tests {
     fn pullup_loading_is_reported_with_the_shift() {
         let c = OpenDrainSchmitt::inverting(20e3, 30e3, 47e3, 10e3, open_drain_device());
         let w = c.checks(&CheckSettings::default());
-        let p = w
-            .iter()
-            .find(|w| w.code == WarningCode::PullupLoading)
-            .expect("pull-up warning");
+        let p = w.iter().find(|w| w.code == WarningCode::PullupLoading).expect("pull-up warning");
         assert!(p.message.contains("VT+ by -"), "{}", p.message);
         let small = OpenDrainSchmitt::inverting(20e3, 30e3, 1e6, 4.7e3, open_drain_device());
-        assert!(small
-            .checks(&CheckSettings::default())
-            .iter()
-            .all(|w| w.code != WarningCode::PullupLoading));
+        assert!(small.checks(&CheckSettings::default()).iter().all(|w| w.code != WarningCode::PullupLoading));
     }
 
     #[test]
     fn infeasible_targets_are_typed() {
         let inv = OpenDrainSchmitt::inverting(1.0, 1.0, 1.0, 10e3, open_drain_device());
-        let th = |up, lo| Thresholds {
-            vt_upper_v: up,
-            vt_lower_v: lo,
-        };
+        let th = |up, lo| Thresholds { vt_upper_v: up, vt_lower_v: lo };
         // Wider than the swing for the inverting polarity.
         let e = inv.synthesise_with_anchor(th(5.5, -0.5), 1e5).unwrap_err();
         assert!(matches!(e, DesignError::Infeasible { .. }), "{e}");
         // Above the pulled-up level.
         let e = inv.synthesise_with_anchor(th(5.2, 4.9), 1e5).unwrap_err();
         assert!(matches!(e, DesignError::Infeasible { .. }), "{e}");
-        let ni = OpenDrainSchmitt::non_inverting(
-            1.0,
-            1.0,
-            Reference::divider(1e4, 1e4),
-            10e3,
-            open_drain_device(),
-        );
-        assert!(matches!(
-            ni.synthesise_with_anchor(th(1.0, 2.0), 1e5),
-            Err(DesignError::Infeasible { .. })
-        ));
+        let ni = OpenDrainSchmitt::non_inverting(1.0, 1.0, Reference::divider(1e4, 1e4), 10e3, open_drain_device());
+        assert!(matches!(ni.synthesise_with_anchor(th(1.0, 2.0), 1e5), Err(DesignError::Infeasible { .. })));
         // Reference outside the rails.
-        assert!(matches!(
-            ni.synthesise_with_anchor(th(8.0, 7.0), 1e5),
-            Err(DesignError::Infeasible { .. })
-        ));
+        assert!(matches!(ni.synthesise_with_anchor(th(8.0, 7.0), 1e5), Err(DesignError::Infeasible { .. })));
     }
 
     #[test]
     fn invalid_parts_are_typed_errors() {
         let mut c = OpenDrainSchmitt::inverting(20e3, 30e3, 100e3, 0.0, open_drain_device());
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.rpu_ohm = 1e3;
         c.pullup_rail = Rail::Fixed(0.05);
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
         c.pullup_rail = Rail::Supply;
         c.sink_resistance_ohm = -1.0;
         assert!(c.validate().is_err());
@@ -1208,13 +861,7 @@ mod tests {
 
     #[test]
     fn parameters_round_trip() {
-        let mut c = OpenDrainSchmitt::non_inverting(
-            10e3,
-            100e3,
-            Reference::divider(20e3, 30e3),
-            4.7e3,
-            real_device(),
-        );
+        let mut c = OpenDrainSchmitt::non_inverting(10e3, 100e3, Reference::divider(20e3, 30e3), 4.7e3, real_device());
         c.rl_ohm = Some(10e3);
         c.pullup_rail = Rail::Fixed(3.3);
         let p = c.parameters();
@@ -1238,27 +885,17 @@ impl crate::netlist::Netlisted for OpenDrainSchmitt {
     /// The inverting or non-inverting network of the push-pull forms, plus the pull-up Rpu to its
     /// rail, the optional load RL and an output that only pulls low (through RDS(on)).
     fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::{SourceRole, GROUND, INPUT_NET, OUTPUT_NET};
         use super::netlisting::{builder, input_centre_v};
         use super::noninverting::reference_network;
-        use crate::netlist::{SourceRole, GROUND, INPUT_NET, OUTPUT_NET};
         let d = &self.device;
         let (vs, vn) = (d.supply_v, d.negative_rail_v);
         let mut b = builder("open_drain", self);
         let vcc = b.supply(vs, "VCC");
         let vee = b.negative(vn);
-        b.input(
-            input_centre_v(self, (vn, vs)),
-            d.source_resistance_ohm,
-            "IN",
-        );
+        b.input(input_centre_v(self, (vn, vs)), d.source_resistance_ohm, "IN");
         let (plus, minus) = match self.polarity {
-            OpenDrainPolarity::Inverting {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-                rf_ohm,
-            } => {
+            OpenDrainPolarity::Inverting { ra_ohm, rail_a, rb_ohm, rail_b, rf_ohm } => {
                 if let Some(r) = ra_ohm {
                     let n = b.rail(rail_a, vs, vn, "VRA", "rail_a", SourceRole::Reference);
                     b.part("ra_ohm", &n, "p", r);
@@ -1270,25 +907,14 @@ impl crate::netlist::Netlisted for OpenDrainSchmitt {
                 b.part("rf_ohm", OUTPUT_NET, "p", rf_ohm);
                 ("p".to_string(), INPUT_NET.to_string())
             }
-            OpenDrainPolarity::NonInverting {
-                r1_ohm,
-                r2_ohm,
-                reference,
-            } => {
+            OpenDrainPolarity::NonInverting { r1_ohm, r2_ohm, reference } => {
                 b.part("r1_ohm", INPUT_NET, "p", r1_ohm);
                 b.part("r2_ohm", OUTPUT_NET, "p", r2_ohm);
                 let n = reference_network(&mut b, &reference, d, "n");
                 ("p".to_string(), n)
             }
         };
-        let pu = b.rail(
-            self.pullup_rail,
-            vs,
-            vn,
-            "VPU",
-            "pu",
-            SourceRole::PullupRail,
-        );
+        let pu = b.rail(self.pullup_rail, vs, vn, "VPU", "pu", SourceRole::PullupRail);
         b.part("rpu_ohm", &pu, OUTPUT_NET, self.rpu_ohm);
         if let Some(rl) = self.rl_ohm {
             b.part("rl_ohm", OUTPUT_NET, GROUND, rl);

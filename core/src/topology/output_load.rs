@@ -32,11 +32,7 @@ impl OutputLoad {
 
 /// A comparator whose output levels are `high_v` and `low_v` exactly (headroom switched on and set
 /// to match), for the topologies' [`super::Circuit::with_output_load`].
-pub fn comparator_with_levels(
-    device: &crate::device::Comparator,
-    high_v: f64,
-    low_v: f64,
-) -> crate::device::Comparator {
+pub fn comparator_with_levels(device: &crate::device::Comparator, high_v: f64, low_v: f64) -> crate::device::Comparator {
     let mut d = *device;
     d.effects.output_headroom = true;
     d.output_high_drop_v = (d.supply_v - high_v).max(0.0);

@@ -10,12 +10,11 @@
 //! - Signal on (+), reference node N = Vth − IB−·Rref on (−): VT± = N + VOS ± h/2 + IB+·Rs.
 //! - Signal on (−), reference node N = Vth − IB+·Rref on (+): VT± = N − VOS ± h/2 + IB−·Rs.
 
-use super::comparator::bias_error_check_with;
 use super::comparator::{divider_current_check, resistance, verified, Designators, Reference};
-use super::{expect_len, Circuit, Described, Parameter, ParameterKind};
+use super::comparator::bias_error_check_with;
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    CheckSettings, NodeVoltage, OperatingPoint, OutputState, Sense, Thresholds, Warning,
-    WarningCode,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::Comparator;
 use crate::error::DesignError;
@@ -36,19 +35,12 @@ pub struct PlainComparator {
 impl PlainComparator {
     /// Signal on (+), reference divider from the supply (Ra) to ground (Rb) on (−).
     pub fn non_inverting_with_divider(ra_ohm: f64, rb_ohm: f64, device: Comparator) -> Self {
-        PlainComparator {
-            sense: Sense::NonInverting,
-            reference: Reference::divider(ra_ohm, rb_ohm),
-            device,
-        }
+        PlainComparator { sense: Sense::NonInverting, reference: Reference::divider(ra_ohm, rb_ohm), device }
     }
 
     /// The bias current drawn by the reference pin and by the signal pin.
     fn bias_ref_signal(&self) -> (f64, f64) {
-        let (p, m) = (
-            self.device.bias_plus_applied_a(),
-            self.device.bias_minus_applied_a(),
-        );
+        let (p, m) = (self.device.bias_plus_applied_a(), self.device.bias_minus_applied_a());
         match self.sense {
             Sense::NonInverting => (m, p),
             Sense::Inverting => (p, m),
@@ -57,11 +49,7 @@ impl PlainComparator {
 
     /// The reference node voltage.
     fn node_ref(&self) -> f64 {
-        self.reference.node_v(
-            self.device.supply_v,
-            self.device.negative_rail_v,
-            self.bias_ref_signal().0,
-        )
+        self.reference.node_v(self.device.supply_v, self.device.negative_rail_v, self.bias_ref_signal().0)
     }
 
     /// Input-referred switching point when leaving the given output state.
@@ -76,11 +64,7 @@ impl PlainComparator {
     }
 
     fn vo(&self, high: bool) -> f64 {
-        if high {
-            self.device.output_high_v()
-        } else {
-            self.device.output_low_v()
-        }
+        if high { self.device.output_high_v() } else { self.device.output_low_v() }
     }
 }
 
@@ -95,10 +79,7 @@ impl Circuit for PlainComparator {
     fn thresholds(&self) -> Result<Thresholds, DesignError> {
         // A rising input leaves the "input low" state: output low for signal on (+), high for (−).
         let rising_from_high = self.sense == Sense::Inverting;
-        Ok(Thresholds {
-            vt_upper_v: self.switch_v(rising_from_high),
-            vt_lower_v: self.switch_v(!rising_from_high),
-        })
+        Ok(Thresholds { vt_upper_v: self.switch_v(rising_from_high), vt_lower_v: self.switch_v(!rising_from_high) })
     }
 
     fn output_levels(&self) -> Result<(f64, f64), DesignError> {
@@ -109,41 +90,23 @@ impl Circuit for PlainComparator {
         self.sense
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        _state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, _state: OutputState) -> Result<OperatingPoint, DesignError> {
         let d = &self.device;
         let n = self.node_ref();
         let (_, ib_sig) = self.bias_ref_signal();
         let mut seq = Designators::default();
-        let (resistors, sourced) = self
-            .reference
-            .drops(&mut seq, d.supply_v, d.negative_rail_v, n);
+        let (resistors, sourced) = self.reference.drops(&mut seq, d.supply_v, d.negative_rail_v, n);
         let (sig_name, ref_name) = match self.sense {
-            Sense::NonInverting => (
-                "non-inverting input (signal)",
-                "inverting input (reference)",
-            ),
-            Sense::Inverting => (
-                "inverting input (signal)",
-                "non-inverting input (reference)",
-            ),
+            Sense::NonInverting => ("non-inverting input (signal)", "inverting input (reference)"),
+            Sense::Inverting => ("inverting input (signal)", "non-inverting input (reference)"),
         };
         Ok(OperatingPoint {
             resistors,
             input_current_a: ib_sig,
             network_current_a: sourced,
             device_inputs: vec![
-                NodeVoltage {
-                    name: sig_name.into(),
-                    volts: vin_v - ib_sig * d.source_resistance_ohm,
-                },
-                NodeVoltage {
-                    name: ref_name.into(),
-                    volts: n,
-                },
+                NodeVoltage { name: sig_name.into(), volts: vin_v - ib_sig * d.source_resistance_ohm },
+                NodeVoltage { name: ref_name.into(), volts: n },
             ],
         })
     }
@@ -153,32 +116,12 @@ impl Circuit for PlainComparator {
         let mut v = Vec::new();
         self.reference.push_resistors(&mut seq, &mut v);
         let d = &self.device;
-        v.push(Parameter::quantity(
-            "supply_v",
-            "supply",
-            d.supply_v,
-            ParameterKind::Supply,
-        ));
-        v.push(Parameter::quantity(
-            "negative_rail_v",
-            "negative rail",
-            d.negative_rail_v,
-            ParameterKind::Supply,
-        ));
+        v.push(Parameter::quantity("supply_v", "supply", d.supply_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
         self.reference.push_rails(&mut v);
         v.push(super::comparator::offset_parameter(d));
-        v.push(super::comparator::bias_parameter(
-            "bias_plus_a",
-            "bias current IB+",
-            d.bias_plus_a,
-            d,
-        ));
-        v.push(super::comparator::bias_parameter(
-            "bias_minus_a",
-            "bias current IB−",
-            d.bias_minus_a,
-            d,
-        ));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
+        v.push(super::comparator::bias_parameter("bias_minus_a", "bias current IB−", d.bias_minus_a, d));
         v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
@@ -207,19 +150,12 @@ impl Circuit for PlainComparator {
     /// A plain comparator can only be centred: the width must equal the built-in hysteresis
     /// (within 1e-9 relative), and the reference is set so that the centre lands on the targets'
     /// centre, with the offset and bias terms inverted exactly. A divider is scaled to the anchor total.
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        anchor_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
         self.validate()?;
         resistance("anchor_ohm", anchor_ohm)?;
         let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(up.is_finite() && lo.is_finite()) {
-            return Err(DesignError::invalid(
-                "targets",
-                "VT+ and VT− must be finite numbers",
-            ));
+            return Err(DesignError::invalid("targets", "VT+ and VT− must be finite numbers"));
         }
         let d = &self.device;
         let (off_h, off_l) = (d.switching_offset_v(true), d.switching_offset_v(false));
@@ -251,32 +187,14 @@ impl Circuit for PlainComparator {
             ));
         }
         let scaled = match self.reference {
-            Reference::Divider {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-            } => {
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
                 let k = anchor_ohm / (ra_ohm + rb_ohm);
-                Reference::Divider {
-                    ra_ohm: ra_ohm * k,
-                    rail_a,
-                    rb_ohm: rb_ohm * k,
-                    rail_b,
-                }
+                Reference::Divider { ra_ohm: ra_ohm * k, rail_a, rb_ohm: rb_ohm * k, rail_b }
             }
             direct => direct,
         };
-        let reference =
-            scaled.synthesise_for(n, ib_ref, d.supply_v, d.negative_rail_v, "reference input")?;
-        verified(
-            PlainComparator {
-                reference,
-                ..self.clone()
-            },
-            targets,
-            anchor_ohm,
-        )
+        let reference = scaled.synthesise_for(n, ib_ref, d.supply_v, d.negative_rail_v, "reference input")?;
+        verified(PlainComparator { reference, ..self.clone() }, targets, anchor_ohm)
     }
 
     fn anchor_description(&self) -> &'static str {
@@ -298,13 +216,7 @@ impl Circuit for PlainComparator {
         let mut nb = self.clone();
         nb.device.effects.bias_current = false;
         bias_error_check_with(self, &nb, settings, &mut w);
-        divider_current_check(
-            &self.reference,
-            d,
-            settings,
-            self.bias_ref_signal().0,
-            &mut w,
-        );
+        divider_current_check(&self.reference, d, settings, self.bias_ref_signal().0, &mut w);
         w
     }
 }
@@ -351,10 +263,7 @@ mod tests {
         let t = c.thresholds().unwrap();
         assert!((t.vt_upper_v - (n_minus + 0.004 + 0.005 + 50e-9 * 10e3)).abs() < 1e-12);
         assert!((t.vt_lower_v - (n_minus + 0.004 - 0.005 + 50e-9 * 10e3)).abs() < 1e-12);
-        let inv = PlainComparator {
-            sense: Sense::Inverting,
-            ..c
-        };
+        let inv = PlainComparator { sense: Sense::Inverting, ..c };
         let n_plus = 3.3 * 0.4 - 50e-9 * rref;
         let t = inv.thresholds().unwrap();
         assert!((t.vt_upper_v - (n_plus - 0.004 + 0.005 + (-30e-9) * 10e3)).abs() < 1e-12);
@@ -364,35 +273,21 @@ mod tests {
     #[test]
     fn synthesis_centres_the_threshold() {
         for sense in [Sense::NonInverting, Sense::Inverting] {
-            let template = PlainComparator {
-                sense,
-                ..PlainComparator::non_inverting_with_divider(1.0, 3.0, real_device())
-            };
+            let template = PlainComparator { sense, ..PlainComparator::non_inverting_with_divider(1.0, 3.0, real_device()) };
             let t = Thresholds::from_centre_width(1.234, 0.01);
             let d = template.synthesise_with_anchor(t, 47e3).unwrap();
             let got = d.thresholds().unwrap();
             assert!((got.vt_upper_v - t.vt_upper_v).abs() < 1e-9 * t.vt_upper_v);
             assert!((got.vt_lower_v - t.vt_lower_v).abs() < 1e-9 * t.vt_lower_v);
-            let Reference::Divider { ra_ohm, rb_ohm, .. } = d.reference else {
-                panic!()
-            };
+            let Reference::Divider { ra_ohm, rb_ohm, .. } = d.reference else { panic!() };
             assert!((ra_ohm + rb_ohm - 47e3).abs() < 1e-6);
         }
     }
 
     #[test]
     fn hysteresis_request_is_infeasible_with_a_hint() {
-        let template =
-            PlainComparator::non_inverting_with_divider(1.0, 1.0, Comparator::ideal(5.0));
-        let e = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 2.6,
-                    vt_lower_v: 2.4,
-                },
-                1e5,
-            )
-            .unwrap_err();
+        let template = PlainComparator::non_inverting_with_divider(1.0, 1.0, Comparator::ideal(5.0));
+        let e = template.synthesise_with_anchor(Thresholds { vt_upper_v: 2.6, vt_lower_v: 2.4 }, 1e5).unwrap_err();
         match e {
             DesignError::Infeasible { reason, suggestion } => {
                 assert!(reason.contains("no hysteresis of its own"));
@@ -401,60 +296,27 @@ mod tests {
             other => panic!("{other:?}"),
         }
         // A single threshold (VT+ = VT−) is exactly what an ideal device gives.
-        let ok = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 2.5,
-                    vt_lower_v: 2.5,
-                },
-                1e5,
-            )
-            .unwrap();
+        let ok = template.synthesise_with_anchor(Thresholds { vt_upper_v: 2.5, vt_lower_v: 2.5 }, 1e5).unwrap();
         assert!((ok.thresholds().unwrap().vt_upper_v - 2.5).abs() < 1e-12);
         // Outside the rails.
-        let e = template
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 6.0,
-                    vt_lower_v: 6.0,
-                },
-                1e5,
-            )
-            .unwrap_err();
+        let e = template.synthesise_with_anchor(Thresholds { vt_upper_v: 6.0, vt_lower_v: 6.0 }, 1e5).unwrap_err();
         assert!(matches!(e, DesignError::Infeasible { .. }));
     }
 
     #[test]
     fn no_hysteresis_note() {
         let c = PlainComparator::non_inverting_with_divider(1e4, 1e4, Comparator::ideal(5.0));
-        assert!(c
-            .checks(&CheckSettings::default())
-            .iter()
-            .any(|w| w.code == WarningCode::Note));
+        assert!(c.checks(&CheckSettings::default()).iter().any(|w| w.code == WarningCode::Note));
         let c2 = PlainComparator::non_inverting_with_divider(1e4, 1e4, real_device());
-        assert!(c2
-            .checks(&CheckSettings::default())
-            .iter()
-            .all(|w| w.code != WarningCode::Note));
+        assert!(c2.checks(&CheckSettings::default()).iter().all(|w| w.code != WarningCode::Note));
     }
 
     #[test]
     fn invalid_parts_are_typed_errors() {
         let c = PlainComparator::non_inverting_with_divider(-1.0, 1e4, Comparator::ideal(5.0));
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
-        let c = PlainComparator {
-            reference: Reference::Direct {
-                rail: Rail::Fixed(f64::NAN),
-            },
-            ..c
-        };
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
+        let c = PlainComparator { reference: Reference::Direct { rail: Rail::Fixed(f64::NAN) }, ..c };
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
     }
 
     #[test]
@@ -466,10 +328,7 @@ mod tests {
         let v: Vec<f64> = p.iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&v).unwrap(), c);
         assert!(c.with_parameters(&v[1..]).is_err());
-        let direct = PlainComparator {
-            reference: Reference::fixed(1.25),
-            ..c
-        };
+        let direct = PlainComparator { reference: Reference::fixed(1.25), ..c };
         let v: Vec<f64> = direct.parameters().iter().map(|p| p.value).collect();
         assert_eq!(direct.with_parameters(&v).unwrap(), direct);
     }
@@ -479,27 +338,17 @@ mod tests {
 impl crate::netlist::Netlisted for PlainComparator {
     /// The signal straight on one input, the reference (rail, source or divider) on the other.
     fn netlist(&self) -> crate::netlist::Netlist {
+        use crate::netlist::INPUT_NET;
         use super::netlisting::{builder, input_centre_v};
         use super::noninverting::reference_network;
-        use crate::netlist::INPUT_NET;
         let d = &self.device;
         let mut b = builder("plain_comparator", self);
         let vcc = b.supply(d.supply_v, "VCC");
         let vee = b.negative(d.negative_rail_v);
-        b.input(
-            input_centre_v(self, (d.negative_rail_v, d.supply_v)),
-            d.source_resistance_ohm,
-            "IN",
-        );
+        b.input(input_centre_v(self, (d.negative_rail_v, d.supply_v)), d.source_resistance_ohm, "IN");
         let (plus, minus) = match self.sense {
-            Sense::NonInverting => (
-                INPUT_NET.to_string(),
-                reference_network(&mut b, &self.reference, d, "n"),
-            ),
-            Sense::Inverting => (
-                reference_network(&mut b, &self.reference, d, "p"),
-                INPUT_NET.to_string(),
-            ),
+            Sense::NonInverting => (INPUT_NET.to_string(), reference_network(&mut b, &self.reference, d, "n")),
+            Sense::Inverting => (reference_network(&mut b, &self.reference, d, "p"), INPUT_NET.to_string()),
         };
         b.comparator(d, &plus, &minus, &vcc, &vee, false, 0.0);
         b.finish()

@@ -29,9 +29,7 @@
 //! resistance some tens of ohms at a 5 mA test current; shunt reference: Vref 2.495 V, Iref 2 µA,
 //! Zka 0.2 Ω, minimum cathode current 1 mA).
 
-use super::comparator::{
-    divider_fraction, par2, pick_root, quadratic_roots, resistance, Designators,
-};
+use super::comparator::{divider_fraction, par2, pick_root, quadratic_roots, resistance, Designators};
 use super::{Parameter, ParameterKind};
 use crate::analysis::{ResistorDrop, Warning, WarningCode};
 use crate::device::{Comparator, Rail};
@@ -165,10 +163,7 @@ impl Clamp {
     fn thevenin(&self) -> (f64, f64) {
         let (v, i) = self.solve(0.0);
         if i > 0.0 || (v - self.v0) / self.r >= self.hold_a {
-            (
-                (self.v0 * self.rb + self.va * self.r) / (self.rb + self.r),
-                par2(self.rb, self.r),
-            )
+            ((self.v0 * self.rb + self.va * self.r) / (self.rb + self.r), par2(self.rb, self.r))
         } else if self.off_ohm.is_finite() {
             (v, par2(self.rb, self.off_ohm))
         } else {
@@ -199,27 +194,11 @@ impl ZenerReference {
         resistance("reference.bias_ohm", self.bias_ohm)?;
         self.rail.validate("reference.rail")?;
         positive(Quantity::Voltage, "reference.vz_v", self.vz_v)?;
-        positive(
-            Quantity::Current,
-            "reference.test_current_a",
-            self.test_current_a,
-        )?;
+        positive(Quantity::Current, "reference.test_current_a", self.test_current_a)?;
         resistance("reference.slope_ohm", self.slope_ohm)?;
-        check(
-            Quantity::Percent,
-            "reference.tolerance_pct",
-            self.tolerance_pct,
-        )?;
-        check(
-            Quantity::VoltageDrift,
-            "reference.tempco_v_per_k",
-            self.tempco_v_per_k,
-        )?;
-        non_negative(
-            Quantity::Current,
-            "reference.min_current_a",
-            self.min_current_a,
-        )?;
+        check(Quantity::Percent, "reference.tolerance_pct", self.tolerance_pct)?;
+        check(Quantity::VoltageDrift, "reference.tempco_v_per_k", self.tempco_v_per_k)?;
+        non_negative(Quantity::Current, "reference.min_current_a", self.min_current_a)?;
         if self.source_v() <= 0.0 {
             return Err(DesignError::invalid(
                 "reference.slope_ohm",
@@ -275,37 +254,14 @@ impl ShuntReference {
         resistance("reference.upper_ohm", self.upper_ohm)?;
         resistance("reference.lower_ohm", self.lower_ohm)?;
         positive(Quantity::Voltage, "reference.vref_v", self.vref_v)?;
-        non_negative(
-            Quantity::Current,
-            "reference.ref_current_a",
-            self.ref_current_a,
-        )?;
+        non_negative(Quantity::Current, "reference.ref_current_a", self.ref_current_a)?;
         resistance("reference.impedance_ohm", self.impedance_ohm)?;
-        non_negative(
-            Quantity::Current,
-            "reference.test_current_a",
-            self.test_current_a,
-        )?;
-        check(
-            Quantity::Percent,
-            "reference.tolerance_pct",
-            self.tolerance_pct,
-        )?;
-        check(
-            Quantity::VoltageDrift,
-            "reference.tempco_v_per_k",
-            self.tempco_v_per_k,
-        )?;
-        non_negative(
-            Quantity::Current,
-            "reference.min_current_a",
-            self.min_current_a,
-        )?;
+        non_negative(Quantity::Current, "reference.test_current_a", self.test_current_a)?;
+        check(Quantity::Percent, "reference.tolerance_pct", self.tolerance_pct)?;
+        check(Quantity::VoltageDrift, "reference.tempco_v_per_k", self.tempco_v_per_k)?;
+        non_negative(Quantity::Current, "reference.min_current_a", self.min_current_a)?;
         if !(self.cathode_v().is_finite() && self.clamp(0.0, 0.0).v0.is_finite()) {
-            return Err(DesignError::invalid(
-                "reference.upper_ohm",
-                "R1/R2 gives a cathode voltage that is not finite",
-            ));
+            return Err(DesignError::invalid("reference.upper_ohm", "R1/R2 gives a cathode voltage that is not finite"));
         }
         Ok(())
     }
@@ -366,19 +322,12 @@ pub const REFERENCE_KINDS: [(&str, &str); 4] = [
 impl Reference {
     /// A divider from the supply (Ra) to ground (Rb).
     pub fn divider(ra_ohm: f64, rb_ohm: f64) -> Self {
-        Reference::Divider {
-            ra_ohm,
-            rail_a: Rail::Supply,
-            rb_ohm,
-            rail_b: Rail::Ground,
-        }
+        Reference::Divider { ra_ohm, rail_a: Rail::Supply, rb_ohm, rail_b: Rail::Ground }
     }
 
     /// A fixed reference source of `volts`, tied straight to the input.
     pub fn fixed(volts: f64) -> Self {
-        Reference::Direct {
-            rail: Rail::Fixed(volts),
-        }
+        Reference::Direct { rail: Rail::Fixed(volts) }
     }
 
     /// The record tag of this kind (`direct`, `divider`, `zener`, `shunt`).
@@ -405,21 +354,13 @@ impl Reference {
         Some(match kind {
             "direct" => Reference::fixed(v),
             "divider" => {
-                let x = if span > 0.0 {
-                    (v / span).clamp(0.01, 0.99)
-                } else {
-                    0.5
-                };
+                let x = if span > 0.0 { (v / span).clamp(0.01, 0.99) } else { 0.5 };
                 Reference::divider(100e3 * (1.0 - x), 100e3 * x)
             }
             "zener" => {
                 let z = ZenerReference::default();
                 let vz = if v > 0.5 { v } else { z.vz_v };
-                Reference::Zener(ZenerReference {
-                    vz_v: vz,
-                    tempco_v_per_k: if vz < 5.0 { -2e-3 } else { 2e-3 },
-                    ..z
-                })
+                Reference::Zener(ZenerReference { vz_v: vz, tempco_v_per_k: if vz < 5.0 { -2e-3 } else { 2e-3 }, ..z })
             }
             "shunt" => {
                 let s = ShuntReference::default();
@@ -436,12 +377,7 @@ impl Reference {
     pub fn validate(&self) -> Result<(), DesignError> {
         match self {
             Reference::Direct { rail } => rail.validate("reference.rail"),
-            Reference::Divider {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-            } => {
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
                 resistance("reference.ra_ohm", *ra_ohm)?;
                 resistance("reference.rb_ohm", *rb_ohm)?;
                 rail_a.validate("reference.rail_a")?;
@@ -458,18 +394,10 @@ impl Reference {
     pub fn thevenin(&self, supply_v: f64, negative_rail_v: f64) -> (f64, f64) {
         match *self {
             Reference::Direct { rail } => (rail.volts(supply_v, negative_rail_v), 0.0),
-            Reference::Divider {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-            } => {
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
                 let va = rail_a.volts(supply_v, negative_rail_v);
                 let vb = rail_b.volts(supply_v, negative_rail_v);
-                (
-                    vb + (va - vb) * divider_fraction(ra_ohm, rb_ohm),
-                    par2(ra_ohm, rb_ohm),
-                )
+                (vb + (va - vb) * divider_fraction(ra_ohm, rb_ohm), par2(ra_ohm, rb_ohm))
             }
             Reference::Zener(z) => z.clamp(supply_v, negative_rail_v).thevenin(),
             Reference::Shunt(s) => s.clamp(supply_v, negative_rail_v).thevenin(),
@@ -492,12 +420,7 @@ impl Reference {
 
     /// The current in the regulating element (zener current, or the shunt reference's cathode
     /// current), amperes, when the device input draws `bias_a`; `None` for a rail or divider.
-    pub fn regulator_current_a(
-        &self,
-        supply_v: f64,
-        negative_rail_v: f64,
-        bias_a: f64,
-    ) -> Option<f64> {
+    pub fn regulator_current_a(&self, supply_v: f64, negative_rail_v: f64, bias_a: f64) -> Option<f64> {
         match *self {
             Reference::Zener(z) => Some(z.clamp(supply_v, negative_rail_v).solve(bias_a).1),
             Reference::Shunt(s) => Some(s.clamp(supply_v, negative_rail_v).solve(bias_a).1),
@@ -507,12 +430,7 @@ impl Reference {
 
     /// Power in the regulating element (zener or shunt device) at the given rails, watts:
     /// its current times the node voltage.
-    pub fn regulator_power_w(
-        &self,
-        supply_v: f64,
-        negative_rail_v: f64,
-        bias_a: f64,
-    ) -> Option<f64> {
+    pub fn regulator_power_w(&self, supply_v: f64, negative_rail_v: f64, bias_a: f64) -> Option<f64> {
         let i = self.regulator_current_a(supply_v, negative_rail_v, bias_a)?;
         Some(i * self.node_v(supply_v, negative_rail_v, bias_a).max(0.0))
     }
@@ -534,8 +452,7 @@ impl Reference {
         match self {
             Reference::Direct { rail } => matches!(rail, Rail::Fixed(_)) as usize,
             Reference::Divider { rail_a, rail_b, .. } => {
-                2 + matches!(rail_a, Rail::Fixed(_)) as usize
-                    + matches!(rail_b, Rail::Fixed(_)) as usize
+                2 + matches!(rail_a, Rail::Fixed(_)) as usize + matches!(rail_b, Rail::Fixed(_)) as usize
             }
             Reference::Zener(z) => 1 + matches!(z.rail, Rail::Fixed(_)) as usize + 2,
             Reference::Shunt(s) => 3 + matches!(s.rail, Rail::Fixed(_)) as usize + 3,
@@ -548,58 +465,16 @@ impl Reference {
     pub(crate) fn push_resistors(&self, seq: &mut Designators, out: &mut Vec<Parameter>) {
         match *self {
             Reference::Divider { ra_ohm, rb_ohm, .. } => {
-                out.push(Parameter::resistor(
-                    "ra_ohm",
-                    &seq.next_name(),
-                    "reference divider resistor to rail A",
-                    ra_ohm,
-                ));
-                out.push(Parameter::resistor(
-                    "rb_ohm",
-                    &seq.next_name(),
-                    "reference divider resistor to rail B",
-                    rb_ohm,
-                ));
+                out.push(Parameter::resistor("ra_ohm", &seq.next_name(), "reference divider resistor to rail A", ra_ohm));
+                out.push(Parameter::resistor("rb_ohm", &seq.next_name(), "reference divider resistor to rail B", rb_ohm));
             }
             Reference::Zener(z) => {
-                out.push(
-                    Parameter::resistor(
-                        "ref_bias_ohm",
-                        &seq.next_name(),
-                        "zener bias resistor",
-                        z.bias_ohm,
-                    )
-                    .held(),
-                );
+                out.push(Parameter::resistor("ref_bias_ohm", &seq.next_name(), "zener bias resistor", z.bias_ohm).held());
             }
             Reference::Shunt(s) => {
-                out.push(
-                    Parameter::resistor(
-                        "ref_bias_ohm",
-                        &seq.next_name(),
-                        "shunt reference bias resistor",
-                        s.bias_ohm,
-                    )
-                    .held(),
-                );
-                out.push(
-                    Parameter::resistor(
-                        "ref_upper_ohm",
-                        &seq.next_name(),
-                        "shunt reference R1 (cathode to ref)",
-                        s.upper_ohm,
-                    )
-                    .held(),
-                );
-                out.push(
-                    Parameter::resistor(
-                        "ref_lower_ohm",
-                        &seq.next_name(),
-                        "shunt reference R2 (ref to ground)",
-                        s.lower_ohm,
-                    )
-                    .held(),
-                );
+                out.push(Parameter::resistor("ref_bias_ohm", &seq.next_name(), "shunt reference bias resistor", s.bias_ohm).held());
+                out.push(Parameter::resistor("ref_upper_ohm", &seq.next_name(), "shunt reference R1 (cathode to ref)", s.upper_ohm).held());
+                out.push(Parameter::resistor("ref_lower_ohm", &seq.next_name(), "shunt reference R2 (ref to ground)", s.lower_ohm).held());
             }
             Reference::Direct { .. } => {}
         }
@@ -609,92 +484,42 @@ impl Reference {
     /// (Vz or Vref with its tolerance as limits and its drift; slope resistance; Iref).
     pub(crate) fn push_rails(&self, out: &mut Vec<Parameter>) {
         match *self {
-            Reference::Direct {
-                rail: Rail::Fixed(v),
-            } => out.push(Parameter::quantity(
-                "reference_v",
-                "reference voltage",
-                v,
-                ParameterKind::Reference,
-            )),
+            Reference::Direct { rail: Rail::Fixed(v) } => {
+                out.push(Parameter::quantity("reference_v", "reference voltage", v, ParameterKind::Reference))
+            }
             Reference::Direct { .. } => {}
             Reference::Divider { rail_a, rail_b, .. } => {
                 if let Rail::Fixed(v) = rail_a {
-                    out.push(Parameter::quantity(
-                        "rail_a",
-                        "divider rail A",
-                        v,
-                        ParameterKind::Reference,
-                    ));
+                    out.push(Parameter::quantity("rail_a", "divider rail A", v, ParameterKind::Reference));
                 }
                 if let Rail::Fixed(v) = rail_b {
-                    out.push(Parameter::quantity(
-                        "rail_b",
-                        "divider rail B",
-                        v,
-                        ParameterKind::Reference,
-                    ));
+                    out.push(Parameter::quantity("rail_b", "divider rail B", v, ParameterKind::Reference));
                 }
             }
             Reference::Zener(z) => {
                 if let Rail::Fixed(v) = z.rail {
-                    out.push(Parameter::quantity(
-                        "ref_rail_v",
-                        "zener bias rail",
-                        v,
-                        ParameterKind::Reference,
-                    ));
+                    out.push(Parameter::quantity("ref_rail_v", "zener bias rail", v, ParameterKind::Reference));
                 }
                 let t = z.tolerance_pct / 100.0;
                 out.push(
-                    Parameter::quantity(
-                        "vz_v",
-                        "zener voltage Vz",
-                        z.vz_v,
-                        ParameterKind::DeviceThreshold,
-                    )
-                    .with_limits(z.vz_v * (1.0 - t), z.vz_v * (1.0 + t))
-                    .with_drift(Drift::Known(z.tempco_v_per_k)),
+                    Parameter::quantity("vz_v", "zener voltage Vz", z.vz_v, ParameterKind::DeviceThreshold)
+                        .with_limits(z.vz_v * (1.0 - t), z.vz_v * (1.0 + t))
+                        .with_drift(Drift::Known(z.tempco_v_per_k)),
                 );
-                out.push(Parameter::device(
-                    "zener_slope_ohm",
-                    "zener slope resistance rz",
-                    z.slope_ohm,
-                    Unit::Ohm,
-                ));
+                out.push(Parameter::device("zener_slope_ohm", "zener slope resistance rz", z.slope_ohm, Unit::Ohm));
             }
             Reference::Shunt(s) => {
                 if let Rail::Fixed(v) = s.rail {
-                    out.push(Parameter::quantity(
-                        "ref_rail_v",
-                        "shunt reference bias rail",
-                        v,
-                        ParameterKind::Reference,
-                    ));
+                    out.push(Parameter::quantity("ref_rail_v", "shunt reference bias rail", v, ParameterKind::Reference));
                 }
                 let t = s.tolerance_pct / 100.0;
                 out.push(
-                    Parameter::quantity(
-                        "vref_v",
-                        "shunt reference Vref",
-                        s.vref_v,
-                        ParameterKind::DeviceThreshold,
-                    )
-                    .with_limits(s.vref_v * (1.0 - t), s.vref_v * (1.0 + t))
-                    .with_drift(Drift::Unknown(s.tempco_v_per_k)),
+                    Parameter::quantity("vref_v", "shunt reference Vref", s.vref_v, ParameterKind::DeviceThreshold)
+                        .with_limits(s.vref_v * (1.0 - t), s.vref_v * (1.0 + t))
+                        .with_drift(Drift::Unknown(s.tempco_v_per_k)),
                 );
-                out.push(Parameter::quantity(
-                    "ref_current_a",
-                    "shunt reference Iref",
-                    s.ref_current_a,
-                    ParameterKind::BiasCurrent,
-                ));
-                out.push(Parameter::device(
-                    "shunt_impedance_ohm",
-                    "shunt reference Zka",
-                    s.impedance_ohm,
-                    Unit::Ohm,
-                ));
+                out.push(Parameter::quantity("ref_current_a", "shunt reference Iref", s.ref_current_a, ParameterKind::BiasCurrent));
+                out.push(Parameter::device("shunt_impedance_ohm", "shunt reference Zka", s.impedance_ohm, Unit::Ohm));
             }
         }
     }
@@ -761,65 +586,32 @@ impl Reference {
     ) -> (Vec<ResistorDrop>, f64) {
         match *self {
             Reference::Direct { .. } => (Vec::new(), 0.0),
-            Reference::Divider {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-            } => {
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
                 let va = rail_a.volts(supply_v, negative_rail_v);
                 let vb = rail_b.volts(supply_v, negative_rail_v);
                 let ia = (va - node_v) / ra_ohm;
                 let ib = (vb - node_v) / rb_ohm;
                 (
                     vec![
-                        ResistorDrop {
-                            designator: seq.next_name(),
-                            resistance_ohm: ra_ohm,
-                            volts: va - node_v,
-                        },
-                        ResistorDrop {
-                            designator: seq.next_name(),
-                            resistance_ohm: rb_ohm,
-                            volts: node_v - vb,
-                        },
+                        ResistorDrop { designator: seq.next_name(), resistance_ohm: ra_ohm, volts: va - node_v },
+                        ResistorDrop { designator: seq.next_name(), resistance_ohm: rb_ohm, volts: node_v - vb },
                     ],
                     ia.max(0.0) + ib.max(0.0),
                 )
             }
             Reference::Zener(z) => {
                 let va = z.rail.volts(supply_v, negative_rail_v);
-                let drop = ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: z.bias_ohm,
-                    volts: va - node_v,
-                };
+                let drop = ResistorDrop { designator: seq.next_name(), resistance_ohm: z.bias_ohm, volts: va - node_v };
                 (vec![drop], ((va - node_v) / z.bias_ohm).max(0.0))
             }
             Reference::Shunt(s) => {
                 let va = s.rail.volts(supply_v, negative_rail_v);
-                let bias = ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: s.bias_ohm,
-                    volts: va - node_v,
-                };
+                let bias = ResistorDrop { designator: seq.next_name(), resistance_ohm: s.bias_ohm, volts: va - node_v };
                 // The reference pin sits at Vref while regulating, else on the R1–R2 divider.
                 let regulating = s.clamp(supply_v, negative_rail_v).solve(0.0).1 > 0.0;
-                let vr = if regulating {
-                    s.vref_v
-                } else {
-                    node_v * divider_fraction(s.upper_ohm, s.lower_ohm)
-                };
-                let r1 = ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: s.upper_ohm,
-                    volts: node_v - vr,
-                };
-                let r2 = ResistorDrop {
-                    designator: seq.next_name(),
-                    resistance_ohm: s.lower_ohm,
-                    volts: vr,
-                };
+                let vr = if regulating { s.vref_v } else { node_v * divider_fraction(s.upper_ohm, s.lower_ohm) };
+                let r1 = ResistorDrop { designator: seq.next_name(), resistance_ohm: s.upper_ohm, volts: node_v - vr };
+                let r2 = ResistorDrop { designator: seq.next_name(), resistance_ohm: s.lower_ohm, volts: vr };
                 (vec![bias, r1, r2], ((va - node_v) / s.bias_ohm).max(0.0))
             }
         }
@@ -870,11 +662,7 @@ impl Reference {
             Reference::Shunt(s) => {
                 let at = |r1: f64| {
                     let c = Reference::Shunt(ShuntReference { upper_ohm: r1, ..s });
-                    (
-                        c.node_v(supply_v, negative_rail_v, bias_a),
-                        c.regulator_current_a(supply_v, negative_rail_v, bias_a)
-                            .unwrap_or(0.0),
-                    )
+                    (c.node_v(supply_v, negative_rail_v, bias_a), c.regulator_current_a(supply_v, negative_rail_v, bias_a).unwrap_or(0.0))
                 };
                 let (mut lo, mut hi) = (1e-3_f64.ln(), 1e12_f64.ln());
                 let (v_lo, _) = at(lo.exp());
@@ -907,20 +695,12 @@ impl Reference {
                 }
                 Ok(Reference::Shunt(ShuntReference { upper_ohm: r1, ..s }))
             }
-            Reference::Divider {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-            } => {
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
                 let va = rail_a.volts(supply_v, negative_rail_v);
                 let vb = rail_b.volts(supply_v, negative_rail_v);
                 let rt = ra_ohm + rb_ohm;
                 if !(rt.is_finite() && rt > 0.0) {
-                    return Err(DesignError::invalid(
-                        "reference",
-                        "the divider total Ra + Rb must be a finite number above zero",
-                    ));
+                    return Err(DesignError::invalid("reference", "the divider total Ra + Rb must be a finite number above zero"));
                 }
                 let span = va - vb;
                 if span.abs() <= 1e-12 * va.abs().max(vb.abs()).max(1.0) {
@@ -931,9 +711,7 @@ impl Reference {
                 }
                 let a = bias_a * rt;
                 let x0 = (required_v - vb) / span;
-                let x = match pick_root(quadratic_roots(a, span - a, vb - required_v), x0, |x| {
-                    x > 0.0 && x < 1.0
-                }) {
+                let x = match pick_root(quadratic_roots(a, span - a, vb - required_v), x0, |x| x > 0.0 && x < 1.0) {
                     Some(x) => x,
                     None => {
                         let (lo, hi) = if va < vb { (va, vb) } else { (vb, va) };
@@ -949,18 +727,11 @@ impl Reference {
                 let ra = rt - rb;
                 if !(ra > 0.0 && rb > 0.0) {
                     return Err(DesignError::infeasible(
-                        format!(
-                            "the {what} would need to sit on a divider rail ({required_v:.4} V)"
-                        ),
+                        format!("the {what} would need to sit on a divider rail ({required_v:.4} V)"),
                         "use a direct reference (reference kind \"direct\") at that voltage",
                     ));
                 }
-                Ok(Reference::Divider {
-                    ra_ohm: ra,
-                    rail_a,
-                    rb_ohm: rb,
-                    rail_b,
-                })
+                Ok(Reference::Divider { ra_ohm: ra, rail_a, rb_ohm: rb, rail_b })
             }
         }
     }
@@ -970,35 +741,19 @@ impl Reference {
     pub(crate) fn divider_current_a(&self, supply_v: f64, negative_rail_v: f64) -> f64 {
         match *self {
             Reference::Direct { .. } => 0.0,
-            Reference::Divider {
-                ra_ohm,
-                rail_a,
-                rb_ohm,
-                rail_b,
-            } => {
-                (rail_a.volts(supply_v, negative_rail_v) - rail_b.volts(supply_v, negative_rail_v))
-                    .abs()
-                    / (ra_ohm + rb_ohm)
+            Reference::Divider { ra_ohm, rail_a, rb_ohm, rail_b } => {
+                (rail_a.volts(supply_v, negative_rail_v) - rail_b.volts(supply_v, negative_rail_v)).abs() / (ra_ohm + rb_ohm)
             }
-            Reference::Zener(ZenerReference { bias_ohm, rail, .. })
-            | Reference::Shunt(ShuntReference { bias_ohm, rail, .. }) => ((rail
-                .volts(supply_v, negative_rail_v)
-                - self.node_v(supply_v, negative_rail_v, 0.0))
-                / bias_ohm)
-                .abs(),
+            Reference::Zener(ZenerReference { bias_ohm, rail, .. }) | Reference::Shunt(ShuntReference { bias_ohm, rail, .. }) => {
+                ((rail.volts(supply_v, negative_rail_v) - self.node_v(supply_v, negative_rail_v, 0.0)) / bias_ohm).abs()
+            }
         }
     }
 
     /// The warning when a zener's or shunt reference's current falls below its minimum at the
     /// lowest supply of the operating range (`supply_min_v`, else the nominal supply); `device`
     /// gives the rails (a split negative rail moves with the supply) and `bias_a` the input's draw.
-    pub(crate) fn current_check(
-        &self,
-        device: &Comparator,
-        supply_min_v: Option<f64>,
-        bias_a: f64,
-        w: &mut Vec<Warning>,
-    ) {
+    pub(crate) fn current_check(&self, device: &Comparator, supply_min_v: Option<f64>, bias_a: f64, w: &mut Vec<Warning>) {
         let (min_a, what) = match self {
             Reference::Zener(z) => (z.min_current_a, "zener current"),
             Reference::Shunt(s) => (s.min_current_a, "shunt reference cathode current"),
@@ -1006,9 +761,7 @@ impl Reference {
         };
         let supply = supply_min_v.unwrap_or(device.supply_v).min(device.supply_v);
         let d = super::comparator::device_at_supply(device, supply);
-        let Some(i) = self.regulator_current_a(d.supply_v, d.negative_rail_v, bias_a) else {
-            return;
-        };
+        let Some(i) = self.regulator_current_a(d.supply_v, d.negative_rail_v, bias_a) else { return };
         if i < min_a {
             w.push(Warning::new(
                 WarningCode::ReferenceCurrentLow,
@@ -1029,13 +782,7 @@ mod tests {
 
     #[test]
     fn zener_thevenin_is_the_superposition_of_its_two_sources() {
-        let z = ZenerReference {
-            bias_ohm: 1e3,
-            vz_v: 3.3,
-            test_current_a: 5e-3,
-            slope_ohm: 100.0,
-            ..ZenerReference::default()
-        };
+        let z = ZenerReference { bias_ohm: 1e3, vz_v: 3.3, test_current_a: 5e-3, slope_ohm: 100.0, ..ZenerReference::default() };
         let r = Reference::Zener(z);
         let (v, rth) = r.thevenin(5.0, 0.0);
         let vz0 = 3.3 - 5e-3 * 100.0;
@@ -1048,37 +795,20 @@ mod tests {
 
     #[test]
     fn shunt_reference_programs_its_cathode_and_solves_r1() {
-        let s = ShuntReference {
-            upper_ohm: 10e3,
-            lower_ohm: 10e3,
-            bias_ohm: 470.0,
-            ..ShuntReference::default()
-        };
+        let s = ShuntReference { upper_ohm: 10e3, lower_ohm: 10e3, bias_ohm: 470.0, ..ShuntReference::default() };
         assert!((s.cathode_v() - (2.495 * 2.0 + 2e-6 * 10e3)).abs() < 1e-12);
         let r = Reference::Shunt(s);
         let v = r.node_v(12.0, 0.0, 0.0);
         assert!((v - s.cathode_v()).abs() < 0.01, "{v}");
-        let back = Reference::Shunt(ShuntReference {
-            upper_ohm: 3e3,
-            ..s
-        })
-        .synthesise_for(v, 0.0, 12.0, 0.0, "x")
-        .unwrap();
+        let back = Reference::Shunt(ShuntReference { upper_ohm: 3e3, ..s }).synthesise_for(v, 0.0, 12.0, 0.0, "x").unwrap();
         let Reference::Shunt(b) = back else { panic!() };
         assert!((b.upper_ohm - 10e3).abs() < 1e-3, "{}", b.upper_ohm);
-        assert!(Reference::Shunt(s)
-            .synthesise_for(20.0, 0.0, 12.0, 0.0, "x")
-            .is_err());
+        assert!(Reference::Shunt(s).synthesise_for(20.0, 0.0, 12.0, 0.0, "x").is_err());
     }
 
     #[test]
     fn low_current_warns_at_the_lowest_supply() {
-        let z = Reference::Zener(ZenerReference {
-            bias_ohm: 1e3,
-            vz_v: 3.3,
-            min_current_a: 1e-3,
-            ..ZenerReference::default()
-        });
+        let z = Reference::Zener(ZenerReference { bias_ohm: 1e3, vz_v: 3.3, min_current_a: 1e-3, ..ZenerReference::default() });
         let d = Comparator::ideal(5.0);
         let mut w = Vec::new();
         z.current_check(&d, None, 0.0, &mut w);
@@ -1091,27 +821,13 @@ mod tests {
 
     #[test]
     fn records_read_each_kind_and_refuse_bad_values() {
-        let z: Reference =
-            serde_json::from_str(r#"{"kind":"zener","bias_ohm":2200,"vz_v":4.7}"#).unwrap();
-        assert!(matches!(
-            z,
-            Reference::Zener(ZenerReference {
-                bias_ohm: 2200.0,
-                ..
-            })
-        ));
-        let s: Reference =
-            serde_json::from_str(r#"{"kind":"shunt","upper_ohm":1e4,"lower_ohm":1e4}"#).unwrap();
+        let z: Reference = serde_json::from_str(r#"{"kind":"zener","bias_ohm":2200,"vz_v":4.7}"#).unwrap();
+        assert!(matches!(z, Reference::Zener(ZenerReference { bias_ohm: 2200.0, .. })));
+        let s: Reference = serde_json::from_str(r#"{"kind":"shunt","upper_ohm":1e4,"lower_ohm":1e4}"#).unwrap();
         assert!(s.validate().is_ok());
-        let bad = Reference::Zener(ZenerReference {
-            vz_v: f64::NAN,
-            ..ZenerReference::default()
-        });
+        let bad = Reference::Zener(ZenerReference { vz_v: f64::NAN, ..ZenerReference::default() });
         assert!(bad.validate().is_err());
-        let bad = Reference::Shunt(ShuntReference {
-            lower_ohm: 0.0,
-            ..ShuntReference::default()
-        });
+        let bad = Reference::Shunt(ShuntReference { lower_ohm: 0.0, ..ShuntReference::default() });
         assert!(bad.validate().is_err());
     }
 }
@@ -1136,73 +852,19 @@ impl Reference {
     /// The zener's or shunt reference's datasheet values that are not parameters (empty for a
     /// rail or divider), in a fixed order.
     pub fn fields(&self) -> Vec<ReferenceField> {
-        let f = |id, label, unit, quantity, value| ReferenceField {
-            id,
-            label,
-            unit,
-            quantity,
-            value,
-        };
+        let f = |id, label, unit, quantity, value| ReferenceField { id, label, unit, quantity, value };
         match *self {
             Reference::Zener(z) => vec![
-                f(
-                    "tolerance_pct",
-                    "zener tolerance (±)",
-                    "%",
-                    Quantity::Percent,
-                    z.tolerance_pct,
-                ),
-                f(
-                    "tempco_v_per_k",
-                    "zener temperature coefficient",
-                    "V/K",
-                    Quantity::VoltageDrift,
-                    z.tempco_v_per_k,
-                ),
-                f(
-                    "test_current_a",
-                    "zener test current Izt",
-                    "A",
-                    Quantity::Current,
-                    z.test_current_a,
-                ),
-                f(
-                    "min_current_a",
-                    "zener minimum current",
-                    "A",
-                    Quantity::Current,
-                    z.min_current_a,
-                ),
+                f("tolerance_pct", "zener tolerance (±)", "%", Quantity::Percent, z.tolerance_pct),
+                f("tempco_v_per_k", "zener temperature coefficient", "V/K", Quantity::VoltageDrift, z.tempco_v_per_k),
+                f("test_current_a", "zener test current Izt", "A", Quantity::Current, z.test_current_a),
+                f("min_current_a", "zener minimum current", "A", Quantity::Current, z.min_current_a),
             ],
             Reference::Shunt(s) => vec![
-                f(
-                    "tolerance_pct",
-                    "Vref tolerance (±)",
-                    "%",
-                    Quantity::Percent,
-                    s.tolerance_pct,
-                ),
-                f(
-                    "tempco_v_per_k",
-                    "Vref drift (either sign)",
-                    "V/K",
-                    Quantity::VoltageDrift,
-                    s.tempco_v_per_k,
-                ),
-                f(
-                    "test_current_a",
-                    "cathode current at which Vref holds",
-                    "A",
-                    Quantity::Current,
-                    s.test_current_a,
-                ),
-                f(
-                    "min_current_a",
-                    "minimum cathode current",
-                    "A",
-                    Quantity::Current,
-                    s.min_current_a,
-                ),
+                f("tolerance_pct", "Vref tolerance (±)", "%", Quantity::Percent, s.tolerance_pct),
+                f("tempco_v_per_k", "Vref drift (either sign)", "V/K", Quantity::VoltageDrift, s.tempco_v_per_k),
+                f("test_current_a", "cathode current at which Vref holds", "A", Quantity::Current, s.test_current_a),
+                f("min_current_a", "minimum cathode current", "A", Quantity::Current, s.min_current_a),
             ],
             _ => Vec::new(),
         }
@@ -1221,12 +883,7 @@ impl Reference {
             (Reference::Shunt(s), "tempco_v_per_k") => &mut s.tempco_v_per_k,
             (Reference::Shunt(s), "test_current_a") => &mut s.test_current_a,
             (Reference::Shunt(s), "min_current_a") => &mut s.min_current_a,
-            _ => {
-                return Err(DesignError::invalid(
-                    &format!("reference.{id}"),
-                    "this reference has no such value",
-                ))
-            }
+            _ => return Err(DesignError::invalid(&format!("reference.{id}"), "this reference has no such value")),
         };
         *slot = value;
         r.validate()?;
@@ -1272,17 +929,10 @@ impl super::Topology {
     }
 
     /// The same circuit with a datasheet value of its reference set ([`Reference::with_field`]).
-    pub fn with_reference_field(
-        &self,
-        id: &str,
-        value: f64,
-    ) -> Result<super::Topology, DesignError> {
-        let (r, _) = self
-            .reference()
-            .ok_or_else(|| DesignError::invalid("reference", "this circuit has no reference"))?;
+    pub fn with_reference_field(&self, id: &str, value: f64) -> Result<super::Topology, DesignError> {
+        let (r, _) = self.reference().ok_or_else(|| DesignError::invalid("reference", "this circuit has no reference"))?;
         let next = r.with_field(id, value)?;
-        self.with_reference(next)
-            .ok_or_else(|| DesignError::invalid("reference", "this circuit has no reference"))
+        self.with_reference(next).ok_or_else(|| DesignError::invalid("reference", "this circuit has no reference"))
     }
 
     /// The same circuit with its reference turned into another kind ([`Reference::converted`]),
@@ -1304,9 +954,7 @@ pub fn regulator_lines(
     checks: &crate::analysis::CheckSettings,
     parts: &crate::bom::PartSettings,
 ) -> Vec<crate::bom::RegulatorLine> {
-    let Some((r, d)) = circuit.reference() else {
-        return Vec::new();
-    };
+    let Some((r, d)) = circuit.reference() else { return Vec::new() };
     if r.validate().is_err() {
         return Vec::new();
     }
@@ -1324,10 +972,7 @@ pub fn regulator_lines(
     let need = p * parts.power_derating_factor;
     match *r {
         Reference::Zener(z) => {
-            let rating = crate::bom::ZENER_RATINGS_W
-                .iter()
-                .copied()
-                .find(|&w| w >= need);
+            let rating = crate::bom::ZENER_RATINGS_W.iter().copied().find(|&w| w >= need);
             let mut notes = vec![
                 format!(
                     "largest zener current {} and dissipation {} at {} supply; slope resistance {} at {}",
@@ -1340,10 +985,7 @@ pub fn regulator_lines(
                 format!("needs at least {} to regulate (minimum current)", ma(z.min_current_a)),
             ];
             if rating.is_none() {
-                notes.push(format!(
-                    "needs more than {}: raise the bias resistor",
-                    mw(need)
-                ));
+                notes.push(format!("needs more than {}: raise the bias resistor", mw(need)));
             }
             vec![crate::bom::RegulatorLine {
                 designator: "D1".into(),

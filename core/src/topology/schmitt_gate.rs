@@ -19,10 +19,10 @@
 //! are the gate's own.
 
 use super::logic::{clamp_warning, logic_input_range};
-use super::{expect_len, Circuit, Described, Parameter, ParameterKind};
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop,
-    Sense, Thresholds, Warning, WarningCode,
+    Analysis, OutputStage,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{finite, non_negative, positive, DesignError};
 use serde::{Deserialize, Serialize};
@@ -56,11 +56,7 @@ impl DatasheetRange {
     }
 
     fn scaled(self, k: f64) -> Self {
-        DatasheetRange {
-            min_v: self.min_v * k,
-            typ_v: self.typ_v * k,
-            max_v: self.max_v * k,
-        }
+        DatasheetRange { min_v: self.min_v * k, typ_v: self.typ_v * k, max_v: self.max_v * k }
     }
 }
 
@@ -93,16 +89,8 @@ impl Default for SchmittInput {
     fn default() -> Self {
         SchmittInput {
             supply_v: 5.0,
-            vt_upper: DatasheetRange {
-                min_v: 2.0,
-                typ_v: 2.8,
-                max_v: 3.5,
-            },
-            vt_lower: DatasheetRange {
-                min_v: 1.0,
-                typ_v: 1.7,
-                max_v: 2.4,
-            },
+            vt_upper: DatasheetRange { min_v: 2.0, typ_v: 2.8, max_v: 3.5 },
+            vt_lower: DatasheetRange { min_v: 1.0, typ_v: 1.7, max_v: 2.4 },
             output_high_drop_v: 0.1,
             output_low_v: 0.1,
             inverting: true,
@@ -132,9 +120,7 @@ impl SchmittInput {
     /// the rows if it gives one). Both limits are positive whenever the record validates.
     pub fn hysteresis_limits_v(&self) -> (f64, f64) {
         let typ = self.typ_hysteresis_v();
-        let lo = (0.5 * typ)
-            .max(self.vt_upper.min_v - self.vt_lower.max_v)
-            .min(typ);
+        let lo = (0.5 * typ).max(self.vt_upper.min_v - self.vt_lower.max_v).min(typ);
         let hi = (self.vt_upper.max_v - self.vt_lower.min_v).max(typ);
         (lo, hi)
     }
@@ -147,9 +133,7 @@ impl SchmittInput {
             return self.vt_lower.typ_v;
         }
         let (dvt_min, _) = self.hysteresis_limits_v();
-        let lower = (vt_upper_v - hysteresis_v)
-            .max(self.vt_lower.min_v)
-            .min(self.vt_lower.max_v);
+        let lower = (vt_upper_v - hysteresis_v).max(self.vt_lower.min_v).min(self.vt_lower.max_v);
         // ΔVT min ≤ VT+min − VT−min keeps this within the VT− limits; otherwise the hysteresis wins.
         lower.min(vt_upper_v - dvt_min)
     }
@@ -204,12 +188,7 @@ pub struct SchmittGate {
 impl SchmittGate {
     /// The gate alone (no input network): thresholds are the gate's own.
     pub fn bare(gate: SchmittInput) -> Self {
-        SchmittGate {
-            ra_ohm: None,
-            rb_ohm: None,
-            rc_ohm: None,
-            gate,
-        }
+        SchmittGate { ra_ohm: None, rb_ohm: None, rc_ohm: None, gate }
     }
 
     /// Scale a = Ra·G and offset b = −VDD·Ra/Rc of the input network: VT = a·VTgate + b.
@@ -254,11 +233,7 @@ impl SchmittGate {
     fn node_resistance_ohm(&self) -> f64 {
         match self.ra_ohm {
             None => 0.0,
-            Some(ra) => {
-                1.0 / (1.0 / ra
-                    + self.rb_ohm.map_or(0.0, |r| 1.0 / r)
-                    + self.rc_ohm.map_or(0.0, |r| 1.0 / r))
-            }
+            Some(ra) => 1.0 / (1.0 / ra + self.rb_ohm.map_or(0.0, |r| 1.0 / r) + self.rc_ohm.map_or(0.0, |r| 1.0 / r)),
         }
     }
 
@@ -271,11 +246,7 @@ impl SchmittGate {
                 format!("R{n}")
             })
         };
-        [
-            next(self.ra_ohm.is_some()),
-            next(self.rb_ohm.is_some()),
-            next(self.rc_ohm.is_some()),
-        ]
+        [next(self.ra_ohm.is_some()), next(self.rb_ohm.is_some()), next(self.rc_ohm.is_some())]
     }
 }
 
@@ -300,10 +271,7 @@ impl Circuit for SchmittGate {
 
     fn thresholds(&self) -> Result<Thresholds, DesignError> {
         let (a, b) = self.scale_and_offset();
-        Ok(Thresholds {
-            vt_upper_v: a * self.gate.vt_upper.typ_v + b,
-            vt_lower_v: a * self.gate.vt_lower.typ_v + b,
-        })
+        Ok(Thresholds { vt_upper_v: a * self.gate.vt_upper.typ_v + b, vt_lower_v: a * self.gate.vt_lower.typ_v + b })
     }
 
     fn output_levels(&self) -> Result<(f64, f64), DesignError> {
@@ -311,18 +279,10 @@ impl Circuit for SchmittGate {
     }
 
     fn sense(&self) -> Sense {
-        if self.gate.inverting {
-            Sense::Inverting
-        } else {
-            Sense::NonInverting
-        }
+        if self.gate.inverting { Sense::Inverting } else { Sense::NonInverting }
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        _state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, _state: OutputState) -> Result<OperatingPoint, DesignError> {
         // The output does not feed back into the network, so both states share one solution.
         let x = self.node_x_v(vin_v);
         let vdd = self.gate.supply_v;
@@ -331,37 +291,22 @@ impl Circuit for SchmittGate {
         let mut input_current_a = 0.0;
         let mut network = 0.0;
         if let (Some(r), Some(d)) = (self.ra_ohm, da) {
-            resistors.push(ResistorDrop {
-                designator: d,
-                resistance_ohm: r,
-                volts: vin_v - x,
-            });
+            resistors.push(ResistorDrop { designator: d, resistance_ohm: r, volts: vin_v - x });
             input_current_a = (vin_v - x) / r;
         }
         if let (Some(r), Some(d)) = (self.rb_ohm, db) {
-            resistors.push(ResistorDrop {
-                designator: d,
-                resistance_ohm: r,
-                volts: x,
-            });
+            resistors.push(ResistorDrop { designator: d, resistance_ohm: r, volts: x });
             network += (x / r).abs();
         }
         if let (Some(r), Some(d)) = (self.rc_ohm, dc) {
-            resistors.push(ResistorDrop {
-                designator: d,
-                resistance_ohm: r,
-                volts: vdd - x,
-            });
+            resistors.push(ResistorDrop { designator: d, resistance_ohm: r, volts: vdd - x });
             network += ((vdd - x) / r).abs();
         }
         Ok(OperatingPoint {
             resistors,
             input_current_a,
             network_current_a: network,
-            device_inputs: vec![NodeVoltage {
-                name: "gate input (node X)".into(),
-                volts: x,
-            }],
+            device_inputs: vec![NodeVoltage { name: "gate input (node X)".into(), volts: x }],
         })
     }
 
@@ -369,75 +314,33 @@ impl Circuit for SchmittGate {
         let [da, db, dc] = self.designators();
         let mut v = Vec::new();
         if let (Some(r), Some(d)) = (self.ra_ohm, da) {
-            v.push(Parameter::resistor(
-                "ra_ohm",
-                &d,
-                "series input resistor",
-                r,
-            ));
+            v.push(Parameter::resistor("ra_ohm", &d, "series input resistor", r));
         }
         if let (Some(r), Some(d)) = (self.rb_ohm, db) {
-            v.push(Parameter::resistor(
-                "rb_ohm",
-                &d,
-                "resistor from gate input to ground",
-                r,
-            ));
+            v.push(Parameter::resistor("rb_ohm", &d, "resistor from gate input to ground", r));
         }
         if let (Some(r), Some(d)) = (self.rc_ohm, dc) {
-            v.push(Parameter::resistor(
-                "rc_ohm",
-                &d,
-                "resistor from gate input to VDD",
-                r,
-            ));
+            v.push(Parameter::resistor("rc_ohm", &d, "resistor from gate input to VDD", r));
         }
         let g = &self.gate;
-        v.push(Parameter::quantity(
-            "supply_v",
-            "supply VDD",
-            g.supply_v,
-            ParameterKind::Supply,
-        ));
+        v.push(Parameter::quantity("supply_v", "supply VDD", g.supply_v, ParameterKind::Supply));
         v.push(
-            Parameter::quantity(
-                "gate_vt_upper_v",
-                "gate VT+ (typical)",
-                g.vt_upper.typ_v,
-                ParameterKind::DeviceThreshold,
-            )
-            .with_limits(g.vt_upper.min_v, g.vt_upper.max_v)
-            .with_drift(super::Drift::Known(g.threshold_tempco_v_per_k)),
+            Parameter::quantity("gate_vt_upper_v", "gate VT+ (typical)", g.vt_upper.typ_v, ParameterKind::DeviceThreshold)
+                .with_limits(g.vt_upper.min_v, g.vt_upper.max_v)
+                .with_drift(super::Drift::Known(g.threshold_tempco_v_per_k)),
         );
         let (dvt_min, dvt_max) = g.hysteresis_limits_v();
         v.push(
-            Parameter::quantity(
-                "gate_hysteresis_v",
-                "gate hysteresis ΔVT = VT+ − VT− (typical)",
-                g.typ_hysteresis_v(),
-                ParameterKind::DeviceThreshold,
-            )
-            .with_limits(dvt_min, dvt_max),
+            Parameter::quantity("gate_hysteresis_v", "gate hysteresis ΔVT = VT+ − VT− (typical)", g.typ_hysteresis_v(), ParameterKind::DeviceThreshold)
+                .with_limits(dvt_min, dvt_max),
         );
-        v.push(Parameter::quantity(
-            "output_high_drop_v",
-            "VDD − VOH",
-            g.output_high_drop_v,
-            ParameterKind::OutputLevel,
-        ));
-        v.push(Parameter::quantity(
-            "output_low_v",
-            "VOL",
-            g.output_low_v,
-            ParameterKind::OutputLevel,
-        ));
+        v.push(Parameter::quantity("output_high_drop_v", "VDD − VOH", g.output_high_drop_v, ParameterKind::OutputLevel));
+        v.push(Parameter::quantity("output_low_v", "VOL", g.output_low_v, ParameterKind::OutputLevel));
         v
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
-        let fitted = self.ra_ohm.is_some() as usize
-            + self.rb_ohm.is_some() as usize
-            + self.rc_ohm.is_some() as usize;
+        let fitted = self.ra_ohm.is_some() as usize + self.rb_ohm.is_some() as usize + self.rc_ohm.is_some() as usize;
         expect_len(values, fitted + 5)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
@@ -480,11 +383,7 @@ impl Circuit for SchmittGate {
     /// Inverts VT± = a·VTgate± + b with Ra as the anchor: a = ΔVin/ΔVgate, b = VT+ − a·VT+gate;
     /// Rc = −VDD·Ra/b (none when b = 0), 1/Rb = (a − 1)/Ra − 1/Rc (none when zero).
     /// Feasible iff a ≥ 1 and −VDD(a − 1) ≤ b ≤ 0.
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        ra_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, ra_ohm: f64) -> Result<Self, DesignError> {
         self.gate.validate()?;
         finite("targets.vt_upper_v", targets.vt_upper_v)?;
         finite("targets.vt_lower_v", targets.vt_lower_v)?;
@@ -494,10 +393,7 @@ impl Circuit for SchmittGate {
         let width = targets.vt_upper_v - targets.vt_lower_v;
         if width <= 0.0 {
             return Err(DesignError::infeasible(
-                format!(
-                    "VT+ ({:.4} V) must be above VT− ({:.4} V)",
-                    targets.vt_upper_v, targets.vt_lower_v
-                ),
+                format!("VT+ ({:.4} V) must be above VT− ({:.4} V)", targets.vt_upper_v, targets.vt_lower_v),
                 "swap the targets",
             ));
         }
@@ -593,14 +489,7 @@ impl Circuit for SchmittGate {
         let vdd = g.supply_v;
         let vin_lo = settings.input_min_v.unwrap_or(t.vt_lower_v.min(0.0));
         let vin_hi = settings.input_max_v.unwrap_or(t.vt_upper_v.max(vdd));
-        w.extend(clamp_warning(
-            self.node_x_v(vin_lo),
-            self.node_x_v(vin_hi),
-            vin_lo,
-            vin_hi,
-            vdd,
-            self.node_resistance_ohm(),
-        ));
+        w.extend(clamp_warning(self.node_x_v(vin_lo), self.node_x_v(vin_hi), vin_lo, vin_hi, vdd, self.node_resistance_ohm()));
         w
     }
 
@@ -641,11 +530,7 @@ mod tests {
     }
 
     fn targets(up: f64, lo: f64) -> Targets {
-        Targets {
-            vt_upper_v: up,
-            vt_lower_v: lo,
-            impedance: ImpedanceChoice::AnchorOhm(100e3),
-        }
+        Targets { vt_upper_v: up, vt_lower_v: lo, impedance: ImpedanceChoice::AnchorOhm(100e3) }
     }
 
     #[test]
@@ -660,11 +545,7 @@ mod tests {
     fn divider_to_ground_scales_by_the_division_ratio() {
         // Unloaded voltage divider (Horowitz & Hill, The Art of Electronics, ch. 1, from memory):
         // Vx = Vin·Rb/(Ra+Rb), so the input-referred threshold is VTgate·(Ra+Rb)/Rb.
-        let c = SchmittGate {
-            ra_ohm: Some(390e3),
-            rb_ohm: Some(100e3),
-            ..SchmittGate::bare(gate())
-        };
+        let c = SchmittGate { ra_ohm: Some(390e3), rb_ohm: Some(100e3), ..SchmittGate::bare(gate()) };
         let t = c.thresholds().unwrap();
         assert!((t.vt_upper_v - 2.8 * 4.9).abs() < 1e-12);
         assert!((t.vt_lower_v - 1.7 * 4.9).abs() < 1e-12);
@@ -672,12 +553,7 @@ mod tests {
 
     #[test]
     fn thresholds_put_node_x_at_the_gate_thresholds() {
-        let c = SchmittGate {
-            ra_ohm: Some(47e3),
-            rb_ohm: Some(68e3),
-            rc_ohm: Some(220e3),
-            ..SchmittGate::bare(gate())
-        };
+        let c = SchmittGate { ra_ohm: Some(47e3), rb_ohm: Some(68e3), rc_ohm: Some(220e3), ..SchmittGate::bare(gate()) };
         let t = c.thresholds().unwrap();
         assert!((c.node_x_v(t.vt_upper_v) - 2.8).abs() < 1e-12);
         assert!((c.node_x_v(t.vt_lower_v) - 1.7).abs() < 1e-12);
@@ -717,52 +593,27 @@ mod tests {
         }
         // Width 1.1 (a = 1) but shifted up: needs b > 0.
         let high = synthesise(&template, &targets(3.3, 2.2)).unwrap_err();
-        assert!(
-            matches!(&high, DesignError::Infeasible { suggestion, .. } if suggestion.contains("negative rail")),
-            "{high:?}"
-        );
+        assert!(matches!(&high, DesignError::Infeasible { suggestion, .. } if suggestion.contains("negative rail")), "{high:?}");
         // a = 2, lowest reachable VT+ = 5 − 2(5 − 2.8) = 0.6 V; ask for 0.5 V.
         let low = synthesise(&template, &targets(0.5, -1.7)).unwrap_err();
-        assert!(
-            matches!(&low, DesignError::Infeasible { reason, .. } if reason.contains("pull-up")),
-            "{low:?}"
-        );
+        assert!(matches!(&low, DesignError::Infeasible { reason, .. } if reason.contains("pull-up")), "{low:?}");
         let reversed = synthesise(&template, &targets(1.0, 2.0)).unwrap_err();
         assert!(matches!(reversed, DesignError::Infeasible { .. }));
     }
 
     #[test]
     fn invalid_inputs_are_typed_errors() {
-        let mut c = SchmittGate {
-            ra_ohm: Some(-1.0),
-            ..SchmittGate::bare(gate())
-        };
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        let mut c = SchmittGate { ra_ohm: Some(-1.0), ..SchmittGate::bare(gate()) };
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.ra_ohm = None;
         c.rb_ohm = Some(1e3);
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
         c.rb_ohm = None;
         c.gate.vt_upper.typ_v = 4.0; // above max 3.5
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.gate = gate();
-        c.gate.vt_lower = DatasheetRange {
-            min_v: 2.0,
-            typ_v: 3.0,
-            max_v: 3.2,
-        }; // VT− above VT+
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        c.gate.vt_lower = DatasheetRange { min_v: 2.0, typ_v: 3.0, max_v: 3.2 }; // VT− above VT+
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
         c.gate = gate();
         c.gate.supply_v = f64::NAN;
         assert!(c.validate().is_err());
@@ -770,33 +621,13 @@ mod tests {
 
     #[test]
     fn parameters_round_trip_with_datasheet_limits() {
-        let c = SchmittGate {
-            ra_ohm: Some(47e3),
-            rc_ohm: Some(220e3),
-            ..SchmittGate::bare(gate())
-        };
+        let c = SchmittGate { ra_ohm: Some(47e3), rc_ohm: Some(220e3), ..SchmittGate::bare(gate()) };
         let p = c.parameters();
-        assert_eq!(
-            p.iter()
-                .filter_map(|p| p.designator.clone())
-                .collect::<Vec<_>>(),
-            ["R1", "R2"]
-        );
-        assert_eq!(
-            p.iter().find(|p| p.id == "gate_vt_upper_v").unwrap().limits,
-            Some([2.0, 3.5])
-        );
+        assert_eq!(p.iter().filter_map(|p| p.designator.clone()).collect::<Vec<_>>(), ["R1", "R2"]);
+        assert_eq!(p.iter().find(|p| p.id == "gate_vt_upper_v").unwrap().limits, Some([2.0, 3.5]));
         // ΔVT limits: max(1.1/2, 2.0 − 2.4) = 0.55 and 3.5 − 1.0 = 2.5 (rule of `hysteresis_limits_v`).
-        let dvt = p
-            .iter()
-            .find(|p| p.id == "gate_hysteresis_v")
-            .unwrap()
-            .limits
-            .unwrap();
-        assert!(
-            (dvt[0] - 0.55).abs() < 1e-12 && (dvt[1] - 2.5).abs() < 1e-12,
-            "{dvt:?}"
-        );
+        let dvt = p.iter().find(|p| p.id == "gate_hysteresis_v").unwrap().limits.unwrap();
+        assert!((dvt[0] - 0.55).abs() < 1e-12 && (dvt[1] - 2.5).abs() < 1e-12, "{dvt:?}");
         let values: Vec<f64> = p.iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&values).unwrap(), c);
         assert!(c.with_parameters(&values[..3]).is_err());
@@ -808,29 +639,14 @@ mod tests {
         // VT− 0.9…1.4…2.1 V, so VT+ min (1.6) lies below VT− max (2.1): the rows overlap.
         let g = SchmittInput {
             supply_v: 4.5,
-            vt_upper: DatasheetRange {
-                min_v: 1.6,
-                typ_v: 2.3,
-                max_v: 3.15,
-            },
-            vt_lower: DatasheetRange {
-                min_v: 0.9,
-                typ_v: 1.4,
-                max_v: 2.1,
-            },
+            vt_upper: DatasheetRange { min_v: 1.6, typ_v: 2.3, max_v: 3.15 },
+            vt_lower: DatasheetRange { min_v: 0.9, typ_v: 1.4, max_v: 2.1 },
             ..SchmittInput::default()
         };
         // ΔVT limits by the rule: max(0.9/2, 1.6 − 2.1) = 0.45 V and 3.15 − 0.9 = 2.25 V.
         let (lo, hi) = g.hysteresis_limits_v();
-        assert!(
-            (lo - 0.45).abs() < 1e-12 && (hi - 2.25).abs() < 1e-12,
-            "{lo} {hi}"
-        );
-        let c = SchmittGate {
-            ra_ohm: Some(100e3),
-            rb_ohm: Some(47e3),
-            ..SchmittGate::bare(g)
-        };
+        assert!((lo - 0.45).abs() < 1e-12 && (hi - 2.25).abs() < 1e-12, "{lo} {hi}");
+        let c = SchmittGate { ra_ohm: Some(100e3), rb_ohm: Some(47e3), ..SchmittGate::bare(g) };
         // Every corner of VT+ and ΔVT (other parameters at nominal) is a valid, physical device.
         let p = c.parameters();
         let base: Vec<f64> = p.iter().map(|p| p.value).collect();
@@ -842,81 +658,36 @@ mod tests {
                 v[iu] = vt_up;
                 v[ih] = dvt;
                 let d = c.with_parameters(&v).unwrap();
-                d.validate()
-                    .unwrap_or_else(|e| panic!("VT+ {vt_up} ΔVT {dvt}: {e}"));
+                d.validate().unwrap_or_else(|e| panic!("VT+ {vt_up} ΔVT {dvt}: {e}"));
                 let gd = d.gate;
-                assert!(
-                    gd.vt_upper.typ_v - gd.vt_lower.typ_v >= lo - 1e-12,
-                    "{gd:?}"
-                );
-                assert!(
-                    (0.9..=2.1).contains(&gd.vt_lower.typ_v),
-                    "VT− leaves its row: {gd:?}"
-                );
+                assert!(gd.vt_upper.typ_v - gd.vt_lower.typ_v >= lo - 1e-12, "{gd:?}");
+                assert!((0.9..=2.1).contains(&gd.vt_lower.typ_v), "VT− leaves its row: {gd:?}");
             }
         }
         // The whole study runs, with the divider and for the bare gate; the bare gate's worst-case
         // band is exactly the datasheet rows, with the hysteresis at least ΔVT min.
         let rep = crate::tolerance::tolerance_report(&c, &Default::default()).unwrap();
-        assert!(
-            rep.worst_case.hysteresis.min.value_v > 0.0,
-            "{:?}",
-            rep.worst_case.hysteresis
-        );
+        assert!(rep.worst_case.hysteresis.min.value_v > 0.0, "{:?}", rep.worst_case.hysteresis);
         assert_eq!(rep.monte_carlo.rejected_trials, 0);
-        let rep =
-            crate::tolerance::tolerance_report(&SchmittGate::bare(g), &Default::default()).unwrap();
+        let rep = crate::tolerance::tolerance_report(&SchmittGate::bare(g), &Default::default()).unwrap();
         let wc = &rep.worst_case;
-        assert!(
-            (wc.hysteresis.min.value_v - lo).abs() < 1e-9 && wc.hysteresis.max.value_v <= hi + 1e-9,
-            "{:?}",
-            wc.hysteresis
-        );
-        assert!(
-            (wc.vt_upper.min.value_v - 1.6).abs() < 1e-9
-                && (wc.vt_upper.max.value_v - 3.15).abs() < 1e-9,
-            "{:?}",
-            wc.vt_upper
-        );
-        assert!(
-            wc.vt_lower.min.value_v >= 0.9 - 1e-9 && wc.vt_lower.max.value_v <= 2.1 + 1e-9,
-            "{:?}",
-            wc.vt_lower
-        );
+        assert!((wc.hysteresis.min.value_v - lo).abs() < 1e-9 && wc.hysteresis.max.value_v <= hi + 1e-9, "{:?}", wc.hysteresis);
+        assert!((wc.vt_upper.min.value_v - 1.6).abs() < 1e-9 && (wc.vt_upper.max.value_v - 3.15).abs() < 1e-9, "{:?}", wc.vt_upper);
+        assert!(wc.vt_lower.min.value_v >= 0.9 - 1e-9 && wc.vt_lower.max.value_v <= 2.1 + 1e-9, "{:?}", wc.vt_lower);
         assert_eq!(rep.monte_carlo.rejected_trials, 0);
     }
 
     #[test]
     fn clamp_check_gives_numbers() {
         // 24 V signal into a 5 V gate through Ra = 100k, Rb = 22k: X reaches 24·22/122 = 4.33 V — fine.
-        let ok = SchmittGate {
-            ra_ohm: Some(100e3),
-            rb_ohm: Some(22e3),
-            ..SchmittGate::bare(gate())
-        };
-        let s = CheckSettings {
-            input_max_v: Some(24.0),
-            ..CheckSettings::default()
-        };
-        assert!(!ok
-            .checks(&s)
-            .iter()
-            .any(|w| w.code == WarningCode::CommonModeRange));
+        let ok = SchmittGate { ra_ohm: Some(100e3), rb_ohm: Some(22e3), ..SchmittGate::bare(gate()) };
+        let s = CheckSettings { input_max_v: Some(24.0), ..CheckSettings::default() };
+        assert!(!ok.checks(&s).iter().any(|w| w.code == WarningCode::CommonModeRange));
         // Rb = 33k: X would reach 24·33/133 = 5.955 V; clamp current = 0.955 V / (100k‖33k) = 38.3 µA.
-        let hot = SchmittGate {
-            rb_ohm: Some(33e3),
-            ..ok
-        };
+        let hot = SchmittGate { rb_ohm: Some(33e3), ..ok };
         let w = hot.checks(&s);
-        let m = w
-            .iter()
-            .find(|w| w.code == WarningCode::CommonModeRange)
-            .expect("clamp warning");
-        assert!(
-            m.message.contains("5.955") && m.message.contains("0.038 mA"),
-            "{}",
-            m.message
-        );
+        let m = w.iter().find(|w| w.code == WarningCode::CommonModeRange).expect("clamp warning");
+        assert!(m.message.contains("5.955") && m.message.contains("0.038 mA"), "{}", m.message);
         let bare = SchmittGate::bare(gate()).checks(&s);
         assert!(bare.iter().any(|w| w.message.contains("signal source")));
         assert!(analyse(&hot, &s).is_ok());
@@ -928,8 +699,8 @@ impl crate::netlist::Netlisted for SchmittGate {
     /// Optional Ra from the input to node `x`, Rb from `x` to 0 V, Rc from `x` to VDD; the
     /// Schmitt-input gate U1 on `x` (on the input directly when Ra is not fitted).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use super::netlisting::{builder, input_centre_v};
         use crate::netlist::{ActiveDevice, GateThreshold, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let g = &self.gate;
         let mut b = builder("schmitt_gate", self);
         let vdd = b.supply(g.supply_v, "VDD");
@@ -953,10 +724,7 @@ impl crate::netlist::Netlisted for SchmittGate {
             output: OUTPUT_NET.into(),
             supply: vdd,
             ground: GROUND.into(),
-            threshold: GateThreshold::Schmitt {
-                upper_v: g.vt_upper.typ_v,
-                lower_v: g.vt_lower.typ_v,
-            },
+            threshold: GateThreshold::Schmitt { upper_v: g.vt_upper.typ_v, lower_v: g.vt_lower.typ_v },
             inverting: g.inverting,
             output_high_v: g.output_high_v(),
             output_low_v: g.output_low_v,

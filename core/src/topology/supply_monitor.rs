@@ -16,12 +16,12 @@
 //! VBAT = [P(1 + r_x + Rtop/Rbot) − β·r_x + IB+·Rtop]/(1 + α·r_x), with the output source
 //! Vx = α·VBAT + β behind Rx and r_x = Rtop/(Rh + Rx).
 
-use super::comparator::bias_error_check_with;
 use super::comparator::{pick_root, quadratic_roots, resistance, verified, Designators};
-use super::{expect_len, Circuit, Described, Parameter, ParameterKind};
+use super::comparator::bias_error_check_with;
+use super::{Described, expect_len, Circuit, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop,
-    Sense, Thresholds, Warning, WarningCode,
+    Analysis, OutputStage,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::device::{Comparator, Rail};
 use crate::error::{finite, non_negative, DesignError};
@@ -104,13 +104,7 @@ type OutSource = (f64, f64, f64);
 
 impl SupplyMonitor {
     /// An undervoltage monitor with a push-pull comparator on its own supply.
-    pub fn undervoltage(
-        rtop_ohm: f64,
-        rbot_ohm: f64,
-        rh_ohm: f64,
-        vref_v: f64,
-        device: Comparator,
-    ) -> Self {
+    pub fn undervoltage(rtop_ohm: f64, rbot_ohm: f64, rh_ohm: f64, vref_v: f64, device: Comparator) -> Self {
         SupplyMonitor {
             rtop_ohm,
             rbot_ohm,
@@ -143,16 +137,8 @@ impl SupplyMonitor {
             return (0.0, self.device.output_low_v(), 0.0);
         }
         match (self.output, self.comparator_supply) {
-            (
-                MonitorOutput::OpenDrain {
-                    rpu_ohm,
-                    pullup_rail,
-                },
-                _,
-            ) => (0.0, self.vpu(pullup_rail), rpu_ohm),
-            (MonitorOutput::PushPull, MonitorSupply::Separate) => {
-                (0.0, self.device.output_high_v(), 0.0)
-            }
+            (MonitorOutput::OpenDrain { rpu_ohm, pullup_rail }, _) => (0.0, self.vpu(pullup_rail), rpu_ohm),
+            (MonitorOutput::PushPull, MonitorSupply::Separate) => (0.0, self.device.output_high_v(), 0.0),
             (MonitorOutput::PushPull, MonitorSupply::FromMonitoredRail { dropout_v }) => {
                 (1.0, -self.self_supply_drop(dropout_v), 0.0)
             }
@@ -170,8 +156,7 @@ impl SupplyMonitor {
         let rte = self.rte();
         let rxr = rte / (self.rh_ohm + rx);
         let p = self.p_switch(high);
-        (p * (1.0 + rxr + rte / self.rbot_ohm) - beta * rxr
-            + self.device.bias_plus_applied_a() * rte)
+        (p * (1.0 + rxr + rte / self.rbot_ohm) - beta * rxr + self.device.bias_plus_applied_a() * rte)
             / (1.0 + alpha * rxr)
     }
 
@@ -205,19 +190,12 @@ impl Circuit for SupplyMonitor {
         resistance("rh_ohm", self.rh_ohm)?;
         finite("vref_v", self.vref_v)?;
         if self.vref_v <= self.device.negative_rail_v {
-            return Err(DesignError::invalid(
-                "vref_v",
-                "must be above the comparator's negative rail (0 V for a single supply)",
-            ));
+            return Err(DesignError::invalid("vref_v", "must be above the comparator's negative rail (0 V for a single supply)"));
         }
         if let MonitorSupply::FromMonitoredRail { dropout_v } = self.comparator_supply {
             non_negative("comparator_supply.dropout_v", dropout_v)?;
         }
-        if let MonitorOutput::OpenDrain {
-            rpu_ohm,
-            pullup_rail,
-        } = self.output
-        {
+        if let MonitorOutput::OpenDrain { rpu_ohm, pullup_rail } = self.output {
             resistance("output.rpu_ohm", rpu_ohm)?;
             pullup_rail.validate("output.pullup_rail")?;
             if self.vpu(pullup_rail) <= self.device.output_low_v() {
@@ -233,10 +211,7 @@ impl Circuit for SupplyMonitor {
 
     fn thresholds(&self) -> Result<Thresholds, DesignError> {
         // Output low below the band: a rising rail leaves the low state at V_rise.
-        Ok(Thresholds {
-            vt_upper_v: self.switch_v(false),
-            vt_lower_v: self.switch_v(true),
-        })
+        Ok(Thresholds { vt_upper_v: self.switch_v(false), vt_lower_v: self.switch_v(true) })
     }
 
     /// The levels at the output node at the instant of switching (self-supplied: VBAT − drop at
@@ -250,46 +225,22 @@ impl Circuit for SupplyMonitor {
         Sense::NonInverting
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let high = state == OutputState::High;
         let (p, o) = self.nodes(vin_v, high);
         let i_top = (vin_v - p) / self.rte();
         let mut seq = Designators::default();
         let mut resistors = vec![
-            ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: self.rtop_ohm,
-                volts: i_top * self.rtop_ohm,
-            },
-            ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: self.rbot_ohm,
-                volts: p,
-            },
-            ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: self.rh_ohm,
-                volts: o - p,
-            },
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.rtop_ohm, volts: i_top * self.rtop_ohm },
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.rbot_ohm, volts: p },
+            ResistorDrop { designator: seq.next_name(), resistance_ohm: self.rh_ohm, volts: o - p },
         ];
         // The monitored rail feeds the divider continuously (DOMAIN §1g); the output or pull-up
         // sources the current into Rh.
         let mut sourced = i_top.max(0.0);
-        if let MonitorOutput::OpenDrain {
-            rpu_ohm,
-            pullup_rail,
-        } = self.output
-        {
+        if let MonitorOutput::OpenDrain { rpu_ohm, pullup_rail } = self.output {
             let vpu = self.vpu(pullup_rail);
-            resistors.push(ResistorDrop {
-                designator: seq.next_name(),
-                resistance_ohm: rpu_ohm,
-                volts: vpu - o,
-            });
+            resistors.push(ResistorDrop { designator: seq.next_name(), resistance_ohm: rpu_ohm, volts: vpu - o });
             sourced += ((vpu - o) / rpu_ohm).max(0.0);
         } else {
             sourced += ((o - p) / self.rh_ohm).max(0.0);
@@ -299,14 +250,8 @@ impl Circuit for SupplyMonitor {
             input_current_a: i_top,
             network_current_a: sourced,
             device_inputs: vec![
-                NodeVoltage {
-                    name: "non-inverting input (node P)".into(),
-                    volts: p,
-                },
-                NodeVoltage {
-                    name: "inverting input (VREF)".into(),
-                    volts: self.vref_v,
-                },
+                NodeVoltage { name: "non-inverting input (node P)".into(), volts: p },
+                NodeVoltage { name: "inverting input (VREF)".into(), volts: self.vref_v },
             ],
         })
     }
@@ -314,110 +259,37 @@ impl Circuit for SupplyMonitor {
     fn parameters(&self) -> Vec<Parameter> {
         let mut seq = Designators::default();
         let mut v = vec![
-            Parameter::resistor(
-                "rtop_ohm",
-                &seq.next_name(),
-                "divider resistor from the monitored rail",
-                self.rtop_ohm,
-            ),
-            Parameter::resistor(
-                "rbot_ohm",
-                &seq.next_name(),
-                "divider resistor to 0 V",
-                self.rbot_ohm,
-            ),
-            Parameter::resistor(
-                "rh_ohm",
-                &seq.next_name(),
-                "hysteresis resistor",
-                self.rh_ohm,
-            ),
+            Parameter::resistor("rtop_ohm", &seq.next_name(), "divider resistor from the monitored rail", self.rtop_ohm),
+            Parameter::resistor("rbot_ohm", &seq.next_name(), "divider resistor to 0 V", self.rbot_ohm),
+            Parameter::resistor("rh_ohm", &seq.next_name(), "hysteresis resistor", self.rh_ohm),
         ];
         if let MonitorOutput::OpenDrain { rpu_ohm, .. } = self.output {
-            v.push(Parameter::resistor(
-                "rpu_ohm",
-                &seq.next_name(),
-                "pull-up resistor",
-                rpu_ohm,
-            ));
+            v.push(Parameter::resistor("rpu_ohm", &seq.next_name(), "pull-up resistor", rpu_ohm));
         }
         let d = &self.device;
-        v.push(Parameter::quantity(
-            "supply_v",
-            "comparator supply",
-            d.supply_v,
-            ParameterKind::Supply,
-        ));
-        v.push(Parameter::quantity(
-            "negative_rail_v",
-            "negative rail",
-            d.negative_rail_v,
-            ParameterKind::Supply,
-        ));
-        v.push(Parameter::quantity(
-            "vref_v",
-            "reference VREF",
-            self.vref_v,
-            ParameterKind::Reference,
-        ));
-        if let MonitorOutput::OpenDrain {
-            pullup_rail: Rail::Fixed(x),
-            ..
-        } = self.output
-        {
-            v.push(Parameter::quantity(
-                "pullup_v",
-                "pull-up rail",
-                x,
-                ParameterKind::Supply,
-            ));
+        v.push(Parameter::quantity("supply_v", "comparator supply", d.supply_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("negative_rail_v", "negative rail", d.negative_rail_v, ParameterKind::Supply));
+        v.push(Parameter::quantity("vref_v", "reference VREF", self.vref_v, ParameterKind::Reference));
+        if let MonitorOutput::OpenDrain { pullup_rail: Rail::Fixed(x), .. } = self.output {
+            v.push(Parameter::quantity("pullup_v", "pull-up rail", x, ParameterKind::Supply));
         }
         if let MonitorSupply::FromMonitoredRail { dropout_v } = self.comparator_supply {
-            v.push(Parameter::quantity(
-                "dropout_v",
-                "supply dropout",
-                dropout_v,
-                ParameterKind::OutputLevel,
-            ));
+            v.push(Parameter::quantity("dropout_v", "supply dropout", dropout_v, ParameterKind::OutputLevel));
         }
         if self.output == MonitorOutput::PushPull {
-            v.push(Parameter::quantity(
-                "output_high_drop_v",
-                "VCC − VOH",
-                d.output_high_drop_v,
-                ParameterKind::OutputLevel,
-            ));
+            v.push(Parameter::quantity("output_high_drop_v", "VCC − VOH", d.output_high_drop_v, ParameterKind::OutputLevel));
         }
-        v.push(Parameter::quantity(
-            "output_low_rise_v",
-            "VOL − VEE",
-            d.output_low_rise_v,
-            ParameterKind::OutputLevel,
-        ));
+        v.push(Parameter::quantity("output_low_rise_v", "VOL − VEE", d.output_low_rise_v, ParameterKind::OutputLevel));
         v.push(super::comparator::offset_parameter(d));
-        v.push(super::comparator::bias_parameter(
-            "bias_plus_a",
-            "bias current IB+",
-            d.bias_plus_a,
-            d,
-        ));
+        v.push(super::comparator::bias_parameter("bias_plus_a", "bias current IB+", d.bias_plus_a, d));
         v.push(super::comparator::builtin_hysteresis_parameter(d));
         v
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
         let open = matches!(self.output, MonitorOutput::OpenDrain { .. });
-        let fixed_pu = matches!(
-            self.output,
-            MonitorOutput::OpenDrain {
-                pullup_rail: Rail::Fixed(_),
-                ..
-            }
-        );
-        let selfs = matches!(
-            self.comparator_supply,
-            MonitorSupply::FromMonitoredRail { .. }
-        );
+        let fixed_pu = matches!(self.output, MonitorOutput::OpenDrain { pullup_rail: Rail::Fixed(_), .. });
+        let selfs = matches!(self.comparator_supply, MonitorSupply::FromMonitoredRail { .. });
         let n = 3 + open as usize + 3 + fixed_pu as usize + selfs as usize + (!open) as usize + 4;
         expect_len(values, n)?;
         let mut it = values.iter().copied();
@@ -432,11 +304,7 @@ impl Circuit for SupplyMonitor {
         c.device.supply_v = next();
         c.device.negative_rail_v = next();
         c.vref_v = next();
-        if let MonitorOutput::OpenDrain {
-            pullup_rail: rail @ Rail::Fixed(_),
-            ..
-        } = &mut c.output
-        {
+        if let MonitorOutput::OpenDrain { pullup_rail: rail @ Rail::Fixed(_), .. } = &mut c.output {
             *rail = Rail::Fixed(next());
         }
         if let MonitorSupply::FromMonitoredRail { dropout_v } = &mut c.comparator_supply {
@@ -458,19 +326,12 @@ impl Circuit for SupplyMonitor {
     /// open-drain r is the positive root of B·Rpu·r² + (B + C − A·Rpu/Rtop)·Rtop·r − A·Rtop = 0 with
     /// B = P+(P− − VOL)/P−, C = Vpu − P+ (DOMAIN's quadratic in Rh without offsets);
     /// then Rh = Rtop/r, q = (V_rise − IB+Rtop + r·VOL)/P− − 1 − r, Rbot = Rtop/q.
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        rtop_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, rtop_ohm: f64) -> Result<Self, DesignError> {
         self.validate()?;
         resistance("anchor_ohm", rtop_ohm)?;
         let (rise, fall) = (targets.vt_upper_v, targets.vt_lower_v);
         if !(rise.is_finite() && fall.is_finite()) {
-            return Err(DesignError::invalid(
-                "targets",
-                "V_rise and V_fall must be finite numbers",
-            ));
+            return Err(DesignError::invalid("targets", "V_rise and V_fall must be finite numbers"));
         }
         if rise <= fall {
             return Err(DesignError::infeasible(
@@ -484,9 +345,7 @@ impl Circuit for SupplyMonitor {
         let ph = self.p_switch(true);
         if !(pl > 0.0 && ph > 0.0) {
             return Err(DesignError::infeasible(
-                format!(
-                    "the comparator would switch at {ph:.4} V / {pl:.4} V at node P, not above 0 V"
-                ),
+                format!("the comparator would switch at {ph:.4} V / {pl:.4} V at node P, not above 0 V"),
                 "check VREF, the offset and the built-in hysteresis",
             ));
         }
@@ -499,17 +358,10 @@ impl Circuit for SupplyMonitor {
             let b_coef = ph * (pl - vol) / pl;
             let c_coef = beta - ph;
             let hint = a_coef / (b_coef + c_coef);
-            let roots = quadratic_roots(
-                b_coef * rx,
-                (b_coef + c_coef) * rte - a_coef * rx,
-                -a_coef * rte,
-            );
+            let roots = quadratic_roots(b_coef * rx, (b_coef + c_coef) * rte - a_coef * rx, -a_coef * rte);
             pick_root(roots, hint, |r| r > 0.0).ok_or_else(|| {
                 DesignError::infeasible(
-                    format!(
-                        "no hysteresis resistor reaches a band of {:.4} V with this pull-up",
-                        rise - fall
-                    ),
+                    format!("no hysteresis resistor reaches a band of {:.4} V with this pull-up", rise - fall),
                     "narrow the band, lower the pull-up resistor, or raise the pull-up rail",
                 )
             })?
@@ -622,8 +474,7 @@ impl Circuit for SupplyMonitor {
     }
 
     fn bench_supply_name(&self) -> Option<&'static str> {
-        (self.comparator_supply == MonitorSupply::Separate)
-            .then_some("separate supply for the comparator")
+        (self.comparator_supply == MonitorSupply::Separate).then_some("separate supply for the comparator")
     }
 
     fn bench_cautions(&self) -> Vec<String> {
@@ -722,10 +573,7 @@ mod tests {
         // DOMAIN §1g: V_fall = VREF(1 + Rtop/Rbot + r′) − Vpu·r′, r′ = Rtop/(Rh+Rpu); V_rise as push-pull.
         let (rt, rb, rh, rpu, vref, vpu) = (100e3, 27e3, 1e6, 10e3, 2.5, 5.0);
         let mut c = SupplyMonitor::undervoltage(rt, rb, rh, vref, Comparator::ideal(5.0));
-        c.output = MonitorOutput::OpenDrain {
-            rpu_ohm: rpu,
-            pullup_rail: Rail::Fixed(vpu),
-        };
+        c.output = MonitorOutput::OpenDrain { rpu_ohm: rpu, pullup_rail: Rail::Fixed(vpu) };
         let t = c.thresholds().unwrap();
         let rp = rt / (rh + rpu);
         assert!((t.vt_lower_v - (vref * (1.0 + rt / rb + rp) - vpu * rp)).abs() < 1e-12);
@@ -737,20 +585,9 @@ mod tests {
         // DOMAIN §1g: Rh = positive root of (ΔV/Rtop)Rh² + [ΔV·Rpu/Rtop − (Vpu−VOL)]Rh − (VREF−VOL)Rpu = 0.
         let (rtop, rpu, vref, vpu) = (1e6, 10e3, 2.5, 5.0);
         let mut c = SupplyMonitor::undervoltage(1.0, 1.0, 1.0, vref, Comparator::ideal(5.0));
-        c.output = MonitorOutput::OpenDrain {
-            rpu_ohm: rpu,
-            pullup_rail: Rail::Fixed(vpu),
-        };
+        c.output = MonitorOutput::OpenDrain { rpu_ohm: rpu, pullup_rail: Rail::Fixed(vpu) };
         let (rise, fall) = (12.7, 11.5);
-        let d = c
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: rise,
-                    vt_lower_v: fall,
-                },
-                rtop,
-            )
-            .unwrap();
+        let d = c.synthesise_with_anchor(Thresholds { vt_upper_v: rise, vt_lower_v: fall }, rtop).unwrap();
         let dv = rise - fall;
         let (a, b, cc) = (dv / rtop, dv * rpu / rtop - vpu, -vref * rpu);
         let rh = (-b + (b * b - 4.0 * a * cc).sqrt()) / (2.0 * a);
@@ -763,37 +600,18 @@ mod tests {
 
     #[test]
     fn round_trip_every_variant() {
-        let supplies = [
-            MonitorSupply::Separate,
-            MonitorSupply::FromMonitoredRail { dropout_v: 0.3 },
-        ];
-        let outputs = [
-            MonitorOutput::PushPull,
-            MonitorOutput::OpenDrain {
-                rpu_ohm: 47e3,
-                pullup_rail: Rail::Supply,
-            },
-        ];
+        let supplies = [MonitorSupply::Separate, MonitorSupply::FromMonitoredRail { dropout_v: 0.3 }];
+        let outputs = [MonitorOutput::PushPull, MonitorOutput::OpenDrain { rpu_ohm: 47e3, pullup_rail: Rail::Supply }];
         for s in supplies {
             for o in outputs {
                 let mut c = SupplyMonitor::undervoltage(1.0, 1.0, 1.0, 1.2, real_device());
                 c.comparator_supply = s;
                 c.output = o;
-                let targets = Targets {
-                    vt_upper_v: 12.7,
-                    vt_lower_v: 11.5,
-                    impedance: ImpedanceChoice::AnchorOhm(470e3),
-                };
+                let targets = Targets { vt_upper_v: 12.7, vt_lower_v: 11.5, impedance: ImpedanceChoice::AnchorOhm(470e3) };
                 let d = synthesise(&c, &targets).unwrap();
                 let t = d.thresholds().unwrap();
-                assert!(
-                    (t.vt_upper_v - 12.7).abs() < 1e-9 * 12.7,
-                    "{s:?} {o:?} {t:?}"
-                );
-                assert!(
-                    (t.vt_lower_v - 11.5).abs() < 1e-9 * 11.5,
-                    "{s:?} {o:?} {t:?}"
-                );
+                assert!((t.vt_upper_v - 12.7).abs() < 1e-9 * 12.7, "{s:?} {o:?} {t:?}");
+                assert!((t.vt_lower_v - 11.5).abs() < 1e-9 * 11.5, "{s:?} {o:?} {t:?}");
                 assert_eq!(d.rtop_ohm, 470e3);
                 analyse(&d, &CheckSettings::default()).unwrap();
             }
@@ -803,113 +621,50 @@ mod tests {
     #[test]
     fn release_too_close_and_safety() {
         let c = SupplyMonitor::undervoltage(1.0, 1.0, 1.0, 2.5, Comparator::ideal(5.0));
-        let d = c
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 11.8,
-                    vt_lower_v: 11.5,
-                },
-                1e6,
-            )
-            .unwrap();
-        let settings = CheckSettings {
-            expected_recovery_v: 0.4,
-            ..CheckSettings::default()
-        };
+        let d = c.synthesise_with_anchor(Thresholds { vt_upper_v: 11.8, vt_lower_v: 11.5 }, 1e6).unwrap();
+        let settings = CheckSettings { expected_recovery_v: 0.4, ..CheckSettings::default() };
         let w = d.checks(&settings);
-        let m = w
-            .iter()
-            .find(|w| w.code == WarningCode::ReleaseTooClose)
-            .expect("release warning");
-        assert!(
-            m.message.contains("reconnect and disconnect repeatedly"),
-            "{}",
-            m.message
-        );
+        let m = w.iter().find(|w| w.code == WarningCode::ReleaseTooClose).expect("release warning");
+        assert!(m.message.contains("reconnect and disconnect repeatedly"), "{}", m.message);
         assert!(w.iter().all(|w| w.code != WarningCode::Safety));
-        let wide = c
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 12.7,
-                    vt_lower_v: 11.5,
-                },
-                1e6,
-            )
-            .unwrap();
-        assert!(wide
-            .checks(&settings)
-            .iter()
-            .all(|w| w.code != WarningCode::ReleaseTooClose));
-        let hv = c
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 58.0,
-                    vt_lower_v: 52.0,
-                },
-                1e6,
-            )
-            .unwrap();
-        let s2 = CheckSettings {
-            input_max_v: Some(64.0),
-            ..CheckSettings::default()
-        };
+        let wide = c.synthesise_with_anchor(Thresholds { vt_upper_v: 12.7, vt_lower_v: 11.5 }, 1e6).unwrap();
+        assert!(wide.checks(&settings).iter().all(|w| w.code != WarningCode::ReleaseTooClose));
+        let hv = c.synthesise_with_anchor(Thresholds { vt_upper_v: 58.0, vt_lower_v: 52.0 }, 1e6).unwrap();
+        let s2 = CheckSettings { input_max_v: Some(64.0), ..CheckSettings::default() };
         let w = hv.checks(&s2);
-        let s = w
-            .iter()
-            .find(|w| w.code == WarningCode::Safety)
-            .expect("safety warning");
+        let s = w.iter().find(|w| w.code == WarningCode::Safety).expect("safety warning");
         assert!(s.message.contains("local codes"));
     }
 
     #[test]
     fn infeasible_targets_are_typed() {
         let c = SupplyMonitor::undervoltage(1.0, 1.0, 1.0, 2.5, Comparator::ideal(5.0));
-        let th = |up, lo| Thresholds {
-            vt_upper_v: up,
-            vt_lower_v: lo,
-        };
-        assert!(matches!(
-            c.synthesise_with_anchor(th(11.0, 12.0), 1e5),
-            Err(DesignError::Infeasible { .. })
-        ));
+        let th = |up, lo| Thresholds { vt_upper_v: up, vt_lower_v: lo };
+        assert!(matches!(c.synthesise_with_anchor(th(11.0, 12.0), 1e5), Err(DesignError::Infeasible { .. })));
         // Release below VREF + r(VREF − VOL): q ≤ 0.
         let e = c.synthesise_with_anchor(th(3.0, 1.0), 1e5).unwrap_err();
         assert!(e.to_string().contains("lower reference"), "{e}");
         let mut s = c.clone();
         s.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 12.0 };
-        assert!(matches!(
-            s.synthesise_with_anchor(th(12.7, 11.5), 1e5),
-            Err(DesignError::Infeasible { .. })
-        ));
+        assert!(matches!(s.synthesise_with_anchor(th(12.7, 11.5), 1e5), Err(DesignError::Infeasible { .. })));
     }
 
     #[test]
     fn invalid_parts_are_typed_errors() {
         let mut c = SupplyMonitor::undervoltage(1e5, 0.0, 1e6, 2.5, Comparator::ideal(5.0));
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.rbot_ohm = 1e4;
         c.vref_v = -1.0;
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.vref_v = 2.5;
-        c.comparator_supply = MonitorSupply::FromMonitoredRail {
-            dropout_v: f64::NAN,
-        };
+        c.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: f64::NAN };
         assert!(c.validate().is_err());
     }
 
     #[test]
     fn parameters_round_trip() {
         let mut c = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, real_device());
-        c.output = MonitorOutput::OpenDrain {
-            rpu_ohm: 10e3,
-            pullup_rail: Rail::Fixed(3.3),
-        };
+        c.output = MonitorOutput::OpenDrain { rpu_ohm: 10e3, pullup_rail: Rail::Fixed(3.3) };
         c.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 0.2 };
         let p = c.parameters();
         let names: Vec<_> = p.iter().filter_map(|p| p.designator.clone()).collect();
@@ -927,16 +682,10 @@ mod tests {
         // Self-supplied: the thresholds do not depend on the comparator's nominal supply field.
         let mut c = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, Comparator::ideal(12.0));
         c.comparator_supply = MonitorSupply::FromMonitoredRail { dropout_v: 0.2 };
-        assert_eq!(
-            c.with_supply(10.0).thresholds().unwrap(),
-            c.thresholds().unwrap()
-        );
+        assert_eq!(c.with_supply(10.0).thresholds().unwrap(), c.thresholds().unwrap());
         // Separate push-pull: VOH follows the comparator's supply, so V_fall moves.
         let s = SupplyMonitor::undervoltage(1e5, 27e3, 1e6, 2.5, Comparator::ideal(5.0));
-        assert!(
-            s.with_supply(4.5).thresholds().unwrap().vt_lower_v
-                > s.thresholds().unwrap().vt_lower_v
-        );
+        assert!(s.with_supply(4.5).thresholds().unwrap().vt_lower_v > s.thresholds().unwrap().vt_lower_v);
     }
 }
 
@@ -946,32 +695,17 @@ impl crate::netlist::Netlisted for SupplyMonitor {
     /// node `p` on (+), Rbot to 0 V, Rh from the output; VREF on (−). A comparator supplied from the
     /// monitored rail gets its supply through the dropout source VDROP.
     fn netlist(&self) -> crate::netlist::Netlist {
-        use super::netlisting::{builder, input_centre_v};
         use crate::netlist::{volts_text, SourceRole, GROUND, INPUT_NET, OUTPUT_NET, SOURCE_NET};
+        use super::netlisting::{builder, input_centre_v};
         let d = &self.device;
         let (vs, vn) = (d.supply_v, d.negative_rail_v);
         let mut b = builder("supply_monitor", self);
-        b.input(
-            input_centre_v(self, (vn, vs)),
-            d.source_resistance_ohm,
-            "IN",
-        );
+        b.input(input_centre_v(self, (vn, vs)), d.source_resistance_ohm, "IN");
         let positive = match self.comparator_supply {
             MonitorSupply::Separate => b.supply(vs, "VCC"),
             MonitorSupply::FromMonitoredRail { dropout_v } => {
-                let rail = if d.source_resistance_ohm > 0.0 {
-                    SOURCE_NET
-                } else {
-                    INPUT_NET
-                };
-                b.source_between(
-                    "VDROP",
-                    rail,
-                    "vcc_u1",
-                    dropout_v,
-                    SourceRole::Dropout,
-                    format!("IN − {}", volts_text(dropout_v)),
-                );
+                let rail = if d.source_resistance_ohm > 0.0 { SOURCE_NET } else { INPUT_NET };
+                b.source_between("VDROP", rail, "vcc_u1", dropout_v, SourceRole::Dropout, format!("IN − {}", volts_text(dropout_v)));
                 "vcc_u1".to_string()
             }
         };
@@ -979,19 +713,9 @@ impl crate::netlist::Netlisted for SupplyMonitor {
         b.part("rtop_ohm", INPUT_NET, "p", self.rtop_ohm);
         b.part("rbot_ohm", "p", GROUND, self.rbot_ohm);
         b.part("rh_ohm", OUTPUT_NET, "p", self.rh_ohm);
-        let vref = b.rail(
-            Rail::Fixed(self.vref_v),
-            vs,
-            vn,
-            "VREF",
-            "ref",
-            SourceRole::Reference,
-        );
+        let vref = b.rail(Rail::Fixed(self.vref_v), vs, vn, "VREF", "ref", SourceRole::Reference);
         let open_drain = match self.output {
-            MonitorOutput::OpenDrain {
-                rpu_ohm,
-                pullup_rail,
-            } => {
+            MonitorOutput::OpenDrain { rpu_ohm, pullup_rail } => {
                 let pu = b.rail(pullup_rail, vs, vn, "VPU", "pu", SourceRole::PullupRail);
                 b.part("rpu_ohm", &pu, OUTPUT_NET, rpu_ohm);
                 true

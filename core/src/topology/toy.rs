@@ -8,8 +8,8 @@
 
 use super::{expect_len, Circuit, Described, Parameter, ParameterKind};
 use crate::analysis::{
-    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop,
-    Sense, Thresholds, Warning,
+    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop, Sense, Thresholds,
+    Warning,
 };
 use crate::error::DesignError;
 use crate::limits::{check, Quantity};
@@ -56,10 +56,7 @@ impl Circuit for Toy {
     fn thresholds(&self) -> Result<Thresholds, DesignError> {
         let k = self.k();
         let base = self.vref_v * (1.0 - k);
-        Ok(Thresholds {
-            vt_upper_v: base + self.supply_v * k,
-            vt_lower_v: base,
-        })
+        Ok(Thresholds { vt_upper_v: base + self.supply_v * k, vt_lower_v: base })
     }
 
     fn output_levels(&self) -> Result<(f64, f64), DesignError> {
@@ -70,39 +67,21 @@ impl Circuit for Toy {
         Sense::Inverting
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let vout = self.output_v(state);
         let k = self.k();
         let vp = self.vref_v * (1.0 - k) + vout * k;
         let i = (self.vref_v - vout) / (self.r1_ohm + self.r2_ohm);
         Ok(OperatingPoint {
             resistors: vec![
-                ResistorDrop {
-                    designator: "R1".into(),
-                    resistance_ohm: self.r1_ohm,
-                    volts: self.vref_v - vp,
-                },
-                ResistorDrop {
-                    designator: "R2".into(),
-                    resistance_ohm: self.r2_ohm,
-                    volts: vp - vout,
-                },
+                ResistorDrop { designator: "R1".into(), resistance_ohm: self.r1_ohm, volts: self.vref_v - vp },
+                ResistorDrop { designator: "R2".into(), resistance_ohm: self.r2_ohm, volts: vp - vout },
             ],
             input_current_a: 0.0,
             network_current_a: i.abs(),
             device_inputs: vec![
-                NodeVoltage {
-                    name: "inverting input".into(),
-                    volts: vin_v,
-                },
-                NodeVoltage {
-                    name: "non-inverting input".into(),
-                    volts: vp,
-                },
+                NodeVoltage { name: "inverting input".into(), volts: vin_v },
+                NodeVoltage { name: "non-inverting input".into(), volts: vp },
             ],
         })
     }
@@ -118,21 +97,12 @@ impl Circuit for Toy {
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
         expect_len(values, 4)?;
-        let c = Toy {
-            r1_ohm: values[0],
-            r2_ohm: values[1],
-            supply_v: values[2],
-            vref_v: values[3],
-        };
+        let c = Toy { r1_ohm: values[0], r2_ohm: values[1], supply_v: values[2], vref_v: values[3] };
         c.validate()?;
         Ok(c)
     }
 
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        anchor_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
         // ΔV = VCC·k and VT− = Vref·(1 − k): k from the width, Vref from VT−, R1 = k·R2/(1 − k).
         let k = targets.hysteresis_v() / self.supply_v;
         if !(k > 0.0 && k < 1.0) {
@@ -160,10 +130,7 @@ impl Circuit for Toy {
     }
 
     fn with_supply(&self, supply_v: f64) -> Self {
-        Toy {
-            supply_v,
-            ..self.clone()
-        }
+        Toy { supply_v, ..self.clone() }
     }
 
     fn checks(&self, _settings: &CheckSettings) -> Vec<Warning> {
@@ -183,17 +150,13 @@ impl Circuit for Toy {
     }
 
     fn troubleshooting(&self, _analysis: &Analysis, _checks: &CheckSettings) -> Vec<String> {
-        vec![format!(
-            "Measure the reference: it should read {:.3} V.",
-            self.vref_v
-        )]
+        vec![format!("Measure the reference: it should read {:.3} V.", self.vref_v)]
     }
 }
 
 impl Described for Toy {
     const TITLE: &'static str = "Toy Schmitt (tests only)";
-    const NOTE: &'static str =
-        "Never offered to users: it shows that a topology is one module and one list line.";
+    const NOTE: &'static str = "Never offered to users: it shows that a topology is one module and one list line.";
     const TEMPLATE_JSON: &'static str = r#"{
         "schema_version": 1,
         "name": "Toy Schmitt (tests only)",
@@ -210,24 +173,10 @@ impl crate::netlist::Netlisted for Toy {
         let mut b = builder("toy", self);
         let vcc = b.supply(self.supply_v, "VCC");
         b.input(input_centre_v(self, (0.0, self.supply_v)), 0.0, "IN");
-        let vref = b.source(
-            "VREF",
-            "ref",
-            self.vref_v,
-            SourceRole::Reference,
-            "VREF".into(),
-        );
+        let vref = b.source("VREF", "ref", self.vref_v, SourceRole::Reference, "VREF".into());
         b.part("r1_ohm", &vref, "p", self.r1_ohm);
         b.part("r2_ohm", "p", OUTPUT_NET, self.r2_ohm);
-        b.comparator(
-            &crate::device::Comparator::ideal(self.supply_v),
-            "p",
-            INPUT_NET,
-            &vcc,
-            GROUND,
-            false,
-            0.0,
-        );
+        b.comparator(&crate::device::Comparator::ideal(self.supply_v), "p", INPUT_NET, &vcc, GROUND, false, 0.0);
         b.finish()
     }
 
@@ -247,11 +196,7 @@ mod tests {
     use crate::topology::{analyse, sensitivities, synthesise, Circuit, Topology};
 
     fn record() -> DesignRecord {
-        catalog::templates()
-            .into_iter()
-            .find(|s| s.key == "toy")
-            .expect("the list line registers the template")
-            .record()
+        catalog::templates().into_iter().find(|s| s.key == "toy").expect("the list line registers the template").record()
     }
 
     #[test]
@@ -276,15 +221,8 @@ mod tests {
         // ∂VT+/∂VCC = k = 0.2.
         let supply = s.iter().find(|(p, _, _)| p.id == "supply_v").unwrap();
         assert!((supply.1 - 0.2).abs() < 1e-6);
-        let d = synthesise(
-            &r.circuit,
-            &Targets {
-                vt_upper_v: 3.0,
-                vt_lower_v: 2.0,
-                impedance: ImpedanceChoice::AnchorOhm(40e3),
-            },
-        )
-        .unwrap();
+        let d = synthesise(&r.circuit, &Targets { vt_upper_v: 3.0, vt_lower_v: 2.0, impedance: ImpedanceChoice::AnchorOhm(40e3) })
+            .unwrap();
         let t = d.thresholds().unwrap();
         assert!((t.vt_upper_v - 3.0).abs() < 1e-9 && (t.vt_lower_v - 2.0).abs() < 1e-9);
     }
@@ -304,10 +242,7 @@ mod tests {
         let p = bench_procedure(&r.circuit, &r.checks, &Default::default()).unwrap();
         assert!(p.troubleshooting.iter().any(|t| t.contains("2.000 V")));
         let deck = crate::spice::to_spice(&r.circuit, "toy").unwrap();
-        assert!(
-            deck.contains("\nR1 ref p 10k\n") && deck.contains("\nR2 p out 40k\n"),
-            "{deck}"
-        );
+        assert!(deck.contains("\nR1 ref p 10k\n") && deck.contains("\nR2 p out 40k\n"), "{deck}");
         let svg = crate::schematic::render_svg(&r.circuit, Default::default());
         assert!(svg.contains("R1") && svg.contains("R2"), "{svg}");
     }

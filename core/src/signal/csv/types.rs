@@ -153,27 +153,13 @@ impl CsvFormat {
         if !self.header_reason.is_empty() {
             let _ = write!(s, " ({})", self.header_reason);
         }
-        let _ = write!(
-            s,
-            ", {} column{}; ",
-            self.columns,
-            if self.columns == 1 { "" } else { "s" }
-        );
+        let _ = write!(s, ", {} column{}; ", self.columns, if self.columns == 1 { "" } else { "s" });
         match self.time_step_s {
             Some(step) => {
-                let _ = write!(
-                    s,
-                    "time from the row number × {step} s, volts from column {}",
-                    self.voltage_column + 1
-                );
+                let _ = write!(s, "time from the row number × {step} s, volts from column {}", self.voltage_column + 1);
             }
             None => {
-                let _ = write!(
-                    s,
-                    "time from column {}, volts from column {}",
-                    self.time_column + 1,
-                    self.voltage_column + 1
-                );
+                let _ = write!(s, "time from column {}, volts from column {}", self.time_column + 1, self.voltage_column + 1);
             }
         }
         s
@@ -196,10 +182,7 @@ impl Snippet {
         }
         let mut bytes = [0u8; 24];
         bytes[..end].copy_from_slice(&s.as_bytes()[..end]);
-        Snippet {
-            bytes,
-            len: end as u8,
-        }
+        Snippet { bytes, len: end as u8 }
     }
 
     /// The text.
@@ -276,26 +259,15 @@ impl fmt::Display for CsvIssue {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "line {}: ", self.line)?;
         match self.kind {
-            CsvIssueKind::FieldCount { found, expected } => {
-                write!(f, "{found} fields where {expected} are expected")?
-            }
+            CsvIssueKind::FieldCount { found, expected } => write!(f, "{found} fields where {expected} are expected")?,
             CsvIssueKind::NotANumber { column } => write!(f, "column {column} is not a number")?,
-            CsvIssueKind::NotFinite { column } => {
-                write!(f, "column {column} is not a finite number")?
+            CsvIssueKind::NotFinite { column } => write!(f, "column {column} is not a finite number")?,
+            CsvIssueKind::TimeNotIncreasing => write!(f, "time is not after the previous row's time")?,
+            CsvIssueKind::Underflow { column } => {
+                write!(f, "column {column} is too small for a double and would read as 0")?
             }
-            CsvIssueKind::TimeNotIncreasing => {
-                write!(f, "time is not after the previous row's time")?
-            }
-            CsvIssueKind::Underflow { column } => write!(
-                f,
-                "column {column} is too small for a double and would read as 0"
-            )?,
-            CsvIssueKind::TimeNotFinite => {
-                write!(f, "the time (row number × time step) is not finite")?
-            }
-            CsvIssueKind::LineTooLong => {
-                write!(f, "the line is longer than {MAX_LINE_BYTES} bytes")?
-            }
+            CsvIssueKind::TimeNotFinite => write!(f, "the time (row number × time step) is not finite")?,
+            CsvIssueKind::LineTooLong => write!(f, "the line is longer than {MAX_LINE_BYTES} bytes")?,
         }
         write!(f, " (\"{}\")", self.text.as_str())
     }
@@ -396,9 +368,7 @@ impl Capture {
     /// Mean sample rate, hertz (0 for fewer than two samples).
     pub fn mean_sample_rate_hz(&self) -> f64 {
         match (self.time_s.first(), self.time_s.last()) {
-            (Some(a), Some(b)) if self.time_s.len() > 1 && b > a => {
-                (self.time_s.len() - 1) as f64 / (b - a)
-            }
+            (Some(a), Some(b)) if self.time_s.len() > 1 && b > a => (self.time_s.len() - 1) as f64 / (b - a),
             _ => 0.0,
         }
     }

@@ -52,11 +52,7 @@ fn push_number(out: &mut String, scratch: &mut String, x: f64, decimal: DecimalM
 /// [`crate::csv_text`]).
 pub fn write_csv(times: Times<'_>, volts: &[f64], options: &CsvWriteOptions) -> String {
     let sep = options.separator.byte() as u8;
-    let decimal = if options.separator == Separator::Comma {
-        DecimalMark::Point
-    } else {
-        options.decimal
-    };
+    let decimal = if options.separator == Separator::Comma { DecimalMark::Point } else { options.decimal };
     let mut out = CsvText::new(sep, LineEnd::Lf, volts.len() * 32 + 64);
     let (mut t_text, mut v_text, mut scratch) = (String::new(), String::new(), String::new());
     if let Some([a, b]) = &options.header {
@@ -69,3 +65,4 @@ pub fn write_csv(times: Times<'_>, volts: &[f64], options: &CsvWriteOptions) -> 
     }
     out.finish()
 }
+

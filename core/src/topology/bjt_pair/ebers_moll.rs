@@ -170,26 +170,11 @@ impl<'a> Em<'a> {
                 1.0 / c.r1_ohm,
                 0.0,
             ],
-            [
-                q2.dib_dvbe,
-                1.0 / c.r1_ohm,
-                -1.0 / c.r1_ohm - 1.0 / c.r2_ohm - q2.dib_dvbe - q2.dib_dvbc,
-                q2.dib_dvbc,
-            ],
-            [
-                q2.dic_dvbe,
-                0.0,
-                -q2.dic_dvbe - q2.dic_dvbc,
-                -1.0 / c.rc2_ohm - self.g_load + q2.dic_dvbc,
-            ],
+            [q2.dib_dvbe, 1.0 / c.r1_ohm, -1.0 / c.r1_ohm - 1.0 / c.r2_ohm - q2.dib_dvbe - q2.dib_dvbc, q2.dib_dvbc],
+            [q2.dic_dvbe, 0.0, -q2.dic_dvbe - q2.dic_dvbc, -1.0 / c.rc2_ohm - self.g_load + q2.dic_dvbc],
         ];
         let dl = match drive {
-            Drive::Lambda(_) => [
-                die1_dvbe + die1_dvbc,
-                -(q1.dic_dvbe + q1.dic_dvbc),
-                0.0,
-                0.0,
-            ],
+            Drive::Lambda(_) => [die1_dvbe + die1_dvbc, -(q1.dic_dvbe + q1.dic_dvbc), 0.0, 0.0],
             Drive::Vin(_) => [0.0; 4],
         };
         (f, j, dl)
@@ -197,12 +182,7 @@ impl<'a> Em<'a> {
 
     /// Damped Newton: each step is scaled so that no junction voltage moves more than 0.1 V and no
     /// node more than VCC; converged when a full step is below 1e-12·(1 + VCC).
-    fn newton(
-        &self,
-        mut x: [f64; 4],
-        drive: Drive,
-        max_iter: usize,
-    ) -> Result<[f64; 4], DesignError> {
+    fn newton(&self, mut x: [f64; 4], drive: Drive, max_iter: usize) -> Result<[f64; 4], DesignError> {
         let tol = 1e-12 * (1.0 + self.vcc.abs());
         let node_limit = self.vcc.abs().max(1.0);
         for _ in 0..max_iter {
@@ -211,12 +191,7 @@ impl<'a> Em<'a> {
                 reason: "the transistor-level solution hit a singular matrix; check for extreme resistor values".into(),
             })?;
             let dvb1 = Self::base1(&x, drive).1;
-            let junction = [
-                (dvb1 - 1.0) * dx[0],
-                dvb1 * dx[0] - dx[1],
-                dx[2] - dx[0],
-                dx[2] - dx[3],
-            ];
+            let junction = [(dvb1 - 1.0) * dx[0], dvb1 * dx[0] - dx[1], dx[2] - dx[0], dx[2] - dx[3]];
             let jmax = junction.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
             let nmax = dx.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
             let mut s: f64 = 1.0;
@@ -244,9 +219,8 @@ impl<'a> Em<'a> {
     /// The tangent dx/dλ = −J⁻¹·∂F/∂λ at a solved λ point (implicit-function theorem).
     fn tangent(&self, x: &[f64; 4], lam: f64) -> Result<[f64; 4], DesignError> {
         let (_, j, dl) = self.system(x, Drive::Lambda(lam));
-        solve4(j, [-dl[0], -dl[1], -dl[2], -dl[3]]).ok_or_else(|| DesignError::NotConverged {
-            reason: "singular matrix while tracing the transfer curve".into(),
-        })
+        solve4(j, [-dl[0], -dl[1], -dl[2], -dl[3]])
+            .ok_or_else(|| DesignError::NotConverged { reason: "singular matrix while tracing the transfer curve".into() })
     }
 
     /// Solves the circuit at `lam`, predicting the start from `from` along its tangent, and returns
@@ -263,11 +237,7 @@ impl<'a> Em<'a> {
             if cur.lam == lam {
                 return Ok(cur);
             }
-            let target = if (lam - cur.lam).abs() <= h.abs() {
-                lam
-            } else {
-                cur.lam + h
-            };
+            let target = if (lam - cur.lam).abs() <= h.abs() { lam } else { cur.lam + h };
             match self.solve_direct(target, &cur) {
                 Ok(p) => {
                     cur = p;
@@ -282,9 +252,7 @@ impl<'a> Em<'a> {
                 }
             }
         }
-        Err(last.unwrap_or_else(|| DesignError::NotConverged {
-            reason: "the transfer curve could not be followed".into(),
-        }))
+        Err(last.unwrap_or_else(|| DesignError::NotConverged { reason: "the transfer curve could not be followed".into() }))
     }
 
     fn solve_direct(&self, lam: f64, from: &CurvePt) -> Result<CurvePt, DesignError> {
@@ -304,21 +272,12 @@ impl<'a> Em<'a> {
 
     fn point(&self, lam: f64, x: [f64; 4]) -> Result<CurvePt, DesignError> {
         let dx = self.tangent(&x, lam)?;
-        Ok(CurvePt {
-            lam,
-            x,
-            vin: x[0] + lam,
-            dx,
-            slope: 1.0 + dx[0],
-        })
+        Ok(CurvePt { lam, x, vin: x[0] + lam, dx, slope: 1.0 + dx[0] })
     }
 
     /// A starting guess from the hand model with Q2 on (Q1 off), at supply `vcc`.
     fn guess_q2_on(&self, vcc: f64) -> [f64; 4] {
-        let c = EmitterCoupledSchmitt {
-            supply_v: vcc,
-            ..self.c.clone()
-        };
+        let c = EmitterCoupledSchmitt { supply_v: vcc, ..self.c.clone() };
         let h = c.hand_nodes(0.0, OutputState::Low);
         [h.ve_v, h.vc1_v, h.vb2_v, h.vc2_v.max(h.ve_v + 0.3).min(vcc)]
     }
@@ -333,10 +292,7 @@ impl<'a> Em<'a> {
         }
         let full = self.vcc;
         let mut frac = 0.02;
-        let stepped = Em {
-            vcc: full * frac,
-            ..*self
-        };
+        let stepped = Em { vcc: full * frac, ..*self };
         let mut x = stepped.newton(stepped.guess_q2_on(full * frac), Drive::Lambda(lam), 400)?;
         let mut step = 0.02;
         for _ in 0..200 {
@@ -344,10 +300,7 @@ impl<'a> Em<'a> {
                 return Ok(x);
             }
             let next = (frac + step).min(1.0);
-            let e = Em {
-                vcc: full * next,
-                ..*self
-            };
+            let e = Em { vcc: full * next, ..*self };
             match e.newton(x, Drive::Lambda(lam), 60) {
                 Ok(nx) => {
                     x = nx;
@@ -373,12 +326,7 @@ impl<'a> Em<'a> {
             static LAST: std::cell::RefCell<Option<(EmitterCoupledSchmitt, Result<Trace, DesignError>)>> =
                 const { std::cell::RefCell::new(None) };
         }
-        if let Some(hit) = LAST.with(|l| {
-            l.borrow()
-                .as_ref()
-                .filter(|(c, _)| c == self.c)
-                .map(|(_, t)| t.clone())
-        }) {
+        if let Some(hit) = LAST.with(|l| l.borrow().as_ref().filter(|(c, _)| c == self.c).map(|(_, t)| t.clone())) {
             return hit;
         }
         let t = self.trace(|_, _, _| {});
@@ -387,10 +335,7 @@ impl<'a> Em<'a> {
     }
 
     /// Traces Vin(λ) from Q1 off to one hysteresis width past VT+ (or VCC), calling `visit(λ, x, vin)` at each accepted point.
-    pub(super) fn trace(
-        &self,
-        mut visit: impl FnMut(f64, &[f64; 4], f64),
-    ) -> Result<Trace, DesignError> {
+    pub(super) fn trace(&self, mut visit: impl FnMut(f64, &[f64; 4], f64)) -> Result<Trace, DesignError> {
         const MAX_STEPS: usize = 20_000;
         let c = self.c;
         let vt = self.vt;
@@ -407,9 +352,7 @@ impl<'a> Em<'a> {
             backs += 1;
         }
         if start.slope <= 0.0 {
-            return Err(DesignError::NotConverged {
-                reason: "could not find the input-low end of the transfer curve".into(),
-            });
+            return Err(DesignError::NotConverged { reason: "could not find the input-low end of the transfer curve".into() });
         }
         visit(start.lam, &start.x, start.vin);
         let lam_max = lam + 4.0;
@@ -453,25 +396,14 @@ impl<'a> Em<'a> {
             }
         }
         Err(match upper {
-            None => DesignError::NoSwitching {
-                reason: "the transfer curve has no fold: no hysteresis".into(),
-            },
-            Some(_) => DesignError::NotConverged {
-                reason:
-                    "the lower fold of the transfer curve was not found within the traced range"
-                        .into(),
-            },
+            None => DesignError::NoSwitching { reason: "the transfer curve has no fold: no hysteresis".into() },
+            Some(_) => DesignError::NotConverged { reason: "the lower fold of the transfer curve was not found within the traced range".into() },
         })
     }
 
     /// Illinois false position on λ for a root of `f(point)` between two points whose values
     /// differ in sign; at most 60 solves. Returns the final bracket.
-    fn bracket_root(
-        &self,
-        a: CurvePt,
-        b: CurvePt,
-        f: impl Fn(&CurvePt) -> f64,
-    ) -> Result<(CurvePt, CurvePt), DesignError> {
+    fn bracket_root(&self, a: CurvePt, b: CurvePt, f: impl Fn(&CurvePt) -> f64) -> Result<(CurvePt, CurvePt), DesignError> {
         let (mut a, mut b) = (a, b);
         let (mut fa, mut fb) = (f(&a), f(&b));
         let mut side = 0i8;
@@ -483,11 +415,7 @@ impl<'a> Em<'a> {
             if !(m > a.lam.min(b.lam) && m < a.lam.max(b.lam)) {
                 m = 0.5 * (a.lam + b.lam);
             }
-            let from = if (m - a.lam).abs() <= (b.lam - m).abs() {
-                a
-            } else {
-                b
-            };
+            let from = if (m - a.lam).abs() <= (b.lam - m).abs() { a } else { b };
             let pm = self.solve_at(m, &from)?;
             let fm = f(&pm);
             if (fm > 0.0) == (fa > 0.0) {
@@ -514,20 +442,12 @@ impl<'a> Em<'a> {
         let rising_first = a.slope > 0.0;
         let (a, b) = self.bracket_root(a, b, |p| p.slope)?;
         // Vin is stationary at the fold: take the more extreme of the bracket ends.
-        Ok(if rising_first == (a.vin >= b.vin) {
-            a
-        } else {
-            b
-        })
+        Ok(if rising_first == (a.vin >= b.vin) { a } else { b })
     }
 
     /// The solution on the branch of `state` for input `vin` (the fold point when that state ends
     /// before `vin`: a state does not exist beyond its fold).
-    pub(super) fn nodes_on_branch(
-        &self,
-        vin: f64,
-        state: OutputState,
-    ) -> Result<BjtNodes, DesignError> {
+    pub(super) fn nodes_on_branch(&self, vin: f64, state: OutputState) -> Result<BjtNodes, DesignError> {
         let tr = self.trace_memo()?;
         let (lo_pt, hi_pt) = match state {
             OutputState::Low => {
@@ -554,23 +474,13 @@ impl<'a> Em<'a> {
         // Vin(λ) rises along both stable branches: Newton on λ with the known slope dVin/dλ,
         // kept inside the bracket (bisection when a step leaves it); at most 80 solves.
         let (mut a, mut b) = (lo_pt, hi_pt);
-        let mut cur = if (vin - a.vin).abs() <= (b.vin - vin).abs() {
-            a
-        } else {
-            b
-        };
+        let mut cur = if (vin - a.vin).abs() <= (b.vin - vin).abs() { a } else { b };
         for _ in 0..80 {
             let err = cur.vin - vin;
-            if err.abs() <= 1e-12 * (1.0 + vin.abs())
-                || b.lam - a.lam <= 1e-15 * (1.0 + a.lam.abs())
-            {
+            if err.abs() <= 1e-12 * (1.0 + vin.abs()) || b.lam - a.lam <= 1e-15 * (1.0 + a.lam.abs()) {
                 break;
             }
-            let mut m = if cur.slope > 0.0 {
-                cur.lam - err / cur.slope
-            } else {
-                f64::NAN
-            };
+            let mut m = if cur.slope > 0.0 { cur.lam - err / cur.slope } else { f64::NAN };
             if !(m > a.lam && m < b.lam) {
                 m = 0.5 * (a.lam + b.lam);
             }
@@ -593,23 +503,14 @@ impl<'a> Em<'a> {
 
     /// Walks a stable branch at fixed input from a solution at `from_vin` to `vin` in steps of at
     /// most 0.5 V (quartered after a failed solve, doubled after a good one); at most 400 solves.
-    fn continue_vin(
-        &self,
-        from_x: [f64; 4],
-        from_vin: f64,
-        vin: f64,
-    ) -> Result<[f64; 4], DesignError> {
+    fn continue_vin(&self, from_x: [f64; 4], from_vin: f64, vin: f64) -> Result<[f64; 4], DesignError> {
         let (mut x, mut v) = (from_x, from_vin);
         let mut step: f64 = 0.5;
         for _ in 0..400 {
             if v == vin {
                 return Ok(x);
             }
-            let target = if (vin - v).abs() <= step {
-                vin
-            } else {
-                v + step.copysign(vin - v)
-            };
+            let target = if (vin - v).abs() <= step { vin } else { v + step.copysign(vin - v) };
             match self.newton(x, Drive::Vin(target), 60) {
                 Ok(nx) => {
                     x = nx;
@@ -624,22 +525,11 @@ impl<'a> Em<'a> {
                 }
             }
         }
-        Err(DesignError::NotConverged {
-            reason:
-                "the transistor-level solution could not follow the input to the requested voltage"
-                    .into(),
-        })
+        Err(DesignError::NotConverged { reason: "the transistor-level solution could not follow the input to the requested voltage".into() })
     }
 
     pub(super) fn nodes(&self, x: &[f64; 4], vin: f64) -> BjtNodes {
         let q1 = self.bjt(vin - x[0], vin - x[1]);
-        BjtNodes {
-            vin_v: vin,
-            ve_v: x[0],
-            vc1_v: x[1],
-            vb2_v: x[2],
-            vc2_v: x[3],
-            input_current_a: q1.ib,
-        }
+        BjtNodes { vin_v: vin, ve_v: x[0], vc1_v: x[1], vb2_v: x[2], vc2_v: x[3], input_current_a: q1.ib }
     }
 }

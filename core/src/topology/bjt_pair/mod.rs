@@ -25,13 +25,10 @@
 //! Every iteration is bounded: a solve that does not settle returns [`DesignError::NotConverged`];
 //! a curve without a fold returns [`DesignError::NoSwitching`].
 
-use super::{
-    expect_len, Circuit, CurvePoint, Described, MonotoneStructure, Parameter, ParameterKind,
-    TransistorStress,
-};
+use super::{Described, expect_len, Circuit, CurvePoint, MonotoneStructure, Parameter, ParameterKind, TransistorStress};
 use crate::analysis::{
-    Analysis, CheckSettings, NodeVoltage, OperatingPoint, OutputStage, OutputState, ResistorDrop,
-    Sense, Thresholds, Warning, WarningCode,
+    Analysis, OutputStage,
+    CheckSettings, NodeVoltage, OperatingPoint, OutputState, ResistorDrop, Sense, Thresholds, Warning, WarningCode,
 };
 use crate::error::{positive, DesignError};
 use crate::notation::Unit;
@@ -227,8 +224,7 @@ impl Transistor {
     /// ln(IS(T)/IS0) = XTI·ln(T/T0) + (EG/k)(1/T0 − 1/T), with EG/k = bandgap_v/(k/q).
     fn ln_is_ratio(&self) -> f64 {
         let (t, t0) = (self.temperature_k, self.nominal_temperature_k);
-        self.is_temperature_exponent * (t / t0).ln()
-            + self.bandgap_v / BOLTZMANN_OVER_CHARGE_V_PER_K * (1.0 / t0 - 1.0 / t)
+        self.is_temperature_exponent * (t / t0).ln() + self.bandgap_v / BOLTZMANN_OVER_CHARGE_V_PER_K * (1.0 / t0 - 1.0 / t)
     }
 
     /// Saturation current at the junction temperature, amperes:
@@ -239,15 +235,13 @@ impl Transistor {
 
     /// Forward current gain at the junction temperature, βF(T) = βF0·(T/T0)^XTB.
     pub fn beta_f_at_temperature(&self) -> f64 {
-        self.beta_f
-            * (self.temperature_k / self.nominal_temperature_k).powf(self.beta_temperature_exponent)
+        self.beta_f * (self.temperature_k / self.nominal_temperature_k).powf(self.beta_temperature_exponent)
     }
 
     /// Reverse current gain at the junction temperature, βR(T) = βR0·(T/T0)^XTB (SPICE scales BR
     /// with XTB as it does BF, from memory).
     pub fn beta_r_at_temperature(&self) -> f64 {
-        self.beta_r
-            * (self.temperature_k / self.nominal_temperature_k).powf(self.beta_temperature_exponent)
+        self.beta_r * (self.temperature_k / self.nominal_temperature_k).powf(self.beta_temperature_exponent)
     }
 
     /// The hand model's VBE at the junction temperature: the VBE that carries the same current as
@@ -266,18 +260,13 @@ impl Transistor {
 
     /// βF limits for the tolerance studies (entered, or the default 3:1 spread).
     pub fn beta_f_range(&self) -> [f64; 2] {
-        self.beta_f_limits.unwrap_or([
-            self.beta_f / DEFAULT_BETA_SPREAD,
-            self.beta_f * DEFAULT_BETA_SPREAD,
-        ])
+        self.beta_f_limits.unwrap_or([self.beta_f / DEFAULT_BETA_SPREAD, self.beta_f * DEFAULT_BETA_SPREAD])
     }
 
     /// IS limits for the tolerance studies, amperes (entered, or IS/2 to 2·IS).
     pub fn saturation_current_range_a(&self) -> [f64; 2] {
-        self.saturation_current_limits_a.unwrap_or([
-            self.saturation_current_a / DEFAULT_IS_SPREAD,
-            self.saturation_current_a * DEFAULT_IS_SPREAD,
-        ])
+        self.saturation_current_limits_a
+            .unwrap_or([self.saturation_current_a / DEFAULT_IS_SPREAD, self.saturation_current_a * DEFAULT_IS_SPREAD])
     }
 
     fn validate(&self) -> Result<(), DesignError> {
@@ -285,48 +274,16 @@ impl Transistor {
         positive("transistor.vbe_v", self.vbe_v)?;
         check(Quantity::Gain, "transistor.beta_f", self.beta_f)?;
         check(Quantity::Gain, "transistor.beta_r", self.beta_r)?;
-        check(
-            Quantity::SaturationCurrent,
-            "transistor.saturation_current_a",
-            self.saturation_current_a,
-        )?;
-        check(
-            Quantity::JunctionTemperature,
-            "transistor.temperature_k",
-            self.temperature_k,
-        )?;
-        check(
-            Quantity::JunctionTemperature,
-            "transistor.nominal_temperature_k",
-            self.nominal_temperature_k,
-        )?;
-        check(
-            Quantity::Exponent,
-            "transistor.is_temperature_exponent",
-            self.is_temperature_exponent,
-        )?;
+        check(Quantity::SaturationCurrent, "transistor.saturation_current_a", self.saturation_current_a)?;
+        check(Quantity::JunctionTemperature, "transistor.temperature_k", self.temperature_k)?;
+        check(Quantity::JunctionTemperature, "transistor.nominal_temperature_k", self.nominal_temperature_k)?;
+        check(Quantity::Exponent, "transistor.is_temperature_exponent", self.is_temperature_exponent)?;
         check(Quantity::Bandgap, "transistor.bandgap_v", self.bandgap_v)?;
-        check(
-            Quantity::Exponent,
-            "transistor.beta_temperature_exponent",
-            self.beta_temperature_exponent,
-        )?;
+        check(Quantity::Exponent, "transistor.beta_temperature_exponent", self.beta_temperature_exponent)?;
         // The scaled values must be a device too (every tolerance corner goes through here).
-        check(
-            Quantity::SaturationCurrent,
-            "transistor.saturation_current_a (at the junction temperature)",
-            self.saturation_current_at_temperature_a(),
-        )?;
-        check(
-            Quantity::Gain,
-            "transistor.beta_f (at the junction temperature)",
-            self.beta_f_at_temperature(),
-        )?;
-        check(
-            Quantity::Gain,
-            "transistor.beta_r (at the junction temperature)",
-            self.beta_r_at_temperature(),
-        )?;
+        check(Quantity::SaturationCurrent, "transistor.saturation_current_a (at the junction temperature)", self.saturation_current_at_temperature_a())?;
+        check(Quantity::Gain, "transistor.beta_f (at the junction temperature)", self.beta_f_at_temperature())?;
+        check(Quantity::Gain, "transistor.beta_r (at the junction temperature)", self.beta_r_at_temperature())?;
         let vbe_t = self.vbe_at_temperature_v();
         if !(vbe_t.is_finite() && vbe_t > 0.0) {
             return Err(DesignError::invalid(
@@ -335,31 +292,16 @@ impl Transistor {
             ));
         }
         let ranges = [
-            (
-                "transistor.beta_f_limits",
-                Quantity::Gain,
-                self.beta_f_limits,
-            ),
-            (
-                "transistor.saturation_current_limits_a",
-                Quantity::SaturationCurrent,
-                self.saturation_current_limits_a,
-            ),
-            (
-                "transistor.temperature_limits_k",
-                Quantity::JunctionTemperature,
-                self.temperature_limits_k,
-            ),
+            ("transistor.beta_f_limits", Quantity::Gain, self.beta_f_limits),
+            ("transistor.saturation_current_limits_a", Quantity::SaturationCurrent, self.saturation_current_limits_a),
+            ("transistor.temperature_limits_k", Quantity::JunctionTemperature, self.temperature_limits_k),
         ];
         for (field, q, lim) in ranges {
             if let Some([lo, hi]) = lim {
                 check(q, field, lo)?;
                 check(q, field, hi)?;
                 if lo > hi {
-                    return Err(DesignError::invalid(
-                        field,
-                        format!("minimum {lo} is above maximum {hi}: swap them"),
-                    ));
+                    return Err(DesignError::invalid(field, format!("minimum {lo} is above maximum {hi}: swap them")));
                 }
             }
         }
@@ -412,14 +354,7 @@ pub struct BjtNodes {
 
 impl EmitterCoupledSchmitt {
     /// A design with the default transistor and the hand model.
-    pub fn new(
-        supply_v: f64,
-        r1_ohm: f64,
-        r2_ohm: f64,
-        rc1_ohm: f64,
-        rc2_ohm: f64,
-        re_ohm: f64,
-    ) -> Self {
+    pub fn new(supply_v: f64, r1_ohm: f64, r2_ohm: f64, rc1_ohm: f64, rc2_ohm: f64, re_ohm: f64) -> Self {
         EmitterCoupledSchmitt {
             supply_v,
             r1_ohm,
@@ -447,27 +382,20 @@ impl EmitterCoupledSchmitt {
     fn output_thevenin(&self) -> (f64, f64) {
         match self.load_ohm {
             None => (self.supply_v, self.rc2_ohm),
-            Some(rl) => (
-                self.supply_v * rl / (self.rc2_ohm + rl),
-                self.rc2_ohm * rl / (self.rc2_ohm + rl),
-            ),
+            Some(rl) => (self.supply_v * rl / (self.rc2_ohm + rl), self.rc2_ohm * rl / (self.rc2_ohm + rl)),
         }
     }
 
     /// Thevenin source at Q1's collector with no collector current: (voltage, resistance).
     fn c1_thevenin(&self) -> (f64, f64) {
         let rd = self.r1_ohm + self.r2_ohm;
-        (
-            self.supply_v * rd / (self.rc1_ohm + rd),
-            self.rc1_ohm * rd / (self.rc1_ohm + rd),
-        )
+        (self.supply_v * rd / (self.rc1_ohm + rd), self.rc1_ohm * rd / (self.rc1_ohm + rd))
     }
 
     /// Hand model: Q2's emitter current with the input low, amperes (≤ 0 means Q2 never conducts).
     fn hand_ie2(&self) -> f64 {
         let t = &self.transistor;
-        (self.k() * self.supply_v - t.vbe_at_temperature_v())
-            / (self.re_ohm + self.rb2() / (t.beta_f_at_temperature() + 1.0))
+        (self.k() * self.supply_v - t.vbe_at_temperature_v()) / (self.re_ohm + self.rb2() / (t.beta_f_at_temperature() + 1.0))
     }
 
     /// The hand model's active-region Q2 collector and emitter voltages with the input low, when
@@ -508,12 +436,10 @@ impl EmitterCoupledSchmitt {
             )));
         }
         let upper = vbe + self.re_ohm * ie2;
-        let lower = k * (vcc * self.re_ohm + alpha * self.rc1_ohm * vbe)
-            / (self.re_ohm + alpha * k * self.rc1_ohm);
+        let lower = k * (vcc * self.re_ohm + alpha * self.rc1_ohm * vbe) / (self.re_ohm + alpha * k * self.rc1_ohm);
         // Regeneration (DOMAIN §1f, [D]): loop gain α·K·RC1 against re1 + re2 + RB2/(β+1), re ≈ 2VT/IE.
         let loop_ohm = alpha * k * self.rc1_ohm;
-        let loss_ohm =
-            4.0 * t.thermal_voltage_v() / ie2 + self.rb2() / (t.beta_f_at_temperature() + 1.0);
+        let loss_ohm = 4.0 * t.thermal_voltage_v() / ie2 + self.rb2() / (t.beta_f_at_temperature() + 1.0);
         if loop_ohm <= loss_ohm || upper <= lower {
             return Err(DesignError::NoSwitching {
                 reason: format!(
@@ -521,41 +447,27 @@ impl EmitterCoupledSchmitt {
                 ),
             });
         }
-        Ok(Thresholds {
-            vt_upper_v: upper,
-            vt_lower_v: lower,
-        })
+        Ok(Thresholds { vt_upper_v: upper, vt_lower_v: lower })
     }
 
     /// VT± from the Ebers–Moll DC solution: Vin at the two fold points of the transfer curve.
     pub fn ebers_moll_thresholds(&self) -> Result<Thresholds, DesignError> {
         let tr = Em::new(self).trace_memo()?;
-        Ok(Thresholds {
-            vt_upper_v: tr.upper.vin,
-            vt_lower_v: tr.lower.vin,
-        })
+        Ok(Thresholds { vt_upper_v: tr.upper.vin, vt_lower_v: tr.lower.vin })
     }
 
     /// The Ebers–Moll node voltages at the two fold points, [at VT+, at VT−].
     pub fn fold_points(&self) -> Result<[BjtNodes; 2], DesignError> {
         let em = Em::new(self);
         let tr = em.trace_memo()?;
-        Ok([
-            em.nodes(&tr.upper.x, tr.upper.vin),
-            em.nodes(&tr.lower.x, tr.lower.vin),
-        ])
+        Ok([em.nodes(&tr.upper.x, tr.upper.vin), em.nodes(&tr.lower.x, tr.lower.vin)])
     }
 
     /// The S-shaped Ebers–Moll transfer curve (output voltage against input), in order along the
     /// curve, including the unstable middle branch between the folds.
     pub fn ebers_moll_curve(&self) -> Result<Vec<CurvePoint>, DesignError> {
         let mut pts = Vec::new();
-        Em::new(self).trace(|_, x, vin| {
-            pts.push(CurvePoint {
-                vin_v: vin,
-                vout_v: x[3],
-            })
-        })?;
+        Em::new(self).trace(|_, x, vin| pts.push(CurvePoint { vin_v: vin, vout_v: x[3] }))?;
         Ok(pts)
     }
 
@@ -579,24 +491,10 @@ impl EmitterCoupledSchmitt {
             OutputState::Low => {
                 let ie2 = self.hand_ie2().max(0.0);
                 let ve = self.re_ohm * ie2;
-                let vb2 = if ie2 > 0.0 {
-                    ve + t.vbe_at_temperature_v()
-                } else {
-                    self.k() * self.supply_v
-                };
-                let vc1 = (self.supply_v / self.rc1_ohm + vb2 / self.r1_ohm)
-                    / (1.0 / self.rc1_ohm + 1.0 / self.r1_ohm);
-                let vc2 = (vth2 - alpha * ie2 * rth2)
-                    .max(ve + VCE_SATURATION_V)
-                    .min(vth2);
-                BjtNodes {
-                    vin_v,
-                    ve_v: ve,
-                    vc1_v: vc1,
-                    vb2_v: vb2,
-                    vc2_v: vc2,
-                    input_current_a: 0.0,
-                }
+                let vb2 = if ie2 > 0.0 { ve + t.vbe_at_temperature_v() } else { self.k() * self.supply_v };
+                let vc1 = (self.supply_v / self.rc1_ohm + vb2 / self.r1_ohm) / (1.0 / self.rc1_ohm + 1.0 / self.r1_ohm);
+                let vc2 = (vth2 - alpha * ie2 * rth2).max(ve + VCE_SATURATION_V).min(vth2);
+                BjtNodes { vin_v, ve_v: ve, vc1_v: vc1, vb2_v: vb2, vc2_v: vc2, input_current_a: 0.0 }
             }
             OutputState::High => {
                 let ie1 = ((vin_v - t.vbe_at_temperature_v()) / self.re_ohm).max(0.0);
@@ -608,14 +506,7 @@ impl EmitterCoupledSchmitt {
                     ic1 = (vthc1 - vc1) / rthc1;
                 }
                 let vb2 = vc1 * self.r2_ohm / (self.r1_ohm + self.r2_ohm);
-                BjtNodes {
-                    vin_v,
-                    ve_v: ve,
-                    vc1_v: vc1,
-                    vb2_v: vb2,
-                    vc2_v: vth2,
-                    input_current_a: ie1 - ic1,
-                }
+                BjtNodes { vin_v, ve_v: ve, vc1_v: vc1, vb2_v: vb2, vc2_v: vth2, input_current_a: ie1 - ic1 }
             }
         }
     }
@@ -624,12 +515,7 @@ impl EmitterCoupledSchmitt {
     /// RC1(K) = RE(K·VCC − VT−)/(α·K(VT− − VBE)) from the VT− equation, and K solves
     /// (VT+ − VBE)(RE + K(1−K)(RC1 + Rd)/(β+1)) = RE(K·VCC − VBE) on [VT+/VCC, 1) by bisection
     /// (the left end is the β→∞ answer, where the left side is not below the right; at K = 1 it is).
-    fn hand_synthesis(
-        &self,
-        targets: Thresholds,
-        re_ohm: f64,
-        vbe_v: f64,
-    ) -> Result<Self, DesignError> {
+    fn hand_synthesis(&self, targets: Thresholds, re_ohm: f64, vbe_v: f64) -> Result<Self, DesignError> {
         let (up, lo) = (targets.vt_upper_v, targets.vt_lower_v);
         let vcc = self.supply_v;
         if up <= lo {
@@ -655,17 +541,11 @@ impl EmitterCoupledSchmitt {
         let bp1 = t.beta_f_at_temperature() + 1.0;
         let rd = self.r1_ohm + self.r2_ohm;
         let rc1_of = |k: f64| re_ohm * (k * vcc - lo) / (alpha * k * (lo - vbe_v));
-        let f = |k: f64| {
-            (up - vbe_v) * (re_ohm + k * (1.0 - k) * (rc1_of(k) + rd) / bp1)
-                - re_ohm * (k * vcc - vbe_v)
-        };
+        let f = |k: f64| (up - vbe_v) * (re_ohm + k * (1.0 - k) * (rc1_of(k) + rd) / bp1) - re_ohm * (k * vcc - vbe_v);
         let mut a = up / vcc;
         let mut b = 1.0;
         if f(a) < 0.0 {
-            return Err(DesignError::infeasible(
-                "the hand model has no solution for these targets",
-                "move the targets apart or change RE",
-            ));
+            return Err(DesignError::infeasible("the hand model has no solution for these targets", "move the targets apart or change RE"));
         }
         for _ in 0..200 {
             let m = 0.5 * (a + b);
@@ -724,20 +604,12 @@ impl EmitterCoupledSchmitt {
         let resid = |p: [f64; 2]| -> Result<[f64; 2], DesignError> {
             let c = build(p);
             if !(c.rc1_ohm.is_finite() && c.rc1_ohm > 0.0 && c.r1_ohm > 0.0 && c.r2_ohm > 0.0) {
-                return Err(DesignError::NoSwitching {
-                    reason: "resistor out of range".into(),
-                });
+                return Err(DesignError::NoSwitching { reason: "resistor out of range".into() });
             }
             let t = c.ebers_moll_thresholds()?;
-            Ok([
-                t.vt_upper_v - targets.vt_upper_v,
-                t.vt_lower_v - targets.vt_lower_v,
-            ])
+            Ok([t.vt_upper_v - targets.vt_upper_v, t.vt_lower_v - targets.vt_lower_v])
         };
-        let scale = [
-            targets.vt_upper_v.abs().max(1e-3),
-            targets.vt_lower_v.abs().max(1e-3),
-        ];
+        let scale = [targets.vt_upper_v.abs().max(1e-3), targets.vt_lower_v.abs().max(1e-3)];
         let norm = |r: &[f64; 2]| (r[0] / scale[0]).abs().max((r[1] / scale[1]).abs());
         let mut p = [start.rc1_ohm.ln(), (start.r2_ohm / start.r1_ohm).ln()];
         // A start that does not latch has no fold to aim with: raise RC1 (more loop gain) with
@@ -783,10 +655,7 @@ impl EmitterCoupledSchmitt {
             if !(det.is_finite() && det != 0.0) {
                 break;
             }
-            let mut dp = [
-                -(jac[1][1] * r[0] - jac[0][1] * r[1]) / det,
-                -(-jac[1][0] * r[0] + jac[0][0] * r[1]) / det,
-            ];
+            let mut dp = [-(jac[1][1] * r[0] - jac[0][1] * r[1]) / det, -(-jac[1][0] * r[0] + jac[0][0] * r[1]) / det];
             let big = dp[0].abs().max(dp[1].abs());
             if big > 1.0 {
                 dp = [dp[0] / big, dp[1] / big];
@@ -868,49 +737,22 @@ impl Circuit for EmitterCoupledSchmitt {
         Sense::NonInverting
     }
 
-    fn operating_point(
-        &self,
-        vin_v: f64,
-        state: OutputState,
-    ) -> Result<OperatingPoint, DesignError> {
+    fn operating_point(&self, vin_v: f64, state: OutputState) -> Result<OperatingPoint, DesignError> {
         let n = self.nodes(vin_v, state)?;
         let vcc = self.supply_v;
         let d = |i: usize| format!("R{i}");
         let resistors = vec![
-            ResistorDrop {
-                designator: d(1),
-                resistance_ohm: self.r1_ohm,
-                volts: n.vc1_v - n.vb2_v,
-            },
-            ResistorDrop {
-                designator: d(2),
-                resistance_ohm: self.r2_ohm,
-                volts: n.vb2_v,
-            },
-            ResistorDrop {
-                designator: d(3),
-                resistance_ohm: self.rc1_ohm,
-                volts: vcc - n.vc1_v,
-            },
-            ResistorDrop {
-                designator: d(4),
-                resistance_ohm: self.rc2_ohm,
-                volts: vcc - n.vc2_v,
-            },
-            ResistorDrop {
-                designator: d(5),
-                resistance_ohm: self.re_ohm,
-                volts: n.ve_v,
-            },
+            ResistorDrop { designator: d(1), resistance_ohm: self.r1_ohm, volts: n.vc1_v - n.vb2_v },
+            ResistorDrop { designator: d(2), resistance_ohm: self.r2_ohm, volts: n.vb2_v },
+            ResistorDrop { designator: d(3), resistance_ohm: self.rc1_ohm, volts: vcc - n.vc1_v },
+            ResistorDrop { designator: d(4), resistance_ohm: self.rc2_ohm, volts: vcc - n.vc2_v },
+            ResistorDrop { designator: d(5), resistance_ohm: self.re_ohm, volts: n.ve_v },
         ];
         Ok(OperatingPoint {
             resistors,
             input_current_a: n.input_current_a,
             network_current_a: (vcc - n.vc1_v) / self.rc1_ohm + (vcc - n.vc2_v) / self.rc2_ohm,
-            device_inputs: vec![NodeVoltage {
-                name: "Q2 base".into(),
-                volts: n.vb2_v,
-            }],
+            device_inputs: vec![NodeVoltage { name: "Q2 base".into(), volts: n.vb2_v }],
         })
     }
 
@@ -926,73 +768,27 @@ impl Circuit for EmitterCoupledSchmitt {
         let [is_lo, is_hi] = t.saturation_current_range_a();
         let (vbe, is) = match self.model {
             BjtModel::Hand => (
-                Parameter::quantity(
-                    "vbe_v",
-                    "base–emitter voltage VBE at the nominal temperature (hand model)",
-                    t.vbe_v,
-                    ParameterKind::DeviceThreshold,
-                ),
-                Parameter::device(
-                    "saturation_current_a",
-                    "saturation current IS (Ebers–Moll model only)",
-                    t.saturation_current_a,
-                    Unit::Ampere,
-                ),
+                Parameter::quantity("vbe_v", "base–emitter voltage VBE at the nominal temperature (hand model)", t.vbe_v, ParameterKind::DeviceThreshold),
+                Parameter::device("saturation_current_a", "saturation current IS (Ebers–Moll model only)", t.saturation_current_a, Unit::Ampere),
             ),
             BjtModel::EbersMoll => (
-                Parameter::device(
-                    "vbe_v",
-                    "base–emitter voltage VBE (hand model only)",
-                    t.vbe_v,
-                    Unit::Volt,
-                ),
-                Parameter::device(
-                    "saturation_current_a",
-                    "saturation current IS at the nominal temperature",
-                    t.saturation_current_a,
-                    Unit::Ampere,
-                )
-                .with_limits(is_lo, is_hi),
+                Parameter::device("vbe_v", "base–emitter voltage VBE (hand model only)", t.vbe_v, Unit::Volt),
+                Parameter::device("saturation_current_a", "saturation current IS at the nominal temperature", t.saturation_current_a, Unit::Ampere)
+                    .with_limits(is_lo, is_hi),
             ),
         };
         // With no limits of its own the junction temperature spans the settings' operating range
         // (`tolerance::settings` gives a kelvin device parameter that band).
-        let junction = Parameter::device(
-            "temperature_k",
-            "junction temperature",
-            t.temperature_k,
-            Unit::Kelvin,
-        );
+        let junction = Parameter::device("temperature_k", "junction temperature", t.temperature_k, Unit::Kelvin);
         vec![
-            Parameter::resistor(
-                "r1_ohm",
-                "R1",
-                "coupling resistor Q1 collector to Q2 base",
-                self.r1_ohm,
-            ),
+            Parameter::resistor("r1_ohm", "R1", "coupling resistor Q1 collector to Q2 base", self.r1_ohm),
             Parameter::resistor("r2_ohm", "R2", "Q2 base resistor to ground", self.r2_ohm),
             Parameter::resistor("rc1_ohm", "R3", "Q1 collector resistor RC1", self.rc1_ohm),
-            Parameter::resistor(
-                "rc2_ohm",
-                "R4",
-                "Q2 collector (output) resistor RC2",
-                self.rc2_ohm,
-            ),
+            Parameter::resistor("rc2_ohm", "R4", "Q2 collector (output) resistor RC2", self.rc2_ohm),
             Parameter::resistor("re_ohm", "R5", "shared emitter resistor RE", self.re_ohm),
-            Parameter::quantity(
-                "supply_v",
-                "supply VCC",
-                self.supply_v,
-                ParameterKind::Supply,
-            ),
+            Parameter::quantity("supply_v", "supply VCC", self.supply_v, ParameterKind::Supply),
             vbe,
-            Parameter::device(
-                "beta_f",
-                "forward current gain βF at the nominal temperature",
-                t.beta_f,
-                Unit::Ratio,
-            )
-            .with_limits(b_lo, b_hi),
+            Parameter::device("beta_f", "forward current gain βF at the nominal temperature", t.beta_f, Unit::Ratio).with_limits(b_lo, b_hi),
             Parameter::device("beta_r", "reverse current gain βR", t.beta_r, Unit::Ratio),
             is,
             match t.temperature_limits_k {
@@ -1000,24 +796,9 @@ impl Circuit for EmitterCoupledSchmitt {
                 None => junction,
             },
             // The temperature laws (SPICE's XTI, EG, XTB): entered, never varied by the studies.
-            Parameter::device(
-                "is_temperature_exponent",
-                "temperature exponent of IS (XTI)",
-                t.is_temperature_exponent,
-                Unit::Ratio,
-            ),
-            Parameter::device(
-                "bandgap_v",
-                "bandgap voltage of the IS(T) law (EG)",
-                t.bandgap_v,
-                Unit::Volt,
-            ),
-            Parameter::device(
-                "beta_temperature_exponent",
-                "temperature exponent of βF and βR (XTB)",
-                t.beta_temperature_exponent,
-                Unit::Ratio,
-            ),
+            Parameter::device("is_temperature_exponent", "temperature exponent of IS (XTI)", t.is_temperature_exponent, Unit::Ratio),
+            Parameter::device("bandgap_v", "bandgap voltage of the IS(T) law (EG)", t.bandgap_v, Unit::Volt),
+            Parameter::device("beta_temperature_exponent", "temperature exponent of βF and βR (XTB)", t.beta_temperature_exponent, Unit::Ratio),
         ]
     }
 
@@ -1046,28 +827,21 @@ impl Circuit for EmitterCoupledSchmitt {
     /// from the hand answer, with VBE estimated at the fold current (VBE ≈ VT·ln(I_f/IS),
     /// I_f ≈ VT/(α·K·RC1), DOMAIN §1f), and refines RC1 and R2/R1 by damped Newton until the fold
     /// points reach the targets (to 1e-11 relative when it converges; accepted down to 1e-6).
-    fn synthesise_with_anchor(
-        &self,
-        targets: Thresholds,
-        re_ohm: f64,
-    ) -> Result<Self, DesignError> {
+    fn synthesise_with_anchor(&self, targets: Thresholds, re_ohm: f64) -> Result<Self, DesignError> {
         self.validate()?;
         crate::error::finite("targets.vt_upper_v", targets.vt_upper_v)?;
         crate::error::finite("targets.vt_lower_v", targets.vt_lower_v)?;
         positive("anchor_ohm", re_ohm)?;
-        let no_loop = |e: DesignError| {
-            match e {
+        let no_loop = |e: DesignError| match e {
             DesignError::NoSwitching { reason } => DesignError::infeasible(
                 format!("the synthesised circuit would not latch: {reason}"),
                 "ask for a wider band (regeneration needs roughly ΔV > 4·VT·(VT− − VBE)/(VT+ − VBE)), or use a comparator topology for a narrow band",
             ),
             other => other,
-        }
         };
         match self.model {
             BjtModel::Hand => {
-                let d =
-                    self.hand_synthesis(targets, re_ohm, self.transistor.vbe_at_temperature_v())?;
+                let d = self.hand_synthesis(targets, re_ohm, self.transistor.vbe_at_temperature_v())?;
                 d.hand_thresholds().map_err(no_loop)?;
                 Ok(d)
             }
@@ -1118,15 +892,9 @@ impl Circuit for EmitterCoupledSchmitt {
                 // The active-region VOL before the hand model clamps it at VE + VCE(sat).
                 let ie2 = self.hand_ie2().max(0.0);
                 let (vth2, rth2) = self.output_thevenin();
-                Some((
-                    vth2 - self.transistor.alpha() * ie2 * rth2,
-                    self.re_ohm * ie2,
-                ))
+                Some((vth2 - self.transistor.alpha() * ie2 * rth2, self.re_ohm * ie2))
             }
-            BjtModel::EbersMoll => self
-                .nodes(vin_lo, OutputState::Low)
-                .ok()
-                .map(|n| (n.vc2_v, n.ve_v)),
+            BjtModel::EbersMoll => self.nodes(vin_lo, OutputState::Low).ok().map(|n| (n.vc2_v, n.ve_v)),
         };
         if let Some((vc2, ve)) = q2 {
             if vc2 < ve + VCE_SATURATION_V {
@@ -1213,10 +981,7 @@ impl Circuit for EmitterCoupledSchmitt {
     ///   switch with the smallest RC2 did not switch with any larger one (300 random designs, 147
     ///   of them without a fold at the smallest RC2: none switched at a larger RC2).
     fn monotone_structure(&self) -> Option<MonotoneStructure> {
-        (self.model == BjtModel::EbersMoll).then_some(MonotoneStructure {
-            monotone: 4,
-            output_load: 3,
-        })
+        (self.model == BjtModel::EbersMoll).then_some(MonotoneStructure { monotone: 4, output_load: 3 })
     }
 
     /// Ebers–Moll: a traced curve per evaluation, about 0.13 ms natively unloaded and up to
@@ -1252,10 +1017,7 @@ mod tests {
 
     /// DOMAIN §1f's example design (its transistor entered and operating at 300 K).
     fn example(model: BjtModel) -> EmitterCoupledSchmitt {
-        let mut c = EmitterCoupledSchmitt {
-            model,
-            ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3)
-        };
+        let mut c = EmitterCoupledSchmitt { model, ..EmitterCoupledSchmitt::new(12.0, 10e3, 10e3, 4.7e3, 2.2e3, 1.5e3) };
         c.transistor.temperature_k = 300.0;
         c.transistor.nominal_temperature_k = 300.0;
         c
@@ -1265,55 +1027,30 @@ mod tests {
     fn junction_temperature_follows_the_operating_range() {
         use crate::tolerance::settings::resolve_bands;
         use crate::tolerance::{temperature_sweep, ToleranceSettings};
-        let settings = ToleranceSettings {
-            temperature_min_c: -40.0,
-            temperature_max_c: 85.0,
-            ..ToleranceSettings::default()
-        };
+        let settings = ToleranceSettings { temperature_min_c: -40.0, temperature_max_c: 85.0, ..ToleranceSettings::default() };
         for model in [BjtModel::Hand, BjtModel::EbersMoll] {
             // Entered at 300 K (about 27 °C), not at the sweep's 25 °C.
             let c = example(model);
             // No limits of its own: the junction spans the settings' range (0 °C = 273.15 K, SI).
             let bands = resolve_bands(&c.parameters(), &settings).unwrap();
-            let junction = bands
-                .iter()
-                .find(|b| b.parameter.id == "temperature_k")
-                .unwrap();
-            assert!(
-                (junction.centre - junction.half_width - 233.15).abs() < 1e-9,
-                "{junction:?}"
-            );
-            assert!(
-                (junction.centre + junction.half_width - 358.15).abs() < 1e-9,
-                "{junction:?}"
-            );
+            let junction = bands.iter().find(|b| b.parameter.id == "temperature_k").unwrap();
+            assert!((junction.centre - junction.half_width - 233.15).abs() < 1e-9, "{junction:?}");
+            assert!((junction.centre + junction.half_width - 358.15).abs() < 1e-9, "{junction:?}");
             // Limits of its own win.
             let mut own = c.clone();
             own.transistor.temperature_limits_k = Some([290.0, 310.0]);
             let bands = resolve_bands(&own.parameters(), &settings).unwrap();
-            let junction = bands
-                .iter()
-                .find(|b| b.parameter.id == "temperature_k")
-                .unwrap();
-            assert!(
-                (junction.centre - 300.0).abs() < 1e-9 && (junction.half_width - 10.0).abs() < 1e-9,
-                "{junction:?}"
-            );
+            let junction = bands.iter().find(|b| b.parameter.id == "temperature_k").unwrap();
+            assert!((junction.centre - 300.0).abs() < 1e-9 && (junction.half_width - 10.0).abs() < 1e-9, "{junction:?}");
             // The temperature sweep moves the junction: VT− falls as VBE does (about −2 mV/K, from
             // memory, scaled by the circuit's gain from VBE to VT−, about 0.56 here).
             let sweep = temperature_sweep(&c, &settings).unwrap();
             let drift = sweep.vt_lower_drift_v_per_k.unwrap();
-            assert!(
-                (-1.3e-3..-0.6e-3).contains(&drift),
-                "{model:?}: VT− drift {drift} V/K"
-            );
+            assert!((-1.3e-3..-0.6e-3).contains(&drift), "{model:?}: VT− drift {drift} V/K");
             // The largest drift from room temperature is of the same order (resistor TCR adds a
             // little), not inflated by a junction entered at another temperature than 25 °C.
             let bound = sweep.vt_lower_drift_bound_v_per_k.unwrap();
-            assert!(
-                bound >= drift.abs() && bound < 2.0 * drift.abs(),
-                "{model:?}: bound {bound} V/K vs drift {drift} V/K"
-            );
+            assert!(bound >= drift.abs() && bound < 2.0 * drift.abs(), "{model:?}: bound {bound} V/K vs drift {drift} V/K");
         }
     }
 
@@ -1333,9 +1070,7 @@ mod tests {
         let t = c.thresholds().unwrap();
         let k = 10.0 / 24.7;
         assert!((t.vt_upper_v - 12.0 * k).abs() < 1e-9);
-        assert!(
-            (t.vt_lower_v - k * (12.0 * 1.5e3 + 4.7e3 * 0.65) / (1.5e3 + k * 4.7e3)).abs() < 1e-9
-        );
+        assert!((t.vt_lower_v - k * (12.0 * 1.5e3 + 4.7e3 * 0.65) / (1.5e3 + k * 4.7e3)).abs() < 1e-9);
     }
 
     #[test]
@@ -1361,27 +1096,17 @@ mod tests {
         }
         let mut c = example(BjtModel::EbersMoll);
         c.rc1_ohm = 150.0;
-        assert!(matches!(
-            c.thresholds(),
-            Err(DesignError::NoSwitching { .. })
-        ));
+        assert!(matches!(c.thresholds(), Err(DesignError::NoSwitching { .. })));
         c.model = BjtModel::Hand;
         c.rc2_ohm = 1e3;
-        assert!(matches!(
-            c.thresholds(),
-            Err(DesignError::NoSwitching { .. })
-        ));
+        assert!(matches!(c.thresholds(), Err(DesignError::NoSwitching { .. })));
     }
 
     #[test]
     fn hand_synthesis_round_trip() {
         let template = example(BjtModel::Hand);
         for (up, lo) in [(4.6992, 2.5154), (6.0, 4.0), (3.0, 2.7), (6.5, 2.0)] {
-            let targets = Targets {
-                vt_upper_v: up,
-                vt_lower_v: lo,
-                impedance: ImpedanceChoice::AnchorOhm(1.2e3),
-            };
+            let targets = Targets { vt_upper_v: up, vt_lower_v: lo, impedance: ImpedanceChoice::AnchorOhm(1.2e3) };
             let d = synthesise(&template, &targets).unwrap();
             let t = d.thresholds().unwrap();
             assert!((t.vt_upper_v - up).abs() < 1e-9 * up, "{t:?}");
@@ -1389,23 +1114,14 @@ mod tests {
             assert_eq!(d.re_ohm, 1.2e3);
             assert!((d.r1_ohm + d.r2_ohm - 20e3).abs() < 1e-6);
             // RC2 is kept unless it would saturate Q2 (the 6 V bands need a smaller one).
-            assert_eq!(
-                d.rc2_ohm == template.rc2_ohm,
-                up < 5.0,
-                "{up}: RC2 {}",
-                d.rc2_ohm
-            );
+            assert_eq!(d.rc2_ohm == template.rc2_ohm, up < 5.0, "{up}: RC2 {}", d.rc2_ohm);
         }
     }
 
     #[test]
     fn ebers_moll_synthesis_round_trip() {
         let template = example(BjtModel::EbersMoll);
-        let targets = Targets {
-            vt_upper_v: 5.0,
-            vt_lower_v: 3.0,
-            impedance: ImpedanceChoice::AnchorOhm(1.5e3),
-        };
+        let targets = Targets { vt_upper_v: 5.0, vt_lower_v: 3.0, impedance: ImpedanceChoice::AnchorOhm(1.5e3) };
         let d = synthesise(&template, &targets).unwrap();
         let t = d.thresholds().unwrap();
         assert!((t.vt_upper_v - 5.0).abs() < 1e-6 * 5.0, "{t:?}");
@@ -1415,19 +1131,8 @@ mod tests {
     #[test]
     fn infeasible_targets_are_typed_with_reason_and_suggestion() {
         let template = example(BjtModel::Hand);
-        for (up, lo, word) in [
-            (4.0, 0.5, "base–emitter"),
-            (12.5, 5.0, "VCC"),
-            (3.0, 4.0, "above"),
-            (4.0, 3.99, "latch"),
-        ] {
-            match template.synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: up,
-                    vt_lower_v: lo,
-                },
-                1.5e3,
-            ) {
+        for (up, lo, word) in [(4.0, 0.5, "base–emitter"), (12.5, 5.0, "VCC"), (3.0, 4.0, "above"), (4.0, 3.99, "latch")] {
+            match template.synthesise_with_anchor(Thresholds { vt_upper_v: up, vt_lower_v: lo }, 1.5e3) {
                 Err(DesignError::Infeasible { reason, suggestion }) => {
                     assert!(reason.contains(word), "{reason}");
                     assert!(!suggestion.is_empty());
@@ -1439,46 +1144,26 @@ mod tests {
         let mut small = template.clone();
         small.r1_ohm = 100.0;
         small.r2_ohm = 100.0;
-        let e = small
-            .synthesise_with_anchor(
-                Thresholds {
-                    vt_upper_v: 9.0,
-                    vt_lower_v: 1.0,
-                },
-                1.5e3,
-            )
-            .unwrap_err();
-        assert!(
-            matches!(&e, DesignError::Infeasible { reason, .. } if reason.contains("R1 + R2")),
-            "{e:?}"
-        );
+        let e = small.synthesise_with_anchor(Thresholds { vt_upper_v: 9.0, vt_lower_v: 1.0 }, 1.5e3).unwrap_err();
+        assert!(matches!(&e, DesignError::Infeasible { reason, .. } if reason.contains("R1 + R2")), "{e:?}");
     }
 
     #[test]
     fn invalid_inputs_are_typed_errors() {
         let mut c = example(BjtModel::Hand);
         c.re_ohm = 0.0;
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::InvalidValue { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { .. })));
         c.re_ohm = 1.5e3;
         c.transistor.beta_f = f64::NAN;
         assert!(c.validate().is_err());
         c.transistor.beta_f = 100.0;
         c.transistor.vbe_v = 13.0;
-        assert!(matches!(
-            c.validate(),
-            Err(DesignError::Inconsistent { .. })
-        ));
+        assert!(matches!(c.validate(), Err(DesignError::Inconsistent { .. })));
     }
 
     #[test]
     fn parameters_round_trip() {
-        let c = EmitterCoupledSchmitt {
-            load_ohm: Some(10e3),
-            ..example(BjtModel::EbersMoll)
-        };
+        let c = EmitterCoupledSchmitt { load_ohm: Some(10e3), ..example(BjtModel::EbersMoll) };
         let p: Vec<f64> = c.parameters().iter().map(|p| p.value).collect();
         assert_eq!(c.with_parameters(&p).unwrap(), c);
         assert!(c.with_parameters(&p[..13]).is_err());
@@ -1486,52 +1171,31 @@ mod tests {
         let mut q = p.clone();
         q[11..14].copy_from_slice(&[3.5, 1.12, 1.7]);
         let t = c.with_parameters(&q).unwrap().transistor;
-        assert_eq!(
-            (
-                t.is_temperature_exponent,
-                t.bandgap_v,
-                t.beta_temperature_exponent
-            ),
-            (3.5, 1.12, 1.7)
-        );
+        assert_eq!((t.is_temperature_exponent, t.bandgap_v, t.beta_temperature_exponent), (3.5, 1.12, 1.7));
     }
 
     #[test]
     fn saturation_and_region_checks() {
         let mut c = example(BjtModel::Hand);
-        assert!(!c
-            .checks(&CheckSettings::default())
-            .iter()
-            .any(|w| w.code == WarningCode::TransistorRegion));
+        assert!(!c.checks(&CheckSettings::default()).iter().any(|w| w.code == WarningCode::TransistorRegion));
         c.rc2_ohm = 10e3; // α·IE2·RC2 ≈ 27 V > VCC: Q2 saturates
-                          // The hand model refuses a saturated Q2 and names the model that solves it.
+        // The hand model refuses a saturated Q2 and names the model that solves it.
         match c.thresholds() {
             Err(DesignError::Inconsistent { reason }) => {
-                assert!(
-                    reason.contains("Q2 saturates") && reason.contains("ebers_moll"),
-                    "{reason}"
-                )
+                assert!(reason.contains("Q2 saturates") && reason.contains("ebers_moll"), "{reason}")
             }
             other => panic!("{other:?}"),
         }
         c.model = BjtModel::EbersMoll;
         let w = c.checks(&CheckSettings::default());
-        assert!(
-            w.iter()
-                .any(|w| w.code == WarningCode::TransistorRegion
-                    && w.message.contains("Q2 saturates")),
-            "{w:?}"
-        );
+        assert!(w.iter().any(|w| w.code == WarningCode::TransistorRegion && w.message.contains("Q2 saturates")), "{w:?}");
     }
 
     #[test]
     fn analysis_runs_in_both_models() {
         for model in [BjtModel::Hand, BjtModel::EbersMoll] {
             let a = analyse(&example(model), &CheckSettings::default()).unwrap();
-            assert!(
-                a.hysteresis_v > 1.5 && a.output_high_v > 11.9 && a.output_low_v < 7.0,
-                "{a:?}"
-            );
+            assert!(a.hysteresis_v > 1.5 && a.output_high_v > 11.9 && a.output_low_v < 7.0, "{a:?}");
             assert!(a.input_resistance_ohm.is_some());
         }
     }
@@ -1572,11 +1236,7 @@ mod tests {
         assert_eq!(old.saturation_current_at_temperature_a(), 1e-14);
         assert_eq!(old.is_temperature_exponent, 3.0);
         // A new one round-trips with every field.
-        let t = Transistor {
-            temperature_k: 330.0,
-            temperature_limits_k: Some([250.0, 350.0]),
-            ..Transistor::default()
-        };
+        let t = Transistor { temperature_k: 330.0, temperature_limits_k: Some([250.0, 350.0]), ..Transistor::default() };
         let back: Transistor = serde_json::from_str(&serde_json::to_string(&t).unwrap()).unwrap();
         assert_eq!(back, t);
         let empty: Transistor = serde_json::from_str("{}").unwrap();
@@ -1593,10 +1253,7 @@ mod tests {
                 c.thresholds().unwrap()
             };
             let (cold, hot) = (at(250.0), at(350.0));
-            assert!(
-                hot.vt_lower_v < cold.vt_lower_v - 0.05,
-                "{model:?}: {cold:?} → {hot:?}"
-            );
+            assert!(hot.vt_lower_v < cold.vt_lower_v - 0.05, "{model:?}: {cold:?} → {hot:?}");
         }
     }
 
@@ -1604,14 +1261,10 @@ mod tests {
     fn transistor_temperature_values_are_checked() {
         let mut c = example(BjtModel::EbersMoll);
         c.transistor.temperature_k = 900.0;
-        assert!(
-            matches!(c.validate(), Err(DesignError::InvalidValue { field, .. }) if field == "transistor.temperature_k")
-        );
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { field, .. }) if field == "transistor.temperature_k"));
         c.transistor.temperature_k = 300.0;
         c.transistor.temperature_limits_k = Some([350.0, 250.0]);
-        assert!(
-            matches!(c.validate(), Err(DesignError::InvalidValue { field, .. }) if field == "transistor.temperature_limits_k")
-        );
+        assert!(matches!(c.validate(), Err(DesignError::InvalidValue { field, .. }) if field == "transistor.temperature_limits_k"));
         c.transistor.temperature_limits_k = None;
         c.transistor.bandgap_v = 50.0;
         assert!(c.validate().is_err());
@@ -1628,34 +1281,13 @@ mod tests {
         for model in [BjtModel::EbersMoll, BjtModel::Hand] {
             let c = example(model);
             let r = tolerance_report(&c, &s).unwrap();
-            let varied = |id: &str| {
-                r.bands
-                    .iter()
-                    .any(|b| b.parameter.id == id && b.is_varied())
-            };
+            let varied = |id: &str| r.bands.iter().any(|b| b.parameter.id == id && b.is_varied());
             assert!(varied("beta_f") && varied("temperature_k"), "{model:?}");
-            assert_eq!(
-                varied("saturation_current_a"),
-                model == BjtModel::EbersMoll,
-                "{model:?}"
-            );
+            assert_eq!(varied("saturation_current_a"), model == BjtModel::EbersMoll, "{model:?}");
             assert_eq!(varied("vbe_v"), model == BjtModel::Hand, "{model:?}");
             // The temperature term reaches the GUM budget and widens the worst case of VT−.
-            let temp = r
-                .gum
-                .sources
-                .iter()
-                .position(|x| x.id == "temperature_k")
-                .unwrap();
-            let u = r
-                .gum
-                .vt_lower
-                .contributions
-                .iter()
-                .find(|c| c.source == temp)
-                .unwrap()
-                .contribution_v
-                .abs();
+            let temp = r.gum.sources.iter().position(|x| x.id == "temperature_k").unwrap();
+            let u = r.gum.vt_lower.contributions.iter().find(|c| c.source == temp).unwrap().contribution_v.abs();
             assert!(u > 1e-3, "{model:?}: temperature contributes {u} V");
             assert_eq!(r.monte_carlo.rejected_trials, 0, "{model:?}");
         }
@@ -1669,19 +1301,11 @@ mod tests {
         let mut s = ToleranceSettings::default();
         s.monte_carlo.trials = 1_000_000;
         let em = example(BjtModel::EbersMoll);
-        let e = MonteCarloRun::new(&em, &s)
-            .err()
-            .expect("10^6 Ebers–Moll trials must be refused");
+        let e = MonteCarloRun::new(&em, &s).err().expect("10^6 Ebers–Moll trials must be refused");
         let text = e.to_string();
-        assert!(
-            matches!(e, DesignError::InvalidValue { ref field, .. } if field == "tolerance.monte_carlo.trials"),
-            "{e:?}"
-        );
+        assert!(matches!(e, DesignError::InvalidValue { ref field, .. } if field == "tolerance.monte_carlo.trials"), "{e:?}");
         let allowed = (MONTE_CARLO_TIME_LIMIT_S / em.seconds_per_evaluation()).floor() as u64;
-        assert!(
-            text.contains(&format!("at most {allowed}")) && text.contains("hand model"),
-            "{text}"
-        );
+        assert!(text.contains(&format!("at most {allowed}")) && text.contains("hand model"), "{text}");
         // Exactly the allowed number is accepted; the hand model takes the full 10^6.
         s.monte_carlo.trials = allowed;
         assert!(MonteCarloRun::new(&em, &s).is_ok());
@@ -1698,37 +1322,15 @@ mod tests {
             let n = c.nodes(vin, state).unwrap();
             let ic1 = (12.0 - n.vc1_v) / c.rc1_ohm - (n.vc1_v - n.vb2_v) / c.r1_ohm;
             let ic2 = (12.0 - n.vc2_v) / c.rc2_ohm;
-            for (qi, ic, vce) in [
-                (&q[0], ic1, n.vc1_v - n.ve_v),
-                (&q[1], ic2, n.vc2_v - n.ve_v),
-            ] {
-                assert!(
-                    ic <= qi.collector_current_max_a
-                        && vce <= qi.vce_max_v
-                        && ic * vce <= qi.dissipation_max_w,
-                    "{qi:?} {ic} {vce}"
-                );
+            for (qi, ic, vce) in [(&q[0], ic1, n.vc1_v - n.ve_v), (&q[1], ic2, n.vc2_v - n.ve_v)] {
+                assert!(ic <= qi.collector_current_max_a && vce <= qi.vce_max_v && ic * vce <= qi.dissipation_max_w, "{qi:?} {ic} {vce}");
             }
         }
         let a = analyse(&c, &CheckSettings::default()).unwrap();
-        let b = crate::bom::bom(
-            &c,
-            &a,
-            &CheckSettings::default(),
-            &crate::bom::PartSettings::default(),
-        )
-        .unwrap();
+        let b = crate::bom::bom(&c, &a, &CheckSettings::default(), &crate::bom::PartSettings::default()).unwrap();
         let notes = b.device.notes.join(" | ");
-        assert!(
-            notes.contains("Q1: VCEO at least 12 V")
-                && notes.contains("Q2: VCEO")
-                && notes.contains("power rating"),
-            "{notes}"
-        );
-        assert!(
-            !notes.contains("common-mode") && !notes.contains("guaranteed swing"),
-            "{notes}"
-        );
+        assert!(notes.contains("Q1: VCEO at least 12 V") && notes.contains("Q2: VCEO") && notes.contains("power rating"), "{notes}");
+        assert!(!notes.contains("common-mode") && !notes.contains("guaranteed swing"), "{notes}");
     }
 
     #[test]
@@ -1737,42 +1339,21 @@ mod tests {
         c.transistor.nominal_temperature_k = SPICE_NOMINAL_TEMPERATURE_K;
         c.transistor.temperature_k = 350.0;
         let deck = crate::spice::to_spice(&crate::topology::Topology::BjtPair(c), "pair").unwrap();
-        for item in [
-            "XTI=3 ",
-            "EG=1.11 ",
-            "XTB=1.5 ",
-            "CJE=4.5p ",
-            "CJC=3.6p ",
-            "TF=400p",
-            "TNOM=27 ",
-            ".temp 76.85",
-        ] {
+        for item in ["XTI=3 ", "EG=1.11 ", "XTB=1.5 ", "CJE=4.5p ", "CJC=3.6p ", "TF=400p", "TNOM=27 ", ".temp 76.85"] {
             assert!(deck.contains(item), "{item} missing in\n{deck}");
         }
     }
 
     #[test]
     fn extreme_values_give_errors_not_nan() {
-        for (rc1, re, is) in [
-            (1e-3, 1.5e3, 1e-14),
-            (1e9, 1.5e3, 1e-14),
-            (4.7e3, 1e-3, 1e-14),
-            (4.7e3, 1e9, 1e-30),
-            (4.7e3, 1.5e3, 1e-3),
-        ] {
+        for (rc1, re, is) in [(1e-3, 1.5e3, 1e-14), (1e9, 1.5e3, 1e-14), (4.7e3, 1e-3, 1e-14), (4.7e3, 1e9, 1e-30), (4.7e3, 1.5e3, 1e-3)] {
             let mut c = example(BjtModel::EbersMoll);
             c.rc1_ohm = rc1;
             c.re_ohm = re;
             c.transistor.saturation_current_a = is;
             match c.thresholds() {
                 Ok(t) => assert!(t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()),
-                Err(e) => assert!(
-                    matches!(
-                        e,
-                        DesignError::NoSwitching { .. } | DesignError::NotConverged { .. }
-                    ),
-                    "{e:?}"
-                ),
+                Err(e) => assert!(matches!(e, DesignError::NoSwitching { .. } | DesignError::NotConverged { .. }), "{e:?}"),
             }
         }
     }
@@ -1784,8 +1365,8 @@ impl crate::netlist::Netlisted for EmitterCoupledSchmitt {
     /// to 0 V, Q2 (collector = output through RC2), shared emitter `e` through RE; an optional
     /// external load from the output to 0 V (not a part of the part list).
     fn netlist(&self) -> crate::netlist::Netlist {
-        use super::netlisting::{builder, input_centre_v};
         use crate::netlist::{ActiveDevice, NpnModel, ResistorRole, GROUND, INPUT_NET, OUTPUT_NET};
+        use super::netlisting::{builder, input_centre_v};
         let mut b = builder("bjt_pair", self);
         let vcc = b.supply(self.supply_v, "VCC");
         b.input(input_centre_v(self, (0.0, self.supply_v)), 0.0, "IN");
