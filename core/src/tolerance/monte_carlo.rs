@@ -321,10 +321,12 @@ impl<C: Circuit> MonteCarloRun<C> {
         c.thresholds()
     }
 
-    /// The thresholds for drawn band values (`scratch` holds the circuit's values between calls).
-    fn evaluate(&self, values: &[f64], scratch: &mut Vec<f64>) -> Option<Thresholds> {
+    /// The thresholds for drawn band values (`scratch` holds the circuit's values and `trial` the
+    /// drawn circuit between calls, so a trial neither allocates nor moves a new circuit).
+    fn evaluate(&self, values: &[f64], scratch: &mut Vec<f64>, trial: &mut C) -> Option<Thresholds> {
         super::settings::circuit_values_into(&self.params, values, &self.tracks, scratch);
-        let c = self.circuit.with_parameters(scratch).ok()?;
+        self.circuit.with_parameters_into(scratch, trial).ok()?;
+        let c = &*trial;
         c.validate().ok()?;
         let t = c.thresholds().ok()?;
         (t.vt_upper_v.is_finite() && t.vt_lower_v.is_finite()).then_some(t)
@@ -351,9 +353,10 @@ impl<C: Circuit> MonteCarloRun<C> {
         let check_spec = !self.spec.is_empty();
         let mut values = self.centres.clone();
         let mut scratch = Vec::with_capacity(self.params.len());
+        let mut trial = self.circuit.clone();
         for index in start..end {
             self.draw(index, &mut values);
-            match self.evaluate(&values, &mut scratch) {
+            match self.evaluate(&values, &mut scratch, &mut trial) {
                 Some(t) => {
                     p.vt_upper_v.push(t.vt_upper_v);
                     p.vt_lower_v.push(t.vt_lower_v);

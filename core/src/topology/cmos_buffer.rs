@@ -306,10 +306,16 @@ impl Circuit for CmosBufferSchmitt {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         expect_len(values, 2 + self.r3_ohm.is_some() as usize + 4)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         c.r1_ohm = next();
         c.r2_ohm = next();
         if c.r3_ohm.is_some() {
@@ -323,7 +329,7 @@ impl Circuit for CmosBufferSchmitt {
         c.gate.switching_point = self.gate.switching_point.with_volts(vm, c.gate.supply_v);
         c.gate.output_high_drop_v = next();
         c.gate.output_low_v = next();
-        Ok(c)
+        Ok(())
     }
 
     /// The gate's output resistance and the load as a Thevenin source in series with R2 (module

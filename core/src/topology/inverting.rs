@@ -188,6 +188,12 @@ impl Circuit for InvertingSchmitt {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         let n = self.ra_ohm.is_some() as usize
             + self.rb_ohm.is_some() as usize
             + 1
@@ -198,7 +204,7 @@ impl Circuit for InvertingSchmitt {
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         if c.ra_ohm.is_some() {
             c.ra_ohm = Some(next());
         }
@@ -220,7 +226,7 @@ impl Circuit for InvertingSchmitt {
         c.device.bias_plus_a = next();
         c.device.bias_minus_a = next();
         c.device.builtin_hysteresis_v = next();
-        Ok(c)
+        Ok(())
     }
 
     /// Ro and the load as a Thevenin source in series with Rf (module [`crate::output_dynamics`]).

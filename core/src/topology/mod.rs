@@ -28,6 +28,8 @@ pub mod input_rails;
 pub mod output_load;
 pub mod logic;
 #[cfg(test)]
+mod parameters_into_tests;
+#[cfg(test)]
 mod toy;
 
 /// What kind of quantity a [`Parameter`] is, so tolerance and search know how to treat it.
@@ -165,6 +167,15 @@ pub trait Circuit: Clone {
 
     /// A copy with the parameter values replaced, in the order of [`Circuit::parameters`].
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError>;
+
+    /// [`Circuit::with_parameters`] written into `out`, the same circuit bit for bit, for the hot
+    /// loops (Monte Carlo trials, search combinations) that keep one scratch circuit instead of
+    /// moving a new one through a `Result` per evaluation. After an error `out` holds some valid
+    /// circuit of the type but not a meaningful one.
+    fn with_parameters_into(&self, values: &[f64], out: &mut Self) -> Result<(), DesignError> {
+        *out = self.with_parameters(values)?;
+        Ok(())
+    }
 
     /// Part values that reach the targets, keeping this design's rails, device and form.
     /// The anchor resistor is `anchor_ohm` (see [`Circuit::anchor_description`]).
@@ -648,6 +659,16 @@ macro_rules! topologies {
             fn parameters(&self) -> Vec<Parameter> { match self { $( $(#[$attr])* Topology::$variant(c) => c.parameters(), )+ } }
             fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.with_parameters(values).map(Topology::$variant), )+ }
+            }
+            fn with_parameters_into(&self, values: &[f64], out: &mut Self) -> Result<(), DesignError> {
+                match (self, out) {
+                    $( $(#[$attr])* (Topology::$variant(c), Topology::$variant(o)) => c.with_parameters_into(values, o), )+
+                    #[allow(unreachable_patterns)]
+                    (c, o) => {
+                        *o = c.with_parameters(values)?;
+                        Ok(())
+                    }
+                }
             }
             fn synthesise_with_anchor(&self, targets: Thresholds, anchor_ohm: f64) -> Result<Self, DesignError> {
                 match self { $( $(#[$attr])* Topology::$variant(c) => c.synthesise_with_anchor(targets, anchor_ohm).map(Topology::$variant), )+ }

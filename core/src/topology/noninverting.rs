@@ -139,11 +139,17 @@ impl Circuit for NonInvertingSchmitt {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         let n = 2 + 2 + self.reference.parameter_count() + device_parameter_count(self.reference.has_resistance());
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         c.r1_ohm = next();
         c.r2_ohm = next();
         c.reference.take_resistors(&mut next);
@@ -151,7 +157,7 @@ impl Circuit for NonInvertingSchmitt {
         c.device.negative_rail_v = next();
         c.reference.take_rails(&mut next);
         take_device_parameters(&mut c.device, self.reference.has_resistance(), &mut next);
-        Ok(c)
+        Ok(())
     }
 
     /// Ro and the load as a Thevenin source in series with R2 (module [`crate::output_dynamics`]).

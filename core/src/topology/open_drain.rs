@@ -423,6 +423,12 @@ impl Circuit for OpenDrainSchmitt {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         let n = self.polarity_parameter_count()
             + 1
             + self.rl_ohm.is_some() as usize
@@ -433,7 +439,7 @@ impl Circuit for OpenDrainSchmitt {
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         // Resistors, in the order of `parameters`.
         match &mut c.polarity {
             OpenDrainPolarity::Inverting { ra_ohm, rb_ohm, rf_ohm, .. } => {
@@ -479,7 +485,7 @@ impl Circuit for OpenDrainSchmitt {
             c.device.bias_minus_a = next();
         }
         c.device.builtin_hysteresis_v = next();
-        Ok(c)
+        Ok(())
     }
 
     /// Ro adds to the on transistor's sink resistance; the load RL joins the existing load to 0 V

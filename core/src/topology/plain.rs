@@ -127,10 +127,16 @@ impl Circuit for PlainComparator {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         expect_len(values, 2 + self.reference.parameter_count() + 4)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         c.reference.take_resistors(&mut next);
         c.device.supply_v = next();
         c.device.negative_rail_v = next();
@@ -139,7 +145,7 @@ impl Circuit for PlainComparator {
         c.device.bias_plus_a = next();
         c.device.bias_minus_a = next();
         c.device.builtin_hysteresis_v = next();
-        Ok(c)
+        Ok(())
     }
 
     /// No feedback from the output: the load moves no threshold.

@@ -340,11 +340,17 @@ impl Circuit for SchmittGate {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         let fitted = self.ra_ohm.is_some() as usize + self.rb_ohm.is_some() as usize + self.rc_ohm.is_some() as usize;
         expect_len(values, fitted + 5)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         if c.ra_ohm.is_some() {
             c.ra_ohm = Some(next());
         }
@@ -377,7 +383,7 @@ impl Circuit for SchmittGate {
         c.gate.vt_lower.min_v = c.gate.vt_lower.min_v.min(c.gate.vt_lower.typ_v);
         c.gate.output_high_drop_v = next();
         c.gate.output_low_v = next();
-        Ok(c)
+        Ok(())
     }
 
     /// Inverts VT± = a·VTgate± + b with Ra as the anchor: a = ΔVin/ΔVgate, b = VT+ − a·VT+gate;

@@ -287,6 +287,12 @@ impl Circuit for SupplyMonitor {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
+        let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
         let open = matches!(self.output, MonitorOutput::OpenDrain { .. });
         let fixed_pu = matches!(self.output, MonitorOutput::OpenDrain { pullup_rail: Rail::Fixed(_), .. });
         let selfs = matches!(self.comparator_supply, MonitorSupply::FromMonitoredRail { .. });
@@ -294,7 +300,7 @@ impl Circuit for SupplyMonitor {
         expect_len(values, n)?;
         let mut it = values.iter().copied();
         let mut next = || it.next().unwrap_or(f64::NAN);
-        let mut c = self.clone();
+        c.clone_from(self);
         c.rtop_ohm = next();
         c.rbot_ohm = next();
         c.rh_ohm = next();
@@ -317,7 +323,7 @@ impl Circuit for SupplyMonitor {
         c.device.offset_v = next();
         c.device.bias_plus_a = next();
         c.device.builtin_hysteresis_v = next();
-        Ok(c)
+        Ok(())
     }
 
     /// DOMAIN §1g synthesis (choose Rtop), with VOS, h and IB+·Rtop inverted exactly. With

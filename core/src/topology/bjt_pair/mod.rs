@@ -803,8 +803,14 @@ impl Circuit for EmitterCoupledSchmitt {
     }
 
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError> {
-        expect_len(values, 14)?;
         let mut c = self.clone();
+        self.with_parameters_into(values, &mut c)?;
+        Ok(c)
+    }
+
+    fn with_parameters_into(&self, values: &[f64], c: &mut Self) -> Result<(), DesignError> {
+        expect_len(values, 14)?;
+        c.clone_from(self);
         c.r1_ohm = values[0];
         c.r2_ohm = values[1];
         c.rc1_ohm = values[2];
@@ -819,7 +825,7 @@ impl Circuit for EmitterCoupledSchmitt {
         c.transistor.is_temperature_exponent = values[11];
         c.transistor.bandgap_v = values[12];
         c.transistor.beta_temperature_exponent = values[13];
-        Ok(c)
+        Ok(())
     }
 
     /// DOMAIN §1f synthesis with RE as the anchor and Rd = R1 + R2 kept from this design. The hand
