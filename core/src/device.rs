@@ -96,6 +96,38 @@ impl Comparator {
 
     /// Checks every field for finiteness and sign, and the rails and output levels for consistency.
     pub fn validate(&self) -> Result<(), DesignError> {
+        if self.admitted() {
+            return Ok(());
+        }
+        self.refusal()
+    }
+
+    /// The checks of [`Comparator::validate`] as one branch-free test: the Monte Carlo runs it per
+    /// trial, and only a refused device goes on to [`Comparator::refusal`] for the words.
+    fn admitted(&self) -> bool {
+        use crate::limits::Quantity::{Current, RelativeDrift, Resistance, Voltage, VoltageDrift};
+        let volts = |x: f64| Voltage.admits(x);
+        let volts_not_negative = |x: f64| Voltage.admits(x) & (x >= 0.0);
+        volts(self.supply_v)
+            & volts(self.negative_rail_v)
+            & volts_not_negative(self.output_high_drop_v)
+            & volts_not_negative(self.output_low_rise_v)
+            & volts(self.offset_v)
+            & Current.admits(self.bias_plus_a)
+            & Current.admits(self.bias_minus_a)
+            & volts_not_negative(self.builtin_hysteresis_v)
+            & volts(self.input_low_margin_v)
+            & volts(self.input_high_margin_v)
+            & VoltageDrift.admits(self.offset_drift_v_per_k)
+            & (self.offset_drift_v_per_k >= 0.0)
+            & RelativeDrift.admits(self.bias_tempco_pct_per_k)
+            & ((self.source_resistance_ohm == 0.0) | Resistance.admits(self.source_resistance_ohm))
+            & (self.supply_v > self.negative_rail_v)
+            & (self.output_high_v() > self.output_low_v())
+    }
+
+    /// Why [`Comparator::validate`] refuses this device (`Ok` if it does not), field by field.
+    fn refusal(&self) -> Result<(), DesignError> {
         use crate::limits::{check, Quantity};
         check(Quantity::Voltage, "supply_v", self.supply_v)?;
         check(Quantity::Voltage, "negative_rail_v", self.negative_rail_v)?;
@@ -239,6 +271,60 @@ mod tests {
         c.effects.output_headroom = false;
         assert_eq!(c.output_high_v(), 5.0);
         assert_eq!(c.output_low_v(), 0.0);
+    }
+
+    /// The quick test and the field-by-field refusal agree on random devices, valid and not.
+    #[test]
+    fn quick_test_agrees_with_the_refusal() {
+        let mut rng = crate::rng::Rng::new(0xc0_4a_1d);
+        let mut pick = |typical: f64| match rng.next_u64() % 60 {
+            0 => f64::NAN,
+            1 => -typical,
+            2 => typical * 1e7,
+            3 => 0.0,
+            4 => f64::INFINITY,
+            _ => typical * rng.uniform_in(0.0, 2.0),
+        };
+        let (mut valid, mut refused) = (0, 0);
+        for _ in 0..20_000 {
+            let c = Comparator {
+                supply_v: pick(5.0),
+                negative_rail_v: pick(-0.5),
+                output_high_drop_v: pick(0.2),
+                output_low_rise_v: pick(0.1),
+                offset_v: pick(0.002),
+                bias_plus_a: pick(1e-7),
+                bias_minus_a: pick(1e-7),
+                builtin_hysteresis_v: pick(0.003),
+                input_low_margin_v: pick(0.1),
+                input_high_margin_v: pick(-1.5),
+                source_resistance_ohm: pick(50.0),
+                offset_drift_v_per_k: pick(5e-6),
+                bias_tempco_pct_per_k: pick(0.5),
+                effects: Effects::default(),
+            };
+            let ok = c.refusal().is_ok();
+            assert_eq!(c.admitted(), ok, "{c:?}");
+            if ok { valid += 1 } else { refused += 1 }
+        }
+        assert!(valid > 200 && refused > 200, "valid {valid}, refused {refused}");
+        // Edges one field at a time, from a valid device.
+        let base = Comparator { supply_v: 5.0, negative_rail_v: -5.0, output_high_drop_v: 1.0, output_low_rise_v: 1.0, ..Comparator::default() };
+        let edges: [fn(&mut Comparator); 8] = [
+            |c| c.negative_rail_v = c.supply_v,
+            |c| c.output_high_drop_v = 5.0,
+            |c| c.output_high_drop_v = -0.0,
+            |c| c.source_resistance_ohm = 1e-9,
+            |c| c.source_resistance_ohm = -0.0,
+            |c| c.offset_drift_v_per_k = -1e-9,
+            |c| c.bias_tempco_pct_per_k = 50.0,
+            |c| c.supply_v = 1e5,
+        ];
+        for edge in edges {
+            let mut c = base.clone();
+            edge(&mut c);
+            assert_eq!(c.admitted(), c.refusal().is_ok(), "{c:?}");
+        }
     }
 
     #[test]
