@@ -81,6 +81,21 @@ async fn signal_test_result_survives_a_reload_and_goes_out_of_date_only_with_its
     assert_eq!(s.number("#edges-design").await, edges);
     assert_eq!(s.js("return !!document.querySelector('#signal-stale')").await.as_bool(), Some(false));
     assert!(s.text("#signal-no-waveforms").await.contains("run the test again"));
+    assert_eq!(s.js("return !!document.querySelector('#signal-sampler')").await.as_bool(), Some(false), "a fresh report was called drawn by an earlier method");
+
+    // A report kept before reports named their normal sampler (stored without the field) stays
+    // shown and current, with a note that a re-run with its seed draws other noise.
+    let stripped = s
+        .js("const li = document.querySelector('#design-list li.open'); const k = 'hysteron/design/' + li.dataset.id; \
+             const e = JSON.parse(localStorage.getItem(k)); if (e.studies.signal.result.normal_sampler === undefined) return false; \
+             delete e.studies.signal.result.normal_sampler; localStorage.setItem(k, JSON.stringify(e)); return true;")
+        .await;
+    assert_eq!(stripped.as_bool(), Some(true), "the kept signal report does not name its sampler in storage");
+    s.reload().await;
+    let note = s.wait_text("#signal-sampler", "the note on noise drawn by an earlier method", |t| !t.is_empty()).await;
+    assert!(note.contains("earlier version") && note.contains("same seed"), "{note}");
+    assert_eq!(s.text("#signal-results").await, table, "the older report is not shown as it was kept");
+    assert_eq!(s.js("return !!document.querySelector('#signal-stale')").await.as_bool(), Some(false));
 
     // An edit elsewhere (the resistor tolerance) leaves it current.
     s.type_into("#tol-resistor", "5").await;
@@ -97,7 +112,7 @@ async fn signal_test_result_survives_a_reload_and_goes_out_of_date_only_with_its
     assert_eq!(s.text("#signal-results").await, table, "the out-of-date result should stay visible");
     // Running again makes it current.
     s.wait_for("#signal-run").await.click().await.unwrap();
-    s.wait_js("the new run to be current", "return !document.querySelector('#signal-stale') && !!document.querySelector('#signal-results');").await;
+    s.wait_js("the new run to be current", "return !document.querySelector('#signal-stale') && !document.querySelector('#signal-sampler') && !!document.querySelector('#signal-results');").await;
     s.close().await;
 }
 

@@ -99,6 +99,23 @@ async fn monte_carlo_survives_a_signal_edit_and_a_reload_and_says_when_it_is_out
     let after = s.wait_text("#mc-summary", "the Monte Carlo summary after the reload", |t| !t.is_empty()).await;
     assert_eq!(after, summary, "the reload changed or lost the Monte Carlo result");
     assert_eq!(s.js("return !!document.querySelector('#mc-stale')").await.as_bool(), Some(false));
+    assert_eq!(s.js("return !!document.querySelector('#mc-sampler')").await.as_bool(), Some(false), "a fresh run was called drawn by an earlier method");
+
+    // A result kept before results named their normal sampler (stored without the field) stays
+    // shown and current, with a note that a re-run with its seed draws other boards.
+    let stripped = s
+        .js(&format!(
+            "const k = 'hysteron/design/{id}'; const e = JSON.parse(localStorage.getItem(k)); \
+             const mc = e.studies && e.studies.monte_carlo; if (!mc || mc.result.normal_sampler === undefined) return false; \
+             delete mc.result.normal_sampler; localStorage.setItem(k, JSON.stringify(e)); return true;"
+        ))
+        .await;
+    assert_eq!(stripped.as_bool(), Some(true), "the kept Monte Carlo result does not name its sampler in storage");
+    s.reload().await;
+    let note = s.wait_text("#mc-sampler", "the note on a result drawn by an earlier method", |t| !t.is_empty()).await;
+    assert!(note.contains("earlier version") && note.contains("same seed"), "{note}");
+    assert_eq!(s.text("#mc-summary").await, summary, "the older result is not shown as it was kept");
+    assert_eq!(s.js("return !!document.querySelector('#mc-stale')").await.as_bool(), Some(false));
 
     // An edit to its own inputs (the resistor tolerance) marks it out of date but keeps it shown.
     s.type_into("#tol-resistor", "5").await;
@@ -108,7 +125,7 @@ async fn monte_carlo_survives_a_signal_edit_and_a_reload_and_says_when_it_is_out
     assert_eq!(s.text("#mc-summary").await, summary, "the old result should stay visible, marked out of date");
     // Running again makes it current.
     s.wait_for("#mc-run").await.click().await.unwrap();
-    s.wait_js("the new run to replace the old one", "return !document.querySelector('#mc-stale') && !!document.querySelector('#mc-summary')").await;
+    s.wait_js("the new run to replace the old one", "return !document.querySelector('#mc-stale') && !document.querySelector('#mc-sampler') && !!document.querySelector('#mc-summary')").await;
     s.close().await;
 }
 

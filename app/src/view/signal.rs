@@ -430,6 +430,9 @@ pub fn SignalSection() -> impl IntoView {
                             <p class="stale" id="signal-stale" role="status"><strong>"Out of date — run again."</strong>
                                 " The circuit or the signal changed since this test; the figures below are from the design as it was."</p>
                         })}
+                        {(rep.noise.is_some() && rep.normal_sampler != hysteron_core::rng::NORMAL_SAMPLER).then(|| view! {
+                            <p class="note" id="signal-sampler" role="status">"This test's noise was drawn by an earlier version of Hysteron's random-number method: running it again with the same seed draws other noise, so the edge counts may differ a little."</p>
+                        })}
                         <div class="signal-result" class:out-of-date=!current>
                         <table class="grid" id="signal-results">
                             <thead><tr><th></th><th>"this design"</th><th>"plain comparator"</th></tr></thead>

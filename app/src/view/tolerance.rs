@@ -298,6 +298,9 @@ pub fn ToleranceSection() -> impl IntoView {
                             <p class="stale" id="mc-stale" role="status"><strong>"Out of date — run again."</strong>
                                 " The circuit or the tolerance settings changed since this run; the figures below are from the design as it was."</p>
                         })}
+                        {(mc.normal_sampler != hysteron_core::rng::NORMAL_SAMPLER).then(|| view! {
+                            <p class="note" id="mc-sampler" role="status">"This run was drawn by an earlier version of Hysteron's random-number method: running it again with the same seed draws other boards, so the figures may differ a little."</p>
+                        })}
                         <div class="mc-result" class:out-of-date=!current>
                         <p id="mc-summary" data-current=current.to_string()>{format!("{} trials ({} rejected) in {:.0} ms. VT+ {:.4} ± {:.4} V, VT− {:.4} ± {:.4} V (mean ± standard deviation); 95 % of boards: VT+ {:.4}…{:.4} V, VT− {:.4}…{:.4} V.",
                             mc.trials, mc.rejected_trials, elapsed_ms, mc.vt_upper.mean_v, mc.vt_upper.standard_deviation_v, mc.vt_lower.mean_v, mc.vt_lower.standard_deviation_v,

@@ -13,6 +13,19 @@ mod ziggurat;
 /// The first output of `Rng::new(0)`: a fingerprint that native and wasm32 builds must share.
 pub const SEED0_FIRST_OUTPUT: u64 = 0x53175D61490B23DF;
 
+/// Which normal sampler [`Rng::normal`] is: 1, Marsaglia's polar method (results kept before
+/// December 2026); 2, the ziggurat method. Results drawn with normal deviates (Monte Carlo, noisy
+/// signal tests) record it, so that a kept result re-run with its seed under another sampler is
+/// shown as drawn differently rather than as a figure that moved. Change it whenever the same seed
+/// would draw other normal deviates.
+pub const NORMAL_SAMPLER: u32 = 2;
+
+/// The sampler of a kept result that does not name one: it was drawn before samplers were
+/// recorded, with the polar method (serde's default for the field).
+pub fn sampler_before_records() -> u32 {
+    1
+}
+
 /// Seeded pseudo-random generator (xoshiro256++).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Rng {

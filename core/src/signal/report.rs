@@ -224,6 +224,10 @@ pub struct SignalReport {
     pub sweep: Option<SweepResult>,
     /// Why parts of the study were skipped.
     pub notes: Vec<String>,
+    /// The normal sampler that drew the noise ([`crate::rng::NORMAL_SAMPLER`]; 1 for a report
+    /// kept before samplers were recorded): the same seed under another sampler draws other noise.
+    #[serde(default = "crate::rng::sampler_before_records")]
+    pub normal_sampler: u32,
 }
 
 /// A full signal run for the page: the waveforms and edges beside the summary (plain data; a
@@ -586,6 +590,7 @@ fn run_inner(
         logic_dwell,
         sweep,
         notes,
+        normal_sampler: crate::rng::NORMAL_SAMPLER,
     };
     let (mut design_output_v, mut baseline_output_v) = (Vec::new(), Vec::new());
     if keep {
@@ -761,6 +766,11 @@ mod tests {
         assert!(r.rice.is_some());
         assert!(r.timing.zero_crossing.is_some());
         assert_eq!(r.sweep.as_ref().unwrap().points.len(), 4);
+        // The report names its normal sampler; one kept before samplers were recorded reads as 1.
+        assert_eq!(r.normal_sampler, crate::rng::NORMAL_SAMPLER);
+        let mut kept = serde_json::to_value(&r).unwrap();
+        kept.as_object_mut().unwrap().remove("normal_sampler");
+        assert_eq!(serde_json::from_value::<SignalReport>(kept).unwrap().normal_sampler, 1);
         let json = serde_json::to_string(&s).unwrap();
         let back: SignalSettings = serde_json::from_str(&json).unwrap();
         assert_eq!(back, s);

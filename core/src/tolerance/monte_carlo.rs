@@ -194,6 +194,11 @@ pub struct MonteCarloResult {
     pub centre: SampleStatistics,
     /// Yield against the spec window (`None` when no bound is stated).
     pub spec_yield: Option<SpecYield>,
+    /// The normal sampler that drew the trials ([`crate::rng::NORMAL_SAMPLER`]; 1 for a result
+    /// kept before samplers were recorded): the same seed under another sampler draws other
+    /// boards.
+    #[serde(default = "crate::rng::sampler_before_records")]
+    pub normal_sampler: u32,
 }
 
 impl MonteCarloResult {
@@ -448,6 +453,7 @@ impl<C: Circuit> MonteCarloRun<C> {
             hysteresis,
             centre,
             spec_yield,
+            normal_sampler: crate::rng::NORMAL_SAMPLER,
         })
     }
 }
@@ -680,6 +686,18 @@ mod tests {
     }
 
     const PINNED_FINGERPRINT_SEED_7: u64 = 0x1920_1c3e_1a25_1469;
+
+    #[test]
+    fn a_result_names_its_sampler_and_one_kept_before_reads_as_the_polar_method() {
+        let r = monte_carlo(&circuit(), &settings(200)).unwrap();
+        assert_eq!(r.normal_sampler, crate::rng::NORMAL_SAMPLER);
+        let mut v = serde_json::to_value(&r).unwrap();
+        assert_eq!(v["normal_sampler"], serde_json::json!(crate::rng::NORMAL_SAMPLER));
+        v.as_object_mut().unwrap().remove("normal_sampler");
+        let kept_before: MonteCarloResult = serde_json::from_value(v).unwrap();
+        assert_eq!(kept_before.normal_sampler, 1);
+        assert_eq!(MonteCarloResult { normal_sampler: crate::rng::NORMAL_SAMPLER, ..kept_before }, r);
+    }
 
     #[test]
     fn slices_merged_in_order_equal_one_run() {
