@@ -168,10 +168,10 @@ pub trait Circuit: Clone {
     /// A copy with the parameter values replaced, in the order of [`Circuit::parameters`].
     fn with_parameters(&self, values: &[f64]) -> Result<Self, DesignError>;
 
-    /// [`Circuit::with_parameters`] written into `out`, the same circuit bit for bit, for the hot
-    /// loops (Monte Carlo trials, search combinations) that keep one scratch circuit instead of
-    /// moving a new one through a `Result` per evaluation. After an error `out` holds some valid
-    /// circuit of the type but not a meaningful one.
+    /// [`Circuit::with_parameters`] written into `out`, the same circuit bit for bit, for a hot
+    /// loop (the Monte Carlo's trials) that keeps one scratch circuit instead of moving a new one
+    /// through a `Result` per evaluation. After an error `out` holds some valid circuit of the type
+    /// but not a meaningful one.
     fn with_parameters_into(&self, values: &[f64], out: &mut Self) -> Result<(), DesignError> {
         *out = self.with_parameters(values)?;
         Ok(())
