@@ -4,6 +4,12 @@
 //! are terminated). A job that `core::jobs::split` can cut (Monte Carlo by trials, the noise sweep
 //! by levels, a standard-value search without the distinct rule by ranges of combinations) is spread over `navigator.hardwareConcurrency` workers and merged in order with
 //! the kind's own `core::jobs::merge_*`, which gives exactly the single-run result for the same seed.
+//! A kind whose merge is heavy work names a second round (`Answers::second`): the parts' answers
+//! are gathered into new jobs for the pooled workers (a Monte Carlo's four figures' statistics,
+//! `core::job_rounds`), whose answers are then put together; progress shows the first round only.
+//! Progress is first shown once a job has run [`PROGRESS_QUIET_MS`], then at most every
+//! [`PROGRESS_EVERY_MS`] (see [`report`]): a short study changes nothing on the page until its
+//! result, and a long one does not repaint at each worker's slice.
 //!
 //! Each caller names what its job answers (`core::job_answers::Answers`, for instance
 //! `Answers::MONTE_CARLO`): the worker's result is read as that kind only, so a study's result
@@ -23,6 +29,7 @@
 //! once a worker has said it is ready, `page` once workers were refused.
 
 use hysteron_core::job_answers::Answers;
+use hysteron_core::job_rounds::Gathered;
 use hysteron_core::jobs::{split, Job, JobOutput, Progress, Running};
 use std::cell::{Cell, RefCell};
 use std::rc::Rc;
@@ -35,6 +42,10 @@ const WORKER_URL: &str = "./hysteron-worker_loader.js";
 const MAX_WORKERS: usize = 8;
 /// Target length of a slice on a worker (progress messages at most this often), ms.
 const WORKER_SLICE_MS: f64 = 25.0;
+/// How long a job runs before its progress is first shown, ms (see [`report`]).
+pub const PROGRESS_QUIET_MS: f64 = 150.0;
+/// Shortest time between two progress displays, ms (see [`report`]).
+const PROGRESS_EVERY_MS: f64 = 100.0;
 /// Target length of a slice when the job runs on the page, ms (well under one frame's budget).
 const PAGE_SLICE_MS: f64 = 8.0;
 /// How long a job waits for a new worker to say it is ready before it runs on the page, ms.
@@ -221,6 +232,9 @@ struct Part {
     done: u64,
     total: Option<u64>,
     output: Option<JobOutput>,
+    /// The part's result arrays, kept as the browser's arrays for a second round (never copied
+    /// into the page's memory: they go on to the second round's workers).
+    forward: Vec<js_sys::Float64Array>,
     _on_message: Option<Closure<dyn FnMut(web_sys::MessageEvent)>>,
 }
 
@@ -231,6 +245,15 @@ struct Shared {
     parts: Vec<Part>,
     unit: String,
     started_ms: f64,
+    /// Where the job's time went (see [`crate::timeline`]).
+    timeline: crate::timeline::Timeline,
+    /// In a second round (see [`Answers::second`]): what the first round left for the finishing
+    /// step. The parts are then the second round's.
+    kept: Option<JobOutput>,
+    /// When a status was last shown, and whether it had every part's total (see [`report`]).
+    shown: Option<(f64, bool)>,
+    /// A timer will show the status (see [`report`]).
+    show_pending: bool,
     finished: bool,
     /// The job was moved onto the page (workers refused); worker messages are ignored from then on.
     on_page: bool,
@@ -242,6 +265,19 @@ struct Shared {
 }
 
 impl Shared {
+    /// Milliseconds before `status` may be shown (0 or less: now). The first status waits until
+    /// the job has run [`PROGRESS_QUIET_MS`] (unless it carries the note that workers were
+    /// refused), the first with every part's total known is shown at once, and after that one
+    /// at most every [`PROGRESS_EVERY_MS`].
+    fn wait_before_showing(&self, status: &JobStatus) -> f64 {
+        match self.shown {
+            None if status.note.is_some() => 0.0,
+            None => PROGRESS_QUIET_MS - (status.now_ms - status.started_ms),
+            Some((_, false)) if status.total > 0 => 0.0,
+            Some((at, _)) => PROGRESS_EVERY_MS - (status.now_ms - at),
+        }
+    }
+
     fn status(&self) -> JobStatus {
         let all_known = self.parts.iter().all(|p| p.total.is_some());
         JobStatus {
@@ -269,6 +305,11 @@ fn finish(shared: &Rc<RefCell<Shared>>, result: Result<JobOutput, String>) {
         }
         (s.on_done.take(), workers)
     };
+    {
+        let mut s = shared.borrow_mut();
+        s.timeline.note("finished");
+        s.timeline.publish();
+    }
     for w in workers {
         if result.is_ok() {
             w.set_onmessage(None);
@@ -283,6 +324,43 @@ fn finish(shared: &Rc<RefCell<Shared>>, result: Result<JobOutput, String>) {
     }
 }
 
+/// Shows the job's status through its progress callback when it is due
+/// ([`Shared::wait_before_showing`]), or has a timer show the latest status once it is: a study
+/// shorter than [`PROGRESS_QUIET_MS`] changes nothing on the page while it runs (laying out a
+/// progress bar on a long page took 17 ms of the page's thread, in a CPU profile of a 100,000-trial
+/// Monte Carlo on a 2-core machine, while both workers held the cores), and a long one repaints
+/// its progress a few times a second, not at every worker's slice.
+fn report(shared: &Rc<RefCell<Shared>>) {
+    let next = {
+        let mut s = shared.borrow_mut();
+        if s.finished {
+            return;
+        }
+        let status = s.status();
+        let wait = s.wait_before_showing(&status);
+        if wait <= 0.0 {
+            s.shown = Some((status.now_ms, status.total > 0));
+            Ok((status, s.on_progress.clone()))
+        } else if !s.show_pending {
+            s.show_pending = true;
+            Err(Some(wait))
+        } else {
+            Err(None)
+        }
+    };
+    match next {
+        Ok((status, cb)) => cb(status),
+        Err(Some(wait)) => {
+            let sh = shared.clone();
+            crate::tick::after_ms(wait.ceil() as i32, move || {
+                sh.borrow_mut().show_pending = false;
+                report(&sh);
+            });
+        }
+        Err(None) => {}
+    }
+}
+
 fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
     {
         let s = shared.borrow();
@@ -293,9 +371,10 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
     let kind = field(&data, "kind").as_string().unwrap_or_default();
     match kind.as_str() {
         "progress" => {
-            let status = {
+            {
                 let mut s = shared.borrow_mut();
-                if s.finished {
+                if s.finished || s.kept.is_some() {
+                    // The second round's progress is not shown: the first round's work is done.
                     return;
                 }
                 if let Some(u) = field(&data, "unit").as_string() {
@@ -304,30 +383,48 @@ fn on_message(shared: &Rc<RefCell<Shared>>, index: usize, data: JsValue) {
                 let p = &mut s.parts[index];
                 p.done = field(&data, "done").as_f64().unwrap_or(0.0) as u64;
                 p.total = field(&data, "total").as_f64().map(|t| t as u64);
-                s.status()
-            };
-            let cb = shared.borrow().on_progress.clone();
-            cb(status);
+            }
+            report(shared);
         }
         "error" => {
             let m = field(&data, "message").as_string().unwrap_or_else(|| "the study failed in the worker".into());
             finish(shared, Err(m));
         }
         "result" => {
+            {
+                let timeline = &mut shared.borrow_mut().timeline;
+                timeline.note(format!("part{index}-arrived"));
+                for (k, label) in [("began_at", "began"), ("ended_at", "ended")] {
+                    if let Some(t) = field(&data, k).as_f64() {
+                        timeline.note_at(format!("part{index}-{label}"), crate::timeline::from_epoch_ms(t));
+                    }
+                }
+            }
             let text = field(&data, "output").as_string().unwrap_or_default();
             let kind = field(&data, "output_kind").as_string().unwrap_or_default();
-            let arrays = js_sys::Array::from(&field(&data, "arrays")).iter().map(js_sys::Float64Array::from).collect();
-            // A large result (a 10 M-sample signal study) is copied over several tasks.
-            let shared = shared.clone();
-            crate::transfer::copy_in_slices(arrays, move |arrays| take_result(&shared, index, &kind, &text, arrays));
+            let arrays: Vec<_> = js_sys::Array::from(&field(&data, "arrays")).iter().map(js_sys::Float64Array::from).collect();
+            let forward = {
+                let s = shared.borrow();
+                s.answers.second.is_some() && s.kept.is_none()
+            };
+            if forward {
+                // A first round's arrays go on to the second round as they are.
+                shared.borrow_mut().parts[index].forward = arrays;
+                take_result(shared, index, &kind, &text, None);
+            } else {
+                // A large result (a 10 M-sample signal study) is copied over several tasks.
+                let shared = shared.clone();
+                crate::transfer::copy_in_slices(arrays, move |arrays| take_result(&shared, index, &kind, &text, Some(arrays)));
+            }
         }
         _ => {}
     }
 }
 
-/// A part's result, its arrays copied in: kept, its worker returned to the pool, and the job
-/// finished once every part has answered (nothing when the job was cancelled meanwhile).
-fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &str, arrays: Vec<Vec<f64>>) {
+/// A part's result, its arrays copied in (`None`: left out, forwarded to a second round): kept,
+/// its worker returned to the pool, and the job finished once every part has answered (nothing
+/// when the job was cancelled meanwhile).
+fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &str, arrays: Option<Vec<Vec<f64>>>) {
     let answers = {
         let s = shared.borrow();
         if s.finished || s.on_page || index >= s.parts.len() {
@@ -335,12 +432,15 @@ fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &st
         }
         s.answers
     };
-    let output = (answers.read)(kind, text)
-        .and_then(|mut o| o.put_arrays(arrays).map(|_| o).map_err(|e| e.to_string()));
+    let output = (answers.read)(kind, text).and_then(|mut o| match arrays {
+        Some(a) => o.put_arrays(a).map(|_| o).map_err(|e| e.to_string()),
+        None => Ok(o),
+    });
     let output = match output {
         Ok(o) => o,
         Err(e) => return finish(shared, Err(e)),
     };
+    shared.borrow_mut().timeline.note(format!("part{index}-read"));
     let complete = {
         let mut s = shared.borrow_mut();
         let p = &mut s.parts[index];
@@ -357,16 +457,61 @@ fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &st
         s.parts.iter().all(|p| p.output.is_some())
     };
     if complete {
-        let (job, outputs) = {
+        let (job, outputs, kept) = {
             let mut s = shared.borrow_mut();
             let outputs: Vec<_> = s.parts.iter_mut().filter_map(|p| p.output.take()).collect();
-            (s.job.clone(), outputs)
+            (s.job.clone(), outputs, s.kept.take())
         };
-        finish(shared, (answers.merge)(&job, outputs).map_err(|e| e.to_string()));
+        let merged = match (answers.second, kept) {
+            (Some(round), Some(kept)) => (round.finish)(&job, kept, outputs),
+            (Some(round), None) => match (round.gather)(&job, outputs, worker_count()) {
+                Ok(Gathered::Again { kept, jobs }) => return start_second_round(shared, kept, jobs),
+                Ok(Gathered::Done(output)) => Ok(output),
+                Err(e) => Err(e),
+            },
+            (None, _) => (answers.merge)(&job, outputs),
+        };
+        shared.borrow_mut().timeline.note("merged");
+        finish(shared, merged.map_err(|e| e.to_string()));
     }
 }
 
-fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Worker) {
+/// Sends the second round's `jobs` to workers from the pool (the first round's workers have just
+/// been returned to it), keeping `kept` for the finishing step. A worker that cannot be had moves
+/// the whole job onto the page, as in the first round.
+fn start_second_round(shared: &Rc<RefCell<Shared>>, kept: JobOutput, jobs: Vec<Job>) {
+    // The first round's arrays, in part order; each job but the last gets a copy of its own, so
+    // that every job's arrays can be transferred to its worker whenever that worker is had.
+    let forward: Vec<js_sys::Float64Array> = {
+        let mut s = shared.borrow_mut();
+        s.timeline.note("gathered");
+        s.kept = Some(kept);
+        let forward = s.parts.iter_mut().flat_map(|p| std::mem::take(&mut p.forward)).collect();
+        s.parts = jobs.iter().map(|_| Part::default()).collect();
+        forward
+    };
+    let n = jobs.len();
+    for (i, job) in jobs.into_iter().enumerate() {
+        let arrays = if i + 1 == n { forward.clone() } else { forward.iter().map(|a| a.slice(0, a.length())).collect() };
+        let (sh, sh2) = (shared.clone(), shared.clone());
+        if !acquire(move |w| send_with(&sh, i, job, Some(arrays), w), move || {
+            refuse_workers();
+            run_on_page(&sh2);
+        }) {
+            refuse_workers();
+            run_on_page(shared);
+            break;
+        }
+    }
+}
+
+fn send(shared: &Rc<RefCell<Shared>>, index: usize, job: Job, w: web_sys::Worker) {
+    send_with(shared, index, job, None, w)
+}
+
+/// [`send`], with the job's arrays given as the browser's arrays (`forward`, transferred to the
+/// worker) instead of taken out of the job.
+fn send_with(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, forward: Option<Vec<js_sys::Float64Array>>, w: web_sys::Worker) {
     if shared.borrow().finished || shared.borrow().on_page {
         POOL.with(|p| p.borrow_mut().push(w));
         return;
@@ -399,9 +544,17 @@ fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Wo
     };
     let list = js_sys::Array::new();
     let transfer = js_sys::Array::new();
-    for a in arrays {
-        let f = js_sys::Float64Array::new_with_length(a.len() as u32);
-        f.copy_from(&a);
+    let arrays = forward.unwrap_or_else(|| {
+        arrays
+            .iter()
+            .map(|a| {
+                let f = js_sys::Float64Array::new_with_length(a.len() as u32);
+                f.copy_from(a);
+                f
+            })
+            .collect()
+    });
+    for f in arrays {
         transfer.push(&f.buffer());
         list.push(&f);
     }
@@ -417,6 +570,7 @@ fn send(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, w: web_sys::Wo
         s.parts[index].worker = Some(w.clone());
         s.parts[index]._on_message = Some(cb);
     }
+    shared.borrow_mut().timeline.note(format!("part{index}-sent"));
     if w.post_message_with_transfer(&msg, &transfer).is_err() {
         finish(shared, Err("the job could not be sent to the worker".into()));
     }
@@ -494,13 +648,20 @@ fn start_with(
 ) -> JobHandle {
     let refused = NO_WORKERS.with(|c| c.get());
     let n = if refused { 1 } else { worker_count() };
+    let started_ms = crate::tick::now_ms();
+    let mut timeline = crate::timeline::Timeline::new(started_ms);
     let parts = split(&job, n).unwrap_or_else(|_| vec![job.clone()]);
+    timeline.note("split");
     let shared = Rc::new(RefCell::new(Shared {
         job,
         answers,
         parts: parts.iter().map(|_| Part::default()).collect(),
         unit: String::new(),
-        started_ms: crate::tick::now_ms(),
+        started_ms,
+        timeline,
+        kept: None,
+        shown: None,
+        show_pending: false,
         finished: false,
         on_page: false,
         note: None,
@@ -529,7 +690,7 @@ fn start_with(
 
 impl Default for Part {
     fn default() -> Part {
-        Part { worker: None, done: 0, total: None, output: None, _on_message: None }
+        Part { worker: None, done: 0, total: None, output: None, forward: Vec::new(), _on_message: None }
     }
 }
 
@@ -598,11 +759,7 @@ fn run_on_page_piece(shared: Rc<RefCell<Shared>>, job: Job) -> Result<(), crate:
                 s.unit = r.unit().to_string();
                 s.parts[0].total = Some(p.total);
             }
-            let (status, cb) = {
-                let s = shared.borrow();
-                (s.status(), s.on_progress.clone())
-            };
-            cb(status);
+            report(shared);
             let sh = shared.clone();
             crate::tick::later(move || page_slice(sh, r, 1024));
         }
@@ -626,12 +783,8 @@ fn page_slice(shared: Rc<RefCell<Shared>>, mut r: Running, budget: u64) {
     if p.is_done() {
         return finish(&shared, r.finish().map_err(|e| e.to_string()));
     }
-    let (status, cb) = {
-        let mut s = shared.borrow_mut();
-        s.parts[0].done = p.done;
-        (s.status(), s.on_progress.clone())
-    };
-    cb(status);
+    shared.borrow_mut().parts[0].done = p.done;
+    report(&shared);
     crate::tick::later(move || page_slice(shared, r, next));
 }
 
@@ -640,15 +793,12 @@ fn page_slice(shared: Rc<RefCell<Shared>>, mut r: Running, budget: u64) {
 pub struct Followed {
     /// The latest job's output; `None` while it runs (or after Cancel).
     pub result: leptos::prelude::RwSignal<Option<Result<JobOutput, String>>>,
-    /// Progress of the running job, once it has run for [`FOLLOW_QUIET_MS`] (no flicker for the
-    /// usual short runs).
+    /// Progress of the running job, once it has run for [`PROGRESS_QUIET_MS`] (no flicker for the
+    /// usual short runs; see [`report`]).
     pub status: leptos::prelude::RwSignal<Option<JobStatus>>,
     /// Stops the running job.
     pub cancel: leptos::prelude::Callback<()>,
 }
-
-/// How long a followed job runs before its progress is shown, ms.
-pub const FOLLOW_QUIET_MS: f64 = 150.0;
 
 /// Runs `job` on the compute workers each time it changes (compared by value): the running one is
 /// cancelled and the new one started; `None` runs nothing. `answers` as in [`start`].
@@ -671,11 +821,7 @@ pub fn follow(job: leptos::prelude::Memo<Option<Job>>, answers: Answers) -> Foll
         let handle = start(
             next,
             answers,
-            move |st| {
-                if st.now_ms - st.started_ms >= FOLLOW_QUIET_MS {
-                    status.set(Some(st));
-                }
-            },
+            move |st| status.set(Some(st)),
             move |out| {
                 running.set_value(None);
                 status.set(None);

@@ -11,6 +11,7 @@ pub mod jobs;
 pub mod plot;
 pub mod storage;
 pub mod tick;
+pub mod timeline;
 pub mod transfer;
 pub mod unread;
 pub mod view;

@@ -10,6 +10,7 @@
 //! message, never a guess.
 
 use crate::error::DesignError;
+use crate::job_rounds::{self, Gathered};
 use crate::jobs::{self, Job, JobOutput};
 use serde::de::DeserializeOwned;
 
@@ -20,13 +21,25 @@ pub type ReadOutput = fn(kind: &str, json: &str) -> Result<JobOutput, String>;
 /// Merges the outputs of a job's parts (see [`crate::jobs::merge`]).
 pub type MergeOutputs = fn(&Job, Vec<JobOutput>) -> Result<JobOutput, DesignError>;
 
+/// A second round on the workers after the parts have answered (see [`crate::job_rounds`]).
+#[derive(Clone, Copy)]
+pub struct SecondRound {
+    /// From the job, its parts' answers (in the order of [`crate::jobs::split`]) and the number of
+    /// workers: the output, or the second round's jobs and what to keep meanwhile.
+    pub gather: fn(&Job, Vec<JobOutput>, usize) -> Result<Gathered, DesignError>,
+    /// From the job, the kept value and the second round's answers: the output.
+    pub finish: fn(&Job, JobOutput, Vec<JobOutput>) -> Result<JobOutput, DesignError>,
+}
+
 /// What one kind of job answers, and how its parts' answers are put together.
 #[derive(Clone, Copy)]
 pub struct Answers {
-    /// Reads one answer.
+    /// Reads one answer (of either round).
     pub read: ReadOutput,
-    /// Merges the parts' answers, in the order of [`crate::jobs::split`].
+    /// Merges the parts' answers, in the order of [`crate::jobs::split`] (where there is no second round).
     pub merge: MergeOutputs,
+    /// A second round on the workers instead of the merge, for a kind whose merge is heavy work.
+    pub second: Option<SecondRound>,
 }
 
 impl std::fmt::Debug for Answers {
@@ -57,7 +70,7 @@ macro_rules! reader {
     };
 }
 
-reader!(read_monte_carlo, "Monte Carlo run", "monte_carlo" => JobOutput::MonteCarlo, "monte_carlo_part" => JobOutput::MonteCarloPart);
+reader!(read_monte_carlo, "Monte Carlo run", "monte_carlo" => JobOutput::MonteCarlo, "monte_carlo_part" => JobOutput::MonteCarloPart, "monte_carlo_statistics" => JobOutput::MonteCarloStatistics);
 reader!(read_worst_case, "worst case", "worst_case" => JobOutput::WorstCase);
 reader!(read_windows, "field and bench window", "windows" => |w| JobOutput::Windows(Box::new(w)));
 reader!(read_signal, "signal test", "signal" => |s| JobOutput::Signal(Box::new(s)), "sweep_part" => JobOutput::SweepPart);
@@ -68,24 +81,29 @@ reader!(read_oscillator, "oscillator simulation", "oscillator" => JobOutput::Osc
 reader!(read_debouncer, "debouncer simulation", "debouncer" => JobOutput::Debouncer);
 
 impl Answers {
-    /// [`Job::MonteCarlo`]: a whole run or the parts of a split one.
-    pub const MONTE_CARLO: Answers = Answers { read: read_monte_carlo, merge: jobs::merge_monte_carlo };
+    /// [`Job::MonteCarlo`]: a whole run or the parts of a split one, whose statistics are then
+    /// computed on the workers ([`crate::job_rounds`]).
+    pub const MONTE_CARLO: Answers = Answers {
+        read: read_monte_carlo,
+        merge: jobs::merge_monte_carlo,
+        second: Some(SecondRound { gather: job_rounds::gather_monte_carlo, finish: job_rounds::finish_monte_carlo }),
+    };
     /// [`Job::WorstCase`] (never split).
-    pub const WORST_CASE: Answers = Answers { read: read_worst_case, merge: jobs::merge_single };
+    pub const WORST_CASE: Answers = Answers { read: read_worst_case, merge: jobs::merge_single, second: None };
     /// [`Job::Windows`] (never split).
-    pub const WINDOWS: Answers = Answers { read: read_windows, merge: jobs::merge_single };
+    pub const WINDOWS: Answers = Answers { read: read_windows, merge: jobs::merge_single, second: None };
     /// [`Job::Signal`]: the main pass, and the sweep's parts when split.
-    pub const SIGNAL: Answers = Answers { read: read_signal, merge: jobs::merge_signal };
+    pub const SIGNAL: Answers = Answers { read: read_signal, merge: jobs::merge_signal, second: None };
     /// [`Job::NoiseSweep`]: its levels, in parts when split.
-    pub const NOISE_SWEEP: Answers = Answers { read: read_sweep, merge: jobs::merge_sweep };
+    pub const NOISE_SWEEP: Answers = Answers { read: read_sweep, merge: jobs::merge_sweep, second: None };
     /// [`Job::CsvImport`] (never split).
-    pub const CAPTURE: Answers = Answers { read: read_capture, merge: jobs::merge_single };
+    pub const CAPTURE: Answers = Answers { read: read_capture, merge: jobs::merge_single, second: None };
     /// [`Job::Search`]: a whole search or the parts of a split one.
-    pub const SEARCH: Answers = Answers { read: read_search, merge: jobs::merge_search };
+    pub const SEARCH: Answers = Answers { read: read_search, merge: jobs::merge_search, second: None };
     /// [`Job::Oscillator`] (never split).
-    pub const OSCILLATOR: Answers = Answers { read: read_oscillator, merge: jobs::merge_single };
+    pub const OSCILLATOR: Answers = Answers { read: read_oscillator, merge: jobs::merge_single, second: None };
     /// [`Job::Debouncer`] (never split).
-    pub const DEBOUNCER: Answers = Answers { read: read_debouncer, merge: jobs::merge_single };
+    pub const DEBOUNCER: Answers = Answers { read: read_debouncer, merge: jobs::merge_single, second: None };
 }
 
 #[cfg(test)]

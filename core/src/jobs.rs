@@ -50,7 +50,9 @@ use crate::signal::report::{SignalRun, SignalSettings, SignalSource};
 use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
-use crate::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use crate::job_rounds::FiguresPart;
+use crate::tolerance::monte_carlo::{figure_statistics, MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use crate::tolerance::Figure;
 use crate::tolerance::worst_case::{CornerScan, WorstCase, WorstCaseRun, SEARCH_GRID};
 use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
 use crate::tolerance::ToleranceSettings;
@@ -166,6 +168,16 @@ pub enum Job {
         /// The debouncer's settings.
         settings: DebounceSettings,
     },
+    /// The statistics of some figures of a complete Monte Carlo run (the second round of a split
+    /// run, see [`crate::job_rounds`]).
+    MonteCarloStatistics {
+        /// The whole run's valid trials (its arrays travel apart, see [`Job::take_arrays`]).
+        values: MonteCarloPartial,
+        /// The figures to compute.
+        figures: Vec<Figure>,
+        /// Histogram bins per figure.
+        bins: usize,
+    },
 }
 
 /// The points of a part of a noise sweep.
@@ -205,6 +217,8 @@ pub enum JobOutput {
     Oscillator(OscillatorSimulation),
     /// The debouncer simulation.
     Debouncer(DebounceSimulation),
+    /// Some figures' statistics of a Monte Carlo run.
+    MonteCarloStatistics(FiguresPart),
 }
 
 /// How far a job is, in its own units.
@@ -288,6 +302,12 @@ enum State {
         design: TriggerDesign,
         settings: DebounceSettings,
         out: Option<DebounceSimulation>,
+    },
+    Statistics {
+        values: MonteCarloPartial,
+        figures: Vec<Figure>,
+        bins: usize,
+        out: Option<FiguresPart>,
     },
 }
 
@@ -564,6 +584,19 @@ impl Running {
                     1,
                 )
             }
+            Job::MonteCarloStatistics { values, figures, bins } => {
+                crate::job_rounds::check_statistics_job(&values, &figures, bins)?;
+                let total = figures.len() as u64;
+                (
+                    State::Statistics {
+                        values,
+                        figures,
+                        bins,
+                        out: None,
+                    },
+                    total,
+                )
+            }
         };
         Ok(Running {
             state,
@@ -581,6 +614,7 @@ impl Running {
             State::Csv { .. } => "bytes",
             State::Oscillator { .. } | State::Debouncer { .. } => "simulations",
             State::Search { .. } => "combinations",
+            State::Statistics { .. } => "figures",
         }
     }
 
@@ -679,6 +713,17 @@ impl Running {
                 *out = Some(simulate_debounce(design, settings)?);
                 self.progress.done = 1;
             }
+            State::Statistics {
+                values,
+                figures,
+                bins,
+                out,
+            } => {
+                // All the figures at once: a figure's statistics are one unit that cannot be cut.
+                let statistics = figure_statistics(values, figures, *bins);
+                *out = Some(FiguresPart { figures: std::mem::take(figures), statistics });
+                self.progress.done = self.progress.total;
+            }
             State::Search { job, .. } => {
                 // `budget` combinations (a restart into the unpruned pass starts the count again).
                 let p = job.step_combinations(budget);
@@ -732,6 +777,7 @@ impl Running {
             } else {
                 JobOutput::SearchPart(job.finish())
             }),
+            State::Statistics { out, .. } => out.map(JobOutput::MonteCarloStatistics).ok_or_else(missing),
         }
     }
 }
@@ -1186,19 +1232,35 @@ impl Job {
             Job::Signal {
                 capture: Some(c), ..
             } => vec![std::mem::take(&mut c.time_s), std::mem::take(&mut c.volts)],
+            Job::MonteCarloStatistics { values, .. } => {
+                vec![std::mem::take(&mut values.vt_upper_v), std::mem::take(&mut values.vt_lower_v)]
+            }
             _ => Vec::new(),
         }
     }
 
-    /// Puts back what [`Job::take_arrays`] took.
+    /// Puts back what [`Job::take_arrays`] took. A [`Job::MonteCarloStatistics`] also takes its
+    /// values in pieces: VT+ and VT− of the first trials, then of the next…, in trial order (the
+    /// arrays of a split run's parts, as [`JobOutput::take_arrays`] gave them).
     pub fn put_arrays(&mut self, arrays: Vec<Vec<f64>>) -> Result<(), DesignError> {
         let mut it = arrays.into_iter();
-        if let Job::Signal {
-            capture: Some(c), ..
-        } = self
-        {
-            c.time_s = next_array(&mut it)?;
-            c.volts = next_array(&mut it)?;
+        match self {
+            Job::Signal {
+                capture: Some(c), ..
+            } => {
+                c.time_s = next_array(&mut it)?;
+                c.volts = next_array(&mut it)?;
+            }
+            Job::MonteCarloStatistics { values, .. } => {
+                // One pair, or the parts' pairs in trial order (as the page forwards them).
+                values.vt_upper_v = next_array(&mut it)?;
+                values.vt_lower_v = next_array(&mut it)?;
+                while let Some(upper) = it.next() {
+                    values.vt_upper_v.extend_from_slice(&upper);
+                    values.vt_lower_v.extend_from_slice(&next_array(&mut it)?);
+                }
+            }
+            _ => {}
         }
         Ok(())
     }
@@ -1221,6 +1283,7 @@ impl JobOutput {
             JobOutput::SearchPart(_) => "search_part",
             JobOutput::Oscillator(_) => "oscillator",
             JobOutput::Debouncer(_) => "debouncer",
+            JobOutput::MonteCarloStatistics(_) => "monte_carlo_statistics",
         }
     }
 

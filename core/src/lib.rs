@@ -42,6 +42,7 @@ pub mod schematic;
 pub mod bench;
 pub mod jobs;
 pub mod job_answers;
+pub mod job_rounds;
 pub mod input_network;
 pub mod output_dynamics;
 pub mod power_up;

@@ -3,7 +3,8 @@
 //! the work it timed really happened.
 //!
 //! Figures printed: page load to mounted, input event to updated results (p50/p95 over 60 edits,
-//! analysis plus transfer-curve redraw), Monte Carlo 100,000 trials, the E96 three-decade search,
+//! analysis plus transfer-curve redraw), Monte Carlo 100,000 trials (five runs, with the last one's
+//! job timeline: parts sent, begun and ended on the workers, read back, merged), the E96 three-decade search,
 //! a 1,000,000-sample signal pass, a 10,000,000-sample signal test watched by a long-task observer
 //! (PerformanceObserver "longtask": main-thread tasks over 50 ms; count, longest and wall time),
 //! the noise sweep of the 1 M-sample signal, a 1,000,000-row CSV import and the opening of every
@@ -137,10 +138,35 @@ async fn timed_runs_in_the_browser() {
     // Monte Carlo, 100,000 trials, in slices.
     s.type_into("#mc-trials", "100k").await;
     s.wait_stored("r.tolerance.monte_carlo.trials === 100000").await;
-    s.wait_for("#mc-run").await.click().await.unwrap();
-    let summary = s.text("#mc-summary").await;
-    assert!(summary.starts_with("100000 trials"), "{summary}");
-    let mc_ms: f64 = summary.split(" in ").nth(1).and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
+    // Five runs (the host's speed varies from run to run): each run's wall time as the page shows
+    // it, and the job timeline of the last (`<html data-job-timeline>`, app/src/timeline.rs).
+    let mut mc_runs = Vec::new();
+    let mut timeline = serde_json::Value::Null;
+    for _ in 0..5 {
+        s.js("document.documentElement.removeAttribute('data-job-timeline');").await;
+        let before = s.js("const e = document.querySelector('#mc-summary'); return e ? e.textContent : '';").await;
+        s.wait_for("#mc-run").await.click().await.unwrap();
+        timeline = s.wait_js("the Monte Carlo run to finish", "return document.documentElement.dataset.jobTimeline || null;").await;
+        // The summary follows the job's end within a task or two; an identical summary (the same
+        // wall time to the millisecond) is accepted after a short wait.
+        let mut summary = String::new();
+        for _ in 0..20 {
+            let now = s.js("const e = document.querySelector('#mc-summary'); return e ? e.textContent : '';").await;
+            summary = now.as_str().unwrap_or_default().to_string();
+            if now != before {
+                break;
+            }
+            tokio::time::sleep(std::time::Duration::from_millis(25)).await;
+        }
+        assert!(summary.starts_with("100000 trials"), "{summary}");
+        let ms: f64 = summary.split(" in ").nth(1).and_then(|x| x.split(" ms").next()).and_then(|x| x.trim().parse().ok()).unwrap_or(f64::NAN);
+        mc_runs.push(ms);
+        tokio::time::sleep(std::time::Duration::from_millis(400)).await;
+    }
+    let mut sorted_mc = mc_runs.clone();
+    sorted_mc.sort_by(|a, b| a.total_cmp(b));
+    let mc_ms = percentile(&sorted_mc, 0.5);
+    println!("browser timing: Monte Carlo 100k, five runs: {mc_runs:?} ms wall; the last run's job timeline (ms): {timeline}");
     let native_mc_ms = native_monte_carlo_ms(&s).await;
 
     // E96 over 1 kΩ–1 MΩ for the three-resistor inverting form (the default range).
@@ -251,7 +277,7 @@ async fn timed_runs_in_the_browser() {
     println!(
         "browser timing ({workers} hardware threads): mounted {mounted_ms:.0} ms after navigation, {again_ms:.0} ms after a reload; \
          input→results p50 {p50:.2} ms, p95 {p95:.2} ms (60 edits); \
-         Monte Carlo 100k {mc_ms:.0} ms wall ({:.2}× the test build's native run, {native_mc_ms:.1} ms); E96 search {search_ms:.1} ms; 1M-sample signal {signal_ms:.0} ms; \
+         Monte Carlo 100k {mc_ms:.0} ms wall, median of 5 ({:.2}× the test build's native run, {native_mc_ms:.1} ms); E96 search {search_ms:.1} ms; 1M-sample signal {signal_ms:.0} ms; \
          noise sweep of the 1M-sample signal {sweep_ms:.0} ms; \
          10M-sample signal test {ten_m_ms:.0} ms (click to result shown {wall_ms:.0} ms), main-thread tasks over 50 ms: {} (longest {longest:.0} ms) {long:?}",
         mc_ms / native_mc_ms,

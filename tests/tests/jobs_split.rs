@@ -2,9 +2,11 @@
 //! trial ranges (each trial seeded from the run's seed and its index), the noise sweep by level
 //! ranges (common unit noise regenerated from the signal's seed). Checked natively here, for 1 to
 //! 7 parts and for uneven slice budgets, against the one-shot library functions; the parts travel
-//! through JSON with their arrays taken out, as they do between a worker and the page.
+//! through JSON with their arrays taken out, as they do between a worker and the page. A split Monte
+//! Carlo's second round (its statistics on the workers, `core::job_rounds`) is run too.
 
 use hysteron_core::job_answers::Answers;
+use hysteron_core::job_rounds::Gathered;
 use hysteron_core::jobs::{merge, split, Job, JobOutput, Running, DEFAULT_DISPLAY_POINTS};
 use hysteron_core::record::DesignRecord;
 use hysteron_core::signal::generate::{Component, SignalDefinition};
@@ -48,12 +50,24 @@ fn run_as_worker(job: Job, budget: u64, answers: Answers) -> JobOutput {
 }
 
 /// The job split into `parts`, each run as a worker does, merged as the page does (the kind's own
-/// merge), and checked equal to the general [`merge`].
+/// merge), and checked equal to the general [`merge`]; for a kind with a second round, that round
+/// too is run as the page runs it (its jobs on `parts` workers, answered in reverse order) and
+/// checked equal to the merge.
 fn run_split(job: &Job, parts: usize, budget: u64, answers: Answers) -> JobOutput {
     let outputs: Vec<JobOutput> = split(job, parts).unwrap().into_iter().map(|j| run_as_worker(j, budget, answers)).collect();
     let general = merge(job, outputs.clone()).unwrap();
-    let own = (answers.merge)(job, outputs).unwrap();
+    let own = (answers.merge)(job, outputs.clone()).unwrap();
     assert_eq!(own, general, "the kind's own merge equals the general one");
+    if let Some(round) = answers.second {
+        let two_rounds = match (round.gather)(job, outputs, parts).unwrap() {
+            Gathered::Done(o) => o,
+            Gathered::Again { kept, jobs } => {
+                let answered = jobs.into_iter().rev().map(|j| run_as_worker(j, budget, answers)).collect();
+                (round.finish)(job, kept, answered).unwrap()
+            }
+        };
+        assert_eq!(two_rounds, own, "the second round on the workers equals the merge on the page");
+    }
     own
 }
 

@@ -10,7 +10,8 @@
 //! - worker → page: `{ kind: "progress", done, total, unit }` once before the work starts (the
 //!   announced bound) and after each slice (at most every `slice_ms`), then
 //!   `{ kind: "result", output: "<JobOutput as JSON>", output_kind: "<JobOutput::kind>", arrays: [Float64Array…] }` with the arrays
-//!   transferred (not copied), or `{ kind: "error", message }`.
+//!   transferred (not copied), with `began_at` and `ended_at` (when the worker took the job and
+//!   sent the result, ms since the epoch, for the page's job timeline), or `{ kind: "error", message }`.
 //!
 //! Cancel: the page terminates the worker, which stops the work at once wherever it is.
 //! The work runs in slices of `core::jobs::Running::step`, with a budget adapted so that a slice
@@ -64,7 +65,13 @@ mod worker {
         js_sys::Array::from(v).iter().map(|a| js_sys::Float64Array::from(a).to_vec()).collect()
     }
 
+    /// Now as milliseconds since the epoch (`timeOrigin + now()`), which the page can place on its own clock.
+    fn epoch_ms() -> f64 {
+        scope().and_then(|s| s.performance()).map(|p| p.time_origin() + p.now()).unwrap_or(0.0)
+    }
+
     fn run(data: JsValue) -> Result<(), String> {
+        let began_at = epoch_ms();
         let get = |k: &str| js_sys::Reflect::get(&data, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED);
         let text = get("job").as_string().ok_or("the job message has no job: send {job, arrays}")?;
         let slice_ms = get("slice_ms").as_f64().filter(|x| *x > 0.0).unwrap_or(30.0);
@@ -105,6 +112,8 @@ mod worker {
         set(&o, "output", &json.into());
         set(&o, "output_kind", &out.kind().into());
         set(&o, "arrays", &list);
+        set(&o, "began_at", &began_at.into());
+        set(&o, "ended_at", &epoch_ms().into());
         post(&o, Some(&transfer));
         Ok(())
     }

@@ -386,6 +386,29 @@ impl<C: Circuit> MonteCarloRun<C> {
 
     /// Statistics, histograms and yield of a complete run (`partial` must cover `0..trials()`).
     pub fn finish(&self, partial: &MonteCarloPartial) -> Result<MonteCarloResult, DesignError> {
+        self.check_complete(partial)?;
+        if partial.vt_upper_v.is_empty() {
+            return Err(DesignError::Parameter {
+                reason: "the Monte Carlo values were taken out of this run: put them back before finishing".into(),
+            });
+        }
+        let [vt_upper, vt_lower, hysteresis, centre]: [SampleStatistics; 4] =
+            figure_statistics(partial, &Figure::ALL, self.bins)
+                .try_into()
+                .expect("one statistics per figure asked for");
+        Ok(self.assemble(partial, [vt_upper, vt_lower, hysteresis, centre]))
+    }
+
+    /// Histogram bins per figure (the settings' count, at least 1).
+    pub fn bins(&self) -> usize {
+        self.bins
+    }
+
+    /// Refuses a partial that does not cover the whole run (`0..trials()`) or has fewer than two
+    /// valid trials (trials less rejected ones): what [`MonteCarloRun::finish`] checks before any
+    /// statistics. Value arrays, when present, must hold one VT+ and one VT− per valid trial; a
+    /// partial whose arrays were taken out (to travel apart) is checked by its counts.
+    pub fn check_complete(&self, partial: &MonteCarloPartial) -> Result<(), DesignError> {
         if partial.start != 0 || partial.end != self.trials {
             return Err(DesignError::Parameter {
                 reason: format!(
@@ -394,34 +417,30 @@ impl<C: Circuit> MonteCarloRun<C> {
                 ),
             });
         }
-        let valid = partial.vt_upper_v.len();
-        if valid < 2 || partial.vt_lower_v.len() != valid {
+        let valid = partial.trials_done().saturating_sub(partial.rejected_trials) as usize;
+        let (upper, lower) = (partial.vt_upper_v.len(), partial.vt_lower_v.len());
+        let taken_out = upper == 0 && lower == 0;
+        if !taken_out && (upper != valid || lower != valid) {
+            return Err(DesignError::inconsistent(format!(
+                "the Monte Carlo values do not match the counts: {upper} VT+ and {lower} VT− for {valid} valid trials"
+            )));
+        }
+        if valid < 2 {
             return Err(DesignError::inconsistent(format!(
                 "only {valid} of {} Monte Carlo trials gave a valid circuit: narrow the tolerance bands",
                 self.trials
             )));
         }
-        let mut scratch = [Vec::new(), Vec::new()];
-        let mut derived = Vec::with_capacity(valid);
-        let vt_upper = statistics(&partial.vt_upper_v, &mut scratch, self.bins);
-        let vt_lower = statistics(&partial.vt_lower_v, &mut scratch, self.bins);
-        derived.extend(
-            partial
-                .vt_upper_v
-                .iter()
-                .zip(&partial.vt_lower_v)
-                .map(|(u, l)| u - l),
-        );
-        let hysteresis = statistics(&derived, &mut scratch, self.bins);
-        derived.clear();
-        derived.extend(
-            partial
-                .vt_upper_v
-                .iter()
-                .zip(&partial.vt_lower_v)
-                .map(|(u, l)| 0.5 * (u + l)),
-        );
-        let centre = statistics(&derived, &mut scratch, self.bins);
+        Ok(())
+    }
+
+    /// The result from the run's counts and the four figures' statistics (in [`Figure::ALL`]
+    /// order, as [`figure_statistics`] computes them): the last step of [`MonteCarloRun::finish`].
+    /// Only the counts of `partial` are read (its value arrays may have been taken out), so
+    /// `valid_trials` is the statistics' own sample size.
+    pub fn assemble(&self, partial: &MonteCarloPartial, figures: [SampleStatistics; 4]) -> MonteCarloResult {
+        let [vt_upper, vt_lower, hysteresis, centre] = figures;
+        let valid = vt_upper.histogram.counts.iter().sum::<u64>();
         let spec_yield = (!self.spec.is_empty()).then(|| {
             let m = self.trials as f64;
             let p = partial.inside_spec as f64 / m;
@@ -443,10 +462,10 @@ impl<C: Circuit> MonteCarloRun<C> {
                     .collect(),
             }
         });
-        Ok(MonteCarloResult {
+        MonteCarloResult {
             trials: self.trials,
             seed: self.seed,
-            valid_trials: valid as u64,
+            valid_trials: valid,
             rejected_trials: partial.rejected_trials,
             vt_upper,
             vt_lower,
@@ -454,8 +473,41 @@ impl<C: Circuit> MonteCarloRun<C> {
             centre,
             spec_yield,
             normal_sampler: crate::rng::NORMAL_SAMPLER,
-        })
+        }
     }
+}
+
+/// The statistics of `figures` over the valid trials of `partial` (VT+ and VT− as drawn; the
+/// hysteresis VT+ − VT− and the centre (VT+ + VT−)/2 of each trial), one per figure asked for,
+/// in the order asked: mean and sample standard deviation (JCGM 101:2008 §7.6), extremes, the 95 %
+/// probabilistically symmetric coverage interval (§7.7) and a histogram of `bins` equal bins.
+/// Each figure's statistics depend only on the values, so computing the figures in several
+/// calls (on several workers) gives exactly what one call gives.
+pub fn figure_statistics(partial: &MonteCarloPartial, figures: &[Figure], bins: usize) -> Vec<SampleStatistics> {
+    let bins = bins.max(1);
+    let mut scratch = [Vec::new(), Vec::new()];
+    let mut derived = Vec::new();
+    let (upper, lower) = (&partial.vt_upper_v, &partial.vt_lower_v);
+    figures
+        .iter()
+        .map(|f| {
+            let values: &[f64] = match f {
+                Figure::VtUpper => upper,
+                Figure::VtLower => lower,
+                Figure::Hysteresis => {
+                    derived.clear();
+                    derived.extend(upper.iter().zip(lower).map(|(u, l)| u - l));
+                    &derived
+                }
+                Figure::Centre => {
+                    derived.clear();
+                    derived.extend(upper.iter().zip(lower).map(|(u, l)| 0.5 * (u + l)));
+                    &derived
+                }
+            };
+            statistics(values, &mut scratch, bins)
+        })
+        .collect()
 }
 
 /// Indices (0-based) of the order statistics that bound the 95 % probabilistically symmetric
