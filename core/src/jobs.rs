@@ -720,7 +720,7 @@ impl Running {
                 out,
             } => {
                 // All the figures at once: a figure's statistics are one unit that cannot be cut.
-                let statistics = figure_statistics(values, figures, *bins);
+                let statistics = figure_statistics(&values.vt_upper_v, &values.vt_lower_v, figures, *bins);
                 *out = Some(FiguresPart { figures: std::mem::take(figures), statistics });
                 self.progress.done = self.progress.total;
             }

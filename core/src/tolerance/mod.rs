@@ -38,6 +38,7 @@ pub mod budget;
 pub mod gum;
 pub mod input_standard;
 pub mod monte_carlo;
+pub mod sample_statistics;
 pub mod settings;
 pub mod spec_window;
 pub mod temperature;

@@ -23,6 +23,7 @@
 //! no allocation per trial.
 
 use super::{Distribution, Figure, Figures, Prepared, SpecWindow, ToleranceSettings};
+pub use super::sample_statistics::{coverage_indices, figure_statistics, Histogram, SampleStatistics};
 use crate::analysis::Thresholds;
 use crate::device::Comparator;
 use crate::error::DesignError;
@@ -103,39 +104,6 @@ impl MonteCarloPartial {
     pub fn trials_done(&self) -> u64 {
         self.end - self.start
     }
-}
-
-/// Counts of M values in equal bins between their minimum and maximum, for plotting.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Histogram {
-    /// Left edge of the first bin (the smallest value), volts.
-    pub lower_v: f64,
-    /// Right edge of the last bin (the largest value, included in the last bin), volts.
-    pub upper_v: f64,
-    /// Width of each bin, volts (0 when every value is the same; then all counts are in bin 0).
-    pub bin_width_v: f64,
-    /// Number of values in each bin.
-    pub counts: Vec<u64>,
-}
-
-/// Summary of the M values of one figure.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct SampleStatistics {
-    /// Arithmetic mean, volts (JCGM 101:2008 §7.6).
-    pub mean_v: f64,
-    /// Sample standard deviation with M − 1 in the denominator, volts (§7.6).
-    pub standard_deviation_v: f64,
-    /// Smallest value, volts.
-    pub min_v: f64,
-    /// Largest value, volts.
-    pub max_v: f64,
-    /// Lower end of the 95 % probabilistically symmetric coverage interval, the r-th order
-    /// statistic (§7.7), volts.
-    pub interval_95_low_v: f64,
-    /// Upper end, the (r + q)-th order statistic, volts.
-    pub interval_95_high_v: f64,
-    /// Histogram for plotting.
-    pub histogram: Histogram,
 }
 
 /// Which end of a spec range.
@@ -393,7 +361,7 @@ impl<C: Circuit> MonteCarloRun<C> {
             });
         }
         let [vt_upper, vt_lower, hysteresis, centre]: [SampleStatistics; 4] =
-            figure_statistics(partial, &Figure::ALL, self.bins)
+            figure_statistics(&partial.vt_upper_v, &partial.vt_lower_v, &Figure::ALL, self.bins)
                 .try_into()
                 .expect("one statistics per figure asked for");
         Ok(self.assemble(partial, [vt_upper, vt_lower, hysteresis, centre]))
@@ -474,171 +442,6 @@ impl<C: Circuit> MonteCarloRun<C> {
             spec_yield,
             normal_sampler: crate::rng::NORMAL_SAMPLER,
         }
-    }
-}
-
-/// The statistics of `figures` over the valid trials of `partial` (VT+ and VT− as drawn; the
-/// hysteresis VT+ − VT− and the centre (VT+ + VT−)/2 of each trial), one per figure asked for,
-/// in the order asked: mean and sample standard deviation (JCGM 101:2008 §7.6), extremes, the 95 %
-/// probabilistically symmetric coverage interval (§7.7) and a histogram of `bins` equal bins.
-/// Each figure's statistics depend only on the values, so computing the figures in several
-/// calls (on several workers) gives exactly what one call gives.
-pub fn figure_statistics(partial: &MonteCarloPartial, figures: &[Figure], bins: usize) -> Vec<SampleStatistics> {
-    let bins = bins.max(1);
-    let mut scratch = [Vec::new(), Vec::new()];
-    let mut derived = Vec::new();
-    let (upper, lower) = (&partial.vt_upper_v, &partial.vt_lower_v);
-    figures
-        .iter()
-        .map(|f| {
-            let values: &[f64] = match f {
-                Figure::VtUpper => upper,
-                Figure::VtLower => lower,
-                Figure::Hysteresis => {
-                    derived.clear();
-                    derived.extend(upper.iter().zip(lower).map(|(u, l)| u - l));
-                    &derived
-                }
-                Figure::Centre => {
-                    derived.clear();
-                    derived.extend(upper.iter().zip(lower).map(|(u, l)| 0.5 * (u + l)));
-                    &derived
-                }
-            };
-            statistics(values, &mut scratch, bins)
-        })
-        .collect()
-}
-
-/// Indices (0-based) of the order statistics that bound the 95 % probabilistically symmetric
-/// coverage interval of M sorted values: q = ⌊0.95·M + ½⌋, r = (M − q)/2 when M − q is even and
-/// (M − q + 1)/2 otherwise, interval [y₍r₎, y₍r+q₎] (JCGM 101:2008 §7.7, from memory). For small
-/// M, r is at least 1 and r + q at most M.
-pub fn coverage_indices(m: usize) -> (usize, usize) {
-    let q = ((0.95 * m as f64) + 0.5).floor() as usize;
-    let r = (m - q.min(m)).div_ceil(2);
-    let r = r.max(1);
-    let hi = (r + q).min(m).max(r);
-    (r - 1, hi - 1)
-}
-
-/// Fine bins for locating order statistics: the bin index is monotonic in the value.
-struct FineBins {
-    min: f64,
-    scale: f64,
-    last: usize,
-}
-
-impl FineBins {
-    fn new(n: usize, min: f64, max: f64) -> Self {
-        let nb = (n / 8).clamp(1, 4096);
-        let scale = if max > min {
-            nb as f64 / (max - min)
-        } else {
-            0.0
-        };
-        FineBins {
-            min,
-            scale,
-            last: nb - 1,
-        }
-    }
-
-    fn bin(&self, x: f64) -> usize {
-        (((x - self.min) * self.scale) as usize).min(self.last)
-    }
-}
-
-/// The values of ranks `ranks` (0-based) among `values` sorted by `f64::total_cmp`, without sorting:
-/// with the fine-bin counts, find the bin holding each rank, then select within that bin's few
-/// values. Exact, and faster than a selection over all values.
-fn order_statistics(
-    values: &[f64],
-    fine: &FineBins,
-    counts: &[usize],
-    ranks: [usize; 2],
-    scratch: &mut [Vec<f64>; 2],
-) -> [f64; 2] {
-    let mut targets = [(0usize, 0usize); 2];
-    for (target, &rank) in targets.iter_mut().zip(&ranks) {
-        let mut before = 0;
-        for (b, &c) in counts.iter().enumerate() {
-            if before + c > rank {
-                *target = (b, rank - before);
-                break;
-            }
-            before += c;
-        }
-    }
-    for v in scratch.iter_mut() {
-        v.clear();
-    }
-    for &x in values {
-        let b = fine.bin(x);
-        for (t, v) in targets.iter().zip(scratch.iter_mut()) {
-            if b == t.0 {
-                v.push(x);
-            }
-        }
-    }
-    let mut out = [fine.min; 2];
-    for ((o, t), v) in out.iter_mut().zip(&targets).zip(scratch.iter_mut()) {
-        if t.1 < v.len() {
-            *o = *v.select_nth_unstable_by(t.1, f64::total_cmp).1;
-        }
-    }
-    out
-}
-
-fn statistics(values: &[f64], scratch: &mut [Vec<f64>; 2], bins: usize) -> SampleStatistics {
-    let n = values.len() as f64;
-    let (mut sum, mut min, mut max) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
-    for &x in values {
-        sum += x;
-        if x < min {
-            min = x;
-        }
-        if x > max {
-            max = x;
-        }
-    }
-    let mean = sum / n;
-    // One pass for the squared deviations, the fine bins and the plotted histogram.
-    let fine = FineBins::new(values.len(), min, max);
-    let mut fine_counts = vec![0usize; fine.last + 1];
-    let mut counts = vec![0u64; bins];
-    let width = (max - min) / bins as f64;
-    let mut ss = 0.0;
-    for &x in values {
-        ss += (x - mean) * (x - mean);
-        fine_counts[fine.bin(x)] += 1;
-        let i = if width > 0.0 {
-            (((x - min) / width) as usize).min(bins - 1)
-        } else {
-            0
-        };
-        counts[i] += 1;
-    }
-    let sd = (ss / (n - 1.0)).sqrt();
-    let (lo_i, hi_i) = coverage_indices(values.len());
-    let [lo, hi] = if max > min {
-        order_statistics(values, &fine, &fine_counts, [lo_i, hi_i], scratch)
-    } else {
-        [min, min]
-    };
-    SampleStatistics {
-        mean_v: mean,
-        standard_deviation_v: sd,
-        min_v: min,
-        max_v: max,
-        interval_95_low_v: lo,
-        interval_95_high_v: hi,
-        histogram: Histogram {
-            lower_v: min,
-            upper_v: max,
-            bin_width_v: width.max(0.0),
-            counts,
-        },
     }
 }
 
@@ -797,71 +600,6 @@ mod tests {
         for x in &a.vt_upper_v {
             assert!(!b.vt_upper_v.contains(x));
         }
-    }
-
-    #[test]
-    fn coverage_indices_follow_jcgm_101() {
-        // JCGM 101:2008 §7.7 (from memory): M = 10⁵, p = 0.95 → q = 95 000, r = 2 500:
-        // [y₂₅₀₀, y₉₇₅₀₀] (1-based).
-        assert_eq!(coverage_indices(100_000), (2_499, 97_499));
-        // M = 1001: q = ⌊950.95 + ½⌋ = 951, M − q = 50 even, r = 25 → [y₂₅, y₉₇₆].
-        assert_eq!(coverage_indices(1001), (24, 975));
-        // M = 1000: q = 950, M − q = 50, r = 25 → [y₂₅, y₉₇₅].
-        assert_eq!(coverage_indices(1000), (24, 974));
-        assert_eq!(coverage_indices(2), (0, 1));
-    }
-
-    #[test]
-    fn order_statistics_equal_those_of_a_full_sort() {
-        let mut rng = Rng::new(3);
-        let mut scratch = [Vec::new(), Vec::new()];
-        for n in [2usize, 3, 17, 100, 1001, 20_000] {
-            // Heavy ties and a wide spread, to exercise crowded and empty bins.
-            let v: Vec<f64> = (0..n)
-                .map(|i| {
-                    if i % 5 == 0 {
-                        1.5
-                    } else {
-                        rng.normal().powi(3)
-                    }
-                })
-                .collect();
-            let mut sorted = v.clone();
-            sorted.sort_by(f64::total_cmp);
-            let (a, b) = coverage_indices(n);
-            let s = statistics(&v, &mut scratch, 7);
-            assert_eq!(
-                [s.interval_95_low_v, s.interval_95_high_v],
-                [sorted[a], sorted[b]],
-                "n = {n}"
-            );
-            assert_eq!((s.min_v, s.max_v), (sorted[0], sorted[n - 1]));
-        }
-        let s = statistics(&[2.0; 10], &mut scratch, 7);
-        assert_eq!(
-            (
-                s.interval_95_low_v,
-                s.interval_95_high_v,
-                s.standard_deviation_v
-            ),
-            (2.0, 2.0, 0.0)
-        );
-        assert_eq!(s.histogram.counts[0], 10);
-    }
-
-    #[test]
-    fn statistics_of_a_known_sample() {
-        let v: Vec<f64> = (1..=100).map(f64::from).collect();
-        let mut scratch = [Vec::new(), Vec::new()];
-        let s = statistics(&v, &mut scratch, 10);
-        assert_eq!(s.mean_v, 50.5);
-        // Sample SD of 1..=100: √(100·101/12) = 29.011...
-        assert!((s.standard_deviation_v - (100.0f64 * 101.0 / 12.0).sqrt()).abs() < 1e-12);
-        assert_eq!((s.min_v, s.max_v), (1.0, 100.0));
-        // M = 100: q = 95, r = 3 (M − q = 5 odd) → [y₃, y₉₈].
-        assert_eq!((s.interval_95_low_v, s.interval_95_high_v), (3.0, 98.0));
-        assert_eq!(s.histogram.counts.iter().sum::<u64>(), 100);
-        assert_eq!(s.histogram.counts[9], 10);
     }
 
     #[test]
