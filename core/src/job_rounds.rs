@@ -16,42 +16,9 @@
 
 use crate::error::DesignError;
 use crate::jobs::{Job, JobOutput};
+pub use crate::tolerance::sample_statistics::FiguresPart;
 use crate::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloRun, SampleStatistics};
 use crate::tolerance::Figure;
-use serde::{Deserialize, Serialize};
-
-/// Some figures' statistics of a Monte Carlo run: the answer to [`Job::MonteCarloStatistics`].
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct FiguresPart {
-    /// The figures, in the order asked for.
-    pub figures: Vec<Figure>,
-    /// Their statistics, one per figure, in the same order.
-    pub statistics: Vec<SampleStatistics>,
-}
-
-/// Most histogram bins a statistics job accepts (the settings' own limit).
-const MAX_BINS: usize = 1000;
-
-/// Refuses a statistics job that cannot give a result: VT+ and VT− arrays of different lengths or
-/// fewer than two values, no figure, or bins outside 1…1000.
-pub fn check_statistics_job(values: &MonteCarloPartial, figures: &[Figure], bins: usize) -> Result<(), DesignError> {
-    let n = values.vt_upper_v.len();
-    let reason = if n != values.vt_lower_v.len() {
-        Some(format!(
-            "the Monte Carlo values do not pair up: {n} VT+ against {} VT−",
-            values.vt_lower_v.len()
-        ))
-    } else if n < 2 {
-        Some(format!("statistics need at least two valid trials (got {n})"))
-    } else if figures.is_empty() {
-        Some("no figure to compute statistics for: name at least one".to_string())
-    } else if bins == 0 || bins > MAX_BINS {
-        Some(format!("histogram bins must be from 1 to {MAX_BINS} (got {bins})"))
-    } else {
-        None
-    };
-    reason.map_or(Ok(()), |reason| Err(DesignError::Parameter { reason }))
-}
 
 /// What the first round's outputs lead to.
 #[derive(Debug, Clone, PartialEq)]

@@ -50,8 +50,8 @@ use crate::signal::report::{SignalRun, SignalSettings, SignalSource};
 use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
-use crate::job_rounds::FiguresPart;
 use crate::tolerance::monte_carlo::{figure_statistics, MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use crate::tolerance::sample_statistics::{check_statistics_inputs, FiguresPart};
 use crate::tolerance::Figure;
 use crate::tolerance::worst_case::{CornerScan, WorstCase, WorstCaseRun, SEARCH_GRID};
 use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
@@ -169,7 +169,7 @@ pub enum Job {
         settings: DebounceSettings,
     },
     /// The statistics of some figures of a complete Monte Carlo run (the second round of a split
-    /// run, see [`crate::job_rounds`]).
+    /// run, see `crate::job_rounds`).
     MonteCarloStatistics {
         /// The whole run's valid trials (its arrays travel apart, see [`Job::take_arrays`]).
         values: MonteCarloPartial,
@@ -585,7 +585,7 @@ impl Running {
                 )
             }
             Job::MonteCarloStatistics { values, figures, bins } => {
-                crate::job_rounds::check_statistics_job(&values, &figures, bins)?;
+                check_statistics_inputs(&values.vt_upper_v, &values.vt_lower_v, &figures, bins)?;
                 let total = figures.len() as u64;
                 (
                     State::Statistics {

@@ -9,6 +9,7 @@
 //! additions) and would make every statistics worker compute all four.
 
 use super::Figure;
+use crate::error::DesignError;
 use serde::{Deserialize, Serialize};
 
 /// Counts of M values in equal bins between their minimum and maximum, for plotting.
@@ -42,6 +43,37 @@ pub struct SampleStatistics {
     pub interval_95_high_v: f64,
     /// Histogram for plotting.
     pub histogram: Histogram,
+}
+
+/// Some figures' statistics of a Monte Carlo run: the answer to `jobs::Job::MonteCarloStatistics`
+/// (see `crate::job_rounds`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FiguresPart {
+    /// The figures, in the order asked for.
+    pub figures: Vec<Figure>,
+    /// Their statistics, one per figure, in the same order.
+    pub statistics: Vec<SampleStatistics>,
+}
+
+/// Most histogram bins a statistics job accepts (the settings' own limit).
+const MAX_BINS: usize = 1000;
+
+/// Refuses statistics that cannot give a result: VT+ and VT− arrays of different lengths or
+/// fewer than two values, no figure, or bins outside 1…1000.
+pub fn check_statistics_inputs(upper: &[f64], lower: &[f64], figures: &[Figure], bins: usize) -> Result<(), DesignError> {
+    let n = upper.len();
+    let reason = if n != lower.len() {
+        Some(format!("the Monte Carlo values do not pair up: {n} VT+ against {} VT−", lower.len()))
+    } else if n < 2 {
+        Some(format!("statistics need at least two valid trials (got {n})"))
+    } else if figures.is_empty() {
+        Some("no figure to compute statistics for: name at least one".to_string())
+    } else if bins == 0 || bins > MAX_BINS {
+        Some(format!("histogram bins must be from 1 to {MAX_BINS} (got {bins})"))
+    } else {
+        None
+    };
+    reason.map_or(Ok(()), |reason| Err(DesignError::Parameter { reason }))
 }
 
 /// `t` truncated towards zero to an index, at most `last` (NaN and negative values give 0): what
