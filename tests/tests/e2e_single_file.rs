@@ -118,6 +118,7 @@ async fn single_file_runs_studies_on_blob_workers_or_says_it_runs_them_on_the_pa
     .await;
     assert_eq!(s.js("return !!document.querySelector('#workers-note');").await, serde_json::Value::Bool(false), "the note is said twice");
     s.wait_for("#mc-cancel").await.click().await.unwrap();
+    s.wait_js("the second run's progress bar to go after Cancel", "return !document.querySelector('#mc-progress');").await;
 
     // A short run completes with its result.
     s.type_into("#mc-trials", "2000").await;

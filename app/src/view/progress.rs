@@ -50,8 +50,10 @@ pub fn JobProgress(
             view! {
                 <span class="job-progress" role="status">
                     <progress id=format!("{id}-progress") max="1" value=s.fraction().to_string()></progress>
-                    <span class="note" id=format!("{id}-status") data-done=s.done.to_string() data-total=s.total.to_string()>{describe(&s)}</span>
+                    // Cancel before the words: it stays where it is while the counts and the time
+                    // left change their length (after them it moved under the pointer).
                     <button id=format!("{id}-cancel") class="quiet" on:click=move |_| on_cancel.run(())>"Cancel"</button>
+                    <span class="note" id=format!("{id}-status") data-done=s.done.to_string() data-total=s.total.to_string()>{describe(&s)}</span>
                     {s.note.map(|n| view! { <span class="note" id="workers-note">{n}</span> })}
                 </span>
             }
