@@ -104,6 +104,16 @@ pub fn finish_monte_carlo(job: &Job, kept: JobOutput, outputs: Vec<JobOutput>) -
     let [Some(a), Some(b), Some(c), Some(d)] = found else {
         return Err(invalid("a figure's statistics are missing: every figure must be computed"));
     };
+    // Every figure's statistics must be over exactly the valid trials the counts give.
+    let valid = counts.trials_done().saturating_sub(counts.rejected_trials);
+    for st in [&a, &b, &c, &d] {
+        let n: u64 = st.histogram.counts.iter().sum();
+        if n != valid {
+            return Err(invalid(format!(
+                "the statistics cover {n} trials but the run has {valid} valid ones: run the study again"
+            )));
+        }
+    }
     let run = MonteCarloRun::new(circuit, settings)?;
     Ok(JobOutput::MonteCarlo(run.assemble(&counts, [a, b, c, d])))
 }
@@ -213,8 +223,25 @@ mod tests {
         let answers: Vec<_> = jobs.into_iter().map(run_to_end).collect();
         let missing = finish_monte_carlo(&job, kept.clone(), answers[..1].to_vec()).unwrap_err();
         assert!(missing.to_string().contains("missing"), "{missing}");
-        let doubled = finish_monte_carlo(&job, kept, vec![answers[0].clone(), answers[0].clone(), answers[1].clone()]).unwrap_err();
+        let doubled = finish_monte_carlo(&job, kept.clone(), vec![answers[0].clone(), answers[0].clone(), answers[1].clone()]).unwrap_err();
         assert!(doubled.to_string().contains("twice"), "{doubled}");
+        // Statistics over fewer values than the counts' valid trials (a piece of the values lost
+        // on the way) are refused, not shown.
+        let Job::MonteCarloStatistics { mut values, figures, bins } = jobs_again(&job).remove(0) else { panic!("a statistics job") };
+        values.vt_upper_v.truncate(values.vt_upper_v.len() - 1);
+        values.vt_lower_v.truncate(values.vt_lower_v.len() - 1);
+        let short = run_to_end(Job::MonteCarloStatistics { values, figures, bins });
+        let short = finish_monte_carlo(&job, kept, vec![short, answers[1].clone()]).unwrap_err();
+        assert!(short.to_string().contains("valid ones"), "{short}");
+    }
+
+    /// The statistics jobs of a two-part run of `job`, values kept in them.
+    fn jobs_again(job: &Job) -> Vec<Job> {
+        let outputs = split(job, 2).unwrap().into_iter().map(run_to_end).collect();
+        match gather_monte_carlo(job, outputs, 2).unwrap() {
+            Gathered::Again { jobs, .. } => jobs,
+            Gathered::Done(_) => panic!("a split run gathers into jobs"),
+        }
     }
 
     #[test]
