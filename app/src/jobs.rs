@@ -480,19 +480,22 @@ fn take_result(shared: &Rc<RefCell<Shared>>, index: usize, kind: &str, text: &st
 /// been returned to it), keeping `kept` for the finishing step. A worker that cannot be had moves
 /// the whole job onto the page, as in the first round.
 fn start_second_round(shared: &Rc<RefCell<Shared>>, kept: JobOutput, jobs: Vec<Job>) {
-    // The first round's arrays, in part order; each job but the last gets a copy of its own, so
-    // that every job's arrays can be transferred to its worker whenever that worker is had.
-    let forward: Vec<js_sys::Float64Array> = {
+    // The first round's arrays, per part; each job takes the ones it lists, every part's in part
+    // order, transferred as they are (each is listed by one job only; one missing would leave its
+    // job short, which its worker refuses with words).
+    let mut forward: Vec<Vec<Option<js_sys::Float64Array>>> = {
         let mut s = shared.borrow_mut();
         s.timeline.note("gathered");
         s.kept = Some(kept);
-        let forward = s.parts.iter_mut().flat_map(|p| std::mem::take(&mut p.forward)).collect();
+        let forward = s.parts.iter_mut().map(|p| std::mem::take(&mut p.forward).into_iter().map(Some).collect()).collect();
         s.parts = jobs.iter().map(|_| Part::default()).collect();
         forward
     };
-    let n = jobs.len();
     for (i, job) in jobs.into_iter().enumerate() {
-        let arrays = if i + 1 == n { forward.clone() } else { forward.iter().map(|a| a.slice(0, a.length())).collect() };
+        let arrays: Vec<js_sys::Float64Array> = hysteron_core::job_rounds::forwarded_arrays(&job)
+            .into_iter()
+            .flat_map(|k| forward.iter_mut().filter_map(move |part| part.get_mut(k).and_then(Option::take)).collect::<Vec<_>>())
+            .collect();
         let (sh, sh2) = (shared.clone(), shared.clone());
         if !acquire(move |w| send_with(&sh, i, job, Some(arrays), w), move || {
             refuse_workers();

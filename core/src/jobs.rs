@@ -50,8 +50,8 @@ use crate::signal::report::{SignalRun, SignalSettings, SignalSource};
 use crate::signal::sweep::{finish_sweep, SweepContext, SweepPoint, SweepRunner, SweepSettings};
 use crate::signal::trigger::{default_match_window_s, Edge, TimingModel, TriggerDesign};
 use crate::signal::TimeBase;
-use crate::tolerance::monte_carlo::{figure_statistics, MonteCarloPartial, MonteCarloResult, MonteCarloRun};
-use crate::tolerance::sample_statistics::{check_statistics_inputs, FiguresPart};
+use crate::tolerance::monte_carlo::{MonteCarloPartial, MonteCarloResult, MonteCarloRun};
+use crate::tolerance::sample_statistics::{check_statistics_inputs, figure_array, value_statistics, FiguresPart};
 use crate::tolerance::Figure;
 use crate::tolerance::worst_case::{CornerScan, WorstCase, WorstCaseRun, SEARCH_GRID};
 use crate::tolerance::bench_window::{bench_window, BenchWindow, Windows};
@@ -171,9 +171,11 @@ pub enum Job {
     /// The statistics of some figures of a complete Monte Carlo run (the second round of a split
     /// run, see `crate::job_rounds`).
     MonteCarloStatistics {
-        /// The whole run's valid trials (its arrays travel apart, see [`Job::take_arrays`]).
-        values: MonteCarloPartial,
-        /// The figures to compute.
+        /// Each figure's values over the whole run's valid trials, in trial order, one array per
+        /// figure in `figures` order (see `tolerance::sample_statistics::figure_array`; the arrays
+        /// travel apart, see [`Job::take_arrays`]).
+        figure_values: Vec<Vec<f64>>,
+        /// The figures to compute, each once.
         figures: Vec<Figure>,
         /// Histogram bins per figure.
         bins: usize,
@@ -304,7 +306,7 @@ enum State {
         out: Option<DebounceSimulation>,
     },
     Statistics {
-        values: MonteCarloPartial,
+        figure_values: Vec<Vec<f64>>,
         figures: Vec<Figure>,
         bins: usize,
         out: Option<FiguresPart>,
@@ -584,12 +586,12 @@ impl Running {
                     1,
                 )
             }
-            Job::MonteCarloStatistics { values, figures, bins } => {
-                check_statistics_inputs(&values.vt_upper_v, &values.vt_lower_v, &figures, bins)?;
+            Job::MonteCarloStatistics { figure_values, figures, bins } => {
+                check_statistics_inputs(&figure_values, &figures, bins)?;
                 let total = figures.len() as u64;
                 (
                     State::Statistics {
-                        values,
+                        figure_values,
                         figures,
                         bins,
                         out: None,
@@ -714,13 +716,13 @@ impl Running {
                 self.progress.done = 1;
             }
             State::Statistics {
-                values,
+                figure_values,
                 figures,
                 bins,
                 out,
             } => {
                 // All the figures at once: a figure's statistics are one unit that cannot be cut.
-                let statistics = figure_statistics(&values.vt_upper_v, &values.vt_lower_v, figures, *bins);
+                let statistics = figure_values.iter().map(|v| value_statistics(v, *bins)).collect();
                 *out = Some(FiguresPart { figures: std::mem::take(figures), statistics });
                 self.progress.done = self.progress.total;
             }
@@ -1232,16 +1234,16 @@ impl Job {
             Job::Signal {
                 capture: Some(c), ..
             } => vec![std::mem::take(&mut c.time_s), std::mem::take(&mut c.volts)],
-            Job::MonteCarloStatistics { values, .. } => {
-                vec![std::mem::take(&mut values.vt_upper_v), std::mem::take(&mut values.vt_lower_v)]
-            }
+            Job::MonteCarloStatistics { figure_values, .. } => std::mem::take(figure_values),
             _ => Vec::new(),
         }
     }
 
     /// Puts back what [`Job::take_arrays`] took. A [`Job::MonteCarloStatistics`] also takes its
-    /// values in pieces: VT+ and VT− of the first trials, then of the next…, in trial order (the
-    /// arrays of a split run's parts, as [`JobOutput::take_arrays`] gave them).
+    /// values in pieces, the same number for every figure: its first figure's values of the first
+    /// trials, of the next…, in trial order, then its second figure's… (the arrays of a split
+    /// run's parts, as [`JobOutput::take_arrays`] gave them, in the order
+    /// `job_rounds::forwarded_arrays` lists them).
     pub fn put_arrays(&mut self, arrays: Vec<Vec<f64>>) -> Result<(), DesignError> {
         let mut it = arrays.into_iter();
         match self {
@@ -1251,14 +1253,17 @@ impl Job {
                 c.time_s = next_array(&mut it)?;
                 c.volts = next_array(&mut it)?;
             }
-            Job::MonteCarloStatistics { values, .. } => {
-                // One pair, or the parts' pairs in trial order (as the page forwards them).
-                values.vt_upper_v = next_array(&mut it)?;
-                values.vt_lower_v = next_array(&mut it)?;
-                while let Some(upper) = it.next() {
-                    values.vt_upper_v.extend_from_slice(&upper);
-                    values.vt_lower_v.extend_from_slice(&next_array(&mut it)?);
+            Job::MonteCarloStatistics { figure_values, figures, .. } => {
+                let pieces: Vec<Vec<f64>> = it.by_ref().collect();
+                let per_figure = pieces.len() / figures.len().max(1);
+                if figures.is_empty() || per_figure == 0 || pieces.len() % figures.len() != 0 {
+                    return Err(invalid(format!(
+                        "{} arrays of values for {} figures: send each figure's values in the same number of pieces",
+                        pieces.len(),
+                        figures.len()
+                    )));
                 }
+                *figure_values = pieces.chunks(per_figure).map(|c| c.concat()).collect();
             }
             _ => {}
         }
@@ -1288,13 +1293,17 @@ impl JobOutput {
     }
 
     /// Moves the large sample vectors out (Monte Carlo values, waveforms, capture samples), leaving
-    /// them empty; [`JobOutput::put_arrays`] puts them back in the same order.
+    /// them empty; [`JobOutput::put_arrays`] puts them back in the same order. A Monte Carlo part
+    /// gives one array per figure, in [`Figure::ALL`] order: its VT+ and VT−, and the hysteresis and
+    /// centre derived from them (`sample_statistics::figure_array`), so that a second round can send
+    /// each figure's values to one worker as they are, without copies (`crate::job_rounds`).
     pub fn take_arrays(&mut self) -> Vec<Vec<f64>> {
         let mut out = Vec::new();
         match self {
             JobOutput::MonteCarloPart(p) => {
-                out.push(std::mem::take(&mut p.vt_upper_v));
-                out.push(std::mem::take(&mut p.vt_lower_v));
+                let (upper, lower) = (std::mem::take(&mut p.vt_upper_v), std::mem::take(&mut p.vt_lower_v));
+                let [hysteresis, centre] = [Figure::Hysteresis, Figure::Centre].map(|f| figure_array(f, &upper, &lower));
+                out.extend([upper, lower, hysteresis, centre]);
             }
             JobOutput::Signal(v) => {
                 take_time(&mut v.time, &mut out);
@@ -1321,6 +1330,18 @@ impl JobOutput {
             JobOutput::MonteCarloPart(p) => {
                 p.vt_upper_v = next_array(&mut it)?;
                 p.vt_lower_v = next_array(&mut it)?;
+                // The derived figures are left out: the part keeps VT+ and VT− only.
+                for figure in [Figure::Hysteresis, Figure::Centre] {
+                    let derived = next_array(&mut it)?;
+                    if derived.len() != p.vt_upper_v.len() || p.vt_lower_v.len() != p.vt_upper_v.len() {
+                        return Err(invalid(format!(
+                            "a Monte Carlo part's arrays do not pair up: {} VT+, {} VT− and {} values of {figure:?}",
+                            p.vt_upper_v.len(),
+                            p.vt_lower_v.len(),
+                            derived.len()
+                        )));
+                    }
+                }
             }
             JobOutput::Signal(v) => {
                 put_time(&mut v.time, &mut it)?;

@@ -58,22 +58,52 @@ pub struct FiguresPart {
 /// Most histogram bins a statistics job accepts (the settings' own limit).
 const MAX_BINS: usize = 1000;
 
-/// Refuses statistics that cannot give a result: VT+ and VT− arrays of different lengths or
-/// fewer than two values, no figure, or bins outside 1…1000.
-pub fn check_statistics_inputs(upper: &[f64], lower: &[f64], figures: &[Figure], bins: usize) -> Result<(), DesignError> {
-    let n = upper.len();
-    let reason = if n != lower.len() {
-        Some(format!("the Monte Carlo values do not pair up: {n} VT+ against {} VT−", lower.len()))
+/// Refuses statistics that cannot give a result: no figure, a figure named twice, not one array
+/// of values per figure, arrays of different lengths or with fewer than two values, or bins
+/// outside 1…1000.
+pub fn check_statistics_inputs(figure_values: &[Vec<f64>], figures: &[Figure], bins: usize) -> Result<(), DesignError> {
+    let n = figure_values.first().map_or(0, Vec::len);
+    let twice = figures.iter().enumerate().any(|(i, f)| figures[..i].contains(f));
+    let reason = if figures.is_empty() {
+        Some("no figure to compute statistics for: name at least one".to_string())
+    } else if twice {
+        Some("a figure is named twice: name each figure once".to_string())
+    } else if figure_values.len() != figures.len() {
+        Some(format!("{} arrays of values for {} figures: send one per figure", figure_values.len(), figures.len()))
+    } else if let Some(v) = figure_values.iter().find(|v| v.len() != n) {
+        Some(format!("the figures' values do not pair up: {n} values against {}", v.len()))
     } else if n < 2 {
         Some(format!("statistics need at least two valid trials (got {n})"))
-    } else if figures.is_empty() {
-        Some("no figure to compute statistics for: name at least one".to_string())
     } else if bins == 0 || bins > MAX_BINS {
         Some(format!("histogram bins must be from 1 to {MAX_BINS} (got {bins})"))
     } else {
         None
     };
     reason.map_or(Ok(()), |reason| Err(DesignError::Parameter { reason }))
+}
+
+/// One trial's value of `figure` from its VT+ and VT−: the hysteresis VT+ − VT−, the centre
+/// (VT+ + VT−)/2. The one place these are computed, so that values derived on a worker and on the
+/// page are the same to the bit.
+#[inline(always)]
+pub fn figure_value(figure: Figure, upper_v: f64, lower_v: f64) -> f64 {
+    match figure {
+        Figure::VtUpper => upper_v,
+        Figure::VtLower => lower_v,
+        Figure::Hysteresis => upper_v - lower_v,
+        Figure::Centre => 0.5 * (upper_v + lower_v),
+    }
+}
+
+/// Every trial's value of `figure` (see [`figure_value`]), in trial order.
+pub fn figure_array(figure: Figure, upper: &[f64], lower: &[f64]) -> Vec<f64> {
+    upper.iter().zip(lower).map(|(&u, &l)| figure_value(figure, u, l)).collect()
+}
+
+/// The statistics of one figure's values, in trial order: what [`figure_statistics`] gives for
+/// that figure when `values` are its [`figure_array`].
+pub fn value_statistics(values: &[f64], bins: usize) -> SampleStatistics {
+    statistics(values, &mut [Vec::new(), Vec::new()], bins.max(1))
 }
 
 /// `t` truncated towards zero to an index, at most `last` (NaN and negative values give 0): what
@@ -103,14 +133,9 @@ pub fn figure_statistics(upper: &[f64], lower: &[f64], figures: &[Figure], bins:
             let values: &[f64] = match f {
                 Figure::VtUpper => upper,
                 Figure::VtLower => lower,
-                Figure::Hysteresis => {
+                derived_figure => {
                     derived.clear();
-                    derived.extend(upper.iter().zip(lower).map(|(u, l)| u - l));
-                    &derived
-                }
-                Figure::Centre => {
-                    derived.clear();
-                    derived.extend(upper.iter().zip(lower).map(|(u, l)| 0.5 * (u + l)));
+                    derived.extend(upper.iter().zip(lower).map(|(&u, &l)| figure_value(*derived_figure, u, l)));
                     &derived
                 }
             };
