@@ -19,7 +19,7 @@
 //! and in `tests/tests/jobs_split.rs`).
 
 use crate::error::DesignError;
-use crate::jobs::{Job, JobOutput};
+use crate::jobs::{merge_monte_carlo_parts, Job, JobOutput};
 pub use crate::tolerance::sample_statistics::FiguresPart;
 use crate::tolerance::monte_carlo::{MonteCarloRun, SampleStatistics};
 use crate::tolerance::sample_statistics::figure_array;
@@ -54,19 +54,10 @@ pub fn gather_monte_carlo(job: &Job, outputs: Vec<JobOutput>, workers: usize) ->
     let Job::MonteCarlo { circuit, settings, trials: None } = job else {
         return Err(invalid("only a whole Monte Carlo run is gathered in two rounds"));
     };
-    let mut it = outputs.into_iter();
-    let mut acc = match it.next() {
-        Some(JobOutput::MonteCarloPart(p)) => p,
-        Some(whole @ JobOutput::MonteCarlo(_)) => return Ok(Gathered::Done(whole)),
-        Some(_) => return Err(other_output()),
-        None => return Err(invalid("no part outputs to merge: run the parts first")),
+    let mut acc = match merge_monte_carlo_parts(outputs)? {
+        Ok(acc) => acc,
+        Err(whole) => return Ok(Gathered::Done(whole)),
     };
-    for o in it {
-        match o {
-            JobOutput::MonteCarloPart(p) => acc.merge(p)?,
-            _ => return Err(other_output()),
-        }
-    }
     let run = MonteCarloRun::new(circuit, settings)?;
     run.check_complete(&acc)?;
     let w = workers.clamp(1, Figure::ALL.len());

@@ -1106,23 +1106,34 @@ pub fn merge_single(_job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, De
     first_output(outputs).map(|(first, _)| first)
 }
 
+/// A Monte Carlo job's part outputs merged in order (`Ok`), or its one whole output when the job
+/// was not split (`Err`, not an error); another job's output is an error.
+pub(crate) fn merge_monte_carlo_parts(outputs: Vec<JobOutput>) -> Result<Result<MonteCarloPartial, JobOutput>, DesignError> {
+    let other = || invalid("a Monte Carlo job got another job's output");
+    let (first, it) = first_output(outputs)?;
+    let mut acc = match first {
+        JobOutput::MonteCarloPart(p) => p,
+        whole @ JobOutput::MonteCarlo(_) => return Ok(Err(whole)),
+        _ => return Err(other()),
+    };
+    for o in it {
+        match o {
+            JobOutput::MonteCarloPart(p) => acc.merge(p)?,
+            _ => return Err(other()),
+        }
+    }
+    Ok(Ok(acc))
+}
+
 /// [`merge`] for a Monte Carlo job: the parts' trials in order, then the statistics once.
 pub fn merge_monte_carlo(job: &Job, outputs: Vec<JobOutput>) -> Result<JobOutput, DesignError> {
     let Job::MonteCarlo { circuit, settings, trials: None } = job else {
         return merge_single(job, outputs);
     };
-    let (first, it) = first_output(outputs)?;
-    let mut acc = match first {
-        JobOutput::MonteCarloPart(p) => p,
-        whole @ JobOutput::MonteCarlo(_) => return Ok(whole),
-        _ => return Err(invalid("a Monte Carlo job got another job's output")),
+    let acc = match merge_monte_carlo_parts(outputs)? {
+        Ok(acc) => acc,
+        Err(whole) => return Ok(whole),
     };
-    for o in it {
-        match o {
-            JobOutput::MonteCarloPart(p) => acc.merge(p)?,
-            _ => return Err(invalid("a Monte Carlo job got another job's output")),
-        }
-    }
     let run = MonteCarloRun::new(circuit, settings)?;
     Ok(JobOutput::MonteCarlo(run.finish(&acc)?))
 }
