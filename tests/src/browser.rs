@@ -284,6 +284,23 @@ impl Session {
         self.wait_for("#design").await;
     }
 
+    /// Makes a kept study result look as if it was stored before results named their normal
+    /// sampler: deletes `normal_sampler` from `studies.<study>.result` of the design stored under
+    /// the key `key_js` (a JavaScript expression), reloads, and returns the note the page then
+    /// shows in `note_css`. Panics when the stored result does not name its sampler.
+    pub async fn forget_sampler_and_reload(&self, key_js: &str, study: &str, note_css: &str) -> String {
+        let stripped = self
+            .js(&format!(
+                "const k = {key_js}; const e = JSON.parse(localStorage.getItem(k)); \
+                 const st = e.studies && e.studies['{study}']; if (!st || st.result.normal_sampler === undefined) return false; \
+                 delete st.result.normal_sampler; localStorage.setItem(k, JSON.stringify(e)); return true;"
+            ))
+            .await;
+        assert_eq!(stripped.as_bool(), Some(true), "the kept {study} result does not name its sampler in storage");
+        self.reload().await;
+        self.wait_text(note_css, "the note on a result drawn by an earlier method", |t| !t.is_empty()).await
+    }
+
     /// Ends the browser session.
     pub async fn close(self) {
         self.client.close().await.ok();

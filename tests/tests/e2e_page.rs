@@ -85,14 +85,9 @@ async fn signal_test_result_survives_a_reload_and_goes_out_of_date_only_with_its
 
     // A report kept before reports named their normal sampler (stored without the field) stays
     // shown and current, with a note that a re-run with its seed draws other noise.
-    let stripped = s
-        .js("const li = document.querySelector('#design-list li.open'); const k = 'hysteron/design/' + li.dataset.id; \
-             const e = JSON.parse(localStorage.getItem(k)); if (e.studies.signal.result.normal_sampler === undefined) return false; \
-             delete e.studies.signal.result.normal_sampler; localStorage.setItem(k, JSON.stringify(e)); return true;")
+    let note = s
+        .forget_sampler_and_reload("'hysteron/design/' + document.querySelector('#design-list li.open').dataset.id", "signal", "#signal-sampler")
         .await;
-    assert_eq!(stripped.as_bool(), Some(true), "the kept signal report does not name its sampler in storage");
-    s.reload().await;
-    let note = s.wait_text("#signal-sampler", "the note on noise drawn by an earlier method", |t| !t.is_empty()).await;
     assert!(note.contains("earlier version") && note.contains("same seed"), "{note}");
     assert_eq!(s.text("#signal-results").await, table, "the older report is not shown as it was kept");
     assert_eq!(s.js("return !!document.querySelector('#signal-stale')").await.as_bool(), Some(false));

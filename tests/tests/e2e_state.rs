@@ -103,16 +103,7 @@ async fn monte_carlo_survives_a_signal_edit_and_a_reload_and_says_when_it_is_out
 
     // A result kept before results named their normal sampler (stored without the field) stays
     // shown and current, with a note that a re-run with its seed draws other boards.
-    let stripped = s
-        .js(&format!(
-            "const k = 'hysteron/design/{id}'; const e = JSON.parse(localStorage.getItem(k)); \
-             const mc = e.studies && e.studies.monte_carlo; if (!mc || mc.result.normal_sampler === undefined) return false; \
-             delete mc.result.normal_sampler; localStorage.setItem(k, JSON.stringify(e)); return true;"
-        ))
-        .await;
-    assert_eq!(stripped.as_bool(), Some(true), "the kept Monte Carlo result does not name its sampler in storage");
-    s.reload().await;
-    let note = s.wait_text("#mc-sampler", "the note on a result drawn by an earlier method", |t| !t.is_empty()).await;
+    let note = s.forget_sampler_and_reload(&format!("'hysteron/design/{id}'"), "monte_carlo", "#mc-sampler").await;
     assert!(note.contains("earlier version") && note.contains("same seed"), "{note}");
     assert_eq!(s.text("#mc-summary").await, summary, "the older result is not shown as it was kept");
     assert_eq!(s.js("return !!document.querySelector('#mc-stale')").await.as_bool(), Some(false));
