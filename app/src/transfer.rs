@@ -29,12 +29,24 @@ trait Sliced: 'static {
 }
 
 /// Runs the first slice in the calling task and each further one on a later task of its own,
-/// then hands the result to `done`.
+/// then hands the result to `done`: in the calling task when one slice was all, else on a task of
+/// its own after the last slice, so that what `done` does with a large result (reading it,
+/// drawing it) never adds to a slice's task.
 fn run_sliced<S: Sliced>(mut copy: S, done: Box<dyn FnOnce(S::Out)>) {
     if copy.step() {
         done(copy.into_out());
     } else {
-        crate::tick::later(move || run_sliced(copy, done));
+        crate::tick::later(move || run_further_slices(copy, done));
+    }
+}
+
+/// The second and later slices of [`run_sliced`], each on a task of its own, and `done` on the
+/// task after the last.
+fn run_further_slices<S: Sliced>(mut copy: S, done: Box<dyn FnOnce(S::Out)>) {
+    if copy.step() {
+        crate::tick::later(move || done(copy.into_out()));
+    } else {
+        crate::tick::later(move || run_further_slices(copy, done));
     }
 }
 

@@ -824,7 +824,8 @@ impl SignalState {
         if self.run.is_none() {
             let mut s = self.settings.clone();
             s.sweep = None;
-            let run = crate::signal::output_edges::run_signal_chain(&s, &self.design, self.capture.as_ref(), self.front.as_ref(), self.output.as_deref())?;
+            // The outputs are rendered at the end, already reduced for display (`finish`).
+            let run = crate::signal::display::run_unrendered(&s, &self.design, self.capture.as_ref(), self.front.as_ref())?;
             if let (Some(sw), Some(_)) = (&self.settings.sweep, &run.clean_v) {
                 let runner = SweepRunner::new(&self.context(&run)?, sw, run.signal_v.len())?;
                 if self.front.is_some() {
@@ -877,10 +878,8 @@ impl SignalState {
         if let Some((sw, _)) = self.sweep {
             run.report.sweep = Some(finish_sweep(&sw, self.points));
         }
-        Ok(JobOutput::Signal(Box::new(reduce_for_display(
-            run,
-            self.display_points,
-        ))))
+        let run = crate::signal::display::for_display(run, &self.settings, &self.design, self.output.as_deref(), self.display_points)?;
+        Ok(JobOutput::Signal(Box::new(run)))
     }
 }
 
@@ -890,64 +889,16 @@ impl SignalState {
 /// maximum in the order they occur — so a min/max plot of the reduced waveform equals that of the
 /// full one at bucket resolution. A run of at most `max_points` samples is kept as it is.
 pub fn reduce_for_display(run: SignalRun, max_points: usize) -> SignalRun {
+    use crate::signal::display::{display_bucket, reduce_samples, reduced_times};
     let n = run.signal_v.len();
-    let max_points = max_points.max(2);
-    if n <= max_points {
-        return SignalRun {
-            time: run.time,
-            clean_v: run.clean_v,
-            signal_v: run.signal_v,
-            design_output_v: run.design_output_v,
-            baseline_output_v: run.baseline_output_v,
-            design_edges: run.design_edges,
-            baseline_edges: run.baseline_edges,
-            intended_edges: run.intended_edges,
-            intended_baseline_edges: run.intended_baseline_edges,
-            report: run.report,
-        };
-    }
-    let bucket = (2 * n).div_ceil(max_points).max(2);
-    let times = run.time.view();
-    let mut time_s = Vec::with_capacity(2 * n.div_ceil(bucket));
-    let mut start = 0;
-    while start < n {
-        let end = (start + bucket).min(n);
-        time_s.push(times.at(start));
-        if end - start > 1 {
-            time_s.push(times.at(end - 1));
-        }
-        start = end;
-    }
-    let reduce = |v: &[f64]| -> Vec<f64> {
-        let mut out = Vec::with_capacity(time_s.len());
-        for chunk in v.chunks(bucket) {
-            let (mut lo, mut hi) = ((0, chunk[0]), (0, chunk[0]));
-            for (i, &x) in chunk.iter().enumerate() {
-                if x < lo.1 {
-                    lo = (i, x);
-                }
-                if x > hi.1 {
-                    hi = (i, x);
-                }
-            }
-            if chunk.len() > 1 {
-                if lo.0 <= hi.0 {
-                    out.extend([lo.1, hi.1]);
-                } else {
-                    out.extend([hi.1, lo.1]);
-                }
-            } else {
-                out.push(chunk[0]);
-            }
-        }
-        out
-    };
+    let Some(bucket) = display_bucket(n, max_points) else { return run };
+    let reduce = |v: &[f64]| reduce_samples(v, bucket);
     SignalRun {
         clean_v: run.clean_v.as_deref().map(reduce),
         signal_v: reduce(&run.signal_v),
         design_output_v: reduce(&run.design_output_v),
         baseline_output_v: reduce(&run.baseline_output_v),
-        time: TimeBase::Samples { times_s: time_s },
+        time: TimeBase::Samples { times_s: reduced_times(run.time.view(), n, bucket) },
         design_edges: run.design_edges,
         baseline_edges: run.baseline_edges,
         intended_edges: run.intended_edges,
@@ -1267,7 +1218,7 @@ impl Job {
             Job::MonteCarloStatistics { figure_values, figures, .. } => {
                 let pieces: Vec<Vec<f64>> = it.by_ref().collect();
                 let per_figure = pieces.len() / figures.len().max(1);
-                if figures.is_empty() || per_figure == 0 || pieces.len() % figures.len() != 0 {
+                if figures.is_empty() || per_figure == 0 || !pieces.len().is_multiple_of(figures.len()) {
                     return Err(invalid(format!(
                         "{} arrays of values for {} figures: send each figure's values in the same number of pieces",
                         pieces.len(),

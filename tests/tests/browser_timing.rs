@@ -220,6 +220,8 @@ async fn timed_runs_in_the_browser() {
     })
     .await;
     let ten_m_ms: f64 = s.wait_for("#signal-time").await.attr("data-ms").await.unwrap().unwrap_or_default().parse().unwrap_or(f64::NAN);
+    let ten_m_timeline = s.js("return document.documentElement.dataset.jobTimeline || null;").await;
+    println!("browser timing: the 10M-sample signal test's job timeline (ms): {ten_m_timeline}");
     // Let the result's drawing run before reading the observer.
     s.js("return new Promise(r => requestAnimationFrame(() => setTimeout(() => r(0), 200)));").await;
     let long: Vec<f64> = serde_json::from_value(s.js("return window.__long;").await).unwrap_or_default();

@@ -255,16 +255,21 @@ pub fn SignalSection() -> impl IntoView {
                     Ok(_) => Err("the worker returned another study's result".to_string()),
                     Err(e) => Err(e),
                 };
-                if let Ok(r) = &result {
+                let r = match result {
+                    Ok(r) => r,
+                    Err(e) => return run.set(Some(Err(e))),
+                };
+                let elapsed_ms = crate::tick::now_ms() - t0;
+                // The report (not the samples) is kept with the design the run started on, and
+                // shown; the waveforms are drawn on a task of their own, so that storing,
+                // showing and drawing a large run never make one long task.
+                let report = r.report.clone();
+                nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result: crate::unread::Unread::new(report), elapsed_ms }));
+                crate::tick::later(move || {
                     let n = r.signal_v.len();
-                    let (a, b) = (r.time.view().at(0), r.time.view().at(n.saturating_sub(1)));
-                    view_window.set((a, b));
-                    let elapsed_ms = crate::tick::now_ms() - t0;
-                    // The report (not the samples) is kept with the design the run started on.
-                    let result = r.report.clone();
-                    nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result: crate::unread::Unread::new(result), elapsed_ms }));
-                }
-                run.set(Some(result));
+                    view_window.set((r.time.view().at(0), r.time.view().at(n.saturating_sub(1))));
+                    run.set(Some(Ok(r)));
+                });
             },
         );
         if !handle.is_finished() {
@@ -281,27 +286,16 @@ pub fn SignalSection() -> impl IntoView {
         edit("", Box::new(|s| if s.sweep.is_none() { s.sweep = Some(SweepSettings::default()) }));
         simulate();
     };
-    // Import: read the file as text, then parse it slice by slice with a progress bar.
+    // Import: the file goes to a compute worker, which reads it, with a progress bar.
     let on_file = move |ev: leptos::ev::Event| {
         let Some(input) = ev.target().and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok()) else { return };
         let Some(file) = input.files().and_then(|f| f.get(0)) else { return };
         let name = file.name();
-        let Ok(reader) = web_sys::FileReader::new() else { return };
         import_status.set(None);
         import_progress.set(Some(0.0));
-        let r2 = reader.clone();
-        let onload = wasm_bindgen::closure::Closure::once_into_js(move || {
-            // The text stays the browser's string: it goes to the worker without entering the page's memory.
-            let text = r2.result().ok().and_then(|v| v.dyn_into::<js_sys::JsString>().ok()).unwrap_or_else(|| js_sys::JsString::from(""));
-            import_generation.update(|g| *g += 1);
-            let ticket = (import_generation, import_generation.get_untracked());
-            parse_slices(text, name, capture, import_status, import_progress, nb, ticket);
-        });
-        reader.set_onload(Some(onload.unchecked_ref()));
-        if reader.read_as_text(&file).is_err() {
-            import_status.set(Some(Err("the browser could not read that file".into())));
-            import_progress.set(None);
-        }
+        import_generation.update(|g| *g += 1);
+        let ticket = (import_generation, import_generation.get_untracked());
+        parse_slices(file.into(), name, capture, import_status, import_progress, nb, ticket);
     };
     let canvas: NodeRef<Canvas> = NodeRef::new();
     let hover = RwSignal::new(String::new());
@@ -505,10 +499,10 @@ fn cancel_import() {
     }
 }
 
-/// Reads imported text on a compute worker (`crate::jobs`, `Job::CsvImport`; on the page in slices
-/// where workers are refused), reporting progress.
+/// Reads an imported file on a compute worker (`crate::jobs`, `Job::CsvImport`; on the page in
+/// slices where workers are refused), reporting progress.
 fn parse_slices(
-    text: js_sys::JsString,
+    file: web_sys::Blob,
     name: String,
     capture: RwSignal<Option<std::sync::Arc<Capture>>>,
     status: RwSignal<Option<Result<String, String>>>,
@@ -519,7 +513,7 @@ fn parse_slices(
     cancel_import();
     let current = move || ticket.0.get_untracked() == ticket.1;
     let handle = crate::jobs::start_import(
-        text,
+        file,
         CsvOptions::default(),
         move |st| {
             if current() {

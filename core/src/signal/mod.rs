@@ -77,6 +77,7 @@ pub mod ode;
 pub mod oscillator;
 pub mod plot;
 pub mod report;
+pub mod display;
 pub mod output_edges;
 pub mod rice;
 pub mod sweep;

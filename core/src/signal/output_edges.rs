@@ -68,32 +68,71 @@ pub fn render_loaded_output(
     edges: &[Edge],
     out: &mut [f64],
 ) {
-    let (high, low) = (report.load.output_high_v, report.load.output_low_v);
-    let level = |h: bool| if h { high } else { low };
-    let law = |e: &crate::output_dynamics::EdgeTiming| Law {
-        rate_v_per_s: if e.ramp_s > 0.0 { e.swing_v / e.ramp_s } else { f64::INFINITY },
-        tau_s: e.tau_s,
-    };
-    let (rise, fall) = (law(&report.rise), law(&report.fall));
-    let start = level(initial_output_high);
-    let mut s = State { u: start, v: start, target: start, law: rise };
-    let mut k = 0;
-    let mut t_prev = times.at(0);
-    for (i, o) in out.iter_mut().enumerate() {
-        let t = times.at(i);
-        while k < edges.len() && edges[k].start_s <= t {
-            let e = &edges[k];
-            let at = e.start_s.max(t_prev);
-            s.advance(at - t_prev);
-            t_prev = at;
-            let rising = e.direction == EdgeDirection::Rising;
-            s.target = level(rising);
-            s.law = if rising { rise } else { fall };
-            k += 1;
+    LoadedOutputRenderer::new(report, times, initial_output_high, edges).fill(times, out);
+}
+
+/// [`render_loaded_output`] a stretch of samples at a time: each [`LoadedOutputRenderer::fill`]
+/// writes the samples that follow the last one written (the same values as one call, whatever
+/// the split), so the waveform can be reduced for display as it is made.
+pub struct LoadedOutputRenderer<'a> {
+    high_v: f64,
+    low_v: f64,
+    rise: Law,
+    fall: Law,
+    edges: &'a [Edge],
+    state: State,
+    /// Index of the next sample to write.
+    next: usize,
+    /// Next edge not yet started.
+    k: usize,
+    /// Time the state stands at.
+    t_prev: f64,
+}
+
+impl<'a> LoadedOutputRenderer<'a> {
+    /// A renderer that starts at sample 0 of `times`, source and load at the initial level.
+    pub fn new(report: &OutputDynamicsReport, times: Times<'_>, initial_output_high: bool, edges: &'a [Edge]) -> Self {
+        let (high_v, low_v) = (report.load.output_high_v, report.load.output_low_v);
+        let law = |e: &crate::output_dynamics::EdgeTiming| Law {
+            rate_v_per_s: if e.ramp_s > 0.0 { e.swing_v / e.ramp_s } else { f64::INFINITY },
+            tau_s: e.tau_s,
+        };
+        let (rise, fall) = (law(&report.rise), law(&report.fall));
+        let start = if initial_output_high { high_v } else { low_v };
+        LoadedOutputRenderer {
+            high_v,
+            low_v,
+            rise,
+            fall,
+            edges,
+            state: State { u: start, v: start, target: start, law: rise },
+            next: 0,
+            k: 0,
+            t_prev: times.at(0),
         }
-        s.advance(t - t_prev);
-        t_prev = t;
-        *o = s.v;
+    }
+
+    /// Writes the next `out.len()` samples of the waveform (their times from `times`).
+    pub fn fill(&mut self, times: Times<'_>, out: &mut [f64]) {
+        let first = self.next;
+        let s = &mut self.state;
+        for (i, o) in out.iter_mut().enumerate() {
+            let t = times.at(first + i);
+            while self.k < self.edges.len() && self.edges[self.k].start_s <= t {
+                let e = &self.edges[self.k];
+                let at = e.start_s.max(self.t_prev);
+                s.advance(at - self.t_prev);
+                self.t_prev = at;
+                let rising = e.direction == EdgeDirection::Rising;
+                s.target = if rising { self.high_v } else { self.low_v };
+                s.law = if rising { self.rise } else { self.fall };
+                self.k += 1;
+            }
+            s.advance(t - self.t_prev);
+            self.t_prev = t;
+            *o = s.v;
+        }
+        self.next = first + out.len();
     }
 }
 

@@ -332,7 +332,32 @@ fn interference_terms(noise: &[NoiseSource]) -> Vec<rice::Sinusoid> {
 /// used (no intended edges, noise figures, Rice check or sweep: a capture has no noise-free
 /// version); otherwise the signal is generated from the settings.
 pub fn run_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalRun, DesignError> {
-    run_inner(settings, design, capture, true, None)
+    run_inner(settings, design, capture, Waveforms::All, None)
+}
+
+/// Which waveforms a signal run returns besides its report.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Waveforms {
+    /// None: the report only (the edges are left out too).
+    ReportOnly,
+    /// The input waveforms (noise-free and as seen) and the edges; the two outputs are left
+    /// empty, to be rendered from the edges where they are needed
+    /// ([`super::display::for_display`] renders them already reduced, without holding them whole).
+    InputsAndEdges,
+    /// Everything, the outputs rendered at every sample.
+    All,
+}
+
+/// [`run_signal`] with the input network's front end when one is given (as
+/// [`run_signal_through`]), returning the waveforms `waveforms` asks for.
+pub fn run_signal_waveforms(
+    settings: &SignalSettings,
+    design: &TriggerDesign,
+    capture: Option<&Capture>,
+    front: Option<&crate::input_network::noise::FrontEnd>,
+    waveforms: Waveforms,
+) -> Result<SignalRun, DesignError> {
+    run_inner(settings, design, capture, waveforms, front)
 }
 
 /// [`run_signal`] / [`evaluate_signal`] with the input network's front end (clamp and RC filter,
@@ -346,21 +371,22 @@ pub fn run_signal_through(
     front: &crate::input_network::noise::FrontEnd,
     keep: bool,
 ) -> Result<SignalRun, DesignError> {
-    run_inner(settings, design, capture, keep, Some(front))
+    run_inner(settings, design, capture, if keep { Waveforms::All } else { Waveforms::ReportOnly }, Some(front))
 }
 
 /// The signal study's summary, without keeping the waveforms.
 pub fn evaluate_signal(settings: &SignalSettings, design: &TriggerDesign, capture: Option<&Capture>) -> Result<SignalReport, DesignError> {
-    run_inner(settings, design, capture, false, None).map(|r| r.report)
+    run_inner(settings, design, capture, Waveforms::ReportOnly, None).map(|r| r.report)
 }
 
 fn run_inner(
     settings: &SignalSettings,
     design: &TriggerDesign,
     capture: Option<&Capture>,
-    keep: bool,
+    waveforms: Waveforms,
     front: Option<&crate::input_network::noise::FrontEnd>,
 ) -> Result<SignalRun, DesignError> {
+    let keep = waveforms != Waveforms::ReportOnly;
     design.validate()?;
     let timing = TimingModel::new(&settings.timing)?;
     let study = &settings.study;
@@ -593,7 +619,7 @@ fn run_inner(
         normal_sampler: crate::rng::NORMAL_SAMPLER,
     };
     let (mut design_output_v, mut baseline_output_v) = (Vec::new(), Vec::new());
-    if keep {
+    if waveforms == Waveforms::All {
         design_output_v = vec![0.0; n];
         baseline_output_v = vec![0.0; n];
         render_output(design, &timing, times, design_out.initial_output_high, &design_edges, &mut design_output_v);

@@ -321,14 +321,56 @@ pub fn render_output(
     edges: &[Edge],
     out: &mut [f64],
 ) {
-    let (voh, vol) = (design.output_high_v, design.output_low_v);
-    let swing = (voh - vol).abs();
-    let level = |high: bool| if high { voh } else { vol };
-    let mut seg_t0 = f64::NEG_INFINITY;
-    let mut seg_v0 = level(initial_output_high);
-    let mut target = seg_v0;
-    let mut shape = TransitionShape::Linear { duration_s: 0.0 };
-    let value = |t: f64, t0: f64, v0: f64, target: f64, shape: TransitionShape| -> f64 {
+    OutputRenderer::new(design, timing, initial_output_high, edges).fill(times, out);
+}
+
+/// [`render_output`] a stretch of samples at a time: each [`OutputRenderer::fill`] writes the
+/// samples that follow the last one written, so a waveform can be reduced for display as it is
+/// made, without holding all of it. Any split into stretches gives the same values as one call.
+#[derive(Debug, Clone)]
+pub struct OutputRenderer<'a> {
+    high_v: f64,
+    low_v: f64,
+    swing_v: f64,
+    rise: TransitionShape,
+    fall: TransitionShape,
+    edges: &'a [Edge],
+    /// Index of the next sample to write.
+    next: usize,
+    /// Next edge not yet started.
+    k: usize,
+    seg_t0: f64,
+    seg_v0: f64,
+    target: f64,
+    shape: TransitionShape,
+    /// Whether the present transition has reached its target.
+    settled: bool,
+}
+
+impl<'a> OutputRenderer<'a> {
+    /// A renderer that starts at sample 0, the output at its initial level.
+    pub fn new(design: &TriggerDesign, timing: &TimingModel, initial_output_high: bool, edges: &'a [Edge]) -> Self {
+        let (high_v, low_v) = (design.output_high_v, design.output_low_v);
+        let start = if initial_output_high { high_v } else { low_v };
+        OutputRenderer {
+            high_v,
+            low_v,
+            swing_v: (high_v - low_v).abs(),
+            rise: timing.rise,
+            fall: timing.fall,
+            edges,
+            next: 0,
+            k: 0,
+            seg_t0: f64::NEG_INFINITY,
+            seg_v0: start,
+            target: start,
+            shape: TransitionShape::Linear { duration_s: 0.0 },
+            settled: true,
+        }
+    }
+
+    /// The output at time `t` of the transition from `v0` (at `t0`) toward `target`.
+    fn value(&self, t: f64, t0: f64, v0: f64, target: f64, shape: TransitionShape) -> f64 {
         if v0 == target {
             return target;
         }
@@ -337,7 +379,7 @@ pub fn render_output(
                 if duration_s <= 0.0 {
                     return target;
                 }
-                let step = swing / duration_s * (t - t0);
+                let step = self.swing_v / duration_s * (t - t0);
                 if target > v0 {
                     (v0 + step).min(target)
                 } else {
@@ -353,31 +395,35 @@ pub fn render_output(
                 }
             }
         }
-    };
-    let mut k = 0;
-    // Once a transition has reached its target it stays there until the next edge: both shapes
-    // approach the target monotonically and rounding is monotone, so the settled samples are the
-    // target exactly, without evaluating the shape.
-    let mut settled = true;
-    for (i, o) in out.iter_mut().enumerate() {
-        let t = times.at(i);
-        while k < edges.len() && edges[k].start_s <= t {
-            let e = &edges[k];
-            seg_v0 = value(e.start_s, seg_t0, seg_v0, target, shape);
-            seg_t0 = e.start_s;
-            let high = e.direction == EdgeDirection::Rising;
-            target = level(high);
-            shape = if high { timing.rise } else { timing.fall };
-            settled = false;
-            k += 1;
+    }
+
+    /// Writes the next `out.len()` samples of the waveform (their times from `times`).
+    pub fn fill(&mut self, times: Times<'_>, out: &mut [f64]) {
+        let first = self.next;
+        for (i, o) in out.iter_mut().enumerate() {
+            let t = times.at(first + i);
+            while self.k < self.edges.len() && self.edges[self.k].start_s <= t {
+                let e = self.edges[self.k];
+                self.seg_v0 = self.value(e.start_s, self.seg_t0, self.seg_v0, self.target, self.shape);
+                self.seg_t0 = e.start_s;
+                let high = e.direction == EdgeDirection::Rising;
+                self.target = if high { self.high_v } else { self.low_v };
+                self.shape = if high { self.rise } else { self.fall };
+                self.settled = false;
+                self.k += 1;
+            }
+            // Once a transition has reached its target it stays there until the next edge: both
+            // shapes approach the target monotonically and rounding is monotone, so the settled
+            // samples are the target exactly, without evaluating the shape.
+            *o = if self.settled {
+                self.target
+            } else {
+                let v = self.value(t, self.seg_t0, self.seg_v0, self.target, self.shape);
+                self.settled = v == self.target;
+                v
+            };
         }
-        *o = if settled {
-            target
-        } else {
-            let v = value(t, seg_t0, seg_v0, target, shape);
-            settled = v == target;
-            v
-        };
+        self.next = first + out.len();
     }
 }
 
