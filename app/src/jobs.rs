@@ -260,8 +260,8 @@ struct Shared {
     note: Option<&'static str>,
     on_progress: Rc<dyn Fn(JobStatus)>,
     on_done: Option<Box<dyn FnOnce(Result<JobOutput, String>)>>,
-    /// A CSV import's file text, kept as the browser's string (see [`start_import`]).
-    text: Option<js_sys::JsString>,
+    /// A CSV import's file, as the browser holds it (see [`start_import`]).
+    file: Option<web_sys::Blob>,
 }
 
 impl Shared {
@@ -531,13 +531,13 @@ fn send_with(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, forward: 
     });
     w.set_onerror(Some(on_error.unchecked_ref()));
     let arrays = job.take_arrays();
-    // A CSV file's text travels as a string of its own (the browser copies it natively), not
-    // escaped inside the job's JSON on the page's thread; an imported file's text never enters the
-    // page's WebAssembly memory at all (see [`start_import`]).
-    let csv_text: Option<JsValue> = match &mut job {
-        Job::CsvImport { text, .. } => match shared.borrow().text.clone() {
-            Some(t) => Some(t.into()),
-            None => Some(JsValue::from_str(&std::mem::take(text))),
+    // An imported file goes to the worker as the browser's file (a handle: its text is read and
+    // decoded on the worker, see [`start_import`]); a text the job already holds travels as a
+    // string of its own, not escaped inside the job's JSON on the page's thread.
+    let csv_text: Option<(&str, JsValue)> = match &mut job {
+        Job::CsvImport { text, .. } => match shared.borrow().file.clone() {
+            Some(f) => Some(("file", f.into())),
+            None => Some(("text", JsValue::from_str(&std::mem::take(text)))),
         },
         _ => None,
     };
@@ -565,8 +565,8 @@ fn send_with(shared: &Rc<RefCell<Shared>>, index: usize, mut job: Job, forward: 
     let _ = js_sys::Reflect::set(&msg, &"job".into(), &text.into());
     let _ = js_sys::Reflect::set(&msg, &"arrays".into(), &list);
     let _ = js_sys::Reflect::set(&msg, &"slice_ms".into(), &WORKER_SLICE_MS.into());
-    if let Some(t) = csv_text {
-        let _ = js_sys::Reflect::set(&msg, &"text".into(), &t);
+    if let Some((key, t)) = csv_text {
+        let _ = js_sys::Reflect::set(&msg, &key.into(), &t);
     }
     {
         let mut s = shared.borrow_mut();
@@ -627,25 +627,28 @@ pub fn start(
     start_with(job, answers, None, Box::new(on_progress), Box::new(on_done))
 }
 
-/// Starts reading an imported file (`Job::CsvImport` with `options`) whose text is the browser's
-/// string `text`, as [`start`] does. The text goes to the worker as it is: copying a 40 MB file into
-/// the page's memory and back out took about 160 ms on the page's thread in one task (a CPU
-/// profile of a 1 M-row import). Where workers are refused it is copied in slices
-/// ([`crate::transfer::text_in_slices`]) before the job runs on the page.
+/// Starts reading an imported file (`Job::CsvImport` with `options`), the browser's `file`, as
+/// [`start`] does. The file goes to the worker as it is (a handle), which reads and decodes its
+/// text there: copying a 40 MB file's text into the page's memory and back out took about 160 ms
+/// on the page's thread in one task, and even handing the browser's string to the worker (a copy
+/// the browser makes on the page's thread) left 52–58 ms tasks in half the 1 M-row imports (CPU
+/// profiles; the reading itself left none). Where workers are refused the page reads the file
+/// (`Blob.text()`) and copies the text in slices ([`crate::transfer::text_in_slices`]) before the
+/// job runs on the page.
 pub fn start_import(
-    text: js_sys::JsString,
+    file: web_sys::Blob,
     options: hysteron_core::signal::csv::CsvOptions,
     on_progress: impl Fn(JobStatus) + 'static,
     on_done: impl FnOnce(Result<JobOutput, String>) + 'static,
 ) -> JobHandle {
     let job = Job::CsvImport { text: String::new(), options };
-    start_with(job, Answers::CAPTURE, Some(text), Box::new(on_progress), Box::new(on_done))
+    start_with(job, Answers::CAPTURE, Some(file), Box::new(on_progress), Box::new(on_done))
 }
 
 fn start_with(
     job: Job,
     answers: Answers,
-    text: Option<js_sys::JsString>,
+    file: Option<web_sys::Blob>,
     on_progress: Box<dyn Fn(JobStatus)>,
     on_done: Box<dyn FnOnce(Result<JobOutput, String>)>,
 ) -> JobHandle {
@@ -670,7 +673,7 @@ fn start_with(
         note: None,
         on_progress: Rc::from(on_progress),
         on_done: Some(on_done),
-        text,
+        file,
     }));
     let handle = JobHandle { shared: shared.clone() };
     if refused {
@@ -716,15 +719,21 @@ fn run_on_page(shared: &Rc<RefCell<Shared>>) {
         w.set_onerror(None);
         w.terminate();
     }
-    // An imported file's text is still the browser's string: copy it in first, a slice per task.
-    let text = shared.borrow_mut().text.take();
-    match (job, text) {
-        (Job::CsvImport { options, .. }, Some(text)) => {
+    // An imported file is still the browser's: read it, then copy its text in, a slice per task.
+    let file = shared.borrow_mut().file.take();
+    match (job, file) {
+        (Job::CsvImport { options, .. }, Some(file)) => {
             let sh = shared.clone();
-            crate::transfer::text_in_slices(&text, move |text| {
-                if !sh.borrow().finished {
-                    run_job_on_page(&sh, Job::CsvImport { text, options });
-                }
+            wasm_bindgen_futures::spawn_local(async move {
+                let text = match wasm_bindgen_futures::JsFuture::from(file.text()).await.map(|v| v.dyn_into::<js_sys::JsString>()) {
+                    Ok(Ok(t)) => t,
+                    _ => return finish(&sh, Err("the browser could not read that file".into())),
+                };
+                crate::transfer::text_in_slices(&text, move |text| {
+                    if !sh.borrow().finished {
+                        run_job_on_page(&sh, Job::CsvImport { text, options });
+                    }
+                });
             });
         }
         (job, _) => run_job_on_page(shared, job),

@@ -126,5 +126,16 @@ async fn single_file_runs_studies_on_blob_workers_or_says_it_runs_them_on_the_pa
     s.wait_for("#mc-run").await.click().await.unwrap();
     let summary = s.text("#mc-summary").await;
     assert!(summary.starts_with("2000 trials"), "{summary}");
+
+    // A capture chosen from disk is read where the studies run (the worker reads the file itself;
+    // the page reads it where workers are refused).
+    let dir = std::env::temp_dir().join(format!("hysteron-single-csv-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp folder");
+    let csv = dir.join("capture.csv");
+    std::fs::write(&csv, hysteron_tests::captures::sine_capture_csv("time_s;volts", 5000, 1e-4)).expect("write the capture");
+    s.wait_for("#csv-file").await.send_keys(csv.to_str().unwrap_or_default()).await.expect("choose the capture");
+    let status = s.text("#csv-status").await;
+    assert!(status.contains("5000 samples"), "import status: {status}");
+    let _ = std::fs::remove_dir_all(&dir);
     s.close().await;
 }

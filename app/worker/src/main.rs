@@ -77,8 +77,16 @@ mod worker {
         let slice_ms = get("slice_ms").as_f64().filter(|x| *x > 0.0).unwrap_or(30.0);
         let mut job: Job = serde_json::from_str(&text).map_err(|e| format!("the job is not readable: {e}"))?;
         job.put_arrays(arrays_in(&get("arrays"))).map_err(|e| e.to_string())?;
-        if let (Job::CsvImport { text, .. }, Some(t)) = (&mut job, get("text").as_string()) {
-            *text = t;
+        if let Job::CsvImport { text, .. } = &mut job {
+            // An imported file comes as the browser's file, read and decoded here (UTF-8, as the
+            // page's FileReader would), so its text never crosses the page's thread.
+            let file = get("file");
+            if let Some(t) = get("text").as_string() {
+                *text = t;
+            } else if let Some(blob) = file.dyn_ref::<web_sys::Blob>() {
+                let reader = web_sys::FileReaderSync::new().map_err(|_| "this browser cannot read files in a worker".to_string())?;
+                *text = reader.read_as_text(blob).map_err(|_| "the browser could not read that file".to_string())?;
+            }
         }
         let mut running = Running::start(job).map_err(|e| e.to_string())?;
         let unit = running.unit();
