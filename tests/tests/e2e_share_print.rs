@@ -68,6 +68,8 @@ async fn schematic_shows_every_part_in_both_symbol_styles() {
         add_demo(&s, demo.key).await;
         let designators: Vec<String> = demo.record().circuit.parameters().into_iter().filter_map(|p| p.designator).collect();
         for style in ["iec60617", "ieee315"] {
+            // The schematic is built just after the rest of the design (its own piece of the page).
+            s.wait_for("#schematic").await;
             let was = s.js("return [document.querySelector('#symbol-style').value, document.querySelector('#schematic').getAttribute('src')]").await;
             s.wait_for("#symbol-style").await.select_by_value(style).await.unwrap();
             if was[0].as_str() != Some(style) {

@@ -183,6 +183,8 @@ async fn screenshot_of(s: &Session, css: &str, name: &str) {
 
 /// The schematic image's drawing (the SVG in its `data:` URL).
 async fn schematic_svg(s: &Session) -> String {
+    // The schematic is built just after the rest of the design (its own piece of the page).
+    s.wait_for("#schematic").await;
     s.js("const i = document.querySelector('#schematic'); return i ? decodeURIComponent(i.src.split(',').slice(1).join(',')) : '';")
         .await
         .as_str()

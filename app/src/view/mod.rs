@@ -30,40 +30,62 @@ const SETTLE_MS: i32 = 120;
 /// Where no frame comes (a hidden tab), how long [`Deferred`] waits before building, milliseconds.
 const LATER_FALLBACK_MS: i32 = 50;
 
-/// A view on its way: built once its code has arrived, or the piece that could not be fetched.
-type ViewFuture = std::pin::Pin<Box<dyn std::future::Future<Output = Result<AnyView, PieceMissing>>>>;
-
-/// A view whose code may live in a module of its own, fetched when first wanted (see [`Deferred`]).
-type ViewLoad = fn() -> ViewFuture;
-
-/// Declares `$name`, a [`ViewLoad`] for the view `$body`. In the split build (`--cfg hysteron_split`,
-/// set by `app/build.rs` for `cargo xtask build`) the view's code goes into a module of its own that
-/// is fetched on the first call (wasm-split through Leptos's re-export; `fallible`: a failed fetch is
-/// an error, not a panic, which would stop the whole page); otherwise (unit tests) it is a plain call.
-macro_rules! deferred_view {
-    ($name:ident, $body:expr) => {
-        fn $name() -> ViewFuture {
-            #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split($name, wasm_split_path = leptos::wasm_split, fallible))]
-            fn build() -> Result<AnyView, PieceMissing> {
-                Ok($body.into_any())
-            }
-            #[cfg(hysteron_split)]
-            return Box::pin(async { build().await });
-            #[cfg(not(hysteron_split))]
-            return Box::pin(async { build() });
-        }
-    };
+/// The parts of the open design built just after its first paint ([`Deferred`]): not needed to
+/// show and edit the design, so their code is kept out of the page's first module. Besides the
+/// studies, the part list, the share section and the print sheet, that is the schematic (its drawing
+/// code), the parts section (synthesis and the standard-value search), the results' windows job
+/// (the code that talks to the compute workers) and a shared link's read-only view: first module
+/// 632 → 500 KB gzip (DEVELOPERS.md, "Build tools").
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Later {
+    InputNetwork,
+    Tolerance,
+    Temperature,
+    Dynamics,
+    Signal,
+    Application,
+    PartList,
+    Share,
+    Sheet,
+    Schematic,
+    WindowsJob,
+    Parts,
+    SharedDesign,
 }
 
-deferred_view!(input_network_view, view! { <input_network::InputNetworkSection /> });
-deferred_view!(tolerance_view, view! { <tolerance::ToleranceSection /> });
-deferred_view!(temperature_view, view! { <temperature::TemperatureSection /> });
-deferred_view!(dynamics_view, view! { <output_dynamics::OutputDynamicsSection /> });
-deferred_view!(signal_view, view! { <signal::SignalSection /> });
-deferred_view!(application_view, view! { <application::ApplicationSection /> });
-deferred_view!(partlist_view, view! { <partlist::PartListSection /> });
-deferred_view!(share_view, view! { <share::ShareSection /> });
-deferred_view!(sheet_view, view! { <sheet::DesignSheet /> });
+/// Builds the view of `which` (see [`Later`]). In the split build (`--cfg hysteron_split`, set by
+/// `app/build.rs` for `cargo xtask build`) this code and all it alone reaches go into one module of
+/// their own, fetched on the first call (wasm-split through Leptos's re-export; `fallible`: a failed
+/// fetch is an error, not a panic, which would stop the whole page); otherwise (unit tests) a plain
+/// call. One piece rather than one per section: every section is built right after the first paint
+/// anyway, and per-section pieces cut their shared code into 130 modules, 568 KB gzip in all,
+/// against 453 KB for this piece and the one it shares with `jobs::run_on_page_piece`.
+#[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(later_views, wasm_split_path = leptos::wasm_split, fallible))]
+fn build_later(which: Later) -> Result<AnyView, PieceMissing> {
+    Ok(match which {
+        Later::InputNetwork => view! { <input_network::InputNetworkSection /> }.into_any(),
+        Later::Tolerance => view! { <tolerance::ToleranceSection /> }.into_any(),
+        Later::Temperature => view! { <temperature::TemperatureSection /> }.into_any(),
+        Later::Dynamics => view! { <output_dynamics::OutputDynamicsSection /> }.into_any(),
+        Later::Signal => view! { <signal::SignalSection /> }.into_any(),
+        Later::Application => view! { <application::ApplicationSection /> }.into_any(),
+        Later::PartList => view! { <partlist::PartListSection /> }.into_any(),
+        Later::Share => view! { <share::ShareSection /> }.into_any(),
+        Later::Sheet => view! { <sheet::DesignSheet /> }.into_any(),
+        Later::Schematic => view! { <circuit::SchematicView /> }.into_any(),
+        Later::WindowsJob => view! { <results::WindowsFollower /> }.into_any(),
+        Later::Parts => view! { <parts::PartsSection /> }.into_any(),
+        Later::SharedDesign => view! { <share::SharedDesign incoming={expect_context::<Notebook>().incoming} /> }.into_any(),
+    })
+}
+
+/// The view of `which`, once its code has arrived (see [`build_later`]).
+async fn load_later(which: Later) -> Result<AnyView, PieceMissing> {
+    #[cfg(hysteron_split)]
+    return build_later(which).await;
+    #[cfg(not(hysteron_split))]
+    return build_later(which);
+}
 
 /// Builds the view `load` gives once the rest of the design has painted, each on a task of its own,
 /// in this component's reactive owner (its context, its cleanup), once its code has arrived.
@@ -72,7 +94,7 @@ deferred_view!(sheet_view, view! { <sheet::DesignSheet /> });
 /// first frame, they held back the first paint of a load with an emptied cache (first contentful
 /// paint about 100 ms after the mount mark, about 78 ms once they waited; alternated runs).
 #[component]
-fn Deferred(load: ViewLoad) -> impl IntoView {
+fn Deferred(load: Later) -> impl IntoView {
     let ready = RwSignal::new(false);
     let view = StoredValue::new_local(None::<AnyView>);
     let owner = Owner::current();
@@ -80,7 +102,7 @@ fn Deferred(load: ViewLoad) -> impl IntoView {
         let Some(owner) = owner else { return };
         owner.with(|| {
             leptos::task::spawn_local_scoped(async move {
-                let v = match load().await {
+                let v = match load_later(load).await {
                     Ok(v) => v,
                     Err(PieceMissing) => view! {
                         <p class="error" role="alert">"This part of the page could not be loaded (no network, or the page was updated since it opened). Reload the page to get it; your designs are kept."</p>
@@ -107,7 +129,7 @@ fn Study(
     /// What it holds, in a few words.
     hint: &'static str,
     /// Its view.
-    load: ViewLoad,
+    load: Later,
 ) -> impl IntoView {
     view! {
         <details class="study" id=id>
@@ -175,7 +197,7 @@ pub fn App() -> impl IntoView {
             <p class="tagline">"Two-threshold switching circuits, designed and checked"</p>
         </header>
         {move || nb.banner.get().map(|b| view! { <div class="banner" role="status" id="storage-banner">{b}</div> })}
-        <share::SharedDesign incoming />
+        <Deferred load=Later::SharedDesign />
         <div class="layout">
             <notebook::NotebookList />
             <main id="design" class="design">
@@ -186,20 +208,20 @@ pub fn App() -> impl IntoView {
                             <results::KeyStrip figures />
                             <aside class="design-view" aria-label="The design at a glance: results, transfer curve and schematic">
                                 <results::Results figures />
-                                <circuit::SchematicView />
+                                <Deferred load=Later::Schematic />
                             </aside>
                             <div class="design-inputs">
                                 <purpose::PurposeSection />
                                 <circuit::CircuitSection />
-                                <parts::PartsSection />
-                                <Study id="fold-input-network" title="Input network" hint="dropper, series resistor, clamp, RC filter; thresholds at the field terminal" load=input_network_view />
-                                <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo" load=tolerance_view />
-                                <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K" load=temperature_view />
-                                <Study id="fold-dynamics" title="Output dynamics and power-up" hint="edges at the load, speed-up capacitor, state after a supply ramp" load=dynamics_view />
-                                <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges" load=signal_view />
-                                <Study id="fold-application" title="Oscillator and debouncer" hint="RC timing on the thresholds" load=application_view />
-                                <Deferred load=partlist_view />
-                                <Deferred load=share_view />
+                                <Deferred load=Later::Parts />
+                                <Study id="fold-input-network" title="Input network" hint="dropper, series resistor, clamp, RC filter; thresholds at the field terminal" load=Later::InputNetwork />
+                                <Study id="fold-tolerance" title="Tolerance" hint="worst case, GUM, error budget, Monte Carlo" load=Later::Tolerance />
+                                <Study id="fold-temperature" title="Temperature" hint="VT+ and VT− over the operating range, drift in mV/K" load=Later::Temperature />
+                                <Study id="fold-dynamics" title="Output dynamics and power-up" hint="edges at the load, speed-up capacitor, state after a supply ramp" load=Later::Dynamics />
+                                <Study id="fold-signal" title="Signal test" hint="the signal the circuit sees, noise, false edges" load=Later::Signal />
+                                <Study id="fold-application" title="Oscillator and debouncer" hint="RC timing on the thresholds" load=Later::Application />
+                                <Deferred load=Later::PartList />
+                                <Deferred load=Later::Share />
                             </div>
                         </div>
                     }.into_any()
@@ -208,6 +230,6 @@ pub fn App() -> impl IntoView {
                 }}
             </main>
         </div>
-        <Deferred load=sheet_view />
+        <Deferred load=Later::Sheet />
     }
 }

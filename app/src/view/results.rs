@@ -6,6 +6,8 @@ use super::state::Notebook;
 use crate::plot;
 use hysteron_core::analysis::{Analysis, Thresholds};
 use hysteron_core::overview::{quick, Quick};
+use hysteron_core::jobs::{Job, JobOutput};
+use hysteron_core::tolerance::bench_window::Windows;
 use hysteron_core::tolerance::{worst_case::WorstCase, SpecWindow};
 use hysteron_core::topology::TransferCurve;
 use leptos::html::Canvas;
@@ -103,16 +105,13 @@ pub fn Results(figures: Figures) -> impl IntoView {
             let mut only = hysteron_core::record::DesignRecord::new("", r.circuit.clone());
             only.checks = r.checks.clone();
             only.tolerance = r.tolerance.as_ref().map(|t| t.without_monte_carlo());
-            hysteron_core::jobs::Job::Windows { record: Box::new(only) }
+            Job::Windows { record: Box::new(only) }
         })
     });
-    let windows_run = crate::jobs::follow(windows_job, hysteron_core::job_answers::Answers::WINDOWS);
-    let windows = Memo::new(move |_| {
-        windows_run.result.with(|o| match o {
-            Some(Ok(hysteron_core::jobs::JobOutput::Windows(w))) => Some((**w).clone()),
-            _ => None,
-        })
-    });
+    // The job runs from a piece of its own, built just after the first paint ([`WindowsFollower`]),
+    // so the code that talks to the compute workers is not in the page's first module.
+    let windows = RwSignal::new(None::<Windows>);
+    provide_context(WindowsLink { job: windows_job, windows });
     let spec = Memo::new(move |_| nb.with_current(|r| r.tolerance.as_ref().map(|t| t.spec)).flatten().unwrap_or_default());
     // The figures saved with the design are its record for the bench: if today's math gives other
     // numbers (a newer version, say), say so and show both rather than silently changing them.
@@ -218,6 +217,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
     view! {
         <section class="card results-card" aria-labelledby="results-heading" id="results">
             <h2 id="results-heading">"Results"</h2>
+            <super::Deferred load=super::Later::WindowsJob />
             {move || analysis.with(|a| a.as_ref().err().cloned()).map(|e| view! { <p class="error" id="analysis-error" role="alert">{e}</p> })}
             {move || differs().map(|m| view! { <p class="compare" id="saved-differs" role="status">{m}</p> })}
             <div class="key-figures" id="key-figures">
@@ -256,4 +256,28 @@ pub fn Results(figures: Figures) -> impl IntoView {
             </ul>
         </section>
     }
+}
+
+/// What [`Results`] hands the piece that runs its windows job: the job (a new one each time the
+/// settled design changes what the windows read) and where the answer goes.
+#[derive(Clone, Copy)]
+struct WindowsLink {
+    job: Memo<Option<Job>>,
+    windows: RwSignal<Option<Windows>>,
+}
+
+/// Runs the results' windows job on the compute workers (`core::jobs::Job::Windows`, equal to
+/// `overview::record_windows`) and puts each answer where [`Results`] shows it; draws nothing.
+/// Built in a piece of the page of its own, after the first paint (`view::Later::WindowsJob`).
+#[component]
+pub fn WindowsFollower() -> impl IntoView {
+    let link = expect_context::<WindowsLink>();
+    let run = crate::jobs::follow(link.job, hysteron_core::job_answers::Answers::WINDOWS);
+    Effect::new(move |_| {
+        let w = run.result.with(|o| match o {
+            Some(Ok(JobOutput::Windows(w))) => Some((**w).clone()),
+            _ => None,
+        });
+        link.windows.set(w);
+    });
 }
