@@ -103,7 +103,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
     let windows_job = Memo::new(move |_| {
         nb.with_settled(|r| {
             let mut only = hysteron_core::record::DesignRecord::new("", r.circuit.clone());
-            only.checks = r.checks.clone();
+            only.checks = r.checks;
             only.tolerance = r.tolerance.as_ref().map(|t| t.without_monte_carlo());
             Job::Windows { record: Box::new(only) }
         })
