@@ -50,19 +50,17 @@ async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
     let base = server::serve(root.clone()).await.expect("serve the copy");
     let s = browser::start_at(base).await;
     s.add_starter("demo:sawmill-end-stop").await;
-    // The missing study says so where it would be, in words; everything else is there and works.
-    s.wait_for("#fold-tolerance summary").await.click().await.expect("open the tolerance fold");
-    let message = s.wait_text("#fold-tolerance .error[role=alert]", "the missing piece's message", |t| t.contains("could not be loaded")).await;
+    // The page says once, at its top, that part of it is missing, in words; each section with a
+    // place of its own (11 of `view::Later`'s 13: not the results' windows job nor a shared link's
+    // view) points there; everything else is there and works.
+    let message = s.wait_text("#piece-missing[role=alert]", "the missing piece's message", |t| t.contains("could not be loaded")).await;
     assert!(message.contains("Reload the page"), "{message}");
+    s.wait_for("#fold-tolerance summary").await.click().await.expect("open the tolerance fold");
+    s.wait_text("#fold-tolerance .piece-missing", "the tolerance study's pointer", |t| t.contains("Not loaded")).await;
     assert_eq!(s.js("return document.querySelectorAll('#tolerance').length").await, 0);
-    // So does every other section built after the first paint (the schematic, the parts, the
-    // studies, the part list...); the design's results and inputs stand.
-    // Thirteen places: `view::Later`'s sections, the sheet and the results' windows job included.
-    s.wait_js(
-        "every section built after the first paint to say its piece is missing",
-        "return [...document.querySelectorAll('.error[role=alert]')].filter(e => e.textContent.includes('could not be loaded')).length === 13;",
-    )
-    .await;
+    s.wait_js("every section with a place to say it is not loaded", "return document.querySelectorAll('.piece-missing').length === 11;").await;
+    let alerts = s.js("return [...document.querySelectorAll('[role=alert]')].filter(e => e.textContent.includes('could not be loaded')).length").await;
+    assert_eq!(alerts.as_u64(), Some(1), "the missing piece is announced once");
     let vt = s.number("#vt-upper").await;
     assert!(vt.is_finite(), "VT+ still shown: {vt}");
     // The page still takes edits: a new R1 typed in moves VT+ (R1 3.3 kΩ → 4.7 kΩ).

@@ -53,6 +53,18 @@ enum Later {
     SharedDesign,
 }
 
+impl Later {
+    /// Whether the section takes a place on the page of its own (the windows job only fills the
+    /// results' figures; a shared link's view shows only when a link was opened).
+    fn has_place(self) -> bool {
+        !matches!(self, Later::WindowsJob | Later::SharedDesign)
+    }
+}
+
+/// Set once a section's piece could not be fetched: the page then says so once, at its top.
+#[derive(Clone, Copy)]
+struct PieceTrouble(RwSignal<bool>);
+
 /// Builds the view of `which` (see [`Later`]). In the split build (`--cfg hysteron_split`, set by
 /// `app/build.rs` for `cargo xtask build`) this code and all it alone reaches go into one module of
 /// their own, fetched on the first call (wasm-split through Leptos's re-export; `fallible`: a failed
@@ -104,10 +116,18 @@ fn Deferred(load: Later) -> impl IntoView {
             leptos::task::spawn_local_scoped(async move {
                 let v = match load_later(load).await {
                     Ok(v) => v,
-                    Err(PieceMissing) => view! {
-                        <p class="error" role="alert">"This part of the page could not be loaded (no network, or the page was updated since it opened). Reload the page to get it; your designs are kept."</p>
+                    Err(PieceMissing) => {
+                        // Said once, at the top of the page ([`App`]); each section with a place of
+                        // its own points there.
+                        if let Some(t) = use_context::<PieceTrouble>() {
+                            t.0.try_set(true);
+                        }
+                        if load.has_place() {
+                            view! { <p class="error piece-missing">"Not loaded: see the message at the top of the page."</p> }.into_any()
+                        } else {
+                            ().into_any()
+                        }
                     }
-                    .into_any(),
                 };
                 view.try_set_value(Some(v));
                 ready.try_set(true);
@@ -144,6 +164,8 @@ fn Study(
 pub fn App() -> impl IntoView {
     let nb = Notebook::load();
     provide_context(nb);
+    let trouble = PieceTrouble(RwSignal::new(false));
+    provide_context(trouble);
     provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
     let incoming = nb.incoming;
     // Copy the open design into `settled` once edits pause for a moment (immediately when another
@@ -197,6 +219,9 @@ pub fn App() -> impl IntoView {
             <p class="tagline">"Two-threshold switching circuits, designed and checked"</p>
         </header>
         {move || nb.banner.get().map(|b| view! { <div class="banner" role="status" id="storage-banner">{b}</div> })}
+        {move || trouble.0.get().then(|| view! {
+            <div class="banner" role="alert" id="piece-missing">"Part of this page could not be loaded (no network, or the page was updated since it opened), so some sections are missing. Reload the page to get them; your designs are kept."</div>
+        })}
         <Deferred load=Later::SharedDesign />
         <div class="layout">
             <notebook::NotebookList />
