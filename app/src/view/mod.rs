@@ -35,7 +35,7 @@ const LATER_FALLBACK_MS: i32 = 50;
 /// studies, the part list, the share section and the print sheet, that is the schematic (its drawing
 /// code), the parts section (synthesis and the standard-value search), the results' windows job
 /// (the code that talks to the compute workers) and a shared link's read-only view: first module
-/// 632 → 500 KB gzip (DEVELOPERS.md, "Build tools").
+/// 632 → 498 KB gzip (DEVELOPERS.md, "Build tools").
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 enum Later {
     InputNetwork,

@@ -108,7 +108,7 @@ pub fn Results(figures: Figures) -> impl IntoView {
             Job::Windows { record: Box::new(only) }
         })
     });
-    // The job runs from a piece of its own, built just after the first paint ([`WindowsFollower`]),
+    // The job runs from the piece of the page built just after the first paint ([`WindowsFollower`]),
     // so the code that talks to the compute workers is not in the page's first module.
     let windows = RwSignal::new(None::<Windows>);
     provide_context(WindowsLink { job: windows_job, windows });
@@ -268,7 +268,7 @@ struct WindowsLink {
 
 /// Runs the results' windows job on the compute workers (`core::jobs::Job::Windows`, equal to
 /// `overview::record_windows`) and puts each answer where [`Results`] shows it; draws nothing.
-/// Built in a piece of the page of its own, after the first paint (`view::Later::WindowsJob`).
+/// Built after the first paint, from the piece with the other later sections (`view::Later::WindowsJob`).
 #[component]
 pub fn WindowsFollower() -> impl IntoView {
     let link = expect_context::<WindowsLink>();
@@ -278,6 +278,9 @@ pub fn WindowsFollower() -> impl IntoView {
             Some(Ok(JobOutput::Windows(w))) => Some((**w).clone()),
             _ => None,
         });
-        link.windows.set(w);
+        // Only a different answer redraws the figures' windows (as a memo would).
+        if link.windows.with_untracked(|old| old != &w) {
+            link.windows.set(w);
+        }
     });
 }
