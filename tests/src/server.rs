@@ -32,12 +32,23 @@ pub async fn serve(root: PathBuf) -> std::io::Result<String> {
 /// As [`serve`], and a handle whose `abort()` stops the server: the port is closed, so every later
 /// request is refused as by a machine with no network (the offline test).
 pub async fn serve_stoppable(root: PathBuf) -> std::io::Result<(String, tokio::task::AbortHandle)> {
+    serve_holding(root, None).await
+}
+
+/// As [`serve`], but every file whose name starts with `prefix` is sent only after `delay`: a piece
+/// arriving late, as over a slow link (the page's loading lines, `e2e_pieces`).
+pub async fn serve_slow(root: PathBuf, prefix: &str, delay: std::time::Duration) -> std::io::Result<String> {
+    serve_holding(root, Some((prefix.to_string(), delay))).await.map(|(base, _)| base)
+}
+
+async fn serve_holding(root: PathBuf, hold: Option<(String, std::time::Duration)>) -> std::io::Result<(String, tokio::task::AbortHandle)> {
     let listener = TcpListener::bind("127.0.0.1:0").await?;
     let port = listener.local_addr()?.port();
     let accept = tokio::spawn(async move {
         loop {
             let Ok((mut sock, _)) = listener.accept().await else { continue };
             let root = root.clone();
+            let hold = hold.clone();
             tokio::spawn(async move {
                 let mut buf = vec![0u8; 8192];
                 let n = sock.read(&mut buf).await.unwrap_or(0);
@@ -48,6 +59,11 @@ pub async fn serve_stoppable(root: PathBuf) -> std::io::Result<(String, tokio::t
                 let rel = if rel.is_empty() { "index.html" } else { rel };
                 let file = root.join(rel);
                 let ok = !rel.contains("..");
+                if let Some((prefix, delay)) = &hold {
+                    if rel.starts_with(prefix.as_str()) {
+                        tokio::time::sleep(*delay).await;
+                    }
+                }
                 let response = match (ok, tokio::fs::read(&file).await) {
                     (true, Ok(body)) => {
                         let mut head = format!(

@@ -70,3 +70,36 @@ async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
     s.close().await;
     std::fs::remove_dir_all(&root).ok();
 }
+
+#[tokio::test(flavor = "multi_thread")]
+async fn a_late_piece_leaves_a_loading_line_and_the_design_works_meanwhile() {
+    // The sections' piece held back for 4 s by the server, as over a slow link: the design shows
+    // and takes edits at once; the schematic's place says it is loading (after a moment, so a quick
+    // load never flashes it), and the line gives way to the schematic once the piece arrives.
+    let base = server::serve_slow(server::dist_dir(), "hysteron-split_later_views-", std::time::Duration::from_secs(4))
+        .await
+        .expect("serve the build");
+    let s = browser::start_at(base).await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    let line = s
+        .wait_text(".design-view .later-wait[role=status]", "the schematic's loading line", |t| t.contains("Loading this section"))
+        .await;
+    assert!(line.contains('…'), "{line}");
+    s.wait_js(
+        "the loading line to show after its moment",
+        "const p = document.querySelector('.design-view .later-wait'); return !!p && getComputedStyle(p).visibility === 'visible';",
+    )
+    .await;
+    assert_eq!(s.js("return document.querySelectorAll('#schematic').length").await, 0, "the schematic came before its piece");
+    let waiting = s.js("return document.querySelectorAll('.later-wait').length").await.as_u64().unwrap_or(0);
+    assert!(waiting >= 4, "the schematic, parts, part list and share places each hold a line: {waiting}");
+    // Meanwhile the design takes edits: a new R1 moves VT+ (R1 3.3 kΩ → 4.7 kΩ).
+    let vt = s.number("#vt-upper").await;
+    s.type_into("#field-r1_ohm", "4k7").await;
+    let moved = s.wait_number_change("#vt-upper", vt).await;
+    assert!(moved.is_finite() && moved != vt, "VT+ {vt} → {moved}");
+    // The piece arrives: every line gives way to its section.
+    s.wait_for("#schematic").await;
+    s.wait_js("every loading line to give way", "return document.querySelectorAll('.later-wait').length === 0;").await;
+    s.close().await;
+}

@@ -59,6 +59,12 @@ impl Later {
     fn has_place(self) -> bool {
         !matches!(self, Later::WindowsJob | Later::SharedDesign)
     }
+
+    /// Whether a line saying the section is still loading stands in its place until it arrives:
+    /// every section with a place on screen (the sheet shows only in print).
+    fn waits_in_place(self) -> bool {
+        self.has_place() && self != Later::Sheet
+    }
 }
 
 /// Set once a section's piece could not be fetched: the page then says so once, at its top.
@@ -134,7 +140,17 @@ fn Deferred(load: Later) -> impl IntoView {
             })
         });
     });
-    move || ready.get().then(|| view.try_update_value(|v| v.take()).flatten())
+    // Until then a line holds the section's place; the style sheet shows it only after a moment
+    // (`.later-wait`), so a quick load never flashes it and a slow link does not leave a blank.
+    move || {
+        if ready.get() {
+            view.try_update_value(|v| v.take()).flatten()
+        } else if load.waits_in_place() {
+            Some(view! { <p class="later-wait" role="status">"Loading this section…"</p> }.into_any())
+        } else {
+            None
+        }
+    }
 }
 
 /// A long study folded under one line: closed until the user opens it, so the design's inputs
