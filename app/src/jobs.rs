@@ -139,14 +139,16 @@ fn field(v: &JsValue, k: &str) -> JsValue {
     js_sys::Reflect::get(v, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED)
 }
 
+/// A starting worker's two continuations, ready and failed; whichever happens first takes both.
+type StartOutcome = (Box<dyn FnOnce(web_sys::Worker)>, Box<dyn FnOnce()>);
+
 /// A fresh worker; `on_ready` runs when its module has loaded, `on_fail` (instead) when it cannot
 /// be started, reports an error before it is ready, or is not ready within [`READY_TIMEOUT_MS`].
 /// Returns false when the browser refused at once (`on_fail` has not run).
 fn spawn(on_ready: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce() + 'static) -> bool {
     let Ok(w) = web_sys::Worker::new(&worker_url()) else { return false };
     // Exactly one of the two runs.
-    let outcome: Rc<RefCell<Option<(Box<dyn FnOnce(web_sys::Worker)>, Box<dyn FnOnce()>)>>> =
-        Rc::new(RefCell::new(Some((Box::new(on_ready), Box::new(on_fail)))));
+    let outcome: Rc<RefCell<Option<StartOutcome>>> = Rc::new(RefCell::new(Some((Box::new(on_ready), Box::new(on_fail)))));
     let fail = {
         let (o, w) = (outcome.clone(), w.clone());
         move || {
@@ -227,6 +229,7 @@ fn acquire(then: impl FnOnce(web_sys::Worker) + 'static, on_fail: impl FnOnce() 
     spawn(then, on_fail)
 }
 
+#[derive(Default)]
 struct Part {
     worker: Option<web_sys::Worker>,
     done: u64,
@@ -237,6 +240,9 @@ struct Part {
     forward: Vec<js_sys::Float64Array>,
     _on_message: Option<Closure<dyn FnMut(web_sys::MessageEvent)>>,
 }
+
+/// What a job calls once with its result: the merged output, or why it failed.
+type OnDone = Box<dyn FnOnce(Result<JobOutput, String>)>;
 
 struct Shared {
     job: Job,
@@ -259,7 +265,7 @@ struct Shared {
     on_page: bool,
     note: Option<&'static str>,
     on_progress: Rc<dyn Fn(JobStatus)>,
-    on_done: Option<Box<dyn FnOnce(Result<JobOutput, String>)>>,
+    on_done: Option<OnDone>,
     /// A CSV import's file, as the browser holds it (see [`start_import`]).
     file: Option<web_sys::Blob>,
 }
@@ -692,12 +698,6 @@ fn start_with(
         }
     }
     handle
-}
-
-impl Default for Part {
-    fn default() -> Part {
-        Part { worker: None, done: 0, total: None, output: None, forward: Vec::new(), _on_message: None }
-    }
 }
 
 /// Moves the whole job onto the page (workers refused): stops any part sent to a worker and runs

@@ -351,9 +351,12 @@ mod redraw {
         });
     }
 
+    /// The page's one resize observer and the callback it calls with its entries.
+    type Observer = (ResizeObserver, Closure<dyn FnMut(js_sys::Array)>);
+
     thread_local! {
         static ENTRIES: RefCell<Vec<Entry>> = const { RefCell::new(Vec::new()) };
-        static OBSERVER: RefCell<Option<(ResizeObserver, Closure<dyn FnMut(js_sys::Array)>)>> = const { RefCell::new(None) };
+        static OBSERVER: RefCell<Option<Observer>> = const { RefCell::new(None) };
     }
 
     fn stale(canvas: &HtmlCanvasElement) -> bool {
@@ -879,7 +882,7 @@ pub fn draw_time(
     thresholds: (f64, f64),
     marks: &[(f64, RGBColor)],
 ) -> Result<Option<PlotFrame>, String> {
-    if !(t1 > t0) || input.envelope.min_v.is_empty() {
+    if t0.is_nan() || t1.is_nan() || t1 <= t0 || input.envelope.min_v.is_empty() {
         return Err("plot: nothing to draw".into());
     }
     let own = |t: &Trace<'_>| OwnedTrace { envelope: t.envelope.clone(), colour: t.colour, label: t.label.to_string() };

@@ -169,7 +169,7 @@ async fn large_arrays_arrive_whole_over_several_tasks() {
     let tasks_before = std::rc::Rc::new(std::cell::Cell::new(true));
     let t = tasks_before.clone();
     let got = finished(move |done| {
-        copy_in_slices(arrays, move |v| done(v));
+        copy_in_slices(arrays, done);
         t.set(false); // still in the calling task
     })
     .await;
@@ -200,7 +200,7 @@ async fn text_in_slices_keeps_surrogate_pairs_whole() {
     text.push_str("tail;1.5\n");
     text.push_str(&"b".repeat(TEXT_SLICE_UNITS as usize + 5));
     let js = js_sys::JsString::from(text.as_str());
-    let got = finished(move |done| text_in_slices(&js, move |s| done(s))).await;
+    let got = finished(move |done| text_in_slices(&js, done)).await;
     assert_eq!(got.len(), text.len());
     assert!(got == text, "the text changed on the way");
 }

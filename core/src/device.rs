@@ -321,7 +321,7 @@ mod tests {
             |c| c.supply_v = 1e5,
         ];
         for edge in edges {
-            let mut c = base.clone();
+            let mut c = base;
             edge(&mut c);
             assert_eq!(c.admitted(), c.refusal().is_ok(), "{c:?}");
         }

@@ -1124,7 +1124,7 @@ impl<C: Circuit> SearchJob<C> {
         let inner = if enumerated > 0 && plan.is_none() { Some(slots[0]) } else { None };
         let st = Searcher {
             template: circuit.clone(),
-            checks: checks.clone(),
+            checks: *checks,
             obj: Objective::new(targets),
             budget_a: settings.current_budget_a,
             top_n: settings.top_n,

@@ -268,10 +268,7 @@ fn padding_bits_set(data: &[u8], declared: usize, json: &[u8]) -> bool {
             continue;
         }
         altered[end] = last & !(1 << bit);
-        return match inflate_exact(&altered, declared) {
-            Ok(same) if same == json => true,
-            _ => false,
-        };
+        return matches!(inflate_exact(&altered, declared), Ok(same) if same == json);
     }
     false
 }

@@ -77,7 +77,7 @@ pub fn PurposeSection() -> impl IntoView {
         let value = Memo::new(move |_| nb.with_current(|r| get(&r.checks)).flatten());
         let on_value = Callback::new(move |v: Option<f64>| nb.edit_keyed(id, move |r| put(&mut r.checks, v)));
         let check = Callback::new(move |v: f64| {
-            let mut candidate = nb.with_current_untracked(|r| r.checks.clone())?;
+            let mut candidate = nb.with_current_untracked(|r| r.checks)?;
             put(&mut candidate, Some(v));
             range_problem(id, &candidate)
         });

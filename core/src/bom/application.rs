@@ -244,7 +244,7 @@ mod tests {
         let r = demo("rain-gauge");
         let a = analyse(&r.circuit, &r.checks).unwrap();
         assert!(application_parts(None, &a, &[], &PartSettings::default()).unwrap().is_empty());
-        let mut app = r.application.clone().unwrap();
+        let mut app = r.application.unwrap();
         if let Some(d) = app.debounce.as_mut() {
             d.c_f = -1.0;
         }

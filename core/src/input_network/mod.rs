@@ -447,7 +447,7 @@ fn trip<C: Circuit>(circuit: &C, net: &InputNetwork, pin_v: f64, state: OutputSt
 /// documentation). Bisection on a function that is negative at 0 and non-negative at τ, so it
 /// always ends; t0 ≫ τ gives τ.
 pub fn ramp_delay_s(tau_s: f64, t0_s: f64) -> f64 {
-    if !(tau_s > 0.0) || !tau_s.is_finite() {
+    if !(tau_s.is_finite() && tau_s > 0.0) {
         return 0.0;
     }
     let t0 = t0_s.max(0.0);
@@ -568,8 +568,7 @@ pub fn analyse_network(
         ] {
             if w > rated_w {
                 warnings.push(format!(
-                    "{part} dissipates {} at the {when} ({} V), above its {} rating ÷ {} derating: choose a larger package or a pulse-rated part",
-                    format!("{:.4} W", w),
+                    "{part} dissipates {w:.4} W at the {when} ({} V), above its {} rating ÷ {} derating: choose a larger package or a pulse-rated part",
                     p.field_v,
                     parts.package.label(),
                     parts.power_derating_factor

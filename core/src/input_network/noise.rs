@@ -7,6 +7,7 @@
 //! - m0 = ∫₀^B S0|H|² df = S0·fc·atan(B/fc), so σ0 = σ·√(fc·atan(B/fc)/B);
 //! - m2 = (2π)²∫₀^B f²S0|H|² df = (2π)²·S0·fc²·(B − fc·atan(B/fc)), so
 //!   σ1 = 2π·σ·fc·√((B − fc·atan(B/fc))/B).
+//!
 //! With fc ≫ B both tend to the unfiltered σ and 2πσB/√3 (atan x = x − x³/3 + …), the flat
 //! spectrum of [`crate::signal::rice`]. Band-limited noise (N poles at f_n, normalised so that
 //! its RMS over all frequencies is σ) times the filter's pole is integrated numerically
@@ -28,6 +29,7 @@ use std::f64::consts::PI;
 
 /// σ0 (volts) and σ1 (volts per second) of white noise of RMS `rms_v`, flat to `bandwidth_hz`,
 /// after a one-pole filter at `corner_hz` (closed form of the module documentation).
+#[allow(clippy::neg_cmp_op_on_partial_ord)] // `!(x > 0.0)` also rejects NaN
 pub fn white_through_filter(rms_v: f64, bandwidth_hz: f64, corner_hz: f64) -> (f64, f64) {
     let (b, fc) = (bandwidth_hz, corner_hz);
     if !(rms_v > 0.0) || !(b > 0.0) || !(fc > 0.0) || !rms_v.is_finite() {
@@ -62,6 +64,7 @@ fn pole_area(poles: u8) -> f64 {
 
 /// σ0 and σ1 of band-limited noise (RMS `rms_v`, `poles` poles at `noise_corner_hz`) after a
 /// one-pole filter at `corner_hz`, by Simpson's rule on a logarithmic grid.
+#[allow(clippy::neg_cmp_op_on_partial_ord)] // `!(x > 0.0)` also rejects NaN
 pub fn poles_through_filter(rms_v: f64, noise_corner_hz: f64, poles: u8, corner_hz: f64) -> (f64, f64) {
     let (fn_, fc) = (noise_corner_hz, corner_hz);
     if !(rms_v > 0.0) || !(fn_ > 0.0) || !(fc > 0.0) || !rms_v.is_finite() || poles == 0 {
@@ -129,12 +132,12 @@ impl FrontEnd {
             }
         }
         let tau = self.time_constant_s;
-        if !(tau > 0.0) || samples.is_empty() {
+        if tau.is_nan() || tau <= 0.0 || samples.is_empty() {
             return;
         }
         let (mut x0, mut y) = (samples[0], samples[0]);
-        for i in 1..samples.len() {
-            let x1 = samples[i];
+        for (i, s) in samples.iter_mut().enumerate().skip(1) {
+            let x1 = *s;
             let dt = times.at(i) - times.at(i - 1);
             if dt > 0.0 {
                 let a = libm::exp(-dt / tau);
@@ -142,7 +145,7 @@ impl FrontEnd {
                 y = x1 - kt + (y - x0 + kt) * a;
             }
             x0 = x1;
-            samples[i] = y;
+            *s = y;
         }
     }
 

@@ -131,6 +131,11 @@ fn numeric_row(line: &str, sep: Separator, dec: DecimalMark, cols: (usize, usize
     }
 }
 
+/// A format candidate during detection: its score (rows of numbers with the first row's field
+/// count, then how many of them are numbers in every field), separator, decimal mark, first data
+/// line and field count.
+type Detected = ((usize, usize), Separator, DecimalMark, usize, usize);
+
 fn clean_line(line: &str) -> &str {
     let line = line.strip_suffix('\r').unwrap_or(line);
     line.strip_prefix('\u{feff}').unwrap_or(line)
@@ -344,7 +349,7 @@ impl CsvParser {
         };
         // Score: rows of numbers with the first row's field count, then (tie-break, column
         // consistency) how many of them are numbers in every field.
-        let mut best: Option<((usize, usize), Separator, DecimalMark, usize, usize)> = None; // score, sep, dec, first, cols
+        let mut best: Option<Detected> = None; // score, sep, dec, first, cols
         for (sep, dec) in candidates {
             let start = fixed_start.unwrap_or(0);
             // First data line, and the field count of the first row of numbers.

@@ -148,37 +148,6 @@ pub fn apply_output_dynamics(run: &mut SignalRun, design: &TriggerDesign, report
     run.design_output_v = out;
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::output_dynamics::{lagged_ramp, output_dynamics, OutputDynamicsSettings};
-    use crate::topology::inverting::InvertingSchmitt;
-    use crate::topology::Topology;
-
-    #[test]
-    fn one_edge_follows_the_closed_form_and_an_interrupted_edge_stays_continuous() {
-        let c = Topology::Inverting(InvertingSchmitt::single_supply(10e3, 10e3, 20e3, crate::device::Comparator::ideal(5.0)));
-        let s = OutputDynamicsSettings { slew_rate_v_per_us: Some(5.0), output_resistance_ohm: 100.0, load_capacitance_f: 5e-9, ..Default::default() };
-        let r = output_dynamics(&c, &s).unwrap();
-        let edge = |start_s: f64, direction| Edge { crossing_s: start_s, start_s, mid_s: start_s, direction, slope_v_per_s: 0.0, overdrive_v: 0.0 };
-        let times = Times::Uniform { start_s: 0.0, step_s: 1e-8 };
-        let mut out = vec![0.0; 400];
-        render_loaded_output(&r, times, true, &[edge(1e-6, EdgeDirection::Falling)], &mut out);
-        // Falling from 5 V: v = 5 − 5·y(t − 1 µs) with y the lagged ramp (ramp 1 µs, τ 0.5 µs).
-        for (i, v) in out.iter().enumerate() {
-            let t = i as f64 * 1e-8;
-            let expect = 5.0 - 5.0 * lagged_ramp(t - 1e-6, 1e-6, 0.5e-6);
-            assert!((v - expect).abs() < 1e-9, "t {t}: {v} vs {expect}");
-        }
-        // A rising edge 0.3 µs into the fall: the output turns without a jump and settles at 5 V.
-        let mut out = vec![0.0; 1000];
-        render_loaded_output(&r, times, true, &[edge(1e-6, EdgeDirection::Falling), edge(1.3e-6, EdgeDirection::Rising)], &mut out);
-        let worst = out.windows(2).map(|w| (w[1] - w[0]).abs()).fold(0.0, f64::max);
-        assert!(worst < 5.0 * 1e-8 / 0.5e-6 + 1e-9, "largest step {worst}");
-        assert!((out[999] - 5.0).abs() < 1e-3, "{}", out[999]);
-    }
-}
-
 /// [`super::report::run_signal`] with the design's output at the load when output dynamics are
 /// given (slew- and RC-limited, [`apply_output_dynamics`]); `None` keeps the ideal output.
 pub fn run_signal_with_output(
@@ -208,4 +177,35 @@ pub fn run_signal_chain(
         apply_output_dynamics(&mut run, design, r);
     }
     Ok(run)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::output_dynamics::{lagged_ramp, output_dynamics, OutputDynamicsSettings};
+    use crate::topology::inverting::InvertingSchmitt;
+    use crate::topology::Topology;
+
+    #[test]
+    fn one_edge_follows_the_closed_form_and_an_interrupted_edge_stays_continuous() {
+        let c = Topology::Inverting(InvertingSchmitt::single_supply(10e3, 10e3, 20e3, crate::device::Comparator::ideal(5.0)));
+        let s = OutputDynamicsSettings { slew_rate_v_per_us: Some(5.0), output_resistance_ohm: 100.0, load_capacitance_f: 5e-9, ..Default::default() };
+        let r = output_dynamics(&c, &s).unwrap();
+        let edge = |start_s: f64, direction| Edge { crossing_s: start_s, start_s, mid_s: start_s, direction, slope_v_per_s: 0.0, overdrive_v: 0.0 };
+        let times = Times::Uniform { start_s: 0.0, step_s: 1e-8 };
+        let mut out = vec![0.0; 400];
+        render_loaded_output(&r, times, true, &[edge(1e-6, EdgeDirection::Falling)], &mut out);
+        // Falling from 5 V: v = 5 − 5·y(t − 1 µs) with y the lagged ramp (ramp 1 µs, τ 0.5 µs).
+        for (i, v) in out.iter().enumerate() {
+            let t = i as f64 * 1e-8;
+            let expect = 5.0 - 5.0 * lagged_ramp(t - 1e-6, 1e-6, 0.5e-6);
+            assert!((v - expect).abs() < 1e-9, "t {t}: {v} vs {expect}");
+        }
+        // A rising edge 0.3 µs into the fall: the output turns without a jump and settles at 5 V.
+        let mut out = vec![0.0; 1000];
+        render_loaded_output(&r, times, true, &[edge(1e-6, EdgeDirection::Falling), edge(1.3e-6, EdgeDirection::Rising)], &mut out);
+        let worst = out.windows(2).map(|w| (w[1] - w[0]).abs()).fold(0.0, f64::max);
+        assert!(worst < 5.0 * 1e-8 / 0.5e-6 + 1e-9, "largest step {worst}");
+        assert!((out[999] - 5.0).abs() < 1e-3, "{}", out[999]);
+    }
 }

@@ -426,8 +426,7 @@ mod tests {
     fn greenhouse_demo_conforms_or_names_the_failing_limit() {
         let s = crate::catalog::demos().into_iter().find(|s| s.key == "greenhouse-valve").unwrap();
         let c = s.record().circuit;
-        let mut settings = ToleranceSettings::default();
-        settings.check_input_types = true;
+        let settings = ToleranceSettings { check_input_types: true, ..Default::default() };
         let r = crate::tolerance::tolerance_report(&c, &settings).unwrap();
         assert_eq!(r.input_types.len(), 3);
         for k in &r.input_types {

@@ -676,7 +676,7 @@ impl Reference {
                         "lower the bias resistor or raise its rail, or move the targets",
                     )
                 };
-                if !(required_v >= v_lo) {
+                if required_v.is_nan() || v_lo.is_nan() || required_v < v_lo {
                     return Err(unreachable());
                 }
                 for _ in 0..200 {
@@ -690,7 +690,7 @@ impl Reference {
                 }
                 let r1 = lo.exp();
                 let (v, i) = at(r1);
-                if !(i > 0.0) || (v - required_v).abs() > 1e-9 * required_v.abs().max(1.0) {
+                if i.is_nan() || i <= 0.0 || (v - required_v).abs() > 1e-9 * required_v.abs().max(1.0) {
                     return Err(unreachable());
                 }
                 Ok(Reference::Shunt(ShuntReference { upper_ohm: r1, ..s }))

@@ -1307,7 +1307,7 @@ mod tests {
         let mut s = ToleranceSettings::default();
         s.monte_carlo.trials = 1_000_000;
         let em = example(BjtModel::EbersMoll);
-        let e = MonteCarloRun::new(&em, &s).err().expect("10^6 Ebers–Moll trials must be refused");
+        let e = MonteCarloRun::new(&em, &s).expect_err("10^6 Ebers–Moll trials must be refused");
         let text = e.to_string();
         assert!(matches!(e, DesignError::InvalidValue { ref field, .. } if field == "tolerance.monte_carlo.trials"), "{e:?}");
         let allowed = (MONTE_CARLO_TIME_LIMIT_S / em.seconds_per_evaluation()).floor() as u64;
