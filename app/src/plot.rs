@@ -661,21 +661,29 @@ pub fn transfer_svg(curve: &TransferCurve) -> Result<String, String> {
     Ok(out)
 }
 
+/// What a chart's axes say: their titles, the spans their tick labels are chosen for, and whether
+/// the x axis is labelled (stacked lanes label only the lowest).
+struct Axes<'a> {
+    x_desc: &'a str,
+    y_desc: &'a str,
+    /// The x axis's span and the divisor its labels are shown in (1, or a time unit).
+    x_span: (f64, f64),
+    y_span: f64,
+    x_labels: bool,
+}
+
 /// The axis style shared by every chart: tick count from the axis length, labels from
 /// [`tick_text`], Hysteron's grid colour. `css` is the data area's approximate size in CSS pixels.
 fn mesh<DB: DrawingBackend>(
     chart: &mut ChartContext<'_, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>,
-    x_desc: &str,
-    y_desc: &str,
-    x_span: (f64, f64, f64),
-    y_span: f64,
+    axes: Axes<'_>,
     css: (f64, f64),
     scale: f64,
-    x_labels: bool,
 ) -> Result<(), String> {
+    let Axes { x_desc, y_desc, x_span, y_span, x_labels } = axes;
     let nx = tick_count(css.0, TICK_SPACING_X_PX);
     let ny = tick_count(css.1, TICK_SPACING_Y_PX);
-    let (span_x, div_x, _) = x_span;
+    let (span_x, div_x) = x_span;
     let fx = move |v: &f64| tick_text(v / div_x, span_x / div_x, nx);
     let fy = move |v: &f64| tick_text(*v, y_span, ny);
     let font = ("sans-serif", (FONT_PX * scale) as u32).into_font().color(&colours::INK);
@@ -730,7 +738,7 @@ fn transfer_on<DB: DrawingBackend>(
         .build_cartesian_2d(x0..x1, y0..y1)
         .map_err(err)?;
     let area_css = ((css.0 - 70.0).max(40.0), (css.1 - 70.0).max(40.0));
-    mesh(&mut chart, "input (V)", "output (V)", (x1 - x0, 1.0, 0.0), y1 - y0, area_css, dpr, true)?;
+    mesh(&mut chart, Axes { x_desc: "input (V)", y_desc: "output (V)", x_span: (x1 - x0, 1.0), y_span: y1 - y0, x_labels: true }, area_css, dpr)?;
     let frame = frame_of(&chart, (x0, x1), (y0, y1), dpr);
     let stroke = (2.2 * dpr).max(1.0) as u32;
     // Threshold lines, each named at its top; the name of the threshold further right is put on
@@ -834,7 +842,7 @@ fn histogram_on<DB: DrawingBackend>(
         .build_cartesian_2d((x0 - pad)..(x1 + pad), 0.0..ymax)
         .map_err(err)?;
     let area_css = ((css.0 - 70.0).max(40.0), (css.1 - 60.0).max(40.0));
-    mesh(&mut chart, x_label, "trials", (x1 - x0 + 2.0 * pad, 1.0, 0.0), ymax, area_css, dpr, true)?;
+    mesh(&mut chart, Axes { x_desc: x_label, y_desc: "trials", x_span: (x1 - x0 + 2.0 * pad, 1.0), y_span: ymax, x_labels: true }, area_css, dpr)?;
     let frame = frame_of(&chart, (x0 - pad, x1 + pad), (0.0, ymax), dpr);
     chart
         .draw_series(hist.counts.iter().enumerate().map(|(i, &c)| {
@@ -970,7 +978,8 @@ fn time_on<DB: DrawingBackend>(
             .map_err(err)?;
         let h_css = area.dim_in_pixel().1 as f64 / dpr;
         let ny_css = if is_input { h_css } else { h_css.min(TICK_SPACING_Y_PX * 2.0) };
-        mesh(&mut chart, &time_desc, if is_input { "input (V)" } else { "V" }, (t1 - t0, div, 0.0), hi - lo, (x_css, ny_css), dpr, last)?;
+        let axes = Axes { x_desc: &time_desc, y_desc: if is_input { "input (V)" } else { "V" }, x_span: (t1 - t0, div), y_span: hi - lo, x_labels: last };
+        mesh(&mut chart, axes, (x_css, ny_css), dpr)?;
         if is_input {
             frame = Some(frame_of(&chart, (t0, t1), (lo, hi), dpr));
             for v in [thresholds.0, thresholds.1] {
