@@ -82,7 +82,7 @@ async fn a_late_piece_leaves_a_loading_line_and_the_design_works_meanwhile() {
     let s = browser::start_at(base).await;
     s.add_starter("demo:sawmill-end-stop").await;
     let line = s
-        .wait_text(".design-view .later-wait[role=status]", "the schematic's loading line", |t| t.contains("Loading this section"))
+        .wait_text(".design-view .later-wait", "the schematic's loading line", |t| t.contains("Loading this section"))
         .await;
     assert!(line.contains('…'), "{line}");
     s.wait_js(

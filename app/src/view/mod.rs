@@ -146,7 +146,7 @@ fn Deferred(load: Later) -> impl IntoView {
         if ready.get() {
             view.try_update_value(|v| v.take()).flatten()
         } else if load.waits_in_place() {
-            Some(view! { <p class="later-wait" role="status">"Loading this section…"</p> }.into_any())
+            Some(view! { <p class="later-wait">"Loading this section…"</p> }.into_any())
         } else {
             None
         }
