@@ -293,6 +293,17 @@ async fn part_list_shows_every_column_at_1400_px_and_fits_at_390_px() {
             "{demo}: at 390 px: {seen}"
         );
         s.js("document.querySelector('#bom').scrollIntoView(); return 1;").await;
+        // The figures may scroll sideways in the table's box, but every part's notes wrap inside the
+        // part of the box that shows, so they read without scrolling.
+        let notes = s
+            .js("const t = document.querySelector('#bom').getBoundingClientRect(); \
+                 const n = [...document.querySelectorAll('#bom .note-text')]; \
+                 return { count: n.length, out: n.filter(e => { const r = e.getBoundingClientRect(); return r.right > t.right + 1 || r.left < t.left - 1; }).map(e => e.textContent.slice(0, 40)) };")
+            .await;
+        assert!(
+            notes["count"].as_u64().unwrap_or(0) >= 1 && notes["out"].as_array().is_some_and(|o| o.is_empty()),
+            "{demo}: at 390 px a part's notes run out of view: {notes}"
+        );
         screenshot(&s, &format!("{demo}-partlist-390")).await;
         close_studies(&s).await;
     }

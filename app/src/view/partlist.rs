@@ -61,7 +61,7 @@ pub fn PartListSection() -> impl IntoView {
                                     <td class="bom-rating">{format!("{} W", r.package_rating_w)}</td>
                                     <td class="bom-min-rating" title=match r.rating_sufficient { Some(false) => "above the package's rating: use a larger package", _ => "within the package's rating" }>{r.suggested_rating_w.map(|p| format!("{p} W {}", match r.rating_sufficient { Some(false) => "✗", _ => "✓" })).unwrap_or_default()}</td>
                                 </tr>
-                                {(!notes.is_empty()).then(|| view! { <tr class="bom-notes"><td class="notes" colspan="7">{notes}</td></tr> })}
+                                {(!notes.is_empty()).then(|| view! { <NoteRow text=notes /> })}
                             }}).collect_view()}
                             {b.application.iter().map(|p| {
                                 // The role of an oscillator or debouncer part, then its findings, on a line below.
@@ -76,7 +76,7 @@ pub fn PartListSection() -> impl IntoView {
                                     <td class="bom-rating">{(p.kind == PartKind::Resistor).then(|| format!("{} W", b.settings.package.power_rating_w()))}</td>
                                     <td class="bom-min-rating">{p.suggested_rating_w.map(|w| format!("{w} W")).or(p.suggested_voltage_v.map(|v| format!("{v} V"))).unwrap_or_default()}</td>
                                 </tr>
-                                <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
+                                <NoteRow text=about />
                             }}).collect_view()}
                             {b.regulators.iter().map(|g| {
                                 let about = std::iter::once(g.description.clone()).chain(g.notes.iter().cloned()).collect::<Vec<_>>().join("; ");
@@ -90,7 +90,7 @@ pub fn PartListSection() -> impl IntoView {
                                     <td></td>
                                     <td class="bom-min-rating">{g.suggested_rating_w.map(|w| format!("{w} W")).unwrap_or_default()}</td>
                                 </tr>
-                                <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
+                                <NoteRow text=about />
                             }}).collect_view()}
                             {b.input_network.iter().map(|p| {
                                 let about = std::iter::once(format!("input network: {}", p.label)).chain(p.notes.iter().cloned()).collect::<Vec<_>>().join("; ");
@@ -106,13 +106,18 @@ pub fn PartListSection() -> impl IntoView {
                                     <td></td>
                                     <td class="bom-min-rating">{min_rating}</td>
                                 </tr>
-                                <tr class="bom-notes"><td class="notes" colspan="7">{about}</td></tr>
+                                <NoteRow text=about />
                             }}).collect_view()}
-                            <tr class="bom-device">
-                                <td>{b.device.designator.clone()}</td>
-                                <td colspan="6">{b.device.description.clone()}
-                                    {(!b.device.notes.is_empty()).then(|| format!(" — {}", b.device.notes.join("; ")))}</td>
-                            </tr>
+                            {
+                                let notes = b.device.notes.join("; ");
+                                view! {
+                                <tr class="bom-device" class:has-notes=!notes.is_empty()>
+                                    <td>{b.device.designator.clone()}</td>
+                                    <td colspan="6">{b.device.description.clone()}</td>
+                                </tr>
+                                {(!notes.is_empty()).then(|| view! { <NoteRow text=notes /> })}
+                                }
+                            }
                         </tbody>
                     </table>
                     <p class="note">{format!("* Rating: {PACKAGE_RATING_BASIS}. Min. rating: {}× the worst dissipation (common practice); for a capacitor, its voltage rating, at least twice the largest voltage it sees.", b.settings.power_derating_factor)}</p>
@@ -121,4 +126,12 @@ pub fn PartListSection() -> impl IntoView {
             }}
         </section>
     }
+}
+
+/// A part's role and findings on a full-width line below its figures. The text sits in a block that
+/// stays inside the table's visible width while a wide table scrolls sideways (`.note-text`), so on
+/// a phone it wraps where it can be read instead of running off the right edge.
+#[component]
+fn NoteRow(text: String) -> impl IntoView {
+    view! { <tr class="bom-notes"><td class="notes" colspan="7"><span class="note-text">{text}</span></td></tr> }
 }
