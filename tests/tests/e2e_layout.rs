@@ -217,6 +217,15 @@ async fn plots_are_drawn_at_screen_size_times_pixel_ratio() {
     // The time view of the signal test, with its lanes.
     s.wait_for("#signal-run").await.click().await.expect("run the signal test");
     s.wait_js("the time view to be shown", "const c = document.querySelector('#time-plot'); return c && c.clientWidth > 0;").await;
+    // A run's waveforms are hidden only between its report and their drawing (the next task), and
+    // shown again once drawn: run it again and both runs end with the waveforms in view.
+    const WAVES_SHOWN: &str = "const v = document.querySelector('.time-view'); return !!v && !v.classList.contains('waves-pending') && getComputedStyle(v).visibility === 'visible';";
+    s.wait_js("the waveforms to be in view", WAVES_SHOWN).await;
+    let first_ms = s.js("return document.querySelector('#signal-time').dataset.ms;").await;
+    s.wait_for("#signal-run").await.click().await.expect("run the signal test again");
+    // The second run's report: its run time (a float of performance.now() differences) differs.
+    s.wait_js("the second run's report", &format!("const t = document.querySelector('#signal-time'); return !!t && t.dataset.ms !== {first_ms};")).await;
+    s.wait_js("the waveforms to be in view after a second run", WAVES_SHOWN).await;
     plots_fit(&s, "time view").await;
     // Zooming redraws at the same backing size (no stretched bitmap).
     s.wait_for("#zoom-in").await.click().await.expect("zoom in");

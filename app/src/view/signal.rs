@@ -180,6 +180,9 @@ pub fn SignalSection() -> impl IntoView {
     let import_progress = RwSignal::new(None::<f64>);
     let import_generation = RwSignal::new(0u64);
     let run = RwSignal::new(None::<Result<std::sync::Arc<SignalRun>, String>>);
+    // False between a new run's report being shown and its waveforms being drawn (the task after):
+    // the previous run's waveforms are hidden meanwhile, never shown under the new report.
+    let waves_current = RwSignal::new(true);
     let has_settings = Memo::new(move |_| settings.with(|s| s.is_some()));
     let sample_rate = Signal::derive(move || settings.with(|s| s.as_ref().map(|s| s.definition.sample_rate_hz)).unwrap_or(f64::NAN));
     // A sample rate or duration is refused at its field when the signal cannot be built with it.
@@ -264,11 +267,13 @@ pub fn SignalSection() -> impl IntoView {
                 // shown; the waveforms are drawn on a task of their own, so that storing,
                 // showing and drawing a large run never make one long task.
                 let report = r.report.clone();
+                waves_current.set(false);
                 nb.keep_study(&id, move |s| s.signal = Some(Kept { inputs, result: crate::unread::Unread::new(report), elapsed_ms }));
                 crate::tick::later(move || {
                     let n = r.signal_v.len();
                     view_window.set((r.time.view().at(0), r.time.view().at(n.saturating_sub(1))));
                     run.set(Some(Ok(r)));
+                    waves_current.try_set(true);
                 });
             },
         );
@@ -465,7 +470,7 @@ pub fn SignalSection() -> impl IntoView {
                     }.into_any()
                 }
             })}
-            <div class="time-view" class:hidden=move || !run.with(|r| matches!(r, Some(Ok(_))))>
+            <div class="time-view" class:hidden=move || !run.with(|r| matches!(r, Some(Ok(_)))) class:waves-pending=move || !waves_current.get()>
                 <div class="row no-print">
                     <button class="quiet small" id="zoom-in" on:click=move |_| zoom(0.5)>"Zoom in"</button>
                     <button class="quiet small" id="zoom-out" on:click=move |_| zoom(2.0)>"Zoom out"</button>
