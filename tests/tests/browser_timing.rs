@@ -130,6 +130,29 @@ async fn editable_at(s: &browser::Session) -> f64 {
     .await
 }
 
+/// The name prefixes of the files the editor's piece loads (`hysteron-split_editor-` and the
+/// shared chunks the split loader lists for it, `__wasm_split_load_editor`'s dependencies).
+fn editor_files() -> Vec<String> {
+    let dist = hysteron_tests::server::dist_dir();
+    let loader = std::fs::read_dir(&dist)
+        .expect("list dist/")
+        .flatten()
+        .find(|e| e.file_name().to_string_lossy().starts_with("hysteron-split-"))
+        .and_then(|e| std::fs::read_to_string(e.path()).ok())
+        .unwrap_or_default();
+    // `export const __wasm_split_load_editor = wrapAsyncCb(makeLoad(() => { … }, [__chunk_4, …]));`
+    let deps = loader
+        .split("__wasm_split_load_editor")
+        .nth(1)
+        .and_then(|rest| rest.find("]));").map(|end| &rest[..end]))
+        .and_then(|list| list.rsplit_once('['))
+        .map(|(_, d)| d)
+        .unwrap_or("");
+    let mut out = vec!["hysteron-split_editor-".to_string()];
+    out.extend(deps.split(',').filter_map(|d| d.trim().strip_prefix("__chunk_")).map(|n| format!("hysteron-chunk_{n}-")));
+    out
+}
+
 /// Raw and compressed sizes of the built page module, the compute-worker module and each piece of
 /// the page loaded after the first paint (DEVELOPERS.md, "Loading in pieces"), bytes: DEFLATE at
 /// level 9 (miniz_oxide) plus gzip's 18 bytes of framing, within about 1 % of `gzip -9`.
@@ -340,13 +363,22 @@ async fn timed_runs_in_the_browser() {
          schematic {cold_sections:.0} ms after navigation"
     );
     let (mut piece_raw, mut piece_packed, mut pieces) = (0, 0, 0);
+    let editor_files = editor_files();
+    let (mut editor_raw, mut editor_packed) = (0, 0);
     for (name, raw, packed) in module_sizes() {
         if name.starts_with("hysteron-split_") || name.starts_with("hysteron-chunk_") {
             (piece_raw, piece_packed, pieces) = (piece_raw + raw, piece_packed + packed, pieces + 1);
+            if editor_files.iter().any(|f| name.starts_with(f.as_str())) {
+                (editor_raw, editor_packed) = (editor_raw + raw, editor_packed + packed);
+            }
         } else {
             println!("browser timing: module {name}: {raw} bytes, {packed} bytes compressed (gzip -9 equivalent)");
         }
     }
-    println!("browser timing: {pieces} pieces loaded after the first paint: {piece_raw} bytes, {piece_packed} bytes compressed in all");
+    println!(
+        "browser timing: {pieces} pieces fetched after the first module: {piece_raw} bytes, {piece_packed} bytes compressed in all; \
+         the editor's ({}): {editor_raw} bytes, {editor_packed} bytes compressed",
+        editor_files.join(", ")
+    );
     s.close().await;
 }

@@ -1,7 +1,10 @@
 //! Browser end-to-end: the page loaded in pieces (DEVELOPERS.md, "Loading in pieces"). The page's
-//! first module shows the notebook as last saved (`app/src/glance.rs`); the editor, with every
-//! section and study, arrives as one piece after that first paint. A piece that cannot be fetched
-//! is reported once, at the top, and leaves the saved designs on screen — never a stopped page.
+//! first module shows the notebook as last saved (`app/src/glance.rs`); the editor arrives as a
+//! piece fetched at once, and the studies, the schematic, the parts section, the part list, the
+//! share section and the sheet as another once the editor has painted. A piece that cannot be
+//! fetched is reported once, at the top, and leaves the rest working — never a stopped page: without
+//! the editor's piece the saved designs stay on screen; without the sections' piece the design
+//! still takes edits.
 
 use hysteron_tests::{browser, server};
 use std::path::PathBuf;
@@ -18,6 +21,92 @@ fn pieces() -> Vec<String> {
     out
 }
 
+#[tokio::test(flavor = "multi_thread")]
+async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
+    let pieces = pieces();
+    assert!(
+        pieces.iter().any(|p| p.starts_with("hysteron-split_later_views-")),
+        "the page was not built in pieces (cargo xtask build sets HYSTERON_SPLIT=1): {pieces:?}"
+    );
+
+    // The page as built: opening a demo brings every deferred section, fetched as one piece.
+    let s = browser::start().await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    for section in ["#tolerance", "#bom", "#signal-run"] {
+        s.wait_for(section).await;
+    }
+    let fetched = s.js("return performance.getEntriesByType('resource').map(e => e.name).filter(n => n.includes('hysteron-split_later_views-')).length").await;
+    assert!(fetched.as_u64().unwrap_or(0) >= 1, "the sections' piece was not fetched: {fetched}");
+    s.close().await;
+
+    // A copy of the build without the sections' piece (as after a rebuild while the page
+    // was open, or offline before the service worker kept it).
+    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-pieces-dist-{}", std::process::id()));
+    std::fs::remove_dir_all(&root).ok();
+    std::fs::create_dir_all(&root).expect("make the copy");
+    for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
+        let name = entry.file_name().to_string_lossy().to_string();
+        if entry.path().is_file() && !name.starts_with("hysteron-split_later_views-") {
+            std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
+        }
+    }
+    let base = server::serve(root.clone()).await.expect("serve the copy");
+    let s = browser::start_at(base).await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    // The page says once, at its top, that part of it is missing, in words; each section with a
+    // place of its own (11 of `view::Later`'s 14: not the editor, the results' windows job nor a shared link's
+    // view) points there; everything else is there and works.
+    let message = s.wait_text("#piece-missing[role=alert]", "the missing piece's message", |t| t.contains("could not be loaded")).await;
+    assert!(message.contains("Reload the page"), "{message}");
+    s.wait_for("#fold-tolerance summary").await.click().await.expect("open the tolerance fold");
+    s.wait_text("#fold-tolerance .piece-missing", "the tolerance study's pointer", |t| t.contains("Not loaded")).await;
+    assert_eq!(s.js("return document.querySelectorAll('#tolerance').length").await, 0);
+    s.wait_js("every section with a place to say it is not loaded", "return document.querySelectorAll('.piece-missing').length === 11;").await;
+    let alerts = s.js("return [...document.querySelectorAll('[role=alert]')].filter(e => e.textContent.includes('could not be loaded')).length").await;
+    assert_eq!(alerts.as_u64(), Some(1), "the missing piece is announced once");
+    let vt = s.number("#vt-upper").await;
+    assert!(vt.is_finite(), "VT+ still shown: {vt}");
+    // The page still takes edits: a new R1 typed in moves VT+ (R1 3.3 kΩ → 4.7 kΩ).
+    s.type_into("#field-r1_ohm", "4k7").await;
+    let moved = s.wait_number_change("#vt-upper", vt).await;
+    assert!(moved.is_finite() && moved != vt, "VT+ {vt} → {moved}");
+    s.close().await;
+    std::fs::remove_dir_all(&root).ok();
+}
+
+#[tokio::test(flavor = "multi_thread")]
+async fn a_late_piece_leaves_a_loading_line_and_the_design_works_meanwhile() {
+    // The sections' piece held back for 4 s by the server, as over a slow link: the design shows
+    // and takes edits at once; the schematic's place says it is loading (after a moment, so a quick
+    // load never flashes it), and the line gives way to the schematic once the piece arrives.
+    let base = server::serve_slow(server::dist_dir(), "hysteron-split_later_views-", std::time::Duration::from_secs(4))
+        .await
+        .expect("serve the build");
+    let s = browser::start_at(base).await;
+    s.add_starter("demo:sawmill-end-stop").await;
+    let line = s
+        .wait_text(".design-view .later-wait", "the schematic's loading line", |t| t.contains("Loading this section"))
+        .await;
+    assert!(line.contains('…'), "{line}");
+    s.wait_js(
+        "the loading line to show after its moment",
+        "const p = document.querySelector('.design-view .later-wait'); return !!p && getComputedStyle(p).visibility === 'visible';",
+    )
+    .await;
+    assert_eq!(s.js("return document.querySelectorAll('#schematic').length").await, 0, "the schematic came before its piece");
+    let waiting = s.js("return document.querySelectorAll('.later-wait').length").await.as_u64().unwrap_or(0);
+    assert!(waiting >= 4, "the schematic, parts, part list and share places each hold a line: {waiting}");
+    // Meanwhile the design takes edits: a new R1 moves VT+ (R1 3.3 kΩ → 4.7 kΩ).
+    let vt = s.number("#vt-upper").await;
+    s.type_into("#field-r1_ohm", "4k7").await;
+    let moved = s.wait_number_change("#vt-upper", vt).await;
+    assert!(moved.is_finite() && moved != vt, "VT+ {vt} → {moved}");
+    // The piece arrives: every line gives way to its section.
+    s.wait_for("#schematic").await;
+    s.wait_js("every loading line to give way", "return document.querySelectorAll('.later-wait').length === 0;").await;
+    s.close().await;
+}
+
 /// A first session's notebook after adding the sawmill demo through the page: every item of its
 /// local storage (JSON text of a key → text map), the demo's name and the VT+ its stored snapshot
 /// keeps (`core::overview::Snapshot`, as the page saved it).
@@ -27,7 +116,7 @@ async fn saved_demo() -> (String, String, f64) {
     for section in ["#tolerance", "#bom", "#signal-run"] {
         s.wait_for(section).await;
     }
-    let fetched = s.js("return performance.getEntriesByType('resource').map(e => e.name).filter(n => n.includes('hysteron-split_later_views-')).length").await;
+    let fetched = s.js("return performance.getEntriesByType('resource').map(e => e.name).filter(n => n.includes('hysteron-split_editor-')).length").await;
     assert!(fetched.as_u64().unwrap_or(0) >= 1, "the editor's piece was not fetched: {fetched}");
     s.wait_js(
         "the demo to be stored with its snapshot",
@@ -66,22 +155,22 @@ async fn shows_last_saved(s: &browser::Session, name: &str, vt: f64) {
 }
 
 #[tokio::test(flavor = "multi_thread")]
-async fn a_missing_piece_is_reported_once_and_leaves_the_designs_as_last_saved() {
+async fn a_missing_editor_is_reported_once_and_leaves_the_designs_as_last_saved() {
     let pieces = pieces();
     assert!(
-        pieces.iter().any(|p| p.starts_with("hysteron-split_later_views-")),
+        pieces.iter().any(|p| p.starts_with("hysteron-split_editor-")),
         "the page was not built in pieces (cargo xtask build sets HYSTERON_SPLIT=1): {pieces:?}"
     );
     let (items, name, vt) = saved_demo().await;
 
     // A copy of the build without the editor's piece (as after a rebuild while the page was
     // open, or offline before the service worker kept it).
-    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-pieces-dist-{}", std::process::id()));
+    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-editor-dist-{}", std::process::id()));
     std::fs::remove_dir_all(&root).ok();
     std::fs::create_dir_all(&root).expect("make the copy");
     for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
         let name = entry.file_name().to_string_lossy().to_string();
-        if entry.path().is_file() && !name.starts_with("hysteron-split_later_views-") {
+        if entry.path().is_file() && !name.starts_with("hysteron-split_editor-") {
             std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
         }
     }
@@ -111,7 +200,7 @@ async fn a_late_editor_leaves_the_designs_as_last_saved_on_screen_then_takes_edi
     // the editor is on its way; then the editor replaces it, agrees with the stored figures and
     // takes edits.
     let (items, name, vt) = saved_demo().await;
-    let base = server::serve_slow(server::dist_dir(), "hysteron-split_later_views-", std::time::Duration::from_secs(4))
+    let base = server::serve_slow(server::dist_dir(), "hysteron-split_editor-", std::time::Duration::from_secs(4))
         .await
         .expect("serve the build");
     let s = open_with_saved(&base, &items).await;

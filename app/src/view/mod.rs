@@ -91,7 +91,12 @@ pub(crate) struct PieceTrouble(pub(crate) RwSignal<bool>);
 #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(later_views, wasm_split_path = leptos::wasm_split, fallible))]
 fn build_later(which: Later) -> Result<AnyView, PieceMissing> {
     Ok(match which {
-        Later::Notebook => view! { <App /> }.into_any(),
+        // The editor has a piece of its own: `load_later` asks `build_editor` for it in the split
+        // build; the one-module build comes here.
+        #[cfg(not(hysteron_split))]
+        Later::Notebook => build_editor()?,
+        #[cfg(hysteron_split)]
+        Later::Notebook => ().into_any(),
         Later::InputNetwork => view! { <input_network::InputNetworkSection /> }.into_any(),
         Later::Tolerance => view! { <tolerance::ToleranceSection /> }.into_any(),
         Later::Temperature => view! { <temperature::TemperatureSection /> }.into_any(),
@@ -108,10 +113,22 @@ fn build_later(which: Later) -> Result<AnyView, PieceMissing> {
     })
 }
 
-/// The view of `which`, once its code has arrived (see [`build_later`]).
+/// Builds the editor ([`App`]). In the split build its code, and all that it alone reaches, is a
+/// piece of its own (`editor`), fetched as soon as the page starts; the sections it builds after
+/// its first paint are in [`build_later`]'s piece, fetched then. Two pieces rather than one: the
+/// editor takes edits as soon as its own code has arrived, without waiting for every study's.
+#[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(editor, wasm_split_path = leptos::wasm_split, fallible))]
+fn build_editor() -> Result<AnyView, PieceMissing> {
+    Ok(view! { <App /> }.into_any())
+}
+
+/// The view of `which`, once its code has arrived (see [`build_later`], [`build_editor`]).
 async fn load_later(which: Later) -> Result<AnyView, PieceMissing> {
     #[cfg(hysteron_split)]
-    return build_later(which).await;
+    return match which {
+        Later::Notebook => build_editor().await,
+        _ => build_later(which).await,
+    };
     #[cfg(not(hysteron_split))]
     return build_later(which);
 }
