@@ -70,8 +70,9 @@ impl Later {
     }
 
     /// Whether its code is fetched only once the page has painted: every section but the editor,
-    /// which is fetched at once (a piece compiles off the page's thread, and whatever arrives
-    /// before the first frame only spares the user the glance).
+    /// whose fetch starts while the first module mounts (a piece downloads and compiles off the
+    /// page's thread, and an editor that arrives before the first frame only spares the user the
+    /// glance).
     fn after_first_paint(self) -> bool {
         self != Later::Notebook
     }
@@ -155,7 +156,7 @@ fn Deferred(
         if load.after_first_paint() {
             crate::tick::after_paint(LATER_FALLBACK_MS, f)
         } else {
-            crate::tick::later(f)
+            f()
         }
     };
     start(Box::new(move || {
