@@ -5,6 +5,7 @@
 
 pub mod download;
 pub mod fields;
+pub mod glance;
 pub mod panic;
 pub mod piece;
 pub mod jobs;
@@ -25,11 +26,10 @@ pub fn start() {
         let _ = p.mark("hysteron-start");
     }
     panic::install();
-    leptos::mount::mount_to_body(view::App);
-    // Lets browser timing runs read how long loading took (performance.getEntriesByName).
+    leptos::mount::mount_to_body(view::Root);
+    // Lets browser timing runs read how long loading took (performance.getEntriesByName); the
+    // editor marks "hysteron-editable" when it has arrived.
     if let Some(p) = web_sys::window().and_then(|w| w.performance()) {
         let _ = p.mark("hysteron-mounted");
     }
-    // Start the compute workers in the background, after the page has shown.
-    tick::after_ms(200, || jobs::prewarm(jobs::pool_size()));
 }

@@ -248,7 +248,8 @@ pub fn load() -> Loaded {
     loaded
 }
 
-fn scan_design_keys() -> Vec<String> {
+/// The ids of every design stored under its own key, sorted (whether the list names them or not).
+pub(crate) fn scan_design_keys() -> Vec<String> {
     let mut ids = Vec::new();
     let Some(storage) = web_sys::window().and_then(|w| w.local_storage().ok().flatten()) else { return ids };
     let n = storage.length().unwrap_or(0);

@@ -114,6 +114,11 @@ pub struct Snapshot {
     /// snapshots saved before it was kept.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub field_terminal: Option<Thresholds>,
+    /// The design's safety cautions at save time (`safety::cautions_with`), so a view of the saved
+    /// figures alone shows them too; empty when there were none, and in snapshots saved before
+    /// they were kept.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub cautions: Vec<Caution>,
     /// Version of the math that computed it.
     pub computed_by: String,
 }
@@ -130,26 +135,34 @@ pub fn snapshot(record: &DesignRecord) -> Option<Snapshot> {
         .filter(|p| p.kind == ParameterKind::Resistor)
         .map(|p| SnapshotPart { designator: p.designator.unwrap_or_default(), label: p.label, value: p.value })
         .collect();
+    let analysis = analyse(c, &record.checks);
     Some(Snapshot {
         vt_upper_v: t.vt_upper_v,
         vt_lower_v: t.vt_lower_v,
         hysteresis_v: t.hysteresis_v(),
         curve,
         parts,
-        part_list: analyse(c, &record.checks).and_then(|a| part_list(record, &a)).ok(),
+        part_list: analysis.as_ref().ok().and_then(|a| part_list(record, a).ok()),
         field_terminal: crate::input_network::from_record::record_network(record).and_then(|r| r.ok()).map(|n| n.field),
+        cautions: crate::safety::cautions_with(record, analysis.as_ref().ok()),
         computed_by: env!("CARGO_PKG_VERSION").to_string(),
     })
 }
 
 impl Snapshot {
-    /// The one-line summary a list of saved designs shows: VT+ and VT− where the signal enters —
-    /// at the field terminal for a design with an input network, at the trigger's input otherwise.
+    /// The one-line summary a list of saved designs shows ([`summary_line`]).
     pub fn summary(&self) -> String {
-        match &self.field_terminal {
-            Some(t) => format!("at the field terminal VT+ {:.3} V · VT− {:.3} V", t.vt_upper_v, t.vt_lower_v),
-            None => format!("VT+ {:.3} V · VT− {:.3} V", self.vt_upper_v, self.vt_lower_v),
-        }
+        summary_line(self.vt_upper_v, self.vt_lower_v, self.field_terminal.as_ref().map(|t| (t.vt_upper_v, t.vt_lower_v)))
+    }
+}
+
+/// The one-line summary of a saved design's thresholds: VT+ and VT− (volts) where the signal
+/// enters — at the field terminal (`field_terminal`, VT+ and VT− there) for a design with an input
+/// network, at the trigger's input otherwise.
+pub fn summary_line(vt_upper_v: f64, vt_lower_v: f64, field_terminal: Option<(f64, f64)>) -> String {
+    match field_terminal {
+        Some((up, low)) => format!("at the field terminal VT+ {up:.3} V · VT− {low:.3} V"),
+        None => format!("VT+ {vt_upper_v:.3} V · VT− {vt_lower_v:.3} V"),
     }
 }
 

@@ -240,6 +240,10 @@ fn names_mains_voltage(text: &str) -> bool {
     false
 }
 
+/// The line every list of cautions ends with on the page: the arithmetic is not a safety review.
+pub const ARITHMETIC_ONLY: &str =
+    "Hysteron does the arithmetic only; it does not make a design safe. Local codes and licensed practice take precedence.";
+
 const ABOVE_ELV_ADVICE: &str = "it can give a dangerous shock. Rate every part and spacing for the working and surge voltage (creepage and clearance per IEC 60664-1 / IEC 62368-1); at the bench use an isolation transformer or a differential probe and a current-limited supply, and follow local electrical codes; such work belongs to qualified, licensed practice.";
 
 /// The cautions for a design, from its values (analysed here; see [`cautions_with`]).

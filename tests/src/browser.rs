@@ -97,6 +97,14 @@ pub async fn start() -> Session {
 
 /// As [`start`], for a page already served at `base` (a test that controls its own server).
 pub async fn start_at(base: String) -> Session {
+    let s = open_at(base).await;
+    s.wait_for("#design").await;
+    s
+}
+
+/// As [`start_at`], but waits only for the page's first module (its header), not for the editor:
+/// for a test of what shows before the editor arrives, or when it cannot.
+pub async fn open_at(base: String) -> Session {
     let port = free_port();
     let driver = Command::new("chromedriver")
         .arg(format!("--port={port}"))
@@ -128,7 +136,7 @@ pub async fn start_at(base: String) -> Session {
     .await;
     let s = Session { client, base, _driver: driver, _profile: tempdir::Dir(profile) };
     s.client.goto(&s.base).await.expect("open the page");
-    s.wait_for("#design").await;
+    s.wait_for("header.top").await;
     s
 }
 

@@ -2,7 +2,8 @@
 //! live here and in the criterion benchmarks, never in assertions on time. Each run also checks that
 //! the work it timed really happened.
 //!
-//! Figures printed: page load to mounted, input event to updated results (p50/p95 over 60 edits,
+//! Figures printed: page load to the first module mounted (the notebook as last saved shown) and to
+//! the editor arrived ("hysteron-editable": usable), input event to updated results (p50/p95 over 60 edits,
 //! analysis plus transfer-curve redraw), Monte Carlo 100,000 trials (five runs, with the last one's
 //! job timeline: parts sent, begun and ended on the workers, read back, merged), the E96 three-decade
 //! search (three runs, the same),
@@ -10,8 +11,10 @@
 //! (PerformanceObserver "longtask": main-thread tasks over 50 ms; count, longest and wall time),
 //! the noise sweep of the 1 M-sample signal, a 1,000,000-row CSV import and the opening of every
 //! demo (both watched by the same observer; for the opening, also the click's own task), the
-//! page mounted again after a reload, and a first visit with the cache and storage emptied (mounted
-//! and first contentful paint); and the sizes of the two built modules, raw and compressed.
+//! page mounted and editable again after a reload, and a first visit with the cache and storage
+//! emptied (mounted, first contentful paint, editable, schematic shown); and the sizes of the page's
+//! first module, of the compute worker's and of the pieces fetched after the first paint, raw and
+//! compressed.
 //!
 //! The host's speed drifts (a virtual machine's neighbours: the same native Monte Carlo benchmark
 //! measured 8.8 ms and 11.6 ms an hour apart), so the run also times the same Monte Carlo natively
@@ -75,10 +78,10 @@ async fn repeated_runs(s: &browser::Session, button: &str, summary: &str, n: usi
 
 /// A first visit, `n` times, with the browser already running: the page's origin's storage (the
 /// service worker and its cache included) and the HTTP cache are emptied, then the page is opened.
-/// Returns the medians of the mount mark, of the first contentful paint and of the moment the
-/// schematic (the first section of the piece fetched after the first paint) enters the page, ms
+/// Returns the medians of the mount mark, of the first contentful paint, of the editor's arrival
+/// ([`editable_at`]) and of the moment the schematic (the first section of the piece fetched after the first paint) enters the page, ms
 /// after navigation. (The run's first navigation also pays for starting the browser's own processes.)
-async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64, f64) {
+async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64, f64, f64) {
     let origin = s.base.trim_end_matches('/').to_string();
     // Notes when the schematic enters the page, on every page opened from now on.
     s.devtools(
@@ -86,7 +89,7 @@ async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64, f64) {
         serde_json::json!({"source": "new MutationObserver((_, o) => { if (document.getElementById('schematic')) { window.__schematicAt = performance.now(); o.disconnect(); } }).observe(document, {childList: true, subtree: true});"}),
     )
     .await;
-    let (mut mounted, mut painted, mut sections) = (Vec::new(), Vec::new(), Vec::new());
+    let (mut mounted, mut painted, mut editable, mut sections) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for _ in 0..n {
         s.devtools("Storage.clearDataForOrigin", serde_json::json!({"origin": origin, "storageTypes": "all"})).await;
         s.devtools("Network.enable", serde_json::json!({})).await;
@@ -103,6 +106,7 @@ async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64, f64) {
         .await;
         mounted.push(v[0].as_f64().unwrap_or(f64::NAN));
         painted.push(v[1].as_f64().unwrap_or(f64::NAN));
+        editable.push(editable_at(s).await);
         let at = browser::wait_until("the schematic to arrive", std::time::Duration::from_secs(20), || async {
             let v = s.js("return window.__schematicAt ?? null;").await;
             v.as_f64().ok_or_else(|| v.to_string())
@@ -110,10 +114,43 @@ async fn cold_loads(s: &browser::Session, n: usize) -> (f64, f64, f64) {
         .await;
         sections.push(at);
     }
-    for v in [&mut mounted, &mut painted, &mut sections] {
+    for v in [&mut mounted, &mut painted, &mut editable, &mut sections] {
         v.sort_by(|a, b| a.total_cmp(b));
     }
-    (percentile(&mounted, 0.5), percentile(&painted, 0.5), percentile(&sections, 0.5))
+    (percentile(&mounted, 0.5), percentile(&painted, 0.5), percentile(&editable, 0.5), percentile(&sections, 0.5))
+}
+
+/// When the editor of the page now open had arrived and was in the page ("hysteron-editable",
+/// marked by `view::App`), milliseconds after navigation: the page is usable from then on.
+async fn editable_at(s: &browser::Session) -> f64 {
+    browser::wait_until("the editor to arrive", std::time::Duration::from_secs(20), || async {
+        let v = s.js("const m = performance.getEntriesByName('hysteron-editable')[0]; return m ? m.startTime : null;").await;
+        v.as_f64().ok_or_else(|| v.to_string())
+    })
+    .await
+}
+
+/// The name prefixes of the files the editor's piece loads (`hysteron-split_editor-` and the
+/// shared chunks the split loader lists for it, `__wasm_split_load_editor`'s dependencies).
+fn editor_files() -> Vec<String> {
+    let dist = hysteron_tests::server::dist_dir();
+    let loader = std::fs::read_dir(&dist)
+        .expect("list dist/")
+        .flatten()
+        .find(|e| e.file_name().to_string_lossy().starts_with("hysteron-split-"))
+        .and_then(|e| std::fs::read_to_string(e.path()).ok())
+        .unwrap_or_default();
+    // `export const __wasm_split_load_editor = wrapAsyncCb(makeLoad(() => { … }, [__chunk_4, …]));`
+    let deps = loader
+        .split("__wasm_split_load_editor")
+        .nth(1)
+        .and_then(|rest| rest.find("]));").map(|end| &rest[..end]))
+        .and_then(|list| list.rsplit_once('['))
+        .map(|(_, d)| d)
+        .unwrap_or("");
+    let mut out = vec!["hysteron-split_editor-".to_string()];
+    out.extend(deps.split(',').filter_map(|d| d.trim().strip_prefix("__chunk_")).map(|n| format!("hysteron-chunk_{n}-")));
+    out
 }
 
 /// Raw and compressed sizes of the built page module, the compute-worker module and each piece of
@@ -140,6 +177,7 @@ async fn timed_runs_in_the_browser() {
     let mounted = s.js("const m = performance.getEntriesByName('hysteron-mounted')[0]; return m ? m.startTime : -1;").await;
     let mounted_ms = mounted.as_f64().unwrap_or(-1.0);
     assert!(mounted_ms > 0.0, "the page did not mark its mount");
+    let editable_ms = editable_at(&s).await;
 
     // The lathe tachometer demo: three resistors, targets, a spec window and a signal.
     s.add_starter("demo:lathe-tachometer").await;
@@ -305,10 +343,12 @@ async fn timed_runs_in_the_browser() {
     s.reload().await;
     let again = s.js("const m = performance.getEntriesByName('hysteron-mounted')[0]; return m ? m.startTime : -1;").await;
     let again_ms = again.as_f64().unwrap_or(-1.0);
+    let again_editable_ms = editable_at(&s).await;
     let workers = s.js("return navigator.hardwareConcurrency;").await;
 
     println!(
-        "browser timing ({workers} hardware threads): mounted {mounted_ms:.0} ms after navigation, {again_ms:.0} ms after a reload; \
+        "browser timing ({workers} hardware threads): first shown (the notebook as last saved) {mounted_ms:.0} ms and editable {editable_ms:.0} ms after navigation, \
+         {again_ms:.0} / {again_editable_ms:.0} ms after a reload; \
          input→results p50 {p50:.2} ms, p95 {p95:.2} ms (60 edits); \
          Monte Carlo 100k {mc_ms:.0} ms wall, median of 5 ({:.2}× the test build's native run, {native_mc_ms:.1} ms); E96 search {search_ms:.1} ms (median of 3); 1M-sample signal {signal_ms:.0} ms; \
          noise sweep of the 1M-sample signal {sweep_ms:.0} ms; \
@@ -316,19 +356,29 @@ async fn timed_runs_in_the_browser() {
         mc_ms / native_mc_ms,
         long.len()
     );
-    let (cold_mounted, cold_paint, cold_sections) = cold_loads(&s, 3).await;
+    let (cold_mounted, cold_paint, cold_editable, cold_sections) = cold_loads(&s, 3).await;
     println!(
         "browser timing: first visit with the cache and storage emptied (browser already running), median of 3: \
-         mounted {cold_mounted:.0} ms, first contentful paint {cold_paint:.0} ms, schematic (the later piece's first section) {cold_sections:.0} ms after navigation"
+         first module mounted {cold_mounted:.0} ms, first contentful paint {cold_paint:.0} ms, editable {cold_editable:.0} ms, \
+         schematic {cold_sections:.0} ms after navigation"
     );
     let (mut piece_raw, mut piece_packed, mut pieces) = (0, 0, 0);
+    let editor_files = editor_files();
+    let (mut editor_raw, mut editor_packed) = (0, 0);
     for (name, raw, packed) in module_sizes() {
         if name.starts_with("hysteron-split_") || name.starts_with("hysteron-chunk_") {
             (piece_raw, piece_packed, pieces) = (piece_raw + raw, piece_packed + packed, pieces + 1);
+            if editor_files.iter().any(|f| name.starts_with(f.as_str())) {
+                (editor_raw, editor_packed) = (editor_raw + raw, editor_packed + packed);
+            }
         } else {
             println!("browser timing: module {name}: {raw} bytes, {packed} bytes compressed (gzip -9 equivalent)");
         }
     }
-    println!("browser timing: {pieces} pieces loaded after the first paint: {piece_raw} bytes, {piece_packed} bytes compressed in all");
+    println!(
+        "browser timing: {pieces} pieces fetched after the first module: {piece_raw} bytes, {piece_packed} bytes compressed in all; \
+         the editor's ({}): {editor_raw} bytes, {editor_packed} bytes compressed",
+        editor_files.join(", ")
+    );
     s.close().await;
 }

@@ -226,6 +226,8 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
         .env("PROPTEST_RNG_SEED", CI_PROPTEST_SEED.to_string())
         .env_remove("HYSTERON_PROPTEST_SCALE")
         .current_dir(root))?;
+    say("the page crate's unit tests (plain data: stored records, kept results), native");
+    run(Command::new("cargo").args(["test", "-p", "hysteron-app", "--lib"]).current_dir(root))?;
     say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
     run(Command::new("cargo")
         .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown", "--", "--nocapture"])

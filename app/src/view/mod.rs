@@ -38,6 +38,9 @@ const LATER_FALLBACK_MS: i32 = 50;
 /// 632 → 498 KB gzip (DEVELOPERS.md, "Build tools").
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 enum Later {
+    /// The editor itself ([`App`]): everything that reads, checks, recomputes and saves designs.
+    /// Until it arrives the page shows the notebook as last saved (`crate::glance`).
+    Notebook,
     InputNetwork,
     Tolerance,
     Temperature,
@@ -63,13 +66,21 @@ impl Later {
     /// Whether a line saying the section is still loading stands in its place until it arrives:
     /// every section with a place on screen (the sheet shows only in print).
     fn waits_in_place(self) -> bool {
-        self.has_place() && self != Later::Sheet
+        self.has_place() && !matches!(self, Later::Sheet | Later::Notebook)
+    }
+
+    /// Whether its code is fetched only once the page has painted: every section but the editor,
+    /// whose fetch starts while the first module mounts (a piece downloads and compiles off the
+    /// page's thread, and an editor that arrives before the first frame only spares the user the
+    /// glance).
+    fn after_first_paint(self) -> bool {
+        self != Later::Notebook
     }
 }
 
 /// Set once a section's piece could not be fetched: the page then says so once, at its top.
 #[derive(Clone, Copy)]
-struct PieceTrouble(RwSignal<bool>);
+pub(crate) struct PieceTrouble(pub(crate) RwSignal<bool>);
 
 /// Builds the view of `which` (see [`Later`]). In the split build (`--cfg hysteron_split`, set by
 /// `app/build.rs` for `cargo xtask build`) this code and all it alone reaches go into one module of
@@ -81,6 +92,12 @@ struct PieceTrouble(RwSignal<bool>);
 #[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(later_views, wasm_split_path = leptos::wasm_split, fallible))]
 fn build_later(which: Later) -> Result<AnyView, PieceMissing> {
     Ok(match which {
+        // The editor has a piece of its own: `load_later` asks `build_editor` for it in the split
+        // build; the one-module build comes here.
+        #[cfg(not(hysteron_split))]
+        Later::Notebook => build_editor()?,
+        #[cfg(hysteron_split)]
+        Later::Notebook => ().into_any(),
         Later::InputNetwork => view! { <input_network::InputNetworkSection /> }.into_any(),
         Later::Tolerance => view! { <tolerance::ToleranceSection /> }.into_any(),
         Later::Temperature => view! { <temperature::TemperatureSection /> }.into_any(),
@@ -97,10 +114,22 @@ fn build_later(which: Later) -> Result<AnyView, PieceMissing> {
     })
 }
 
-/// The view of `which`, once its code has arrived (see [`build_later`]).
+/// Builds the editor ([`App`]). In the split build its code, and all that it alone reaches, is a
+/// piece of its own (`editor`), fetched as soon as the page starts; the sections it builds after
+/// its first paint are in [`build_later`]'s piece, fetched then. Two pieces rather than one: the
+/// editor takes edits as soon as its own code has arrived, without waiting for every study's.
+#[cfg_attr(hysteron_split, leptos::wasm_split::wasm_split(editor, wasm_split_path = leptos::wasm_split, fallible))]
+fn build_editor() -> Result<AnyView, PieceMissing> {
+    Ok(view! { <App /> }.into_any())
+}
+
+/// The view of `which`, once its code has arrived (see [`build_later`], [`build_editor`]).
 async fn load_later(which: Later) -> Result<AnyView, PieceMissing> {
     #[cfg(hysteron_split)]
-    return build_later(which).await;
+    return match which {
+        Later::Notebook => build_editor().await,
+        _ => build_later(which).await,
+    };
     #[cfg(not(hysteron_split))]
     return build_later(which);
 }
@@ -112,21 +141,38 @@ async fn load_later(which: Later) -> Result<AnyView, PieceMissing> {
 /// first frame, they held back the first paint of a load with an emptied cache (first contentful
 /// paint about 100 ms after the mount mark, about 78 ms once they waited; alternated runs).
 #[component]
-fn Deferred(load: Later) -> impl IntoView {
+fn Deferred(
+    /// The section.
+    load: Later,
+    /// Shown until it arrives instead of the loading line.
+    #[prop(optional, into)]
+    meanwhile: Option<ViewFn>,
+) -> impl IntoView {
     let ready = RwSignal::new(false);
     let view = StoredValue::new_local(None::<AnyView>);
     let owner = Owner::current();
-    crate::tick::after_paint(LATER_FALLBACK_MS, move || {
+    let keeps_meanwhile = meanwhile.is_some();
+    let start = move |f: Box<dyn FnOnce()>| {
+        if load.after_first_paint() {
+            crate::tick::after_paint(LATER_FALLBACK_MS, f)
+        } else {
+            f()
+        }
+    };
+    start(Box::new(move || {
         let Some(owner) = owner else { return };
         owner.with(|| {
             leptos::task::spawn_local_scoped(async move {
                 let v = match load_later(load).await {
                     Ok(v) => v,
                     Err(PieceMissing) => {
-                        // Said once, at the top of the page ([`App`]); each section with a place of
-                        // its own points there.
+                        // Said once, at the top of the page ([`Root`]); each section with a place of
+                        // its own points there, and what stood in its meanwhile stays (it says so).
                         if let Some(t) = use_context::<PieceTrouble>() {
                             t.0.try_set(true);
+                        }
+                        if keeps_meanwhile {
+                            return;
                         }
                         if load.has_place() {
                             view! { <p class="error piece-missing">"Not loaded: see the message at the top of the page."</p> }.into_any()
@@ -139,12 +185,14 @@ fn Deferred(load: Later) -> impl IntoView {
                 ready.try_set(true);
             })
         });
-    });
+    }));
     // Until then a line holds the section's place; the style sheet shows it only after a moment
     // (`.later-wait`), so a quick load never flashes it and a slow link does not leave a blank.
     move || {
         if ready.get() {
             view.try_update_value(|v| v.take()).flatten()
+        } else if let Some(m) = &meanwhile {
+            Some(m.run())
         } else if load.waits_in_place() {
             Some(view! { <p class="later-wait">"Loading this section…"</p> }.into_any())
         } else {
@@ -175,13 +223,30 @@ fn Study(
     }
 }
 
-/// The whole page: header, notebook list, and the open design.
+/// The whole page: the header, and the editor ([`App`]) once its piece has arrived; until then
+/// the notebook as last saved (`crate::glance`). In the page built in pieces the first module holds
+/// only this, the glance and what they share (DEVELOPERS.md, "Loading in pieces").
 #[component]
-pub fn App() -> impl IntoView {
-    let nb = Notebook::load();
-    provide_context(nb);
+pub fn Root() -> impl IntoView {
     let trouble = PieceTrouble(RwSignal::new(false));
     provide_context(trouble);
+    view! {
+        <header class="top">
+            <h1><span class="mark" aria-hidden="true"></span>"Hysteron"</h1>
+            <p class="tagline">"Two-threshold switching circuits, designed and checked"</p>
+        </header>
+        {move || trouble.0.get().then(|| view! {
+            <div class="banner" role="alert" id="piece-missing">"Part of this page could not be loaded (no network, or the page was updated since it opened), so some of it is missing. Reload the page to get it; your designs are kept."</div>
+        })}
+        <Deferred load=Later::Notebook meanwhile=|| view! { <crate::glance::GlanceView /> } />
+    }
+}
+
+/// The editor: the notebook list and the open design, every section of it.
+#[component]
+fn App() -> impl IntoView {
+    let nb = Notebook::load();
+    provide_context(nb);
     provide_context(share::StyleChoice(RwSignal::new(hysteron_core::schematic::SymbolStyle::Iec60617)));
     let incoming = nb.incoming;
     // Copy the open design into `settled` once edits pause for a moment (immediately when another
@@ -229,15 +294,17 @@ pub fn App() -> impl IntoView {
         hash.remove();
         storage.remove();
     });
+    // Lets browser timing runs read when the page could be edited (performance.getEntriesByName):
+    // the editor's view is in the page when its first effect runs.
+    Effect::new(|_| {
+        if let Some(p) = web_sys::window().and_then(|w| w.performance()) {
+            let _ = p.mark("hysteron-editable");
+        }
+    });
+    // Start the compute workers in the background, after the page has shown.
+    crate::tick::after_ms(200, || crate::jobs::prewarm(crate::jobs::pool_size()));
     view! {
-        <header class="top">
-            <h1><span class="mark" aria-hidden="true"></span>"Hysteron"</h1>
-            <p class="tagline">"Two-threshold switching circuits, designed and checked"</p>
-        </header>
         {move || nb.banner.get().map(|b| view! { <div class="banner" role="status" id="storage-banner">{b}</div> })}
-        {move || trouble.0.get().then(|| view! {
-            <div class="banner" role="alert" id="piece-missing">"Part of this page could not be loaded (no network, or the page was updated since it opened), so some sections are missing. Reload the page to get them; your designs are kept."</div>
-        })}
         <Deferred load=Later::SharedDesign />
         <div class="layout">
             <notebook::NotebookList />

@@ -161,7 +161,7 @@ pub fn PurposeSection() -> impl IntoView {
                     <div class="caution" role="note" id="cautions">
                         <strong>"Safety"</strong>
                         <ul>{list.into_iter().map(|c| view! { <li>{c.message}</li> }).collect_view()}</ul>
-                        <p>"Hysteron does the arithmetic only; it does not make a design safe. Local codes and licensed practice take precedence."</p>
+                        <p>{hysteron_core::safety::ARITHMETIC_ONLY}</p>
                     </div>
                 })
             }}
