@@ -135,7 +135,7 @@ fn figures_line(s: &SnapshotGlance) -> String {
 #[component]
 pub fn GlanceView() -> impl IntoView {
     let (designs, open) = read_notebook();
-    let trouble = use_context::<crate::view::PieceTrouble>();
+    let trouble = use_context::<crate::piece::PieceTrouble>();
     let shown = open.as_ref().and_then(|id| designs.iter().find(|d| &d.id == id)).cloned();
     let canvas: NodeRef<Canvas> = NodeRef::new();
     let curve = shown.as_ref().and_then(|d| d.snapshot.as_ref()).map(|s| s.curve.clone());

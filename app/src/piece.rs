@@ -12,3 +12,8 @@ impl From<leptos::wasm_split::SplitLoaderError> for PieceMissing {
         PieceMissing
     }
 }
+
+/// Set once a piece could not be fetched: the page then says so once, at its top (`view::Root`),
+/// and what stood in for the piece points there (`glance`, `view::Deferred`).
+#[derive(Clone, Copy)]
+pub struct PieceTrouble(pub leptos::prelude::RwSignal<bool>);

@@ -21,7 +21,7 @@ mod temperature;
 pub mod state;
 
 use leptos::prelude::*;
-use crate::piece::PieceMissing;
+use crate::piece::{PieceMissing, PieceTrouble};
 use state::Notebook;
 
 /// How long edits must pause before the slower sections recompute, milliseconds.
@@ -78,9 +78,6 @@ impl Later {
     }
 }
 
-/// Set once a section's piece could not be fetched: the page then says so once, at its top.
-#[derive(Clone, Copy)]
-pub(crate) struct PieceTrouble(pub(crate) RwSignal<bool>);
 
 /// Builds the view of `which` (see [`Later`]). In the split build (`--cfg hysteron_split`, set by
 /// `app/build.rs` for `cargo xtask build`) this code and all it alone reaches go into one module of
