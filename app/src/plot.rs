@@ -570,20 +570,35 @@ fn err<E: std::fmt::Display>(e: E) -> String {
 }
 
 /// A legend strip above a chart: a short line in each colour followed by its name. `scale` is
-/// backing pixels per CSS pixel.
+/// backing pixels per CSS pixel. In line with the chart's plotting area where the strip is wide
+/// enough; on a narrow screen from its left edge with the items closer, in a smaller type if they
+/// still do not fit (down to 70 %), so no name runs off the canvas.
 fn legend<DB: DrawingBackend>(area: &DrawingArea<DB, plotters::coord::Shift>, items: &[(&str, RGBColor)], scale: f64) -> Result<(), String> {
-    let font = ("sans-serif", (FONT_PX * scale) as u32).into_font().color(&colours::INK);
-    let mut x = (46.0 * scale) as i32;
+    let width = area.dim_in_pixel().0 as f64;
     let y = (area.dim_in_pixel().1 as f64 / 2.0) as i32;
+    let (line, after_line) = (18.0 * scale, 6.0 * scale);
+    // The canvas backend underestimates text widths: take a generous average glyph width.
+    let text_width = |name: &str, px: f64| {
+        let estimate = name.chars().count() as f64 * px * 0.6;
+        area.estimate_text_size(name, &("sans-serif", px as u32).into_font().color(&colours::INK)).map_or(estimate, |(w, _)| (w as f64).max(estimate))
+    };
+    let span = |start: f64, gap: f64, px: f64| {
+        start + items.iter().map(|(name, _)| line + after_line + text_width(name, px)).sum::<f64>() + gap * items.len().saturating_sub(1) as f64
+    };
+    let mut px = FONT_PX * scale;
+    let (start, gap) = if span(46.0 * scale, 16.0 * scale, px) <= width { (46.0 * scale, 16.0 * scale) } else { (4.0 * scale, 10.0 * scale) };
+    let needed = span(start, gap, px);
+    if needed > width {
+        px *= (width / needed).max(0.7);
+    }
+    let font = ("sans-serif", px as u32).into_font().color(&colours::INK);
+    let mut x = start;
     for (name, colour) in items {
-        let len = (18.0 * scale) as i32;
-        area.draw(&PathElement::new(vec![(x, y), (x + len, y)], colour.stroke_width((3.0 * scale).max(1.0) as u32))).map_err(err)?;
-        x += len + (6.0 * scale) as i32;
-        area.draw(&Text::new(name.to_string(), (x, y - (FONT_PX * scale * 0.55) as i32), font.clone())).map_err(err)?;
-        // The canvas backend underestimates text widths: take a generous average glyph width.
-        let estimate = (name.chars().count() as f64 * FONT_PX * 0.6 * scale) as u32;
-        let w = area.estimate_text_size(name, &font).map_or(estimate, |(w, _)| w.max(estimate));
-        x += w as i32 + (16.0 * scale) as i32;
+        let from = x as i32;
+        area.draw(&PathElement::new(vec![(from, y), (from + line as i32, y)], colour.stroke_width((3.0 * scale).max(1.0) as u32))).map_err(err)?;
+        x += line + after_line;
+        area.draw(&Text::new(name.to_string(), (x as i32, y - (px * 0.55) as i32), font.clone())).map_err(err)?;
+        x += text_width(name, px) + gap;
     }
     Ok(())
 }
