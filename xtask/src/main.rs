@@ -214,6 +214,9 @@ fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
         .current_dir(root))
 }
 
+/// A whole test run builds every crate once: incremental caches (about 2 GB) would only fill the disk.
+const NO_INCREMENTAL: (&str, &str) = ("CARGO_INCREMENTAL", "0");
+
 fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     setup_build_tools(root)?;
     setup_browser()?;
@@ -223,14 +226,16 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     say(&format!("property tests use the fixed seed PROPTEST_RNG_SEED={CI_PROPTEST_SEED} (fresh seeds: cargo xtask explore)"));
     run(Command::new("cargo")
         .args(["test", "--workspace", "--exclude", "hysteron-app", "--no-fail-fast"])
+        .env(NO_INCREMENTAL.0, NO_INCREMENTAL.1)
         .env("PROPTEST_RNG_SEED", CI_PROPTEST_SEED.to_string())
         .env_remove("HYSTERON_PROPTEST_SCALE")
         .current_dir(root))?;
     say("the page crate's unit tests (plain data: stored records, kept results), native");
-    run(Command::new("cargo").args(["test", "-p", "hysteron-app", "--lib"]).current_dir(root))?;
+    run(Command::new("cargo").args(["test", "-p", "hysteron-app", "--lib"]).env(NO_INCREMENTAL.0, NO_INCREMENTAL.1).current_dir(root))?;
     say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
     run(Command::new("cargo")
         .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown", "--", "--nocapture"])
+        .env(NO_INCREMENTAL.0, NO_INCREMENTAL.1)
         .env("CHROMEDRIVER", "chromedriver")
         .env("WASM_BINDGEN_TEST_TIMEOUT", "120")
         .current_dir(root))?;
