@@ -8,7 +8,7 @@
 //! editor reports it where it belongs).
 
 use crate::storage::{design_key, remembered_view, scan_design_keys, INDEX_KEY};
-use hysteron_core::overview::summary_line;
+use hysteron_core::overview::{key_line, summary_line};
 use hysteron_core::safety::ARITHMETIC_ONLY;
 use hysteron_core::topology::TransferCurve;
 use leptos::html::Canvas;
@@ -110,22 +110,10 @@ pub fn read_notebook() -> (Vec<Glance>, Option<String>) {
     (designs, open)
 }
 
-fn volts(v: f64) -> String {
-    format!("{v:.4}\u{a0}V")
-}
-
-/// The line of figures kept with a design, as its last save computed them.
+/// The line of figures kept with a design, as its last save computed them (the key strip's words,
+/// `core::overview::key_line`).
 fn figures_line(s: &SnapshotGlance) -> String {
-    match &s.field_terminal {
-        Some(t) => format!(
-            "At the field terminal: VT+ {} · VT− {} (pin {} / {})",
-            volts(t.vt_upper_v),
-            volts(t.vt_lower_v),
-            volts(s.vt_upper_v),
-            volts(s.vt_lower_v)
-        ),
-        None => format!("VT+ {} · VT− {} · hysteresis {}", volts(s.vt_upper_v), volts(s.vt_lower_v), volts(s.hysteresis_v)),
-    }
+    key_line(s.vt_upper_v, s.vt_lower_v, s.hysteresis_v, s.field_terminal.as_ref().map(|t| (t.vt_upper_v, t.vt_lower_v)))
 }
 
 /// The page before its editor arrives: the notebook's names and the open design's figures and

@@ -166,6 +166,25 @@ pub fn summary_line(vt_upper_v: f64, vt_lower_v: f64, field_terminal: Option<(f6
     }
 }
 
+/// One line of VT+, VT− and the hysteresis (volts, four decimals), as the narrow screen's key strip
+/// and the first paint's saved figures show them: at the field terminal, with the pin's pair after
+/// it, for a design with an input network (`field_terminal`: VT+ and VT− there); at the trigger's
+/// input otherwise. The hysteresis is VT+ − VT− where the line's first pair is taken.
+pub fn key_line(vt_upper_v: f64, vt_lower_v: f64, hysteresis_v: f64, field_terminal: Option<(f64, f64)>) -> String {
+    let volts = |v: f64| format!("{v:.4}\u{a0}V");
+    match field_terminal {
+        Some((up, low)) => format!(
+            "At the field terminal: VT+ {} · VT− {} · hysteresis {} (pin {} / {})",
+            volts(up),
+            volts(low),
+            volts(up - low),
+            volts(vt_upper_v),
+            volts(vt_lower_v)
+        ),
+        None => format!("VT+ {} · VT− {} · hysteresis {}", volts(vt_upper_v), volts(vt_lower_v), volts(hysteresis_v)),
+    }
+}
+
 /// The part list of a record from its analysis (made with the record's checks), with the parts of
 /// its oscillator and debouncer. The one place the part list is built.
 pub fn part_list(record: &DesignRecord, analysis: &Analysis) -> Result<Bom, DesignError> {
@@ -538,6 +557,15 @@ pub fn sheet_studies(record: &DesignRecord, max_trials: u64) -> SheetStudies {
 mod tests {
     use super::*;
     use crate::catalog::templates;
+
+    #[test]
+    fn the_key_line_takes_the_terminal_pair_first_when_there_is_one() {
+        let plain = key_line(2.5, 1.25, 1.25, None);
+        assert_eq!(plain, "VT+ 2.5000\u{a0}V · VT− 1.2500\u{a0}V · hysteresis 1.2500\u{a0}V");
+        let terminal = key_line(2.5, 1.25, 1.25, Some((12.0, 6.5)));
+        assert!(terminal.starts_with("At the field terminal: VT+ 12.0000\u{a0}V · VT− 6.5000\u{a0}V · hysteresis 5.5000\u{a0}V"), "{terminal}");
+        assert!(terminal.ends_with("(pin 2.5000\u{a0}V / 1.2500\u{a0}V)"), "{terminal}");
+    }
 
     fn inverting() -> DesignRecord {
         templates().into_iter().find(|t| t.record().circuit.name() == "inverting").unwrap().record()

@@ -21,6 +21,22 @@ fn pieces() -> Vec<String> {
     out
 }
 
+/// A copy of the build without the piece whose file name starts with `piece_prefix`, in a folder
+/// named after `label` (as after a rebuild while the page was open, or offline before the service
+/// worker kept it). The caller removes the folder.
+fn dist_without(piece_prefix: &str, label: &str) -> PathBuf {
+    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-{label}-dist-{}", std::process::id()));
+    std::fs::remove_dir_all(&root).ok();
+    std::fs::create_dir_all(&root).expect("make the copy");
+    for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
+        let name = entry.file_name().to_string_lossy().to_string();
+        if entry.path().is_file() && !name.starts_with(piece_prefix) {
+            std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
+        }
+    }
+    root
+}
+
 #[tokio::test(flavor = "multi_thread")]
 async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
     let pieces = pieces();
@@ -39,17 +55,8 @@ async fn every_section_arrives_and_a_missing_piece_is_reported_in_its_place() {
     assert!(fetched.as_u64().unwrap_or(0) >= 1, "the sections' piece was not fetched: {fetched}");
     s.close().await;
 
-    // A copy of the build without the sections' piece (as after a rebuild while the page
-    // was open, or offline before the service worker kept it).
-    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-pieces-dist-{}", std::process::id()));
-    std::fs::remove_dir_all(&root).ok();
-    std::fs::create_dir_all(&root).expect("make the copy");
-    for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
-        let name = entry.file_name().to_string_lossy().to_string();
-        if entry.path().is_file() && !name.starts_with("hysteron-split_later_views-") {
-            std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
-        }
-    }
+    // The build without the sections' piece.
+    let root = dist_without("hysteron-split_later_views-", "pieces");
     let base = server::serve(root.clone()).await.expect("serve the copy");
     let s = browser::start_at(base).await;
     s.add_starter("demo:sawmill-end-stop").await;
@@ -163,17 +170,8 @@ async fn a_missing_editor_is_reported_once_and_leaves_the_designs_as_last_saved(
     );
     let (items, name, vt) = saved_demo().await;
 
-    // A copy of the build without the editor's piece (as after a rebuild while the page was
-    // open, or offline before the service worker kept it).
-    let root: PathBuf = std::env::temp_dir().join(format!("hysteron-editor-dist-{}", std::process::id()));
-    std::fs::remove_dir_all(&root).ok();
-    std::fs::create_dir_all(&root).expect("make the copy");
-    for entry in std::fs::read_dir(server::dist_dir()).expect("list dist/").flatten() {
-        let name = entry.file_name().to_string_lossy().to_string();
-        if entry.path().is_file() && !name.starts_with("hysteron-split_editor-") {
-            std::fs::copy(entry.path(), root.join(&name)).expect("copy a built file");
-        }
-    }
+    // The build without the editor's piece.
+    let root = dist_without("hysteron-split_editor-", "editor");
     let base = server::serve(root.clone()).await.expect("serve the copy");
     let s = open_with_saved(&base, &items).await;
     // Said once, at the top, in words; the saved designs stay on screen, and say why.

@@ -5,7 +5,7 @@
 use super::state::Notebook;
 use crate::plot;
 use hysteron_core::analysis::{Analysis, Thresholds};
-use hysteron_core::overview::{quick, Quick};
+use hysteron_core::overview::{key_line, quick, Quick};
 use hysteron_core::jobs::{Job, JobOutput};
 use hysteron_core::tolerance::bench_window::Windows;
 use hysteron_core::tolerance::{worst_case::WorstCase, SpecWindow};
@@ -64,19 +64,11 @@ pub fn KeyStrip(figures: Figures) -> impl IntoView {
     let text = move || {
         let terminal = figures.terminal.get();
         figures.analysis.with(|a| match (a, terminal) {
-            (Ok(a), Some(Ok(t))) => format!(
-                "At the field terminal: VT+ {} · VT− {} · hysteresis {} (pin {} / {})",
-                volts(t.vt_upper_v),
-                volts(t.vt_lower_v),
-                volts(t.hysteresis_v()),
-                volts(a.vt_upper_v),
-                volts(a.vt_lower_v)
-            ),
-            (Ok(a), _) => format!(
-                "VT+ {} · VT− {} · hysteresis {}",
-                volts(a.vt_upper_v),
-                volts(a.vt_lower_v),
-                volts(a.hysteresis_v)
+            (Ok(a), t) => key_line(
+                a.vt_upper_v,
+                a.vt_lower_v,
+                a.hysteresis_v,
+                t.and_then(Result::ok).map(|t| (t.vt_upper_v, t.vt_lower_v)),
             ),
             (Err(_), _) => "No thresholds: see the message under Results".into(),
         })
