@@ -217,7 +217,33 @@ fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
 /// A whole test run builds every crate once: incremental caches (about 2 GB) would only fill the disk.
 const NO_INCREMENTAL: (&str, &str) = ("CARGO_INCREMENTAL", "0");
 
+/// What a clean `cargo xtask test` leaves in `target/`, gigabytes, with some room (DEVELOPERS.md,
+/// "How to test": about 4.1 GB measured).
+const TEST_DISK_GB: f64 = 5.0;
+
+/// Free space on the disk holding `dir`, gigabytes, as `df` reports it; `None` when it cannot tell.
+fn free_gb(dir: &Path) -> Option<f64> {
+    let out = Command::new("df").args(["-Pk"]).arg(dir).output().ok()?;
+    let text = String::from_utf8_lossy(&out.stdout);
+    let kib: f64 = text.lines().nth(1)?.split_whitespace().nth(3)?.parse().ok()?;
+    Some(kib / 1024.0 / 1024.0)
+}
+
+/// Says so up front when the disk looks too full for a whole test run (a full disk otherwise
+/// shows up minutes later as a compiler crash).
+fn warn_if_disk_low(root: &Path) {
+    if let Some(free) = free_gb(root) {
+        if free < TEST_DISK_GB {
+            say(&format!(
+                "warning: {free:.1} GB free on the disk holding {}; a clean test run writes about {TEST_DISK_GB:.0} GB into target/ (free some space, or `cargo clean`, if the build fails with 'No space left on device')",
+                root.display()
+            ));
+        }
+    }
+}
+
 fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
+    warn_if_disk_low(root);
     setup_build_tools(root)?;
     setup_browser()?;
     build_page(root)?;
@@ -297,4 +323,15 @@ fn explore(root: &Path, rest: &[String]) -> Result<(), String> {
     run(cmd.env("PROPTEST_RNG_SEED", seed.to_string()).env("HYSTERON_PROPTEST_SCALE", scale.to_string()).current_dir(root))?;
     say(&format!("no failure with seed {seed}"));
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_free_space_of_a_real_folder_is_read_from_df() {
+        let free = free_gb(Path::new(env!("CARGO_MANIFEST_DIR"))).expect("df answers for the xtask's own folder");
+        assert!(free.is_finite() && free >= 0.0, "{free}");
+    }
 }
