@@ -19,14 +19,24 @@ pub struct Session {
     /// Base URL of the served page.
     pub base: String,
     _driver: Child,
-    _profile: tempdir::Dir,
+    _profile: profile::Profile,
 }
 
-mod tempdir {
-    /// A temporary folder removed on drop.
-    pub struct Dir(pub std::path::PathBuf);
-    impl Drop for Dir {
+mod profile {
+    /// A browser's own profile folder. When dropped (the session closed, or the test panicked
+    /// before closing it), any browser still running on it is stopped, then the folder is removed:
+    /// chromedriver is killed with its session, which leaves its Chromium running and taking a core
+    /// from every later test.
+    pub struct Profile(pub std::path::PathBuf);
+    impl Drop for Profile {
         fn drop(&mut self) {
+            let _ = std::process::Command::new("pkill")
+                .args(["-KILL", "-f"])
+                // The folder's whole name: a session on port 3963 must not stop the one on 39637.
+                .arg(format!("user-data-dir={}( |$)", self.0.display()))
+                .stdout(std::process::Stdio::null())
+                .stderr(std::process::Stdio::null())
+                .status();
             std::fs::remove_dir_all(&self.0).ok();
         }
     }
@@ -134,7 +144,7 @@ pub async fn open_at(base: String) -> Session {
         ClientBuilder::rustls().expect("tls").capabilities(caps.clone()).connect(url).await.map_err(|e| e.to_string())
     })
     .await;
-    let s = Session { client, base, _driver: driver, _profile: tempdir::Dir(profile) };
+    let s = Session { client, base, _driver: driver, _profile: profile::Profile(profile) };
     s.client.goto(&s.base).await.expect("open the page");
     s.wait_for("header.top").await;
     s
@@ -307,6 +317,11 @@ impl Session {
         assert_eq!(stripped.as_bool(), Some(true), "the kept {study} result does not name its sampler in storage");
         self.reload().await;
         self.wait_text(note_css, "the note on a result drawn by an earlier method", |t| !t.is_empty()).await
+    }
+
+    /// The browser's profile folder (it names the browser's processes: `--user-data-dir=`).
+    pub fn profile_dir(&self) -> &std::path::Path {
+        &self._profile.0
     }
 
     /// Ends the browser session.

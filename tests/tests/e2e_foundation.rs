@@ -75,3 +75,26 @@ async fn typed_parts_give_thresholds_and_persist() {
     assert_eq!(stored.as_u64(), Some(1));
     s.close().await;
 }
+
+/// A test that panics before closing its session must not leave its browser running: a leftover
+/// Chromium takes a core from every later test (and skews `browser_timing`).
+#[tokio::test(flavor = "multi_thread")]
+async fn a_test_that_fails_leaves_no_browser_running() {
+    let (tell, told) = tokio::sync::oneshot::channel();
+    let failed = tokio::spawn(async move {
+        let s = browser::start().await;
+        tell.send(s.profile_dir().to_path_buf()).ok();
+        panic!("a test failing before it closes its session");
+    })
+    .await;
+    assert!(failed.is_err_and(|e| e.is_panic()), "the failing test did not fail");
+    let profile = told.await.expect("the browser's profile folder");
+    let running = std::process::Command::new("pgrep")
+        .args(["-f"])
+        .arg(format!("user-data-dir={}( |$)", profile.display()))
+        .output()
+        .expect("pgrep (procps)");
+    let pids = String::from_utf8_lossy(&running.stdout).trim().to_string();
+    assert!(pids.is_empty(), "browser processes still running on {}: {pids}", profile.display());
+    assert!(!profile.exists(), "the profile folder {} is still there", profile.display());
+}

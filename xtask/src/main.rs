@@ -191,6 +191,9 @@ fn setup_browser() -> Result<(), String> {
     if version_of("ngspice", "--version").is_none() {
         missing.push("ngspice"); // tests/tests/reference_bjt_temperature.rs runs it in batch mode
     }
+    if version_of("pkill", "-V").is_none() || version_of("pgrep", "-V").is_none() {
+        missing.push("procps"); // tests/src/browser.rs stops a failed test's browser by its profile
+    }
     if missing.is_empty() {
         say("browser tools: present");
         Ok(())
