@@ -30,7 +30,7 @@ pub fn available() -> bool {
 /// Runs `deck` with the `.control` block `control` in place of its final `.end` (`{dir}` in
 /// `control` is replaced by the run's folder); returns ngspice's standard output and the folder, or
 /// `None` (with the reason printed) when ngspice cannot be run. Panics with ngspice's output when it
-/// reports a failure.
+/// reports a failure. The caller removes the folder once it has read it.
 pub fn run(deck: &str, control: &str) -> Option<(String, PathBuf)> {
     let dir = run_dir()?;
     let body = deck.trim_end().strip_suffix(".end").unwrap_or(deck.trim_end());
@@ -56,6 +56,8 @@ pub fn table(deck: &str, analysis: &str, vectors: &str) -> Option<Vec<Vec<f64>>>
     let (_, dir) = run(deck, &format!("set wr_singlescale\n{analysis}\nwrdata {{dir}}/data.txt {vectors}"))?;
     let data = dir.join("data.txt");
     let rows = std::fs::read_to_string(&data).unwrap_or_else(|e| panic!("{}: {e}", data.display()));
+    // Read: the run's folder goes (one kept on a failure above, to look into).
+    std::fs::remove_dir_all(&dir).ok();
     Some(
         rows.lines()
             .map(|l| l.split_whitespace().filter_map(|x| x.parse::<f64>().ok()).collect::<Vec<f64>>())

@@ -213,6 +213,7 @@ fn ngspice_runs_the_suggested_transient_through_both_folds() {
             (v.len() >= 4).then(|| [v[0], v[1], v[2], v[3]])
         })
         .collect();
+    std::fs::remove_dir_all(&dir).ok();
     assert!(rows.last().is_some_and(|r| r[0] >= 2.0 - 1e-9), "the run stopped early");
     let crossings: Vec<f64> =
         rows.windows(2).filter(|w| (w[0][1] - mid) * (w[1][1] - mid) < 0.0).map(|w| w[1][3]).collect();
