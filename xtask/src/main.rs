@@ -217,8 +217,13 @@ fn serve(root: &Path, rest: &[String]) -> Result<(), String> {
         .current_dir(root))
 }
 
-/// A whole test run builds every crate once: incremental caches (about 2 GB) would only fill the disk.
-const NO_INCREMENTAL: (&str, &str) = ("CARGO_INCREMENTAL", "0");
+/// `cargo` for one step of a whole test run, which builds every crate once: without incremental
+/// caches (about 2 GB), which would only fill the disk.
+fn cargo_once() -> Command {
+    let mut cmd = Command::new("cargo");
+    cmd.env("CARGO_INCREMENTAL", "0");
+    cmd
+}
 
 /// What a clean `cargo xtask test` leaves in `target/`, gigabytes, with some room (DEVELOPERS.md,
 /// "How to test": about 4.1 GB measured).
@@ -253,18 +258,16 @@ fn test(root: &Path, _rest: &[String]) -> Result<(), String> {
     single::write_single_file(root)?;
     say("native tests: unit, property, reference and browser end-to-end");
     say(&format!("property tests use the fixed seed PROPTEST_RNG_SEED={CI_PROPTEST_SEED} (fresh seeds: cargo xtask explore)"));
-    run(Command::new("cargo")
+    run(cargo_once()
         .args(["test", "--workspace", "--exclude", "hysteron-app", "--no-fail-fast"])
-        .env(NO_INCREMENTAL.0, NO_INCREMENTAL.1)
         .env("PROPTEST_RNG_SEED", CI_PROPTEST_SEED.to_string())
         .env_remove("HYSTERON_PROPTEST_SCALE")
         .current_dir(root))?;
     say("the page crate's unit tests (plain data: stored records, kept results), native");
-    run(Command::new("cargo").args(["test", "-p", "hysteron-app", "--lib"]).env(NO_INCREMENTAL.0, NO_INCREMENTAL.1).current_dir(root))?;
+    run(cargo_once().args(["test", "-p", "hysteron-app", "--lib"]).current_dir(root))?;
     say("wasm tests: the core math and the page's own modules, compiled to wasm32 and run in headless Chromium");
-    run(Command::new("cargo")
+    run(cargo_once()
         .args(["test", "-p", "hysteron-app", "--target", "wasm32-unknown-unknown", "--", "--nocapture"])
-        .env(NO_INCREMENTAL.0, NO_INCREMENTAL.1)
         .env("CHROMEDRIVER", "chromedriver")
         .env("WASM_BINDGEN_TEST_TIMEOUT", "120")
         .current_dir(root))?;
